@@ -1,1 +1,3 @@
-return 0;
+using StudyPress.Cli;
+
+return StudyPressCommand.Run(args, Console.Out, Console.Error);

@@ -20,11 +20,13 @@ public sealed record GroupSummary(
 /// Per-group descriptive statistics. SD with divisor n - 1; SE = SD/sqrt(n); the confidence
 /// interval of the mean is mean ± t(1 - alpha/2, n - 1) SE; quartiles and median by linear
 /// interpolation between order statistics (Hyndman and Fan 1996, definition 7).
-/// The input may be centred; <c>offset</c> is added back to every location statistic.
+/// The mean and spread come from the centred values (<c>offset</c> added back to the mean, which
+/// keeps every digit of data such as 1000000000000.4); order statistics come from the values
+/// themselves, so a median or minimum is exactly a datum (or an interpolation between two).
 /// </summary>
 public static class Descriptives
 {
-    public static GroupSummary Compute(ReadOnlySpan<double> centred, double offset, double alpha)
+    public static GroupSummary Compute(ReadOnlySpan<double> centred, ReadOnlySpan<double> values, double offset, double alpha)
     {
         var n = centred.Length;
         if (n == 0)
@@ -48,9 +50,14 @@ public static class Descriptives
             hi = Quantity.Of(offset + mean + half);
         }
 
-        var sorted = centred.ToArray();
+        if (values.Length != n)
+        {
+            throw new ArgumentException("centred and raw values differ in length", nameof(values));
+        }
+
+        var sorted = values.ToArray();
         Array.Sort(sorted);
-        double Q(double tau) => offset + SortedArrayStatistics.QuantileCustom(sorted, tau, QuantileDefinition.R7);
-        return new GroupSummary(n, offset + mean, sd, se, lo, hi, Q(0.5), Q(0.25), Q(0.75), offset + sorted[0], offset + sorted[^1]);
+        double Q(double tau) => SortedArrayStatistics.QuantileCustom(sorted, tau, QuantileDefinition.R7);
+        return new GroupSummary(n, offset + mean, sd, se, lo, hi, Q(0.5), Q(0.25), Q(0.75), sorted[0], sorted[^1]);
     }
 }

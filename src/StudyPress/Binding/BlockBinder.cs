@@ -1,0 +1,220 @@
+using StudyPress.Diagnostics;
+using StudyPress.Kinds;
+using StudyPress.Syntax;
+
+namespace StudyPress.Binding;
+
+/// <summary>
+/// Binds analysis blocks: ids (explicit or kind plus running number), the keys every kind
+/// accepts (data, response, factors, where, caption) and then the kind's own keys.
+/// </summary>
+internal static class BlockBinder
+{
+    /// <summary>Upper bound on blocks per study, so a hostile file cannot make the build unbounded.</summary>
+    public const int MaxBlocks = 1000;
+
+    public static List<BoundBlock> Bind(StudySyntax syntax, StudyHeader header, DiagnosticBag diagnostics)
+    {
+        var blocks = new List<BoundBlock>();
+        var ids = new Dictionary<string, int>(StringComparer.Ordinal);
+        var counters = new Dictionary<string, int>(StringComparer.Ordinal);
+        if (syntax.Blocks.Count > MaxBlocks)
+        {
+            diagnostics.TooManyBlocks(syntax.Blocks[MaxBlocks].Location, MaxBlocks);
+            return blocks;
+        }
+
+        // Explicit ids first, so an automatic id never takes a name the user wrote later.
+        foreach (var b in syntax.Blocks.Where(b => b.Id is not null))
+        {
+            if (!HeaderBinder.IsName(b.Id!))
+            {
+                diagnostics.BadBlockId(b.IdLocation, b.Id!);
+            }
+            else if (ids.TryGetValue(b.Id!, out var firstLine))
+            {
+                diagnostics.DuplicateBlockId(b.IdLocation, b.Id!, firstLine);
+            }
+            else
+            {
+                ids[b.Id!] = b.Location.Line;
+            }
+        }
+
+        foreach (var b in syntax.Blocks)
+        {
+            var kind = BlockKinds.All[b.Kind];
+            var id = b.Id;
+            if (id is null)
+            {
+                do
+                {
+                    counters[b.Kind] = counters.GetValueOrDefault(b.Kind) + 1;
+                    id = b.Kind + counters[b.Kind].ToString(System.Globalization.CultureInfo.InvariantCulture);
+                }
+                while (ids.ContainsKey(id));
+                ids[id] = b.Location.Line;
+            }
+
+            if (b.Body is null)
+            {
+                continue;
+            }
+
+            var bound = BindOne(b, id, kind, header, diagnostics);
+            if (bound is not null)
+            {
+                blocks.Add(bound);
+            }
+        }
+
+        return blocks;
+    }
+
+    private static BoundBlock? BindOne(AnalysisBlockSyntax b, string id, BlockKind kind, StudyHeader header, DiagnosticBag diagnostics)
+    {
+        var allowed = BlockKinds.CommonKeys.Concat(kind.OwnKeys).ToArray();
+        var keys = new KeyReader(b.Body!, $"the {kind.Name} block", allowed, diagnostics);
+        var before = diagnostics.Items.Count;
+
+        string? data = null;
+        string? response = null;
+        var responseLocation = b.Location;
+        var factors = new List<FactorSpec>();
+        var factorsLocation = b.Location;
+        var where = new List<WhereFilter>();
+        if (kind.UsesData)
+        {
+            if (keys.Scalar("data") is { } dataNode)
+            {
+                if (header.Dataset(dataNode.Value) is null)
+                {
+                    diagnostics.UnknownDataset(dataNode.Location, dataNode.Value, DiagnosticBag.Nearest(dataNode.Value, header.Datasets.Select(d => d.Name)));
+                }
+                else
+                {
+                    data = dataNode.Value;
+                }
+            }
+            else if (header.Datasets.Count == 1)
+            {
+                data = header.Datasets[0].Name;
+            }
+            else if (header.Datasets.Count > 1)
+            {
+                diagnostics.DatasetNeeded(b.Location);
+            }
+
+            if (keys.Scalar("response") is { } responseNode)
+            {
+                response = responseNode.Value;
+                responseLocation = responseNode.Location;
+            }
+            else if (header.Response is not null)
+            {
+                response = header.Response;
+                responseLocation = header.ResponseLocation;
+            }
+            else
+            {
+                diagnostics.ResponseNeeded(b.Location);
+            }
+
+            var factorKey = kind.OwnKeys.Contains("by") && keys.Has("by") ? "by" : "factors";
+            if (keys.ScalarList(factorKey) is { } list)
+            {
+                factorsLocation = keys.KeyLocation(factorKey);
+                foreach (var f in list)
+                {
+                    var spec = header.Factor(f.Value);
+                    if (spec is null)
+                    {
+                        diagnostics.UnknownFactor(f.Location, f.Value, DiagnosticBag.Nearest(f.Value, header.Factors.Select(x => x.Name)));
+                    }
+                    else if (factors.Contains(spec))
+                    {
+                        diagnostics.DuplicateFactorInList(f.Location, f.Value);
+                    }
+                    else
+                    {
+                        factors.Add(spec);
+                    }
+                }
+            }
+            else
+            {
+                factors.AddRange(header.Factors);
+            }
+
+            if (kind.NeedsFactors && factors.Count == 0 && diagnostics.Items.Count == before)
+            {
+                diagnostics.FactorsNeeded(b.Location, kind.Name);
+            }
+
+            switch (keys.Node("where"))
+            {
+                case null or YScalar { IsNull: true }:
+                    break;
+                case YMapping wm:
+                    foreach (var e in wm.Entries)
+                    {
+                        var spec = header.Factor(e.Key.Value);
+                        if (spec is null)
+                        {
+                            diagnostics.UnknownFactor(e.Key.Location, e.Key.Value, DiagnosticBag.Nearest(e.Key.Value, header.Factors.Select(x => x.Name)));
+                            continue;
+                        }
+
+                        var levels = e.Value switch
+                        {
+                            YScalar s => [s],
+                            YSequence seq => seq.Items.OfType<YScalar>().ToList(),
+                            _ => [],
+                        };
+                        if (levels.Count == 0)
+                        {
+                            diagnostics.ExpectedList(e.Value.Location, $"'where: {e.Key.Value}' (a level or a list of levels)");
+                            continue;
+                        }
+
+                        if (spec.Levels is { } declared)
+                        {
+                            foreach (var l in levels.Where(l => !declared.Contains(l.Value)))
+                            {
+                                diagnostics.UnknownLevelInFilter(l.Location, spec.Name, l.Value, DiagnosticBag.Nearest(l.Value, declared));
+                            }
+                        }
+
+                        where.Add(new WhereFilter(spec, [.. levels.Select(l => l.Value)], e.Key.Location));
+                    }
+
+                    break;
+                case var other:
+                    diagnostics.ExpectedMapping(other.Location, "'where' (factor -> level or list of levels)");
+                    break;
+            }
+        }
+
+        var caption = keys.String("caption");
+        var options = kind.BindOptions(keys, header, diagnostics);
+        if (diagnostics.Items.Count > before)
+        {
+            return null;
+        }
+
+        return new BoundBlock
+        {
+            Id = id,
+            Kind = kind,
+            Syntax = b,
+            Data = data,
+            Response = response,
+            ResponseLocation = responseLocation,
+            Factors = factors,
+            FactorsLocation = factorsLocation,
+            Where = where,
+            Caption = caption,
+            Options = options,
+        };
+    }
+}

@@ -1,0 +1,40 @@
+using StudyPress.Diagnostics;
+using StudyPress.Syntax;
+
+namespace StudyPress.Binding;
+
+/// <summary>A row filter: keep rows whose factor has one of the levels.</summary>
+public sealed record WhereFilter(FactorSpec Factor, IReadOnlyList<string> Levels, SourceLocation Location);
+
+/// <summary>
+/// An analysis block after binding: the keys every kind accepts, resolved against the header,
+/// plus the kind's own options.
+/// </summary>
+public sealed class BoundBlock
+{
+    public required string Id { get; init; }
+
+    public required Kinds.BlockKind Kind { get; init; }
+
+    public required AnalysisBlockSyntax Syntax { get; init; }
+
+    public SourceLocation Location => Syntax.Location;
+
+    /// <summary>The dataset name, or null for kinds that need no data.</summary>
+    public string? Data { get; init; }
+
+    public string? Response { get; init; }
+
+    public SourceLocation ResponseLocation { get; init; }
+
+    public IReadOnlyList<FactorSpec> Factors { get; init; } = [];
+
+    public SourceLocation FactorsLocation { get; init; }
+
+    public IReadOnlyList<WhereFilter> Where { get; init; } = [];
+
+    public string? Caption { get; init; }
+
+    /// <summary>The kind's own bound options.</summary>
+    public object? Options { get; init; }
+}

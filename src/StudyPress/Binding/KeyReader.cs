@@ -1,0 +1,168 @@
+using System.Globalization;
+using StudyPress.Diagnostics;
+using StudyPress.Syntax;
+
+namespace StudyPress.Binding;
+
+/// <summary>Typed, positioned access to the keys of one YAML map, reporting mistakes as it goes.</summary>
+public sealed class KeyReader
+{
+    private readonly YMapping map;
+    private readonly DiagnosticBag diagnostics;
+    private readonly string where;
+
+    public KeyReader(YMapping map, string where, IReadOnlyCollection<string> allowed, DiagnosticBag diagnostics)
+    {
+        this.map = map;
+        this.where = where;
+        this.diagnostics = diagnostics;
+        foreach (var e in map.Entries)
+        {
+            if (!allowed.Contains(e.Key.Value))
+            {
+                diagnostics.UnknownKey(e.Key.Location, e.Key.Value, where, DiagnosticBag.Nearest(e.Key.Value, allowed));
+            }
+        }
+    }
+
+    public YMapping Map => map;
+
+    public YNode? Node(string key) => map[key];
+
+    public SourceLocation KeyLocation(string key) =>
+        map.Entries.FirstOrDefault(e => e.Key.Value == key)?.Key.Location ?? map.Location;
+
+    public bool Has(string key) => map[key] is { } n && !(n is YScalar { IsNull: true });
+
+    public YScalar? Scalar(string key)
+    {
+        var node = map[key];
+        switch (node)
+        {
+            case null:
+                return null;
+            case YScalar { IsNull: true }:
+                return null;
+            case YScalar s:
+                return s;
+            default:
+                diagnostics.ExpectedScalar(node.Location, $"'{key}'");
+                return null;
+        }
+    }
+
+    public string? String(string key) => Scalar(key)?.Value;
+
+    public string RequiredString(string key)
+    {
+        var s = Scalar(key);
+        if (s is null && map[key] is null or YScalar)
+        {
+            diagnostics.MissingKey(map.Location, key, where);
+        }
+
+        return s?.Value ?? string.Empty;
+    }
+
+    public double? Number(string key)
+    {
+        var s = Scalar(key);
+        if (s is null)
+        {
+            return null;
+        }
+
+        if (double.TryParse(s.Value, NumberStyles.Float, CultureInfo.InvariantCulture, out var v) && double.IsFinite(v))
+        {
+            return v;
+        }
+
+        diagnostics.NotANumber(s.Location, key, s.Value);
+        return null;
+    }
+
+    public int? Integer(string key, int min, int max)
+    {
+        var s = Scalar(key);
+        if (s is null)
+        {
+            return null;
+        }
+
+        if (int.TryParse(s.Value, NumberStyles.Integer, CultureInfo.InvariantCulture, out var v) && v >= min && v <= max)
+        {
+            return v;
+        }
+
+        diagnostics.NotAnInteger(s.Location, key, s.Value, min, max);
+        return null;
+    }
+
+    public string? Choice(string key, IReadOnlyList<string> choices)
+    {
+        var s = Scalar(key);
+        if (s is null)
+        {
+            return null;
+        }
+
+        if (choices.Contains(s.Value))
+        {
+            return s.Value;
+        }
+
+        diagnostics.BadChoice(s.Location, key, s.Value, choices, DiagnosticBag.Nearest(s.Value, choices));
+        return null;
+    }
+
+    public bool? Boolean(string key)
+    {
+        var s = Scalar(key);
+        if (s is null)
+        {
+            return null;
+        }
+
+        switch (s.Value)
+        {
+            case "true" or "True" or "yes":
+                return true;
+            case "false" or "False" or "no":
+                return false;
+            default:
+                diagnostics.BadChoice(s.Location, key, s.Value, ["true", "false"], null);
+                return null;
+        }
+    }
+
+    /// <summary>A list of scalars; a single scalar is taken as a list of one.</summary>
+    public IReadOnlyList<YScalar>? ScalarList(string key)
+    {
+        var node = map[key];
+        switch (node)
+        {
+            case null or YScalar { IsNull: true }:
+                return null;
+            case YScalar s:
+                return [s];
+            case YSequence seq:
+                var list = new List<YScalar>();
+                foreach (var item in seq.Items)
+                {
+                    if (item is YScalar si)
+                    {
+                        list.Add(si);
+                    }
+                    else
+                    {
+                        diagnostics.ExpectedScalar(item.Location, $"each item of '{key}'");
+                    }
+                }
+
+                return list;
+            default:
+                diagnostics.ExpectedList(node.Location, $"'{key}'");
+                return null;
+        }
+    }
+}

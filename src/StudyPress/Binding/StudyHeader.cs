@@ -1,0 +1,339 @@
+using System.Globalization;
+using StudyPress.Diagnostics;
+using StudyPress.Syntax;
+
+namespace StudyPress.Binding;
+
+/// <summary>One declared input file.</summary>
+public sealed record DatasetSpec(
+    string Name,
+    string Path,
+    string? Sha256,
+    char Delimiter,
+    char Decimal,
+    IReadOnlyList<string> Missing,
+    SourceLocation Location,
+    SourceLocation PathLocation,
+    SourceLocation? ShaLocation);
+
+/// <summary>A declared factor: which column holds it, its level order and its display label.</summary>
+public sealed record FactorSpec(
+    string Name,
+    string Column,
+    IReadOnlyList<string>? Levels,
+    IReadOnlyList<SourceLocation> LevelLocations,
+    string? Label,
+    SourceLocation Location)
+{
+    public string Display => Label ?? Name;
+}
+
+public sealed record ReportOptions(int Digits, int PDigits);
+
+public sealed record StudyHeader(
+    string Title,
+    string Id,
+    IReadOnlyList<string> Authors,
+    double Alpha,
+    IReadOnlyList<DatasetSpec> Datasets,
+    string? Response,
+    SourceLocation ResponseLocation,
+    IReadOnlyList<FactorSpec> Factors,
+    string? Order,
+    SourceLocation OrderLocation,
+    ReportOptions Report,
+    SourceLocation Location)
+{
+    public FactorSpec? Factor(string name) => Factors.FirstOrDefault(f => f.Name == name);
+
+    public DatasetSpec? Dataset(string name) => Datasets.FirstOrDefault(d => d.Name == name);
+}
+
+/// <summary>Binds the header map to a <see cref="StudyHeader"/>, reporting every mistake found.</summary>
+internal static class HeaderBinder
+{
+    public static readonly string[] Keys = ["title", "id", "authors", "alpha", "data", "response", "factors", "order", "report"];
+
+    private static readonly string[] DatasetKeys = ["path", "sha256", "delimiter", "decimal", "missing"];
+    private static readonly string[] FactorKeys = ["column", "levels", "label"];
+    private static readonly string[] ReportKeys = ["template", "digits", "p-digits"];
+    private static readonly string[] DefaultMissing = ["", "NA", "N/A", "."];
+
+    public static StudyHeader Bind(YMapping map, string studyPath, DiagnosticBag diagnostics)
+    {
+        var r = new KeyReader(map, "the header", Keys, diagnostics);
+        var titleNode = r.Scalar("title");
+        var title = titleNode?.Value ?? string.Empty;
+        if (titleNode is null)
+        {
+            diagnostics.MissingKey(map.Location, "title", "the header");
+        }
+        else if (title.Trim().Length == 0)
+        {
+            diagnostics.EmptyTitle(titleNode.Location);
+        }
+
+        var id = r.String("id") ?? Path.GetFileNameWithoutExtension(studyPath);
+        var authors = r.ScalarList("authors")?.Select(a => a.Value).ToList() ?? [];
+
+        var alpha = 0.05;
+        if (r.Scalar("alpha") is { } alphaNode)
+        {
+            if (double.TryParse(alphaNode.Value, NumberStyles.Float, CultureInfo.InvariantCulture, out var a) && a > 0 && a < 1)
+            {
+                alpha = a;
+            }
+            else
+            {
+                diagnostics.AlphaOutOfRange(alphaNode.Location, alphaNode.Value);
+            }
+        }
+
+        var datasets = new List<DatasetSpec>();
+        switch (r.Node("data"))
+        {
+            case null or YScalar { IsNull: true }:
+                diagnostics.MissingKey(map.Location, "data", "the header");
+                break;
+            case YScalar single:
+                // 'data: file.csv' is shorthand for one dataset named 'data'.
+                datasets.Add(Make("data", single.Value, single.Location, null, null, null, null, single.Location, diagnostics));
+                break;
+            case YMapping dm:
+                foreach (var e in dm.Entries)
+                {
+                    if (BindDataset(e, diagnostics) is { } ds)
+                    {
+                        datasets.Add(ds);
+                    }
+                }
+
+                if (dm.Entries.Count == 0)
+                {
+                    diagnostics.MissingKey(dm.Location, "path", "'data' (declare at least one dataset)");
+                }
+
+                break;
+            case var other:
+                diagnostics.ExpectedMapping(other.Location, "'data' (dataset name -> file)");
+                break;
+        }
+
+        var responseNode = r.Scalar("response");
+        var factors = new List<FactorSpec>();
+        switch (r.Node("factors"))
+        {
+            case null or YScalar { IsNull: true }:
+                break;
+            case YMapping fm:
+                foreach (var e in fm.Entries)
+                {
+                    factors.Add(BindFactor(e, diagnostics));
+                }
+
+                break;
+            case YSequence fs:
+                // A plain list of column names is shorthand for factors with default settings.
+                foreach (var item in fs.Items)
+                {
+                    if (item is YScalar s)
+                    {
+                        factors.Add(new FactorSpec(s.Value, s.Value, null, [], null, s.Location));
+                    }
+                    else
+                    {
+                        diagnostics.ExpectedScalar(item.Location, "each item of 'factors'");
+                    }
+                }
+
+                break;
+            case var other:
+                diagnostics.ExpectedMapping(other.Location, "'factors'");
+                break;
+        }
+
+        var orderNode = r.Scalar("order");
+        var digits = 3;
+        var pDigits = 3;
+        switch (r.Node("report"))
+        {
+            case null or YScalar { IsNull: true }:
+                break;
+            case YMapping rm:
+                var rr = new KeyReader(rm, "'report'", ReportKeys, diagnostics);
+                if (rr.Scalar("template") is { } t)
+                {
+                    diagnostics.TemplateNotAllowed(t.Location);
+                }
+
+                digits = rr.Integer("digits", 1, 15) ?? digits;
+                pDigits = rr.Integer("p-digits", 1, 15) ?? pDigits;
+                break;
+            case var other:
+                diagnostics.ExpectedMapping(other.Location, "'report'");
+                break;
+        }
+
+        return new StudyHeader(
+            title,
+            id,
+            authors,
+            alpha,
+            datasets,
+            responseNode?.Value,
+            responseNode?.Location ?? map.Location,
+            factors,
+            orderNode?.Value,
+            orderNode?.Location ?? map.Location,
+            new ReportOptions(digits, pDigits),
+            map.Location);
+    }
+
+    internal static bool IsName(string s) =>
+        s.Length > 0 && char.IsAsciiLetter(s[0]) && s.All(c => char.IsAsciiLetterOrDigit(c) || c is '_' or '-');
+
+    private static DatasetSpec? BindDataset(YEntry e, DiagnosticBag diagnostics)
+    {
+        var name = e.Key.Value;
+        if (!IsName(name))
+        {
+            diagnostics.ReservedDatasetName(e.Key.Location, name);
+        }
+
+        if (e.Value is YScalar { IsNull: false } s)
+        {
+            return Make(name, s.Value, s.Location, null, null, null, null, e.Key.Location, diagnostics);
+        }
+
+        if (e.Value is not YMapping m)
+        {
+            diagnostics.ExpectedMapping(e.Value.Location, $"dataset '{name}'");
+            return null;
+        }
+
+        var r = new KeyReader(m, $"dataset '{name}'", DatasetKeys, diagnostics);
+        var pathNode = r.Scalar("path");
+        if (pathNode is null)
+        {
+            diagnostics.MissingKey(m.Location, "path", $"dataset '{name}'");
+            return null;
+        }
+
+        return Make(name, pathNode.Value, pathNode.Location, r.Scalar("sha256"), r.Scalar("delimiter"), r.Scalar("decimal"), r.ScalarList("missing"), e.Key.Location, diagnostics);
+    }
+
+    private static DatasetSpec Make(
+        string name,
+        string path,
+        SourceLocation pathLocation,
+        YScalar? sha,
+        YScalar? delimiterNode,
+        YScalar? decimalNode,
+        IReadOnlyList<YScalar>? missing,
+        SourceLocation location,
+        DiagnosticBag diagnostics)
+    {
+        string? sha256 = null;
+        if (sha is not null)
+        {
+            var v = sha.Value.Trim();
+            if (v.Length == 64 && v.All(char.IsAsciiHexDigit))
+            {
+                sha256 = v.ToLowerInvariant();
+            }
+            else
+            {
+                diagnostics.BadSha256(sha.Location, sha.Value);
+            }
+        }
+
+        var delimiter = path.EndsWith(".tsv", StringComparison.OrdinalIgnoreCase) ? '\t' : ',';
+        if (delimiterNode is not null)
+        {
+            switch (delimiterNode.Value)
+            {
+                case ",":
+                    delimiter = ',';
+                    break;
+                case ";":
+                    delimiter = ';';
+                    break;
+                case "\t" or "\\t" or "tab":
+                    delimiter = '\t';
+                    break;
+                default:
+                    diagnostics.BadDelimiter(delimiterNode.Location, delimiterNode.Value);
+                    break;
+            }
+        }
+
+        var dec = '.';
+        if (decimalNode is not null)
+        {
+            switch (decimalNode.Value)
+            {
+                case ".":
+                    dec = '.';
+                    break;
+                case ",":
+                    dec = ',';
+                    break;
+                default:
+                    diagnostics.BadDecimal(decimalNode.Location, decimalNode.Value);
+                    break;
+            }
+
+            if (dec == delimiter)
+            {
+                diagnostics.DecimalEqualsDelimiter(decimalNode.Location);
+            }
+        }
+
+        return new DatasetSpec(
+            name,
+            path,
+            sha256,
+            delimiter,
+            dec,
+            missing?.Select(m => m.Value).ToList() ?? [.. DefaultMissing],
+            location,
+            pathLocation,
+            sha?.Location);
+    }
+
+    private static FactorSpec BindFactor(YEntry e, DiagnosticBag diagnostics)
+    {
+        var name = e.Key.Value;
+        if (e.Value is YScalar { IsNull: true })
+        {
+            return new FactorSpec(name, name, null, [], null, e.Key.Location);
+        }
+
+        if (e.Value is not YMapping m)
+        {
+            diagnostics.ExpectedMapping(e.Value.Location, $"factor '{name}'");
+            return new FactorSpec(name, name, null, [], null, e.Key.Location);
+        }
+
+        var r = new KeyReader(m, $"factor '{name}'", FactorKeys, diagnostics);
+        var levelNodes = r.ScalarList("levels");
+        List<string>? levels = null;
+        if (levelNodes is not null)
+        {
+            levels = [];
+            foreach (var l in levelNodes)
+            {
+                if (levels.Contains(l.Value))
+                {
+                    diagnostics.DuplicateLevel(l.Location, name, l.Value);
+                }
+                else
+                {
+                    levels.Add(l.Value);
+                }
+            }
+        }
+
+        return new FactorSpec(name, r.String("column") ?? name, levels, levelNodes?.Select(l => l.Location).ToList() ?? [], r.String("label"), e.Key.Location);
+    }
+}

@@ -1,0 +1,249 @@
+using System.Reflection;
+using System.Security.Cryptography;
+using System.Text;
+using StudyPress.Binding;
+using StudyPress.Data;
+using StudyPress.Diagnostics;
+using StudyPress.Evaluation;
+using StudyPress.Kinds;
+using StudyPress.Rendering;
+using StudyPress.Syntax;
+
+namespace StudyPress;
+
+/// <summary>How to compile: where the report goes, what the build may read.</summary>
+public sealed record CompileOptions
+{
+    /// <summary>Folder for the report; null means beside the study file.</summary>
+    public string? OutputDirectory { get; init; }
+
+    /// <summary>Lets data paths leave the study's folder tree (off by default).</summary>
+    public bool AllowOutsidePaths { get; init; }
+
+    /// <summary>Seconds since the epoch (SOURCE_DATE_EPOCH) to show as the build time; null shows none.</summary>
+    public long? SourceDateEpoch { get; init; }
+}
+
+/// <summary>The products of a compilation; <see cref="Html"/> is null when there were errors.</summary>
+public sealed class CompilationResult
+{
+    public required string StudyPath { get; init; }
+
+    public required string OutputPath { get; init; }
+
+    public required IReadOnlyList<Diagnostic> Diagnostics { get; init; }
+
+    public string? Html { get; init; }
+
+    public byte[]? ManifestJson { get; init; }
+
+    public bool Succeeded => Html is not null;
+}
+
+/// <summary>
+/// The compiler facade: parse → bind → evaluate → render. Each stage reports into one diagnostic
+/// bag and the chain stops after a stage with errors. Nothing is written here; see
+/// <see cref="AtomicFile"/> for writing the products.
+/// </summary>
+public static class Compilation
+{
+    public static string ToolVersion { get; } =
+        typeof(Compilation).Assembly.GetCustomAttribute<AssemblyInformationalVersionAttribute>()?.InformationalVersion.Split('+')[0] ?? "0.0.0";
+
+    public static string OutputPathFor(string studyPath, CompileOptions options)
+    {
+        var name = Path.GetFileNameWithoutExtension(studyPath) + ".html";
+        return Path.GetFullPath(Path.Combine(options.OutputDirectory ?? Path.GetDirectoryName(Path.GetFullPath(studyPath))!, name));
+    }
+
+    public static CompilationResult Compile(string studyPath, CompileOptions options)
+    {
+        var diagnostics = new DiagnosticBag();
+        var outputPath = OutputPathFor(studyPath, options);
+        var html = Run(studyPath, outputPath, options, diagnostics, out var manifest);
+        return new CompilationResult
+        {
+            StudyPath = studyPath,
+            OutputPath = outputPath,
+            Diagnostics = diagnostics.Sorted(),
+            Html = diagnostics.HasErrors ? null : html,
+            ManifestJson = diagnostics.HasErrors ? null : manifest,
+        };
+    }
+
+    private static string? Run(string studyPath, string outputPath, CompileOptions options, DiagnosticBag diagnostics, out byte[]? manifest)
+    {
+        manifest = null;
+        var display = studyPath;
+        byte[] bytes;
+        try
+        {
+            bytes = File.ReadAllBytes(studyPath);
+        }
+        catch (Exception e) when (e is FileNotFoundException or DirectoryNotFoundException)
+        {
+            diagnostics.FileNotFound(SourceLocation.None(display), "study file", studyPath);
+            return null;
+        }
+        catch (Exception e) when (e is IOException or UnauthorizedAccessException)
+        {
+            diagnostics.FileUnreadable(SourceLocation.None(display), studyPath, e.Message);
+            return null;
+        }
+
+        var text = TextDecoding.Decode(bytes, display, diagnostics);
+        if (text is null)
+        {
+            return null;
+        }
+
+        // Parse.
+        var syntax = StudyParser.Parse(display, text, BlockKinds.Names, diagnostics);
+        if (syntax?.Header is null || diagnostics.HasErrors)
+        {
+            return null;
+        }
+
+        // Bind.
+        var header = HeaderBinder.Bind(syntax.Header, display, diagnostics);
+        var blocks = BlockBinder.Bind(syntax, header, diagnostics);
+        var primary = blocks.ToDictionary(b => b.Id, b => b.Kind.PrimaryTest, StringComparer.Ordinal);
+        foreach (var r in syntax.References.Where(r => r.Closed))
+        {
+            var parts = References.Split(r.Text, out var error);
+            if (parts is null)
+            {
+                diagnostics.BadReferenceSyntax(r.Location, r.Text, error!);
+            }
+            else if (!primary.ContainsKey(parts[0]) && !syntax.Blocks.Any(b => b.Id == parts[0]))
+            {
+                diagnostics.UnknownBlockReference(r.Location, parts[0], DiagnosticBag.Nearest(parts[0], primary.Keys));
+            }
+        }
+
+        if (diagnostics.HasErrors)
+        {
+            return null;
+        }
+
+        var studyDir = Path.GetDirectoryName(Path.GetFullPath(studyPath))!;
+        var datasets = LoadDatasets(header, blocks, studyDir, display, options, diagnostics);
+        if (diagnostics.HasErrors)
+        {
+            return null;
+        }
+
+        // Evaluate.
+        var context = new EvaluationContext { Header = header, Datasets = datasets };
+        var outcomes = new Dictionary<AnalysisBlockSyntax, BlockOutcome>();
+        foreach (var block in blocks)
+        {
+            var outcome = block.Kind.Evaluate(context, block, diagnostics);
+            outcomes[block.Syntax] = outcome;
+            context.Outcomes[block.Id] = outcome;
+        }
+
+        var resolved = new Dictionary<ReferenceInline, ResultValue>();
+        foreach (var r in syntax.References.Where(r => r.Closed))
+        {
+            if (References.Resolve(r, context.Results, primary, diagnostics) is { } v)
+            {
+                if (!v.Value.IsDefined)
+                {
+                    diagnostics.UndefinedReference(r.Location, r.Text, v.Value.Reason!);
+                }
+
+                resolved[r] = v;
+            }
+        }
+
+        if (diagnostics.HasErrors)
+        {
+            return null;
+        }
+
+        // Render.
+        var inputs = header.Datasets.Select(d => datasets[d.Name]).ToList();
+        var identity = new ManifestHeader(
+            ToolVersion,
+            Path.GetRelativePath(Path.GetDirectoryName(outputPath)!, Path.GetFullPath(studyPath)).Replace('\\', '/'),
+            Convert.ToHexStringLower(SHA256.HashData(bytes)),
+            ReportTemplate.Name,
+            ReportTemplate.Sha256,
+            options.SourceDateEpoch is { } epoch ? DateTimeOffset.FromUnixTimeSeconds(epoch).UtcDateTime.ToString("yyyy-MM-dd'T'HH:mm:ss'Z'", System.Globalization.CultureInfo.InvariantCulture) : null);
+        manifest = Manifest.Write(identity, inputs, context.Results);
+        return ReportRenderer.Render(syntax, header, outcomes, resolved, inputs, identity, manifest);
+    }
+
+    private static Dictionary<string, LoadedDataset> LoadDatasets(
+        StudyHeader header,
+        IReadOnlyList<BoundBlock> blocks,
+        string studyDir,
+        string display,
+        CompileOptions options,
+        DiagnosticBag diagnostics)
+    {
+        var needs = header.Datasets.ToDictionary(d => d.Name, _ => new DatasetNeeds(), StringComparer.Ordinal);
+        foreach (var b in blocks.Where(b => b.Data is not null))
+        {
+            var n = needs[b.Data!];
+            if (b.Response is not null)
+            {
+                n.Numeric.TryAdd(b.Response, b.ResponseLocation);
+            }
+
+            foreach (var f in b.Factors)
+            {
+                n.Factors.TryAdd(f.Name, (f, f.Location));
+            }
+
+            foreach (var w in b.Where)
+            {
+                n.Factors.TryAdd(w.Factor.Name, (w.Factor, w.Location));
+            }
+        }
+
+        var loaded = new Dictionary<string, LoadedDataset>(StringComparer.Ordinal);
+        var studyFolder = Path.GetDirectoryName(display);
+        foreach (var spec in header.Datasets)
+        {
+            if (!options.AllowOutsidePaths)
+            {
+                switch (PathGuard.Check(studyDir, spec.Path, out _))
+                {
+                    case PathGuard.Verdict.Absolute:
+                        diagnostics.PathAbsolute(spec.PathLocation, spec.Path);
+                        continue;
+                    case PathGuard.Verdict.Escapes:
+                        diagnostics.PathEscapes(spec.PathLocation, spec.Path);
+                        continue;
+                }
+            }
+
+            var full = Path.GetFullPath(Path.Combine(studyDir, spec.Path));
+            var dataDisplay = string.IsNullOrEmpty(studyFolder) ? spec.Path : Path.Combine(studyFolder, spec.Path).Replace('\\', '/');
+            byte[] bytes;
+            try
+            {
+                bytes = File.ReadAllBytes(full);
+            }
+            catch (Exception e) when (e is FileNotFoundException or DirectoryNotFoundException)
+            {
+                diagnostics.FileNotFound(spec.PathLocation, "data file", spec.Path);
+                continue;
+            }
+            catch (Exception e) when (e is IOException or UnauthorizedAccessException)
+            {
+                diagnostics.FileUnreadable(spec.PathLocation, spec.Path, e.Message);
+                continue;
+            }
+
+            if (CsvLoader.Load(spec, bytes, dataDisplay, needs[spec.Name], diagnostics) is { } ds)
+            {
+                loaded[spec.Name] = ds;
+            }
+        }
+
+        return loaded;
+    }
+}

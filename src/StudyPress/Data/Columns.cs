@@ -1,0 +1,41 @@
+namespace StudyPress.Data;
+
+/// <summary>
+/// A numeric column, centred: <c>Centred[i] = value[i] - Centre</c> computed in exact decimal
+/// arithmetic before the conversion to double, so that values such as 1000000000000.4 keep every
+/// digit that matters for variances. Missing cells are NaN here and nowhere else.
+/// </summary>
+/// <see cref="Values"/> holds each value itself (the double nearest to its decimal text), for
+/// order statistics and transformations.
+public sealed record NumericColumn(string Name, double[] Centred, double[] Values, double Centre, int Missing, bool Exact)
+{
+    public bool IsMissing(int row) => double.IsNaN(Centred[row]);
+}
+
+/// <summary>A categorical column as level codes (-1 = missing) into <see cref="Levels"/>.</summary>
+public sealed record CategoricalColumn(string Name, int[] Codes, IReadOnlyList<string> Levels, int[] Counts);
+
+/// <summary>One loaded input with its identity (path as written, SHA-256) and the columns the study needs.</summary>
+public sealed class LoadedDataset
+{
+    public required Binding.DatasetSpec Spec { get; init; }
+
+    /// <summary>Path relative to the study file, with '/' separators.</summary>
+    public required string Path { get; init; }
+
+    public required string Sha256 { get; init; }
+
+    public required int Rows { get; init; }
+
+    public required IReadOnlyList<string> ColumnNames { get; init; }
+
+    public required IReadOnlyDictionary<string, NumericColumn> Numeric { get; init; }
+
+    /// <summary>Categorical columns by factor name.</summary>
+    public required IReadOnlyDictionary<string, CategoricalColumn> Factors { get; init; }
+
+    /// <summary>Rows used by at least one block; filled in by evaluation.</summary>
+    public required bool[] Used { get; init; }
+
+    public int RowsUsed => Used.Count(u => u);
+}

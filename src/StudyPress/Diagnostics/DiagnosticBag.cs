@@ -1,0 +1,269 @@
+using System.Globalization;
+
+namespace StudyPress.Diagnostics;
+
+/// <summary>
+/// Collects diagnostics. Every message a user can see is worded here, one method per message,
+/// so the wording can be reviewed in one file. Codes: SP01xx syntax/YAML, SP02xx header and
+/// blocks, SP03xx data, SP04xx references, SP05xx analysis, SP06xx output.
+/// </summary>
+public sealed class DiagnosticBag
+{
+    /// <summary>At most this many errors are kept per file; later ones are summarised.</summary>
+    public const int MaxErrorsPerFile = 50;
+
+    private readonly List<Diagnostic> items = [];
+    private readonly Dictionary<string, int> perFile = new(StringComparer.Ordinal);
+    private readonly HashSet<string> truncated = new(StringComparer.Ordinal);
+
+    public IReadOnlyList<Diagnostic> Items => items;
+
+    public bool HasErrors => items.Exists(d => d.Severity == Severity.Error);
+
+    /// <summary>Diagnostics sorted by file and position, each once.</summary>
+    public IReadOnlyList<Diagnostic> Sorted() =>
+        [.. items.Distinct()
+            .OrderBy(d => d.Location.Path, StringComparer.Ordinal)
+            .ThenBy(d => d.Location.Line)
+            .ThenBy(d => d.Location.Column)];
+
+    internal static Diagnostic Make(string code, string message, SourceLocation at) =>
+        new(Severity.Error, code, message, at);
+
+    public void Add(Diagnostic d)
+    {
+        if (d.Severity == Severity.Error)
+        {
+            perFile.TryGetValue(d.Location.Path, out var n);
+            perFile[d.Location.Path] = n + 1;
+            if (n >= MaxErrorsPerFile)
+            {
+                if (truncated.Add(d.Location.Path))
+                {
+                    items.Add(new Diagnostic(Severity.Error, "SP0001", string.Create(CultureInfo.InvariantCulture, $"too many errors; only the first {MaxErrorsPerFile} in this file are shown"), d.Location));
+                }
+
+                return;
+            }
+        }
+
+        items.Add(d);
+    }
+
+    public void AddRange(IEnumerable<Diagnostic> ds)
+    {
+        foreach (var d in ds)
+        {
+            Add(d);
+        }
+    }
+
+    private void Error(string code, SourceLocation at, string message) => Add(Make(code, message, at));
+
+    private static string Suggest(string? suggestion) => suggestion is null ? string.Empty : $"; did you mean '{suggestion}'?";
+
+    private static string Q(string s) => "'" + s + "'";
+
+    // ---- files and encodings (SP00xx) ----
+    public void FileNotFound(SourceLocation at, string what, string path) => Error("SP0002", at, $"{what} {Q(path)} not found");
+
+    public void FileUnreadable(SourceLocation at, string path, string reason) => Error("SP0003", at, $"cannot read {Q(path)}: {reason}");
+
+    public void NotUtf8(SourceLocation at, string detail) => Error("SP0004", at, $"the file is not valid UTF-8 ({detail})");
+
+    public void Utf16(SourceLocation at) => Error("SP0005", at, "the file is UTF-16; save it as UTF-8");
+
+    public void NulByte(SourceLocation at) => Error("SP0006", at, "the file contains a NUL byte; is it a binary file?");
+
+    // ---- study syntax (SP01xx) ----
+    public void NoHeader(SourceLocation at) => Error("SP0101", at, "a study file must start with a YAML header between '---' lines");
+
+    public void UnclosedHeader(SourceLocation at) => Error("SP0102", at, "the YAML header is not closed; add a line '---' after it");
+
+    public void TabIndentation(SourceLocation at) => Error("SP0107", at, "a tab is used for indentation; YAML needs spaces");
+
+    public void YamlSyntax(SourceLocation at, string message) => Error("SP0108", at, message);
+
+    // ---- header and blocks (SP02xx) ----
+    public void UnknownKey(SourceLocation at, string key, string where, string? suggestion) =>
+        Error("SP0201", at, $"unknown key {Q(key)} in {where}{Suggest(suggestion)}");
+
+    public void MissingKey(SourceLocation at, string key, string where) => Error("SP0202", at, $"missing required key {Q(key)} in {where}");
+
+    public void ExpectedMapping(SourceLocation at, string what) => Error("SP0203", at, $"{what} must be a map of keys to values");
+
+    public void ExpectedScalar(SourceLocation at, string what) => Error("SP0204", at, $"{what} must be a single value, not a list or map");
+
+    public void ExpectedList(SourceLocation at, string what) => Error("SP0205", at, $"{what} must be a list");
+
+    public void AlphaOutOfRange(SourceLocation at, string text) => Error("SP0206", at, $"alpha must be a number strictly between 0 and 1, not {Q(text)}");
+
+    public void NotANumber(SourceLocation at, string key, string text) => Error("SP0207", at, $"{Q(key)} must be a number, not {Q(text)}");
+
+    public void NotAnInteger(SourceLocation at, string key, string text, int min, int max) =>
+        Error("SP0208", at, string.Create(CultureInfo.InvariantCulture, $"{Q(key)} must be a whole number from {min} to {max}, not {Q(text)}"));
+
+    public void BadChoice(SourceLocation at, string key, string text, IEnumerable<string> choices, string? suggestion) =>
+        Error("SP0209", at, $"{Q(key)} must be one of {string.Join(", ", choices)}, not {Q(text)}{Suggest(suggestion)}");
+
+    public void BadDelimiter(SourceLocation at, string text) => Error("SP0210", at, $"delimiter must be ',', ';' or '\\t' (tab), not {Q(text)}");
+
+    public void BadDecimal(SourceLocation at, string text) => Error("SP0211", at, $"decimal must be '.' or ',', not {Q(text)}");
+
+    public void DecimalEqualsDelimiter(SourceLocation at) => Error("SP0212", at, "the decimal mark cannot be the same as the delimiter; use delimiter ';' with decimal ','");
+
+    public void BadSha256(SourceLocation at, string text) => Error("SP0213", at, $"sha256 must be 64 hexadecimal digits, not {Q(text)}");
+
+    public void UnknownDataset(SourceLocation at, string name, string? suggestion) => Error("SP0214", at, $"unknown dataset {Q(name)}{Suggest(suggestion)}");
+
+    public void DatasetNeeded(SourceLocation at) => Error("SP0215", at, "the header declares several datasets; say which one with 'data:'");
+
+    public void UnknownFactor(SourceLocation at, string name, string? suggestion) => Error("SP0216", at, $"unknown factor {Q(name)}{Suggest(suggestion)}");
+
+    public void ResponseNeeded(SourceLocation at) => Error("SP0217", at, "no response column: set 'response' in the block or in the header");
+
+    public void FactorsNeeded(SourceLocation at, string kind) => Error("SP0218", at, $"the {kind} block needs at least one factor: set 'factors' here or declare factors in the header");
+
+    public void DuplicateBlockId(SourceLocation at, string id, int firstLine) =>
+        Error("SP0219", at, string.Create(CultureInfo.InvariantCulture, $"duplicate block id {Q(id)} (first used on line {firstLine + 1})"));
+
+    public void BadBlockId(SourceLocation at, string id) => Error("SP0220", at, $"block id {Q(id)} must start with a letter and use only letters, digits, '_' and '-'");
+
+    public void TooManyFactorsForOneWay(SourceLocation at, string kind) => Error("SP0221", at, $"this version's {kind} handles one factor only");
+
+    public void DuplicateFactorInList(SourceLocation at, string name) => Error("SP0222", at, $"factor {Q(name)} is listed twice");
+
+    public void EmptyTitle(SourceLocation at) => Error("SP0223", at, "the title must not be empty");
+
+    public void DuplicateLevel(SourceLocation at, string factor, string level) => Error("SP0224", at, $"level {Q(level)} is listed twice for factor {Q(factor)}");
+
+    public void UnknownLevelInFilter(SourceLocation at, string factor, string level, string? suggestion) =>
+        Error("SP0225", at, $"factor {Q(factor)} has no level {Q(level)}{Suggest(suggestion)}");
+
+    public void TemplateNotAllowed(SourceLocation at) => Error("SP0226", at, "custom report templates are not supported in this version; remove 'template'");
+
+    public void ReservedDatasetName(SourceLocation at, string name) => Error("SP0227", at, $"dataset name {Q(name)} must start with a letter and use only letters, digits, '_' and '-'");
+
+    public void TooManyBlocks(SourceLocation at, int max) =>
+        Error("SP0228", at, string.Create(CultureInfo.InvariantCulture, $"a study may hold at most {max} analysis blocks"));
+
+    // ---- data (SP03xx) ----
+    public void PathAbsolute(SourceLocation at, string path) => Error("SP0301", at, $"data path {Q(path)} must be relative to the study file");
+
+    public void PathEscapes(SourceLocation at, string path) => Error("SP0302", at, $"data path {Q(path)} leads outside the study's folder");
+
+    public void HashMismatch(SourceLocation at, string path, string expected, string actual) =>
+        Error("SP0303", at, $"{Q(path)} has SHA-256 {actual}, but the header pins {expected}");
+
+    public void EmptyDataFile(SourceLocation at) => Error("SP0304", at, "the data file is empty; the first line must name the columns");
+
+    public void NoDataRows(SourceLocation at) => Error("SP0305", at, "the data file has a header line but no data rows");
+
+    public void DuplicateColumn(SourceLocation at, string column, int firstCol) =>
+        Error("SP0306", at, string.Create(CultureInfo.InvariantCulture, $"column {Q(column)} appears twice in the header line (first at column {firstCol + 1})"));
+
+    public void EmptyColumnName(SourceLocation at, int index) =>
+        Error("SP0307", at, string.Create(CultureInfo.InvariantCulture, $"column {index + 1} of the header line has no name"));
+
+    public void UnknownColumn(SourceLocation at, string column, string dataPath, string? suggestion) =>
+        Error("SP0308", at, $"column {Q(column)} is not in {Q(dataPath)}{Suggest(suggestion)}");
+
+    public void RaggedRow(SourceLocation at, int got, int expected) =>
+        Error("SP0309", at, string.Create(CultureInfo.InvariantCulture, $"this row has {got} fields but the header line has {expected}"));
+
+    public void UnterminatedQuote(SourceLocation at) => Error("SP0310", at, "a quoted field is not closed");
+
+    public void NotNumeric(SourceLocation at, string text, string column) => Error("SP0311", at, $"{Q(text)} is not a number in column {Q(column)}");
+
+    public void NotFiniteNumber(SourceLocation at, string text, string column) =>
+        Error("SP0312", at, $"{Q(text)} is not a finite number in column {Q(column)}; mark missing values with one of the 'missing' strings");
+
+    public void DecimalCommaHint(SourceLocation at, string text, string column) =>
+        Error("SP0313", at, $"{Q(text)} is not a number in column {Q(column)}; if the file uses decimal commas, set 'decimal: \",\"' (and a ';' delimiter) for this dataset");
+
+    public void UndeclaredLevel(SourceLocation at, string level, string factor, string? suggestion) =>
+        Error("SP0314", at, $"{Q(level)} is not a declared level of factor {Q(factor)}{Suggest(suggestion)}");
+
+    public void AbsentLevel(SourceLocation at, string level, string factor, string dataPath) =>
+        Error("SP0315", at, $"declared level {Q(level)} of factor {Q(factor)} has no rows in {Q(dataPath)}");
+
+    public void NumberOutOfRange(SourceLocation at, string text, string column) =>
+        Error("SP0316", at, $"{Q(text)} in column {Q(column)} is too large to compute with");
+
+    public void RowsTooMany(SourceLocation at, long max) =>
+        Error("SP0317", at, string.Create(CultureInfo.InvariantCulture, $"the data file has more than {max} rows, the most this version loads"));
+
+    // ---- references (SP04xx) ----
+    public void UnknownReference(SourceLocation at, string text, string? suggestion) => Error("SP0401", at, $"unknown reference {Q(text)}{Suggest(suggestion)}");
+
+    public void AmbiguousReference(SourceLocation at, string text, IEnumerable<string> candidates) =>
+        Error("SP0402", at, $"reference {Q(text)} is ambiguous; write one of: {string.Join(", ", candidates)}");
+
+    public void BadReferenceSyntax(SourceLocation at, string text, string why) => Error("SP0403", at, $"cannot read reference {Q(text)}: {why}");
+
+    public void UnclosedReference(SourceLocation at) => Error("SP0404", at, "a reference '{{' is not closed with '}}'");
+
+    public void UndefinedReference(SourceLocation at, string text, string reason) => Error("SP0405", at, $"reference {Q(text)} has no value: {reason}");
+
+    public void UnknownBlockReference(SourceLocation at, string id, string? suggestion) => Error("SP0406", at, $"no block with id {Q(id)}{Suggest(suggestion)}");
+
+    // ---- analysis (SP05xx) ----
+    public void TooFewGroups(SourceLocation at, string factor, int groups) =>
+        Error("SP0501", at, string.Create(CultureInfo.InvariantCulture, $"factor {Q(factor)} has {groups} level(s) with data here; a comparison needs at least 2"));
+
+    public void NoRowsSelected(SourceLocation at) => Error("SP0502", at, "no rows are left after dropping missing values and applying 'where'");
+
+    public void NoResidualDf(SourceLocation at) => Error("SP0503", at, "every group has a single observation, so there is no residual variance to test against");
+
+    // ---- output (SP06xx) ----
+    public void CannotWrite(SourceLocation at, string path, string reason) => Error("SP0601", at, $"cannot write {Q(path)}: {reason}");
+
+    /// <summary>Closest candidate within a small edit distance, for "did you mean".</summary>
+    public static string? Nearest(string word, IEnumerable<string> candidates)
+    {
+        string? best = null;
+        var bestD = int.MaxValue;
+        foreach (var c in candidates)
+        {
+            var d = Distance(word.ToLowerInvariant(), c.ToLowerInvariant());
+            if (d < bestD)
+            {
+                bestD = d;
+                best = c;
+            }
+        }
+
+        var limit = Math.Max(1, Math.Min(3, word.Length / 3));
+        return bestD <= limit ? best : null;
+    }
+
+    private static int Distance(string a, string b)
+    {
+        // Optimal string alignment distance (Levenshtein plus adjacent transpositions).
+        var d = new int[a.Length + 1, b.Length + 1];
+        for (var i = 0; i <= a.Length; i++)
+        {
+            d[i, 0] = i;
+        }
+
+        for (var j = 0; j <= b.Length; j++)
+        {
+            d[0, j] = j;
+        }
+
+        for (var i = 1; i <= a.Length; i++)
+        {
+            for (var j = 1; j <= b.Length; j++)
+            {
+                var cost = a[i - 1] == b[j - 1] ? 0 : 1;
+                d[i, j] = Math.Min(Math.Min(d[i - 1, j] + 1, d[i, j - 1] + 1), d[i - 1, j - 1] + cost);
+                if (i > 1 && j > 1 && a[i - 1] == b[j - 2] && a[i - 2] == b[j - 1])
+                {
+                    d[i, j] = Math.Min(d[i, j], d[i - 2, j - 2] + 1);
+                }
+            }
+        }
+
+        return d[a.Length, b.Length];
+    }
+}

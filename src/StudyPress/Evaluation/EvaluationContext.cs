@@ -1,0 +1,157 @@
+using StudyPress.Binding;
+using StudyPress.Data;
+using StudyPress.Diagnostics;
+using StudyPress.Statistics;
+
+namespace StudyPress.Evaluation;
+
+/// <summary>The rows one block works on: response (centred) and factor codes restricted to levels with data.</summary>
+public sealed class BlockData
+{
+    public required LoadedDataset Dataset { get; init; }
+
+    public required string ResponseName { get; init; }
+
+    /// <summary>Row indices into the dataset, in file order.</summary>
+    public required int[] Rows { get; init; }
+
+    /// <summary>Centred response for <see cref="Rows"/>.</summary>
+    public required double[] Response { get; init; }
+
+    public required double Centre { get; init; }
+
+    /// <summary>The response values themselves for <see cref="Rows"/> (not centred).</summary>
+    public required double[] Values { get; init; }
+
+    public required IReadOnlyList<BlockFactor> Factors { get; init; }
+
+    /// <summary>Rows dropped because the response or a factor was missing.</summary>
+    public required int DroppedMissing { get; init; }
+
+    /// <summary>Groups by the crossing of all block factors: level label, codes, centred values, row positions.</summary>
+    public IReadOnlyList<(string Label, int[] Codes, double[] Values, int[] Positions)> Cells()
+    {
+        var map = new SortedDictionary<string, (string Label, int[] Codes, List<double> Values, List<int> Positions)>(StringComparer.Ordinal);
+        for (var i = 0; i < Rows.Length; i++)
+        {
+            var codes = Factors.Select(f => f.Codes[i]).ToArray();
+            var key = string.Join(",", codes.Select(c => c.ToString("D6", System.Globalization.CultureInfo.InvariantCulture)));
+            if (!map.TryGetValue(key, out var cell))
+            {
+                cell = (string.Join(" / ", codes.Select((c, k) => Factors[k].Levels[c])), codes, [], []);
+                map[key] = cell;
+            }
+
+            cell.Values.Add(Response[i]);
+            cell.Positions.Add(i);
+        }
+
+        return [.. map.Values.Select(c => (c.Label, c.Codes, c.Values.ToArray(), c.Positions.ToArray()))];
+    }
+}
+
+/// <summary>A factor within a block: codes per selected row into the levels present there.</summary>
+public sealed record BlockFactor(FactorSpec Spec, int[] Codes, IReadOnlyList<string> Levels)
+{
+    public Statistics.Anova.FactorColumn ToColumn() => new(Spec.Name, Codes, Levels);
+
+    public double[][] Split(double[] values)
+    {
+        var lists = Levels.Select(_ => new List<double>()).ToArray();
+        for (var i = 0; i < Codes.Length; i++)
+        {
+            lists[Codes[i]].Add(values[i]);
+        }
+
+        return [.. lists.Select(l => l.ToArray())];
+    }
+}
+
+/// <summary>What evaluation stages share: header, datasets, results.</summary>
+public sealed class EvaluationContext
+{
+    public required StudyHeader Header { get; init; }
+
+    public required IReadOnlyDictionary<string, LoadedDataset> Datasets { get; init; }
+
+    public ResultSet Results { get; } = new();
+
+    public Dictionary<string, Kinds.BlockOutcome> Outcomes { get; } = new(StringComparer.Ordinal);
+
+    /// <summary>
+    /// Selects a block's rows: the response and every block factor present, and the 'where'
+    /// filter satisfied. Levels without rows in the selection are dropped from the block's factors.
+    /// </summary>
+    public BlockData? Select(BoundBlock block, DiagnosticBag diagnostics, bool requireResponse = true)
+    {
+        var ds = Datasets[block.Data!];
+        var response = block.Response is null ? null : ds.Numeric[block.Response];
+        var factorCols = block.Factors.Select(f => ds.Factors[f.Name]).ToArray();
+        var rows = new List<int>();
+        var dropped = 0;
+        for (var r = 0; r < ds.Rows; r++)
+        {
+            var pass = true;
+            foreach (var w in block.Where)
+            {
+                var col = ds.Factors[w.Factor.Name];
+                var code = col.Codes[r];
+                if (code < 0 || !w.Levels.Contains(col.Levels[code]))
+                {
+                    pass = false;
+                    break;
+                }
+            }
+
+            if (!pass)
+            {
+                continue;
+            }
+
+            if ((response is not null && response.IsMissing(r)) || factorCols.Any(f => f.Codes[r] < 0))
+            {
+                dropped++;
+                continue;
+            }
+
+            rows.Add(r);
+        }
+
+        if (rows.Count == 0)
+        {
+            diagnostics.NoRowsSelected(block.Location);
+            return null;
+        }
+
+        foreach (var r in rows)
+        {
+            ds.Used[r] = true;
+        }
+
+        var factors = new List<BlockFactor>();
+        for (var k = 0; k < factorCols.Length; k++)
+        {
+            var col = factorCols[k];
+            var present = new SortedSet<int>(rows.Select(r => col.Codes[r]));
+            var remap = present.Select((code, i) => (code, i)).ToDictionary(p => p.code, p => p.i);
+            factors.Add(new BlockFactor(
+                block.Factors[k],
+                [.. rows.Select(r => remap[col.Codes[r]])],
+                [.. present.Select(c => col.Levels[c])]));
+        }
+
+        return new BlockData
+        {
+            Dataset = ds,
+            ResponseName = block.Response ?? string.Empty,
+            Rows = [.. rows],
+            Response = response is null ? [] : [.. rows.Select(r => response.Centred[r])],
+            Centre = response?.Centre ?? 0,
+            Values = response is null ? [] : [.. rows.Select(r => response.Values[r])],
+            Factors = factors,
+            DroppedMissing = dropped,
+        };
+    }
+
+    public IReadOnlyList<string> Inputs(BoundBlock block) => block.Data is null ? [] : [block.Data];
+}

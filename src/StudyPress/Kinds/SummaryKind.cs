@@ -1,0 +1,156 @@
+using StudyPress.Binding;
+using StudyPress.Diagnostics;
+using StudyPress.Evaluation;
+using StudyPress.Rendering;
+using StudyPress.Statistics.Descriptive;
+
+namespace StudyPress.Kinds;
+
+/// <summary>
+/// <c>summary</c>: per-group n, missing, mean, SD, SE, confidence interval of the mean, median,
+/// quartiles, min and max. Groups are the crossing of the <c>by</c> factors (default: the block's
+/// factors, else the header's).
+/// </summary>
+public sealed class SummaryKind : BlockKind
+{
+    public override string Name => "summary";
+
+    public override string PrimaryTest => "summary";
+
+    public override IReadOnlyList<string> OwnKeys { get; } = ["by"];
+
+    public override bool NeedsFactors => false;
+
+    public override object? BindOptions(KeyReader keys, StudyHeader header, DiagnosticBag diagnostics) => null;
+
+    public sealed class Outcome(BoundBlock block) : BlockOutcome(block)
+    {
+        public List<(string Label, int N, Dictionary<string, ResultValue> Values)> Groups { get; } = [];
+
+        public string Term { get; set; } = string.Empty;
+
+        public string ResponseName { get; set; } = string.Empty;
+    }
+
+    public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
+    {
+        var outcome = new Outcome(block);
+        var data = context.Select(block, diagnostics);
+        if (data is null)
+        {
+            return outcome;
+        }
+
+        outcome.ResponseName = data.ResponseName;
+        var inputs = context.Inputs(block);
+        var term = data.Factors.Count == 0 ? null : string.Join(":", data.Factors.Select(f => f.Spec.Name));
+        outcome.Term = term ?? string.Empty;
+        var missing = MissingByCell(context, block, data);
+        var cells = data.Factors.Count == 0 ? [("all", Array.Empty<int>(), data.Response, Enumerable.Range(0, data.Rows.Length).ToArray())] : data.Cells();
+        var alpha = context.Header.Alpha;
+        foreach (var (label, _, values, positions) in cells)
+        {
+            var s = Descriptives.Compute(values, positions.Select(i => data.Values[i]).ToArray(), data.Centre, alpha);
+            var level = data.Factors.Count == 0 ? null : label;
+            var map = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
+            void Add(string stat, Statistics.Quantity q) => map[stat] = context.Results.Add(block.Id, "summary", term, level, null, stat, q, inputs);
+            Add("n", Statistics.Quantity.Of(s.N));
+            Add("missing", Statistics.Quantity.Of(missing.GetValueOrDefault(label)));
+            Add("mean", Statistics.Quantity.Of(s.Mean));
+            Add("sd", s.Sd);
+            Add("se", s.Se);
+            Add("ci_low", s.CiLow);
+            Add("ci_high", s.CiHigh);
+            Add("median", Statistics.Quantity.Of(s.Median));
+            Add("q1", Statistics.Quantity.Of(s.Q1));
+            Add("q3", Statistics.Quantity.Of(s.Q3));
+            Add("min", Statistics.Quantity.Of(s.Min));
+            Add("max", Statistics.Quantity.Of(s.Max));
+            outcome.Groups.Add((label, s.N, map));
+            if (s.N < 2)
+            {
+                outcome.Warnings.Add($"Group '{label}' has a single observation: its spread and interval are not defined.");
+            }
+        }
+
+        var small = outcome.Groups.Where(g => g.N is >= 2 and < 5).Select(g => g.Label).ToList();
+        if (small.Count > 0)
+        {
+            outcome.Warnings.Add($"Groups with fewer than 5 observations ({string.Join(", ", small)}): their means and intervals are imprecise, and quartiles of so few values say little.");
+        }
+
+        if (data.DroppedMissing > 0)
+        {
+            outcome.Notes.Add(string.Create(System.Globalization.CultureInfo.InvariantCulture, $"{data.DroppedMissing} row(s) with a missing value were left out."));
+        }
+
+        return outcome;
+    }
+
+    /// <summary>Rows whose response is missing, by the group their factors put them in.</summary>
+    private static Dictionary<string, int> MissingByCell(EvaluationContext context, BoundBlock block, BlockData data)
+    {
+        var result = new Dictionary<string, int>(StringComparer.Ordinal);
+        var ds = data.Dataset;
+        var response = ds.Numeric[data.ResponseName];
+        for (var r = 0; r < ds.Rows; r++)
+        {
+            if (!response.IsMissing(r))
+            {
+                continue;
+            }
+
+            var labels = new List<string>();
+            var ok = true;
+            foreach (var f in block.Factors)
+            {
+                var col = ds.Factors[f.Name];
+                if (col.Codes[r] < 0)
+                {
+                    ok = false;
+                    break;
+                }
+
+                labels.Add(col.Levels[col.Codes[r]]);
+            }
+
+            foreach (var w in block.Where)
+            {
+                var col = ds.Factors[w.Factor.Name];
+                ok &= col.Codes[r] >= 0 && w.Levels.Contains(col.Levels[col.Codes[r]]);
+            }
+
+            if (ok)
+            {
+                var key = labels.Count == 0 ? "all" : string.Join(" / ", labels);
+                result[key] = result.GetValueOrDefault(key) + 1;
+            }
+        }
+
+        _ = context;
+        return result;
+    }
+
+    public override void Render(HtmlWriter html, BlockOutcome outcome, RenderContext context)
+    {
+        var o = (Outcome)outcome;
+        if (o.Groups.Count == 0)
+        {
+            return;
+        }
+
+        var level = 100 * (1 - context.Alpha);
+        var ci = context.Format.General(level) + "% CI";
+        string[] headers = ["Group", "n", "missing", "mean", "SD", "SE", ci + " low", ci + " high", "median", "Q1", "Q3", "min", "max"];
+        string[] stats = ["n", "missing", "mean", "sd", "se", "ci_low", "ci_high", "median", "q1", "q3", "min", "max"];
+        var caption = o.Block.Caption ?? $"Summary of {o.ResponseName}" + (o.Term.Length > 0 ? $" by {o.Term.Replace(":", " and ", StringComparison.Ordinal)}" : string.Empty);
+        var table = new HtmlTable("summary", caption, headers);
+        foreach (var (label, _, values) in o.Groups)
+        {
+            table.Row(label, [.. stats.Select(s => HtmlWriter.ValueHtml(values[s], context))]);
+        }
+
+        table.WriteTo(html);
+        html.Raw("<p class=\"method\">").Text($"SD with divisor n − 1; SE = SD/√n; the interval is mean ± t × SE on n − 1 df; quartiles by linear interpolation between order statistics.").Raw("</p>");
+    }
+}

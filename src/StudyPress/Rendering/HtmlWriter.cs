@@ -1,0 +1,104 @@
+using System.Net;
+using System.Text;
+using StudyPress.Evaluation;
+
+namespace StudyPress.Rendering;
+
+/// <summary>What renderers share: number format and the values' trace.</summary>
+public sealed class RenderContext(NumberFormat format, double alpha)
+{
+    public NumberFormat Format { get; } = format;
+
+    public double Alpha { get; } = alpha;
+
+    public string AlphaText => Format.General(Alpha);
+}
+
+/// <summary>
+/// Builds HTML with every user-supplied string escaped. Numbers go through <see cref="Value"/>,
+/// which wraps them in an element carrying the manifest id, so the page script can show the trace.
+/// </summary>
+public sealed class HtmlWriter
+{
+    private readonly StringBuilder sb = new();
+
+    public static string Escape(string? s) => WebUtility.HtmlEncode(s ?? string.Empty);
+
+    /// <summary>Appends trusted markup written by the compiler itself.</summary>
+    public HtmlWriter Raw(string html)
+    {
+        sb.Append(html);
+        return this;
+    }
+
+    /// <summary>Appends escaped text.</summary>
+    public HtmlWriter Text(string? text)
+    {
+        sb.Append(Escape(text));
+        return this;
+    }
+
+    /// <summary>Appends an element with escaped text content.</summary>
+    public HtmlWriter Element(string tag, string? text, string? cssClass = null)
+    {
+        sb.Append('<').Append(tag);
+        if (cssClass is not null)
+        {
+            sb.Append(" class=\"").Append(cssClass).Append('"');
+        }
+
+        sb.Append('>').Append(Escape(text)).Append("</").Append(tag).Append('>');
+        return this;
+    }
+
+    /// <summary>A traced number (or its "not defined" marker with the reason).</summary>
+    public HtmlWriter Value(ResultValue v, RenderContext context)
+    {
+        sb.Append(ValueHtml(v, context));
+        return this;
+    }
+
+    public static string ValueHtml(ResultValue v, RenderContext context)
+    {
+        if (!v.Value.IsDefined)
+        {
+            return "<span class=\"nd\" data-v=\"" + v.Id + "\" tabindex=\"0\" title=\"not defined: " + Escape(v.Value.Reason) + "\">n/d</span>";
+        }
+
+        return "<span class=\"v\" data-v=\"" + v.Id + "\" tabindex=\"0\">" + Escape(context.Format.Format(v.Stat, v.Value.Value)) + "</span>";
+    }
+
+    public override string ToString() => sb.ToString();
+}
+
+/// <summary>A simple table: header cells (escaped text), rows of pre-built cell HTML.</summary>
+public sealed class HtmlTable(string cssClass, string caption, IReadOnlyList<string> headers)
+{
+    private readonly List<(string Head, IReadOnlyList<string> Cells, string? RowClass)> rows = [];
+
+    public void Row(string head, IReadOnlyList<string> cells, string? rowClass = null) => rows.Add((head, cells, rowClass));
+
+    public void WriteTo(HtmlWriter html)
+    {
+        html.Raw("<div class=\"table-wrap\"><table class=\"").Raw(cssClass).Raw("\"><caption>").Text(caption).Raw("</caption><thead><tr>");
+        foreach (var h in headers)
+        {
+            html.Raw("<th scope=\"col\">").Text(h).Raw("</th>");
+        }
+
+        html.Raw("</tr></thead><tbody>");
+        foreach (var (head, cells, rowClass) in rows)
+        {
+            html.Raw(rowClass is null ? "<tr>" : "<tr class=\"" + rowClass + "\">");
+            html.Raw("<th scope=\"row\">").Text(head).Raw("</th>");
+            foreach (var c in cells)
+            {
+                html.Raw("<td>").Raw(c).Raw("</td>");
+            }
+
+            html.Raw("</tr>");
+        }
+
+        html.Raw("</tbody></table></div>");
+    }
+}

@@ -1,0 +1,187 @@
+using System.Globalization;
+using System.Reflection;
+using System.Security.Cryptography;
+using System.Text;
+using Markdig;
+using Markdig.Renderers;
+using Markdig.Renderers.Html;
+using Scriban;
+using Scriban.Runtime;
+using StudyPress.Binding;
+using StudyPress.Data;
+using StudyPress.Evaluation;
+using StudyPress.Kinds;
+using StudyPress.Syntax;
+
+namespace StudyPress.Rendering;
+
+/// <summary>The report's page shell and assets, embedded from templates/ at build time.</summary>
+public static class ReportTemplate
+{
+    public const string Name = "report.sbn-html";
+
+    public static string Shell { get; } = Read(Name);
+
+    public static string Css { get; } = Read("report.css");
+
+    public static string Script { get; } = Read("report.js");
+
+    /// <summary>SHA-256 over the shell, stylesheet and script: what a report records as its template.</summary>
+    public static string Sha256 { get; } = Convert.ToHexStringLower(SHA256.HashData(Encoding.UTF8.GetBytes(Shell + "\0" + Css + "\0" + Script)));
+
+    private static readonly Lazy<Template> Parsed = new(() =>
+    {
+        var t = Template.Parse(Shell, Name);
+        if (t.HasErrors)
+        {
+            throw new InvalidOperationException("the embedded report template does not parse: " + string.Join("; ", t.Messages));
+        }
+
+        return t;
+    });
+
+    public static Template Template => Parsed.Value;
+
+    private static string Read(string name)
+    {
+        using var s = typeof(ReportTemplate).Assembly.GetManifestResourceStream("StudyPress.Templates." + name)
+            ?? throw new InvalidOperationException("missing embedded template " + name);
+        using var r = new StreamReader(s, Encoding.UTF8);
+        return r.ReadToEnd().Replace("\r\n", "\n", StringComparison.Ordinal);
+    }
+}
+
+/// <summary>
+/// Stage 4: prose through Markdig's HTML renderer (analysis blocks and references by our own
+/// renderers), the page shell through Scriban with strict variables, fed only pre-escaped
+/// fragments. User prose is never evaluated as a template.
+/// </summary>
+internal static class ReportRenderer
+{
+    public static string Render(
+        StudySyntax syntax,
+        StudyHeader header,
+        IReadOnlyDictionary<AnalysisBlockSyntax, BlockOutcome> outcomes,
+        IReadOnlyDictionary<ReferenceInline, ResultValue> references,
+        IReadOnlyList<LoadedDataset> inputs,
+        ManifestHeader identity,
+        byte[] manifest)
+    {
+        var context = new RenderContext(new NumberFormat(header.Report.Digits, header.Report.PDigits), header.Alpha);
+        var body = new StringWriter(CultureInfo.InvariantCulture);
+        var renderer = new HtmlRenderer(body);
+        StudyParser.Pipeline(syntax.Path).Setup(renderer);
+        renderer.ObjectRenderers.Insert(0, new AnalysisBlockRenderer(outcomes, context));
+        renderer.ObjectRenderers.Insert(0, new ReferenceRenderer(references, context));
+        renderer.Render(syntax.Document);
+        renderer.Writer.Flush();
+
+        var manifestText = Encoding.UTF8.GetString(manifest).TrimEnd('\n');
+        var css = ReportTemplate.Css;
+        var js = ReportTemplate.Script;
+        var csp = "default-src 'none'; style-src '" + Hash(css) + "'; script-src '" + Hash(js) + "'; img-src data:; font-src data:; base-uri 'none'; form-action 'none'";
+        var model = new ScriptObject
+        {
+            ["csp"] = csp,
+            ["tool_version"] = HtmlWriter.Escape(identity.ToolVersion),
+            ["title"] = HtmlWriter.Escape(header.Title),
+            ["authors"] = header.Authors.Count == 0 ? string.Empty : "<p class=\"study-authors\">" + HtmlWriter.Escape(string.Join(", ", header.Authors)) + "</p>",
+            ["study_id"] = HtmlWriter.Escape(header.Id),
+            ["study_path"] = HtmlWriter.Escape(identity.StudyPath),
+            ["study_sha"] = identity.StudySha256,
+            ["build_time"] = identity.BuildTime is null ? string.Empty : " on " + HtmlWriter.Escape(identity.BuildTime),
+            ["body"] = body.ToString(),
+            ["inputs"] = InputsTable(inputs),
+            ["caution"] = Caution(),
+            ["manifest"] = manifestText,
+            ["css"] = css,
+            ["js"] = js,
+        };
+        var tc = new TemplateContext { StrictVariables = true, EnableRelaxedMemberAccess = false };
+        tc.PushGlobal(model);
+        return ReportTemplate.Template.Render(tc);
+    }
+
+    private static string Hash(string inline) => "sha256-" + Convert.ToBase64String(SHA256.HashData(Encoding.UTF8.GetBytes(inline)));
+
+    private static string InputsTable(IReadOnlyList<LoadedDataset> inputs)
+    {
+        var html = new HtmlWriter();
+        html.Raw("<div class=\"table-wrap\"><table class=\"inputs\"><caption>Input files (the hashes identify the exact bytes analysed)</caption><thead><tr>")
+            .Raw("<th scope=\"col\">Dataset</th><th scope=\"col\">Path</th><th scope=\"col\">SHA-256</th><th scope=\"col\">Rows read</th><th scope=\"col\">Rows used</th></tr></thead><tbody>");
+        foreach (var d in inputs)
+        {
+            html.Raw("<tr><th scope=\"row\">").Text(d.Spec.Name).Raw("</th><td><code>").Text(d.Path).Raw("</code></td><td><code class=\"hash\">").Text(d.Sha256)
+                .Raw("</code></td><td>").Text(d.Rows.ToString(CultureInfo.InvariantCulture)).Raw("</td><td>").Text(d.RowsUsed.ToString(CultureInfo.InvariantCulture)).Raw("</td></tr>");
+        }
+
+        html.Raw("</tbody></table></div>");
+        var dropped = inputs.Where(d => d.RowsUsed < d.Rows).ToList();
+        foreach (var d in dropped)
+        {
+            html.Raw("<p class=\"method\">").Text(string.Create(CultureInfo.InvariantCulture, $"{d.Spec.Name}: {d.Rows - d.RowsUsed} row(s) were not used by any analysis (missing values, or outside every block's 'where' filter)."))
+                .Raw("</p>");
+        }
+
+        return html.ToString();
+    }
+
+    private static string Caution() =>
+        "<p>The tests and intervals here are computed from the data as given, under the assumptions each one states. "
+        + "They help weigh evidence; they do not replace judgement about the design, the measurements and what a difference means in your field. "
+        + "A small p-value is not a large or important effect, and a large p-value does not show that there is no effect.</p>"
+        + "<p>Where these results inform clinical, safety, environmental or regulatory decisions, follow that field's reporting standards and have the analysis reviewed by a qualified person.</p>";
+
+    private sealed class AnalysisBlockRenderer(IReadOnlyDictionary<AnalysisBlockSyntax, BlockOutcome> outcomes, RenderContext context)
+        : HtmlObjectRenderer<AnalysisBlockSyntax>
+    {
+        protected override void Write(HtmlRenderer renderer, AnalysisBlockSyntax obj)
+        {
+            if (!outcomes.TryGetValue(obj, out var outcome))
+            {
+                return;
+            }
+
+            var html = new HtmlWriter();
+            html.Raw("<section class=\"block block-").Raw(outcome.Block.Kind.Name).Raw("\" id=\"block-").Text(outcome.Block.Id).Raw("\">");
+            html.Raw("<p class=\"block-title\">").Text(outcome.Block.Kind.Name + " · " + outcome.Block.Id).Raw("</p>");
+            outcome.Block.Kind.Render(html, outcome, context);
+            if (outcome.Warnings.Count > 0)
+            {
+                html.Raw("<div class=\"warnings\">");
+                foreach (var w in outcome.Warnings)
+                {
+                    html.Raw("<p>").Text(w).Raw("</p>");
+                }
+
+                html.Raw("</div>");
+            }
+
+            if (outcome.Notes.Count > 0)
+            {
+                html.Raw("<div class=\"notes\">");
+                foreach (var n in outcome.Notes)
+                {
+                    html.Raw("<p>").Text(n).Raw("</p>");
+                }
+
+                html.Raw("</div>");
+            }
+
+            html.Raw("</section>\n");
+            renderer.Write(html.ToString());
+        }
+    }
+
+    private sealed class ReferenceRenderer(IReadOnlyDictionary<ReferenceInline, ResultValue> references, RenderContext context)
+        : HtmlObjectRenderer<ReferenceInline>
+    {
+        protected override void Write(HtmlRenderer renderer, ReferenceInline obj)
+        {
+            if (references.TryGetValue(obj, out var v))
+            {
+                renderer.Write(HtmlWriter.ValueHtml(v, context));
+            }
+        }
+    }
+}

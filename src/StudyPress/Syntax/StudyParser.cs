@@ -1,0 +1,161 @@
+using Markdig;
+using Markdig.Extensions.Yaml;
+using Markdig.Syntax;
+using StudyPress.Diagnostics;
+
+namespace StudyPress.Syntax;
+
+/// <summary>
+/// Stage 1: splits the header from the body, reads the header YAML with positions shifted to the
+/// study file, parses the body with one Markdig pipeline and recognises analysis blocks by the
+/// first word of a fenced block's info string.
+/// </summary>
+public static class StudyParser
+{
+    public static MarkdownPipeline Pipeline(string path) =>
+        new MarkdownPipelineBuilder()
+            .UseYamlFrontMatter()
+            .UsePipeTables()
+            .UsePreciseSourceLocation()
+            .DisableHtml()
+            .Use(new ReferenceExtension(path))
+            .Build();
+
+    public static StudySyntax? Parse(string path, string text, IReadOnlySet<string> kinds, DiagnosticBag diagnostics)
+    {
+        text = text.Replace("\r\n", "\n", StringComparison.Ordinal);
+        var lines = text.Split('\n');
+        if (lines.Length == 0 || lines[0].TrimEnd() != "---")
+        {
+            diagnostics.NoHeader(new SourceLocation(path, 0, 0));
+            return null;
+        }
+
+        var end = -1;
+        for (var i = 1; i < lines.Length; i++)
+        {
+            var t = lines[i].TrimEnd();
+            if (t is "---" or "...")
+            {
+                end = i;
+                break;
+            }
+        }
+
+        if (end < 0)
+        {
+            diagnostics.UnclosedHeader(new SourceLocation(path, 0, 0));
+            return null;
+        }
+
+        var headerText = string.Join('\n', lines[1..end]);
+        var headerLocation = new SourceLocation(path, 1, 0);
+        var headerNode = YamlReader.Read(headerText, path, 1, 0, diagnostics);
+        YMapping? header = null;
+        if (headerNode is YMapping m)
+        {
+            header = m;
+        }
+        else if (headerNode is not null)
+        {
+            diagnostics.ExpectedMapping(headerNode.Location, "the header");
+        }
+        else if (!diagnostics.HasErrors)
+        {
+            header = new YMapping([], headerLocation);
+        }
+
+        var document = Markdown.Parse(text, Pipeline(path));
+        var blocks = new List<AnalysisBlockSyntax>();
+        ReplaceAnalysisBlocks(document, path, lines, kinds, blocks, diagnostics);
+        var references = document.Descendants<ReferenceInline>().ToList();
+        foreach (var r in references.Where(r => !r.Closed))
+        {
+            diagnostics.UnclosedReference(r.Location);
+        }
+
+        return new StudySyntax(path, text, header, headerLocation, document, blocks, references);
+    }
+
+    private static void ReplaceAnalysisBlocks(ContainerBlock container, string path, string[] lines, IReadOnlySet<string> kinds, List<AnalysisBlockSyntax> found, DiagnosticBag diagnostics)
+    {
+        for (var i = 0; i < container.Count; i++)
+        {
+            var block = container[i];
+            if (block is ContainerBlock inner)
+            {
+                ReplaceAnalysisBlocks(inner, path, lines, kinds, found, diagnostics);
+                continue;
+            }
+
+            if (block is not FencedCodeBlock fenced || block is YamlFrontMatterBlock)
+            {
+                continue;
+            }
+
+            var kind = fenced.Info ?? string.Empty;
+            if (!kinds.Contains(kind))
+            {
+                continue;
+            }
+
+            var args = (fenced.Arguments ?? string.Empty).Trim();
+            var id = args.Length == 0 ? null : args.Split(' ', StringSplitOptions.RemoveEmptyEntries)[0];
+            var location = new SourceLocation(path, fenced.Line, fenced.Column);
+            var idColumn = id is null ? fenced.Column : IdColumn(lines[fenced.Line], kind, id, fenced.Column);
+            var bodyText = fenced.Lines.ToString();
+            YMapping? body = null;
+            if (bodyText.Trim().Length > 0)
+            {
+                var node = YamlReader.Read(bodyText, path, fenced.Line + 1, 0, diagnostics);
+                if (node is YMapping bm)
+                {
+                    body = bm;
+                }
+                else if (node is YScalar { IsNull: true })
+                {
+                    body = new YMapping([], location);
+                }
+                else if (node is not null)
+                {
+                    diagnostics.ExpectedMapping(node.Location, $"the body of the {kind} block");
+                }
+            }
+            else
+            {
+                body = new YMapping([], location);
+            }
+
+            var replacement = new AnalysisBlockSyntax(kind, id, body, location, new SourceLocation(path, fenced.Line, idColumn))
+            {
+                Line = fenced.Line,
+                Column = fenced.Column,
+                Span = fenced.Span,
+            };
+            container[i] = replacement;
+            found.Add(replacement);
+        }
+    }
+
+    private static int IdColumn(string infoLine, string kind, string id, int fallback)
+    {
+        var k = infoLine.IndexOf(kind, StringComparison.Ordinal);
+        var at = k < 0 ? -1 : infoLine.IndexOf(id, k + kind.Length, StringComparison.Ordinal);
+        return at < 0 ? fallback : at;
+    }
+}
+
+internal sealed class ReferenceExtension(string path) : IMarkdownExtension
+{
+    public void Setup(MarkdownPipelineBuilder pipeline)
+    {
+        if (!pipeline.InlineParsers.Contains<ReferenceInlineParser>())
+        {
+            pipeline.InlineParsers.Insert(0, new ReferenceInlineParser(path));
+        }
+    }
+
+    public void Setup(MarkdownPipeline pipeline, Markdig.Renderers.IMarkdownRenderer renderer)
+    {
+    }
+}

@@ -1,0 +1,63 @@
+(function () {
+  "use strict";
+  var source = document.getElementById("study-results");
+  var panel = document.getElementById("trace");
+  if (!source || !panel) { return; }
+  var manifest = JSON.parse(source.textContent);
+  var byId = {};
+  manifest.values.forEach(function (v) { byId[v.id] = v; });
+  var inputs = {};
+  manifest.inputs.forEach(function (i) { inputs[i.name] = i; });
+  var pinned = null;
+
+  function row(dl, name, value) {
+    var dt = document.createElement("dt");
+    dt.textContent = name;
+    var dd = document.createElement("dd");
+    dd.textContent = value;
+    dl.appendChild(dt);
+    dl.appendChild(dd);
+  }
+
+  function show(el) {
+    var v = byId[el.getAttribute("data-v")];
+    if (!v) { return; }
+    panel.textContent = "";
+    var dl = document.createElement("dl");
+    row(dl, "block", v.block);
+    row(dl, "test", v.test);
+    if (v.term !== null) { row(dl, "term", v.term); }
+    if (v.level !== null) { row(dl, "level", v.level); }
+    if (v.pair !== null) { row(dl, "pair", v.pair.join(" vs ")); }
+    row(dl, "statistic", v.stat);
+    row(dl, "value", v.value === null ? "not defined: " + v.reason : String(v.value));
+    v.inputs.forEach(function (name) {
+      var i = inputs[name];
+      if (i) {
+        row(dl, "input", name + " (" + i.path + ")");
+        row(dl, "SHA-256", i.sha256);
+      }
+    });
+    row(dl, "manifest id", v.id);
+    panel.appendChild(dl);
+    panel.hidden = false;
+  }
+
+  function hide() {
+    if (pinned === null) { panel.hidden = true; }
+  }
+
+  document.querySelectorAll("[data-v]").forEach(function (el) {
+    el.addEventListener("mouseenter", function () { show(el); });
+    el.addEventListener("mouseleave", hide);
+    el.addEventListener("focus", function () { show(el); });
+    el.addEventListener("blur", hide);
+    el.addEventListener("click", function () {
+      pinned = pinned === el ? null : el;
+      show(el);
+    });
+  });
+  document.addEventListener("keydown", function (e) {
+    if (e.key === "Escape") { pinned = null; panel.hidden = true; }
+  });
+})();
