@@ -291,13 +291,21 @@ public sealed class DurbinWatsonNullDistribution
     private readonly double betaA;
     private readonly double betaB;
 
-    private DurbinWatsonNullDistribution(double[]? nu, double a, double b, string method)
+    private DurbinWatsonNullDistribution(double[]? nu, double a, double b, double mean, double variance, string method)
     {
         this.nu = nu;
         betaA = a;
         betaB = b;
+        Mean = mean;
+        Variance = variance;
         Method = method;
     }
+
+    /// <summary>E(d) under the null hypothesis (exact for both methods).</summary>
+    public double Mean { get; }
+
+    /// <summary>Var(d) under the null hypothesis (exact for both methods).</summary>
+    public double Variance { get; }
 
     /// <summary>Which method this distribution uses, in words suitable for a report.</summary>
     public string Method { get; }
@@ -330,10 +338,17 @@ public sealed class DurbinWatsonNullDistribution
             throw new ArgumentException("the eigenvalues are all equal, so the ratio does not vary", nameof(eigenvalues));
         }
 
+        // E d = sum ν / m, Var d = 2 (m sum ν² - (sum ν)²) / (m² (m + 2)), with ν centred for accuracy.
+        var m = v.Length;
+        var mean = v.Average();
+        var centred = v.Sum(e => (e - mean) * (e - mean));
+        var variance = 2.0 * centred / (m * (m + 2.0));
         return new DurbinWatsonNullDistribution(
             v,
             0,
             0,
+            mean,
+            variance,
             "exact distribution (Imhof 1961 numerical inversion over the nonzero eigenvalues of MAM)");
     }
 
@@ -346,6 +361,8 @@ public sealed class DurbinWatsonNullDistribution
             null,
             mu * sum,
             (1 - mu) * sum,
+            mean,
+            variance,
             "beta approximation on [0, 4] with the exact mean and variance of d (Durbin and Watson 1971)");
     }
 
