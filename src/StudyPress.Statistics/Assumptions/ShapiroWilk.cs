@@ -88,7 +88,14 @@ public static class ShapiroWilk
 
         var half = Coefficients(n);
 
-        // Centred, unit-length sorted sample u; b = a·u; 1 - W = ||u - b a||².
+        // Centred, unit-length sorted sample u; b = a·u; 1 - W = ||u - b a||². The values are first
+        // divided by the largest magnitude so that squares neither overflow nor underflow.
+        var big = Math.Max(Math.Abs(sorted[0]), Math.Abs(sorted[n - 1]));
+        for (var i = 0; i < n; i++)
+        {
+            sorted[i] /= big;
+        }
+
         var mean = Groups.Mean(sorted);
         var ss = Groups.SumOfSquares(sorted, mean);
         if (!(ss > 0))

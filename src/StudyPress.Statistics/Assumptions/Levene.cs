@@ -1,14 +1,14 @@
 namespace StudyPress.Statistics.Assumptions;
 
 /// <summary>
-/// Result of a test of equal variances that is a one-way ANOVA F on absolute deviations
-/// (<see cref="Levene"/>, <see cref="BrownForsythe"/>).
+/// Result of a Levene-type test of equal variances, a one-way ANOVA F on absolute deviations
+/// (shared by <see cref="Levene"/> and <see cref="BrownForsythe"/>).
 /// </summary>
 /// <param name="F">The statistic (the ANOVA F on the absolute deviations).</param>
 /// <param name="Df1">Numerator degrees of freedom, k - 1.</param>
 /// <param name="Df2">Denominator degrees of freedom, N - k.</param>
 /// <param name="P">Upper-tail probability P(F(Df1, Df2) &gt;= F).</param>
-public sealed record DeviationFTestResult(Quantity F, int Df1, int Df2, Quantity P);
+public sealed record LeveneResult(Quantity F, int Df1, int Df2, Quantity P);
 
 /// <summary>
 /// Shared computation of Levene-type tests: the one-way ANOVA F statistic on
@@ -16,7 +16,7 @@ public sealed record DeviationFTestResult(Quantity F, int Df1, int Df2, Quantity
 /// </summary>
 internal static class DeviationFTest
 {
-    public static DeviationFTestResult Compute(IReadOnlyList<double[]> groups, Func<double[], double> centre)
+    public static LeveneResult Compute(IReadOnlyList<double[]> groups, Func<double[], double> centre)
     {
         Groups.RequireGroups(groups);
         var k = groups.Count;
@@ -26,7 +26,7 @@ internal static class DeviationFTest
         if (df2 < 1)
         {
             var u = Quantity.Undefined("every group has a single observation, so there is no within-group variability to compare");
-            return new DeviationFTestResult(u, df1, df2, u);
+            return new LeveneResult(u, df1, df2, u);
         }
 
         var z = new double[k][];
@@ -54,11 +54,11 @@ internal static class DeviationFTest
         if (!(within > 0))
         {
             var u = Quantity.Undefined("the absolute deviations do not vary within any group, so the F ratio is not defined");
-            return new DeviationFTestResult(u, df1, df2, u);
+            return new LeveneResult(u, df1, df2, u);
         }
 
         var f = between / df1 / (within / df2);
-        return new DeviationFTestResult(Quantity.Of(f), df1, df2, Quantity.Of(Probability.FUpper(f, df1, df2)));
+        return new LeveneResult(Quantity.Of(f), df1, df2, Quantity.Of(Probability.FUpper(f, df1, df2)));
     }
 
     /// <summary>Sample median (average of the two middle values for an even count).</summary>
@@ -83,7 +83,7 @@ internal static class DeviationFTest
 /// </summary>
 public static class Levene
 {
-    public static DeviationFTestResult Test(IReadOnlyList<double[]> groups) =>
+    public static LeveneResult Test(IReadOnlyList<double[]> groups) =>
         DeviationFTest.Compute(groups, g => Groups.Mean(g));
 }
 
@@ -98,6 +98,6 @@ public static class Levene
 /// </summary>
 public static class BrownForsythe
 {
-    public static DeviationFTestResult Test(IReadOnlyList<double[]> groups) =>
+    public static LeveneResult Test(IReadOnlyList<double[]> groups) =>
         DeviationFTest.Compute(groups, DeviationFTest.Median);
 }
