@@ -1,0 +1,103 @@
+namespace StudyPress.Statistics.Assumptions;
+
+/// <summary>
+/// Result of a Levene-type test of equal variances, a one-way ANOVA F on absolute deviations
+/// (shared by <see cref="Levene"/> and <see cref="BrownForsythe"/>).
+/// </summary>
+/// <param name="F">The statistic (the ANOVA F on the absolute deviations).</param>
+/// <param name="Df1">Numerator degrees of freedom, k - 1.</param>
+/// <param name="Df2">Denominator degrees of freedom, N - k.</param>
+/// <param name="P">Upper-tail probability P(F(Df1, Df2) &gt;= F).</param>
+public sealed record LeveneResult(Quantity F, int Df1, int Df2, Quantity P);
+
+/// <summary>
+/// Shared computation of Levene-type tests: the one-way ANOVA F statistic on
+/// z_ij = |y_ij - c_i|, where c_i is a centre of group i (its mean or its median).
+/// </summary>
+internal static class DeviationFTest
+{
+    public static LeveneResult Compute(IReadOnlyList<double[]> groups, Func<double[], double> centre)
+    {
+        Groups.RequireGroups(groups);
+        var k = groups.Count;
+        var n = Groups.Count(groups);
+        var df1 = k - 1;
+        var df2 = n - k;
+        if (df2 < 1)
+        {
+            var u = Quantity.Undefined("every group has a single observation, so there is no within-group variability to compare");
+            return new LeveneResult(u, df1, df2, u);
+        }
+
+        var z = new double[k][];
+        for (var g = 0; g < k; g++)
+        {
+            var c = centre(groups[g]);
+            z[g] = new double[groups[g].Length];
+            for (var j = 0; j < groups[g].Length; j++)
+            {
+                z[g][j] = Math.Abs(groups[g][j] - c);
+            }
+        }
+
+        var all = z.SelectMany(v => v).ToArray();
+        var grand = Groups.Mean(all);
+        double between = 0, within = 0;
+        for (var g = 0; g < k; g++)
+        {
+            var m = Groups.Mean(z[g]);
+            within += Groups.SumOfSquares(z[g], m);
+            var d = m - grand;
+            between += z[g].Length * d * d;
+        }
+
+        if (!(within > 0))
+        {
+            var u = Quantity.Undefined("the absolute deviations do not vary within any group, so the F ratio is not defined");
+            return new LeveneResult(u, df1, df2, u);
+        }
+
+        var f = between / df1 / (within / df2);
+        return new LeveneResult(Quantity.Of(f), df1, df2, Quantity.Of(Probability.FUpper(f, df1, df2)));
+    }
+
+    /// <summary>Sample median (average of the two middle values for an even count).</summary>
+    public static double Median(double[] x)
+    {
+        var s = (double[])x.Clone();
+        Array.Sort(s);
+        var h = s.Length / 2;
+        return s.Length % 2 == 1 ? s[h] : 0.5 * (s[h - 1] + s[h]);
+    }
+}
+
+/// <summary>
+/// Levene's test of equal variances with deviations from the group means:
+/// z_ij = |y_ij - ȳ_i|, F = [sum n_i (z̄_i - z̄)² / (k - 1)] / [sum (z_ij - z̄_i)² / (N - k)],
+/// referred to F(k - 1, N - k).
+/// Source: Levene, H. (1960), Robust tests for equality of variances, in Olkin (ed.), Contributions to
+/// Probability and Statistics, 278-292; NIST/SEMATECH e-Handbook of Statistical Methods, section 1.3.5.10.
+/// Domain: at least two groups (fewer, or an empty group, is a programming error and throws); at least
+/// one group with two or more observations (N &gt; k), and the deviations must vary within some group;
+/// otherwise F and p are undefined with a reason. A group of one contributes z = 0.
+/// </summary>
+public static class Levene
+{
+    public static LeveneResult Test(IReadOnlyList<double[]> groups) =>
+        DeviationFTest.Compute(groups, g => Groups.Mean(g));
+}
+
+/// <summary>
+/// Brown-Forsythe test of equal variances (Levene's test with deviations from the group medians):
+/// z_ij = |y_ij - median_i|, then the one-way ANOVA F on z as in <see cref="Levene"/>, referred to
+/// F(k - 1, N - k). More robust than the mean-centred version for skewed data.
+/// Source: Brown, M. B. and Forsythe, A. B. (1974), Robust tests for the equality of variances,
+/// Journal of the American Statistical Association 69, 364-367; NIST/SEMATECH e-Handbook of
+/// Statistical Methods, section 1.3.5.10 (which calls this statistic Levene's W).
+/// Domain and edge cases as for <see cref="Levene"/>.
+/// </summary>
+public static class BrownForsythe
+{
+    public static LeveneResult Test(IReadOnlyList<double[]> groups) =>
+        DeviationFTest.Compute(groups, DeviationFTest.Median);
+}

@@ -1,0 +1,150 @@
+using StudyPress.Statistics.Assumptions;
+using StudyPress.Statistics.Tests.Support;
+
+namespace StudyPress.Statistics.Tests.Assumptions;
+
+public class VarianceHomogeneityTests
+{
+    private const string Folder = "nist-ehandbook";
+    private const string LeveneFile = "eda35a-levene-gear.expected.json";
+    private const string BartlettFile = "eda357-bartlett-gear.expected.json";
+
+    // Source: NIST/SEMATECH e-Handbook 1.3.5.10 (GEAR data), median-centred Levene W = 1.705910,
+    // df 9 and 90; relative 1e-5 (reference README), i.e. LRE >= 5.
+    [Fact]
+    public void BrownForsythe_NistGear_MatchesPublishedW()
+    {
+        var published = AssumptionsData.JsonNumber(Folder, LeveneFile, "published", "W");
+        var r = BrownForsythe.Test(AssumptionsData.Gear());
+        Accuracy.AssertLre(r.F.Value, published, 5, "Brown-Forsythe W");
+        Assert.Equal(9, r.Df1);
+        Assert.Equal(90, r.Df2);
+
+        // Published conclusion: W below the 5 % critical value 1.9855, so H0 is not rejected.
+        Assert.True(r.P.Value > 0.05);
+    }
+
+    // Exact recomputation for the reference collection (not published): W = 1.705917693, p = 0.099083.
+    [Fact]
+    public void BrownForsythe_NistGear_MatchesExactRecomputation()
+    {
+        var w = AssumptionsData.JsonNumber(Folder, LeveneFile, "exact_recomputation", "W_median_centred");
+        var p = AssumptionsData.JsonNumber(Folder, LeveneFile, "exact_recomputation", "p_value");
+        var r = BrownForsythe.Test(AssumptionsData.Gear());
+        Accuracy.AssertLre(r.F.Value, w, 9, "Brown-Forsythe W");
+        Accuracy.AssertLre(r.P.Value, p, 4.5, "Brown-Forsythe p (6 digits printed)");
+    }
+
+    // Exact recomputation for the reference collection (not published by NIST): mean-centred W = 2.15945985647.
+    [Fact]
+    public void Levene_NistGear_MatchesExactRecomputationOfMeanCentredW()
+    {
+        var w = AssumptionsData.JsonNumber(Folder, LeveneFile, "exact_recomputation", "W_mean_centred_not_published_by_NIST");
+        var r = Levene.Test(AssumptionsData.Gear());
+        Accuracy.AssertLre(r.F.Value, w, 10, "Levene W (mean-centred)");
+        Assert.Equal(9, r.Df1);
+        Assert.Equal(90, r.Df2);
+        Assert.Equal(Probability.FUpper(r.F.Value, 9, 90), r.P.Value, 15);
+    }
+
+    // Source: NIST/SEMATECH e-Handbook 1.3.5.7 (GEAR data), T = 20.78580, df 9; relative 1e-5.
+    [Fact]
+    public void Bartlett_NistGear_MatchesPublishedT()
+    {
+        var published = AssumptionsData.JsonNumber(Folder, BartlettFile, "published", "T");
+        var critical = AssumptionsData.JsonNumber(Folder, BartlettFile, "published", "critical_value_chi2_0.95_9");
+        var r = Bartlett.Test(AssumptionsData.Gear());
+        Accuracy.AssertLre(r.Statistic.Value, published, 5, "Bartlett T");
+        Assert.Equal(9, r.Df);
+        Assert.True(r.Statistic.Value > critical, "published conclusion: reject at 5 %");
+    }
+
+    // Exact recomputation for the reference collection (not published): T = 20.7858734281, p = 0.0136359.
+    [Fact]
+    public void Bartlett_NistGear_MatchesExactRecomputation()
+    {
+        var t = AssumptionsData.JsonNumber(Folder, BartlettFile, "exact_recomputation", "T");
+        var p = AssumptionsData.JsonNumber(Folder, BartlettFile, "exact_recomputation", "p_value");
+        var r = Bartlett.Test(AssumptionsData.Gear());
+        Accuracy.AssertLre(r.Statistic.Value, t, 10, "Bartlett T");
+        Accuracy.AssertLre(r.P.Value, p, 5, "Bartlett p (6 digits printed)");
+    }
+
+    [Theory]
+    [InlineData(-1.0, 1.0)]
+    [InlineData(1e4, 1.0)]
+    [InlineData(0.0, 1e3)]
+    [InlineData(5.0, -0.01)]
+    public void VarianceTests_NistGearShiftedAndScaled_StatisticsUnchanged(double shift, double scale)
+    {
+        var gear = AssumptionsData.Gear();
+        var moved = gear.Select(g => g.Select(v => shift + (scale * v)).ToArray()).ToList();
+        Assert.Equal(1.0, Levene.Test(moved).F.Value / Levene.Test(gear).F.Value, 9);
+        Assert.Equal(1.0, BrownForsythe.Test(moved).F.Value / BrownForsythe.Test(gear).F.Value, 9);
+        Assert.Equal(1.0, Bartlett.Test(moved).Statistic.Value / Bartlett.Test(gear).Statistic.Value, 9);
+    }
+
+    [Fact]
+    public void VarianceTests_GroupsRelabelled_StatisticsUnchanged()
+    {
+        var gear = AssumptionsData.Gear();
+        var reversed = Enumerable.Reverse(gear).Select(g => g.Reverse().ToArray()).ToList();
+        Assert.Equal(Levene.Test(gear).F.Value, Levene.Test(reversed).F.Value, 10);
+        Assert.Equal(BrownForsythe.Test(gear).F.Value, BrownForsythe.Test(reversed).F.Value, 10);
+        Assert.Equal(Bartlett.Test(gear).Statistic.Value, Bartlett.Test(reversed).Statistic.Value, 10);
+    }
+
+    [Fact]
+    public void Bartlett_GroupWithZeroVariance_Undefined()
+    {
+        var r = Bartlett.Test([[1.0, 2.0, 3.0], [5.0, 5.0, 5.0]]);
+        Assert.False(r.Statistic.IsDefined);
+        Assert.False(r.P.IsDefined);
+        Assert.Contains("zero variance", r.Statistic.Reason, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void Bartlett_GroupOfOne_Undefined()
+    {
+        var r = Bartlett.Test([[1.0, 2.0, 3.0], [5.0]]);
+        Assert.False(r.Statistic.IsDefined);
+        Assert.Contains("two observations", r.Statistic.Reason, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void Levene_AllGroupsOfOne_Undefined()
+    {
+        var r = Levene.Test([[1.0], [2.0], [4.0]]);
+        Assert.False(r.F.IsDefined);
+        Assert.False(r.P.IsDefined);
+        Assert.Equal(0, r.Df2);
+    }
+
+    // Hand computation: {1, 3, 4} has mean 8/3 and deviations 5/3, 1/3, 4/3 (mean 10/9); the single
+    // value contributes z = 0. SS_between = 3 (10/9 - 5/6)² + (0 - 5/6)² = 0.9259..., SS_within = 26/27,
+    // F = SS_between / (SS_within / 2).
+    [Fact]
+    public void Levene_GroupOfOneBesideLargerGroup_DefinedHandComputed()
+    {
+        var r = Levene.Test([[1.0, 3.0, 4.0], [5.0]]);
+        var between = (3 * Math.Pow((10.0 / 9) - (5.0 / 6), 2)) + Math.Pow(5.0 / 6, 2);
+        var within = 26.0 / 27;
+        Assert.Equal(1, r.Df1);
+        Assert.Equal(2, r.Df2);
+        Assert.Equal(between / (within / 2), r.F.Value, 12);
+    }
+
+    [Fact]
+    public void BrownForsythe_DeviationsConstantWithinGroups_Undefined()
+    {
+        var r = BrownForsythe.Test([[-1.0, 1.0], [-2.0, 2.0]]);
+        Assert.False(r.F.IsDefined);
+        Assert.Contains("do not vary", r.F.Reason, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void Levene_OneGroup_Throws()
+    {
+        Assert.Throws<ArgumentException>(() => Levene.Test([[1.0, 2.0]]));
+    }
+}
