@@ -28,8 +28,10 @@ namespace StudyPress.Statistics.PostHoc;
 /// from the upper-tail probabilities q_i, so small p-values keep their relative accuracy. Both
 /// integrals use composite 10-point Gauss-Legendre rules: x over [0, L] (the integrand is even
 /// in x) in panels no wider than min(1, r_min), and s over 1 ± 14/sqrt(2ν) (clipped at 0) in
-/// panels half of 1/sqrt(2ν) wide (about the standard deviation of s), finer near 0 for large c.
-/// The critical value c solves P(max |t_i| &gt;= c) = alpha by Brent's method between the
+/// panels 1/sqrt(2ν) wide (about the standard deviation of s), finer near 0 for large c.
+/// Accuracy: with one comparison the result equals the two-sided t p-value to 12 or more digits
+/// for ν from 1 to 1000 and p down to 1e-30 (tests); for p far below that with large ν the
+/// truncated range of s understates p (irrelevant for reporting). The critical value c solves P(max |t_i| &gt;= c) = alpha by Brent's method between the
 /// unadjusted and the Bonferroni t quantiles, which bracket it.
 /// </para>
 /// <para>
@@ -124,11 +126,15 @@ public static class Dunnett
             return 0.0;
         }
 
-        var lam = lambdas.ToArray();
+        // Equal lambdas (equal group sizes) give equal factors of the product: evaluate each
+        // distinct lambda once and weight its log by its multiplicity.
+        var distinct = lambdas.GroupBy(l => l).Select(g => (Lambda: g.Key, Count: g.Count())).ToArray();
+        var lam = distinct.Select(d => d.Lambda).ToArray();
+        var mult = distinct.Select(d => (double)d.Count).ToArray();
         var r = lam.Select(l => Math.Sqrt((1.0 - l) * (1.0 + l))).ToArray();
         if (double.IsPositiveInfinity(df))
         {
-            return Math.Min(1.0, NormalPart(c, lam, r));
+            return Math.Min(1.0, NormalPart(c, lam, mult, r));
         }
 
         // Outer integral over s ~ chi_ν / sqrt(ν). Its standard deviation is about 1/sqrt(2ν); the
@@ -139,10 +145,10 @@ public static class Dunnett
         var lo = Math.Max(0.0, 1.0 - (14.0 * sd));
         var hi = 1.0 + (14.0 * sd);
 
-        // Panels about half a standard deviation of s wide; finer (1/(2c)) where c s < 12, since
+        // Panels about one standard deviation of s wide; finer (1/(2c)) where c s < 12, since
         // for small ν and large c the mass of the integrand sits at small s, where P(max |Z| >= c s)
         // still changes quickly.
-        var coarse = sd / 2.0;
+        var coarse = sd;
         var fine = Math.Min(coarse, 0.5 / c);
         var edge = Math.Min(hi, Math.Max(lo, 12.0 / c));
         var edges = new List<double>();
@@ -179,7 +185,7 @@ public static class Dunnett
             }
 
             den += w;
-            num += w * NormalPart(c * nodes[i], lam, r);
+            num += w * NormalPart(c * nodes[i], lam, mult, r);
         }
 
         return Math.Min(1.0, num / den);
@@ -248,7 +254,7 @@ public static class Dunnett
     /// x = λ_max h + 9 the normal density is below 1e-18 of its peak relative to where the mass
     /// lies; L is capped at 40 (φ(40) underflows).
     /// </summary>
-    private static double NormalPart(double h, double[] lam, double[] r)
+    private static double NormalPart(double h, double[] lam, double[] mult, double[] r)
     {
         var lmax = lam.Max();
         var rmin = r.Min();
@@ -268,7 +274,7 @@ public static class Dunnett
                 for (var i = 0; i < lam.Length; i++)
                 {
                     var q = UpperNormal((h - (lam[i] * x)) / r[i]) + UpperNormal((h + (lam[i] * x)) / r[i]);
-                    logKeep += q >= 1.0 ? double.NegativeInfinity : ExpLog.Log1p(-q);
+                    logKeep += q >= 1.0 ? double.NegativeInfinity : mult[i] * ExpLog.Log1p(-q);
                 }
 
                 var tail = -ExpLog.Expm1(logKeep);
