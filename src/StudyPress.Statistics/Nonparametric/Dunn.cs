@@ -37,16 +37,7 @@ public static class Dunn
     {
         ArgumentNullException.ThrowIfNull(levels);
         ArgumentNullException.ThrowIfNull(groups);
-        if (levels.Count != groups.Count)
-        {
-            throw new ArgumentException("levels and groups differ in number", nameof(levels));
-        }
-
-        Groups.RequireGroups(groups);
-        if (!(alpha > 0 && alpha < 1))
-        {
-            throw new ArgumentOutOfRangeException(nameof(alpha), "alpha must lie in (0, 1)");
-        }
+        PostHocInput.Validate(levels, groups, alpha);
 
         var (ranks, tieSum) = Ranking.MidRanks(groups);
         var meanRanks = ranks.Select(r => r.Sum() / r.Length).ToArray();
@@ -59,14 +50,7 @@ public static class Dunn
         var k = levels.Count;
         var m = k * (k - 1) / 2;
         var critical = Quantity.Of(-MathNet.Numerics.Distributions.Normal.InvCDF(0, 1, alpha / (2.0 * m)));
-        var pairs = new List<(int A, int B)>();
-        for (var i = 0; i < k; i++)
-        {
-            for (var j = i + 1; j < k; j++)
-            {
-                pairs.Add((i, j));
-            }
-        }
+        var pairs = PostHocInput.Pairs(levels, control: null);
 
         var se = new Quantity[m];
         var z = new Quantity[m];
