@@ -15,7 +15,7 @@ namespace StudyPress.Statistics.PostHoc;
 /// </para>
 /// <para>
 /// This product structure lets Z_i = λ_i X + sqrt(1 - λ_i²) Y_i with X, Y_1..Y_m independent
-/// standard normals (Dunnett 1955, section 3; Hochberg and Tamhane 1987, chapter 3, section 2), so
+/// standard normals (Dunnett 1955; Hochberg and Tamhane 1987, on the product correlation structure), so
 /// with s ~ chi_ν / sqrt(ν) independent of Z:
 /// </para>
 /// <code>
@@ -31,8 +31,9 @@ namespace StudyPress.Statistics.PostHoc;
 /// panels 1/sqrt(2ν) wide (about the standard deviation of s), finer near 0 for large c.
 /// Accuracy: with one comparison the result equals the two-sided t p-value to 12 or more digits
 /// for ν from 1 to 1000 and p down to 1e-30 (tests); for p far below that with large ν the
-/// truncated range of s understates p (irrelevant for reporting). The critical value c solves P(max |t_i| &gt;= c) = alpha by Brent's method between the
-/// unadjusted and the Bonferroni t quantiles, which bracket it.
+/// truncated range of s understates p (irrelevant for reporting). The critical value c solves
+/// P(max |t_i| &gt;= c) = alpha by Brent's method between the unadjusted and the Bonferroni t
+/// quantiles, which bracket it.
 /// </para>
 /// <para>
 /// Adjusted p-value of comparison i: P(max_j |t_j| &gt;= |t_i|) (single step). Intervals:
