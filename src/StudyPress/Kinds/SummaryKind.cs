@@ -139,15 +139,13 @@ public sealed class SummaryKind : BlockKind
             return;
         }
 
-        var level = 100 * (1 - context.Alpha);
-        var ci = context.Format.General(level) + "% CI";
-        string[] headers = ["Group", "n", "missing", "mean", "SD", "SE", ci + " low", ci + " high", "median", "Q1", "Q3", "min", "max"];
-        string[] stats = ["n", "missing", "mean", "sd", "se", "ci_low", "ci_high", "median", "q1", "q3", "min", "max"];
+        string[] headers = ["Group", "n", "missing", "mean", "SD", "SE", context.ConfidenceText + "% CI of mean", "median", "Q1 – Q3", "min – max"];
         var caption = o.Block.Caption ?? $"Summary of {o.ResponseName}" + (o.Term.Length > 0 ? $" by {o.Term.Replace(":", " and ", StringComparison.Ordinal)}" : string.Empty);
         var table = new HtmlTable("summary", caption, headers);
         foreach (var (label, _, values) in o.Groups)
         {
-            table.Row(label, [.. stats.Select(s => HtmlWriter.ValueHtml(values[s], context))]);
+            string V(string stat) => HtmlWriter.ValueHtml(values[stat], context);
+            table.Row(label, [V("n"), V("missing"), V("mean"), V("sd"), V("se"), V("ci_low") + " – " + V("ci_high"), V("median"), V("q1") + " – " + V("q3"), V("min") + " – " + V("max")]);
         }
 
         table.WriteTo(html);

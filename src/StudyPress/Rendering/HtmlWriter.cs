@@ -11,7 +11,10 @@ public sealed class RenderContext(NumberFormat format, double alpha)
 
     public double Alpha { get; } = alpha;
 
-    public string AlphaText => Format.General(Alpha);
+    public string AlphaText => Alpha.ToString("R", System.Globalization.CultureInfo.InvariantCulture);
+
+    /// <summary>The confidence level that goes with alpha, as a percentage ("95").</summary>
+    public string ConfidenceText => Math.Round(100 * (1 - Alpha), 10).ToString("R", System.Globalization.CultureInfo.InvariantCulture);
 }
 
 /// <summary>
