@@ -220,6 +220,11 @@ internal sealed class DesignCoding
             throw new ArgumentException("at least one factor is needed", nameof(input));
         }
 
+        if (input.Response.Length == 0)
+        {
+            throw new ArgumentException("the response is empty", nameof(input));
+        }
+
         foreach (var f in input.Factors)
         {
             if (f.Codes.Length != input.Response.Length)
