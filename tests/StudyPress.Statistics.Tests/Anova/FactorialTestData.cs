@@ -46,7 +46,7 @@ internal static class FactorialTestData
 
     /// <summary>
     /// A deterministic unbalanced subset of JAHANMI2: every row is kept except some rows of chosen
-    /// cells of (table speed, batch), so that the cell counts differ strongly (120, 70, 95, 40).
+    /// cells of (table speed, batch), so that the cell counts differ strongly (120, 84, 90, 40).
     /// </summary>
     public static bool UnbalancedRow(int i)
     {
