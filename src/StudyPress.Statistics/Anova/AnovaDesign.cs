@@ -98,9 +98,14 @@ public static class AnovaDesign
     /// null when the design is fine. A main-effects model with empty cells is allowed when it is
     /// still full rank.
     /// </summary>
-    public static DesignProblem? Check(AnovaInput input)
+    public static DesignProblem? Check(AnovaInput input) => Check(input, out _, out _);
+
+    /// <summary>The check, handing back the coding and its QR when the design is fine (reused by the fit).</summary>
+    internal static DesignProblem? Check(AnovaInput input, out DesignCoding? fittedCoding, out HouseholderQr? fittedQr)
     {
         ArgumentNullException.ThrowIfNull(input);
+        fittedCoding = null;
+        fittedQr = null;
         DesignCoding.Validate(input);
         var used = DesignCoding.UsedLevels(input);
         for (var f = 0; f < used.Length; f++)
@@ -149,6 +154,8 @@ public static class AnovaDesign
                 t < 0 ? null : coding.TermNames[t]);
         }
 
+        fittedCoding = coding;
+        fittedQr = qr;
         return null;
     }
 
@@ -407,20 +414,33 @@ internal sealed class DesignCoding
         for (var t = 0; t < terms.Count; t++)
         {
             var term = terms[t];
-            var radix = term.Select(f => used[f].Length - 1).ToArray();
             var j = start[t];
-            foreach (var combo in Crossing(radix))
+
+            // Product of the factors' effect-coded columns, first factor varying slowest. A factor at
+            // its last used level contributes -1 to each of its columns; at used level u < last it
+            // contributes 1 to column u and 0 elsewhere. So the row is non-zero only on the columns
+            // picked per factor (all columns when at the last level, else column u).
+            var count = 1;
+            var stride = new int[term.Length];
+            for (var q = term.Length - 1; q >= 0; q--)
+            {
+                stride[q] = count;
+                count *= used[term[q]].Length - 1;
+            }
+
+            for (var c = 0; c < count; c++)
             {
                 double v = 1;
-                for (var q = 0; q < term.Length; q++)
+                for (var q = 0; q < term.Length && v != 0; q++)
                 {
                     var f = term[q];
                     var last = used[f].Length - 1;
+                    var combo = c / stride[q] % last;
                     var u = levels[f];
-                    v *= u == combo[q] ? 1.0 : u == last ? -1.0 : 0.0;
+                    v *= u == combo ? 1.0 : u == last ? -1.0 : 0.0;
                 }
 
-                row[j++] = v;
+                row[j + c] = v;
             }
         }
     }

@@ -43,12 +43,11 @@ public static class AnovaMeans
         var n = y.Length;
         var k = input.Factors.Count;
         var grand = n > 0 ? Groups.Mean(y) : double.NaN;
-        var problem = AnovaDesign.Check(input);
-        var coding = DesignCoding.Build(input);
+        var problem = AnovaDesign.Check(input, out var checkedCoding, out var qr);
+        var coding = checkedCoding ?? DesignCoding.Build(input);
         double[]? b = null;
-        if (problem is null)
+        if (problem is null && qr is not null)
         {
-            var qr = HouseholderQr.Factor(coding.Matrix, coding.AllColumns);
             b = qr.Coefficients(qr.Effects(y));
         }
 

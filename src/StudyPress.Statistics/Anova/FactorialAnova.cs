@@ -19,7 +19,7 @@ namespace StudyPress.Statistics.Anova;
 /// subtracting two residual sums of squares.
 /// </para>
 /// <para>
-/// Domain: call <see cref="AnovaDesign.Check"/> first. A design it rejects (a factor with one
+/// Domain: call <see cref="AnovaDesign.Check(AnovaInput)"/> first. A design it rejects (a factor with one
 /// level, an empty cell with interactions, fewer observations than parameters, a rank-deficient
 /// coding) makes <see cref="Fit"/> throw <see cref="ArgumentException"/> with the same message.
 /// Without replication (residual df 0) the table has SS and df, and F, p are undefined.
@@ -36,17 +36,17 @@ public static class FactorialAnova
             return OneWayAnova.Fit(input.Response, input.Factors[0], input.Alpha);
         }
 
-        var problem = AnovaDesign.Check(input);
-        if (problem is not null)
+        var problem = AnovaDesign.Check(input, out var checkedCoding, out var checkedQr);
+        if (problem is not null || checkedCoding is null || checkedQr is null)
         {
-            throw new ArgumentException(problem.Message, nameof(input));
+            throw new ArgumentException(problem?.Message ?? "the design cannot be fitted", nameof(input));
         }
 
         var y = input.Response;
         var n = y.Length;
-        var coding = DesignCoding.Build(input);
+        var coding = checkedCoding;
         var p = coding.ColumnCount;
-        var qr = HouseholderQr.Factor(coding.Matrix, coding.AllColumns);
+        var qr = checkedQr;
         var effects = qr.Effects(y);
         double ssRes = 0;
         for (var i = p; i < n; i++)

@@ -256,16 +256,18 @@ internal sealed class HouseholderQr
             return;
         }
 
+        ReadOnlySpan<double> vs = v;
+        var ys = y.AsSpan(k, v.Length);
         double s = 0;
-        for (var i = 0; i < v.Length; i++)
+        for (var i = 0; i < vs.Length; i++)
         {
-            s += v[i] * y[k + i];
+            s += vs[i] * ys[i];
         }
 
         s *= beta;
-        for (var i = 0; i < v.Length; i++)
+        for (var i = 0; i < vs.Length; i++)
         {
-            y[k + i] -= s * v[i];
+            ys[i] -= s * vs[i];
         }
     }
 }

@@ -253,7 +253,7 @@ public static class ResponseTransform
     /// <summary>
     /// Box-Cox profile log-likelihood L(lambda) = -(n/2) ln(RSS(z_lambda)/n) for the model given by
     /// <paramref name="factors"/> and <paramref name="interactions"/> (see the class remarks).
-    /// Requires positive values and a design that passes <see cref="AnovaDesign.Check"/>.
+    /// Requires positive values and a design that passes <see cref="AnovaDesign.Check(AnovaInput)"/>.
     /// </summary>
     public static double BoxCoxProfileLogLikelihood(double[] raw, IReadOnlyList<FactorColumn> factors, bool interactions, double lambda)
     {
