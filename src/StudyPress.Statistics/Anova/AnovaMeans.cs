@@ -19,7 +19,7 @@ public sealed record FactorMeans(string Factor, IReadOnlyList<LevelMean> Levels)
 /// </summary>
 public sealed record CellMean(IReadOnlyList<string> Levels, int Count, Quantity RawMean, Quantity ModelMean);
 
-/// <summary>Grand mean, per-factor level means and cell means of an ANOVA's response.</summary>
+/// <summary>Grand mean, per-factor level means and cell means of an ANOVA's response (cells only for two or more factors).</summary>
 public sealed record MeansTable(double GrandMean, IReadOnlyList<FactorMeans> Factors, IReadOnlyList<CellMean> Cells);
 
 /// <summary>

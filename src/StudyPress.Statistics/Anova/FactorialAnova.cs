@@ -33,7 +33,8 @@ public static class FactorialAnova
         ArgumentNullException.ThrowIfNull(input);
         if (input.Factors.Count == 1)
         {
-            return OneWayAnova.Fit(input.Response, input.Factors[0], input.Alpha);
+            // For one factor the three SS types coincide; keep the requested type in the result.
+            return OneWayAnova.Fit(input.Response, input.Factors[0], input.Alpha) with { SsType = input.SsType };
         }
 
         var problem = AnovaDesign.Check(input, out var checkedCoding, out var checkedQr);

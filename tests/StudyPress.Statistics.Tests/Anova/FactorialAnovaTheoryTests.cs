@@ -247,6 +247,7 @@ public sealed class FactorialAnovaTheoryTests
         var o = OneWayAnova.Fit(input.Response, input.Factors[0], 0.05);
         Assert.Single(r.Terms);
         Assert.Equal(o.Terms[0].SumOfSquares, r.Terms[0].SumOfSquares);
+        Assert.Equal(SumOfSquaresType.Marginal, r.SsType);
 
         // ... and the least-squares route gives the same numbers (main-effects model of batch and
         // a factor crossed with it in balance).
