@@ -2,18 +2,148 @@ namespace StudyPress.Statistics.Anova;
 
 /// <summary>
 /// Fixed-effects ANOVA for any number of factors. One factor goes through <see cref="OneWayAnova"/>
-/// (group means, most accurate); several factors are fitted by least squares on a full-rank coding.
+/// (group means, most accurate); several factors are fitted by least squares on the full-rank
+/// sum-to-zero coding of <see cref="AnovaDesign"/>, using a Householder QR factorisation
+/// (never the normal equations), which keeps the accuracy of the data's own conditioning.
+/// <para>
+/// Sums of squares, for a term t with columns X_t (Searle 1987, Linear Models for Unbalanced Data,
+/// ch. 4 and 8; Chambers 1977, Computational Methods for Data Analysis, ch. 5):
+/// Sequential (type 1): R(t | terms before t) = the squared entries of the effects vector Q'y for
+/// t's columns, with the columns in term order (successive reductions in residual SS).
+/// Hierarchical (type 2): R(t | every term not containing t) = RSS(M0) - RSS(M0 + t), where M0 holds
+/// the intercept and every other term whose factors do not include all of t's.
+/// Marginal (type 3): R(t | every other term) under sum-to-zero coding = RSS(full model without
+/// t's columns) - RSS(full model).
+/// Types 2 and 3 are computed from a QR of the columns reordered so that t comes last after the
+/// terms it is adjusted for; the squared effects of t's columns give the reduction without
+/// subtracting two residual sums of squares.
+/// </para>
+/// <para>
+/// Domain: call <see cref="AnovaDesign.Check(AnovaInput)"/> first. A design it rejects (a factor with one
+/// level, an empty cell with interactions, fewer observations than parameters, a rank-deficient
+/// coding) makes <see cref="Fit"/> throw <see cref="ArgumentException"/> with the same message.
+/// Without replication (residual df 0) the table has SS and df, and F, p are undefined.
+/// </para>
 /// </summary>
 public static class FactorialAnova
 {
+    /// <summary>Fits the model and fills the ANOVA table, fitted values, residuals and leverages in input order.</summary>
     public static AnovaResult Fit(AnovaInput input)
     {
         ArgumentNullException.ThrowIfNull(input);
         if (input.Factors.Count == 1)
         {
-            return OneWayAnova.Fit(input.Response, input.Factors[0], input.Alpha);
+            // For one factor the three SS types coincide; keep the requested type in the result.
+            return OneWayAnova.Fit(input.Response, input.Factors[0], input.Alpha) with { SsType = input.SsType };
         }
 
-        throw new NotSupportedException("designs with several factors are not implemented yet");
+        var problem = AnovaDesign.Check(input, out var checkedCoding, out var checkedQr);
+        if (problem is not null || checkedCoding is null || checkedQr is null)
+        {
+            throw new ArgumentException(problem?.Message ?? "the design cannot be fitted", nameof(input));
+        }
+
+        var y = input.Response;
+        var n = y.Length;
+        var coding = checkedCoding;
+        var p = coding.ColumnCount;
+        var qr = checkedQr;
+        var effects = qr.Effects(y);
+        double ssRes = 0;
+        for (var i = p; i < n; i++)
+        {
+            ssRes += effects[i] * effects[i];
+        }
+
+        var dfRes = n - p;
+        var ssTotal = Groups.SumOfSquares(y, Groups.Mean(y));
+        var terms = new List<AnovaTerm>(coding.Terms.Count);
+        for (var t = 0; t < coding.Terms.Count; t++)
+        {
+            var ss = TermSumOfSquares(coding, t, input.SsType, effects, y);
+            terms.Add(AnovaTable.Term(
+                coding.TermNames[t],
+                [.. coding.Terms[t].Select(f => input.Factors[f].Name)],
+                ss,
+                coding.TermCount[t],
+                ssRes,
+                dfRes,
+                ssTotal,
+                input.Alpha));
+        }
+
+        var fitted = new double[n];
+        var residuals = new double[n];
+        for (var i = 0; i < n; i++)
+        {
+            if (i < p)
+            {
+                fitted[i] = effects[i];
+            }
+            else
+            {
+                residuals[i] = effects[i];
+            }
+        }
+
+        qr.ApplyQ(fitted);
+        qr.ApplyQ(residuals);
+        var leverages = qr.HatDiagonal();
+        return new AnovaResult(
+            terms,
+            ssRes,
+            dfRes,
+            AnovaTable.MeanSquareResidual(ssRes, dfRes),
+            ssTotal,
+            n - 1,
+            fitted,
+            residuals,
+            leverages,
+            input.SsType,
+            input.Alpha);
+    }
+
+    private static double TermSumOfSquares(DesignCoding coding, int t, SumOfSquaresType type, double[] fullEffects, double[] y)
+    {
+        if (type == SumOfSquaresType.Sequential)
+        {
+            return SumOfSquaredEffects(fullEffects, coding.TermStart[t], coding.TermCount[t]);
+        }
+
+        var term = coding.Terms[t];
+        var columns = new List<int> { 0 };
+        for (var s = 0; s < coding.Terms.Count; s++)
+        {
+            if (s == t)
+            {
+                continue;
+            }
+
+            var include = type == SumOfSquaresType.Marginal || !Contains(coding.Terms[s], term);
+            if (include)
+            {
+                columns.AddRange(coding.ColumnsOf(s));
+            }
+        }
+
+        var before = columns.Count;
+        columns.AddRange(coding.ColumnsOf(t));
+        var qr = HouseholderQr.Factor(coding.Matrix, columns);
+        var e = qr.Effects(y);
+        return SumOfSquaredEffects(e, before, coding.TermCount[t]);
+    }
+
+    /// <summary>True when the factor set <paramref name="outer"/> includes every factor of <paramref name="inner"/>.</summary>
+    private static bool Contains(int[] outer, int[] inner) => inner.All(outer.Contains);
+
+    private static double SumOfSquaredEffects(double[] e, int start, int count)
+    {
+        double s = 0;
+        for (var j = start; j < start + count; j++)
+        {
+            s += e[j] * e[j];
+        }
+
+        return s;
     }
 }
