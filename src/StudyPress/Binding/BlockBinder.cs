@@ -17,6 +17,7 @@ internal static class BlockBinder
     {
         var blocks = new List<BoundBlock>();
         var ids = new Dictionary<string, int>(StringComparer.Ordinal);
+        var owners = new Dictionary<string, AnalysisBlockSyntax>(StringComparer.Ordinal);
         var counters = new Dictionary<string, int>(StringComparer.Ordinal);
         if (syntax.Blocks.Count > MaxBlocks)
         {
@@ -38,6 +39,7 @@ internal static class BlockBinder
             else
             {
                 ids[b.Id!] = b.Location.Line;
+                owners[b.Id!] = b;
             }
         }
 
@@ -56,7 +58,7 @@ internal static class BlockBinder
                 ids[id] = b.Location.Line;
             }
 
-            if (b.Body is null)
+            if (b.Body is null || (b.Id is not null && owners.GetValueOrDefault(b.Id) != b))
             {
                 continue;
             }

@@ -50,14 +50,26 @@ public static class CsvLoader
         using var reader = Sep.Reader(o => o with
         {
             Sep = new Sep(spec.Delimiter),
-            HasHeader = true,
+            HasHeader = false,
             Unescape = true,
             DisableColCountCheck = true,
             DisableFastFloat = true,
         }).FromText(text);
 
         var headerLine = FirstLine(text);
-        var names = reader.Header.ColNames.Select(n => n.Trim()).ToList();
+        if (!reader.MoveNext())
+        {
+            diagnostics.EmptyDataFile(file);
+            return null;
+        }
+
+        var headerRow = reader.Current;
+        var names = new List<string>();
+        for (var i = 0; i < headerRow.ColCount; i++)
+        {
+            names.Add(headerRow[i].ToString().Trim().TrimStart('\uFEFF'));
+        }
+
         var headerStarts = FieldStarts(headerLine, spec.Delimiter);
         var index = new Dictionary<string, int>(StringComparer.Ordinal);
         for (var i = 0; i < names.Count; i++)
@@ -107,8 +119,9 @@ public static class CsvLoader
         var missing = new HashSet<string>(spec.Missing, StringComparer.Ordinal);
         var rows = 0;
         var expected = names.Count;
-        foreach (var row in reader)
+        while (reader.MoveNext())
         {
+            var row = reader.Current;
             rows++;
             var line = row.LineNumberFrom - 1;
             var raw = row.Span;
@@ -320,6 +333,12 @@ public static class CsvLoader
 
         if (double.TryParse(t, style, CultureInfo.InvariantCulture, out approx))
         {
+            if (double.IsNaN(approx) || t.Any(char.IsLetter) && !t.Contains('e', StringComparison.OrdinalIgnoreCase))
+            {
+                problem = NumberProblem.NotFinite;
+                return false;
+            }
+
             if (double.IsFinite(approx))
             {
                 // Outside decimal's range but a finite double: keep the double.

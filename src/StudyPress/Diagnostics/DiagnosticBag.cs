@@ -233,8 +233,8 @@ public sealed class DiagnosticBag
             }
         }
 
-        var limit = Math.Max(1, Math.Min(3, word.Length / 3));
-        return bestD <= limit ? best : null;
+        var limit = Math.Max(1, Math.Min(3, (word.Length + 1) / 2));
+        return bestD <= limit && bestD < word.Length ? best : null;
     }
 
     private static int Distance(string a, string b)

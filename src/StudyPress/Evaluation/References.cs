@@ -165,7 +165,14 @@ public static class References
             return null;
         }
 
-        var suggestion = DiagnosticBag.Nearest(reference.Text.Replace(" ", string.Empty, StringComparison.Ordinal), ofBlock.Select(PathOf));
+        // Suggest: the same parts with the nearest statistic of the values they select, else the
+        // nearest full path of the block.
+        var selected = ofBlock.Where(v => IsSubsequence(middle, [.. v.Components()])).Select(v => v.Stat).Distinct().ToList();
+        var nearStat = selected.Where(s => stat.StartsWith(s, StringComparison.Ordinal) || s.StartsWith(stat, StringComparison.Ordinal)).OrderByDescending(s => s.Length).FirstOrDefault()
+            ?? DiagnosticBag.Nearest(stat, selected);
+        var suggestion = nearStat is not null && middle.Length > 0
+            ? string.Join(".", parts.Take(parts.Count - 1).Append(nearStat).Select(QuoteIfNeeded))
+            : DiagnosticBag.Nearest(reference.Text.Replace(" ", string.Empty, StringComparison.Ordinal), ofBlock.Select(PathOf));
         diagnostics.UnknownReference(reference.Location, reference.Text, suggestion);
         return null;
     }
