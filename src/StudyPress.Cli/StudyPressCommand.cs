@@ -95,6 +95,13 @@ public static class BuildCommand
         var studies = new List<string>();
         foreach (var p in request.Paths)
         {
+            if (p.StartsWith('-') && !File.Exists(p) && !Directory.Exists(p))
+            {
+                stderr.WriteLine($"studypress: error: unknown option '{p}'");
+                stderr.WriteLine("Try 'studypress build --help'.");
+                return StudyPressCommand.BadInput;
+            }
+
             if (Directory.Exists(p))
             {
                 studies.AddRange(StudyDiscovery.Find(p));

@@ -26,7 +26,9 @@ public sealed record GroupSummary(
 /// </summary>
 public static class Descriptives
 {
-    public static GroupSummary Compute(ReadOnlySpan<double> centred, ReadOnlySpan<double> values, double offset, double alpha)
+    /// <param name="exactMean">The mean when the caller computed it exactly (for example in decimal
+    /// arithmetic from decimal text); otherwise it comes from the centred values.</param>
+    public static GroupSummary Compute(ReadOnlySpan<double> centred, ReadOnlySpan<double> values, double offset, double alpha, double? exactMean = null)
     {
         var n = centred.Length;
         if (n == 0)
@@ -46,8 +48,8 @@ public static class Descriptives
             sd = Quantity.Of(s);
             se = Quantity.Of(s / Math.Sqrt(n));
             var half = Probability.TCritical(alpha, n - 1) * se.Value;
-            lo = Quantity.Of(offset + mean - half);
-            hi = Quantity.Of(offset + mean + half);
+            lo = Quantity.Of((exactMean ?? (offset + mean)) - half);
+            hi = Quantity.Of((exactMean ?? (offset + mean)) + half);
         }
 
         if (values.Length != n)
@@ -58,6 +60,6 @@ public static class Descriptives
         var sorted = values.ToArray();
         Array.Sort(sorted);
         double Q(double tau) => SortedArrayStatistics.QuantileCustom(sorted, tau, QuantileDefinition.R7);
-        return new GroupSummary(n, offset + mean, sd, se, lo, hi, Q(0.5), Q(0.25), Q(0.75), sorted[0], sorted[^1]);
+        return new GroupSummary(n, exactMean ?? (offset + mean), sd, se, lo, hi, Q(0.5), Q(0.25), Q(0.75), sorted[0], sorted[^1]);
     }
 }

@@ -7,7 +7,9 @@ namespace StudyPress.Data;
 /// </summary>
 /// <see cref="Values"/> holds each value itself (the double nearest to its decimal text), for
 /// order statistics and transformations.
-public sealed record NumericColumn(string Name, double[] Centred, double[] Values, double Centre, int Missing, bool Exact)
+/// <see cref="Exact"/> keeps the decimal values when every cell was exact decimal text, so
+/// that means can be computed exactly.
+public sealed record NumericColumn(string Name, double[] Centred, double[] Values, double Centre, int Missing, decimal[]? Exact)
 {
     public bool IsMissing(int row) => double.IsNaN(Centred[row]);
 }

@@ -411,7 +411,7 @@ public static class CsvLoader
             raw[i] = missing[i] ? double.NaN : (double)values[i];
         }
 
-        return new NumericColumn(name, centred, raw, (double)centre, values.Count - n, true);
+        return new NumericColumn(name, centred, raw, (double)centre, values.Count - n, [.. values]);
     }
 
     private static NumericColumn CentreDoubles(string name, double[] values)
@@ -419,7 +419,7 @@ public static class CsvLoader
         var present = values.Where(v => !double.IsNaN(v)).ToArray();
         var centre = present.Length > 0 ? StudyPress.Statistics.Groups.Mean(present) : 0;
         var centred = values.Select(v => double.IsNaN(v) ? double.NaN : v - centre).ToArray();
-        return new NumericColumn(name, centred, values, centre, values.Length - present.Length, false);
+        return new NumericColumn(name, centred, values, centre, values.Length - present.Length, null);
     }
 
     private static string FirstLine(string text)

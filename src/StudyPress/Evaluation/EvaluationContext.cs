@@ -23,6 +23,33 @@ public sealed class BlockData
     /// <summary>The response values themselves for <see cref="Rows"/> (not centred).</summary>
     public required double[] Values { get; init; }
 
+    /// <summary>The exact decimal values for <see cref="Rows"/>, when the column had only decimal text.</summary>
+    public decimal[]? Exact { get; init; }
+
+    /// <summary>Exact mean of the given positions (decimal arithmetic), or null when not available.</summary>
+    public double? ExactMean(IReadOnlyList<int> positions)
+    {
+        if (Exact is null || positions.Count == 0)
+        {
+            return null;
+        }
+
+        try
+        {
+            decimal sum = 0;
+            foreach (var i in positions)
+            {
+                sum += Exact[i];
+            }
+
+            return (double)(sum / positions.Count);
+        }
+        catch (OverflowException)
+        {
+            return null;
+        }
+    }
+
     public required IReadOnlyList<BlockFactor> Factors { get; init; }
 
     /// <summary>Rows dropped because the response or a factor was missing.</summary>
@@ -148,6 +175,7 @@ public sealed class EvaluationContext
             Response = response is null ? [] : [.. rows.Select(r => response.Centred[r])],
             Centre = response?.Centre ?? 0,
             Values = response is null ? [] : [.. rows.Select(r => response.Values[r])],
+            Exact = response?.Exact is { } exact ? [.. rows.Select(r => exact[r])] : null,
             Factors = factors,
             DroppedMissing = dropped,
         };
