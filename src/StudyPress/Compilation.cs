@@ -134,7 +134,16 @@ public static class Compilation
         }
 
         // Evaluate.
-        var context = new EvaluationContext { Header = header, Datasets = datasets };
+        var studyFolder = Path.GetDirectoryName(display);
+        var context = new EvaluationContext
+        {
+            Header = header,
+            Datasets = datasets,
+            DataDisplayPaths = header.Datasets.ToDictionary(
+                d => d.Name,
+                d => string.IsNullOrEmpty(studyFolder) ? d.Path : Path.Combine(studyFolder, d.Path).Replace('\\', '/'),
+                StringComparer.Ordinal),
+        };
         var outcomes = new Dictionary<AnalysisBlockSyntax, BlockOutcome>();
         foreach (var block in blocks)
         {
@@ -200,6 +209,12 @@ public static class Compilation
             foreach (var w in b.Where)
             {
                 n.Factors.TryAdd(w.Factor.Name, (w.Factor, w.Location));
+            }
+
+            if (header.Order is { } order && b.Kind is AnovaKind)
+            {
+                n.Numeric.TryAdd(order, header.OrderLocation);
+                n.Order = order;
             }
         }
 

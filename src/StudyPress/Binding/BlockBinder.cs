@@ -63,7 +63,7 @@ internal static class BlockBinder
                 continue;
             }
 
-            var bound = BindOne(b, id, kind, header, diagnostics);
+            var bound = BindOne(b, id, kind, new BindContext(header, blocks, b, owners), diagnostics);
             if (bound is not null)
             {
                 blocks.Add(bound);
@@ -73,11 +73,16 @@ internal static class BlockBinder
         return blocks;
     }
 
-    private static BoundBlock? BindOne(AnalysisBlockSyntax b, string id, BlockKind kind, StudyHeader header, DiagnosticBag diagnostics)
+    private static BoundBlock? BindOne(AnalysisBlockSyntax b, string id, BlockKind kind, BindContext context, DiagnosticBag diagnostics)
     {
+        var header = context.Header;
         var allowed = BlockKinds.CommonKeys.Concat(kind.OwnKeys).ToArray();
         var keys = new KeyReader(b.Body!, $"the {kind.Name} block", allowed, diagnostics);
         var before = diagnostics.Items.Count;
+        if (kind.AnalysesAnovaBlock)
+        {
+            return BindOnAnova(b, id, kind, keys, context, diagnostics, before);
+        }
 
         string? data = null;
         string? response = null;
@@ -198,7 +203,7 @@ internal static class BlockBinder
         }
 
         var caption = keys.String("caption");
-        var options = kind.BindOptions(keys, header, diagnostics);
+        var options = kind.BindOptions(keys, context, diagnostics);
         if (diagnostics.Items.Count > before)
         {
             return null;
@@ -217,6 +222,45 @@ internal static class BlockBinder
             Where = where,
             Caption = caption,
             Options = options,
+        };
+    }
+
+    /// <summary>A block that works on an anova block's model: data and factors come from there.</summary>
+    private static BoundBlock? BindOnAnova(AnalysisBlockSyntax b, string id, BlockKind kind, KeyReader keys, BindContext context, DiagnosticBag diagnostics, int before)
+    {
+        var anova = context.AnovaOf(keys, kind.Name, diagnostics);
+        if (anova is not null)
+        {
+            foreach (var key in new[] { "data", "response", "factors", "where" })
+            {
+                if (keys.Has(key))
+                {
+                    diagnostics.KeyTakenFromAnova(keys.KeyLocation(key), key, anova.Id);
+                }
+            }
+        }
+
+        var caption = keys.String("caption");
+        var options = kind.BindOptions(keys, context with { }, diagnostics);
+        if (anova is null || diagnostics.Items.Count > before)
+        {
+            return null;
+        }
+
+        return new BoundBlock
+        {
+            Id = id,
+            Kind = kind,
+            Syntax = b,
+            Data = anova.Data,
+            Response = anova.Response,
+            ResponseLocation = anova.ResponseLocation,
+            Factors = anova.Factors,
+            FactorsLocation = anova.FactorsLocation,
+            Where = anova.Where,
+            Caption = caption,
+            Options = options,
+            Of = anova,
         };
     }
 }

@@ -35,6 +35,9 @@ public sealed class BoundBlock
 
     public string? Caption { get; init; }
 
+    /// <summary>The anova block this block analyses (assumptions, posthoc), or null.</summary>
+    public BoundBlock? Of { get; init; }
+
     /// <summary>The kind's own bound options.</summary>
     public object? Options { get; init; }
 }

@@ -29,6 +29,12 @@ public sealed class LoadedDataset
 
     public required int Rows { get; init; }
 
+    /// <summary>The 1-based line of the data file where each row starts (for messages and tables).</summary>
+    public required int[] Lines { get; init; }
+
+    /// <summary>Run or measurement order per row (the header's <c>order</c> column), when the file has it.</summary>
+    public NumericColumn? Order { get; init; }
+
     public required IReadOnlyList<string> ColumnNames { get; init; }
 
     public required IReadOnlyDictionary<string, NumericColumn> Numeric { get; init; }

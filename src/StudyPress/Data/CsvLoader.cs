@@ -13,6 +13,9 @@ public sealed class DatasetNeeds
     public Dictionary<string, SourceLocation> Numeric { get; } = new(StringComparer.Ordinal);
 
     public Dictionary<string, (FactorSpec Spec, SourceLocation At)> Factors { get; } = new(StringComparer.Ordinal);
+
+    /// <summary>The run-order column, when an analysis needs it (also listed in <see cref="Numeric"/>).</summary>
+    public string? Order { get; set; }
 }
 
 /// <summary>
@@ -118,6 +121,7 @@ public static class CsvLoader
         var levelText = factorCols.Select(_ => new List<string?>()).ToArray();
         var missing = new HashSet<string>(spec.Missing, StringComparer.Ordinal);
         var rows = 0;
+        var lines = new List<int>();
         var expected = names.Count;
         while (reader.MoveNext())
         {
@@ -132,6 +136,7 @@ public static class CsvLoader
                 continue;
             }
 
+            lines.Add(line + 1);
             if (UnterminatedQuote(raw, spec.Delimiter) is { } quoteAt)
             {
                 diagnostics.UnterminatedQuote(new SourceLocation(displayPath, line, quoteAt));
@@ -281,9 +286,11 @@ public static class CsvLoader
             Path = spec.Path.Replace('\\', '/'),
             Sha256 = sha,
             Rows = rows,
+            Lines = [.. lines],
             ColumnNames = names,
             Numeric = numeric,
             Factors = factors,
+            Order = needs.Order is { } o ? numeric[o] : null,
             Used = new bool[rows],
         };
     }

@@ -147,6 +147,24 @@ public sealed class DiagnosticBag
     public void TooManyBlocks(SourceLocation at, int max) =>
         Error("SP0228", at, string.Create(CultureInfo.InvariantCulture, $"a study may hold at most {max} analysis blocks"));
 
+    public void OfMustComeBefore(SourceLocation at, string id, string kind) => Error("SP0229", at, $"block {Q(id)} comes after this {kind} block; 'of' must name an anova block above it");
+
+    public void UnknownOf(SourceLocation at, string id, string? suggestion) => Error("SP0230", at, $"no anova block with id {Q(id)} above this block{Suggest(suggestion)}");
+
+    public void OfNotAnova(SourceLocation at, string id, string kind) => Error("SP0231", at, $"'of' must name an anova block; {Q(id)} is a {kind} block");
+
+    public void NoAnovaAbove(SourceLocation at, string kind) => Error("SP0232", at, $"the {kind} block checks an anova block, but there is none above it; add one or name it with 'of'");
+
+    public void KeyTakenFromAnova(SourceLocation at, string key, string anovaId) => Error("SP0233", at, $"{Q(key)} is taken from the anova block {Q(anovaId)} here; set it there");
+
+    public void FactorNotInAnova(SourceLocation at, string factor, string anovaId, string? suggestion) => Error("SP0234", at, $"factor {Q(factor)} is not in the anova block {Q(anovaId)}{Suggest(suggestion)}");
+
+    public void FactorChoiceNeeded(SourceLocation at, string anovaId) => Error("SP0235", at, $"the anova block {Q(anovaId)} has several factors; say which one to compare with 'factor'");
+
+    public void UnknownControl(SourceLocation at, string level, string factor, string? suggestion) => Error("SP0236", at, $"control {Q(level)} is not a level of factor {Q(factor)} with data{Suggest(suggestion)}");
+
+    public void OneFactorOnly(SourceLocation at, string kind) => Error("SP0237", at, $"the {kind} block compares the levels of one factor; name it with 'factor'");
+
     // ---- data (SP03xx) ----
     public void PathAbsolute(SourceLocation at, string path) => Error("SP0301", at, $"data path {Q(path)} must be relative to the study file");
 
@@ -214,6 +232,17 @@ public sealed class DiagnosticBag
     public void NoRowsSelected(SourceLocation at) => Error("SP0502", at, "no rows are left after dropping missing values and applying 'where'");
 
     public void NoResidualDf(SourceLocation at) => Error("SP0503", at, "every group has a single observation, so there is no residual variance to test against");
+
+    public void EmptyCell(SourceLocation at, string cell) => Error("SP0504", at, $"the cell {cell} has no observations, so the interaction cannot be estimated; set 'interaction: false' or collect data for it");
+
+    public void DesignProblem(SourceLocation at, string message) => Error("SP0505", at, message);
+
+    public void TransformDomain(SourceLocation at, string transform, string message) => Error("SP0506", at, $"transform {Q(transform)} cannot be applied: {message}");
+
+    public void TransformRow(SourceLocation at, string transform, string column, string value, string need) =>
+        Error("SP0507", at, $"transform {Q(transform)} needs {need} values, but column {Q(column)} has {value} here");
+
+    public void OrderNotNumeric(SourceLocation at, string column) => Error("SP0508", at, $"run-order column {Q(column)} must hold numbers");
 
     // ---- output (SP06xx) ----
     public void CannotWrite(SourceLocation at, string path, string reason) => Error("SP0601", at, $"cannot write {Q(path)}: {reason}");

@@ -103,6 +103,9 @@ public sealed class EvaluationContext
 
     public ResultSet Results { get; } = new();
 
+    /// <summary>How each dataset's path is printed in messages (relative to the working folder).</summary>
+    public IReadOnlyDictionary<string, string> DataDisplayPaths { get; init; } = new Dictionary<string, string>(StringComparer.Ordinal);
+
     public Dictionary<string, Kinds.BlockOutcome> Outcomes { get; } = new(StringComparer.Ordinal);
 
     /// <summary>

@@ -5,12 +5,16 @@ using StudyPress.Evaluation;
 using StudyPress.Rendering;
 using StudyPress.Statistics;
 using StudyPress.Statistics.Anova;
+using StudyPress.Statistics.Nonparametric;
 
 namespace StudyPress.Kinds;
 
 /// <summary>
-/// <c>anova</c>: fixed-effects ANOVA table (SS, df, MS, F, p), critical F at alpha, effect sizes
-/// (eta², partial eta², omega², Cohen's f) and, for one factor, Welch's F.
+/// <c>anova</c>: fixed-effects ANOVA by least squares, one-way or factorial (SS type 1, 2 or 3),
+/// with an optional response transformation; ANOVA table (SS, df, MS, F, p), critical F at alpha,
+/// effect sizes (eta², partial eta², omega², Cohen's f), level means, and for one factor Welch's F
+/// (always with <c>welch: yes</c>; with <c>auto</c> when Brown–Forsythe finds unequal variances) and
+/// Kruskal–Wallis (with <c>auto</c> when residuals are non-normal and groups small).
 /// </summary>
 public sealed class AnovaKind : BlockKind
 {
@@ -20,23 +24,45 @@ public sealed class AnovaKind : BlockKind
 
     public override IReadOnlyList<string> OwnKeys { get; } = ["interaction", "ss-type", "transform", "welch"];
 
-    public sealed record Options(bool Interaction, SumOfSquaresType SsType, string Transform, string Welch);
+    private static readonly Dictionary<string, TransformKind> Transforms = new(StringComparer.Ordinal)
+    {
+        ["none"] = TransformKind.None,
+        ["log"] = TransformKind.Log,
+        ["log10"] = TransformKind.Log10,
+        ["sqrt"] = TransformKind.Sqrt,
+        ["reciprocal"] = TransformKind.Reciprocal,
+        ["box-cox"] = TransformKind.BoxCox,
+    };
 
-    public override object? BindOptions(KeyReader keys, StudyHeader header, DiagnosticBag diagnostics)
+    public sealed record Options(bool Interaction, SumOfSquaresType SsType, string TransformName, TransformKind Transform, string Welch);
+
+    public override object? BindOptions(KeyReader keys, BindContext context, DiagnosticBag diagnostics)
     {
         var ss = keys.Integer("ss-type", 1, 3) ?? 2;
+        var transform = keys.Choice("transform", [.. Transforms.Keys]) ?? "none";
         return new Options(
             keys.Boolean("interaction") ?? true,
             (SumOfSquaresType)ss,
-            keys.Choice("transform", ["none"]) ?? "none",
+            transform,
+            Transforms[transform],
             keys.Choice("welch", ["auto", "yes", "no"]) ?? "auto");
     }
 
     public sealed class Outcome(BoundBlock block) : BlockOutcome(block)
     {
+        private AssumptionReview? review;
+
         public AnovaResult? Result { get; set; }
 
         public BlockData? Data { get; set; }
+
+        /// <summary>The model input: the (transformed) response, centred, and the factors.</summary>
+        public AnovaInput? Input { get; set; }
+
+        public TransformedResponse? Transformed { get; set; }
+
+        /// <summary>Centre subtracted from the (transformed) response before fitting.</summary>
+        public double ResponseCentre { get; set; }
 
         public List<(AnovaTerm Term, Dictionary<string, ResultValue> Values)> Terms { get; } = [];
 
@@ -44,9 +70,19 @@ public sealed class AnovaKind : BlockKind
 
         public Dictionary<string, ResultValue> Total { get; } = new(StringComparer.Ordinal);
 
+        public List<(string Factor, string Level, Dictionary<string, ResultValue> Values)> Means { get; } = [];
+
         public Dictionary<string, ResultValue>? Welch { get; set; }
 
-        public string? WelchReason { get; set; }
+        public Dictionary<string, ResultValue>? Ranks { get; set; }
+
+        /// <summary>Which automatic rules fired, in plain words.</summary>
+        public List<string> Decisions { get; } = [];
+
+        /// <summary>The assumption checks of this model, computed when first needed.</summary>
+        public AssumptionReview Review => review ??= AssumptionReview.Run(this);
+
+        public bool ReadWelch { get; set; }
     }
 
     public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
@@ -70,13 +106,60 @@ public sealed class AnovaKind : BlockKind
         }
 
         var cells = data.Cells();
-        if (cells.All(c => c.Values.Length == 1))
+        if (cells.All(c => c.Values.Length == 1) && (data.Factors.Count == 1 || options.Interaction))
         {
             diagnostics.NoResidualDf(block.Location);
             return outcome;
         }
 
-        var input = new AnovaInput(data.Response, [.. data.Factors.Select(f => f.ToColumn())], options.Interaction, options.SsType, context.Header.Alpha);
+        var factors = data.Factors.Select(f => f.ToColumn()).ToList();
+        var response = data.Response;
+        var centre = data.Centre;
+        if (options.Transform != TransformKind.None)
+        {
+            var t = ResponseTransform.Apply(data.Values, options.Transform, factors, options.Interaction, context.Header.Alpha);
+            if (t.Error is { } error)
+            {
+                if (error.Index is { } index)
+                {
+                    var line = data.Dataset.Lines[data.Rows[index]];
+                    diagnostics.TransformRow(
+                        new SourceLocation(DataDisplay(context, data), line - 1, 0),
+                        options.TransformName,
+                        data.ResponseName,
+                        (error.Value ?? data.Values[index]).ToString("R", CultureInfo.InvariantCulture),
+                        NeedText(options.Transform));
+                }
+                else
+                {
+                    diagnostics.TransformDomain(block.Location, options.TransformName, error.Message);
+                }
+
+                return outcome;
+            }
+
+            outcome.Transformed = t.Result;
+            centre = Groups.Mean(t.Result!.Values);
+            response = [.. t.Result.Values.Select(v => v - centre)];
+        }
+
+        outcome.ResponseCentre = centre;
+        var input = new AnovaInput(response, factors, options.Interaction, options.SsType, context.Header.Alpha);
+        if (data.Factors.Count > 1 && AnovaDesign.Check(input) is { } problem)
+        {
+            if (problem.Kind == DesignProblemKind.EmptyCell && problem.Cell is { } cell)
+            {
+                diagnostics.EmptyCell(block.FactorsLocation, string.Join(", ", cell.Select((l, k) => $"{factors[k].Name} = '{l}'")));
+            }
+            else
+            {
+                diagnostics.DesignProblem(block.FactorsLocation, problem.Message);
+            }
+
+            return outcome;
+        }
+
+        outcome.Input = input;
         var result = FactorialAnova.Fit(input);
         outcome.Result = result;
         var inputs = context.Inputs(block);
@@ -103,10 +186,101 @@ public sealed class AnovaKind : BlockKind
         outcome.Total["ss"] = context.Results.Add(block.Id, "anova", "total", null, null, "ss", result.TotalSumOfSquares, inputs);
         outcome.Total["df"] = context.Results.Add(block.Id, "anova", "total", null, null, "df", result.TotalDf, inputs);
 
-        if (data.Factors.Count == 1 && options.Welch != "no")
+        AddMeans(context, block, outcome, inputs);
+        if (data.Factors.Count == 1)
         {
-            var factor = data.Factors[0];
-            var groups = factor.Split(data.Response);
+            OneFactorChecks(context, block, outcome, options, inputs);
+        }
+
+        AddCautions(outcome, data, options);
+        return outcome;
+    }
+
+    private static string DataDisplay(EvaluationContext context, BlockData data) =>
+        context.DataDisplayPaths.TryGetValue(data.Dataset.Spec.Name, out var p) ? p : data.Dataset.Path;
+
+    private static string NeedText(TransformKind kind) => kind switch
+    {
+        TransformKind.Sqrt => "non-negative",
+        TransformKind.Reciprocal => "non-zero",
+        _ => "positive",
+    };
+
+    private static void AddMeans(EvaluationContext context, BoundBlock block, Outcome outcome, IReadOnlyList<string> inputs)
+    {
+        var means = AnovaMeans.Compute(outcome.Input!);
+        foreach (var fm in means.Factors)
+        {
+            foreach (var lm in fm.Levels)
+            {
+                var values = new Dictionary<string, ResultValue>(StringComparer.Ordinal)
+                {
+                    ["n"] = context.Results.Add(block.Id, "means", fm.Factor, lm.Level, null, "n", lm.Count, inputs),
+                    ["mean"] = context.Results.Add(block.Id, "means", fm.Factor, lm.Level, null, "mean", Back(outcome, lm.RawMean), inputs),
+                };
+                if (outcome.Input!.Factors.Count > 1)
+                {
+                    values["ls_mean"] = context.Results.Add(block.Id, "means", fm.Factor, lm.Level, null, "ls_mean", Back(outcome, lm.LeastSquaresMean), inputs);
+                }
+
+                outcome.Means.Add((fm.Factor, lm.Level, values));
+            }
+        }
+    }
+
+    /// <summary>A mean on the model scale (centred), back on the response's own scale.</summary>
+    private static Quantity Back(Outcome outcome, Quantity centredMean)
+    {
+        if (!centredMean.IsDefined)
+        {
+            return centredMean;
+        }
+
+        var m = centredMean.Value + outcome.ResponseCentre;
+        return outcome.Transformed is { } t ? ResponseTransform.BackTransformMean(m, t) : Quantity.Of(m);
+    }
+
+    private static void OneFactorChecks(EvaluationContext context, BoundBlock block, Outcome outcome, Options options, IReadOnlyList<string> inputs)
+    {
+        var factor = outcome.Data!.Factors[0];
+        var groups = factor.Split(outcome.Input!.Response);
+        var alpha = context.Header.Alpha.ToString("R", CultureInfo.InvariantCulture);
+        var showWelch = options.Welch == "yes";
+        if (options.Welch == "yes")
+        {
+            outcome.Decisions.Add("Welch's F is shown because it was requested (welch: yes).");
+        }
+        else if (options.Welch == "auto")
+        {
+            var bf = outcome.Review.BrownForsythe;
+            if (outcome.Review.UnequalVariances)
+            {
+                showWelch = true;
+                outcome.ReadWelch = true;
+                outcome.Decisions.Add($"Rule fired (welch: auto): the Brown–Forsythe test found unequal group variances (p = {P(bf.P)} < α = {alpha}), so Welch's F, which does not assume equal variances, is shown and is the test to read.");
+            }
+            else
+            {
+                outcome.Decisions.Add(bf.P.IsDefined
+                    ? $"Welch's F is not shown (welch: auto): the Brown–Forsythe test found no evidence of unequal variances (p = {P(bf.P)} ≥ α = {alpha}). Set 'welch: yes' to show it anyway."
+                    : $"Welch's F is not shown (welch: auto): equal variances could not be checked ({bf.P.Reason}).");
+            }
+
+            if (outcome.Review.WantsRankTest)
+            {
+                var kw = KruskalWallis.Test(groups);
+                outcome.Ranks = new Dictionary<string, ResultValue>(StringComparer.Ordinal)
+                {
+                    ["h"] = context.Results.Add(block.Id, "kruskal_wallis", factor.Spec.Name, null, null, "h", kw.H, inputs),
+                    ["df"] = context.Results.Add(block.Id, "kruskal_wallis", factor.Spec.Name, null, null, "df", kw.Df, inputs),
+                    ["p"] = context.Results.Add(block.Id, "kruskal_wallis", factor.Spec.Name, null, null, "p", kw.P, inputs),
+                };
+                outcome.Decisions.Add(string.Create(CultureInfo.InvariantCulture, $"Rule fired (welch: auto): the residuals depart from normality (Shapiro–Wilk p = {P(outcome.Review.Normality.P)} < α = {alpha}) and the smallest group has only {outcome.Review.SmallestGroup} observations (fewer than {AssumptionReview.SmallGroup}), so the Kruskal–Wallis rank test, which does not assume normality, is shown as well."));
+            }
+        }
+
+        if (showWelch)
+        {
             var w = WelchAnova.Test(groups);
             var values = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
             void AddW(string stat, Quantity q) => values[stat] = context.Results.Add(block.Id, "welch", factor.Spec.Name, null, null, stat, q, inputs);
@@ -115,16 +289,12 @@ public sealed class AnovaKind : BlockKind
             AddW("df2", w.Df2);
             AddW("p", w.P);
             outcome.Welch = values;
-            outcome.WelchReason = options.Welch == "yes"
-                ? "Welch's F was requested (welch: yes)."
-                : "Welch's F is shown beside the classical F (welch: auto): it does not assume equal group variances, and where the variances differ it is the one to read.";
         }
-
-        AddCautions(outcome, data);
-        return outcome;
     }
 
-    private static void AddCautions(Outcome outcome, BlockData data)
+    private static string P(Quantity p) => !p.IsDefined ? "not defined" : p.Value < 0.001 ? "< 0.001" : p.Value.ToString("F3", CultureInfo.InvariantCulture);
+
+    private static void AddCautions(Outcome outcome, BlockData data, Options options)
     {
         var cells = data.Cells();
         var ones = cells.Where(c => c.Values.Length == 1).Select(c => c.Label).ToList();
@@ -139,10 +309,12 @@ public sealed class AnovaKind : BlockKind
             outcome.Warnings.Add($"Small group(s) (fewer than 5 observations): {string.Join(", ", small)}. The test has little power to detect differences, and normality and equal variances cannot be judged well from so few values.");
         }
 
-        var sizes = cells.Select(c => c.Values.Length).Distinct().Count();
-        if (sizes > 1 && data.Factors.Count > 1)
+        var unbalanced = cells.Select(c => c.Values.Length).Distinct().Count() > 1;
+        if (unbalanced && data.Factors.Count > 1)
         {
-            outcome.Warnings.Add("The design is unbalanced: the sums of squares depend on the SS type, and with interactions present the main effects are hard to interpret on their own.");
+            outcome.Warnings.Add(options.Interaction
+                ? "The design is unbalanced and includes interactions: the sums of squares depend on the SS type, and a main effect is hard to interpret on its own when its factor interacts with another."
+                : "The design is unbalanced: the sums of squares depend on the SS type chosen.");
         }
 
         if (data.DroppedMissing > 0)
@@ -159,7 +331,8 @@ public sealed class AnovaKind : BlockKind
             return;
         }
 
-        var caption = o.Block.Caption ?? $"Analysis of variance of {o.Data.ResponseName}";
+        var responseText = o.Transformed is null ? o.Data.ResponseName : TransformLabel(o) + " of " + o.Data.ResponseName;
+        var caption = o.Block.Caption ?? $"Analysis of variance of {responseText}";
         var table = new HtmlTable("anova", caption, ["Source", "SS", "df", "MS", "F", "p"]);
         foreach (var (term, v) in o.Terms)
         {
@@ -174,6 +347,11 @@ public sealed class AnovaKind : BlockKind
             html.Raw("<p class=\"method\">").Text(SsTypeText(o.Result.SsType)).Raw("</p>");
         }
 
+        if (o.Transformed is { } tr)
+        {
+            html.Raw("<p class=\"method\">").Text(TransformText(tr)).Raw("</p>");
+        }
+
         var effects = new HtmlTable("effects", "Critical F and effect sizes", ["Term", "F crit (α = " + context.AlphaText + ")", "η²", "partial η²", "ω²", "Cohen's f"]);
         foreach (var (term, v) in o.Terms)
         {
@@ -181,6 +359,7 @@ public sealed class AnovaKind : BlockKind
         }
 
         effects.WriteTo(html);
+        RenderMeans(html, o, context);
 
         if (o.Welch is { } w)
         {
@@ -189,19 +368,73 @@ public sealed class AnovaKind : BlockKind
             welch.WriteTo(html);
         }
 
+        if (o.Ranks is { } r)
+        {
+            var ranks = new HtmlTable("ranks", "Kruskal–Wallis rank test (normality not assumed)", ["Source", "H", "df", "p"]);
+            ranks.Row(Label(o.Terms[0].Term, o), [V(r, "h"), V(r, "df"), V(r, "p")]);
+            ranks.WriteTo(html);
+        }
+
         html.Raw("<div class=\"reading\">");
+        foreach (var d in o.Decisions)
+        {
+            html.Raw("<p class=\"decision\">").Text(d).Raw("</p>");
+        }
+
         foreach (var (term, v) in o.Terms)
         {
             html.Raw("<p>").Raw(Interpret(term, v, o, context)).Raw("</p>");
         }
 
-        if (o.WelchReason is not null)
-        {
-            html.Raw("<p>").Text(o.WelchReason).Raw("</p>");
-        }
-
         html.Raw("</div>");
         string V(Dictionary<string, ResultValue> values, string stat) => HtmlWriter.ValueHtml(values[stat], context);
+    }
+
+    private static void RenderMeans(HtmlWriter html, Outcome o, RenderContext context)
+    {
+        var factorial = o.Input!.Factors.Count > 1;
+        var meanName = o.Transformed is { } t ? CapitalFirst(t.BackTransformedMean) : "Mean";
+        string[] headers = factorial ? ["Level", "n", meanName, "least-squares " + meanName.ToLowerInvariant()] : ["Level", "n", meanName];
+        var table = new HtmlTable("means", "Level means" + (o.Transformed is null ? string.Empty : " (back-transformed to the original scale)"), headers);
+        foreach (var (factor, level, v) in o.Means)
+        {
+            var label = factorial ? o.Data!.Factors.First(f => f.Spec.Name == factor).Spec.Display + ": " + level : level;
+            List<string> cells = [HtmlWriter.ValueHtml(v["n"], context), HtmlWriter.ValueHtml(v["mean"], context)];
+            if (factorial)
+            {
+                cells.Add(HtmlWriter.ValueHtml(v["ls_mean"], context));
+            }
+
+            table.Row(label, cells);
+        }
+
+        table.WriteTo(html);
+    }
+
+    private static string CapitalFirst(string s) => s.Length == 0 ? s : char.ToUpperInvariant(s[0]) + s[1..];
+
+    private static string TransformLabel(Outcome o) => ((Options)o.Block.Options!).TransformName switch
+    {
+        "log" => "ln",
+        "box-cox" => "Box–Cox transform",
+        var n => n,
+    };
+
+    private static string TransformText(TransformedResponse t)
+    {
+        var what = t.Kind switch
+        {
+            TransformKind.Log => "natural logarithm, ln y",
+            TransformKind.Log10 => "common logarithm, log10 y",
+            TransformKind.Sqrt => "square root, √y",
+            TransformKind.Reciprocal => "reciprocal, 1/y",
+            _ => string.Create(CultureInfo.InvariantCulture, $"Box–Cox power (y^λ − 1)/λ with the maximum-likelihood λ = {t.BoxCox!.Lambda:0.###}")
+                + (t.BoxCox!.LambdaLow.IsDefined && t.BoxCox.LambdaHigh.IsDefined
+                    ? string.Create(CultureInfo.InvariantCulture, $" ({t.BoxCox.ConfidenceLevel * 100:0.#}% profile-likelihood interval {t.BoxCox.LambdaLow.Value:0.###} to {t.BoxCox.LambdaHigh.Value:0.###})")
+                    : string.Empty)
+                + (t.BoxCox.AtBound ? "; the maximum lies at the edge of the searched range [−3, 3], so the data may need a different treatment" : string.Empty),
+        };
+        return $"The response was transformed before the analysis ({what}). Sums of squares are on the transformed scale; the level means are shown back-transformed ({t.BackTransformedMean}).";
     }
 
     private static string Label(AnovaTerm term, Outcome o)
@@ -227,18 +460,27 @@ public sealed class AnovaKind : BlockKind
 
         var stat = $"F({HtmlWriter.ValueHtml(v["df"], context)}, {HtmlWriter.ValueHtml(o.Residual["df"], context)}) = {HtmlWriter.ValueHtml(v["f"], context)}, p {PText(v["p"], context)}";
         var isInteraction = term.Factors.Count > 1;
+        var response = HtmlWriter.Escape(o.Data!.ResponseName);
         var what = isInteraction
-            ? $"the effect of one of {label} depends on the level of the other"
-            : $"the mean of {HtmlWriter.Escape(o.Data!.ResponseName)} differs between at least two levels of {label}";
+            ? $"the effect of one of {label} on {response} depends on the level of the other"
+            : $"the mean {response} differs between at least two levels of {label}";
+        var caveat = o.ReadWelch && !isInteraction
+            ? " Because the variances differ, rely on Welch's test below rather than on this F."
+            : string.Empty;
         return term.P.Value < context.Alpha
-            ? $"{label}: at α = {context.AlphaText} the test rejects the hypothesis of no effect ({stat}); the data indicate that {what}. It does not say which levels differ or whether the difference matters in practice; see the effect sizes and, for pairs, a post-hoc comparison."
-            : $"{label}: at α = {context.AlphaText} the test does not reject the hypothesis of no effect ({stat}). This is not evidence that there is no effect: a real difference may be too small for this design to detect.";
+            ? $"{label}: at α = {context.AlphaText} the test rejects the hypothesis of no effect ({stat}); the data indicate that {what}. It does not say which levels differ or whether the difference matters in practice; see the effect sizes and, for pairs, a post-hoc comparison.{caveat}"
+            : $"{label}: at α = {context.AlphaText} the test does not reject the hypothesis of no effect ({stat}). This is not evidence that there is no effect: a real difference may be too small for this design to detect.{caveat}";
     }
 
     internal static string PText(ResultValue p, RenderContext context)
     {
-        var shown = context.Format.Format("p", p.Value.Value);
         var html = HtmlWriter.ValueHtml(p, context);
+        if (!p.Value.IsDefined)
+        {
+            return html;
+        }
+
+        var shown = context.Format.Format("p", p.Value.Value);
         return shown.StartsWith('<') ? html : "= " + html;
     }
 }

@@ -26,14 +26,65 @@ public abstract class BlockKind
     /// <summary>Whether the block needs factors (it compares groups).</summary>
     public virtual bool NeedsFactors => true;
 
+    /// <summary>
+    /// Whether the block analyses another block's model (named by <c>of</c>) instead of reading
+    /// data itself; such blocks take data, response, factors and filter from that block.
+    /// </summary>
+    public virtual bool AnalysesAnovaBlock => false;
+
     /// <summary>Binds the kind's own keys; report mistakes to the bag.</summary>
-    public abstract object? BindOptions(KeyReader keys, StudyHeader header, DiagnosticBag diagnostics);
+    public abstract object? BindOptions(KeyReader keys, BindContext context, DiagnosticBag diagnostics);
 
     /// <summary>Computes the block, adding values to the result set, and returns what to render.</summary>
     public abstract BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics);
 
     /// <summary>Writes the block's HTML (tables, notes) into the writer.</summary>
     public abstract void Render(HtmlWriter html, BlockOutcome outcome, RenderContext context);
+}
+
+/// <summary>What binding a block can see: the header, the blocks above it, and the block itself.</summary>
+public sealed record BindContext(StudyHeader Header, IReadOnlyList<BoundBlock> Earlier, Syntax.AnalysisBlockSyntax Syntax, IReadOnlyDictionary<string, Syntax.AnalysisBlockSyntax> AllIds)
+{
+    /// <summary>
+    /// Resolves an <c>of</c> key to an anova block above this one (default: the nearest above).
+    /// </summary>
+    public BoundBlock? AnovaOf(KeyReader keys, string kindName, DiagnosticBag diagnostics)
+    {
+        var anovas = Earlier.Where(b => b.Kind is AnovaKind).ToList();
+        if (keys.Scalar("of") is { } of)
+        {
+            var target = Earlier.FirstOrDefault(b => b.Id == of.Value);
+            if (target is null)
+            {
+                if (AllIds.TryGetValue(of.Value, out var later) && later.Location.Line > Syntax.Location.Line)
+                {
+                    diagnostics.OfMustComeBefore(of.Location, of.Value, kindName);
+                }
+                else
+                {
+                    diagnostics.UnknownOf(of.Location, of.Value, DiagnosticBag.Nearest(of.Value, anovas.Select(a => a.Id)));
+                }
+
+                return null;
+            }
+
+            if (target.Kind is not AnovaKind)
+            {
+                diagnostics.OfNotAnova(of.Location, of.Value, target.Kind.Name);
+                return null;
+            }
+
+            return target;
+        }
+
+        if (anovas.Count == 0)
+        {
+            diagnostics.NoAnovaAbove(Syntax.Location, kindName);
+            return null;
+        }
+
+        return anovas[^1];
+    }
 }
 
 /// <summary>What a block produced: its values and anything it needs to render them.</summary>
@@ -54,6 +105,8 @@ public static class BlockKinds
     {
         new SummaryKind(),
         new AnovaKind(),
+        new AssumptionsKind(),
+        new RanksKind(),
     }.ToDictionary(k => k.Name, StringComparer.Ordinal);
 
     public static IReadOnlySet<string> Names { get; } = new HashSet<string>(All.Keys, StringComparer.Ordinal);

@@ -21,7 +21,7 @@ public sealed class SummaryKind : BlockKind
 
     public override bool NeedsFactors => false;
 
-    public override object? BindOptions(KeyReader keys, StudyHeader header, DiagnosticBag diagnostics) => null;
+    public override object? BindOptions(KeyReader keys, BindContext context, DiagnosticBag diagnostics) => null;
 
     public sealed class Outcome(BoundBlock block) : BlockOutcome(block)
     {
