@@ -11,7 +11,7 @@ public sealed partial class ReportTests
     private const string Csv = "plot,dose,y\n1,a,1.0\n2,a,2.0\n3,a,1.5\n4,b,3.5\n5,b,4.0\n6,b,4.4\n7,c,5.5\n8,c,6.0\n9,c,5.1\n";
 
     private static string Study(string title = "Dose trial", string prose = "F was {{ main.dose.f }} (p {{ main.dose.p }}).") =>
-        $"---\ntitle: \"{title}\"\ndata: data.csv\nresponse: y\nfactors:\n  dose:\n---\n\n```summary s\n```\n\n```anova main\n```\n\n{prose}\n";
+        $"---\ntitle: \"{title}\"\ndata: data.csv\nresponse: y\nfactors:\n  dose:\n---\n\n```summary s\n```\n\n```anova main\nwelch: yes\n```\n\n{prose}\n";
 
     [GeneratedRegex("data-v=\"(v[0-9]+)\"")]
     private static partial Regex TraceId();
