@@ -202,6 +202,14 @@ internal static class BlockBinder
             }
         }
 
+        if (!kind.UsesData)
+        {
+            foreach (var key in new[] { "data", "response", "factors", "where" }.Where(keys.Has))
+            {
+                diagnostics.KeyNotUsed(keys.KeyLocation(key), key, kind.Name);
+            }
+        }
+
         var caption = keys.String("caption");
         var options = kind.BindOptions(keys, context, diagnostics);
         if (diagnostics.Items.Count > before)

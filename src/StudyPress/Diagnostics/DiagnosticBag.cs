@@ -165,6 +165,12 @@ public sealed class DiagnosticBag
 
     public void OneFactorOnly(SourceLocation at, string kind) => Error("SP0237", at, $"the {kind} block compares the levels of one factor; name it with 'factor'");
 
+    public void PowerNeeds(SourceLocation at, string what) => Error("SP0238", at, $"the power block needs {what}");
+
+    public void PowerTargetRange(SourceLocation at, string text) => Error("SP0239", at, $"'target' is a power strictly between 0 and 1, not {Q(text)}");
+
+    public void KeyNotUsed(SourceLocation at, string key, string kind) => Error("SP0240", at, $"{Q(key)} has no use in a {kind} block, which reads no data");
+
     // ---- data (SP03xx) ----
     public void PathAbsolute(SourceLocation at, string path) => Error("SP0301", at, $"data path {Q(path)} must be relative to the study file");
 

@@ -393,7 +393,7 @@ public sealed class AnovaKind : BlockKind
     private static void RenderMeans(HtmlWriter html, Outcome o, RenderContext context)
     {
         var factorial = o.Input!.Factors.Count > 1;
-        var meanName = o.Transformed is { } t ? CapitalFirst(t.BackTransformedMean) : "Mean";
+        var meanName = o.Transformed is null ? "Mean" : "Back-transformed mean";
         string[] headers = factorial ? ["Level", "n", meanName, "least-squares " + meanName.ToLowerInvariant()] : ["Level", "n", meanName];
         var table = new HtmlTable("means", "Level means" + (o.Transformed is null ? string.Empty : " (back-transformed to the original scale)"), headers);
         foreach (var (factor, level, v) in o.Means)
@@ -410,8 +410,6 @@ public sealed class AnovaKind : BlockKind
 
         table.WriteTo(html);
     }
-
-    private static string CapitalFirst(string s) => s.Length == 0 ? s : char.ToUpperInvariant(s[0]) + s[1..];
 
     private static string TransformLabel(Outcome o) => ((Options)o.Block.Options!).TransformName switch
     {

@@ -106,7 +106,9 @@ public static class BlockKinds
         new SummaryKind(),
         new AnovaKind(),
         new AssumptionsKind(),
+        new PostHocKind(),
         new RanksKind(),
+        new PowerKind(),
     }.ToDictionary(k => k.Name, StringComparer.Ordinal);
 
     public static IReadOnlySet<string> Names { get; } = new HashSet<string>(All.Keys, StringComparer.Ordinal);
