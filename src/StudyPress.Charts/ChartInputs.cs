@@ -1,0 +1,16 @@
+namespace StudyPress.Charts;
+
+/// <summary>The observations of one group (in level order), for <see cref="StatCharts.GroupDistributions"/>.</summary>
+public sealed record GroupSample(string Label, IReadOnlyList<double> Values);
+
+/// <summary>A group mean with its confidence interval, for <see cref="StatCharts.GroupMeans"/>.</summary>
+public sealed record GroupMean(string Label, double Mean, double Lower, double Upper);
+
+/// <summary>The mean of one cell (level of A × level of B), for <see cref="StatCharts.InteractionPlot"/>.</summary>
+public sealed record CellMean(string LevelA, string LevelB, double Mean);
+
+/// <summary>Power at a per-group sample size, for <see cref="StatCharts.PowerCurve"/>.</summary>
+public sealed record PowerPoint(int PerGroupN, double Power);
+
+/// <summary>One simultaneous interval: pair label, estimated difference and its bounds.</summary>
+public sealed record IntervalComparison(string Pair, double Difference, double Lower, double Upper);
