@@ -11,7 +11,7 @@ namespace StudyPress.Rendering;
 /// </summary>
 public sealed class NumberFormat(int digits, int pDigits)
 {
-    private static readonly HashSet<string> IntegerStats = new(StringComparer.Ordinal) { "n", "df", "missing", "n_per_group", "n_total", "df1", "df2" };
+    private static readonly HashSet<string> IntegerStats = new(StringComparer.Ordinal) { "n", "df", "missing", "n_per_group", "n_total", "df1", "df2", "m" };
     private static readonly HashSet<string> PStats = new(StringComparer.Ordinal) { "p", "p_adj" };
 
     public int Digits { get; } = digits;
