@@ -47,6 +47,11 @@ public static class StudentizedRange
             return 0.0;
         }
 
+        if (double.IsPositiveInfinity(q))
+        {
+            return 1.0;
+        }
+
         var upper = Upper(q, k, df);
         if (upper <= 0.5)
         {
@@ -63,6 +68,11 @@ public static class StudentizedRange
         if (q <= 0)
         {
             return 1.0;
+        }
+
+        if (double.IsPositiveInfinity(q))
+        {
+            return 0.0;
         }
 
         var p = double.IsPositiveInfinity(df) ? RangeUpper(q, k) : Outer(q, df, w => RangeUpper(w, k));

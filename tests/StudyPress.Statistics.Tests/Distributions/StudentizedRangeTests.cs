@@ -229,6 +229,8 @@ public class StudentizedRangeTests
         Assert.Throws<ArgumentOutOfRangeException>(() => StudentizedRange.UpperQuantile(0, 3, 10));
         Assert.Equal(1.0, StudentizedRange.Upper(0, 3, 10));
         Assert.Equal(0.0, StudentizedRange.Cdf(-1, 3, 10));
+        Assert.Equal(0.0, StudentizedRange.Upper(double.PositiveInfinity, 3, 10));
+        Assert.Equal(1.0, StudentizedRange.Cdf(double.PositiveInfinity, 3, double.PositiveInfinity));
     }
 
     private static IEnumerable<(double Alpha, double Df, int K, string Q)> ReadTable(string file)
