@@ -28,7 +28,8 @@ public sealed record FactorSpec(
     public string Display => Label ?? Name;
 }
 
-public sealed record ReportOptions(int Digits, int PDigits);
+/// <summary>Presentation options; <paramref name="Figures"/> false stops kinds from placing their figures.</summary>
+public sealed record ReportOptions(int Digits, int PDigits, bool Figures);
 
 public sealed record StudyHeader(
     string Title,
@@ -56,7 +57,7 @@ internal static class HeaderBinder
 
     private static readonly string[] DatasetKeys = ["path", "sha256", "delimiter", "decimal", "missing"];
     private static readonly string[] FactorKeys = ["column", "levels", "label"];
-    private static readonly string[] ReportKeys = ["template", "digits", "p-digits"];
+    private static readonly string[] ReportKeys = ["template", "digits", "p-digits", "figures"];
     private static readonly string[] DefaultMissing = ["", "NA", "N/A", "."];
 
     public static StudyHeader Bind(YMapping map, string studyPath, DiagnosticBag diagnostics)
@@ -155,6 +156,7 @@ internal static class HeaderBinder
         var orderNode = r.Scalar("order");
         var digits = 3;
         var pDigits = 3;
+        var figures = true;
         switch (r.Node("report"))
         {
             case null or YScalar { IsNull: true }:
@@ -168,6 +170,7 @@ internal static class HeaderBinder
 
                 digits = rr.Integer("digits", 1, 15) ?? digits;
                 pDigits = rr.Integer("p-digits", 1, 15) ?? pDigits;
+                figures = (rr.Choice("figures", ["auto", "none"]) ?? "auto") == "auto";
                 break;
             case var other:
                 diagnostics.ExpectedMapping(other.Location, "'report'");
@@ -185,7 +188,7 @@ internal static class HeaderBinder
             factors,
             orderNode?.Value,
             orderNode?.Location ?? map.Location,
-            new ReportOptions(digits, pDigits),
+            new ReportOptions(digits, pDigits, figures),
             map.Location);
     }
 

@@ -171,6 +171,10 @@ public sealed class DiagnosticBag
 
     public void KeyNotUsed(SourceLocation at, string key, string kind) => Error("SP0240", at, $"{Q(key)} has no use in a {kind} block, which reads no data");
 
+    public void FigureSource(SourceLocation at, string type, string kinds, string id, string kind) => Error("SP0241", at, $"a {type} figure is drawn from a {kinds} block; {Q(id)} is a {kind} block");
+
+    public void FigureNoSource(SourceLocation at, string type, string kinds) => Error("SP0242", at, $"a {type} figure is drawn from a {kinds} block, and there is none above this one");
+
     // ---- data (SP03xx) ----
     public void PathAbsolute(SourceLocation at, string path) => Error("SP0301", at, $"data path {Q(path)} must be relative to the study file");
 

@@ -193,6 +193,17 @@ public sealed class AnovaKind : BlockKind
         }
 
         AddCautions(outcome, data, options);
+        if (context.Header.Report.Figures)
+        {
+            var shape = data.Factors.Count == 1 ? Figures.Means(data, context.Header.Alpha) : Figures.Interaction(outcome);
+            if (shape is not null)
+            {
+                outcome.Figures.Add(shape);
+            }
+
+            outcome.Figures.AddRange(Figures.FDistributions(outcome).Take(data.Factors.Count == 1 ? 1 : 3));
+        }
+
         return outcome;
     }
 

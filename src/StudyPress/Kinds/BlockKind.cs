@@ -96,6 +96,9 @@ public class BlockOutcome(BoundBlock block)
     public List<string> Notes { get; } = [];
 
     public List<string> Warnings { get; } = [];
+
+    /// <summary>Charts to show under the block.</summary>
+    public List<Figure> Figures { get; } = [];
 }
 
 /// <summary>Every kind the compiler knows, by name.</summary>
@@ -109,6 +112,7 @@ public static class BlockKinds
         new PostHocKind(),
         new RanksKind(),
         new PowerKind(),
+        new FigureKind(),
     }.ToDictionary(k => k.Name, StringComparer.Ordinal);
 
     public static IReadOnlySet<string> Names { get; } = new HashSet<string>(All.Keys, StringComparer.Ordinal);

@@ -153,6 +153,11 @@ public sealed class PostHocKind : BlockKind
         var m = result.Comparisons.Count;
         outcome.Multiplicity["m"] = context.Results.Add(block.Id, "family", term, null, null, "m", m, inputs);
         outcome.Multiplicity["fwer_unadjusted"] = context.Results.Add(block.Id, "family", term, null, null, "fwer_unadjusted", PValueAdjustment.FamilyWiseErrorRate(m, alpha), inputs);
+        if (context.Header.Report.Figures && Figures.Intervals(outcome, alpha) is { } figure)
+        {
+            outcome.Figures.Add(figure);
+        }
+
         if (groups.Any(g => g.Length < 2))
         {
             outcome.Warnings.Add("Some levels have a single observation: comparisons involving them rest entirely on the pooled variance (and are not defined for Games–Howell).");

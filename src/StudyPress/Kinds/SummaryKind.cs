@@ -30,6 +30,8 @@ public sealed class SummaryKind : BlockKind
         public string Term { get; set; } = string.Empty;
 
         public string ResponseName { get; set; } = string.Empty;
+
+        public BlockData? Data { get; set; }
     }
 
     public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
@@ -42,6 +44,7 @@ public sealed class SummaryKind : BlockKind
         }
 
         outcome.ResponseName = data.ResponseName;
+        outcome.Data = data;
         var inputs = context.Inputs(block);
         var term = data.Factors.Count == 0 ? null : string.Join(":", data.Factors.Select(f => f.Spec.Name));
         outcome.Term = term ?? string.Empty;
@@ -82,6 +85,11 @@ public sealed class SummaryKind : BlockKind
         if (data.DroppedMissing > 0)
         {
             outcome.Notes.Add(string.Create(System.Globalization.CultureInfo.InvariantCulture, $"{data.DroppedMissing} row(s) with a missing value were left out."));
+        }
+
+        if (context.Header.Report.Figures && data.Factors.Count > 0 && Figures.Box(data) is { } box)
+        {
+            outcome.Figures.Add(box);
         }
 
         return outcome;

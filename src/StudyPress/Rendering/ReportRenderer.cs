@@ -77,7 +77,7 @@ internal static class ReportRenderer
         renderer.Writer.Flush();
 
         var manifestText = Encoding.UTF8.GetString(manifest).TrimEnd('\n');
-        var css = ReportTemplate.Css;
+        var css = StudyPress.Charts.ChartFont.CssFontFace() + "\n" + ReportTemplate.Css;
         var js = ReportTemplate.Script;
         var csp = "default-src 'none'; style-src '" + Hash(css) + "'; script-src '" + Hash(js) + "'; img-src data:; font-src data:; base-uri 'none'; form-action 'none'";
         var model = new ScriptObject
@@ -146,6 +146,11 @@ internal static class ReportRenderer
             html.Raw("<section class=\"block block-").Raw(outcome.Block.Kind.Name).Raw("\" id=\"block-").Text(outcome.Block.Id).Raw("\">");
             html.Raw("<p class=\"block-title\">").Text(outcome.Block.Kind.Name + " · " + outcome.Block.Id).Raw("</p>");
             outcome.Block.Kind.Render(html, outcome, context);
+            foreach (var figure in outcome.Figures)
+            {
+                html.Raw("<figure class=\"chart chart-").Raw(figure.Type).Raw("\">").Raw(figure.Chart.ToSvg()).Raw("<figcaption>").Text(figure.Caption).Raw("</figcaption></figure>");
+            }
+
             if (outcome.Warnings.Count > 0)
             {
                 html.Raw("<div class=\"warnings\">");

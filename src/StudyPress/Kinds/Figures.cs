@@ -1,0 +1,187 @@
+using System.Globalization;
+using StudyPress.Charts;
+using StudyPress.Evaluation;
+using StudyPress.Statistics.Power;
+
+namespace StudyPress.Kinds;
+
+/// <summary>A chart placed in the report, with the caption shown under it.</summary>
+public sealed record Figure(string Type, string Caption, Chart Chart);
+
+/// <summary>
+/// Builds the report's figures from block outcomes. Each kind places the figures that belong to it
+/// (unless the header sets <c>report: {figures: none}</c>); the <c>figure</c> block draws any of
+/// them on its own.
+/// </summary>
+public static class Figures
+{
+    public static readonly string[] Types = ["box", "means", "interaction", "qq", "residual-histogram", "residuals-fitted", "f-distribution", "power-curve", "intervals"];
+
+    /// <summary>Box plots with every observation over them, by the block's cells.</summary>
+    public static Figure? Box(BlockData data, string? caption = null)
+    {
+        var cells = data.Factors.Count == 0 ? [("all", Array.Empty<int>(), data.Response, Enumerable.Range(0, data.Rows.Length).ToArray())] : data.Cells();
+        var groups = cells.Select(c => new GroupSample(c.Label, [.. c.Positions.Select(i => data.Values[i])])).ToList();
+        var by = string.Join(" and ", data.Factors.Select(f => f.Spec.Display));
+        var chart = StatCharts.GroupDistributions(groups, new ChartLabels($"Distribution of {data.ResponseName}" + (by.Length > 0 ? " by " + by : string.Empty), by, data.ResponseName));
+        return new Figure("box", caption ?? $"Each group's box spans the quartiles with the median marked; whiskers reach the most extreme values within 1.5 IQR of the box; every observation is drawn as a point.", chart);
+    }
+
+    /// <summary>Group means with t confidence intervals.</summary>
+    public static Figure? Means(BlockData data, double alpha, string? caption = null)
+    {
+        var cells = data.Factors.Count == 0 ? [("all", Array.Empty<int>(), data.Response, Enumerable.Range(0, data.Rows.Length).ToArray())] : data.Cells();
+        var means = new List<GroupMean>();
+        foreach (var (label, _, values, positions) in cells)
+        {
+            var s = Statistics.Descriptive.Descriptives.Compute(values, [.. positions.Select(i => data.Values[i])], data.Centre, alpha, data.ExactMean(positions));
+            if (!s.CiLow.IsDefined)
+            {
+                continue;
+            }
+
+            means.Add(new GroupMean(label, s.Mean, s.CiLow.Value, s.CiHigh.Value));
+        }
+
+        if (means.Count == 0)
+        {
+            return null;
+        }
+
+        var level = Confidence(alpha);
+        var by = string.Join(" and ", data.Factors.Select(f => f.Spec.Display));
+        var chart = StatCharts.GroupMeans(means, level, new ChartLabels($"Mean {data.ResponseName} with {level} intervals", by, data.ResponseName));
+        return new Figure("means", caption ?? $"Group means with {level} confidence intervals (each group's own t interval, not adjusted for multiple comparisons).", chart);
+    }
+
+    /// <summary>Cell means of a two-factor model, one line per level of the second factor.</summary>
+    public static Figure? Interaction(AnovaKind.Outcome anova, string? caption = null)
+    {
+        if (anova.Input is null || anova.Input.Factors.Count < 2)
+        {
+            return null;
+        }
+
+        var a = anova.Data!.Factors[0];
+        var b = anova.Data.Factors[1];
+        var cells = new List<CellMean>();
+        foreach (var (_, codes, _, positions) in anova.Data.Cells())
+        {
+            var mean = positions.Average(i => anova.Data.Values[i]);
+            cells.Add(new CellMean(a.Levels[codes[0]], b.Levels[codes[1]], mean));
+        }
+
+        var chart = StatCharts.InteractionPlot(a.Levels, b.Levels, cells, b.Spec.Display, new ChartLabels($"Mean {anova.Data.ResponseName} by {a.Spec.Display} and {b.Spec.Display}", a.Spec.Display, anova.Data.ResponseName));
+        return new Figure("interaction", caption ?? $"Observed cell means; lines that are not parallel suggest an interaction (compare with the F test of {a.Spec.Display} × {b.Spec.Display}).", chart);
+    }
+
+    public static Figure? Qq(AnovaKind.Outcome anova, string? caption = null)
+    {
+        if (anova.Result is null || anova.Result.Residuals.Length < 3)
+        {
+            return null;
+        }
+
+        var level = Confidence(anova.Result.Alpha);
+        var chart = StatCharts.NormalQuantilePlot(anova.Result.Residuals, new ChartLabels("Normal quantile plot of the residuals", "standard normal quantile", "residual"), 1 - anova.Result.Alpha);
+        return new Figure("qq", caption ?? $"Residuals against normal quantiles (Blom plotting positions), with a line through the quartiles and a pointwise {level} envelope from the order statistics' beta distributions; points along the line are what normal residuals look like.", chart);
+    }
+
+    public static Figure? Histogram(AnovaKind.Outcome anova, string? caption = null)
+    {
+        if (anova.Result is null || anova.Result.Residuals.Length < 3)
+        {
+            return null;
+        }
+
+        var chart = StatCharts.ResidualHistogram(anova.Result.Residuals, new ChartLabels("Distribution of the residuals", "residual", "count"));
+        return new Figure("residual-histogram", caption ?? "Histogram of the residuals (Freedman–Diaconis bins) with the fitted normal density and a kernel density estimate (Silverman's bandwidth).", chart);
+    }
+
+    public static Figure? ResidualsFitted(AnovaKind.Outcome anova, string? caption = null)
+    {
+        if (anova.Result is null)
+        {
+            return null;
+        }
+
+        var fitted = anova.Result.Fitted.Select(f => f + anova.ResponseCentre).ToArray();
+        var chart = StatCharts.ResidualsVersusFitted(fitted, anova.Result.Residuals, new ChartLabels("Residuals against fitted values", "fitted value" + (anova.Transformed is null ? string.Empty : " (transformed scale)"), "residual"));
+        return new Figure("residuals-fitted", caption ?? "A funnel shape (spread growing with the fitted value) suggests unequal variances; curvature suggests a missing term or a needed transformation.", chart);
+    }
+
+    public static IEnumerable<Figure> FDistributions(AnovaKind.Outcome anova, string? caption = null)
+    {
+        if (anova.Result is null)
+        {
+            yield break;
+        }
+
+        foreach (var t in anova.Result.Terms)
+        {
+            if (!t.F.IsDefined || t.Df <= 0 || anova.Result.ResidualDf <= 0)
+            {
+                continue;
+            }
+
+            var name = string.Join(" × ", t.Factors.Select(n => anova.Data!.Factors.First(f => f.Spec.Name == n).Spec.Display));
+            var chart = StatCharts.FDistribution(t.Df, anova.Result.ResidualDf, t.F.Value, anova.Result.Alpha, new ChartLabels(string.Create(CultureInfo.InvariantCulture, $"F({t.Df}, {anova.Result.ResidualDf}) distribution: {name}"), "F", "density"));
+            yield return new Figure("f-distribution", caption ?? string.Create(CultureInfo.InvariantCulture, $"The F distribution under no effect of {name}; the shaded region is the rejection region at α = {anova.Result.Alpha.ToString("R", CultureInfo.InvariantCulture)} and the line marks the observed F."), chart);
+        }
+    }
+
+    public static Figure? Intervals(PostHocKind.Outcome posthoc, double alpha, string? caption = null)
+    {
+        var family = posthoc.Families.FirstOrDefault(f => f.Pairs.Any(p => p.Pair.CiLow.IsDefined));
+        if (family is null)
+        {
+            return null;
+        }
+
+        var rows = family.Pairs
+            .Where(p => p.Pair.CiLow.IsDefined && p.Pair.CiHigh.IsDefined)
+            .Select(p => new IntervalComparison(p.Pair.LevelA + " − " + p.Pair.LevelB, p.Pair.Diff, p.Pair.CiLow.Value, p.Pair.CiHigh.Value))
+            .ToList();
+        var level = Confidence(alpha);
+        var chart = StatCharts.SimultaneousIntervals(rows, level, new ChartLabels($"{family.Title}: simultaneous {level} intervals", "difference", string.Empty));
+        return new Figure("intervals", caption ?? $"Simultaneous {level} intervals for the differences; intervals that exclude zero (solid, diamond) are the pairs the procedure separates.", chart);
+    }
+
+    public static Figure? PowerCurve(PowerKind.Outcome power, string? caption = null)
+    {
+        if (power.Groups < 2 || power.Effect <= 0)
+        {
+            return null;
+        }
+
+        var reference = power.Required.TryGetValue("n_per_group", out var need) && need.Value.IsDefined ? (int)need.Value.Value : 0;
+        var planned = power.Values.TryGetValue("n_per_group", out var n) ? (int)n.Value.Value : 0;
+        var top = Math.Max(10, (int)(1.5 * Math.Max(reference, planned)) + 2);
+        top = Math.Min(top, 5000);
+        var step = Math.Max(1, top / 60);
+        var points = new List<PowerPoint>();
+        for (var k = 2; k <= top; k += step)
+        {
+            var p = AnovaPower.Power(power.Effect, power.Groups, k, power.Alpha);
+            if (p.IsDefined)
+            {
+                points.Add(new PowerPoint(k, p.Value));
+            }
+        }
+
+        PowerPoint? marked = null;
+        if (reference > 0 && power.Required["power"].Value.IsDefined)
+        {
+            marked = new PowerPoint(reference, power.Required["power"].Value.Value);
+        }
+        else if (planned > 0 && power.Values["power"].Value.IsDefined)
+        {
+            marked = new PowerPoint(planned, power.Values["power"].Value.Value);
+        }
+
+        var chart = StatCharts.PowerCurve(points, power.Target ?? 0.8, marked, new ChartLabels(string.Create(CultureInfo.InvariantCulture, $"Power against n per group (k = {power.Groups}, f = {power.Effect:0.###}, α = {power.Alpha.ToString("R", CultureInfo.InvariantCulture)})"), "n per group", "power"));
+        return new Figure("power-curve", caption ?? "Power of the F test as the group size grows; the horizontal line is the target power.", chart);
+    }
+
+    private static string Confidence(double alpha) => Math.Round(100 * (1 - alpha), 10).ToString("R", CultureInfo.InvariantCulture) + "%";
+}
