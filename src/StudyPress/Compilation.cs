@@ -37,6 +37,9 @@ public sealed class CompilationResult
 
     public byte[]? ManifestJson { get; init; }
 
+    /// <summary>The report's figures in order, with a file name for PNG export (block id and a running number).</summary>
+    public IReadOnlyList<(string FileName, Kinds.Figure Figure)> Figures { get; init; } = [];
+
     public bool Succeeded => Html is not null;
 }
 
@@ -60,7 +63,7 @@ public static class Compilation
     {
         var diagnostics = new DiagnosticBag();
         var outputPath = OutputPathFor(studyPath, options);
-        var html = Run(studyPath, outputPath, options, diagnostics, out var manifest);
+        var html = Run(studyPath, outputPath, options, diagnostics, out var manifest, out var figures);
         return new CompilationResult
         {
             StudyPath = studyPath,
@@ -68,12 +71,14 @@ public static class Compilation
             Diagnostics = diagnostics.Sorted(),
             Html = diagnostics.HasErrors ? null : html,
             ManifestJson = diagnostics.HasErrors ? null : manifest,
+            Figures = diagnostics.HasErrors ? [] : figures,
         };
     }
 
-    private static string? Run(string studyPath, string outputPath, CompileOptions options, DiagnosticBag diagnostics, out byte[]? manifest)
+    private static string? Run(string studyPath, string outputPath, CompileOptions options, DiagnosticBag diagnostics, out byte[]? manifest, out List<(string FileName, Figure Figure)> figures)
     {
         manifest = null;
+        figures = [];
         var display = studyPath;
         byte[] bytes;
         try
@@ -181,6 +186,16 @@ public static class Compilation
             ReportTemplate.Sha256,
             options.SourceDateEpoch is { } epoch ? DateTimeOffset.FromUnixTimeSeconds(epoch).UtcDateTime.ToString("yyyy-MM-dd'T'HH:mm:ss'Z'", System.Globalization.CultureInfo.InvariantCulture) : null);
         manifest = Manifest.Write(identity, inputs, context.Results);
+        foreach (var block in blocks)
+        {
+            var n = 0;
+            foreach (var f in outcomes[block.Syntax].Figures)
+            {
+                n++;
+                figures.Add(($"{header.Id}-{block.Id}-{f.Type}-{n.ToString(System.Globalization.CultureInfo.InvariantCulture)}.png", f));
+            }
+        }
+
         return ReportRenderer.Render(syntax, header, outcomes, resolved, inputs, identity, manifest);
     }
 
