@@ -23,6 +23,11 @@ public sealed class BrowserFixture : IAsyncLifetime
 
     public async Task InitializeAsync()
     {
+        if (BrowserAvailability.SkipReason is not null)
+        {
+            return;
+        }
+
         Assert.True(File.Exists(ChromiumPath), $"{ChromiumPath} is missing: install Debian's chromium package (.ci/run does this)");
         playwright = await Microsoft.Playwright.Playwright.CreateAsync();
     }
@@ -110,4 +115,39 @@ public sealed class BuiltReport : IDisposable
 [CollectionDefinition("browser")]
 public sealed class BrowserTestGroup : ICollectionFixture<BrowserFixture>
 {
+}
+
+/// <summary>
+/// A browser test: skipped (with the reason shown) on a developer machine without Chromium, but run
+/// (and failing) in CI, where CI=true and .ci/run installs Chromium.
+/// </summary>
+public sealed class BrowserFactAttribute : FactAttribute
+{
+    public BrowserFactAttribute()
+    {
+        if (BrowserAvailability.SkipReason is { } reason)
+        {
+            Skip = reason;
+        }
+    }
+}
+
+/// <summary>The theory form of <see cref="BrowserFactAttribute"/>.</summary>
+public sealed class BrowserTheoryAttribute : TheoryAttribute
+{
+    public BrowserTheoryAttribute()
+    {
+        if (BrowserAvailability.SkipReason is { } reason)
+        {
+            Skip = reason;
+        }
+    }
+}
+
+internal static class BrowserAvailability
+{
+    public static string? SkipReason =>
+        File.Exists(BrowserFixture.ChromiumPath) || string.Equals(Environment.GetEnvironmentVariable("CI"), "true", StringComparison.OrdinalIgnoreCase)
+            ? null
+            : $"{BrowserFixture.ChromiumPath} not found: install Debian's chromium package to run the browser tests (CI always runs them)";
 }

@@ -11,7 +11,7 @@ public sealed class ExampleReportTests(BrowserFixture browser)
 
     public static TheoryData<string> ExampleNames() => [.. Examples];
 
-    [Theory]
+    [BrowserTheory]
     [MemberData(nameof(ExampleNames))]
     public async Task Report_InBrowser_MakesNoRequestHasNoErrorsAndRendersEveryChartLabel(string example)
     {
@@ -46,7 +46,7 @@ public sealed class ExampleReportTests(BrowserFixture browser)
         Assert.True(await page.EvaluateAsync<bool>("() => document.fonts.check('12px \"StudyPress Sans\"')"));
     }
 
-    [Fact]
+    [BrowserFact]
     public async Task Report_HoverAndClickOnANumber_ShowsItsTrace()
     {
         using var report = new BuiltReport(BuiltReport.Example("spray-nozzles"));
@@ -87,7 +87,7 @@ public sealed class ExampleReportTests(BrowserFixture browser)
         await page.ScreenshotAsync(new() { Path = Path.Combine(Screenshots, "spray-nozzles-full.png"), FullPage = true });
     }
 
-    [Fact]
+    [BrowserFact]
     public async Task Report_WithoutAnyHostFont_StillRendersChartText()
     {
         // An empty fontconfig configuration: the browser finds no system font at all, so text
