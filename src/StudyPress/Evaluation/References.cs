@@ -352,9 +352,14 @@ public static class References
 
         if (groups.Count == 0)
         {
+            // Candidates with and without the test name, so 'main.groop' finds 'main.group'.
             var suggestion = DiagnosticBag.Nearest(
                 string.Join(".", parts),
-                ofBlock.Select(v => string.Join(".", new[] { v.Block }.Concat(v.Components()).Select(QuoteIfNeeded))).Distinct());
+                ofBlock.SelectMany(v => new[]
+                {
+                    string.Join(".", new[] { v.Block }.Concat(v.Components().Skip(1)).Select(QuoteIfNeeded)),
+                    string.Join(".", new[] { v.Block }.Concat(v.Components()).Select(QuoteIfNeeded)),
+                }).Distinct());
             diagnostics.UnknownReference(reference.Location, reference.Text, suggestion is null ? null : suggestion + " | result");
             return null;
         }
