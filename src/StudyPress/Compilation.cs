@@ -150,21 +150,22 @@ public static class Compilation
                 StringComparer.Ordinal),
         };
         var outcomes = new Dictionary<AnalysisBlockSyntax, BlockOutcome>();
-        foreach (var block in blocks)
+        // Methods blocks describe other blocks, wherever those are in the study: evaluate them last.
+        foreach (var block in blocks.OrderBy(b => b.Kind is MethodsKind ? 1 : 0))
         {
             var outcome = block.Kind.Evaluate(context, block, diagnostics);
             outcomes[block.Syntax] = outcome;
             context.Outcomes[block.Id] = outcome;
         }
 
-        var resolved = new Dictionary<ReferenceInline, ResultValue>();
+        var resolved = new Dictionary<ReferenceInline, ResolvedReference>();
         foreach (var r in syntax.References.Where(r => r.Closed))
         {
-            if (References.Resolve(r, context.Results, primary, diagnostics) is { } v)
+            if (References.Resolve(r, context.Results, primary, header.Alpha, diagnostics) is { } v)
             {
-                if (!v.Value.IsDefined)
+                if (!v.Value.Value.IsDefined)
                 {
-                    diagnostics.UndefinedReference(r.Location, r.Text, v.Value.Reason!);
+                    diagnostics.UndefinedReference(r.Location, r.Text, v.Value.Value.Reason!);
                 }
 
                 resolved[r] = v;

@@ -173,6 +173,12 @@ public sealed class DiagnosticBag
 
     public void FigureSource(SourceLocation at, string type, string kinds, string id, string kind) => Error("SP0241", at, $"a {type} figure is drawn from a {kinds} block; {Q(id)} is a {kind} block");
 
+    public void UnknownMethodsOf(SourceLocation at, string id, string? suggestion) => Error("SP0243", at, $"no analysis block with id {Q(id)} to describe{Suggest(suggestion)}");
+
+    public void MethodsOfNotDescribed(SourceLocation at, string id, string kind) => Error("SP0244", at, $"{Q(id)} is a {kind} block, which a methods block does not describe; name analysis blocks");
+
+    public void DuplicateInList(SourceLocation at, string key, string item) => Error("SP0245", at, $"{Q(item)} is listed twice in {Q(key)}");
+
     public void FigureNoSource(SourceLocation at, string type, string kinds) => Error("SP0242", at, $"a {type} figure is drawn from a {kinds} block, and there is none above this one");
 
     // ---- data (SP03xx) ----
@@ -234,6 +240,11 @@ public sealed class DiagnosticBag
     public void UndefinedReference(SourceLocation at, string text, string reason) => Error("SP0405", at, $"reference {Q(text)} has no value: {reason}");
 
     public void UnknownBlockReference(SourceLocation at, string id, string? suggestion) => Error("SP0406", at, $"no block with id {Q(id)}{Suggest(suggestion)}");
+
+    public void UnknownReferenceFunction(SourceLocation at, string name, string? suggestion, IEnumerable<string> known) =>
+        Error("SP0407", at, $"unknown formatting function {Q(name)}{Suggest(suggestion)} (known: {string.Join(", ", known)})");
+
+    public void BadReferenceFunction(SourceLocation at, string name, string why) => Error("SP0408", at, $"formatting function {Q(name)} does not apply here: {why}");
 
     // ---- analysis (SP05xx) ----
     public void TooFewGroups(SourceLocation at, string factor, int groups) =>

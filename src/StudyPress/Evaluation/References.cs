@@ -17,8 +17,15 @@ public static class References
     public const int MaxLength = 200;
     public const int MaxParts = 8;
 
-    /// <summary>Splits a reference into parts; returns null and a reason when it cannot.</summary>
-    public static IReadOnlyList<string>? Split(string text, out string? error)
+    /// <summary>Splits a reference into the parts of its path; returns null and a reason when it cannot.</summary>
+    public static IReadOnlyList<string>? Split(string text, out string? error) => Parse(text, out error)?.Parts;
+
+    /// <summary>
+    /// Reads a reference: its path and an optional formatting function after '|'
+    /// (<c>{{ main.dose.p | p }}</c>, <c>{{ main.dose.f | digits(1) }}</c>, <c>{{ main.dose | result }}</c>).
+    /// Only the syntax is checked here; <see cref="Resolve"/> checks that the function exists and applies.
+    /// </summary>
+    public static ReferenceExpression? Parse(string text, out string? error)
     {
         error = null;
         if (text.Length > MaxLength)
@@ -26,6 +33,111 @@ public static class References
             error = $"a reference may be at most {MaxLength} characters";
             return null;
         }
+
+        var bar = TopLevelBar(text);
+        ReferenceFunction? function = null;
+        if (bar >= 0)
+        {
+            function = ParseFunction(text[(bar + 1)..].Trim(), out error);
+            if (function is null)
+            {
+                return null;
+            }
+
+            text = text[..bar].TrimEnd();
+        }
+
+        var parts = SplitPath(text, function?.Name == "result" ? 1 : 2, out error);
+        return parts is null ? null : new ReferenceExpression(parts, function);
+    }
+
+    /// <summary>The first '|' outside quotes, or -1.</summary>
+    private static int TopLevelBar(string text)
+    {
+        char? quote = null;
+        for (var i = 0; i < text.Length; i++)
+        {
+            var c = text[i];
+            if (quote is { } q)
+            {
+                if (c == '\\')
+                {
+                    i++;
+                }
+                else if (c == q)
+                {
+                    quote = null;
+                }
+            }
+            else if (c is '"' or '\'')
+            {
+                quote = c;
+            }
+            else if (c == '|')
+            {
+                return i;
+            }
+        }
+
+        return -1;
+    }
+
+    private static ReferenceFunction? ParseFunction(string text, out string? error)
+    {
+        error = null;
+        var i = 0;
+        while (i < text.Length && (char.IsAsciiLetter(text[i]) || text[i] == '_'))
+        {
+            i++;
+        }
+
+        var name = text[..i];
+        if (name.Length == 0)
+        {
+            error = text.Length == 0
+                ? "a formatting function is missing after '|'; for example {{ main.dose.p | p }}"
+                : $"unexpected '{text[0]}' after '|'; write a formatting function such as 'p' or 'digits(1)'";
+            return null;
+        }
+
+        var rest = text[i..].Trim();
+        if (rest.Length == 0)
+        {
+            return new ReferenceFunction(name, null);
+        }
+
+        if (rest[0] == '|')
+        {
+            error = "a reference takes one formatting function";
+            return null;
+        }
+
+        if (rest[0] != '(' || rest[^1] != ')')
+        {
+            error = $"unexpected '{rest}' after '{name}'; write an argument in parentheses, as in digits(1)";
+            return null;
+        }
+
+        var arg = rest[1..^1].Trim();
+        if (arg.Length == 0 || arg.Length > 2 || !arg.All(char.IsAsciiDigit))
+        {
+            error = $"the argument of '{name}' must be a whole number of decimals from 0 to {ReportStyle.MaxDigits}, not '{arg}'";
+            return null;
+        }
+
+        var n = int.Parse(arg, System.Globalization.CultureInfo.InvariantCulture);
+        if (n > ReportStyle.MaxDigits)
+        {
+            error = $"the argument of '{name}' must be a whole number of decimals from 0 to {ReportStyle.MaxDigits}, not '{arg}'";
+            return null;
+        }
+
+        return new ReferenceFunction(name, n);
+    }
+
+    private static List<string>? SplitPath(string text, int minParts, out string? error)
+    {
+        error = null;
 
         var parts = new List<string>();
         var i = 0;
@@ -106,7 +218,7 @@ public static class References
             }
         }
 
-        if (parts.Count < 2)
+        if (parts.Count < minParts)
         {
             error = "name a block and a statistic, for example {{ main.dose.f }}";
             return null;
@@ -124,16 +236,28 @@ public static class References
             ? part
             : "\"" + part.Replace("\\", "\\\\", StringComparison.Ordinal).Replace("\"", "\\\"", StringComparison.Ordinal) + "\"";
 
+    /// <summary>The formatting functions a reference may name after '|', with a short description.</summary>
+    public static readonly IReadOnlyList<(string Name, string Usage)> Functions =
+    [
+        ("result", "the whole result of a test, e.g. F(3, 20) = 11.51, p < .001"),
+        ("p", "a p-value as 'p = .035' or 'p < .001'"),
+        ("digits", "a fixed number of decimals, digits(1)"),
+        ("fraction", "two decimals (or fraction(n)) without the leading zero, for values up to 1"),
+        ("percent", "the value as a percentage, percent or percent(1)"),
+        ("df", "degrees of freedom: whole numbers as such, others with two decimals"),
+    ];
+
     /// <summary>Resolves a reference against the values; reports and returns null on failure.</summary>
-    public static ResultValue? Resolve(ReferenceInline reference, ResultSet results, IReadOnlyDictionary<string, string> primaryTests, DiagnosticBag diagnostics)
+    public static ResolvedReference? Resolve(ReferenceInline reference, ResultSet results, IReadOnlyDictionary<string, string> primaryTests, double alpha, DiagnosticBag diagnostics)
     {
-        var parts = Split(reference.Text, out var error);
-        if (parts is null)
+        var expression = Parse(reference.Text, out var error);
+        if (expression is null)
         {
             diagnostics.BadReferenceSyntax(reference.Location, reference.Text, error!);
             return null;
         }
 
+        var parts = expression.Parts;
         var block = parts[0];
         if (!primaryTests.TryGetValue(block, out var primary))
         {
@@ -141,6 +265,132 @@ public static class References
             return null;
         }
 
+        var function = expression.Function;
+        if (function is not null && !Functions.Any(f => f.Name == function.Name))
+        {
+            diagnostics.UnknownReferenceFunction(reference.Location, function.Name, DiagnosticBag.Nearest(function.Name, Functions.Select(f => f.Name)), Functions.Select(f => f.Name));
+            return null;
+        }
+
+        if (function is { Name: "result" })
+        {
+            return ResolveResult(reference, expression, results, primary, alpha, diagnostics);
+        }
+
+        var value = ResolveValue(reference, parts, results, primary, diagnostics);
+        if (value is null || function is null)
+        {
+            return value is null ? null : new ResolvedReference(value, null, null);
+        }
+
+        switch (function.Name)
+        {
+            case "p":
+                if (function.Digits is not null)
+                {
+                    diagnostics.BadReferenceFunction(reference.Location, "p", "it takes no argument; p-values show three decimals, or '< .001'");
+                    return null;
+                }
+
+                if (!IsPStat(value.Stat))
+                {
+                    diagnostics.BadReferenceFunction(reference.Location, "p", $"it formats p-values, and '{value.Stat}' is not one");
+                    return null;
+                }
+
+                return new ResolvedReference(value, ReportStyle.PPhrase(value), null);
+            case "digits":
+                if (function.Digits is not { } d)
+                {
+                    diagnostics.BadReferenceFunction(reference.Location, "digits", "say how many decimals, as in digits(1)");
+                    return null;
+                }
+
+                return new ResolvedReference(value, null, ReportStyle.Fixed(d));
+            case "fraction":
+                return new ResolvedReference(value, null, ReportStyle.Fraction(function.Digits ?? 2));
+            case "percent":
+                return new ResolvedReference(value, null, ReportStyle.Percent(function.Digits ?? 0));
+            default:
+                if (function.Digits is not null)
+                {
+                    diagnostics.BadReferenceFunction(reference.Location, "df", "it takes no argument");
+                    return null;
+                }
+
+                return new ResolvedReference(value, null, ReportStyle.Df);
+        }
+    }
+
+    private static bool IsPStat(string stat) => stat == "p" || stat.StartsWith("p_", StringComparison.Ordinal);
+
+    /// <summary>A path without a statistic, naming one group of values (a term, a pair, a level), as a result sentence.</summary>
+    private static ResolvedReference? ResolveResult(ReferenceInline reference, ReferenceExpression expression, ResultSet results, string primary, double alpha, DiagnosticBag diagnostics)
+    {
+        var parts = expression.Parts;
+        var block = parts[0];
+        var middle = parts.Skip(1).ToArray();
+        var ofBlock = results.Values.Where(v => v.Block == block).ToList();
+        var groups = new List<ResultValue>();
+        foreach (var v in ofBlock.Where(v => IsSubsequence(middle, [.. v.Components()])))
+        {
+            if (!groups.Any(g => Sentences.SameGroup(g, v)))
+            {
+                groups.Add(v);
+            }
+        }
+
+        if (groups.Count > 1)
+        {
+            var exact = groups.Where(g => g.Components().SequenceEqual(middle, StringComparer.Ordinal)).ToList();
+            var preferred = exact.Count > 0 ? exact : groups.Where(g => g.Test == primary).ToList();
+            if (preferred.Count > 0)
+            {
+                groups = preferred;
+            }
+        }
+
+        if (groups.Count == 0)
+        {
+            // Candidates with and without the test name, so 'main.groop' finds 'main.group'.
+            var suggestion = DiagnosticBag.Nearest(
+                string.Join(".", parts),
+                ofBlock.SelectMany(v => new[]
+                {
+                    string.Join(".", new[] { v.Block }.Concat(v.Components().Skip(1)).Select(QuoteIfNeeded)),
+                    string.Join(".", new[] { v.Block }.Concat(v.Components()).Select(QuoteIfNeeded)),
+                }).Distinct());
+            diagnostics.UnknownReference(reference.Location, reference.Text, suggestion is null ? null : suggestion + " | result");
+            return null;
+        }
+
+        if (groups.Count > 1)
+        {
+            diagnostics.AmbiguousReference(reference.Location, reference.Text, groups.Take(4).Select(g => string.Join(".", new[] { g.Block }.Concat(g.Components()).Select(QuoteIfNeeded)) + " | result"));
+            return null;
+        }
+
+        var html = Sentences.Result(results, groups[0], alpha, out var why);
+        if (html is null)
+        {
+            diagnostics.BadReferenceFunction(reference.Location, "result", why!);
+            return null;
+        }
+
+        var members = Sentences.Group(results, groups[0]).Values;
+        var anchor = members.FirstOrDefault(v => !v.Value.IsDefined) ?? groups[0];
+        return new ResolvedReference(anchor, html, null);
+    }
+
+    private static ResultValue? ResolveValue(ReferenceInline reference, IReadOnlyList<string> parts, ResultSet results, string primary, DiagnosticBag diagnostics)
+    {
+        if (parts.Count < 2)
+        {
+            diagnostics.BadReferenceSyntax(reference.Location, reference.Text, "name a block and a statistic, for example {{ main.dose.f }}");
+            return null;
+        }
+
+        var block = parts[0];
         var stat = parts[^1];
         var middle = parts.Skip(1).Take(parts.Count - 2).ToArray();
         var ofBlock = results.Values.Where(v => v.Block == block).ToList();
@@ -170,9 +420,10 @@ public static class References
         var selected = ofBlock.Where(v => IsSubsequence(middle, [.. v.Components()])).Select(v => v.Stat).Distinct().ToList();
         var nearStat = selected.Where(s => stat.StartsWith(s, StringComparison.Ordinal) || s.StartsWith(stat, StringComparison.Ordinal)).OrderByDescending(s => s.Length).FirstOrDefault()
             ?? DiagnosticBag.Nearest(stat, selected);
+        var pathText = reference.Text.Split('|')[0].Trim();
         var suggestion = nearStat is not null && middle.Length > 0
             ? string.Join(".", parts.Take(parts.Count - 1).Append(nearStat).Select(QuoteIfNeeded))
-            : DiagnosticBag.Nearest(reference.Text.Replace(" ", string.Empty, StringComparison.Ordinal), ofBlock.Select(PathOf));
+            : DiagnosticBag.Nearest(pathText.Replace(" ", string.Empty, StringComparison.Ordinal), ofBlock.Select(PathOf));
         diagnostics.UnknownReference(reference.Location, reference.Text, suggestion);
         return null;
     }
@@ -190,4 +441,21 @@ public static class References
 
         return j == wanted.Length;
     }
+}
+
+/// <summary>A formatting function after '|' in a reference, with its optional number of decimals.</summary>
+public sealed record ReferenceFunction(string Name, int? Digits);
+
+/// <summary>A reference as written: the path's parts and the optional formatting function.</summary>
+public sealed record ReferenceExpression(IReadOnlyList<string> Parts, ReferenceFunction? Function);
+
+/// <summary>
+/// A resolved reference: the value it names (for a result sentence, the group's first undefined
+/// value, else its first value), and either ready HTML (a sentence or a p phrase), a report style, or
+/// neither (the report's default number format).
+/// </summary>
+public sealed record ResolvedReference(ResultValue Value, string? Html, string? Style)
+{
+    public string ToHtml(Rendering.RenderContext context) =>
+        Html ?? (Style is { } style ? ReportStyle.Span(Value, style) : Rendering.HtmlWriter.ValueHtml(Value, context));
 }

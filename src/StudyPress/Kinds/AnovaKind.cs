@@ -74,6 +74,9 @@ public sealed class AnovaKind : BlockKind
 
         public Dictionary<string, ResultValue>? Welch { get; set; }
 
+        /// <summary>The Box–Cox estimate's values (lambda, lambda_low, lambda_high), when that transform was used.</summary>
+        public Dictionary<string, ResultValue> BoxCox { get; } = new(StringComparer.Ordinal);
+
         public Dictionary<string, ResultValue>? Ranks { get; set; }
 
         /// <summary>Which automatic rules fired, in plain words.</summary>
@@ -177,6 +180,9 @@ public sealed class AnovaKind : BlockKind
             Add("partial_eta2", t.PartialEtaSquared);
             Add("omega2", t.OmegaSquared);
             Add("cohen_f", t.CohenF);
+            var ci = EffectSizeIntervals.PartialEtaSquared(t.F, t.Df, result.ResidualDf, 1 - context.Header.Alpha);
+            Add("partial_eta2_ci_low", ci.PartialEtaSquaredLow);
+            Add("partial_eta2_ci_high", ci.PartialEtaSquaredHigh);
             outcome.Terms.Add((t, values));
         }
 
@@ -185,6 +191,13 @@ public sealed class AnovaKind : BlockKind
         outcome.Residual["ms"] = context.Results.Add(block.Id, "anova", "residual", null, null, "ms", result.ResidualMeanSquare, inputs);
         outcome.Total["ss"] = context.Results.Add(block.Id, "anova", "total", null, null, "ss", result.TotalSumOfSquares, inputs);
         outcome.Total["df"] = context.Results.Add(block.Id, "anova", "total", null, null, "df", result.TotalDf, inputs);
+
+        if (outcome.Transformed?.BoxCox is { } bc)
+        {
+            outcome.BoxCox["lambda"] = context.Results.Add(block.Id, "box_cox", null, null, null, "lambda", bc.Lambda, inputs);
+            outcome.BoxCox["lambda_low"] = context.Results.Add(block.Id, "box_cox", null, null, null, "lambda_low", bc.LambdaLow, inputs);
+            outcome.BoxCox["lambda_high"] = context.Results.Add(block.Id, "box_cox", null, null, null, "lambda_high", bc.LambdaHigh, inputs);
+        }
 
         AddMeans(context, block, outcome, inputs);
         if (data.Factors.Count == 1)

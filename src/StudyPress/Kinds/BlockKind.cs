@@ -113,6 +113,7 @@ public static class BlockKinds
         new RanksKind(),
         new PowerKind(),
         new FigureKind(),
+        new MethodsKind(),
     }.ToDictionary(k => k.Name, StringComparer.Ordinal);
 
     public static IReadOnlySet<string> Names { get; } = new HashSet<string>(All.Keys, StringComparer.Ordinal);

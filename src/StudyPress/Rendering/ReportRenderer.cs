@@ -62,7 +62,7 @@ internal static class ReportRenderer
         StudySyntax syntax,
         StudyHeader header,
         IReadOnlyDictionary<AnalysisBlockSyntax, BlockOutcome> outcomes,
-        IReadOnlyDictionary<ReferenceInline, ResultValue> references,
+        IReadOnlyDictionary<ReferenceInline, ResolvedReference> references,
         IReadOnlyList<LoadedDataset> inputs,
         ManifestHeader identity,
         byte[] manifest)
@@ -178,14 +178,15 @@ internal static class ReportRenderer
         }
     }
 
-    private sealed class ReferenceRenderer(IReadOnlyDictionary<ReferenceInline, ResultValue> references, RenderContext context)
+    /// <summary>A prose reference: a traced number, styled when the reference names a formatting function.</summary>
+    private sealed class ReferenceRenderer(IReadOnlyDictionary<ReferenceInline, ResolvedReference> references, RenderContext context)
         : HtmlObjectRenderer<ReferenceInline>
     {
         protected override void Write(HtmlRenderer renderer, ReferenceInline obj)
         {
             if (references.TryGetValue(obj, out var v))
             {
-                renderer.Write(HtmlWriter.ValueHtml(v, context));
+                renderer.Write(v.ToHtml(context));
             }
         }
     }

@@ -1,0 +1,401 @@
+using System.Globalization;
+using System.Net;
+using System.Runtime.CompilerServices;
+using System.Text;
+using System.Text.RegularExpressions;
+using StudyPress.Evaluation;
+using StudyPress.Tests.Support;
+
+namespace StudyPress.Tests;
+
+/// <summary>
+/// The methods block and report-style sentences. Golden studies live in Cases/methods/NAME/study.md
+/// with the expected visible text of the methods block in Cases/methods/NAME/expected.txt; set
+/// STUDYPRESS_UPDATE_GOLDEN=1 to rewrite the expected files from the current output.
+/// </summary>
+public sealed partial class MethodsTests
+{
+    private static string SourceDir([CallerFilePath] string path = "") => Path.GetDirectoryName(path)!;
+
+    private static string CasesDir => Path.Combine(SourceDir(), "Cases", "methods");
+
+    private static string RepoDir => Path.GetFullPath(Path.Combine(SourceDir(), "..", ".."));
+
+    public static TheoryData<string> Cases()
+    {
+        var data = new TheoryData<string>();
+        foreach (var d in Directory.GetDirectories(CasesDir).Order(StringComparer.Ordinal))
+        {
+            data.Add(Path.GetFileName(d));
+        }
+
+        return data;
+    }
+
+    [GeneratedRegex("<span class=\"(v|nd)\" data-v=\"(v\\d+)\"(?: data-style=\"([a-z0-9-]+)\")?[^>]*>([^<]*)</span>")]
+    private static partial Regex SpanPattern();
+
+    [GeneratedRegex("<section class=\"block block-methods\"[^>]*>(.*?)</section>", RegexOptions.Singleline)]
+    private static partial Regex MethodsSection();
+
+    private static CompilationResult Build(string studyPath)
+    {
+        var result = Compilation.Compile(studyPath, new CompileOptions());
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        return result;
+    }
+
+    private static string MethodsHtml(CompilationResult r) => MethodsSection().Match(r.Html!).Groups[1].Value;
+
+    /// <summary>The visible text of the methods block, one line per paragraph.</summary>
+    private static string VisibleText(string sectionHtml)
+    {
+        var sb = new StringBuilder();
+        foreach (Match p in Regex.Matches(sectionHtml, "<p class=\"methods-([a-z]+)\">(.*?)</p>", RegexOptions.Singleline))
+        {
+            sb.Append(p.Groups[1].Value).Append(": ").Append(WebUtility.HtmlDecode(Regex.Replace(p.Groups[2].Value, "<[^>]+>", string.Empty))).Append('\n');
+        }
+
+        return sb.ToString();
+    }
+
+    /// <summary>The documented style rules, written again independently of the compiler (decimal rounding).</summary>
+    private static string Expected(string style, double value)
+    {
+        static string Fixed(double v, int d)
+        {
+            var r = Math.Round((decimal)v, d, MidpointRounding.AwayFromZero);
+            var s = r.ToString("F" + d.ToString(CultureInfo.InvariantCulture), CultureInfo.InvariantCulture);
+            return r == 0 ? s.TrimStart('-') : s;
+        }
+
+        static string NoLead(string s) => s.StartsWith("0.", StringComparison.Ordinal) ? s[1..] : s.StartsWith("-0.", StringComparison.Ordinal) ? "-" + s[2..] : s;
+        if (style == "report-p")
+        {
+            return value < 0.001 ? "< .001" : NoLead(Fixed(value, 3));
+        }
+
+        if (style == "report-df")
+        {
+            return value == Math.Floor(value) ? value.ToString("0", CultureInfo.InvariantCulture) : Fixed(value, 2);
+        }
+
+        var dash = style.LastIndexOf('-');
+        var n = int.Parse(style[(dash + 1)..], CultureInfo.InvariantCulture);
+        return style[..dash] switch
+        {
+            "fixed" => Fixed(value, n),
+            "fraction" => NoLead(Fixed(value, n)),
+            "percent" => Fixed(value * 100, n) + "%",
+            _ => throw new InvalidOperationException("unknown style " + style),
+        };
+    }
+
+    /// <summary>Every number span in the html names a manifest value and shows it by its style's rule; returns the count.</summary>
+    private static int AssertSpansMatchManifest(string html, ManifestView manifest, bool requireStyle)
+    {
+        var values = manifest.Values.ToDictionary(v => v.GetProperty("id").GetString()!, v => v);
+        var count = 0;
+        foreach (Match m in SpanPattern().Matches(html))
+        {
+            count++;
+            var id = m.Groups[2].Value;
+            Assert.True(values.TryGetValue(id, out var entry), $"span {id} has no manifest entry");
+            var text = WebUtility.HtmlDecode(m.Groups[4].Value);
+            if (m.Groups[1].Value == "nd")
+            {
+                Assert.Equal(System.Text.Json.JsonValueKind.Null, entry.GetProperty("value").ValueKind);
+                continue;
+            }
+
+            var value = entry.GetProperty("value").GetDouble();
+            if (m.Groups[3].Success)
+            {
+                Assert.True(Expected(m.Groups[3].Value, value) == text, $"{id} ({entry.GetProperty("stat").GetString()} = {value.ToString("R", CultureInfo.InvariantCulture)}) shows '{text}' for style {m.Groups[3].Value}");
+            }
+            else
+            {
+                Assert.False(requireStyle, $"span {id} in generated text has no style");
+            }
+        }
+
+        return count;
+    }
+
+    [Theory]
+    [MemberData(nameof(Cases))]
+    public void GoldenCase_MethodsText_MatchesExpectedAndManifest(string name)
+    {
+        var result = Build(Path.Combine(CasesDir, name, "study.md"));
+        var section = MethodsHtml(result);
+        Assert.NotEmpty(section);
+        var text = VisibleText(section).Replace("StudyPress " + Compilation.ToolVersion, "StudyPress {version}", StringComparison.Ordinal);
+        var expectedPath = Path.Combine(CasesDir, name, "expected.txt");
+        if (Environment.GetEnvironmentVariable("STUDYPRESS_UPDATE_GOLDEN") == "1")
+        {
+            File.WriteAllText(expectedPath, text, new UTF8Encoding(false));
+        }
+
+        // The version changes with releases; the golden text names it as {version}.
+        Assert.Equal(File.ReadAllText(expectedPath).Replace("\r\n", "\n", StringComparison.Ordinal), text);
+        var spans = AssertSpansMatchManifest(section, new ManifestView(result.ManifestJson!), requireStyle: true);
+        Assert.True(spans > 20, $"only {spans} traced numbers");
+    }
+
+    [Fact]
+    public void OneWaySignificant_Sentence_MatchesHandComputation()
+    {
+        // Means 1, 3, 5; SSB 24 on 2 df, SSW 6 on 6 df; F = 12; p = (1 + 2F/6)^-3 = 1/125; partial eta2 = 0.8.
+        var result = Build(Path.Combine(CasesDir, "one-way-significant", "study.md"));
+        var text = VisibleText(MethodsHtml(result));
+        Assert.Contains("the F test rejected the hypothesis of equal means across its levels, F(2, 6) = 12.00, p = .008, partial η² = .80, 95% CI [", text, StringComparison.Ordinal);
+        Assert.Contains("no indication of unequal group variances", text, StringComparison.Ordinal);
+        Assert.Contains("Tukey's HSD procedure was chosen", text, StringComparison.Ordinal);
+        var m = new ManifestView(result.ManifestJson!);
+        Assert.Equal(0.008, m.Get("main", "anova", "group", "p"), 12);
+    }
+
+    [Fact]
+    public void OneWayNull_Sentence_MatchesHandComputation()
+    {
+        // Means 2, 3, 2; SSB 2 on 2 df, SSW 6 on 6 df; F = 1; p = (3/4)^3 = 0.421875; partial eta2 = 0.25.
+        var result = Build(Path.Combine(CasesDir, "one-way-null", "study.md"));
+        var text = VisibleText(MethodsHtml(result));
+        Assert.Contains("the F test does not reject the hypothesis of equal means across its levels, F(2, 6) = 1.00, p = .422, partial η² = .25, 95% CI [.00, ", text, StringComparison.Ordinal);
+        Assert.Contains("This is not evidence that the means are equal.", text, StringComparison.Ordinal);
+        Assert.DoesNotContain(" rejects the hypothesis of equal means", text, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void UnequalVariances_Text_StatesWelchGamesHowellAndRankTest()
+    {
+        var text = VisibleText(MethodsHtml(Build(Path.Combine(CasesDir, "unequal-variances", "study.md"))));
+        Assert.Contains("Because the Brown–Forsythe test indicated unequal group variances (F(3, 24) = 7.00, p = .002), we used Welch's F test", text, StringComparison.Ordinal);
+        Assert.Contains("the Games–Howell procedure, which does not pool the variances, was chosen", text, StringComparison.Ordinal);
+        Assert.Contains("we also ran the Kruskal–Wallis rank test", text, StringComparison.Ordinal);
+        Assert.Contains("Welch's F(3, 12.03) = 12.03, p < .001", text, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void Manifest_AnovaTerms_CarryPartialEtaSquaredIntervals()
+    {
+        var m = new ManifestView(Build(Path.Combine(CasesDir, "two-factor-unbalanced", "study.md")).ManifestJson!);
+        foreach (var term in new[] { "schedule", "variety", "schedule:variety" })
+        {
+            var lo = m.Get("model", "anova", term, "partial_eta2_ci_low");
+            var pe = m.Get("model", "anova", term, "partial_eta2");
+            var hi = m.Get("model", "anova", term, "partial_eta2_ci_high");
+            Assert.True(lo >= 0 && lo < pe && pe < hi && hi < 1, $"{term}: [{lo}, {hi}] around {pe}");
+        }
+    }
+
+    private const string FlipStudy = """
+        ---
+        title: Flip
+        data:
+          d: data/d.csv
+        response: y
+        factors:
+          g:
+            levels: [A, B, C, D]
+        ---
+
+        ```anova main
+        welch: auto
+        ```
+
+        ```posthoc pairs
+        method: auto
+        ```
+
+        ```methods
+        include: [decisions, effects]
+        ```
+        """;
+
+    private static string Rows(params double[][] groups)
+    {
+        var sb = new StringBuilder("g,y\n");
+        for (var k = 0; k < groups.Length; k++)
+        {
+            foreach (var y in groups[k])
+            {
+                sb.Append((char)('A' + k)).Append(',').Append(y.ToString("R", CultureInfo.InvariantCulture)).Append('\n');
+            }
+        }
+
+        return sb.ToString();
+    }
+
+    [Fact]
+    public void ChangedData_SameStudyFile_TextFollowsTheNewOutcome()
+    {
+        using var run = new StudyRun();
+        run.Study(FlipStudy);
+        double[] shape = [-2, -1, -0.5, 0, 0.5, 1, 2];
+        run.File("data/d.csv", Rows([.. shape.Select(x => 10 + x)], [.. shape.Select(x => 11 + x)], [.. shape.Select(x => 12 + x)], [.. shape.Select(x => 13 + x)]));
+        var before = run.Compile();
+        Assert.True(before.Succeeded, string.Join("\n", before.Diagnostics));
+        var textBefore = VisibleText(MethodsHtml(before));
+        Assert.Contains("no indication of unequal group variances", textBefore, StringComparison.Ordinal);
+        Assert.Contains("Tukey's HSD procedure was chosen", textBefore, StringComparison.Ordinal);
+        Assert.DoesNotContain("Welch's F(", textBefore, StringComparison.Ordinal);
+
+        // Same means, spreads growing 1, 3, 9, 27 times: the variances now differ.
+        run.File("data/d.csv", Rows([.. shape.Select(x => 10 + x)], [.. shape.Select(x => 11 + (3 * x))], [.. shape.Select(x => 12 + (9 * x))], [.. shape.Select(x => 13 + (27 * x))]));
+        var after = run.Compile();
+        Assert.True(after.Succeeded, string.Join("\n", after.Diagnostics));
+        var textAfter = VisibleText(MethodsHtml(after));
+        Assert.Contains("Because the Brown–Forsythe test indicated unequal group variances", textAfter, StringComparison.Ordinal);
+        Assert.Contains("Welch's F test, which does not assume equal variances, was used", textAfter, StringComparison.Ordinal);
+        Assert.Contains("the Games–Howell procedure, which does not pool the variances, was chosen", textAfter, StringComparison.Ordinal);
+        Assert.Contains("Welch's F(", textAfter, StringComparison.Ordinal);
+        Assert.NotEqual(
+            Regex.Match(textBefore, @"F\(3, 24\) = [0-9.]+").Value,
+            Regex.Match(textAfter, @"F\(3, 24\) = [0-9.]+").Value);
+        AssertSpansMatchManifest(MethodsHtml(after), new ManifestView(after.ManifestJson!), requireStyle: true);
+    }
+
+    [Fact]
+    public void TenseVoiceInclude_ChangeTheWording()
+    {
+        using var run = new StudyRun();
+        run.File("data/d.csv", File.ReadAllText(Path.Combine(CasesDir, "one-way-significant", "data", "d.csv")));
+        run.Study("""
+            ---
+            title: Options
+            data: { d: data/d.csv }
+            response: y
+            factors: { group: { levels: [A, B, C] } }
+            ---
+
+            ```anova main
+            ```
+
+            ```methods present
+            tense: present
+            voice: active
+            ```
+
+            ```methods results
+            include: [effects]
+            ```
+            """);
+        var r = run.Compile();
+        Assert.True(r.Succeeded, string.Join("\n", r.Diagnostics));
+        var sections = MethodsSection().Matches(r.Html!).Select(m => VisibleText(m.Groups[1].Value)).ToList();
+        Assert.Equal(2, sections.Count);
+        Assert.Contains("We fit a one-way fixed-effects analysis of variance", sections[0], StringComparison.Ordinal);
+        Assert.Contains("the F test rejects the hypothesis", sections[0], StringComparison.Ordinal);
+        Assert.DoesNotContain("was fitted", sections[0], StringComparison.Ordinal);
+        Assert.StartsWith("methods: Every test used", sections[1], StringComparison.Ordinal);
+        Assert.Contains("results: For group, the F test rejected", sections[1], StringComparison.Ordinal);
+        Assert.DoesNotContain("software:", sections[1], StringComparison.Ordinal);
+        Assert.DoesNotContain("cautions:", sections[1], StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void Examples_MethodsBlocksAndReferences_MatchManifest()
+    {
+        foreach (var name in new[] { "spray-nozzles", "incubator-assay", "tomato-irrigation" })
+        {
+            var result = Build(Path.Combine(RepoDir, "examples", name, "study.md"));
+            var manifest = new ManifestView(result.ManifestJson!);
+            var section = MethodsHtml(result);
+            Assert.True(AssertSpansMatchManifest(section, manifest, requireStyle: true) > 20, name);
+            AssertSpansMatchManifest(result.Html!, manifest, requireStyle: false);
+        }
+    }
+
+    [Theory]
+    [InlineData(0.0004, "report-p", "< .001")]
+    [InlineData(0.0351, "report-p", ".035")]
+    [InlineData(0.0355, "report-p", ".036")]
+    [InlineData(1.0, "report-p", "1.000")]
+    [InlineData(0.6332, "fraction-2", ".63")]
+    [InlineData(-0.049, "fraction-2", "-.05")]
+    [InlineData(-0.001, "fixed-2", "0.00")]
+    [InlineData(11.5102, "fixed-2", "11.51")]
+    [InlineData(12.03015, "report-df", "12.03")]
+    [InlineData(20.0, "report-df", "20")]
+    [InlineData(0.2649, "percent-0", "26%")]
+    [InlineData(0.2649, "percent-1", "26.5%")]
+    public void ReportStyle_Format_FollowsTheDocumentedRule(double value, string style, string expected)
+    {
+        Assert.Equal(expected, ReportStyle.Format(style, value));
+        Assert.Equal(expected, Expected(style, value));
+    }
+
+    private static string ReferenceStudy(string prose) => """
+        ---
+        title: References
+        data: { d: data/d.csv }
+        response: y
+        factors: { group: { levels: [A, B, C] } }
+        ---
+
+        ```anova main
+        ```
+
+        """ + prose + "\n";
+
+    [Theory]
+    [InlineData("{{ main.group | result }}", "F(2, 6) = 12.00, p = .008, partial η² = .80, 95% CI [")]
+    [InlineData("{{ main.group.p | p }}", "p = .008")]
+    [InlineData("{{ main.group.f | digits(1) }}", "12.0")]
+    [InlineData("{{ main.group.partial_eta2 | fraction(3) }}", ".800")]
+    [InlineData("{{ main.group.partial_eta2 | percent }}", "80%")]
+    [InlineData("{{ main.residual.df | df }}", "6")]
+    [InlineData("{{ main.means.group.A | result }}", "mean = 1.00, n = 3")]
+    public void Reference_WithFunction_RendersStyledTracedText(string reference, string expected)
+    {
+        using var run = new StudyRun();
+        run.File("data/d.csv", File.ReadAllText(Path.Combine(CasesDir, "one-way-significant", "data", "d.csv")));
+        run.Study(ReferenceStudy("Result: " + reference + "."));
+        var r = run.Compile();
+        Assert.True(r.Succeeded, string.Join("\n", r.Diagnostics));
+        var p = Regex.Match(r.Html!, "<p>Result: (.*?)\\.</p>", RegexOptions.Singleline).Groups[1].Value;
+        Assert.StartsWith(expected, WebUtility.HtmlDecode(Regex.Replace(p, "<[^>]+>", string.Empty)), StringComparison.Ordinal);
+        Assert.True(AssertSpansMatchManifest(p, new ManifestView(r.ManifestJson!), requireStyle: true) >= 1);
+    }
+
+    [Theory]
+    [InlineData("{{ main.group.p | pp }}", "SP0407", "unknown formatting function 'pp'; did you mean 'p'?")]
+    [InlineData("{{ main.group.f | p }}", "SP0408", "formatting function 'p' does not apply here: it formats p-values, and 'f' is not one")]
+    [InlineData("{{ main.group.f | digits }}", "SP0408", "say how many decimals")]
+    [InlineData("{{ main.group.f | digits(x) }}", "SP0403", "the argument of 'digits' must be a whole number of decimals")]
+    [InlineData("{{ main.group.f | }}", "SP0403", "a formatting function is missing after '|'")]
+    [InlineData("{{ main.group.f | p | p }}", "SP0403", "a reference takes one formatting function")]
+    [InlineData("{{ main.residual | result }}", "SP0408", "the residual row of an ANOVA table has no test")]
+    [InlineData("{{ main.groop | result }}", "SP0401", "did you mean 'main.group | result'?")]
+    public void Reference_BadFunction_IsAnErrorAtTheReference(string reference, string code, string message)
+    {
+        using var run = new StudyRun();
+        run.File("data/d.csv", File.ReadAllText(Path.Combine(CasesDir, "one-way-significant", "data", "d.csv")));
+        run.Study(ReferenceStudy("Result: " + reference + "."));
+        var r = run.Compile();
+        Assert.False(r.Succeeded);
+        var d = Assert.Single(r.Diagnostics);
+        Assert.Equal(code, d.Code);
+        Assert.Contains(message, d.Message, StringComparison.Ordinal);
+        Assert.Equal(10, d.Location.Line + 1);
+        Assert.Equal(9, d.Location.Column + 1);
+    }
+
+    [Theory]
+    [InlineData("of: [mian]", "SP0243", "no analysis block with id 'mian' to describe; did you mean 'main'?")]
+    [InlineData("include: [efects]", "SP0209", "did you mean 'effects'?")]
+    [InlineData("tense: future", "SP0209", "past")]
+    [InlineData("of: [main, main]", "SP0245", "'main' is listed twice in 'of'")]
+    public void MethodsBlock_BadKey_IsAnError(string body, string code, string message)
+    {
+        using var run = new StudyRun();
+        run.File("data/d.csv", File.ReadAllText(Path.Combine(CasesDir, "one-way-significant", "data", "d.csv")));
+        run.Study(ReferenceStudy("```methods\n" + body + "\n```"));
+        var r = run.Compile();
+        Assert.False(r.Succeeded);
+        var d = Assert.Single(r.Diagnostics);
+        Assert.Equal(code, d.Code);
+        Assert.Contains(message, d.Message, StringComparison.Ordinal);
+    }
+}
