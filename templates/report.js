@@ -1,5 +1,19 @@
 (function () {
   "use strict";
+  // The chart font also travels as bytes: some browsers on machines without any installed font
+  // refuse the stylesheet's data: URL now and then, but accept the same font given as bytes.
+  var fontData = document.getElementById("chart-font");
+  if (fontData && window.FontFace && document.fonts) {
+    try {
+      var raw = atob(fontData.textContent.trim());
+      var bytes = new Uint8Array(raw.length);
+      for (var i = 0; i < raw.length; i++) { bytes[i] = raw.charCodeAt(i); }
+      var face = new FontFace("StudyPress Sans", bytes.buffer);
+      document.fonts.add(face);
+      face.load().catch(function () { document.fonts.delete(face); });
+    } catch (e) { /* the stylesheet's copy of the font remains */ }
+  }
+
   var source = document.getElementById("study-results");
   var panel = document.getElementById("trace");
   if (!source || !panel) { return; }

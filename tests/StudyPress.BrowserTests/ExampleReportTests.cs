@@ -30,7 +30,7 @@ public sealed class ExampleReportTests(BrowserFixture browser)
         };
         page.PageError += (_, e) => problems.Add("page error: " + e);
         await page.GotoAsync(report.Url, new() { WaitUntil = WaitUntilState.NetworkIdle });
-        await page.EvaluateAsync("() => document.fonts.ready");
+        await page.WaitForFunctionAsync("() => document.fonts.status === 'loaded' && Array.from(document.fonts).some(f => f.family.includes('StudyPress Sans') && f.status === 'loaded')");
 
         Assert.Equal([report.Url], requests);
         Assert.Empty(problems);
@@ -43,7 +43,7 @@ public sealed class ExampleReportTests(BrowserFixture browser)
         Assert.Equal(expected, list.Count);
         Assert.True(list.Count > 20, "the example has charts with labels");
         Assert.All(list.Where(l => l.GetProperty("text").GetString()!.Trim().Length > 0), l => Assert.True(l.GetProperty("w").GetDouble() > 0, "label '" + l.GetProperty("text").GetString() + "' has no width"));
-        Assert.True(await page.EvaluateAsync<bool>("() => document.fonts.check('12px \"StudyPress Sans\"')"));
+        Assert.True(await page.EvaluateAsync<bool>("() => Array.from(document.fonts).some(f => f.family.includes('StudyPress Sans') && f.status === 'loaded')"), "the chart font did not load");
     }
 
     [BrowserFact]
@@ -98,11 +98,11 @@ public sealed class ExampleReportTests(BrowserFixture browser)
         await using var b = await browser.LaunchAsync(new Dictionary<string, string> { ["FONTCONFIG_FILE"] = conf });
         var page = await b.NewPageAsync();
         await page.GotoAsync(report.Url);
-        await page.EvaluateAsync("() => document.fonts.ready");
+        await page.WaitForFunctionAsync("() => document.fonts.status === 'loaded' && Array.from(document.fonts).some(f => f.family.includes('StudyPress Sans') && f.status === 'loaded')");
         var widths = await page.EvaluateAsync<double[]>("() => Array.from(document.querySelectorAll('figure.chart svg text')).filter(t => t.textContent.trim().length > 0).map(t => t.getBBox().width)");
         Assert.NotEmpty(widths);
         Assert.All(widths, w => Assert.True(w > 0));
-        Assert.True(await page.EvaluateAsync<bool>("() => document.fonts.check('12px \"StudyPress Sans\"')"));
+        Assert.True(await page.EvaluateAsync<bool>("() => Array.from(document.fonts).some(f => f.family.includes('StudyPress Sans') && f.status === 'loaded')"), "the chart font did not load");
         Directory.CreateDirectory(Screenshots);
         await page.Locator("figure.chart").First.ScreenshotAsync(new() { Path = Path.Combine(Screenshots, "no-host-fonts-chart.png") });
     }

@@ -96,6 +96,7 @@ internal static class ReportRenderer
             ["manifest"] = manifestText,
             ["css"] = css,
             ["js"] = js,
+            ["chart_font"] = Convert.ToBase64String(StudyPress.Charts.ChartFont.FontBytes()),
         };
         var tc = new TemplateContext { StrictVariables = true, EnableRelaxedMemberAccess = false };
         tc.PushGlobal(model);
