@@ -26,6 +26,16 @@ public static class BuildCache
 
     private static readonly JsonWriterOptions WriterOptions = new() { Indented = true };
 
+    /// <summary>
+    /// Identifies the exact compiler code: the module version ids of the compiler, statistics and
+    /// chart assemblies (deterministic builds give a new id exactly when the code changes), so a
+    /// development build invalidates the cache even when the version number stays the same.
+    /// </summary>
+    public static string ToolBuild { get; } = string.Join(
+        "+",
+        new[] { typeof(Compilation), typeof(Statistics.Anova.OneWayAnova), typeof(Charts.Chart) }
+            .Select(t => t.Assembly.ManifestModule.ModuleVersionId.ToString("N")));
+
     /// <summary>The cache entry file for a study whose report goes to <paramref name="outputPath"/>.</summary>
     public static string EntryPath(string studyPath, string outputPath)
     {
@@ -50,6 +60,7 @@ public static class BuildCache
                 root.GetProperty("study").GetString() != Path.GetFullPath(studyPath) ||
                 root.GetProperty("report").GetString() != Path.GetFullPath(outputPath) ||
                 root.GetProperty("tool").GetString() != Compilation.ToolVersion ||
+                root.GetProperty("toolBuild").GetString() != ToolBuild ||
                 root.GetProperty("template").GetString() != ReportTemplate.Sha256 ||
                 root.GetProperty("options").GetString() != OptionsKey(options))
             {
@@ -95,6 +106,7 @@ public static class BuildCache
             w.WriteString("study", Path.GetFullPath(studyPath));
             w.WriteString("report", Path.GetFullPath(outputPath));
             w.WriteString("tool", Compilation.ToolVersion);
+            w.WriteString("toolBuild", ToolBuild);
             w.WriteString("template", ReportTemplate.Sha256);
             w.WriteString("options", OptionsKey(options));
             w.WriteString("reportSha256", Convert.ToHexStringLower(SHA256.HashData(html)));
