@@ -156,6 +156,7 @@ public static class BuildCommand
         }
 
         // The cache is about the report only; a manifest or figures asked for are always written.
+        var internalErrors = 0;
         var useCache = !request.Force && request.Json is null && request.FiguresDir is null;
         Parallel.ForEach(
             toBuild,
@@ -167,17 +168,18 @@ public static class BuildCommand
                 {
                     outcome = StudyBuilder.Build(study, options, useCache, request.Json, request.FiguresDir);
                 }
-                catch (Exception e) when (studies.Count > 1)
+                catch (Exception e)
                 {
-                    // A bug met by one study must not stop the others; it still counts as a failure.
-                    outcome = new StudyBuild(study, StudyOutcome.Failed, Compilation.OutputPathFor(study, options), [$"{study}:1:1: error: internal error: {e.GetType().Name}: {e.Message.Split('\n')[0]}; this is a bug in studypress"]);
+                    // A bug met by one study must not stop the others; the run then exits 70.
+                    Interlocked.Exchange(ref internalErrors, 1);
+                    outcome = new StudyBuild(study, StudyOutcome.Failed, Compilation.OutputPathFor(study, options), [$"{study}:1:1: error: internal error: {e.GetType().Name}: {e.Message.Split('\n')[0]}. This is a bug in studypress; please report it together with the study that caused it."]);
                 }
 
                 progress.Done(outcome);
             });
 
         progress.Finish();
-        return progress.Failed == 0 ? StudyPressCommand.Ok : StudyPressCommand.BadInput;
+        return internalErrors != 0 ? StudyPressCommand.InternalError : progress.Failed == 0 ? StudyPressCommand.Ok : StudyPressCommand.BadInput;
     }
 
     internal static string Display(string path) => Path.GetRelativePath(Directory.GetCurrentDirectory(), path).Replace('\\', '/');

@@ -112,7 +112,8 @@ public static class StudyPressCommand
         var verify = new Command("verify", "Say whether each report is fresh (its study and inputs unchanged), stale (which file changed) or altered (--recompute). Exit 0 all fresh, 1 any stale or altered, 2 unreadable.");
         verify.Arguments.Add(reports);
         verify.Options.Add(recompute);
-        verify.SetAction(pr => VerifyCommand.Run(pr.GetValue(reports) ?? [], pr.GetValue(recompute), stdout, stderr));
+        verify.Options.Add(allowOutside);
+        verify.SetAction(pr => VerifyCommand.Run(pr.GetValue(reports) ?? [], pr.GetValue(recompute), pr.GetValue(allowOutside), stdout, stderr));
         root.Subcommands.Add(verify);
 
         // watch

@@ -9,7 +9,7 @@ namespace StudyPress.Cli;
 /// </summary>
 public static class VerifyCommand
 {
-    public static int Run(IReadOnlyList<string> reports, bool recompute, TextWriter stdout, TextWriter stderr)
+    public static int Run(IReadOnlyList<string> reports, bool recompute, bool allowOutside, TextWriter stdout, TextWriter stderr)
     {
         if (StudyPressCommand.RejectOptionLike(reports, "verify", stderr))
         {
@@ -19,7 +19,7 @@ public static class VerifyCommand
         var exit = StudyPressCommand.Ok;
         foreach (var report in reports)
         {
-            var verdict = ReportVerifier.Verify(report, recompute);
+            var verdict = ReportVerifier.Verify(report, recompute, allowOutside);
             if (verdict.State == Freshness.Unreadable)
             {
                 stderr.WriteLine($"{report}:1:1: error: {verdict.Detail}");

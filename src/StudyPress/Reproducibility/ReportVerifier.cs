@@ -46,7 +46,8 @@ public sealed record Verdict(Freshness State, string? Detail)
 /// </summary>
 public static partial class ReportVerifier
 {
-    public static Verdict Verify(string reportPath, bool recompute)
+    /// <param name="allowOutside">For the rebuild: let data paths leave the study's folder tree, as <c>--allow-outside-data</c>.</param>
+    public static Verdict Verify(string reportPath, bool recompute, bool allowOutside = false)
     {
         string html;
         try
@@ -101,7 +102,7 @@ public static partial class ReportVerifier
             return new Verdict(Freshness.Stale, string.Join("; ", parts));
         }
 
-        return recompute ? Recompute(reportPath, html, manifest, studyFull, reportDir) : new Verdict(Freshness.Fresh, null);
+        return recompute ? Recompute(reportPath, html, manifest, studyFull, reportDir, allowOutside) : new Verdict(Freshness.Fresh, null);
     }
 
     private static void Check(string full, string shown, string recorded, List<string> changed, List<string> missing)
@@ -124,7 +125,7 @@ public static partial class ReportVerifier
         }
     }
 
-    private static Verdict Recompute(string reportPath, string html, ReportManifest manifest, string studyFull, string reportDir)
+    private static Verdict Recompute(string reportPath, string html, ReportManifest manifest, string studyFull, string reportDir, bool allowOutside)
     {
         // 1. The visible numbers against the report's own manifest.
         var bag = new DiagnosticBag();
@@ -162,6 +163,7 @@ public static partial class ReportVerifier
         {
             OutputDirectory = reportDir,
             SourceDateEpoch = manifest.BuiltEpoch,
+            AllowOutsidePaths = allowOutside,
         });
         if (!rebuilt.Succeeded)
         {
