@@ -1,3 +1,3 @@
 using StudyPress.Cli;
 
-return StudyPressCommand.Run(args, Console.Out, Console.Error);
+return StudyPressCommand.Run(args, Console.Out, Console.Error, interactive: !Console.IsOutputRedirected);

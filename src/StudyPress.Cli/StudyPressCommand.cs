@@ -1,24 +1,29 @@
 using System.CommandLine;
 using System.Globalization;
-using StudyPress.Rendering;
 
 namespace StudyPress.Cli;
 
 /// <summary>
-/// The command line. Exit status: 0 success; 2 bad input or usage (messages in
-/// FILE:LINE:COLUMN: error: MESSAGE form); 70 an internal error (a bug; one line, no stack trace).
+/// The command line. Exit status: 0 success; 1 <c>verify</c> found a stale or altered report;
+/// 2 bad input or usage (messages in FILE:LINE:COLUMN: error: MESSAGE form); 70 an internal
+/// error (a bug; one line, no stack trace).
 /// </summary>
 public static class StudyPressCommand
 {
     public const int Ok = 0;
+    public const int NotFresh = 1;
     public const int BadInput = 2;
     public const int InternalError = 70;
 
-    public static int Run(string[] args, TextWriter stdout, TextWriter stderr)
+    /// <summary>Runs the command line with plain (non-terminal) output.</summary>
+    public static int Run(string[] args, TextWriter stdout, TextWriter stderr) => Run(args, stdout, stderr, interactive: false);
+
+    /// <param name="interactive">True when stdout is a terminal: long batches show one updating progress line.</param>
+    public static int Run(string[] args, TextWriter stdout, TextWriter stderr, bool interactive)
     {
         try
         {
-            var root = BuildRoot(stdout, stderr);
+            var root = BuildRoot(stdout, stderr, interactive);
             var parse = root.Parse(args);
             if (parse.Errors.Count > 0)
             {
@@ -40,10 +45,31 @@ public static class StudyPressCommand
         }
     }
 
-    private static RootCommand BuildRoot(TextWriter stdout, TextWriter stderr)
+    /// <summary>
+    /// System.CommandLine hands unknown '--x' tokens to a string argument; refuse them unless a
+    /// file or folder of that name exists.
+    /// </summary>
+    internal static bool RejectOptionLike(IEnumerable<string> values, string command, TextWriter stderr)
+    {
+        foreach (var p in values)
+        {
+            if (p.StartsWith('-') && !File.Exists(p) && !Directory.Exists(p))
+            {
+                stderr.WriteLine($"studypress: error: unknown option '{p}'");
+                stderr.WriteLine($"Try 'studypress {command} --help'.");
+                return true;
+            }
+        }
+
+        return false;
+    }
+
+    private static RootCommand BuildRoot(TextWriter stdout, TextWriter stderr, bool interactive)
     {
         var root = new RootCommand("studypress: compile Markdown study files into self-contained, traceable HTML statistics reports.");
+        var allowOutside = new Option<bool>("--allow-outside-data") { Description = "Let data paths point outside the study's folder tree." };
 
+        // build
         var paths = new Argument<string[]>("PATH")
         {
             Arity = ArgumentArity.OneOrMore,
@@ -52,18 +78,67 @@ public static class StudyPressCommand
         var outDir = new Option<string?>("--out") { Description = "Write reports into this folder instead of beside each study." };
         var json = new Option<string?>("--json") { Description = "Also write the results manifest (JSON) to this file; one study only." };
         var quiet = new Option<bool>("--quiet") { Description = "Print errors only." };
-        var allowOutside = new Option<bool>("--allow-outside-data") { Description = "Let data paths point outside the study's folder tree." };
-        var build = new Command("build", "Compile study files into HTML reports.");
+        var jobs = new Option<int?>("--jobs") { Description = "Build this many studies at once (default: the number of processor cores)." };
+        var force = new Option<bool>("--force") { Description = "Rebuild every study, even those whose report is up to date." };
+        var pin = new Option<bool>("--pin") { Description = "First write each input's current SHA-256 into the study header (data.NAME.sha256), then build." };
+        var figures = new Option<string?>("--figures") { Description = "Also write each figure as a PNG file into this folder." };
+        var build = new Command("build", "Compile study files into HTML reports; a folder builds every study under it, skipping those that are up to date.");
         build.Arguments.Add(paths);
-        build.Options.Add(outDir);
-        build.Options.Add(json);
-        build.Options.Add(quiet);
-        build.Options.Add(allowOutside);
+        foreach (var o in new Option[] { outDir, json, jobs, force, pin, figures, quiet, allowOutside })
+        {
+            build.Options.Add(o);
+        }
+
         build.SetAction(pr => BuildCommand.Run(
-            new BuildRequest(pr.GetValue(paths) ?? [], pr.GetValue(outDir), pr.GetValue(json), pr.GetValue(quiet), pr.GetValue(allowOutside), SourceDateEpoch(stderr)),
+            new BuildRequest(pr.GetValue(paths) ?? [], pr.GetValue(outDir), pr.GetValue(json), pr.GetValue(quiet), pr.GetValue(allowOutside), SourceDateEpoch(stderr))
+            {
+                Jobs = pr.GetValue(jobs),
+                Force = pr.GetValue(force),
+                Pin = pr.GetValue(pin),
+                FiguresDir = pr.GetValue(figures),
+                Interactive = interactive,
+            },
             stdout,
             stderr));
         root.Subcommands.Add(build);
+
+        // verify
+        var reports = new Argument<string[]>("REPORT")
+        {
+            Arity = ArgumentArity.OneOrMore,
+            Description = "Report files (*.html) written by studypress build.",
+        };
+        var recompute = new Option<bool>("--recompute") { Description = "Also rebuild each fresh report in memory: its values, visible numbers and bytes must match." };
+        var verify = new Command("verify", "Say whether each report is fresh (its study and inputs unchanged), stale (which file changed) or altered (--recompute). Exit 0 all fresh, 1 any stale or altered, 2 unreadable.");
+        verify.Arguments.Add(reports);
+        verify.Options.Add(recompute);
+        verify.Options.Add(allowOutside);
+        verify.SetAction(pr => VerifyCommand.Run(pr.GetValue(reports) ?? [], pr.GetValue(recompute), pr.GetValue(allowOutside), stdout, stderr));
+        root.Subcommands.Add(verify);
+
+        // watch
+        var watchPaths = new Argument<string[]>("PATH")
+        {
+            Arity = ArgumentArity.OneOrMore,
+            Description = "Study files (*.md), or folders to search for them.",
+        };
+        var watchOut = new Option<string?>("--out") { Description = "Write reports into this folder instead of beside each study." };
+        var watch = new Command("watch", "Rebuild a study whenever it or one of its inputs changes. Stop with Ctrl+C.");
+        watch.Arguments.Add(watchPaths);
+        watch.Options.Add(watchOut);
+        watch.Options.Add(allowOutside);
+        watch.SetAction(pr => WatchCommand.Run(
+            new WatchRequest(pr.GetValue(watchPaths) ?? [], pr.GetValue(watchOut), pr.GetValue(allowOutside), SourceDateEpoch(stderr)),
+            stdout,
+            stderr));
+        root.Subcommands.Add(watch);
+
+        // new
+        var dir = new Argument<string>("DIR") { Description = "Folder for the new study (created if needed; existing files are never overwritten)." };
+        var create = new Command("new", "Write a small, working example study with invented data to start from.");
+        create.Arguments.Add(dir);
+        create.SetAction(pr => NewCommand.Run(pr.GetValue(dir)!, stdout, stderr));
+        root.Subcommands.Add(create);
         return root;
     }
 
@@ -82,97 +157,6 @@ public static class StudyPressCommand
 
         stderr.WriteLine("studypress: warning: SOURCE_DATE_EPOCH is not a whole number of seconds; ignored");
         return null;
-    }
-}
-
-public sealed record BuildRequest(IReadOnlyList<string> Paths, string? OutDir, string? Json, bool Quiet, bool AllowOutside, long? SourceDateEpoch);
-
-/// <summary><c>studypress build</c>.</summary>
-public static class BuildCommand
-{
-    public static int Run(BuildRequest request, TextWriter stdout, TextWriter stderr)
-    {
-        var studies = new List<string>();
-        foreach (var p in request.Paths)
-        {
-            if (p.StartsWith('-') && !File.Exists(p) && !Directory.Exists(p))
-            {
-                stderr.WriteLine($"studypress: error: unknown option '{p}'");
-                stderr.WriteLine("Try 'studypress build --help'.");
-                return StudyPressCommand.BadInput;
-            }
-
-            if (Directory.Exists(p))
-            {
-                studies.AddRange(StudyDiscovery.Find(p));
-            }
-            else if (File.Exists(p))
-            {
-                studies.Add(p);
-            }
-            else
-            {
-                stderr.WriteLine($"{p}:1:1: error: no such study file or folder");
-                return StudyPressCommand.BadInput;
-            }
-        }
-
-        if (studies.Count == 0)
-        {
-            stderr.WriteLine("studypress: error: no study files found (a study is a *.md file that starts with a '---' header)");
-            return StudyPressCommand.BadInput;
-        }
-
-        if (request.Json is not null && studies.Count > 1)
-        {
-            stderr.WriteLine("studypress: error: --json takes one study; several were given");
-            return StudyPressCommand.BadInput;
-        }
-
-        var options = new CompileOptions
-        {
-            OutputDirectory = request.OutDir,
-            AllowOutsidePaths = request.AllowOutside,
-            SourceDateEpoch = request.SourceDateEpoch,
-        };
-        var failed = 0;
-        foreach (var study in studies)
-        {
-            var result = Compilation.Compile(study, options);
-            foreach (var d in result.Diagnostics)
-            {
-                stderr.WriteLine(d.ToString());
-            }
-
-            if (!result.Succeeded)
-            {
-                failed++;
-                continue;
-            }
-
-            try
-            {
-                if (request.Json is not null)
-                {
-                    AtomicFile.Write(request.Json, result.ManifestJson!);
-                }
-
-                AtomicFile.Write(result.OutputPath, System.Text.Encoding.UTF8.GetBytes(result.Html!));
-            }
-            catch (Exception e) when (e is IOException or UnauthorizedAccessException)
-            {
-                stderr.WriteLine($"{study}:1:1: error: cannot write the report: {e.Message}");
-                failed++;
-                continue;
-            }
-
-            if (!request.Quiet)
-            {
-                stdout.WriteLine($"wrote {Path.GetRelativePath(Directory.GetCurrentDirectory(), result.OutputPath)}");
-            }
-        }
-
-        return failed == 0 ? StudyPressCommand.Ok : StudyPressCommand.BadInput;
     }
 }
 
@@ -195,6 +179,37 @@ public static class StudyDiscovery
         return found;
     }
 
+    /// <summary>The studies named by files and folders; null after printing an error.</summary>
+    internal static List<string>? Resolve(IEnumerable<string> paths, TextWriter stderr)
+    {
+        var studies = new List<string>();
+        foreach (var p in paths)
+        {
+            if (Directory.Exists(p))
+            {
+                studies.AddRange(Find(p));
+            }
+            else if (File.Exists(p))
+            {
+                studies.Add(p);
+            }
+            else
+            {
+                stderr.WriteLine($"{p}:1:1: error: no such study file or folder");
+                return null;
+            }
+        }
+
+        var distinct = studies.DistinctBy(Path.GetFullPath, StringComparer.Ordinal).ToList();
+        if (distinct.Count == 0)
+        {
+            stderr.WriteLine("studypress: error: no study files found (a study is a *.md file that starts with a '---' header)");
+            return null;
+        }
+
+        return distinct;
+    }
+
     private static bool IsStudy(string file)
     {
         try
@@ -203,7 +218,7 @@ public static class StudyDiscovery
             var first = reader.ReadLine();
             return first is not null && first.TrimStart('\uFEFF').TrimEnd() == "---";
         }
-        catch (IOException)
+        catch (Exception e) when (e is IOException or UnauthorizedAccessException)
         {
             return false;
         }

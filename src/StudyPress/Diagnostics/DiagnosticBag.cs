@@ -268,6 +268,9 @@ public sealed class DiagnosticBag
     // ---- output (SP06xx) ----
     public void CannotWrite(SourceLocation at, string path, string reason) => Error("SP0601", at, $"cannot write {Q(path)}: {reason}");
 
+    public void CannotPin(SourceLocation at, string name, string why) =>
+        Error("SP0602", at, $"cannot pin the hash of {Q(name)}: {why}; write it as a map with 'path' and 'sha256'");
+
     /// <summary>Closest candidate within a small edit distance, for "did you mean".</summary>
     public static string? Nearest(string word, IEnumerable<string> candidates)
     {
