@@ -151,7 +151,9 @@ public static partial class ReportVerifier
                 return new Verdict(Freshness.Altered, $"the report shows a number '{shown}' for {id}, which its manifest does not hold");
             }
 
-            var expected = v.Value is { } x ? format.Format(v.Stat, x) : "n/d";
+            // Numbers in generated sentences carry their style (data-style); others use the report's digits.
+            var style = m.Groups["style"].Success ? m.Groups["style"].Value : null;
+            var expected = v.Value is not { } x ? "n/d" : style is null ? format.Format(v.Stat, x) : StudyPress.Evaluation.ReportStyle.Format(style, x) ?? "unknown style " + style;
             if (shown != expected)
             {
                 return new Verdict(Freshness.Altered, $"{id} shows {shown}, its manifest value rounds to {expected}");
@@ -210,6 +212,6 @@ public static partial class ReportVerifier
 
     private static string Show(double? v) => v is { } x ? x.ToString("R", System.Globalization.CultureInfo.InvariantCulture) : "undefined";
 
-    [GeneratedRegex("<[A-Za-z][A-Za-z0-9]*\\b[^>]*\\sdata-v=\"(?<id>[^\"]*)\"[^>]*>(?<text>[^<]*)<", RegexOptions.CultureInvariant)]
+    [GeneratedRegex("<[A-Za-z][A-Za-z0-9]*\\b[^>]*\\sdata-v=\"(?<id>[^\"]*)\"(?:[^>]*\\sdata-style=\"(?<style>[^\"]*)\")?[^>]*>(?<text>[^<]*)<", RegexOptions.CultureInvariant)]
     private static partial Regex VisibleNumber();
 }
