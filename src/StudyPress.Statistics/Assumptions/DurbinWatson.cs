@@ -187,8 +187,13 @@ public static class DurbinWatson
             return (null, "the Durbin-Watson test needs at least 2 residual degrees of freedom (with fewer, d does not vary under the null hypothesis)");
         }
 
-        var x = Matrix<double>.Build.DenseOfArray(design);
         var exact = method == DurbinWatsonMethod.Exact || (method == DurbinWatsonMethod.Automatic && n <= ExactLimit);
+        if (!exact && n > StreamingLimit)
+        {
+            return StreamingMoments(design, n, p, m);
+        }
+
+        var x = Matrix<double>.Build.DenseOfArray(design);
         var qr = x.QR(exact ? QRMethod.Full : QRMethod.Thin);
         if (!FullRank(x, qr.R))
         {
@@ -217,6 +222,101 @@ public static class DurbinWatson
         var sp = dq.TransposeThisAndMultiply(dq);
         var traceMA = (2.0 * (n - 1)) - Frobenius2(dq);
         var traceMA2 = ((6.0 * n) - 8.0) - (2.0 * Frobenius2(aq)) + Frobenius2(sp);
+        var mean = traceMA / m;
+        var variance = 2.0 * (traceMA2 - (traceMA * mean)) / (m * (m + 2.0));
+        if (!(variance > 0))
+        {
+            return (null, "the Durbin-Watson statistic has zero variance for this design");
+        }
+
+        return (DurbinWatsonNullDistribution.BetaFromMoments(mean, variance), null);
+    }
+
+    /// <summary>Above this many rows the beta moments come from p × p cross products, streamed.</summary>
+    private const int StreamingLimit = 100_000;
+
+    /// <summary>
+    /// The same moments as the QR route without any n × p matrix: with G = X'X, B = (DX)'(DX) and
+    /// C = (AX)'(AX), A = D'D, the projection on the columns of X gives trace(MA) = 2(n-1) - tr(G⁻¹B)
+    /// and trace((MA)²) = 6n - 8 - 2 tr(G⁻¹C) + tr((G⁻¹B)²). One pass over the rows; memory p².
+    /// </summary>
+    private static (DurbinWatsonNullDistribution? Distribution, string? Reason) StreamingMoments(double[,] design, int n, int p, int m)
+    {
+        var g = new double[p, p];
+        var b = new double[p, p];
+        var c = new double[p, p];
+        var dPrev = new double[p];
+        var dCur = new double[p];
+        var a = new double[p];
+        for (var t = 0; t < n; t++)
+        {
+            // (DX)_t = x_(t+1) - x_t for t < n-1; (AX)_t = (DX)_(t-1) - (DX)_t with zeros outside.
+            for (var j = 0; j < p; j++)
+            {
+                dCur[j] = t < n - 1 ? design[t + 1, j] - design[t, j] : 0.0;
+                a[j] = (t > 0 ? dPrev[j] : 0.0) - dCur[j];
+            }
+
+            for (var i = 0; i < p; i++)
+            {
+                var xi = design[t, i];
+                var di = dCur[i];
+                var ai = a[i];
+                for (var j = 0; j <= i; j++)
+                {
+                    g[i, j] += xi * design[t, j];
+                    b[i, j] += di * dCur[j];
+                    c[i, j] += ai * a[j];
+                }
+            }
+
+            (dPrev, dCur) = (dCur, dPrev);
+        }
+
+        var gm = Matrix<double>.Build.Dense(p, p);
+        var bm = Matrix<double>.Build.Dense(p, p);
+        var cm = Matrix<double>.Build.Dense(p, p);
+        for (var i = 0; i < p; i++)
+        {
+            for (var j = 0; j <= i; j++)
+            {
+                gm[i, j] = gm[j, i] = g[i, j];
+                bm[i, j] = bm[j, i] = b[i, j];
+                cm[i, j] = cm[j, i] = c[i, j];
+            }
+        }
+
+        // Rank as in the QR route: the Cholesky diagonal of G equals |R_jj|.
+        for (var j = 0; j < p; j++)
+        {
+            if (!(g[j, j] > 0))
+            {
+                return (null, "the design matrix is not of full column rank");
+            }
+        }
+
+        MathNet.Numerics.LinearAlgebra.Factorization.Cholesky<double> chol;
+        try
+        {
+            chol = gm.Cholesky();
+        }
+        catch (ArgumentException)
+        {
+            return (null, "the design matrix is not of full column rank");
+        }
+
+        for (var j = 0; j < p; j++)
+        {
+            if (!(Math.Abs(chol.Factor[j, j]) > 1e-10 * Math.Sqrt(g[j, j])))
+            {
+                return (null, "the design matrix is not of full column rank");
+            }
+        }
+
+        var gb = chol.Solve(bm);
+        var gc = chol.Solve(cm);
+        var traceMA = (2.0 * (n - 1)) - gb.Trace();
+        var traceMA2 = ((6.0 * n) - 8.0) - (2.0 * gc.Trace()) + (gb * gb).Trace();
         var mean = traceMA / m;
         var variance = 2.0 * (traceMA2 - (traceMA * mean)) / (m * (m + 2.0));
         if (!(variance > 0))
@@ -276,10 +376,16 @@ public static class DurbinWatson
         return r;
     }
 
+    /// <summary>Sum of squared entries, in one pass (the library's norm forms A Aᵀ: quadratic in rows).</summary>
     private static double Frobenius2(Matrix<double> a)
     {
-        var f = a.FrobeniusNorm();
-        return f * f;
+        double sum = 0;
+        foreach (var v in a.Storage.Enumerate())
+        {
+            sum += v * v;
+        }
+
+        return sum;
     }
 }
 

@@ -37,19 +37,24 @@ public static class CsvLoader
         }
 
         var errorsBefore = diagnostics.Items.Count;
-        var text = TextDecoding.Decode(bytes, displayPath, diagnostics);
-        if (text is null)
+        var body = Utf8Body(bytes);
+        if (body is null)
         {
+            // Not clean UTF-8: let the decoder report exactly what is wrong.
+            _ = TextDecoding.Decode(bytes, displayPath, diagnostics);
             return null;
         }
 
         var file = new SourceLocation(displayPath, 0, 0);
-        if (text.Trim().Length == 0)
+        if (IsBlank(bytes.AsSpan(body.Value.Start, body.Value.Length)))
         {
             diagnostics.EmptyDataFile(file);
             return null;
         }
 
+        // Decode and parse in chunks from the bytes: the file is never held as one UTF-16 string.
+        using var stream = new MemoryStream(bytes, body.Value.Start, body.Value.Length, writable: false);
+        using var textReader = new StreamReader(stream, StrictUtf8, detectEncodingFromByteOrderMarks: false, bufferSize: 1 << 16);
         using var reader = Sep.Reader(o => o with
         {
             Sep = new Sep(spec.Delimiter),
@@ -57,9 +62,8 @@ public static class CsvLoader
             Unescape = true,
             DisableColCountCheck = true,
             DisableFastFloat = true,
-        }).FromText(text);
+        }).From(textReader);
 
-        var headerLine = FirstLine(text);
         if (!reader.MoveNext())
         {
             diagnostics.EmptyDataFile(file);
@@ -67,6 +71,7 @@ public static class CsvLoader
         }
 
         var headerRow = reader.Current;
+        var headerLine = FirstLine(headerRow.Span);
         var names = new List<string>();
         for (var i = 0; i < headerRow.ColCount; i++)
         {
@@ -113,30 +118,60 @@ public static class CsvLoader
             return null;
         }
 
+        // At most one row per line after the header; arrays grow if a file has lone CR line ends.
+        var bodySpan = bytes.AsSpan(body.Value.Start, body.Value.Length);
+        var lineCount = bodySpan.Count((byte)'\n') + (bodySpan[^1] == (byte)'\n' ? 0 : 1);
+        var capacity = Math.Max(1, lineCount - 1);
         var numericCols = needs.Numeric.Keys.Select(c => (Name: c, Index: index[c])).ToArray();
         var factorCols = needs.Factors.Values.Select(v => (v.Spec, Index: index[v.Spec.Column])).ToArray();
-        var numbers = numericCols.Select(_ => new List<decimal>()).ToArray();
-        var doubles = numericCols.Select(_ => (List<double>?)null).ToArray();
-        var missingFlags = numericCols.Select(_ => new List<bool>()).ToArray();
-        var levelText = factorCols.Select(_ => new List<string?>()).ToArray();
-        var missing = new HashSet<string>(spec.Missing, StringComparer.Ordinal);
+        var numbers = numericCols.Select(_ => new decimal[capacity]).ToArray();
+        var doubles = numericCols.Select(_ => (double[]?)null).ToArray();
+        var missingFlags = numericCols.Select(_ => new bool[capacity]).ToArray();
+        var missingCount = new int[numericCols.Length];
+
+        // Factor levels are interned as they are met (span-keyed lookup, no string per cell).
+        var codes = factorCols.Select(_ => new int[capacity]).ToArray();
+        var seen = factorCols.Select(_ => new Dictionary<string, int>(StringComparer.Ordinal)).ToArray();
+        var seenLookup = seen.Select(d => d.GetAlternateLookup<ReadOnlySpan<char>>()).ToArray();
+        var seenNames = factorCols.Select(_ => new List<string>()).ToArray();
+        var seenDeclared = factorCols.Select(_ => new List<bool>()).ToArray();
+        var missing = new HashSet<string>(spec.Missing, StringComparer.Ordinal).GetAlternateLookup<ReadOnlySpan<char>>();
         var rows = 0;
-        var lines = new List<int>();
+        var lines = new int[capacity];
         var expected = names.Count;
         while (reader.MoveNext())
         {
             var row = reader.Current;
-            rows++;
             var line = row.LineNumberFrom - 1;
             var raw = row.Span;
             if (raw.Length == 0 || (row.ColCount == 1 && raw.Trim().Length == 0))
             {
                 // A blank line (commonly the last one) is not a row.
-                rows--;
                 continue;
             }
 
-            lines.Add(line + 1);
+            if (rows == capacity)
+            {
+                capacity *= 2;
+                Array.Resize(ref lines, capacity);
+                for (var c = 0; c < numericCols.Length; c++)
+                {
+                    Array.Resize(ref numbers[c], capacity);
+                    Array.Resize(ref missingFlags[c], capacity);
+                    if (doubles[c] is not null)
+                    {
+                        Array.Resize(ref doubles[c], capacity);
+                    }
+                }
+
+                for (var c = 0; c < factorCols.Length; c++)
+                {
+                    Array.Resize(ref codes[c], capacity);
+                }
+            }
+
+            var r = rows++;
+            lines[r] = line + 1;
             if (UnterminatedQuote(raw, spec.Delimiter) is { } quoteAt)
             {
                 diagnostics.UnterminatedQuote(new SourceLocation(displayPath, line, quoteAt));
@@ -146,38 +181,60 @@ public static class CsvLoader
             if (row.ColCount != expected)
             {
                 diagnostics.RaggedRow(new SourceLocation(displayPath, line, 0), row.ColCount, expected);
-                AddPlaceholders();
+                AddPlaceholders(r);
                 continue;
             }
 
             for (var c = 0; c < numericCols.Length; c++)
             {
                 var cell = row[numericCols[c].Index].Span.Trim();
-                var cellText = cell.ToString();
-                if (missing.Contains(cellText))
+                if (missing.Contains(cell))
                 {
-                    numbers[c].Add(0);
-                    doubles[c]?.Add(double.NaN);
-                    missingFlags[c].Add(true);
+                    missingFlags[c][r] = true;
+                    missingCount[c]++;
+                    if (doubles[c] is { } dm)
+                    {
+                        dm[r] = double.NaN;
+                    }
+
                     continue;
                 }
 
-                missingFlags[c].Add(false);
+                if (doubles[c] is null && TryParseSimple(cell, spec.Decimal, out var simple))
+                {
+                    numbers[c][r] = simple;
+                    continue;
+                }
+
+                var cellText = cell.ToString();
                 if (ParseNumber(cellText, spec.Decimal, out var exact, out var approx, out var problem))
                 {
-                    numbers[c].Add(exact);
+                    numbers[c][r] = exact;
                     if (doubles[c] is null && exact == 0 && approx != 0)
                     {
                         // Too small for decimal: switch this column to double.
-                        doubles[c] = [.. numbers[c].Take(numbers[c].Count - 1).Select((v, k) => missingFlags[c][k] ? double.NaN : (double)v)];
+                        var switched = new double[capacity];
+                        for (var k = 0; k < r; k++)
+                        {
+                            switched[k] = missingFlags[c][k] ? double.NaN : (double)numbers[c][k];
+                        }
+
+                        doubles[c] = switched;
                     }
 
-                    doubles[c]?.Add(approx);
+                    if (doubles[c] is { } d)
+                    {
+                        d[r] = approx;
+                    }
+
                     continue;
                 }
 
-                numbers[c].Add(0);
-                doubles[c]?.Add(double.NaN);
+                if (doubles[c] is { } dn)
+                {
+                    dn[r] = double.NaN;
+                }
+
                 var at = CellLocation(displayPath, line, raw, numericCols[c].Index, spec.Delimiter);
                 switch (problem)
                 {
@@ -198,16 +255,27 @@ public static class CsvLoader
 
             for (var c = 0; c < factorCols.Length; c++)
             {
-                var cellText = row[factorCols[c].Index].Span.Trim().ToString();
-                if (missing.Contains(cellText))
+                var cell = row[factorCols[c].Index].Span.Trim();
+                if (missing.Contains(cell))
                 {
-                    levelText[c].Add(null);
+                    codes[c][r] = -1;
                     continue;
                 }
 
-                levelText[c].Add(cellText);
-                if (factorCols[c].Spec.Levels is { } declared && !declared.Contains(cellText))
+                if (!seenLookup[c].TryGetValue(cell, out var code))
                 {
+                    var text = cell.ToString();
+                    code = seenNames[c].Count;
+                    seen[c][text] = code;
+                    seenNames[c].Add(text);
+                    seenDeclared[c].Add(factorCols[c].Spec.Levels is not { } levels || levels.Contains(text));
+                }
+
+                codes[c][r] = code;
+                if (!seenDeclared[c][code])
+                {
+                    var cellText = seenNames[c][code];
+                    var declared = factorCols[c].Spec.Levels!;
                     diagnostics.UndeclaredLevel(
                         CellLocation(displayPath, line, raw, factorCols[c].Index, spec.Delimiter),
                         cellText,
@@ -217,18 +285,23 @@ public static class CsvLoader
             }
         }
 
-        void AddPlaceholders()
+        void AddPlaceholders(int r)
         {
             for (var c = 0; c < numericCols.Length; c++)
             {
-                numbers[c].Add(0);
-                doubles[c]?.Add(double.NaN);
-                missingFlags[c].Add(true);
+                numbers[c][r] = 0;
+                if (doubles[c] is { } d)
+                {
+                    d[r] = double.NaN;
+                }
+
+                missingFlags[c][r] = true;
+                missingCount[c]++;
             }
 
             for (var c = 0; c < factorCols.Length; c++)
             {
-                levelText[c].Add(null);
+                codes[c][r] = -1;
             }
         }
 
@@ -247,21 +320,28 @@ public static class CsvLoader
         for (var c = 0; c < numericCols.Length; c++)
         {
             numeric[numericCols[c].Name] = doubles[c] is { } d
-                ? CentreDoubles(numericCols[c].Name, [.. d])
-                : CentreDecimals(numericCols[c].Name, numbers[c], missingFlags[c]);
+                ? CentreDoubles(numericCols[c].Name, Trim(d, rows))
+                : CentreDecimals(numericCols[c].Name, Trim(numbers[c], rows), missingFlags[c], rows - missingCount[c]);
         }
 
         var factors = new Dictionary<string, CategoricalColumn>(StringComparer.Ordinal);
         for (var c = 0; c < factorCols.Length; c++)
         {
             var f = factorCols[c].Spec;
-            var levels = f.Levels ?? OrderLevels(levelText[c].Where(t => t is not null).Select(t => t!).Distinct(StringComparer.Ordinal));
+            var levels = f.Levels ?? OrderLevels(seenNames[c]);
             var lookup = levels.Select((l, k) => (l, k)).ToDictionary(p => p.l, p => p.k, StringComparer.Ordinal);
-            var codes = levelText[c].Select(t => t is null ? -1 : lookup[t]).ToArray();
+            var remap = seenNames[c].Select(t => lookup[t]).ToArray();
+            var final = Trim(codes[c], rows);
             var counts = new int[levels.Count];
-            foreach (var code in codes.Where(code => code >= 0))
+            for (var i = 0; i < final.Length; i++)
             {
-                counts[code]++;
+                var code = final[i];
+                if (code >= 0)
+                {
+                    code = remap[code];
+                    final[i] = code;
+                    counts[code]++;
+                }
             }
 
             for (var k = 0; k < levels.Count; k++)
@@ -272,7 +352,7 @@ public static class CsvLoader
                 }
             }
 
-            factors[f.Name] = new CategoricalColumn(f.Column, codes, levels, counts);
+            factors[f.Name] = new CategoricalColumn(f.Column, final, levels, counts);
         }
 
         if (diagnostics.Items.Count > errorsBefore)
@@ -286,7 +366,7 @@ public static class CsvLoader
             Path = spec.Path.Replace('\\', '/'),
             Sha256 = sha,
             Rows = rows,
-            Lines = [.. lines],
+            Lines = Trim(lines, rows),
             ColumnNames = names,
             Numeric = numeric,
             Factors = factors,
@@ -389,36 +469,40 @@ public static class CsvLoader
         return false;
     }
 
-    private static NumericColumn CentreDecimals(string name, List<decimal> values, List<bool> missing)
+    private static NumericColumn CentreDecimals(string name, decimal[] values, bool[] missing, int n)
     {
         decimal sum = 0;
-        var n = 0;
         try
         {
-            for (var i = 0; i < values.Count; i++)
+            for (var i = 0; i < values.Length; i++)
             {
                 if (!missing[i])
                 {
                     sum += values[i];
-                    n++;
                 }
             }
         }
         catch (OverflowException)
         {
-            return CentreDoubles(name, [.. values.Select((v, i) => missing[i] ? double.NaN : (double)v)]);
+            var approx = new double[values.Length];
+            for (var i = 0; i < values.Length; i++)
+            {
+                approx[i] = missing[i] ? double.NaN : (double)values[i];
+            }
+
+            return CentreDoubles(name, approx);
         }
 
         var centre = n > 0 ? sum / n : 0m;
-        var centred = new double[values.Count];
-        var raw = new double[values.Count];
-        for (var i = 0; i < values.Count; i++)
+        var centred = new double[values.Length];
+        var raw = new double[values.Length];
+        for (var i = 0; i < values.Length; i++)
         {
             centred[i] = missing[i] ? double.NaN : (double)(values[i] - centre);
             raw[i] = missing[i] ? double.NaN : (double)values[i];
         }
 
-        return new NumericColumn(name, centred, raw, (double)centre, values.Count - n, [.. values]);
+        return new NumericColumn(name, centred, raw, (double)centre, values.Length - n, values);
     }
 
     private static NumericColumn CentreDoubles(string name, double[] values)
@@ -429,10 +513,98 @@ public static class CsvLoader
         return new NumericColumn(name, centred, values, centre, values.Length - present.Length, null);
     }
 
-    private static string FirstLine(string text)
+    private static readonly System.Text.UTF8Encoding StrictUtf8 = new(encoderShouldEmitUTF8Identifier: false, throwOnInvalidBytes: true);
+
+    private static T[] Trim<T>(T[] values, int n) => values.Length == n ? values : values[..n];
+
+    /// <summary>
+    /// The byte range after a UTF-8 BOM when the bytes are valid UTF-8 without NUL bytes or a
+    /// UTF-16 BOM (what <see cref="TextDecoding.Decode"/> accepts); null otherwise.
+    /// </summary>
+    private static (int Start, int Length)? Utf8Body(byte[] bytes)
     {
-        var nl = text.IndexOf('\n', StringComparison.Ordinal);
-        var line = nl < 0 ? text : text[..nl];
+        ReadOnlySpan<byte> span = bytes;
+        if (span.Length >= 2 && ((span[0] == 0xFF && span[1] == 0xFE) || (span[0] == 0xFE && span[1] == 0xFF)))
+        {
+            return null;
+        }
+
+        var start = span.Length >= 3 && span[0] == 0xEF && span[1] == 0xBB && span[2] == 0xBF ? 3 : 0;
+        span = span[start..];
+        return span.Contains((byte)0) || !System.Text.Unicode.Utf8.IsValid(span) ? null : (start, span.Length);
+    }
+
+    /// <summary>True when the text is only white space (decoded only if a non-ASCII byte is met first).</summary>
+    private static bool IsBlank(ReadOnlySpan<byte> utf8)
+    {
+        foreach (var b in utf8)
+        {
+            if (b is (byte)' ' or (byte)'\t' or (byte)'\n' or (byte)'\r' or 0x0B or 0x0C)
+            {
+                continue;
+            }
+
+            return b >= 0x80 && System.Text.Encoding.UTF8.GetString(utf8).Trim().Length == 0;
+        }
+
+        return true;
+    }
+
+    /// <summary>
+    /// The common case without allocation: optional '-', 1 to 18 digits with at most one decimal
+    /// mark between digits, not zero. Gives the same decimal (value and scale) as
+    /// <see cref="decimal.TryParse(string, NumberStyles, IFormatProvider, out decimal)"/>; anything
+    /// else returns false and goes the general way.
+    /// </summary>
+    private static bool TryParseSimple(ReadOnlySpan<char> s, char decimalMark, out decimal exact)
+    {
+        exact = 0;
+        var i = 0;
+        var negative = false;
+        if (s.Length > 0 && s[0] == '-')
+        {
+            negative = true;
+            i = 1;
+        }
+
+        ulong mantissa = 0;
+        var digits = 0;
+        var scale = -1;
+        for (; i < s.Length; i++)
+        {
+            var ch = s[i];
+            if ((uint)(ch - '0') <= 9)
+            {
+                mantissa = (mantissa * 10) + (uint)(ch - '0');
+                digits++;
+                if (scale >= 0)
+                {
+                    scale++;
+                }
+            }
+            else if (ch == decimalMark && scale < 0 && digits > 0)
+            {
+                scale = 0;
+            }
+            else
+            {
+                return false;
+            }
+        }
+
+        if (digits == 0 || digits > 18 || scale == 0 || mantissa == 0)
+        {
+            return false;
+        }
+
+        exact = new decimal((int)(uint)mantissa, (int)(uint)(mantissa >> 32), 0, negative, (byte)Math.Max(scale, 0));
+        return true;
+    }
+
+    private static ReadOnlySpan<char> FirstLine(ReadOnlySpan<char> record)
+    {
+        var nl = record.IndexOf('\n');
+        var line = nl < 0 ? record : record[..nl];
         line = line.TrimEnd('\r');
         return line.StartsWith('\uFEFF') ? line[1..] : line;
     }

@@ -58,22 +58,57 @@ public sealed class BlockData
     /// <summary>Groups by the crossing of all block factors: level label, codes, centred values, row positions.</summary>
     public IReadOnlyList<(string Label, int[] Codes, double[] Values, int[] Positions)> Cells()
     {
-        var map = new SortedDictionary<string, (string Label, int[] Codes, List<double> Values, List<int> Positions)>(StringComparer.Ordinal);
+        // One pass: each row's cell is the mixed-radix number of its codes (first factor most
+        // significant), so ordering by it is ordering by the codes, as the labels' keys were.
+        var k = Factors.Count;
+        var radix = Factors.Select(f => (long)Math.Max(1, f.Levels.Count)).ToArray();
+        var keys = new long[Rows.Length];
+        var map = new Dictionary<long, int>();
+        var sizes = new List<int>();
         for (var i = 0; i < Rows.Length; i++)
         {
-            var codes = Factors.Select(f => f.Codes[i]).ToArray();
-            var key = string.Join(",", codes.Select(c => c.ToString("D6", System.Globalization.CultureInfo.InvariantCulture)));
-            if (!map.TryGetValue(key, out var cell))
+            long key = 0;
+            for (var f = 0; f < k; f++)
             {
-                cell = (string.Join(" / ", codes.Select((c, k) => Factors[k].Levels[c])), codes, [], []);
-                map[key] = cell;
+                key = (key * radix[f]) + Factors[f].Codes[i];
             }
 
-            cell.Values.Add(Response[i]);
-            cell.Positions.Add(i);
+            keys[i] = key;
+            if (!map.TryGetValue(key, out var slot))
+            {
+                slot = sizes.Count;
+                map[key] = slot;
+                sizes.Add(0);
+            }
+
+            sizes[slot]++;
         }
 
-        return [.. map.Values.Select(c => (c.Label, c.Codes, c.Values.ToArray(), c.Positions.ToArray()))];
+        var cells = new (string Label, int[] Codes, double[] Values, int[] Positions)[map.Count];
+        var fill = new int[map.Count];
+        foreach (var (key, slot) in map)
+        {
+            var codes = new int[k];
+            var rest = key;
+            for (var f = k - 1; f >= 0; f--)
+            {
+                codes[f] = (int)(rest % radix[f]);
+                rest /= radix[f];
+            }
+
+            cells[slot] = (string.Join(" / ", codes.Select((c, j) => Factors[j].Levels[c])), codes, new double[sizes[slot]], new int[sizes[slot]]);
+        }
+
+        for (var i = 0; i < Rows.Length; i++)
+        {
+            var slot = map[keys[i]];
+            var at = fill[slot]++;
+            cells[slot].Values[at] = Response[i];
+            cells[slot].Positions[at] = i;
+        }
+
+        var order = map.OrderBy(p => p.Key).Select(p => p.Value);
+        return [.. order.Select(slot => cells[slot])];
     }
 }
 
@@ -84,13 +119,20 @@ public sealed record BlockFactor(FactorSpec Spec, int[] Codes, IReadOnlyList<str
 
     public double[][] Split(double[] values)
     {
-        var lists = Levels.Select(_ => new List<double>()).ToArray();
-        for (var i = 0; i < Codes.Length; i++)
+        var sizes = new int[Levels.Count];
+        foreach (var c in Codes)
         {
-            lists[Codes[i]].Add(values[i]);
+            sizes[c]++;
         }
 
-        return [.. lists.Select(l => l.ToArray())];
+        var groups = sizes.Select(n => new double[n]).ToArray();
+        var fill = new int[Levels.Count];
+        for (var i = 0; i < Codes.Length; i++)
+        {
+            groups[Codes[i]][fill[Codes[i]]++] = values[i];
+        }
+
+        return groups;
     }
 }
 

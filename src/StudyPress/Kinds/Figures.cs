@@ -17,14 +17,53 @@ public static class Figures
 {
     public static readonly string[] Types = ["box", "means", "interaction", "qq", "residual-histogram", "residuals-fitted", "f-distribution", "power-curve", "intervals"];
 
+    /// <summary>Above this many points in one figure (or group), the figure draws a thinned set.</summary>
+    internal const int MaxPoints = 5000;
+
+    /// <summary>How many points a thinned figure draws.</summary>
+    internal const int ThinnedPoints = 2000;
+
+    private static readonly System.Runtime.CompilerServices.ConditionalWeakTable<double[], double[]> Thinned = new();
+
+    /// <summary>
+    /// The values themselves up to <see cref="MaxPoints"/>; above, <see cref="ThinnedPoints"/> evenly
+    /// spaced order statistics (the smallest and largest included), so a figure of millions of
+    /// points stays small and quick while its shape is kept.
+    /// </summary>
+    internal static double[] Thin(double[] values)
+    {
+        if (values.Length <= MaxPoints)
+        {
+            return values;
+        }
+
+        return Thinned.GetValue(values, v =>
+        {
+            var sorted = (double[])v.Clone();
+            Array.Sort(sorted);
+            var r = new double[ThinnedPoints];
+            for (var k = 0; k < ThinnedPoints; k++)
+            {
+                r[k] = sorted[(int)Math.Round((double)k * (sorted.Length - 1) / (ThinnedPoints - 1))];
+            }
+
+            return r;
+        });
+    }
+
+    private static string ThinNote(int n) => n > MaxPoints
+        ? string.Create(CultureInfo.InvariantCulture, $" With {n:N0} observations, the figure draws {ThinnedPoints:N0} evenly spaced order statistics instead of every point.")
+        : string.Empty;
+
     /// <summary>Box plots with every observation over them, by the block's cells.</summary>
     public static Figure? Box(BlockData data, string? caption = null)
     {
         var cells = data.Factors.Count == 0 ? [("all", Array.Empty<int>(), data.Response, Enumerable.Range(0, data.Rows.Length).ToArray())] : data.Cells();
-        var groups = cells.Select(c => new GroupSample(c.Label, [.. c.Positions.Select(i => data.Values[i])])).ToList();
+        var groups = cells.Select(c => new GroupSample(c.Label, Thin([.. c.Positions.Select(i => data.Values[i])]))).ToList();
         var by = string.Join(" and ", data.Factors.Select(f => f.Spec.Display));
         var chart = StatCharts.GroupDistributions(groups, new ChartLabels($"Distribution of {data.ResponseName}" + (by.Length > 0 ? " by " + by : string.Empty), by, data.ResponseName));
-        return new Figure("box", caption ?? $"Each group's box spans the quartiles with the median marked; whiskers reach the most extreme values within 1.5 IQR of the box; every observation is drawn as a point.", chart);
+        var largest = cells.Max(c => c.Positions.Length);
+        return new Figure("box", caption ?? $"Each group's box spans the quartiles with the median marked; whiskers reach the most extreme values within 1.5 IQR of the box; every observation is drawn as a point." + ThinNote(largest), chart);
     }
 
     /// <summary>Group means with t confidence intervals.</summary>
@@ -83,8 +122,8 @@ public static class Figures
         }
 
         var level = Confidence(anova.Result.Alpha);
-        var chart = StatCharts.NormalQuantilePlot(anova.Result.Residuals, new ChartLabels("Normal quantile plot of the residuals", "standard normal quantile", "residual"), 1 - anova.Result.Alpha);
-        return new Figure("qq", caption ?? $"Residuals against normal quantiles (Blom plotting positions), with a line through the quartiles and a pointwise {level} envelope from the order statistics' beta distributions; points along the line are what normal residuals look like.", chart);
+        var chart = StatCharts.NormalQuantilePlot(Thin(anova.Result.Residuals), new ChartLabels("Normal quantile plot of the residuals", "standard normal quantile", "residual"), 1 - anova.Result.Alpha);
+        return new Figure("qq", caption ?? $"Residuals against normal quantiles (Blom plotting positions), with a line through the quartiles and a pointwise {level} envelope from the order statistics' beta distributions; points along the line are what normal residuals look like." + ThinNote(anova.Result.Residuals.Length), chart);
     }
 
     public static Figure? Histogram(AnovaKind.Outcome anova, string? caption = null)
@@ -94,8 +133,8 @@ public static class Figures
             return null;
         }
 
-        var chart = StatCharts.ResidualHistogram(anova.Result.Residuals, new ChartLabels("Distribution of the residuals", "residual", "count"));
-        return new Figure("residual-histogram", caption ?? "Histogram of the residuals (Freedman–Diaconis bins) with the fitted normal density and a kernel density estimate (Silverman's bandwidth).", chart);
+        var chart = StatCharts.ResidualHistogram(Thin(anova.Result.Residuals), new ChartLabels("Distribution of the residuals", "residual", "count"));
+        return new Figure("residual-histogram", caption ?? "Histogram of the residuals (Freedman–Diaconis bins) with the fitted normal density and a kernel density estimate (Silverman's bandwidth)." + ThinNote(anova.Result.Residuals.Length), chart);
     }
 
     public static Figure? ResidualsFitted(AnovaKind.Outcome anova, string? caption = null)
@@ -105,9 +144,12 @@ public static class Figures
             return null;
         }
 
-        var fitted = anova.Result.Fitted.Select(f => f + anova.ResponseCentre).ToArray();
-        var chart = StatCharts.ResidualsVersusFitted(fitted, anova.Result.Residuals, new ChartLabels("Residuals against fitted values", "fitted value" + (anova.Transformed is null ? string.Empty : " (transformed scale)"), "residual"));
-        return new Figure("residuals-fitted", caption ?? "A funnel shape (spread growing with the fitted value) suggests unequal variances; curvature suggests a missing term or a needed transformation.", chart);
+        var n = anova.Result.Residuals.Length;
+        var picks = n > MaxPoints ? [.. Enumerable.Range(0, ThinnedPoints).Select(k => (int)((long)k * n / ThinnedPoints))] : Enumerable.Range(0, n).ToArray();
+        var fitted = picks.Select(i => anova.Result.Fitted[i] + anova.ResponseCentre).ToArray();
+        var residuals = picks.Select(i => anova.Result.Residuals[i]).ToArray();
+        var chart = StatCharts.ResidualsVersusFitted(fitted, residuals, new ChartLabels("Residuals against fitted values", "fitted value" + (anova.Transformed is null ? string.Empty : " (transformed scale)"), "residual"));
+        return new Figure("residuals-fitted", caption ?? "A funnel shape (spread growing with the fitted value) suggests unequal variances; curvature suggests a missing term or a needed transformation." + (n > MaxPoints ? string.Create(CultureInfo.InvariantCulture, $" With {n:N0} observations, every {Math.Max(1, n / ThinnedPoints):N0}th one in data order is drawn ({ThinnedPoints:N0} points).") : string.Empty), chart);
     }
 
     public static IEnumerable<Figure> FDistributions(AnovaKind.Outcome anova, string? caption = null)

@@ -337,4 +337,47 @@ public class DurbinWatsonTests
 
         return x;
     }
+
+    [Fact]
+    public void DurbinWatson_LargeInterceptOnlyDesign_HasTheHandComputedMoments()
+    {
+        // Intercept only: M A has trace 2(n-1) and M A M A trace 6n-8 (A 1 = 0), so E(d) = 2 and
+        // Var(d) = 2 (6n - 8 - 4(n - 1)) / ((n - 1)(n + 1)) = 4 (n - 2) / (n² - 1). Hand computation.
+        const int n = 200_001;
+        var x = new double[n, 1];
+        for (var i = 0; i < n; i++)
+        {
+            x[i, 0] = 1;
+        }
+
+        var dist = DurbinWatson.NullDistribution(x, DurbinWatsonMethod.BetaApproximation);
+        Assert.Equal(2.0, dist.Mean, 1e-12);
+        Assert.Equal(4.0 * (n - 2) / (((double)n * n) - 1), dist.Variance, 1e-15);
+    }
+
+    [Fact]
+    public void DurbinWatson_BetaMoments_AgreeAcrossTheStreamingSwitch()
+    {
+        // Up to 100,000 rows the moments come from a QR factorization, above from cross products;
+        // for a smooth design one row more changes them by O(1/n), far less than 1e-3.
+        static (double Mean, double Variance) Moments(int n)
+        {
+            var x = new double[n, 3];
+            for (var i = 0; i < n; i++)
+            {
+                x[i, 0] = 1;
+                x[i, 1] = (double)i / n;
+                x[i, 2] = i % 3 == 0 ? 1 : 0;
+            }
+
+            var d = DurbinWatson.NullDistribution(x, DurbinWatsonMethod.BetaApproximation);
+            return (d.Mean, d.Variance);
+        }
+
+        var below = Moments(100_000);
+        var above = Moments(100_001);
+        Assert.Equal(below.Mean, above.Mean, 1e-3 * below.Mean);
+        Assert.Equal(1.0, above.Variance / below.Variance, 1e-3);
+        Assert.NotEqual(2.0, above.Mean, 1e-9);
+    }
 }
