@@ -167,16 +167,21 @@ public sealed class FuzzTests
         return result.Succeeded || result.Diagnostics.Count > 0 ? null : "failed without a diagnostic";
     }
 
-    /// <summary>Byte length of each line ('\n' ends a line; a column counts characters, never more than bytes).</summary>
+    /// <summary>Byte length of each line (LF, CR or CRLF ends a line; a column counts characters, never more than bytes).</summary>
     private static List<int> LineLengths(byte[] bytes)
     {
         var lengths = new List<int>();
         var start = 0;
         for (var i = 0; i < bytes.Length; i++)
         {
-            if (bytes[i] == (byte)'\n')
+            if (bytes[i] == (byte)'\n' || bytes[i] == (byte)'\r')
             {
                 lengths.Add(i - start);
+                if (bytes[i] == (byte)'\r' && i + 1 < bytes.Length && bytes[i + 1] == (byte)'\n')
+                {
+                    i++;
+                }
+
                 start = i + 1;
             }
         }

@@ -34,7 +34,8 @@ public static class StudyParser
 
     public static StudySyntax? Parse(string path, string text, IReadOnlySet<string> kinds, DiagnosticBag diagnostics)
     {
-        text = text.Replace("\r\n", "\n", StringComparison.Ordinal);
+        // CommonMark and YAML both end a line at LF, CR or CRLF; so do our positions.
+        text = text.Replace("\r\n", "\n", StringComparison.Ordinal).Replace('\r', '\n');
         if (text.Trim().Length == 0)
         {
             diagnostics.EmptyStudy(new SourceLocation(path, 0, 0));
