@@ -12,13 +12,13 @@ namespace StudyPress.Tests;
 /// flips, deletions, insertions of YAML/Markdown/CSV metacharacters and of keys and kinds,
 /// truncation, repeated and swapped lines) and compiled. The property: <see cref="Compilation.Compile"/>
 /// never throws, and every diagnostic points inside the file it names.
-/// STUDYPRESS_FUZZ_CASES sets the number of cases (default 2500), STUDYPRESS_FUZZ_SEED the seed
+/// STUDYPRESS_FUZZ_CASES sets the number of cases (default 5000), STUDYPRESS_FUZZ_SEED the seed
 /// (default fixed, so CI is reproducible; "random" for a fresh one). A crash found here becomes a
 /// case in Cases/regressions/ (see <see cref="RegressionTests"/>).
 /// </summary>
 public sealed class FuzzTests
 {
-    private const int DefaultCases = 2500;
+    private const int DefaultCases = 5000;
 
     internal static readonly string[] Tokens =
     [
