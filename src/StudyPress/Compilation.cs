@@ -83,6 +83,12 @@ public static class Compilation
         byte[] bytes;
         try
         {
+            if (new FileInfo(studyPath) is { Exists: true, Length: > DataLimits.MaxStudyFileBytes } big)
+            {
+                diagnostics.FileTooLarge(SourceLocation.None(display), "the study file", studyPath, big.Length, DataLimits.MaxStudyFileBytes);
+                return null;
+            }
+
             bytes = File.ReadAllBytes(studyPath);
         }
         catch (Exception e) when (e is FileNotFoundException or DirectoryNotFoundException)
@@ -177,6 +183,13 @@ public static class Compilation
             return null;
         }
 
+        if (syntax.Blocks.Count == 0)
+        {
+            // Checked last, so the other mistakes of a study still being written are reported first.
+            diagnostics.NoBlocks(syntax.HeaderEnd);
+            return null;
+        }
+
         // Render.
         var inputs = header.Datasets.Select(d => datasets[d.Name]).ToList();
         var identity = new ManifestHeader(
@@ -256,6 +269,18 @@ public static class Compilation
             byte[] bytes;
             try
             {
+                if (Directory.Exists(full))
+                {
+                    diagnostics.PathIsFolder(spec.PathLocation, spec.Path);
+                    continue;
+                }
+
+                if (new FileInfo(full) is { Exists: true, Length: > DataLimits.MaxDataFileBytes } big)
+                {
+                    diagnostics.FileTooLarge(spec.PathLocation, "data file", spec.Path, big.Length, DataLimits.MaxDataFileBytes);
+                    continue;
+                }
+
                 bytes = File.ReadAllBytes(full);
             }
             catch (Exception e) when (e is FileNotFoundException or DirectoryNotFoundException)

@@ -8,7 +8,7 @@ namespace StudyPress.Tests;
 /// exit status 2, and write no report. Positions are 1-based as printed.
 /// </summary>
 [Collection("cli")]
-public sealed class DiagnosticsTests
+public sealed partial class DiagnosticsTests
 {
     private const string Csv = "plot,dose,y\n1,a,1.0\n2,a,2.0\n3,b,3.5\n4,b,4.0\n5,c,5.5\n6,c,6.0\n";
 
@@ -26,7 +26,7 @@ public sealed class DiagnosticsTests
         { "missing title", "---\ndata: data.csv\n---\n", Csv, "study.md:2:1: error: missing required key 'title' in the header" },
         { "no header", "# Just prose\n", Csv, "study.md:1:1: error: a study file must start with a YAML header between '---' lines" },
         { "unclosed header", "---\ntitle: T\n", Csv, "study.md:1:1: error: the YAML header is not closed; add a line '---' after it" },
-        { "unclosed bracket", "---\ntitle: T\ndata: data.csv\nfactors:\n  dose:\n    levels: [a, b\n---\n", Csv, "study.md:6:13: error: invalid YAML: " },
+        { "unclosed bracket", "---\ntitle: T\ndata: data.csv\nfactors:\n  dose:\n    levels: [a, b\n---\n", Csv, "study.md:6:13: error: invalid YAML: this '[' is not closed with ']'" },
         { "unknown factor in block", Study(body: "```anova main\nfactors: [dos]\n```\n"), Csv, "study.md:10:11: error: unknown factor 'dos'; did you mean 'dose'?" },
         { "unknown block key", Study(body: "```anova main\nwelsh: yes\n```\n"), Csv, "study.md:10:1: error: unknown key 'welsh' in the anova block; did you mean 'welch'?" },
         { "bad choice", Study(body: "```anova main\nwelch: maybe\n```\n"), Csv, "study.md:10:8: error: 'welch' must be one of auto, yes, no, not 'maybe'" },
@@ -49,7 +49,7 @@ public sealed class DiagnosticsTests
         { "data path escapes", "---\ntitle: T\ndata: ../data.csv\nresponse: y\n---\n", Csv, "study.md:3:7: error: data path '../data.csv' leads outside the study's folder" },
         { "absolute data path", "---\ntitle: T\ndata: /etc/passwd\nresponse: y\n---\n", Csv, "study.md:3:7: error: data path '/etc/passwd' must be relative to the study file" },
         { "data file missing", "---\ntitle: T\ndata: nothere.csv\nresponse: y\n---\n", Csv, "study.md:3:7: error: data file 'nothere.csv' not found" },
-        { "hash mismatch", "---\ntitle: T\ndata:\n  d:\n    path: data.csv\n    sha256: 0000000000000000000000000000000000000000000000000000000000000000\nresponse: y\n---\n", Csv, "study.md:6:13: error: 'data.csv' has SHA-256 " },
+        { "hash mismatch", "---\ntitle: T\ndata:\n  d:\n    path: data.csv\n    sha256: 0000000000000000000000000000000000000000000000000000000000000000\nresponse: y\n---\n", Csv, "study.md:6:13: error: 'data.csv' has SHA-256 …" },
         { "single level", Study(body: "```anova main\nwhere:\n  dose: a\n```\n"), Csv, "study.md:9:1: error: factor 'dose' has 1 level(s) with data here; a comparison needs at least 2" },
         { "groups of one only", Study(), "plot,dose,y\n1,a,1\n2,b,2\n3,c,3\n", "study.md:9:1: error: every group has a single observation, so there is no residual variance to test against" },
         { "response needed", "---\ntitle: T\ndata: data.csv\nfactors:\n  dose:\n---\n\n```anova\n```\n", Csv, "study.md:8:1: error: no response column: set 'response' in the block or in the header" },
@@ -60,9 +60,31 @@ public sealed class DiagnosticsTests
 
     [Theory]
     [MemberData(nameof(Cases))]
+    [MemberData(nameof(MoreCases))]
     public void Build_BadInput_ReportsPositionedErrorExit2AndWritesNothing(string name, string study, string data, string expected)
     {
         using var run = new StudyRun().Study(study).File("data.csv", data);
+        AssertRejected(run, name, expected);
+    }
+
+    [Theory]
+    [MemberData(nameof(EncodingCases))]
+    public void Build_BadEncoding_ReportsPositionedErrorExit2AndWritesNothing(string name, byte[] study, byte[] data, string expected)
+    {
+        using var run = new StudyRun().Bytes("study.md", study).Bytes("data.csv", data);
+        AssertRejected(run, name, expected);
+    }
+
+    /// <summary>
+    /// Runs the build over a study whose folder already holds a report, and checks the exact
+    /// diagnostic lines (an expected line ending in '…' is a prefix), exit 2, no stack trace, the
+    /// earlier report byte-identical and no other file written.
+    /// </summary>
+    internal static void AssertRejected(StudyRun run, string name, string expected)
+    {
+        var sentinel = Encoding.UTF8.GetBytes("<!-- an earlier report -->\n");
+        File.WriteAllBytes(run.ReportPath, sentinel);
+        var filesBefore = Directory.GetFiles(run.Folder, "*", SearchOption.AllDirectories).Order(StringComparer.Ordinal).ToList();
         var (exit, _, err) = run.Cli("build", "study.md");
         Assert.True(exit == 2, $"{name}: exit {exit}\n{err}");
         var lines = err.TrimEnd('\n').Split('\n');
@@ -70,11 +92,15 @@ public sealed class DiagnosticsTests
         Assert.True(lines.Length == want.Length, $"{name}: expected {want.Length} line(s), got:\n{err}");
         for (var i = 0; i < want.Length; i++)
         {
-            Assert.True(lines[i].StartsWith(want[i], StringComparison.Ordinal), $"{name}: expected\n  {want[i]}\ngot\n  {lines[i]}");
+            var ok = want[i].EndsWith('…')
+                ? lines[i].StartsWith(want[i][..^1], StringComparison.Ordinal)
+                : lines[i] == want[i];
+            Assert.True(ok, $"{name}: expected\n  {want[i]}\ngot\n  {lines[i]}");
         }
 
         Assert.DoesNotContain("   at ", err, StringComparison.Ordinal);
-        Assert.False(File.Exists(run.ReportPath), $"{name}: a report was written");
+        Assert.Equal(sentinel, File.ReadAllBytes(run.ReportPath));
+        Assert.Equal(filesBefore, Directory.GetFiles(run.Folder, "*", SearchOption.AllDirectories).Order(StringComparer.Ordinal).ToList());
     }
 
     [Fact]

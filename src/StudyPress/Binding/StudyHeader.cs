@@ -29,7 +29,11 @@ public sealed record FactorSpec(
 }
 
 /// <summary>Presentation options; <paramref name="Figures"/> false stops kinds from placing their figures.</summary>
-public sealed record ReportOptions(int Digits, int PDigits, bool Figures);
+public sealed record ReportOptions(int Digits, int PDigits, bool Figures)
+{
+    /// <summary>Raw HTML in prose is passed through (the page's CSP still blocks scripts); off by default.</summary>
+    public bool RawHtml { get; init; }
+}
 
 public sealed record StudyHeader(
     string Title,
@@ -57,7 +61,7 @@ internal static class HeaderBinder
 
     private static readonly string[] DatasetKeys = ["path", "sha256", "delimiter", "decimal", "missing"];
     private static readonly string[] FactorKeys = ["column", "levels", "label"];
-    private static readonly string[] ReportKeys = ["template", "digits", "p-digits", "figures"];
+    private static readonly string[] ReportKeys = ["template", "digits", "p-digits", "figures", Syntax.StudyParser.RawHtmlKey];
     private static readonly string[] DefaultMissing = ["", "NA", "N/A", "."];
 
     public static StudyHeader Bind(YMapping map, string studyPath, DiagnosticBag diagnostics)
@@ -157,6 +161,7 @@ internal static class HeaderBinder
         var digits = 3;
         var pDigits = 3;
         var figures = true;
+        var rawHtml = false;
         switch (r.Node("report"))
         {
             case null or YScalar { IsNull: true }:
@@ -171,6 +176,7 @@ internal static class HeaderBinder
                 digits = rr.Integer("digits", 1, 15) ?? digits;
                 pDigits = rr.Integer("p-digits", 1, 15) ?? pDigits;
                 figures = (rr.Choice("figures", ["auto", "none"]) ?? "auto") == "auto";
+                rawHtml = rr.Boolean(Syntax.StudyParser.RawHtmlKey) ?? false;
                 break;
             case var other:
                 diagnostics.ExpectedMapping(other.Location, "'report'");
@@ -188,7 +194,7 @@ internal static class HeaderBinder
             factors,
             orderNode?.Value,
             orderNode?.Location ?? map.Location,
-            new ReportOptions(digits, pDigits, figures),
+            new ReportOptions(digits, pDigits, figures) { RawHtml = rawHtml },
             map.Location);
     }
 
@@ -218,7 +224,12 @@ internal static class HeaderBinder
         var pathNode = r.Scalar("path");
         if (pathNode is null)
         {
-            diagnostics.MissingKey(m.Location, "path", $"dataset '{name}'");
+            // A misspelt 'path' already has its "did you mean"; one mistake, one message.
+            if (!m.Entries.Any(x => !DatasetKeys.Contains(x.Key.Value) && DiagnosticBag.Nearest(x.Key.Value, DatasetKeys) == "path"))
+            {
+                diagnostics.MissingKey(m.Location, "path", $"dataset '{name}'");
+            }
+
             return null;
         }
 

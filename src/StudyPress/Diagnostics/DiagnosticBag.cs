@@ -75,6 +75,11 @@ public sealed class DiagnosticBag
 
     public void NulByte(SourceLocation at) => Error("SP0006", at, "the file contains a NUL byte; is it a binary file?");
 
+    public void FileTooLarge(SourceLocation at, string what, string path, long size, long max) =>
+        Error("SP0007", at, string.Create(CultureInfo.InvariantCulture, $"{what} {Q(path)} is {size} bytes; this version reads at most {max} bytes ({max / (1024 * 1024)} MiB)"));
+
+    public void PathIsFolder(SourceLocation at, string path) => Error("SP0008", at, $"data path {Q(path)} is a folder; name a CSV or TSV file");
+
     // ---- study syntax (SP01xx) ----
     public void NoHeader(SourceLocation at) => Error("SP0101", at, "a study file must start with a YAML header between '---' lines");
 
@@ -82,7 +87,26 @@ public sealed class DiagnosticBag
 
     public void TabIndentation(SourceLocation at) => Error("SP0107", at, "a tab is used for indentation; YAML needs spaces");
 
+    // These four stop the YAML reader at once, so they are made here and thrown by it.
+    internal static Diagnostic DuplicateKey(SourceLocation at, string key, int firstLine) =>
+        Make("SP0103", string.Create(CultureInfo.InvariantCulture, $"duplicate key {Q(key)} (first given on line {firstLine + 1})"), at);
+
+    internal static Diagnostic YamlAlias(SourceLocation at) => Make("SP0104", "YAML aliases ('*name') are not supported in study files", at);
+
+    internal static Diagnostic YamlTooDeep(SourceLocation at) => Make("SP0105", "the YAML is nested too deeply", at);
+
+    internal static Diagnostic KeyNotPlain(SourceLocation at) => Make("SP0106", "a key must be a plain name", at);
+
     public void YamlSyntax(SourceLocation at, string message) => Error("SP0108", at, message);
+
+    public void YamlUnclosedBracket(SourceLocation at, char bracket) =>
+        Error("SP0109", at, $"invalid YAML: this '{bracket}' is not closed with '{(bracket == '[' ? ']' : '}')}'");
+
+    public void UnclosedBlock(SourceLocation at, string kind) => Error("SP0110", at, $"the {kind} block is not closed; add a line ``` after its body");
+
+    public void EmptyStudy(SourceLocation at) => Error("SP0111", at, "the study file is empty; it must start with a YAML header between '---' lines");
+
+    public void NoBlocks(SourceLocation at) => Error("SP0112", at, "the study has no analysis blocks; add one after the header, for example a fenced block ```summary```");
 
     // ---- header and blocks (SP02xx) ----
     public void UnknownKey(SourceLocation at, string key, string where, string? suggestion) =>
@@ -171,7 +195,7 @@ public sealed class DiagnosticBag
 
     public void KeyNotUsed(SourceLocation at, string key, string kind) => Error("SP0240", at, $"{Q(key)} has no use in a {kind} block, which reads no data");
 
-    public void FigureSource(SourceLocation at, string type, string kinds, string id, string kind) => Error("SP0241", at, $"a {type} figure is drawn from a {kinds} block; {Q(id)} is a {kind} block");
+    public void FigureSource(SourceLocation at, string type, string kinds, string id, string kind) => Error("SP0241", at, $"{A(type)} {type} figure is drawn from {A(kinds)} {kinds} block; {Q(id)} is {A(kind)} {kind} block");
 
     public void UnknownMethodsOf(SourceLocation at, string id, string? suggestion) => Error("SP0243", at, $"no analysis block with id {Q(id)} to describe{Suggest(suggestion)}");
 
@@ -179,7 +203,9 @@ public sealed class DiagnosticBag
 
     public void DuplicateInList(SourceLocation at, string key, string item) => Error("SP0245", at, $"{Q(item)} is listed twice in {Q(key)}");
 
-    public void FigureNoSource(SourceLocation at, string type, string kinds) => Error("SP0242", at, $"a {type} figure is drawn from a {kinds} block, and there is none above this one");
+    public void FigureNoSource(SourceLocation at, string type, string kinds) => Error("SP0242", at, $"{A(type)} {type} figure is drawn from {A(kinds)} {kinds} block, and there is none above this one");
+
+    private static string A(string word) => word.Length > 0 && "aeio".Contains(word[0], StringComparison.Ordinal) ? "an" : "a";
 
     // ---- data (SP03xx) ----
     public void PathAbsolute(SourceLocation at, string path) => Error("SP0301", at, $"data path {Q(path)} must be relative to the study file");

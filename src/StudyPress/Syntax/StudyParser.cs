@@ -12,18 +12,36 @@ namespace StudyPress.Syntax;
 /// </summary>
 public static class StudyParser
 {
-    public static MarkdownPipeline Pipeline(string path) =>
-        new MarkdownPipelineBuilder()
+    /// <summary>The header switch that lets raw HTML in prose through (off by default): <c>report: {raw-html: true}</c>.</summary>
+    public const string RawHtmlKey = "raw-html";
+
+    /// <summary>Link schemes kept in prose links; any other scheme (javascript:, data:, vbscript:, ...) is dropped.</summary>
+    private static readonly string[] SafeSchemes = ["http", "https", "mailto"];
+
+    public static MarkdownPipeline Pipeline(string path, bool rawHtml = false)
+    {
+        var builder = new MarkdownPipelineBuilder()
             .UseYamlFrontMatter()
             .UsePipeTables()
-            .UsePreciseSourceLocation()
-            .DisableHtml()
-            .Use(new ReferenceExtension(path))
-            .Build();
+            .UsePreciseSourceLocation();
+        if (!rawHtml)
+        {
+            builder.DisableHtml();
+        }
+
+        return builder.Use(new ReferenceExtension(path)).Build();
+    }
 
     public static StudySyntax? Parse(string path, string text, IReadOnlySet<string> kinds, DiagnosticBag diagnostics)
     {
-        text = text.Replace("\r\n", "\n", StringComparison.Ordinal);
+        // CommonMark and YAML both end a line at LF, CR or CRLF; so do our positions.
+        text = text.Replace("\r\n", "\n", StringComparison.Ordinal).Replace('\r', '\n');
+        if (text.Trim().Length == 0)
+        {
+            diagnostics.EmptyStudy(new SourceLocation(path, 0, 0));
+            return null;
+        }
+
         var lines = text.Split('\n');
         if (lines.Length == 0 || lines[0].TrimEnd() != "---")
         {
@@ -65,16 +83,18 @@ public static class StudyParser
             header = new YMapping([], headerLocation);
         }
 
-        var document = Markdown.Parse(text, Pipeline(path));
+        var document = Markdown.Parse(text, Pipeline(path, RawHtmlRequested(header)));
         var blocks = new List<AnalysisBlockSyntax>();
         ReplaceAnalysisBlocks(document, path, lines, kinds, blocks, diagnostics);
+        DropUnsafeLinks(document);
+
         var references = document.Descendants<ReferenceInline>().ToList();
         foreach (var r in references.Where(r => !r.Closed))
         {
             diagnostics.UnclosedReference(r.Location);
         }
 
-        return new StudySyntax(path, text, header, headerLocation, document, blocks, references);
+        return new StudySyntax(path, text, header, headerLocation, document, blocks, references) { HeaderEnd = new SourceLocation(path, end, 0) };
     }
 
     private static void ReplaceAnalysisBlocks(ContainerBlock container, string path, string[] lines, IReadOnlySet<string> kinds, List<AnalysisBlockSyntax> found, DiagnosticBag diagnostics)
@@ -96,6 +116,13 @@ public static class StudyParser
             var kind = fenced.Info ?? string.Empty;
             if (!kinds.Contains(kind))
             {
+                continue;
+            }
+
+            if (fenced.ClosingFencedCharCount == 0)
+            {
+                // CommonMark runs an unclosed fence to the end of the file, swallowing the prose.
+                diagnostics.UnclosedBlock(new SourceLocation(path, fenced.Line, fenced.Column), kind);
                 continue;
             }
 
@@ -135,6 +162,54 @@ public static class StudyParser
             container[i] = replacement;
             found.Add(replacement);
         }
+    }
+
+    /// <summary>Whether the header asks for raw HTML (the binder checks the key's value and reports mistakes).</summary>
+    private static bool RawHtmlRequested(YMapping? header) =>
+        header?["report"] is YMapping report && report[RawHtmlKey] is YScalar { Value: "true" or "True" or "yes" };
+
+    /// <summary>Replaces the target of any prose link whose scheme could run code with '#'.</summary>
+    private static void DropUnsafeLinks(MarkdownDocument document)
+    {
+        foreach (var link in document.Descendants<Markdig.Syntax.Inlines.LinkInline>())
+        {
+            if (!IsSafeUrl(link.Url))
+            {
+                link.Url = "#";
+            }
+        }
+
+        foreach (var link in document.Descendants<Markdig.Syntax.Inlines.AutolinkInline>())
+        {
+            if (!link.IsEmail && !IsSafeUrl(link.Url))
+            {
+                link.Url = "#";
+            }
+        }
+    }
+
+    internal static bool IsSafeUrl(string? url)
+    {
+        if (string.IsNullOrEmpty(url))
+        {
+            return true;
+        }
+
+        // Browsers ignore ASCII whitespace and control characters inside a scheme ("java\tscript:").
+        var cleaned = new string([.. url.Where(c => c > ' ' && c != '\u007F')]);
+        var colon = cleaned.IndexOf(':', StringComparison.Ordinal);
+        if (colon < 0)
+        {
+            return true;
+        }
+
+        var scheme = cleaned[..colon];
+        if (scheme.IndexOfAny(['/', '?', '#']) >= 0)
+        {
+            return true; // a relative path or fragment that contains a colon later
+        }
+
+        return SafeSchemes.Contains(scheme.ToLowerInvariant());
     }
 
     private static int IdColumn(string infoLine, string kind, string id, int fallback)

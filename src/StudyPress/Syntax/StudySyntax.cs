@@ -37,4 +37,8 @@ public sealed record StudySyntax(
     SourceLocation HeaderLocation,
     MarkdownDocument Document,
     IReadOnlyList<AnalysisBlockSyntax> Blocks,
-    IReadOnlyList<ReferenceInline> References);
+    IReadOnlyList<ReferenceInline> References)
+{
+    /// <summary>The header's closing '---' line.</summary>
+    public SourceLocation HeaderEnd { get; init; }
+}

@@ -72,7 +72,8 @@ public static class TextDecoding
         var lineStart = 0;
         for (var i = 0; i < offset; i++)
         {
-            if (bytes[i] == (byte)'\n')
+            // A line ends at LF, CR or CRLF, as in the parsers.
+            if (bytes[i] == (byte)'\n' || (bytes[i] == (byte)'\r' && (i + 1 >= bytes.Length || bytes[i + 1] != (byte)'\n')))
             {
                 line++;
                 lineStart = i + 1;

@@ -88,15 +88,29 @@ public static class YamlReader
         }
         catch (YamlException e)
         {
-            diagnostics.YamlSyntax(Unclosed(text, path, lineOffset, columnOffset) ?? Loc(e.Start), Describe(e));
+            if (Unclosed(text, path, lineOffset, columnOffset) is { } open)
+            {
+                diagnostics.YamlUnclosedBracket(open.At, open.Bracket);
+            }
+            else
+            {
+                diagnostics.YamlSyntax(Loc(e.Start), Describe(e));
+            }
+
             return null;
         }
         catch (Exception e) when (e is ArgumentException or InvalidOperationException or FormatException)
         {
             // Some malformed flow collections surface as non-YAML exceptions.
-            diagnostics.YamlSyntax(
-                Unclosed(text, path, lineOffset, columnOffset) ?? new SourceLocation(path, lineOffset, columnOffset),
-                "malformed YAML");
+            if (Unclosed(text, path, lineOffset, columnOffset) is { } open)
+            {
+                diagnostics.YamlUnclosedBracket(open.At, open.Bracket);
+            }
+            else
+            {
+                diagnostics.YamlSyntax(new SourceLocation(path, lineOffset, columnOffset), "invalid YAML: malformed YAML");
+            }
+
             return null;
         }
     }
@@ -111,14 +125,22 @@ public static class YamlReader
             m = m[(close + 3)..];
         }
 
-        return "invalid YAML: " + m.TrimEnd('.').ToLowerInvariant().TrimEnd();
+        m = m.TrimEnd('.').ToLowerInvariant().TrimEnd();
+        if (m.Contains("quoted scalar", StringComparison.Ordinal) &&
+            (m.Contains("end of stream", StringComparison.Ordinal) || m.Contains("wrong indentation", StringComparison.Ordinal)))
+        {
+            // The library reports this at the opening quote.
+            return "invalid YAML: this quoted string is not closed";
+        }
+
+        return "invalid YAML: " + m;
     }
 
     /// <summary>
     /// Finds an unclosed flow bracket ([ or {) outside quotes and comments, so the error can point at
     /// the bracket the user opened rather than wherever the library gave up.
     /// </summary>
-    private static SourceLocation? Unclosed(string text, string path, int lineOffset, int columnOffset)
+    private static (SourceLocation At, char Bracket)? Unclosed(string text, string path, int lineOffset, int columnOffset)
     {
         var stack = new Stack<(char Ch, int Line, int Col)>();
         var lines = text.Split('\n');
@@ -147,7 +169,7 @@ public static class YamlReader
                     case '#' when ci == 0 || line[ci - 1] == ' ':
                         ci = line.Length;
                         break;
-                    case '[' or '{':
+                    case '[' or '{' when stack.Count > 0 || StartsFlow(line, ci):
                         stack.Push((ch, li, ci));
                         break;
                     case ']' or '}':
@@ -167,19 +189,31 @@ public static class YamlReader
         }
 
         var open = stack.ToArray()[^1];
-        return new SourceLocation(path, open.Line + lineOffset, open.Col + (open.Line == 0 ? columnOffset : 0));
+        return (new SourceLocation(path, open.Line + lineOffset, open.Col + (open.Line == 0 ? columnOffset : 0)), open.Ch);
+    }
+
+    /// <summary>True when a bracket opens a flow collection (not a '[' inside a plain scalar like 'a[1]').</summary>
+    private static bool StartsFlow(string line, int at)
+    {
+        var p = at - 1;
+        while (p >= 0 && line[p] == ' ')
+        {
+            p--;
+        }
+
+        return p < 0 || (line[p] is ':' or '-' or ',' or '?' && p < at - 1);
     }
 
     private static YNode ReadNode(IParser parser, Func<Mark, SourceLocation> loc, DiagnosticBag diagnostics, int depth)
     {
         if (depth > MaxDepth)
         {
-            throw new StudyException(DiagnosticBag.Make("SP0105", "the YAML is nested too deeply", loc(parser.Current!.Start)));
+            throw new StudyException(DiagnosticBag.YamlTooDeep(loc(parser.Current!.Start)));
         }
 
         if (parser.TryConsume<AnchorAlias>(out var alias))
         {
-            throw new StudyException(DiagnosticBag.Make("SP0104", "YAML aliases ('*name') are not supported in study files", loc(alias.Start)));
+            throw new StudyException(DiagnosticBag.YamlAlias(loc(alias.Start)));
         }
 
         if (parser.TryConsume<Scalar>(out var scalar))
@@ -206,16 +240,13 @@ public static class YamlReader
             var keyNode = ReadNode(parser, loc, diagnostics, depth + 1);
             if (keyNode is not YScalar key)
             {
-                throw new StudyException(DiagnosticBag.Make("SP0106", "a key must be a plain name", keyNode.Location));
+                throw new StudyException(DiagnosticBag.KeyNotPlain(keyNode.Location));
             }
 
             var value = ReadNode(parser, loc, diagnostics, depth + 1);
             if (seen.TryGetValue(key.Value, out var first))
             {
-                throw new StudyException(DiagnosticBag.Make(
-                    "SP0103",
-                    $"duplicate key '{key.Value}' (first given on line {first.Location.Line + 1})",
-                    key.Location));
+                throw new StudyException(DiagnosticBag.DuplicateKey(key.Location, key.Value, first.Location.Line));
             }
 
             seen[key.Value] = key;
