@@ -38,8 +38,10 @@ public static class StudyPressCommand
 
             return parse.Invoke(new InvocationConfiguration { Output = stdout, Error = stderr, EnableDefaultExceptionHandler = false });
         }
-        catch (Exception e)
+        catch (Exception caught)
         {
+            // Parallel builds wrap the failure; report the exception that happened.
+            var e = caught is AggregateException a ? a.Flatten().InnerExceptions[0] : caught;
             stderr.WriteLine($"studypress: internal error: {e.GetType().Name}: {e.Message.Split('\n')[0]}. This is a bug in studypress; please report it together with the study that caused it.");
             return InternalError;
         }

@@ -89,9 +89,10 @@ public sealed class HostileReportTests(BrowserFixture browser)
         var jsLinks = await page.EvaluateAsync<int>("() => document.querySelectorAll('a[href^=\"javascript\" i]').length");
         if (!rawHtml)
         {
-            // Nothing the user wrote became markup: only the tool's two script elements, no
-            // handler attributes, no script links, and no console message of any kind.
-            Assert.Equal(2, scripts);
+            // Nothing the user wrote became markup: only the tool's three script elements (the
+            // manifest, the chart font's bytes and the page script), no handler attributes, no
+            // script links, and no console message of any kind.
+            Assert.Equal(3, scripts);
             Assert.Equal(0, handlers);
             Assert.Equal(0, jsLinks);
             Assert.Empty(console);
@@ -99,7 +100,7 @@ public sealed class HostileReportTests(BrowserFixture browser)
         else
         {
             // The payloads are in the page (so this test can fail), and the policy blocked them all.
-            Assert.True(scripts > 2, "raw HTML should have let the payload scripts into the page");
+            Assert.True(scripts > 3, "raw HTML should have let the payload scripts into the page");
             Assert.True(handlers > 0, "raw HTML should have let the handler attributes into the page");
             Assert.Equal(1, jsLinks); // the raw <a href="javascript:">; the Markdown links were dropped
             Assert.NotEmpty(console);

@@ -87,7 +87,7 @@ public sealed partial class DiagnosticsTests
         // ---- references ----
         { "reference with an empty part", Study(body: "```anova main\n```\n\nF {{ main..f }}\n"), Csv, "study.md:12:3: error: cannot read reference 'main..f': unexpected '.'; write parts as names separated by '.', and quote names with other characters" },
         { "empty reference", Study(body: "```anova main\n```\n\nF {{ }}\n"), Csv, "study.md:12:3: error: cannot read reference '': it is empty" },
-        { "reference with a filter", Study(body: "```anova main\n```\n\nF {{ main.dose.f | upcase }}\n"), Csv, "study.md:12:3: error: cannot read reference 'main.dose.f | upcase': unexpected '|' after 'f'" },
+        { "reference with a filter", Study(body: "```anova main\n```\n\nF {{ main.dose.f | upcase }}\n"), Csv, "study.md:12:3: error: unknown formatting function 'upcase' (known: result, p, digits, fraction, percent, df)" },
         { "template loop in prose is not run", Study(body: "```anova main\n```\n\n{{ for i in 1..3 }}x{{ end }}\n"), Csv, "study.md:12:1: error: cannot read reference 'for i in 1..3': unexpected 'i' after 'for'\nstudy.md:12:21: error: cannot read reference 'end': name a block and a statistic, for example {{ main.dose.f }}" },
         { "reference to an undefined value", Study(body: "```anova main\n```\n\nF {{ main.dose.f }}\n"), "plot,dose,y\n1,a,1\n2,a,1\n3,b,2\n4,b,2\n5,c,3\n6,c,3\n", "study.md:12:3: error: reference 'main.dose.f' has no value: the residual variance is zero" },
     };
