@@ -93,7 +93,7 @@ public static class Figures
         return new Figure("means", caption ?? $"Group means with {level} confidence intervals (each group's own t interval, not adjusted for multiple comparisons).", chart);
     }
 
-    /// <summary>Cell means of a two-factor model, one line per level of the second factor.</summary>
+    /// <summary>Cell means of the first two factors, one line per level of the second factor.</summary>
     public static Figure? Interaction(AnovaKind.Outcome anova, string? caption = null)
     {
         if (anova.Input is null || anova.Input.Factors.Count < 2)
@@ -103,12 +103,12 @@ public static class Figures
 
         var a = anova.Data!.Factors[0];
         var b = anova.Data.Factors[1];
-        var cells = new List<CellMean>();
-        foreach (var (_, codes, _, positions) in anova.Data.Cells())
-        {
-            var mean = positions.Average(i => anova.Data.Values[i]);
-            cells.Add(new CellMean(a.Levels[codes[0]], b.Levels[codes[1]], mean));
-        }
+        // Means over the crossing of the first two factors (averaging over any further factors).
+        var cells = Enumerable.Range(0, anova.Data.Rows.Length)
+            .GroupBy(i => (a.Codes[i], b.Codes[i]))
+            .OrderBy(g => g.Key.Item1).ThenBy(g => g.Key.Item2)
+            .Select(g => new CellMean(a.Levels[g.Key.Item1], b.Levels[g.Key.Item2], g.Average(i => anova.Data.Values[i])))
+            .ToList();
 
         var chart = StatCharts.InteractionPlot(a.Levels, b.Levels, cells, b.Spec.Display, new ChartLabels($"Mean {anova.Data.ResponseName} by {a.Spec.Display} and {b.Spec.Display}", a.Spec.Display, anova.Data.ResponseName));
         return new Figure("interaction", caption ?? $"Observed cell means; lines that are not parallel suggest an interaction (compare with the F test of {a.Spec.Display} × {b.Spec.Display}).", chart);
