@@ -160,7 +160,7 @@ public static class DatabaseSource
     {
         var m = e.Message.Replace("\r", string.Empty, StringComparison.Ordinal);
         var line = string.Join(" ", m.Split('\n', StringSplitOptions.RemoveEmptyEntries).Select(s => s.Trim()));
-        return line.StartsWith("SQLite Error ", StringComparison.Ordinal) && line.IndexOf(": ", StringComparison.Ordinal) is var k && k > 0 ? line[(k + 2)..].Trim('\'', ' ') : line.TrimEnd('.');
+        return line.StartsWith("SQLite Error ", StringComparison.Ordinal) && line.IndexOf(": ", StringComparison.Ordinal) is var k && k > 0 ? line[(k + 2)..].TrimEnd('.').Trim('\'', ' ') : line.TrimEnd('.');
     }
 
     private static string SafeTypeName(DbDataReader reader, int i)
