@@ -102,7 +102,7 @@ public sealed class SourcesErrorTests
         using var run = Sqlite("{ path: results.sqlite, query: \"select * from panels\" }");
         File.Copy(Path.Combine(run.Folder, "results.sqlite"), Path.Combine(run.Folder, "other.sqlite"));
         run.Study(Study("{ path: results.sqlite, query: \"attach 'other.sqlite' as o\" }"));
-        Assert.Contains("the query of dataset 'panels' failed", Errors(run), StringComparison.Ordinal);
+        Assert.Contains("the query of dataset 'panels' failed: too many attached databases - max 0", Errors(run), StringComparison.Ordinal);
 
         using var duck = new StudyRun();
         SourcesFixtures.DuckDb(Path.Combine(duck.Folder, "r.duckdb"), "create table panels as select 'a' as nozzle, 1.5 as thickness");
@@ -110,6 +110,7 @@ public sealed class SourcesErrorTests
         duck.Study(Study("{ path: r.duckdb, query: \"select * from read_csv('secret.csv')\" }"));
         var errors = Errors(duck);
         Assert.Contains("the query of dataset 'panels' failed", errors, StringComparison.Ordinal);
+        Assert.Contains("disabled", errors, StringComparison.Ordinal);
     }
 
     [Fact]

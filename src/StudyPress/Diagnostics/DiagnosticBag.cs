@@ -283,7 +283,7 @@ public sealed class DiagnosticBag
         Error("SP0337", at, $"{Q(text)} is not a finite number in column {Q(column)} ({where}); store missing values as NULL");
 
     public void AggregateNeedsOneWay(SourceLocation at, string dataset, string why) =>
-        Error("SP0338", at, $"dataset {Q(dataset)} is aggregated by the database: {why}");
+        Error("SP0338", at, $"dataset {Q(dataset)}: {why}");
 
     public void ParquetUnreadable(SourceLocation at, string path, string message) =>
         Error("SP0339", at, $"cannot read {Q(path)} as a Parquet file: {message}");

@@ -13,7 +13,7 @@ public static class AggregateSource
 {
     public static LoadedDataset? Load(DatasetSpec spec, string fullPath, string sha256, DatasetNeeds needs, DiagnosticBag diagnostics)
     {
-        diagnostics.AggregateNeedsOneWay(spec.AggregateLocation ?? spec.PathLocation, spec.Name, "not implemented yet");
+        diagnostics.AggregateNeedsOneWay(spec.AggregateLocation ?? spec.PathLocation, spec.Name, "'aggregate: true' is reserved for per-cell summaries computed by the database, which this version does not compute yet; remove it to load the rows");
         _ = (fullPath, sha256, needs);
         return null;
     }

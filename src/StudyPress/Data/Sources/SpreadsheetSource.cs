@@ -155,7 +155,7 @@ public static class SpreadsheetSource
                 Lines = [.. lines],
                 At = (r, c) => new SourceLocation(displayPath, lines[r] - 1, firstCol + c - 1),
                 Where = (r, c) => "cell " + sheetName + "!" + CellReference.Name(firstCol + c, lines[r]),
-                SourceWords = "The spreadsheet (whose numbers are binary doubles by nature)",
+                SourceWords = "The spreadsheet",
             };
             var where = $"{spec.Path}, sheet {sheetName}";
             return TableColumns.Build(
