@@ -176,4 +176,14 @@ public sealed class SourcesTests
         Assert.DoesNotContain("binary doubles", plain, StringComparison.Ordinal);
         Assert.Contains("rows from the query", plain, StringComparison.Ordinal);
     }
+
+    [Fact]
+    public void ResultHash_CanonicalForm_IsTheDocumentedBytes()
+    {
+        using var h = new StudyPress.Data.Sources.ResultHash(["n"], ["INTEGER"]);
+        h.Row([1L]);
+        h.Row([null]);
+        var expected = Convert.ToHexStringLower(System.Security.Cryptography.SHA256.HashData(Encoding.UTF8.GetBytes("studypress-resultset/1\nc1:ny7:INTEGER\ni1:1\nn0:\n")));
+        Assert.Equal(expected, h.Finish());
+    }
 }
