@@ -266,6 +266,16 @@ public static class Compilation
 
             var full = Path.GetFullPath(Path.Combine(studyDir, spec.Path));
             var dataDisplay = string.IsNullOrEmpty(studyFolder) ? spec.Path : Path.Combine(studyFolder, spec.Path).Replace('\\', '/');
+            if (spec.Format != DataFormat.Csv)
+            {
+                if (Data.Sources.SourceLoader.Load(spec, full, dataDisplay, needs[spec.Name], diagnostics) is { } other)
+                {
+                    loaded[spec.Name] = other;
+                }
+
+                continue;
+            }
+
             byte[] bytes;
             try
             {

@@ -14,7 +14,45 @@ public sealed record DatasetSpec(
     IReadOnlyList<string> Missing,
     SourceLocation Location,
     SourceLocation PathLocation,
-    SourceLocation? ShaLocation);
+    SourceLocation? ShaLocation)
+{
+    /// <summary>How the file is read: from 'format', else from the path's extension.</summary>
+    public DataFormat Format { get; init; } = DataFormat.Csv;
+
+    /// <summary>Spreadsheet: the sheet to read (null: the first sheet).</summary>
+    public string? Sheet { get; init; }
+
+    /// <summary>Spreadsheet: the block of cells to read, as written (e.g. "A1:F40"); null: the whole sheet.</summary>
+    public string? Range { get; init; }
+
+    /// <summary>Spreadsheet: the 1-based sheet row holding the column names (null: the range's first row).</summary>
+    public int? HeaderRow { get; init; }
+
+    /// <summary>Database or Parquet: the SQL query whose result is the table.</summary>
+    public string? Query { get; init; }
+
+    public SourceLocation? QueryLocation { get; init; }
+
+    /// <summary>Database: load per-cell counts, means and centred sums of squares instead of rows.</summary>
+    public bool Aggregate { get; init; }
+
+    public SourceLocation? AggregateLocation { get; init; }
+
+    /// <summary>Locations of the spreadsheet keys, for messages.</summary>
+    public SourceLocation? SheetLocation { get; init; }
+
+    public SourceLocation? RangeLocation { get; init; }
+}
+
+/// <summary>The kinds of data file a dataset can name.</summary>
+public enum DataFormat
+{
+    Csv,
+    Xlsx,
+    Sqlite,
+    DuckDb,
+    Parquet,
+}
 
 /// <summary>A declared factor: which column holds it, its level order and its display label.</summary>
 public sealed record FactorSpec(
@@ -59,7 +97,8 @@ internal static class HeaderBinder
 {
     public static readonly string[] Keys = ["title", "id", "authors", "alpha", "data", "response", "factors", "order", "report"];
 
-    private static readonly string[] DatasetKeys = ["path", "sha256", "delimiter", "decimal", "missing"];
+    private static readonly string[] DatasetKeys = ["path", "sha256", "delimiter", "decimal", "missing", "format", "sheet", "range", "header-row", "query", "aggregate"];
+    private static readonly string[] FormatNames = ["csv", "tsv", "xlsx", "sqlite", "duckdb", "parquet"];
     private static readonly string[] FactorKeys = ["column", "levels", "label"];
     private static readonly string[] ReportKeys = ["template", "digits", "p-digits", "figures", Syntax.StudyParser.RawHtmlKey];
     private static readonly string[] DefaultMissing = ["", "NA", "N/A", "."];
@@ -102,7 +141,7 @@ internal static class HeaderBinder
                 break;
             case YScalar single:
                 // 'data: file.csv' is shorthand for one dataset named 'data'.
-                datasets.Add(Make("data", single.Value, single.Location, null, null, null, null, single.Location, diagnostics));
+                datasets.Add(ShortFormSource(Make("data", single.Value, single.Location, null, null, null, null, single.Location, diagnostics), diagnostics));
                 break;
             case YMapping dm:
                 foreach (var e in dm.Entries)
@@ -211,7 +250,7 @@ internal static class HeaderBinder
 
         if (e.Value is YScalar { IsNull: false } s)
         {
-            return Make(name, s.Value, s.Location, null, null, null, null, e.Key.Location, diagnostics);
+            return ShortFormSource(Make(name, s.Value, s.Location, null, null, null, null, e.Key.Location, diagnostics), diagnostics);
         }
 
         if (e.Value is not YMapping m)
@@ -233,7 +272,107 @@ internal static class HeaderBinder
             return null;
         }
 
-        return Make(name, pathNode.Value, pathNode.Location, r.Scalar("sha256"), r.Scalar("delimiter"), r.Scalar("decimal"), r.ScalarList("missing"), e.Key.Location, diagnostics);
+        var spec = Make(name, pathNode.Value, pathNode.Location, r.Scalar("sha256"), r.Scalar("delimiter"), r.Scalar("decimal"), r.ScalarList("missing"), e.Key.Location, diagnostics);
+        return BindSource(spec, r, diagnostics);
+    }
+
+    /// <summary>The keys of the non-CSV kinds: format, sheet/range/header-row, query, aggregate.</summary>
+    private static DatasetSpec BindSource(DatasetSpec spec, KeyReader r, DiagnosticBag diagnostics)
+    {
+        var format = FormatOf(spec.Path);
+        if (r.Choice("format", FormatNames) is { } f)
+        {
+            format = f switch
+            {
+                "xlsx" => DataFormat.Xlsx,
+                "sqlite" => DataFormat.Sqlite,
+                "duckdb" => DataFormat.DuckDb,
+                "parquet" => DataFormat.Parquet,
+                _ => DataFormat.Csv,
+            };
+            if (f == "tsv" && !r.Has("delimiter"))
+            {
+                spec = spec with { Delimiter = '\t' };
+            }
+        }
+
+        var sheet = r.Scalar("sheet");
+        var range = r.Scalar("range");
+        var headerRowLocation = r.Has("header-row") ? r.KeyLocation("header-row") : (SourceLocation?)null;
+        var headerRow = r.Integer("header-row", 1, 1048576);
+        var query = r.Scalar("query");
+        var aggregateLocation = r.Has("aggregate") ? r.KeyLocation("aggregate") : (SourceLocation?)null;
+        var aggregate = r.Boolean("aggregate") ?? false;
+        if (format != DataFormat.Xlsx)
+        {
+            foreach (var (key, at) in new[] { ("sheet", sheet?.Location), ("range", range?.Location), ("header-row", headerRowLocation) })
+            {
+                if (at is { } loc)
+                {
+                    diagnostics.SourceKeyNotApplicable(loc, key, spec.Name, "a spreadsheet (.xlsx)");
+                }
+            }
+        }
+
+        if (format is DataFormat.Csv or DataFormat.Xlsx && query is not null)
+        {
+            diagnostics.SourceKeyNotApplicable(query.Location, "query", spec.Name, "a database or Parquet file");
+        }
+
+        if (format is DataFormat.Sqlite or DataFormat.DuckDb && query is null)
+        {
+            diagnostics.QueryNeeded(r.KeyLocation("path"), spec.Name);
+        }
+
+        if (aggregate && aggregateLocation is { } al && (format is not (DataFormat.Sqlite or DataFormat.DuckDb or DataFormat.Parquet)))
+        {
+            diagnostics.SourceKeyNotApplicable(al, "aggregate", spec.Name, "a database or Parquet file");
+        }
+
+        if (range is not null && Data.Sources.CellReference.ParseRange(range.Value) is null)
+        {
+            diagnostics.BadCellRange(range.Location, range.Value);
+        }
+
+        return spec with
+        {
+            Format = format,
+            Sheet = sheet?.Value,
+            SheetLocation = sheet?.Location,
+            Range = range?.Value,
+            RangeLocation = range?.Location,
+            HeaderRow = headerRow,
+            Query = query?.Value,
+            QueryLocation = query?.Location,
+            Aggregate = aggregate,
+            AggregateLocation = aggregateLocation,
+        };
+    }
+
+    /// <summary>A dataset written as a bare path: spreadsheets and Parquet files are fine, databases need a query.</summary>
+    private static DatasetSpec ShortFormSource(DatasetSpec spec, DiagnosticBag diagnostics)
+    {
+        var format = FormatOf(spec.Path);
+        if (format is DataFormat.Sqlite or DataFormat.DuckDb)
+        {
+            diagnostics.QueryNeeded(spec.PathLocation, spec.Name);
+        }
+
+        return spec with { Format = format };
+    }
+
+    /// <summary>The format a path implies by its extension (CSV for anything not listed).</summary>
+    internal static DataFormat FormatOf(string path)
+    {
+        var ext = System.IO.Path.GetExtension(path).ToLowerInvariant();
+        return ext switch
+        {
+            ".xlsx" or ".xlsm" => DataFormat.Xlsx,
+            ".sqlite" or ".sqlite3" or ".db" => DataFormat.Sqlite,
+            ".duckdb" => DataFormat.DuckDb,
+            ".parquet" => DataFormat.Parquet,
+            _ => DataFormat.Csv,
+        };
     }
 
     private static DatasetSpec Make(

@@ -18,7 +18,7 @@ public sealed record NumericColumn(string Name, double[] Centred, double[] Value
 public sealed record CategoricalColumn(string Name, int[] Codes, IReadOnlyList<string> Levels, int[] Counts);
 
 /// <summary>One loaded input with its identity (path as written, SHA-256) and the columns the study needs.</summary>
-public sealed class LoadedDataset
+public sealed partial class LoadedDataset
 {
     public required Binding.DatasetSpec Spec { get; init; }
 

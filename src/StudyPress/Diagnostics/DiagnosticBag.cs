@@ -253,6 +253,67 @@ public sealed class DiagnosticBag
     public void RowsTooMany(SourceLocation at, long max) =>
         Error("SP0317", at, string.Create(CultureInfo.InvariantCulture, $"the data file has more than {max} rows, the most this version loads"));
 
+    // ---- other data sources: spreadsheets, databases, Parquet (SP032x-SP034x) ----
+    public void SourceKeyNotApplicable(SourceLocation at, string key, string dataset, string applies) =>
+        Error("SP0320", at, $"{Q(key)} of dataset {Q(dataset)} applies only to {applies}");
+
+    public void QueryNeeded(SourceLocation at, string dataset) =>
+        Error("SP0321", at, $"dataset {Q(dataset)} is a database: give the table to read as 'query', e.g. query: \"select * from plots\"");
+
+    public void BadCellRange(SourceLocation at, string text) =>
+        Error("SP0322", at, $"{Q(text)} is not a cell range; write it as two corners, e.g. A1:F40");
+
+    public void NoSuchSheet(SourceLocation at, string sheet, string path, IEnumerable<string> sheets, string? suggestion) =>
+        Error("SP0323", at, $"{Q(path)} has no sheet {Q(sheet)}{Suggest(suggestion)} (sheets: {string.Join(", ", sheets)})");
+
+    public void NotASpreadsheet(SourceLocation at, string path, string reason) =>
+        Error("SP0324", at, $"cannot read {Q(path)} as a spreadsheet (.xlsx): {reason}");
+
+    public void EmptySheet(SourceLocation at, string sheet) =>
+        Error("SP0325", at, $"sheet {Q(sheet)} has no cells in the range read; the first row read must name the columns");
+
+    public void NoSheetRows(SourceLocation at, string sheet) =>
+        Error("SP0326", at, $"sheet {Q(sheet)} has a row of column names but no data rows");
+
+    public void CellNotNumeric(SourceLocation at, string text, string column, string cell) =>
+        Error("SP0327", at, $"{Q(text)} is not a number in column {Q(column)} (cell {cell})");
+
+    public void CellError(SourceLocation at, string text, string column, string cell) =>
+        Error("SP0328", at, $"cell {cell} in column {Q(column)} holds the spreadsheet error {text}; fix the formula or mark the cell missing");
+
+    public void SheetColumnUnnamed(SourceLocation at, string cell) =>
+        Error("SP0329", at, $"the column-name cell {cell} is empty");
+
+    public void SheetDuplicateColumn(SourceLocation at, string column, string cell, string firstCell) =>
+        Error("SP0330", at, $"column {Q(column)} at {cell} is named twice (first at {firstCell})");
+
+    public void QueryFailed(SourceLocation at, string dataset, string message) =>
+        Error("SP0331", at, $"the query of dataset {Q(dataset)} failed: {message}");
+
+    public void DatabaseUnreadable(SourceLocation at, string path, string message) =>
+        Error("SP0332", at, $"cannot open {Q(path)} as a database: {message}");
+
+    public void UnknownQueryColumn(SourceLocation at, string column, string dataset, IEnumerable<string> columns, string? suggestion) =>
+        Error("SP0333", at, $"column {Q(column)} is not in the result of the query of dataset {Q(dataset)}{Suggest(suggestion)} (its columns: {string.Join(", ", columns)})");
+
+    public void QueryNoRows(SourceLocation at, string dataset) =>
+        Error("SP0334", at, $"the query of dataset {Q(dataset)} returned no rows");
+
+    public void QueryDuplicateColumn(SourceLocation at, string dataset, string column) =>
+        Error("SP0335", at, $"the query of dataset {Q(dataset)} returns column {Q(column)} twice; give each column its own name with 'as'");
+
+    public void ValueNotNumeric(SourceLocation at, string text, string column, string where) =>
+        Error("SP0336", at, $"{Q(text)} is not a number in column {Q(column)} ({where})");
+
+    public void ValueNotFinite(SourceLocation at, string text, string column, string where) =>
+        Error("SP0337", at, $"{Q(text)} is not a finite number in column {Q(column)} ({where}); store missing values as NULL");
+
+    public void AggregateNeedsOneWay(SourceLocation at, string dataset, string why) =>
+        Error("SP0338", at, $"dataset {Q(dataset)}: {why}");
+
+    public void ParquetUnreadable(SourceLocation at, string path, string message) =>
+        Error("SP0339", at, $"cannot read {Q(path)} as a Parquet file: {message}");
+
     // ---- references (SP04xx) ----
     public void UnknownReference(SourceLocation at, string text, string? suggestion) => Error("SP0401", at, $"unknown reference {Q(text)}{Suggest(suggestion)}");
 

@@ -62,6 +62,11 @@ public static class Manifest
                 w.WriteString("sha256", d.Sha256);
                 w.WriteNumber("rows", d.Rows);
                 w.WriteNumber("rowsUsed", d.RowsUsed);
+                if (d.Query is not null)
+                {
+                    w.WriteString("query", d.Query);
+                    w.WriteString("resultSha256", d.ResultSha256);
+                }
                 w.WriteEndObject();
             }
 

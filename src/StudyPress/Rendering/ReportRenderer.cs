@@ -117,6 +117,17 @@ internal static class ReportRenderer
         }
 
         html.Raw("</tbody></table></div>");
+        foreach (var d in inputs.Where(d => d.Query is not null || d.SourceNote is not null))
+        {
+            html.Raw("<p class=\"method\">").Text(d.Spec.Name + ": ");
+            if (d.Query is not null)
+            {
+                html.Text("rows from the query ").Raw("<code>").Text(d.Query).Raw("</code>").Text(", result SHA-256 ").Raw("<code class=\"hash\">").Text(d.ResultSha256 ?? string.Empty).Raw("</code>. ");
+            }
+
+            html.Text(d.SourceNote ?? string.Empty).Raw("</p>");
+        }
+
         var dropped = inputs.Where(d => d.RowsUsed < d.Rows).ToList();
         foreach (var d in dropped)
         {

@@ -175,7 +175,7 @@ public static partial class ReportVerifier
         var recomputed = ReportManifest.FromHtml(rebuilt.Html!, out _);
         if (recomputed is null || recomputed.Json != manifest.Json)
         {
-            var first = recomputed is null ? null : FirstDifference(manifest.Values, recomputed.Values);
+            var first = recomputed is null ? null : FirstDifference(manifest.Values, recomputed.Values) ?? ChangedResult(manifest.Json, recomputed.Json);
             return new Verdict(Freshness.Altered, first is null ? "recompiling gives a different manifest" : "recompiling gives other values: " + first);
         }
 
@@ -208,6 +208,26 @@ public static partial class ReportVerifier
         }
 
         return now.Count != recorded.Count ? "the number of values changed" : null;
+    }
+
+    /// <summary>Names the first dataset whose query result hash differs between two manifests (see docs/data-sources.md).</summary>
+    private static string? ChangedResult(string recorded, string now)
+    {
+        using var a = System.Text.Json.JsonDocument.Parse(recorded);
+        using var b = System.Text.Json.JsonDocument.Parse(now);
+        var before = a.RootElement.GetProperty("inputs").EnumerateArray().ToList();
+        var after = b.RootElement.GetProperty("inputs").EnumerateArray().ToList();
+        for (var i = 0; i < Math.Min(before.Count, after.Count); i++)
+        {
+            var x = before[i].TryGetProperty("resultSha256", out var rx) ? rx.GetString() : null;
+            var y = after[i].TryGetProperty("resultSha256", out var ry) ? ry.GetString() : null;
+            if (x != y)
+            {
+                return $"the result of the query of dataset '{after[i].GetProperty("name").GetString()}' changed (SHA-256 {x ?? "none"} -> {y ?? "none"})";
+            }
+        }
+
+        return null;
     }
 
     private static string Show(double? v) => v is { } x ? x.ToString("R", System.Globalization.CultureInfo.InvariantCulture) : "undefined";

@@ -1,0 +1,194 @@
+using System.Data.Common;
+using DuckDB.NET.Data;
+using Microsoft.Data.Sqlite;
+using StudyPress.Binding;
+using StudyPress.Diagnostics;
+
+namespace StudyPress.Data.Sources;
+
+/// <summary>
+/// Runs a dataset's query against a SQLite or DuckDB database file, or against a Parquet file through
+/// DuckDB, and reads the result as the dataset's table. The database is opened read-only; the query
+/// may read nothing but that one file (SQLite: no ATTACH; DuckDB: no access to other files). The
+/// result's SHA-256 in the canonical form of <see cref="ResultHash"/> is recorded with the query.
+/// </summary>
+public static class DatabaseSource
+{
+    /// <summary>In a Parquet dataset's query, the file is this table.</summary>
+    public const string ParquetTable = "source";
+
+    public static LoadedDataset? Load(DatasetSpec spec, string fullPath, string sha256, string displayPath, DatasetNeeds needs, DiagnosticBag diagnostics)
+    {
+        var queryAt = spec.QueryLocation ?? spec.PathLocation;
+        if (spec.Aggregate)
+        {
+            return AggregateSource.Load(spec, fullPath, sha256, needs, diagnostics);
+        }
+
+        var query = spec.Query ?? "select * from " + ParquetTable;
+        List<string> names;
+        var rows = new List<object?[]>();
+        string resultSha;
+        try
+        {
+            using var connection = Open(spec, fullPath, diagnostics);
+            if (connection is null)
+            {
+                return null;
+            }
+
+            using var command = connection.CreateCommand();
+            command.CommandText = query;
+            using var reader = command.ExecuteReader();
+            names = [.. Enumerable.Range(0, reader.FieldCount).Select(reader.GetName)];
+            var types = Enumerable.Range(0, reader.FieldCount).Select(i => SafeTypeName(reader, i)).ToList();
+            var dup = names.GroupBy(n => n, StringComparer.Ordinal).FirstOrDefault(g => g.Count() > 1);
+            if (dup is not null)
+            {
+                diagnostics.QueryDuplicateColumn(queryAt, spec.Name, dup.Key);
+                return null;
+            }
+
+            using var hash = new ResultHash(names, types);
+            while (reader.Read())
+            {
+                var values = new object?[reader.FieldCount];
+                for (var i = 0; i < values.Length; i++)
+                {
+                    values[i] = reader.IsDBNull(i) ? null : reader.GetValue(i);
+                }
+
+                hash.Row(values);
+                rows.Add(values);
+            }
+
+            resultSha = hash.Finish();
+        }
+        catch (SqliteException e) when (e.SqliteErrorCode is 26 or 11)
+        {
+            diagnostics.DatabaseUnreadable(spec.PathLocation, spec.Path, Message(e));
+            return null;
+        }
+        catch (Exception e) when (e is DbException or InvalidOperationException or OverflowException or NotSupportedException or InvalidCastException)
+        {
+            diagnostics.QueryFailed(queryAt, spec.Name, Message(e));
+            return null;
+        }
+
+        var table = new SourceTable
+        {
+            Names = names,
+            Rows = rows,
+            Lines = [.. Enumerable.Range(1, rows.Count)],
+            At = (_, _) => queryAt,
+            Where = (r, _) => string.Create(System.Globalization.CultureInfo.InvariantCulture, $"row {r + 1} of the query result"),
+            SourceWords = spec.Format == DataFormat.Parquet ? "The Parquet file" : "The database",
+        };
+        var ds = TableColumns.Build(
+            spec,
+            table,
+            sha256,
+            needs,
+            diagnostics,
+            (at, col, near) => diagnostics.UnknownQueryColumn(at, col, spec.Name, names, near),
+            queryAt);
+        if (ds is null)
+        {
+            return null;
+        }
+
+        return spec.Query is null ? ds : Copy(ds, spec.Query, resultSha);
+    }
+
+    /// <summary>Opens the connection, read-only and confined to the one file; null after reporting.</summary>
+    internal static DbConnection? Open(DatasetSpec spec, string fullPath, DiagnosticBag diagnostics)
+    {
+        try
+        {
+            switch (spec.Format)
+            {
+                case DataFormat.Sqlite:
+                    {
+                        var builder = new SqliteConnectionStringBuilder { DataSource = fullPath, Mode = SqliteOpenMode.ReadOnly, Pooling = false };
+                        var c = new SqliteConnection(builder.ToString());
+                        c.Open();
+                        SQLitePCL.raw.sqlite3_limit(c.Handle, SQLitePCL.raw.SQLITE_LIMIT_ATTACHED, 0);
+                        return c;
+                    }
+
+                case DataFormat.DuckDb:
+                    {
+                        var c = new DuckDBConnection("Data Source=" + fullPath + ";ACCESS_MODE=READ_ONLY");
+                        c.Open();
+                        Execute(c, "SET enable_external_access = false; SET lock_configuration = true;");
+                        return c;
+                    }
+
+                default:
+                    {
+                        var c = new DuckDBConnection("Data Source=:memory:");
+                        c.Open();
+                        var literal = "'" + fullPath.Replace("'", "''", StringComparison.Ordinal) + "'";
+                        Execute(c, $"CREATE VIEW {ParquetTable} AS SELECT * FROM read_parquet({literal}); SET allowed_paths = [{literal}]; SET enable_external_access = false; SET lock_configuration = true;");
+                        return c;
+                    }
+            }
+        }
+        catch (Exception e) when (e is DbException or InvalidOperationException or ArgumentException)
+        {
+            if (spec.Format == DataFormat.Parquet)
+            {
+                diagnostics.ParquetUnreadable(spec.PathLocation, spec.Path, Message(e));
+            }
+            else
+            {
+                diagnostics.DatabaseUnreadable(spec.PathLocation, spec.Path, Message(e));
+            }
+
+            return null;
+        }
+    }
+
+    internal static void Execute(DbConnection c, string sql)
+    {
+        using var command = c.CreateCommand();
+        command.CommandText = sql;
+        command.ExecuteNonQuery();
+    }
+
+    internal static string Message(Exception e)
+    {
+        var m = e.Message.Replace("\r", string.Empty, StringComparison.Ordinal);
+        var line = string.Join(" ", m.Split('\n', StringSplitOptions.RemoveEmptyEntries).Select(s => s.Trim()));
+        return line.StartsWith("SQLite Error ", StringComparison.Ordinal) && line.IndexOf(": ", StringComparison.Ordinal) is var k && k > 0 ? line[(k + 2)..].TrimEnd('.').Trim('\'', ' ') : line.TrimEnd('.');
+    }
+
+    private static string SafeTypeName(DbDataReader reader, int i)
+    {
+        try
+        {
+            return reader.GetDataTypeName(i);
+        }
+        catch (Exception e) when (e is InvalidOperationException or NotSupportedException or IndexOutOfRangeException)
+        {
+            return string.Empty;
+        }
+    }
+
+    private static LoadedDataset Copy(LoadedDataset d, string query, string resultSha) => new()
+    {
+        Spec = d.Spec,
+        Path = d.Path,
+        Sha256 = d.Sha256,
+        Rows = d.Rows,
+        Lines = d.Lines,
+        Order = d.Order,
+        ColumnNames = d.ColumnNames,
+        Numeric = d.Numeric,
+        Factors = d.Factors,
+        Used = d.Used,
+        SourceNote = d.SourceNote,
+        Query = query,
+        ResultSha256 = resultSha,
+    };
+}

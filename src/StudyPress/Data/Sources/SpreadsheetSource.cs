@@ -1,0 +1,282 @@
+using System.Globalization;
+using DocumentFormat.OpenXml;
+using DocumentFormat.OpenXml.Packaging;
+using DocumentFormat.OpenXml.Spreadsheet;
+using StudyPress.Binding;
+using StudyPress.Diagnostics;
+
+namespace StudyPress.Data.Sources;
+
+/// <summary>
+/// Reads one sheet of an .xlsx workbook (Open XML SDK): the row of column names (the range's first
+/// row, or 'header-row'), then the data rows below it. Number cells keep the text the file stores
+/// (a binary double written out) and are parsed from it as decimals; text cells behave as CSV
+/// cells; date-formatted number cells become dates. Messages point at FILE:ROW:COLUMN and name the
+/// cell as Sheet!C14.
+/// </summary>
+public static class SpreadsheetSource
+{
+    public static LoadedDataset? Load(DatasetSpec spec, byte[] bytes, string sha256, string displayPath, DatasetNeeds needs, DiagnosticBag diagnostics)
+    {
+        var fileAt = new SourceLocation(displayPath, 0, 0);
+        try
+        {
+            using var stream = new MemoryStream(bytes, writable: false);
+            using var doc = SpreadsheetDocument.Open(stream, false);
+            var book = doc.WorkbookPart ?? throw new InvalidDataException("the file has no workbook");
+            var sheets = book.Workbook.Sheets?.Elements<Sheet>().ToList() ?? [];
+            if (sheets.Count == 0)
+            {
+                diagnostics.NotASpreadsheet(spec.PathLocation, spec.Path, "the workbook has no sheets");
+                return null;
+            }
+
+            var names = sheets.Select(s => s.Name?.Value ?? string.Empty).ToList();
+            var sheet = spec.Sheet is null ? sheets[0] : sheets.FirstOrDefault(s => s.Name?.Value == spec.Sheet);
+            if (sheet is null)
+            {
+                diagnostics.NoSuchSheet(spec.SheetLocation ?? spec.PathLocation, spec.Sheet!, spec.Path, names, DiagnosticBag.Nearest(spec.Sheet!, names));
+                return null;
+            }
+
+            var sheetName = sheet.Name?.Value ?? "Sheet1";
+            var part = (WorksheetPart)book.GetPartById(sheet.Id!.Value!);
+            var shared = book.SharedStringTablePart?.SharedStringTable?.Elements<SharedStringItem>().Select(i => i.InnerText).ToArray() ?? [];
+            var dateStyles = DateStyles(book);
+            var range = spec.Range is null ? null : CellReference.ParseRange(spec.Range);
+
+            // Cells by (row, column), within the range.
+            var cells = new SortedDictionary<int, SortedDictionary<int, object?>>();
+            var nextRow = 0;
+            foreach (var row in part.Worksheet.Descendants<Row>())
+            {
+                var rowNumber = row.RowIndex?.Value is { } ri ? (int)ri : nextRow + 1;
+                nextRow = rowNumber;
+                var nextCol = 0;
+                foreach (var cell in row.Elements<Cell>())
+                {
+                    var rc = cell.CellReference?.Value is { } cr ? CellReference.Parse(cr) : null;
+                    var col = rc?.Column ?? nextCol + 1;
+                    nextCol = col;
+                    if (range is { } rg && (col < rg.FirstColumn || col > rg.LastColumn || rowNumber < rg.FirstRow || rowNumber > rg.LastRow))
+                    {
+                        continue;
+                    }
+
+                    var value = Value(cell, shared, dateStyles);
+                    if (value is null)
+                    {
+                        continue;
+                    }
+
+                    if (!cells.TryGetValue(rowNumber, out var r))
+                    {
+                        cells[rowNumber] = r = [];
+                    }
+
+                    r[col] = value;
+                }
+            }
+
+            var headerRowNumber = spec.HeaderRow ?? range?.FirstRow ?? (cells.Count > 0 ? cells.Keys.First() : 1);
+            if (!cells.TryGetValue(headerRowNumber, out var header) || header.Count == 0)
+            {
+                diagnostics.EmptySheet(new SourceLocation(displayPath, headerRowNumber - 1, 0), sheetName);
+                return null;
+            }
+
+            var firstCol = range?.FirstColumn ?? header.Keys.First();
+            var lastCol = range?.LastColumn ?? header.Keys.Last();
+            var columns = new List<string>();
+            var errorsBefore = diagnostics.Items.Count;
+            var firstAt = new Dictionary<string, int>(StringComparer.Ordinal);
+            for (var c = firstCol; c <= lastCol; c++)
+            {
+                var at = new SourceLocation(displayPath, headerRowNumber - 1, c - 1);
+                var name = header.TryGetValue(c, out var v) ? TableColumns.Text(v)?.Trim() ?? string.Empty : string.Empty;
+                if (name.Length == 0)
+                {
+                    diagnostics.SheetColumnUnnamed(at, sheetName + "!" + CellReference.Name(c, headerRowNumber));
+                }
+                else if (firstAt.TryGetValue(name, out var first))
+                {
+                    diagnostics.SheetDuplicateColumn(at, name, sheetName + "!" + CellReference.Name(c, headerRowNumber), sheetName + "!" + CellReference.Name(first, headerRowNumber));
+                }
+                else
+                {
+                    firstAt[name] = c;
+                }
+
+                columns.Add(name);
+            }
+
+            if (diagnostics.Items.Count > errorsBefore)
+            {
+                return null;
+            }
+
+            var rows = new List<object?[]>();
+            var lines = new List<int>();
+            foreach (var (rowNumber, r) in cells)
+            {
+                if (rowNumber <= headerRowNumber)
+                {
+                    continue;
+                }
+
+                var values = new object?[columns.Count];
+                var any = false;
+                for (var c = firstCol; c <= lastCol; c++)
+                {
+                    if (r.TryGetValue(c, out var v))
+                    {
+                        values[c - firstCol] = v;
+                        any |= v is not string s || s.Trim().Length > 0;
+                    }
+                }
+
+                if (any)
+                {
+                    rows.Add(values);
+                    lines.Add(rowNumber);
+                }
+            }
+
+            if (rows.Count == 0)
+            {
+                diagnostics.NoSheetRows(new SourceLocation(displayPath, headerRowNumber - 1, firstCol - 1), sheetName);
+                return null;
+            }
+
+            var table = new SourceTable
+            {
+                Names = columns,
+                Rows = rows,
+                Lines = [.. lines],
+                At = (r, c) => new SourceLocation(displayPath, lines[r] - 1, firstCol + c - 1),
+                Where = (r, c) => "cell " + sheetName + "!" + CellReference.Name(firstCol + c, lines[r]),
+                SourceWords = "The spreadsheet",
+            };
+            var where = $"{spec.Path}, sheet {sheetName}";
+            return TableColumns.Build(
+                spec,
+                table,
+                sha256,
+                needs,
+                diagnostics,
+                (at, col, near) => diagnostics.UnknownColumn(at, col, where, near),
+                fileAt);
+        }
+        catch (Exception e) when (e is OpenXmlPackageException or InvalidDataException or FileFormatException or IOException or InvalidOperationException or ArgumentException or KeyNotFoundException)
+        {
+            diagnostics.NotASpreadsheet(spec.PathLocation, spec.Path, e.Message.Split('\n')[0].TrimEnd('.'));
+            return null;
+        }
+    }
+
+    private static object? Value(Cell cell, string[] shared, HashSet<uint> dateStyles)
+    {
+        var type = cell.DataType?.Value;
+        var raw = cell.CellValue?.Text;
+        if (type == CellValues.SharedString)
+        {
+            return raw is not null && int.TryParse(raw, NumberStyles.None, CultureInfo.InvariantCulture, out var k) && k >= 0 && k < shared.Length ? shared[k] : null;
+        }
+
+        if (type == CellValues.InlineString)
+        {
+            return cell.InlineString?.InnerText;
+        }
+
+        if (type == CellValues.String)
+        {
+            return raw;
+        }
+
+        if (type == CellValues.Boolean)
+        {
+            return raw is null ? null : raw == "1";
+        }
+
+        if (type == CellValues.Error)
+        {
+            return raw is null ? null : new SheetError(raw);
+        }
+
+        if (type == CellValues.Date)
+        {
+            return raw is not null && DateTime.TryParse(raw, CultureInfo.InvariantCulture, DateTimeStyles.RoundtripKind, out var when) ? when : raw;
+        }
+
+        if (raw is null || raw.Length == 0)
+        {
+            return null;
+        }
+
+        if (cell.StyleIndex?.Value is { } style && dateStyles.Contains(style) &&
+            double.TryParse(raw, NumberStyles.Float, CultureInfo.InvariantCulture, out var serial) && serial is >= -657434 and <= 2958465)
+        {
+            return DateTime.FromOADate(serial);
+        }
+
+        return new SheetNumber(raw);
+    }
+
+    /// <summary>Cell style indices whose number format shows a date or time.</summary>
+    private static HashSet<uint> DateStyles(WorkbookPart book)
+    {
+        var result = new HashSet<uint>();
+        var styles = book.WorkbookStylesPart?.Stylesheet;
+        if (styles?.CellFormats is null)
+        {
+            return result;
+        }
+
+        var custom = styles.NumberingFormats?.Elements<NumberingFormat>()
+            .Where(f => f.NumberFormatId?.Value is not null)
+            .ToDictionary(f => f.NumberFormatId!.Value, f => f.FormatCode?.Value ?? string.Empty) ?? [];
+        uint i = 0;
+        foreach (var f in styles.CellFormats.Elements<CellFormat>())
+        {
+            var id = f.NumberFormatId?.Value ?? 0;
+            if (id is (>= 14 and <= 22) or (>= 45 and <= 47) || (custom.TryGetValue(id, out var code) && LooksLikeDate(code)))
+            {
+                result.Add(i);
+            }
+
+            i++;
+        }
+
+        return result;
+    }
+
+    private static bool LooksLikeDate(string code)
+    {
+        var inQuote = false;
+        var inBracket = false;
+        foreach (var ch in code)
+        {
+            switch (ch)
+            {
+                case '"':
+                    inQuote = !inQuote;
+                    break;
+                case '[' when !inQuote:
+                    inBracket = true;
+                    break;
+                case ']' when !inQuote:
+                    inBracket = false;
+                    break;
+                default:
+                    if (!inQuote && !inBracket && char.ToLowerInvariant(ch) is 'y' or 'd' or 'h' or 's')
+                    {
+                        return true;
+                    }
+
+                    break;
+            }
+        }
+
+        return false;
+    }
+}
