@@ -169,7 +169,7 @@ public static class ResponseTransform
                 for (var i = 0; i < n; i++)
                 {
                     var ln = Math.Log(raw[i]);
-                    z[i] = lambda == 0 ? ln : ExpM1(lambda * ln) / lambda;
+                    z[i] = lambda == 0 ? ln : Elementary.Expm1(lambda * ln) / lambda;
                 }
 
                 break;
@@ -304,7 +304,7 @@ public static class ResponseTransform
 
                 var b = 1 + (l * mean);
                 return b > 0
-                    ? Quantity.Of(Math.Exp(LogP1(l * mean) / l))
+                    ? Quantity.Of(Math.Exp(Elementary.Log1P(l * mean) / l))
                     : Quantity.Undefined("the mean lies outside the range of the Box-Cox transform, so it has no value on the original scale");
             default:
                 throw new ArgumentOutOfRangeException(nameof(kind));
@@ -342,34 +342,6 @@ public static class ResponseTransform
         _ => kind.ToString(),
     };
 
-    /// <summary>
-    /// e^x - 1 without cancellation for small x, by Kahan's device: with u = e^x rounded,
-    /// (u - 1) x / ln u (Higham, Accuracy and Stability of Numerical Algorithms, 2nd ed., 1.14.1).
-    /// </summary>
-    private static double ExpM1(double x)
-    {
-        var u = Math.Exp(x);
-        if (u == 1.0)
-        {
-            return x;
-        }
-
-        var um1 = u - 1.0;
-        if (um1 == -1.0 || double.IsPositiveInfinity(u))
-        {
-            return um1;
-        }
-
-        return um1 * x / Math.Log(u);
-    }
-
-    /// <summary>ln(1 + x) without cancellation for small x: with u = 1 + x rounded, ln(u) x / (u - 1) (Higham, 1.14.1).</summary>
-    private static double LogP1(double x)
-    {
-        var u = 1.0 + x;
-        return u == 1.0 ? x : Math.Log(u) * x / (u - 1.0);
-    }
-
     /// <summary>Profile likelihood over lambda for a fixed design.</summary>
     private sealed class Profile
     {
@@ -394,7 +366,7 @@ public static class ResponseTransform
             var n = _u.Length;
             for (var i = 0; i < n; i++)
             {
-                _z[i] = lambda == 0 ? _gm * _u[i] : _gm * ExpM1(lambda * _u[i]) / lambda;
+                _z[i] = lambda == 0 ? _gm * _u[i] : _gm * Elementary.Expm1(lambda * _u[i]) / lambda;
             }
 
             var rss = _qr.ResidualSumOfSquares(_z);

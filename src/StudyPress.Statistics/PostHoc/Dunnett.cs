@@ -275,10 +275,10 @@ public static class Dunnett
                 for (var i = 0; i < lam.Length; i++)
                 {
                     var q = UpperNormal((h - (lam[i] * x)) / r[i]) + UpperNormal((h + (lam[i] * x)) / r[i]);
-                    logKeep += q >= 1.0 ? double.NegativeInfinity : mult[i] * ExpLog.Log1p(-q);
+                    logKeep += q >= 1.0 ? double.NegativeInfinity : mult[i] * Elementary.Log1P(-q);
                 }
 
-                var tail = -ExpLog.Expm1(logKeep);
+                var tail = -Elementary.Expm1(logKeep);
                 sum += 0.5 * step * Rule.Weights[j] * phi * tail;
             }
         }

@@ -119,7 +119,7 @@ public static class PValueAdjustment
             return m == 0 ? 0.0 : 1.0;
         }
 
-        return -ExpLog.Expm1(m * ExpLog.Log1p(-alpha));
+        return -Elementary.Expm1(m * Elementary.Log1P(-alpha));
     }
 
     private static void Validate(IReadOnlyList<double> p)

@@ -1,4 +1,4 @@
-namespace StudyPress.Statistics.Distributions;
+namespace StudyPress.Statistics;
 
 /// <summary>
 /// log(1 + x) and exp(x) − 1 accurate for small x (the framework's versions are computed as
