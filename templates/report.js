@@ -57,10 +57,32 @@
     panel.hidden = false;
   }
 
+  function showInput(el) {
+    var i = inputs[el.getAttribute("data-input")];
+    if (!i) { return; }
+    panel.textContent = "";
+    var dl = document.createElement("dl");
+    row(dl, "input", i.name);
+    row(dl, "path", i.path);
+    row(dl, "SHA-256", i.sha256);
+    row(dl, el.getAttribute("data-field") === "rows" ? "rows read" : "rows used", String(i[el.getAttribute("data-field")]));
+    if (i.query) { row(dl, "query", i.query); }
+    if (i.resultSha256) { row(dl, "result SHA-256", i.resultSha256); }
+    panel.appendChild(dl);
+    panel.hidden = false;
+  }
+
   function hide() {
     if (pinned === null) { panel.hidden = true; }
   }
 
+  document.querySelectorAll("[data-input]").forEach(function (el) {
+    el.addEventListener("mouseenter", function () { showInput(el); });
+    el.addEventListener("mouseleave", hide);
+    el.addEventListener("focus", function () { showInput(el); });
+    el.addEventListener("blur", hide);
+    el.addEventListener("click", function () { pinned = pinned === el ? null : el; showInput(el); });
+  });
   document.querySelectorAll("[data-v]").forEach(function (el) {
     el.addEventListener("mouseenter", function () { show(el); });
     el.addEventListener("mouseleave", hide);

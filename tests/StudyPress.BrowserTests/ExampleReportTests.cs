@@ -85,6 +85,14 @@ public sealed class ExampleReportTests(BrowserFixture browser)
         await number.FocusAsync();
         await Assertions.Expect(trace).ToBeVisibleAsync();
         await page.ScreenshotAsync(new() { Path = Path.Combine(Screenshots, "spray-nozzles-full.png"), FullPage = true });
+
+        // The data section's row counts are traced to their input entry.
+        await page.Keyboard.PressAsync("Escape");
+        await page.Locator("[data-input][data-field=\"rowsUsed\"]").First.HoverAsync();
+        await Assertions.Expect(trace).ToBeVisibleAsync();
+        var inputTrace = await trace.InnerTextAsync();
+        Assert.Contains("rows used", inputTrace, StringComparison.Ordinal);
+        Assert.Contains(sha, inputTrace, StringComparison.Ordinal);
     }
 
     [BrowserFact]

@@ -113,7 +113,7 @@ internal static class ReportRenderer
         foreach (var d in inputs)
         {
             html.Raw("<tr><th scope=\"row\">").Text(d.Spec.Name).Raw("</th><td><code>").Text(d.Path).Raw("</code></td><td><code class=\"hash\">").Text(d.Sha256)
-                .Raw("</code></td><td>").Text(d.Rows.ToString(CultureInfo.InvariantCulture)).Raw("</td><td>").Text(d.RowsUsed.ToString(CultureInfo.InvariantCulture)).Raw("</td></tr>");
+                .Raw("</code></td><td>").Raw(InputNumber(d, "rows", d.Rows)).Raw("</td><td>").Raw(InputNumber(d, "rowsUsed", d.RowsUsed)).Raw("</td></tr>");
         }
 
         html.Raw("</tbody></table></div>");
@@ -137,6 +137,10 @@ internal static class ReportRenderer
 
         return html.ToString();
     }
+
+    /// <summary>A row count of an input, traced to its manifest input entry (data-input, data-field).</summary>
+    private static string InputNumber(LoadedDataset d, string field, int value) =>
+        "<span class=\"v\" data-input=\"" + HtmlWriter.Escape(d.Spec.Name) + "\" data-field=\"" + field + "\" tabindex=\"0\">" + value.ToString(CultureInfo.InvariantCulture) + "</span>";
 
     private static string Caution() =>
         "<p>The tests and intervals here are computed from the data as given, under the assumptions each one states. "
