@@ -308,7 +308,7 @@ public sealed class DiagnosticBag
     public void ValueNotFinite(SourceLocation at, string text, string column, string where) =>
         Error("SP0337", at, $"{Q(text)} is not a finite number in column {Q(column)} ({where}); store missing values as NULL");
 
-    public void AggregateNeedsOneWay(SourceLocation at, string dataset, string why) =>
+    public void AggregateProblem(SourceLocation at, string dataset, string why) =>
         Error("SP0338", at, $"dataset {Q(dataset)}: {why}");
 
     public void ParquetUnreadable(SourceLocation at, string path, string message) =>

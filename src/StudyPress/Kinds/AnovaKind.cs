@@ -91,6 +91,11 @@ public sealed class AnovaKind : BlockKind
     public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
     {
         var options = (Options)block.Options!;
+        if (AggregatedAnova.Applies(context, block))
+        {
+            return AggregatedAnova.Evaluate(context, block, options, diagnostics);
+        }
+
         var outcome = new Outcome(block);
         var data = context.Select(block, diagnostics);
         if (data is null)
@@ -349,6 +354,12 @@ public sealed class AnovaKind : BlockKind
 
     public override void Render(HtmlWriter html, BlockOutcome outcome, RenderContext context)
     {
+        if (outcome is AggregatedAnova.Outcome aggregated)
+        {
+            AggregatedAnova.Render(html, aggregated, context);
+            return;
+        }
+
         var o = (Outcome)outcome;
         if (o.Result is null || o.Data is null)
         {

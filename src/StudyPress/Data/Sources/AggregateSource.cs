@@ -1,20 +1,548 @@
+using System.Data.Common;
+using System.Globalization;
+using System.Numerics;
+using System.Text;
+using System.Text.RegularExpressions;
 using StudyPress.Binding;
 using StudyPress.Diagnostics;
 
 namespace StudyPress.Data.Sources;
 
-/// <summary>Per-cell summaries computed by the database: count, mean and centred sum of squares per factor level.</summary>
-public sealed record AggregateCell(string Level, long N, double Mean, double SumSquares);
+/// <summary>One numeric column's summary in one cell: count of non-missing values, mean and the sum of squared deviations from that mean.</summary>
+/// <param name="CentredMean">The mean minus the column's centre (<see cref="AggregateTable.Centres"/>).</param>
+public readonly record struct AggregateStat(long N, double CentredMean, double SumSquares);
 
-/// <summary>The aggregated table of one dataset: the response, the factor and one row per level.</summary>
-public sealed record AggregateTable(string Response, string Factor, IReadOnlyList<AggregateCell> Cells, long Rows);
+/// <summary>
+/// One cell of the database's grouping by every factor the study uses: a level code per factor
+/// (-1 = missing), the number of rows and each numeric column's summary.
+/// </summary>
+public sealed record AggregateCell(int[] Codes, long Rows, IReadOnlyDictionary<string, AggregateStat> Stats);
 
-public static class AggregateSource
+/// <summary>The aggregated table of one dataset (<c>aggregate: true</c>).</summary>
+/// <param name="Factors">The factors grouped by, in the order of <see cref="AggregateCell.Codes"/>.</param>
+/// <param name="Levels">Each factor's levels (declared order, else the loader's order).</param>
+/// <param name="Centres">Each numeric column's centre (subtracted before summing).</param>
+/// <param name="Exact">The numeric columns summed exactly as scaled integers (DuckDB DECIMAL/integer columns).</param>
+/// <param name="SourceRows">Rows of the query's result that the database aggregated.</param>
+public sealed record AggregateTable(
+    IReadOnlyList<FactorSpec> Factors,
+    IReadOnlyList<IReadOnlyList<string>> Levels,
+    IReadOnlyDictionary<string, double> Centres,
+    IReadOnlyList<string> Exact,
+    IReadOnlyList<AggregateCell> Cells,
+    long SourceRows);
+
+/// <summary>
+/// <c>aggregate: true</c>: instead of loading the query's rows, asks the database for per-cell
+/// summaries of every numeric column the study uses, grouped by every factor it uses.
+/// <para>
+/// Pass 1 computes each column's average, used as a centre c. Pass 2 (one statement, the one
+/// recorded as the dataset's query) groups by the factor columns and, per numeric column:
+/// for DuckDB DECIMAL and integer columns, exact integer sums of d = y·10^s − round(c·10^s)
+/// (s the column's scale) and of d², as HUGEINT, from which the cell mean and
+/// SS = (n Σd² − (Σd)²)/(n 10^2s) follow exactly and are rounded once; for other columns
+/// (SQLite, DuckDB DOUBLE) a two-pass computation in double: the cell's count and avg(y − c), then,
+/// joined back to the rows, Σ(y − c − m) (a correction of the mean) and Σ(y − c − m)².
+/// </para>
+/// <para>
+/// The recorded result hash is over pass 2's result in the canonical form of <see cref="ResultHash"/>.
+/// </para>
+/// </summary>
+public static partial class AggregateSource
 {
     public static LoadedDataset? Load(DatasetSpec spec, string fullPath, string sha256, DatasetNeeds needs, DiagnosticBag diagnostics)
     {
-        diagnostics.AggregateNeedsOneWay(spec.AggregateLocation ?? spec.PathLocation, spec.Name, "'aggregate: true' is reserved for per-cell summaries computed by the database, which this version does not compute yet; remove it to load the rows");
-        _ = (fullPath, sha256, needs);
+        var queryAt = spec.QueryLocation ?? spec.PathLocation;
+        var userQuery = spec.Query ?? "select * from " + DatabaseSource.ParquetTable;
+        var duck = spec.Format != DataFormat.Sqlite;
+        try
+        {
+            using var connection = DatabaseSource.Open(spec, fullPath, diagnostics);
+            if (connection is null)
+            {
+                return null;
+            }
+
+            // Probe the result's columns and types.
+            var src = "(" + userQuery + ") AS src";
+            List<string> names;
+            List<string> types;
+            List<Type> clr;
+            using (var probe = connection.CreateCommand())
+            {
+                probe.CommandText = "SELECT * FROM " + src + " LIMIT 0";
+                using var reader = probe.ExecuteReader();
+                names = [.. Enumerable.Range(0, reader.FieldCount).Select(reader.GetName)];
+                types = [.. Enumerable.Range(0, reader.FieldCount).Select(i => TypeName(reader, i))];
+                clr = [.. Enumerable.Range(0, reader.FieldCount).Select(reader.GetFieldType)];
+            }
+
+            var errors = diagnostics.Items.Count;
+            foreach (var (col, at) in needs.Numeric)
+            {
+                if (!names.Contains(col, StringComparer.Ordinal))
+                {
+                    diagnostics.UnknownQueryColumn(at, col, spec.Name, names, DiagnosticBag.Nearest(col, names));
+                }
+            }
+
+            foreach (var (f, at) in needs.Factors.Values)
+            {
+                if (!names.Contains(f.Column, StringComparer.Ordinal))
+                {
+                    diagnostics.UnknownQueryColumn(at, f.Column, spec.Name, names, DiagnosticBag.Nearest(f.Column, names));
+                }
+            }
+
+            if (diagnostics.Items.Count > errors)
+            {
+                return null;
+            }
+
+            var numeric = needs.Numeric.Keys.Where(c => c != needs.Order).ToList();
+            var factors = needs.Factors.Values.Select(v => v.Spec).ToList();
+            var scale = new Dictionary<string, int>(StringComparer.Ordinal);
+            foreach (var col in numeric)
+            {
+                var i = names.IndexOf(col);
+                if (duck && clr[i] == typeof(decimal))
+                {
+                    // The driver names the type only "Decimal"; ask the database for width and scale.
+                    types[i] = Scalars(connection, $"SELECT typeof({Q(col)}) FROM {src} LIMIT 1")[0] as string ?? types[i];
+                }
+
+                if (duck && ExactScale(clr[i], types[i]) is { } s)
+                {
+                    scale[col] = s;
+                }
+                else if (duck && !IsNumeric(clr[i]))
+                {
+                    diagnostics.AggregateProblem(queryAt, spec.Name, $"column '{col}' of the query result is {types[i]}, not a number; the database can only aggregate numeric columns (cast it in the query)");
+                    return null;
+                }
+            }
+
+            if (!duck && numeric.Count > 0)
+            {
+                // SQLite would silently read non-numeric text as 0: refuse text storage instead.
+                var check = string.Join(", ", numeric.Select(c => $"sum(CASE WHEN typeof({Q(c)}) IN ('integer', 'real', 'null') THEN 0 ELSE 1 END)"));
+                var bad = Scalars(connection, $"SELECT {check} FROM {src}");
+                for (var j = 0; j < numeric.Count; j++)
+                {
+                    if (bad[j] is not null and not DBNull && Convert.ToInt64(bad[j], CultureInfo.InvariantCulture) > 0)
+                    {
+                        diagnostics.AggregateProblem(queryAt, spec.Name, $"column '{numeric[j]}' holds text (or other non-numeric values) in {Convert.ToInt64(bad[j], CultureInfo.InvariantCulture)} row(s) of the query result; to aggregate, return numbers (e.g. 'cast({numeric[j]} as real)', missing values as NULL)");
+                        return null;
+                    }
+                }
+            }
+
+            // Pass 1: centres.
+            var centres = new Dictionary<string, double>(StringComparer.Ordinal);
+            var intCentre = new Dictionary<string, BigInteger>(StringComparer.Ordinal);
+            if (numeric.Count > 0)
+            {
+                var avgs = Scalars(connection, "SELECT " + string.Join(", ", numeric.Select(c => $"avg({Q(c)})")) + " FROM " + src);
+                for (var j = 0; j < numeric.Count; j++)
+                {
+                    var a = avgs[j] is null or DBNull ? 0.0 : Convert.ToDouble(avgs[j], CultureInfo.InvariantCulture);
+                    if (scale.TryGetValue(numeric[j], out var s))
+                    {
+                        var ci = new BigInteger(Math.Round(a * Math.Pow(10, s)));
+                        intCentre[numeric[j]] = ci;
+                        centres[numeric[j]] = (double)((decimal)ci / Pow10Decimal(s));
+                    }
+                    else
+                    {
+                        centres[numeric[j]] = a;
+                    }
+                }
+            }
+
+            // Pass 2: per-cell summaries.
+            var sql = CellQuery(userQuery, factors, numeric, scale, intCentre, centres);
+            var cells = new List<(object?[] Keys, long Rows, Dictionary<string, AggregateStat> Stats)>();
+            string resultSha;
+            long sourceRows = 0;
+            using (var command = connection.CreateCommand())
+            {
+                command.CommandText = sql;
+                using var reader = command.ExecuteReader();
+                var rnames = Enumerable.Range(0, reader.FieldCount).Select(reader.GetName).ToList();
+                var rtypes = Enumerable.Range(0, reader.FieldCount).Select(i => TypeName(reader, i)).ToList();
+                using var hash = new ResultHash(rnames, rtypes);
+                var k = factors.Count;
+                while (reader.Read())
+                {
+                    var values = new object?[reader.FieldCount];
+                    for (var i = 0; i < values.Length; i++)
+                    {
+                        values[i] = reader.IsDBNull(i) ? null : reader.GetValue(i);
+                    }
+
+                    hash.Row(values);
+                    var rows = Convert.ToInt64(values[k], CultureInfo.InvariantCulture);
+                    sourceRows += rows;
+                    var stats = new Dictionary<string, AggregateStat>(StringComparer.Ordinal);
+                    var at = k + 1;
+                    foreach (var col in numeric)
+                    {
+                        if (scale.TryGetValue(col, out var s))
+                        {
+                            stats[col] = ExactStat(values[at], values[at + 1], values[at + 2], s);
+                            at += 3;
+                        }
+                        else
+                        {
+                            stats[col] = DoubleStat(values[at], values[at + 1], values[at + 2], values[at + 3]);
+                            at += 4;
+                        }
+                    }
+
+                    cells.Add((values[..k], rows, stats));
+                }
+
+                resultSha = hash.Finish();
+            }
+
+            if (sourceRows == 0)
+            {
+                diagnostics.QueryNoRows(queryAt, spec.Name);
+                return null;
+            }
+
+            return Build(spec, sha256, names, factors, numeric, scale, centres, cells, sourceRows, sql, resultSha, diagnostics);
+        }
+        catch (Exception e) when (e is DbException or InvalidOperationException or OverflowException or NotSupportedException or InvalidCastException or FormatException)
+        {
+            diagnostics.QueryFailed(queryAt, spec.Name, DatabaseSource.Message(e));
+            return null;
+        }
+    }
+
+    private static LoadedDataset? Build(
+        DatasetSpec spec,
+        string sha256,
+        List<string> names,
+        List<FactorSpec> factors,
+        List<string> numeric,
+        Dictionary<string, int> scale,
+        Dictionary<string, double> centres,
+        List<(object?[] Keys, long Rows, Dictionary<string, AggregateStat> Stats)> raw,
+        long sourceRows,
+        string sql,
+        string resultSha,
+        DiagnosticBag diagnostics)
+    {
+        var missing = new HashSet<string>(spec.Missing, StringComparer.Ordinal);
+        var errors = diagnostics.Items.Count;
+        var text = raw.Select(c => c.Keys.Select(v => TableColumns.Text(v)?.Trim() is { } t && !missing.Contains(t) ? t : null).ToArray()).ToList();
+        var levels = new List<IReadOnlyList<string>>();
+        for (var f = 0; f < factors.Count; f++)
+        {
+            var seen = text.Select(t => t[f]).Where(t => t is not null).Select(t => t!).Distinct(StringComparer.Ordinal).ToList();
+            if (factors[f].Levels is { } declared)
+            {
+                foreach (var t in seen.Where(t => !declared.Contains(t)))
+                {
+                    diagnostics.UndeclaredLevel(factors[f].Location, t, factors[f].Name, DiagnosticBag.Nearest(t, declared));
+                }
+
+                for (var k = 0; k < declared.Count; k++)
+                {
+                    if (!seen.Contains(declared[k]))
+                    {
+                        diagnostics.AbsentLevel(factors[f].LevelLocations.Count > k ? factors[f].LevelLocations[k] : factors[f].Location, declared[k], factors[f].Name, spec.Path);
+                    }
+                }
+            }
+
+            levels.Add(factors[f].Levels ?? CsvLoader.OrderLevels(seen));
+        }
+
+        if (diagnostics.Items.Count > errors)
+        {
+            return null;
+        }
+
+        // Pool database groups that read as the same levels (e.g. text differing only in blanks).
+        var pooled = new Dictionary<string, AggregateCell>(StringComparer.Ordinal);
+        var order = new List<string>();
+        for (var i = 0; i < raw.Count; i++)
+        {
+            var codes = text[i].Select((t, f) => t is null ? -1 : IndexOf(levels[f], t)).ToArray();
+            var key = string.Join(",", codes);
+            var cell = new AggregateCell(codes, raw[i].Rows, raw[i].Stats);
+            if (pooled.TryGetValue(key, out var before))
+            {
+                cell = new AggregateCell(codes, before.Rows + cell.Rows, numeric.ToDictionary(c => c, c => Pool(before.Stats[c], cell.Stats[c]), StringComparer.Ordinal));
+            }
+            else
+            {
+                order.Add(key);
+            }
+
+            pooled[key] = cell;
+        }
+
+        var cells = order.Select(k => pooled[k]).ToList();
+        var exact = numeric.Where(scale.ContainsKey).ToList();
+        var inexact = numeric.Where(c => !scale.ContainsKey(c)).ToList();
+        var note = new StringBuilder(string.Create(CultureInfo.InvariantCulture, $"The database aggregated the query's {sourceRows} row(s) into {cells.Count} cell(s) of {(factors.Count == 0 ? "the whole table" : string.Join(" × ", factors.Select(f => f.Column)))} (count, mean and centred sum of squares per cell); the rows themselves were not loaded."));
+        if (exact.Count > 0)
+        {
+            note.Append(" Column(s) " + string.Join(", ", exact.Select(c => "'" + c + "'")) + " were summed exactly as scaled integers.");
+        }
+
+        if (inexact.Count > 0)
+        {
+            note.Append(" Column(s) " + string.Join(", ", inexact.Select(c => "'" + c + "'")) + " were summed by the database in binary double arithmetic (centred, two passes).");
+        }
+
+        return new LoadedDataset
+        {
+            Spec = spec,
+            Path = spec.Path.Replace('\\', '/'),
+            Sha256 = sha256,
+            Rows = cells.Count,
+            Lines = [.. Enumerable.Range(1, cells.Count)],
+            ColumnNames = names,
+            Numeric = new Dictionary<string, NumericColumn>(StringComparer.Ordinal),
+            Factors = new Dictionary<string, CategoricalColumn>(StringComparer.Ordinal),
+            Used = new bool[cells.Count],
+            Query = sql,
+            ResultSha256 = resultSha,
+            SourceNote = note.ToString(),
+            Aggregate = new AggregateTable(factors, levels, centres, exact, cells, sourceRows),
+        };
+    }
+
+    /// <summary>Pools two summaries of the same column: n = n1 + n2, mean and SS by the update of Chan, Golub and LeVeque (1979).</summary>
+    public static AggregateStat Pool(AggregateStat a, AggregateStat b)
+    {
+        if (a.N == 0)
+        {
+            return b;
+        }
+
+        if (b.N == 0)
+        {
+            return a;
+        }
+
+        var n = a.N + b.N;
+        var delta = b.CentredMean - a.CentredMean;
+        return new AggregateStat(n, a.CentredMean + (delta * b.N / n), a.SumSquares + b.SumSquares + (delta * delta * ((double)a.N * b.N / n)));
+    }
+
+    private static string CellQuery(
+        string userQuery,
+        List<FactorSpec> factors,
+        List<string> numeric,
+        Dictionary<string, int> scale,
+        Dictionary<string, BigInteger> intCentre,
+        Dictionary<string, double> centres)
+    {
+        var keys = factors.Select((f, k) => (Expr: Q(f.Column), Alias: "k" + k.ToString(CultureInfo.InvariantCulture))).ToList();
+        var inner = new List<string>();
+        var carried = new List<string>();
+        inner.AddRange(keys.Select(k => $"{k.Expr} AS {k.Alias}"));
+        carried.AddRange(keys.Select(k => "cells." + k.Alias));
+        inner.Add("count(*) AS n_rows");
+        carried.Add("cells.n_rows");
+        var doubles = new List<(string Col, string C, string M)>();
+        for (var j = 0; j < numeric.Count; j++)
+        {
+            var col = numeric[j];
+            var y = Q(col);
+            var tag = j.ToString(CultureInfo.InvariantCulture);
+            if (scale.TryGetValue(col, out var s))
+            {
+                var d = $"(CAST({y} * {Pow10Text(s)} AS HUGEINT) - CAST({intCentre[col].ToString(CultureInfo.InvariantCulture)} AS HUGEINT))";
+                inner.Add($"count({y}) AS n_{tag}");
+                inner.Add($"sum({d}) AS s1_{tag}");
+                inner.Add($"sum({d} * {d}) AS s2_{tag}");
+                carried.AddRange([$"cells.n_{tag}", $"cells.s1_{tag}", $"cells.s2_{tag}"]);
+            }
+            else
+            {
+                var c = centres[col].ToString("R", CultureInfo.InvariantCulture);
+                if (!c.Contains('.', StringComparison.Ordinal) && !c.Contains('E', StringComparison.Ordinal))
+                {
+                    c += ".0";
+                }
+
+                inner.Add($"count({y}) AS n_{tag}");
+                inner.Add($"avg({y} - {c}) AS m_{tag}");
+                carried.AddRange([$"cells.n_{tag}", $"cells.m_{tag}"]);
+                doubles.Add((col, c, tag));
+            }
+        }
+
+        var groupBy = keys.Count == 0 ? string.Empty : " GROUP BY " + string.Join(", ", keys.Select(k => k.Expr));
+        var cellsCte = $"WITH src AS ({userQuery}), cells AS (SELECT {string.Join(", ", inner)} FROM src{groupBy})";
+        var orderBy = keys.Count == 0 ? string.Empty : " ORDER BY " + string.Join(", ", keys.Select(k => "cells." + k.Alias));
+        if (doubles.Count == 0)
+        {
+            return $"{cellsCte} SELECT {string.Join(", ", carried)} FROM cells{orderBy}";
+        }
+
+        // Keep the per-column outputs together: n, m, e1, e2 for a double column.
+        var select = new List<string>();
+        select.AddRange(keys.Select(k => "cells." + k.Alias));
+        select.Add("cells.n_rows");
+        for (var j = 0; j < numeric.Count; j++)
+        {
+            var tag = j.ToString(CultureInfo.InvariantCulture);
+            if (scale.ContainsKey(numeric[j]))
+            {
+                select.AddRange([$"cells.n_{tag}", $"cells.s1_{tag}", $"cells.s2_{tag}"]);
+            }
+            else
+            {
+                var e = $"(src.{Q(numeric[j])} - {doubles.First(d => d.M == tag).C} - cells.m_{tag})";
+                select.AddRange([$"cells.n_{tag}", $"cells.m_{tag}", $"sum({e}) AS e1_{tag}", $"sum({e} * {e}) AS e2_{tag}"]);
+            }
+        }
+
+        var on = keys.Count == 0 ? "1 = 1" : string.Join(" AND ", keys.Select((k, i) => $"src.{Q(factors[i].Column)} IS NOT DISTINCT FROM cells.{k.Alias}"));
+        return $"{cellsCte} SELECT {string.Join(", ", select)} FROM cells JOIN src ON {on} GROUP BY {string.Join(", ", carried)}{orderBy}";
+    }
+
+    private static AggregateStat ExactStat(object? n, object? s1, object? s2, int scale)
+    {
+        var count = n is null ? 0 : Convert.ToInt64(n, CultureInfo.InvariantCulture);
+        if (count == 0)
+        {
+            return new AggregateStat(0, 0, 0);
+        }
+
+        var a = Big(s1);
+        var b = Big(s2);
+        var p = BigInteger.Pow(10, scale);
+        var mean = Ratio(a, count * p);
+        var ss = Ratio((count * b) - (a * a), count * p * p);
+        return new AggregateStat(count, mean, Math.Max(ss, 0));
+    }
+
+    private static AggregateStat DoubleStat(object? n, object? m, object? e1, object? e2)
+    {
+        var count = n is null ? 0 : Convert.ToInt64(n, CultureInfo.InvariantCulture);
+        if (count == 0)
+        {
+            return new AggregateStat(0, 0, 0);
+        }
+
+        var mean = Convert.ToDouble(m, CultureInfo.InvariantCulture);
+        var c1 = e1 is null ? 0 : Convert.ToDouble(e1, CultureInfo.InvariantCulture);
+        var c2 = e2 is null ? 0 : Convert.ToDouble(e2, CultureInfo.InvariantCulture);
+        return new AggregateStat(count, mean + (c1 / count), Math.Max(c2 - (c1 * c1 / count), 0));
+    }
+
+    private static BigInteger Big(object? v) => v switch
+    {
+        null => BigInteger.Zero,
+        BigInteger b => b,
+        decimal m => new BigInteger(m),
+        long l => l,
+        int i => i,
+        ulong u => u,
+        _ => BigInteger.Parse(Convert.ToString(v, CultureInfo.InvariantCulture)!, CultureInfo.InvariantCulture),
+    };
+
+    /// <summary>num/den as the nearest double (to within an ulp or so), without overflow for large integers.</summary>
+    private static double Ratio(BigInteger num, BigInteger den)
+    {
+        if (num.IsZero)
+        {
+            return 0;
+        }
+
+        // Scale so the quotient carries 64 significant bits, then convert.
+        var shift = (int)(den.GetBitLength() - num.GetBitLength()) + 64;
+        var q = shift >= 0 ? (num << shift) / den : num / (den << -shift);
+        return (double)q * Math.Pow(2, -shift);
+    }
+
+    private static decimal Pow10Decimal(int s)
+    {
+        decimal p = 1;
+        for (var i = 0; i < s; i++)
+        {
+            p *= 10;
+        }
+
+        return p;
+    }
+
+    private static string Pow10Text(int s) => "1" + new string('0', s);
+
+    /// <summary>The scale of a DuckDB DECIMAL or integer column (0 for integers); null for other types.</summary>
+    private static int? ExactScale(Type clr, string typeName)
+    {
+        if (clr == typeof(long) || clr == typeof(int) || clr == typeof(short) || clr == typeof(sbyte) || clr == typeof(byte)
+            || clr == typeof(ushort) || clr == typeof(uint) || clr == typeof(ulong) || clr == typeof(BigInteger))
+        {
+            return 0;
+        }
+
+        if (clr == typeof(decimal) && DecimalType().Match(typeName) is { Success: true } m)
+        {
+            return int.Parse(m.Groups[2].Value, CultureInfo.InvariantCulture);
+        }
+
         return null;
     }
+
+    private static bool IsNumeric(Type clr) => clr == typeof(double) || clr == typeof(float) || clr == typeof(decimal);
+
+    private static object?[] Scalars(DbConnection c, string sql)
+    {
+        using var command = c.CreateCommand();
+        command.CommandText = sql;
+        using var reader = command.ExecuteReader();
+        if (!reader.Read())
+        {
+            return new object?[reader.FieldCount];
+        }
+
+        var values = new object?[reader.FieldCount];
+        for (var i = 0; i < values.Length; i++)
+        {
+            values[i] = reader.IsDBNull(i) ? null : reader.GetValue(i);
+        }
+
+        return values;
+    }
+
+    private static string TypeName(DbDataReader reader, int i)
+    {
+        try
+        {
+            return reader.GetDataTypeName(i);
+        }
+        catch (Exception e) when (e is InvalidOperationException or NotSupportedException or IndexOutOfRangeException)
+        {
+            return string.Empty;
+        }
+    }
+
+    private static int IndexOf(IReadOnlyList<string> levels, string t)
+    {
+        for (var i = 0; i < levels.Count; i++)
+        {
+            if (string.Equals(levels[i], t, StringComparison.Ordinal))
+            {
+                return i;
+            }
+        }
+
+        return -1;
+    }
+
+    /// <summary>A quoted SQL identifier.</summary>
+    private static string Q(string name) => "\"" + name.Replace("\"", "\"\"", StringComparison.Ordinal) + "\"";
+
+    [GeneratedRegex(@"^DECIMAL\((\d+),\s*(\d+)\)$", RegexOptions.IgnoreCase | RegexOptions.CultureInvariant)]
+    private static partial Regex DecimalType();
 }
