@@ -142,7 +142,7 @@ public static class AnovaDesign
                 null);
         }
 
-        var qr = HouseholderQr.Factor(coding.Matrix, coding.AllColumns);
+        var qr = HouseholderQr.Factor(coding.WeightedCellRows, coding.AllColumns);
         if (!qr.IsFullRank)
         {
             var t = coding.TermOfColumn(qr.FirstAliasedColumn);
@@ -457,6 +457,86 @@ internal sealed class DesignCoding
         }
 
         return new DesignCoding(n, used, usedIndex, terms, names, start, count, cellRows, cellOf, [.. counts], [.. cellLevels]);
+    }
+
+    private double[,]? _weighted;
+
+    /// <summary>
+    /// The cell rows scaled by the square root of their counts (zero rows added up to p rows):
+    /// A'A = X'X for the n x p design X, so its QR has the same R (up to the signs of its rows),
+    /// the same rank decisions and, with the response <see cref="CellResponse"/>, the same first p
+    /// effects (squared) as the QR of X and y. The fit then costs O(cells x p²) instead of O(n x p²).
+    /// </summary>
+    public double[,] WeightedCellRows => _weighted ??= Weigh();
+
+    /// <summary>
+    /// The aggregated response: z_c = sqrt(n_c) · mean of cell c (corrected two-pass means, zeros
+    /// for padding rows), and the within-cell sum of squares (corrected two-pass, per cell), so that
+    /// RSS(model) = SS_within + RSS of z on <see cref="WeightedCellRows"/>.
+    /// </summary>
+    public (double[] Z, double SsWithin) CellResponse(double[] y)
+    {
+        var cells = CellCounts.Length;
+        var rows = WeightedCellRows.GetLength(0);
+        var sums = new double[cells];
+        for (var i = 0; i < y.Length; i++)
+        {
+            sums[CellOf[i]] += y[i];
+        }
+
+        var means = new double[cells];
+        for (var c = 0; c < cells; c++)
+        {
+            means[c] = sums[c] / CellCounts[c];
+        }
+
+        var corr = new double[cells];
+        for (var i = 0; i < y.Length; i++)
+        {
+            corr[CellOf[i]] += y[i] - means[CellOf[i]];
+        }
+
+        for (var c = 0; c < cells; c++)
+        {
+            means[c] += corr[c] / CellCounts[c];
+        }
+
+        var ss = new double[cells];
+        var dev = new double[cells];
+        for (var i = 0; i < y.Length; i++)
+        {
+            var c = CellOf[i];
+            var d = y[i] - means[c];
+            ss[c] += d * d;
+            dev[c] += d;
+        }
+
+        double within = 0;
+        var z = new double[rows];
+        for (var c = 0; c < cells; c++)
+        {
+            within += ss[c] - (dev[c] * dev[c] / CellCounts[c]);
+            z[c] = Math.Sqrt(CellCounts[c]) * means[c];
+        }
+
+        return (z, within);
+    }
+
+    private double[,] Weigh()
+    {
+        var p = ColumnCount;
+        var cells = CellCounts.Length;
+        var a = new double[Math.Max(cells, p), p];
+        for (var c = 0; c < cells; c++)
+        {
+            var w = Math.Sqrt(CellCounts[c]);
+            for (var j = 0; j < p; j++)
+            {
+                a[c, j] = w * CellRows[c, j];
+            }
+        }
+
+        return a;
     }
 
     private double[,] Expand()

@@ -53,7 +53,7 @@ public static class AnovaMeans
         double[]? b = null;
         if (problem is null && qr is not null)
         {
-            b = qr.Coefficients(qr.Effects(y));
+            b = qr.Coefficients(qr.Effects(checkedCoding!.CellResponse(y).Z));
         }
 
         var notFitted = Quantity.Undefined(problem?.Message ?? "the model could not be fitted");
