@@ -142,7 +142,7 @@ public static class AnovaDesign
                 null);
         }
 
-        var qr = HouseholderQr.Factor(coding.Matrix, coding.AllColumns);
+        var qr = HouseholderQr.Factor(coding.WeightedCellRows, coding.AllColumns);
         if (!qr.IsFullRank)
         {
             var t = coding.TermOfColumn(qr.FirstAliasedColumn);
@@ -169,6 +169,19 @@ public static class AnovaDesign
         DesignCoding.Validate(input);
         return (double[,])DesignCoding.Build(input).Matrix.Clone();
     }
+
+    /// <summary>
+    /// The model matrix in structured form, without its n x p expansion: the distinct rows (one per
+    /// cell with observations, in order of first occurrence) and each observation's row.
+    /// <see cref="ModelMatrix"/>[i, j] = CellRows[CellOf[i], j].
+    /// </summary>
+    public static (double[,] CellRows, int[] CellOf) CellModelMatrix(AnovaInput input)
+    {
+        ArgumentNullException.ThrowIfNull(input);
+        DesignCoding.Validate(input);
+        var coding = DesignCoding.Build(input);
+        return ((double[,])coding.CellRows.Clone(), coding.CellOf);
+    }
 }
 
 /// <summary>Internal description of the coded design shared by the fit, the means and Box-Cox.</summary>
@@ -182,7 +195,10 @@ internal sealed class DesignCoding
         IReadOnlyList<string> termNames,
         int[] termStart,
         int[] termCount,
-        double[,] matrix)
+        double[,] cellRows,
+        int[] cellOf,
+        int[] cellCounts,
+        int[][] cellLevels)
     {
         Rows = rows;
         Used = used;
@@ -191,10 +207,15 @@ internal sealed class DesignCoding
         TermNames = termNames;
         TermStart = termStart;
         TermCount = termCount;
-        Matrix = matrix;
-        ColumnCount = matrix.GetLength(1);
+        CellRows = cellRows;
+        CellOf = cellOf;
+        CellCounts = cellCounts;
+        CellLevels = cellLevels;
+        ColumnCount = cellRows.GetLength(1);
         AllColumns = [.. Enumerable.Range(0, ColumnCount)];
     }
+
+    private double[,]? _matrix;
 
     public int Rows { get; }
 
@@ -212,7 +233,20 @@ internal sealed class DesignCoding
 
     public int[] TermCount { get; }
 
-    public double[,] Matrix { get; }
+    /// <summary>The n x p design matrix (built on first use from <see cref="CellRows"/> and <see cref="CellOf"/>).</summary>
+    public double[,] Matrix => _matrix ??= Expand();
+
+    /// <summary>The distinct coding rows, one per cell with observations, in order of first occurrence.</summary>
+    public double[,] CellRows { get; }
+
+    /// <summary>The cell (row of <see cref="CellRows"/>) of each observation.</summary>
+    public int[] CellOf { get; }
+
+    /// <summary>Observations per cell.</summary>
+    public int[] CellCounts { get; }
+
+    /// <summary>Used-level positions (one per factor) of each cell.</summary>
+    public int[][] CellLevels { get; }
 
     public int ColumnCount { get; }
 
@@ -364,24 +398,161 @@ internal sealed class DesignCoding
             p += c;
         }
 
-        var x = new double[n, p];
-        var levels = new int[input.Factors.Count];
-        var row = new double[p];
+        // Every observation of a cell has the same coding row: code each cell once.
+        var k = input.Factors.Count;
+        var radix = used.Select(u => u.Length).ToArray();
+        long cellsInCrossing = 1;
+        foreach (var r in radix)
+        {
+            cellsInCrossing = Math.Min(cellsInCrossing * Math.Max(r, 1), long.MaxValue / 1024);
+        }
+
+        var dense = cellsInCrossing <= 1 << 20 ? new int[cellsInCrossing] : null; // key -> slot + 1
+        var sparse = dense is null ? new Dictionary<long, int>() : null;
+        var cellOf = new int[n];
+        var counts = new List<int>();
+        var cellLevels = new List<int[]>();
+        var levels = new int[k];
         for (var i = 0; i < n; i++)
         {
-            for (var f = 0; f < levels.Length; f++)
+            for (var f = 0; f < k; f++)
             {
                 levels[f] = usedIndex[f][input.Factors[f].Codes[i]];
             }
 
-            FillRow(row, levels, used, terms, start);
+            var key = CellKey(levels, radix);
+            int slot;
+            if (dense is not null)
+            {
+                slot = dense[key] - 1;
+                if (slot < 0)
+                {
+                    slot = counts.Count;
+                    dense[key] = slot + 1;
+                    counts.Add(0);
+                    cellLevels.Add((int[])levels.Clone());
+                }
+            }
+            else if (!sparse!.TryGetValue(key, out slot))
+            {
+                slot = counts.Count;
+                sparse[key] = slot;
+                counts.Add(0);
+                cellLevels.Add((int[])levels.Clone());
+            }
+
+            counts[slot]++;
+            cellOf[i] = slot;
+        }
+
+        var cellRows = new double[counts.Count, p];
+        var row = new double[p];
+        for (var c = 0; c < counts.Count; c++)
+        {
+            FillRow(row, cellLevels[c], used, terms, start);
             for (var j = 0; j < p; j++)
             {
-                x[i, j] = row[j];
+                cellRows[c, j] = row[j];
             }
         }
 
-        return new DesignCoding(n, used, usedIndex, terms, names, start, count, x);
+        return new DesignCoding(n, used, usedIndex, terms, names, start, count, cellRows, cellOf, [.. counts], [.. cellLevels]);
+    }
+
+    private double[,]? _weighted;
+
+    /// <summary>
+    /// The cell rows scaled by the square root of their counts (zero rows added up to p rows):
+    /// A'A = X'X for the n x p design X, so its QR has the same R (up to the signs of its rows),
+    /// the same rank decisions and, with the response <see cref="CellResponse"/>, the same first p
+    /// effects (squared) as the QR of X and y. The fit then costs O(cells x p²) instead of O(n x p²).
+    /// </summary>
+    public double[,] WeightedCellRows => _weighted ??= Weigh();
+
+    /// <summary>
+    /// The aggregated response: z_c = sqrt(n_c) · mean of cell c (corrected two-pass means, zeros
+    /// for padding rows), and the within-cell sum of squares (corrected two-pass, per cell), so that
+    /// RSS(model) = SS_within + RSS of z on <see cref="WeightedCellRows"/>.
+    /// </summary>
+    public (double[] Z, double SsWithin) CellResponse(double[] y)
+    {
+        var cells = CellCounts.Length;
+        var rows = WeightedCellRows.GetLength(0);
+        var sums = new double[cells];
+        for (var i = 0; i < y.Length; i++)
+        {
+            sums[CellOf[i]] += y[i];
+        }
+
+        var means = new double[cells];
+        for (var c = 0; c < cells; c++)
+        {
+            means[c] = sums[c] / CellCounts[c];
+        }
+
+        var corr = new double[cells];
+        for (var i = 0; i < y.Length; i++)
+        {
+            corr[CellOf[i]] += y[i] - means[CellOf[i]];
+        }
+
+        for (var c = 0; c < cells; c++)
+        {
+            means[c] += corr[c] / CellCounts[c];
+        }
+
+        var ss = new double[cells];
+        var dev = new double[cells];
+        for (var i = 0; i < y.Length; i++)
+        {
+            var c = CellOf[i];
+            var d = y[i] - means[c];
+            ss[c] += d * d;
+            dev[c] += d;
+        }
+
+        double within = 0;
+        var z = new double[rows];
+        for (var c = 0; c < cells; c++)
+        {
+            within += ss[c] - (dev[c] * dev[c] / CellCounts[c]);
+            z[c] = Math.Sqrt(CellCounts[c]) * means[c];
+        }
+
+        return (z, within);
+    }
+
+    private double[,] Weigh()
+    {
+        var p = ColumnCount;
+        var cells = CellCounts.Length;
+        var a = new double[Math.Max(cells, p), p];
+        for (var c = 0; c < cells; c++)
+        {
+            var w = Math.Sqrt(CellCounts[c]);
+            for (var j = 0; j < p; j++)
+            {
+                a[c, j] = w * CellRows[c, j];
+            }
+        }
+
+        return a;
+    }
+
+    private double[,] Expand()
+    {
+        var p = ColumnCount;
+        var x = new double[Rows, p];
+        for (var i = 0; i < Rows; i++)
+        {
+            var c = CellOf[i];
+            for (var j = 0; j < p; j++)
+            {
+                x[i, j] = CellRows[c, j];
+            }
+        }
+
+        return x;
     }
 
     /// <summary>Coding row for a cell given by used-level positions (one per factor).</summary>

@@ -43,12 +43,17 @@ public static class AnovaMeans
         var n = y.Length;
         var k = input.Factors.Count;
         var grand = n > 0 ? Groups.Mean(y) : double.NaN;
+        if (k == 1)
+        {
+            return new MeansTable(grand, [OneFactor(y, input.Factors[0])], []);
+        }
+
         var problem = AnovaDesign.Check(input, out var checkedCoding, out var qr);
         var coding = checkedCoding ?? DesignCoding.Build(input);
         double[]? b = null;
         if (problem is null && qr is not null)
         {
-            b = qr.Coefficients(qr.Effects(y));
+            b = qr.Coefficients(qr.Effects(checkedCoding!.CellResponse(y).Z));
         }
 
         var notFitted = Quantity.Undefined(problem?.Message ?? "the model could not be fitted");
@@ -133,6 +138,57 @@ public static class AnovaMeans
         return new MeansTable(grand, factors, cells);
     }
 
+    /// <summary>
+    /// One factor in closed form: the least-squares mean of a level is its mean (mu + alpha_l of the
+    /// sum-to-zero fit is the fitted value of the level). Means by the corrected two-pass sum of
+    /// <see cref="Groups.Mean"/>, accumulated per level in input order (the same sums as on the
+    /// level's values split out), without a design matrix or QR.
+    /// </summary>
+    private static FactorMeans OneFactor(double[] y, FactorColumn fc)
+    {
+        var levelCount = fc.Levels.Count;
+        var codes = fc.Codes;
+        var counts = new int[levelCount];
+        var sums = new double[levelCount];
+        for (var i = 0; i < y.Length; i++)
+        {
+            counts[codes[i]]++;
+            sums[codes[i]] += y[i];
+        }
+
+        var means = new double[levelCount];
+        for (var l = 0; l < levelCount; l++)
+        {
+            means[l] = counts[l] > 0 ? sums[l] / counts[l] : 0;
+        }
+
+        var corr = new double[levelCount];
+        for (var i = 0; i < y.Length; i++)
+        {
+            corr[codes[i]] += y[i] - means[codes[i]];
+        }
+
+        var used = counts.Count(c => c > 0);
+        var notFitted = used < 2
+            ? Quantity.Undefined(string.Create(System.Globalization.CultureInfo.InvariantCulture, $"factor '{fc.Name}' has only {used} level with observations; a factor needs at least two"))
+            : default(Quantity?);
+        var levels = new List<LevelMean>(levelCount);
+        for (var l = 0; l < levelCount; l++)
+        {
+            if (counts[l] == 0)
+            {
+                var none = Quantity.Undefined("the level has no observations");
+                levels.Add(new LevelMean(fc.Levels[l], 0, none, none));
+                continue;
+            }
+
+            var mean = Quantity.Of(means[l] + (corr[l] / counts[l]));
+            levels.Add(new LevelMean(fc.Levels[l], counts[l], mean, notFitted ?? mean));
+        }
+
+        return new FactorMeans(fc.Name, levels);
+    }
+
     private static double MainEffect(DesignCoding coding, double[] b, int f, int u, int levels)
     {
         var start = coding.TermStart[f]; // main effects come first, in factor order
@@ -152,17 +208,19 @@ public static class AnovaMeans
 
     private static double[][] Split(double[] y, int[] codes, int levels)
     {
-        var lists = new List<double>[levels];
-        for (var l = 0; l < levels; l++)
+        var sizes = new int[levels];
+        foreach (var c in codes)
         {
-            lists[l] = [];
+            sizes[c]++;
         }
 
+        var groups = sizes.Select(s => new double[s]).ToArray();
+        var fill = new int[levels];
         for (var i = 0; i < y.Length; i++)
         {
-            lists[codes[i]].Add(y[i]);
+            groups[codes[i]][fill[codes[i]]++] = y[i];
         }
 
-        return [.. lists.Select(l => l.ToArray())];
+        return groups;
     }
 }

@@ -19,6 +19,13 @@ namespace StudyPress.Statistics.Anova;
 /// subtracting two residual sums of squares.
 /// </para>
 /// <para>
+/// Every observation of a cell has the same design row, so the QR is that of the distinct rows
+/// weighted by the square roots of the cell counts (a cells x p problem with the same X'X and X'y),
+/// and RSS = SS_within (within-cell corrected two-pass sums) + the aggregated residual. Fitted
+/// values and leverages are per cell. This is the same least-squares fit, still by QR (never the
+/// normal equations), without the n x p matrix.
+/// </para>
+/// <para>
 /// Domain: call <see cref="AnovaDesign.Check(AnovaInput)"/> first. A design it rejects (a factor with one
 /// level, an empty cell with interactions, fewer observations than parameters, a rank-deficient
 /// coding) makes <see cref="Fit"/> throw <see cref="ArgumentException"/> with the same message.
@@ -48,9 +55,13 @@ public static class FactorialAnova
         var coding = checkedCoding;
         var p = coding.ColumnCount;
         var qr = checkedQr;
-        var effects = qr.Effects(y);
-        double ssRes = 0;
-        for (var i = p; i < n; i++)
+
+        // The QR is of the count-weighted cell rows (see DesignCoding.WeightedCellRows): the same
+        // R and squared effects as the n x p design, at the cost of the cells.
+        var (z, ssWithin) = coding.CellResponse(y);
+        var effects = qr.Effects(z);
+        var ssRes = ssWithin;
+        for (var i = p; i < effects.Length; i++)
         {
             ssRes += effects[i] * effects[i];
         }
@@ -60,7 +71,7 @@ public static class FactorialAnova
         var terms = new List<AnovaTerm>(coding.Terms.Count);
         for (var t = 0; t < coding.Terms.Count; t++)
         {
-            var ss = TermSumOfSquares(coding, t, input.SsType, effects, y);
+            var ss = TermSumOfSquares(coding, t, input.SsType, effects, z);
             terms.Add(AnovaTable.Term(
                 coding.TermNames[t],
                 [.. coding.Terms[t].Select(f => input.Factors[f].Name)],
@@ -72,23 +83,43 @@ public static class FactorialAnova
                 input.Alpha));
         }
 
-        var fitted = new double[n];
-        var residuals = new double[n];
-        for (var i = 0; i < n; i++)
+        // Per cell: fitted value x_c'b and leverage x_c'(X'X)⁻¹x_c; per observation they are its cell's.
+        var b = qr.Coefficients(effects);
+        var inverse = qr.InverseCrossProduct();
+        var cells = coding.CellCounts.Length;
+        var cellFitted = new double[cells];
+        var cellLeverage = new double[cells];
+        for (var c = 0; c < cells; c++)
         {
-            if (i < p)
+            double f = 0, h = 0;
+            for (var j = 0; j < p; j++)
             {
-                fitted[i] = effects[i];
+                var xj = coding.CellRows[c, j];
+                f += xj * b[j];
+                double s = 0;
+                for (var l = 0; l < p; l++)
+                {
+                    s += inverse[j, l] * coding.CellRows[c, l];
+                }
+
+                h += xj * s;
             }
-            else
-            {
-                residuals[i] = effects[i];
-            }
+
+            cellFitted[c] = f;
+            cellLeverage[c] = h;
         }
 
-        qr.ApplyQ(fitted);
-        qr.ApplyQ(residuals);
-        var leverages = qr.HatDiagonal();
+        var fitted = new double[n];
+        var residuals = new double[n];
+        var leverages = new double[n];
+        for (var i = 0; i < n; i++)
+        {
+            var c = coding.CellOf[i];
+            fitted[i] = cellFitted[c];
+            residuals[i] = y[i] - cellFitted[c];
+            leverages[i] = cellLeverage[c];
+        }
+
         return new AnovaResult(
             terms,
             ssRes,
@@ -128,7 +159,7 @@ public static class FactorialAnova
 
         var before = columns.Count;
         columns.AddRange(coding.ColumnsOf(t));
-        var qr = HouseholderQr.Factor(coding.Matrix, columns);
+        var qr = HouseholderQr.Factor(coding.WeightedCellRows, columns);
         var e = qr.Effects(y);
         return SumOfSquaredEffects(e, before, coding.TermCount[t]);
     }

@@ -155,6 +155,84 @@ public static class DurbinWatson
         return new DurbinWatsonResult(d, Quantity.Of(lower), Quantity.Of(upper), Quantity.Of(two), n, p, dist.Method);
     }
 
+    /// <summary>
+    /// The same test for a design given by its distinct rows: row t of the n x p design is
+    /// <paramref name="cellRows"/>[<paramref name="cellOfRow"/>[t], ·] (for example the coding row of
+    /// each observation's cell in an ANOVA). Above 100,000 rows the beta moments' cross products are
+    /// accumulated from counts of consecutive (previous, current, next) cells instead of row by row,
+    /// so no n x p matrix is formed; with integer-valued rows (ANOVA codings are 0 and ±1) every
+    /// sum is an exact integer and the result is identical to <see cref="Test(double[], double[,], DurbinWatsonMethod)"/>
+    /// on the dense design. Up to 100,000 rows the dense design is built and tested as before.
+    /// </summary>
+    public static DurbinWatsonResult Test(double[] residuals, double[,] cellRows, int[] cellOfRow, DurbinWatsonMethod method = DurbinWatsonMethod.Automatic)
+    {
+        ArgumentNullException.ThrowIfNull(residuals);
+        ArgumentNullException.ThrowIfNull(cellRows);
+        ArgumentNullException.ThrowIfNull(cellOfRow);
+        var n = residuals.Length;
+        var cells = cellRows.GetLength(0);
+        var p = cellRows.GetLength(1);
+        if (cellOfRow.Length != n)
+        {
+            throw new ArgumentException("the design must have one row per residual", nameof(cellOfRow));
+        }
+
+        foreach (var c in cellOfRow)
+        {
+            if ((uint)c >= (uint)cells)
+            {
+                throw new ArgumentException("a row refers to a cell that does not exist", nameof(cellOfRow));
+            }
+        }
+
+        var exact = method == DurbinWatsonMethod.Exact || (method == DurbinWatsonMethod.Automatic && n <= ExactLimit);
+        if (exact || n <= StreamingLimit || p < 1 || (long)(cells + 1) * (cells + 1) * cells > CellTripleLimit)
+        {
+            var dense = new double[n, p];
+            for (var t = 0; t < n; t++)
+            {
+                for (var j = 0; j < p; j++)
+                {
+                    dense[t, j] = cellRows[cellOfRow[t], j];
+                }
+            }
+
+            return Test(residuals, dense, method);
+        }
+
+        var d = Statistic(residuals);
+        if (!d.IsDefined)
+        {
+            return new DurbinWatsonResult(d, d, d, d, n, p, "not computed");
+        }
+
+        foreach (var v in cellRows)
+        {
+            if (!double.IsFinite(v))
+            {
+                throw new ArgumentException("the design matrix contains a value that is not finite", nameof(cellRows));
+            }
+        }
+
+        var m = n - p;
+        var (dist, reason) = m < 2
+            ? (null, "the Durbin-Watson test needs at least 2 residual degrees of freedom (with fewer, d does not vary under the null hypothesis)")
+            : StreamingMoments(new CellTriples(cellRows, cellOfRow), n, p, m);
+        if (dist is null)
+        {
+            var u = Quantity.Undefined(reason!);
+            return new DurbinWatsonResult(d, u, u, u, n, p, "not computed");
+        }
+
+        var lower = dist.Lower(d.Value);
+        var upper = dist.Upper(d.Value);
+        var two = Math.Min(1.0, 2 * Math.Min(lower, upper));
+        return new DurbinWatsonResult(d, Quantity.Of(lower), Quantity.Of(upper), Quantity.Of(two), n, p, dist.Method);
+    }
+
+    /// <summary>Largest (cells + 1)² × cells table of consecutive-cell counts for the structured route.</summary>
+    private const long CellTripleLimit = 1 << 22;
+
     /// <summary>The null distribution of d for residuals of a fit on <paramref name="design"/>.</summary>
     /// <exception cref="ArgumentException">The design is rank deficient or leaves fewer than 2 residual df.</exception>
     public static DurbinWatsonNullDistribution NullDistribution(double[,] design, DurbinWatsonMethod method = DurbinWatsonMethod.Automatic)
@@ -257,22 +335,82 @@ public static class DurbinWatson
                 a[j] = (t > 0 ? dPrev[j] : 0.0) - dCur[j];
             }
 
-            for (var i = 0; i < p; i++)
-            {
-                var xi = design[t, i];
-                var di = dCur[i];
-                var ai = a[i];
-                for (var j = 0; j <= i; j++)
-                {
-                    g[i, j] += xi * design[t, j];
-                    b[i, j] += di * dCur[j];
-                    c[i, j] += ai * a[j];
-                }
-            }
-
+            Accumulate(g, b, c, p, t, design, dCur, a, 1.0);
             (dPrev, dCur) = (dCur, dPrev);
         }
 
+        return MomentsFromCrossProducts(g, b, c, n, p, m);
+    }
+
+    /// <summary>Adds weight × (x xᵀ, d dᵀ, a aᵀ) to the lower triangles of g, b, c, x = row t of rows.</summary>
+    private static void Accumulate(double[,] g, double[,] b, double[,] c, int p, int t, double[,] rows, double[] dCur, double[] a, double weight)
+    {
+        for (var i = 0; i < p; i++)
+        {
+            var xi = rows[t, i] * weight;
+            var di = dCur[i] * weight;
+            var ai = a[i] * weight;
+            for (var j = 0; j <= i; j++)
+            {
+                g[i, j] += xi * rows[t, j];
+                b[i, j] += di * dCur[j];
+                c[i, j] += ai * a[j];
+            }
+        }
+    }
+
+    /// <summary>Rows given by cells: the cross products from counts of (previous, current, next) cells.</summary>
+    private readonly record struct CellTriples(double[,] CellRows, int[] CellOfRow);
+
+    private static (DurbinWatsonNullDistribution? Distribution, string? Reason) StreamingMoments(CellTriples design, int n, int p, int m)
+    {
+        var rows = design.CellRows;
+        var of = design.CellOfRow;
+        var cells = rows.GetLength(0);
+        var side = cells + 1; // index 0 = no neighbour (before the first or after the last row)
+        var counts = new long[side * side * cells];
+        for (var t = 0; t < n; t++)
+        {
+            var prev = t > 0 ? of[t - 1] + 1 : 0;
+            var next = t < n - 1 ? of[t + 1] + 1 : 0;
+            counts[(((prev * side) + next) * cells) + of[t]]++;
+        }
+
+        var g = new double[p, p];
+        var b = new double[p, p];
+        var c = new double[p, p];
+        var dPrev = new double[p];
+        var dCur = new double[p];
+        var a = new double[p];
+        for (var prev = 0; prev < side; prev++)
+        {
+            for (var next = 0; next < side; next++)
+            {
+                for (var cur = 0; cur < cells; cur++)
+                {
+                    var w = counts[(((prev * side) + next) * cells) + cur];
+                    if (w == 0)
+                    {
+                        continue;
+                    }
+
+                    for (var j = 0; j < p; j++)
+                    {
+                        dPrev[j] = prev > 0 ? rows[cur, j] - rows[prev - 1, j] : 0.0;
+                        dCur[j] = next > 0 ? rows[next - 1, j] - rows[cur, j] : 0.0;
+                        a[j] = dPrev[j] - dCur[j];
+                    }
+
+                    Accumulate(g, b, c, p, cur, rows, dCur, a, w);
+                }
+            }
+        }
+
+        return MomentsFromCrossProducts(g, b, c, n, p, m);
+    }
+
+    private static (DurbinWatsonNullDistribution? Distribution, string? Reason) MomentsFromCrossProducts(double[,] g, double[,] b, double[,] c, int n, int p, int m)
+    {
         var gm = Matrix<double>.Build.Dense(p, p);
         var bm = Matrix<double>.Build.Dense(p, p);
         var cm = Matrix<double>.Build.Dense(p, p);

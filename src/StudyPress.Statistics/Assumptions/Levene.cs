@@ -40,8 +40,7 @@ internal static class DeviationFTest
             }
         }
 
-        var all = z.SelectMany(v => v).ToArray();
-        var grand = Groups.Mean(all);
+        var grand = ConcatenatedMean(z);
         double between = 0, within = 0;
         for (var g = 0; g < k; g++)
         {
@@ -61,13 +60,106 @@ internal static class DeviationFTest
         return new LeveneResult(Quantity.Of(f), df1, df2, Quantity.Of(Probability.FUpper(f, df1, df2)));
     }
 
-    /// <summary>Sample median (average of the two middle values for an even count).</summary>
+    /// <summary>
+    /// Sample median (average of the two middle values for an even count): the middle order
+    /// statistics by selection on a copy (expected linear time), the same values a full sort gives.
+    /// </summary>
     public static double Median(double[] x)
     {
         var s = (double[])x.Clone();
-        Array.Sort(s);
         var h = s.Length / 2;
-        return s.Length % 2 == 1 ? s[h] : 0.5 * (s[h - 1] + s[h]);
+        var upper = Select(s, h);
+        if (s.Length % 2 == 1)
+        {
+            return upper;
+        }
+
+        // After selection s[0..h) holds the h smallest values: the lower middle one is their maximum.
+        var lower = s[0];
+        for (var i = 1; i < h; i++)
+        {
+            lower = Math.Max(lower, s[i]);
+        }
+
+        return 0.5 * (lower + upper);
+    }
+
+    /// <summary>The k-th smallest value (0-based); partitions s so that s[0..k) &lt;= s[k] &lt;= s(k..].</summary>
+    private static double Select(double[] s, int k)
+    {
+        int lo = 0, hi = s.Length - 1;
+        while (hi > lo)
+        {
+            // Median of three as the pivot, then a Hoare partition.
+            var mid = lo + ((hi - lo) / 2);
+            var a = s[lo];
+            var b = s[mid];
+            var c = s[hi];
+            var pivot = a < b ? (b < c ? b : (a < c ? c : a)) : (a < c ? a : (b < c ? c : b));
+            int i = lo, j = hi;
+            while (i <= j)
+            {
+                while (s[i] < pivot)
+                {
+                    i++;
+                }
+
+                while (s[j] > pivot)
+                {
+                    j--;
+                }
+
+                if (i <= j)
+                {
+                    (s[i], s[j]) = (s[j], s[i]);
+                    i++;
+                    j--;
+                }
+            }
+
+            if (k <= j)
+            {
+                hi = j;
+            }
+            else if (k >= i)
+            {
+                lo = i;
+            }
+            else
+            {
+                return s[k];
+            }
+        }
+
+        return s[k];
+    }
+
+    /// <summary><see cref="Groups.Mean"/> of the groups' values one after another, without concatenating them.</summary>
+    private static double ConcatenatedMean(double[][] z)
+    {
+        double sum = 0;
+        var n = 0;
+        foreach (var g in z)
+        {
+            foreach (var v in g)
+            {
+                sum += v;
+            }
+
+            n += g.Length;
+        }
+
+        var m = sum / n;
+        double c = 0;
+        foreach (var g in z)
+        {
+            foreach (var v in g)
+            {
+                c += v - m;
+            }
+        }
+
+        return m + (c / n);
     }
 }
 

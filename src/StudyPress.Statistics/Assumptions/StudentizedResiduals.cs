@@ -8,7 +8,11 @@ namespace StudyPress.Statistics.Assumptions;
 public sealed record StudentizedResidual(int Index, Quantity T, Quantity P, Quantity BonferroniP);
 
 /// <summary>Outlier screen by externally studentized residuals.</summary>
-/// <param name="Residuals">One entry per observation, in input order.</param>
+/// <param name="Residuals">
+/// One entry per observation, in input order. The entries are computed when read (no object per
+/// observation is kept), from the residuals and leverages given to
+/// <see cref="StudentizedResiduals.Compute"/>, which must not be changed afterwards.
+/// </param>
 /// <param name="Df">Degrees of freedom of each t_i: residual df - 1.</param>
 /// <param name="Alpha">Significance level used for <see cref="Flagged"/>.</param>
 /// <param name="Flagged">Indices whose Bonferroni-adjusted p is below <see cref="Alpha"/>, ascending.</param>
@@ -18,7 +22,14 @@ public sealed record StudentizedResidualsResult(
     int Df,
     double Alpha,
     IReadOnlyList<int> Flagged,
-    string? Reason);
+    string? Reason)
+{
+    /// <summary>
+    /// The defined residual of largest |t| (the first in input order among equal ones), or null
+    /// when none is defined.
+    /// </summary>
+    public StudentizedResidual? Largest { get; init; }
+}
 
 /// <summary>
 /// Externally studentized (deleted, "R-student") residuals of a linear model:
@@ -31,10 +42,19 @@ public sealed record StudentizedResidualsResult(
 /// An observation with h_i = 1 (numerically, 1 - h_i &lt;= 1e-10) is fitted exactly and its residual
 /// cannot be studentized; the same holds when the fit without observation i is exact (MSE_(i) = 0).
 /// Those observations get undefined values with a reason and are never flagged.
+/// <para>
+/// Cost: one pass computing t_i; the p-value (a regularized incomplete beta) is computed only for
+/// |t_i| near or beyond the Bonferroni critical value, since p is decreasing in |t| and the others
+/// cannot be flagged. Every other observation's p is computed when its entry is read.
+/// </para>
 /// </summary>
 public static class StudentizedResiduals
 {
     private const double LeverageTolerance = 1e-10;
+
+    private const string LeverageOne = "the observation has leverage 1 (it is fitted exactly), so its residual cannot be studentized";
+
+    private const string DeletedExact = "the model without this observation fits exactly, so its residual cannot be studentized";
 
     public static StudentizedResidualsResult Compute(
         IReadOnlyList<double> residuals,
@@ -56,17 +76,10 @@ public static class StudentizedResiduals
 
         var n = residuals.Count;
         var df = residualDf - 1;
-        var list = new StudentizedResidual[n];
         if (residualDf < 2)
         {
             const string why = "studentized residuals need at least 2 residual degrees of freedom";
-            var u = Quantity.Undefined(why);
-            for (var i = 0; i < n; i++)
-            {
-                list[i] = new StudentizedResidual(i, u, u, u);
-            }
-
-            return new StudentizedResidualsResult(list, df, alpha, [], why);
+            return new StudentizedResidualsResult(new Uniform(n, Quantity.Undefined(why)), df, alpha, [], why);
         }
 
         double sse = 0;
@@ -78,31 +91,111 @@ public static class StudentizedResiduals
         if (!(sse > 0))
         {
             const string why = "all residuals are zero (the model fits exactly), so no residual can be studentized";
-            var u = Quantity.Undefined(why);
-            for (var i = 0; i < n; i++)
-            {
-                list[i] = new StudentizedResidual(i, u, u, u);
-            }
-
-            return new StudentizedResidualsResult(list, df, alpha, [], why);
+            return new StudentizedResidualsResult(new Uniform(n, Quantity.Undefined(why)), df, alpha, [], why);
         }
 
+        // p_i < alpha / n exactly when |t_i| > the Bonferroni critical value; below 0.99 of it
+        // (far outside the quantile's own error) p is certainly larger, so only values above
+        // that bound need their p-value to decide.
+        var critical = Probability.TCritical(alpha / n, df);
+        var screen = double.IsFinite(critical) && critical > 0 ? 0.99 * critical : 0.0;
+        var lazy = new Lazy(residuals, leverages, sse, df, n);
         var flagged = new List<int>();
+        var largest = -1;
+        double largestT = -1;
         for (var i = 0; i < n; i++)
         {
-            var e = residuals[i];
             var h = leverages[i];
             if (!(h >= 0 && h <= 1 + LeverageTolerance))
             {
                 throw new ArgumentException("leverages must lie between 0 and 1", nameof(leverages));
             }
 
-            var oneMinusH = 1 - h;
+            var t = lazy.T(i, out _);
+            if (double.IsNaN(t))
+            {
+                continue;
+            }
+
+            var abs = Math.Abs(t);
+            if (abs > largestT)
+            {
+                largestT = abs;
+                largest = i;
+            }
+
+            if (abs >= screen)
+            {
+                var pb = Math.Min(1.0, n * Probability.TTwoSided(t, df));
+                if (pb < alpha)
+                {
+                    flagged.Add(i);
+                }
+            }
+        }
+
+        return new StudentizedResidualsResult(lazy, df, alpha, flagged, null)
+        {
+            Largest = largest < 0 ? null : lazy[largest],
+        };
+    }
+
+    /// <summary>The same undefined entry for every observation.</summary>
+    private sealed class Uniform(int n, Quantity undefined) : IReadOnlyList<StudentizedResidual>
+    {
+        public int Count => n;
+
+        public StudentizedResidual this[int index] =>
+            (uint)index < (uint)n ? new(index, undefined, undefined, undefined) : throw new ArgumentOutOfRangeException(nameof(index));
+
+        public IEnumerator<StudentizedResidual> GetEnumerator()
+        {
+            for (var i = 0; i < n; i++)
+            {
+                yield return this[i];
+            }
+        }
+
+        System.Collections.IEnumerator System.Collections.IEnumerable.GetEnumerator() => GetEnumerator();
+    }
+
+    /// <summary>Entries computed from the residuals and leverages when read.</summary>
+    private sealed class Lazy(IReadOnlyList<double> residuals, IReadOnlyList<double> leverages, double sse, int df, int n) : IReadOnlyList<StudentizedResidual>
+    {
+        public int Count => n;
+
+        public StudentizedResidual this[int index]
+        {
+            get
+            {
+                if ((uint)index >= (uint)n)
+                {
+                    throw new ArgumentOutOfRangeException(nameof(index));
+                }
+
+                var t = T(index, out var why);
+                if (why is not null)
+                {
+                    var u = Quantity.Undefined(why);
+                    return new StudentizedResidual(index, u, u, u);
+                }
+
+                var p = Probability.TTwoSided(t, df);
+                var pb = Math.Min(1.0, n * p);
+                return new StudentizedResidual(index, Quantity.Of(t), Quantity.Of(p), Quantity.Of(pb));
+            }
+        }
+
+        /// <summary>t_i, or NaN with the reason it is undefined.</summary>
+        public double T(int i, out string? why)
+        {
+            why = null;
+            var e = residuals[i];
+            var oneMinusH = 1 - leverages[i];
             if (oneMinusH <= LeverageTolerance)
             {
-                var u = Quantity.Undefined("the observation has leverage 1 (it is fitted exactly), so its residual cannot be studentized");
-                list[i] = new StudentizedResidual(i, u, u, u);
-                continue;
+                why = LeverageOne;
+                return double.NaN;
             }
 
             var mseDeleted = (sse - (e * e / oneMinusH)) / df;
@@ -110,21 +203,21 @@ public static class StudentizedResiduals
             // Relative guard: the subtraction leaves rounding of order 1e-15 SSE.
             if (!(mseDeleted > 1e-13 * sse / df))
             {
-                var u = Quantity.Undefined("the model without this observation fits exactly, so its residual cannot be studentized");
-                list[i] = new StudentizedResidual(i, u, u, u);
-                continue;
+                why = DeletedExact;
+                return double.NaN;
             }
 
-            var t = e / Math.Sqrt(mseDeleted * oneMinusH);
-            var p = Probability.TTwoSided(t, df);
-            var pb = Math.Min(1.0, n * p);
-            list[i] = new StudentizedResidual(i, Quantity.Of(t), Quantity.Of(p), Quantity.Of(pb));
-            if (pb < alpha)
+            return e / Math.Sqrt(mseDeleted * oneMinusH);
+        }
+
+        public IEnumerator<StudentizedResidual> GetEnumerator()
+        {
+            for (var i = 0; i < n; i++)
             {
-                flagged.Add(i);
+                yield return this[i];
             }
         }
 
-        return new StudentizedResidualsResult(list, df, alpha, flagged, null);
+        System.Collections.IEnumerator System.Collections.IEnumerable.GetEnumerator() => GetEnumerator();
     }
 }

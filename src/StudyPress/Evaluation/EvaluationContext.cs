@@ -55,15 +55,30 @@ public sealed class BlockData
     /// <summary>Rows dropped because the response or a factor was missing.</summary>
     public required int DroppedMissing { get; init; }
 
-    /// <summary>Groups by the crossing of all block factors: level label, codes, centred values, row positions.</summary>
-    public IReadOnlyList<(string Label, int[] Codes, double[] Values, int[] Positions)> Cells()
+    private IReadOnlyList<(string Label, int[] Codes, double[] Values, int[] Positions)>? _cells;
+
+    /// <summary>
+    /// Groups by the crossing of all block factors: level label, codes, centred values, row positions.
+    /// Computed once per block (the arrays are shared by every caller and must not be changed).
+    /// </summary>
+    public IReadOnlyList<(string Label, int[] Codes, double[] Values, int[] Positions)> Cells() => _cells ??= ComputeCells();
+
+    private (string Label, int[] Codes, double[] Values, int[] Positions)[] ComputeCells()
     {
         // One pass: each row's cell is the mixed-radix number of its codes (first factor most
         // significant), so ordering by it is ordering by the codes, as the labels' keys were.
         var k = Factors.Count;
         var radix = Factors.Select(f => (long)Math.Max(1, f.Levels.Count)).ToArray();
-        var keys = new long[Rows.Length];
+        long crossing = 1;
+        foreach (var r in radix)
+        {
+            crossing = Math.Min(crossing * r, long.MaxValue / 1024);
+        }
+
+        // Key -> slot through an array when the crossing is small, else a dictionary.
+        var dense = crossing <= 1 << 20 ? new int[crossing] : null;
         var map = new Dictionary<long, int>();
+        var slots = new int[Rows.Length];
         var sizes = new List<int>();
         for (var i = 0; i < Rows.Length; i++)
         {
@@ -73,14 +88,26 @@ public sealed class BlockData
                 key = (key * radix[f]) + Factors[f].Codes[i];
             }
 
-            keys[i] = key;
-            if (!map.TryGetValue(key, out var slot))
+            int slot;
+            if (dense is not null)
+            {
+                slot = dense[key] - 1;
+                if (slot < 0)
+                {
+                    slot = sizes.Count;
+                    dense[key] = slot + 1;
+                    map[key] = slot;
+                    sizes.Add(0);
+                }
+            }
+            else if (!map.TryGetValue(key, out slot))
             {
                 slot = sizes.Count;
                 map[key] = slot;
                 sizes.Add(0);
             }
 
+            slots[i] = slot;
             sizes[slot]++;
         }
 
@@ -101,7 +128,7 @@ public sealed class BlockData
 
         for (var i = 0; i < Rows.Length; i++)
         {
-            var slot = map[keys[i]];
+            var slot = slots[i];
             var at = fill[slot]++;
             cells[slot].Values[at] = Response[i];
             cells[slot].Positions[at] = i;
@@ -159,16 +186,18 @@ public sealed class EvaluationContext
         var ds = Datasets[block.Data!];
         var response = block.Response is null ? null : ds.Numeric[block.Response];
         var factorCols = block.Factors.Select(f => ds.Factors[f.Name]).ToArray();
-        var rows = new List<int>();
+        var rows = new int[ds.Rows];
+        var count = 0;
         var dropped = 0;
+        var where = block.Where.Select(w => (Column: ds.Factors[w.Factor.Name], Pass: w.Levels)).ToArray();
+        var wherePass = where.Select(w => w.Column.Levels.Select(l => w.Pass.Contains(l)).ToArray()).ToArray();
         for (var r = 0; r < ds.Rows; r++)
         {
             var pass = true;
-            foreach (var w in block.Where)
+            for (var w = 0; w < where.Length; w++)
             {
-                var col = ds.Factors[w.Factor.Name];
-                var code = col.Codes[r];
-                if (code < 0 || !w.Levels.Contains(col.Levels[code]))
+                var code = where[w].Column.Codes[r];
+                if (code < 0 || !wherePass[w][code])
                 {
                     pass = false;
                     break;
@@ -180,19 +209,32 @@ public sealed class EvaluationContext
                 continue;
             }
 
-            if ((response is not null && response.IsMissing(r)) || factorCols.Any(f => f.Codes[r] < 0))
+            var missing = response is not null && response.IsMissing(r);
+            for (var f = 0; f < factorCols.Length && !missing; f++)
+            {
+                missing = factorCols[f].Codes[r] < 0;
+            }
+
+            if (missing)
             {
                 dropped++;
                 continue;
             }
 
-            rows.Add(r);
+            rows[count++] = r;
         }
 
-        if (rows.Count == 0)
+        if (count == 0)
         {
             diagnostics.NoRowsSelected(block.Location);
             return null;
+        }
+
+        // Every row selected: the block shares the dataset's arrays instead of copying them.
+        var all = count == ds.Rows;
+        if (!all)
+        {
+            Array.Resize(ref rows, count);
         }
 
         foreach (var r in rows)
@@ -204,26 +246,55 @@ public sealed class EvaluationContext
         for (var k = 0; k < factorCols.Length; k++)
         {
             var col = factorCols[k];
-            var present = new SortedSet<int>(rows.Select(r => col.Codes[r]));
-            var remap = present.Select((code, i) => (code, i)).ToDictionary(p => p.code, p => p.i);
-            factors.Add(new BlockFactor(
-                block.Factors[k],
-                [.. rows.Select(r => remap[col.Codes[r]])],
-                [.. present.Select(c => col.Levels[c])]));
+            var present = new bool[col.Levels.Count];
+            foreach (var r in rows)
+            {
+                present[col.Codes[r]] = true;
+            }
+
+            var remap = new int[col.Levels.Count];
+            var levels = new List<string>();
+            for (var c = 0; c < present.Length; c++)
+            {
+                remap[c] = present[c] ? levels.Count : -1;
+                if (present[c])
+                {
+                    levels.Add(col.Levels[c]);
+                }
+            }
+
+            var codes = new int[rows.Length];
+            for (var i = 0; i < rows.Length; i++)
+            {
+                codes[i] = remap[col.Codes[rows[i]]];
+            }
+
+            factors.Add(new BlockFactor(block.Factors[k], codes, levels));
         }
 
         return new BlockData
         {
             Dataset = ds,
             ResponseName = block.Response ?? string.Empty,
-            Rows = [.. rows],
-            Response = response is null ? [] : [.. rows.Select(r => response.Centred[r])],
+            Rows = rows,
+            Response = response is null ? [] : all ? response.Centred : Pick(response.Centred, rows),
             Centre = response?.Centre ?? 0,
-            Values = response is null ? [] : [.. rows.Select(r => response.Values[r])],
-            Exact = response?.Exact is { } exact ? [.. rows.Select(r => exact[r])] : null,
+            Values = response is null ? [] : all ? response.Values : Pick(response.Values, rows),
+            Exact = response?.Exact is { } exact ? (all ? exact : Pick(exact, rows)) : null,
             Factors = factors,
             DroppedMissing = dropped,
         };
+    }
+
+    private static T[] Pick<T>(T[] values, int[] rows)
+    {
+        var picked = new T[rows.Length];
+        for (var i = 0; i < rows.Length; i++)
+        {
+            picked[i] = values[rows[i]];
+        }
+
+        return picked;
     }
 
     public IReadOnlyList<string> Inputs(BoundBlock block) => block.Data is null ? [] : [block.Data];

@@ -54,7 +54,19 @@ public sealed class AssumptionReview
         var result = anova.Result!;
         var alpha = result.Alpha;
         var cells = anova.Data!.Cells();
-        var groups = cells.Select(c => c.Positions.Select(i => anova.Input!.Response[i]).ToArray()).ToList();
+        var response = anova.Input!.Response;
+        var groups = new List<double[]>(cells.Count);
+        foreach (var c in cells)
+        {
+            var g = new double[c.Positions.Length];
+            for (var j = 0; j < g.Length; j++)
+            {
+                g[j] = response[c.Positions[j]];
+            }
+
+            groups.Add(g);
+        }
+
         var normality = ShapiroWilk.Test(result.Residuals);
         LeveneResult bf, lev;
         BartlettResult bart;
@@ -80,29 +92,24 @@ public sealed class AssumptionReview
         }
         else
         {
-            var positions = Enumerable.Range(0, anova.Data.Rows.Length)
-                .Where(i => !order.IsMissing(anova.Data.Rows[i]))
-                .OrderBy(i => order.Values[anova.Data.Rows[i]])
-                .ThenBy(i => i)
-                .ToArray();
+            var positions = RunOrder(order, anova.Data.Rows);
             if (positions.Length < 3)
             {
                 skipped = "fewer than three observations have a run order";
             }
             else
             {
-                var design = AnovaDesign.ModelMatrix(anova.Input!);
-                var p = design.GetLength(1);
-                var sorted = new double[positions.Length, p];
+                // The design in structured form (a coding row per cell), in run order.
+                var (cellRows, cellOf) = AnovaDesign.CellModelMatrix(anova.Input!);
+                var sortedCells = new int[positions.Length];
+                var sortedResiduals = new double[positions.Length];
                 for (var r = 0; r < positions.Length; r++)
                 {
-                    for (var c = 0; c < p; c++)
-                    {
-                        sorted[r, c] = design[positions[r], c];
-                    }
+                    sortedCells[r] = cellOf[positions[r]];
+                    sortedResiduals[r] = result.Residuals[positions[r]];
                 }
 
-                dw = DurbinWatson.Test([.. positions.Select(i => result.Residuals[i])], sorted);
+                dw = DurbinWatson.Test(sortedResiduals, cellRows, sortedCells);
                 var missing = anova.Data.Rows.Length - positions.Length;
                 if (missing > 0)
                 {
@@ -124,5 +131,58 @@ public sealed class AssumptionReview
             SmallestGroup = cells.Min(c => c.Values.Length),
             Alpha = alpha,
         };
+    }
+
+    /// <summary>
+    /// Positions (into the block's rows) that have a run order, sorted by it, ties in position order.
+    /// Data usually come in run order, so an ordered run is detected in one pass without sorting.
+    /// </summary>
+    private static int[] RunOrder(Data.NumericColumn order, int[] rows)
+    {
+        var count = 0;
+        var sorted = true;
+        var last = double.NegativeInfinity;
+        foreach (var r in rows)
+        {
+            if (order.IsMissing(r))
+            {
+                continue;
+            }
+
+            var v = order.Values[r];
+            sorted &= v.CompareTo(last) >= 0 || count == 0;
+            last = v;
+            count++;
+        }
+
+        var positions = new int[count];
+        var keys = new double[count];
+        var k = 0;
+        for (var i = 0; i < rows.Length; i++)
+        {
+            if (!order.IsMissing(rows[i]))
+            {
+                positions[k] = i;
+                keys[k++] = order.Values[rows[i]];
+            }
+        }
+
+        if (!sorted)
+        {
+            // Stable: equal keys keep position order (as OrderBy(key).ThenBy(position) did).
+            var items = new (double Key, int Position)[count];
+            for (var j = 0; j < count; j++)
+            {
+                items[j] = (keys[j], positions[j]);
+            }
+
+            Array.Sort(items, static (x, y) => x.Key.CompareTo(y.Key) is var c && c != 0 ? c : x.Position.CompareTo(y.Position));
+            for (var j = 0; j < count; j++)
+            {
+                positions[j] = items[j].Position;
+            }
+        }
+
+        return positions;
     }
 }

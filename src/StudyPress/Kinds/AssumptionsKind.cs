@@ -77,7 +77,7 @@ public sealed class AssumptionsKind : BlockKind
         }
 
         var ol = Group("outliers");
-        var largest = review.Outliers.Residuals.Where(r => r.T.IsDefined).OrderByDescending(r => Math.Abs(r.T.Value)).FirstOrDefault();
+        var largest = review.Outliers.Largest;
         Add(ol, "outliers", "residual", "max_abs_t", largest is null ? Quantity.Undefined(review.Outliers.Reason ?? "no studentized residual is defined") : Quantity.Of(Math.Abs(largest.T.Value)));
         Add(ol, "outliers", "residual", "p_bonferroni", largest is null ? Quantity.Undefined(review.Outliers.Reason ?? "no studentized residual is defined") : largest.BonferroniP);
         foreach (var index in review.Outliers.Flagged)

@@ -380,4 +380,40 @@ public class DurbinWatsonTests
         Assert.Equal(1.0, above.Variance / below.Variance, 1e-3);
         Assert.NotEqual(2.0, above.Mean, 1e-9);
     }
+
+    // Exact agreement (integer-valued coding rows make every cross product an exact integer): the
+    // structured route (cell rows and counts of consecutive cells) against the dense n x p design,
+    // above the 100,000-row switch, for a 3 x 2 effect-coded design in a scrambled run order.
+    [Theory]
+    [InlineData(150_001)]
+    [InlineData(1_000)]
+    public void DurbinWatson_CellRows_SameAsDenseDesign(int n)
+    {
+        double[,] cellRows =
+        {
+            { 1, 1, 0, 1, 1, 0 }, { 1, 0, 1, 1, 0, 1 }, { 1, -1, -1, 1, -1, -1 },
+            { 1, 1, 0, -1, -1, 0 }, { 1, 0, 1, -1, 0, -1 }, { 1, -1, -1, -1, 1, 1 },
+        };
+        var rng = new Random(7);
+        var of = new int[n];
+        var e = new double[n];
+        var dense = new double[n, 6];
+        for (var t = 0; t < n; t++)
+        {
+            of[t] = rng.Next(6);
+            e[t] = rng.NextDouble() - 0.5 + (t > 0 ? 0.3 * e[t - 1] : 0);
+            for (var j = 0; j < 6; j++)
+            {
+                dense[t, j] = cellRows[of[t], j];
+            }
+        }
+
+        var a = DurbinWatson.Test(e, dense);
+        var b = DurbinWatson.Test(e, cellRows, of);
+        Assert.Equal(a.Statistic.Value, b.Statistic.Value);
+        Assert.Equal(a.P.Value, b.P.Value);
+        Assert.Equal(a.PNegative.Value, b.PNegative.Value);
+        Assert.Equal(a.PTwoSided.Value, b.PTwoSided.Value);
+        Assert.Equal(a.Method, b.Method);
+    }
 }

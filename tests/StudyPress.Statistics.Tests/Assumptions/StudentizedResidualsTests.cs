@@ -148,4 +148,32 @@ public class StudentizedResidualsTests
     {
         Assert.Throws<ArgumentException>(() => StudentizedResiduals.Compute([1.0, 2.0], [0.5], 3, 0.05));
     }
+
+    // The screen computes p only near the Bonferroni bound: flags and the largest |t| must equal a
+    // direct evaluation of every entry (definition: flagged when min(1, n p_i) < alpha).
+    [Fact]
+    public void StudentizedResiduals_Screened_SameFlagsAndLargestAsEveryEntry()
+    {
+        var rng = new Random(11);
+        const int n = 20_000;
+        var e = new double[n];
+        var h = new double[n];
+        for (var i = 0; i < n; i++)
+        {
+            e[i] = rng.NextDouble() - 0.5;
+            h[i] = 1.0 / 4000;
+        }
+
+        e[17] = 3.0; // gross
+        e[9_000] = -1.2; // near the bound
+        e[12_345] = 1.2;
+        var df = n - 5;
+        var r = StudentizedResiduals.Compute(e, h, df, 0.05);
+        var all = r.Residuals.ToList();
+        var expectedFlags = all.Where(x => x.T.IsDefined && x.BonferroniP.Value < 0.05).Select(x => x.Index).ToList();
+        Assert.Equal(expectedFlags, r.Flagged);
+        Assert.Contains(17, r.Flagged);
+        var largest = all.Where(x => x.T.IsDefined).OrderByDescending(x => Math.Abs(x.T.Value)).First();
+        Assert.Equal(largest, r.Largest);
+    }
 }

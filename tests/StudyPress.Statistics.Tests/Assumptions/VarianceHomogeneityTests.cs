@@ -147,4 +147,37 @@ public class VarianceHomogeneityTests
     {
         Assert.Throws<ArgumentException>(() => Levene.Test([[1.0, 2.0]]));
     }
+
+    // Brown-Forsythe by definition (Brown and Forsythe 1974: Levene's F on |y - median|), medians from
+    // a full sort, against the test's selection-based medians: odd and even group sizes, many ties.
+    [Theory]
+    [InlineData(1)]
+    [InlineData(2)]
+    [InlineData(3)]
+    public void BrownForsythe_SelectedMedians_SameAsSortedMedians(int seed)
+    {
+        var rng = new Random(seed);
+        var groups = Enumerable.Range(0, 4)
+            .Select(g => Enumerable.Range(0, 200 + g + (seed * 7)).Select(_ => Math.Round(rng.NextDouble() * 20) / 4).ToArray())
+            .ToList();
+        static double SortedMedian(double[] x)
+        {
+            var s = x.OrderBy(v => v).ToArray();
+            var h = s.Length / 2;
+            return s.Length % 2 == 1 ? s[h] : 0.5 * (s[h - 1] + s[h]);
+        }
+
+        var shifted = groups.Select(g => { var m = SortedMedian(g); return g.Select(v => Math.Abs(v - m)).ToArray(); }).ToList();
+        var bf = BrownForsythe.Test(groups);
+
+        // Levene's test of z centres z at its means, which is the same F as the one-way ANOVA of z.
+        var k = groups.Count;
+        var n = groups.Sum(g => g.Length);
+        var all = shifted.SelectMany(z => z).ToArray();
+        var grand = all.Average();
+        var between = shifted.Sum(z => z.Length * Math.Pow(z.Average() - grand, 2));
+        var within = shifted.Sum(z => z.Sum(v => Math.Pow(v - z.Average(), 2)));
+        var f = between / (k - 1) / (within / (n - k));
+        Assert.Equal(f, bf.F.Value, 10);
+    }
 }
