@@ -7,7 +7,7 @@ namespace StudyPress.BrowserTests;
 [Collection("browser")]
 public sealed class ExampleReportTests(BrowserFixture browser)
 {
-    private static readonly string[] Examples = ["spray-nozzles", "tomato-irrigation", "incubator-assay"];
+    private static readonly string[] Examples = ["spray-nozzles", "tomato-irrigation", "incubator-assay", "greenhouse-sqlite", "spreadsheet-trial"];
 
     public static TheoryData<string> ExampleNames() => [.. Examples];
 
