@@ -225,9 +225,9 @@ public static class Compilation
         foreach (var b in blocks.Where(b => b.Data is not null))
         {
             var n = needs[b.Data!];
-            if (b.Kind is not AnovaKind && header.Datasets.FirstOrDefault(d => d.Name == b.Data) is { Aggregate: true } aggregated)
+            if (b.Kind is not (AnovaKind or SummaryKind or PostHocKind) && header.Datasets.FirstOrDefault(d => d.Name == b.Data) is { Aggregate: true } aggregated)
             {
-                diagnostics.AggregateProblem(b.Location, aggregated.Name, $"a '{b.Kind.Name}' block needs the rows, and the database aggregates this dataset (aggregate: true); only anova blocks run on aggregated data in this version (declare a second dataset on the same file with a sampling query for the other blocks)");
+                diagnostics.AggregateProblem(b.Location, aggregated.Name, $"a '{b.Kind.Name}' block needs the rows, and the database aggregates this dataset (aggregate: true); only anova, summary and posthoc blocks run on aggregated data in this version (declare a second dataset on the same file with a sampling query for the other blocks)");
             }
 
             if (b.Response is not null)

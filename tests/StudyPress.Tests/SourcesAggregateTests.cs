@@ -53,7 +53,7 @@ public sealed class SourcesAggregateTests
         """;
 
     /// <summary>An unbalanced 3 x 2 design with a missing response; values with two decimals.</summary>
-    private static List<object?[]> Rows()
+    internal static List<object?[]> Rows()
     {
         var rows = new List<object?[]>();
         var plot = 0;
@@ -82,13 +82,13 @@ public sealed class SourcesAggregateTests
         .Replace("SSTYPE", ssType.ToString(CultureInfo.InvariantCulture), StringComparison.Ordinal)
         .Replace("INTER", interaction ? "true" : "false", StringComparison.Ordinal);
 
-    private static void SqliteDb(string path) => SourcesFixtures.Sqlite(
+    internal static void SqliteDb(string path) => SourcesFixtures.Sqlite(
         path,
         "create table t (plot integer primary key, fert text, soil text, y real)",
         "insert into t (plot, fert, soil, y) values ($p0, $p1, $p2, $p3)",
         Rows().Select(r => new object?[] { r[0], r[1], r[2], r[3] is decimal d ? (double)d : null }));
 
-    private static void DuckDb(string path, string type)
+    internal static void DuckDb(string path, string type)
     {
         var sb = new StringBuilder($"create table t (plot bigint, fert varchar, soil varchar, y {type}); insert into t values ");
         sb.AppendJoin(", ", Rows().Select(r => string.Create(CultureInfo.InvariantCulture, $"({r[0]}, '{r[1]}', '{r[2]}', {(r[3] is decimal d ? d.ToString(CultureInfo.InvariantCulture) : "NULL")})")));
@@ -204,7 +204,7 @@ public sealed class SourcesAggregateTests
               fert:
             ---
 
-            ```summary s
+            ```ranks s
             factors: [fert]
             ```
             """);

@@ -63,6 +63,11 @@ public sealed class PostHocKind : BlockKind
     public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
     {
         var options = (Options)block.Options!;
+        if (context.Outcomes.GetValueOrDefault(block.Of!.Id) is AggregatedAnova.Outcome aggregated)
+        {
+            return AggregatedPostHoc.Evaluate(context, block, options, aggregated, diagnostics);
+        }
+
         var outcome = new Outcome(block);
         if (context.Outcomes.GetValueOrDefault(block.Of!.Id) is not AnovaKind.Outcome { Result: not null } anova)
         {
@@ -166,7 +171,7 @@ public sealed class PostHocKind : BlockKind
         return outcome;
     }
 
-    private static PostHocResult ControlOnly(PostHocResult all, string? control)
+    internal static PostHocResult ControlOnly(PostHocResult all, string? control)
     {
         if (control is null)
         {
@@ -189,7 +194,7 @@ public sealed class PostHocKind : BlockKind
         return all with { Comparisons = kept };
     }
 
-    private static Family Record(EvaluationContext context, BoundBlock block, string test, string title, PostHocResult result, string term, IReadOnlyList<string> inputs)
+    internal static Family Record(EvaluationContext context, BoundBlock block, string test, string title, PostHocResult result, string term, IReadOnlyList<string> inputs)
     {
         var family = new Family { Test = test, Title = title, Result = result };
         foreach (var c in result.Comparisons)

@@ -36,6 +36,11 @@ public sealed class SummaryKind : BlockKind
 
     public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
     {
+        if (AggregatedAnova.Applies(context, block))
+        {
+            return AggregatedSummary.Evaluate(context, block, diagnostics);
+        }
+
         var outcome = new Outcome(block);
         var data = context.Select(block, diagnostics);
         if (data is null)

@@ -16,7 +16,11 @@ public readonly record struct AggregateStat(long N, double CentredMean, double S
 /// One cell of the database's grouping by every factor the study uses: a level code per factor
 /// (-1 = missing), the number of rows and each numeric column's summary.
 /// </summary>
-public sealed record AggregateCell(int[] Codes, long Rows, IReadOnlyDictionary<string, AggregateStat> Stats);
+public sealed record AggregateCell(int[] Codes, long Rows, IReadOnlyDictionary<string, AggregateStat> Stats)
+{
+    /// <summary>The factor values as the database returned them, one tuple per database group pooled into this cell (for follow-up queries on the cell's rows).</summary>
+    public IReadOnlyList<object?[]> RawKeys { get; init; } = [];
+}
 
 /// <summary>The aggregated table of one dataset (<c>aggregate: true</c>).</summary>
 /// <param name="Factors">The factors grouped by, in the order of <see cref="AggregateCell.Codes"/>.</param>
@@ -30,7 +34,17 @@ public sealed record AggregateTable(
     IReadOnlyDictionary<string, double> Centres,
     IReadOnlyList<string> Exact,
     IReadOnlyList<AggregateCell> Cells,
-    long SourceRows);
+    long SourceRows)
+{
+    /// <summary>The database file, to run follow-up queries (quantiles, min and max for summary blocks).</summary>
+    public string FullPath { get; init; } = string.Empty;
+
+    /// <summary>The user's query (the rows the cells summarise).</summary>
+    public string UserQuery { get; init; } = string.Empty;
+
+    /// <summary>Whether the database is DuckDB (also Parquet); otherwise SQLite.</summary>
+    public bool Duck { get; init; }
+}
 
 /// <summary>
 /// <c>aggregate: true</c>: instead of loading the query's rows, asks the database for per-cell
@@ -211,7 +225,7 @@ public static partial class AggregateSource
                 return null;
             }
 
-            return Build(spec, sha256, names, factors, numeric, scale, centres, cells, sourceRows, sql, resultSha, diagnostics);
+            return Build(spec, sha256, names, factors, numeric, scale, centres, cells, sourceRows, sql, resultSha, diagnostics, (fullPath, userQuery, duck));
         }
         catch (Exception e) when (e is DbException or InvalidOperationException or OverflowException or NotSupportedException or InvalidCastException or FormatException)
         {
@@ -232,7 +246,8 @@ public static partial class AggregateSource
         long sourceRows,
         string sql,
         string resultSha,
-        DiagnosticBag diagnostics)
+        DiagnosticBag diagnostics,
+        (string FullPath, string UserQuery, bool Duck) source)
     {
         var missing = new HashSet<string>(spec.Missing, StringComparer.Ordinal);
         var errors = diagnostics.Items.Count;
@@ -272,10 +287,10 @@ public static partial class AggregateSource
         {
             var codes = text[i].Select((t, f) => t is null ? -1 : IndexOf(levels[f], t)).ToArray();
             var key = string.Join(",", codes);
-            var cell = new AggregateCell(codes, raw[i].Rows, raw[i].Stats);
+            var cell = new AggregateCell(codes, raw[i].Rows, raw[i].Stats) { RawKeys = [raw[i].Keys] };
             if (pooled.TryGetValue(key, out var before))
             {
-                cell = new AggregateCell(codes, before.Rows + cell.Rows, numeric.ToDictionary(c => c, c => Pool(before.Stats[c], cell.Stats[c]), StringComparer.Ordinal));
+                cell = new AggregateCell(codes, before.Rows + cell.Rows, numeric.ToDictionary(c => c, c => Pool(before.Stats[c], cell.Stats[c]), StringComparer.Ordinal)) { RawKeys = [.. before.RawKeys, raw[i].Keys] };
             }
             else
             {
@@ -313,7 +328,7 @@ public static partial class AggregateSource
             Query = sql,
             ResultSha256 = resultSha,
             SourceNote = note.ToString(),
-            Aggregate = new AggregateTable(factors, levels, centres, exact, cells, sourceRows),
+            Aggregate = new AggregateTable(factors, levels, centres, exact, cells, sourceRows) { FullPath = source.FullPath, UserQuery = source.UserQuery, Duck = source.Duck },
         };
     }
 
