@@ -231,6 +231,7 @@ internal static class CsvFastPath
         var resultScale = (byte)Math.Max(scale, cScale);
         var limit = up <= 28 ? max96 / Pow10(up) : UInt128.Zero;
         var cAligned = cUp == 0 ? cSigned : cSigned * (Int128)Pow10(cUp);
+        var xUp = (Int128)Pow10(up);
 
         var centred = new double[m.Length];
         var raw = new double[m.Length];
@@ -259,7 +260,7 @@ internal static class CsvFastPath
                 var mag = (UInt128)(v < 0 ? -(Int128)v : v);
                 if (mag <= limit)
                 {
-                    var diff = ((Int128)v * (Int128)Pow10(up)) - cAligned;
+                    var diff = ((Int128)v * xUp) - cAligned;
                     var dm = (UInt128)(diff < 0 ? -diff : diff);
                     if (dm <= max96 && (diff != 0 || v >= 0))
                     {
@@ -348,28 +349,26 @@ internal static class CsvFastPath
                     line = line[..^1];
                 }
 
-                // Fields.
+                // Fields: one pass over the line's bytes.
                 var count = 0;
                 var from = 0;
-                while (true)
+                for (var k = 0; k < line.Length; k++)
                 {
-                    var d = line[from..].IndexOf(delim);
-                    if (count == expected)
+                    if (line[k] == delim)
                     {
-                        return false;
-                    }
+                        if (count == expected - 1)
+                        {
+                            return false;
+                        }
 
-                    fieldStart[count] = from;
-                    if (d < 0)
-                    {
-                        fieldEnd[count++] = line.Length;
-                        break;
+                        fieldStart[count] = from;
+                        fieldEnd[count++] = k;
+                        from = k + 1;
                     }
-
-                    fieldEnd[count++] = from + d;
-                    from += d + 1;
                 }
 
+                fieldStart[count] = from;
+                fieldEnd[count++] = line.Length;
                 if (count == 1 && AllBlank(line))
                 {
                     continue; // a blank line is not a row
@@ -464,8 +463,26 @@ internal static class CsvFastPath
             return true;
         }
 
+        private readonly bool[] missingLength = MissingLengths(missing);
+
+        private static bool[] MissingLengths(byte[][] missing)
+        {
+            var lengths = new bool[65];
+            foreach (var m in missing)
+            {
+                lengths[Math.Min(m.Length, 64)] = true;
+            }
+
+            return lengths;
+        }
+
         private bool IsMissing(ReadOnlySpan<byte> cell)
         {
+            if (!missingLength[Math.Min(cell.Length, 64)])
+            {
+                return false;
+            }
+
             foreach (var m in missing)
             {
                 if (cell.SequenceEqual(m))
