@@ -182,7 +182,10 @@ internal static class CsvFastPath
                 return null;
             }
 
-            numeric[numericNames[c]] = Centre(numericNames[c], Trim(mantissas[c], rows), scale, a.Sum[c] + b.Sum[c], a.Present[c] + b.Present[c]);
+            var name = numericNames[c];
+            numeric[name] = name == needs.Order && !needs.Responses.Contains(name)
+                ? ValuesOnly(name, Trim(mantissas[c], rows), scale)
+                : Centre(name, Trim(mantissas[c], rows), scale, a.Sum[c] + b.Sum[c], a.Present[c] + b.Present[c]);
         }
 
         return new Result(rows, Trim(lines, rows), names, numeric, seenNames, finalCodes);
@@ -281,6 +284,31 @@ internal static class CsvFastPath
         }
 
         return new NumericColumn(name, centred, raw, (double)centre, missing, ExactValues.Scaled(exact, scale));
+    }
+
+    /// <summary>
+    /// The run-order column when no block uses it as a response: only its values are needed (the
+    /// order of the observations), so it is kept with centre 0 (centred = values) and no exact values.
+    /// </summary>
+    private static NumericColumn ValuesOnly(string name, long[] m, int scale)
+    {
+        var s = (byte)scale;
+        var raw = new double[m.Length];
+        var missing = 0;
+        for (var i = 0; i < m.Length; i++)
+        {
+            if (m[i] == MissingMark)
+            {
+                raw[i] = double.NaN;
+                missing++;
+            }
+            else
+            {
+                raw[i] = (double)ExactValues.Decimal(m[i], s);
+            }
+        }
+
+        return new NumericColumn(name, raw, raw, 0, missing, null);
     }
 
     private static UInt128 Pow10(int k)

@@ -16,6 +16,12 @@ public sealed class DatasetNeeds
 
     /// <summary>The run-order column, when an analysis needs it (also listed in <see cref="Numeric"/>).</summary>
     public string? Order { get; set; }
+
+    /// <summary>
+    /// Columns some block uses as its response. The byte-level reader keeps only the values of the
+    /// run-order column when it is not one of them (centre 0, no exact values): 16 bytes a row less.
+    /// </summary>
+    public HashSet<string> Responses { get; } = new(StringComparer.Ordinal);
 }
 
 /// <summary>
