@@ -233,6 +233,7 @@ public static class Compilation
             if (b.Response is not null)
             {
                 n.Numeric.TryAdd(b.Response, b.ResponseLocation);
+                n.Responses.Add(b.Response);
             }
 
             foreach (var f in b.Factors)

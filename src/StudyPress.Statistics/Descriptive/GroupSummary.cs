@@ -30,6 +30,19 @@ public static class Descriptives
     /// arithmetic from decimal text); otherwise it comes from the centred values.</param>
     public static GroupSummary Compute(ReadOnlySpan<double> centred, ReadOnlySpan<double> values, double offset, double alpha, double? exactMean = null)
     {
+        if (values.Length != centred.Length)
+        {
+            throw new ArgumentException("centred and raw values differ in length", nameof(values));
+        }
+
+        var sorted = values.ToArray();
+        Array.Sort(sorted);
+        return ComputeSorted(centred, sorted, offset, alpha, exactMean);
+    }
+
+    /// <summary>As <see cref="Compute"/>, with the group's values already in ascending order (not copied).</summary>
+    public static GroupSummary ComputeSorted(ReadOnlySpan<double> centred, double[] sorted, double offset, double alpha, double? exactMean = null)
+    {
         var n = centred.Length;
         if (n == 0)
         {
@@ -52,13 +65,11 @@ public static class Descriptives
             hi = Quantity.Of((exactMean ?? (offset + mean)) + half);
         }
 
-        if (values.Length != n)
+        if (sorted.Length != n)
         {
-            throw new ArgumentException("centred and raw values differ in length", nameof(values));
+            throw new ArgumentException("centred and raw values differ in length", nameof(sorted));
         }
 
-        var sorted = values.ToArray();
-        Array.Sort(sorted);
         double Q(double tau) => SortedArrayStatistics.QuantileCustom(sorted, tau, QuantileDefinition.R7);
         return new GroupSummary(n, exactMean ?? (offset + mean), sd, se, lo, hi, Q(0.5), Q(0.25), Q(0.75), sorted[0], sorted[^1]);
     }

@@ -7,11 +7,108 @@ namespace StudyPress.Data;
 /// </summary>
 /// <see cref="Values"/> holds each value itself (the double nearest to its decimal text), for
 /// order statistics and transformations.
-/// <see cref="Exact"/> keeps the decimal values when every cell was exact decimal text, so
+/// <see cref="Exact"/> keeps the exact values when every cell was exact decimal text, so
 /// that means can be computed exactly.
-public sealed record NumericColumn(string Name, double[] Centred, double[] Values, double Centre, int Missing, decimal[]? Exact)
+public sealed record NumericColumn(string Name, double[] Centred, double[] Values, double Centre, int Missing, ExactValues? Exact)
 {
     public bool IsMissing(int row) => double.IsNaN(Centred[row]);
+}
+
+/// <summary>
+/// Exact values of a numeric column: either decimals, or (8 bytes a cell instead of 16) 64-bit
+/// integers m with one scale s for the column, value = m × 10^-s. Every value of the scaled form
+/// is the decimal with mantissa m and scale s, so means come out the same either way.
+/// </summary>
+public sealed class ExactValues
+{
+    private readonly decimal[]? _decimals;
+    private readonly long[]? _scaled;
+    private readonly byte _scale;
+
+    private ExactValues(decimal[]? decimals, long[]? scaled, byte scale)
+    {
+        _decimals = decimals;
+        _scaled = scaled;
+        _scale = scale;
+    }
+
+    public static ExactValues Of(decimal[] values) => new(values, null, 0);
+
+    /// <summary>Values m[i] × 10^-scale; every |m[i]| below 10^18 and scale at most 28.</summary>
+    public static ExactValues Scaled(long[] mantissas, int scale) => new(null, mantissas, checked((byte)scale));
+
+    public int Length => _decimals?.Length ?? _scaled!.Length;
+
+    public decimal this[int i] => _decimals is { } d ? d[i] : Decimal(_scaled![i], _scale);
+
+    /// <summary>The values at the given positions, in that order.</summary>
+    public ExactValues Pick(int[] rows)
+    {
+        if (_decimals is { } d)
+        {
+            var picked = new decimal[rows.Length];
+            for (var i = 0; i < rows.Length; i++)
+            {
+                picked[i] = d[rows[i]];
+            }
+
+            return Of(picked);
+        }
+
+        var m = _scaled!;
+        var pm = new long[rows.Length];
+        for (var i = 0; i < rows.Length; i++)
+        {
+            pm[i] = m[rows[i]];
+        }
+
+        return new(null, pm, _scale);
+    }
+
+    /// <summary>The mean of the given positions in decimal arithmetic, or null (none, or overflow).</summary>
+    public double? Mean(IReadOnlyList<int> positions)
+    {
+        if (positions.Count == 0)
+        {
+            return null;
+        }
+
+        if (_scaled is { } m)
+        {
+            // Same scale throughout: the decimal sum is the integer sum at that scale, exactly
+            // (at most 2^31 terms below 10^18 stay within decimal's 96 bits).
+            Int128 total = 0;
+            foreach (var i in positions)
+            {
+                total += m[i];
+            }
+
+            return (double)(Decimal(total, _scale) / positions.Count);
+        }
+
+        try
+        {
+            decimal sum = 0;
+            foreach (var i in positions)
+            {
+                sum += _decimals![i];
+            }
+
+            return (double)(sum / positions.Count);
+        }
+        catch (OverflowException)
+        {
+            return null;
+        }
+    }
+
+    /// <summary>The decimal with mantissa |v| (below 2^96), the sign of v and the given scale.</summary>
+    internal static decimal Decimal(Int128 v, byte scale)
+    {
+        var negative = v < 0;
+        var a = (UInt128)(negative ? -v : v);
+        return new decimal((int)(uint)a, (int)(uint)(a >> 32), (int)(uint)(a >> 64), negative, scale);
+    }
 }
 
 /// <summary>A categorical column as level codes (-1 = missing) into <see cref="Levels"/>.</summary>

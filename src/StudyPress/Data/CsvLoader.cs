@@ -16,6 +16,12 @@ public sealed class DatasetNeeds
 
     /// <summary>The run-order column, when an analysis needs it (also listed in <see cref="Numeric"/>).</summary>
     public string? Order { get; set; }
+
+    /// <summary>
+    /// Columns some block uses as its response. The byte-level reader keeps only the values of the
+    /// run-order column when it is not one of them (centre 0, no exact values): 16 bytes a row less.
+    /// </summary>
+    public HashSet<string> Responses { get; } = new(StringComparer.Ordinal);
 }
 
 /// <summary>
@@ -65,6 +71,16 @@ public static class CsvLoader
         {
             diagnostics.EmptyDataFile(file);
             return null;
+        }
+
+        // Plain files (no quote character, ASCII delimiter and decimal mark) are read from the bytes
+        // directly; anything irregular returns null and the general reader below starts over, so
+        // every message and position is the general reader's.
+        LastLoadWasFast = false;
+        if (!ForceGeneralPath && CsvFastPath.TryLoad(spec, bytes, body.Value.Start, body.Value.Length, needs) is { } fast)
+        {
+            LastLoadWasFast = true;
+            return Finish(spec, fast.Rows, fast.Lines, fast.Names, fast.Numeric, fast.SeenNames, fast.Codes, needs, diagnostics, errorsBefore, sha, hashing);
         }
 
         // Decode and parse in chunks from the bytes: the file is never held as one UTF-16 string.
@@ -222,7 +238,7 @@ public static class CsvLoader
                 }
 
                 var cellText = cell.ToString();
-                if (ParseNumber(cellText, spec.Decimal, out var exact, out var approx, out var problem))
+                if (NumberRules.Parse(cellText, spec.Decimal, out var exact, out var approx, out var problem))
                 {
                     numbers[c][r] = exact;
                     if (doubles[c] is null && exact == 0 && approx != 0)
@@ -335,18 +351,45 @@ public static class CsvLoader
         for (var c = 0; c < numericCols.Length; c++)
         {
             numeric[numericCols[c].Name] = doubles[c] is { } d
-                ? CentreDoubles(numericCols[c].Name, Trim(d, rows))
-                : CentreDecimals(numericCols[c].Name, Trim(numbers[c], rows), missingFlags[c], rows - missingCount[c]);
+                ? NumberRules.CentreDoubles(numericCols[c].Name, Trim(d, rows))
+                : NumberRules.CentreDecimals(numericCols[c].Name, Trim(numbers[c], rows), missingFlags[c]);
         }
 
+        return Finish(spec, rows, Trim(lines, rows), names, numeric, seenNames, codes.Select(c => Trim(c, rows)).ToArray(), needs, diagnostics, errorsBefore, sha, hashing);
+    }
+
+    /// <summary>Test hook (this thread): always take the general reader, to compare it with the byte-level one.</summary>
+    [ThreadStatic]
+    internal static bool ForceGeneralPath;
+
+    /// <summary>Test hook (this thread): whether the last load on this thread took the byte-level reader.</summary>
+    [ThreadStatic]
+    internal static bool LastLoadWasFast;
+
+    /// <summary>Final factor codes and levels, absent-level checks and the dataset.</summary>
+    private static LoadedDataset? Finish(
+        DatasetSpec spec,
+        int rows,
+        int[] lines,
+        List<string> names,
+        Dictionary<string, NumericColumn> numeric,
+        List<string>[] seenNames,
+        int[][] codes,
+        DatasetNeeds needs,
+        DiagnosticBag diagnostics,
+        int errorsBefore,
+        string? sha,
+        Task<string>? hashing)
+    {
+        var factorCols = needs.Factors.Values.Select(v => v.Spec).ToArray();
         var factors = new Dictionary<string, CategoricalColumn>(StringComparer.Ordinal);
         for (var c = 0; c < factorCols.Length; c++)
         {
-            var f = factorCols[c].Spec;
+            var f = factorCols[c];
             var levels = f.Levels ?? OrderLevels(seenNames[c]);
             var lookup = levels.Select((l, k) => (l, k)).ToDictionary(p => p.l, p => p.k, StringComparer.Ordinal);
             var remap = seenNames[c].Select(t => lookup[t]).ToArray();
-            var final = Trim(codes[c], rows);
+            var final = codes[c];
             var counts = new int[levels.Count];
             for (var i = 0; i < final.Length; i++)
             {
@@ -381,7 +424,7 @@ public static class CsvLoader
             Path = spec.Path.Replace('\\', '/'),
             Sha256 = sha ?? hashing!.GetAwaiter().GetResult(),
             Rows = rows,
-            Lines = Trim(lines, rows),
+            Lines = lines,
             ColumnNames = names,
             Numeric = numeric,
             Factors = factors,
@@ -398,141 +441,6 @@ public static class CsvLoader
         return allNumeric
             ? [.. list.OrderBy(l => decimal.Parse(l, NumberStyles.Float, CultureInfo.InvariantCulture)).ThenBy(l => l, StringComparer.Ordinal)]
             : [.. list.OrderBy(l => l, StringComparer.Ordinal)];
-    }
-
-    private enum NumberProblem
-    {
-        None,
-        NotNumber,
-        NotFinite,
-        DecimalComma,
-        TooLarge,
-    }
-
-    private static bool ParseNumber(string text, char decimalMark, out decimal exact, out double approx, out NumberProblem problem)
-    {
-        exact = 0;
-        approx = 0;
-        problem = NumberProblem.None;
-        var t = text;
-        if (decimalMark == ',')
-        {
-            if (t.Contains('.', StringComparison.Ordinal))
-            {
-                problem = NumberProblem.NotNumber;
-                return false;
-            }
-
-            t = t.Replace(',', '.');
-        }
-
-        const NumberStyles style = NumberStyles.AllowLeadingSign | NumberStyles.AllowDecimalPoint | NumberStyles.AllowExponent;
-        if (decimal.TryParse(t, style, CultureInfo.InvariantCulture, out exact))
-        {
-            approx = double.Parse(t, style, CultureInfo.InvariantCulture);
-            return true;
-        }
-
-        if (double.TryParse(t, style, CultureInfo.InvariantCulture, out approx))
-        {
-            if (double.IsNaN(approx) || t.Any(char.IsLetter) && !t.Contains('e', StringComparison.OrdinalIgnoreCase))
-            {
-                problem = NumberProblem.NotFinite;
-                return false;
-            }
-
-            if (double.IsFinite(approx))
-            {
-                // Outside decimal's range but a finite double: keep the double.
-                exact = 0;
-                problem = NumberProblem.None;
-                approx = approx == 0 ? 0 : approx;
-                if (Math.Abs(approx) > 1e300)
-                {
-                    problem = NumberProblem.TooLarge;
-                    return false;
-                }
-
-                return true;
-            }
-
-            problem = NumberProblem.TooLarge;
-            return false;
-        }
-
-        if (double.TryParse(t, NumberStyles.Float, CultureInfo.InvariantCulture, out var special) && !double.IsFinite(special))
-        {
-            problem = NumberProblem.NotFinite;
-            return false;
-        }
-
-        var lower = t.ToLowerInvariant();
-        if (lower is "nan" or "inf" or "-inf" or "+inf" or "infinity" or "-infinity" or "+infinity" or "∞" or "-∞")
-        {
-            problem = NumberProblem.NotFinite;
-            return false;
-        }
-
-        if (decimalMark == '.' && text.Contains(',', StringComparison.Ordinal) &&
-            decimal.TryParse(text.Replace(',', '.'), style, CultureInfo.InvariantCulture, out _))
-        {
-            problem = NumberProblem.DecimalComma;
-            return false;
-        }
-
-        problem = NumberProblem.NotNumber;
-        return false;
-    }
-
-    private static NumericColumn CentreDecimals(string name, decimal[] values, bool[] missing, int n)
-    {
-        decimal sum = 0;
-        try
-        {
-            for (var i = 0; i < values.Length; i++)
-            {
-                if (!missing[i])
-                {
-                    sum += values[i];
-                }
-            }
-        }
-        catch (OverflowException)
-        {
-            var approx = new double[values.Length];
-            for (var i = 0; i < values.Length; i++)
-            {
-                approx[i] = missing[i] ? double.NaN : (double)values[i];
-            }
-
-            return CentreDoubles(name, approx);
-        }
-
-        var centre = n > 0 ? sum / n : 0m;
-        var centred = new double[values.Length];
-        var raw = new double[values.Length];
-
-        // Element by element (each value on its own), so the work splits over the cores unchanged.
-        const int Block = 1 << 16;
-        Parallel.For(0, (values.Length + Block - 1) / Block, b =>
-        {
-            var end = Math.Min(values.Length, (b + 1) * Block);
-            for (var i = b * Block; i < end; i++)
-            {
-                centred[i] = missing[i] ? double.NaN : (double)(values[i] - centre);
-                raw[i] = missing[i] ? double.NaN : (double)values[i];
-            }
-        });
-
-        return new NumericColumn(name, centred, raw, (double)centre, values.Length - n, values);
-    }
-
-    private static NumericColumn CentreDoubles(string name, double[] values)
-    {
-        var present = values.Where(v => !double.IsNaN(v)).ToArray();
-        var centre = present.Length > 0 ? StudyPress.Statistics.Groups.Mean(present) : 0;
-        var centred = values.Select(v => double.IsNaN(v) ? double.NaN : v - centre).ToArray();
-        return new NumericColumn(name, centred, values, centre, values.Length - present.Length, null);
     }
 
     private static readonly System.Text.UTF8Encoding StrictUtf8 = new(encoderShouldEmitUTF8Identifier: false, throwOnInvalidBytes: true);

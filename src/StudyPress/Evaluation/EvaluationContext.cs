@@ -23,32 +23,11 @@ public sealed class BlockData
     /// <summary>The response values themselves for <see cref="Rows"/> (not centred).</summary>
     public required double[] Values { get; init; }
 
-    /// <summary>The exact decimal values for <see cref="Rows"/>, when the column had only decimal text.</summary>
-    public decimal[]? Exact { get; init; }
+    /// <summary>The exact values for <see cref="Rows"/>, when the column had only decimal text.</summary>
+    public ExactValues? Exact { get; init; }
 
     /// <summary>Exact mean of the given positions (decimal arithmetic), or null when not available.</summary>
-    public double? ExactMean(IReadOnlyList<int> positions)
-    {
-        if (Exact is null || positions.Count == 0)
-        {
-            return null;
-        }
-
-        try
-        {
-            decimal sum = 0;
-            foreach (var i in positions)
-            {
-                sum += Exact[i];
-            }
-
-            return (double)(sum / positions.Count);
-        }
-        catch (OverflowException)
-        {
-            return null;
-        }
-    }
+    public double? ExactMean(IReadOnlyList<int> positions) => Exact?.Mean(positions);
 
     public required IReadOnlyList<BlockFactor> Factors { get; init; }
 
@@ -280,7 +259,7 @@ public sealed class EvaluationContext
             Response = response is null ? [] : all ? response.Centred : Pick(response.Centred, rows),
             Centre = response?.Centre ?? 0,
             Values = response is null ? [] : all ? response.Values : Pick(response.Values, rows),
-            Exact = response?.Exact is { } exact ? (all ? exact : Pick(exact, rows)) : null,
+            Exact = response?.Exact is { } exact ? (all ? exact : exact.Pick(rows)) : null,
             Factors = factors,
             DroppedMissing = dropped,
         };

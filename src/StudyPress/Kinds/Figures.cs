@@ -25,6 +25,37 @@ public static class Figures
 
     private static readonly System.Runtime.CompilerServices.ConditionalWeakTable<double[], double[]> Thinned = new();
 
+    private static readonly System.Runtime.CompilerServices.ConditionalWeakTable<int[], double[]> SortedCells = new();
+
+    /// <summary>
+    /// A cell's response values (<paramref name="positions"/> into the block, as
+    /// <see cref="BlockData.Cells"/> gives them) in ascending order: sorted once per cell and shared
+    /// by the summary, the means figure and the box plots. The array must not be changed.
+    /// </summary>
+    internal static double[] SortedValues(BlockData data, int[] positions) => SortedCells.GetValue(positions, p =>
+    {
+        var v = new double[p.Length];
+        for (var k = 0; k < p.Length; k++)
+        {
+            v[k] = data.Values[p[k]];
+        }
+
+        Array.Sort(v);
+        return v;
+    });
+
+    /// <summary>Evenly spaced order statistics of sorted values (see <see cref="Thin"/>).</summary>
+    private static double[] ThinSorted(double[] sorted)
+    {
+        var r = new double[ThinnedPoints];
+        for (var k = 0; k < ThinnedPoints; k++)
+        {
+            r[k] = sorted[(int)Math.Round((double)k * (sorted.Length - 1) / (ThinnedPoints - 1))];
+        }
+
+        return r;
+    }
+
     /// <summary>
     /// The values themselves up to <see cref="MaxPoints"/>; above, <see cref="ThinnedPoints"/> evenly
     /// spaced order statistics (the smallest and largest included), so a figure of millions of
@@ -41,13 +72,7 @@ public static class Figures
         {
             var sorted = (double[])v.Clone();
             Array.Sort(sorted);
-            var r = new double[ThinnedPoints];
-            for (var k = 0; k < ThinnedPoints; k++)
-            {
-                r[k] = sorted[(int)Math.Round((double)k * (sorted.Length - 1) / (ThinnedPoints - 1))];
-            }
-
-            return r;
+            return ThinSorted(sorted);
         });
     }
 
@@ -59,7 +84,10 @@ public static class Figures
     public static Figure? Box(BlockData data, string? caption = null)
     {
         var cells = data.Factors.Count == 0 ? [("all", Array.Empty<int>(), data.Response, Enumerable.Range(0, data.Rows.Length).ToArray())] : data.Cells();
-        var groups = cells.Select(c => new GroupSample(c.Label, Thin([.. c.Positions.Select(i => data.Values[i])]))).ToList();
+        // Above the limit the thinned order statistics come from the cell's shared sorted values.
+        var groups = cells.Select(c => new GroupSample(
+            c.Label,
+            c.Positions.Length <= MaxPoints ? [.. c.Positions.Select(i => data.Values[i])] : ThinSorted(SortedValues(data, c.Positions)))).ToList();
         var by = string.Join(" and ", data.Factors.Select(f => f.Spec.Display));
         var chart = StatCharts.GroupDistributions(groups, new ChartLabels($"Distribution of {data.ResponseName}" + (by.Length > 0 ? " by " + by : string.Empty), by, data.ResponseName));
         var largest = cells.Max(c => c.Positions.Length);
@@ -73,7 +101,7 @@ public static class Figures
         var means = new List<GroupMean>();
         foreach (var (label, _, values, positions) in cells)
         {
-            var s = Statistics.Descriptive.Descriptives.Compute(values, [.. positions.Select(i => data.Values[i])], data.Centre, alpha, data.ExactMean(positions));
+            var s = Statistics.Descriptive.Descriptives.ComputeSorted(values, SortedValues(data, positions), data.Centre, alpha, data.ExactMean(positions));
             if (!s.CiLow.IsDefined)
             {
                 continue;

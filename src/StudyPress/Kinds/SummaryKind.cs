@@ -58,7 +58,7 @@ public sealed class SummaryKind : BlockKind
         var alpha = context.Header.Alpha;
         foreach (var (label, _, values, positions) in cells)
         {
-            var s = Descriptives.Compute(values, positions.Select(i => data.Values[i]).ToArray(), data.Centre, alpha, data.ExactMean(positions));
+            var s = Descriptives.ComputeSorted(values, Figures.SortedValues(data, positions), data.Centre, alpha, data.ExactMean(positions));
             var level = data.Factors.Count == 0 ? null : label;
             var map = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
             void Add(string stat, Statistics.Quantity q) => map[stat] = context.Results.Add(block.Id, "summary", term, level, null, stat, q, inputs);

@@ -291,43 +291,14 @@ public static class TableColumns
             return true;
         }
 
-        var text = t;
-        if (decimalMark == ',')
+        // The CSV reader's rules (NumberRules); a decimal-comma hint is not given for table cells.
+        if (NumberRules.Parse(t, decimalMark, out exact, out approx, out var rule))
         {
-            if (text.Contains('.', StringComparison.Ordinal))
-            {
-                problem = Problem.NotNumber;
-                return false;
-            }
-
-            text = text.Replace(',', '.');
-        }
-
-        const NumberStyles style = NumberStyles.AllowLeadingSign | NumberStyles.AllowDecimalPoint | NumberStyles.AllowExponent;
-        if (decimal.TryParse(text, style, CultureInfo.InvariantCulture, out exact))
-        {
-            approx = double.Parse(text, style, CultureInfo.InvariantCulture);
-            if (exact == 0 && approx != 0)
-            {
-                isExact = false;
-            }
-
+            isExact = exact != 0 || approx == 0;
             return true;
         }
 
-        if (double.TryParse(text, style, CultureInfo.InvariantCulture, out approx))
-        {
-            if (!double.IsFinite(approx) || Math.Abs(approx) > 1e300)
-            {
-                problem = Problem.NotFinite;
-                return false;
-            }
-
-            isExact = false;
-            return true;
-        }
-
-        if (double.TryParse(text, NumberStyles.Float, CultureInfo.InvariantCulture, out var special) && !double.IsFinite(special))
+        if (rule is NumberProblem.NotFinite or NumberProblem.TooLarge)
         {
             problem = Problem.NotFinite;
             return false;
@@ -381,45 +352,9 @@ public static class TableColumns
     private static string NormaliseSheetNumber(string text) =>
         text.Contains('E', StringComparison.OrdinalIgnoreCase) && TryDecimal(text, out var d) ? d.ToString(CultureInfo.InvariantCulture) : text;
 
-    // The centring below is the CSV reader's, so that the same numbers give the same columns.
-    private static NumericColumn CentreDecimals(string name, decimal[] values, bool[] missing)
-    {
-        decimal sum = 0;
-        var n = 0;
-        try
-        {
-            for (var i = 0; i < values.Length; i++)
-            {
-                if (!missing[i])
-                {
-                    sum += values[i];
-                    n++;
-                }
-            }
-        }
-        catch (OverflowException)
-        {
-            return CentreDoubles(name, [.. values.Select(v => (double)v)], missing);
-        }
+    // The centring is the CSV reader's (NumberRules), so that the same numbers give the same columns.
+    private static NumericColumn CentreDecimals(string name, decimal[] values, bool[] missing) => NumberRules.CentreDecimals(name, values, missing);
 
-        var centre = n > 0 ? sum / n : 0m;
-        var centred = new double[values.Length];
-        var raw = new double[values.Length];
-        for (var i = 0; i < values.Length; i++)
-        {
-            centred[i] = missing[i] ? double.NaN : (double)(values[i] - centre);
-            raw[i] = missing[i] ? double.NaN : (double)values[i];
-        }
-
-        return new NumericColumn(name, centred, raw, (double)centre, values.Length - n, [.. values.Select((v, i) => missing[i] ? 0m : v)]);
-    }
-
-    private static NumericColumn CentreDoubles(string name, double[] approx, bool[] missing)
-    {
-        var values = approx.Select((v, i) => missing[i] ? double.NaN : v).ToArray();
-        var present = values.Where(v => !double.IsNaN(v)).ToArray();
-        var centre = present.Length > 0 ? StudyPress.Statistics.Groups.Mean(present) : 0;
-        var centred = values.Select(v => double.IsNaN(v) ? double.NaN : v - centre).ToArray();
-        return new NumericColumn(name, centred, values, centre, values.Length - present.Length, null);
-    }
+    private static NumericColumn CentreDoubles(string name, double[] approx, bool[] missing) =>
+        NumberRules.CentreDoubles(name, [.. approx.Select((v, i) => missing[i] ? double.NaN : v)]);
 }

@@ -1,0 +1,608 @@
+using System.Text;
+using StudyPress.Binding;
+
+namespace StudyPress.Data;
+
+/// <summary>
+/// The byte-level reader for plain files: no quote character, no lone CR, an ASCII delimiter and
+/// decimal mark, every row with the header's number of fields, every numeric cell plain decimal
+/// text (optional '-', 1 to 18 digits, at most one decimal mark between digits, no negative zero) with the same
+/// number of decimals throughout a column, at most 32 levels per factor, all declared. It parses
+/// UTF-8 bytes directly in two chunks split at line ends (one per core), keeps numbers as scaled
+/// 64-bit integers (value = m × 10^-s) and centres them with an exact integer sum. It gives the
+/// same columns, bit for bit, as <see cref="CsvLoader"/>'s general reader; anything else returns
+/// null and the general reader starts over (so every message and position is its own).
+/// </summary>
+internal static class CsvFastPath
+{
+    private const long MissingMark = long.MinValue;
+    private const int MaxLevels = 32;
+
+    internal sealed record Result(int Rows, int[] Lines, List<string> Names, Dictionary<string, NumericColumn> Numeric, List<string>[] SeenNames, int[][] Codes);
+
+    public static Result? TryLoad(DatasetSpec spec, byte[] bytes, int start, int length, DatasetNeeds needs)
+    {
+        var delimiter = spec.Delimiter;
+        var mark = spec.Decimal;
+        if (delimiter >= 0x80 || mark >= 0x80 || delimiter == mark || delimiter is '\r' or '\n' or ' ' or '\t' or '-' || char.IsAsciiDigit(delimiter))
+        {
+            return null;
+        }
+
+        var body = bytes.AsSpan(start, length);
+        if (body.Contains((byte)'"') || HasLoneCr(body))
+        {
+            return null;
+        }
+
+        var nl = body.IndexOf((byte)'\n');
+        if (nl < 0)
+        {
+            return null;
+        }
+
+        var headerBytes = body[..nl];
+        if (headerBytes.Length > 0 && headerBytes[^1] == (byte)'\r')
+        {
+            headerBytes = headerBytes[..^1];
+        }
+
+        var header = Encoding.UTF8.GetString(headerBytes);
+        if (header.Trim().Length == 0)
+        {
+            return null;
+        }
+
+        var names = new List<string>();
+        foreach (var part in header.Split(delimiter))
+        {
+            names.Add(part.Trim().TrimStart('\uFEFF'));
+        }
+
+        var index = new Dictionary<string, int>(StringComparer.Ordinal);
+        foreach (var name in names)
+        {
+            if (name.Length == 0 || !index.TryAdd(name, index.Count))
+            {
+                return null;
+            }
+        }
+
+        var numericNames = needs.Numeric.Keys.ToArray();
+        var factorSpecs = needs.Factors.Values.Select(v => v.Spec).ToArray();
+        if (numericNames.Any(n => !index.ContainsKey(n)) || factorSpecs.Any(f => !index.ContainsKey(f.Column)))
+        {
+            return null;
+        }
+
+        var expected = names.Count;
+        var numericSlot = Enumerable.Repeat(-1, expected).ToArray();
+        var numericOf = numericNames.Select(n => index[n]).ToArray();
+        var factorOf = factorSpecs.Select(f => index[f.Column]).ToArray();
+        for (var c = 0; c < numericOf.Length; c++)
+        {
+            numericSlot[numericOf[c]] = c;
+        }
+
+        var data = body[(nl + 1)..];
+        var lineCount = data.Count((byte)'\n') + (data.Length > 0 && data[^1] != (byte)'\n' ? 1 : 0);
+        if (lineCount == 0)
+        {
+            return null;
+        }
+
+        // Two chunks split at a line end; chunk 2 writes from the row after chunk 1's lines.
+        var split = data.Length / 2;
+        var cut = split < data.Length ? data[split..].IndexOf((byte)'\n') : -1;
+        var firstEnd = cut < 0 ? data.Length : split + cut + 1;
+        var firstLines = data[..firstEnd].Count((byte)'\n') + (firstEnd == data.Length && data.Length > 0 && data[^1] != (byte)'\n' ? 1 : 0);
+
+        var missing = spec.Missing.Select(m => Encoding.UTF8.GetBytes(m)).ToArray();
+        var mantissas = numericNames.Select(_ => new long[lineCount]).ToArray();
+        var codes = factorSpecs.Select(_ => new int[lineCount]).ToArray();
+        var lines = new int[lineCount];
+        var job = new Job(bytes, delimiter, mark, expected, numericSlot, factorOf, missing, mantissas, codes, lines);
+        var chunks = new[]
+        {
+            new Chunk(start + nl + 1, firstEnd, 0, 1, numericNames.Length, factorSpecs.Length),
+            new Chunk(start + nl + 1 + firstEnd, data.Length - firstEnd, firstLines, 1 + firstLines, numericNames.Length, factorSpecs.Length),
+        };
+        Parallel.For(0, chunks.Length, k => chunks[k].Ok = job.Parse(chunks[k]));
+        if (!chunks[0].Ok || !chunks[1].Ok)
+        {
+            return null;
+        }
+
+        // Rows of chunk 2 move down when chunk 1 had blank lines.
+        var a = chunks[0];
+        var b = chunks[1];
+        var rows = a.Rows + b.Rows;
+        if (rows == 0)
+        {
+            return null;
+        }
+
+        if (a.Rows < b.FirstRow)
+        {
+            Array.Copy(lines, b.FirstRow, lines, a.Rows, b.Rows);
+            foreach (var m in mantissas)
+            {
+                Array.Copy(m, b.FirstRow, m, a.Rows, b.Rows);
+            }
+
+            foreach (var c in codes)
+            {
+                Array.Copy(c, b.FirstRow, c, a.Rows, b.Rows);
+            }
+        }
+
+        // Factor levels: chunk 1's in order of appearance, then chunk 2's new ones.
+        var seenNames = new List<string>[factorSpecs.Length];
+        var finalCodes = new int[factorSpecs.Length][];
+        for (var c = 0; c < factorSpecs.Length; c++)
+        {
+            var seenBytes = new List<byte[]>(a.Levels[c]);
+            var remap = new int[b.Levels[c].Count];
+            for (var k = 0; k < remap.Length; k++)
+            {
+                var at = seenBytes.FindIndex(x => x.AsSpan().SequenceEqual(b.Levels[c][k]));
+                if (at < 0)
+                {
+                    at = seenBytes.Count;
+                    seenBytes.Add(b.Levels[c][k]);
+                }
+
+                remap[k] = at;
+            }
+
+            seenNames[c] = [.. seenBytes.Select(x => Encoding.UTF8.GetString(x))];
+            if (factorSpecs[c].Levels is { } declared && seenNames[c].Any(t => !declared.Contains(t)))
+            {
+                return null;
+            }
+
+            var cc = codes[c];
+            for (var i = a.Rows; i < rows; i++)
+            {
+                if (cc[i] >= 0)
+                {
+                    cc[i] = remap[cc[i]];
+                }
+            }
+
+            finalCodes[c] = Trim(cc, rows);
+        }
+
+        var numeric = new Dictionary<string, NumericColumn>(StringComparer.Ordinal);
+        for (var c = 0; c < numericNames.Length; c++)
+        {
+            var scale = a.Scale[c] >= 0 ? a.Scale[c] : Math.Max(0, b.Scale[c]);
+            if (a.Scale[c] >= 0 && b.Scale[c] >= 0 && a.Scale[c] != b.Scale[c])
+            {
+                return null;
+            }
+
+            var name = numericNames[c];
+            numeric[name] = name == needs.Order && !needs.Responses.Contains(name)
+                ? ValuesOnly(name, Trim(mantissas[c], rows), scale)
+                : Centre(name, Trim(mantissas[c], rows), scale, a.Sum[c] + b.Sum[c], a.Present[c] + b.Present[c]);
+        }
+
+        return new Result(rows, Trim(lines, rows), names, numeric, seenNames, finalCodes);
+    }
+
+    private static T[] Trim<T>(T[] values, int n) => values.Length == n ? values : values[..n];
+
+    private static bool HasLoneCr(ReadOnlySpan<byte> s)
+    {
+        var at = s.IndexOf((byte)'\r');
+        while (at >= 0)
+        {
+            if (at + 1 >= s.Length || s[at + 1] != (byte)'\n')
+            {
+                return true;
+            }
+
+            var next = s[(at + 1)..].IndexOf((byte)'\r');
+            at = next < 0 ? -1 : at + 1 + next;
+        }
+
+        return false;
+    }
+
+    private static bool IsBlank(byte b) => b is (byte)' ' or (byte)'\t' or 0x0B or 0x0C;
+
+    /// <summary>
+    /// The general reader's centring, from scaled integers: centre = (decimal)(Σm × 10^-s) / n, and
+    /// each centred value is (double)(x - centre) with the difference formed exactly, as decimal
+    /// subtraction forms it; where that is not certain the decimal subtraction itself is done.
+    /// </summary>
+    private static NumericColumn Centre(string name, long[] m, int scale, Int128 sum, int n)
+    {
+        var s = (byte)scale;
+        var centre = n > 0 ? ExactValues.Decimal(sum, s) / n : 0m;
+        Span<int> bits = stackalloc int[4];
+        decimal.GetBits(centre, bits);
+        var cScale = (bits[3] >> 16) & 0xFF;
+        var cMag = ((UInt128)(uint)bits[2] << 64) | ((UInt128)(uint)bits[1] << 32) | (uint)bits[0];
+        var cSigned = bits[3] < 0 ? -(Int128)cMag : (Int128)cMag;
+        var max96 = (UInt128.One << 96) - 1;
+
+        // Both operands at the larger scale: x scaled up by 10^up, the centre by 10^cUp.
+        var up = Math.Max(0, cScale - scale);
+        var cUp = Math.Max(0, scale - cScale);
+        var resultScale = (byte)Math.Max(scale, cScale);
+        var limit = up <= 28 ? max96 / Pow10(up) : UInt128.Zero;
+        var cAligned = cUp == 0 ? cSigned : cSigned * (Int128)Pow10(cUp);
+        var xUp = (Int128)Pow10(up);
+
+        var centred = new double[m.Length];
+        var raw = new double[m.Length];
+        var exact = m;
+        var missing = 0;
+        const int Block = 1 << 16;
+        var missingByBlock = new int[(m.Length + Block - 1) / Block];
+        Parallel.For(0, missingByBlock.Length, blk =>
+        {
+            var end = Math.Min(m.Length, (blk + 1) * Block);
+            var miss = 0;
+            for (var i = blk * Block; i < end; i++)
+            {
+                var v = m[i];
+                if (v == MissingMark)
+                {
+                    centred[i] = double.NaN;
+                    raw[i] = double.NaN;
+                    exact[i] = 0;
+                    miss++;
+                    continue;
+                }
+
+                var x = ExactValues.Decimal(v, s);
+                raw[i] = (double)x;
+                var mag = (UInt128)(v < 0 ? -(Int128)v : v);
+                if (mag <= limit)
+                {
+                    var diff = ((Int128)v * xUp) - cAligned;
+                    var dm = (UInt128)(diff < 0 ? -diff : diff);
+                    if (dm <= max96 && (diff != 0 || v >= 0))
+                    {
+                        centred[i] = (double)ExactValues.Decimal(diff, resultScale);
+                        continue;
+                    }
+                }
+
+                centred[i] = (double)(x - centre);
+            }
+
+            missingByBlock[blk] = miss;
+        });
+
+        foreach (var k in missingByBlock)
+        {
+            missing += k;
+        }
+
+        return new NumericColumn(name, centred, raw, (double)centre, missing, ExactValues.Scaled(exact, scale));
+    }
+
+    /// <summary>
+    /// The run-order column when no block uses it as a response: only its values are needed (the
+    /// order of the observations), so it is kept with centre 0 (centred = values) and no exact values.
+    /// </summary>
+    private static NumericColumn ValuesOnly(string name, long[] m, int scale)
+    {
+        var s = (byte)scale;
+        var raw = new double[m.Length];
+        var missing = 0;
+        for (var i = 0; i < m.Length; i++)
+        {
+            if (m[i] == MissingMark)
+            {
+                raw[i] = double.NaN;
+                missing++;
+            }
+            else
+            {
+                raw[i] = (double)ExactValues.Decimal(m[i], s);
+            }
+        }
+
+        return new NumericColumn(name, raw, raw, 0, missing, null);
+    }
+
+    private static UInt128 Pow10(int k)
+    {
+        UInt128 p = 1;
+        for (var i = 0; i < k; i++)
+        {
+            p *= 10;
+        }
+
+        return p;
+    }
+
+    private sealed class Chunk(int start, int length, int firstRow, int firstLine, int numeric, int factors)
+    {
+        public int Start { get; } = start;
+
+        public int Length { get; } = length;
+
+        public int FirstRow { get; } = firstRow;
+
+        /// <summary>1-based line number of the chunk's first line.</summary>
+        public int FirstLine { get; } = firstLine;
+
+        public int Rows { get; set; }
+
+        public bool Ok { get; set; }
+
+        public int[] Scale { get; } = Enumerable.Repeat(-1, numeric).ToArray();
+
+        public Int128[] Sum { get; } = new Int128[numeric];
+
+        public int[] Present { get; } = new int[numeric];
+
+        public List<byte[]>[] Levels { get; } = [.. Enumerable.Range(0, factors).Select(_ => new List<byte[]>())];
+    }
+
+    private sealed class Job(byte[] bytes, char delimiter, char mark, int expected, int[] numericSlot, int[] factorOf, byte[][] missing, long[][] mantissas, int[][] codes, int[] lines)
+    {
+        public bool Parse(Chunk chunk)
+        {
+            var text = bytes.AsSpan(chunk.Start, chunk.Length);
+            var delim = (byte)delimiter;
+            var dot = (byte)mark;
+            var row = chunk.FirstRow;
+            var lineNo = chunk.FirstLine;
+            var factorCount = factorOf.Length;
+            var lastHit = new int[factorCount];
+            Span<int> fieldStart = stackalloc int[Math.Min(expected, 256)];
+            Span<int> fieldEnd = stackalloc int[Math.Min(expected, 256)];
+            if (expected > 256)
+            {
+                return false;
+            }
+
+            var pos = 0;
+            while (pos < text.Length)
+            {
+                var rest = text[pos..];
+                var nl = rest.IndexOf((byte)'\n');
+                var line = nl < 0 ? rest : rest[..nl];
+                pos += nl < 0 ? rest.Length : nl + 1;
+                lineNo++;
+                if (line.Length > 0 && line[^1] == (byte)'\r')
+                {
+                    line = line[..^1];
+                }
+
+                // Fields: one pass over the line's bytes.
+                var count = 0;
+                var from = 0;
+                for (var k = 0; k < line.Length; k++)
+                {
+                    if (line[k] == delim)
+                    {
+                        if (count == expected - 1)
+                        {
+                            return false;
+                        }
+
+                        fieldStart[count] = from;
+                        fieldEnd[count++] = k;
+                        from = k + 1;
+                    }
+                }
+
+                fieldStart[count] = from;
+                fieldEnd[count++] = line.Length;
+                if (count == 1 && AllBlank(line))
+                {
+                    continue; // a blank line is not a row
+                }
+
+                if (count != expected)
+                {
+                    return false;
+                }
+
+                var r = row++;
+                lines[r] = lineNo;
+                for (var f = 0; f < count; f++)
+                {
+                    var c = numericSlot[f];
+                    if (c < 0)
+                    {
+                        continue;
+                    }
+
+                    var cell = TrimAscii(line[fieldStart[f]..fieldEnd[f]]);
+                    if (IsMissing(cell))
+                    {
+                        mantissas[c][r] = MissingMark;
+                        continue;
+                    }
+
+                    if (!TryScaled(cell, dot, out var v, out var sc))
+                    {
+                        return false;
+                    }
+
+                    if (chunk.Scale[c] != sc)
+                    {
+                        if (chunk.Scale[c] >= 0)
+                        {
+                            return false;
+                        }
+
+                        chunk.Scale[c] = sc;
+                    }
+
+                    mantissas[c][r] = v;
+                    chunk.Sum[c] += v;
+                    chunk.Present[c]++;
+                }
+
+                for (var c = 0; c < factorCount; c++)
+                {
+                    var f = factorOf[c];
+                    var cell = TrimAscii(line[fieldStart[f]..fieldEnd[f]]);
+                    if (IsMissing(cell))
+                    {
+                        codes[c][r] = -1;
+                        continue;
+                    }
+
+                    var levels = chunk.Levels[c];
+                    var code = lastHit[c];
+                    if (code >= levels.Count || !cell.SequenceEqual(levels[code]))
+                    {
+                        code = -1;
+                        for (var k = 0; k < levels.Count; k++)
+                        {
+                            if (cell.SequenceEqual(levels[k]))
+                            {
+                                code = k;
+                                break;
+                            }
+                        }
+
+                        if (code < 0)
+                        {
+                            var s = Encoding.UTF8.GetString(cell);
+                            if (levels.Count == MaxLevels || s.Length == 0 || s.Trim().Length != s.Length || cell.IndexOfAnyInRange((byte)0, (byte)0x1F) >= 0)
+                            {
+                                return false;
+                            }
+
+                            code = levels.Count;
+                            levels.Add(cell.ToArray());
+                        }
+
+                        lastHit[c] = code;
+                    }
+
+                    codes[c][r] = code;
+                }
+            }
+
+            chunk.Rows = row - chunk.FirstRow;
+            return true;
+        }
+
+        private readonly bool[] missingLength = MissingLengths(missing);
+
+        private static bool[] MissingLengths(byte[][] missing)
+        {
+            var lengths = new bool[65];
+            foreach (var m in missing)
+            {
+                lengths[Math.Min(m.Length, 64)] = true;
+            }
+
+            return lengths;
+        }
+
+        private bool IsMissing(ReadOnlySpan<byte> cell)
+        {
+            if (!missingLength[Math.Min(cell.Length, 64)])
+            {
+                return false;
+            }
+
+            foreach (var m in missing)
+            {
+                if (cell.SequenceEqual(m))
+                {
+                    return true;
+                }
+            }
+
+            return false;
+        }
+
+        private static bool AllBlank(ReadOnlySpan<byte> line)
+        {
+            foreach (var b in line)
+            {
+                if (!IsBlank(b))
+                {
+                    return false;
+                }
+            }
+
+            return true;
+        }
+
+        private static ReadOnlySpan<byte> TrimAscii(ReadOnlySpan<byte> s)
+        {
+            var a = 0;
+            var b = s.Length;
+            while (a < b && IsBlank(s[a]))
+            {
+                a++;
+            }
+
+            while (b > a && IsBlank(s[b - 1]))
+            {
+                b--;
+            }
+
+            return s[a..b];
+        }
+
+        /// <summary>CsvLoader's plain decimal text: optional '-', 1 to 18 digits, one mark between digits, not a negative zero.</summary>
+        private static bool TryScaled(ReadOnlySpan<byte> s, byte mark, out long value, out int scale)
+        {
+            value = 0;
+            scale = -1;
+            var i = 0;
+            var negative = false;
+            if (s.Length > 0 && s[0] == (byte)'-')
+            {
+                negative = true;
+                i = 1;
+            }
+
+            long mantissa = 0;
+            var digits = 0;
+            for (; i < s.Length; i++)
+            {
+                var d = (uint)(s[i] - (byte)'0');
+                if (d <= 9)
+                {
+                    mantissa = (mantissa * 10) + d;
+                    digits++;
+                    if (scale >= 0)
+                    {
+                        scale++;
+                    }
+                }
+                else if (s[i] == mark && scale < 0 && digits > 0)
+                {
+                    scale = 0;
+                }
+                else
+                {
+                    return false;
+                }
+
+                if (digits > 18)
+                {
+                    return false;
+                }
+            }
+
+            // Zero only without a sign (the general reader's "-0" keeps its sign bit).
+            if (digits == 0 || scale == 0 || (mantissa == 0 && negative))
+            {
+                return false;
+            }
+
+            scale = Math.Max(scale, 0);
+            value = negative ? -mantissa : mantissa;
+            return true;
+        }
+    }
+}

@@ -1,0 +1,173 @@
+using System.Globalization;
+
+namespace StudyPress.Data;
+
+/// <summary>What is wrong with a cell's text as a number.</summary>
+internal enum NumberProblem
+{
+    None,
+    NotNumber,
+    NotFinite,
+
+    /// <summary>Not a number with '.' as the decimal mark, but one with ','.</summary>
+    DecimalComma,
+
+    /// <summary>A finite number too large to keep (beyond ±1e300).</summary>
+    TooLarge,
+}
+
+/// <summary>
+/// The number rules every source shares (CSV text, text cells of spreadsheets and databases):
+/// how a cell's text becomes an exact decimal and a double, and how a column is centred by its
+/// exact mean. One place, so the sources cannot drift apart.
+/// </summary>
+internal static class NumberRules
+{
+    private const NumberStyles Style = NumberStyles.AllowLeadingSign | NumberStyles.AllowDecimalPoint | NumberStyles.AllowExponent;
+
+    /// <summary>
+    /// Reads trimmed text as a number. True with the exact decimal and the nearest double; when
+    /// <paramref name="exact"/> is 0 but <paramref name="approx"/> is not, the value is outside
+    /// decimal's range (too small or too large) and only the double is kept.
+    /// </summary>
+    public static bool Parse(string text, char decimalMark, out decimal exact, out double approx, out NumberProblem problem)
+    {
+        exact = 0;
+        approx = 0;
+        problem = NumberProblem.None;
+        var t = text;
+        if (decimalMark == ',')
+        {
+            if (t.Contains('.', StringComparison.Ordinal))
+            {
+                problem = NumberProblem.NotNumber;
+                return false;
+            }
+
+            t = t.Replace(',', '.');
+        }
+
+        if (decimal.TryParse(t, Style, CultureInfo.InvariantCulture, out exact))
+        {
+            approx = double.Parse(t, Style, CultureInfo.InvariantCulture);
+            return true;
+        }
+
+        if (double.TryParse(t, Style, CultureInfo.InvariantCulture, out approx))
+        {
+            if (double.IsNaN(approx) || t.Any(char.IsLetter) && !t.Contains('e', StringComparison.OrdinalIgnoreCase))
+            {
+                problem = NumberProblem.NotFinite;
+                return false;
+            }
+
+            if (double.IsFinite(approx))
+            {
+                // Outside decimal's range but a finite double: keep the double.
+                exact = 0;
+                approx = approx == 0 ? 0 : approx;
+                if (Math.Abs(approx) > 1e300)
+                {
+                    problem = NumberProblem.TooLarge;
+                    return false;
+                }
+
+                return true;
+            }
+
+            problem = NumberProblem.TooLarge;
+            return false;
+        }
+
+        if (double.TryParse(t, NumberStyles.Float, CultureInfo.InvariantCulture, out var special) && !double.IsFinite(special))
+        {
+            problem = NumberProblem.NotFinite;
+            return false;
+        }
+
+        var lower = t.ToLowerInvariant();
+        if (lower is "nan" or "inf" or "-inf" or "+inf" or "infinity" or "-infinity" or "+infinity" or "∞" or "-∞")
+        {
+            problem = NumberProblem.NotFinite;
+            return false;
+        }
+
+        if (decimalMark == '.' && text.Contains(',', StringComparison.Ordinal) &&
+            decimal.TryParse(text.Replace(',', '.'), Style, CultureInfo.InvariantCulture, out _))
+        {
+            problem = NumberProblem.DecimalComma;
+            return false;
+        }
+
+        problem = NumberProblem.NotNumber;
+        return false;
+    }
+
+    /// <summary>
+    /// Centres decimals by their exact mean: <c>centred[i] = (double)(values[i] - centre)</c>.
+    /// Missing cells become NaN (and 0 in the exact values). Falls back to doubles when the sum
+    /// overflows decimal.
+    /// </summary>
+    public static NumericColumn CentreDecimals(string name, decimal[] values, bool[] missing)
+    {
+        decimal sum = 0;
+        var n = 0;
+        try
+        {
+            for (var i = 0; i < values.Length; i++)
+            {
+                if (!missing[i])
+                {
+                    sum += values[i];
+                    n++;
+                }
+            }
+        }
+        catch (OverflowException)
+        {
+            var approx = new double[values.Length];
+            for (var i = 0; i < values.Length; i++)
+            {
+                approx[i] = missing[i] ? double.NaN : (double)values[i];
+            }
+
+            return CentreDoubles(name, approx);
+        }
+
+        var centre = n > 0 ? sum / n : 0m;
+        var centred = new double[values.Length];
+        var raw = new double[values.Length];
+
+        // Element by element (each value on its own), so the work splits over the cores unchanged.
+        const int Block = 1 << 16;
+        Parallel.For(0, (values.Length + Block - 1) / Block, b =>
+        {
+            var end = Math.Min(values.Length, (b + 1) * Block);
+            for (var i = b * Block; i < end; i++)
+            {
+                if (missing[i])
+                {
+                    centred[i] = double.NaN;
+                    raw[i] = double.NaN;
+                    values[i] = 0m;
+                }
+                else
+                {
+                    centred[i] = (double)(values[i] - centre);
+                    raw[i] = (double)values[i];
+                }
+            }
+        });
+
+        return new NumericColumn(name, centred, raw, (double)centre, values.Length - n, ExactValues.Of(values));
+    }
+
+    /// <summary>Centres doubles (NaN = missing) by their mean.</summary>
+    public static NumericColumn CentreDoubles(string name, double[] values)
+    {
+        var present = values.Where(v => !double.IsNaN(v)).ToArray();
+        var centre = present.Length > 0 ? StudyPress.Statistics.Groups.Mean(present) : 0;
+        var centred = values.Select(v => double.IsNaN(v) ? double.NaN : v - centre).ToArray();
+        return new NumericColumn(name, centred, values, centre, values.Length - present.Length, null);
+    }
+}
