@@ -63,50 +63,9 @@ public static class Dunnett
         ArgumentNullException.ThrowIfNull(groups);
         ArgumentNullException.ThrowIfNull(control);
         PostHocInput.Validate(levels, groups, alpha);
-        if (dfResidual < 0)
-        {
-            throw new ArgumentOutOfRangeException(nameof(dfResidual), "negative degrees of freedom");
-        }
 
-        var c0 = PostHocInput.ControlIndex(levels, control);
-        var pairs = PostHocInput.Pairs(levels, control);
-        var n0 = groups[c0].Length;
-        var lambdas = pairs.Select(p => Math.Sqrt(groups[p.A].Length / (double)(groups[p.A].Length + n0))).ToArray();
-        var means = groups.Select(g => Groups.Mean(g)).ToArray();
-        var name = "Dunnett many-to-one comparisons against control " + control;
-
-        var problem = PostHocInput.VarianceProblem(msResidual, dfResidual);
-        var critical = problem is null ? CriticalValueQuantity(alpha, lambdas, dfResidual) : Quantity.Undefined(problem);
-        var df = problem is null ? Quantity.Of(dfResidual) : Quantity.Undefined(problem);
-        var list = new PairwiseComparison[pairs.Count];
-        for (var c = 0; c < pairs.Count; c++)
-        {
-            var (a, b) = pairs[c];
-            var diff = means[a] - means[b];
-            if (problem is not null)
-            {
-                var u = Quantity.Undefined(problem);
-                list[c] = new PairwiseComparison(levels[a], levels[b], diff, u, u, u, u, u, u);
-                continue;
-            }
-
-            var se = Math.Sqrt(msResidual * ((1.0 / groups[a].Length) + (1.0 / n0)));
-            var t = diff / se;
-            var p = Quantity.Of(Math.Min(1.0, UpperProbability(Math.Abs(t), lambdas, dfResidual)));
-            var half = critical.Map(cv => cv * se);
-            list[c] = new PairwiseComparison(
-                levels[a],
-                levels[b],
-                diff,
-                Quantity.Of(se),
-                Quantity.Of(t),
-                half.Map(h => diff - h),
-                half.Map(h => diff + h),
-                p,
-                df);
-        }
-
-        return new PostHocResult(name, alpha, list, critical);
+        // The work is done once, from the groups' counts, means and sums of squares.
+        return PostHocFromSummaries.CompareDunnett(levels, PostHocFromSummaries.Summaries(groups), msResidual, dfResidual, alpha, control);
     }
 
     /// <summary>

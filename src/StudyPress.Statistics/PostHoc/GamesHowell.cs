@@ -28,78 +28,8 @@ public static class GamesHowell
         ArgumentNullException.ThrowIfNull(levels);
         ArgumentNullException.ThrowIfNull(groups);
         Groups.RequireGroups(groups);
-        if (levels.Count != groups.Count)
-        {
-            throw new ArgumentException("levels and groups differ in length", nameof(levels));
-        }
 
-        if (!(alpha > 0 && alpha < 1))
-        {
-            throw new ArgumentOutOfRangeException(nameof(alpha), "alpha must be in (0, 1)");
-        }
-
-        var k = groups.Count;
-        var means = new double[k];
-        var varOverN = new double[k];
-        for (var i = 0; i < k; i++)
-        {
-            var g = groups[i];
-            means[i] = Groups.Mean(g);
-            varOverN[i] = g.Length > 1 ? Groups.SumOfSquares(g, means[i]) / (g.Length - 1) / g.Length : double.NaN;
-        }
-
-        var comparisons = new List<PairwiseComparison>(k * (k - 1) / 2);
-        for (var i = 0; i < k; i++)
-        {
-            for (var j = i + 1; j < k; j++)
-            {
-                var diff = means[i] - means[j];
-                string? reason = null;
-                if (groups[i].Length < 2 || groups[j].Length < 2)
-                {
-                    var one = groups[i].Length < 2 ? levels[i] : levels[j];
-                    reason = "group '" + one + "' has one observation, so its variance is not defined";
-                }
-                else if (!(varOverN[i] + varOverN[j] > 0))
-                {
-                    reason = "both groups have zero variance, so the standard error is zero";
-                }
-
-                if (reason is not null)
-                {
-                    var u = Quantity.Undefined(reason);
-                    comparisons.Add(new PairwiseComparison(levels[i], levels[j], diff, u, u, u, u, u, u));
-                    continue;
-                }
-
-                var a = varOverN[i];
-                var b = varOverN[j];
-                var se2 = a + b;
-                var se = Math.Sqrt(se2);
-                var df = se2 * se2 / ((a * a / (groups[i].Length - 1)) + (b * b / (groups[j].Length - 1)));
-
-                // Mathematically df >= min(n_i, n_j) - 1 >= 1; guard against rounding just below 1.
-                df = Math.Max(df, 1.0);
-                var q = Sqrt2 * Math.Abs(diff) / se;
-                var qCrit = StudentizedRange.UpperQuantile(alpha, k, df);
-                var half = qCrit / Sqrt2 * se;
-                comparisons.Add(new PairwiseComparison(
-                    levels[i],
-                    levels[j],
-                    diff,
-                    Quantity.Of(se),
-                    Quantity.Of(q),
-                    Quantity.Of(diff - half),
-                    Quantity.Of(diff + half),
-                    Quantity.Of(StudentizedRange.Upper(q, k, df)),
-                    Quantity.Of(df)));
-            }
-        }
-
-        return new PostHocResult(
-            "Games-Howell",
-            alpha,
-            comparisons,
-            Quantity.Undefined("the critical value differs per pair (Welch-Satterthwaite degrees of freedom)"));
+        // The work is done once, from the groups' counts, means and sums of squares.
+        return PostHocFromSummaries.CompareGamesHowell(levels, PostHocFromSummaries.Summaries(groups), alpha);
     }
 }

@@ -40,69 +40,8 @@ public static class PooledTTests
         ArgumentNullException.ThrowIfNull(levels);
         ArgumentNullException.ThrowIfNull(groups);
         PostHocInput.Validate(levels, groups, alpha);
-        if (dfResidual < 0)
-        {
-            throw new ArgumentOutOfRangeException(nameof(dfResidual), "negative degrees of freedom");
-        }
 
-        var pairs = PostHocInput.Pairs(levels, control);
-        var m = pairs.Count;
-        var means = groups.Select(g => Groups.Mean(g)).ToArray();
-        var name = string.Concat(
-            "Pairwise t tests on the pooled variance",
-            control is null ? string.Empty : " against control " + control,
-            method == PValueAdjustmentMethod.Holm ? " (Holm)" : " (Bonferroni)");
-
-        var problem = PostHocInput.VarianceProblem(msResidual, dfResidual);
-        Quantity critical;
-        if (problem is null)
-        {
-            critical = Quantity.Of(Probability.TCritical(alpha / m, dfResidual));
-        }
-        else
-        {
-            critical = Quantity.Undefined(problem);
-        }
-
-        var raw = new Quantity[m];
-        var rows = new (double Diff, Quantity Se, Quantity T)[m];
-        for (var c = 0; c < m; c++)
-        {
-            var (a, b) = pairs[c];
-            var diff = means[a] - means[b];
-            if (problem is not null)
-            {
-                rows[c] = (diff, Quantity.Undefined(problem), Quantity.Undefined(problem));
-                raw[c] = Quantity.Undefined(problem);
-                continue;
-            }
-
-            var se = Math.Sqrt(msResidual * ((1.0 / groups[a].Length) + (1.0 / groups[b].Length)));
-            var t = diff / se;
-            rows[c] = (diff, Quantity.Of(se), Quantity.Of(t));
-            raw[c] = Quantity.Of(Probability.TTwoSided(t, dfResidual));
-        }
-
-        var adjusted = PValueAdjustment.Adjust(raw, method);
-        var df = problem is null ? Quantity.Of(dfResidual) : Quantity.Undefined(problem);
-        var list = new PairwiseComparison[m];
-        for (var c = 0; c < m; c++)
-        {
-            var (a, b) = pairs[c];
-            var (diff, se, t) = rows[c];
-            var half = critical.IsDefined && se.IsDefined ? Quantity.Of(critical.Value * se.Value) : critical;
-            list[c] = new PairwiseComparison(
-                levels[a],
-                levels[b],
-                diff,
-                se,
-                t,
-                half.Map(h => diff - h),
-                half.Map(h => diff + h),
-                adjusted[c],
-                df);
-        }
-
-        return new PostHocResult(name, alpha, list, critical);
+        // The work is done once, from the groups' counts, means and sums of squares.
+        return PostHocFromSummaries.ComparePooledT(levels, PostHocFromSummaries.Summaries(groups), msResidual, dfResidual, alpha, method, control);
     }
 }

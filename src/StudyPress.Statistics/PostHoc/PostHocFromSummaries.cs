@@ -14,6 +14,19 @@ namespace StudyPress.Statistics.PostHoc;
 /// </summary>
 public static class PostHocFromSummaries
 {
+    /// <summary>Each group's count, two-pass mean and sum of squared deviations, as the value-based procedures use them.</summary>
+    public static GroupStatistics[] Summaries(IReadOnlyList<double[]> groups)
+    {
+        var result = new GroupStatistics[groups.Count];
+        for (var i = 0; i < groups.Count; i++)
+        {
+            var mean = Groups.Mean(groups[i]);
+            result[i] = new GroupStatistics(groups[i].Length, mean, groups[i].Length > 1 ? Groups.SumOfSquares(groups[i], mean) : 0);
+        }
+
+        return result;
+    }
+
     private const double Sqrt2 = 1.4142135623730950488;
 
     /// <summary>Tukey HSD / Tukey–Kramer; see <see cref="TukeyHsd.Compare"/>.</summary>

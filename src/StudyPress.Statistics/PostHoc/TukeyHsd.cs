@@ -34,76 +34,8 @@ public static class TukeyHsd
         ArgumentNullException.ThrowIfNull(levels);
         ArgumentNullException.ThrowIfNull(groups);
         Groups.RequireGroups(groups);
-        if (levels.Count != groups.Count)
-        {
-            throw new ArgumentException("levels and groups differ in length", nameof(levels));
-        }
 
-        if (!(alpha > 0 && alpha < 1))
-        {
-            throw new ArgumentOutOfRangeException(nameof(alpha), "alpha must be in (0, 1)");
-        }
-
-        var k = groups.Count;
-        var means = new double[k];
-        var equal = true;
-        for (var i = 0; i < k; i++)
-        {
-            means[i] = Groups.Mean(groups[i]);
-            equal &= groups[i].Length == groups[0].Length;
-        }
-
-        string? reason = null;
-        if (dfResidual < 1)
-        {
-            reason = "there are no residual degrees of freedom";
-        }
-        else if (!(msResidual > 0) || !double.IsFinite(msResidual))
-        {
-            reason = msResidual == 0
-                ? "the residual mean square is zero, so the standard errors are zero"
-                : "the residual mean square is not a positive finite number";
-        }
-
-        var method = equal ? "Tukey HSD" : "Tukey-Kramer";
-        var comparisons = new List<PairwiseComparison>(k * (k - 1) / 2);
-        if (reason is not null)
-        {
-            var u = Quantity.Undefined(reason);
-            for (var i = 0; i < k; i++)
-            {
-                for (var j = i + 1; j < k; j++)
-                {
-                    comparisons.Add(new PairwiseComparison(levels[i], levels[j], means[i] - means[j], u, u, u, u, u, dfResidual >= 1 ? Quantity.Of(dfResidual) : u));
-                }
-            }
-
-            return new PostHocResult(method, alpha, comparisons, u);
-        }
-
-        double df = dfResidual;
-        var qCrit = StudentizedRange.UpperQuantile(alpha, k, df);
-        for (var i = 0; i < k; i++)
-        {
-            for (var j = i + 1; j < k; j++)
-            {
-                var diff = means[i] - means[j];
-                var se = Math.Sqrt(msResidual * ((1.0 / groups[i].Length) + (1.0 / groups[j].Length)));
-                var q = Sqrt2 * Math.Abs(diff) / se;
-                var half = qCrit / Sqrt2 * se;
-                comparisons.Add(new PairwiseComparison(
-                    levels[i],
-                    levels[j],
-                    diff,
-                    Quantity.Of(se),
-                    Quantity.Of(q),
-                    Quantity.Of(diff - half),
-                    Quantity.Of(diff + half),
-                    Quantity.Of(StudentizedRange.Upper(q, k, df)),
-                    Quantity.Of(df)));
-            }
-        }
-
-        return new PostHocResult(method, alpha, comparisons, Quantity.Of(qCrit));
+        // The work is done once, from the groups' counts, means and sums of squares.
+        return PostHocFromSummaries.CompareTukey(levels, PostHocFromSummaries.Summaries(groups), msResidual, dfResidual, alpha);
     }
 }
