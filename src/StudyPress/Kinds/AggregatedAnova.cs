@@ -156,31 +156,7 @@ public static class AggregatedAnova
         outcome.Factors = block.Factors;
         var inputs = context.Inputs(block);
         var centre = ds.Aggregate!.Centres[block.Response!];
-        foreach (var t in result.Terms)
-        {
-            var values = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
-            void Add(string stat, Quantity q) => values[stat] = context.Results.Add(block.Id, "anova", t.Name, null, null, stat, q, inputs);
-            Add("ss", Quantity.Of(t.SumOfSquares));
-            Add("df", Quantity.Of(t.Df));
-            Add("ms", t.MeanSquare);
-            Add("f", t.F);
-            Add("p", t.P);
-            Add("f_crit", t.FCritical);
-            Add("eta2", t.EtaSquared);
-            Add("partial_eta2", t.PartialEtaSquared);
-            Add("omega2", t.OmegaSquared);
-            Add("cohen_f", t.CohenF);
-            var ci = EffectSizeIntervals.PartialEtaSquared(t.F, t.Df, result.ResidualDf, 1 - context.Header.Alpha);
-            Add("partial_eta2_ci_low", ci.PartialEtaSquaredLow);
-            Add("partial_eta2_ci_high", ci.PartialEtaSquaredHigh);
-            outcome.Terms.Add((t, values));
-        }
-
-        outcome.Residual["ss"] = context.Results.Add(block.Id, "anova", "residual", null, null, "ss", result.ResidualSumOfSquares, inputs);
-        outcome.Residual["df"] = context.Results.Add(block.Id, "anova", "residual", null, null, "df", result.ResidualDf, inputs);
-        outcome.Residual["ms"] = context.Results.Add(block.Id, "anova", "residual", null, null, "ms", result.ResidualMeanSquare, inputs);
-        outcome.Total["ss"] = context.Results.Add(block.Id, "anova", "total", null, null, "ss", result.TotalSumOfSquares, inputs);
-        outcome.Total["df"] = context.Results.Add(block.Id, "anova", "total", null, null, "df", result.TotalDf, inputs);
+        AnovaKind.RecordTable(context, block, result.Terms, result.ResidualSumOfSquares, result.ResidualDf, result.ResidualMeanSquare, result.TotalSumOfSquares, result.TotalDf, inputs, outcome.Terms, outcome.Residual, outcome.Total);
 
         // Level means (each factor's levels, pooled over the other factors).
         for (var k = 0; k < block.Factors.Count; k++)

@@ -171,31 +171,7 @@ public sealed class AnovaKind : BlockKind
         var result = FactorialAnova.Fit(input);
         outcome.Result = result;
         var inputs = context.Inputs(block);
-        foreach (var t in result.Terms)
-        {
-            var values = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
-            void Add(string stat, Quantity q) => values[stat] = context.Results.Add(block.Id, "anova", t.Name, null, null, stat, q, inputs);
-            Add("ss", Quantity.Of(t.SumOfSquares));
-            Add("df", Quantity.Of(t.Df));
-            Add("ms", t.MeanSquare);
-            Add("f", t.F);
-            Add("p", t.P);
-            Add("f_crit", t.FCritical);
-            Add("eta2", t.EtaSquared);
-            Add("partial_eta2", t.PartialEtaSquared);
-            Add("omega2", t.OmegaSquared);
-            Add("cohen_f", t.CohenF);
-            var ci = EffectSizeIntervals.PartialEtaSquared(t.F, t.Df, result.ResidualDf, 1 - context.Header.Alpha);
-            Add("partial_eta2_ci_low", ci.PartialEtaSquaredLow);
-            Add("partial_eta2_ci_high", ci.PartialEtaSquaredHigh);
-            outcome.Terms.Add((t, values));
-        }
-
-        outcome.Residual["ss"] = context.Results.Add(block.Id, "anova", "residual", null, null, "ss", result.ResidualSumOfSquares, inputs);
-        outcome.Residual["df"] = context.Results.Add(block.Id, "anova", "residual", null, null, "df", result.ResidualDf, inputs);
-        outcome.Residual["ms"] = context.Results.Add(block.Id, "anova", "residual", null, null, "ms", result.ResidualMeanSquare, inputs);
-        outcome.Total["ss"] = context.Results.Add(block.Id, "anova", "total", null, null, "ss", result.TotalSumOfSquares, inputs);
-        outcome.Total["df"] = context.Results.Add(block.Id, "anova", "total", null, null, "df", result.TotalDf, inputs);
+        AnovaKind.RecordTable(context, block, result.Terms, result.ResidualSumOfSquares, result.ResidualDf, result.ResidualMeanSquare, result.TotalSumOfSquares, result.TotalDf, inputs, outcome.Terms, outcome.Residual, outcome.Total);
 
         if (outcome.Transformed?.BoxCox is { } bc)
         {
@@ -223,6 +199,52 @@ public sealed class AnovaKind : BlockKind
         }
 
         return outcome;
+    }
+
+    /// <summary>
+    /// Records an ANOVA table in the manifest: per term SS, df, MS, F, p, critical F, effect sizes
+    /// and the (1 − alpha) interval of partial eta²; residual SS, df, MS; total SS, df. Shared by
+    /// fits on loaded rows and on database cell summaries, so both write the same vocabulary.
+    /// </summary>
+    internal static void RecordTable(
+        EvaluationContext context,
+        BoundBlock block,
+        IReadOnlyList<AnovaTerm> terms,
+        double ssResidual,
+        int dfResidual,
+        Quantity msResidual,
+        double ssTotal,
+        int dfTotal,
+        IReadOnlyList<string> inputs,
+        List<(AnovaTerm Term, Dictionary<string, ResultValue> Values)> termValues,
+        Dictionary<string, ResultValue> residual,
+        Dictionary<string, ResultValue> total)
+    {
+        foreach (var t in terms)
+        {
+            var values = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
+            void Add(string stat, Quantity q) => values[stat] = context.Results.Add(block.Id, "anova", t.Name, null, null, stat, q, inputs);
+            Add("ss", Quantity.Of(t.SumOfSquares));
+            Add("df", Quantity.Of(t.Df));
+            Add("ms", t.MeanSquare);
+            Add("f", t.F);
+            Add("p", t.P);
+            Add("f_crit", t.FCritical);
+            Add("eta2", t.EtaSquared);
+            Add("partial_eta2", t.PartialEtaSquared);
+            Add("omega2", t.OmegaSquared);
+            Add("cohen_f", t.CohenF);
+            var ci = EffectSizeIntervals.PartialEtaSquared(t.F, t.Df, dfResidual, 1 - context.Header.Alpha);
+            Add("partial_eta2_ci_low", ci.PartialEtaSquaredLow);
+            Add("partial_eta2_ci_high", ci.PartialEtaSquaredHigh);
+            termValues.Add((t, values));
+        }
+
+        residual["ss"] = context.Results.Add(block.Id, "anova", "residual", null, null, "ss", ssResidual, inputs);
+        residual["df"] = context.Results.Add(block.Id, "anova", "residual", null, null, "df", dfResidual, inputs);
+        residual["ms"] = context.Results.Add(block.Id, "anova", "residual", null, null, "ms", msResidual, inputs);
+        total["ss"] = context.Results.Add(block.Id, "anova", "total", null, null, "ss", ssTotal, inputs);
+        total["df"] = context.Results.Add(block.Id, "anova", "total", null, null, "df", dfTotal, inputs);
     }
 
     private static string DataDisplay(EvaluationContext context, BlockData data) =>
