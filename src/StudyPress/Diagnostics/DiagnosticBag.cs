@@ -355,6 +355,8 @@ public sealed class DiagnosticBag
     // ---- output (SP06xx) ----
     public void CannotWrite(SourceLocation at, string path, string reason) => Error("SP0601", at, $"cannot write {Q(path)}: {reason}");
 
+    public void BadStudyId(SourceLocation at, string id) => Error("SP0603", at, $"study id {Q(id)} must start with a letter and use only letters, digits, '_' and '-' (it names the study's figure files)");
+
     public void CannotPin(SourceLocation at, string name, string why) =>
         Error("SP0602", at, $"cannot pin the hash of {Q(name)}: {why}; write it as a map with 'path' and 'sha256'");
 
