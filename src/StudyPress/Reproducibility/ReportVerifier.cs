@@ -38,11 +38,13 @@ public sealed record Verdict(Freshness State, string? Detail)
 }
 
 /// <summary>
-/// Checks a report against the files it was built from. Fresh: the study file, every input
-/// (paths relative to the study file) and the template hash to what the manifest records and the
-/// tool version is the same. With recomputation it also rebuilds the report in memory: the
-/// values must be the same, each visible number (elements with <c>data-v</c>) must be its
-/// manifest value as the report's number format rounds it, and the bytes must be identical.
+/// Checks a report against the files it was built from and against what the writer emits.
+/// Stale: the study file, an input (regular files only; paths relative to the study file), the
+/// template or the tool version differ from what the manifest records. Altered: the page is not
+/// StudyPress's (structure, policy, scripts, one manifest in its place), the manifest's inputs
+/// are not the study's datasets, or a visible number (<c>data-v</c>) or input row count is not
+/// its manifest value as the report's number format rounds it. With recomputation it also
+/// rebuilds the report in memory: the values must be the same and the bytes identical.
 /// </summary>
 public static partial class ReportVerifier
 {
