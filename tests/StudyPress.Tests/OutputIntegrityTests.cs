@@ -375,3 +375,67 @@ public sealed partial class OutputIntegrityTests
         Assert.Equal((2, string.Empty, "study.html:1:1: error: the recorded file 'data/protein.csv' is a named pipe (FIFO), not a regular file; verify hashes regular files only\n"), await verify);
     }
 }
+
+/// <summary>Item 6: user-supplied names with directional controls cannot reorder the numbers around them.</summary>
+[Collection("cli")]
+public sealed class BidiIsolationTests
+{
+    private const string Rlo = "\u202E";
+
+    [Theory]
+    [InlineData("left" + Rlo + "over")]
+    [InlineData("\u05E9\u05DC\u05D5\u05DD")]
+    public void Report_LevelNameWithOverrideOrRightToLeftLetters_IsIsolatedEverywhere(string level)
+    {
+        var csv = new System.Text.StringBuilder("plot,dose,y\n");
+        var values = new[] { ("low", new[] { 1.0, 2.0, 1.5, 1.8 }), (level, new[] { 6.5, 7.0, 6.4, 6.9 }), ("high", new[] { 5.5, 6.0, 5.1, 5.6 }) };
+        var plot = 0;
+        foreach (var (name, ys) in values)
+        {
+            foreach (var y in ys)
+            {
+                csv.Append(System.Globalization.CultureInfo.InvariantCulture, $"{++plot},{name},{y}\n");
+            }
+        }
+
+        var study = "---\ntitle: Bidi\ndata: data.csv\nresponse: y\nfactors:\n  dose:\n---\n\n"
+            + "```summary s\n```\n\n```anova main\n```\n\n```posthoc ph\n```\n\n```methods m\n```\n";
+        using var run = new StudyRun().Study(study).File("data.csv", csv.ToString());
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        var html = result.Html!;
+        var page = html[..ReportManifest.FromHtml(html, out _)!.ElementOffset];
+
+        // Every occurrence of the name in the page (HTML text, attributes, SVG text and
+        // descriptions) opens an isolate right before it, and that isolate closes right after
+        // the name (its own override closed first): no digit, sign or word of ours is inside.
+        var isolated = "\u2068" + level + (level.Contains(Rlo, StringComparison.Ordinal) ? "\u202C" : string.Empty) + "\u2069";
+        var occurrences = 0;
+        var bare = new List<string>();
+        for (var at = page.IndexOf(level, StringComparison.Ordinal); at >= 0; at = page.IndexOf(level, at + level.Length, StringComparison.Ordinal))
+        {
+            occurrences++;
+            if (string.CompareOrdinal(page, at - 1, isolated, 0, isolated.Length) != 0)
+            {
+                bare.Add("…" + page[Math.Max(0, at - 50)..Math.Min(page.Length, at + level.Length + 30)] + "…");
+            }
+        }
+
+        Assert.True(bare.Count == 0, "not isolated:\n" + string.Join("\n", bare));
+
+        Assert.True(occurrences >= 5, $"the name occurs only {occurrences} time(s); the test would prove little");
+
+        // In HTML text content the isolate is also a bdi element.
+        Assert.Contains("<bdi>" + isolated + "</bdi>", page, StringComparison.Ordinal);
+    }
+
+    [Theory]
+    [InlineData("plain", "plain")]
+    [InlineData("a\u202Eb", "\u2068a\u202Eb\u202C\u2069")]
+    [InlineData("a\u2069\u202Eb", "\u2068a\uFFFD\u202Eb\u202C\u2069")]
+    [InlineData("a\u2067b\u202Cc", "\u2068a\u2067b\uFFFDc\u2069\u2069")]
+    public void Isolate_ClosesWhatTheNameOpensAndNeutralisesStrayPops(string name, string expected)
+    {
+        Assert.Equal(expected, StudyPress.Charts.BidiText.Isolate(name));
+    }
+}
