@@ -126,7 +126,7 @@ public static class Compilation
             {
                 diagnostics.BadReferenceSyntax(r.Location, r.Text, error!);
             }
-            else if (!primary.ContainsKey(parts[0]) && !syntax.Blocks.Any(b => b.Id == parts[0]))
+            else if (!primary.ContainsKey(parts[0]) && !syntax.Blocks.Any(b => b.Id == parts[0]) && !syntax.FailedIds.Contains(parts[0]))
             {
                 diagnostics.UnknownBlockReference(r.Location, parts[0], DiagnosticBag.Nearest(parts[0], primary.Keys));
             }
@@ -238,12 +238,12 @@ public static class Compilation
 
             foreach (var f in b.Factors)
             {
-                n.Factors.TryAdd(f.Name, (f, f.Location));
+                n.Factors.TryAdd(f.Name, (f, f.ColumnLocation));
             }
 
             foreach (var w in b.Where)
             {
-                n.Factors.TryAdd(w.Factor.Name, (w.Factor, w.Location));
+                n.Factors.TryAdd(w.Factor.Name, (w.Factor, w.Factor.ColumnLocation));
             }
 
             if (header.Order is { } order && b.Kind is AnovaKind)

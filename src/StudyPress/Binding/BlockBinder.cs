@@ -19,6 +19,7 @@ internal static class BlockBinder
         var ids = new Dictionary<string, int>(StringComparer.Ordinal);
         var owners = new Dictionary<string, AnalysisBlockSyntax>(StringComparer.Ordinal);
         var counters = new Dictionary<string, int>(StringComparer.Ordinal);
+        var failed = new HashSet<string>(syntax.FailedIds, StringComparer.Ordinal);
         if (syntax.Blocks.Count > MaxBlocks)
         {
             diagnostics.TooManyBlocks(syntax.Blocks[MaxBlocks].Location, MaxBlocks);
@@ -58,15 +59,25 @@ internal static class BlockBinder
                 ids[id] = b.Location.Line;
             }
 
-            if (b.Body is null || (b.Id is not null && owners.GetValueOrDefault(b.Id) != b))
+            if (b.Body is null)
+            {
+                failed.Add(id); // its YAML mistake is reported
+                continue;
+            }
+
+            if (b.Id is not null && owners.GetValueOrDefault(b.Id) != b)
             {
                 continue;
             }
 
-            var bound = BindOne(b, id, kind, new BindContext(header, blocks, b, owners), diagnostics);
+            var bound = BindOne(b, id, kind, new BindContext(header, blocks, b, owners) { Failed = failed }, diagnostics);
             if (bound is not null)
             {
                 blocks.Add(bound);
+            }
+            else
+            {
+                failed.Add(id);
             }
         }
 

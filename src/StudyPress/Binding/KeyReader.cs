@@ -136,12 +136,17 @@ public sealed class KeyReader
     }
 
     /// <summary>A list of scalars; a single scalar is taken as a list of one.</summary>
-    public IReadOnlyList<YScalar>? ScalarList(string key)
+    /// <param name="textMayHaveCommas">False where a comma in a single text surely means a list written as text.</param>
+    public IReadOnlyList<YScalar>? ScalarList(string key, bool textMayHaveCommas = false)
     {
         var node = map[key];
         switch (node)
         {
             case null or YScalar { IsNull: true }:
+                return null;
+            case YScalar s when !textMayHaveCommas && s.Value.Contains(',', StringComparison.Ordinal):
+                // "A, B, C" is one text, not three items: say how to write the list.
+                diagnostics.ListWrittenAsText(s.Location, key, s.Value);
                 return null;
             case YScalar s:
                 return [s];

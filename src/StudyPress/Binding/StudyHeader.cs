@@ -64,6 +64,9 @@ public sealed record FactorSpec(
     SourceLocation Location)
 {
     public string Display => Label ?? Name;
+
+    /// <summary>Where the column is named: the factor's <c>column:</c> value, or the factor's key when it names its own column.</summary>
+    public SourceLocation ColumnLocation { get; init; } = Location;
 }
 
 /// <summary>Presentation options; <paramref name="Figures"/> false stops kinds from placing their figures.</summary>
@@ -105,6 +108,12 @@ internal static class HeaderBinder
 
     public static StudyHeader Bind(YMapping map, string studyPath, DiagnosticBag diagnostics)
     {
+        // Keys written one level too shallow are the commonest indentation mistake; report each
+        // once, where the indentation must change, and bind as if it were right so that nothing
+        // else is reported about it.
+        map = Reindent(map, e => e.Key.Value is "data" or "factors" ? key => !Keys.Contains(key) : null, diagnostics);
+        map = ReindentChild(map, "data", DatasetKeys, diagnostics);
+        map = ReindentChild(map, "factors", FactorKeys, diagnostics);
         var r = new KeyReader(map, "the header", Keys, diagnostics);
         var titleNode = r.Scalar("title");
         var title = titleNode?.Value ?? string.Empty;
@@ -118,7 +127,7 @@ internal static class HeaderBinder
         }
 
         var id = r.String("id") ?? Path.GetFileNameWithoutExtension(studyPath);
-        var authors = r.ScalarList("authors")?.Select(a => a.Value).ToList() ?? [];
+        var authors = r.ScalarList("authors", textMayHaveCommas: true)?.Select(a => a.Value).ToList() ?? [];
 
         var alpha = 0.05;
         if (r.Scalar("alpha") is { } alphaNode)
@@ -235,6 +244,57 @@ internal static class HeaderBinder
             orderNode?.Location ?? map.Location,
             new ReportOptions(digits, pDigits, figures) { RawHtml = rawHtml },
             map.Location);
+    }
+
+    /// <summary>
+    /// Finds an entry with no value followed by entries that belong under it (by
+    /// <paramref name="opener"/>), reports the first of those once and returns the map with them
+    /// moved under the entry.
+    /// </summary>
+    private static YMapping Reindent(YMapping map, Func<YEntry, Func<string, bool>?> opener, DiagnosticBag diagnostics)
+    {
+        var entries = new List<YEntry>();
+        var changed = false;
+        for (var i = 0; i < map.Entries.Count; i++)
+        {
+            var e = map.Entries[i];
+            if (e.Value is YScalar { IsNull: true } && opener(e) is { } belongs)
+            {
+                var j = i + 1;
+                while (j < map.Entries.Count && belongs(map.Entries[j].Key.Value))
+                {
+                    j++;
+                }
+
+                if (j > i + 1)
+                {
+                    var first = map.Entries[i + 1].Key;
+                    diagnostics.IndentUnder(first.Location, first.Value, e.Key.Value);
+                    entries.Add(new YEntry(e.Key, new YMapping([.. map.Entries.Skip(i + 1).Take(j - i - 1)], first.Location)));
+                    i = j - 1;
+                    changed = true;
+                    continue;
+                }
+            }
+
+            entries.Add(e);
+        }
+
+        return changed ? new YMapping(entries, map.Location) : map;
+    }
+
+    /// <summary>The same, inside the map under <paramref name="key"/> (a dataset's or a factor's own keys).</summary>
+    private static YMapping ReindentChild(YMapping map, string key, string[] childKeys, DiagnosticBag diagnostics)
+    {
+        if (map[key] is not YMapping inner)
+        {
+            return map;
+        }
+
+        var fixedInner = Reindent(inner, e => childKeys.Contains(e.Key.Value) ? null : k => childKeys.Contains(k), diagnostics);
+        return ReferenceEquals(fixedInner, inner)
+            ? map
+            : new YMapping([.. map.Entries.Select(e => e.Key.Value == key ? new YEntry(e.Key, fixedInner) : e)], map.Location);
     }
 
     internal static bool IsName(string s) =>
@@ -487,6 +547,10 @@ internal static class HeaderBinder
             }
         }
 
-        return new FactorSpec(name, r.String("column") ?? name, levels, levelNodes?.Select(l => l.Location).ToList() ?? [], r.String("label"), e.Key.Location);
+        var columnNode = r.Scalar("column");
+        return new FactorSpec(name, r.String("column") ?? name, levels, levelNodes?.Select(l => l.Location).ToList() ?? [], r.String("label"), e.Key.Location)
+        {
+            ColumnLocation = columnNode?.Location ?? e.Key.Location,
+        };
     }
 }

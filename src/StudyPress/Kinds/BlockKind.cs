@@ -46,6 +46,15 @@ public abstract class BlockKind
 public sealed record BindContext(StudyHeader Header, IReadOnlyList<BoundBlock> Earlier, Syntax.AnalysisBlockSyntax Syntax, IReadOnlyDictionary<string, Syntax.AnalysisBlockSyntax> AllIds)
 {
     /// <summary>
+    /// Ids of blocks that failed to parse or bind (their mistake is already reported): a block
+    /// that names one fails quietly, so one mistake gives one message.
+    /// </summary>
+    public IReadOnlySet<string> Failed { get; init; } = new HashSet<string>(StringComparer.Ordinal);
+
+    /// <summary>Whether a failed anova block (or a block whose kind was misspelt) stands above this one.</summary>
+    private bool FailedAbove => Failed.Any(id => !AllIds.TryGetValue(id, out var b) || (b.Location.Line < Syntax.Location.Line && b.Kind == "anova"));
+
+    /// <summary>
     /// Resolves an <c>of</c> key to an anova block above this one (default: the nearest above).
     /// </summary>
     public BoundBlock? AnovaOf(KeyReader keys, string kindName, DiagnosticBag diagnostics)
@@ -54,6 +63,11 @@ public sealed record BindContext(StudyHeader Header, IReadOnlyList<BoundBlock> E
         if (keys.Scalar("of") is { } of)
         {
             var target = Earlier.FirstOrDefault(b => b.Id == of.Value);
+            if (target is null && Failed.Contains(of.Value))
+            {
+                return null;
+            }
+
             if (target is null)
             {
                 if (AllIds.TryGetValue(of.Value, out var later) && later.Location.Line > Syntax.Location.Line)
@@ -75,6 +89,11 @@ public sealed record BindContext(StudyHeader Header, IReadOnlyList<BoundBlock> E
             }
 
             return target;
+        }
+
+        if (anovas.Count == 0 && FailedAbove)
+        {
+            return null;
         }
 
         if (anovas.Count == 0)
