@@ -60,7 +60,7 @@ public sealed partial class DiagnosticsTests
         { "ragged row with too many fields", Study(), "plot,dose,y\n1,a,1\n2,b,2,9\n3,b,2\n", "data.csv:3:1: error: this row has 4 fields but the header line has 3" },
         { "unterminated quote in the last row", Study(), "plot,dose,y\n1,a,1\n2,b,\"2\n", "data.csv:3:5: error: a quoted field is not closed" },
         { "blank column name", Study(), "plot,,y\n1,a,1\n", "data.csv:1:6: error: column 2 of the header line has no name\nstudy.md:6:3: error: column 'dose' is not in 'data.csv'" },
-        { "factor column missing", "---\ntitle: T\ndata: data.csv\nresponse: y\nfactors:\n  dose:\n    column: dosage\n---\n\n```anova\n```\n", Csv, "study.md:6:3: error: column 'dosage' is not in 'data.csv'; did you mean 'dose'?" },
+        { "factor column missing", "---\ntitle: T\ndata: data.csv\nresponse: y\nfactors:\n  dose:\n    column: dosage\n---\n\n```anova\n```\n", Csv, "study.md:7:13: error: column 'dosage' is not in 'data.csv'; did you mean 'dose'?" },
         { "block response column missing", Study(body: "```anova main\nresponse: yield\n```\n"), Csv, "study.md:10:11: error: column 'yield' is not in 'data.csv'" },
         { "every response missing", Study(), "plot,dose,y\n1,a,NA\n2,a,NA\n3,b,NA\n", "study.md:9:1: error: no rows are left after dropping missing values and applying 'where'" },
         { "empty group after where", Study(body: "```anova main\nwhere:\n  dose: [a, b]\n```\n"), "plot,dose,y\n1,a,1\n2,a,2\n3,b,NA\n4,b,NA\n5,c,3\n6,c,4\n", "study.md:9:1: error: factor 'dose' has 1 level(s) with data here; a comparison needs at least 2" },

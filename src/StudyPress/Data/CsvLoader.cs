@@ -176,7 +176,7 @@ public static class CsvLoader
         var seenNames = factorCols.Select(_ => new List<string>()).ToArray();
         var seenDeclared = factorCols.Select(_ => new List<bool>()).ToArray();
         var strays = factorCols.Select(_ => new Dictionary<int, LevelRules.Stray>()).ToArray();
-        var cellProblems = new Dictionary<(int Column, NumberProblem Problem), CellProblem>();
+        var cellProblems = new Dictionary<(int Column, NumberProblem Problem), List<CellProblem>>();
         CellProblem? ragged = null;
         var raggedDecimalComma = false;
         var missing = new HashSet<string>(spec.Missing, StringComparer.Ordinal).GetAlternateLookup<ReadOnlySpan<char>>();
@@ -293,13 +293,18 @@ public static class CsvLoader
                 // One message per column and kind of problem (the first cell, with a count), and the
                 // decimal-comma hint once per file.
                 var kindKey = problem == NumberProblem.DecimalComma ? (-1, problem) : (c, problem);
-                if (cellProblems.TryGetValue(kindKey, out var known))
+                if (!cellProblems.TryGetValue(kindKey, out var known))
                 {
-                    known.Count++;
+                    cellProblems[kindKey] = known = [];
+                }
+
+                if (known.Count <= MaxCellsListed)
+                {
+                    known.Add(new CellProblem(CellLocation(displayPath, line, raw, numericCols[c].Index, spec.Delimiter), cellText, numericCols[c].Name));
                 }
                 else
                 {
-                    cellProblems[kindKey] = new CellProblem(CellLocation(displayPath, line, raw, numericCols[c].Index, spec.Delimiter), cellText, numericCols[c].Name);
+                    known[0].Count++;
                 }
             }
 
@@ -359,10 +364,29 @@ public static class CsvLoader
 
         if (ragged is not null)
         {
-            diagnostics.RaggedRow(ragged.At, int.Parse(ragged.Text, CultureInfo.InvariantCulture), expected, ragged.Count, raggedDecimalComma);
+            // Decimal commas make most rows too wide; one odd row is just an odd row.
+            var systematic = ragged.Count >= 2 && ragged.Count * 2 >= rows;
+            diagnostics.RaggedRow(ragged.At, int.Parse(ragged.Text, CultureInfo.InvariantCulture), expected, ragged.Count, raggedDecimalComma && systematic);
         }
 
-        foreach (var ((_, problem), p) in cellProblems.OrderBy(e => e.Value.At.Line).ThenBy(e => e.Value.At.Column))
+        // A few bad cells are reported each at its place; more than that in one column is one
+        // mistake (a text column, another missing-value mark): one message with a count. The
+        // decimal-comma hint is given once per file.
+        var problemMessages = new List<(NumberProblem Problem, CellProblem Cell)>();
+        foreach (var ((_, problem), list) in cellProblems)
+        {
+            if (list.Count > MaxCellsListed || problem == NumberProblem.DecimalComma)
+            {
+                list[0].Count += list.Count - 1;
+                problemMessages.Add((problem, list[0]));
+            }
+            else
+            {
+                problemMessages.AddRange(list.Select(p => (problem, p)));
+            }
+        }
+
+        foreach (var (problem, p) in problemMessages.OrderBy(e => e.Cell.At.Line).ThenBy(e => e.Cell.At.Column))
         {
             switch (problem)
             {
@@ -420,6 +444,9 @@ public static class CsvLoader
     /// <summary>Test hook (this thread): whether the last load on this thread took the byte-level reader.</summary>
     [ThreadStatic]
     internal static bool LastLoadWasFast;
+
+    /// <summary>Bad numeric cells of one kind in one column reported one by one; more make one message.</summary>
+    private const int MaxCellsListed = 3;
 
     /// <summary>A kind of bad numeric cell in one column: the first such cell and how many there are.</summary>
     private sealed class CellProblem(SourceLocation at, string text, string column)
