@@ -109,7 +109,8 @@ public sealed class DiagnosticBag
     public void UnknownKind(SourceLocation at, string kind, string suggestion) =>
         Error("SP0120", at, $"unknown analysis kind {Q(kind)}; did you mean {Q(suggestion)}?");
 
-    public void NoBlocks(SourceLocation at) => Error("SP0112", at, "the study has no analysis blocks; add one after the header, for example a fenced block ```summary```");
+    public void NoBlocks(SourceLocation at) =>
+        Add(new Diagnostic(Severity.Warning, "SP0112", "the study has no analysis blocks yet, so the report shows only its text and data; add one after the header, for example a fenced block ```summary```", at));
 
     // ---- header and blocks (SP02xx) ----
     public void UnknownKey(SourceLocation at, string key, string where, string? suggestion) =>
@@ -361,6 +362,9 @@ public sealed class DiagnosticBag
     public void UnclosedReference(SourceLocation at) => Error("SP0404", at, "a reference '{{' is not closed with '}}'");
 
     public void UndefinedReference(SourceLocation at, string text, string reason) => Error("SP0405", at, $"reference {Q(text)} has no value: {reason}");
+
+    public void FunctionOnNonValue(SourceLocation at, string function, string written, string path, string what, string? example) =>
+        Error("SP0409", at, $"{Q(function)} formats one value, but {Q(path)} names {what}; add the statistic to the path{(example is null ? string.Empty : $", for example {{{{ {example} | {written} }}}}")}");
 
     public void UnknownBlockReference(SourceLocation at, string id, string? suggestion) => Error("SP0406", at, $"no block with id {Q(id)}{Suggest(suggestion)}");
 

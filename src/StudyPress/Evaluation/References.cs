@@ -277,6 +277,13 @@ public static class References
             return ResolveResult(reference, expression, results, primary, alpha, diagnostics);
         }
 
+        if (function is not null && NotAValue(parts, results) is { } what)
+        {
+            var written = reference.Text[(reference.Text.IndexOf('|', StringComparison.Ordinal) + 1)..].Trim();
+            diagnostics.FunctionOnNonValue(reference.Location, function.Name, written, string.Join(".", parts), what, Example(parts, results));
+            return null;
+        }
+
         var value = ResolveValue(reference, parts, results, primary, diagnostics);
         if (value is null || function is null)
         {
@@ -380,6 +387,32 @@ public static class References
         var members = Sentences.Group(results, groups[0]).Values;
         var anchor = members.FirstOrDefault(v => !v.Value.IsDefined) ?? groups[0];
         return new ResolvedReference(anchor, html, null);
+    }
+
+    /// <summary>"a block" or "a term" when a formatting function is applied to a path that names no single value; else null.</summary>
+    private static string? NotAValue(IReadOnlyList<string> parts, ResultSet results)
+    {
+        if (parts.Count == 1)
+        {
+            return "a block";
+        }
+
+        var last = parts[^1];
+        var ofBlock = results.Values.Where(v => v.Block == parts[0]);
+        return ofBlock.Any(v => v.Stat == last) || !ofBlock.Any(v => v.Term == last || v.Level == last || v.Test == last)
+            ? null
+            : ofBlock.Any(v => v.Term == last) ? "a term" : ofBlock.Any(v => v.Level == last) ? "a level" : "a test";
+    }
+
+    /// <summary>A value path that starts like <paramref name="parts"/>, to show as an example.</summary>
+    private static string? Example(IReadOnlyList<string> parts, ResultSet results)
+    {
+        var prefix = parts.Skip(1).ToList();
+        return results.Values
+            .Where(v => v.Block == parts[0])
+            .Where(v => prefix.Count == 0 || v.Term == prefix[^1] || v.Level == prefix[^1] || v.Test == prefix[^1])
+            .Select(PathOf)
+            .FirstOrDefault();
     }
 
     private static ResultValue? ResolveValue(ReferenceInline reference, IReadOnlyList<string> parts, ResultSet results, string primary, DiagnosticBag diagnostics)
