@@ -262,6 +262,16 @@ public static class Compilation
             }
         }
 
+        // With one dataset, every declared factor is checked against it (column present, levels
+        // declared), even one no block uses yet: a misspelt column must not pass silently.
+        if (header.Datasets is [{ Aggregate: false } only])
+        {
+            foreach (var f in header.Factors)
+            {
+                needs[only.Name].Factors.TryAdd(f.Name, (f, f.ColumnLocation));
+            }
+        }
+
         var loaded = new Dictionary<string, LoadedDataset>(StringComparer.Ordinal);
         var studyFolder = Path.GetDirectoryName(display);
         foreach (var spec in header.Datasets)

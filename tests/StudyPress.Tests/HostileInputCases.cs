@@ -45,8 +45,6 @@ public sealed partial class DiagnosticsTests
         { "nested too deeply", "---\ntitle: T\ndata: data.csv\nx: " + new string('[', 100) + new string(']', 100) + "\n---\n", Csv, "study.md:4:68: error: the YAML is nested too deeply" },
         { "empty study", "", Csv, "study.md:1:1: error: the study file is empty; it must start with a YAML header between '---' lines" },
         { "blank study", "  \n\n", Csv, "study.md:1:1: error: the study file is empty; it must start with a YAML header between '---' lines" },
-        { "only a header", "---\ntitle: T\ndata: data.csv\nresponse: y\n---\n", Csv, "study.md:5:1: error: the study has no analysis blocks; add one after the header, for example a fenced block ```summary```" },
-        { "header and prose only", "---\ntitle: T\ndata: data.csv\n---\n\nSome prose.\n", Csv, "study.md:4:1: error: the study has no analysis blocks; add one after the header, for example a fenced block ```summary```" },
         { "unclosed analysis block", Study(body: "```anova main\nwelch: yes\n\nProse swallowed by the block.\n"), Csv, "study.md:9:1: error: the anova block is not closed; add a line ``` after its body" },
         { "very long header line", "---\ntitle: " + LongTitle + "\ndata: data.csv\nrespons: y\n---\n", Csv, "study.md:4:1: error: unknown key 'respons' in the header; did you mean 'response'?" },
         { "very long prose line", Study(body: "```anova main\n```\n\n" + LongProse + "{{ main.dose.fx }}\n"), Csv, "study.md:12:2000001: error: unknown reference 'main.dose.fx'; did you mean 'main.dose.f'?" },

@@ -20,6 +20,7 @@ internal static class BlockBinder
         var owners = new Dictionary<string, AnalysisBlockSyntax>(StringComparer.Ordinal);
         var counters = new Dictionary<string, int>(StringComparer.Ordinal);
         var failed = new HashSet<string>(syntax.FailedIds, StringComparer.Ordinal);
+        var reported = new HashSet<string>(StringComparer.Ordinal);
         if (syntax.Blocks.Count > MaxBlocks)
         {
             diagnostics.TooManyBlocks(syntax.Blocks[MaxBlocks].Location, MaxBlocks);
@@ -70,7 +71,7 @@ internal static class BlockBinder
                 continue;
             }
 
-            var bound = BindOne(b, id, kind, new BindContext(header, blocks, b, owners) { Failed = failed }, diagnostics);
+            var bound = BindOne(b, id, kind, new BindContext(header, blocks, b, owners) { Failed = failed, ReportedNames = reported }, diagnostics);
             if (bound is not null)
             {
                 blocks.Add(bound);
@@ -133,7 +134,7 @@ internal static class BlockBinder
                 response = header.Response;
                 responseLocation = header.ResponseLocation;
             }
-            else
+            else if (!header.Misspelt.Contains("response") && !keys.Misspelt.Contains("response"))
             {
                 diagnostics.ResponseNeeded(b.Location);
             }
@@ -147,7 +148,7 @@ internal static class BlockBinder
                     var spec = header.Factor(f.Value);
                     if (spec is null)
                     {
-                        diagnostics.UnknownFactor(f.Location, f.Value, DiagnosticBag.Nearest(f.Value, header.Factors.Select(x => x.Name)));
+                        ReportUnknownFactor(f, header, context, diagnostics);
                     }
                     else if (factors.Contains(spec))
                     {
@@ -164,7 +165,7 @@ internal static class BlockBinder
                 factors.AddRange(header.Factors);
             }
 
-            if (kind.NeedsFactors && factors.Count == 0 && diagnostics.Items.Count == before)
+            if (kind.NeedsFactors && factors.Count == 0 && diagnostics.Items.Count == before && !context.FailedQuietly)
             {
                 diagnostics.FactorsNeeded(b.Location, kind.Name);
             }
@@ -179,7 +180,7 @@ internal static class BlockBinder
                         var spec = header.Factor(e.Key.Value);
                         if (spec is null)
                         {
-                            diagnostics.UnknownFactor(e.Key.Location, e.Key.Value, DiagnosticBag.Nearest(e.Key.Value, header.Factors.Select(x => x.Name)));
+                            ReportUnknownFactor(e.Key, header, context, diagnostics);
                             continue;
                         }
 
@@ -223,7 +224,7 @@ internal static class BlockBinder
 
         var caption = keys.String("caption");
         var options = kind.BindOptions(keys, context, diagnostics);
-        if (diagnostics.Items.Count > before)
+        if (diagnostics.Items.Count > before || context.FailedQuietly)
         {
             return null;
         }
@@ -242,6 +243,21 @@ internal static class BlockBinder
             Caption = caption,
             Options = options,
         };
+    }
+
+    /// <summary>
+    /// An unknown factor name, reported once however many blocks use it, and not at all when the
+    /// header's own 'factors' key was misspelt (that is the one mistake). The block still fails.
+    /// </summary>
+    private static void ReportUnknownFactor(YScalar name, StudyHeader header, BindContext context, DiagnosticBag diagnostics)
+    {
+        context.FailQuietly();
+        if (header.Misspelt.Contains("factors") || !context.ReportedNames.Add("factor:" + name.Value))
+        {
+            return;
+        }
+
+        diagnostics.UnknownFactor(name.Location, name.Value, DiagnosticBag.Nearest(name.Value, header.Factors.Select(x => x.Name)));
     }
 
     /// <summary>A block that works on an anova block's model: data and factors come from there.</summary>

@@ -92,6 +92,9 @@ public sealed record StudyHeader(
 {
     public FactorSpec? Factor(string name) => Factors.FirstOrDefault(f => f.Name == name);
 
+    /// <summary>Header keys that a misspelt key was probably meant to be (reported once already).</summary>
+    public IReadOnlySet<string> Misspelt { get; init; } = new HashSet<string>(StringComparer.Ordinal);
+
     public DatasetSpec? Dataset(string name) => Datasets.FirstOrDefault(d => d.Name == name);
 }
 
@@ -119,7 +122,10 @@ internal static class HeaderBinder
         var title = titleNode?.Value ?? string.Empty;
         if (titleNode is null)
         {
-            diagnostics.MissingKey(map.Location, "title", "the header");
+            if (!r.Misspelt.Contains("title"))
+            {
+                diagnostics.MissingKey(map.Location, "title", "the header");
+            }
         }
         else if (title.Trim().Length == 0)
         {
@@ -146,7 +152,11 @@ internal static class HeaderBinder
         switch (r.Node("data"))
         {
             case null or YScalar { IsNull: true }:
-                diagnostics.MissingKey(map.Location, "data", "the header");
+                if (!r.Misspelt.Contains("data"))
+                {
+                    diagnostics.MissingKey(map.Location, "data", "the header");
+                }
+
                 break;
             case YScalar single:
                 // 'data: file.csv' is shorthand for one dataset named 'data'.
@@ -243,7 +253,10 @@ internal static class HeaderBinder
             orderNode?.Value,
             orderNode?.Location ?? map.Location,
             new ReportOptions(digits, pDigits, figures) { RawHtml = rawHtml },
-            map.Location);
+            map.Location)
+        {
+            Misspelt = r.Misspelt,
+        };
     }
 
     /// <summary>
@@ -306,6 +319,12 @@ internal static class HeaderBinder
         if (!IsName(name))
         {
             diagnostics.ReservedDatasetName(e.Key.Location, name);
+        }
+
+        if (Keys.Contains(name) && e.Value is not YMapping)
+        {
+            diagnostics.HeaderKeyIndented(e.Key.Location, name, "data");
+            return null;
         }
 
         if (e.Value is YScalar { IsNull: false } s)
@@ -519,6 +538,12 @@ internal static class HeaderBinder
         var name = e.Key.Value;
         if (e.Value is YScalar { IsNull: true })
         {
+            return new FactorSpec(name, name, null, [], null, e.Key.Location);
+        }
+
+        if (e.Value is not YMapping && Keys.Contains(name))
+        {
+            diagnostics.HeaderKeyIndented(e.Key.Location, name, "factors");
             return new FactorSpec(name, name, null, [], null, e.Key.Location);
         }
 

@@ -127,6 +127,9 @@ public sealed class DiagnosticBag
     public void IndentUnder(SourceLocation at, string key, string parent) =>
         Error("SP0247", at, $"indent {Q(key)} under {Q(parent + ":")}: it belongs to {Q(parent)}, so it must start further right than {Q(parent)} does");
 
+    public void HeaderKeyIndented(SourceLocation at, string key, string parent) =>
+        Error("SP0248", at, $"{Q(key)} is a header key, but it is indented under {Q(parent + ":")}; start it in column 1");
+
     public void ListWrittenAsText(SourceLocation at, string key, string text) =>
         Error("SP0246", at, $"{Q(key)} is a list, but this is one text; write it as [{string.Join(", ", text.Split(',', StringSplitOptions.TrimEntries | StringSplitOptions.RemoveEmptyEntries))}]");
 

@@ -454,6 +454,20 @@ public static class References
         var nearStat = selected.Where(s => stat.StartsWith(s, StringComparison.Ordinal) || s.StartsWith(stat, StringComparison.Ordinal)).OrderByDescending(s => s.Length).FirstOrDefault()
             ?? DiagnosticBag.Nearest(stat, selected);
         var pathText = reference.Text.Split('|')[0].Trim();
+        if (selected.Count == 0 && middle.Length > 0)
+        {
+            // A misspelt term or level: correct each unknown part to the nearest one of the block.
+            var components = ofBlock.SelectMany(v => v.Components()).Distinct().ToList();
+            var corrected = middle.Select(m => components.Contains(m) ? m : DiagnosticBag.Nearest(m, components) ?? m).ToArray();
+            var fixedStats = ofBlock.Where(v => IsSubsequence(corrected, [.. v.Components()])).Select(v => v.Stat).Distinct().ToList();
+            var fixedStat = fixedStats.Contains(stat) ? stat : DiagnosticBag.Nearest(stat, fixedStats);
+            if (!corrected.SequenceEqual(middle) && fixedStat is not null)
+            {
+                diagnostics.UnknownReference(reference.Location, reference.Text, string.Join(".", new[] { block }.Concat(corrected).Append(fixedStat).Select(QuoteIfNeeded)));
+                return null;
+            }
+        }
+
         var suggestion = nearStat is not null && middle.Length > 0
             ? string.Join(".", parts.Take(parts.Count - 1).Append(nearStat).Select(QuoteIfNeeded))
             : DiagnosticBag.Nearest(pathText.Replace(" ", string.Empty, StringComparison.Ordinal), ofBlock.Select(PathOf));

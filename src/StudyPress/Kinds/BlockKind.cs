@@ -1,3 +1,4 @@
+using System.Runtime.CompilerServices;
 using StudyPress.Binding;
 using StudyPress.Diagnostics;
 using StudyPress.Evaluation;
@@ -50,6 +51,17 @@ public sealed record BindContext(StudyHeader Header, IReadOnlyList<BoundBlock> E
     /// that names one fails quietly, so one mistake gives one message.
     /// </summary>
     public IReadOnlySet<string> Failed { get; init; } = new HashSet<string>(StringComparer.Ordinal);
+
+    /// <summary>Names already reported as unknown in an earlier block ("factor:NAME"): one message per mistake.</summary>
+    public HashSet<string> ReportedNames { get; init; } = new(StringComparer.Ordinal);
+
+    /// <summary>True once the block failed because of a mistake reported elsewhere.</summary>
+    public bool FailedQuietly => failedQuietly.Value;
+
+    private readonly StrongBox<bool> failedQuietly = new(false);
+
+    /// <summary>Marks the block as failed without a message of its own (its cause is reported elsewhere).</summary>
+    public void FailQuietly() => failedQuietly.Value = true;
 
     /// <summary>Whether a failed anova block (or a block whose kind was misspelt) stands above this one.</summary>
     private bool FailedAbove => Failed.Any(id => !AllIds.TryGetValue(id, out var b) || (b.Location.Line < Syntax.Location.Line && b.Kind == "anova"));
