@@ -35,34 +35,15 @@ public static class StudyParser
     public static StudySyntax? Parse(string path, string text, IReadOnlySet<string> kinds, DiagnosticBag diagnostics)
     {
         // CommonMark and YAML both end a line at LF, CR or CRLF; so do our positions.
-        text = text.Replace("\r\n", "\n", StringComparison.Ordinal).Replace('\r', '\n');
+        text = HeaderSplit.NormaliseLineEnds(text);
         if (text.Trim().Length == 0)
         {
             diagnostics.EmptyStudy(new SourceLocation(path, 0, 0));
             return null;
         }
 
-        var lines = text.Split('\n');
-        if (lines.Length == 0 || lines[0].TrimEnd() != "---")
+        if (HeaderSplit.Find(text, path, diagnostics) is not var (lines, end))
         {
-            diagnostics.NoHeader(new SourceLocation(path, 0, 0));
-            return null;
-        }
-
-        var end = -1;
-        for (var i = 1; i < lines.Length; i++)
-        {
-            var t = lines[i].TrimEnd();
-            if (t is "---" or "...")
-            {
-                end = i;
-                break;
-            }
-        }
-
-        if (end < 0)
-        {
-            diagnostics.UnclosedHeader(new SourceLocation(path, 0, 0));
             return null;
         }
 
