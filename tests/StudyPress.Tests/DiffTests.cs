@@ -226,6 +226,30 @@ public sealed class DiffTests
     }
 
     [Fact]
+    public void RenamedBlock_IsRemovedAndAdded_WithNoDecisionAcrossIt()
+    {
+        using var run = Pair();
+        var study = Path.Combine(run.Folder, "new", "study.md");
+        File.WriteAllText(study, File.ReadAllText(study)
+            .Replace("```posthoc pairs", "```posthoc comparisons", StringComparison.Ordinal)
+            .Replace("{{ pairs.", "{{ comparisons.", StringComparison.Ordinal));
+        EditRows(run, f => f[0] == "P05" ? [f[0], f[1], f[2], "48.8"] : f);
+        var r = Compare(run);
+
+        Assert.Equal(["comparisons"], r.BlocksAdded);
+        Assert.Equal(["pairs"], r.BlocksRemoved);
+        Assert.All(r.Removed, v => Assert.Equal("pairs", v.Block));
+        Assert.All(r.Added, v => Assert.Equal("comparisons", v.Block));
+        Assert.Equal(38, r.Added.Count); // 6 pairs × 6 statistics + the family's 2
+        // The pairs that flipped in place are not matched across a renamed block.
+        Assert.DoesNotContain(r.Decisions, d => d.Kind == DecisionKinds.Pair);
+        var text = ComparisonText.Write(r, colour: false);
+        Assert.Contains("  + block comparisons: 38 values\n", text, StringComparison.Ordinal);
+        Assert.Contains("  - pairs (posthoc)\n", text, StringComparison.Ordinal);
+        Assert.Equal(1, r.ExitCode(FailOn.Values));
+    }
+
+    [Fact]
     public void ValuesWithoutDisplay_UseTheRelativeTolerance()
     {
         var shown = new Dictionary<string, string>(StringComparer.Ordinal);
@@ -351,8 +375,8 @@ public sealed class DiffTests
         var (exit, output, _) = run.Cli("diff", "--text-of", "old/study.md");
         Assert.Equal(0, exit);
         Assert.Contains("value main › anova › nozzle › f = 11.5\n", output, StringComparison.Ordinal);
-        Assert.Contains("decision main › F test › nozzle: rejects (p < 0.001)\n", output, StringComparison.Ordinal);
-        Assert.Contains("decision pairs › nozzle › flat-fan vs hollow-cone: separated (Tukey, adjusted p 0.035)\n", output, StringComparison.Ordinal);
+        Assert.Contains("decision main › F test › nozzle: rejects\n", output, StringComparison.Ordinal);
+        Assert.Contains("decision pairs › nozzle › flat-fan vs hollow-cone: separated (Tukey)\n", output, StringComparison.Ordinal);
         Assert.Contains("methods methods1: ", output, StringComparison.Ordinal);
     }
 
@@ -411,6 +435,19 @@ public sealed class DiffTests
         Assert.Equal(
             (2, string.Empty, "old/study.md:1:1: error: 'old/study.md' is not inside a git repository, so --rev has nothing to read the older study from\n"),
             run.Cli("diff", "--rev", "HEAD", "old/study.md"));
+    }
+
+    [GitFact]
+    public void Rev_DataFileNotCommitted_IsAnErrorAtTheOlderHeader()
+    {
+        using var run = Pair();
+        var repo = Path.Combine(run.Folder, "new");
+        Git(repo, "init", "-q");
+        Git(repo, "add", "study.md");
+        Git(repo, "-c", "user.name=StudyPress tests", "-c", "user.email=tests@example.invalid", "commit", "-q", "-m", "study only");
+        var (exit, output, error) = run.Cli("diff", "--rev", "HEAD", "new/study.md");
+        Assert.Equal((2, string.Empty), (exit, output));
+        Assert.Equal("HEAD:study.md:6:12: error: data file 'data/coating.csv' does not exist at revision 'HEAD'\n", error);
     }
 
     private static void Git(string folder, params string[] args)

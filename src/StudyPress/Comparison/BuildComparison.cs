@@ -278,7 +278,10 @@ public static class BuildComparison
         return map;
     }
 
-    /// <summary>The decisions of one build as lines (for the text rendering that git diff shows).</summary>
+    /// <summary>
+    /// The decisions of one build as lines, verdicts only (the p-values are among the values), so
+    /// that a line of the text rendering changes exactly when its decision flips.
+    /// </summary>
     public static IEnumerable<string> Decisions(BuildSnapshot s)
     {
         foreach (var ((block, term), set) in Chosen(s).Where(c => c.Value.Count > 0))
@@ -301,15 +304,15 @@ public static class BuildComparison
             var below = p < alpha;
             if (PairTests.Contains(v.Test) && v.Stat == "p_adj" && v.Pair is not null)
             {
-                yield return $"{v.Block} › {v.Term} › {string.Join(" vs ", v.Pair)}: {(below ? "separated" : "not separated")} ({Name(v.Test)}, adjusted p {v.Text()})";
+                yield return $"{v.Block} › {v.Term} › {string.Join(" vs ", v.Pair)}: {(below ? "separated" : "not separated")} ({Name(v.Test)})";
             }
             else if (EffectTests.Contains(v.Test) && v.Stat == "p" && v.Level is null)
             {
-                yield return $"{v.Block} › {(v.Test == "anova" ? "F test" : Name(v.Test))} › {v.Term}: {(below ? "rejects" : "does not reject")} (p {v.Text()})";
+                yield return $"{v.Block} › {(v.Test == "anova" ? "F test" : Name(v.Test))} › {v.Term}: {(below ? "rejects" : "does not reject")}";
             }
             else if (Checks.TryGetValue(v.Test, out var words) && v.Stat is "p" or "p_bonferroni" && (v.Test != "outliers" || v.Level is null))
             {
-                yield return $"{v.Block} › {v.Test}{(v.Term is null ? string.Empty : " › " + v.Term)}{(v.Level is null ? string.Empty : " (" + v.Level + ")")}: {(below ? words.Below : words.Above)} (p {v.Text()})";
+                yield return $"{v.Block} › {v.Test}{(v.Term is null ? string.Empty : " › " + v.Term)}{(v.Level is null ? string.Empty : " (" + v.Level + ")")}: {(below ? words.Below : words.Above)}";
             }
         }
     }

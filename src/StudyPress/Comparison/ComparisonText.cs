@@ -216,7 +216,7 @@ public static class ComparisonText
         var sb = new StringBuilder();
         void Line(string text) => sb.Append(text).Append('\n');
         Line($"study {s.StudyPath} sha256 {s.StudySha256}");
-        Line($"alpha {Alpha(s)}");
+        Line("alpha " + (s.Alpha is { } a ? a.ToString("R", CultureInfo.InvariantCulture) : "unknown"));
         foreach (var i in s.Inputs)
         {
             Line(string.Create(CultureInfo.InvariantCulture, $"input {i.Name} {i.Path} sha256 {i.Sha256} rows {i.Rows?.ToString(CultureInfo.InvariantCulture) ?? "?"}"));

@@ -142,7 +142,15 @@ public static class GitRevision
                     return null;
                 }
 
-                if (present.Exit == 0 && !Blob(root, revision + ":" + inRepo, target, diagnostics, at))
+                if (present.Exit != 0)
+                {
+                    // At the older header's data path, named as REV:path.
+                    var where = d.PathLocation with { Path = checkout.Relabel(d.PathLocation.Path) };
+                    diagnostics.DiffDataMissingInRevision(where, revision, d.Path);
+                    return null;
+                }
+
+                if (!Blob(root, revision + ":" + inRepo, target, diagnostics, at))
                 {
                     return null;
                 }
