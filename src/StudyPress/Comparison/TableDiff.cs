@@ -1,4 +1,6 @@
-using System.Security.Cryptography;
+using System.Buffers.Binary;
+using System.Numerics;
+using System.Runtime.InteropServices;
 using System.Text;
 
 namespace StudyPress.Comparison;
@@ -31,7 +33,7 @@ public sealed record TableChanges(
 }
 
 /// <summary>
-/// Compares two CSV/TSV files in bounded memory: rows are hashed (128 bits of SHA-256) and counted
+/// Compares two CSV/TSV files in bounded memory: rows are hashed (128 bits) and counted
 /// per hash partition; files larger than <see cref="PartitionBytes"/> are processed in several
 /// passes, each holding only the rows of one partition, so memory stays near that size whatever
 /// the file size. Rows are records: a quoted field may span lines.
@@ -39,7 +41,7 @@ public sealed record TableChanges(
 public static class TableDiff
 {
     /// <summary>Roughly how much file one pass keeps in its hash table.</summary>
-    public const long PartitionBytes = 64L * 1024 * 1024;
+    public const long PartitionBytes = 16L * 1024 * 1024;
 
     /// <summary>Examples kept of each kind.</summary>
     public const int Examples = 3;
@@ -60,53 +62,62 @@ public static class TableDiff
         var newHeader = Header(newFile);
         var delimiter = Delimiter(newHeader ?? oldHeader ?? string.Empty);
         long added = 0, removed = 0;
+        var oldRows = new Counter();
+        var newRows = new Counter();
         var removedRows = new List<RowExample>();
         var addedRows = new List<RowExample>();
         for (var p = 0; p < partitions; p++)
         {
-            var counts = new Dictionary<UInt128, long>();
-            foreach (var (_, _, h) in Rows(oldFile, p, partitions))
+            // Net count per row hash, + for the old file and - for the new: this partition's rows only.
+            var counts = new Dictionary<UInt128, int>();
+            foreach (var (_, _, h) in Rows(oldFile, p, partitions, p == 0 ? oldRows : null))
             {
                 counts[h] = counts.GetValueOrDefault(h) + 1;
             }
 
-            foreach (var (_, _, h) in Rows(newFile, p, partitions))
+            foreach (var (_, _, h) in Rows(newFile, p, partitions, p == 0 ? newRows : null))
             {
                 counts[h] = counts.GetValueOrDefault(h) - 1;
             }
 
-            // Rows left over on each side, in file order.
-            var left = new Dictionary<UInt128, long>(counts.Where(c => c.Value > 0));
-            foreach (var (line, text, h) in Rows(oldFile, p, partitions))
+            var left = new Dictionary<UInt128, int>(counts.Where(c => c.Value > 0));
+            var extra = new Dictionary<UInt128, int>(counts.Where(c => c.Value < 0).Select(c => KeyValuePair.Create(c.Key, -c.Value)));
+            counts.Clear();
+            counts.TrimExcess();
+
+            // The rows left over on each side, in file order (read again only when there are any).
+            if (left.Count > 0)
             {
-                if (left.TryGetValue(h, out var n) && n > 0)
+                foreach (var (line, text, h) in Rows(oldFile, p, partitions, null))
                 {
-                    left[h] = n - 1;
-                    removed++;
-                    if (removedRows.Count < MaxPairing)
+                    if (left.TryGetValue(h, out var n) && n > 0)
                     {
-                        removedRows.Add(new RowExample(line, text));
+                        left[h] = n - 1;
+                        removed++;
+                        if (removedRows.Count < MaxPairing)
+                        {
+                            removedRows.Add(new RowExample(line, text));
+                        }
                     }
                 }
             }
 
-            var extra = new Dictionary<UInt128, long>(counts.Where(c => c.Value < 0).Select(c => KeyValuePair.Create(c.Key, -c.Value)));
-            foreach (var (line, text, h) in Rows(newFile, p, partitions))
+            if (extra.Count > 0)
             {
-                if (extra.TryGetValue(h, out var n) && n > 0)
+                foreach (var (line, text, h) in Rows(newFile, p, partitions, null))
                 {
-                    extra[h] = n - 1;
-                    added++;
-                    if (addedRows.Count < MaxPairing)
+                    if (extra.TryGetValue(h, out var n) && n > 0)
                     {
-                        addedRows.Add(new RowExample(line, text));
+                        extra[h] = n - 1;
+                        added++;
+                        if (addedRows.Count < MaxPairing)
+                        {
+                            addedRows.Add(new RowExample(line, text));
+                        }
                     }
                 }
             }
         }
-
-        var oldRows = CountRows(oldFile);
-        var newRows = CountRows(newFile);
 
         removedRows.Sort((a, b) => a.Line.CompareTo(b.Line));
         addedRows.Sort((a, b) => a.Line.CompareTo(b.Line));
@@ -129,8 +140,8 @@ public static class TableDiff
         return new TableChanges(
             oldHeader,
             newHeader,
-            oldRows,
-            newRows,
+            oldRows.N,
+            newRows.N,
             added - changed.Count,
             removed - changed.Count,
             changed.Count,
@@ -174,19 +185,11 @@ public static class TableDiff
         return null;
     }
 
-    private static long CountRows(string file)
-    {
-        long n = -1;
-        foreach (var _ in Records(file))
-        {
-            n++;
-        }
-
-        return Math.Max(0, n);
-    }
-
-    /// <summary>Data rows (header skipped) whose hash falls in partition <paramref name="p"/> of <paramref name="of"/>.</summary>
-    private static IEnumerable<(long Line, string Text, UInt128 Hash)> Rows(string file, int p, int of)
+    /// <summary>
+    /// Data rows (header and empty lines skipped) whose hash falls in partition <paramref name="p"/>
+    /// of <paramref name="of"/>; <paramref name="all"/>, when given, counts every data row.
+    /// </summary>
+    private static IEnumerable<(long Line, string Text, UInt128 Hash)> Rows(string file, int p, int of, Counter? all)
     {
         var first = true;
         foreach (var (line, text) in Records(file))
@@ -202,19 +205,58 @@ public static class TableDiff
                 continue;
             }
 
+            if (all is not null)
+            {
+                all.N++;
+            }
+
             var h = Hash(text);
-            if (of == 1 || (int)(h % (ulong)of) == p)
+            if (of == 1 || (int)((ulong)(h >> 64) % (ulong)of) == p)
             {
                 yield return (line, text, h);
             }
         }
     }
 
-    private static UInt128 Hash(string text)
+    /// <summary>
+    /// A 128-bit hash of a row's text (two 64-bit lanes over its UTF-16 code units, each finished
+    /// with the SplitMix64 mixer). Rows are compared by this hash; two different rows of one
+    /// comparison sharing all 128 bits is not a practical concern.
+    /// </summary>
+    internal static UInt128 Hash(ReadOnlySpan<char> text)
     {
-        Span<byte> digest = stackalloc byte[32];
-        SHA256.HashData(Encoding.UTF8.GetBytes(text), digest);
-        return new UInt128(BitConverter.ToUInt64(digest[..8]), BitConverter.ToUInt64(digest[8..16]));
+        var bytes = MemoryMarshal.AsBytes(text);
+        var h1 = 0x9E3779B97F4A7C15UL ^ (ulong)bytes.Length;
+        var h2 = 0xC2B2AE3D27D4EB4FUL + (ulong)bytes.Length;
+        var i = 0;
+        for (; i + 8 <= bytes.Length; i += 8)
+        {
+            var k = BinaryPrimitives.ReadUInt64LittleEndian(bytes[i..]);
+            h1 = BitOperations.RotateLeft((h1 ^ k) * 0xFF51AFD7ED558CCDUL, 29);
+            h2 = BitOperations.RotateLeft((h2 + k) * 0xC4CEB9FE1A85EC53UL, 31) ^ (h1 >> 7);
+        }
+
+        ulong tail = 0;
+        for (; i < bytes.Length; i++)
+        {
+            tail = (tail << 8) | bytes[i];
+        }
+
+        h1 = Mix(h1 ^ tail ^ 0xA5A5A5A5UL);
+        h2 = Mix(h2 + tail + h1);
+        return new UInt128(Mix(h2 ^ h1), h1);
+    }
+
+    private static ulong Mix(ulong z)
+    {
+        z = (z ^ (z >> 30)) * 0xBF58476D1CE4E5B9UL;
+        z = (z ^ (z >> 27)) * 0x94D049BB133111EBUL;
+        return z ^ (z >> 31);
+    }
+
+    private sealed class Counter
+    {
+        public long N { get; set; }
     }
 
     /// <summary>Records of a delimited file: lines, joined while a quoted field is open; BOM and line ends dropped.</summary>
@@ -238,7 +280,7 @@ public static class TableDiff
                 open.Append('\n');
             }
 
-            quotes += line.Count(c => c == '"');
+            quotes += line.AsSpan().Count('"');
             if (quotes % 2 == 1)
             {
                 (open ??= new StringBuilder()).Append(line);
