@@ -30,8 +30,8 @@ public sealed record DiffRequest(IReadOnlyList<string> Paths)
 
 /// <summary>
 /// <c>studypress diff OLD NEW</c>, <c>studypress diff --rev REV STUDY</c>, <c>studypress diff --text-of REPORT</c>:
-/// what changed between two builds of a study and which conclusions flipped. Exit 0 no change,
-/// 1 results changed but no decision flipped, 3 a decision flipped (see --fail-on), 2 usage or study errors.
+/// what changed between two builds of a study and which conclusions flipped. Exit 0 no number changed,
+/// 1 numbers changed but no decision flipped, 3 a decision flipped (see --fail-on), 2 usage or study errors.
 /// </summary>
 public static class DiffCommand
 {
@@ -45,21 +45,21 @@ public static class DiffCommand
             Arity = new ArgumentArity(0, 2),
             Description = "Two builds: reports (.html), results manifests (.json) or study files (.md, compiled in memory); with --rev, one study file.",
         };
-        var rev = new Option<string?>("--rev") { Description = "Compare the study as committed at this git revision with the working tree." };
-        var json = new Option<string?>("--json") { Description = "Also write the comparison as JSON (format studypress-diff/1) to this file." };
-        var html = new Option<string?>("--html") { Description = "Also write the comparison as a self-contained HTML page to this file." };
+        var rev = new Option<string?>("--rev") { HelpName = "REV", Description = "Compare the study as committed at this git revision with the working tree." };
+        var json = new Option<string?>("--json") { HelpName = "FILE", Description = "Also write the comparison as JSON (format studypress-diff/1) to this file." };
+        var html = new Option<string?>("--html") { HelpName = "FILE", Description = "Also write the comparison as a self-contained HTML page to this file." };
         var failOn = new Option<string>("--fail-on")
         {
-            Description = "What makes the exit status non-zero: 'values' (default: 1 results changed, 3 a decision flipped), 'decisions' (3 only when a decision flipped), 'never' (0 unless an error).",
+            Description = "What makes the exit status non-zero: 'values' (default: 1 numbers changed, 3 a decision flipped), 'decisions' (3 only when a decision flipped, else 0), 'never' (0 unless an error, which is 2).",
             DefaultValueFactory = _ => "values",
         };
         failOn.AcceptOnlyFromAmong("values", "decisions", "never");
-        var textOf = new Option<string?>("--text-of") { Description = "Print one report, manifest or study as text (values as shown, decisions, methods sentences), e.g. for git's textconv." };
-        var alpha = new Option<string?>("--alpha") { Description = "Significance level for a side whose alpha cannot be read (a report whose study is gone, a manifest)." };
+        var textOf = new Option<string?>("--text-of") { HelpName = "REPORT", Description = "Print one report, manifest or study as text (values as shown, decisions, methods sentences), e.g. for git's textconv." };
+        var alpha = new Option<string?>("--alpha") { HelpName = "A", Description = "Significance level for a side whose alpha cannot be read (a report whose study is gone, a manifest)." };
         var allowOutside = new Option<bool>("--allow-outside-data") { Description = "Let data paths point outside the study's folder tree." };
         var command = new Command(
             "diff",
-            "What changed between two builds of a study, and which conclusions flipped. Exit 0 no change; 1 results changed but no decision flipped; 3 a decision flipped; 2 usage or study errors (see --fail-on).");
+            "What changed between two builds of a study, and which conclusions flipped. Exit 0 no number changed; 1 numbers changed but no decision flipped; 3 a decision flipped; 2 usage or study errors (see --fail-on).");
         command.Arguments.Add(paths);
         foreach (var o in new Option[] { rev, json, html, failOn, textOf, alpha, allowOutside })
         {

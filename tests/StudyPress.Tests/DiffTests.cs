@@ -296,6 +296,17 @@ public sealed class DiffTests
     }
 
     [Fact]
+    public void Cli_Help_DocumentsTheExitCodesAndFailOn()
+    {
+        using var run = new StudyRun();
+        var (exit, output, _) = run.Cli("diff", "--help");
+        Assert.Equal(0, exit);
+        Assert.Contains("Exit 0 no number changed; 1 numbers changed but no decision flipped; 3 a decision flipped; 2 usage or study errors", output, StringComparison.Ordinal);
+        Assert.Contains("--fail-on <decisions|never|values>", output, StringComparison.Ordinal);
+        Assert.Contains("--rev <REV>", output, StringComparison.Ordinal);
+    }
+
+    [Fact]
     public void Cli_Errors_AreOneLineAtTheFile_Exit2()
     {
         using var run = Pair();

@@ -17,7 +17,7 @@ namespace StudyPress.Comparison;
 public static partial class SnapshotReader
 {
     /// <summary>The most a report or manifest file may hold to be compared.</summary>
-    public const long MaxReportBytes = 512L * 1024 * 1024;
+    public const long MaxReportBytes = 64L * 1024 * 1024;
 
     public static BuildSnapshot? Read(string path, CompileOptions options, DiagnosticBag diagnostics, string? label = null)
     {
