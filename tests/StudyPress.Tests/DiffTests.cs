@@ -368,6 +368,11 @@ public sealed class DiffTests
         var html = File.ReadAllText(Path.Combine(run.Folder, "d.html"));
         Assert.Single(Directory.GetFiles(run.Folder, "d.*"));
         Assert.Contains("<meta http-equiv=\"Content-Security-Policy\" content=\"default-src &#39;none&#39;; style-src &#39;sha256-", html, StringComparison.Ordinal);
+        // The one style element is allowed by its hash, and nothing else is allowed.
+        var style = html[(html.IndexOf("<style>", StringComparison.Ordinal) + 7)..html.IndexOf("</style>", StringComparison.Ordinal)];
+        var hash = Convert.ToBase64String(System.Security.Cryptography.SHA256.HashData(System.Text.Encoding.UTF8.GetBytes(style)));
+        Assert.Contains("style-src &#39;sha256-" + hash + "&#39;;", html, StringComparison.Ordinal);
+        Assert.Equal(1, html.Split("<style>").Length - 1);
         Assert.DoesNotContain("http://", html, StringComparison.Ordinal);
         Assert.DoesNotContain("https://", html, StringComparison.Ordinal);
         Assert.DoesNotContain(" src=", html, StringComparison.Ordinal);
