@@ -250,6 +250,21 @@ public sealed class DiffTests
     }
 
     [Fact]
+    public void ReportAwayFromItsStudy_TakesAlphaFromItsText_NotFromAPowerBlock()
+    {
+        using var run = Pair();
+        // The power block states its own alpha, and comes first; the study's alpha is 0.1.
+        var study = Path.Combine(run.Folder, "new", "study.md");
+        var text = File.ReadAllText(study).Replace("alpha: 0.05", "alpha: 0.1", StringComparison.Ordinal)
+            .Replace("```summary groups", "```power early\ngroups: 4\neffect: 0.4\nn: 6\nalpha: 0.01\n```\n\n```summary groups", StringComparison.Ordinal);
+        File.WriteAllText(study, text);
+        Assert.Equal(0, run.Cli("build", "new/study.md").Exit);
+        File.Move(Path.Combine(run.Folder, "new", "study.html"), Path.Combine(run.Folder, "moved.html"));
+        var snapshot = SnapshotReader.Read(Path.Combine(run.Folder, "moved.html"), new CompileOptions(), new DiagnosticBag());
+        Assert.Equal((0.1, "report text"), (snapshot!.Alpha, snapshot.AlphaSource));
+    }
+
+    [Fact]
     public void ValuesWithoutDisplay_UseTheRelativeTolerance()
     {
         var shown = new Dictionary<string, string>(StringComparer.Ordinal);

@@ -359,6 +359,7 @@ public static partial class SnapshotReader
     [GeneratedRegex("(?<=[.!?])\\s+(?=[A-Z(\\[\"“ΑΒΓΔΕΖΗΘΙΚΛΜΝΞΟΠΡΣΤΥΦΧΨΩ])")]
     private static partial Regex SentenceEnd();
 
-    [GeneratedRegex("α = (0?\\.[0-9]+)")]
+    /// <summary>Phrases that print the study's alpha (not a power block's own alpha).</summary>
+    [GeneratedRegex("(?:F crit \\(α = |significance level α = |family-wise error rate at α = |family-wise level α = |p-values at α = |at α = (?=[0-9.]+ the test))(0?\\.[0-9]+)")]
     private static partial Regex AlphaInText();
 }
