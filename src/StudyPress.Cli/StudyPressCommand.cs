@@ -161,6 +161,7 @@ public static class StudyPressCommand
         create.Arguments.Add(dir);
         create.SetAction(pr => NewCommand.Run(pr.GetValue(dir)!, stdout, stderr));
         root.Subcommands.Add(create);
+        root.Subcommands.Add(DiffCommand.Create(stdout, stderr, interactive));
         return root;
     }
 

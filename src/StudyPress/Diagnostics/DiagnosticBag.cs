@@ -5,7 +5,8 @@ namespace StudyPress.Diagnostics;
 /// <summary>
 /// Collects diagnostics. Every message a user can see is worded here, one method per message,
 /// so the wording can be reviewed in one file. Codes: SP01xx syntax/YAML, SP02xx header and
-/// blocks, SP03xx data, SP04xx references, SP05xx analysis, SP06xx output.
+/// blocks, SP03xx data, SP04xx references, SP05xx analysis, SP06xx output, SP07xx comparison
+/// of builds (<c>studypress diff</c>).
 /// </summary>
 public sealed class DiagnosticBag
 {
@@ -400,6 +401,27 @@ public sealed class DiagnosticBag
 
     public void CannotPin(SourceLocation at, string name, string why) =>
         Error("SP0602", at, $"cannot pin the hash of {Q(name)}: {why}; write it as a map with 'path' and 'sha256'");
+
+    // ---- comparison of builds (SP07xx) ----
+    public void DiffUnknownKind(SourceLocation at, string path) =>
+        Error("SP0701", at, $"cannot compare {Q(path)}: name a report (.html), a results manifest (.json) or a study file (.md)");
+
+    public void DiffUnreadable(SourceLocation at, string path, string why) => Error("SP0702", at, $"cannot compare {Q(path)}: {why}");
+
+    public void NotInGitRepository(SourceLocation at, string path) =>
+        Error("SP0703", at, $"{Q(path)} is not inside a git repository, so --rev has nothing to read the older study from");
+
+    public void GitRevisionMissing(SourceLocation at, string revision, string path, string why) =>
+        Error("SP0704", at, $"revision {Q(revision)} has no {Q(path)} ({why})");
+
+    public void GitUnavailable(SourceLocation at, string why) => Error("SP0705", at, $"cannot run git: {why}");
+
+    public void DiffUsage(SourceLocation at, string message) => Error("SP0706", at, message);
+
+    public void DiffDataMissingInRevision(SourceLocation at, string revision, string path) =>
+        Error("SP0707", at, $"data file {Q(path)} does not exist at revision {Q(revision)}");
+
+    public void DiffBadAlpha(SourceLocation at, string text) => Error("SP0708", at, $"--alpha must be a number between 0 and 1 (exclusive), not {Q(text)}");
 
     /// <summary>Closest candidate within a small edit distance, for "did you mean".</summary>
     public static string? Nearest(string word, IEnumerable<string> candidates)
