@@ -50,7 +50,7 @@ public static class DiffCommand
         var html = new Option<string?>("--html") { HelpName = "FILE", Description = "Also write the comparison as a self-contained HTML page to this file." };
         var failOn = new Option<string>("--fail-on")
         {
-            Description = "What makes the exit status non-zero: 'values' (default: 1 numbers changed, 3 a decision flipped), 'decisions' (3 only when a decision flipped, else 0), 'never' (0 unless an error, which is 2).",
+            Description = "What makes the exit status non-zero: 'values' (default: 1 numbers changed, 3 a decision flipped), 'decisions' (3 only when a decision flipped, else 0), 'never' (0 unless an error: 2 for a study or input, 64 for the command line).",
             DefaultValueFactory = _ => "values",
         };
         failOn.AcceptOnlyFromAmong("values", "decisions", "never");
@@ -59,7 +59,7 @@ public static class DiffCommand
         var allowOutside = new Option<bool>("--allow-outside-data") { Description = "Let data paths point outside the study's folder tree." };
         var command = new Command(
             "diff",
-            "What changed between two builds of a study, and which conclusions flipped. Exit 0 no number changed; 1 numbers changed but no decision flipped; 3 a decision flipped; 2 usage or study errors (see --fail-on).");
+            "What changed between two builds of a study, and which conclusions flipped. Exit 0 no number changed; 1 numbers changed but no decision flipped; 3 a decision flipped; 2 study or input errors; 64 usage errors (see --fail-on).");
         command.Arguments.Add(paths);
         foreach (var o in new Option[] { rev, json, html, failOn, textOf, alpha, allowOutside })
         {
@@ -87,7 +87,7 @@ public static class DiffCommand
     {
         if (StudyPressCommand.RejectOptionLike(request.Paths, "diff", stderr))
         {
-            return StudyPressCommand.BadInput;
+            return StudyPressCommand.Usage;
         }
 
         var bag = new DiagnosticBag();
@@ -226,6 +226,8 @@ public static class DiffCommand
             stderr.WriteLine(d.Location.Path == "studypress diff" ? "studypress: error: " + d.Message : d.ToString());
         }
 
-        return StudyPressCommand.BadInput;
+        // A mistake on the command line itself is a usage error (64); a file or study that cannot
+        // be read or built is a study error (2).
+        return bag.Sorted().All(d => d.Location.Path == "studypress diff") ? StudyPressCommand.Usage : StudyPressCommand.BadInput;
     }
 }

@@ -294,7 +294,7 @@ public sealed class DiffTests
         Assert.Equal(3, run.Cli("diff", "old/study.md", "new/study.md").Exit);
         Assert.Equal(3, run.Cli("diff", "old/study.md", "new/study.md", "--fail-on", "decisions").Exit);
         Assert.Equal(0, run.Cli("diff", "old/study.md", "new/study.md", "--fail-on", "never").Exit);
-        Assert.Equal(2, run.Cli("diff", "old/study.md", "new/study.md", "--fail-on", "sometimes").Exit);
+        Assert.Equal(64, run.Cli("diff", "old/study.md", "new/study.md", "--fail-on", "sometimes").Exit);
 
         // Reports and manifests as written by build compare like the studies.
         Assert.Equal(0, run.Cli("build", "old/study.md", "--json", "old.json").Exit);
@@ -307,7 +307,7 @@ public sealed class DiffTests
         Assert.Contains("note: alpha could not be established for old.json", fromManifests.Out, StringComparison.Ordinal);
         Assert.Contains("note: methods text not compared", fromManifests.Out, StringComparison.Ordinal);
         Assert.Equal(3, run.Cli("diff", "old.json", "new.json", "--alpha", "0.05").Exit);
-        Assert.Equal(2, run.Cli("diff", "old.json", "new.json", "--alpha", "5%").Exit);
+        Assert.Equal(64, run.Cli("diff", "old.json", "new.json", "--alpha", "5%").Exit);
     }
 
     [Fact]
@@ -316,7 +316,7 @@ public sealed class DiffTests
         using var run = new StudyRun();
         var (exit, output, _) = run.Cli("diff", "--help");
         Assert.Equal(0, exit);
-        Assert.Contains("Exit 0 no number changed; 1 numbers changed but no decision flipped; 3 a decision flipped; 2 usage or study errors", output, StringComparison.Ordinal);
+        Assert.Contains("Exit 0 no number changed; 1 numbers changed but no decision flipped; 3 a decision flipped; 2 study or input errors; 64 usage errors", output, StringComparison.Ordinal);
         Assert.Contains("--fail-on <decisions|never|values>", output, StringComparison.Ordinal);
         Assert.Contains("--rev <REV>", output, StringComparison.Ordinal);
     }
@@ -330,7 +330,7 @@ public sealed class DiffTests
         Assert.Equal((2, string.Empty, "notes.txt:1:1: error: cannot compare 'notes.txt': name a report (.html), a results manifest (.json) or a study file (.md)\n"), run.Cli("diff", "notes.txt", "new/study.md"));
         run.File("page.html", "<html><body>hello</body></html>");
         Assert.Equal((2, string.Empty, "page.html:1:1: error: cannot compare 'page.html': no results manifest found; is this a studypress report?\n"), run.Cli("diff", "page.html", "new/study.md"));
-        Assert.Equal((2, string.Empty, "studypress: error: name two builds to compare (studypress diff OLD NEW), or one study with --rev REV\n"), run.Cli("diff", "new/study.md"));
+        Assert.Equal((64, string.Empty, "studypress: error: name two builds to compare (studypress diff OLD NEW), or one study with --rev REV\n"), run.Cli("diff", "new/study.md"));
 
         // A broken new study: its own diagnostic, exit 2, nothing written.
         File.WriteAllText(Path.Combine(run.Folder, "new", "study.md"), File.ReadAllText(Path.Combine(run.Folder, "new", "study.md")).Replace("alpha: 0.05", "alfa: 0.05", StringComparison.Ordinal));
