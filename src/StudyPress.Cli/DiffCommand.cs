@@ -201,22 +201,7 @@ public static class DiffCommand
     }
 
     private static BuildSnapshot WithAlpha(BuildSnapshot s, double? alpha) =>
-        s.Alpha is not null || alpha is null
-            ? s
-            : new BuildSnapshot
-            {
-                Label = s.Label,
-                Source = s.Source,
-                StudyPath = s.StudyPath,
-                StudySha256 = s.StudySha256,
-                ToolVersion = s.ToolVersion,
-                Alpha = alpha,
-                AlphaSource = "--alpha",
-                Inputs = s.Inputs,
-                Values = s.Values,
-                Blocks = s.Blocks,
-                MethodsSentences = s.MethodsSentences,
-            };
+        s.Alpha is not null || alpha is null ? s : s with { Alpha = alpha, AlphaSource = "--alpha" };
 
     private static int Fail(DiagnosticBag bag, TextWriter stderr)
     {

@@ -72,7 +72,7 @@ public sealed record SnapshotInput(string Name, string Path, string Sha256, long
 }
 
 /// <summary>Everything of one build the comparison reads.</summary>
-public sealed class BuildSnapshot
+public sealed record BuildSnapshot
 {
     /// <summary>How the user named this side (a path, or REV:path).</summary>
     public required string Label { get; init; }

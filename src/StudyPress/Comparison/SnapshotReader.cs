@@ -150,19 +150,11 @@ public static partial class SnapshotReader
         });
     }
 
-    private static BuildSnapshot Rebuild(BuildSnapshot s, double? alpha, string alphaSource, Func<SnapshotInput, string?> local) => new()
+    private static BuildSnapshot Rebuild(BuildSnapshot s, double? alpha, string alphaSource, Func<SnapshotInput, string?> local) => s with
     {
-        Label = s.Label,
-        Source = s.Source,
-        StudyPath = s.StudyPath,
-        StudySha256 = s.StudySha256,
-        ToolVersion = s.ToolVersion,
         Alpha = alpha,
         AlphaSource = alpha is null ? "not found" : alphaSource,
         Inputs = [.. s.Inputs.Select(i => i with { LocalFile = local(i) })],
-        Values = s.Values,
-        Blocks = s.Blocks,
-        MethodsSentences = s.MethodsSentences,
     };
 
     internal static string HashOf(string file)
