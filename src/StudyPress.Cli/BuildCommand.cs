@@ -185,6 +185,13 @@ public static class BuildCommand
             SourceDateEpoch = request.SourceDateEpoch,
         };
 
+        // The manifest and the report are committed together; they cannot be one file.
+        if (request.Json is not null && string.Equals(Path.GetFullPath(request.Json), Compilation.OutputPathFor(studies[0], options), StringComparison.Ordinal))
+        {
+            stderr.WriteLine($"studypress: error: --json {request.Json} names the report itself; write the manifest to another file");
+            return StudyPressCommand.Usage;
+        }
+
         // Two studies with the same name would overwrite each other's report in --out.
         foreach (var clash in studies.GroupBy(s => Compilation.OutputPathFor(s, options), StringComparer.Ordinal).Where(g => g.Count() > 1))
         {

@@ -140,6 +140,14 @@ public sealed partial class OutputIntegrityTests
         Assert.Empty(Directory.GetFiles(run.Folder, "*.tmp", SearchOption.AllDirectories));
     }
 
+    [Fact]
+    public void Build_JsonNamingTheReport_IsAUsageErrorAndNothingIsWritten()
+    {
+        using var run = new StudyRun().Study(SmallStudy()).File("data.csv", SmallCsv);
+        Assert.Equal((64, string.Empty, "studypress: error: --json study.html names the report itself; write the manifest to another file\n"), run.Cli("build", "study.md", "--json", "study.html"));
+        Assert.False(File.Exists(run.ReportPath));
+    }
+
     // ---- 3. batch builds with figures: one folder per study, unique temporary names ----
 
     [Fact]
