@@ -407,7 +407,8 @@ public sealed class BidiIsolationTests
         }
 
         var study = "---\ntitle: Bidi\ndata: data.csv\nresponse: y\nfactors:\n  dose:\n---\n\n"
-            + "```summary s\n```\n\n```anova main\n```\n\n```posthoc ph\n```\n\n```methods m\n```\n";
+            + "```summary s\n```\n\n```anova main\n```\n\n```assumptions checks\n```\n\n```posthoc ph\n```\n\n```ranks r\n```\n\n"
+            + "```figure f\ntype: box\n```\n\n```methods m\n```\n";
         using var run = new StudyRun().Study(study).File("data.csv", csv.ToString());
         var result = run.Compile();
         Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
@@ -415,26 +416,66 @@ public sealed class BidiIsolationTests
         var page = html[..ReportManifest.FromHtml(html, out _)!.ElementOffset];
 
         // Every occurrence of the name in the page (HTML text, attributes, SVG text and
-        // descriptions) opens an isolate right before it, and that isolate closes right after
-        // the name (its own override closed first): no digit, sign or word of ours is inside.
+        // descriptions) is inside an isolate that holds no digit: the numbers stay outside.
+        var occurrences = AssertIsolated(page, level);
+        Assert.True(occurrences >= 5, $"the name occurs only {occurrences} time(s); the test would prove little");
+
+        // In HTML text content the isolate is also a bdi element, around the name alone.
         var isolated = "\u2068" + level + (level.Contains(Rlo, StringComparison.Ordinal) ? "\u202C" : string.Empty) + "\u2069";
-        var occurrences = 0;
+        Assert.Contains("<bdi>" + isolated + "</bdi>", page, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void Report_TwoWayLevelNameWithOverride_IsIsolatedEverywhere()
+    {
+        const string level = "left" + Rlo + "over";
+        var csv = new System.Text.StringBuilder("plot,dose,site,y\n");
+        var plot = 0;
+        foreach (var (dose, d) in new[] { ("low", 0.0), (level, 3.0), ("high", 1.5) })
+        {
+            foreach (var (site, e) in new[] { ("north", 0.0), ("south", 0.7) })
+            {
+                foreach (var r in new[] { 0.1, 0.4, -0.2, 0.3, -0.1, 0.2 })
+                {
+                    csv.Append(System.Globalization.CultureInfo.InvariantCulture, $"{++plot},{dose},{site},{5 + d + e + r + (plot % 3 * 0.05)}\n");
+                }
+            }
+        }
+
+        var study = "---\ntitle: Bidi two-way\ndata: data.csv\nresponse: y\nfactors:\n  dose:\n  site:\n---\n\n"
+            + "```summary s\n```\n\n```anova main\n```\n\n```assumptions checks\n```\n\n```posthoc ph\nfactor: dose\n```\n\n```methods m\n```\n";
+        using var run = new StudyRun().Study(study).File("data.csv", csv.ToString());
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        var page = result.Html![..ReportManifest.FromHtml(result.Html!, out _)!.ElementOffset];
+        var occurrences = AssertIsolated(page, level);
+        Assert.True(occurrences >= 5, $"the name occurs only {occurrences} time(s)");
+    }
+
+    /// <summary>
+    /// Each occurrence of <paramref name="name"/> lies inside an isolate (U+2068 … U+2069, possibly
+    /// around a composed label such as a cell "a / b") whose content has no digit; a name alone in
+    /// its isolate also has its own override closed right after it. Returns the number of occurrences.
+    /// </summary>
+    private static int AssertIsolated(string page, string name)
+    {
         var bare = new List<string>();
-        for (var at = page.IndexOf(level, StringComparison.Ordinal); at >= 0; at = page.IndexOf(level, at + level.Length, StringComparison.Ordinal))
+        var occurrences = 0;
+        for (var at = page.IndexOf(name, StringComparison.Ordinal); at >= 0; at = page.IndexOf(name, at + name.Length, StringComparison.Ordinal))
         {
             occurrences++;
-            if (string.CompareOrdinal(page, at - 1, isolated, 0, isolated.Length) != 0)
+            var open = page.LastIndexOf('\u2068', at);
+            var closeBefore = page.LastIndexOf('\u2069', at);
+            var close = page.IndexOf('\u2069', at + name.Length);
+            var inside = open >= 0 && closeBefore < open && close > 0 && close - open < 400;
+            if (!inside || page[open..close].Any(char.IsAsciiDigit) || (name.Contains(Rlo, StringComparison.Ordinal) && page[(close - 1)..close] != "\u202C"))
             {
-                bare.Add("…" + page[Math.Max(0, at - 50)..Math.Min(page.Length, at + level.Length + 30)] + "…");
+                bare.Add("…" + page[Math.Max(0, at - 50)..Math.Min(page.Length, at + name.Length + 30)] + "…");
             }
         }
 
         Assert.True(bare.Count == 0, "not isolated:\n" + string.Join("\n", bare));
-
-        Assert.True(occurrences >= 5, $"the name occurs only {occurrences} time(s); the test would prove little");
-
-        // In HTML text content the isolate is also a bdi element.
-        Assert.Contains("<bdi>" + isolated + "</bdi>", page, StringComparison.Ordinal);
+        return occurrences;
     }
 
     [Theory]

@@ -455,7 +455,7 @@ public sealed class AnovaKind : BlockKind
         var table = new HtmlTable("means", "Level means" + (o.Transformed is null ? string.Empty : " (back-transformed to the original scale)"), headers);
         foreach (var (factor, level, v) in o.Means)
         {
-            var label = factorial ? o.Data!.Factors.First(f => f.Spec.Name == factor).Spec.Display + ": " + level : level;
+            var label = factorial ? StudyPress.Charts.BidiText.Isolate(o.Data!.Factors.First(f => f.Spec.Name == factor).Spec.Display) + ": " + StudyPress.Charts.BidiText.Isolate(level) : level;
             List<string> cells = [HtmlWriter.ValueHtml(v["n"], context), HtmlWriter.ValueHtml(v["mean"], context)];
             if (factorial)
             {
