@@ -132,7 +132,14 @@ internal static class HeaderBinder
             diagnostics.EmptyTitle(titleNode.Location);
         }
 
-        var id = r.String("id") ?? Path.GetFileNameWithoutExtension(studyPath);
+        var idNode = r.Scalar("id");
+        var id = idNode?.Value ?? Path.GetFileNameWithoutExtension(studyPath);
+        if (idNode is not null && !IsName(id))
+        {
+            // The id names the study's figure files: no path separators, dots or spaces.
+            diagnostics.BadStudyId(idNode.Location, id);
+        }
+
         var authors = r.ScalarList("authors", textMayHaveCommas: true)?.Select(a => a.Value).ToList() ?? [];
 
         var alpha = 0.05;

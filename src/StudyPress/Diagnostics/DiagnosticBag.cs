@@ -402,6 +402,8 @@ public sealed class DiagnosticBag
     public void CannotPin(SourceLocation at, string name, string why) =>
         Error("SP0602", at, $"cannot pin the hash of {Q(name)}: {why}; write it as a map with 'path' and 'sha256'");
 
+    public void BadStudyId(SourceLocation at, string id) => Error("SP0603", at, $"study id {Q(id)} must start with a letter and use only letters, digits, '_' and '-' (it names the study's figure files)");
+
     // ---- comparison of builds (SP07xx) ----
     public void DiffUnknownKind(SourceLocation at, string path) =>
         Error("SP0701", at, $"cannot compare {Q(path)}: name a report (.html), a results manifest (.json) or a study file (.md)");
