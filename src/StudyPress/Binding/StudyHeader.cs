@@ -474,15 +474,28 @@ internal static class HeaderBinder
         if (levelNodes is not null)
         {
             levels = [];
+            var distinct = new HashSet<string>(StringComparer.Ordinal);
             foreach (var l in levelNodes)
             {
-                if (levels.Contains(l.Value))
+                // Levels are compared in NFC and may not hold invisible characters (Data.LevelText).
+                var value = Data.LevelText.Normal(l.Value);
+                if (Data.LevelText.FirstInvisible(value) is { } invisible)
                 {
-                    diagnostics.DuplicateLevel(l.Location, name, l.Value);
+                    diagnostics.HeaderInvisibleCharacter(l.Location, Data.LevelText.Visible(value), name, Data.LevelText.Describe(invisible));
+                }
+
+                if (!distinct.Add(value))
+                {
+                    diagnostics.DuplicateLevel(l.Location, name, value);
+                }
+                else if (distinct.Count > Data.DataLimits.MaxLevelsPerFactor)
+                {
+                    diagnostics.TooManyLevels(l.Location, name, r.String("column") ?? name, Data.DataLimits.MaxLevelsPerFactor);
+                    break;
                 }
                 else
                 {
-                    levels.Add(l.Value);
+                    levels.Add(value);
                 }
             }
         }

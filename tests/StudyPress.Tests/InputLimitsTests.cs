@@ -1,0 +1,241 @@
+using System.Globalization;
+using System.Text;
+using StudyPress.Data;
+using StudyPress.Tests.Support;
+
+namespace StudyPress.Tests;
+
+/// <summary>
+/// Limits on every input: CSV quoting and field sizes, levels per factor, numbers that underflow,
+/// level text (Unicode normalisation, invisible characters). Each oversized input is built on the
+/// fly and must be refused with one FILE:LINE:COLUMN message, exit 2, nothing written.
+/// </summary>
+[Collection("cli")]
+public sealed class InputLimitsTests
+{
+    private const string Hdr = "---\ntitle: T\ndata: data.csv\nresponse: y\nfactors:\n  g:\n---\n\n```anova main\n```\n";
+
+    private static string HdrWith(string factorBody) => "---\ntitle: T\ndata: data.csv\nresponse: y\nfactors:\n  g:\n" + factorBody + "---\n\n```anova main\n```\n";
+
+    /// <summary>Runs the check once with the reader's usual choice and once forcing the general reader.</summary>
+    private static void BothReaders(Action check)
+    {
+        check();
+        CsvLoader.ForceGeneralPath = true;
+        try
+        {
+            check();
+        }
+        finally
+        {
+            CsvLoader.ForceGeneralPath = false;
+        }
+    }
+
+    private static string OneError(StudyRun run)
+    {
+        var result = run.Compile();
+        Assert.False(result.Succeeded);
+        Assert.True(result.Diagnostics.Count == 1, string.Join("\n", result.Diagnostics));
+        return result.Diagnostics[0].ToString().Replace(run.Folder + "/", string.Empty, StringComparison.Ordinal);
+    }
+
+    // ---- 1. quotes ----
+
+    [Fact]
+    public void Csv_QuoteInsideUnquotedField_IsAnErrorAtTheQuoteNotAMergedRow()
+    {
+        using var run = new StudyRun().Study(Hdr).File("data.csv", "g,y\na\"b,1\na\"b,2\nb,3\nb,4\n");
+        DiagnosticsTests.AssertRejected(run, "stray quote", "data.csv:2:2: error: a quote inside an unquoted field; quote the whole field and double the quote (\"a\"\"b\")");
+    }
+
+    [Fact]
+    public void Csv_QuotedFieldWithDoubledQuote_KeepsEveryRow()
+    {
+        using var run = new StudyRun().Study(Hdr).File("data.csv", "g,y\n\"a\"\"b\",1\n\"a\"\"b\",2\nb,3\nb,4.5\n");
+        var m = run.Manifest();
+        Assert.Equal(1, m.Get("main", "anova", "g", "df")); // exact hand computation: 2 levels, 4 rows
+        Assert.Equal(2, m.Get("main", "anova", "residual", "df"));
+    }
+
+    [Fact]
+    public void Csv_UnclosedQuote_IsAnErrorAtTheOpeningQuote()
+    {
+        using var run = new StudyRun().Study(Hdr).File("data.csv", "g,y\na,1\n\"b,2\nb,3\na,4\n");
+        BothReaders(() => Assert.Equal("data.csv:3:1: error: a quoted field is not closed", OneError(run)));
+    }
+
+    [Fact]
+    public void Csv_TextAfterClosingQuote_IsAnErrorWhereTheTextStarts()
+    {
+        using var run = new StudyRun().Study(Hdr).File("data.csv", "g,y\na,1\n\"b\"x,2\nb,3\na,4\n");
+        Assert.Equal("data.csv:3:4: error: text after the closing quote of a quoted field; double a quote inside a quoted field (\"\")", OneError(run));
+    }
+
+    [Fact]
+    public void Csv_QuotedFieldAcrossLines_PositionsLaterErrorsOnTheRightLine()
+    {
+        using var run = new StudyRun().Study(Hdr).File("data.csv", "g,y\n\"a\nb\",1\na\nb,2\nb,3\nb,4\n");
+        Assert.Equal("data.csv:4:2: error: a quote inside an unquoted field; quote the whole field and double the quote (\"a\"\"b\")", OneError(run.File("data.csv", "g,y\n\"a\nb\",1\nx\"y,2\nb,3\nb,4\n")));
+    }
+
+    // ---- 2. field length and levels per factor ----
+
+    [Fact]
+    public void Csv_FieldLongerThanTheLimit_IsAnErrorAtTheCell()
+    {
+        var csv = new StringBuilder("g,note,y\na,x,1\nb,");
+        csv.Append('z', (int)DataLimits.MaxFieldBytes + 1).Append(",2\na,x,3\nb,x,4\n");
+        using var run = new StudyRun().Study(Hdr).File("data.csv", csv.ToString());
+        BothReaders(() => Assert.Equal("data.csv:3:3: error: this field is longer than 1048576 bytes (1 MiB), the most a cell may hold", OneError(run)));
+    }
+
+    [Fact]
+    public void Csv_QuotedFieldLongerThanTheLimit_IsAnErrorAtItsOpeningQuote()
+    {
+        var csv = new StringBuilder("g,note,y\na,x,1\nb,\"");
+        csv.Append('z', (int)DataLimits.MaxFieldBytes).Append("\",2\na,x,3\nb,x,4\n");
+        using var run = new StudyRun().Study(Hdr).File("data.csv", csv.ToString());
+        Assert.Equal("data.csv:3:3: error: this field is longer than 1048576 bytes (1 MiB), the most a cell may hold", OneError(run));
+    }
+
+    [Fact]
+    public void Csv_FieldAtTheLimit_IsRead()
+    {
+        var csv = new StringBuilder("g,note,y\na,x,1\nb,");
+        csv.Append('z', (int)DataLimits.MaxFieldBytes).Append(",2\na,x,3\nb,x,4\n");
+        using var run = new StudyRun().Study(Hdr).File("data.csv", csv.ToString());
+        BothReaders(() => Assert.True(run.Compile().Succeeded));
+    }
+
+    [Fact]
+    public void Csv_MoreLevelsThanTheLimit_IsAnErrorAtTheFirstCellOverIt()
+    {
+        var csv = new StringBuilder("g,y\n");
+        for (var i = 0; i <= DataLimits.MaxLevelsPerFactor; i++)
+        {
+            csv.Append(CultureInfo.InvariantCulture, $"L{i},{i % 7}\n");
+        }
+
+        using var run = new StudyRun().Study(Hdr).File("data.csv", csv.ToString());
+        var line = DataLimits.MaxLevelsPerFactor + 2;
+        BothReaders(() => Assert.Equal(
+            string.Create(CultureInfo.InvariantCulture, $"data.csv:{line}:1: error: factor 'g' has more than 10000 levels (distinct values of column 'g'), the most a factor may have; is the column an identifier or a measurement?"),
+            OneError(run)));
+    }
+
+    [Fact]
+    public void Header_MoreDeclaredLevelsThanTheLimit_IsAnErrorAtTheFirstOneOverIt()
+    {
+        var levels = string.Join(", ", Enumerable.Range(0, DataLimits.MaxLevelsPerFactor + 1).Select(i => "L" + i.ToString(CultureInfo.InvariantCulture)));
+        using var run = new StudyRun().Study(HdrWith("    levels: [" + levels + "]\n")).File("data.csv", "g,y\nL0,1\nL1,2\n");
+        var error = OneError(run);
+        var column = 14 + string.Join(", ", Enumerable.Range(0, DataLimits.MaxLevelsPerFactor).Select(i => "L" + i.ToString(CultureInfo.InvariantCulture))).Length + 2;
+        Assert.Equal(string.Create(CultureInfo.InvariantCulture, $"study.md:7:{column}: error: factor 'g' has more than 10000 levels (distinct values of column 'g'), the most a factor may have; is the column an identifier or a measurement?"), error);
+    }
+
+    // ---- 6. numbers that underflow ----
+
+    [Theory]
+    [InlineData("1e-400")]
+    [InlineData("-2.5E-999")]
+    [InlineData("1e-310")]
+    public void Csv_NumberThatUnderflows_IsRefusedLikeOneThatOverflows(string cell)
+    {
+        using var run = new StudyRun().Study(Hdr).File("data.csv", $"g,y\na,1\na,{cell}\nb,3\nb,4\n");
+        Assert.Equal($"data.csv:3:3: error: '{cell}' in column 'y' is too close to zero to compute with (nearer to 0 than 1e-300, it would be read as 0); rescale the column", OneError(run));
+    }
+
+    [Theory]
+    [InlineData("0e-400")]
+    [InlineData("-0.000e-999")]
+    [InlineData("1e-30")]
+    public void Csv_ZeroWithAnyExponentAndSmallNumbers_AreRead(string cell)
+    {
+        using var run = new StudyRun().Study(Hdr).File("data.csv", $"g,y\na,1\na,{cell}\nb,3\nb,4\n");
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+    }
+
+    [Fact]
+    public void Sqlite_TextNumberThatUnderflows_IsRefused()
+    {
+        using var run = new StudyRun().Study(Hdr.Replace("data: data.csv", "data:\n  d: { path: d.sqlite, query: \"select g, y from t\" }", StringComparison.Ordinal));
+        SourcesFixtures.Sqlite(Path.Combine(run.Folder, "d.sqlite"), "create table t (g text, y text)", "insert into t values ($p0, $p1)", [["a", "1"], ["a", "1e-400"], ["b", "3"], ["b", "4"]]);
+        Assert.Equal("study.md:4:31: error: '1e-400' in column 'y' (row 2 of the query result) is too close to zero to compute with (nearer to 0 than 1e-300, it would be read as 0); rescale the column", OneError(run));
+    }
+
+    [Fact]
+    public void Xlsx_NumberCellThatUnderflows_IsRefused()
+    {
+        using var run = new StudyRun().Study(Hdr.Replace("data: data.csv", "data: d.xlsx", StringComparison.Ordinal));
+        SourcesFixtures.WriteXlsx(Path.Combine(run.Folder, "d.xlsx"), "S", ["g", "y"], [["a", 1m], ["a", new RawNumber("1E-400")], ["b", 3m], ["b", 4m]]);
+        Assert.Equal("d.xlsx:3:2: error: '1E-400' in column 'y' (cell S!B3) is too close to zero to compute with (nearer to 0 than 1e-300, it would be read as 0); rescale the column", OneError(run));
+    }
+
+    [Fact]
+    public void Header_NumberThatUnderflows_IsRefused()
+    {
+        using var run = new StudyRun().Study("---\ntitle: T\ndata: data.csv\nresponse: y\nfactors:\n  g:\n---\n\n```power p\ngroups: 3\neffect: 1e-400\nn: 5\n```\n").File("data.csv", "g,y\na,1\nb,2\n");
+        var result = run.Compile();
+        Assert.Contains(result.Diagnostics, d => d.ToString().EndsWith("study.md:11:9: error: 'effect' is '1e-400', too close to zero to compute with (nearer to 0 than 1e-300, it would be read as 0)", StringComparison.Ordinal));
+    }
+
+    // ---- 7. level text ----
+
+    [Fact]
+    public void Csv_LevelsInNfcAndNfd_AreOneLevel()
+    {
+        const string Nfc = "caf\u00E9";
+        const string Nfd = "cafe\u0301";
+        using var run = new StudyRun().Study(Hdr).File("data.csv", $"g,y\n{Nfc},1\n{Nfd},2\n{Nfc},2.5\nb,3\nb,4.5\nb,4\n");
+        BothReaders(() =>
+        {
+            var m = run.Manifest();
+            Assert.Equal(1, m.Get("main", "anova", "g", "df")); // exact hand computation: 2 levels, not 3
+            Assert.Equal(4, m.Get("main", "anova", "residual", "df"));
+        });
+    }
+
+    [Fact]
+    public void Csv_DeclaredLevelInNfc_MatchesDataInNfd()
+    {
+        using var run = new StudyRun().Study(HdrWith("    levels: [\"caf\u00E9\", b]\n")).File("data.csv", "g,y\ncafe\u0301,1\ncafe\u0301,2\nb,3\nb,4.5\n");
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+    }
+
+    [Theory]
+    [InlineData("\u200B", "U+200B (zero width space)")]
+    [InlineData("\u200D", "U+200D (zero width joiner)")]
+    [InlineData("\uFEFF", "U+FEFF (byte order mark)")]
+    [InlineData("\u00AD", "U+00AD (soft hyphen)")]
+    public void Csv_LevelWithInvisibleCharacter_IsAnErrorNamingIt(string invisible, string named)
+    {
+        using var run = new StudyRun().Study(Hdr).File("data.csv", $"g,y\nab,1\nab,2\nx,3\na{invisible}b,4\nx,5\n");
+        BothReaders(() => Assert.Equal($"data.csv:5:1: error: level 'a<U+{(int)invisible[0]:X4}>b' of factor 'g' contains the invisible character {named}; remove it, or two levels could look the same", OneError(run)));
+    }
+
+    [Fact]
+    public void Sqlite_LevelWithInvisibleCharacter_IsAnError()
+    {
+        using var run = new StudyRun().Study(Hdr.Replace("data: data.csv", "data:\n  d: { path: d.sqlite, query: \"select g, y from t\" }", StringComparison.Ordinal));
+        SourcesFixtures.Sqlite(Path.Combine(run.Folder, "d.sqlite"), "create table t (g text, y real)", "insert into t values ($p0, $p1)", [["a", 1.0], ["a\u200Bb", 2.0], ["b", 3.0], ["b", 4.0]]);
+        Assert.Equal("study.md:4:31: error: level 'a<U+200B>b' of factor 'g' contains the invisible character U+200B (zero width space); remove it, or two levels could look the same", OneError(run));
+    }
+
+    [Fact]
+    public void Header_DeclaredLevelWithInvisibleCharacter_IsAnErrorAtTheDeclaration()
+    {
+        using var run = new StudyRun().Study(HdrWith("    levels: [a, \"b\u200B\"]\n")).File("data.csv", "g,y\na,1\na,2\nb,3\nb,4\n");
+        var result = run.Compile();
+        Assert.False(result.Succeeded);
+        Assert.Equal("study.md:7:17: error: declared level 'b<U+200B>' of factor 'g' contains the invisible character U+200B (zero width space); remove it", result.Diagnostics[0].ToString().Replace(run.Folder + "/", string.Empty, StringComparison.Ordinal));
+    }
+}
+
+/// <summary>A spreadsheet number cell written with exactly this text.</summary>
+internal sealed record RawNumber(string Text) : IFormattable
+{
+    public string ToString(string? format, IFormatProvider? formatProvider) => Text;
+}
