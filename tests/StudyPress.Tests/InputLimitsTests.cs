@@ -239,3 +239,100 @@ internal sealed record RawNumber(string Text) : IFormattable
 {
     public string ToString(string? format, IFormatProvider? formatProvider) => Text;
 }
+
+/// <summary>Nesting depth of the study's Markdown and YAML: an error at the line, never a stack overflow or a long wait.</summary>
+[Collection("cli")]
+public sealed class NestingLimitsTests
+{
+    private const string Hdr = "---\ntitle: T\ndata: data.csv\nresponse: y\nfactors:\n  g:\n---\n\n```anova main\n```\n\n";
+
+    private const string Csv = "g,y\na,1\na,2\nb,3\nb,4.5\n";
+
+    [Fact]
+    public void Markdown_TenThousandNestedQuotesOnOneLine_IsAnErrorAtThatLine()
+    {
+        using var run = new StudyRun().Study(Hdr + "Intro.\n\n" + new string('>', 10_000) + " deep\n").File("data.csv", Csv);
+        DiagnosticsTests.AssertRejected(run, "nested quotes", "study.md:14:1: error: the text is nested more than 64 levels deep here (block quotes, lists, emphasis or links inside each other); flatten it");
+    }
+
+    [Fact]
+    public void Markdown_AThousandQuoteLinesEachDeeper_IsAnErrorAtTheFirstLineTooDeep()
+    {
+        var body = new StringBuilder();
+        for (var i = 1; i <= 1_000; i++)
+        {
+            body.Append('>', i).Append(" q\n");
+        }
+
+        using var run = new StudyRun().Study(Hdr + body).File("data.csv", Csv);
+        var error = run.Compile().Diagnostics.Single().ToString();
+        Assert.EndsWith("study.md:" + (12 + 63).ToString(CultureInfo.InvariantCulture) + ":1: error: the text is nested more than 64 levels deep here (block quotes, lists, emphasis or links inside each other); flatten it", error, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void Markdown_TwoThousandListItemsEachIndentedDeeper_IsAnErrorAtTheFirstLineTooDeep()
+    {
+        var body = new StringBuilder();
+        for (var i = 0; i < 2_000; i++)
+        {
+            body.Append(' ', 2 * i).Append("- item\n");
+        }
+
+        using var run = new StudyRun().Study(Hdr + body).File("data.csv", Csv);
+        var error = run.Compile().Diagnostics.Single().ToString();
+        Assert.Equal("study.md:42:1: error: the text is nested more than 64 levels deep here (block quotes, lists, emphasis or links inside each other); flatten it", error[error.IndexOf("study.md", StringComparison.Ordinal)..]);
+    }
+
+    [Fact]
+    public void Markdown_TenThousandListMarkersOnOneLine_IsAnErrorAtThatLine()
+    {
+        var line = string.Concat(Enumerable.Repeat("- ", 10_000)) + "x\n";
+        using var run = new StudyRun().Study(Hdr + line).File("data.csv", Csv);
+        Assert.EndsWith("study.md:12:1: error: the text is nested more than 64 levels deep here (block quotes, lists, emphasis or links inside each other); flatten it", run.Compile().Diagnostics.Single().ToString(), StringComparison.Ordinal);
+    }
+
+    [Theory]
+    [InlineData("*")]
+    [InlineData("[")]
+    [InlineData("`")]
+    [InlineData("<")]
+    public void Markdown_TenThousandInlineOpeners_AreRefusedOrBuiltButNeverCrash(string opener)
+    {
+        using var run = new StudyRun().Study(Hdr + "Text " + string.Concat(Enumerable.Repeat(opener + "a", 10_000)) + " end.\n").File("data.csv", Csv);
+        var result = run.Compile();
+        Assert.True(result.Succeeded || result.Diagnostics.Single().ToString().EndsWith("study.md:12:1: error: the text is nested more than 64 levels deep here (block quotes, lists, emphasis or links inside each other); flatten it", StringComparison.Ordinal), string.Join("\n", result.Diagnostics));
+    }
+
+    [Fact]
+    public void Markdown_NestingWithinTheLimit_Builds()
+    {
+        using var run = new StudyRun().Study(Hdr + new string('>', 20) + " twenty deep\n").File("data.csv", Csv);
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+    }
+
+    [Fact]
+    public void Yaml_TenThousandNestedFlowSequences_IsAnErrorNotACrash()
+    {
+        var study = "---\ntitle: T\ndata: data.csv\nresponse: y\nnote: " + new string('[', 10_000) + new string(']', 10_000) + "\nfactors:\n  g:\n---\n\n```anova main\n```\n";
+        using var run = new StudyRun().Study(study).File("data.csv", Csv);
+        var result = run.Compile();
+        Assert.False(result.Succeeded);
+        Assert.Contains(result.Diagnostics, d => d.ToString().Contains("study.md:5:", StringComparison.Ordinal) && d.ToString().Contains("nested too deeply", StringComparison.Ordinal));
+    }
+
+    [Fact]
+    public void Yaml_ThreeThousandNestedBlockMappings_IsAnErrorNotACrash()
+    {
+        var yaml = new StringBuilder("---\ntitle: T\ndata: data.csv\nresponse: y\nfactors:\n  g:\nnote:\n");
+        for (var i = 1; i <= 3_000; i++)
+        {
+            yaml.Append(' ', i).Append("k:\n");
+        }
+
+        using var run = new StudyRun().Study(yaml + "---\n\n```anova main\n```\n").File("data.csv", Csv);
+        var result = run.Compile();
+        Assert.False(result.Succeeded);
+        Assert.Contains(result.Diagnostics, d => d.ToString().Contains("nested too deeply", StringComparison.Ordinal));
+    }
+}
