@@ -1,6 +1,7 @@
 using System.Globalization;
 using System.Text;
 using StudyPress.Data;
+using StudyPress.Data.Sources;
 using StudyPress.Tests.Support;
 
 namespace StudyPress.Tests;
@@ -334,5 +335,101 @@ public sealed class NestingLimitsTests
         var result = run.Compile();
         Assert.False(result.Succeeded);
         Assert.Contains(result.Diagnostics, d => d.ToString().Contains("nested too deeply", StringComparison.Ordinal));
+    }
+}
+
+/// <summary>Queries that never end or return too much: a time limit and a row limit, errors at the query.</summary>
+[Collection("cli")]
+public sealed class QueryLimitsTests
+{
+    private const string Endless = "WITH RECURSIVE r(x) AS (SELECT 1 UNION ALL SELECT x + 1 FROM r)";
+
+    private static string Study(string file, string query, string extra = "") =>
+        "---\ntitle: T\ndata:\n  d: { path: " + file + ", query: \"" + query + "\"" + extra + " }\nresponse: y\nfactors:\n  g:\n---\n\n```anova main\n```\n";
+
+    private static StudyRun Sqlite(string query, string extra = "")
+    {
+        var run = new StudyRun().Study(Study("d.sqlite", query, extra));
+        SourcesFixtures.Sqlite(Path.Combine(run.Folder, "d.sqlite"), "create table t (g text, y real)", "insert into t values ($p0, $p1)", [["a", 1.0], ["a", 2.0], ["b", 3.0], ["b", 4.5]]);
+        return run;
+    }
+
+    private static StudyRun DuckDb(string query, string extra = "")
+    {
+        var run = new StudyRun().Study(Study("d.duckdb", query, extra));
+        SourcesFixtures.DuckDb(Path.Combine(run.Folder, "d.duckdb"), "create table t (g varchar, y double)", "insert into t values ('a', 1), ('a', 2), ('b', 3), ('b', 4.5)");
+        return run;
+    }
+
+    private static string OneError(StudyRun run)
+    {
+        var result = run.Compile();
+        Assert.False(result.Succeeded);
+        Assert.True(result.Diagnostics.Count == 1, string.Join("\n", result.Diagnostics));
+        return result.Diagnostics[0].ToString().Replace(run.Folder + "/", string.Empty, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void Sqlite_EndlessRecursiveQuery_StopsAtTheTimeLimitWithAnErrorAtTheQuery()
+    {
+        using var run = Sqlite(Endless + " SELECT 'a' AS g, count(*) AS y FROM r", ", timeout: 1");
+        var started = DateTime.UtcNow;
+        Assert.Equal("study.md:4:31: error: the query of dataset 'd' ran longer than 1 s and was stopped; simplify it, or raise the dataset's 'timeout' (seconds)", OneError(run));
+        Assert.True(DateTime.UtcNow - started < TimeSpan.FromSeconds(30), "the interrupt came late");
+    }
+
+    [Fact]
+    public void Sqlite_EndlessRecursiveQueryAggregated_StopsAtTheTimeLimit()
+    {
+        using var run = Sqlite(Endless + " SELECT CASE WHEN x % 2 = 0 THEN 'a' ELSE 'b' END AS g, x AS y FROM r", ", timeout: 1, aggregate: true");
+        Assert.Equal("study.md:4:31: error: the query of dataset 'd' ran longer than 1 s and was stopped; simplify it, or raise the dataset's 'timeout' (seconds)", OneError(run));
+    }
+
+    [Fact]
+    public void DuckDb_EndlessRecursiveQuery_StopsAtTheTimeLimitWithAnErrorAtTheQuery()
+    {
+        using var run = DuckDb(Endless + " SELECT 'a' AS g, count(*) AS y FROM r", ", timeout: 1");
+        var error = OneError(run);
+        Assert.Equal("study.md:4:31: error: the query of dataset 'd' ran longer than 1 s and was stopped; simplify it, or raise the dataset's 'timeout' (seconds)", error);
+    }
+
+    [Fact]
+    public void Sqlite_EndlessRowsFromAWideQuery_StopAtTheCellLimit()
+    {
+        // 1000 columns: the 20 million cell limit allows 20,000 rows.
+        var columns = string.Join(", ", Enumerable.Range(0, 998).Select(i => "x AS c" + i.ToString(CultureInfo.InvariantCulture)));
+        using var run = Sqlite(Endless + " SELECT 'a' AS g, x AS y, " + columns + " FROM r", ", timeout: 1");
+        Assert.Matches("^study.md:4:31: error: the query of dataset 'd' (returns more than 20000 rows|ran longer than 1 s)", OneError(run));
+    }
+
+    [Theory]
+    [InlineData("sqlite")]
+    [InlineData("duckdb")]
+    public void EndlessRows_StopAtTheRowLimitOrTheTimeLimit(string engine)
+    {
+        DatabaseSource.MaxRowsForTests = 1000;
+        try
+        {
+            // SQLite streams the rows of a recursive query (the row limit stops it); DuckDB computes
+            // the whole recursion before the first row (the time limit stops it).
+            var query = Endless + " SELECT CASE WHEN x % 2 = 0 THEN 'a' ELSE 'b' END AS g, x AS y FROM r";
+            using var run = engine == "sqlite" ? Sqlite(query) : DuckDb(query, ", timeout: 1");
+            Assert.Equal(
+                engine == "sqlite"
+                    ? "study.md:4:31: error: the query of dataset 'd' returns more than 1000 rows, the most this version loads; aggregate in the query or use 'aggregate: true'"
+                    : "study.md:4:31: error: the query of dataset 'd' ran longer than 1 s and was stopped; simplify it, or raise the dataset's 'timeout' (seconds)",
+                OneError(run));
+        }
+        finally
+        {
+            DatabaseSource.MaxRowsForTests = null;
+        }
+    }
+
+    [Fact]
+    public void Timeout_OnACsvDataset_IsAnError()
+    {
+        using var run = new StudyRun().Study("---\ntitle: T\ndata:\n  d: { path: data.csv, timeout: 5 }\nresponse: y\nfactors:\n  g:\n---\n\n```anova main\n```\n").File("data.csv", "g,y\na,1\na,2\nb,3\nb,4\n");
+        Assert.StartsWith("study.md:4:", OneError(run), StringComparison.Ordinal);
     }
 }

@@ -288,9 +288,6 @@ public sealed class DiagnosticBag
     public void InvisibleCharacter(SourceLocation at, string level, string factor, string character) =>
         Error("SP0370", at, $"level {Q(level)} of factor {Q(factor)} contains the invisible character {character}; remove it, or two levels could look the same");
 
-    public void BadTimeout(SourceLocation at, string text, int max) =>
-        Error("SP0372", at, string.Create(CultureInfo.InvariantCulture, $"timeout must be a whole number of seconds from 1 to {max}, not {Q(text)}"));
-
     public void MarkdownTooDeep(SourceLocation at, int max) =>
         Error("SP0113", at, string.Create(CultureInfo.InvariantCulture, $"the text is nested more than {max} levels deep here (block quotes, lists, emphasis or links inside each other); flatten it"));
 
