@@ -1,4 +1,5 @@
 using System.Globalization;
+using System.IO.Compression;
 using System.Text;
 using StudyPress.Data;
 using StudyPress.Data.Sources;
@@ -431,5 +432,138 @@ public sealed class QueryLimitsTests
     {
         using var run = new StudyRun().Study("---\ntitle: T\ndata:\n  d: { path: data.csv, timeout: 5 }\nresponse: y\nfactors:\n  g:\n---\n\n```anova main\n```\n").File("data.csv", "g,y\na,1\na,2\nb,3\nb,4\n");
         Assert.StartsWith("study.md:4:", OneError(run), StringComparison.Ordinal);
+    }
+}
+
+/// <summary>Spreadsheets: the file size limit, what the zip expands to (declared and counted), the number of cells.</summary>
+[Collection("cli")]
+public sealed class SpreadsheetLimitsTests
+{
+    private const string Study = "---\ntitle: T\ndata: book.xlsx\nresponse: y\nfactors:\n  g:\n---\n\n```anova main\n```\n";
+
+    /// <summary>A minimal workbook built with System.IO.Compression; the sheet's XML is written by <paramref name="sheetData"/> (the rows inside sheetData).</summary>
+    private static byte[] Workbook(Action<StreamWriter> sheetData, CompressionLevel level = CompressionLevel.Fastest)
+    {
+        using var memory = new MemoryStream();
+        using (var zip = new ZipArchive(memory, ZipArchiveMode.Create, leaveOpen: true))
+        {
+            void Part(string name, string text)
+            {
+                using var w = new StreamWriter(zip.CreateEntry(name, level).Open(), new UTF8Encoding(false));
+                w.Write(text);
+            }
+
+            Part("[Content_Types].xml", "<?xml version=\"1.0\" encoding=\"UTF-8\"?><Types xmlns=\"http://schemas.openxmlformats.org/package/2006/content-types\"><Default Extension=\"rels\" ContentType=\"application/vnd.openxmlformats-package.relationships+xml\"/><Default Extension=\"xml\" ContentType=\"application/xml\"/><Override PartName=\"/xl/workbook.xml\" ContentType=\"application/vnd.openxmlformats-officedocument.spreadsheetml.sheet.main+xml\"/><Override PartName=\"/xl/worksheets/sheet1.xml\" ContentType=\"application/vnd.openxmlformats-officedocument.spreadsheetml.worksheet+xml\"/></Types>");
+            Part("_rels/.rels", "<?xml version=\"1.0\" encoding=\"UTF-8\"?><Relationships xmlns=\"http://schemas.openxmlformats.org/package/2006/relationships\"><Relationship Id=\"rId1\" Type=\"http://schemas.openxmlformats.org/officeDocument/2006/relationships/officeDocument\" Target=\"xl/workbook.xml\"/></Relationships>");
+            Part("xl/workbook.xml", "<?xml version=\"1.0\" encoding=\"UTF-8\"?><workbook xmlns=\"http://schemas.openxmlformats.org/spreadsheetml/2006/main\" xmlns:r=\"http://schemas.openxmlformats.org/officeDocument/2006/relationships\"><sheets><sheet name=\"S\" sheetId=\"1\" r:id=\"rId1\"/></sheets></workbook>");
+            Part("xl/_rels/workbook.xml.rels", "<?xml version=\"1.0\" encoding=\"UTF-8\"?><Relationships xmlns=\"http://schemas.openxmlformats.org/package/2006/relationships\"><Relationship Id=\"rId1\" Type=\"http://schemas.openxmlformats.org/officeDocument/2006/relationships/worksheet\" Target=\"worksheets/sheet1.xml\"/></Relationships>");
+            using var sheet = new StreamWriter(zip.CreateEntry("xl/worksheets/sheet1.xml", level).Open(), new UTF8Encoding(false));
+            sheet.Write("<?xml version=\"1.0\" encoding=\"UTF-8\"?><worksheet xmlns=\"http://schemas.openxmlformats.org/spreadsheetml/2006/main\"><sheetData>");
+            sheetData(sheet);
+            sheet.Write("</sheetData></worksheet>");
+        }
+
+        return memory.ToArray();
+    }
+
+    private static void Rows(StreamWriter w, int rows)
+    {
+        w.Write("<row r=\"1\"><c r=\"A1\" t=\"inlineStr\"><is><t>g</t></is></c><c r=\"B1\" t=\"inlineStr\"><is><t>y</t></is></c></row>");
+        for (var i = 2; i <= rows + 1; i++)
+        {
+            w.Write(string.Create(CultureInfo.InvariantCulture, $"<row r=\"{i}\"><c r=\"A{i}\" t=\"inlineStr\"><is><t>{(i % 2 == 0 ? "a" : "b")}</t></is></c><c r=\"B{i}\"><v>{i % 7}</v></c></row>"));
+        }
+    }
+
+    private static string OneError(StudyRun run)
+    {
+        var result = run.Compile();
+        Assert.False(result.Succeeded);
+        Assert.True(result.Diagnostics.Count == 1, string.Join("\n", result.Diagnostics));
+        return result.Diagnostics[0].ToString().Replace(run.Folder + "/", string.Empty, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void Xlsx_SmallWorkbookBuiltHere_IsRead()
+    {
+        using var run = new StudyRun().Study(Study).Bytes("book.xlsx", Workbook(w => Rows(w, 20)));
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+    }
+
+    [Fact]
+    public void Xlsx_FileOverTheDataSizeLimit_IsRefusedBeforeReading()
+    {
+        using var run = new StudyRun().Study(Study);
+        using (var f = File.Create(Path.Combine(run.Folder, "book.xlsx")))
+        {
+            f.SetLength(DataLimits.MaxDataFileBytes + 1); // sparse: nothing is written
+        }
+
+        Assert.Equal("study.md:3:7: error: data file 'book.xlsx' is 268435457 bytes; this version reads at most 268435456 bytes (256 MiB)", OneError(run));
+    }
+
+    [Fact]
+    public void Xlsx_SheetThatExpandsPastThePartLimit_IsRefusedAtTheDataPath()
+    {
+        // 700,000 rows: a few MB deflated, over 64 MiB of XML.
+        var bytes = Workbook(w => Rows(w, 700_000), CompressionLevel.Optimal);
+        Assert.True(bytes.Length < 16 * 1024 * 1024);
+        using var run = new StudyRun().Study(Study).Bytes("book.xlsx", bytes);
+        DiagnosticsTests.AssertRejected(run, "xlsx bomb", "study.md:3:7: error: 'book.xlsx' expands to more than 67108864 bytes (64 MiB) in its part 'xl/worksheets/sheet1.xml', the most this version reads from a spreadsheet");
+    }
+
+    [Fact]
+    public void Xlsx_MoreCellsThanTheLimit_IsAnErrorAtTheFirstCellOverIt()
+    {
+        // Rows of 10 short number cells (no references: each follows the one before).
+        const string Ten = "<c><v>1</v></c><c><v>2</v></c><c><v>3</v></c><c><v>4</v></c><c><v>5</v></c><c><v>6</v></c><c><v>7</v></c><c><v>8</v></c><c><v>9</v></c><c><v>0</v></c>";
+        const int Limit = 1000; // the real limit (2 million) takes half a minute to reach here
+        const int Rows = Limit / 10;
+        var bytes = Workbook(w =>
+        {
+            w.Write("<row><c t=\"inlineStr\"><is><t>g</t></is></c><c t=\"inlineStr\"><is><t>y</t></is></c></row>");
+            for (var i = 0; i < Rows; i++)
+            {
+                w.Write("<row>");
+                w.Write(Ten);
+                w.Write("</row>");
+            }
+        });
+        using var run = new StudyRun().Study(Study).Bytes("book.xlsx", bytes);
+        SpreadsheetSource.MaxCellsForTests = Limit;
+        try
+        {
+            // 2 header cells, then the 10-cell rows: the cell past the limit is in sheet row Rows + 1, column 9.
+            Assert.Equal(string.Create(CultureInfo.InvariantCulture, $"book.xlsx:{Rows + 1}:9: error: sheet 'S' of 'book.xlsx' has more than 1000 cells with values, the most this version reads from a spreadsheet; give a 'range'"), OneError(run));
+        }
+        finally
+        {
+            SpreadsheetSource.MaxCellsForTests = null;
+        }
+    }
+
+    [Fact]
+    public void Xlsx_SheetWhoseDeclaredSizeLies_IsRefusedAtTheDataPath()
+    {
+        var bytes = Workbook(w => Rows(w, 700_000), CompressionLevel.Optimal);
+
+        // Declare 1000 bytes for every entry, in the local headers and the central directory.
+        for (var i = 0; i + 30 < bytes.Length; i++)
+        {
+            if (bytes[i] == 0x50 && bytes[i + 1] == 0x4B && bytes[i + 2] == 0x03 && bytes[i + 3] == 0x04)
+            {
+                BitConverter.TryWriteBytes(bytes.AsSpan(i + 22, 4), 1000u);
+            }
+            else if (bytes[i] == 0x50 && bytes[i + 1] == 0x4B && bytes[i + 2] == 0x01 && bytes[i + 3] == 0x02)
+            {
+                BitConverter.TryWriteBytes(bytes.AsSpan(i + 24, 4), 1000u);
+            }
+        }
+
+        using var run = new StudyRun().Study(Study).Bytes("book.xlsx", bytes);
+        var error = OneError(run);
+        Assert.StartsWith("study.md:3:7: error: ", error, StringComparison.Ordinal);
+        Assert.Matches("expands to more than|cannot read 'book.xlsx' as a spreadsheet", error);
     }
 }

@@ -29,14 +29,18 @@ public static class DataLimits
     public const int MaxLevelsPerFactor = 10_000;
 
     /// <summary>
-    /// Most bytes one part of a spreadsheet (a sheet's XML, the shared strings) may expand to:
-    /// 256 MiB, the data file limit. Checked against the size the zip entry declares and again
-    /// while inflating (a declared size can lie).
+    /// Most bytes one part of a spreadsheet (a sheet's XML, the shared strings) may expand to: 64 MiB.
+    /// Checked against the size the zip entry declares and again by counting the bytes while
+    /// inflating (a declared size can lie). The reader holds a part as an XML tree, about ten times
+    /// its size, so this keeps a spreadsheet's memory under about 1 GB.
     /// </summary>
-    public const long MaxSpreadsheetPartBytes = MaxDataFileBytes;
+    public const long MaxSpreadsheetPartBytes = 64L * 1024 * 1024;
 
-    /// <summary>Most cells read from one sheet (the range read, empty cells not counted): 20 million.</summary>
-    public const long MaxSpreadsheetCells = 20_000_000;
+    /// <summary>Most bytes all the parts of a spreadsheet together may expand to: 128 MiB.</summary>
+    public const long MaxSpreadsheetExpandedBytes = 128L * 1024 * 1024;
+
+    /// <summary>Most non-empty cells read from one sheet (within the range read): 2 million.</summary>
+    public const long MaxSpreadsheetCells = 2_000_000;
 
     /// <summary>Most rows a query's result may have when its rows are loaded: 5 million (use aggregate: true beyond).</summary>
     public const long MaxQueryRows = 5_000_000;
