@@ -567,3 +567,22 @@ public sealed class SpreadsheetLimitsTests
         Assert.Matches("expands to more than|cannot read 'book.xlsx' as a spreadsheet", error);
     }
 }
+
+/// <summary>The NFC used to compare levels (the compiler runs with invariant globalization, where string.Normalize does nothing).</summary>
+public sealed class UnicodeNfcTests
+{
+    // Expected forms checked against Python's unicodedata.normalize('NFC', ...) (Unicode 14.0).
+    [Theory]
+    [InlineData("e\u0301", "\u00E9")] // combining acute composes
+    [InlineData("\u1100\u1161\u11A8", "\uAC01")] // Hangul L V T, arithmetic composition
+    [InlineData("A\u030A", "\u00C5")]
+    [InlineData("\u212B", "\u00C5")] // singleton: ANGSTROM SIGN becomes A WITH RING
+    [InlineData("a\u0328\u0301", "\u0105\u0301")] // ogonek composes first, acute stays
+    [InlineData("\u0344", "\u0308\u0301")] // composition exclusion
+    [InlineData("q\u0307\u0323", "q\u0323\u0307")] // canonical ordering, nothing composes
+    [InlineData("\u1E0B\u0323", "\u1E0D\u0307")] // reordered, then composed the other way
+    [InlineData("\u0301e", "\u0301e")] // a leading non-starter blocks nothing after it but composes with nothing
+    [InlineData("plain ascii", "plain ascii")]
+    [InlineData("caf\u00E9", "caf\u00E9")]
+    public void Normalize_GivesNfc(string text, string nfc) => Assert.Equal(nfc, UnicodeNfc.Normalize(text));
+}

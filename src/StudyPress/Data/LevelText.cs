@@ -15,7 +15,7 @@ namespace StudyPress.Data;
 internal static class LevelText
 {
     /// <summary>The level as compared and shown: its NFC form.</summary>
-    public static string Normal(string text) => text.IsNormalized(NormalizationForm.FormC) ? text : text.Normalize(NormalizationForm.FormC);
+    public static string Normal(string text) => UnicodeNfc.Normalize(text);
 
     /// <summary>The first invisible character of the text, or null.</summary>
     public static Rune? FirstInvisible(string text)
