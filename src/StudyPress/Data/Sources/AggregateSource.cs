@@ -266,11 +266,27 @@ public static partial class AggregateSource
     {
         var missing = new HashSet<string>(spec.Missing, StringComparer.Ordinal);
         var errors = diagnostics.Items.Count;
-        var text = raw.Select(c => c.Keys.Select(v => TableColumns.Text(v)?.Trim() is { } t && !missing.Contains(t) ? t : null).ToArray()).ToList();
+        // Levels compared in NFC, without invisible characters, at most DataLimits.MaxLevelsPerFactor (LevelText).
+        var at = spec.QueryLocation ?? spec.PathLocation;
+        var text = raw.Select(c => c.Keys.Select(v => TableColumns.Text(v)?.Trim() is { } t && !missing.Contains(t) ? LevelText.Normal(t) : null).ToArray()).ToList();
         var levels = new List<IReadOnlyList<string>>();
         for (var f = 0; f < factors.Count; f++)
         {
             var seen = text.Select(t => t[f]).Where(t => t is not null).Select(t => t!).Distinct(StringComparer.Ordinal).ToList();
+            if (seen.Count > DataLimits.MaxLevelsPerFactor)
+            {
+                diagnostics.TooManyLevels(at, factors[f].Name, factors[f].Column, DataLimits.MaxLevelsPerFactor);
+                return null;
+            }
+
+            foreach (var t in seen)
+            {
+                if (!LevelText.Check(t, at, factors[f].Name, diagnostics))
+                {
+                    break;
+                }
+            }
+
             if (factors[f].Levels is { } declared)
             {
                 foreach (var t in seen.Where(t => !declared.Contains(t)))
