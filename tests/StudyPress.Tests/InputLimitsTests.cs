@@ -510,7 +510,7 @@ public sealed class SpreadsheetLimitsTests
         var bytes = Workbook(w => Rows(w, 700_000), CompressionLevel.Optimal);
         Assert.True(bytes.Length < 16 * 1024 * 1024);
         using var run = new StudyRun().Study(Study).Bytes("book.xlsx", bytes);
-        DiagnosticsTests.AssertRejected(run, "xlsx bomb", "study.md:3:7: error: 'book.xlsx' expands to more than 67108864 bytes (64 MiB) in its part 'xl/worksheets/sheet1.xml', the most this version reads from a spreadsheet");
+        DiagnosticsTests.AssertRejected(run, "xlsx bomb", "study.md:3:7: error: 'book.xlsx' expands to more than 67108864 bytes (64 MiB) by its part 'xl/worksheets/sheet1.xml', the most this version reads from a spreadsheet");
     }
 
     [Fact]

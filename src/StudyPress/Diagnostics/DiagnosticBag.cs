@@ -268,7 +268,7 @@ public sealed class DiagnosticBag
         Error("SP0363", at, string.Create(CultureInfo.InvariantCulture, $"factor {Q(factor)} has more than {max} levels (distinct values of column {Q(column)}), the most a factor may have; is the column an identifier or a measurement?"));
 
     public void SpreadsheetExpandsTooMuch(SourceLocation at, string path, string part, long max) =>
-        Error("SP0364", at, string.Create(CultureInfo.InvariantCulture, $"{Q(path)} expands to more than {max} bytes ({max / (1024 * 1024)} MiB) {(part.Length == 0 ? "in all" : "in its part " + Q(part))}, the most this version reads from a spreadsheet"));
+        Error("SP0364", at, string.Create(CultureInfo.InvariantCulture, $"{Q(path)} expands to more than {max} bytes ({max / (1024 * 1024)} MiB) by its part {Q(part)}, the most this version reads from a spreadsheet"));
 
     public void SpreadsheetTooManyCells(SourceLocation at, string path, string sheet, long max) =>
         Error("SP0365", at, string.Create(CultureInfo.InvariantCulture, $"sheet {Q(sheet)} of {Q(path)} has more than {max} cells with values, the most this version reads from a spreadsheet; give a 'range'"));

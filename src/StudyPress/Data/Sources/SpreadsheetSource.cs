@@ -223,7 +223,8 @@ public static class SpreadsheetSource
 
                 if (total > DataLimits.MaxSpreadsheetExpandedBytes)
                 {
-                    diagnostics.SpreadsheetExpandsTooMuch(spec.PathLocation, spec.Path, string.Empty, DataLimits.MaxSpreadsheetExpandedBytes);
+                    // The parts together: named by the part being inflated when the limit was passed.
+                    diagnostics.SpreadsheetExpandsTooMuch(spec.PathLocation, spec.Path, entry.FullName, DataLimits.MaxSpreadsheetExpandedBytes);
                     return false;
                 }
             }
