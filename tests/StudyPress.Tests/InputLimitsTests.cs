@@ -136,6 +136,14 @@ public sealed class InputLimitsTests
         Assert.Equal(string.Create(CultureInfo.InvariantCulture, $"study.md:7:{column}: error: factor 'g' has more than 10000 levels (distinct values of column 'g'), the most a factor may have; is the column an identifier or a measurement?"), error);
     }
 
+    [Fact]
+    public void Sqlite_MoreLevelsThanTheLimit_IsAnErrorAtTheQuery()
+    {
+        using var run = new StudyRun().Study(Hdr.Replace("data: data.csv", "data:\n  d: { path: d.sqlite, query: \"select g, y from t\" }", StringComparison.Ordinal));
+        SourcesFixtures.Sqlite(Path.Combine(run.Folder, "d.sqlite"), "create table t (g text, y real)", "insert into t values ($p0, $p1)", Enumerable.Range(0, DataLimits.MaxLevelsPerFactor + 1).Select(i => new object?[] { "L" + i.ToString(CultureInfo.InvariantCulture), (double)(i % 7) }));
+        Assert.Equal("study.md:4:31: error: factor 'g' has more than 10000 levels (distinct values of column 'g'), the most a factor may have; is the column an identifier or a measurement?", OneError(run));
+    }
+
     // ---- 6. numbers that underflow ----
 
     [Theory]
