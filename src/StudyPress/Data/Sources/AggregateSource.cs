@@ -191,6 +191,13 @@ public static partial class AggregateSource
                 var k = factors.Count;
                 while (reader.Read())
                 {
+                    // One row per cell of the factors' crossing: the query row limit bounds them too.
+                    if (cells.Count == DataLimits.MaxQueryRows)
+                    {
+                        diagnostics.QueryTooManyRows(queryAt, spec.Name, DataLimits.MaxQueryRows);
+                        return null;
+                    }
+
                     var values = new object?[reader.FieldCount];
                     for (var i = 0; i < values.Length; i++)
                     {
