@@ -7,7 +7,7 @@ namespace StudyPress.Data;
 /// Unicode normalisation form C (canonical decomposition, canonical ordering, canonical
 /// composition; UAX #15), implemented here because the compiler runs with invariant globalization,
 /// where <see cref="string.Normalize()"/> leaves text unchanged. The data (UnicodeNfc.Data.cs) is
-/// generated from the Unicode Character Database by tools/unicode-nfc.py; Hangul syllables are
+/// generated from the Unicode Character Database by src/StudyPress/Data/UnicodeNfc.generate.py; Hangul syllables are
 /// composed and decomposed arithmetically.
 /// </summary>
 internal static partial class UnicodeNfc

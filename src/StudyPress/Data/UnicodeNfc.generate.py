@@ -1,7 +1,7 @@
 #!/usr/bin/env python3
 """Writes src/StudyPress/Data/UnicodeNfc.Data.cs from Python's Unicode Character Database.
 
-Run from the repository root: python3 tools/unicode-nfc.py
+Run from the repository root: python3 src/StudyPress/Data/UnicodeNfc.generate.py
 The compiler runs with invariant globalization (string.Normalize does nothing there), so the
 canonical decompositions and combining classes that NFC needs are kept as data.
 """
