@@ -314,7 +314,7 @@ public sealed class AnovaKind : BlockKind
             {
                 outcome.Decisions.Add(bf.P.IsDefined
                     ? $"Welch's F is not shown (welch: auto): the Brown–Forsythe test found no evidence of unequal variances (p = {P(bf.P)} ≥ α = {alpha}). Set 'welch: yes' to show it anyway."
-                    : $"Welch's F is not shown (welch: auto): equal variances could not be checked ({bf.P.Reason}).");
+                    : $"Welch's F is not shown (welch: auto): the rule did not fire because equal variances could not be checked (Brown–Forsythe: {bf.P.Reason}).");
             }
 
             if (outcome.Review.WantsRankTest)

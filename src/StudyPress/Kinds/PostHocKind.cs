@@ -118,6 +118,13 @@ public sealed class PostHocKind : BlockKind
                 method = "games-howell";
                 outcome.Decisions.Add($"Rule fired (method: auto): the Brown–Forsythe test found unequal variances (p = {P(review.BrownForsythe.P)} < α = {alphaText}), so the Games–Howell procedure, which does not pool the variances, is used.");
             }
+            else if (!review.BrownForsythe.P.IsDefined)
+            {
+                method = "tukey";
+                outcome.Decisions.Add(options.Control is null
+                    ? $"Method chosen (method: auto): Tukey's HSD; the Games–Howell rule did not fire because equal variances could not be checked (Brown–Forsythe: {review.BrownForsythe.P.Reason})."
+                    : $"Method chosen (method: auto): Dunnett's comparisons with the control; the Games–Howell rule did not fire because equal variances could not be checked (Brown–Forsythe: {review.BrownForsythe.P.Reason}).");
+            }
             else
             {
                 method = "tukey";

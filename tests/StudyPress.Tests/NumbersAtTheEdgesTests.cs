@@ -1,0 +1,53 @@
+using System.Text.Json;
+using StudyPress.Tests.Support;
+
+namespace StudyPress.Tests;
+
+/// <summary>
+/// Numbers at the edges, through the whole compiler: tests that are not defined for the data,
+/// critical values far in the tail, a level whose responses are all missing.
+/// </summary>
+public sealed class NumbersAtTheEdgesTests
+{
+    private static JsonElement One(ManifestView m, string block, string test, string? term, string stat)
+    {
+        var found = m.Find(block, test, term, stat).ToList();
+        Assert.True(found.Count == 1, $"expected one value {block}/{test}/{term}/{stat}, found {found.Count}");
+        return found[0];
+    }
+
+    private static void AssertUndefined(JsonElement v)
+    {
+        Assert.Equal(JsonValueKind.Null, v.GetProperty("value").ValueKind);
+        Assert.False(string.IsNullOrEmpty(v.GetProperty("reason").GetString()));
+    }
+
+    [Fact]
+    public void EqualSpreadPairs_BrownForsytheAndLevene_AreNotDefined_AndTheAutomaticRulesSayWhy()
+    {
+        // Exact hand computation: every group has two values 0.3 apart, so every absolute deviation
+        // from the group's median (or mean) is exactly 0.15; both sums of squares of the ANOVA on
+        // the deviations are 0 and F = 0/0. The old code reported an F from rounding noise and
+        // "variances differ" at alpha 0.1, then switched to Welch and Games–Howell.
+        const string study = "---\ntitle: Pairs\nalpha: 0.1\ndata: data.csv\nresponse: y\nfactors:\n  g:\n---\n\n"
+            + "```anova main\nwelch: auto\n```\n\n```assumptions checks\nof: main\n```\n\n```posthoc pairs\nof: main\nmethod: auto\n```\n";
+        const string csv = "g,y\na,10.1\na,10.4\nb,10.2\nb,10.5\nc,10.3\nc,10.6\n";
+        using var run = new StudyRun().Study(study).File("data.csv", csv);
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        var m = new ManifestView(result.ManifestJson!);
+        foreach (var test in new[] { "brown_forsythe", "levene" })
+        {
+            var f = m.Values.Where(v => v.GetProperty("test").GetString() == test && v.GetProperty("stat").GetString() is "f" or "p").ToList();
+            Assert.NotEmpty(f);
+            Assert.All(f, AssertUndefined);
+        }
+
+        Assert.Empty(m.Values.Where(v => v.GetProperty("test").GetString() == "welch"));
+        Assert.Empty(m.Values.Where(v => v.GetProperty("test").GetString() == "games_howell"));
+        var html = result.Html!;
+        Assert.DoesNotContain("variances differ", html, StringComparison.Ordinal);
+        Assert.Contains("the rule did not fire because equal variances could not be checked", html, StringComparison.Ordinal);
+        Assert.Contains("the Games–Howell rule did not fire because equal variances could not be checked", html, StringComparison.Ordinal);
+    }
+}
