@@ -43,11 +43,35 @@ public sealed class NumbersAtTheEdgesTests
             Assert.All(f, AssertUndefined);
         }
 
-        Assert.Empty(m.Values.Where(v => v.GetProperty("test").GetString() == "welch"));
-        Assert.Empty(m.Values.Where(v => v.GetProperty("test").GetString() == "games_howell"));
+        Assert.DoesNotContain(m.Values, v => v.GetProperty("test").GetString() == "welch");
+        Assert.DoesNotContain(m.Values, v => v.GetProperty("test").GetString() == "games_howell");
         var html = result.Html!;
         Assert.DoesNotContain("variances differ", html, StringComparison.Ordinal);
         Assert.Contains("the rule did not fire because equal variances could not be checked", html, StringComparison.Ordinal);
         Assert.Contains("the Games–Howell rule did not fire because equal variances could not be checked", html, StringComparison.Ordinal);
+    }
+
+    [Theory]
+    [InlineData("0.02", "g,y\na,1\na,2\nb,3\n", "```anova main\n```\n\n```posthoc pairs\nof: main\n```\n")] // critical t(0.02/2; 1) = 31.8, F(0.02; 1, 1) = 1012.9
+    [InlineData("0.0007", "g,y\na,1\na,2\nb,3\nb,5\nb,4\n", "```summary s\n```\n")] // t(0.00035; 1) = 909.5 for the group of two
+    [InlineData("0.0005", "g,y\na,1\na,2\nb,3\nb,5\n", "```power plan\ngroups: 2\neffect: 0.4\nn: 2\n```\n")] // F(0.0005; 1, 2) = 1999
+    [InlineData("0.01", "g,y\na,1\na,2\nb,3\nb,5\nc,4\n", "```anova main\nwelch: yes\n```\n\n```assumptions checks\nof: main\n```\n\n```posthoc pairs\nof: main\nmethod: tukey\n```\n")] // 2 residual df
+    [InlineData("0.01", "g,y\na,1\na,2\nb,3\nc,4\n", "```anova main\n```\n\n```posthoc pairs\nof: main\ncontrol: a\n```\n")] // 1 residual df, F(0.01; 2, 1) = 4999.5
+    public void LargeCriticalValues_DoNotCrash(string alpha, string csv, string blocks)
+    {
+        // Each study was an internal error (exit 70) before: the critical value's inversion failed.
+        var study = $"---\ntitle: Edges\nalpha: {alpha}\ndata: data.csv\nresponse: y\nfactors:\n  g:\n---\n\n{blocks}";
+        using var run = new StudyRun().Study(study).File("data.csv", csv);
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        var m = new ManifestView(result.ManifestJson!);
+        foreach (var v in m.Values)
+        {
+            if (v.GetProperty("stat").GetString() is "p" or "p_adj" && v.GetProperty("value").ValueKind == JsonValueKind.Number)
+            {
+                var p = v.GetProperty("value").GetDouble();
+                Assert.InRange(p, 0.0, 1.0);
+            }
+        }
     }
 }
