@@ -152,7 +152,11 @@ public sealed class AnovaKind : BlockKind
         }
 
         outcome.ResponseCentre = centre;
-        var input = new AnovaInput(response, factors, options.Interaction, options.SsType, context.Header.Alpha);
+        var input = new AnovaInput(response, factors, options.Interaction, options.SsType, context.Header.Alpha)
+        {
+            // Exact decimal data give exact sums of squares (one factor, untransformed response).
+            Exact = options.Transform == TransformKind.None && data.Factors.Count == 1 ? data.Exact?.AsScaled() : null,
+        };
         if (data.Factors.Count > 1 && AnovaDesign.Check(input) is { } problem)
         {
             if (problem.Kind == DesignProblemKind.EmptyCell && problem.Cell is { } cell)
