@@ -74,4 +74,26 @@ public sealed class NumbersAtTheEdgesTests
             }
         }
     }
+
+    [Fact]
+    public void LevelWithEveryResponseMissing_IsShownWithNZero_AndMentionedByTheOtherKinds()
+    {
+        // Exact hand computation: level c has two rows, both with a missing response.
+        const string study = "---\ntitle: Missing\ndata: data.csv\nresponse: y\nfactors:\n  g:\n---\n\n"
+            + "```summary s\n```\n\n```anova main\n```\n\n```posthoc pairs\nof: main\n```\n";
+        const string csv = "g,y\na,1.0\na,2.0\na,1.5\nb,3.5\nb,4.0\nb,4.4\nc,\nc,\n";
+        using var run = new StudyRun().Study(study).File("data.csv", csv);
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        var m = new ManifestView(result.ManifestJson!);
+        Assert.Equal(0, m.Get("s", "summary", "g", "n", "c"));
+        Assert.Equal(2, m.Get("s", "summary", "g", "missing", "c"));
+        AssertUndefined(m.Find("s", "summary", "g", "mean", "c").Single());
+        AssertUndefined(m.Find("s", "summary", "g", "sd", "c").Single());
+        Assert.Equal(3, m.Get("s", "summary", "g", "n", "a"));
+        var html = result.Html!;
+        Assert.Contains("Group &#39;c&#39; has no observations", html.Replace("'", "&#39;", StringComparison.Ordinal), StringComparison.Ordinal);
+        Assert.Contains("Group(s) without any observed response (c)", html, StringComparison.Ordinal);
+        Assert.Equal(1, m.Get("main", "anova", "g", "df"));
+    }
 }

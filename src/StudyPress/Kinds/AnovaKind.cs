@@ -190,7 +190,7 @@ public sealed class AnovaKind : BlockKind
             OneFactorChecks(context, block, outcome, options, inputs);
         }
 
-        AddCautions(outcome, data, options);
+        AddCautions(context, block, outcome, data, options);
         if (context.Header.Report.Figures)
         {
             var shape = data.Factors.Count == 1 ? Figures.Means(data, context.Header.Alpha) : Figures.Interaction(outcome);
@@ -349,7 +349,7 @@ public sealed class AnovaKind : BlockKind
 
     private static string P(Quantity p) => !p.IsDefined ? "not defined" : p.Value < 0.001 ? "< 0.001" : p.Value.ToString("F3", CultureInfo.InvariantCulture);
 
-    private static void AddCautions(Outcome outcome, BlockData data, Options options)
+    private static void AddCautions(EvaluationContext context, BoundBlock block, Outcome outcome, BlockData data, Options options)
     {
         var cells = data.Cells();
         var ones = cells.Where(c => c.Values.Length == 1).Select(c => c.Label).ToList();
@@ -375,6 +375,12 @@ public sealed class AnovaKind : BlockKind
         if (data.DroppedMissing > 0)
         {
             outcome.Notes.Add(string.Create(CultureInfo.InvariantCulture, $"{data.DroppedMissing} row(s) with a missing value were left out of this analysis."));
+        }
+
+        var empty = SummaryKind.EmptyGroups(context, block, data);
+        if (empty.Count > 0)
+        {
+            outcome.Notes.Add($"Group(s) without any observed response ({string.Join(", ", empty)}): every response is missing, so they are not part of this analysis, its comparisons or its figures.");
         }
     }
 

@@ -95,6 +95,12 @@ public sealed class PostHocKind : BlockKind
             return outcome;
         }
 
+        var empty = SummaryKind.EmptyGroups(context, anova.Block, anova.Data);
+        if (empty.Count > 0)
+        {
+            outcome.Notes.Add($"Group(s) without any observed response ({string.Join(", ", empty)}) are not compared: every response in them is missing.");
+        }
+
         if (options.Control is { } control && !factor.Levels.Contains(control))
         {
             diagnostics.UnknownControl(options.ControlLocation, control, factor.Spec.Name, DiagnosticBag.Nearest(control, factor.Levels));
