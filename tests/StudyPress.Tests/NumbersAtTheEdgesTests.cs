@@ -96,4 +96,23 @@ public sealed class NumbersAtTheEdgesTests
         Assert.Contains("Group(s) without any observed response (c)", html, StringComparison.Ordinal);
         Assert.Equal(1, m.Get("main", "anova", "g", "df"));
     }
+
+    [Fact]
+    public void ConstantGroups_NormalityOfExactlyZeroResiduals_IsNotDefined()
+    {
+        // Exact hand computation: every group constant, so every residual is exactly 0 (their
+        // floating-point values may carry rounding from the centring) and W is 0/0.
+        const string study = "---\ntitle: Constant\ndata: data.csv\nresponse: y\nfactors:\n  g:\n---\n\n```anova main\n```\n\n```assumptions checks\nof: main\n```\n";
+        const string csv = "g,y\na,0.1\na,0.1\na,0.1\nb,0.7\nb,0.7\nc,10.3\nc,10.3\nc,10.3\n";
+        using var run = new StudyRun().Study(study).File("data.csv", csv);
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        var m = new ManifestView(result.ManifestJson!);
+        var w = m.Values.Where(v => v.GetProperty("test").GetString() == "shapiro_wilk" && v.GetProperty("stat").GetString() is "w" or "p").ToList();
+        Assert.NotEmpty(w);
+        Assert.All(w, AssertUndefined);
+        var bart = m.Values.Where(v => v.GetProperty("test").GetString() is "bartlett" or "brown_forsythe" or "levene" && v.GetProperty("stat").GetString() is "statistic" or "f" or "p").ToList();
+        Assert.NotEmpty(bart);
+        Assert.All(bart, AssertUndefined);
+    }
 }

@@ -122,4 +122,14 @@ public class QuantileTests
         var term = AnovaTable.Term("g", ["g"], 1e8, 2, 1.0, 10, 1e8 + 1, 0.05);
         Assert.Equal(1e4, term.CohenF.Value);
     }
+
+    [Fact]
+    public void KruskalWallis_AllTied_IsNotDefined()
+    {
+        // Exact hand computation: every value equal, the ranks carry no information (C = 0).
+        double[][] groups = [[0.3, 0.3], [0.3, 0.3, 0.3], [0.3]];
+        var r = Nonparametric.KruskalWallis.Test(groups);
+        Assert.False(r.H.IsDefined);
+        Assert.False(r.P.IsDefined);
+    }
 }
