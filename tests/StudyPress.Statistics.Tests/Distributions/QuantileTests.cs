@@ -128,7 +128,7 @@ public class QuantileTests
     {
         // Exact hand computation: every value equal, the ranks carry no information (C = 0).
         double[][] groups = [[0.3, 0.3], [0.3, 0.3, 0.3], [0.3]];
-        var r = Nonparametric.KruskalWallis.Test(groups);
+        var r = StudyPress.Statistics.Nonparametric.KruskalWallis.Test(groups);
         Assert.False(r.H.IsDefined);
         Assert.False(r.P.IsDefined);
     }
