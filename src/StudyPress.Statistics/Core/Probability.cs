@@ -88,9 +88,75 @@ public static class Probability
             return -Normal.InvCDF(0, 1, 0.5 * alpha);
         }
 
+        if (alpha <= 0.5 && df <= MaxSeriesDf && df == Math.Floor(df))
+        {
+            return SolveLog(u => TTwoSidedSeries(Math.Exp(u), (int)df), alpha, decreasing: true, start: 0.0);
+        }
+
         return alpha <= 0.5
             ? SolveLog(u => TTwoSided(Math.Exp(u), df), alpha, decreasing: true, start: 0.0)
             : SolveLog(u => TTwoSidedInner(Math.Exp(u), df), 1.0 - alpha, decreasing: false, start: 0.0);
+    }
+
+    /// <summary>Largest integer df for which <see cref="TTwoSidedSeries"/> is used (its length grows with df).</summary>
+    private const int MaxSeriesDf = 1000;
+
+    /// <summary>
+    /// P(|T| &gt;= t) for an integer ν ≥ 1 as a series of positive terms, accurate to a few units
+    /// in the last place (MathNet's incomplete beta loses about two digits at large ν through
+    /// ln Γ differences). With c = ν/(ν + t²) = cos²θ, θ = atan(t/√ν), the classical finite
+    /// series for P(|T| &lt; t) (Abramowitz and Stegun 26.7.3–4) are the first terms of
+    /// expansions that sum to 1; the tail is therefore the rest of them:
+    /// even ν: s Σ_{j ≥ ν/2} a_j c^j, a_j = (2j − 1)!!/(2j)!!, s = sinθ (from Σ a_j c^j = 1/s);
+    /// odd ν: (2/π) s √c Σ_{j ≥ (ν − 1)/2} b_j c^j, b_j = (2j)!!/(2j + 1)!!
+    /// (from arcsin(x)/(x√(1 − x²)) = Σ b_j x^(2j) at x = cosθ). ln c = −log1p(t²/ν) keeps c^j accurate.
+    /// </summary>
+    internal static double TTwoSidedSeries(double t, int df)
+    {
+        if (!(t > 0))
+        {
+            return 1.0;
+        }
+
+        var ratio = t * t / df;
+        if (double.IsPositiveInfinity(ratio))
+        {
+            return 0.0;
+        }
+
+        var lnC = -Elementary.Log1P(ratio);
+        var c = Math.Exp(lnC);
+        var even = df % 2 == 0;
+        var j0 = even ? df / 2 : (df - 1) / 2;
+
+        // The coefficient at j0 by its recurrence, then the first term in logarithms.
+        double coef = 1;
+        for (var j = 1; j <= j0; j++)
+        {
+            coef *= even ? (2.0 * j - 1) / (2.0 * j) : 2.0 * j / (2.0 * j + 1);
+        }
+
+        // s = t/√(ν + t²); s √c = t √ν/(ν + t²) = √(ratio)/(1 + ratio).
+        var prefactor = even ? Math.Sqrt(ratio / (1 + ratio)) : 2 / Math.PI * Math.Sqrt(ratio) / (1 + ratio);
+        var term = Math.Exp(Math.Log(coef) + (j0 * lnC));
+        if (term == 0)
+        {
+            return 0.0;
+        }
+
+        double sum = 0;
+        for (var j = j0; j < j0 + 10_000_000; j++)
+        {
+            sum += term;
+            if (term < sum * 1e-17)
+            {
+                break;
+            }
+
+            term *= c * (even ? (2.0 * j + 1) / (2.0 * j + 2) : (2.0 * j + 2) / (2.0 * j + 3));
+        }
+
+        return Math.Min(1.0, prefactor * sum);
     }
 
     /// <summary>P(chi-square(df) &gt;= x).</summary>

@@ -22,9 +22,8 @@ public class QuantileTests
     [InlineData(0.9, 10.0, 0.1288901892932737879)] // mpmath 1.3.0
     [InlineData(0.05, 1000.0, 1.962339080826408485)] // mpmath 1.3.0
     public void TCritical_MatchesHighPrecisionValues(double alpha, double df, double expected) =>
-        // Closed forms (1 and 2 df) to within a few units in the last place; elsewhere the
-        // accuracy is that of the incomplete beta function (MathNet), about 13.5 digits at 30–1000 df.
-        Accuracy.AssertLre(Probability.TCritical(alpha, df), expected, df <= 2 ? 15.0 : 13.5, $"t({alpha}, {df})");
+        // Every printed digit: closed forms at 1 and 2 df, the positive tail series for integer df.
+        Accuracy.AssertLre(Probability.TCritical(alpha, df), expected, 15.0, $"t({alpha}, {df})");
 
     [Theory]
     [InlineData(0.05, 2.0, 1.0, 199.5)] // exact hand computation: F(2, 1) upper tail (1 + 2f)^(-1/2) = α gives f = (α⁻² − 1)/2
