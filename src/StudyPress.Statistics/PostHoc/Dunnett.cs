@@ -33,8 +33,8 @@ namespace StudyPress.Statistics.PostHoc;
 /// for ν from 1 to 1000 and p down to 1e-30 (tests); the range of s reaches down to where the
 /// far-tail integrand peaks, and the result is kept within its Bonferroni bounds
 /// P(|T| &gt;= c) &lt;= p &lt;= m P(|T| &gt;= c). The critical value c solves
-/// P(max |t_i| &gt;= c) = alpha by Brent's method between the unadjusted and the Bonferroni t
-/// quantiles, which bracket it.
+/// P(max |t_i| &gt;= c) = alpha by Brent's method on the logarithms, between the unadjusted and
+/// the Bonferroni t quantiles, which bracket it.
 /// </para>
 /// <para>
 /// Adjusted p-value of comparison i: P(max_j |t_j| &gt;= |t_i|) (single step). Intervals:
@@ -110,17 +110,21 @@ public static class Dunnett
         var sd = 1.0 / Math.Sqrt(2.0 * df);
         var spread = 1.0 / Math.Sqrt(2.0 * (df + (c * c)));
         var peak = Math.Sqrt(Math.Max(df - 1.0, 0.0) / (df + (c * c)));
-        var lo = Math.Max(0.0, Math.Min(1.0 - (14.0 * sd), peak - (14.0 * spread)));
+        var bulkLo = Math.Max(0.0, 1.0 - (14.0 * sd));
+        var lo = Math.Max(0.0, Math.Min(bulkLo, peak - (14.0 * spread)));
         var hi = 1.0 + (14.0 * sd);
-
-        // Panels about one standard deviation of s (or of the tail's peak) wide; finer (1/(2c))
-        // where c s < 12, since for small ν and large c the mass of the integrand sits at small s,
-        // where P(max |Z| >= c s) still changes quickly.
-        var coarse = Math.Min(sd, spread);
-        var fine = Math.Min(coarse, 0.5 / c);
-        var edge = Math.Min(hi, Math.Max(lo, 12.0 / c));
         var edges = new List<double>();
-        AddPanels(edges, lo, edge, fine);
+
+        // Below the bulk of s (large ν, far tail): panels about the tail's spread wide (at most 400).
+        AddPanels(edges, lo, bulkLo, Math.Max(spread, (bulkLo - lo) / 400.0));
+
+        // Panels about one standard deviation of s wide; finer (1/(2c)) where c s < 12, since
+        // for small ν and large c the mass of the integrand sits at small s, where P(max |Z| >= c s)
+        // still changes quickly.
+        var coarse = sd;
+        var fine = Math.Min(coarse, 0.5 / c);
+        var edge = Math.Min(hi, Math.Max(bulkLo, 12.0 / c));
+        AddPanels(edges, bulkLo, edge, fine);
         AddPanels(edges, edge, hi, coarse);
         edges.Add(hi);
         var panels = edges.Count - 1;
@@ -197,9 +201,26 @@ public static class Dunnett
             return single;
         }
 
+        // The single and the Bonferroni quantiles bracket c (the probability lies within its
+        // Bonferroni bounds). Solved on ln P − ln alpha against ln c, so that tiny alphas keep
+        // their relative accuracy (an absolute tolerance on P would accept any c there).
         var bonferroni = Quantile(alpha / m, df);
-        double F(double c) => UpperProbability(c, lambdas, df) - alpha;
-        return Brent.FindRoot(F, single * 0.999, bonferroni * 1.001, 1e-11, 200);
+        var lnAlpha = Math.Log(alpha);
+        double G(double u) => lnAlpha - Math.Log(UpperProbability(Math.Exp(u), lambdas, df));
+        double lo = Math.Log(single), hi = Math.Log(bonferroni);
+        double glo = G(lo), ghi = G(hi);
+        // The probability is kept within its bounds, so only rounding can put an end beyond the root.
+        if (glo >= 0)
+        {
+            return single;
+        }
+
+        if (ghi <= 0)
+        {
+            return bonferroni;
+        }
+
+        return Math.Exp(Distributions.RootFinding.Brent(G, lo, hi, glo, ghi, 1e-13));
     }
 
     private static Quantity CriticalValueQuantity(double alpha, IReadOnlyList<double> lambdas, double df)
