@@ -32,12 +32,12 @@ public static class ExactSums
     /// (0 .. groups − 1; groups without observations are ignored), or null when the exact route does
     /// not apply (lengths differ, or the denominators would be too large).
     /// </summary>
-    public static OneWaySums? OneWay(ScaledIntegers values, IReadOnlyList<int> codes, int groups)
+    public static OneWaySums? OneWay(ScaledIntegers values, int[] codes, int groups)
     {
         ArgumentNullException.ThrowIfNull(values);
         ArgumentNullException.ThrowIfNull(codes);
         var m = values.Mantissas;
-        if (m.Length != codes.Count || m.Length == 0 || values.Scale is < 0 or > 28)
+        if (m.Length != codes.Length || m.Length == 0 || values.Scale is < 0 or > 28)
         {
             return null;
         }
@@ -56,20 +56,38 @@ public static class ExactSums
 
         if (max < 1L << 40)
         {
-            var s = new Int128[groups];
-            var q = new Int128[groups];
+            // Sums in 64 bits (|m| < 2^40 and fewer than 2^23 rows per flush), squares as a
+            // 128-bit (high, low) pair with the carry by hand: a few integer operations a row.
+            var s = new long[groups];
+            var hiQ = new ulong[groups];
+            var loQ = new ulong[groups];
+            var pending = 0;
             for (var i = 0; i < m.Length; i++)
             {
                 var g = codes[i];
+                var v = m[i];
                 counts[g]++;
-                s[g] += m[i];
-                q[g] += (Int128)m[i] * m[i];
+                s[g] += v;
+                var a = (ulong)Math.Abs(v);
+                var high = Math.BigMul(a, a, out var low);
+                var sumLow = loQ[g] + low;
+                hiQ[g] += high + (sumLow < low ? 1UL : 0UL);
+                loQ[g] = sumLow;
+                if (++pending == 1 << 23)
+                {
+                    pending = 0;
+                    for (var k = 0; k < groups; k++)
+                    {
+                        sums[k] += s[k];
+                        s[k] = 0;
+                    }
+                }
             }
 
             for (var g = 0; g < groups; g++)
             {
-                sums[g] = (BigInteger)s[g];
-                squares[g] = (BigInteger)q[g];
+                sums[g] += s[g];
+                squares[g] = ((BigInteger)hiQ[g] << 64) + loQ[g];
             }
         }
         else
