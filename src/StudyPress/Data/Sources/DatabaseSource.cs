@@ -100,9 +100,31 @@ public static class DatabaseSource
         return spec.Query is null ? ds : Copy(ds, spec.Query, resultSha);
     }
 
-    /// <summary>Opens the connection, read-only and confined to the one file; null after reporting.</summary>
+    /// <summary>
+    /// Opens the connection, read-only and confined to the one file; null after reporting.
+    /// <paramref name="fullPath"/> is the real path (<see cref="PathGuard.Locate"/>) that was hashed;
+    /// it reaches each provider as a value of its connection-string builder or as an SQL string
+    /// literal, never pasted into connection-string text.
+    /// </summary>
     internal static DbConnection? Open(DatasetSpec spec, string fullPath, DiagnosticBag diagnostics)
     {
+        if (spec.Format == DataFormat.Parquet && fullPath.IndexOfAny(PatternCharacters) is var p && p >= 0)
+        {
+            diagnostics.PathPatternCharacter(spec.PathLocation, spec.Path, fullPath[p]);
+            return null;
+        }
+
+        // A write-ahead log beside the database would be read with it, but only the database file is hashed.
+        foreach (var side in spec.Format switch { DataFormat.Sqlite => new[] { "-wal" }, DataFormat.DuckDb => [".wal"], _ => [] })
+        {
+            var kind = FileKinds.Lstat(fullPath + side);
+            if (kind != FileKind.Missing && !(kind == FileKind.Regular && new FileInfo(fullPath + side).Length == 0))
+            {
+                diagnostics.DatabaseSideFile(spec.PathLocation, spec.Path, Path.GetFileName(fullPath) + side);
+                return null;
+            }
+        }
+
         try
         {
             switch (spec.Format)
@@ -118,7 +140,7 @@ public static class DatabaseSource
 
                 case DataFormat.DuckDb:
                     {
-                        var c = new DuckDBConnection("Data Source=" + fullPath + ";ACCESS_MODE=READ_ONLY");
+                        var c = new DuckDBConnection(DuckDbConnectionString(fullPath));
                         c.Open();
                         Execute(c, "SET enable_external_access = false; SET lock_configuration = true;");
                         return c;
@@ -147,6 +169,17 @@ public static class DatabaseSource
 
             return null;
         }
+    }
+
+    /// <summary>Characters DuckDB's file readers take as a pattern (glob) in a path.</summary>
+    internal static readonly char[] PatternCharacters = ['*', '?', '['];
+
+    /// <summary>A read-only DuckDB connection string for one database file, built by the provider's builder (values quoted as needed).</summary>
+    internal static string DuckDbConnectionString(string fullPath)
+    {
+        var builder = new DuckDBConnectionStringBuilder { DataSource = fullPath };
+        builder["ACCESS_MODE"] = "READ_ONLY";
+        return builder.ConnectionString;
     }
 
     internal static void Execute(DbConnection c, string sql)
