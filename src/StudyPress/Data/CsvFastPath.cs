@@ -471,7 +471,7 @@ internal static class CsvFastPath
                         if (code < 0)
                         {
                             var s = Encoding.UTF8.GetString(cell);
-                            if (levels.Count == MaxLevels || s.Length == 0 || s.Trim().Length != s.Length || cell.IndexOfAnyInRange((byte)0, (byte)0x1F) >= 0)
+                            if (levels.Count == MaxLevels || s.Length == 0 || s.Trim().Length != s.Length || !LevelText.IsClean(s))
                             {
                                 return false;
                             }

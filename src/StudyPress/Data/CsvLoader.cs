@@ -166,6 +166,7 @@ public static class CsvLoader
         var seenLookup = seen.Select(d => d.GetAlternateLookup<ReadOnlySpan<char>>()).ToArray();
         var seenNames = factorCols.Select(_ => new List<string>()).ToArray();
         var seenDeclared = factorCols.Select(_ => new List<bool>()).ToArray();
+        var seenClean = factorCols.Select(_ => new List<bool>()).ToArray();
         var missing = new HashSet<string>(spec.Missing, StringComparer.Ordinal).GetAlternateLookup<ReadOnlySpan<char>>();
         var rows = 0;
         var lines = new int[capacity];
@@ -300,10 +301,15 @@ public static class CsvLoader
                     seen[c][text] = code;
                     seenNames[c].Add(text);
                     seenDeclared[c].Add(factorCols[c].Spec.Levels is not { } levels || levels.Contains(text));
+                    seenClean[c].Add(LevelText.IsClean(text));
                 }
 
                 codes[c][r] = code;
-                if (!seenDeclared[c][code])
+                if (!seenClean[c][code])
+                {
+                    LevelText.Check(null, seenNames[c][code], factorCols[c].Spec.Column, CellLocation(displayPath, line, raw, factorCols[c].Index, spec.Delimiter), null, diagnostics);
+                }
+                else if (!seenDeclared[c][code])
                 {
                     var cellText = seenNames[c][code];
                     var declared = factorCols[c].Spec.Levels!;

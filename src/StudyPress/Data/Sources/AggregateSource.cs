@@ -191,7 +191,7 @@ public static partial class AggregateSource
                     var values = new object?[reader.FieldCount];
                     for (var i = 0; i < values.Length; i++)
                     {
-                        values[i] = reader.IsDBNull(i) ? null : reader.GetValue(i);
+                        values[i] = DatabaseSource.Value(reader, i);
                     }
 
                     hash.Row(values);
@@ -252,6 +252,17 @@ public static partial class AggregateSource
         var missing = new HashSet<string>(spec.Missing, StringComparer.Ordinal);
         var errors = diagnostics.Items.Count;
         var text = raw.Select(c => c.Keys.Select(v => TableColumns.Text(v)?.Trim() is { } t && !missing.Contains(t) ? t : null).ToArray()).ToList();
+        for (var i = 0; i < raw.Count; i++)
+        {
+            for (var f = 0; f < factors.Count; f++)
+            {
+                if (text[i][f] is { } t && !LevelText.Check(raw[i].Keys[f], t, factors[f].Column, factors[f].Location, "a group of the database's result", diagnostics))
+                {
+                    text[i][f] = null;
+                }
+            }
+        }
+
         var levels = new List<IReadOnlyList<string>>();
         for (var f = 0; f < factors.Count; f++)
         {

@@ -55,7 +55,7 @@ public static class DatabaseSource
                 var values = new object?[reader.FieldCount];
                 for (var i = 0; i < values.Length; i++)
                 {
-                    values[i] = reader.IsDBNull(i) ? null : reader.GetValue(i);
+                    values[i] = Value(reader, i);
                 }
 
                 hash.Row(values);
@@ -98,6 +98,22 @@ public static class DatabaseSource
         }
 
         return spec.Query is null ? ds : Copy(ds, spec.Query, resultSha);
+    }
+
+    /// <summary>
+    /// One cell of a result. SQLite text is taken from its bytes: TEXT may hold bytes that are not
+    /// UTF-8 (kept as <see cref="InvalidText"/>, to be reported) and NUL characters (kept, where the
+    /// provider's decoding would replace or cut them), so no two different texts read as one.
+    /// </summary>
+    internal static object? Value(DbDataReader reader, int i)
+    {
+        if (reader.IsDBNull(i))
+        {
+            return null;
+        }
+
+        var v = reader.GetValue(i);
+        return v is string && reader is SqliteDataReader ? InvalidText.Decode(reader.GetFieldValue<byte[]>(i)) : v;
     }
 
     /// <summary>

@@ -124,8 +124,14 @@ public static class TableColumns
             var text = new string?[rows];
             for (var r = 0; r < rows; r++)
             {
-                var t = Text(table.Rows[r][c])?.Trim();
+                var raw = table.Rows[r][c];
+                var t = Text(raw)?.Trim();
                 if (t is null || missing.Contains(t))
+                {
+                    continue;
+                }
+
+                if (!LevelText.Check(raw, t, f.Column, table.At(r, c), table.Where(r, c), diagnostics))
                 {
                     continue;
                 }
