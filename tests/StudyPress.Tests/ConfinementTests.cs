@@ -47,10 +47,16 @@ public sealed class ConfinementTests
         var task = Task.Run(() => run.Cli(["build", "study.md", .. extra]));
         if (!task.Wait(NoHang))
         {
-            if (fifo is not null)
+            // Open the other end (as often as the reader reopens it) so the blocked build sees end of
+            // file, ends and restores the working folder before the next test.
+            for (var i = 0; fifo is not null && i < 60 && !task.Wait(TimeSpan.FromSeconds(1)); i++)
             {
-                // Open the other end so the blocked reader sees end of file and the test run can go on.
-                using var writer = new FileStream(fifo, FileMode.Open, FileAccess.Write);
+                // O_WRONLY | O_NONBLOCK: fails at once instead of waiting when no reader is there.
+                var fd = open(fifo, 0x1 | 0x800);
+                if (fd >= 0)
+                {
+                    _ = close(fd);
+                }
             }
 
             task.Wait(NoHang);
@@ -291,6 +297,14 @@ public sealed class ConfinementTests
     [DllImport("libc", SetLastError = true)]
     [DefaultDllImportSearchPaths(DllImportSearchPath.SafeDirectories)]
     private static extern int mkfifo([MarshalAs(UnmanagedType.LPUTF8Str)] string path, uint mode);
+
+    [DllImport("libc", SetLastError = true)]
+    [DefaultDllImportSearchPaths(DllImportSearchPath.SafeDirectories)]
+    private static extern int open([MarshalAs(UnmanagedType.LPUTF8Str)] string path, int flags);
+
+    [DllImport("libc", SetLastError = true)]
+    [DefaultDllImportSearchPaths(DllImportSearchPath.SafeDirectories)]
+    private static extern int close(int fd);
 
     [Theory]
     [InlineData("data.csv", "data.csv")]

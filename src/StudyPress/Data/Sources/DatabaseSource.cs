@@ -102,8 +102,8 @@ public static class DatabaseSource
 
     /// <summary>
     /// One cell of a result. SQLite text is taken from its bytes: TEXT may hold bytes that are not
-    /// UTF-8 (kept as <see cref="InvalidText"/>, to be reported) and NUL characters (kept, where the
-    /// provider's decoding would replace or cut them), so no two different texts read as one.
+    /// UTF-8, which the provider would decode with replacement characters (so that different texts
+    /// read as one); they are kept as <see cref="InvalidText"/>, to be reported.
     /// </summary>
     internal static object? Value(DbDataReader reader, int i)
     {
