@@ -42,9 +42,13 @@ public sealed class ConfinementTests
     }
 
     /// <summary>Runs the CLI build; fails (after unblocking <paramref name="fifo"/>, if given) when it does not end in time.</summary>
-    private static (int Exit, string Out, string Err) BuildWithin(StudyRun run, string? fifo, params string[] extra)
+    private static (int Exit, string Out, string Err) BuildWithin(StudyRun run, string? fifo, params string[] extra) =>
+        CliWithin(run, fifo, ["build", "study.md", .. extra]);
+
+    /// <summary>Runs the CLI; fails (after unblocking <paramref name="fifo"/>, if given) when it does not end in time.</summary>
+    private static (int Exit, string Out, string Err) CliWithin(StudyRun run, string? fifo, string[] args)
     {
-        var task = Task.Run(() => run.Cli(["build", "study.md", .. extra]));
+        var task = Task.Run(() => run.Cli(args));
         if (!task.Wait(NoHang))
         {
             // Open the other end (as often as the reader reopens it) so the blocked build sees end of
@@ -60,7 +64,7 @@ public sealed class ConfinementTests
             }
 
             task.Wait(NoHang);
-            Assert.Fail("the build blocked on the data path");
+            Assert.Fail("the command blocked on the data path");
         }
 
         return task.Result;
@@ -321,6 +325,53 @@ public sealed class ConfinementTests
         Assert.Equal(2, exit);
         Assert.EndsWith($"error: data path '{file}' is a named pipe (FIFO), not a regular file; only regular files are read as data\n", err, StringComparison.Ordinal);
         Assert.Single(err.TrimEnd('\n').Split('\n'));
+    }
+
+    [Fact]
+    public void Build_DataReplacedByANamedPipeAfterABuild_TheUpToDateCheckDoesNotBlock()
+    {
+        // The second build first asks the build cache whether the inputs changed, which hashes them.
+        using var run = new StudyRun().Study(Study("data.csv")).File("data.csv", Csv);
+        var (exit, _, err) = run.Cli("build", "study.md");
+        Assert.True(exit == 0, err);
+        var fifo = Path.Combine(run.Folder, "data.csv");
+        File.Delete(fifo);
+        Assert.Equal(0, mkfifo(fifo, Convert.ToUInt32("600", 8)));
+        (exit, _, err) = BuildWithin(run, fifo);
+        Assert.Equal((2, "study.md:3:7: error: data path 'data.csv' is a named pipe (FIFO), not a regular file; only regular files are read as data\n"), (exit, err));
+    }
+
+    [Fact]
+    public void Verify_DataReplacedByANamedPipe_SaysSoWithoutBlocking()
+    {
+        using var run = new StudyRun().Study(Study("data.csv")).File("data.csv", Csv);
+        var (exit, _, err) = run.Cli("build", "study.md");
+        Assert.True(exit == 0, err);
+        var fifo = Path.Combine(run.Folder, "data.csv");
+        File.Delete(fifo);
+        Assert.Equal(0, mkfifo(fifo, Convert.ToUInt32("600", 8)));
+        var (_, output, _) = CliWithin(run, fifo, ["verify", "study.html"]);
+        Assert.Contains("data.csv (not a regular file)", output, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void Build_PathThroughALinkThenDotDotUnderAllowOutsideData_TheUpToDateCheckHashesTheFileRead()
+    {
+        // 'data/x/../secret.csv' with data/x linking out: the build reads the outside file, so the
+        // cache must watch that file, not the decoy data/secret.csv that the text names.
+        using var run = new StudyRun().Study(Study("data/x/../secret.csv"));
+        var (outside, secret) = EvilLink(run, ".csv");
+        using (outside)
+        {
+            var (exit, _, err) = run.Cli("build", "study.md", "--allow-outside-data");
+            Assert.True(exit == 0, err);
+            Assert.Contains(Sha(secret), File.ReadAllText(run.ReportPath), StringComparison.Ordinal);
+            File.WriteAllText(secret, Csv + "7,c,6.5\n");
+            (exit, var output, err) = run.Cli("build", "study.md", "--allow-outside-data");
+            Assert.True(exit == 0, err);
+            Assert.StartsWith("wrote ", output, StringComparison.Ordinal);
+            Assert.Contains(Sha(secret), File.ReadAllText(run.ReportPath), StringComparison.Ordinal);
+        }
     }
 
     [Fact]

@@ -64,12 +64,15 @@ public static class PathGuard
         return Walk(start, Split(Path.IsPathRooted(path) ? path[Path.GetPathRoot(path)!.Length..] : path), out realPath);
     }
 
-    /// <summary>The path with every symbolic link resolved (like realpath(3)); the textual path when it cannot be.</summary>
+    /// <summary>
+    /// The path with every symbolic link resolved and '..' applied as the kernel applies it (like
+    /// realpath(3)); the textual full path when it cannot be resolved (missing, loop).
+    /// </summary>
     public static string RealPath(string path)
     {
-        var full = Path.GetFullPath(path);
+        var full = Path.IsPathRooted(path) ? path : Path.Join(Directory.GetCurrentDirectory(), path);
         var root = Path.GetPathRoot(full) ?? "/";
-        return Walk(root, Split(full[root.Length..]), out var real) == Verdict.Inside ? real : full;
+        return Walk(root, Split(full[root.Length..]), out var real) == Verdict.Inside ? real : Path.GetFullPath(full);
     }
 
     /// <summary>

@@ -73,7 +73,7 @@ public static partial class ReportVerifier
         Check(studyFull, manifest.StudyPath, manifest.StudySha256, changed, missing);
         foreach (var input in manifest.Inputs)
         {
-            Check(Path.GetFullPath(Path.Combine(studyDir, input.Path)), input.Path, input.Sha256, changed, missing);
+            Check(Path.Combine(studyDir, input.Path), input.Path, input.Sha256, changed, missing);
         }
 
         if (manifest.TemplateSha256 != ReportTemplate.Sha256)
@@ -107,6 +107,15 @@ public static partial class ReportVerifier
 
     private static void Check(string full, string shown, string recorded, List<string> changed, List<string> missing)
     {
+        // The file a build would read (links and '..' resolved as the kernel does); a pipe or device
+        // is never opened (it would block or never end).
+        full = Data.PathGuard.RealPath(full);
+        if (Data.FileKinds.Lstat(full) is not (Data.FileKind.Regular or Data.FileKind.Missing))
+        {
+            missing.Add(shown + " (not a regular file)");
+            return;
+        }
+
         try
         {
             using var stream = File.OpenRead(full);
