@@ -95,13 +95,13 @@ public static class BuildCommand
     {
         if (StudyPressCommand.RejectOptionLike(request.Paths, "build", stderr))
         {
-            return StudyPressCommand.BadInput;
+            return StudyPressCommand.Usage;
         }
 
         if (request.Jobs is < 1)
         {
             stderr.WriteLine("studypress: error: --jobs must be 1 or more");
-            return StudyPressCommand.BadInput;
+            return StudyPressCommand.Usage;
         }
 
         var studies = StudyDiscovery.Resolve(request.Paths, stderr);
@@ -113,7 +113,7 @@ public static class BuildCommand
         if (request.Json is not null && studies.Count > 1)
         {
             stderr.WriteLine("studypress: error: --json takes one study; several were given");
-            return StudyPressCommand.BadInput;
+            return StudyPressCommand.Usage;
         }
 
         var options = new CompileOptions
@@ -182,7 +182,14 @@ public static class BuildCommand
         return internalErrors != 0 ? StudyPressCommand.InternalError : progress.Failed == 0 ? StudyPressCommand.Ok : StudyPressCommand.BadInput;
     }
 
-    internal static string Display(string path) => Path.GetRelativePath(Directory.GetCurrentDirectory(), path).Replace('\\', '/');
+    /// <summary>A path for messages: relative to the working folder when it lies below it, else as given.</summary>
+    internal static string Display(string path)
+    {
+        var relative = Path.GetRelativePath(Directory.GetCurrentDirectory(), path).Replace('\\', '/');
+        return Path.IsPathRooted(path) && (relative == ".." || relative.StartsWith("../", StringComparison.Ordinal) || Path.IsPathRooted(relative))
+            ? path
+            : relative;
+    }
 
     /// <summary>
     /// Per-study lines when the output is redirected; one updating line on a terminal. Errors go

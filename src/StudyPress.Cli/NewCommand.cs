@@ -14,7 +14,7 @@ public static class NewCommand
     {
         if (StudyPressCommand.RejectOptionLike([dir], "new", stderr))
         {
-            return StudyPressCommand.BadInput;
+            return StudyPressCommand.Usage;
         }
 
         var files = new[] { (Path: Path.Combine(dir, StudyFile), Text: Study), (Path: Path.Combine(dir, DataFile), Text: Data) };

@@ -5,14 +5,16 @@ namespace StudyPress.Cli;
 
 /// <summary>
 /// The command line. Exit status: 0 success; 1 <c>verify</c> found a stale or altered report;
-/// 2 bad input or usage (messages in FILE:LINE:COLUMN: error: MESSAGE form); 70 an internal
-/// error (a bug; one line, no stack trace).
+/// 2 a study or its inputs have mistakes (messages in FILE:LINE:COLUMN: error: MESSAGE form);
+/// 64 the command line itself is wrong (unknown command or option, bad option value); 70 an
+/// internal error (a bug; one line, no stack trace).
 /// </summary>
 public static class StudyPressCommand
 {
     public const int Ok = 0;
     public const int NotFresh = 1;
     public const int BadInput = 2;
+    public const int Usage = 64;
     public const int InternalError = 70;
 
     /// <summary>Runs the command line with plain (non-terminal) output.</summary>
@@ -24,6 +26,16 @@ public static class StudyPressCommand
         try
         {
             var root = BuildRoot(stdout, stderr, interactive);
+            var commands = root.Subcommands.Select(c => c.Name).ToList();
+            if (args.Length > 0 && !args[0].StartsWith('-') && !commands.Contains(args[0]))
+            {
+                // One message for a mistyped command, not one per argument after it.
+                var near = Diagnostics.DiagnosticBag.Nearest(args[0], commands);
+                stderr.WriteLine($"studypress: error: unknown command '{args[0]}'" + (near is null ? $"; the commands are {string.Join(", ", commands)}" : $"; did you mean '{near}'?"));
+                stderr.WriteLine("Try 'studypress --help'.");
+                return Usage;
+            }
+
             var parse = root.Parse(args);
             if (parse.Errors.Count > 0)
             {
@@ -33,7 +45,7 @@ public static class StudyPressCommand
                 }
 
                 stderr.WriteLine("Try 'studypress --help'.");
-                return BadInput;
+                return Usage;
             }
 
             return parse.Invoke(new InvocationConfiguration { Output = stdout, Error = stderr, EnableDefaultExceptionHandler = false });
@@ -57,7 +69,8 @@ public static class StudyPressCommand
         {
             if (p.StartsWith('-') && !File.Exists(p) && !Directory.Exists(p))
             {
-                stderr.WriteLine($"studypress: error: unknown option '{p}'");
+                var near = p.StartsWith("--", StringComparison.Ordinal) ? Diagnostics.DiagnosticBag.Nearest(p, KnownOptions) : null;
+                stderr.WriteLine($"studypress: error: unknown option '{p}'" + (near is null ? string.Empty : $"; did you mean '{near}'?"));
                 stderr.WriteLine($"Try 'studypress {command} --help'.");
                 return true;
             }
@@ -66,9 +79,16 @@ public static class StudyPressCommand
         return false;
     }
 
+    private static readonly string[] KnownOptions = ["--out", "--json", "--jobs", "--force", "--pin", "--figures", "--quiet", "--allow-outside-data", "--recompute", "--help", "--version"];
+
     private static RootCommand BuildRoot(TextWriter stdout, TextWriter stderr, bool interactive)
     {
-        var root = new RootCommand("studypress: compile Markdown study files into self-contained, traceable HTML statistics reports.");
+        var root = new RootCommand("studypress: compile Markdown study files into self-contained, traceable HTML statistics reports. Exit status: 0 done; 1 verify found a stale or altered report; 2 a study or input has mistakes; 64 the command line is wrong; 70 internal error.");
+        foreach (var v in root.Options.OfType<VersionOption>())
+        {
+            v.Aliases.Add("-v");
+        }
+
         var allowOutside = new Option<bool>("--allow-outside-data") { Description = "Let data paths point outside the study's folder tree." };
 
         // build
@@ -77,13 +97,13 @@ public static class StudyPressCommand
             Arity = ArgumentArity.OneOrMore,
             Description = "Study files (*.md), or folders to search for them.",
         };
-        var outDir = new Option<string?>("--out") { Description = "Write reports into this folder instead of beside each study." };
-        var json = new Option<string?>("--json") { Description = "Also write the results manifest (JSON) to this file; one study only." };
+        var outDir = new Option<string?>("--out") { HelpName = "DIR", Description = "Write reports into this folder instead of beside each study." };
+        var json = new Option<string?>("--json") { HelpName = "FILE", Description = "Also write the results manifest (JSON) to this file; one study only." };
         var quiet = new Option<bool>("--quiet") { Description = "Print errors only." };
-        var jobs = new Option<int?>("--jobs") { Description = "Build this many studies at once (default: the number of processor cores)." };
+        var jobs = new Option<int?>("--jobs") { HelpName = "N", Description = "Build this many studies at once (default: the number of processor cores)." };
         var force = new Option<bool>("--force") { Description = "Rebuild every study, even those whose report is up to date." };
         var pin = new Option<bool>("--pin") { Description = "First write each input's current SHA-256 into the study header (data.NAME.sha256), then build." };
-        var figures = new Option<string?>("--figures") { Description = "Also write each figure as a PNG file into this folder." };
+        var figures = new Option<string?>("--figures") { HelpName = "DIR", Description = "Also write each figure as a PNG file into this folder." };
         var build = new Command("build", "Compile study files into HTML reports; a folder builds every study under it, skipping those that are up to date.");
         build.Arguments.Add(paths);
         foreach (var o in new Option[] { outDir, json, jobs, force, pin, figures, quiet, allowOutside })
@@ -124,7 +144,7 @@ public static class StudyPressCommand
             Arity = ArgumentArity.OneOrMore,
             Description = "Study files (*.md), or folders to search for them.",
         };
-        var watchOut = new Option<string?>("--out") { Description = "Write reports into this folder instead of beside each study." };
+        var watchOut = new Option<string?>("--out") { HelpName = "DIR", Description = "Write reports into this folder instead of beside each study." };
         var watch = new Command("watch", "Rebuild a study whenever it or one of its inputs changes. Stop with Ctrl+C.");
         watch.Arguments.Add(watchPaths);
         watch.Options.Add(watchOut);
@@ -141,6 +161,7 @@ public static class StudyPressCommand
         create.Arguments.Add(dir);
         create.SetAction(pr => NewCommand.Run(pr.GetValue(dir)!, stdout, stderr));
         root.Subcommands.Add(create);
+        root.Subcommands.Add(DiffCommand.Create(stdout, stderr, interactive));
         return root;
     }
 

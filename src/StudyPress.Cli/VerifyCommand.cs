@@ -14,7 +14,7 @@ public static class VerifyCommand
     {
         if (StudyPressCommand.RejectOptionLike(reports, "verify", stderr))
         {
-            return StudyPressCommand.BadInput;
+            return StudyPressCommand.Usage;
         }
 
         var exit = StudyPressCommand.Ok;

@@ -58,7 +58,7 @@ public sealed class WatchSession(WatchRequest request, TextWriter stdout, TextWr
     {
         if (StudyPressCommand.RejectOptionLike(request.Paths, "watch", stderr))
         {
-            return StudyPressCommand.BadInput;
+            return StudyPressCommand.Usage;
         }
 
         var studies = StudyDiscovery.Resolve(request.Paths, stderr);

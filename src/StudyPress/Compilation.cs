@@ -119,27 +119,37 @@ public static class Compilation
         var header = HeaderBinder.Bind(syntax.Header, display, diagnostics);
         var blocks = BlockBinder.Bind(syntax, header, diagnostics);
         var primary = blocks.ToDictionary(b => b.Id, b => b.Kind.PrimaryTest, StringComparer.Ordinal);
+        if (diagnostics.HasErrors)
+        {
+            return null;
+        }
+
+        // References that cannot be read, or name no block, are reported now and left out later;
+        // the build goes on so that the other references (even on the same line) are checked too.
+        var reportedReferences = new HashSet<ReferenceInline>();
         foreach (var r in syntax.References.Where(r => r.Closed))
         {
             var parts = References.Split(r.Text, out var error);
             if (parts is null)
             {
                 diagnostics.BadReferenceSyntax(r.Location, r.Text, error!);
+                reportedReferences.Add(r);
             }
-            else if (!primary.ContainsKey(parts[0]) && !syntax.Blocks.Any(b => b.Id == parts[0]))
+            else if (!primary.ContainsKey(parts[0]))
             {
-                diagnostics.UnknownBlockReference(r.Location, parts[0], DiagnosticBag.Nearest(parts[0], primary.Keys));
-            }
-        }
+                if (!syntax.Blocks.Any(b => b.Id == parts[0]) && !syntax.FailedIds.Contains(parts[0]))
+                {
+                    diagnostics.UnknownBlockReference(r.Location, parts[0], DiagnosticBag.Nearest(parts[0], primary.Keys));
+                }
 
-        if (diagnostics.HasErrors)
-        {
-            return null;
+                reportedReferences.Add(r);
+            }
         }
 
         var studyDir = Path.GetDirectoryName(Path.GetFullPath(studyPath))!;
+        var errorsBeforeData = diagnostics.Items.Count;
         var datasets = LoadDatasets(header, blocks, studyDir, display, options, diagnostics);
-        if (diagnostics.HasErrors)
+        if (diagnostics.Items.Skip(errorsBeforeData).Any(d => d.Severity == Severity.Error))
         {
             return null;
         }
@@ -165,7 +175,7 @@ public static class Compilation
         }
 
         var resolved = new Dictionary<ReferenceInline, ResolvedReference>();
-        foreach (var r in syntax.References.Where(r => r.Closed))
+        foreach (var r in syntax.References.Where(r => r.Closed && !reportedReferences.Contains(r)))
         {
             if (References.Resolve(r, context.Results, primary, header.Alpha, diagnostics) is { } v)
             {
@@ -185,9 +195,8 @@ public static class Compilation
 
         if (syntax.Blocks.Count == 0)
         {
-            // Checked last, so the other mistakes of a study still being written are reported first.
+            // A draft: the report is built (header, prose, data section) with a warning.
             diagnostics.NoBlocks(syntax.HeaderEnd);
-            return null;
         }
 
         // Render.
@@ -238,18 +247,28 @@ public static class Compilation
 
             foreach (var f in b.Factors)
             {
-                n.Factors.TryAdd(f.Name, (f, f.Location));
+                n.Factors.TryAdd(f.Name, (f, f.ColumnLocation));
             }
 
             foreach (var w in b.Where)
             {
-                n.Factors.TryAdd(w.Factor.Name, (w.Factor, w.Location));
+                n.Factors.TryAdd(w.Factor.Name, (w.Factor, w.Factor.ColumnLocation));
             }
 
             if (header.Order is { } order && b.Kind is AnovaKind)
             {
                 n.Numeric.TryAdd(order, header.OrderLocation);
                 n.Order = order;
+            }
+        }
+
+        // With one dataset, every declared factor is checked against it (column present, levels
+        // declared), even one no block uses yet: a misspelt column must not pass silently.
+        if (header.Datasets is [{ Aggregate: false } only])
+        {
+            foreach (var f in header.Factors)
+            {
+                needs[only.Name].Factors.TryAdd(f.Name, (f, f.ColumnLocation));
             }
         }
 

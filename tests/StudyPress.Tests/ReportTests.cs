@@ -163,11 +163,11 @@ public sealed partial class ReportTests
     }
 
     [Fact]
-    public void Cli_UnknownOption_IsUsageErrorExit2()
+    public void Cli_UnknownOption_IsUsageErrorExit64()
     {
         using var run = new StudyRun();
         var (exit, _, err) = run.Cli("build", "--frobnicate", "x.md");
-        Assert.Equal(2, exit);
+        Assert.Equal(64, exit);
         Assert.StartsWith("studypress: error: ", err, StringComparison.Ordinal);
     }
 

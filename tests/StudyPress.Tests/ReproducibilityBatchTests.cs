@@ -122,8 +122,8 @@ public sealed class ReproducibilityBatchTests
     public void Batch_BadJobs_IsUsageError()
     {
         using var run = ThreeStudies();
-        Assert.Equal(2, run.Cli("build", "studies", "--jobs", "0").Exit);
-        Assert.Equal(2, run.Cli("build", "studies", "--jobs", "many").Exit);
+        Assert.Equal(64, run.Cli("build", "studies", "--jobs", "0").Exit);
+        Assert.Equal(64, run.Cli("build", "studies", "--jobs", "many").Exit);
     }
 
     [Fact]

@@ -36,8 +36,8 @@ public sealed class ReproducibilityNewTests
     public void New_UnknownOption_IsUsageError()
     {
         using var run = new StudyRun();
-        Assert.Equal(2, run.Cli("new", "--frobnicate").Exit);
-        Assert.Equal(2, run.Cli("new", "a", "--frobnicate").Exit);
+        Assert.Equal(64, run.Cli("new", "--frobnicate").Exit);
+        Assert.Equal(64, run.Cli("new", "a", "--frobnicate").Exit);
         Assert.Empty(Directory.GetFileSystemEntries(run.Folder));
     }
 }

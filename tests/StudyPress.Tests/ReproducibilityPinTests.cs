@@ -76,6 +76,22 @@ public sealed class ReproducibilityPinTests
     }
 
     [Fact]
+    public void Pin_LoneCarriageReturns_ArePreservedAndVerifyRecomputes()
+    {
+        // A file with CR-only line ends builds (the parser reads a lone CR as a line end), so
+        // pinning and verify --recompute must read its header the same way.
+        using var run = WithData();
+        var text = "---\rtitle: T\rdata:\r  plots: data/protein.csv\rresponse: protein_pct\rfactors: [blend]\r---\r" + Body.Replace("\n", "\r", StringComparison.Ordinal);
+        run.Bytes("study.md", Encoding.UTF8.GetBytes(text));
+        var (exit, _, err) = run.Cli("build", "--pin", "study.md");
+        Assert.True(exit == 0, err);
+        var expected = text.Replace("  plots: data/protein.csv\r", "  plots:\r    path: data/protein.csv\r    sha256: " + Sha(run, "data/protein.csv") + "\r", StringComparison.Ordinal);
+        Assert.Equal(expected, File.ReadAllText(run.StudyPath));
+        (exit, var output, err) = run.Cli("verify", "--recompute", "study.html");
+        Assert.True(exit == 0, output + err);
+    }
+
+    [Fact]
     public void Pin_AlreadyPinned_LeavesTheFileAlone()
     {
         using var run = WithData();

@@ -139,11 +139,48 @@ public sealed partial class ReproducibilityVerifyTests
     }
 
     [Fact]
-    public void Verify_UsageErrors_Exit2()
+    public void Verify_UsageErrors_Exit64()
     {
         using var run = Built();
-        Assert.Equal(2, run.Cli("verify", "--frobnicate", "study.html").Exit);
-        Assert.Equal(2, run.Cli("verify").Exit);
+        Assert.Equal(64, run.Cli("verify", "--frobnicate", "study.html").Exit);
+        Assert.Equal(64, run.Cli("verify").Exit);
+    }
+
+    [Fact]
+    public void Cli_MistypedCommandOrOption_SuggestsOneFix_Exit64()
+    {
+        using var run = Built();
+        var (exit, _, err) = run.Cli("bulid", "study.md");
+        Assert.Equal(64, exit);
+        Assert.Equal("studypress: error: unknown command 'bulid'; did you mean 'build'?\nTry 'studypress --help'.\n", err);
+        (exit, _, err) = run.Cli("build", "--outt", "x", "study.md");
+        Assert.Equal(64, exit);
+        Assert.StartsWith("studypress: error: unknown option '--outt'; did you mean '--out'?", err, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void Cli_VersionAndHelp_ShowVersionAndValueNames()
+    {
+        using var run = new StudyRun();
+        var (exit, shortOut, _) = run.Cli("-v");
+        Assert.Equal(0, exit);
+        var (_, longOut, _) = run.Cli("--version");
+        Assert.Equal(longOut, shortOut);
+        Assert.NotEmpty(shortOut.Trim()); // the entry assembly's version (the test host's, in this in-process run)
+        var (_, help, _) = run.Cli("build", "--help");
+        Assert.Contains("--out <DIR>", help, StringComparison.Ordinal);
+        Assert.Contains("--json <FILE>", help, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void Cli_AbsoluteStudyPath_IsPrintedAsGiven()
+    {
+        using var run = Built();
+        var study = Path.Combine(run.Folder, "study.md");
+        File.WriteAllText(study, File.ReadAllText(study).Replace("```anova", "```anova\nwelsh: yes", StringComparison.Ordinal));
+        var (exit, _, err) = run.Cli("build", study);
+        Assert.Equal(2, exit);
+        Assert.StartsWith(study + ":", err, StringComparison.Ordinal);
     }
 
     [Theory]

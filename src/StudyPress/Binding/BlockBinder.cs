@@ -19,6 +19,8 @@ internal static class BlockBinder
         var ids = new Dictionary<string, int>(StringComparer.Ordinal);
         var owners = new Dictionary<string, AnalysisBlockSyntax>(StringComparer.Ordinal);
         var counters = new Dictionary<string, int>(StringComparer.Ordinal);
+        var failed = new HashSet<string>(syntax.FailedIds, StringComparer.Ordinal);
+        var reported = new HashSet<string>(StringComparer.Ordinal);
         if (syntax.Blocks.Count > MaxBlocks)
         {
             diagnostics.TooManyBlocks(syntax.Blocks[MaxBlocks].Location, MaxBlocks);
@@ -58,15 +60,25 @@ internal static class BlockBinder
                 ids[id] = b.Location.Line;
             }
 
-            if (b.Body is null || (b.Id is not null && owners.GetValueOrDefault(b.Id) != b))
+            if (b.Body is null)
+            {
+                failed.Add(id); // its YAML mistake is reported
+                continue;
+            }
+
+            if (b.Id is not null && owners.GetValueOrDefault(b.Id) != b)
             {
                 continue;
             }
 
-            var bound = BindOne(b, id, kind, new BindContext(header, blocks, b, owners), diagnostics);
+            var bound = BindOne(b, id, kind, new BindContext(header, blocks, b, owners) { Failed = failed, ReportedNames = reported }, diagnostics);
             if (bound is not null)
             {
                 blocks.Add(bound);
+            }
+            else
+            {
+                failed.Add(id);
             }
         }
 
@@ -122,7 +134,7 @@ internal static class BlockBinder
                 response = header.Response;
                 responseLocation = header.ResponseLocation;
             }
-            else
+            else if (!header.Misspelt.Contains("response") && !keys.Misspelt.Contains("response"))
             {
                 diagnostics.ResponseNeeded(b.Location);
             }
@@ -136,7 +148,7 @@ internal static class BlockBinder
                     var spec = header.Factor(f.Value);
                     if (spec is null)
                     {
-                        diagnostics.UnknownFactor(f.Location, f.Value, DiagnosticBag.Nearest(f.Value, header.Factors.Select(x => x.Name)));
+                        ReportUnknownFactor(f, header, context, diagnostics);
                     }
                     else if (factors.Contains(spec))
                     {
@@ -153,7 +165,7 @@ internal static class BlockBinder
                 factors.AddRange(header.Factors);
             }
 
-            if (kind.NeedsFactors && factors.Count == 0 && diagnostics.Items.Count == before)
+            if (kind.NeedsFactors && factors.Count == 0 && diagnostics.Items.Count == before && !context.FailedQuietly)
             {
                 diagnostics.FactorsNeeded(b.Location, kind.Name);
             }
@@ -168,7 +180,7 @@ internal static class BlockBinder
                         var spec = header.Factor(e.Key.Value);
                         if (spec is null)
                         {
-                            diagnostics.UnknownFactor(e.Key.Location, e.Key.Value, DiagnosticBag.Nearest(e.Key.Value, header.Factors.Select(x => x.Name)));
+                            ReportUnknownFactor(e.Key, header, context, diagnostics);
                             continue;
                         }
 
@@ -212,7 +224,7 @@ internal static class BlockBinder
 
         var caption = keys.String("caption");
         var options = kind.BindOptions(keys, context, diagnostics);
-        if (diagnostics.Items.Count > before)
+        if (diagnostics.Items.Count > before || context.FailedQuietly)
         {
             return null;
         }
@@ -231,6 +243,21 @@ internal static class BlockBinder
             Caption = caption,
             Options = options,
         };
+    }
+
+    /// <summary>
+    /// An unknown factor name, reported once however many blocks use it, and not at all when the
+    /// header's own 'factors' key was misspelt (that is the one mistake). The block still fails.
+    /// </summary>
+    private static void ReportUnknownFactor(YScalar name, StudyHeader header, BindContext context, DiagnosticBag diagnostics)
+    {
+        context.FailQuietly();
+        if (header.Misspelt.Contains("factors") || !context.ReportedNames.Add("factor:" + name.Value))
+        {
+            return;
+        }
+
+        diagnostics.UnknownFactor(name.Location, name.Value, DiagnosticBag.Nearest(name.Value, header.Factors.Select(x => x.Name)));
     }
 
     /// <summary>A block that works on an anova block's model: data and factors come from there.</summary>

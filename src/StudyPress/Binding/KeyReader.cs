@@ -20,10 +20,23 @@ public sealed class KeyReader
         {
             if (!allowed.Contains(e.Key.Value))
             {
-                diagnostics.UnknownKey(e.Key.Location, e.Key.Value, where, DiagnosticBag.Nearest(e.Key.Value, allowed));
+                var near = DiagnosticBag.Nearest(e.Key.Value, allowed);
+                diagnostics.UnknownKey(e.Key.Location, e.Key.Value, where, near);
+                if (near is not null)
+                {
+                    misspelt.Add(near);
+                }
             }
         }
     }
+
+    private readonly HashSet<string> misspelt = new(StringComparer.Ordinal);
+
+    /// <summary>
+    /// Keys that an unknown key of this map was probably meant to be (already reported with a
+    /// "did you mean"): a rule that needs one of them stays quiet, so one typo gives one message.
+    /// </summary>
+    public IReadOnlySet<string> Misspelt => misspelt;
 
     public YMapping Map => map;
 
@@ -56,7 +69,7 @@ public sealed class KeyReader
     public string RequiredString(string key)
     {
         var s = Scalar(key);
-        if (s is null && map[key] is null or YScalar)
+        if (s is null && map[key] is null or YScalar && !misspelt.Contains(key))
         {
             diagnostics.MissingKey(map.Location, key, where);
         }
@@ -136,12 +149,17 @@ public sealed class KeyReader
     }
 
     /// <summary>A list of scalars; a single scalar is taken as a list of one.</summary>
-    public IReadOnlyList<YScalar>? ScalarList(string key)
+    /// <param name="textMayHaveCommas">False where a comma in a single text surely means a list written as text.</param>
+    public IReadOnlyList<YScalar>? ScalarList(string key, bool textMayHaveCommas = false)
     {
         var node = map[key];
         switch (node)
         {
             case null or YScalar { IsNull: true }:
+                return null;
+            case YScalar s when !textMayHaveCommas && s.Value.Contains(',', StringComparison.Ordinal):
+                // "A, B, C" is one text, not three items: say how to write the list.
+                diagnostics.ListWrittenAsText(s.Location, key, s.Value);
                 return null;
             case YScalar s:
                 return [s];

@@ -64,6 +64,9 @@ public sealed record FactorSpec(
     SourceLocation Location)
 {
     public string Display => Label ?? Name;
+
+    /// <summary>Where the column is named: the factor's <c>column:</c> value, or the factor's key when it names its own column.</summary>
+    public SourceLocation ColumnLocation { get; init; } = Location;
 }
 
 /// <summary>Presentation options; <paramref name="Figures"/> false stops kinds from placing their figures.</summary>
@@ -89,6 +92,9 @@ public sealed record StudyHeader(
 {
     public FactorSpec? Factor(string name) => Factors.FirstOrDefault(f => f.Name == name);
 
+    /// <summary>Header keys that a misspelt key was probably meant to be (reported once already).</summary>
+    public IReadOnlySet<string> Misspelt { get; init; } = new HashSet<string>(StringComparer.Ordinal);
+
     public DatasetSpec? Dataset(string name) => Datasets.FirstOrDefault(d => d.Name == name);
 }
 
@@ -105,12 +111,21 @@ internal static class HeaderBinder
 
     public static StudyHeader Bind(YMapping map, string studyPath, DiagnosticBag diagnostics)
     {
+        // Keys written one level too shallow are the commonest indentation mistake; report each
+        // once, where the indentation must change, and bind as if it were right so that nothing
+        // else is reported about it.
+        map = Reindent(map, e => e.Key.Value is "data" or "factors" ? key => !Keys.Contains(key) : null, diagnostics);
+        map = ReindentChild(map, "data", DatasetKeys, diagnostics);
+        map = ReindentChild(map, "factors", FactorKeys, diagnostics);
         var r = new KeyReader(map, "the header", Keys, diagnostics);
         var titleNode = r.Scalar("title");
         var title = titleNode?.Value ?? string.Empty;
         if (titleNode is null)
         {
-            diagnostics.MissingKey(map.Location, "title", "the header");
+            if (!r.Misspelt.Contains("title"))
+            {
+                diagnostics.MissingKey(map.Location, "title", "the header");
+            }
         }
         else if (title.Trim().Length == 0)
         {
@@ -118,7 +133,7 @@ internal static class HeaderBinder
         }
 
         var id = r.String("id") ?? Path.GetFileNameWithoutExtension(studyPath);
-        var authors = r.ScalarList("authors")?.Select(a => a.Value).ToList() ?? [];
+        var authors = r.ScalarList("authors", textMayHaveCommas: true)?.Select(a => a.Value).ToList() ?? [];
 
         var alpha = 0.05;
         if (r.Scalar("alpha") is { } alphaNode)
@@ -137,7 +152,11 @@ internal static class HeaderBinder
         switch (r.Node("data"))
         {
             case null or YScalar { IsNull: true }:
-                diagnostics.MissingKey(map.Location, "data", "the header");
+                if (!r.Misspelt.Contains("data"))
+                {
+                    diagnostics.MissingKey(map.Location, "data", "the header");
+                }
+
                 break;
             case YScalar single:
                 // 'data: file.csv' is shorthand for one dataset named 'data'.
@@ -234,7 +253,61 @@ internal static class HeaderBinder
             orderNode?.Value,
             orderNode?.Location ?? map.Location,
             new ReportOptions(digits, pDigits, figures) { RawHtml = rawHtml },
-            map.Location);
+            map.Location)
+        {
+            Misspelt = r.Misspelt,
+        };
+    }
+
+    /// <summary>
+    /// Finds an entry with no value followed by entries that belong under it (by
+    /// <paramref name="opener"/>), reports the first of those once and returns the map with them
+    /// moved under the entry.
+    /// </summary>
+    private static YMapping Reindent(YMapping map, Func<YEntry, Func<string, bool>?> opener, DiagnosticBag diagnostics)
+    {
+        var entries = new List<YEntry>();
+        var changed = false;
+        for (var i = 0; i < map.Entries.Count; i++)
+        {
+            var e = map.Entries[i];
+            if (e.Value is YScalar { IsNull: true } && opener(e) is { } belongs)
+            {
+                var j = i + 1;
+                while (j < map.Entries.Count && belongs(map.Entries[j].Key.Value))
+                {
+                    j++;
+                }
+
+                if (j > i + 1)
+                {
+                    var first = map.Entries[i + 1].Key;
+                    diagnostics.IndentUnder(first.Location, first.Value, e.Key.Value);
+                    entries.Add(new YEntry(e.Key, new YMapping([.. map.Entries.Skip(i + 1).Take(j - i - 1)], first.Location)));
+                    i = j - 1;
+                    changed = true;
+                    continue;
+                }
+            }
+
+            entries.Add(e);
+        }
+
+        return changed ? new YMapping(entries, map.Location) : map;
+    }
+
+    /// <summary>The same, inside the map under <paramref name="key"/> (a dataset's or a factor's own keys).</summary>
+    private static YMapping ReindentChild(YMapping map, string key, string[] childKeys, DiagnosticBag diagnostics)
+    {
+        if (map[key] is not YMapping inner)
+        {
+            return map;
+        }
+
+        var fixedInner = Reindent(inner, e => childKeys.Contains(e.Key.Value) ? null : k => childKeys.Contains(k), diagnostics);
+        return ReferenceEquals(fixedInner, inner)
+            ? map
+            : new YMapping([.. map.Entries.Select(e => e.Key.Value == key ? new YEntry(e.Key, fixedInner) : e)], map.Location);
     }
 
     internal static bool IsName(string s) =>
@@ -246,6 +319,12 @@ internal static class HeaderBinder
         if (!IsName(name))
         {
             diagnostics.ReservedDatasetName(e.Key.Location, name);
+        }
+
+        if (Keys.Contains(name) && e.Value is not YMapping)
+        {
+            diagnostics.HeaderKeyIndented(e.Key.Location, name, "data");
+            return null;
         }
 
         if (e.Value is YScalar { IsNull: false } s)
@@ -462,6 +541,12 @@ internal static class HeaderBinder
             return new FactorSpec(name, name, null, [], null, e.Key.Location);
         }
 
+        if (e.Value is not YMapping && Keys.Contains(name))
+        {
+            diagnostics.HeaderKeyIndented(e.Key.Location, name, "factors");
+            return new FactorSpec(name, name, null, [], null, e.Key.Location);
+        }
+
         if (e.Value is not YMapping m)
         {
             diagnostics.ExpectedMapping(e.Value.Location, $"factor '{name}'");
@@ -487,6 +572,10 @@ internal static class HeaderBinder
             }
         }
 
-        return new FactorSpec(name, r.String("column") ?? name, levels, levelNodes?.Select(l => l.Location).ToList() ?? [], r.String("label"), e.Key.Location);
+        var columnNode = r.Scalar("column");
+        return new FactorSpec(name, r.String("column") ?? name, levels, levelNodes?.Select(l => l.Location).ToList() ?? [], r.String("label"), e.Key.Location)
+        {
+            ColumnLocation = columnNode?.Location ?? e.Key.Location,
+        };
     }
 }

@@ -128,6 +128,15 @@ public static class CsvLoader
             }
         }
 
+        // A file separated by another character reads as one wide column: one message that names
+        // the delimiter to set, not one per missing column.
+        if (needs.Numeric.Keys.Concat(needs.Factors.Values.Select(v => v.Spec.Column)).Any(c => !index.ContainsKey(c))
+            && LikelyDelimiter(headerLine, spec.Delimiter, needs) is { } likely)
+        {
+            diagnostics.WrongDelimiter(spec.PathLocation, spec.Name, spec.Delimiter, likely);
+            return null;
+        }
+
         foreach (var (col, at) in needs.Numeric)
         {
             if (!index.ContainsKey(col))
@@ -167,6 +176,10 @@ public static class CsvLoader
         var seenNames = factorCols.Select(_ => new List<string>()).ToArray();
         var seenDeclared = factorCols.Select(_ => new List<bool>()).ToArray();
         var seenClean = factorCols.Select(_ => new List<bool>()).ToArray();
+        var strays = factorCols.Select(_ => new Dictionary<int, LevelRules.Stray>()).ToArray();
+        var cellProblems = new Dictionary<(int Column, NumberProblem Problem), List<CellProblem>>();
+        CellProblem? ragged = null;
+        var raggedDecimalComma = false;
         var missing = new HashSet<string>(spec.Missing, StringComparer.Ordinal).GetAlternateLookup<ReadOnlySpan<char>>();
         var rows = 0;
         var lines = new int[capacity];
@@ -212,7 +225,18 @@ public static class CsvLoader
 
             if (row.ColCount != expected)
             {
-                diagnostics.RaggedRow(new SourceLocation(displayPath, line, 0), row.ColCount, expected);
+                // One message per file: the first such row, with a count and, when the extra field
+                // comes from decimal commas, the hint.
+                if (ragged is null)
+                {
+                    ragged = new CellProblem(new SourceLocation(displayPath, line, 0), row.ColCount.ToString(CultureInfo.InvariantCulture), string.Empty);
+                    raggedDecimalComma = spec.Decimal == '.' && spec.Delimiter == ',' && row.ColCount > expected && LooksLikeDecimalCommas(raw);
+                }
+                else
+                {
+                    ragged.Count++;
+                }
+
                 AddPlaceholders(r);
                 continue;
             }
@@ -267,21 +291,21 @@ public static class CsvLoader
                     dn[r] = double.NaN;
                 }
 
-                var at = CellLocation(displayPath, line, raw, numericCols[c].Index, spec.Delimiter);
-                switch (problem)
+                // One message per column and kind of problem (the first cell, with a count), and the
+                // decimal-comma hint once per file.
+                var kindKey = problem == NumberProblem.DecimalComma ? (-1, problem) : (c, problem);
+                if (!cellProblems.TryGetValue(kindKey, out var known))
                 {
-                    case NumberProblem.NotFinite:
-                        diagnostics.NotFiniteNumber(at, cellText, numericCols[c].Name);
-                        break;
-                    case NumberProblem.DecimalComma:
-                        diagnostics.DecimalCommaHint(at, cellText, numericCols[c].Name);
-                        break;
-                    case NumberProblem.TooLarge:
-                        diagnostics.NumberOutOfRange(at, cellText, numericCols[c].Name);
-                        break;
-                    default:
-                        diagnostics.NotNumeric(at, cellText, numericCols[c].Name);
-                        break;
+                    cellProblems[kindKey] = known = [];
+                }
+
+                if (known.Count <= MaxCellsListed)
+                {
+                    known.Add(new CellProblem(CellLocation(displayPath, line, raw, numericCols[c].Index, spec.Delimiter), cellText, numericCols[c].Name));
+                }
+                else
+                {
+                    known[0].Count++;
                 }
             }
 
@@ -300,24 +324,24 @@ public static class CsvLoader
                     code = seenNames[c].Count;
                     seen[c][text] = code;
                     seenNames[c].Add(text);
-                    seenDeclared[c].Add(factorCols[c].Spec.Levels is not { } levels || levels.Contains(text));
-                    seenClean[c].Add(LevelText.IsClean(text));
+                    seenDeclared[c].Add(factorCols[c].Spec.Levels is not { } levels || LevelRules.IndexOf(levels, text) >= 0);
+
+                    // The text rule for levels, reported once per distinct value at its first cell.
+                    seenClean[c].Add(LevelText.Check(null, text, factorCols[c].Spec.Column, CellLocation(displayPath, line, raw, factorCols[c].Index, spec.Delimiter), null, diagnostics));
                 }
 
                 codes[c][r] = code;
-                if (!seenClean[c][code])
+                if (seenClean[c][code] && !seenDeclared[c][code])
                 {
-                    LevelText.Check(null, seenNames[c][code], factorCols[c].Spec.Column, CellLocation(displayPath, line, raw, factorCols[c].Index, spec.Delimiter), null, diagnostics);
-                }
-                else if (!seenDeclared[c][code])
-                {
-                    var cellText = seenNames[c][code];
-                    var declared = factorCols[c].Spec.Levels!;
-                    diagnostics.UndeclaredLevel(
-                        CellLocation(displayPath, line, raw, factorCols[c].Index, spec.Delimiter),
-                        cellText,
-                        factorCols[c].Spec.Name,
-                        DiagnosticBag.Nearest(cellText, declared));
+                    // Reported once per distinct value after the file is read.
+                    if (strays[c].TryGetValue(code, out var stray))
+                    {
+                        stray.Count++;
+                    }
+                    else
+                    {
+                        strays[c][code] = new LevelRules.Stray(seenNames[c][code], CellLocation(displayPath, line, raw, factorCols[c].Index, spec.Delimiter));
+                    }
                 }
             }
         }
@@ -339,6 +363,59 @@ public static class CsvLoader
             for (var c = 0; c < factorCols.Length; c++)
             {
                 codes[c][r] = -1;
+            }
+        }
+
+        if (ragged is not null)
+        {
+            // Decimal commas make most rows too wide; one odd row is just an odd row.
+            var systematic = ragged.Count >= 2 && ragged.Count * 2 >= rows;
+            diagnostics.RaggedRow(ragged.At, int.Parse(ragged.Text, CultureInfo.InvariantCulture), expected, ragged.Count, raggedDecimalComma && systematic);
+        }
+
+        // A few bad cells are reported each at its place; more than that in one column is one
+        // mistake (a text column, another missing-value mark): one message with a count. The
+        // decimal-comma hint is given once per file.
+        var problemMessages = new List<(NumberProblem Problem, CellProblem Cell)>();
+        foreach (var ((_, problem), list) in cellProblems)
+        {
+            if (list.Count > MaxCellsListed || problem == NumberProblem.DecimalComma)
+            {
+                list[0].Count += list.Count - 1;
+                problemMessages.Add((problem, list[0]));
+            }
+            else
+            {
+                problemMessages.AddRange(list.Select(p => (problem, p)));
+            }
+        }
+
+        foreach (var (problem, p) in problemMessages.OrderBy(e => e.Cell.At.Line).ThenBy(e => e.Cell.At.Column))
+        {
+            switch (problem)
+            {
+                case NumberProblem.NotFinite:
+                    diagnostics.NotFiniteNumber(p.At, p.Text, p.Column, p.Count);
+                    break;
+                case NumberProblem.DecimalComma:
+                    diagnostics.DecimalCommaHint(p.At, p.Text, p.Column, p.Count);
+                    break;
+                case NumberProblem.TooLarge:
+                    diagnostics.NumberOutOfRange(p.At, p.Text, p.Column, p.Count);
+                    break;
+                default:
+                    diagnostics.NotNumeric(p.At, p.Text, p.Column, p.Count);
+                    break;
+            }
+        }
+
+        for (var c = 0; c < factorCols.Length; c++)
+        {
+            if (strays[c].Count > 0)
+            {
+                var declared = factorCols[c].Spec.Levels!;
+                var present = seenNames[c].Select(t => LevelRules.IndexOf(declared, t)).Where(k => k >= 0).ToHashSet();
+                LevelRules.Report(factorCols[c].Spec, strays[c].Values, present, diagnostics);
             }
         }
 
@@ -372,6 +449,59 @@ public static class CsvLoader
     [ThreadStatic]
     internal static bool LastLoadWasFast;
 
+    /// <summary>Bad numeric cells of one kind in one column reported one by one; more make one message.</summary>
+    private const int MaxCellsListed = 3;
+
+    /// <summary>A kind of bad numeric cell in one column: the first such cell and how many there are.</summary>
+    private sealed class CellProblem(SourceLocation at, string text, string column)
+    {
+        public SourceLocation At { get; } = at;
+
+        public string Text { get; } = text;
+
+        public string Column { get; } = column;
+
+        public int Count { get; set; } = 1;
+    }
+
+    /// <summary>Whether a row's text reads like numbers written with decimal commas in a comma-separated file ("40,6").</summary>
+    private static bool LooksLikeDecimalCommas(ReadOnlySpan<char> raw)
+    {
+        for (var i = 1; i + 1 < raw.Length; i++)
+        {
+            if (raw[i] == ',' && char.IsAsciiDigit(raw[i - 1]) && char.IsAsciiDigit(raw[i + 1]))
+            {
+                return true;
+            }
+        }
+
+        return false;
+    }
+
+    /// <summary>
+    /// The delimiter a file's header line was probably written with, when the declared one leaves
+    /// needed columns missing and another common one yields them all; else null.
+    /// </summary>
+    private static char? LikelyDelimiter(ReadOnlySpan<char> headerLine, char declared, DatasetNeeds needs)
+    {
+        var line = headerLine.ToString();
+        foreach (var candidate in new[] { ';', '\t', ',', '|' })
+        {
+            if (candidate == declared || !line.Contains(candidate, StringComparison.Ordinal))
+            {
+                continue;
+            }
+
+            var names = line.Split(candidate).Select(n => n.Trim().Trim('"').TrimStart('\uFEFF')).ToHashSet(StringComparer.Ordinal);
+            if (needs.Numeric.Keys.Concat(needs.Factors.Values.Select(v => v.Spec.Column)).All(names.Contains))
+            {
+                return candidate;
+            }
+        }
+
+        return null;
+    }
+
     /// <summary>Final factor codes and levels, absent-level checks and the dataset.</summary>
     private static LoadedDataset? Finish(
         DatasetSpec spec,
@@ -393,8 +523,7 @@ public static class CsvLoader
         {
             var f = factorCols[c];
             var levels = f.Levels ?? OrderLevels(seenNames[c]);
-            var lookup = levels.Select((l, k) => (l, k)).ToDictionary(p => p.l, p => p.k, StringComparer.Ordinal);
-            var remap = seenNames[c].Select(t => lookup[t]).ToArray();
+            var remap = seenNames[c].Select(t => LevelRules.IndexOf(levels, t)).ToArray();
             var final = codes[c];
             var counts = new int[levels.Count];
             for (var i = 0; i < final.Length; i++)

@@ -5,7 +5,8 @@ namespace StudyPress.Diagnostics;
 /// <summary>
 /// Collects diagnostics. Every message a user can see is worded here, one method per message,
 /// so the wording can be reviewed in one file. Codes: SP01xx syntax/YAML, SP02xx header and
-/// blocks, SP03xx data, SP04xx references, SP05xx analysis, SP06xx output.
+/// blocks, SP03xx data, SP04xx references, SP05xx analysis, SP06xx output, SP07xx comparison
+/// of builds (<c>studypress diff</c>).
 /// </summary>
 public sealed class DiagnosticBag
 {
@@ -106,7 +107,11 @@ public sealed class DiagnosticBag
 
     public void EmptyStudy(SourceLocation at) => Error("SP0111", at, "the study file is empty; it must start with a YAML header between '---' lines");
 
-    public void NoBlocks(SourceLocation at) => Error("SP0112", at, "the study has no analysis blocks; add one after the header, for example a fenced block ```summary```");
+    public void UnknownKind(SourceLocation at, string kind, string suggestion) =>
+        Error("SP0120", at, $"unknown analysis kind {Q(kind)}; did you mean {Q(suggestion)}?");
+
+    public void NoBlocks(SourceLocation at) =>
+        Add(new Diagnostic(Severity.Warning, "SP0112", "the study has no analysis blocks yet, so the report shows only its text and data; add one after the header, for example a fenced block ```summary```", at));
 
     // ---- header and blocks (SP02xx) ----
     public void UnknownKey(SourceLocation at, string key, string where, string? suggestion) =>
@@ -119,6 +124,15 @@ public sealed class DiagnosticBag
     public void ExpectedScalar(SourceLocation at, string what) => Error("SP0204", at, $"{what} must be a single value, not a list or map");
 
     public void ExpectedList(SourceLocation at, string what) => Error("SP0205", at, $"{what} must be a list");
+
+    public void IndentUnder(SourceLocation at, string key, string parent) =>
+        Error("SP0247", at, $"indent {Q(key)} under {Q(parent + ":")}: it belongs to {Q(parent)}, so it must start further right than {Q(parent)} does");
+
+    public void HeaderKeyIndented(SourceLocation at, string key, string parent) =>
+        Error("SP0248", at, $"{Q(key)} is a header key, but it is indented under {Q(parent + ":")}; start it in column 1");
+
+    public void ListWrittenAsText(SourceLocation at, string key, string text) =>
+        Error("SP0246", at, $"{Q(key)} is a list, but this is one text; write it as [{string.Join(", ", text.Split(',', StringSplitOptions.TrimEntries | StringSplitOptions.RemoveEmptyEntries))}]");
 
     public void AlphaOutOfRange(SourceLocation at, string text) => Error("SP0206", at, $"alpha must be a number strictly between 0 and 1, not {Q(text)}");
 
@@ -228,27 +242,54 @@ public sealed class DiagnosticBag
     public void UnknownColumn(SourceLocation at, string column, string dataPath, string? suggestion) =>
         Error("SP0308", at, $"column {Q(column)} is not in {Q(dataPath)}{Suggest(suggestion)}");
 
-    public void RaggedRow(SourceLocation at, int got, int expected) =>
-        Error("SP0309", at, string.Create(CultureInfo.InvariantCulture, $"this row has {got} fields but the header line has {expected}"));
+    public void RaggedRow(SourceLocation at, int got, int expected, int rows = 1, bool decimalCommas = false) =>
+        Error("SP0309", at, string.Create(CultureInfo.InvariantCulture, $"this row has {got} fields but the header line has {expected}{rows switch { <= 1 => string.Empty, 2 => "; 1 more row has a different number of fields too", _ => $"; {rows - 1} more rows have a different number of fields too" }}{(decimalCommas ? "; if the numbers use decimal commas, set 'decimal: \",\"' and 'delimiter: \";\"' for this dataset (and separate the file's columns with ';')" : string.Empty)}"));
 
     public void UnterminatedQuote(SourceLocation at) => Error("SP0310", at, "a quoted field is not closed");
 
-    public void NotNumeric(SourceLocation at, string text, string column) => Error("SP0311", at, $"{Q(text)} is not a number in column {Q(column)}");
+    public void NotNumeric(SourceLocation at, string text, string column, int cells = 1) => Error("SP0311", at, $"{Q(text)} is not a number in column {Q(column)}{MoreCells(cells)}");
 
-    public void NotFiniteNumber(SourceLocation at, string text, string column) =>
-        Error("SP0312", at, $"{Q(text)} is not a finite number in column {Q(column)}; mark missing values with one of the 'missing' strings");
+    public void WrongDelimiter(SourceLocation at, string dataset, char declared, char likely) =>
+        Error("SP0319", at, $"the columns of dataset {Q(dataset)} are separated by {CharName(likely)}, not {CharName(declared)}; add 'delimiter: \"{(likely == '\t' ? "\\t" : likely.ToString())}\"' under the dataset");
 
-    public void DecimalCommaHint(SourceLocation at, string text, string column) =>
-        Error("SP0313", at, $"{Q(text)} is not a number in column {Q(column)}; if the file uses decimal commas, set 'decimal: \",\"' (and a ';' delimiter) for this dataset");
+    private static string CharName(char c) => c switch
+    {
+        '\t' => "tabs",
+        ';' => "semicolons (';')",
+        ',' => "commas (',')",
+        '|' => "bars ('|')",
+        _ => Q(c.ToString()),
+    };
 
-    public void UndeclaredLevel(SourceLocation at, string level, string factor, string? suggestion) =>
-        Error("SP0314", at, $"{Q(level)} is not a declared level of factor {Q(factor)}{Suggest(suggestion)}");
+    private static string MoreCells(int cells) => cells switch
+    {
+        <= 1 => string.Empty,
+        2 => "; 1 more cell in this column has the same problem",
+        _ => string.Create(CultureInfo.InvariantCulture, $"; {cells - 1} more cells in this column have the same problem"),
+    };
+
+    public void NotFiniteNumber(SourceLocation at, string text, string column, int cells = 1) =>
+        Error("SP0312", at, $"{Q(text)} is not a finite number in column {Q(column)}{MoreCells(cells)}; mark missing values with one of the 'missing' strings");
+
+    public void DecimalCommaHint(SourceLocation at, string text, string column, int cells = 1) =>
+        Error("SP0313", at, $"{Q(text)} is not a number in column {Q(column)}{(cells > 1 ? string.Create(CultureInfo.InvariantCulture, $" ({cells} such cells in this file)") : string.Empty)}; if the file uses decimal commas, set 'decimal: \",\"' (and a ';' delimiter) for this dataset");
+
+    public void UndeclaredLevel(SourceLocation at, string level, string factor, string? suggestion, int rows = 1) =>
+        Error("SP0314", at, $"{Q(level)} is not a declared level of factor {Q(factor)}{Rows(rows)}{Suggest(suggestion)}");
+
+    public void ManyUndeclaredLevels(SourceLocation at, string factor, string column, IReadOnlyList<string> examples, int count) =>
+        Error("SP0355", at, string.Create(CultureInfo.InvariantCulture, $"{count} different values of column {Q(column)} are not declared levels of factor {Q(factor)} ({string.Join(", ", examples.Select(Q))}, …); is 'column' right, and are the factor's 'levels' complete?"));
+
+    public void DeclaredLevelNotInData(SourceLocation at, string level, string factor, string dataLevel, int rows) =>
+        Error("SP0318", at, string.Create(CultureInfo.InvariantCulture, $"level {Q(level)} of factor {Q(factor)} declared here has no rows; the data have {Q(dataLevel)} ({rows} {(rows == 1 ? "row" : "rows")}): correct the spelling here or in the data"));
+
+    private static string Rows(int rows) => rows <= 1 ? string.Empty : string.Create(CultureInfo.InvariantCulture, $" ({rows} rows; the first is here)");
 
     public void AbsentLevel(SourceLocation at, string level, string factor, string dataPath) =>
         Error("SP0315", at, $"declared level {Q(level)} of factor {Q(factor)} has no rows in {Q(dataPath)}");
 
-    public void NumberOutOfRange(SourceLocation at, string text, string column) =>
-        Error("SP0316", at, $"{Q(text)} in column {Q(column)} is too large to compute with");
+    public void NumberOutOfRange(SourceLocation at, string text, string column, int cells = 1) =>
+        Error("SP0316", at, $"{Q(text)} in column {Q(column)} is too large to compute with{MoreCells(cells)}");
 
     public void RowsTooMany(SourceLocation at, long max) =>
         Error("SP0317", at, string.Create(CultureInfo.InvariantCulture, $"the data file has more than {max} rows, the most this version loads"));
@@ -347,6 +388,9 @@ public sealed class DiagnosticBag
 
     public void UndefinedReference(SourceLocation at, string text, string reason) => Error("SP0405", at, $"reference {Q(text)} has no value: {reason}");
 
+    public void FunctionOnNonValue(SourceLocation at, string function, string written, string path, string what, string? example) =>
+        Error("SP0409", at, $"{Q(function)} formats one value, but {Q(path)} names {what}; add the statistic to the path{(example is null ? string.Empty : $", for example {{{{ {example} | {written} }}}}")}");
+
     public void UnknownBlockReference(SourceLocation at, string id, string? suggestion) => Error("SP0406", at, $"no block with id {Q(id)}{Suggest(suggestion)}");
 
     public void UnknownReferenceFunction(SourceLocation at, string name, string? suggestion, IEnumerable<string> known) =>
@@ -378,6 +422,27 @@ public sealed class DiagnosticBag
 
     public void CannotPin(SourceLocation at, string name, string why) =>
         Error("SP0602", at, $"cannot pin the hash of {Q(name)}: {why}; write it as a map with 'path' and 'sha256'");
+
+    // ---- comparison of builds (SP07xx) ----
+    public void DiffUnknownKind(SourceLocation at, string path) =>
+        Error("SP0701", at, $"cannot compare {Q(path)}: name a report (.html), a results manifest (.json) or a study file (.md)");
+
+    public void DiffUnreadable(SourceLocation at, string path, string why) => Error("SP0702", at, $"cannot compare {Q(path)}: {why}");
+
+    public void NotInGitRepository(SourceLocation at, string path) =>
+        Error("SP0703", at, $"{Q(path)} is not inside a git repository, so --rev has nothing to read the older study from");
+
+    public void GitRevisionMissing(SourceLocation at, string revision, string path, string why) =>
+        Error("SP0704", at, $"revision {Q(revision)} has no {Q(path)} ({why})");
+
+    public void GitUnavailable(SourceLocation at, string why) => Error("SP0705", at, $"cannot run git: {why}");
+
+    public void DiffUsage(SourceLocation at, string message) => Error("SP0706", at, message);
+
+    public void DiffDataMissingInRevision(SourceLocation at, string revision, string path) =>
+        Error("SP0707", at, $"data file {Q(path)} does not exist at revision {Q(revision)}");
+
+    public void DiffBadAlpha(SourceLocation at, string text) => Error("SP0708", at, $"--alpha must be a number between 0 and 1 (exclusive), not {Q(text)}");
 
     /// <summary>Closest candidate within a small edit distance, for "did you mean".</summary>
     public static string? Nearest(string word, IEnumerable<string> candidates)

@@ -277,6 +277,13 @@ public static class References
             return ResolveResult(reference, expression, results, primary, alpha, diagnostics);
         }
 
+        if (function is not null && NotAValue(parts, results) is { } what)
+        {
+            var written = reference.Text[(reference.Text.IndexOf('|', StringComparison.Ordinal) + 1)..].Trim();
+            diagnostics.FunctionOnNonValue(reference.Location, function.Name, written, string.Join(".", parts), what, Example(parts, results));
+            return null;
+        }
+
         var value = ResolveValue(reference, parts, results, primary, diagnostics);
         if (value is null || function is null)
         {
@@ -382,6 +389,32 @@ public static class References
         return new ResolvedReference(anchor, html, null);
     }
 
+    /// <summary>"a block" or "a term" when a formatting function is applied to a path that names no single value; else null.</summary>
+    private static string? NotAValue(IReadOnlyList<string> parts, ResultSet results)
+    {
+        if (parts.Count == 1)
+        {
+            return "a block";
+        }
+
+        var last = parts[^1];
+        var ofBlock = results.Values.Where(v => v.Block == parts[0]);
+        return ofBlock.Any(v => v.Stat == last) || !ofBlock.Any(v => v.Term == last || v.Level == last || v.Test == last)
+            ? null
+            : ofBlock.Any(v => v.Term == last) ? "a term" : ofBlock.Any(v => v.Level == last) ? "a level" : "a test";
+    }
+
+    /// <summary>A value path that starts like <paramref name="parts"/>, to show as an example.</summary>
+    private static string? Example(IReadOnlyList<string> parts, ResultSet results)
+    {
+        var prefix = parts.Skip(1).ToList();
+        return results.Values
+            .Where(v => v.Block == parts[0])
+            .Where(v => prefix.Count == 0 || v.Term == prefix[^1] || v.Level == prefix[^1] || v.Test == prefix[^1])
+            .Select(PathOf)
+            .FirstOrDefault();
+    }
+
     private static ResultValue? ResolveValue(ReferenceInline reference, IReadOnlyList<string> parts, ResultSet results, string primary, DiagnosticBag diagnostics)
     {
         if (parts.Count < 2)
@@ -421,6 +454,20 @@ public static class References
         var nearStat = selected.Where(s => stat.StartsWith(s, StringComparison.Ordinal) || s.StartsWith(stat, StringComparison.Ordinal)).OrderByDescending(s => s.Length).FirstOrDefault()
             ?? DiagnosticBag.Nearest(stat, selected);
         var pathText = reference.Text.Split('|')[0].Trim();
+        if (selected.Count == 0 && middle.Length > 0)
+        {
+            // A misspelt term or level: correct each unknown part to the nearest one of the block.
+            var components = ofBlock.SelectMany(v => v.Components()).Distinct().ToList();
+            var corrected = middle.Select(m => components.Contains(m) ? m : DiagnosticBag.Nearest(m, components) ?? m).ToArray();
+            var fixedStats = ofBlock.Where(v => IsSubsequence(corrected, [.. v.Components()])).Select(v => v.Stat).Distinct().ToList();
+            var fixedStat = fixedStats.Contains(stat) ? stat : DiagnosticBag.Nearest(stat, fixedStats);
+            if (!corrected.SequenceEqual(middle) && fixedStat is not null)
+            {
+                diagnostics.UnknownReference(reference.Location, reference.Text, string.Join(".", new[] { block }.Concat(corrected).Append(fixedStat).Select(QuoteIfNeeded)));
+                return null;
+            }
+        }
+
         var suggestion = nearStat is not null && middle.Length > 0
             ? string.Join(".", parts.Take(parts.Count - 1).Append(nearStat).Select(QuoteIfNeeded))
             : DiagnosticBag.Nearest(pathText.Replace(" ", string.Empty, StringComparison.Ordinal), ofBlock.Select(PathOf));

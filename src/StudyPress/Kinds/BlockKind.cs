@@ -1,3 +1,4 @@
+using System.Runtime.CompilerServices;
 using StudyPress.Binding;
 using StudyPress.Diagnostics;
 using StudyPress.Evaluation;
@@ -46,6 +47,26 @@ public abstract class BlockKind
 public sealed record BindContext(StudyHeader Header, IReadOnlyList<BoundBlock> Earlier, Syntax.AnalysisBlockSyntax Syntax, IReadOnlyDictionary<string, Syntax.AnalysisBlockSyntax> AllIds)
 {
     /// <summary>
+    /// Ids of blocks that failed to parse or bind (their mistake is already reported): a block
+    /// that names one fails quietly, so one mistake gives one message.
+    /// </summary>
+    public IReadOnlySet<string> Failed { get; init; } = new HashSet<string>(StringComparer.Ordinal);
+
+    /// <summary>Names already reported as unknown in an earlier block ("factor:NAME"): one message per mistake.</summary>
+    public HashSet<string> ReportedNames { get; init; } = new(StringComparer.Ordinal);
+
+    /// <summary>True once the block failed because of a mistake reported elsewhere.</summary>
+    public bool FailedQuietly => failedQuietly.Value;
+
+    private readonly StrongBox<bool> failedQuietly = new(false);
+
+    /// <summary>Marks the block as failed without a message of its own (its cause is reported elsewhere).</summary>
+    public void FailQuietly() => failedQuietly.Value = true;
+
+    /// <summary>Whether a failed anova block (or a block whose kind was misspelt) stands above this one.</summary>
+    private bool FailedAbove => Failed.Any(id => !AllIds.TryGetValue(id, out var b) || (b.Location.Line < Syntax.Location.Line && b.Kind == "anova"));
+
+    /// <summary>
     /// Resolves an <c>of</c> key to an anova block above this one (default: the nearest above).
     /// </summary>
     public BoundBlock? AnovaOf(KeyReader keys, string kindName, DiagnosticBag diagnostics)
@@ -54,6 +75,11 @@ public sealed record BindContext(StudyHeader Header, IReadOnlyList<BoundBlock> E
         if (keys.Scalar("of") is { } of)
         {
             var target = Earlier.FirstOrDefault(b => b.Id == of.Value);
+            if (target is null && Failed.Contains(of.Value))
+            {
+                return null;
+            }
+
             if (target is null)
             {
                 if (AllIds.TryGetValue(of.Value, out var later) && later.Location.Line > Syntax.Location.Line)
@@ -75,6 +101,11 @@ public sealed record BindContext(StudyHeader Header, IReadOnlyList<BoundBlock> E
             }
 
             return target;
+        }
+
+        if (anovas.Count == 0 && FailedAbove)
+        {
+            return null;
         }
 
         if (anovas.Count == 0)

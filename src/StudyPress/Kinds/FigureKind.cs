@@ -55,6 +55,11 @@ public sealed class FigureKind : BlockKind
         if (keys.Scalar("of") is { } of)
         {
             source = context.Earlier.FirstOrDefault(b => b.Id == of.Value);
+            if (source is null && context.Failed.Contains(of.Value))
+            {
+                return null;
+            }
+
             if (source is null)
             {
                 diagnostics.UnknownBlockReference(of.Location, of.Value, DiagnosticBag.Nearest(of.Value, context.Earlier.Select(b => b.Id)));

@@ -63,17 +63,17 @@ public sealed class PowerKind : BlockKind
             of = context.AnovaOf(keys, Name, diagnostics)?.Id;
         }
 
-        if (effect is null && !keys.Has("of"))
+        if (effect is null && !keys.Has("of") && !keys.Misspelt.Overlaps(["effect", "of"]))
         {
             diagnostics.PowerNeeds(context.Syntax.Location, "'effect' (Cohen's f), or 'of' naming an anova block");
         }
 
-        if (n is null && target is null)
+        if (n is null && target is null && !keys.Misspelt.Overlaps(["n", "target"]))
         {
             diagnostics.PowerNeeds(context.Syntax.Location, "'n' (per group) for the power, or 'target' for the sample size");
         }
 
-        if (groups is null && !keys.Has("of"))
+        if (groups is null && !keys.Has("of") && !keys.Misspelt.Overlaps(["groups", "of"]))
         {
             diagnostics.PowerNeeds(context.Syntax.Location, "'groups' (the number of groups)");
         }

@@ -56,27 +56,9 @@ public static class StudyHeaderReader
             return null;
         }
 
-        // The same split as StudyParser: the header runs from line 2 to the first '---' or '...'.
-        var lines = text.Replace("\r\n", "\n", StringComparison.Ordinal).Split('\n');
-        if (lines.Length == 0 || lines[0].TrimEnd() != "---")
+        // The same split as the parser's, so positions agree (a lone CR ends a line too).
+        if (HeaderSplit.Find(HeaderSplit.NormaliseLineEnds(text), studyPath, diagnostics) is not var (lines, end))
         {
-            diagnostics.NoHeader(new SourceLocation(studyPath, 0, 0));
-            return null;
-        }
-
-        var end = -1;
-        for (var i = 1; i < lines.Length; i++)
-        {
-            if (lines[i].TrimEnd() is "---" or "...")
-            {
-                end = i;
-                break;
-            }
-        }
-
-        if (end < 0)
-        {
-            diagnostics.UnclosedHeader(new SourceLocation(studyPath, 0, 0));
             return null;
         }
 

@@ -64,7 +64,7 @@ public static class StudyPins
 
         var text = file.Text;
         var editor = new TextEditor(text);
-        var eol = text.Contains("\r\n", StringComparison.Ordinal) ? "\r\n" : "\n";
+        var eol = text.Contains("\r\n", StringComparison.Ordinal) ? "\r\n" : text.Contains('\r', StringComparison.Ordinal) ? "\r" : "\n";
         var top = file.Map;
         var dataEntry = top.Entries.First(e => e.Key.Value == "data");
         var topFlow = editor.IsFlow(top);
@@ -235,7 +235,8 @@ public static class StudyPins
             this.text = text;
             for (var i = 0; i < text.Length; i++)
             {
-                if (text[i] == '\n')
+                // LF, CRLF and a lone CR each end a line, as in the parser.
+                if (text[i] == '\n' || (text[i] == '\r' && (i + 1 == text.Length || text[i + 1] != '\n')))
                 {
                     lineStarts.Add(i + 1);
                 }

@@ -39,6 +39,22 @@ internal sealed class ReferenceInlineParser : InlineParser
         var close = text.IndexOf("}}", start + 2, slice.End - start - 1, StringComparison.Ordinal);
         var position = processor.GetSourcePosition(start, out var line, out var column);
         var location = new SourceLocation(path, line, column);
+        var reopened = text.IndexOf("{{", start + 2, slice.End - start - 1, StringComparison.Ordinal);
+        if (reopened >= 0 && (close < 0 || reopened < close))
+        {
+            // '{{ a.b.c ({{ d.e | result }})': the first reference is the one left open; the one
+            // after it is read as usual.
+            processor.Inline = new ReferenceInline
+            {
+                Text = text.Substring(start, reopened - start),
+                Location = location,
+                Closed = false,
+                Span = new Markdig.Syntax.SourceSpan(position, position + 1),
+            };
+            slice.Start = reopened;
+            return true;
+        }
+
         if (close < 0)
         {
             processor.Inline = new ReferenceInline

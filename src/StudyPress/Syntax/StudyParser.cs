@@ -35,34 +35,15 @@ public static class StudyParser
     public static StudySyntax? Parse(string path, string text, IReadOnlySet<string> kinds, DiagnosticBag diagnostics)
     {
         // CommonMark and YAML both end a line at LF, CR or CRLF; so do our positions.
-        text = text.Replace("\r\n", "\n", StringComparison.Ordinal).Replace('\r', '\n');
+        text = HeaderSplit.NormaliseLineEnds(text);
         if (text.Trim().Length == 0)
         {
             diagnostics.EmptyStudy(new SourceLocation(path, 0, 0));
             return null;
         }
 
-        var lines = text.Split('\n');
-        if (lines.Length == 0 || lines[0].TrimEnd() != "---")
+        if (HeaderSplit.Find(text, path, diagnostics) is not var (lines, end))
         {
-            diagnostics.NoHeader(new SourceLocation(path, 0, 0));
-            return null;
-        }
-
-        var end = -1;
-        for (var i = 1; i < lines.Length; i++)
-        {
-            var t = lines[i].TrimEnd();
-            if (t is "---" or "...")
-            {
-                end = i;
-                break;
-            }
-        }
-
-        if (end < 0)
-        {
-            diagnostics.UnclosedHeader(new SourceLocation(path, 0, 0));
             return null;
         }
 
@@ -85,7 +66,8 @@ public static class StudyParser
 
         var document = Markdown.Parse(text, Pipeline(path, RawHtmlRequested(header)));
         var blocks = new List<AnalysisBlockSyntax>();
-        ReplaceAnalysisBlocks(document, path, lines, kinds, blocks, diagnostics);
+        var failedIds = new HashSet<string>(StringComparer.Ordinal);
+        ReplaceAnalysisBlocks(document, path, lines, kinds, blocks, failedIds, diagnostics);
         DropUnsafeLinks(document);
 
         var references = document.Descendants<ReferenceInline>().ToList();
@@ -94,17 +76,21 @@ public static class StudyParser
             diagnostics.UnclosedReference(r.Location);
         }
 
-        return new StudySyntax(path, text, header, headerLocation, document, blocks, references) { HeaderEnd = new SourceLocation(path, end, 0) };
+        return new StudySyntax(path, text, header, headerLocation, document, blocks, references)
+        {
+            HeaderEnd = new SourceLocation(path, end, 0),
+            FailedIds = failedIds,
+        };
     }
 
-    private static void ReplaceAnalysisBlocks(ContainerBlock container, string path, string[] lines, IReadOnlySet<string> kinds, List<AnalysisBlockSyntax> found, DiagnosticBag diagnostics)
+    private static void ReplaceAnalysisBlocks(ContainerBlock container, string path, string[] lines, IReadOnlySet<string> kinds, List<AnalysisBlockSyntax> found, HashSet<string> failedIds, DiagnosticBag diagnostics)
     {
         for (var i = 0; i < container.Count; i++)
         {
             var block = container[i];
             if (block is ContainerBlock inner)
             {
-                ReplaceAnalysisBlocks(inner, path, lines, kinds, found, diagnostics);
+                ReplaceAnalysisBlocks(inner, path, lines, kinds, found, failedIds, diagnostics);
                 continue;
             }
 
@@ -114,20 +100,39 @@ public static class StudyParser
             }
 
             var kind = fenced.Info ?? string.Empty;
-            if (!kinds.Contains(kind))
-            {
-                continue;
-            }
-
-            if (fenced.ClosingFencedCharCount == 0)
-            {
-                // CommonMark runs an unclosed fence to the end of the file, swallowing the prose.
-                diagnostics.UnclosedBlock(new SourceLocation(path, fenced.Line, fenced.Column), kind);
-                continue;
-            }
-
             var args = (fenced.Arguments ?? string.Empty).Trim();
             var id = args.Length == 0 ? null : args.Split(' ', StringSplitOptions.RemoveEmptyEntries)[0];
+            if (!kinds.Contains(kind))
+            {
+                if (NearMissKind(kind, id, kinds) is { } meant)
+                {
+                    // A misspelt kind would otherwise make an ordinary code block, and every block
+                    // and reference naming its id would fail: one message here, and its id is
+                    // remembered so that later stages stay quiet about it.
+                    diagnostics.UnknownKind(new SourceLocation(path, fenced.Line, fenced.Column + fenced.OpeningFencedCharCount), kind, meant);
+                    if (id is not null)
+                    {
+                        failedIds.Add(id);
+                    }
+                }
+
+                continue;
+            }
+
+            var swallowed = SwallowedFences(fenced);
+            if (fenced.ClosingFencedCharCount == 0 || swallowed is not null)
+            {
+                // CommonMark runs an unclosed fence to the end of the file (or to the next bare
+                // fence line), swallowing the prose and the blocks in between.
+                diagnostics.UnclosedBlock(new SourceLocation(path, fenced.Line, fenced.Column), kind);
+                failedIds.UnionWith(swallowed ?? []);
+                if (id is not null)
+                {
+                    failedIds.Add(id);
+                }
+
+                continue;
+            }
             var location = new SourceLocation(path, fenced.Line, fenced.Column);
             var idColumn = id is null ? fenced.Column : IdColumn(lines[fenced.Line], kind, id, fenced.Column);
             var bodyText = fenced.Lines.ToString();
@@ -162,6 +167,47 @@ public static class StudyParser
             container[i] = replacement;
             found.Add(replacement);
         }
+    }
+
+    /// <summary>
+    /// The kind a fenced block's info string was probably meant to be: close to a kind name (or the
+    /// same but for case) and written the way analysis blocks are (with an id after it).
+    /// </summary>
+    private static string? NearMissKind(string info, string? id, IReadOnlySet<string> kinds)
+    {
+        if (info.Length == 0 || id is null || !info.All(c => char.IsAsciiLetter(c) || c == '-'))
+        {
+            return null;
+        }
+
+        return DiagnosticBag.Nearest(info, kinds);
+    }
+
+    /// <summary>
+    /// The ids of fenced blocks opened inside an analysis block's body (a fence with an info
+    /// string): a sign that the block's own closing fence is missing and a later bare fence closed
+    /// it instead. Null when there is none.
+    /// </summary>
+    private static List<string>? SwallowedFences(FencedCodeBlock fenced)
+    {
+        var fence = new string(fenced.FencedChar, fenced.OpeningFencedCharCount);
+        List<string>? ids = null;
+        for (var i = 0; i < fenced.Lines.Count; i++)
+        {
+            var t = fenced.Lines.Lines[i].Slice.ToString().TrimStart();
+            var info = t.StartsWith(fence, StringComparison.Ordinal) ? t.TrimStart(fenced.FencedChar).Trim() : string.Empty;
+            if (info.Length > 0)
+            {
+                ids ??= [];
+                var words = info.Split(' ', StringSplitOptions.RemoveEmptyEntries);
+                if (words.Length > 1)
+                {
+                    ids.Add(words[1]);
+                }
+            }
+        }
+
+        return ids;
     }
 
     /// <summary>Whether the header asks for raw HTML (the binder checks the key's value and reports mistakes).</summary>

@@ -41,4 +41,10 @@ public sealed record StudySyntax(
 {
     /// <summary>The header's closing '---' line.</summary>
     public SourceLocation HeaderEnd { get; init; }
+
+    /// <summary>
+    /// Ids of blocks already reported as broken at parse time (a misspelt kind, an unclosed
+    /// fence): later stages say nothing more about blocks and references that name them.
+    /// </summary>
+    public IReadOnlySet<string> FailedIds { get; init; } = new HashSet<string>(StringComparer.Ordinal);
 }

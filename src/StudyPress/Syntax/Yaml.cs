@@ -94,7 +94,14 @@ public static class YamlReader
             }
             else
             {
-                diagnostics.YamlSyntax(Loc(e.Start), Describe(e));
+                if (YamlMistakes.Explain(text, (int)e.Start.Line - 1) is { } found && !Describe(e).Contains("quoted string", StringComparison.Ordinal))
+                {
+                    diagnostics.YamlSyntax(new SourceLocation(path, found.Line + lineOffset, found.Column + (found.Line == 0 ? columnOffset : 0)), found.Message);
+                }
+                else
+                {
+                    diagnostics.YamlSyntax(Loc(e.Start), Describe(e));
+                }
             }
 
             return null;

@@ -269,14 +269,17 @@ public static partial class AggregateSource
             var seen = text.Select(t => t[f]).Where(t => t is not null).Select(t => t!).Distinct(StringComparer.Ordinal).ToList();
             if (factors[f].Levels is { } declared)
             {
-                foreach (var t in seen.Where(t => !declared.Contains(t)))
+                var present = seen.Select(t => LevelRules.IndexOf(declared, t)).Where(k => k >= 0).ToHashSet();
+                var strays = seen.Where(t => LevelRules.IndexOf(declared, t) < 0).Select(t => new LevelRules.Stray(t, factors[f].Location)).ToList();
+                if (strays.Count > 0)
                 {
-                    diagnostics.UndeclaredLevel(factors[f].Location, t, factors[f].Name, DiagnosticBag.Nearest(t, declared));
+                    LevelRules.Report(factors[f], strays, present, diagnostics);
+                    continue;
                 }
 
                 for (var k = 0; k < declared.Count; k++)
                 {
-                    if (!seen.Contains(declared[k]))
+                    if (!present.Contains(k))
                     {
                         diagnostics.AbsentLevel(factors[f].LevelLocations.Count > k ? factors[f].LevelLocations[k] : factors[f].Location, declared[k], factors[f].Name, spec.Path);
                     }
@@ -296,7 +299,7 @@ public static partial class AggregateSource
         var order = new List<string>();
         for (var i = 0; i < raw.Count; i++)
         {
-            var codes = text[i].Select((t, f) => t is null ? -1 : IndexOf(levels[f], t)).ToArray();
+            var codes = text[i].Select((t, f) => t is null ? -1 : LevelRules.IndexOf(levels[f], t)).ToArray();
             var key = string.Join(",", codes);
             var cell = new AggregateCell(codes, raw[i].Rows, raw[i].Stats) { RawKeys = [raw[i].Keys] };
             if (pooled.TryGetValue(key, out var before))
@@ -551,19 +554,6 @@ public static partial class AggregateSource
         {
             return string.Empty;
         }
-    }
-
-    private static int IndexOf(IReadOnlyList<string> levels, string t)
-    {
-        for (var i = 0; i < levels.Count; i++)
-        {
-            if (string.Equals(levels[i], t, StringComparison.Ordinal))
-            {
-                return i;
-            }
-        }
-
-        return -1;
     }
 
     /// <summary>A quoted SQL identifier.</summary>

@@ -122,6 +122,8 @@ public static class TableColumns
         {
             var c = index[f.Column];
             var text = new string?[rows];
+            var strays = new Dictionary<string, LevelRules.Stray>(StringComparer.Ordinal);
+            var present = new HashSet<int>();
             for (var r = 0; r < rows; r++)
             {
                 var raw = table.Rows[r][c];
@@ -137,15 +139,33 @@ public static class TableColumns
                 }
 
                 text[r] = t;
-                if (f.Levels is { } declared && !declared.Contains(t))
+                if (f.Levels is { } declared)
                 {
-                    diagnostics.UndeclaredLevel(table.At(r, c), t, f.Name, DiagnosticBag.Nearest(t, declared));
+                    var k = LevelRules.IndexOf(declared, t);
+                    if (k >= 0)
+                    {
+                        present.Add(k);
+                    }
+                    else if (strays.TryGetValue(t, out var stray))
+                    {
+                        stray.Count++;
+                    }
+                    else
+                    {
+                        strays[t] = new LevelRules.Stray(t, table.At(r, c));
+                    }
                 }
+            }
+
+            if (strays.Count > 0)
+            {
+                LevelRules.Report(f, strays.Values, present, diagnostics);
+                continue;
             }
 
             var levels = f.Levels ?? CsvLoader.OrderLevels(text.Where(t => t is not null).Select(t => t!).Distinct(StringComparer.Ordinal));
             var lookup = levels.Select((l, k) => (l, k)).ToDictionary(p => p.l, p => p.k, StringComparer.Ordinal);
-            var codes = text.Select(t => t is null || !lookup.TryGetValue(t, out var k) ? -1 : k).ToArray();
+            var codes = text.Select(t => t is null ? -1 : lookup.TryGetValue(t, out var k) ? k : LevelRules.IndexOf(levels, t)).ToArray();
             var counts = new int[levels.Count];
             foreach (var code in codes.Where(code => code >= 0))
             {
