@@ -120,10 +120,11 @@ public sealed class DataTextTests
     [InlineData("b\u2067", "'b\\u2067' in column 'dose' contains the character U+2067")]
     public void Csv_LevelWithAControlOrBidiCharacter_IsAnErrorAtTheCell(string level, string expected)
     {
-        // Both readers: a plain file (the byte-level fast path) and one with a quoted field (the general reader).
+        // Both readers: a plain file (the byte-level fast path) and one with a quoted field (the general
+        // reader). The value is in two rows and reported once, at its first cell.
         foreach (var quote in new[] { string.Empty, "\"" })
         {
-            using var run = new StudyRun().Study(Study("data.csv")).File("data.csv", $"dose,y\na,1\na,2\n{quote}{level}{quote},3\nb,4\n");
+            using var run = new StudyRun().Study(Study("data.csv")).File("data.csv", $"dose,y\na,1\na,2\n{quote}{level}{quote},3\n{quote}{level}{quote},3.5\nb,4\n");
             var (exit, _, err) = run.Cli("build", "study.md");
             Assert.Equal(2, exit);
             Assert.Equal($"data.csv:4:1: error: {expected}; factor levels may not hold control or bidirectional-formatting characters\n", err);

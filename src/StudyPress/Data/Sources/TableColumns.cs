@@ -124,6 +124,7 @@ public static class TableColumns
             var text = new string?[rows];
             var strays = new Dictionary<string, LevelRules.Stray>(StringComparer.Ordinal);
             var present = new HashSet<int>();
+            var clean = new Dictionary<string, bool>(StringComparer.Ordinal);
             for (var r = 0; r < rows; r++)
             {
                 var raw = table.Rows[r][c];
@@ -133,7 +134,14 @@ public static class TableColumns
                     continue;
                 }
 
-                if (!LevelText.Check(raw, t, f.Column, table.At(r, c), table.Where(r, c), diagnostics))
+                // The text rule for levels, checked and reported once per distinct value (at its first cell).
+                var key = raw is InvalidText bad ? "\0" + Convert.ToHexString(bad.Bytes) : t;
+                if (!clean.TryGetValue(key, out var ok))
+                {
+                    clean[key] = ok = LevelText.Check(raw, t, f.Column, table.At(r, c), table.Where(r, c), diagnostics);
+                }
+
+                if (!ok)
                 {
                     continue;
                 }
