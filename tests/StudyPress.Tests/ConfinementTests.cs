@@ -355,6 +355,19 @@ public sealed class ConfinementTests
     }
 
     [Fact]
+    public void Diff_ReportWhoseDataIsNowANamedPipe_DoesNotBlock()
+    {
+        using var run = new StudyRun().File("old/study.md", Study("data.csv")).File("old/data.csv", Csv).File("new/study.md", Study("data.csv")).File("new/data.csv", Csv + "7,c,6.5\n");
+        Assert.Equal(0, run.Cli("build", "old/study.md", "new/study.md").Exit);
+        var fifo = Path.Combine(run.Folder, "new", "data.csv");
+        File.Delete(fifo);
+        Assert.Equal(0, mkfifo(fifo, Convert.ToUInt32("600", 8)));
+        var (exit, output, err) = CliWithin(run, fifo, ["diff", "old/study.html", "new/study.html"]);
+        Assert.True(exit is 0 or 1 or 3, $"exit {exit}: {err}");
+        Assert.Contains("Inputs changed: 1", output, StringComparison.Ordinal);
+    }
+
+    [Fact]
     public void Build_PathThroughALinkThenDotDotUnderAllowOutsideData_TheUpToDateCheckHashesTheFileRead()
     {
         // 'data/x/../secret.csv' with data/x linking out: the build reads the outside file, so the

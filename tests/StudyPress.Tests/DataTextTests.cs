@@ -64,6 +64,20 @@ public sealed class DataTextTests
     }
 
     [Fact]
+    public void Diff_HeaderWithAnEscapeSequence_IsShownEscaped()
+    {
+        // 'studypress diff' prints changed header lines of data files; one holds OSC "set window title".
+        const string study = "---\ntitle: T\ndata: data.csv\nresponse: y\nfactors:\n  dose:\n---\n\n```anova main\n```\n";
+        using var run = new StudyRun()
+            .File("old/study.md", study).File("old/data.csv", "dose,y\na,1\na,2\nb,3\nb,4\n")
+            .File("new/study.md", study).File("new/data.csv", "dose,y,note\u001B]0;pwned\u0007\na,1,x\na,2,x\nb,3,x\nb,4,x\n");
+        var (_, output, err) = run.Cli("diff", "old/study.md", "new/study.md");
+        Assert.Contains("+ header: dose,y,note\\u001B]0;pwned\\u0007", output, StringComparison.Ordinal);
+        Assert.DoesNotContain('\u001B', output + err);
+        Assert.DoesNotContain('\u0007', output + err);
+    }
+
+    [Fact]
     public void Diagnostic_UnpairedSurrogate_IsWrittenAsAnEscape()
     {
         var lone = "lone" + (char)0xD800 + "x" + (char)0xDC00;
