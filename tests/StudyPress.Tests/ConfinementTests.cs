@@ -350,8 +350,8 @@ public sealed class ConfinementTests
         var fifo = Path.Combine(run.Folder, "data.csv");
         File.Delete(fifo);
         Assert.Equal(0, mkfifo(fifo, Convert.ToUInt32("600", 8)));
-        var (_, output, _) = CliWithin(run, fifo, ["verify", "study.html"]);
-        Assert.Contains("data.csv (not a regular file)", output, StringComparison.Ordinal);
+        var (_, output, verifyErr) = CliWithin(run, fifo, ["verify", "study.html"]);
+        Assert.Contains("the recorded file 'data.csv' is a named pipe (FIFO), not a regular file", output + verifyErr, StringComparison.Ordinal);
     }
 
     [Fact]

@@ -1,70 +1,105 @@
 using System.Globalization;
+using System.Text;
 using StudyPress.Diagnostics;
 
 namespace StudyPress.Data;
 
 /// <summary>
-/// Text from a data source that is not valid UTF-8 (SQLite TEXT may hold any bytes): kept as its
-/// bytes so it is reported, never decoded with replacement characters that would make different
-/// texts equal.
+/// Rules for the text of a factor level, shared by every source and the header's declarations:
+/// levels are compared in Unicode normalisation form C (an 'é' typed as one code point or as 'e'
+/// and a combining accent is one level), and a level may not hold an invisible character
+/// (format characters such as U+200B ZERO WIDTH SPACE, U+200D ZERO WIDTH JOINER, U+FEFF BYTE ORDER
+/// MARK, U+00AD SOFT HYPHEN; control characters; line and paragraph separators), since two levels
+/// that differ only by one would look identical in the report.
 /// </summary>
-public sealed record InvalidText(byte[] Bytes)
+internal static class LevelText
 {
-    /// <summary>The text decoded with replacement characters, for messages only.</summary>
-    public override string ToString() => System.Text.Encoding.UTF8.GetString(Bytes);
+    /// <summary>The level as compared and shown: its NFC form.</summary>
+    public static string Normal(string text) => UnicodeNfc.Normalize(text);
 
-    /// <summary>The first bad byte, in the words of the CSV reader's message.</summary>
-    public string Detail()
+    /// <summary>The first invisible character of the text, or null.</summary>
+    public static Rune? FirstInvisible(string text)
     {
-        var offset = 0;
-        while (offset < Bytes.Length)
+        foreach (var rune in text.EnumerateRunes())
         {
-            if (System.Text.Rune.DecodeFromUtf8(Bytes.AsSpan(offset), out _, out var consumed) != System.Buffers.OperationStatus.Done)
+            if (IsInvisible(rune))
             {
-                return string.Create(CultureInfo.InvariantCulture, $"byte 0x{Bytes[offset]:X2} at offset {offset}");
+                return rune;
             }
-
-            offset += consumed;
         }
 
-        return "invalid sequence";
+        return null;
     }
 
-    /// <summary>UTF-8 bytes as text (NUL kept, so the level rule sees it), or an <see cref="InvalidText"/>.</summary>
-    public static object Decode(byte[] bytes) =>
-        System.Text.Unicode.Utf8.IsValid(bytes) ? System.Text.Encoding.UTF8.GetString(bytes) : new InvalidText(bytes);
-}
-
-/// <summary>
-/// The one rule for text that becomes a factor level, whatever the source (CSV/TSV, spreadsheet,
-/// SQLite, DuckDB, Parquet, database groups): it must be valid UTF-8 and hold no control or
-/// bidirectional-formatting character (<see cref="UnsafeText"/>; NUL and ESC included). Such a
-/// level would be shown to the reader differently from what it is, or merged with another.
-/// </summary>
-public static class LevelText
-{
-    /// <summary>True when the level is acceptable; otherwise reports it at <paramref name="at"/> and returns false.</summary>
-    /// <param name="raw">The cell as the source gave it (an <see cref="InvalidText"/> is reported as not UTF-8).</param>
-    /// <param name="text">The cell's text as it would become a level (trimmed).</param>
-    /// <param name="where">The cell in words ("row 5 of the query result"), or null where the position says it all.</param>
-    public static bool Check(object? raw, string text, string column, SourceLocation at, string? where, DiagnosticBag diagnostics)
+    /// <summary>Reports a data cell's level with an invisible character; false when reported.</summary>
+    public static bool Check(string text, SourceLocation at, string factor, DiagnosticBag diagnostics)
     {
-        if (raw is InvalidText invalid)
-        {
-            diagnostics.LevelNotUtf8(at, column, invalid.Detail(), where);
-            return false;
-        }
-
-        var i = UnsafeText.FirstUnsafe(text);
-        if (i < 0)
+        if (FirstInvisible(text) is not { } rune)
         {
             return true;
         }
 
-        diagnostics.LevelControlCharacter(at, text, column, UnsafeText.Name(text[i]), where);
+        diagnostics.InvisibleCharacter(at, Visible(text), factor, Describe(rune));
         return false;
     }
 
-    /// <summary>True when the text would pass <see cref="Check"/> (for readers that only decide whether to take a fast path).</summary>
-    public static bool IsClean(ReadOnlySpan<char> text) => UnsafeText.FirstUnsafe(text) < 0;
+    /// <summary>
+    /// Reports a cell whose text is not valid UTF-8 (SQLite TEXT can hold any bytes; decoded with
+    /// replacement characters, different texts would become one level); false when reported.
+    /// </summary>
+    /// <param name="where">The cell in words ("row 5 of the query result"), or null where the position says it all.</param>
+    public static bool CheckUtf8(object? raw, string column, SourceLocation at, string? where, DiagnosticBag diagnostics)
+    {
+        if (raw is not InvalidText invalid)
+        {
+            return true;
+        }
+
+        diagnostics.LevelNotUtf8(at, column, invalid.Detail(), where);
+        return false;
+    }
+
+    /// <summary>The text with every invisible character written as &lt;U+XXXX&gt;.</summary>
+    public static string Visible(string text)
+    {
+        var b = new StringBuilder(text.Length + 8);
+        foreach (var rune in text.EnumerateRunes())
+        {
+            if (IsInvisible(rune))
+            {
+                b.Append(CultureInfo.InvariantCulture, $"<U+{rune.Value:X4}>");
+            }
+            else
+            {
+                b.Append(rune.ToString());
+            }
+        }
+
+        return b.ToString();
+    }
+
+    /// <summary>"U+200B (zero width space)".</summary>
+    public static string Describe(Rune rune)
+    {
+        var code = string.Create(CultureInfo.InvariantCulture, $"U+{rune.Value:X4}");
+        var name = rune.Value switch
+        {
+            0x200B => "zero width space",
+            0x200C => "zero width non-joiner",
+            0x200D => "zero width joiner",
+            0x2060 => "word joiner",
+            0xFEFF => "byte order mark",
+            0x00AD => "soft hyphen",
+            0x200E => "left-to-right mark",
+            0x200F => "right-to-left mark",
+            0x2028 => "line separator",
+            0x2029 => "paragraph separator",
+            0x09 => "tab",
+            _ => Rune.GetUnicodeCategory(rune) == UnicodeCategory.Control ? "a control character" : "a format character",
+        };
+        return code + " (" + name + ")";
+    }
+
+    private static bool IsInvisible(Rune rune) => Rune.GetUnicodeCategory(rune) is
+        UnicodeCategory.Format or UnicodeCategory.Control or UnicodeCategory.LineSeparator or UnicodeCategory.ParagraphSeparator;
 }

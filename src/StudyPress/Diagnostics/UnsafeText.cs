@@ -4,7 +4,7 @@ using System.Text;
 namespace StudyPress.Diagnostics;
 
 /// <summary>
-/// Characters that must not reach a terminal raw, nor be taken silently as a factor level: C0
+/// Characters that must not reach a terminal raw: C0
 /// controls (U+0000-U+001F, tab and line ends included), DEL, C1 controls (U+0080-U+009F), the
 /// bidirectional formatting characters (U+061C, U+200E, U+200F, U+202A-U+202E, U+2066-U+2069), the
 /// line and paragraph separators (U+2028, U+2029) and unpaired surrogates. An escape sequence such

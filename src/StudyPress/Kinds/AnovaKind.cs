@@ -357,7 +357,7 @@ public sealed class AnovaKind : BlockKind
         var small = cells.Where(c => c.Values.Length is > 1 and < 5).Select(c => c.Label).ToList();
         if (small.Count > 0)
         {
-            outcome.Warnings.Add($"Small group(s) (fewer than 5 observations): {string.Join(", ", small)}. The test has little power to detect differences, and normality and equal variances cannot be judged well from so few values.");
+            outcome.Warnings.Add($"Small group(s) (fewer than 5 observations): {string.Join(", ", small.Select(StudyPress.Charts.BidiText.Isolate))}. The test has little power to detect differences, and normality and equal variances cannot be judged well from so few values.");
         }
 
         var unbalanced = cells.Select(c => c.Values.Length).Distinct().Count() > 1;
@@ -455,7 +455,7 @@ public sealed class AnovaKind : BlockKind
         var table = new HtmlTable("means", "Level means" + (o.Transformed is null ? string.Empty : " (back-transformed to the original scale)"), headers);
         foreach (var (factor, level, v) in o.Means)
         {
-            var label = factorial ? o.Data!.Factors.First(f => f.Spec.Name == factor).Spec.Display + ": " + level : level;
+            var label = factorial ? StudyPress.Charts.BidiText.Isolate(o.Data!.Factors.First(f => f.Spec.Name == factor).Spec.Display) + ": " + StudyPress.Charts.BidiText.Isolate(level) : level;
             List<string> cells = [HtmlWriter.ValueHtml(v["n"], context), HtmlWriter.ValueHtml(v["mean"], context)];
             if (factorial)
             {

@@ -210,7 +210,7 @@ public static class Figures
 
         var rows = family.Pairs
             .Where(p => p.Pair.CiLow.IsDefined && p.Pair.CiHigh.IsDefined)
-            .Select(p => new IntervalComparison(p.Pair.LevelA + " − " + p.Pair.LevelB, p.Pair.Diff, p.Pair.CiLow.Value, p.Pair.CiHigh.Value))
+            .Select(p => new IntervalComparison(StudyPress.Charts.BidiText.Isolate(p.Pair.LevelA) + " − " + StudyPress.Charts.BidiText.Isolate(p.Pair.LevelB), p.Pair.Diff, p.Pair.CiLow.Value, p.Pair.CiHigh.Value))
             .ToList();
         var level = Confidence(alpha);
         var chart = StatCharts.SimultaneousIntervals(rows, level, new ChartLabels($"{family.Title}: simultaneous {level} intervals", "difference", string.Empty));

@@ -259,7 +259,7 @@ public sealed class PostHocKind : BlockKind
 
                 cells.Add(HtmlWriter.ValueHtml(v["p_adj"], context));
                 cells.Add(pair.PAdjusted.IsDefined ? (pair.PAdjusted.Value < context.Alpha ? "differ" : "not distinguished") : "not defined");
-                table.Row(pair.LevelA + " − " + pair.LevelB, cells);
+                table.Row(StudyPress.Charts.BidiText.Isolate(pair.LevelA) + " − " + StudyPress.Charts.BidiText.Isolate(pair.LevelB), cells);
             }
 
             table.WriteTo(html);

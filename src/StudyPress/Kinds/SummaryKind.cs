@@ -84,7 +84,7 @@ public sealed class SummaryKind : BlockKind
         var small = outcome.Groups.Where(g => g.N is >= 2 and < 5).Select(g => g.Label).ToList();
         if (small.Count > 0)
         {
-            outcome.Warnings.Add($"Groups with fewer than 5 observations ({string.Join(", ", small)}): their means and intervals are imprecise, and quartiles of so few values say little.");
+            outcome.Warnings.Add($"Groups with fewer than 5 observations ({string.Join(", ", small.Select(StudyPress.Charts.BidiText.Isolate))}): their means and intervals are imprecise, and quartiles of so few values say little.");
         }
 
         if (data.DroppedMissing > 0)

@@ -14,6 +14,13 @@ namespace StudyPress.Data.Sources;
 /// </summary>
 public static class DatabaseSource
 {
+    /// <summary>DuckDB's memory limit for a query (a runaway query fails inside the engine instead of exhausting memory).</summary>
+    internal const string DuckDbMemoryLimit = "1GB";
+
+    /// <summary>Test hook (this thread): a smaller row limit, so a test of the limit stays short.</summary>
+    [ThreadStatic]
+    internal static long? MaxRowsForTests;
+
     /// <summary>In a Parquet dataset's query, the file is this table.</summary>
     public const string ParquetTable = "source";
 
@@ -29,6 +36,7 @@ public static class DatabaseSource
         List<string> names;
         var rows = new List<object?[]>();
         string resultSha;
+        QueryClock? clock = null;
         try
         {
             using var connection = Open(spec, fullPath, diagnostics);
@@ -39,6 +47,7 @@ public static class DatabaseSource
 
             using var command = connection.CreateCommand();
             command.CommandText = query;
+            clock = QueryClock.Start(command, spec.TimeoutSeconds);
             using var reader = command.ExecuteReader();
             names = [.. Enumerable.Range(0, reader.FieldCount).Select(reader.GetName)];
             var types = Enumerable.Range(0, reader.FieldCount).Select(i => SafeTypeName(reader, i)).ToList();
@@ -50,8 +59,15 @@ public static class DatabaseSource
             }
 
             using var hash = new ResultHash(names, types);
+            var maxRows = MaxRowsForTests ?? Math.Min(DataLimits.MaxQueryRows, DataLimits.MaxQueryCells / Math.Max(1, reader.FieldCount));
             while (reader.Read())
             {
+                if (rows.Count == maxRows)
+                {
+                    diagnostics.QueryTooManyRows(queryAt, spec.Name, maxRows);
+                    return null;
+                }
+
                 var values = new object?[reader.FieldCount];
                 for (var i = 0; i < values.Length; i++)
                 {
@@ -64,6 +80,11 @@ public static class DatabaseSource
 
             resultSha = hash.Finish();
         }
+        catch (Exception e) when (clock is { Expired: true } && e is DbException or InvalidOperationException or OperationCanceledException)
+        {
+            diagnostics.QueryTimedOut(queryAt, spec.Name, spec.TimeoutSeconds);
+            return null;
+        }
         catch (SqliteException e) when (e.SqliteErrorCode is 26 or 11)
         {
             diagnostics.DatabaseUnreadable(spec.PathLocation, spec.Path, Message(e));
@@ -73,6 +94,10 @@ public static class DatabaseSource
         {
             diagnostics.QueryFailed(queryAt, spec.Name, Message(e));
             return null;
+        }
+        finally
+        {
+            clock?.Dispose();
         }
 
         var table = new SourceTable
@@ -158,7 +183,7 @@ public static class DatabaseSource
                     {
                         var c = new DuckDBConnection(DuckDbConnectionString(fullPath));
                         c.Open();
-                        Execute(c, "SET enable_external_access = false; SET lock_configuration = true;");
+                        Execute(c, $"SET enable_external_access = false; SET memory_limit = '{DuckDbMemoryLimit}'; SET lock_configuration = true;");
                         return c;
                     }
 
@@ -167,7 +192,7 @@ public static class DatabaseSource
                         var c = new DuckDBConnection("Data Source=:memory:");
                         c.Open();
                         var literal = "'" + fullPath.Replace("'", "''", StringComparison.Ordinal) + "'";
-                        Execute(c, $"CREATE VIEW {ParquetTable} AS SELECT * FROM read_parquet({literal}); SET allowed_paths = [{literal}]; SET enable_external_access = false; SET lock_configuration = true;");
+                        Execute(c, $"CREATE VIEW {ParquetTable} AS SELECT * FROM read_parquet({literal}); SET allowed_paths = [{literal}]; SET enable_external_access = false; SET memory_limit = '{DuckDbMemoryLimit}'; SET lock_configuration = true;");
                         return c;
                     }
             }

@@ -93,10 +93,14 @@ public static class TableColumns
 
                 void Report(Problem p, object? value)
                 {
-                    var text = Text(value) ?? string.Empty;
+                    var text = (p == Problem.TooSmall && value is SheetNumber sn ? sn.Text : Text(value)) ?? string.Empty;
                     if (value is SheetError)
                     {
                         diagnostics.CellError(table.At(r, c), text, name, table.Where(r, c));
+                    }
+                    else if (p == Problem.TooSmall)
+                    {
+                        diagnostics.ValueTooSmall(table.At(r, c), text, name, table.Where(r, c));
                     }
                     else if (p == Problem.NotFinite)
                     {
@@ -122,28 +126,29 @@ public static class TableColumns
         {
             var c = index[f.Column];
             var text = new string?[rows];
+            var distinct = new HashSet<string>(StringComparer.Ordinal);
             var strays = new Dictionary<string, LevelRules.Stray>(StringComparer.Ordinal);
             var present = new HashSet<int>();
-            var clean = new Dictionary<string, bool>(StringComparer.Ordinal);
             for (var r = 0; r < rows; r++)
             {
-                var raw = table.Rows[r][c];
-                var t = Text(raw)?.Trim();
+                var t = Text(table.Rows[r][c])?.Trim();
                 if (t is null || missing.Contains(t))
                 {
                     continue;
                 }
 
-                // The text rule for levels, checked and reported once per distinct value (at its first cell).
-                var key = raw is InvalidText bad ? "\0" + Convert.ToHexString(bad.Bytes) : t;
-                if (!clean.TryGetValue(key, out var ok))
-                {
-                    clean[key] = ok = LevelText.Check(raw, t, f.Column, table.At(r, c), table.Where(r, c), diagnostics);
-                }
-
-                if (!ok)
+                if (!LevelText.CheckUtf8(table.Rows[r][c], f.Column, table.At(r, c), table.Where(r, c), diagnostics))
                 {
                     continue;
+                }
+
+                // Compared in NFC (LevelText), so canonically equal spellings are one level.
+                _ = LevelText.Check(t, table.At(r, c), f.Name, diagnostics);
+                t = LevelText.Normal(t);
+                if (distinct.Add(t) && distinct.Count > DataLimits.MaxLevelsPerFactor)
+                {
+                    diagnostics.TooManyLevels(table.At(r, c), f.Name, f.Column, DataLimits.MaxLevelsPerFactor);
+                    return null;
                 }
 
                 text[r] = t;
@@ -222,6 +227,9 @@ public static class TableColumns
         Missing,
         NotNumber,
         NotFinite,
+
+        /// <summary>Not zero, but nearer to 0 than ±1e-300 (NumberRules.MinMagnitude).</summary>
+        TooSmall,
     }
 
     /// <summary>Reads one cell as a number; false with a problem for a cell that is not one.</summary>
@@ -286,6 +294,12 @@ public static class TableColumns
                         return false;
                     }
 
+                    if (NumberRules.IsUnderflow(n.Text, approx))
+                    {
+                        problem = Problem.TooSmall;
+                        return false;
+                    }
+
                     isExact = TryDecimal(n.Text, out exact) && (exact != 0 || approx == 0);
                     return true;
                 }
@@ -330,6 +344,12 @@ public static class TableColumns
         {
             isExact = exact != 0 || approx == 0;
             return true;
+        }
+
+        if (rule is NumberProblem.TooSmall)
+        {
+            problem = Problem.TooSmall;
+            return false;
         }
 
         if (rule is NumberProblem.NotFinite or NumberProblem.TooLarge)
