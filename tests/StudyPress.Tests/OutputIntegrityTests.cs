@@ -391,9 +391,9 @@ public sealed class BidiIsolationTests
     private const string Rlo = "\u202E";
 
     [Theory]
-    [InlineData("left" + Rlo + "over")]
     [InlineData("\u05E9\u05DC\u05D5\u05DD")]
-    public void Report_LevelNameWithOverrideOrRightToLeftLetters_IsIsolatedEverywhere(string level)
+    [InlineData("\u0645\u0646\u062E\u0641\u0636")]
+    public void Report_LevelNameWithRightToLeftLetters_IsIsolatedEverywhere(string level)
     {
         var csv = new System.Text.StringBuilder("plot,dose,y\n");
         var values = new[] { ("low", new[] { 1.0, 2.0, 1.5, 1.8 }), (level, new[] { 6.5, 7.0, 6.4, 6.9 }), ("high", new[] { 5.5, 6.0, 5.1, 5.6 }) };
@@ -426,9 +426,33 @@ public sealed class BidiIsolationTests
     }
 
     [Fact]
-    public void Report_TwoWayLevelNameWithOverride_IsIsolatedEverywhere()
+    public void Data_LevelNameWithOverride_IsRefusedAtTheCell()
     {
-        const string level = "left" + Rlo + "over";
+        // Direction controls in a level could make two levels look alike; the data are refused
+        // (the limits rule), so overrides reach the page only through header text.
+        var study = "---\ntitle: Bidi\ndata: data.csv\nresponse: y\nfactors:\n  dose:\n---\n\n```anova main\n```\n";
+        using var run = new StudyRun().Study(study).File("data.csv", "plot,dose,y\n1,low,1\n2,low,2\n3,left" + Rlo + "over,5\n4,left" + Rlo + "over,6\n");
+        DiagnosticsTests.AssertRejected(run, "override in a level", "data.csv:4:3: error: level 'left<U+202E>over' of factor 'dose' contains the invisible character U+202E (a format character); remove it, or two levels could look the same");
+    }
+
+    [Fact]
+    public void Report_LabelWithOverride_IsIsolatedEverywhere()
+    {
+        const string label = "Dose" + Rlo + "level";
+        var study = "---\ntitle: Bidi label\ndata: data.csv\nresponse: y\nfactors:\n  dose:\n    label: \"" + label + "\"\n---\n\n"
+            + "```summary s\n```\n\n```anova main\n```\n\n```posthoc ph\n```\n\n```methods m\n```\n";
+        using var run = new StudyRun().Study(study).File("data.csv", "plot,dose,y\n1,low,1.0\n2,low,2.0\n3,low,1.5\n4,mid,4.0\n5,mid,4.4\n6,mid,3.9\n7,high,6.0\n8,high,6.5\n9,high,5.8\n");
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        var page = result.Html![..ReportManifest.FromHtml(result.Html!, out _)!.ElementOffset];
+        var occurrences = AssertIsolated(page, label);
+        Assert.True(occurrences >= 2, $"the label occurs only {occurrences} time(s)");
+    }
+
+    [Fact]
+    public void Report_TwoWayLevelNameWithRightToLeftLetters_IsIsolatedEverywhere()
+    {
+        const string level = "\u05E9\u05DC\u05D5\u05DD";
         var csv = new System.Text.StringBuilder("plot,dose,site,y\n");
         var plot = 0;
         foreach (var (dose, d) in new[] { ("low", 0.0), (level, 3.0), ("high", 1.5) })
