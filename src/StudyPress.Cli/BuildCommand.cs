@@ -328,7 +328,8 @@ public static class BuildCommand
                     stdout.Flush();
                     foreach (var m in errors)
                     {
-                        stderr.WriteLine(m);
+                        // Text quoted from data or paths never reaches the terminal raw.
+                        stderr.WriteLine(UnsafeText.Escape(m));
                     }
 
                     stderr.Flush();

@@ -43,6 +43,22 @@ internal static class LevelText
         return false;
     }
 
+    /// <summary>
+    /// Reports a cell whose text is not valid UTF-8 (SQLite TEXT can hold any bytes; decoded with
+    /// replacement characters, different texts would become one level); false when reported.
+    /// </summary>
+    /// <param name="where">The cell in words ("row 5 of the query result"), or null where the position says it all.</param>
+    public static bool CheckUtf8(object? raw, string column, SourceLocation at, string? where, DiagnosticBag diagnostics)
+    {
+        if (raw is not InvalidText invalid)
+        {
+            return true;
+        }
+
+        diagnostics.LevelNotUtf8(at, column, invalid.Detail(), where);
+        return false;
+    }
+
     /// <summary>The text with every invisible character written as &lt;U+XXXX&gt;.</summary>
     public static string Visible(string text)
     {

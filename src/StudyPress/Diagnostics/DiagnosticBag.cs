@@ -399,6 +399,24 @@ public sealed class DiagnosticBag
     public void ParquetUnreadable(SourceLocation at, string path, string message) =>
         Error("SP0339", at, $"cannot read {Q(path)} as a Parquet file: {message}");
 
+    // ---- data confinement and text safety (SP0020-SP0029 files, SP0340-SP0354 data) ----
+    public void DataPathNotRegular(SourceLocation at, string path, string kind) =>
+        Error("SP0020", at, $"data path {Q(path)} is {kind}, not a regular file; only regular files are read as data");
+
+    public void DataPathLinkLoop(SourceLocation at, string path, int max) =>
+        Error("SP0021", at, string.Create(CultureInfo.InvariantCulture, $"data path {Q(path)} goes through more than {max} symbolic links; is there a loop of links?"));
+
+    public void LevelNotUtf8(SourceLocation at, string column, string detail, string? where) =>
+        Error("SP0341", at, $"the text in column {Q(column)}{Where(where)} is not valid UTF-8 ({detail})");
+
+    public void PathPatternCharacter(SourceLocation at, string path, char character) =>
+        Error("SP0342", at, $"data path {Q(path)} contains '{character}', which the Parquet reader takes as a file-name pattern; rename the file or folder without '*', '?' or '['");
+
+    public void DatabaseSideFile(SourceLocation at, string path, string side) =>
+        Error("SP0343", at, $"{Q(path)} has a write-ahead log beside it ({Q(side)}), which the database would also read but which is not hashed; checkpoint the database (close it in the program that wrote it) so the log is merged and removed");
+
+    private static string Where(string? where) => where is null ? string.Empty : " (" + where + ")";
+
     // ---- references (SP04xx) ----
     public void UnknownReference(SourceLocation at, string text, string? suggestion) => Error("SP0401", at, $"unknown reference {Q(text)}{Suggest(suggestion)}");
 

@@ -85,7 +85,7 @@ public static partial class ReportVerifier
         Check(studyFull, manifest.StudyPath, manifest.StudySha256, changed, missing);
         foreach (var input in manifest.Inputs)
         {
-            Check(Path.GetFullPath(Path.Combine(studyDir, input.Path)), input.Path, input.Sha256, changed, missing);
+            Check(Path.Combine(studyDir, input.Path), input.Path, input.Sha256, changed, missing);
         }
 
         if (manifest.TemplateSha256 != ReportTemplate.Sha256)
@@ -256,6 +256,8 @@ public static partial class ReportVerifier
 
     private static void Check(string full, string shown, string recorded, List<string> changed, List<string> missing)
     {
+        // The file a build would read (links and '..' resolved as the kernel does); its type was checked above.
+        full = Data.PathGuard.RealPath(full);
         try
         {
             using var stream = File.OpenRead(full);

@@ -201,7 +201,7 @@ public static partial class AggregateSource
                     var values = new object?[reader.FieldCount];
                     for (var i = 0; i < values.Length; i++)
                     {
-                        values[i] = reader.IsDBNull(i) ? null : reader.GetValue(i);
+                        values[i] = DatabaseSource.Value(reader, i);
                     }
 
                     hash.Row(values);
@@ -275,6 +275,19 @@ public static partial class AggregateSource
         var errors = diagnostics.Items.Count;
         // Levels compared in NFC, without invisible characters, at most DataLimits.MaxLevelsPerFactor (LevelText).
         var at = spec.QueryLocation ?? spec.PathLocation;
+        foreach (var cell in raw)
+        {
+            for (var f = 0; f < factors.Count; f++)
+            {
+                _ = LevelText.CheckUtf8(cell.Keys[f], factors[f].Column, at, "a group of the database's result", diagnostics);
+            }
+        }
+
+        if (diagnostics.Items.Count > errors)
+        {
+            return null;
+        }
+
         var text = raw.Select(c => c.Keys.Select(v => TableColumns.Text(v)?.Trim() is { } t && !missing.Contains(t) ? LevelText.Normal(t) : null).ToArray()).ToList();
         var levels = new List<IReadOnlyList<string>>();
         for (var f = 0; f < factors.Count; f++)

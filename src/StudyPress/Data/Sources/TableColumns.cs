@@ -137,6 +137,11 @@ public static class TableColumns
                     continue;
                 }
 
+                if (!LevelText.CheckUtf8(table.Rows[r][c], f.Column, table.At(r, c), table.Where(r, c), diagnostics))
+                {
+                    continue;
+                }
+
                 // Compared in NFC (LevelText), so canonically equal spellings are one level.
                 _ = LevelText.Check(t, table.At(r, c), f.Name, diagnostics);
                 t = LevelText.Normal(t);
