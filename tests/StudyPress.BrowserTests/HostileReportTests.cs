@@ -47,7 +47,7 @@ public sealed class HostileReportTests(BrowserFixture browser)
         + "4,\"<svg/onload=window.__pwned='level-svg'>\",4.1\n"
         + "5,c,5.5\n6,c,6.2\n";
 
-    [Theory]
+    [BrowserTheory]
     [InlineData(false)]
     [InlineData(true)]
     public async Task Report_WithScriptPayloadsEverywhere_RunsNoUserScript(bool rawHtml)
