@@ -63,7 +63,7 @@ public static partial class StatCharts
         plot.Add(new PolylineEl(gx.Select(v => new Pt(x.Map(v), y.Map(Clamp(Pdf(v))))).ToList(),
             Paint.StrokeOnly(Palette.Ink, 1.6), "density"));
 
-        string critText = "critical F = " + LinearScale.Num(crit);
+        string critText = "rejected from F = " + LinearScale.Num(crit);
         plot.Add(new LineEl(new(x.Map(crit), plot.Top), new(x.Map(crit), plot.Bottom), critPaint, "critical"));
         plot.Add(new TextEl(new(x.Map(crit) + 4, plot.Top + 12), critText, Plot.TickSize, Palette.Ink, Class: "critical-label"));
 

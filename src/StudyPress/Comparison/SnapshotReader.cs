@@ -354,6 +354,6 @@ public static partial class SnapshotReader
     private static partial Regex SentenceEnd();
 
     /// <summary>Phrases that print the study's alpha (not a power block's own alpha).</summary>
-    [GeneratedRegex("(?:F crit \\(α = |significance level α = |family-wise error rate at α = |family-wise level α = |p-values at α = |at α = (?=[0-9.]+ the test))(0?\\.[0-9]+)")]
+    [GeneratedRegex("(?:F threshold \\(α = |F crit \\(α = |significance level α = |family-wise error rate at α = |family-wise level α = |p-values at α = |at α = (?=[0-9.]+ the test))(0?\\.[0-9]+)")]
     private static partial Regex AlphaInText();
 }

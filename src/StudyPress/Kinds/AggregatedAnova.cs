@@ -274,7 +274,7 @@ public static class AggregatedAnova
             html.Raw("<p class=\"method\">").Text(AnovaKind.SsTypeText(o.Result.SsType)).Raw("</p>");
         }
 
-        var effects = new HtmlTable("effects", "Critical F and effect sizes", ["Term", "F crit (α = " + context.AlphaText + ")", "η²", "partial η²", "ω²", "Cohen's f"]);
+        var effects = new HtmlTable("effects", "Rejection threshold and effect sizes", ["Term", "F threshold (α = " + context.AlphaText + ")", "η²", "partial η²", "ω²", "Cohen's f"]);
         foreach (var (term, v) in o.Terms)
         {
             effects.Row(Label(term, o), [V(v, "f_crit"), V(v, "eta2"), V(v, "partial_eta2"), V(v, "omega2"), V(v, "cohen_f")]);

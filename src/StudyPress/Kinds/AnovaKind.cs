@@ -419,7 +419,7 @@ public sealed class AnovaKind : BlockKind
             html.Raw("<p class=\"method\">").Text(TransformText(tr)).Raw("</p>");
         }
 
-        var effects = new HtmlTable("effects", "Critical F and effect sizes", ["Term", "F crit (α = " + context.AlphaText + ")", "η²", "partial η²", context.ConfidenceText + "% CI of partial η²", "ω²", "Cohen's f"]);
+        var effects = new HtmlTable("effects", "Rejection threshold and effect sizes", ["Term", "F threshold (α = " + context.AlphaText + ")", "η²", "partial η²", context.ConfidenceText + "% CI of partial η²", "ω²", "Cohen's f"]);
         foreach (var (term, v) in o.Terms)
         {
             effects.Row(Label(term, o), [V(v, "f_crit"), V(v, "eta2"), V(v, "partial_eta2"), V(v, "partial_eta2_ci_low") + " – " + V(v, "partial_eta2_ci_high"), V(v, "omega2"), V(v, "cohen_f")]);
