@@ -276,6 +276,17 @@ public static class Compilation
         var studyFolder = Path.GetDirectoryName(display);
         foreach (var spec in header.Datasets)
         {
+            if (spec.Format == DataFormat.Postgres)
+            {
+                // A server, not a file: no path rules, no file hash (see Data/Sources/PostgresSource).
+                if (Data.Sources.PostgresSource.Load(spec, needs[spec.Name], diagnostics) is { } server)
+                {
+                    loaded[spec.Name] = server;
+                }
+
+                continue;
+            }
+
             if (!options.AllowOutsidePaths)
             {
                 switch (PathGuard.Check(studyDir, spec.Path, out _))

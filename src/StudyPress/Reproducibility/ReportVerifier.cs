@@ -73,6 +73,12 @@ public static partial class ReportVerifier
         Check(studyFull, manifest.StudyPath, manifest.StudySha256, changed, missing);
         foreach (var input in manifest.Inputs)
         {
+            // A server has no file to hash: only --recompute (which re-runs the query) can check it.
+            if (input.Path.StartsWith(Binding.PostgresDataset.Scheme, StringComparison.Ordinal))
+            {
+                continue;
+            }
+
             Check(Path.GetFullPath(Path.Combine(studyDir, input.Path)), input.Path, input.Sha256, changed, missing);
         }
 
