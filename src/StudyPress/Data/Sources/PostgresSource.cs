@@ -150,7 +150,7 @@ public static class PostgresSource
 
             return connection;
         }
-        catch (Exception e) when (e is NpgsqlException or InvalidOperationException or ArgumentException or TimeoutException or SocketException)
+        catch (Exception e) when (e is NpgsqlException or InvalidOperationException or ArgumentException or TimeoutException or SocketException or IOException or UnauthorizedAccessException)
         {
             connection.Dispose();
             var server = target.Display;
@@ -165,6 +165,9 @@ public static class PostgresSource
                     break;
                 case PostgresException { SqlState: "3D000" }:
                     diagnostics.ServerUnknownDatabase(target.DatabaseLocation, target.Database, server);
+                    break;
+                case IOException or UnauthorizedAccessException:
+                    diagnostics.ServerAuthenticationFailed(target.ServerLocation, server, "the password file named by PGPASSFILE cannot be read");
                     break;
                 case NpgsqlException n when n.Message.Contains("password", StringComparison.OrdinalIgnoreCase):
                     diagnostics.ServerAuthenticationFailed(target.ServerLocation, server, "no password was given, and the server asks for one");
