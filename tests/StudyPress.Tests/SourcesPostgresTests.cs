@@ -161,6 +161,25 @@ public sealed class SourcesPostgresTests
     }
 
     [PostgresFact]
+    public void Verify_PlainCannotReadTheServer_RecomputeReRunsTheQuery()
+    {
+        DesignTable("numeric(10,2)");
+        using var run = new StudyRun().Study("---\ntitle: v\ndata:\n" + Dataset("d", "select fert, y from t order by plot") + "response: y\nfactors:\n  fert:\n---\n\n```anova a\n```\n");
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        StudyPress.Rendering.AtomicFile.Write(run.ReportPath, Encoding.UTF8.GetBytes(result.Html!));
+        var plain = StudyPress.Reproducibility.ReportVerifier.Verify(run.ReportPath, recompute: false);
+        Assert.Equal(StudyPress.Reproducibility.Freshness.Fresh, plain.State);
+        Assert.Contains("'d' was not read again; --recompute re-runs the queries", plain.Detail, StringComparison.Ordinal);
+        Assert.Equal(StudyPress.Reproducibility.Freshness.Fresh, StudyPress.Reproducibility.ReportVerifier.Verify(run.ReportPath, recompute: true).State);
+
+        server.Admin("UPDATE t SET y = y + 0.5 WHERE plot = 0");
+        Assert.Equal(StudyPress.Reproducibility.Freshness.Fresh, StudyPress.Reproducibility.ReportVerifier.Verify(run.ReportPath, recompute: false).State);
+        var recomputed = StudyPress.Reproducibility.ReportVerifier.Verify(run.ReportPath, recompute: true);
+        Assert.Equal(StudyPress.Reproducibility.Freshness.Altered, recomputed.State);
+    }
+
+    [PostgresFact]
     public void SmLs09_FromNumericColumn_ReachesTheDigitsOfTheDuckDbDecimalRoute()
     {
         using var certified = JsonDocument.Parse(File.ReadAllText(ReferenceFiles.PathOf("nist-strd-anova", "certified.json")));

@@ -70,12 +70,14 @@ public static partial class ReportVerifier
         var studyDir = Path.GetDirectoryName(studyFull)!;
         var changed = new List<string>();
         var missing = new List<string>();
+        var servers = new List<string>();
         Check(studyFull, manifest.StudyPath, manifest.StudySha256, changed, missing);
         foreach (var input in manifest.Inputs)
         {
             // A server has no file to hash: only --recompute (which re-runs the query) can check it.
             if (input.Path.StartsWith(Binding.PostgresDataset.Scheme, StringComparison.Ordinal))
             {
+                servers.Add(input.Name);
                 continue;
             }
 
@@ -108,7 +110,8 @@ public static partial class ReportVerifier
             return new Verdict(Freshness.Stale, string.Join("; ", parts));
         }
 
-        return recompute ? Recompute(reportPath, html, manifest, studyFull, reportDir, allowOutside) : new Verdict(Freshness.Fresh, null);
+        return recompute ? Recompute(reportPath, html, manifest, studyFull, reportDir, allowOutside)
+            : new Verdict(Freshness.Fresh, servers.Count == 0 ? null : "the server data of " + string.Join(", ", servers.Select(n => "'" + n + "'")) + " was not read again; --recompute re-runs the queries");
     }
 
     private static void Check(string full, string shown, string recorded, List<string> changed, List<string> missing)
