@@ -46,6 +46,20 @@ public sealed class PostgresServer : IDisposable
         }
 
         Port = FreePort();
+        try
+        {
+            Start(data, pwfile);
+        }
+        catch
+        {
+            Dispose();
+            throw;
+        }
+    }
+
+    private void Start(string data, string pwfile)
+    {
+        var bin = this.bin!;
         RunAsServerUser(Path.Combine(bin, "initdb"), "-D", data, "-U", AdminUser, "--pwfile=" + pwfile, "--auth=scram-sha-256", "-E", "UTF8", "--locale=C", "--no-sync");
         RunAsServerUser(
             Path.Combine(bin, "pg_ctl"),
@@ -66,7 +80,7 @@ public sealed class PostgresServer : IDisposable
 
     public int Port { get; }
 
-    public bool Started { get; }
+    public bool Started { get; private set; }
 
     private static bool IsRoot => Environment.UserName == "root";
 
@@ -106,7 +120,8 @@ public sealed class PostgresServer : IDisposable
 
     public void Dispose()
     {
-        if (bin is not null && Started)
+        // Stop whatever was started, even when starting failed half-way.
+        if (bin is not null && File.Exists(Path.Combine(dir, "data", "postmaster.pid")))
         {
             try
             {
@@ -138,7 +153,8 @@ public sealed class PostgresServer : IDisposable
 
     private static void Run(string file, params string[] args)
     {
-        var psi = new ProcessStartInfo(file) { RedirectStandardOutput = true, RedirectStandardError = true, UseShellExecute = false };
+        // A fixed working directory: the test process's own may be a deleted temporary folder, which initdb and pg_ctl refuse.
+        var psi = new ProcessStartInfo(file) { RedirectStandardOutput = true, RedirectStandardError = true, UseShellExecute = false, WorkingDirectory = "/" };
         foreach (var a in args)
         {
             psi.ArgumentList.Add(a);

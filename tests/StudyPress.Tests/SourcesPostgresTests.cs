@@ -333,6 +333,35 @@ public sealed class SourcesPostgresTests
     }
 
     [PostgresFact]
+    public void HeaderMistakes_AreOneMessageEach()
+    {
+        string Code(string data)
+        {
+            using var run = new StudyRun().File("t.csv", "fert,y\na,1\nb,2\n").Study("---\ntitle: k\ndata:\n" + data + "response: y\nfactors:\n  fert:\n---\n\n```anova a\n```\n");
+            var result = run.Compile();
+            Assert.False(result.Succeeded);
+            Assert.True(result.Diagnostics.Count == 1, string.Join("\n", result.Diagnostics));
+            return result.Diagnostics[0].Code + " " + result.Diagnostics[0].Location.Line.ToString(CultureInfo.InvariantCulture);
+        }
+
+        Assert.Equal("SP0320 10", Code(Dataset("d", "select fert, y from t") + "    path: t.csv\n"));
+        Assert.Equal("SP0320 10", Code(Dataset("d", "select fert, y from t") + "    sha256: " + new string('a', 64) + "\n"));
+        Assert.Equal("SP0320 5", Code("  d:\n    path: t.csv\n    server: 127.0.0.1\n"));
+        Assert.Equal("SP0202 4", Code("  d:\n    format: postgres\n    server: 127.0.0.1\n    query: \"select 1\"\n"));
+    }
+
+    [PostgresFact]
+    public void Pin_LeavesTheServerDatasetAlone_AndPinsTheFiles()
+    {
+        using var run = new StudyRun().File("t.csv", "fert,y\na,1\nb,2\n").Study("---\ntitle: p\ndata:\n  c:\n    path: t.csv\n" + Dataset("d", "select fert, y from t") + "response: y\nfactors:\n  fert:\n---\n\n```anova a\ndata: c\n```\n");
+        var bag = new StudyPress.Diagnostics.DiagnosticBag();
+        Assert.True(StudyPress.Reproducibility.StudyPins.PinFile(run.StudyPath, allowOutside: false, bag), string.Join("\n", bag.Items));
+        var text = File.ReadAllText(run.StudyPath);
+        Assert.Single(System.Text.RegularExpressions.Regex.Matches(text, "sha256: [0-9a-f]{64}"));
+        Assert.True(text.IndexOf("sha256:", StringComparison.Ordinal) < text.IndexOf("format: postgres", StringComparison.Ordinal));
+    }
+
+    [PostgresFact]
     public void PasswordKey_AndPathKey_AreNotStudyKeys()
     {
         using var run = new StudyRun().Study("---\ntitle: k\ndata:\n" + Dataset("d", "select fert, y from t") + "    password: x\nresponse: y\nfactors:\n  fert:\n---\n\n```anova a\n```\n");
