@@ -24,6 +24,7 @@ public sealed class SourcesPostgresTests
         this.server = server;
         PostgresSource.EnvironmentOverride.Value = Credentials(PostgresServer.User, PostgresServer.Password);
         PostgresSource.TimeLimitOverride.Value = null;
+        PostgresSource.RowLimitOverride.Value = null;
     }
 
     private static Func<string, string?> Credentials(string user, string password) =>
@@ -321,6 +322,21 @@ public sealed class SourcesPostgresTests
         Assert.False(PostgresSource.HasSecondStatement("select 'a;b' as x, \"c;d\" from t -- x;y\n /* ; */ where $q$;$q$ = ';'"));
         Assert.True(PostgresSource.HasSecondStatement("select 1; select 2"));
         Assert.True(PostgresSource.HasSecondStatement("select 'it''s'; select 2"));
+    }
+
+    [PostgresFact]
+    public void TooManyRows_WithoutAggregate_IsOneMessage_WithAggregate_IsFine()
+    {
+        DesignTable("numeric(10,2)");
+        PostgresSource.RowLimitOverride.Value = 20;
+        Fails(server, Dataset("d", "select fert, y from t"), "SP0383", "more than 20 rows");
+        using var run = new StudyRun().Study("---\ntitle: n\ndata:\n" + Dataset("d", "select fert, y from t", aggregate: true) + "response: y\nfactors:\n  fert:\n---\n\n```anova a\n```\n");
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        PostgresSource.RowLimitOverride.Value = 31;
+        using var exact = new StudyRun().Study("---\ntitle: n\ndata:\n" + Dataset("d", "select fert, y from t") + "response: y\nfactors:\n  fert:\n---\n\n```anova a\n```\n");
+        Assert.Equal(31, SourcesAggregateTests.Rows().Count);
+        Assert.True(exact.Compile().Succeeded);
     }
 
     [PostgresFact]

@@ -30,8 +30,11 @@ public static class PostgresSource
     /// <summary>The server cancels a statement that runs longer (seconds).</summary>
     public const int TimeLimitSeconds = 60;
 
-    /// <summary>The most rows loaded from a server without <c>aggregate: true</c>.</summary>
-    public const long MaxLoadedRows = 10_000_000;
+    /// <summary>
+    /// The most rows loaded from a server without <c>aggregate: true</c>: about 330 MB of memory
+    /// (2 000 000 rows of three columns measured at 617 MB peak for the whole build).
+    /// </summary>
+    public const long MaxLoadedRows = 1_000_000;
 
     /// <summary>For tests: the environment the credentials are read from (null: the process environment).</summary>
     internal static readonly AsyncLocal<Func<string, string?>?> EnvironmentOverride = new();
@@ -39,7 +42,12 @@ public static class PostgresSource
     /// <summary>For tests: a shorter statement time limit in seconds (null: <see cref="TimeLimitSeconds"/>).</summary>
     internal static readonly AsyncLocal<int?> TimeLimitOverride = new();
 
+    /// <summary>For tests: a smaller row limit (null: <see cref="MaxLoadedRows"/>).</summary>
+    internal static readonly AsyncLocal<long?> RowLimitOverride = new();
+
     internal static int TimeLimit => TimeLimitOverride.Value ?? TimeLimitSeconds;
+
+    internal static long RowLimit => RowLimitOverride.Value ?? MaxLoadedRows;
 
     public static LoadedDataset? Load(DatasetSpec spec, DatasetNeeds needs, DiagnosticBag diagnostics)
     {
@@ -83,9 +91,9 @@ public static class PostgresSource
                 using var hash = new ResultHash(names, types);
                 while (reader.Read())
                 {
-                    if (rows.Count >= MaxLoadedRows)
+                    if (rows.Count >= RowLimit)
                     {
-                        diagnostics.ServerTooManyRows(queryAt, spec.Name, MaxLoadedRows);
+                        diagnostics.ServerTooManyRows(queryAt, spec.Name, RowLimit);
                         return null;
                     }
 
