@@ -340,6 +340,21 @@ public sealed class SourcesPostgresTests
     }
 
     [PostgresFact]
+    public void TlsRequired_ButTheServerHasNone_IsOneMessageAtServer()
+    {
+        var o = Fails(server, Dataset("d", "select fert, y from t").Replace("tls: disable", "tls: require", StringComparison.Ordinal), "SP0034", "TLS");
+        Assert.Contains(At(6, 13), o.Message, StringComparison.Ordinal);
+    }
+
+    [PostgresFact]
+    public void NumericBeyondDecimal_IsOneMessage_NotACrash()
+    {
+        DesignTable("numeric(10,2)");
+        var o = Fails(server, Dataset("d", "select fert, y + 0.000000000000000000000000000001 as y from t"), "SP0380");
+        Assert.Contains("dataset 'd'", o.Message, StringComparison.Ordinal);
+    }
+
+    [PostgresFact]
     public void LongQuery_IsCancelledAtTheTimeLimit()
     {
         DesignTable("numeric(10,2)");
