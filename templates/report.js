@@ -2,7 +2,8 @@
   "use strict";
   // The chart font also travels as bytes: some browsers on machines without any installed font
   // refuse the stylesheet's data: URL now and then, but accept the same font given as bytes.
-  var fontData = document.getElementById("chart-font");
+  var fontData = document.currentScript ? document.currentScript.previousElementSibling : null;
+  if (fontData && fontData.id !== "chart-font") { fontData = null; }
   if (fontData && window.FontFace && document.fonts) {
     try {
       var raw = atob(fontData.textContent.trim());
@@ -14,7 +15,13 @@
     } catch (e) { /* the stylesheet's copy of the font remains */ }
   }
 
-  var source = document.getElementById("study-results");
+  // The manifest is the element two before this script, placed by the writer after all the
+  // study's content (the verifier reads the same element); never looked up by id, which the
+  // study's own HTML could imitate.
+  var here = document.currentScript;
+  var font = here ? here.previousElementSibling : null;
+  var source = font && font.id === "chart-font" ? font.previousElementSibling : null;
+  if (!source || source.id !== "study-results" || source.type !== "application/json") { source = null; }
   var panel = document.getElementById("trace");
   if (!source || !panel) { return; }
   var manifest = JSON.parse(source.textContent);

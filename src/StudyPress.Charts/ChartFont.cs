@@ -46,7 +46,7 @@ public static class ChartFont
         }
 
         using var font = CreateFont((float)fontSize);
-        return font.MeasureText(text);
+        return font.MeasureText(BidiText.WithoutIsolates(text));
     }
 
     /// <summary>

@@ -45,7 +45,7 @@ public static partial class StatCharts
             double cx = x.Centre(i);
             if (sorted.Count == 0)
             {
-                desc.Append(' ').Append(groups[i].Label).Append(": no observations.");
+                desc.Append(' ').Append(BidiText.Isolate(groups[i].Label)).Append(": no observations.");
                 continue;
             }
 
@@ -75,7 +75,7 @@ public static partial class StatCharts
                     : Palette.Marker(MarkerShape.Circle, at, PointRadius, colour, true, "point"));
             }
 
-            string summary = string.Concat(groups[i].Label, ": n = ", sorted.Count.ToString(System.Globalization.CultureInfo.InvariantCulture),
+            string summary = string.Concat(BidiText.Isolate(groups[i].Label), ": n = ", sorted.Count.ToString(System.Globalization.CultureInfo.InvariantCulture),
                 ", median ", LinearScale.Num(b.Median), ", quartiles ", LinearScale.Num(b.Q1), " to ", LinearScale.Num(b.Q3),
                 ", whiskers ", LinearScale.Num(b.LowerWhisker), " to ", LinearScale.Num(b.UpperWhisker),
                 b.Outliers.Count == 0 ? "" : ", outliers " + string.Join(", ", b.Outliers.Select(LinearScale.Num)), ".");
@@ -122,7 +122,7 @@ public static partial class StatCharts
             var m = means[i];
             double cx = x.Centre(i);
             var ink = Paint.StrokeOnly(Palette.Ink, 1.4);
-            string summary = string.Concat(m.Label, ": mean ", LinearScale.Num(m.Mean), ", interval ", LinearScale.Num(m.Lower),
+            string summary = string.Concat(BidiText.Isolate(m.Label), ": mean ", LinearScale.Num(m.Mean), ", interval ", LinearScale.Num(m.Lower),
                 " to ", LinearScale.Num(m.Upper), ".");
             plot.Add(new GroupEl(
             [
@@ -173,7 +173,7 @@ public static partial class StatCharts
         var plot = new Plot(labels, size, null, x, y, null, legend, factorB);
         var desc = new StringBuilder();
         desc.Append("Interaction plot: mean ").Append(Subject(labels)).Append(" for each level of ")
-            .Append(labels.XAxis.Length > 0 ? labels.XAxis : "the first factor").Append(", one line per level of ").Append(factorB).Append('.');
+            .Append(labels.XAxis.Length > 0 ? BidiText.Isolate(labels.XAxis) : "the first factor").Append(", one line per level of ").Append(BidiText.Isolate(factorB)).Append('.');
         double dodge = Math.Min(3, Math.Abs(x.Band) * 0.05);
         for (int j = 0; j < levelsB.Count; j++)
         {
@@ -187,7 +187,7 @@ public static partial class StatCharts
                 if (lookup.TryGetValue((levelsA[i], levelsB[j]), out double mean))
                 {
                     line.Add(new(x.Centre(i) + shift, y.Map(mean)));
-                    parts.Add(levelsA[i] + " " + LinearScale.Num(mean));
+                    parts.Add(BidiText.Isolate(levelsA[i]) + " " + LinearScale.Num(mean));
                 }
                 else
                 {
@@ -197,7 +197,7 @@ public static partial class StatCharts
                     }
 
                     line = [];
-                    parts.Add(levelsA[i] + " no data");
+                    parts.Add(BidiText.Isolate(levelsA[i]) + " no data");
                 }
 
                 if (line.Count > 0 && i == levelsA.Count - 1 && line.Count > 1)
@@ -212,7 +212,7 @@ public static partial class StatCharts
                 els.Add(Palette.Marker(Palette.Shape(j), new(x.Centre(i) + shift, y.Map(c.Mean)), 3.5, Palette.Colour(j), true, "cell-mean"));
             }
 
-            string summary = levelsB[j] + ": " + string.Join(", ", parts) + ".";
+            string summary = BidiText.Isolate(levelsB[j]) + ": " + string.Join(", ", parts) + ".";
             desc.Append(' ').Append(summary);
             plot.Add(new GroupEl(els, "series", summary));
         }
@@ -233,5 +233,5 @@ public static partial class StatCharts
         return -1;
     }
 
-    private static string Subject(ChartLabels labels) => labels.YAxis.Length > 0 ? labels.YAxis : "the response";
+    private static string Subject(ChartLabels labels) => labels.YAxis.Length > 0 ? BidiText.Isolate(labels.YAxis) : "the response";
 }

@@ -205,7 +205,7 @@ public static partial class StatCharts
             double cy = yCat.Centre(i);
             var paint = flagged ? flaggedPaint : plainPaint;
             var capPaint = paint with { Dash = null };
-            string summary = string.Concat(c.Pair, ": difference ", LinearScale.Num(c.Difference), ", interval ", LinearScale.Num(c.Lower), " to ",
+            string summary = string.Concat(BidiText.Isolate(c.Pair), ": difference ", LinearScale.Num(c.Difference), ", interval ", LinearScale.Num(c.Lower), " to ",
                 LinearScale.Num(c.Upper), flagged ? ", excludes 0." : ", covers 0.");
             desc.Append(' ').Append(summary);
             plot.Add(new GroupEl(

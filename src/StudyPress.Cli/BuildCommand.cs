@@ -50,23 +50,10 @@ public static class StudyBuilder
             return new StudyBuild(study, StudyOutcome.Failed, outputPath, messages);
         }
 
-        var html = System.Text.Encoding.UTF8.GetBytes(result.Html!);
+        byte[] html;
         try
         {
-            if (jsonPath is not null)
-            {
-                AtomicFile.Write(jsonPath, result.ManifestJson!);
-            }
-
-            if (figuresDir is not null)
-            {
-                foreach (var (name, figure) in result.Figures)
-                {
-                    AtomicFile.Write(Path.Combine(figuresDir, name), figure.Chart.ToPng());
-                }
-            }
-
-            AtomicFile.Write(result.OutputPath, html);
+            html = Write(result, jsonPath, figuresDir);
         }
         catch (Exception e) when (e is IOException or UnauthorizedAccessException)
         {
@@ -85,6 +72,81 @@ public static class StudyBuilder
         }
 
         return new StudyBuild(study, StudyOutcome.Built, outputPath, messages);
+    }
+
+    /// <summary>
+    /// Commits a compiled study's report, its manifest (<paramref name="jsonPath"/>) and PNG figures
+    /// (<paramref name="figuresDir"/>, the study's own figure folder) together or not at all; returns
+    /// the report's bytes. An incomplete report is a bug and is refused before anything is written.
+    /// </summary>
+    public static byte[] Write(CompilationResult result, string? jsonPath, string? figuresDir)
+    {
+        // Refuse to commit a report that is not whole (a bug, never the user's input): nothing is written.
+        if (ReportIntegrity.Problem(result.Html!) is { } incomplete)
+        {
+            throw new InvalidOperationException("refusing to write an incomplete report (" + incomplete + "); nothing was written");
+        }
+
+        var html = System.Text.Encoding.UTF8.GetBytes(result.Html!);
+        var outputs = new OutputSet();
+        if (figuresDir is not null)
+        {
+            foreach (var (name, figure) in result.Figures)
+            {
+                outputs.Add(FigurePaths.Inside(figuresDir, name), figure.Chart.ToPng());
+            }
+        }
+
+        if (jsonPath is not null)
+        {
+            outputs.Add(jsonPath, result.ManifestJson!);
+        }
+
+        outputs.Add(result.OutputPath, html);
+
+        // All or nothing: every file is written to a temporary name first, then all are renamed.
+        outputs.Commit();
+        return html;
+    }
+}
+
+/// <summary>
+/// Where PNG figures go. Each study gets its own folder inside the figures folder: the study file's
+/// path relative to the current folder, without the <c>.md</c> extension (<c>figs/a/study/</c> for
+/// <c>a/study.md</c>); a <c>..</c> step of a study outside the current folder becomes <c>_parent</c>.
+/// A figure's file name is <c>STUDYID-BLOCKID-TYPE-N.png</c>; no path may leave its folder.
+/// </summary>
+public static class FigurePaths
+{
+    public static string FolderFor(string figuresDir, string study)
+    {
+        var full = Path.GetFullPath(study);
+        var relative = Path.GetRelativePath(Directory.GetCurrentDirectory(), full);
+        if (Path.IsPathRooted(relative))
+        {
+            relative = relative[Path.GetPathRoot(relative)!.Length..];
+        }
+
+        var stem = Path.ChangeExtension(relative, null);
+        var segments = stem.Split(['/', '\\'], StringSplitOptions.RemoveEmptyEntries)
+            .Where(p => p != ".")
+            .Select(p => p == ".." ? "_parent" : p)
+            .ToList();
+        return Inside(figuresDir, Path.Combine([.. segments]));
+    }
+
+    /// <summary><paramref name="relative"/> under <paramref name="folder"/>; throws when it would lead anywhere else.</summary>
+    public static string Inside(string folder, string relative)
+    {
+        var root = Path.GetFullPath(folder);
+        var full = Path.GetFullPath(Path.Combine(root, relative));
+        var prefix = Path.EndsInDirectorySeparator(root) ? root : root + Path.DirectorySeparatorChar;
+        if (Path.IsPathRooted(relative) || !full.StartsWith(prefix, StringComparison.Ordinal) || relative.Split(['/', '\\']).Contains(".."))
+        {
+            throw new InvalidOperationException($"an output path '{relative}' would leave its folder {root}");
+        }
+
+        return full;
     }
 }
 
@@ -123,12 +185,36 @@ public static class BuildCommand
             SourceDateEpoch = request.SourceDateEpoch,
         };
 
+        // The manifest and the report are committed together; they cannot be one file.
+        if (request.Json is not null && string.Equals(Path.GetFullPath(request.Json), Compilation.OutputPathFor(studies[0], options), StringComparison.Ordinal))
+        {
+            stderr.WriteLine($"studypress: error: --json {request.Json} names the report itself; write the manifest to another file");
+            return StudyPressCommand.Usage;
+        }
+
         // Two studies with the same name would overwrite each other's report in --out.
         foreach (var clash in studies.GroupBy(s => Compilation.OutputPathFor(s, options), StringComparer.Ordinal).Where(g => g.Count() > 1))
         {
             var list = clash.ToList();
             stderr.WriteLine($"{list[1]}:1:1: error: this study and '{list[0]}' would both write {Display(clash.Key)}; build them into different folders");
             return StudyPressCommand.BadInput;
+        }
+
+        // Each study's PNG figures go to their own folder inside --figures (FigurePaths.FolderFor).
+        var figureFolders = new Dictionary<string, string>(StringComparer.Ordinal);
+        if (request.FiguresDir is not null)
+        {
+            foreach (var study in studies)
+            {
+                figureFolders[study] = FigurePaths.FolderFor(request.FiguresDir, study);
+            }
+
+            foreach (var clash in studies.GroupBy(s => figureFolders[s], StringComparer.Ordinal).Where(g => g.Count() > 1))
+            {
+                var list = clash.ToList();
+                stderr.WriteLine($"{list[1]}:1:1: error: this study and '{list[0]}' would both write their figures into {Display(clash.Key)}; build them separately");
+                return StudyPressCommand.BadInput;
+            }
         }
 
         var progress = new Progress(stdout, stderr, studies.Count, request.Quiet, request.Interactive && studies.Count > 1);
@@ -166,7 +252,7 @@ public static class BuildCommand
                 StudyBuild outcome;
                 try
                 {
-                    outcome = StudyBuilder.Build(study, options, useCache, request.Json, request.FiguresDir);
+                    outcome = StudyBuilder.Build(study, options, useCache, request.Json, request.FiguresDir is null ? null : figureFolders[study]);
                 }
                 catch (Exception e)
                 {
@@ -242,7 +328,8 @@ public static class BuildCommand
                     stdout.Flush();
                     foreach (var m in errors)
                     {
-                        stderr.WriteLine(m);
+                        // Text quoted from data or paths never reaches the terminal raw.
+                        stderr.WriteLine(UnsafeText.Escape(m));
                     }
 
                     stderr.Flush();

@@ -130,8 +130,8 @@ public static class StudyPressCommand
             Arity = ArgumentArity.OneOrMore,
             Description = "Report files (*.html) written by studypress build.",
         };
-        var recompute = new Option<bool>("--recompute") { Description = "Also rebuild each fresh report in memory: its values, visible numbers and bytes must match." };
-        var verify = new Command("verify", "Say whether each report is fresh (its study and inputs unchanged), stale (which file changed) or altered (--recompute). Exit 0 all fresh, 1 any stale or altered, 2 unreadable.");
+        var recompute = new Option<bool>("--recompute") { Description = "Also rebuild each fresh report in memory: its values and bytes must match a rebuild." };
+        var verify = new Command("verify", "Say whether each report is fresh (its study and inputs unchanged, the page as written, every number its manifest value), stale (which file changed) or altered (what differs). Exit 0 all fresh, 1 any stale or altered, 2 unreadable.");
         verify.Arguments.Add(reports);
         verify.Options.Add(recompute);
         verify.Options.Add(allowOutside);

@@ -1,3 +1,4 @@
+using StudyPress.Diagnostics;
 using StudyPress.Reproducibility;
 
 namespace StudyPress.Cli;
@@ -22,12 +23,12 @@ public static class VerifyCommand
             var verdict = ReportVerifier.Verify(report, recompute, allowOutside);
             if (verdict.State == Freshness.Unreadable)
             {
-                stderr.WriteLine($"{report}:1:1: error: {verdict.Detail}");
+                stderr.WriteLine(UnsafeText.Escape($"{report}:1:1: error: {verdict.Detail}"));
                 exit = StudyPressCommand.BadInput;
                 continue;
             }
 
-            stdout.WriteLine(verdict.Line(report));
+            stdout.WriteLine(UnsafeText.Escape(verdict.Line(report)));
             if (verdict.State != Freshness.Fresh && exit == StudyPressCommand.Ok)
             {
                 exit = StudyPressCommand.NotFresh;

@@ -190,7 +190,7 @@ public sealed class WatchSession(WatchRequest request, TextWriter stdout, TextWr
         var result = StudyBuilder.Build(study, options, useCache: false);
         foreach (var m in result.Messages)
         {
-            stderr.WriteLine(m);
+            stderr.WriteLine(UnsafeText.Escape(m));
         }
 
         stdout.WriteLine(result.Outcome == StudyOutcome.Failed

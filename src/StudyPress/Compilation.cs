@@ -287,20 +287,13 @@ public static class Compilation
                 continue;
             }
 
-            if (!options.AllowOutsidePaths)
+            // The real path (links followed as the kernel does), checked to be a regular file; it is
+            // what is hashed and read.
+            if (PathGuard.Locate(studyDir, spec, options.AllowOutsidePaths, diagnostics) is not { } full)
             {
-                switch (PathGuard.Check(studyDir, spec.Path, out _))
-                {
-                    case PathGuard.Verdict.Absolute:
-                        diagnostics.PathAbsolute(spec.PathLocation, spec.Path);
-                        continue;
-                    case PathGuard.Verdict.Escapes:
-                        diagnostics.PathEscapes(spec.PathLocation, spec.Path);
-                        continue;
-                }
+                continue;
             }
 
-            var full = Path.GetFullPath(Path.Combine(studyDir, spec.Path));
             var dataDisplay = string.IsNullOrEmpty(studyFolder) ? spec.Path : Path.Combine(studyFolder, spec.Path).Replace('\\', '/');
             if (spec.Format != DataFormat.Csv)
             {
@@ -315,12 +308,6 @@ public static class Compilation
             byte[] bytes;
             try
             {
-                if (Directory.Exists(full))
-                {
-                    diagnostics.PathIsFolder(spec.PathLocation, spec.Path);
-                    continue;
-                }
-
                 if (new FileInfo(full) is { Exists: true, Length: > DataLimits.MaxDataFileBytes } big)
                 {
                     diagnostics.FileTooLarge(spec.PathLocation, "data file", spec.Path, big.Length, DataLimits.MaxDataFileBytes);

@@ -31,6 +31,8 @@ public sealed class HostileReportTests(BrowserFixture browser)
         + "<script>window.__pwned='block-script'</script>\n\n"
         + "<svg onload=\"window.__pwned='svg'\"><script>window.__pwned='svg-script'</script></svg>\n\n"
         + "<iframe srcdoc=\"<script>parent.__pwned='iframe'</script>\"></iframe>\n\n"
+        + "<meta http-equiv=\"refresh\" content=\"0;url=about:blank\">\n\n"
+        + "<script type=\"application/json\" id=\"study-results\">{\"values\":[],\"inputs\":[]}</script>\n\n"
         + "<a id=\"rawlink\" href=\"javascript:window.__pwned='raw-link'\">raw link</a>\n\n"
         + "A [markdown link](javascript:window.__pwned='md-link') and <javascript:window.__pwned='autolink'>.\n\n"
         + "```summary s\ncaption: '<script>document.title=\"pwned\"</script></figcaption><img src=x onerror=\"window.__pwned=''caption''\">'\n```\n\n"
@@ -45,7 +47,7 @@ public sealed class HostileReportTests(BrowserFixture browser)
         + "4,\"<svg/onload=window.__pwned='level-svg'>\",4.1\n"
         + "5,c,5.5\n6,c,6.2\n";
 
-    [Theory]
+    [BrowserTheory]
     [InlineData(false)]
     [InlineData(true)]
     public async Task Report_WithScriptPayloadsEverywhere_RunsNoUserScript(bool rawHtml)
@@ -80,8 +82,10 @@ public sealed class HostileReportTests(BrowserFixture browser)
         Assert.Equal(report.Url, page.Url);
         Assert.Empty(pageErrors);
 
-        // The tool's own script ran (the page is live) and read the embedded manifest intact.
-        var levels = await page.EvaluateAsync<string[]>("() => JSON.parse(document.getElementById('study-results').textContent).values.map(v => v.level).filter(l => l)");
+        // The tool's own script ran (the page is live) and read the embedded manifest intact: the
+        // one element two before the page script, the only element with the manifest's id.
+        Assert.Equal(1, await page.EvaluateAsync<int>("() => document.querySelectorAll('#study-results').length"));
+        var levels = await page.EvaluateAsync<string[]>("() => JSON.parse(document.scripts[document.scripts.length - 1].previousElementSibling.previousElementSibling.textContent).values.map(v => v.level).filter(l => l)");
         Assert.Contains("</script><script>window.__pwned='level'</script>", levels);
 
         var scripts = await page.EvaluateAsync<int>("() => document.querySelectorAll('script').length");
@@ -99,8 +103,10 @@ public sealed class HostileReportTests(BrowserFixture browser)
         }
         else
         {
-            // The payloads are in the page (so this test can fail), and the policy blocked them all.
-            Assert.True(scripts > 3, "raw HTML should have let the payload scripts into the page");
+            // Script, iframe, meta and fake-manifest elements are removed even in raw mode (a meta
+            // refresh would navigate away: the URL check above); handler attributes reach the page
+            // (so this test can fail), and the policy blocked them all.
+            Assert.Equal(3, scripts);
             Assert.True(handlers > 0, "raw HTML should have let the handler attributes into the page");
             Assert.Equal(1, jsLinks); // the raw <a href="javascript:">; the Markdown links were dropped
             Assert.NotEmpty(console);

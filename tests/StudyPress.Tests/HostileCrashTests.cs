@@ -60,7 +60,7 @@ public sealed class HostileCrashTests
             }
 
             // Only the killed child's own temporary file may remain (a kill between write and rename).
-            Assert.All(Directory.GetFiles(run.Folder, ".*.tmp"), f => Assert.EndsWith("." + child.Id.ToString(CultureInfo.InvariantCulture) + ".tmp", f, StringComparison.Ordinal));
+            Assert.All(Directory.GetFiles(run.Folder, ".*.tmp"), f => Assert.Contains(".study.html." + child.Id.ToString(CultureInfo.InvariantCulture) + ".", f, StringComparison.Ordinal));
         }
 
         Assert.True(interrupted > 0, "no kill point interrupted the build; make the study bigger");

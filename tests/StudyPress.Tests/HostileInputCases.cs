@@ -54,7 +54,7 @@ public sealed partial class DiagnosticsTests
         { "number too large", Study(), "plot,dose,y\n1,a,1e400\n2,a,1\n3,b,2\n4,b,3\n", "data.csv:2:5: error: '1e400' in column 'y' is too large to compute with" },
         { "two decimal points", Study(), "plot,dose,y\n1,a,1.2.3\n2,a,1\n3,b,2\n4,b,3\n", "data.csv:2:5: error: '1.2.3' is not a number in column 'y'" },
         { "thousands separator", Study(), "plot,dose,y\n1,a,\"1,234.5\"\n2,a,1\n3,b,2\n4,b,3\n", "data.csv:2:5: error: '1,234.5' is not a number in column 'y'" },
-        { "non-numeric cell after a long one", Study(), "plot,dose,y,note\n1,a,1.0," + new string('x', 2_000_000) + "\n2,a,zz,\n3,b,3.5,\n4,b,4.0,\n", "data.csv:3:5: error: 'zz' is not a number in column 'y'" },
+        { "non-numeric cell after a long one", Study(), "plot,dose,y,note\n1,a,1.0," + new string('x', 1_000_000) + "\n2,a,zz,\n3,b,3.5,\n4,b,4.0,\n", "data.csv:3:5: error: 'zz' is not a number in column 'y'" },
         { "ragged row with too many fields", Study(), "plot,dose,y\n1,a,1\n2,b,2,9\n3,b,2\n", "data.csv:3:1: error: this row has 4 fields but the header line has 3" },
         { "unterminated quote in the last row", Study(), "plot,dose,y\n1,a,1\n2,b,\"2\n", "data.csv:3:5: error: a quoted field is not closed" },
         { "blank column name", Study(), "plot,,y\n1,a,1\n", "data.csv:1:6: error: column 2 of the header line has no name\nstudy.md:6:3: error: column 'dose' is not in 'data.csv'" },

@@ -123,7 +123,7 @@ public sealed class HostileLimitsTests
     {
         const string P = "<q-x a=\"1\">&amp;</q-x>";
         var y = "\"" + P.Replace("\"", "\\\"", StringComparison.Ordinal) + "\"";
-        var study = $"---\ntitle: {y}\nauthors: [{y}]\nid: {y}\ndata: data.csv\nresponse: {y}\nfactors:\n  dose:\n    label: {y}\n---\n\n"
+        var study = $"---\ntitle: {y}\nauthors: [{y}]\nid: markup-everywhere\ndata: data.csv\nresponse: {y}\nfactors:\n  dose:\n    label: {y}\n---\n\n"
             + $"Prose {P} and [link]({P}).\n\n```summary s\ncaption: {y}\n```\n\n```anova main\n```\n";
         var csvP = "\"" + P.Replace("\"", "\"\"", StringComparison.Ordinal) + "\"";
         using var run = new StudyRun().Study(study).File("data.csv", $"plot,dose,{csvP}\n1,{csvP},1\n2,{csvP},2\n3,b,3\n4,b,5\n");

@@ -133,12 +133,15 @@ public sealed class ReproducibilityBatchTests
         var (exit, _, err) = run.Cli("build", "studies/a/study.md", "--figures", "figs");
         Assert.True(exit == 0, err);
         var expected = Compilation.Compile(Path.Combine(run.Folder, "studies", "a", "study.md"), new CompileOptions()).Figures.Select(f => f.FileName).Order(StringComparer.Ordinal).ToList();
-        var written = Directory.GetFiles(Path.Combine(run.Folder, "figs")).Select(f => Path.GetFileName(f)).Order(StringComparer.Ordinal).ToList();
+        // Each study's figures have their own folder: the study's path without '.md' (FigurePaths).
+        var folder = Path.Combine(run.Folder, "figs", "studies", "a", "study");
+        Assert.Equal([folder], Directory.GetDirectories(Path.Combine(run.Folder, "figs", "studies", "a")));
+        var written = Directory.GetFiles(folder).Select(f => Path.GetFileName(f)).Order(StringComparer.Ordinal).ToList();
         Assert.NotEmpty(expected);
         Assert.Equal(expected, written);
         foreach (var f in written)
         {
-            Assert.Equal([0x89, (byte)'P', (byte)'N', (byte)'G'], File.ReadAllBytes(Path.Combine(run.Folder, "figs", f)).Take(4).ToArray());
+            Assert.Equal([0x89, (byte)'P', (byte)'N', (byte)'G'], File.ReadAllBytes(Path.Combine(folder, f)).Take(4).ToArray());
         }
     }
 }

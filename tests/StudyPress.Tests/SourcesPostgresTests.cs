@@ -23,7 +23,6 @@ public sealed class SourcesPostgresTests
     {
         this.server = server;
         PostgresSource.EnvironmentOverride.Value = Credentials(PostgresServer.User, PostgresServer.Password);
-        PostgresSource.TimeLimitOverride.Value = null;
         PostgresSource.RowLimitOverride.Value = null;
     }
 
@@ -358,9 +357,8 @@ public sealed class SourcesPostgresTests
     public void LongQuery_IsCancelledAtTheTimeLimit()
     {
         DesignTable("numeric(10,2)");
-        PostgresSource.TimeLimitOverride.Value = 1;
-        Fails(server, Dataset("d", "select fert, y from t, pg_sleep(5)"), "SP0033", "time limit of 1 s");
-        Fails(server, Dataset("d", "select fert, y from t, pg_sleep(5)", aggregate: true), "SP0033");
+        Fails(server, Dataset("d", "select fert, y from t, pg_sleep(5)") + "    timeout: 1\n", "SP0033", "time limit of 1 s");
+        Fails(server, Dataset("d", "select fert, y from t, pg_sleep(5)", aggregate: true) + "    timeout: 1\n", "SP0033");
     }
 
     [PostgresFact]

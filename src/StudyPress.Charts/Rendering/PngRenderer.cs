@@ -105,7 +105,7 @@ internal static class PngRenderer
             canvas.RotateDegrees(F(t.Rotate), F(t.At.X), F(t.At.Y));
         }
 
-        canvas.DrawText(t.Text, F(t.At.X), F(t.At.Y), align, font, paint);
+        canvas.DrawText(BidiText.WithoutIsolates(t.Text), F(t.At.X), F(t.At.Y), align, font, paint);
         canvas.Restore();
     }
 

@@ -17,8 +17,8 @@ internal static class SvgRenderer
           .Append(N(scene.Width)).Append("\" height=\"").Append(N(scene.Height))
           .Append("\" viewBox=\"0 0 ").Append(N(scene.Width)).Append(' ').Append(N(scene.Height))
           .Append("\" font-family=\"").Append(ChartFont.FamilyName).Append("\">\n");
-        sb.Append("<title>").Append(Esc(title)).Append("</title>\n");
-        sb.Append("<desc>").Append(Esc(description)).Append("</desc>\n");
+        sb.Append("<title>").Append(Esc(BidiText.Isolate(title))).Append("</title>\n");
+        sb.Append("<desc>").Append(Esc(BidiText.Isolate(description))).Append("</desc>\n");
         foreach (var e in scene.Elements)
         {
             Write(sb, e, 0);
@@ -90,10 +90,10 @@ internal static class SvgRenderer
                 sb.Append('>');
                 if (t.Tooltip is not null)
                 {
-                    sb.Append("<title>").Append(Esc(t.Tooltip)).Append("</title>");
+                    sb.Append("<title>").Append(Esc(BidiText.Isolate(t.Tooltip))).Append("</title>");
                 }
 
-                sb.Append(Esc(t.Text)).Append("</text>\n");
+                sb.Append(Esc(BidiText.Isolate(t.Text))).Append("</text>\n");
                 break;
             case GroupEl g:
                 sb.Append("<g");
@@ -101,7 +101,7 @@ internal static class SvgRenderer
                 sb.Append(">\n");
                 if (g.Title is not null)
                 {
-                    sb.Append(' ', depth + 1).Append("<title>").Append(Esc(g.Title)).Append("</title>\n");
+                    sb.Append(' ', depth + 1).Append("<title>").Append(Esc(BidiText.Isolate(g.Title))).Append("</title>\n");
                 }
 
                 foreach (var child in g.Children)

@@ -29,7 +29,14 @@ public sealed record AnovaInput(
     IReadOnlyList<FactorColumn> Factors,
     bool Interactions,
     SumOfSquaresType SsType,
-    double Alpha);
+    double Alpha)
+{
+    /// <summary>
+    /// The response's exact decimal values (same order), when known and untransformed; one-factor
+    /// models then compute their sums of squares exactly (<see cref="ExactSums.OneWay"/>).
+    /// </summary>
+    public ScaledIntegers? Exact { get; init; }
+}
 
 /// <summary>One row of the ANOVA table for a model term (a factor or an interaction).</summary>
 /// <param name="Name">Term name: the factor name, or factor names joined by ':' for an interaction.</param>
@@ -63,4 +70,11 @@ public sealed record AnovaResult(
     double[] Residuals,
     double[] Leverages,
     SumOfSquaresType SsType,
-    double Alpha);
+    double Alpha)
+{
+    /// <summary>
+    /// The response's exact decimal values (same order), when known and untransformed; one-factor
+    /// models then compute their sums of squares exactly (<see cref="ExactSums.OneWay"/>).
+    /// </summary>
+    public ScaledIntegers? Exact { get; init; }
+}

@@ -7,7 +7,7 @@ public static class AnovaTable
     /// Completes a term's row. Formulas: MS = SS/df; F = MS/MS_res; p = P(F(df, df_res) &gt;= F);
     /// eta² = SS/SS_total; partial eta² = SS/(SS + SS_res);
     /// omega² = (SS - df MS_res)/(SS_total + MS_res) (Hays 1963; for one factor the usual omega²);
-    /// Cohen's f = sqrt(partial eta²/(1 - partial eta²)) (Cohen 1988, ch. 8).
+    /// Cohen's f = sqrt(partial eta²/(1 - partial eta²)) (Cohen 1988, ch. 8), computed as sqrt(SS/SS_res).
     /// </summary>
     public static AnovaTerm Term(
         string name,
@@ -62,13 +62,15 @@ public static class AnovaTable
         {
             cohenF = partial;
         }
-        else if (partial.Value >= 1)
+        else if (!(ssResidual > 0))
         {
             cohenF = Quantity.Undefined("the residual variance is zero");
         }
         else
         {
-            cohenF = Quantity.Of(Math.Sqrt(partial.Value / (1 - partial.Value)));
+            // √(SS/SS_res) equals √(η²p/(1 − η²p)) but keeps its digits when η²p is near 1,
+            // where 1 − η²p cancels.
+            cohenF = Quantity.Of(Math.Sqrt(ss / ssResidual));
         }
 
         return new AnovaTerm(name, factors, ss, df, ms, f, p, fCrit, eta2, partial, omega2, cohenF);

@@ -41,7 +41,7 @@ public static class FactorialAnova
         if (input.Factors.Count == 1)
         {
             // For one factor the three SS types coincide; keep the requested type in the result.
-            return OneWayAnova.Fit(input.Response, input.Factors[0], input.Alpha) with { SsType = input.SsType };
+            return OneWayAnova.Fit(input.Response, input.Factors[0], input.Alpha, input.Exact) with { SsType = input.SsType };
         }
 
         var problem = AnovaDesign.Check(input, out var checkedCoding, out var checkedQr);

@@ -4,13 +4,23 @@ namespace StudyPress.Statistics.Anova;
 /// One-way fixed-effects ANOVA from group means, the numerically best route for one factor:
 /// group means by corrected two-pass summation, SS_within as the sum of squared deviations from
 /// each group mean, SS_between = sum n_i (mean_i - grand mean)². On centred input this reaches
-/// the NIST StRD certified values to 13 or more digits (tests/StudyPress.Tests, NistStrdTests).
+/// the NIST StRD certified values to 13 or more digits; given the exact decimal values, the sums
+/// of squares are exact rounded once, and every certified digit is met (tests/StudyPress.Tests,
+/// NistStrdTests).
 /// Reference: NIST/SEMATECH e-Handbook of Statistical Methods, section 7.4.3.
 /// </summary>
 public static class OneWayAnova
 {
     /// <summary>Fits the model. Levels without observations are ignored (the binder reports them).</summary>
-    public static AnovaResult Fit(double[] response, FactorColumn factor, double alpha)
+    /// <param name="response">The response (centring does not change the sums of squares).</param>
+    /// <param name="factor">The factor's codes and levels.</param>
+    /// <param name="alpha">The study's alpha, for the critical F.</param>
+    /// <param name="exact">
+    /// The response's exact decimal values, when known: the three sums of squares are then
+    /// computed exactly and rounded once (<see cref="ExactSums.OneWay"/>); the means, residuals
+    /// and leverages stay the floating-point ones.
+    /// </param>
+    public static AnovaResult Fit(double[] response, FactorColumn factor, double alpha, ScaledIntegers? exact = null)
     {
         ArgumentNullException.ThrowIfNull(response);
         var n = response.Length;
@@ -81,6 +91,13 @@ public static class OneWayAnova
             used++;
             var d = means[g] - grand;
             ssBetween += counts[g] * d * d;
+        }
+
+        if (exact is not null && ExactSums.OneWay(exact, factor.Codes, k) is { } exactSums)
+        {
+            ssBetween = exactSums.Between;
+            ssWithin = exactSums.Within;
+            ssTotal = exactSums.Total;
         }
 
         var dfBetween = used - 1;

@@ -416,7 +416,7 @@ public static class ResponseTransform
 
             var atBound = lambda <= LambdaMin + 1e-6 || lambda >= LambdaMax - 1e-6;
             var level = 1 - alpha;
-            var cut = l - (0.5 * ChiSquared.InvCDF(1, level));
+            var cut = l - (0.5 * Probability.ChiSquareCritical(alpha, 1));
             var low = Bound(lambda, l, cut, grid, values, best, -1);
             var high = Bound(lambda, l, cut, grid, values, best, +1);
             return new BoxCoxEstimate(lambda, l, atBound, low, high, level, _gm);

@@ -29,6 +29,18 @@ internal static class DeviationFTest
             return new LeveneResult(u, df1, df2, u);
         }
 
+        // F = 0/0 exactly when the absolute deviations are constant within every group. |y - c|
+        // takes one value only on at most two points c ± d, so (with c the mean or the median) a
+        // group has constant deviations exactly when it holds one distinct value, or two distinct
+        // values equally often (always so for a group of at most two). That is decided on the
+        // values themselves, never on a rounded sum of squares, whose noise would otherwise give an
+        // arbitrary F.
+        if (groups.All(ConstantDeviations))
+        {
+            var u = Quantity.Undefined(NotDefined);
+            return new LeveneResult(u, df1, df2, u);
+        }
+
         var z = new double[k][];
         for (var g = 0; g < k; g++)
         {
@@ -52,12 +64,44 @@ internal static class DeviationFTest
 
         if (!(within > 0))
         {
-            var u = Quantity.Undefined("the absolute deviations do not vary within any group, so the F ratio is not defined");
+            var u = Quantity.Undefined(NotDefined);
             return new LeveneResult(u, df1, df2, u);
         }
 
         var f = between / df1 / (within / df2);
         return new LeveneResult(Quantity.Of(f), df1, df2, Quantity.Of(Probability.FUpper(f, df1, df2)));
+    }
+
+    /// <summary>Why F is not defined when the deviations are constant within every group.</summary>
+    public const string NotDefined = "the absolute deviations from the group centres do not vary within any group (each group holds one value, or two values equally often, as every group of at most two does), so F = 0/0 is not defined";
+
+    /// <summary>
+    /// True when |y − c| is the same for every value of the group, c its mean or its median: one
+    /// distinct value, or exactly two distinct values with equal counts.
+    /// </summary>
+    public static bool ConstantDeviations(double[] group)
+    {
+        var a = group[0];
+        double? b = null;
+        int na = 0, nb = 0;
+        foreach (var v in group)
+        {
+            if (v == a)
+            {
+                na++;
+            }
+            else if (b is null || v == b.Value)
+            {
+                b = v;
+                nb++;
+            }
+            else
+            {
+                return false;
+            }
+        }
+
+        return nb == 0 || na == nb;
     }
 
     /// <summary>

@@ -27,9 +27,18 @@ public static class Groups
         }
 
         double s = 0;
+        var first = x[0];
+        var constant = true;
         foreach (var v in x)
         {
             s += v;
+            constant &= v == first;
+        }
+
+        // A constant sample's mean is its value exactly (the sum could round).
+        if (constant)
+        {
+            return first;
         }
 
         var m = s / x.Length;
@@ -42,9 +51,18 @@ public static class Groups
         return m + (c / x.Length);
     }
 
-    /// <summary>Sum of squared deviations from the mean (corrected two-pass algorithm).</summary>
+    /// <summary>
+    /// Sum of squared deviations from the mean (corrected two-pass algorithm). Exactly 0 when all
+    /// values are equal, decided on the values themselves (never from a rounded difference), so a
+    /// zero variance is recognised exactly.
+    /// </summary>
     public static double SumOfSquares(ReadOnlySpan<double> x, double mean)
     {
+        if (IsConstant(x))
+        {
+            return 0.0;
+        }
+
         double ss = 0, c = 0;
         foreach (var v in x)
         {
@@ -54,6 +72,20 @@ public static class Groups
         }
 
         return ss - (c * c / x.Length);
+    }
+
+    /// <summary>True when all values are equal (an empty or one-value sample is constant).</summary>
+    public static bool IsConstant(ReadOnlySpan<double> x)
+    {
+        for (var i = 1; i < x.Length; i++)
+        {
+            if (x[i] != x[0])
+            {
+                return false;
+            }
+        }
+
+        return true;
     }
 
     /// <summary>Throws when fewer than two groups or an empty group is given.</summary>

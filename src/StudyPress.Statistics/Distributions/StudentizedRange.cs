@@ -135,29 +135,8 @@ public static class StudentizedRange
         }
     }
 
-    /// <summary>The t &gt; 0 with P(|T| &gt; t) = p2 (Student's t with df degrees of freedom).</summary>
-    private static double TTwoSidedQuantile(double p2, double df)
-    {
-        var z = Normal.InvCDF(0, 1, 1 - (0.5 * p2));
-        if (double.IsPositiveInfinity(df))
-        {
-            return z;
-        }
-
-        var lnP = Math.Log(p2);
-        double G(double x) => Math.Log(Probability.TTwoSided(Math.Exp(x), df)) - lnP;
-        var lo = Math.Log(z);
-        var glo = G(lo);
-        var hi = lo + Math.Log(2.0);
-        var ghi = G(hi);
-        while (ghi > 0)
-        {
-            hi += Math.Log(2.0);
-            ghi = G(hi);
-        }
-
-        return glo <= 0 ? z : Math.Exp(RootFinding.Brent(G, lo, hi, glo, ghi, 1e-13));
-    }
+    /// <summary>The t &gt; 0 with P(|T| &gt; t) = p2 (Student's t with df degrees of freedom, or the normal for df = ∞).</summary>
+    private static double TTwoSidedQuantile(double p2, double df) => Probability.TCritical(p2, df);
 
     // ---- the range W of k standard normals -------------------------------------------------
 

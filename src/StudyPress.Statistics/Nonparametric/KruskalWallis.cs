@@ -59,7 +59,10 @@ public static class KruskalWallis
 
         var h0 = 12.0 / (nd * (nd + 1.0)) * s;
         var c = 1.0 - (tieSum / ((nd * nd * nd) - nd));
-        if (tieSum >= (nd * nd * nd) - nd)
+        // All tied is decided on the values (Σ(t³ − t) against N³ − N is not exact in double
+        // beyond N ≈ 2·10^5).
+        var first = groups[0][0];
+        if (groups.All(g => g.All(v => v == first)))
         {
             const string reason = "all values are tied, so the ranks carry no information";
             return new KruskalWallisResult(

@@ -30,10 +30,11 @@ namespace StudyPress.Statistics.PostHoc;
 /// in x) in panels no wider than min(1, r_min), and s over 1 ± 14/sqrt(2ν) (clipped at 0) in
 /// panels 1/sqrt(2ν) wide (about the standard deviation of s), finer near 0 for large c.
 /// Accuracy: with one comparison the result equals the two-sided t p-value to 12 or more digits
-/// for ν from 1 to 1000 and p down to 1e-30 (tests); for p far below that with large ν the
-/// truncated range of s understates p (irrelevant for reporting). The critical value c solves
-/// P(max |t_i| &gt;= c) = alpha by Brent's method between the unadjusted and the Bonferroni t
-/// quantiles, which bracket it.
+/// for ν from 1 to 1000 and p down to 1e-30 (tests); the range of s reaches down to where the
+/// far-tail integrand peaks, and the result is kept within its Bonferroni bounds
+/// P(|T| &gt;= c) &lt;= p &lt;= m P(|T| &gt;= c). The critical value c solves
+/// P(max |t_i| &gt;= c) = alpha by Brent's method on the logarithms, between the unadjusted and
+/// the Bonferroni t quantiles, which bracket it.
 /// </para>
 /// <para>
 /// Adjusted p-value of comparison i: P(max_j |t_j| &gt;= |t_i|) (single step). Intervals:
@@ -94,25 +95,36 @@ public static class Dunnett
         var r = lam.Select(l => Math.Sqrt((1.0 - l) * (1.0 + l))).ToArray();
         if (double.IsPositiveInfinity(df))
         {
-            return Math.Min(1.0, NormalPart(c, lam, mult, r));
+            var z1 = Probability.NormalTwoSided(c);
+            return Math.Clamp(NormalPart(c, lam, mult, r), z1, Math.Min(1.0, lambdas.Count * z1));
         }
 
         // Outer integral over s ~ chi_ν / sqrt(ν). Its standard deviation is about 1/sqrt(2ν); the
         // range 1 ± 14 of those (clipped at 0) holds all but a negligible part of the mass for
         // every ν >= 1 (for ν = 1, s = |N(0,1)| and the range reaches 10.9). The density weights are
         // normalised over the quadrature nodes, which removes the constant and its cancellation.
+        // In the far tail the integrand f(s) P(max |Z| >= c s) ≈ s^(ν−1) e^(−(ν + c²) s²/2) peaks
+        // at s* = √((ν − 1)/(ν + c²)), with spread about 1/√(2(ν + c²)), below the range of s
+        // itself: the range is widened down to s* − 14 of those spreads so that the mass there
+        // is not cut off (it was, for p below about 1e-85 at large ν).
         var sd = 1.0 / Math.Sqrt(2.0 * df);
-        var lo = Math.Max(0.0, 1.0 - (14.0 * sd));
+        var spread = 1.0 / Math.Sqrt(2.0 * (df + (c * c)));
+        var peak = Math.Sqrt(Math.Max(df - 1.0, 0.0) / (df + (c * c)));
+        var bulkLo = Math.Max(0.0, 1.0 - (14.0 * sd));
+        var lo = Math.Max(0.0, Math.Min(bulkLo, peak - (14.0 * spread)));
         var hi = 1.0 + (14.0 * sd);
+        var edges = new List<double>();
+
+        // Below the bulk of s (large ν, far tail): panels about the tail's spread wide (at most 400).
+        AddPanels(edges, lo, bulkLo, Math.Max(spread, (bulkLo - lo) / 400.0));
 
         // Panels about one standard deviation of s wide; finer (1/(2c)) where c s < 12, since
         // for small ν and large c the mass of the integrand sits at small s, where P(max |Z| >= c s)
         // still changes quickly.
         var coarse = sd;
         var fine = Math.Min(coarse, 0.5 / c);
-        var edge = Math.Min(hi, Math.Max(lo, 12.0 / c));
-        var edges = new List<double>();
-        AddPanels(edges, lo, edge, fine);
+        var edge = Math.Min(hi, Math.Max(bulkLo, 12.0 / c));
+        AddPanels(edges, bulkLo, edge, fine);
         AddPanels(edges, edge, hi, coarse);
         edges.Add(hi);
         var panels = edges.Count - 1;
@@ -148,7 +160,11 @@ public static class Dunnett
             num += w * NormalPart(c * nodes[i], lam, mult, r);
         }
 
-        return Math.Min(1.0, num / den);
+        // The single-comparison tail p1 = P(|T| >= c) and m p1 bound the probability (Bonferroni);
+        // quadrature error never takes the value outside them.
+        var single = Probability.TTwoSided(c, df);
+        var bound = Math.Min(1.0, lambdas.Count * single);
+        return Math.Clamp(num / den, single, bound);
     }
 
     /// <summary>Appends the left edges of equal panels no wider than <paramref name="width"/> covering [a, b).</summary>
@@ -185,9 +201,26 @@ public static class Dunnett
             return single;
         }
 
+        // The single and the Bonferroni quantiles bracket c (the probability lies within its
+        // Bonferroni bounds). Solved on ln P − ln alpha against ln c, so that tiny alphas keep
+        // their relative accuracy (an absolute tolerance on P would accept any c there).
         var bonferroni = Quantile(alpha / m, df);
-        double F(double c) => UpperProbability(c, lambdas, df) - alpha;
-        return Brent.FindRoot(F, single * 0.999, bonferroni * 1.001, 1e-11, 200);
+        var lnAlpha = Math.Log(alpha);
+        double G(double u) => lnAlpha - Math.Log(UpperProbability(Math.Exp(u), lambdas, df));
+        double lo = Math.Log(single), hi = Math.Log(bonferroni);
+        double glo = G(lo), ghi = G(hi);
+        // The probability is kept within its bounds, so only rounding can put an end beyond the root.
+        if (glo >= 0)
+        {
+            return single;
+        }
+
+        if (ghi <= 0)
+        {
+            return bonferroni;
+        }
+
+        return Math.Exp(Distributions.RootFinding.Brent(G, lo, hi, glo, ghi, 1e-13));
     }
 
     private static Quantity CriticalValueQuantity(double alpha, IReadOnlyList<double> lambdas, double df)

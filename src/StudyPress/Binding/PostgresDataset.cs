@@ -42,6 +42,7 @@ internal static class PostgresDataset
         var query = r.Scalar("query");
         var port = r.Integer("port", 1, 65535) ?? 5432;
         var tls = r.Choice("tls", TlsModes) ?? "prefer";
+        var timeout = r.Integer("timeout", 1, Data.DataLimits.MaxQueryTimeoutSeconds) ?? Data.DataLimits.DefaultQueryTimeoutSeconds;
         var aggregateLocation = r.Has("aggregate") ? r.KeyLocation("aggregate") : (SourceLocation?)null;
         var aggregate = r.Boolean("aggregate") ?? false;
         var missing = r.ScalarList("missing");
@@ -69,6 +70,7 @@ internal static class PostgresDataset
             Aggregate = aggregate,
             AggregateLocation = aggregateLocation,
             Server = target,
+            TimeoutSeconds = timeout,
         };
     }
 }

@@ -38,6 +38,9 @@ public sealed record DatasetSpec(
 
     public SourceLocation? AggregateLocation { get; init; }
 
+    /// <summary>Database or Parquet: the time limit of each query on the file, in seconds ('timeout').</summary>
+    public int TimeoutSeconds { get; init; } = Data.DataLimits.DefaultQueryTimeoutSeconds;
+
     /// <summary>Locations of the spreadsheet keys, for messages.</summary>
     public SourceLocation? SheetLocation { get; init; }
 
@@ -107,7 +110,7 @@ internal static class HeaderBinder
 {
     public static readonly string[] Keys = ["title", "id", "authors", "alpha", "data", "response", "factors", "order", "report"];
 
-    private static readonly string[] DatasetKeys = ["path", "sha256", "delimiter", "decimal", "missing", "format", "sheet", "range", "header-row", "query", "aggregate", "server", "port", "database", "tls"];
+    private static readonly string[] DatasetKeys = ["path", "sha256", "delimiter", "decimal", "missing", "format", "sheet", "range", "header-row", "query", "aggregate", "timeout", "server", "port", "database", "tls"];
     private static readonly string[] FormatNames = ["csv", "tsv", "xlsx", "sqlite", "duckdb", "parquet", "postgres"];
     private static readonly string[] FactorKeys = ["column", "levels", "label"];
     private static readonly string[] ReportKeys = ["template", "digits", "p-digits", "figures", Syntax.StudyParser.RawHtmlKey];
@@ -136,7 +139,14 @@ internal static class HeaderBinder
             diagnostics.EmptyTitle(titleNode.Location);
         }
 
-        var id = r.String("id") ?? Path.GetFileNameWithoutExtension(studyPath);
+        var idNode = r.Scalar("id");
+        var id = idNode?.Value ?? Path.GetFileNameWithoutExtension(studyPath);
+        if (idNode is not null && !IsName(id))
+        {
+            // The id names the study's figure files: no path separators, dots or spaces.
+            diagnostics.BadStudyId(idNode.Location, id);
+        }
+
         var authors = r.ScalarList("authors", textMayHaveCommas: true)?.Select(a => a.Value).ToList() ?? [];
 
         var alpha = 0.05;
@@ -399,6 +409,13 @@ internal static class HeaderBinder
         var query = r.Scalar("query");
         var aggregateLocation = r.Has("aggregate") ? r.KeyLocation("aggregate") : (SourceLocation?)null;
         var aggregate = r.Boolean("aggregate") ?? false;
+        var timeoutLocation = r.Has("timeout") ? r.KeyLocation("timeout") : (SourceLocation?)null;
+        var timeout = r.Integer("timeout", 1, Data.DataLimits.MaxQueryTimeoutSeconds);
+        if (timeoutLocation is { } tl && format is not (DataFormat.Sqlite or DataFormat.DuckDb or DataFormat.Parquet))
+        {
+            diagnostics.SourceKeyNotApplicable(tl, "timeout", spec.Name, "a database or Parquet file");
+        }
+
         if (format != DataFormat.Xlsx)
         {
             foreach (var (key, at) in new[] { ("sheet", sheet?.Location), ("range", range?.Location), ("header-row", headerRowLocation) })
@@ -442,6 +459,7 @@ internal static class HeaderBinder
             QueryLocation = query?.Location,
             Aggregate = aggregate,
             AggregateLocation = aggregateLocation,
+            TimeoutSeconds = timeout ?? Data.DataLimits.DefaultQueryTimeoutSeconds,
         };
     }
 
@@ -576,15 +594,28 @@ internal static class HeaderBinder
         if (levelNodes is not null)
         {
             levels = [];
+            var distinct = new HashSet<string>(StringComparer.Ordinal);
             foreach (var l in levelNodes)
             {
-                if (levels.Contains(l.Value))
+                // Levels are compared in NFC and may not hold invisible characters (Data.LevelText).
+                var value = Data.LevelText.Normal(l.Value);
+                if (Data.LevelText.FirstInvisible(value) is { } invisible)
                 {
-                    diagnostics.DuplicateLevel(l.Location, name, l.Value);
+                    diagnostics.HeaderInvisibleCharacter(l.Location, Data.LevelText.Visible(value), name, Data.LevelText.Describe(invisible));
+                }
+
+                if (!distinct.Add(value))
+                {
+                    diagnostics.DuplicateLevel(l.Location, name, value);
+                }
+                else if (distinct.Count > Data.DataLimits.MaxLevelsPerFactor)
+                {
+                    diagnostics.TooManyLevels(l.Location, name, r.String("column") ?? name, Data.DataLimits.MaxLevelsPerFactor);
+                    break;
                 }
                 else
                 {
-                    levels.Add(l.Value);
+                    levels.Add(value);
                 }
             }
         }

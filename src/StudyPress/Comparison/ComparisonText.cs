@@ -9,17 +9,39 @@ namespace StudyPress.Comparison;
 /// </summary>
 public static class ComparisonText
 {
-    private const string Reset = "\u001b[0m";
-    private const string Bold = "\u001b[1m";
-    private const string Red = "\u001b[31m";
-    private const string Green = "\u001b[32m";
-    private const string Yellow = "\u001b[33m";
+    // Colours are marked with private-use characters while a line is built and become ANSI codes
+    // only after the line is escaped (UnsafeText), so text from data or reports can never reach the
+    // terminal as a control sequence.
+    private const string Reset = "\uE000";
+    private const string Bold = "\uE001";
+    private const string Red = "\uE002";
+    private const string Green = "\uE003";
+    private const string Yellow = "\uE004";
+    private static readonly string[] Codes = ["\u001b[0m", "\u001b[1m", "\u001b[31m", "\u001b[32m", "\u001b[33m"];
+
+    /// <summary>One line for the terminal: unsafe characters escaped (\uXXXX), then the colour marks made codes.</summary>
+    private static string Safe(string line)
+    {
+        var escaped = Diagnostics.UnsafeText.Escape(line);
+        if (escaped.AsSpan().IndexOfAnyInRange('\uE000', '\uE004') < 0)
+        {
+            return escaped;
+        }
+
+        var sb = new StringBuilder(escaped.Length + 16);
+        foreach (var ch in escaped)
+        {
+            sb.Append(ch is >= '\uE000' and <= '\uE004' ? Codes[ch - '\uE000'] : ch.ToString());
+        }
+
+        return sb.ToString();
+    }
 
     public static string Write(ComparisonResult r, bool colour)
     {
         var sb = new StringBuilder();
         string C(string code, string text) => colour ? code + text + Reset : text;
-        void Line(string text = "") => sb.Append(text).Append('\n');
+        void Line(string text = "") => sb.Append(Safe(text)).Append('\n');
 
         Line($"studypress diff: {r.Old.Label} → {r.New.Label}");
         Line($"  alpha {Alpha(r.Old)} → {Alpha(r.New)}");
@@ -214,7 +236,7 @@ public static class ComparisonText
     public static string Of(BuildSnapshot s)
     {
         var sb = new StringBuilder();
-        void Line(string text) => sb.Append(text).Append('\n');
+        void Line(string text) => sb.Append(Safe(text)).Append('\n');
         Line($"study {s.StudyPath} sha256 {s.StudySha256}");
         Line("alpha " + (s.Alpha is { } a ? a.ToString("R", CultureInfo.InvariantCulture) : "unknown"));
         foreach (var i in s.Inputs)

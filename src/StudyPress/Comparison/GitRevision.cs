@@ -131,10 +131,13 @@ public static class GitRevision
             var studyDir = Path.GetDirectoryName(checkout.StudyPath)!;
             foreach (var d in header?.Header.Datasets ?? [])
             {
-                if (PathGuard.Check(studyDir, d.Path, out var target) != PathGuard.Verdict.Inside)
+                // Only the study file is extracted yet, so the data file is missing (and no link is on the way).
+                if (PathGuard.Check(studyDir, d.Path, out _) is not (PathGuard.Verdict.Inside or PathGuard.Verdict.Missing))
                 {
                     continue; // the build reports it at the data path
                 }
+
+                var target = Path.GetFullPath(Path.Combine(studyDir, d.Path));
 
                 var inRepo = Path.GetRelativePath(temp, target).Replace('\\', '/');
                 if (Git(root, diagnostics, at, "cat-file", "-e", revision + ":" + inRepo) is not { } present)

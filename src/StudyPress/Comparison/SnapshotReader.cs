@@ -94,7 +94,8 @@ public static partial class SnapshotReader
             return null;
         }
 
-        return Rebuild(snapshot, header?.Header.Alpha, "study header", input => Path.GetFullPath(Path.Combine(studyDir, input.Path)));
+        // The real path: the file the build just read (links and '..' resolved as the kernel does).
+        return Rebuild(snapshot, header?.Header.Alpha, "study header", input => Data.PathGuard.RealPath(Path.Combine(studyDir, input.Path)));
     }
 
     public static BuildSnapshot? FromReportText(string path, string label, string html, DiagnosticBag diagnostics)
@@ -145,8 +146,9 @@ public static partial class SnapshotReader
                 return null;
             }
 
-            var file = Path.GetFullPath(Path.Combine(studyDir, input.Path));
-            return File.Exists(file) && HashOf(file) == input.Sha256 ? file : null;
+            // Only a regular file is hashed: a named pipe or device would block or never end.
+            var file = Data.PathGuard.RealPath(Path.Combine(studyDir, input.Path));
+            return Data.FileKinds.Lstat(file) == Data.FileKind.Regular && HashOf(file) == input.Sha256 ? file : null;
         });
     }
 

@@ -65,6 +65,51 @@ public sealed class ExactValues
         return new(null, pm, _scale);
     }
 
+    /// <summary>
+    /// The values as 64-bit integers with one scale (value = m × 10^-scale), or null when they do
+    /// not fit (decimals whose common scale would overflow a long).
+    /// </summary>
+    public Statistics.ScaledIntegers? AsScaled()
+    {
+        if (_scaled is { } m)
+        {
+            return new Statistics.ScaledIntegers(m, _scale);
+        }
+
+        var d = _decimals!;
+        var scale = 0;
+        foreach (var v in d)
+        {
+            scale = Math.Max(scale, v.Scale);
+        }
+
+        var result = new long[d.Length];
+        for (var i = 0; i < d.Length; i++)
+        {
+            var bits = decimal.GetBits(d[i]);
+            if (bits[2] != 0 || bits[1] < 0)
+            {
+                return null;
+            }
+
+            var mantissa = ((long)(uint)bits[1] << 32) | (uint)bits[0];
+            var up = scale - d[i].Scale;
+            Int128 v = mantissa;
+            for (var k = 0; k < up; k++)
+            {
+                v *= 10;
+                if (v > long.MaxValue)
+                {
+                    return null;
+                }
+            }
+
+            result[i] = d[i] < 0 ? -(long)v : (long)v;
+        }
+
+        return new Statistics.ScaledIntegers(result, scale);
+    }
+
     /// <summary>The mean of the given positions in decimal arithmetic, or null (none, or overflow).</summary>
     public double? Mean(IReadOnlyList<int> positions)
     {

@@ -7,7 +7,8 @@ namespace StudyPress.Data;
 /// The byte-level reader for plain files: no quote character, no lone CR, an ASCII delimiter and
 /// decimal mark, every row with the header's number of fields, every numeric cell plain decimal
 /// text (optional '-', 1 to 18 digits, at most one decimal mark between digits, no negative zero) with the same
-/// number of decimals throughout a column, at most 32 levels per factor, all declared. It parses
+/// number of decimals throughout a column, at most 32 levels per factor, all declared and printable
+/// ASCII, no line longer than <see cref="DataLimits.MaxFieldBytes"/>. It parses
 /// UTF-8 bytes directly in two chunks split at line ends (one per core), keeps numbers as scaled
 /// 64-bit integers (value = m × 10^-s) and centres them with an exact integer sum. It gives the
 /// same columns, bit for bit, as <see cref="CsvLoader"/>'s general reader; anything else returns
@@ -377,6 +378,11 @@ internal static class CsvFastPath
                     line = line[..^1];
                 }
 
+                if (line.Length > DataLimits.MaxFieldBytes)
+                {
+                    return false; // a field may be too long: the general reader checks and reports
+                }
+
                 // Fields: one pass over the line's bytes.
                 var count = 0;
                 var from = 0;
@@ -471,7 +477,7 @@ internal static class CsvFastPath
                         if (code < 0)
                         {
                             var s = Encoding.UTF8.GetString(cell);
-                            if (levels.Count == MaxLevels || s.Length == 0 || s.Trim().Length != s.Length || cell.IndexOfAnyInRange((byte)0, (byte)0x1F) >= 0)
+                            if (levels.Count == MaxLevels || s.Length == 0 || s.Trim().Length != s.Length || cell.IndexOfAnyInRange((byte)0, (byte)0x1F) >= 0 || cell.IndexOfAnyInRange((byte)0x7F, (byte)0xFF) >= 0)
                             {
                                 return false;
                             }

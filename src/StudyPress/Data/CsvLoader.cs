@@ -83,6 +83,31 @@ public static class CsvLoader
             return Finish(spec, fast.Rows, fast.Lines, fast.Names, fast.Numeric, fast.SeenNames, fast.Codes, needs, diagnostics, errorsBefore, sha, hashing);
         }
 
+        // Quoting and field sizes first: a stray quote must not merge rows, and a huge field must
+        // not be buffered by the parser.
+        var structure = CsvStructure.Check(bytes.AsSpan(body.Value.Start, body.Value.Length), spec.Delimiter, DataLimits.MaxFieldBytes);
+        if (structure.Problem != CsvStructureProblem.None)
+        {
+            var where = new SourceLocation(displayPath, structure.Line, structure.Column);
+            switch (structure.Problem)
+            {
+                case CsvStructureProblem.QuoteInUnquotedField:
+                    diagnostics.QuoteInUnquotedField(where);
+                    break;
+                case CsvStructureProblem.TextAfterClosingQuote:
+                    diagnostics.TextAfterClosingQuote(where);
+                    break;
+                case CsvStructureProblem.UnterminatedQuote:
+                    diagnostics.UnterminatedQuote(where);
+                    break;
+                default:
+                    diagnostics.FieldTooLong(where, DataLimits.MaxFieldBytes);
+                    break;
+            }
+
+            return null;
+        }
+
         // Decode and parse in chunks from the bytes: the file is never held as one UTF-16 string.
         using var stream = new MemoryStream(bytes, body.Value.Start, body.Value.Length, writable: false);
         using var textReader = new StreamReader(stream, StrictUtf8, detectEncodingFromByteOrderMarks: false, bufferSize: 1 << 16);
@@ -174,6 +199,7 @@ public static class CsvLoader
         var seen = factorCols.Select(_ => new Dictionary<string, int>(StringComparer.Ordinal)).ToArray();
         var seenLookup = seen.Select(d => d.GetAlternateLookup<ReadOnlySpan<char>>()).ToArray();
         var seenNames = factorCols.Select(_ => new List<string>()).ToArray();
+        var byNormal = factorCols.Select(_ => new Dictionary<string, int>(StringComparer.Ordinal)).ToArray();
         var seenDeclared = factorCols.Select(_ => new List<bool>()).ToArray();
         var strays = factorCols.Select(_ => new Dictionary<int, LevelRules.Stray>()).ToArray();
         var cellProblems = new Dictionary<(int Column, NumberProblem Problem), List<CellProblem>>();
@@ -216,12 +242,6 @@ public static class CsvLoader
 
             var r = rows++;
             lines[r] = line + 1;
-            if (UnterminatedQuote(raw, spec.Delimiter) is { } quoteAt)
-            {
-                diagnostics.UnterminatedQuote(new SourceLocation(displayPath, line, quoteAt));
-                break;
-            }
-
             if (row.ColCount != expected)
             {
                 // One message per file: the first such row, with a count and, when the extra field
@@ -319,11 +339,26 @@ public static class CsvLoader
 
                 if (!seenLookup[c].TryGetValue(cell, out var code))
                 {
+                    // A new spelling: compared in NFC, so canonically equal spellings are one level.
+                    var at = CellLocation(displayPath, line, raw, factorCols[c].Index, spec.Delimiter);
                     var text = cell.ToString();
-                    code = seenNames[c].Count;
+                    _ = LevelText.Check(text, at, factorCols[c].Spec.Name, diagnostics);
+                    var normal = LevelText.Normal(text);
+                    if (!byNormal[c].TryGetValue(normal, out code))
+                    {
+                        if (seenNames[c].Count == DataLimits.MaxLevelsPerFactor)
+                        {
+                            diagnostics.TooManyLevels(at, factorCols[c].Spec.Name, factorCols[c].Spec.Column, DataLimits.MaxLevelsPerFactor);
+                            return null;
+                        }
+
+                        code = seenNames[c].Count;
+                        byNormal[c][normal] = code;
+                        seenNames[c].Add(normal);
+                        seenDeclared[c].Add(factorCols[c].Spec.Levels is not { } levels || LevelRules.IndexOf(levels, normal) >= 0);
+                    }
+
                     seen[c][text] = code;
-                    seenNames[c].Add(text);
-                    seenDeclared[c].Add(factorCols[c].Spec.Levels is not { } levels || LevelRules.IndexOf(levels, text) >= 0);
                 }
 
                 codes[c][r] = code;
@@ -398,6 +433,9 @@ public static class CsvLoader
                     break;
                 case NumberProblem.TooLarge:
                     diagnostics.NumberOutOfRange(p.At, p.Text, p.Column, p.Count);
+                    break;
+                case NumberProblem.TooSmall:
+                    diagnostics.NumberTooSmall(p.At, p.Text, p.Column, p.Count);
                     break;
                 default:
                     diagnostics.NotNumeric(p.At, p.Text, p.Column, p.Count);
@@ -689,29 +727,6 @@ public static class CsvLoader
         }
 
         return starts;
-    }
-
-    private static int? UnterminatedQuote(ReadOnlySpan<char> raw, char delimiter)
-    {
-        var inQuote = false;
-        var openedAt = -1;
-        for (var i = 0; i < raw.Length; i++)
-        {
-            if (raw[i] != '"')
-            {
-                continue;
-            }
-
-            if (!inQuote)
-            {
-                openedAt = i;
-            }
-
-            inQuote = !inQuote;
-        }
-
-        _ = delimiter;
-        return inQuote ? openedAt : null;
     }
 
     private static SourceLocation CellLocation(string path, int line, ReadOnlySpan<char> raw, int field, char delimiter)

@@ -14,6 +14,9 @@ internal enum NumberProblem
 
     /// <summary>A finite number too large to keep (beyond ±1e300).</summary>
     TooLarge,
+
+    /// <summary>A number that is not zero but nearer to 0 than ±1e-300 (it would underflow to 0 or lose its digits).</summary>
+    TooSmall,
 }
 
 /// <summary>
@@ -50,6 +53,14 @@ internal static class NumberRules
         if (decimal.TryParse(t, Style, CultureInfo.InvariantCulture, out exact))
         {
             approx = double.Parse(t, Style, CultureInfo.InvariantCulture);
+            if (exact == 0 && IsUnderflow(t, approx))
+            {
+                exact = 0;
+                approx = 0;
+                problem = NumberProblem.TooSmall;
+                return false;
+            }
+
             return true;
         }
 
@@ -58,6 +69,13 @@ internal static class NumberRules
             if (double.IsNaN(approx) || t.Any(char.IsLetter) && !t.Contains('e', StringComparison.OrdinalIgnoreCase))
             {
                 problem = NumberProblem.NotFinite;
+                return false;
+            }
+
+            if (double.IsFinite(approx) && IsUnderflow(t, approx))
+            {
+                approx = 0;
+                problem = NumberProblem.TooSmall;
                 return false;
             }
 
@@ -100,6 +118,36 @@ internal static class NumberRules
         }
 
         problem = NumberProblem.NotNumber;
+        return false;
+    }
+
+    /// <summary>Smallest magnitude kept, the mirror of the ±1e300 limit on large numbers.</summary>
+    public const double MinMagnitude = 1e-300;
+
+    /// <summary>
+    /// True when number text whose mantissa has a non-zero digit reads as a double nearer to 0 than
+    /// <see cref="MinMagnitude"/> (0 itself for 1e-400, a subnormal for 1e-310). "0e-400" is zero.
+    /// </summary>
+    public static bool IsUnderflow(string text, double approx)
+    {
+        if (Math.Abs(approx) >= MinMagnitude)
+        {
+            return false;
+        }
+
+        foreach (var ch in text)
+        {
+            if (ch is 'e' or 'E')
+            {
+                break;
+            }
+
+            if (ch is >= '1' and <= '9')
+            {
+                return true;
+            }
+        }
+
         return false;
     }
 

@@ -294,6 +294,50 @@ public sealed class DiagnosticBag
     public void RowsTooMany(SourceLocation at, long max) =>
         Error("SP0317", at, string.Create(CultureInfo.InvariantCulture, $"the data file has more than {max} rows, the most this version loads"));
 
+    // ---- limits on every input (SP0360-SP0379 data, SP0113-SP0119 study file) ----
+
+    public void QuoteInUnquotedField(SourceLocation at) =>
+        Error("SP0360", at, "a quote inside an unquoted field; quote the whole field and double the quote (\"a\"\"b\")");
+
+    public void TextAfterClosingQuote(SourceLocation at) =>
+        Error("SP0361", at, "text after the closing quote of a quoted field; double a quote inside a quoted field (\"\")");
+
+    public void FieldTooLong(SourceLocation at, long max) =>
+        Error("SP0362", at, string.Create(CultureInfo.InvariantCulture, $"this field is longer than {max} bytes ({max / (1024 * 1024)} MiB), the most a cell may hold"));
+
+    public void TooManyLevels(SourceLocation at, string factor, string column, int max) =>
+        Error("SP0363", at, string.Create(CultureInfo.InvariantCulture, $"factor {Q(factor)} has more than {max} levels (distinct values of column {Q(column)}), the most a factor may have; is the column an identifier or a measurement?"));
+
+    public void SpreadsheetExpandsTooMuch(SourceLocation at, string path, string part, long max) =>
+        Error("SP0364", at, string.Create(CultureInfo.InvariantCulture, $"{Q(path)} expands to more than {max} bytes ({max / (1024 * 1024)} MiB) by its part {Q(part)}, the most this version reads from a spreadsheet"));
+
+    public void SpreadsheetTooManyCells(SourceLocation at, string path, string sheet, long max) =>
+        Error("SP0365", at, string.Create(CultureInfo.InvariantCulture, $"sheet {Q(sheet)} of {Q(path)} has more than {max} cells with values, the most this version reads from a spreadsheet; give a 'range'"));
+
+    public void QueryTimedOut(SourceLocation at, string dataset, int seconds) =>
+        Error("SP0366", at, string.Create(CultureInfo.InvariantCulture, $"the query of dataset {Q(dataset)} ran longer than {seconds} s and was stopped; simplify it, or raise the dataset's 'timeout' (seconds)"));
+
+    public void QueryTooManyRows(SourceLocation at, string dataset, long max) =>
+        Error("SP0367", at, string.Create(CultureInfo.InvariantCulture, $"the query of dataset {Q(dataset)} returns more than {max} rows, the most this version loads; aggregate in the query or use 'aggregate: true'"));
+
+    public void NumberTooSmall(SourceLocation at, string text, string column, int cells = 1) =>
+        Error("SP0368", at, $"{Q(text)} in column {Q(column)}{MoreCells(cells)} is too close to zero to compute with (nearer to 0 than 1e-300, it would be read as 0); rescale the column");
+
+    public void ValueTooSmall(SourceLocation at, string text, string column, string where) =>
+        Error("SP0369", at, $"{Q(text)} in column {Q(column)} ({where}) is too close to zero to compute with (nearer to 0 than 1e-300, it would be read as 0); rescale the column");
+
+    public void InvisibleCharacter(SourceLocation at, string level, string factor, string character) =>
+        Error("SP0370", at, $"level {Q(level)} of factor {Q(factor)} contains the invisible character {character}; remove it, or two levels could look the same");
+
+    public void MarkdownTooDeep(SourceLocation at, int max) =>
+        Error("SP0113", at, string.Create(CultureInfo.InvariantCulture, $"the text is nested more than {max} levels deep here (block quotes, lists, emphasis or links inside each other); flatten it"));
+
+    public void HeaderNumberTooSmall(SourceLocation at, string key, string text) =>
+        Error("SP0114", at, $"{Q(key)} is {Q(text)}, too close to zero to compute with (nearer to 0 than 1e-300, it would be read as 0)");
+
+    public void HeaderInvisibleCharacter(SourceLocation at, string level, string factor, string character) =>
+        Error("SP0115", at, $"declared level {Q(level)} of factor {Q(factor)} contains the invisible character {character}; remove it");
+
     // ---- other data sources: spreadsheets, databases, Parquet (SP032x-SP034x) ----
     public void SourceKeyNotApplicable(SourceLocation at, string key, string dataset, string applies) =>
         Error("SP0320", at, $"{Q(key)} of dataset {Q(dataset)} applies only to {applies}");
@@ -383,6 +427,24 @@ public sealed class DiagnosticBag
     public void ServerTooManyRows(SourceLocation at, string dataset, long max) =>
         Error("SP0383", at, string.Create(CultureInfo.InvariantCulture, $"the query of dataset {Q(dataset)} returns more than {max} rows, the most loaded from a server; add 'aggregate: true' to let the server summarise the rows, or narrow the query"));
 
+    // ---- data confinement and text safety (SP0020-SP0029 files, SP0340-SP0354 data) ----
+    public void DataPathNotRegular(SourceLocation at, string path, string kind) =>
+        Error("SP0020", at, $"data path {Q(path)} is {kind}, not a regular file; only regular files are read as data");
+
+    public void DataPathLinkLoop(SourceLocation at, string path, int max) =>
+        Error("SP0021", at, string.Create(CultureInfo.InvariantCulture, $"data path {Q(path)} goes through more than {max} symbolic links; is there a loop of links?"));
+
+    public void LevelNotUtf8(SourceLocation at, string column, string detail, string? where) =>
+        Error("SP0341", at, $"the text in column {Q(column)}{Where(where)} is not valid UTF-8 ({detail})");
+
+    public void PathPatternCharacter(SourceLocation at, string path, char character) =>
+        Error("SP0342", at, $"data path {Q(path)} contains '{character}', which the Parquet reader takes as a file-name pattern; rename the file or folder without '*', '?' or '['");
+
+    public void DatabaseSideFile(SourceLocation at, string path, string side) =>
+        Error("SP0343", at, $"{Q(path)} has a write-ahead log beside it ({Q(side)}), which the database would also read but which is not hashed; checkpoint the database (close it in the program that wrote it) so the log is merged and removed");
+
+    private static string Where(string? where) => where is null ? string.Empty : " (" + where + ")";
+
     // ---- references (SP04xx) ----
     public void UnknownReference(SourceLocation at, string text, string? suggestion) => Error("SP0401", at, $"unknown reference {Q(text)}{Suggest(suggestion)}");
 
@@ -430,6 +492,8 @@ public sealed class DiagnosticBag
     public void CannotPin(SourceLocation at, string name, string why) =>
         Error("SP0602", at, $"cannot pin the hash of {Q(name)}: {why}; write it as a map with 'path' and 'sha256'");
 
+    public void BadStudyId(SourceLocation at, string id) => Error("SP0603", at, $"study id {Q(id)} must start with a letter and use only letters, digits, '_' and '-' (it names the study's figure files)");
+
     // ---- comparison of builds (SP07xx) ----
     public void DiffUnknownKind(SourceLocation at, string path) =>
         Error("SP0701", at, $"cannot compare {Q(path)}: name a report (.html), a results manifest (.json) or a study file (.md)");
@@ -454,6 +518,11 @@ public sealed class DiagnosticBag
     /// <summary>Closest candidate within a small edit distance, for "did you mean".</summary>
     public static string? Nearest(string word, IEnumerable<string> candidates)
     {
+        if (word.Length > 256)
+        {
+            return null; // no one mistypes a name this long, and the distance table would be large
+        }
+
         string? best = null;
         var bestD = int.MaxValue;
         foreach (var c in candidates)

@@ -285,7 +285,7 @@ public static class AggregatedAnova
         var means = new HtmlTable("means", "Level means", ["Level", "n", "Mean"]);
         foreach (var (factor, level, v) in o.Means)
         {
-            var label = factorial ? o.Factors.First(f => f.Name == factor).Display + ": " + level : level;
+            var label = factorial ? StudyPress.Charts.BidiText.Isolate(o.Factors.First(f => f.Name == factor).Display) + ": " + StudyPress.Charts.BidiText.Isolate(level) : level;
             means.Row(label, [V(v, "n"), V(v, "mean")]);
         }
 

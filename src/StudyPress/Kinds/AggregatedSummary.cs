@@ -127,7 +127,7 @@ public static class AggregatedSummary
         var small = outcome.Groups.Where(g => g.N is >= 2 and < 5).Select(g => g.Label).ToList();
         if (small.Count > 0)
         {
-            outcome.Warnings.Add($"Groups with fewer than 5 observations ({string.Join(", ", small)}): their means and intervals are imprecise, and quartiles of so few values say little.");
+            outcome.Warnings.Add($"Groups with fewer than 5 observations ({string.Join(", ", small.Select(StudyPress.Charts.BidiText.Isolate))}): their means and intervals are imprecise, and quartiles of so few values say little.");
         }
 
         outcome.Notes.Add(table.Duck || ds.Spec.Format == DataFormat.Postgres
@@ -154,6 +154,7 @@ public static class AggregatedSummary
             ? $"min({y}), max({y}), quantile_cont(CAST({y} AS DOUBLE), 0.5), quantile_cont(CAST({y} AS DOUBLE), 0.25), quantile_cont(CAST({y} AS DOUBLE), 0.75)"
             : $"min({y}), max({y})";
         var result = new List<Orders>();
+        QueryClock? clock = null;
         try
         {
             using DbConnection? connection = pg ? PostgresSource.Open(spec, diagnostics) : DatabaseSource.Open(spec, table.FullPath, diagnostics);
@@ -186,6 +187,8 @@ public static class AggregatedSummary
 
                 var filter = ors.Count == 0 ? string.Empty : " WHERE " + string.Join(" OR ", ors);
                 command.CommandText = $"SELECT {select} FROM ({table.UserQuery}) AS src{filter}";
+                clock?.Dispose();
+                clock = QueryClock.Start(command, spec.TimeoutSeconds);
                 using var reader = command.ExecuteReader();
                 reader.Read();
                 Quantity V(int i) => reader.IsDBNull(i) ? Quantity.Undefined("the group has no values") : Quantity.Of(Convert.ToDouble(reader.GetValue(i), CultureInfo.InvariantCulture));
@@ -193,10 +196,19 @@ public static class AggregatedSummary
                 result.Add(table.Duck || pg ? new Orders(V(2), V(3), V(4), V(0), V(1)) : new Orders(none, none, none, V(0), V(1)));
             }
         }
+        catch (Exception e) when (clock is { Expired: true } && e is DbException or InvalidOperationException or OperationCanceledException)
+        {
+            diagnostics.QueryTimedOut(block.Location, spec.Name, spec.TimeoutSeconds);
+            return null;
+        }
         catch (Exception e) when (e is DbException or InvalidOperationException or InvalidCastException or FormatException or OverflowException)
         {
             diagnostics.QueryFailed(block.Location, spec.Name, DatabaseSource.Message(e));
             return null;
+        }
+        finally
+        {
+            clock?.Dispose();
         }
 
         return result;

@@ -152,7 +152,11 @@ public sealed class AnovaKind : BlockKind
         }
 
         outcome.ResponseCentre = centre;
-        var input = new AnovaInput(response, factors, options.Interaction, options.SsType, context.Header.Alpha);
+        var input = new AnovaInput(response, factors, options.Interaction, options.SsType, context.Header.Alpha)
+        {
+            // Exact decimal data give exact sums of squares (one factor, untransformed response).
+            Exact = options.Transform == TransformKind.None && data.Factors.Count == 1 ? data.Exact?.AsScaled() : null,
+        };
         if (data.Factors.Count > 1 && AnovaDesign.Check(input) is { } problem)
         {
             if (problem.Kind == DesignProblemKind.EmptyCell && problem.Cell is { } cell)
@@ -186,7 +190,7 @@ public sealed class AnovaKind : BlockKind
             OneFactorChecks(context, block, outcome, options, inputs);
         }
 
-        AddCautions(outcome, data, options);
+        AddCautions(context, block, outcome, data, options);
         if (context.Header.Report.Figures)
         {
             var shape = data.Factors.Count == 1 ? Figures.Means(data, context.Header.Alpha) : Figures.Interaction(outcome);
@@ -314,7 +318,7 @@ public sealed class AnovaKind : BlockKind
             {
                 outcome.Decisions.Add(bf.P.IsDefined
                     ? $"Welch's F is not shown (welch: auto): the Brown–Forsythe test found no evidence of unequal variances (p = {P(bf.P)} ≥ α = {alpha}). Set 'welch: yes' to show it anyway."
-                    : $"Welch's F is not shown (welch: auto): equal variances could not be checked ({bf.P.Reason}).");
+                    : $"Welch's F is not shown (welch: auto): the rule did not fire because equal variances could not be checked (Brown–Forsythe: {bf.P.Reason}).");
             }
 
             if (outcome.Review.WantsRankTest)
@@ -345,7 +349,7 @@ public sealed class AnovaKind : BlockKind
 
     private static string P(Quantity p) => !p.IsDefined ? "not defined" : p.Value < 0.001 ? "< 0.001" : p.Value.ToString("F3", CultureInfo.InvariantCulture);
 
-    private static void AddCautions(Outcome outcome, BlockData data, Options options)
+    private static void AddCautions(EvaluationContext context, BoundBlock block, Outcome outcome, BlockData data, Options options)
     {
         var cells = data.Cells();
         var ones = cells.Where(c => c.Values.Length == 1).Select(c => c.Label).ToList();
@@ -357,7 +361,7 @@ public sealed class AnovaKind : BlockKind
         var small = cells.Where(c => c.Values.Length is > 1 and < 5).Select(c => c.Label).ToList();
         if (small.Count > 0)
         {
-            outcome.Warnings.Add($"Small group(s) (fewer than 5 observations): {string.Join(", ", small)}. The test has little power to detect differences, and normality and equal variances cannot be judged well from so few values.");
+            outcome.Warnings.Add($"Small group(s) (fewer than 5 observations): {string.Join(", ", small.Select(StudyPress.Charts.BidiText.Isolate))}. The test has little power to detect differences, and normality and equal variances cannot be judged well from so few values.");
         }
 
         var unbalanced = cells.Select(c => c.Values.Length).Distinct().Count() > 1;
@@ -371,6 +375,12 @@ public sealed class AnovaKind : BlockKind
         if (data.DroppedMissing > 0)
         {
             outcome.Notes.Add(string.Create(CultureInfo.InvariantCulture, $"{data.DroppedMissing} row(s) with a missing value were left out of this analysis."));
+        }
+
+        var empty = SummaryKind.EmptyGroups(context, block, data);
+        if (empty.Count > 0)
+        {
+            outcome.Notes.Add($"Group(s) without any observed response ({string.Join(", ", empty)}): every response is missing, so they are not part of this analysis, its comparisons or its figures.");
         }
     }
 
@@ -455,7 +465,7 @@ public sealed class AnovaKind : BlockKind
         var table = new HtmlTable("means", "Level means" + (o.Transformed is null ? string.Empty : " (back-transformed to the original scale)"), headers);
         foreach (var (factor, level, v) in o.Means)
         {
-            var label = factorial ? o.Data!.Factors.First(f => f.Spec.Name == factor).Spec.Display + ": " + level : level;
+            var label = factorial ? StudyPress.Charts.BidiText.Isolate(o.Data!.Factors.First(f => f.Spec.Name == factor).Spec.Display) + ": " + StudyPress.Charts.BidiText.Isolate(level) : level;
             List<string> cells = [HtmlWriter.ValueHtml(v["n"], context), HtmlWriter.ValueHtml(v["mean"], context)];
             if (factorial)
             {

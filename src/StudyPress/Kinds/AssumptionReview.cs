@@ -49,6 +49,9 @@ public sealed class AssumptionReview
     /// <summary>Non-normal residuals with small groups: the rank test should be run as well.</summary>
     public bool WantsRankTest => NonNormal && SmallestGroup < SmallGroup;
 
+    /// <summary>Why normality is not checked when the model fits the data exactly.</summary>
+    public const string ZeroResiduals = "every group's values are equal, so the residuals are all exactly zero and W = 0/0 is not defined";
+
     public static AssumptionReview Run(AnovaKind.Outcome anova)
     {
         var result = anova.Result!;
@@ -67,7 +70,12 @@ public sealed class AssumptionReview
             groups.Add(g);
         }
 
-        var normality = ShapiroWilk.Test(result.Residuals);
+        // With every cell constant the cell-means model fits exactly: the residuals are exactly
+        // zero, whatever rounding leaves in their floating-point values, and W is 0/0.
+        var exactFit = (anova.Input!.Factors.Count == 1 || anova.Input.Interactions) && groups.All(g => Groups.IsConstant(g));
+        var normality = exactFit
+            ? new ShapiroWilkResult(result.Residuals.Length, Quantity.Undefined(ZeroResiduals), Quantity.Undefined(ZeroResiduals), [])
+            : ShapiroWilk.Test(result.Residuals);
         LeveneResult bf, lev;
         BartlettResult bart;
         if (groups.Count >= 2)

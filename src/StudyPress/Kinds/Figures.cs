@@ -81,6 +81,9 @@ public static class Figures
         : string.Empty;
 
     /// <summary>Box plots with every observation over them, by the block's cells.</summary>
+    /// <summary>A user-supplied name set inside generated text: isolated on its own, so that numbers beside it keep their order.</summary>
+    private static string Name(string name) => StudyPress.Charts.BidiText.Isolate(name);
+
     public static Figure? Box(BlockData data, string? caption = null)
     {
         var cells = data.Factors.Count == 0 ? [("all", Array.Empty<int>(), data.Response, Enumerable.Range(0, data.Rows.Length).ToArray())] : data.Cells();
@@ -89,7 +92,7 @@ public static class Figures
             c.Label,
             c.Positions.Length <= MaxPoints ? [.. c.Positions.Select(i => data.Values[i])] : ThinSorted(SortedValues(data, c.Positions)))).ToList();
         var by = string.Join(" and ", data.Factors.Select(f => f.Spec.Display));
-        var chart = StatCharts.GroupDistributions(groups, new ChartLabels($"Distribution of {data.ResponseName}" + (by.Length > 0 ? " by " + by : string.Empty), by, data.ResponseName));
+        var chart = StatCharts.GroupDistributions(groups, new ChartLabels($"Distribution of {Name(data.ResponseName)}" + (by.Length > 0 ? " by " + Name(by) : string.Empty), by, data.ResponseName));
         var largest = cells.Max(c => c.Positions.Length);
         return new Figure("box", caption ?? $"Each group's box spans the quartiles with the median marked; whiskers reach the most extreme values within 1.5 IQR of the box; every observation is drawn as a point." + ThinNote(largest), chart);
     }
@@ -117,7 +120,7 @@ public static class Figures
 
         var level = Confidence(alpha);
         var by = string.Join(" and ", data.Factors.Select(f => f.Spec.Display));
-        var chart = StatCharts.GroupMeans(means, level, new ChartLabels($"Mean {data.ResponseName} with {level} intervals", by, data.ResponseName));
+        var chart = StatCharts.GroupMeans(means, level, new ChartLabels($"Mean {Name(data.ResponseName)} with {level} intervals", by, data.ResponseName));
         return new Figure("means", caption ?? $"Group means with {level} confidence intervals (each group's own t interval, not adjusted for multiple comparisons).", chart);
     }
 
@@ -138,8 +141,8 @@ public static class Figures
             .Select(g => new CellMean(a.Levels[g.Key.Item1], b.Levels[g.Key.Item2], g.Average(i => anova.Data.Values[i])))
             .ToList();
 
-        var chart = StatCharts.InteractionPlot(a.Levels, b.Levels, cells, b.Spec.Display, new ChartLabels($"Mean {anova.Data.ResponseName} by {a.Spec.Display} and {b.Spec.Display}", a.Spec.Display, anova.Data.ResponseName));
-        return new Figure("interaction", caption ?? $"Observed cell means; lines that are not parallel suggest an interaction (compare with the F test of {a.Spec.Display} × {b.Spec.Display}).", chart);
+        var chart = StatCharts.InteractionPlot(a.Levels, b.Levels, cells, b.Spec.Display, new ChartLabels($"Mean {Name(anova.Data.ResponseName)} by {Name(a.Spec.Display)} and {Name(b.Spec.Display)}", a.Spec.Display, anova.Data.ResponseName));
+        return new Figure("interaction", caption ?? $"Observed cell means; lines that are not parallel suggest an interaction (compare with the F test of {Name(a.Spec.Display)} × {Name(b.Spec.Display)}).", chart);
     }
 
     public static Figure? Qq(AnovaKind.Outcome anova, string? caption = null)
@@ -194,7 +197,7 @@ public static class Figures
                 continue;
             }
 
-            var name = string.Join(" × ", t.Factors.Select(n => anova.Data!.Factors.First(f => f.Spec.Name == n).Spec.Display));
+            var name = string.Join(" × ", t.Factors.Select(n => Name(anova.Data!.Factors.First(f => f.Spec.Name == n).Spec.Display)));
             var chart = StatCharts.FDistribution(t.Df, anova.Result.ResidualDf, t.F.Value, anova.Result.Alpha, new ChartLabels(string.Create(CultureInfo.InvariantCulture, $"F({t.Df}, {anova.Result.ResidualDf}) distribution: {name}"), "F", "density"));
             yield return new Figure("f-distribution", caption ?? string.Create(CultureInfo.InvariantCulture, $"The F distribution under no effect of {name}; the shaded region is the rejection region at α = {anova.Result.Alpha.ToString("R", CultureInfo.InvariantCulture)} and the line marks the observed F."), chart);
         }
@@ -210,7 +213,7 @@ public static class Figures
 
         var rows = family.Pairs
             .Where(p => p.Pair.CiLow.IsDefined && p.Pair.CiHigh.IsDefined)
-            .Select(p => new IntervalComparison(p.Pair.LevelA + " − " + p.Pair.LevelB, p.Pair.Diff, p.Pair.CiLow.Value, p.Pair.CiHigh.Value))
+            .Select(p => new IntervalComparison(StudyPress.Charts.BidiText.Isolate(p.Pair.LevelA) + " − " + StudyPress.Charts.BidiText.Isolate(p.Pair.LevelB), p.Pair.Diff, p.Pair.CiLow.Value, p.Pair.CiHigh.Value))
             .ToList();
         var level = Confidence(alpha);
         var chart = StatCharts.SimultaneousIntervals(rows, level, new ChartLabels($"{family.Title}: simultaneous {level} intervals", "difference", string.Empty));

@@ -95,6 +95,12 @@ public sealed class PostHocKind : BlockKind
             return outcome;
         }
 
+        var empty = SummaryKind.EmptyGroups(context, anova.Block, anova.Data);
+        if (empty.Count > 0)
+        {
+            outcome.Notes.Add($"Group(s) without any observed response ({string.Join(", ", empty)}) are not compared: every response in them is missing.");
+        }
+
         if (options.Control is { } control && !factor.Levels.Contains(control))
         {
             diagnostics.UnknownControl(options.ControlLocation, control, factor.Spec.Name, DiagnosticBag.Nearest(control, factor.Levels));
@@ -117,6 +123,13 @@ public sealed class PostHocKind : BlockKind
             {
                 method = "games-howell";
                 outcome.Decisions.Add($"Rule fired (method: auto): the Brown–Forsythe test found unequal variances (p = {P(review.BrownForsythe.P)} < α = {alphaText}), so the Games–Howell procedure, which does not pool the variances, is used.");
+            }
+            else if (!review.BrownForsythe.P.IsDefined)
+            {
+                method = "tukey";
+                outcome.Decisions.Add(options.Control is null
+                    ? $"Method chosen (method: auto): Tukey's HSD; the Games–Howell rule did not fire because equal variances could not be checked (Brown–Forsythe: {review.BrownForsythe.P.Reason})."
+                    : $"Method chosen (method: auto): Dunnett's comparisons with the control; the Games–Howell rule did not fire because equal variances could not be checked (Brown–Forsythe: {review.BrownForsythe.P.Reason}).");
             }
             else
             {
@@ -259,7 +272,7 @@ public sealed class PostHocKind : BlockKind
 
                 cells.Add(HtmlWriter.ValueHtml(v["p_adj"], context));
                 cells.Add(pair.PAdjusted.IsDefined ? (pair.PAdjusted.Value < context.Alpha ? "differ" : "not distinguished") : "not defined");
-                table.Row(pair.LevelA + " − " + pair.LevelB, cells);
+                table.Row(StudyPress.Charts.BidiText.Isolate(pair.LevelA) + " − " + StudyPress.Charts.BidiText.Isolate(pair.LevelB), cells);
             }
 
             table.WriteTo(html);

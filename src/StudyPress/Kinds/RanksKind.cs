@@ -144,7 +144,7 @@ public sealed class RanksKind : BlockKind
         var p = new HtmlTable("pairs", "Dunn's comparisons of mean ranks (Holm-adjusted)", ["Pair", "difference in mean rank", "SE", "z", "adjusted p"]);
         foreach (var (pair, v) in o.Pairs)
         {
-            p.Row(pair.LevelA + " − " + pair.LevelB, [HtmlWriter.ValueHtml(v["diff"], context), HtmlWriter.ValueHtml(v["se"], context), HtmlWriter.ValueHtml(v["statistic"], context), HtmlWriter.ValueHtml(v["p_adj"], context)]);
+            p.Row(StudyPress.Charts.BidiText.Isolate(pair.LevelA) + " − " + StudyPress.Charts.BidiText.Isolate(pair.LevelB), [HtmlWriter.ValueHtml(v["diff"], context), HtmlWriter.ValueHtml(v["se"], context), HtmlWriter.ValueHtml(v["statistic"], context), HtmlWriter.ValueHtml(v["p_adj"], context)]);
         }
 
         p.WriteTo(html);

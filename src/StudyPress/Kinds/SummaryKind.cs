@@ -63,7 +63,7 @@ public sealed class SummaryKind : BlockKind
             var map = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
             void Add(string stat, Statistics.Quantity q) => map[stat] = context.Results.Add(block.Id, "summary", term, level, null, stat, q, inputs);
             Add("n", Statistics.Quantity.Of(s.N));
-            Add("missing", Statistics.Quantity.Of(missing.GetValueOrDefault(label)));
+            Add("missing", Statistics.Quantity.Of(missing.GetValueOrDefault(label).Count));
             Add("mean", Statistics.Quantity.Of(s.Mean));
             Add("sd", s.Sd);
             Add("se", s.Se);
@@ -81,10 +81,32 @@ public sealed class SummaryKind : BlockKind
             }
         }
 
+        // Groups whose every response is missing have no rows in the data, but they are part of
+        // the study: they are shown with n = 0 and their missing count (in the factor's level order).
+        if (data.Factors.Count > 0)
+        {
+            var shown = outcome.Groups.Select(g => g.Label).ToHashSet(StringComparer.Ordinal);
+            foreach (var (label, count) in missing.Where(m => !shown.Contains(m.Key)).OrderBy(m => m.Value.Order, OrderComparer).Select(m => (m.Key, m.Value.Count)))
+            {
+                var map = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
+                var none = Statistics.Quantity.Undefined(NoObservations);
+                void Add(string stat, Statistics.Quantity q) => map[stat] = context.Results.Add(block.Id, "summary", term, label, null, stat, q, inputs);
+                Add("n", Statistics.Quantity.Of(0));
+                Add("missing", Statistics.Quantity.Of(count));
+                foreach (var stat in new[] { "mean", "sd", "se", "ci_low", "ci_high", "median", "q1", "q3", "min", "max" })
+                {
+                    Add(stat, none);
+                }
+
+                outcome.Groups.Add((label, 0, map));
+                outcome.Warnings.Add($"Group '{label}' has no observations: every one of its {count} response(s) is missing, so it is left out of the analyses of these data.");
+            }
+        }
+
         var small = outcome.Groups.Where(g => g.N is >= 2 and < 5).Select(g => g.Label).ToList();
         if (small.Count > 0)
         {
-            outcome.Warnings.Add($"Groups with fewer than 5 observations ({string.Join(", ", small)}): their means and intervals are imprecise, and quartiles of so few values say little.");
+            outcome.Warnings.Add($"Groups with fewer than 5 observations ({string.Join(", ", small.Select(StudyPress.Charts.BidiText.Isolate))}): their means and intervals are imprecise, and quartiles of so few values say little.");
         }
 
         if (data.DroppedMissing > 0)
@@ -100,10 +122,41 @@ public sealed class SummaryKind : BlockKind
         return outcome;
     }
 
-    /// <summary>Rows whose response is missing, by the group their factors put them in.</summary>
-    private static Dictionary<string, int> MissingByCell(EvaluationContext context, BoundBlock block, BlockData data)
+    /// <summary>Why the statistics of a group without observations are not defined.</summary>
+    public const string NoObservations = "the group has no observations: every response in it is missing";
+
+    private static readonly Comparer<int[]> OrderComparer = Comparer<int[]>.Create((a, b) =>
     {
-        var result = new Dictionary<string, int>(StringComparer.Ordinal);
+        for (var i = 0; i < Math.Min(a.Length, b.Length); i++)
+        {
+            if (a[i] != b[i])
+            {
+                return a[i].CompareTo(b[i]);
+            }
+        }
+
+        return a.Length.CompareTo(b.Length);
+    });
+
+    /// <summary>
+    /// The groups (labels as the summary shows them) whose every response is missing among the
+    /// rows the block selects, as "factor = 'level'" texts, for the notes of the other kinds.
+    /// </summary>
+    public static IReadOnlyList<string> EmptyGroups(EvaluationContext context, BoundBlock block, BlockData data)
+    {
+        if (data.Factors.Count == 0)
+        {
+            return [];
+        }
+
+        var shown = data.Cells().Select(c => c.Label).ToHashSet(StringComparer.Ordinal);
+        return [.. MissingByCell(context, block, data).Where(m => !shown.Contains(m.Key)).OrderBy(m => m.Value.Order, OrderComparer).Select(m => m.Key)];
+    }
+
+    /// <summary>Rows whose response is missing, by the group their factors put them in (with the group's level codes, for ordering).</summary>
+    private static Dictionary<string, (int Count, int[] Order)> MissingByCell(EvaluationContext context, BoundBlock block, BlockData data)
+    {
+        var result = new Dictionary<string, (int Count, int[] Order)>(StringComparer.Ordinal);
         var ds = data.Dataset;
         var response = ds.Numeric[data.ResponseName];
         for (var r = 0; r < ds.Rows; r++)
@@ -114,6 +167,7 @@ public sealed class SummaryKind : BlockKind
             }
 
             var labels = new List<string>();
+            var codes = new List<int>();
             var ok = true;
             foreach (var f in block.Factors)
             {
@@ -125,6 +179,7 @@ public sealed class SummaryKind : BlockKind
                 }
 
                 labels.Add(col.Levels[col.Codes[r]]);
+                codes.Add(col.Codes[r]);
             }
 
             foreach (var w in block.Where)
@@ -136,7 +191,7 @@ public sealed class SummaryKind : BlockKind
             if (ok)
             {
                 var key = labels.Count == 0 ? "all" : string.Join(" / ", labels);
-                result[key] = result.GetValueOrDefault(key) + 1;
+                result[key] = (result.GetValueOrDefault(key).Count + 1, [.. codes]);
             }
         }
 

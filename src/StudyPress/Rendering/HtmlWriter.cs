@@ -25,7 +25,13 @@ public sealed class HtmlWriter
 {
     private readonly StringBuilder sb = new();
 
-    public static string Escape(string? s) => WebUtility.HtmlEncode(s ?? string.Empty);
+    /// <summary>
+    /// Escapes text for HTML content or attribute values. Text with right-to-left letters or
+    /// directional controls is isolated first (<see cref="StudyPress.Charts.BidiText.Isolate"/>:
+    /// U+2068 … U+2069, its own controls closed inside), so a user-supplied name cannot reorder
+    /// the numbers and words around it.
+    /// </summary>
+    public static string Escape(string? s) => WebUtility.HtmlEncode(StudyPress.Charts.BidiText.Isolate(s));
 
     /// <summary>Appends trusted markup written by the compiler itself.</summary>
     public HtmlWriter Raw(string html)
@@ -34,12 +40,16 @@ public sealed class HtmlWriter
         return this;
     }
 
-    /// <summary>Appends escaped text.</summary>
+    /// <summary>Appends escaped text; text that needs isolating (see <see cref="Escape"/>) also goes in a <c>bdi</c> element.</summary>
     public HtmlWriter Text(string? text)
     {
-        sb.Append(Escape(text));
+        sb.Append(Content(text));
         return this;
     }
+
+    /// <summary>Escaped text content: isolated in a <c>bdi</c> element when it holds right-to-left letters or directional controls.</summary>
+    public static string Content(string? text) =>
+        StudyPress.Charts.BidiText.IsSensitive(text) ? "<bdi>" + Escape(text) + "</bdi>" : Escape(text);
 
     /// <summary>Appends an element with escaped text content.</summary>
     public HtmlWriter Element(string tag, string? text, string? cssClass = null)
@@ -50,7 +60,7 @@ public sealed class HtmlWriter
             sb.Append(" class=\"").Append(cssClass).Append('"');
         }
 
-        sb.Append('>').Append(Escape(text)).Append("</").Append(tag).Append('>');
+        sb.Append('>').Append(Content(text)).Append("</").Append(tag).Append('>');
         return this;
     }
 

@@ -73,16 +73,19 @@ internal static class ReportRenderer
         StudyParser.Pipeline(syntax.Path).Setup(renderer);
         renderer.ObjectRenderers.Insert(0, new AnalysisBlockRenderer(outcomes, context));
         renderer.ObjectRenderers.Insert(0, new ReferenceRenderer(references, context));
+        if (header.Report.RawHtml)
+        {
+            renderer.ObjectRenderers.Insert(0, new FilteredHtmlBlockRenderer());
+            renderer.ObjectRenderers.Insert(0, new FilteredHtmlInlineRenderer());
+        }
+
         renderer.Render(syntax.Document);
         renderer.Writer.Flush();
 
         var manifestText = Encoding.UTF8.GetString(manifest).TrimEnd('\n');
-        var css = StudyPress.Charts.ChartFont.CssFontFace() + "\n" + ReportTemplate.Css;
-        var js = ReportTemplate.Script;
-        var csp = "default-src 'none'; style-src '" + Hash(css) + "'; script-src '" + Hash(js) + "'; img-src data:; font-src data:; base-uri 'none'; form-action 'none'";
         var model = new ScriptObject
         {
-            ["csp"] = csp,
+            ["csp"] = ContentSecurityPolicy,
             ["tool_version"] = HtmlWriter.Escape(identity.ToolVersion),
             ["title"] = HtmlWriter.Escape(header.Title),
             ["authors"] = header.Authors.Count == 0 ? string.Empty : "<p class=\"study-authors\">" + HtmlWriter.Escape(string.Join(", ", header.Authors)) + "</p>",
@@ -94,16 +97,52 @@ internal static class ReportRenderer
             ["inputs"] = InputsTable(inputs),
             ["caution"] = Caution(),
             ["manifest"] = manifestText,
-            ["css"] = css,
-            ["js"] = js,
+            ["css"] = Style,
+            ["js"] = ReportTemplate.Script,
             ["chart_font"] = Convert.ToBase64String(StudyPress.Charts.ChartFont.FontBytes()),
         };
-        var tc = new TemplateContext { StrictVariables = true, EnableRelaxedMemberAccess = false };
+        var tc = new TemplateContext
+        {
+            StrictVariables = true,
+            EnableRelaxedMemberAccess = false,
+            EnableRelaxedIndexerAccess = false,
+            EnableRelaxedTargetAccess = false,
+            EnableRelaxedFunctionAccess = false,
+
+            // No size limit: the fragments are already bounded by the data limits (rows, levels,
+            // blocks, study size; docs/limits.md), and Scriban's default (1 MiB per value and for
+            // the whole output) silently truncated larger reports. Should a limit ever be set,
+            // exceeding it must fail, never cut.
+            LimitToString = 0,
+            OutputLimit = 0,
+            OnStringLimit = ScriptLimitBehavior.Throw,
+            OnOutputLimit = ScriptLimitBehavior.Throw,
+
+            // The shell has no loops, functions or nested objects (only strings are pushed); these
+            // stay small and explicit so that a template change that needs more fails loudly.
+            LoopLimit = 1000,
+            LoopLimitQueryable = 1000,
+            RecursiveLimit = 100,
+            ObjectRecursionLimit = 20,
+        };
         tc.PushGlobal(model);
-        return ReportTemplate.Template.Render(tc);
+        var html = ReportTemplate.Template.Render(tc);
+        if (ReportIntegrity.Problem(html) is { } problem)
+        {
+            throw new InvalidOperationException("the rendered report is incomplete: " + problem);
+        }
+
+        return html;
     }
 
-    private static string Hash(string inline) => "sha256-" + Convert.ToBase64String(SHA256.HashData(Encoding.UTF8.GetBytes(inline)));
+    /// <summary>The page's stylesheet: the chart font's face and templates/report.css.</summary>
+    internal static string Style { get; } = StudyPress.Charts.ChartFont.CssFontFace() + "\n" + ReportTemplate.Css;
+
+    /// <summary>The Content Security Policy every report carries: only the tool's own style and script, by hash.</summary>
+    public static string ContentSecurityPolicy { get; } =
+        "default-src 'none'; style-src '" + Hash(Style) + "'; script-src '" + Hash(ReportTemplate.Script) + "'; img-src data:; font-src data:; base-uri 'none'; form-action 'none'";
+
+    internal static string Hash(string inline) => "sha256-" + Convert.ToBase64String(SHA256.HashData(Encoding.UTF8.GetBytes(inline)));
 
     private static string InputsTable(IReadOnlyList<LoadedDataset> inputs)
     {
@@ -191,6 +230,24 @@ internal static class ReportRenderer
 
             html.Raw("</section>\n");
             renderer.Write(html.ToString());
+        }
+    }
+
+    /// <summary>Raw HTML blocks of a study with <c>raw-html: true</c>, through <see cref="RawHtmlFilter"/>.</summary>
+    private sealed class FilteredHtmlBlockRenderer : HtmlObjectRenderer<Markdig.Syntax.HtmlBlock>
+    {
+        protected override void Write(HtmlRenderer renderer, Markdig.Syntax.HtmlBlock obj)
+        {
+            renderer.Write(RawHtmlFilter.Filter(obj.Lines.ToString())).WriteLine();
+        }
+    }
+
+    /// <summary>Raw inline tags of a study with <c>raw-html: true</c>, through <see cref="RawHtmlFilter"/>.</summary>
+    private sealed class FilteredHtmlInlineRenderer : HtmlObjectRenderer<Markdig.Syntax.Inlines.HtmlInline>
+    {
+        protected override void Write(HtmlRenderer renderer, Markdig.Syntax.Inlines.HtmlInline obj)
+        {
+            renderer.Write(RawHtmlFilter.Filter(obj.Tag));
         }
     }
 

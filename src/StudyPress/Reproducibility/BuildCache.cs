@@ -115,7 +115,8 @@ public static class BuildCache
             foreach (var input in root.GetProperty("inputs").EnumerateArray())
             {
                 w.WriteStartObject();
-                w.WriteString("path", Path.GetFullPath(Path.Combine(studyDir, input.GetProperty("path").GetString()!)));
+                // The real path (links and '..' resolved as when the build read it), so the file watched is the file read.
+                w.WriteString("path", Data.PathGuard.RealPath(Path.Combine(studyDir, input.GetProperty("path").GetString()!)));
                 w.WriteString("sha256", input.GetProperty("sha256").GetString());
                 w.WriteEndObject();
             }
@@ -130,6 +131,12 @@ public static class BuildCache
 
     private static bool HashIs(string path, string? expected)
     {
+        // A pipe or device is never opened here (it would block or never end): the build reports it.
+        if (Data.FileKinds.Lstat(Data.PathGuard.RealPath(path)) != Data.FileKind.Regular)
+        {
+            return false;
+        }
+
         using var stream = File.OpenRead(path);
         return string.Equals(Convert.ToHexStringLower(SHA256.HashData(stream)), expected, StringComparison.Ordinal);
     }

@@ -4,7 +4,12 @@ using System.Text.Json;
 namespace StudyPress.Reproducibility;
 
 /// <summary>One input as a report records it; <see cref="Path"/> is relative to the study file.</summary>
-public sealed record RecordedInput(string Name, string Path, string Sha256);
+public sealed record RecordedInput(string Name, string Path, string Sha256)
+{
+    public int? Rows { get; init; }
+
+    public int? RowsUsed { get; init; }
+}
 
 /// <summary>One manifest value; <see cref="Value"/> is null when the value is not defined.</summary>
 public sealed record RecordedValue(string Id, string Stat, double? Value);
@@ -43,7 +48,9 @@ public sealed class ReportManifest
     public static ReportManifest? FromHtml(string html, out string? problem)
     {
         problem = null;
-        var start = html.IndexOf(ElementStart, StringComparison.Ordinal);
+        // The writer places the one real manifest after all user content; read the last one
+        // (ReportIntegrity and the verifier refuse a report with more than one).
+        var start = html.LastIndexOf(ElementStart, StringComparison.Ordinal);
         if (start < 0)
         {
             problem = "no results manifest found; is this a studypress report?";
@@ -92,7 +99,11 @@ public sealed class ReportManifest
                 Inputs = [.. root.GetProperty("inputs").EnumerateArray().Select(i => new RecordedInput(
                     i.GetProperty("name").GetString() ?? string.Empty,
                     i.GetProperty("path").GetString() ?? throw new KeyNotFoundException("inputs[].path"),
-                    i.GetProperty("sha256").GetString() ?? throw new KeyNotFoundException("inputs[].sha256")))],
+                    i.GetProperty("sha256").GetString() ?? throw new KeyNotFoundException("inputs[].sha256"))
+                {
+                    Rows = i.TryGetProperty("rows", out var rows) && rows.ValueKind == JsonValueKind.Number ? rows.GetInt32() : null,
+                    RowsUsed = i.TryGetProperty("rowsUsed", out var used) && used.ValueKind == JsonValueKind.Number ? used.GetInt32() : null,
+                })],
                 Values = [.. root.GetProperty("values").EnumerateArray().Select(v => new RecordedValue(
                     v.GetProperty("id").GetString() ?? string.Empty,
                     v.GetProperty("stat").GetString() ?? string.Empty,

@@ -38,11 +38,13 @@ public sealed record Verdict(Freshness State, string? Detail)
 }
 
 /// <summary>
-/// Checks a report against the files it was built from. Fresh: the study file, every input
-/// (paths relative to the study file) and the template hash to what the manifest records and the
-/// tool version is the same. With recomputation it also rebuilds the report in memory: the
-/// values must be the same, each visible number (elements with <c>data-v</c>) must be its
-/// manifest value as the report's number format rounds it, and the bytes must be identical.
+/// Checks a report against the files it was built from and against what the writer emits.
+/// Stale: the study file, an input (regular files only; paths relative to the study file), the
+/// template or the tool version differ from what the manifest records. Altered: the page is not
+/// StudyPress's (structure, policy, scripts, one manifest in its place), the manifest's inputs
+/// are not the study's datasets, or a visible number (<c>data-v</c>) or input row count is not
+/// its manifest value as the report's number format rounds it. With recomputation it also
+/// rebuilds the report in memory: the values must be the same and the bytes identical.
 /// </summary>
 public static partial class ReportVerifier
 {
@@ -70,18 +72,23 @@ public static partial class ReportVerifier
         var studyDir = Path.GetDirectoryName(studyFull)!;
         var changed = new List<string>();
         var missing = new List<string>();
-        var servers = new List<string>();
-        Check(studyFull, manifest.StudyPath, manifest.StudySha256, changed, missing);
-        foreach (var input in manifest.Inputs)
-        {
-            // A server has no file to hash: only --recompute (which re-runs the query) can check it.
-            if (input.Path.StartsWith(Binding.PostgresDataset.Scheme, StringComparison.Ordinal))
-            {
-                servers.Add(input.Name);
-                continue;
-            }
 
-            Check(Path.GetFullPath(Path.Combine(studyDir, input.Path)), input.Path, input.Sha256, changed, missing);
+        // Only regular files are hashed: a FIFO would block verify and a device never ends.
+        // A server input has no file to hash: only --recompute (which re-runs the query) can check it.
+        var servers = manifest.Inputs.Where(i => i.Path.StartsWith(Binding.PostgresDataset.Scheme, StringComparison.Ordinal)).Select(i => i.Name).ToList();
+        var files = manifest.Inputs.Where(i => !i.Path.StartsWith(Binding.PostgresDataset.Scheme, StringComparison.Ordinal)).ToList();
+        foreach (var (full, shown) in new[] { (studyFull, manifest.StudyPath) }.Concat(files.Select(i => (Path.GetFullPath(Path.Combine(studyDir, i.Path)), i.Path))))
+        {
+            if (RegularFiles.NotRegular(full) is { } kind)
+            {
+                return new Verdict(Freshness.Unreadable, $"the recorded file '{shown}' is {kind}, not a regular file; verify hashes regular files only");
+            }
+        }
+
+        Check(studyFull, manifest.StudyPath, manifest.StudySha256, changed, missing);
+        foreach (var input in files)
+        {
+            Check(Path.Combine(studyDir, input.Path), input.Path, input.Sha256, changed, missing);
         }
 
         if (manifest.TemplateSha256 != ReportTemplate.Sha256)
@@ -110,12 +117,151 @@ public static partial class ReportVerifier
             return new Verdict(Freshness.Stale, string.Join("; ", parts));
         }
 
-        return recompute ? Recompute(reportPath, html, manifest, studyFull, reportDir, allowOutside)
+        // The same tool and template built it: the page must be exactly what that writer emits.
+        if (Structure(html) is { } structural)
+        {
+            return new Verdict(Freshness.Altered, structural);
+        }
+
+        var bag = new DiagnosticBag();
+        var header = StudyHeaderReader.Read(studyFull, bag);
+        if (header is null)
+        {
+            return new Verdict(Freshness.Altered, "the study no longer compiles: " + First(bag.Sorted()));
+        }
+
+        if ((InputList(manifest, header) ?? VisibleNumbers(html, manifest, header)) is { } difference)
+        {
+            return new Verdict(Freshness.Altered, difference);
+        }
+
+        return recompute ? Recompute(reportPath, manifest, studyFull, reportDir, allowOutside)
             : new Verdict(Freshness.Fresh, servers.Count == 0 ? null : "the server data of " + string.Join(", ", servers.Select(n => "'" + n + "'")) + " was not read again; --recompute re-runs the queries");
+    }
+
+    /// <summary>
+    /// Null when the page has StudyPress's structure: complete (<see cref="ReportIntegrity"/>), the
+    /// writer's own head with its Content Security Policy, the one stylesheet and the three script
+    /// elements of the shell whose contents hash to what the policy allows, and no element that could
+    /// navigate, embed or load anything (meta beyond the shell's four, base, link, iframe, frame,
+    /// object, embed).
+    /// </summary>
+    internal static string? Structure(string html)
+    {
+        if (ReportIntegrity.Problem(html) is { } problem)
+        {
+            return "the page is not a whole studypress report: " + problem;
+        }
+
+        var head = "<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n<meta http-equiv=\"Content-Security-Policy\" content=\"" + ReportRenderer.ContentSecurityPolicy + "\">\n";
+        if (!html.StartsWith(head, StringComparison.Ordinal))
+        {
+            return "the page's head or its Content Security Policy is not the one studypress writes";
+        }
+
+        foreach (var (tag, allowed) in new[] { ("script", 3), ("style", 1), ("meta", 4), ("base", 0), ("link", 0), ("iframe", 0), ("frame", 0), ("object", 0), ("embed", 0) })
+        {
+            var count = TagOpen().Matches(html).Count(m => string.Equals(m.Groups["name"].Value, tag, StringComparison.OrdinalIgnoreCase));
+            if (count != allowed)
+            {
+                return $"the page has {count} <{tag}> element(s); a studypress report has {allowed}";
+            }
+        }
+
+        var style = Between(html, "<style>", "</style>");
+        if (style is null || ReportRenderer.Hash(style) != ReportRenderer.Hash(ReportRenderer.Style))
+        {
+            return "the page's stylesheet is not the one its Content Security Policy allows";
+        }
+
+        var scriptStart = html.LastIndexOf("\n<script>", StringComparison.Ordinal);
+        var script = scriptStart < 0 ? null : Between(html[(scriptStart + 1)..], "<script>", "</script>");
+        if (script is null || ReportRenderer.Hash(script) != ReportRenderer.Hash(ReportTemplate.Script))
+        {
+            return "the page script is not the one its Content Security Policy allows";
+        }
+
+        return null;
+    }
+
+    /// <summary>The manifest's inputs are the study's datasets, and the data table shows their row counts.</summary>
+    private static string? InputList(ReportManifest manifest, StudyHeaderFile header)
+    {
+        var declared = header.Header.Datasets.Select(d => d.Name).ToList();
+        var recorded = manifest.Inputs.Select(i => i.Name).ToList();
+        if (!declared.SequenceEqual(recorded, StringComparer.Ordinal))
+        {
+            return recorded.Count == 0
+                ? $"the report's manifest lists no input files, but its study reads {declared.Count}"
+                : "the report's manifest lists the inputs " + Names(recorded) + ", but its study reads " + Names(declared);
+        }
+
+        return null;
+    }
+
+    private static string Names(List<string> names) => names.Count == 0 ? "none" : string.Join(", ", names.Select(n => "'" + n + "'"));
+
+    /// <summary>Every visible number (data-v) is its manifest value as the report's format rounds it; every input row count is the manifest's.</summary>
+    private static string? VisibleNumbers(string html, ReportManifest manifest, StudyHeaderFile header)
+    {
+        var format = new NumberFormat(header.Header.Report.Digits, header.Header.Report.PDigits);
+        var values = new Dictionary<string, RecordedValue>(StringComparer.Ordinal);
+        foreach (var v in manifest.Values)
+        {
+            values.TryAdd(v.Id, v);
+        }
+
+        var page = html[..manifest.ElementOffset];
+        foreach (Match m in VisibleNumber().Matches(page))
+        {
+            var id = m.Groups["id"].Value;
+            var shown = WebUtility.HtmlDecode(m.Groups["text"].Value);
+            if (!values.TryGetValue(id, out var v))
+            {
+                return $"the report shows a number '{shown}' for {id}, which its manifest does not hold";
+            }
+
+            // Numbers in generated sentences carry their style (data-style); others use the report's digits.
+            var style = m.Groups["style"].Success ? m.Groups["style"].Value : null;
+            var expected = v.Value is not { } x ? "n/d" : style is null ? format.Format(v.Stat, x) : StudyPress.Evaluation.ReportStyle.Format(style, x) ?? "unknown style " + style;
+            if (shown != expected)
+            {
+                return $"{id} shows {shown}, its manifest value rounds to {expected}";
+            }
+        }
+
+        var inputs = manifest.Inputs.ToDictionary(i => i.Name, StringComparer.Ordinal);
+        foreach (Match m in VisibleInputNumber().Matches(page))
+        {
+            var name = WebUtility.HtmlDecode(m.Groups["name"].Value);
+            var field = m.Groups["field"].Value;
+            var shown = m.Groups["text"].Value;
+            var expected = !inputs.TryGetValue(name, out var input) ? null : field == "rows" ? input.Rows : field == "rowsUsed" ? input.RowsUsed : null;
+            if (expected?.ToString(System.Globalization.CultureInfo.InvariantCulture) != shown)
+            {
+                return $"the data table shows {shown} for {field} of '{name}', its manifest records {(expected is null ? "none" : expected.Value.ToString(System.Globalization.CultureInfo.InvariantCulture))}";
+            }
+        }
+
+        return null;
+    }
+
+    private static string? Between(string text, string open, string close)
+    {
+        var a = text.IndexOf(open, StringComparison.Ordinal);
+        if (a < 0)
+        {
+            return null;
+        }
+
+        var b = text.IndexOf(close, a + open.Length, StringComparison.Ordinal);
+        return b < 0 ? null : text[(a + open.Length)..b];
     }
 
     private static void Check(string full, string shown, string recorded, List<string> changed, List<string> missing)
     {
+        // The file a build would read (links and '..' resolved as the kernel does); its type was checked above.
+        full = Data.PathGuard.RealPath(full);
         try
         {
             using var stream = File.OpenRead(full);
@@ -134,42 +280,9 @@ public static partial class ReportVerifier
         }
     }
 
-    private static Verdict Recompute(string reportPath, string html, ReportManifest manifest, string studyFull, string reportDir, bool allowOutside)
+    private static Verdict Recompute(string reportPath, ReportManifest manifest, string studyFull, string reportDir, bool allowOutside)
     {
-        // 1. The visible numbers against the report's own manifest.
-        var bag = new DiagnosticBag();
-        var header = StudyHeaderReader.Read(studyFull, bag);
-        if (header is null)
-        {
-            return new Verdict(Freshness.Altered, "the study no longer compiles: " + First(bag.Sorted()));
-        }
-
-        var format = new NumberFormat(header.Header.Report.Digits, header.Header.Report.PDigits);
-        var values = new Dictionary<string, RecordedValue>(StringComparer.Ordinal);
-        foreach (var v in manifest.Values)
-        {
-            values.TryAdd(v.Id, v);
-        }
-
-        foreach (Match m in VisibleNumber().Matches(html[..manifest.ElementOffset]))
-        {
-            var id = m.Groups["id"].Value;
-            var shown = WebUtility.HtmlDecode(m.Groups["text"].Value);
-            if (!values.TryGetValue(id, out var v))
-            {
-                return new Verdict(Freshness.Altered, $"the report shows a number '{shown}' for {id}, which its manifest does not hold");
-            }
-
-            // Numbers in generated sentences carry their style (data-style); others use the report's digits.
-            var style = m.Groups["style"].Success ? m.Groups["style"].Value : null;
-            var expected = v.Value is not { } x ? "n/d" : style is null ? format.Format(v.Stat, x) : StudyPress.Evaluation.ReportStyle.Format(style, x) ?? "unknown style " + style;
-            if (shown != expected)
-            {
-                return new Verdict(Freshness.Altered, $"{id} shows {shown}, its manifest value rounds to {expected}");
-            }
-        }
-
-        // 2. Recompile in memory, as if writing into the report's folder.
+        // 1. Recompile in memory, as if writing into the report's folder.
         var rebuilt = Compilation.Compile(studyFull, new CompileOptions
         {
             OutputDirectory = reportDir,
@@ -188,7 +301,7 @@ public static partial class ReportVerifier
             return new Verdict(Freshness.Altered, first is null ? "recompiling gives a different manifest" : "recompiling gives other values: " + first);
         }
 
-        // 3. The whole report, byte for byte.
+        // 2. The whole report, byte for byte.
         var bytes = File.ReadAllBytes(reportPath);
         if (!bytes.AsSpan().SequenceEqual(Encoding.UTF8.GetBytes(rebuilt.Html!)))
         {
@@ -240,6 +353,12 @@ public static partial class ReportVerifier
     }
 
     private static string Show(double? v) => v is { } x ? x.ToString("R", System.Globalization.CultureInfo.InvariantCulture) : "undefined";
+
+    [GeneratedRegex("<(?<name>[A-Za-z][A-Za-z0-9-]*)(?=[\\s/>])", RegexOptions.CultureInvariant)]
+    private static partial Regex TagOpen();
+
+    [GeneratedRegex("<span class=\"v\" data-input=\"(?<name>[^\"]*)\" data-field=\"(?<field>[A-Za-z]+)\" tabindex=\"0\">(?<text>[^<]*)<", RegexOptions.CultureInvariant)]
+    private static partial Regex VisibleInputNumber();
 
     [GeneratedRegex("<[A-Za-z][A-Za-z0-9]*\\b[^>]*\\sdata-v=\"(?<id>[^\"]*)\"(?:[^>]*\\sdata-style=\"(?<style>[^\"]*)\")?[^>]*>(?<text>[^<]*)<", RegexOptions.CultureInvariant)]
     private static partial Regex VisibleNumber();

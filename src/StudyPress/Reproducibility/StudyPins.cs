@@ -129,22 +129,15 @@ public static class StudyPins
 
     private static string? Hash(string studyDir, DatasetSpec spec, bool allowOutside, DiagnosticBag diagnostics)
     {
-        if (!allowOutside)
+        // The same real, regular file the build reads (never a pipe or device, which would block or never end).
+        if (PathGuard.Locate(studyDir, spec, allowOutside, diagnostics) is not { } real)
         {
-            switch (PathGuard.Check(studyDir, spec.Path, out _))
-            {
-                case PathGuard.Verdict.Absolute:
-                    diagnostics.PathAbsolute(spec.PathLocation, spec.Path);
-                    return null;
-                case PathGuard.Verdict.Escapes:
-                    diagnostics.PathEscapes(spec.PathLocation, spec.Path);
-                    return null;
-            }
+            return null;
         }
 
         try
         {
-            using var stream = File.OpenRead(Path.Combine(studyDir, spec.Path));
+            using var stream = File.OpenRead(real);
             return Convert.ToHexStringLower(SHA256.HashData(stream));
         }
         catch (Exception e) when (e is FileNotFoundException or DirectoryNotFoundException)

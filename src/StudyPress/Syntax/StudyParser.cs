@@ -24,6 +24,9 @@ public static class StudyParser
             .UseYamlFrontMatter()
             .UsePipeTables()
             .UsePreciseSourceLocation();
+        // Twice the study's own limit (checked on the parsed tree, StudyParser.TooDeepAt), so the
+        // parser and the renderer never reach theirs on a study that passed.
+        builder.MaximumNestingDepth = 2 * Data.DataLimits.MaxMarkdownDepth;
         if (!rawHtml)
         {
             builder.DisableHtml();
@@ -64,7 +67,22 @@ public static class StudyParser
             header = new YMapping([], headerLocation);
         }
 
-        var document = Markdown.Parse(text, Pipeline(path, RawHtmlRequested(header)));
+        // Nesting is limited before parsing where a line shows it (its leading quote and list
+        // markers, its indentation), so the parser never works through thousands of levels; the
+        // parsed tree is checked after (inline nesting, unmatched delimiters); the parser's own limit
+        // (twice as deep) is the last guard.
+        var pipeline = Pipeline(path, RawHtmlRequested(header));
+        var deepLine = FirstOverNestedLine(lines, Data.DataLimits.MaxMarkdownDepth);
+        var checkedLines = deepLine < 0 ? lines : lines[..deepLine];
+        var document = Parse(deepLine < 0 ? text : string.Join('\n', checkedLines), pipeline);
+        var treeDeep = document is null ? -1 : TooDeepAt(document, Data.DataLimits.MaxMarkdownDepth);
+        if (document is null || deepLine >= 0 || treeDeep >= 0)
+        {
+            var at = document is null ? FirstTooDeepLine(checkedLines, pipeline) : treeDeep >= 0 ? treeDeep : deepLine;
+            diagnostics.MarkdownTooDeep(new SourceLocation(path, at, 0), Data.DataLimits.MaxMarkdownDepth);
+            return null;
+        }
+
         var blocks = new List<AnalysisBlockSyntax>();
         var failedIds = new HashSet<string>(StringComparer.Ordinal);
         ReplaceAnalysisBlocks(document, path, lines, kinds, blocks, failedIds, diagnostics);
@@ -81,6 +99,162 @@ public static class StudyParser
             HeaderEnd = new SourceLocation(path, end, 0),
             FailedIds = failedIds,
         };
+    }
+
+    /// <summary>
+    /// The first line whose start opens more than <paramref name="max"/> containers (block quote
+    /// markers '>' and list markers '-', '*', '+', '1.', '1)') or is indented more than 4 columns per
+    /// level allowed; -1 when none. A line of markers alone may be a thematic break and is not counted.
+    /// </summary>
+    internal static int FirstOverNestedLine(string[] lines, int max)
+    {
+        for (var n = 0; n < lines.Length; n++)
+        {
+            var line = lines[n];
+            var levels = 0;
+            var columns = 0;
+            var i = 0;
+            while (i < line.Length)
+            {
+                var ch = line[i];
+                if (ch == ' ')
+                {
+                    columns++;
+                    i++;
+                }
+                else if (ch == '\t')
+                {
+                    columns += 4 - (columns % 4);
+                    i++;
+                }
+                else if (ch == '>')
+                {
+                    levels++;
+                    columns++;
+                    i++;
+                }
+                else if (ch is '-' or '*' or '+' && (i + 1 == line.Length || line[i + 1] is ' ' or '\t'))
+                {
+                    levels++;
+                    columns++;
+                    i++;
+                }
+                else if (char.IsAsciiDigit(ch))
+                {
+                    var j = i;
+                    while (j < line.Length && j - i < 9 && char.IsAsciiDigit(line[j]))
+                    {
+                        j++;
+                    }
+
+                    if (j < line.Length && line[j] is '.' or ')' && (j + 1 == line.Length || line[j + 1] is ' ' or '\t'))
+                    {
+                        levels++;
+                        columns += j + 1 - i;
+                        i = j + 1;
+                    }
+                    else
+                    {
+                        break;
+                    }
+                }
+                else
+                {
+                    break;
+                }
+            }
+
+            if (i == line.Length && line.AsSpan().IndexOfAnyExcept(" \t-*+") < 0)
+            {
+                continue; // markers only: a thematic break or an empty item, not nesting worth refusing
+            }
+
+            if (levels > max || columns > 4 * max)
+            {
+                return n;
+            }
+        }
+
+        return -1;
+    }
+
+    /// <summary>
+    /// The 0-based line of the first element nested more than <paramref name="max"/> deep in the
+    /// parsed tree (blocks and inlines, unmatched delimiters too); -1 when none. Walked with an
+    /// explicit stack, not recursion.
+    /// </summary>
+    private static int TooDeepAt(MarkdownDocument document, int max)
+    {
+        var stack = new Stack<(Markdig.Syntax.MarkdownObject Node, int Depth)>();
+        stack.Push((document, 0));
+        while (stack.Count > 0)
+        {
+            var (node, depth) = stack.Pop();
+            if (depth > max)
+            {
+                return Math.Max(0, node.Line);
+            }
+
+            switch (node)
+            {
+                case ContainerBlock container:
+                    foreach (var child in container)
+                    {
+                        stack.Push((child, depth + 1));
+                    }
+
+                    break;
+                case LeafBlock { Inline: { } inline }:
+                    stack.Push((inline, depth + 1));
+                    break;
+                case Markdig.Syntax.Inlines.ContainerInline inlines:
+                    for (var child = inlines.FirstChild; child is not null; child = child.NextSibling)
+                    {
+                        stack.Push((child, depth + 1));
+                    }
+
+                    break;
+            }
+        }
+
+        return -1;
+    }
+
+    /// <summary>The parsed document, or null when its nesting passes the pipeline's limit (Markdig then throws).</summary>
+    private static MarkdownDocument? Parse(string text, MarkdownPipeline pipeline)
+    {
+        try
+        {
+            return Markdown.Parse(text, pipeline);
+        }
+        catch (ArgumentException e) when (e.Message.Contains("nested", StringComparison.OrdinalIgnoreCase))
+        {
+            return null;
+        }
+    }
+
+    /// <summary>
+    /// The 0-based line at which the text first nests too deeply: the shortest run of leading
+    /// lines that fails to parse ends there (binary search; a few parses, only on this error path).
+    /// </summary>
+    private static int FirstTooDeepLine(string[] lines, MarkdownPipeline pipeline)
+    {
+        var ok = 0;
+        var fails = lines.Length;
+        while (fails - ok > 1)
+        {
+            var mid = ok + ((fails - ok) / 2);
+            if (Parse(string.Join('\n', lines, 0, mid), pipeline) is not { } d || TooDeepAt(d, Data.DataLimits.MaxMarkdownDepth) >= 0)
+            {
+                fails = mid;
+            }
+            else
+            {
+                ok = mid;
+            }
+        }
+
+        return fails - 1;
     }
 
     private static void ReplaceAnalysisBlocks(ContainerBlock container, string path, string[] lines, IReadOnlySet<string> kinds, List<AnalysisBlockSyntax> found, HashSet<string> failedIds, DiagnosticBag diagnostics)

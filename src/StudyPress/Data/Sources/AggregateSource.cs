@@ -69,6 +69,7 @@ public static partial class AggregateSource
         var queryAt = spec.QueryLocation ?? spec.PathLocation;
         var userQuery = spec.Query ?? "select * from " + DatabaseSource.ParquetTable;
         var duck = spec.Format != DataFormat.Sqlite;
+        var clocks = new List<QueryClock>(); // one time limit per query
         try
         {
             using var connection = DatabaseSource.Open(spec, fullPath, diagnostics);
@@ -85,6 +86,7 @@ public static partial class AggregateSource
             using (var probe = connection.CreateCommand())
             {
                 probe.CommandText = "SELECT * FROM " + src + " LIMIT 0";
+                clocks.Add(QueryClock.Start(probe, spec.TimeoutSeconds));
                 using var reader = probe.ExecuteReader();
                 names = [.. Enumerable.Range(0, reader.FieldCount).Select(reader.GetName)];
                 types = [.. Enumerable.Range(0, reader.FieldCount).Select(i => TypeName(reader, i))];
@@ -122,7 +124,7 @@ public static partial class AggregateSource
                 if (duck && clr[i] == typeof(decimal))
                 {
                     // The driver names the type only "Decimal"; ask the database for width and scale.
-                    types[i] = Scalars(connection, $"SELECT typeof({Q(col)}) FROM {src} LIMIT 1")[0] as string ?? types[i];
+                    types[i] = Scalars(connection, clocks, spec.TimeoutSeconds, $"SELECT typeof({Q(col)}) FROM {src} LIMIT 1")[0] as string ?? types[i];
                 }
 
                 if (duck && ExactScale(clr[i], types[i]) is { } s)
@@ -140,7 +142,7 @@ public static partial class AggregateSource
             {
                 // SQLite would silently read non-numeric text as 0: refuse text storage instead.
                 var check = string.Join(", ", numeric.Select(c => $"sum(CASE WHEN typeof({Q(c)}) IN ('integer', 'real', 'null') THEN 0 ELSE 1 END)"));
-                var bad = Scalars(connection, $"SELECT {check} FROM {src}");
+                var bad = Scalars(connection, clocks, spec.TimeoutSeconds, $"SELECT {check} FROM {src}");
                 for (var j = 0; j < numeric.Count; j++)
                 {
                     if (bad[j] is not null and not DBNull && Convert.ToInt64(bad[j], CultureInfo.InvariantCulture) > 0)
@@ -156,7 +158,7 @@ public static partial class AggregateSource
             var intCentre = new Dictionary<string, BigInteger>(StringComparer.Ordinal);
             if (numeric.Count > 0)
             {
-                var avgs = Scalars(connection, "SELECT " + string.Join(", ", numeric.Select(c => $"avg({Q(c)})")) + " FROM " + src);
+                var avgs = Scalars(connection, clocks, spec.TimeoutSeconds, "SELECT " + string.Join(", ", numeric.Select(c => $"avg({Q(c)})")) + " FROM " + src);
                 for (var j = 0; j < numeric.Count; j++)
                 {
                     var a = avgs[j] is null or DBNull ? 0.0 : Convert.ToDouble(avgs[j], CultureInfo.InvariantCulture);
@@ -181,6 +183,7 @@ public static partial class AggregateSource
             using (var command = connection.CreateCommand())
             {
                 command.CommandText = sql;
+                clocks.Add(QueryClock.Start(command, spec.TimeoutSeconds));
                 using var reader = command.ExecuteReader();
                 var rnames = Enumerable.Range(0, reader.FieldCount).Select(reader.GetName).ToList();
                 var rtypes = Enumerable.Range(0, reader.FieldCount).Select(i => TypeName(reader, i)).ToList();
@@ -188,10 +191,17 @@ public static partial class AggregateSource
                 var k = factors.Count;
                 while (reader.Read())
                 {
+                    // One row per cell of the factors' crossing: the query row limit bounds them too.
+                    if (cells.Count == DataLimits.MaxQueryRows)
+                    {
+                        diagnostics.QueryTooManyRows(queryAt, spec.Name, DataLimits.MaxQueryRows);
+                        return null;
+                    }
+
                     var values = new object?[reader.FieldCount];
                     for (var i = 0; i < values.Length; i++)
                     {
-                        values[i] = reader.IsDBNull(i) ? null : reader.GetValue(i);
+                        values[i] = DatabaseSource.Value(reader, i);
                     }
 
                     hash.Row(values);
@@ -227,10 +237,22 @@ public static partial class AggregateSource
 
             return Build(spec, sha256, names, factors, numeric, scale, centres, cells, sourceRows, sql, resultSha, diagnostics, (fullPath, userQuery, duck));
         }
+        catch (Exception e) when (clocks.Exists(c => c.Expired) && e is DbException or InvalidOperationException or OperationCanceledException)
+        {
+            diagnostics.QueryTimedOut(queryAt, spec.Name, spec.TimeoutSeconds);
+            return null;
+        }
         catch (Exception e) when (e is DbException or InvalidOperationException or OverflowException or NotSupportedException or InvalidCastException or FormatException)
         {
             diagnostics.QueryFailed(queryAt, spec.Name, DatabaseSource.Message(e));
             return null;
+        }
+        finally
+        {
+            foreach (var clock in clocks)
+            {
+                clock.Dispose();
+            }
         }
     }
 
@@ -251,11 +273,40 @@ public static partial class AggregateSource
     {
         var missing = new HashSet<string>(spec.Missing, StringComparer.Ordinal);
         var errors = diagnostics.Items.Count;
-        var text = raw.Select(c => c.Keys.Select(v => TableColumns.Text(v)?.Trim() is { } t && !missing.Contains(t) ? t : null).ToArray()).ToList();
+        // Levels compared in NFC, without invisible characters, at most DataLimits.MaxLevelsPerFactor (LevelText).
+        var at = spec.QueryLocation ?? spec.PathLocation;
+        foreach (var cell in raw)
+        {
+            for (var f = 0; f < factors.Count; f++)
+            {
+                _ = LevelText.CheckUtf8(cell.Keys[f], factors[f].Column, at, "a group of the database's result", diagnostics);
+            }
+        }
+
+        if (diagnostics.Items.Count > errors)
+        {
+            return null;
+        }
+
+        var text = raw.Select(c => c.Keys.Select(v => TableColumns.Text(v)?.Trim() is { } t && !missing.Contains(t) ? LevelText.Normal(t) : null).ToArray()).ToList();
         var levels = new List<IReadOnlyList<string>>();
         for (var f = 0; f < factors.Count; f++)
         {
             var seen = text.Select(t => t[f]).Where(t => t is not null).Select(t => t!).Distinct(StringComparer.Ordinal).ToList();
+            if (seen.Count > DataLimits.MaxLevelsPerFactor)
+            {
+                diagnostics.TooManyLevels(at, factors[f].Name, factors[f].Column, DataLimits.MaxLevelsPerFactor);
+                return null;
+            }
+
+            foreach (var t in seen)
+            {
+                if (!LevelText.Check(t, at, factors[f].Name, diagnostics))
+                {
+                    break;
+                }
+            }
+
             if (factors[f].Levels is { } declared)
             {
                 var present = seen.Select(t => LevelRules.IndexOf(declared, t)).Where(k => k >= 0).ToHashSet();
@@ -514,10 +565,11 @@ public static partial class AggregateSource
 
     private static bool IsNumeric(Type clr) => clr == typeof(double) || clr == typeof(float) || clr == typeof(decimal);
 
-    private static object?[] Scalars(DbConnection c, string sql)
+    private static object?[] Scalars(DbConnection c, List<QueryClock> clocks, int seconds, string sql)
     {
         using var command = c.CreateCommand();
         command.CommandText = sql;
+        clocks.Add(QueryClock.Start(command, seconds));
         using var reader = command.ExecuteReader();
         if (!reader.Read())
         {

@@ -14,6 +14,13 @@ namespace StudyPress.Data.Sources;
 /// </summary>
 public static class DatabaseSource
 {
+    /// <summary>DuckDB's memory limit for a query (a runaway query fails inside the engine instead of exhausting memory).</summary>
+    internal const string DuckDbMemoryLimit = "1GB";
+
+    /// <summary>Test hook (this thread): a smaller row limit, so a test of the limit stays short.</summary>
+    [ThreadStatic]
+    internal static long? MaxRowsForTests;
+
     /// <summary>In a Parquet dataset's query, the file is this table.</summary>
     public const string ParquetTable = "source";
 
@@ -29,6 +36,7 @@ public static class DatabaseSource
         List<string> names;
         var rows = new List<object?[]>();
         string resultSha;
+        QueryClock? clock = null;
         try
         {
             using var connection = Open(spec, fullPath, diagnostics);
@@ -39,6 +47,7 @@ public static class DatabaseSource
 
             using var command = connection.CreateCommand();
             command.CommandText = query;
+            clock = QueryClock.Start(command, spec.TimeoutSeconds);
             using var reader = command.ExecuteReader();
             names = [.. Enumerable.Range(0, reader.FieldCount).Select(reader.GetName)];
             var types = Enumerable.Range(0, reader.FieldCount).Select(i => SafeTypeName(reader, i)).ToList();
@@ -50,12 +59,19 @@ public static class DatabaseSource
             }
 
             using var hash = new ResultHash(names, types);
+            var maxRows = MaxRowsForTests ?? Math.Min(DataLimits.MaxQueryRows, DataLimits.MaxQueryCells / Math.Max(1, reader.FieldCount));
             while (reader.Read())
             {
+                if (rows.Count == maxRows)
+                {
+                    diagnostics.QueryTooManyRows(queryAt, spec.Name, maxRows);
+                    return null;
+                }
+
                 var values = new object?[reader.FieldCount];
                 for (var i = 0; i < values.Length; i++)
                 {
-                    values[i] = reader.IsDBNull(i) ? null : reader.GetValue(i);
+                    values[i] = Value(reader, i);
                 }
 
                 hash.Row(values);
@@ -63,6 +79,11 @@ public static class DatabaseSource
             }
 
             resultSha = hash.Finish();
+        }
+        catch (Exception e) when (clock is { Expired: true } && e is DbException or InvalidOperationException or OperationCanceledException)
+        {
+            diagnostics.QueryTimedOut(queryAt, spec.Name, spec.TimeoutSeconds);
+            return null;
         }
         catch (SqliteException e) when (e.SqliteErrorCode is 26 or 11)
         {
@@ -73,6 +94,10 @@ public static class DatabaseSource
         {
             diagnostics.QueryFailed(queryAt, spec.Name, Message(e));
             return null;
+        }
+        finally
+        {
+            clock?.Dispose();
         }
 
         var table = new SourceTable
@@ -100,9 +125,47 @@ public static class DatabaseSource
         return spec.Query is null ? ds : Copy(ds, spec.Query, resultSha);
     }
 
-    /// <summary>Opens the connection, read-only and confined to the one file; null after reporting.</summary>
+    /// <summary>
+    /// One cell of a result. SQLite text is taken from its bytes: TEXT may hold bytes that are not
+    /// UTF-8, which the provider would decode with replacement characters (so that different texts
+    /// read as one); they are kept as <see cref="InvalidText"/>, to be reported.
+    /// </summary>
+    internal static object? Value(DbDataReader reader, int i)
+    {
+        if (reader.IsDBNull(i))
+        {
+            return null;
+        }
+
+        var v = reader.GetValue(i);
+        return v is string && reader is SqliteDataReader ? InvalidText.Decode(reader.GetFieldValue<byte[]>(i)) : v;
+    }
+
+    /// <summary>
+    /// Opens the connection, read-only and confined to the one file; null after reporting.
+    /// <paramref name="fullPath"/> is the real path (<see cref="PathGuard.Locate"/>) that was hashed;
+    /// it reaches each provider as a value of its connection-string builder or as an SQL string
+    /// literal, never pasted into connection-string text.
+    /// </summary>
     internal static DbConnection? Open(DatasetSpec spec, string fullPath, DiagnosticBag diagnostics)
     {
+        if (spec.Format == DataFormat.Parquet && fullPath.IndexOfAny(PatternCharacters) is var p && p >= 0)
+        {
+            diagnostics.PathPatternCharacter(spec.PathLocation, spec.Path, fullPath[p]);
+            return null;
+        }
+
+        // A write-ahead log beside the database would be read with it, but only the database file is hashed.
+        foreach (var side in spec.Format switch { DataFormat.Sqlite => new[] { "-wal" }, DataFormat.DuckDb => [".wal"], _ => [] })
+        {
+            var kind = FileKinds.Lstat(fullPath + side);
+            if (kind != FileKind.Missing && !(kind == FileKind.Regular && new FileInfo(fullPath + side).Length == 0))
+            {
+                diagnostics.DatabaseSideFile(spec.PathLocation, spec.Path, Path.GetFileName(fullPath) + side);
+                return null;
+            }
+        }
+
         try
         {
             switch (spec.Format)
@@ -118,9 +181,9 @@ public static class DatabaseSource
 
                 case DataFormat.DuckDb:
                     {
-                        var c = new DuckDBConnection("Data Source=" + fullPath + ";ACCESS_MODE=READ_ONLY");
+                        var c = new DuckDBConnection(DuckDbConnectionString(fullPath));
                         c.Open();
-                        Execute(c, "SET enable_external_access = false; SET lock_configuration = true;");
+                        Execute(c, $"SET enable_external_access = false; SET memory_limit = '{DuckDbMemoryLimit}'; SET lock_configuration = true;");
                         return c;
                     }
 
@@ -129,7 +192,7 @@ public static class DatabaseSource
                         var c = new DuckDBConnection("Data Source=:memory:");
                         c.Open();
                         var literal = "'" + fullPath.Replace("'", "''", StringComparison.Ordinal) + "'";
-                        Execute(c, $"CREATE VIEW {ParquetTable} AS SELECT * FROM read_parquet({literal}); SET allowed_paths = [{literal}]; SET enable_external_access = false; SET lock_configuration = true;");
+                        Execute(c, $"CREATE VIEW {ParquetTable} AS SELECT * FROM read_parquet({literal}); SET allowed_paths = [{literal}]; SET enable_external_access = false; SET memory_limit = '{DuckDbMemoryLimit}'; SET lock_configuration = true;");
                         return c;
                     }
             }
@@ -147,6 +210,17 @@ public static class DatabaseSource
 
             return null;
         }
+    }
+
+    /// <summary>Characters DuckDB's file readers take as a pattern (glob) in a path.</summary>
+    internal static readonly char[] PatternCharacters = ['*', '?', '['];
+
+    /// <summary>A read-only DuckDB connection string for one database file, built by the provider's builder (values quoted as needed).</summary>
+    internal static string DuckDbConnectionString(string fullPath)
+    {
+        var builder = new DuckDBConnectionStringBuilder { DataSource = fullPath };
+        builder["ACCESS_MODE"] = "READ_ONLY";
+        return builder.ConnectionString;
     }
 
     internal static void Execute(DbConnection c, string sql)

@@ -14,8 +14,8 @@ namespace StudyPress.Data.Sources;
 /// and never reach the report, the manifest or a message.
 /// <para>
 /// Every session is read-only (<c>default_transaction_read_only</c> and an explicit
-/// <c>SET TRANSACTION READ ONLY</c>) with a server-side <c>statement_timeout</c> of
-/// <see cref="TimeLimitSeconds"/>; the query must be one statement; a loaded (not aggregated)
+/// <c>BEGIN TRANSACTION READ ONLY</c>) with a server-side <c>statement_timeout</c> of the dataset's
+/// <c>timeout</c> (default 60 s, as for the other databases); the query must be one statement; a loaded (not aggregated)
 /// result may have at most <see cref="MaxLoadedRows"/> rows. With <c>aggregate: true</c> the server
 /// computes the per-cell summaries (<see cref="PostgresAggregate"/>).
 /// </para>
@@ -27,9 +27,6 @@ namespace StudyPress.Data.Sources;
 /// </summary>
 public static class PostgresSource
 {
-    /// <summary>The server cancels a statement that runs longer (seconds).</summary>
-    public const int TimeLimitSeconds = 60;
-
     /// <summary>
     /// The most rows loaded from a server without <c>aggregate: true</c>: about 330 MB of memory
     /// (2 000 000 rows of three columns measured at 617 MB peak for the whole build).
@@ -39,13 +36,8 @@ public static class PostgresSource
     /// <summary>For tests: the environment the credentials are read from (null: the process environment).</summary>
     internal static readonly AsyncLocal<Func<string, string?>?> EnvironmentOverride = new();
 
-    /// <summary>For tests: a shorter statement time limit in seconds (null: <see cref="TimeLimitSeconds"/>).</summary>
-    internal static readonly AsyncLocal<int?> TimeLimitOverride = new();
-
     /// <summary>For tests: a smaller row limit (null: <see cref="MaxLoadedRows"/>).</summary>
     internal static readonly AsyncLocal<long?> RowLimitOverride = new();
-
-    internal static int TimeLimit => TimeLimitOverride.Value ?? TimeLimitSeconds;
 
     internal static long RowLimit => RowLimitOverride.Value ?? MaxLoadedRows;
 
@@ -146,7 +138,7 @@ public static class PostgresSource
     internal static NpgsqlConnection? Open(DatasetSpec spec, DiagnosticBag diagnostics)
     {
         var target = spec.Server!;
-        var builder = ConnectionString(target);
+        var builder = ConnectionString(target, spec.TimeoutSeconds);
         var connection = new NpgsqlConnection(builder.ConnectionString);
         try
         {
@@ -192,7 +184,7 @@ public static class PostgresSource
         }
     }
 
-    internal static NpgsqlConnectionStringBuilder ConnectionString(PostgresTarget target)
+    internal static NpgsqlConnectionStringBuilder ConnectionString(PostgresTarget target, int seconds)
     {
         var builder = new NpgsqlConnectionStringBuilder
         {
@@ -210,9 +202,9 @@ public static class PostgresSource
             },
             Pooling = false,
             Timeout = 15,
-            CommandTimeout = TimeLimit + 15,
+            CommandTimeout = seconds + 15,
             ApplicationName = "studypress",
-            Options = string.Create(CultureInfo.InvariantCulture, $"-c default_transaction_read_only=on -c statement_timeout={TimeLimit * 1000}"),
+            Options = string.Create(CultureInfo.InvariantCulture, $"-c default_transaction_read_only=on -c statement_timeout={seconds * 1000}"),
         };
         if (Env("PGUSER") is { Length: > 0 } user)
         {
@@ -232,8 +224,8 @@ public static class PostgresSource
         return builder;
     }
 
-    internal static NpgsqlCommand Command(NpgsqlConnection connection, string sql) =>
-        new(sql, connection) { CommandTimeout = TimeLimit + 15 };
+    /// <summary>A command with the connection's client-side timeout (the server's statement_timeout acts first).</summary>
+    internal static NpgsqlCommand Command(NpgsqlConnection connection, string sql) => new(sql, connection);
 
     internal static bool IsQueryError(Exception e) =>
         e is NpgsqlException or InvalidOperationException or OverflowException or NotSupportedException or InvalidCastException or FormatException or TimeoutException;
@@ -242,12 +234,12 @@ public static class PostgresSource
     internal static void ReportQueryError(DatasetSpec spec, Exception e, string sql, string userQuery, DiagnosticBag diagnostics)
     {
         var queryAt = spec.QueryLocation ?? spec.PathLocation;
-        var secrets = Secrets(ConnectionString(spec.Server!));
+        var secrets = Secrets(ConnectionString(spec.Server!, spec.TimeoutSeconds));
         switch (e)
         {
             case PostgresException { SqlState: "57014" }:
             case NpgsqlException { InnerException: TimeoutException }:
-                diagnostics.ServerTimeLimit(queryAt, spec.Name, TimeLimit);
+                diagnostics.ServerTimeLimit(queryAt, spec.Name, spec.TimeoutSeconds);
                 return;
             case PostgresException { SqlState: "25006" } p:
                 diagnostics.ServerReadOnly(queryAt, spec.Name, Scrub(p.MessageText, secrets));

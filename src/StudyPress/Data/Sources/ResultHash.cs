@@ -14,7 +14,7 @@ namespace StudyPress.Data.Sources;
 /// <item>one line for the columns: for each, <c>c</c>+name then <c>y</c>+type name as the database reports it;</item>
 /// <item>one line per row in result order, one item per cell: <c>n</c> (null, empty text), <c>i</c> integer,
 /// <c>d</c> decimal (invariant text, scale kept), <c>r</c> binary double (shortest round-trip text),
-/// <c>s</c> text, <c>t</c> date/time (ISO 8601), <c>b</c> boolean (true/false), <c>x</c> bytes (lower-case hex),
+/// <c>s</c> text, <c>t</c> date/time (ISO 8601), <c>b</c> boolean (true/false), <c>x</c> bytes, and text that is not valid UTF-8 (lower-case hex),
 /// <c>o</c> anything else (invariant text).</item>
 /// </list>
 /// </summary>
@@ -66,6 +66,7 @@ public sealed class ResultHash : IDisposable
         TimeSpan span => ('t', span.ToString("c", CultureInfo.InvariantCulture)),
         bool b => ('b', b ? "true" : "false"),
         byte[] bytes => ('x', Convert.ToHexStringLower(bytes)),
+        InvalidText bad => ('x', Convert.ToHexStringLower(bad.Bytes)),
         IFormattable x => ('o', x.ToString(null, CultureInfo.InvariantCulture)),
         _ => ('o', v.ToString() ?? string.Empty),
     };

@@ -15,6 +15,13 @@ public static class SourceLoader
         {
             if (spec.Format == DataFormat.Xlsx)
             {
+                // A spreadsheet is read whole, as a CSV file is: the same size limit.
+                if (new FileInfo(fullPath) is { Exists: true, Length: > DataLimits.MaxDataFileBytes } big)
+                {
+                    diagnostics.FileTooLarge(spec.PathLocation, "data file", spec.Path, big.Length, DataLimits.MaxDataFileBytes);
+                    return null;
+                }
+
                 bytes = File.ReadAllBytes(fullPath);
                 sha = Convert.ToHexStringLower(SHA256.HashData(bytes));
             }

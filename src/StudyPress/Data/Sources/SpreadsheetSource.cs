@@ -16,11 +16,20 @@ namespace StudyPress.Data.Sources;
 /// </summary>
 public static class SpreadsheetSource
 {
+    /// <summary>Test hook (this thread): a smaller cell limit, so a test of the limit stays short.</summary>
+    [ThreadStatic]
+    internal static long? MaxCellsForTests;
+
     public static LoadedDataset? Load(DatasetSpec spec, byte[] bytes, string sha256, string displayPath, DatasetNeeds needs, DiagnosticBag diagnostics)
     {
         var fileAt = new SourceLocation(displayPath, 0, 0);
         try
         {
+            if (!ExpansionWithinLimits(bytes, spec, diagnostics))
+            {
+                return null;
+            }
+
             using var stream = new MemoryStream(bytes, writable: false);
             using var doc = SpreadsheetDocument.Open(stream, false);
             var book = doc.WorkbookPart ?? throw new InvalidDataException("the file has no workbook");
@@ -47,6 +56,8 @@ public static class SpreadsheetSource
 
             // Cells by (row, column), within the range.
             var cells = new SortedDictionary<int, SortedDictionary<int, object?>>();
+            long cellCount = 0;
+            var maxCells = MaxCellsForTests ?? DataLimits.MaxSpreadsheetCells;
             var nextRow = 0;
             foreach (var row in part.Worksheet.Descendants<Row>())
             {
@@ -67,6 +78,12 @@ public static class SpreadsheetSource
                     if (value is null)
                     {
                         continue;
+                    }
+
+                    if (++cellCount > maxCells)
+                    {
+                        diagnostics.SpreadsheetTooManyCells(new SourceLocation(displayPath, rowNumber - 1, col - 1), spec.Path, sheet.Name?.Value ?? "Sheet1", maxCells);
+                        return null;
                     }
 
                     if (!cells.TryGetValue(rowNumber, out var r))
@@ -167,11 +184,53 @@ public static class SpreadsheetSource
                 (at, col, near) => diagnostics.UnknownColumn(at, col, where, near),
                 fileAt);
         }
-        catch (Exception e) when (e is OpenXmlPackageException or InvalidDataException or FileFormatException or IOException or InvalidOperationException or ArgumentException or KeyNotFoundException)
+        catch (Exception e) when (e is OpenXmlPackageException or System.Xml.XmlException or InvalidDataException or FileFormatException or IOException or InvalidOperationException or ArgumentException or KeyNotFoundException)
         {
             diagnostics.NotASpreadsheet(spec.PathLocation, spec.Path, e.Message.Split('\n')[0].TrimEnd('.'));
             return null;
         }
+    }
+
+    /// <summary>
+    /// Checks what the workbook expands to before the reader inflates it: each zip entry's declared
+    /// size, then the bytes actually inflated (counted, not trusted), per part and in all.
+    /// </summary>
+    private static bool ExpansionWithinLimits(byte[] bytes, DatasetSpec spec, DiagnosticBag diagnostics)
+    {
+        using var zip = new System.IO.Compression.ZipArchive(new MemoryStream(bytes, writable: false), System.IO.Compression.ZipArchiveMode.Read);
+        long total = 0;
+        var buffer = new byte[81920];
+        foreach (var entry in zip.Entries)
+        {
+            if (entry.Length > DataLimits.MaxSpreadsheetPartBytes)
+            {
+                diagnostics.SpreadsheetExpandsTooMuch(spec.PathLocation, spec.Path, entry.FullName, DataLimits.MaxSpreadsheetPartBytes);
+                return false;
+            }
+
+            long part = 0;
+            using var inflating = entry.Open();
+            int n;
+            while ((n = inflating.Read(buffer, 0, buffer.Length)) > 0)
+            {
+                part += n;
+                total += n;
+                if (part > DataLimits.MaxSpreadsheetPartBytes)
+                {
+                    diagnostics.SpreadsheetExpandsTooMuch(spec.PathLocation, spec.Path, entry.FullName, DataLimits.MaxSpreadsheetPartBytes);
+                    return false;
+                }
+
+                if (total > DataLimits.MaxSpreadsheetExpandedBytes)
+                {
+                    // The parts together: named by the part being inflated when the limit was passed.
+                    diagnostics.SpreadsheetExpandsTooMuch(spec.PathLocation, spec.Path, entry.FullName, DataLimits.MaxSpreadsheetExpandedBytes);
+                    return false;
+                }
+            }
+        }
+
+        return true;
     }
 
     private static object? Value(Cell cell, string[] shared, HashSet<uint> dateStyles)

@@ -93,10 +93,14 @@ public static class TableColumns
 
                 void Report(Problem p, object? value)
                 {
-                    var text = Text(value) ?? string.Empty;
+                    var text = (p == Problem.TooSmall && value is SheetNumber sn ? sn.Text : Text(value)) ?? string.Empty;
                     if (value is SheetError)
                     {
                         diagnostics.CellError(table.At(r, c), text, name, table.Where(r, c));
+                    }
+                    else if (p == Problem.TooSmall)
+                    {
+                        diagnostics.ValueTooSmall(table.At(r, c), text, name, table.Where(r, c));
                     }
                     else if (p == Problem.NotFinite)
                     {
@@ -122,6 +126,7 @@ public static class TableColumns
         {
             var c = index[f.Column];
             var text = new string?[rows];
+            var distinct = new HashSet<string>(StringComparer.Ordinal);
             var strays = new Dictionary<string, LevelRules.Stray>(StringComparer.Ordinal);
             var present = new HashSet<int>();
             for (var r = 0; r < rows; r++)
@@ -130,6 +135,20 @@ public static class TableColumns
                 if (t is null || missing.Contains(t))
                 {
                     continue;
+                }
+
+                if (!LevelText.CheckUtf8(table.Rows[r][c], f.Column, table.At(r, c), table.Where(r, c), diagnostics))
+                {
+                    continue;
+                }
+
+                // Compared in NFC (LevelText), so canonically equal spellings are one level.
+                _ = LevelText.Check(t, table.At(r, c), f.Name, diagnostics);
+                t = LevelText.Normal(t);
+                if (distinct.Add(t) && distinct.Count > DataLimits.MaxLevelsPerFactor)
+                {
+                    diagnostics.TooManyLevels(table.At(r, c), f.Name, f.Column, DataLimits.MaxLevelsPerFactor);
+                    return null;
                 }
 
                 text[r] = t;
@@ -208,6 +227,9 @@ public static class TableColumns
         Missing,
         NotNumber,
         NotFinite,
+
+        /// <summary>Not zero, but nearer to 0 than ±1e-300 (NumberRules.MinMagnitude).</summary>
+        TooSmall,
     }
 
     /// <summary>Reads one cell as a number; false with a problem for a cell that is not one.</summary>
@@ -272,6 +294,12 @@ public static class TableColumns
                         return false;
                     }
 
+                    if (NumberRules.IsUnderflow(n.Text, approx))
+                    {
+                        problem = Problem.TooSmall;
+                        return false;
+                    }
+
                     isExact = TryDecimal(n.Text, out exact) && (exact != 0 || approx == 0);
                     return true;
                 }
@@ -316,6 +344,12 @@ public static class TableColumns
         {
             isExact = exact != 0 || approx == 0;
             return true;
+        }
+
+        if (rule is NumberProblem.TooSmall)
+        {
+            problem = Problem.TooSmall;
+            return false;
         }
 
         if (rule is NumberProblem.NotFinite or NumberProblem.TooLarge)
