@@ -137,6 +137,13 @@ internal static class PostgresAggregate
                 var k = factors.Count;
                 while (reader.Read())
                 {
+                    // One row per cell of the factors' crossing: bounded as for the other databases.
+                    if (cells.Count == DataLimits.MaxQueryRows)
+                    {
+                        diagnostics.QueryTooManyRows(queryAt, spec.Name, DataLimits.MaxQueryRows);
+                        return null;
+                    }
+
                     var values = new object?[reader.FieldCount];
                     for (var i = 0; i < values.Length; i++)
                     {
