@@ -276,6 +276,17 @@ public static class Compilation
         var studyFolder = Path.GetDirectoryName(display);
         foreach (var spec in header.Datasets)
         {
+            if (spec.Format == DataFormat.Postgres)
+            {
+                // A server, not a file: no path rules, no file hash (see Data/Sources/PostgresSource).
+                if (Data.Sources.PostgresSource.Load(spec, needs[spec.Name], diagnostics) is { } server)
+                {
+                    loaded[spec.Name] = server;
+                }
+
+                continue;
+            }
+
             // The real path (links followed as the kernel does), checked to be a regular file; it is
             // what is hashed and read.
             if (PathGuard.Locate(studyDir, spec, options.AllowOutsidePaths, diagnostics) is not { } full)

@@ -45,6 +45,9 @@ public sealed record DatasetSpec(
     public SourceLocation? SheetLocation { get; init; }
 
     public SourceLocation? RangeLocation { get; init; }
+
+    /// <summary>PostgreSQL (<c>format: postgres</c>): the server, port, database and TLS mode; null for files.</summary>
+    public PostgresTarget? Server { get; init; }
 }
 
 /// <summary>The kinds of data file a dataset can name.</summary>
@@ -55,6 +58,7 @@ public enum DataFormat
     Sqlite,
     DuckDb,
     Parquet,
+    Postgres,
 }
 
 /// <summary>A declared factor: which column holds it, its level order and its display label.</summary>
@@ -106,8 +110,8 @@ internal static class HeaderBinder
 {
     public static readonly string[] Keys = ["title", "id", "authors", "alpha", "data", "response", "factors", "order", "report"];
 
-    private static readonly string[] DatasetKeys = ["path", "sha256", "delimiter", "decimal", "missing", "format", "sheet", "range", "header-row", "query", "aggregate", "timeout"];
-    private static readonly string[] FormatNames = ["csv", "tsv", "xlsx", "sqlite", "duckdb", "parquet"];
+    private static readonly string[] DatasetKeys = ["path", "sha256", "delimiter", "decimal", "missing", "format", "sheet", "range", "header-row", "query", "aggregate", "timeout", "server", "port", "database", "tls"];
+    private static readonly string[] FormatNames = ["csv", "tsv", "xlsx", "sqlite", "duckdb", "parquet", "postgres"];
     private static readonly string[] FactorKeys = ["column", "levels", "label"];
     private static readonly string[] ReportKeys = ["template", "digits", "p-digits", "figures", Syntax.StudyParser.RawHtmlKey];
     private static readonly string[] DefaultMissing = ["", "NA", "N/A", "."];
@@ -349,6 +353,19 @@ internal static class HeaderBinder
         }
 
         var r = new KeyReader(m, $"dataset '{name}'", DatasetKeys, diagnostics);
+        if (m["format"] is YScalar { Value: "postgres" })
+        {
+            return PostgresDataset.Bind(name, e.Key.Location, m, r, diagnostics);
+        }
+
+        foreach (var serverKey in PostgresDataset.OwnKeys)
+        {
+            if (r.Has(serverKey))
+            {
+                diagnostics.SourceKeyNotApplicable(r.KeyLocation(serverKey), serverKey, name, "a PostgreSQL server (format: postgres)");
+            }
+        }
+
         var pathNode = r.Scalar("path");
         if (pathNode is null)
         {

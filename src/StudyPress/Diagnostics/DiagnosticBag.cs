@@ -399,6 +399,34 @@ public sealed class DiagnosticBag
     public void ParquetUnreadable(SourceLocation at, string path, string message) =>
         Error("SP0339", at, $"cannot read {Q(path)} as a Parquet file: {message}");
 
+    // ---- PostgreSQL server (SP0030-SP0034 connection, SP0380-SP0389 data); never a user name or password in the text ----
+    public void ServerUnreachable(SourceLocation at, string server, string reason) =>
+        Error("SP0030", at, $"cannot connect to the PostgreSQL server {server}: {reason}");
+
+    public void ServerAuthenticationFailed(SourceLocation at, string server, string reason) =>
+        Error("SP0031", at, $"the PostgreSQL server {server} refused the credentials ({reason}); set PGUSER and PGPASSWORD, or the password file (~/.pgpass or PGPASSFILE), before building");
+
+    public void ServerUnknownDatabase(SourceLocation at, string database, string server) =>
+        Error("SP0032", at, $"the PostgreSQL server {server} has no database {Q(database)}");
+
+    public void ServerTimeLimit(SourceLocation at, string dataset, int seconds) =>
+        Error("SP0033", at, string.Create(CultureInfo.InvariantCulture, $"the query of dataset {Q(dataset)} ran longer than the time limit of {seconds} s and was cancelled by the server"));
+
+    public void ServerTlsFailed(SourceLocation at, string server, string reason) =>
+        Error("SP0034", at, $"cannot open a TLS connection to the PostgreSQL server {server}: {reason}");
+
+    public void ServerQueryFailed(SourceLocation at, string dataset, string message, int? position) =>
+        Error("SP0380", at, $"the query of dataset {Q(dataset)} failed: {message}" + (position is { } p ? string.Create(CultureInfo.InvariantCulture, $" (at character {p} of the query)") : string.Empty));
+
+    public void ServerReadOnly(SourceLocation at, string dataset, string message) =>
+        Error("SP0381", at, $"the query of dataset {Q(dataset)} tried to change the database, and a study only reads: {message}");
+
+    public void ServerMultipleStatements(SourceLocation at, string dataset) =>
+        Error("SP0382", at, $"the query of dataset {Q(dataset)} holds more than one statement; give one SELECT (or WITH ... SELECT) without ';' between statements");
+
+    public void ServerTooManyRows(SourceLocation at, string dataset, long max) =>
+        Error("SP0383", at, string.Create(CultureInfo.InvariantCulture, $"the query of dataset {Q(dataset)} returns more than {max} rows, the most loaded from a server; add 'aggregate: true' to let the server summarise the rows, or narrow the query"));
+
     // ---- data confinement and text safety (SP0020-SP0029 files, SP0340-SP0354 data) ----
     public void DataPathNotRegular(SourceLocation at, string path, string kind) =>
         Error("SP0020", at, $"data path {Q(path)} is {kind}, not a regular file; only regular files are read as data");

@@ -130,8 +130,8 @@ public static class AggregatedSummary
             outcome.Warnings.Add($"Groups with fewer than 5 observations ({string.Join(", ", small.Select(StudyPress.Charts.BidiText.Isolate))}): their means and intervals are imprecise, and quartiles of so few values say little.");
         }
 
-        outcome.Notes.Add(table.Duck
-            ? "n, mean, SD, SE and the interval were computed from per-cell counts, means and sums of squares computed by the database (aggregate: true); median, quartiles, min and max by the database over each group's rows (quantile_cont, linear interpolation). The box plot was not drawn: the rows were not loaded."
+        outcome.Notes.Add(table.Duck || ds.Spec.Format == DataFormat.Postgres
+            ? "n, mean, SD, SE and the interval were computed from per-cell counts, means and sums of squares computed by the database (aggregate: true); median, quartiles, min and max by the database over each group's rows (quantile_cont or percentile_cont, linear interpolation). The box plot was not drawn: the rows were not loaded."
             : "n, mean, SD, SE and the interval were computed from per-cell counts, means and sums of squares computed by the database (aggregate: true); min and max by the database over each group's rows. SQLite computes no quantiles, so the median and quartiles are not defined. The box plot was not drawn: the rows were not loaded.");
         if (dropped > 0)
         {
@@ -147,14 +147,17 @@ public static class AggregatedSummary
     private static List<Orders>? OrderStatistics(DatasetSpec spec, AggregateTable table, string response, string[] keyColumns, List<List<object?[]>> groups, BoundBlock block, DiagnosticBag diagnostics)
     {
         var y = Q(response);
-        var select = table.Duck
+        var pg = spec.Format == DataFormat.Postgres;
+        var select = pg
+            ? $"min({y}), max({y}), percentile_cont(0.5) WITHIN GROUP (ORDER BY {y}::float8), percentile_cont(0.25) WITHIN GROUP (ORDER BY {y}::float8), percentile_cont(0.75) WITHIN GROUP (ORDER BY {y}::float8)"
+            : table.Duck
             ? $"min({y}), max({y}), quantile_cont(CAST({y} AS DOUBLE), 0.5), quantile_cont(CAST({y} AS DOUBLE), 0.25), quantile_cont(CAST({y} AS DOUBLE), 0.75)"
             : $"min({y}), max({y})";
         var result = new List<Orders>();
         QueryClock? clock = null;
         try
         {
-            using var connection = DatabaseSource.Open(spec, table.FullPath, diagnostics);
+            using DbConnection? connection = pg ? PostgresSource.Open(spec, diagnostics) : DatabaseSource.Open(spec, table.FullPath, diagnostics);
             if (connection is null)
             {
                 return null;
@@ -172,9 +175,9 @@ public static class AggregatedSummary
                     {
                         var name = "p" + p.ToString(CultureInfo.InvariantCulture);
                         p++;
-                        ands.Add($"{Q(keyColumns[c])} = ${name}");
+                        ands.Add($"{Q(keyColumns[c])} = {(pg ? "@" : "$")}{name}");
                         var parameter = command.CreateParameter();
-                        parameter.ParameterName = table.Duck ? name : "$" + name;
+                        parameter.ParameterName = table.Duck || pg ? name : "$" + name;
                         parameter.Value = tuple[c] ?? DBNull.Value;
                         command.Parameters.Add(parameter);
                     }
@@ -190,7 +193,7 @@ public static class AggregatedSummary
                 reader.Read();
                 Quantity V(int i) => reader.IsDBNull(i) ? Quantity.Undefined("the group has no values") : Quantity.Of(Convert.ToDouble(reader.GetValue(i), CultureInfo.InvariantCulture));
                 var none = Quantity.Undefined(SqliteQuantiles);
-                result.Add(table.Duck ? new Orders(V(2), V(3), V(4), V(0), V(1)) : new Orders(none, none, none, V(0), V(1)));
+                result.Add(table.Duck || pg ? new Orders(V(2), V(3), V(4), V(0), V(1)) : new Orders(none, none, none, V(0), V(1)));
             }
         }
         catch (Exception e) when (clock is { Expired: true } && e is DbException or InvalidOperationException or OperationCanceledException)

@@ -74,7 +74,10 @@ public static partial class ReportVerifier
         var missing = new List<string>();
 
         // Only regular files are hashed: a FIFO would block verify and a device never ends.
-        foreach (var (full, shown) in new[] { (studyFull, manifest.StudyPath) }.Concat(manifest.Inputs.Select(i => (Path.GetFullPath(Path.Combine(studyDir, i.Path)), i.Path))))
+        // A server input has no file to hash: only --recompute (which re-runs the query) can check it.
+        var servers = manifest.Inputs.Where(i => i.Path.StartsWith(Binding.PostgresDataset.Scheme, StringComparison.Ordinal)).Select(i => i.Name).ToList();
+        var files = manifest.Inputs.Where(i => !i.Path.StartsWith(Binding.PostgresDataset.Scheme, StringComparison.Ordinal)).ToList();
+        foreach (var (full, shown) in new[] { (studyFull, manifest.StudyPath) }.Concat(files.Select(i => (Path.GetFullPath(Path.Combine(studyDir, i.Path)), i.Path))))
         {
             if (RegularFiles.NotRegular(full) is { } kind)
             {
@@ -83,7 +86,7 @@ public static partial class ReportVerifier
         }
 
         Check(studyFull, manifest.StudyPath, manifest.StudySha256, changed, missing);
-        foreach (var input in manifest.Inputs)
+        foreach (var input in files)
         {
             Check(Path.Combine(studyDir, input.Path), input.Path, input.Sha256, changed, missing);
         }
@@ -132,7 +135,8 @@ public static partial class ReportVerifier
             return new Verdict(Freshness.Altered, difference);
         }
 
-        return recompute ? Recompute(reportPath, manifest, studyFull, reportDir, allowOutside) : new Verdict(Freshness.Fresh, null);
+        return recompute ? Recompute(reportPath, manifest, studyFull, reportDir, allowOutside)
+            : new Verdict(Freshness.Fresh, servers.Count == 0 ? null : "the server data of " + string.Join(", ", servers.Select(n => "'" + n + "'")) + " was not read again; --recompute re-runs the queries");
     }
 
     /// <summary>

@@ -51,6 +51,11 @@ public static class StudyPins
         var hashes = new Dictionary<string, string>(StringComparer.Ordinal);
         foreach (var spec in file.Header.Datasets)
         {
+            if (spec.Format == Binding.DataFormat.Postgres)
+            {
+                continue; // a server has no file to pin
+            }
+
             if (Hash(studyDir, spec, allowOutside, diagnostics) is { } h)
             {
                 hashes[spec.Name] = h;
@@ -111,7 +116,7 @@ public static class StudyPins
         var same = reread is not null &&
             reread.Header.Datasets.Count == file.Header.Datasets.Count &&
             reread.Header.Datasets.Zip(file.Header.Datasets).All(p =>
-                p.First.Name == p.Second.Name && p.First.Path == p.Second.Path && p.First.Sha256 == hashes[p.First.Name] &&
+                p.First.Name == p.Second.Name && p.First.Path == p.Second.Path && p.First.Sha256 == hashes.GetValueOrDefault(p.First.Name) &&
                 p.First.Delimiter == p.Second.Delimiter && p.First.Decimal == p.Second.Decimal && p.First.Missing.SequenceEqual(p.Second.Missing));
         if (!same)
         {

@@ -256,7 +256,7 @@ public static partial class AggregateSource
         }
     }
 
-    private static LoadedDataset? Build(
+    internal static LoadedDataset? Build(
         DatasetSpec spec,
         string sha256,
         List<string> names,
@@ -478,7 +478,7 @@ public static partial class AggregateSource
         return $"{cellsCte} SELECT {string.Join(", ", select)} FROM cells JOIN src ON {on} GROUP BY {string.Join(", ", carried)}{orderBy}";
     }
 
-    private static AggregateStat ExactStat(object? n, object? s1, object? s2, int scale)
+    internal static AggregateStat ExactStat(object? n, object? s1, object? s2, int scale)
     {
         var count = n is null ? 0 : Convert.ToInt64(n, CultureInfo.InvariantCulture);
         if (count == 0)
@@ -494,7 +494,7 @@ public static partial class AggregateSource
         return new AggregateStat(count, mean, Math.Max(ss, 0));
     }
 
-    private static AggregateStat DoubleStat(object? n, object? m, object? e1, object? e2)
+    internal static AggregateStat DoubleStat(object? n, object? m, object? e1, object? e2)
     {
         var count = n is null ? 0 : Convert.ToInt64(n, CultureInfo.InvariantCulture);
         if (count == 0)
