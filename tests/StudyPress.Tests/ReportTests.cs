@@ -20,6 +20,21 @@ public sealed partial class ReportTests
     private static partial Regex EmbeddedManifest();
 
     [Fact]
+    public void Report_Header_ShowsTheIdOnlyWhenItSaysMoreThanTheFileName()
+    {
+        using var run = new StudyRun().Study(Study()).File("data.csv", Csv);
+        var plain = run.Compile();
+        Assert.True(plain.Succeeded, string.Join("\n", plain.Diagnostics));
+        Assert.Contains("<p class=\"study-id\">compiled by studypress ", plain.Html!, StringComparison.Ordinal);
+        Assert.DoesNotContain("Study <code>study</code>", plain.Html!, StringComparison.Ordinal);
+
+        run.Study(Study().Replace("---\ntitle:", "---\nid: trial-7\ntitle:", StringComparison.Ordinal));
+        var named = run.Compile();
+        Assert.True(named.Succeeded, string.Join("\n", named.Diagnostics));
+        Assert.Contains("<p class=\"study-id\">Study <code>trial-7</code> · compiled by studypress ", named.Html!, StringComparison.Ordinal);
+    }
+
+    [Fact]
     public void Report_EveryVisibleNumber_CarriesAManifestIdThatExists()
     {
         using var run = new StudyRun().Study(Study()).File("data.csv", Csv);

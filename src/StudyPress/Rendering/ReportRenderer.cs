@@ -89,7 +89,8 @@ internal static class ReportRenderer
             ["tool_version"] = HtmlWriter.Escape(identity.ToolVersion),
             ["title"] = HtmlWriter.Escape(header.Title),
             ["authors"] = header.Authors.Count == 0 ? string.Empty : "<p class=\"study-authors\">" + HtmlWriter.Escape(string.Join(", ", header.Authors)) + "</p>",
-            ["study_id"] = HtmlWriter.Escape(header.Id),
+            // The id is shown when it says more than the file name (the default id).
+            ["study_id"] = header.Id == Path.GetFileNameWithoutExtension(identity.StudyPath) ? string.Empty : "Study <code>" + HtmlWriter.Escape(header.Id) + "</code> · ",
             ["study_path"] = HtmlWriter.Escape(identity.StudyPath),
             ["study_sha"] = identity.StudySha256,
             ["build_time"] = identity.BuildTime is null ? string.Empty : " on " + HtmlWriter.Escape(identity.BuildTime),
