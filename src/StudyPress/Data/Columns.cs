@@ -160,7 +160,7 @@ public sealed class ExactValues
 public sealed record CategoricalColumn(string Name, int[] Codes, IReadOnlyList<string> Levels, int[] Counts);
 
 /// <summary>One loaded input with its identity (path as written, SHA-256) and the columns the study needs.</summary>
-public sealed partial class LoadedDataset
+public sealed partial record LoadedDataset
 {
     public required Binding.DatasetSpec Spec { get; init; }
 

@@ -61,7 +61,7 @@ internal static partial class YamlMistakes
                 }
             }
 
-            var itemIndent = content.StartsWith("- ", StringComparison.Ordinal) ? indent : -1;
+            var isItem = content.StartsWith("- ", StringComparison.Ordinal);
             if (indent > indents.Peek())
             {
                 if (!opensBlock)
@@ -88,12 +88,11 @@ internal static partial class YamlMistakes
             }
 
             var trimmed = StripComment(content).TrimEnd();
-            opensBlock = trimmed.EndsWith(':') || trimmed == "-" || (itemIndent >= 0 && trimmed.EndsWith(':'));
-            if (itemIndent >= 0 && KeyValue().IsMatch(content[2..]))
+            opensBlock = trimmed.EndsWith(':') || trimmed == "-";
+            if (isItem && KeyValue().IsMatch(content[2..]))
             {
                 // "- key: value" opens a map whose keys line up with 'key'.
                 indents.Push(indent + 2);
-                opensBlock = trimmed.EndsWith(':');
             }
         }
 

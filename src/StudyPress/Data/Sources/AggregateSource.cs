@@ -93,24 +93,7 @@ public static partial class AggregateSource
                 clr = [.. Enumerable.Range(0, reader.FieldCount).Select(reader.GetFieldType)];
             }
 
-            var errors = diagnostics.Items.Count;
-            foreach (var (col, at) in needs.Numeric)
-            {
-                if (!names.Contains(col, StringComparer.Ordinal))
-                {
-                    diagnostics.UnknownQueryColumn(at, col, spec.Name, names, DiagnosticBag.Nearest(col, names));
-                }
-            }
-
-            foreach (var (f, at) in needs.Factors.Values)
-            {
-                if (!names.Contains(f.Column, StringComparer.Ordinal))
-                {
-                    diagnostics.UnknownQueryColumn(at, f.Column, spec.Name, names, DiagnosticBag.Nearest(f.Column, names));
-                }
-            }
-
-            if (diagnostics.Items.Count > errors)
+            if (!ColumnsPresent(names, spec, needs, diagnostics))
             {
                 return null;
             }
@@ -583,6 +566,22 @@ public static partial class AggregateSource
         }
 
         return values;
+    }
+
+    /// <summary>Whether a query's result has every column the blocks need; each missing one is reported.</summary>
+    internal static bool ColumnsPresent(IReadOnlyList<string> names, DatasetSpec spec, DatasetNeeds needs, DiagnosticBag diagnostics)
+    {
+        var present = true;
+        foreach (var (col, at) in needs.Numeric.Select(n => (n.Key, n.Value)).Concat(needs.Factors.Values.Select(f => (f.Spec.Column, f.At))))
+        {
+            if (!names.Contains(col, StringComparer.Ordinal))
+            {
+                diagnostics.UnknownQueryColumn(at, col, spec.Name, names, DiagnosticBag.Nearest(col, names));
+                present = false;
+            }
+        }
+
+        return present;
     }
 
     private static string TypeName(DbDataReader reader, int i)

@@ -122,7 +122,7 @@ public static class DatabaseSource
             return null;
         }
 
-        return spec.Query is null ? ds : Copy(ds, spec.Query, resultSha);
+        return spec.Query is null ? ds : ds with { Query = spec.Query, ResultSha256 = resultSha };
     }
 
     /// <summary>
@@ -248,21 +248,4 @@ public static class DatabaseSource
             return string.Empty;
         }
     }
-
-    private static LoadedDataset Copy(LoadedDataset d, string query, string resultSha) => new()
-    {
-        Spec = d.Spec,
-        Path = d.Path,
-        Sha256 = d.Sha256,
-        Rows = d.Rows,
-        Lines = d.Lines,
-        Order = d.Order,
-        ColumnNames = d.ColumnNames,
-        Numeric = d.Numeric,
-        Factors = d.Factors,
-        Used = d.Used,
-        SourceNote = d.SourceNote,
-        Query = query,
-        ResultSha256 = resultSha,
-    };
 }

@@ -1,7 +1,7 @@
 namespace StudyPress.Data;
 
 /// <summary>What a dataset read from a spreadsheet, database or Parquet file adds to its identity.</summary>
-public sealed partial class LoadedDataset
+public sealed partial record LoadedDataset
 {
     /// <summary>The query whose result is the table, as written in the study; null for files read whole.</summary>
     public string? Query { get; init; }

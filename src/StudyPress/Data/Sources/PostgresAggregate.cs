@@ -41,24 +41,7 @@ internal static class PostgresAggregate
                 types = [.. Enumerable.Range(0, reader.FieldCount).Select(reader.GetDataTypeName)];
             }
 
-            var errors = diagnostics.Items.Count;
-            foreach (var (col, at) in needs.Numeric)
-            {
-                if (!names.Contains(col, StringComparer.Ordinal))
-                {
-                    diagnostics.UnknownQueryColumn(at, col, spec.Name, names, DiagnosticBag.Nearest(col, names));
-                }
-            }
-
-            foreach (var (f, at) in needs.Factors.Values)
-            {
-                if (!names.Contains(f.Column, StringComparer.Ordinal))
-                {
-                    diagnostics.UnknownQueryColumn(at, f.Column, spec.Name, names, DiagnosticBag.Nearest(f.Column, names));
-                }
-            }
-
-            if (diagnostics.Items.Count > errors)
+            if (!AggregateSource.ColumnsPresent(names, spec, needs, diagnostics))
             {
                 return null;
             }

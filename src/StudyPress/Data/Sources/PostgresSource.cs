@@ -125,7 +125,8 @@ public static class PostgresSource
             diagnostics,
             (at, col, near) => diagnostics.UnknownQueryColumn(at, col, spec.Name, names, near),
             queryAt);
-        return ds is null ? null : WithQuery(ds, spec.Query!, resultSha);
+        // A server has no file: the input's hash is the result's.
+        return ds is null ? null : ds with { Path = ds.Spec.Path, Sha256 = resultSha, Query = spec.Query!, ResultSha256 = resultSha };
     }
 
     /// <summary>The study's query without trailing blanks and semicolons.</summary>
@@ -363,22 +364,4 @@ public static class PostgresSource
 
         return Scrub(DatabaseSource.Message(e), secrets);
     }
-
-    internal static LoadedDataset WithQuery(LoadedDataset d, string query, string resultSha) => new()
-    {
-        Spec = d.Spec,
-        Path = d.Spec.Path,
-        Sha256 = resultSha,
-        Rows = d.Rows,
-        Lines = d.Lines,
-        Order = d.Order,
-        ColumnNames = d.ColumnNames,
-        Numeric = d.Numeric,
-        Factors = d.Factors,
-        Used = d.Used,
-        SourceNote = d.SourceNote,
-        Aggregate = d.Aggregate,
-        Query = query,
-        ResultSha256 = resultSha,
-    };
 }
