@@ -64,6 +64,11 @@ public static class Compilation
         var diagnostics = new DiagnosticBag();
         var outputPath = OutputPathFor(studyPath, options);
         var html = Run(studyPath, outputPath, options, diagnostics, out var manifest, out var figures);
+        if (!diagnostics.HasErrors && html is not null && manifest is not null)
+        {
+            BuildCapture.Keep(studyPath, outputPath, options, manifest, html);
+        }
+
         return new CompilationResult
         {
             StudyPath = studyPath,
