@@ -184,9 +184,9 @@ public static class FriedmanConover
         {
             var error = (double)r.ErrorNumerator;
 
-            // MSE = SS_error / df = (n Σ c² − Σ C²) / (4 n df); Se² = 2 MSE / n.
+            // MSE = SS_error / df = (n Σ c² − Σ C²) / (4 n df); Se² = 2 MSE / n = (n Σ c² − Σ C²) / (2 n² df).
             mse = Quantity.Of(error / (4.0 * n * df));
-            var seValue = Math.Sqrt(error / (2.0 * df)) / (2.0 * n);
+            var seValue = Math.Sqrt(error / (2.0 * df)) / n;
             var scale = Math.Sqrt(2.0 * error / df);
             for (c = 0; c < m; c++)
             {
