@@ -74,7 +74,12 @@ public static class FriedmanNemenyi
     public static FriedmanNemenyiResult Compare(IReadOnlyList<string> treatments, IReadOnlyList<double[]> blocks, double alpha)
     {
         var r = FriedmanRanks.Of(blocks, nameof(blocks));
-        FriedmanPostHocInput.Validate(treatments, r.Treatments, alpha);
+        FriedmanPostHocInput.Validate(treatments, r.Treatments);
+        if (!(alpha > 0 && alpha < 1))
+        {
+            throw new ArgumentOutOfRangeException(nameof(alpha), "alpha must lie in (0, 1)");
+        }
+
         int n = r.Blocks, k = r.Treatments;
 
         var variance = k * (k + 1.0) / (6.0 * n);
@@ -90,7 +95,7 @@ public static class FriedmanNemenyi
                 var d = r.MeanRankDiff(a, b);
 
                 // q = |d| / √(k (k + 1)/(12 n)) = |C_a − C_b| √(3 / (n k (k + 1))).
-                var q = Math.Abs(r.CentredSums[a] - r.CentredSums[b]) * Math.Sqrt(3.0 / (n * k * (k + 1.0)));
+                var q = Math.Abs(r.CentredSums[a] - r.CentredSums[b]) * Math.Sqrt(3.0 / ((double)n * k * (k + 1.0)));
                 var z = d / se;
                 list.Add(new FriedmanPairwiseComparison(
                     treatments[a],
@@ -145,7 +150,7 @@ public static class FriedmanConover
         PValueAdjustmentMethod method = PValueAdjustmentMethod.Holm)
     {
         var r = FriedmanRanks.Of(blocks, nameof(blocks));
-        FriedmanPostHocInput.Validate(treatments, r.Treatments, alpha: 0.5);
+        FriedmanPostHocInput.Validate(treatments, r.Treatments);
         if (method is not (PValueAdjustmentMethod.Holm or PValueAdjustmentMethod.Bonferroni))
         {
             throw new ArgumentOutOfRangeException(nameof(method));
@@ -221,10 +226,10 @@ public static class FriedmanConover
     }
 }
 
-/// <summary>Checks of the treatment names and level shared by the Friedman post-hoc procedures.</summary>
+/// <summary>Checks of the treatment names shared by the Friedman post-hoc procedures.</summary>
 internal static class FriedmanPostHocInput
 {
-    public static void Validate(IReadOnlyList<string> treatments, int k, double alpha)
+    public static void Validate(IReadOnlyList<string> treatments, int k)
     {
         ArgumentNullException.ThrowIfNull(treatments);
         if (treatments.Count != k)
@@ -243,11 +248,6 @@ internal static class FriedmanPostHocInput
                     name is null ? "a treatment name is null" : "the treatment name '" + name + "' is given twice",
                     nameof(treatments));
             }
-        }
-
-        if (!(alpha > 0 && alpha < 1))
-        {
-            throw new ArgumentOutOfRangeException(nameof(alpha), "alpha must lie in (0, 1)");
         }
     }
 }
