@@ -4,6 +4,7 @@ using System.Text;
 using StudyPress.Comparison;
 using StudyPress.Diagnostics;
 using StudyPress.Rendering;
+using StudyPress.Reproducibility;
 
 namespace StudyPress.Cli;
 

@@ -1,5 +1,6 @@
 using System.Text;
 using StudyPress.Rendering;
+using StudyPress.Reproducibility;
 
 namespace StudyPress.Cli;
 

@@ -5,9 +5,11 @@ using StudyPress.Binding;
 using StudyPress.Data;
 using StudyPress.Diagnostics;
 using StudyPress.Evaluation;
-using StudyPress.Kinds;
 using StudyPress.Rendering;
 using StudyPress.Syntax;
+using StudyPress.Reproducibility;
+using StudyPress.Evaluation.Kinds;
+using StudyPress.Binding.Kinds;
 
 namespace StudyPress;
 
@@ -38,7 +40,7 @@ public sealed class CompilationResult
     public byte[]? ManifestJson { get; init; }
 
     /// <summary>The report's figures in order, with a file name for PNG export (block id and a running number).</summary>
-    public IReadOnlyList<(string FileName, Kinds.Figure Figure)> Figures { get; init; } = [];
+    public IReadOnlyList<(string FileName, Figure Figure)> Figures { get; init; } = [];
 
     public bool Succeeded => Html is not null;
 }
@@ -50,8 +52,7 @@ public sealed class CompilationResult
 /// </summary>
 public static class Compilation
 {
-    public static string ToolVersion { get; } =
-        typeof(Compilation).Assembly.GetCustomAttribute<AssemblyInformationalVersionAttribute>()?.InformationalVersion.Split('+')[0] ?? "0.0.0";
+    public static string ToolVersion => Tool.Version;
 
     public static string OutputPathFor(string studyPath, CompileOptions options)
     {
@@ -134,10 +135,10 @@ public static class Compilation
         var reportedReferences = new HashSet<ReferenceInline>();
         foreach (var r in syntax.References.Where(r => r.Closed))
         {
-            var parts = References.Split(r.Text, out var error);
+            var parts = r.Expression?.Parts;
             if (parts is null)
             {
-                diagnostics.BadReferenceSyntax(r.Location, r.Text, error!);
+                diagnostics.BadReferenceSyntax(r.Location, r.Text, r.SyntaxError!);
                 reportedReferences.Add(r);
             }
             else if (!primary.ContainsKey(parts[0]))
@@ -174,7 +175,7 @@ public static class Compilation
         // Methods blocks describe other blocks, wherever those are in the study: evaluate them last.
         foreach (var block in blocks.OrderBy(b => b.Kind is MethodsKind ? 1 : 0))
         {
-            var outcome = block.Kind.Evaluate(context, block, diagnostics);
+            var outcome = KindEvaluators.For(block).Evaluate(context, block, diagnostics);
             outcomes[block.Syntax] = outcome;
             context.Outcomes[block.Id] = outcome;
         }
@@ -224,7 +225,14 @@ public static class Compilation
             }
         }
 
-        return ReportRenderer.Render(syntax, header, outcomes, resolved, inputs, identity, manifest);
+        var html = ReportRenderer.Render(syntax, header, outcomes, resolved, inputs, identity, manifest);
+        if (ReportIntegrity.Problem(html) is { } problem)
+        {
+            // Checked before anything can be written, and again by the writer (OutputSet).
+            throw new InvalidOperationException("the rendered report is incomplete: " + problem);
+        }
+
+        return html;
     }
 
     private static Dictionary<string, LoadedDataset> LoadDatasets(
@@ -239,7 +247,7 @@ public static class Compilation
         foreach (var b in blocks.Where(b => b.Data is not null))
         {
             var n = needs[b.Data!];
-            if (b.Kind is not (AnovaKind or SummaryKind or PostHocKind) && header.Datasets.FirstOrDefault(d => d.Name == b.Data) is { Aggregate: true } aggregated)
+            if (b.Kind.NeedsRows && header.Datasets.FirstOrDefault(d => d.Name == b.Data) is { Aggregate: true } aggregated)
             {
                 diagnostics.AggregateProblem(b.Location, aggregated.Name, $"a '{b.Kind.Name}' block needs the rows, and the database aggregates this dataset (aggregate: true); only anova, summary and posthoc blocks run on aggregated data in this version (declare a second dataset on the same file with a sampling query for the other blocks)");
             }

@@ -3,6 +3,7 @@ using System.Globalization;
 using System.Text;
 using StudyPress.Rendering;
 using StudyPress.Tests.Support;
+using StudyPress.Reproducibility;
 
 namespace StudyPress.Tests;
 

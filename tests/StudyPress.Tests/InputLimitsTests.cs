@@ -4,6 +4,7 @@ using System.Text;
 using StudyPress.Data;
 using StudyPress.Data.Sources;
 using StudyPress.Tests.Support;
+using StudyPress.Syntax;
 
 namespace StudyPress.Tests;
 

@@ -5,6 +5,7 @@ using System.Text;
 using System.Text.RegularExpressions;
 using StudyPress.Evaluation;
 using StudyPress.Tests.Support;
+using StudyPress.Rendering;
 
 namespace StudyPress.Tests;
 

@@ -36,7 +36,7 @@ internal static class SourcesFixtures
         var row = new Row { RowIndex = index };
         for (var i = 0; i < values.Length; i++)
         {
-            var reference = StudyPress.Data.Sources.CellReference.Name(firstColumn + i, (int)index);
+            var reference = StudyPress.Syntax.CellReference.Name(firstColumn + i, (int)index);
             switch (values[i])
             {
                 case null:

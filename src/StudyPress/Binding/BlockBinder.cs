@@ -1,6 +1,6 @@
 using StudyPress.Diagnostics;
-using StudyPress.Kinds;
 using StudyPress.Syntax;
+using StudyPress.Binding.Kinds;
 
 namespace StudyPress.Binding;
 

@@ -87,7 +87,7 @@ public sealed class KeyReader
 
         if (double.TryParse(s.Value, NumberStyles.Float, CultureInfo.InvariantCulture, out var v) && double.IsFinite(v))
         {
-            if (Data.NumberRules.IsUnderflow(s.Value, v))
+            if (NumberRules.IsUnderflow(s.Value, v))
             {
                 diagnostics.HeaderNumberTooSmall(s.Location, key, s.Value);
                 return null;

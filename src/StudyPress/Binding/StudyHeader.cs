@@ -442,7 +442,7 @@ internal static class HeaderBinder
             diagnostics.SourceKeyNotApplicable(al, "aggregate", spec.Name, "a database or Parquet file");
         }
 
-        if (range is not null && Data.Sources.CellReference.ParseRange(range.Value) is null)
+        if (range is not null && CellReference.ParseRange(range.Value) is null)
         {
             diagnostics.BadCellRange(range.Location, range.Value);
         }
@@ -597,11 +597,11 @@ internal static class HeaderBinder
             var distinct = new HashSet<string>(StringComparer.Ordinal);
             foreach (var l in levelNodes)
             {
-                // Levels are compared in NFC and may not hold invisible characters (Data.LevelText).
-                var value = Data.LevelText.Normal(l.Value);
-                if (Data.LevelText.FirstInvisible(value) is { } invisible)
+                // Levels are compared in NFC and may not hold invisible characters (LevelText).
+                var value = LevelText.Normal(l.Value);
+                if (LevelText.FirstInvisible(value) is { } invisible)
                 {
-                    diagnostics.HeaderInvisibleCharacter(l.Location, Data.LevelText.Visible(value), name, Data.LevelText.Describe(invisible));
+                    diagnostics.HeaderInvisibleCharacter(l.Location, LevelText.Visible(value), name, LevelText.Describe(invisible));
                 }
 
                 if (!distinct.Add(value))

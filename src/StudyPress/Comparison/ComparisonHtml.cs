@@ -31,7 +31,7 @@ public static class ComparisonHtml
         sb.Append("<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n")
             .Append("<meta http-equiv=\"Content-Security-Policy\" content=\"").Append(E(csp)).Append("\">\n")
             .Append("<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">\n")
-            .Append("<meta name=\"generator\" content=\"studypress ").Append(E(Compilation.ToolVersion)).Append("\">\n")
+            .Append("<meta name=\"generator\" content=\"studypress ").Append(E(Rendering.Tool.Version)).Append("\">\n")
             .Append("<title>Comparison: ").Append(E(r.Old.Label)).Append(" → ").Append(E(r.New.Label)).Append("</title>\n")
             .Append("<style>").Append(css).Append("</style>\n</head>\n<body>\n");
         sb.Append("<header class=\"study-head\">\n<h1 class=\"study-title\">What changed between two builds</h1>\n")

@@ -6,6 +6,7 @@ using System.Text.Json;
 using System.Text.RegularExpressions;
 using StudyPress.Diagnostics;
 using StudyPress.Reproducibility;
+using StudyPress.Rendering;
 
 namespace StudyPress.Comparison;
 

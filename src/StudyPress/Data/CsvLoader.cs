@@ -468,8 +468,8 @@ public static class CsvLoader
         for (var c = 0; c < numericCols.Length; c++)
         {
             numeric[numericCols[c].Name] = doubles[c] is { } d
-                ? NumberRules.CentreDoubles(numericCols[c].Name, Trim(d, rows))
-                : NumberRules.CentreDecimals(numericCols[c].Name, Trim(numbers[c], rows), missingFlags[c]);
+                ? Centring.CentreDoubles(numericCols[c].Name, Trim(d, rows))
+                : Centring.CentreDecimals(numericCols[c].Name, Trim(numbers[c], rows), missingFlags[c]);
         }
 
         return Finish(spec, rows, Trim(lines, rows), names, numeric, seenNames, codes.Select(c => Trim(c, rows)).ToArray(), needs, diagnostics, errorsBefore, sha, hashing);

@@ -1,5 +1,4 @@
 using System.Text.RegularExpressions;
-using StudyPress.Reproducibility;
 
 namespace StudyPress.Rendering;
 

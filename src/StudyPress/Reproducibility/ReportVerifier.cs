@@ -96,9 +96,9 @@ public static partial class ReportVerifier
             changed.Add("template");
         }
 
-        if (manifest.ToolVersion != Compilation.ToolVersion)
+        if (manifest.ToolVersion != Rendering.Tool.Version)
         {
-            changed.Add("tool version " + manifest.ToolVersion + " -> " + Compilation.ToolVersion);
+            changed.Add("tool version " + manifest.ToolVersion + " -> " + Rendering.Tool.Version);
         }
 
         if (changed.Count > 0 || missing.Count > 0)
@@ -223,7 +223,7 @@ public static partial class ReportVerifier
 
             // Numbers in generated sentences carry their style (data-style); others use the report's digits.
             var style = m.Groups["style"].Success ? m.Groups["style"].Value : null;
-            var expected = v.Value is not { } x ? "n/d" : style is null ? format.Format(v.Stat, x) : StudyPress.Evaluation.ReportStyle.Format(style, x) ?? "unknown style " + style;
+            var expected = v.Value is not { } x ? "n/d" : style is null ? format.Format(v.Stat, x) : StudyPress.Rendering.ReportStyle.Format(style, x) ?? "unknown style " + style;
             if (shown != expected)
             {
                 return $"{id} shows {shown}, its manifest value rounds to {expected}";

@@ -14,6 +14,16 @@ public sealed class ReferenceInline : LeafInline
 
     /// <summary>False when the closing braces were missing.</summary>
     public bool Closed { get; init; } = true;
+
+    private readonly Lazy<(ReferenceExpression? Expression, string? Error)> parsed;
+
+    public ReferenceInline() => parsed = new(() => (ReferenceGrammar.Parse(Text!, out var error), error));
+
+    /// <summary>The reference read once by <see cref="ReferenceGrammar"/>, or null when it cannot be read (see <see cref="SyntaxError"/>).</summary>
+    public ReferenceExpression? Expression => parsed.Value.Expression;
+
+    /// <summary>Why the reference cannot be read, or null.</summary>
+    public string? SyntaxError => parsed.Value.Error;
 }
 
 /// <summary>Recognises <c>{{ ... }}</c> in paragraph text (code spans are parsed first and keep theirs).</summary>

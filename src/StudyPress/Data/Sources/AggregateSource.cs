@@ -5,6 +5,7 @@ using System.Text;
 using System.Text.RegularExpressions;
 using StudyPress.Binding;
 using StudyPress.Diagnostics;
+using StudyPress.Syntax;
 
 namespace StudyPress.Data.Sources;
 

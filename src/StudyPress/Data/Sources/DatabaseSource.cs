@@ -3,6 +3,7 @@ using DuckDB.NET.Data;
 using Microsoft.Data.Sqlite;
 using StudyPress.Binding;
 using StudyPress.Diagnostics;
+using StudyPress.Syntax;
 
 namespace StudyPress.Data.Sources;
 

@@ -4,6 +4,7 @@ using DocumentFormat.OpenXml.Packaging;
 using DocumentFormat.OpenXml.Spreadsheet;
 using StudyPress.Binding;
 using StudyPress.Diagnostics;
+using StudyPress.Syntax;
 
 namespace StudyPress.Data.Sources;
 

@@ -2,6 +2,7 @@ using System.Globalization;
 using System.Numerics;
 using StudyPress.Binding;
 using StudyPress.Diagnostics;
+using StudyPress.Syntax;
 
 namespace StudyPress.Data.Sources;
 
@@ -407,8 +408,8 @@ public static class TableColumns
         text.Contains('E', StringComparison.OrdinalIgnoreCase) && TryDecimal(text, out var d) ? d.ToString(CultureInfo.InvariantCulture) : text;
 
     // The centring is the CSV reader's (NumberRules), so that the same numbers give the same columns.
-    private static NumericColumn CentreDecimals(string name, decimal[] values, bool[] missing) => NumberRules.CentreDecimals(name, values, missing);
+    private static NumericColumn CentreDecimals(string name, decimal[] values, bool[] missing) => Centring.CentreDecimals(name, values, missing);
 
     private static NumericColumn CentreDoubles(string name, double[] approx, bool[] missing) =>
-        NumberRules.CentreDoubles(name, [.. approx.Select((v, i) => missing[i] ? double.NaN : v)]);
+        Centring.CentreDoubles(name, [.. approx.Select((v, i) => missing[i] ? double.NaN : v)]);
 }

@@ -1,0 +1,43 @@
+using System.Globalization;
+using System.Runtime.CompilerServices;
+using StudyPress.Binding;
+using StudyPress.Diagnostics;
+using StudyPress.Statistics.Nonparametric;
+using StudyPress.Statistics.PostHoc;
+using StudyPress.Statistics;
+
+namespace StudyPress.Binding.Kinds;
+
+/// <summary>
+/// <c>posthoc</c>: pairwise comparisons of one factor's levels in an anova block, with family-wise
+/// error control and simultaneous intervals: Tukey HSD (Tukey–Kramer for unequal n), Games–Howell,
+/// Holm or Bonferroni on pooled-variance t tests; with <c>control</c>, every level against the
+/// control (Dunnett's test for <c>tukey</c>). <c>method: auto</c> follows the assumption checks.
+/// </summary>
+public sealed class PostHocKind : BlockKind
+{
+    /// <summary>Registers this part of the kind (see DEVELOPERS.md, "Adding an analysis kind").</summary>
+    [ModuleInitializer]
+    internal static void Register() => BlockKinds.Register(new PostHocKind());
+
+    public override string Name => "posthoc";
+
+    public override bool NeedsRows => false;
+
+    public override string PrimaryTest => "posthoc";
+
+    public override IReadOnlyList<string> OwnKeys { get; } = ["of", "factor", "method", "control"];
+
+    public override bool AnalysesAnovaBlock => true;
+
+    private static readonly string[] Methods = ["auto", "tukey", "games-howell", "holm", "bonferroni"];
+
+    public sealed record Options(string? Factor, SourceLocation FactorLocation, string Method, string? Control, SourceLocation ControlLocation);
+
+    public override object? BindOptions(KeyReader keys, BindContext context, DiagnosticBag diagnostics)
+    {
+        var f = keys.Scalar("factor");
+        var c = keys.Scalar("control");
+        return new Options(f?.Value, f?.Location ?? context.Syntax.Location, keys.Choice("method", Methods) ?? "auto", c?.Value, c?.Location ?? context.Syntax.Location);
+    }
+}

@@ -1,0 +1,256 @@
+using System.Globalization;
+using StudyPress.Binding;
+using StudyPress.Data.Sources;
+using StudyPress.Diagnostics;
+using StudyPress.Evaluation;
+using StudyPress.Rendering;
+using StudyPress.Statistics;
+using StudyPress.Statistics.Anova;
+using StudyPress.Binding.Kinds;
+
+namespace StudyPress.Evaluation.Kinds;
+
+public sealed class AggregatedAnovaOutcome(BoundBlock block) : BlockOutcome(block)
+{
+    public CellAnovaResult? Result { get; set; }
+
+    public IReadOnlyList<FactorSpec> Factors { get; set; } = [];
+
+    public List<(AnovaTerm Term, Dictionary<string, ResultValue> Values)> Terms { get; } = [];
+
+    public Dictionary<string, ResultValue> Residual { get; } = new(StringComparer.Ordinal);
+
+    public Dictionary<string, ResultValue> Total { get; } = new(StringComparer.Ordinal);
+
+    public List<(string Factor, string Level, Dictionary<string, ResultValue> Values)> Means { get; } = [];
+
+    public Dictionary<string, ResultValue>? Welch { get; set; }
+
+    public Dictionary<string, ResultValue>? Bartlett { get; set; }
+
+    public List<string> Decisions { get; } = [];
+}
+
+/// <summary>
+/// An <c>anova</c> block on a dataset the database aggregated (<c>aggregate: true</c>): the table,
+/// the level means, Welch's F and Bartlett's test come from the per-cell counts, means and sums of
+/// squares (<see cref="CellStatisticsAnova"/>, <see cref="GroupStatisticsTests"/>); what needs the
+/// rows (residual checks, rank tests, figures) is not run, and the block says so.
+/// The manifest values have the same names as those of a block on loaded rows.
+/// </summary>
+public static class AggregatedAnova
+{
+    public const string MethodNote = "ANOVA table, level means, Welch's F and Bartlett's test were computed from per-cell counts, means and sums of squares computed by the database (aggregate: true). The checks that need the rows (normality of the residuals, Brown–Forsythe/Levene, outliers, run order), the Kruskal–Wallis test and the figures were not run: the rows were not loaded.";
+
+    /// <summary>Whether the block reads an aggregated dataset.</summary>
+    public static bool Applies(EvaluationContext context, BoundBlock block) =>
+        block.Data is not null && context.Datasets.TryGetValue(block.Data, out var d) && d.Aggregate is not null;
+
+    /// <summary>
+    /// The block's cells: the dataset's cells that pass 'where' and have the block's factors and
+    /// response, pooled over the factors the block does not use.
+    /// </summary>
+    public static (IReadOnlyList<IReadOnlyList<string>> Levels, List<CellStatistics> Cells, long Dropped)? Cells(EvaluationContext context, BoundBlock block)
+    {
+        var ds = context.Datasets[block.Data!];
+        var table = ds.Aggregate!;
+        int Pos(string factor) => table.Factors.Select((f, i) => (f, i)).First(p => p.f.Name == factor).i;
+        var factorPos = block.Factors.Select(f => Pos(f.Name)).ToArray();
+        var where = block.Where.Select(w => (Pos: Pos(w.Factor.Name), w.Levels)).ToArray();
+        var pooled = new SortedDictionary<string, (int[] Codes, AggregateStat Stat)>(StringComparer.Ordinal);
+        long dropped = 0;
+        for (var i = 0; i < table.Cells.Count; i++)
+        {
+            var cell = table.Cells[i];
+            if (where.Any(w => cell.Codes[w.Pos] < 0 || !w.Levels.Contains(table.Levels[w.Pos][cell.Codes[w.Pos]])))
+            {
+                continue;
+            }
+
+            var stat = cell.Stats[block.Response!];
+            if (factorPos.Any(p => cell.Codes[p] < 0))
+            {
+                dropped += cell.Rows;
+                continue;
+            }
+
+            dropped += cell.Rows - stat.N;
+            if (stat.N == 0)
+            {
+                continue;
+            }
+
+            ds.Used[i] = true;
+            var codes = factorPos.Select(p => cell.Codes[p]).ToArray();
+            var key = string.Join(",", codes.Select(c => c.ToString("D9", CultureInfo.InvariantCulture)));
+            pooled[key] = pooled.TryGetValue(key, out var before) ? (codes, AggregateSource.Pool(before.Stat, stat)) : (codes, stat);
+        }
+
+        if (pooled.Count == 0)
+        {
+            return null;
+        }
+
+        // Keep only the levels present, as the row selection does.
+        var present = factorPos.Select((_, k) => new SortedSet<int>(pooled.Values.Select(v => v.Codes[k])).ToList()).ToArray();
+        var levels = factorPos.Select((p, k) => (IReadOnlyList<string>)[.. present[k].Select(c => table.Levels[p][c])]).ToList();
+        var cells = pooled.Values
+            .Select(v => new CellStatistics([.. v.Codes.Select((c, k) => present[k].IndexOf(c))], v.Stat.N, v.Stat.CentredMean, v.Stat.SumSquares))
+            .ToList();
+        return (levels, cells, dropped);
+    }
+
+    public static BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, AnovaKind.Options options, DiagnosticBag diagnostics)
+    {
+        var outcome = new AggregatedAnovaOutcome(block);
+        var ds = context.Datasets[block.Data!];
+        if (options.Transform != TransformKind.None)
+        {
+            diagnostics.AggregateProblem(block.Location, ds.Spec.Name, $"'transform: {options.TransformName}' needs the rows, and the database aggregated them (aggregate: true); transform the column in the query instead");
+            return outcome;
+        }
+
+        if (Cells(context, block) is not { } selected)
+        {
+            diagnostics.NoRowsSelected(block.Location);
+            return outcome;
+        }
+
+        var (levels, cells, dropped) = selected;
+        for (var k = 0; k < block.Factors.Count; k++)
+        {
+            if (levels[k].Count < 2)
+            {
+                diagnostics.TooFewGroups(block.FactorsLocation, block.Factors[k].Name, levels[k].Count);
+                return outcome;
+            }
+        }
+
+        if (cells.All(c => c.Count == 1) && (block.Factors.Count == 1 || options.Interaction))
+        {
+            diagnostics.NoResidualDf(block.Location);
+            return outcome;
+        }
+
+        var input = new CellAnovaInput(
+            [.. block.Factors.Select((f, k) => new CellFactor(f.Name, levels[k]))],
+            cells,
+            options.Interaction,
+            options.SsType,
+            context.Header.Alpha);
+        if (CellStatisticsAnova.Check(input) is { } problem)
+        {
+            if (problem.Kind == DesignProblemKind.EmptyCell && problem.Cell is { } cell)
+            {
+                diagnostics.EmptyCell(block.FactorsLocation, string.Join(", ", cell.Select((l, k) => $"{block.Factors[k].Name} = '{l}'")));
+            }
+            else
+            {
+                diagnostics.DesignProblem(block.FactorsLocation, problem.Message);
+            }
+
+            return outcome;
+        }
+
+        var result = CellStatisticsAnova.Fit(input);
+        outcome.Result = result;
+        outcome.Factors = block.Factors;
+        var inputs = context.Inputs(block);
+        var centre = ds.Aggregate!.Centres[block.Response!];
+        AnovaEvaluator.RecordTable(context, block, result.Terms, result.ResidualSumOfSquares, result.ResidualDf, result.ResidualMeanSquare, result.TotalSumOfSquares, result.TotalDf, inputs, outcome.Terms, outcome.Residual, outcome.Total);
+
+        // Level means (each factor's levels, pooled over the other factors).
+        for (var k = 0; k < block.Factors.Count; k++)
+        {
+            for (var l = 0; l < levels[k].Count; l++)
+            {
+                var of = cells.Where(c => c.Levels[k] == l).Select(c => new AggregateStat(c.Count, c.Mean, c.SumOfSquares)).Aggregate(AggregateSource.Pool);
+                var name = block.Factors[k].Name;
+                var values = new Dictionary<string, ResultValue>(StringComparer.Ordinal)
+                {
+                    ["n"] = context.Results.Add(block.Id, "means", name, levels[k][l], null, "n", of.N, inputs),
+                    ["mean"] = context.Results.Add(block.Id, "means", name, levels[k][l], null, "mean", of.CentredMean + centre, inputs),
+                };
+                outcome.Means.Add((name, levels[k][l], values));
+            }
+        }
+
+        if (block.Factors.Count == 1)
+        {
+            OneFactor(context, block, outcome, options, cells, inputs);
+        }
+
+        var small = cells.Where(c => c.Count is > 1 and < 5).ToList();
+        if (cells.Any(c => c.Count == 1))
+        {
+            outcome.Warnings.Add("Some groups have a single observation. They add nothing to the residual variance, and no check of their spread is possible.");
+        }
+
+        if (small.Count > 0)
+        {
+            outcome.Warnings.Add("Some groups have fewer than 5 observations: the test has little power to detect differences.");
+        }
+
+        if (block.Factors.Count > 1 && cells.Select(c => c.Count).Distinct().Count() > 1)
+        {
+            outcome.Warnings.Add("The design is unbalanced: the sums of squares depend on the SS type chosen.");
+        }
+
+        outcome.Notes.Add(MethodNote);
+        if (dropped > 0)
+        {
+            outcome.Notes.Add(string.Create(CultureInfo.InvariantCulture, $"{dropped} row(s) with a missing value were left out of this analysis."));
+        }
+
+        return outcome;
+    }
+
+    private static void OneFactor(EvaluationContext context, BoundBlock block, AggregatedAnovaOutcome outcome, AnovaKind.Options options, List<CellStatistics> cells, IReadOnlyList<string> inputs)
+    {
+        var groups = cells.Select(c => new GroupStatistics(c.Count, c.Mean, c.SumOfSquares)).ToList();
+        var name = block.Factors[0].Name;
+        var bt = GroupStatisticsTests.Bartlett(groups);
+        outcome.Bartlett = new Dictionary<string, ResultValue>(StringComparer.Ordinal)
+        {
+            ["statistic"] = context.Results.Add(block.Id, "bartlett", name, null, null, "statistic", bt.Statistic, inputs),
+            ["df"] = context.Results.Add(block.Id, "bartlett", name, null, null, "df", bt.Df, inputs),
+            ["p"] = context.Results.Add(block.Id, "bartlett", name, null, null, "p", bt.P, inputs),
+        };
+        var alpha = context.Header.Alpha;
+        var show = options.Welch == "yes";
+        if (options.Welch == "yes")
+        {
+            outcome.Decisions.Add("Welch's F is shown because it was requested (welch: yes).");
+        }
+        else if (options.Welch == "auto")
+        {
+            var a = alpha.ToString("R", CultureInfo.InvariantCulture);
+            if (bt.P.IsDefined && bt.P.Value < alpha)
+            {
+                show = true;
+                outcome.Decisions.Add($"Rule fired (welch: auto): on aggregated data the variances are compared by Bartlett's test (the rows needed by Brown–Forsythe were not loaded); it found unequal group variances (p {P(bt.P)} < α = {a}), so Welch's F, which does not assume equal variances, is shown and is the test to read. Bartlett's test is sensitive to non-normality, which could not be checked.");
+            }
+            else
+            {
+                outcome.Decisions.Add(bt.P.IsDefined
+                    ? $"Welch's F is not shown (welch: auto): Bartlett's test, used on aggregated data, found no evidence of unequal variances (p {P(bt.P)} ≥ α = {a}). Set 'welch: yes' to show it anyway."
+                    : $"Welch's F is not shown (welch: auto): equal variances could not be checked ({bt.P.Reason}).");
+            }
+        }
+
+        if (show)
+        {
+            var w = GroupStatisticsTests.Welch(groups);
+            var values = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
+            void AddW(string stat, Quantity q) => values[stat] = context.Results.Add(block.Id, "welch", name, null, null, stat, q, inputs);
+            AddW("f", w.F);
+            AddW("df1", Quantity.Of(w.Df1));
+            AddW("df2", w.Df2);
+            AddW("p", w.P);
+            outcome.Welch = values;
+        }
+    }
+
+    private static string P(Quantity p) => p.Value < 0.001 ? "< 0.001" : "= " + p.Value.ToString("F3", CultureInfo.InvariantCulture);
+
+}

@@ -1,0 +1,133 @@
+using System.Globalization;
+using StudyPress.Binding;
+using StudyPress.Diagnostics;
+using StudyPress.Evaluation;
+using StudyPress.Statistics;
+using StudyPress.Statistics.Anova;
+using StudyPress.Statistics.PostHoc;
+using StudyPress.Binding.Kinds;
+
+namespace StudyPress.Evaluation.Kinds;
+
+/// <summary>
+/// A <c>posthoc</c> block whose anova block ran on a dataset the database aggregated
+/// (<c>aggregate: true</c>): the comparisons come from each level's count, mean and sum of squares
+/// (the anova's cells pooled over the other factors) and the anova's residual mean square, through
+/// <see cref="PostHocFromSummaries"/>, which computes what the procedures on the values compute.
+/// <c>method: auto</c> compares the variances by Bartlett's test (Brown–Forsythe needs the rows);
+/// Dunn's rank comparisons need the rows and are not available. Manifest values and rendering are
+/// those of <see cref="PostHocKind"/>.
+/// </summary>
+public static class AggregatedPostHoc
+{
+    public const string MethodNote = "The comparisons were computed from per-level counts, means and sums of squares computed by the database (aggregate: true) and the residual mean square of the anova block; they equal the comparisons on the rows.";
+
+    public static BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, PostHocKind.Options options, AggregatedAnovaOutcome anova, DiagnosticBag diagnostics)
+    {
+        var outcome = new PostHocOutcome(block);
+        if (anova.Result is not { } fit)
+        {
+            return outcome;
+        }
+
+        var factors = anova.Factors;
+        int k;
+        if (options.Factor is { } name)
+        {
+            k = factors.Select((f, i) => (f, i)).FirstOrDefault(p => p.f.Name == name, (null!, -1)).Item2;
+            if (k < 0)
+            {
+                diagnostics.FactorNotInAnova(options.FactorLocation, name, block.Of!.Id, DiagnosticBag.Nearest(name, factors.Select(f => f.Name)));
+                return outcome;
+            }
+        }
+        else if (factors.Count == 1)
+        {
+            k = 0;
+        }
+        else
+        {
+            diagnostics.FactorChoiceNeeded(block.Location, block.Of!.Id);
+            return outcome;
+        }
+
+        if (AggregatedAnova.Cells(context, block.Of!) is not { } selected)
+        {
+            return outcome;
+        }
+
+        var (allLevels, cells, _) = selected;
+        var levels = allLevels[k];
+        var factor = factors[k];
+        if (options.Control is { } control && !levels.Contains(control))
+        {
+            diagnostics.UnknownControl(options.ControlLocation, control, factor.Name, DiagnosticBag.Nearest(control, levels));
+            return outcome;
+        }
+
+        outcome.FactorLabel = factor.Display;
+        var groups = Enumerable.Range(0, levels.Count)
+            .Select(l => Statistics.Descriptive.DescriptivesFromSummaries.Pool(cells.Where(c => c.Levels[k] == l).Select(c => new GroupStatistics(c.Count, c.Mean, c.SumOfSquares))))
+            .ToList();
+        var ms = fit.ResidualMeanSquare;
+        var df = fit.ResidualDf;
+        var alpha = context.Header.Alpha;
+        var alphaText = alpha.ToString("R", CultureInfo.InvariantCulture);
+        var method = options.Method;
+        if (method == "auto")
+        {
+            var bt = GroupStatisticsTests.Bartlett([.. cells.Select(c => new GroupStatistics(c.Count, c.Mean, c.SumOfSquares))]);
+            var over = factors.Count == 1 ? "groups" : "cells of the anova";
+            if (bt.P.IsDefined && bt.P.Value < alpha)
+            {
+                method = "games-howell";
+                outcome.Decisions.Add($"Rule fired (method: auto): on aggregated data the variances are compared by Bartlett's test over the {over} (the rows needed by Brown–Forsythe were not loaded); it found unequal variances (p = {P(bt.P)} < α = {alphaText}), so the Games–Howell procedure, which does not pool the variances, is used. Bartlett's test is sensitive to non-normality, which could not be checked.");
+            }
+            else
+            {
+                method = "tukey";
+                var chosen = options.Control is null ? "Tukey's HSD" : "Dunnett's comparisons with the control";
+                outcome.Decisions.Add(bt.P.IsDefined
+                    ? $"Method chosen (method: auto): {chosen}, since Bartlett's test over the {over}, used on aggregated data (the rows needed by Brown–Forsythe were not loaded), found no evidence of unequal variances (p = {P(bt.P)})."
+                    : $"Method chosen (method: auto): {chosen}; equal variances could not be checked ({bt.P.Reason}).");
+            }
+
+            outcome.Decisions.Add("Dunn's rank comparisons are not available on aggregated data: they need the ranks of the rows, which were not loaded, and the normality of the residuals could not be checked.");
+        }
+
+        if ((method is "tukey" or "holm" or "bonferroni") && !ms.IsDefined)
+        {
+            outcome.Warnings.Add("The residual mean square is not defined (" + ms.Reason + "), so the pooled-variance comparisons cannot be made.");
+        }
+
+        var msValue = ms.IsDefined ? ms.Value : double.NaN;
+        var (test, title, result) = method switch
+        {
+            "tukey" when options.Control is not null => ("dunnett", "Dunnett's comparisons with the control", PostHocFromSummaries.CompareDunnett(levels, groups, msValue, df, alpha, options.Control)),
+            "tukey" => ("tukey_hsd", groups.Select(g => g.Count).Distinct().Count() > 1 ? "Tukey–Kramer comparisons (unequal group sizes)" : "Tukey HSD comparisons", PostHocFromSummaries.CompareTukey(levels, groups, msValue, df, alpha)),
+            "games-howell" => ("games_howell", "Games–Howell comparisons (unequal variances allowed)", PostHocEvaluator.ControlOnly(PostHocFromSummaries.CompareGamesHowell(levels, groups, alpha), options.Control)),
+            "holm" => ("holm", "Pooled-variance t tests, Holm-adjusted", PostHocFromSummaries.ComparePooledT(levels, groups, msValue, df, alpha, PValueAdjustmentMethod.Holm, options.Control)),
+            _ => ("bonferroni", "Pooled-variance t tests, Bonferroni-adjusted", PostHocFromSummaries.ComparePooledT(levels, groups, msValue, df, alpha, PValueAdjustmentMethod.Bonferroni, options.Control)),
+        };
+        var inputs = context.Inputs(block);
+        var term = factor.Name;
+        outcome.Families.Add(PostHocEvaluator.Record(context, block, test, title, result, term, inputs));
+        var m = result.Comparisons.Count;
+        outcome.Multiplicity["m"] = context.Results.Add(block.Id, "family", term, null, null, "m", m, inputs);
+        outcome.Multiplicity["fwer_unadjusted"] = context.Results.Add(block.Id, "family", term, null, null, "fwer_unadjusted", PValueAdjustment.FamilyWiseErrorRate(m, alpha), inputs);
+        if (context.Header.Report.Figures && Figures.Intervals(outcome, alpha) is { } figure)
+        {
+            outcome.Figures.Add(figure);
+        }
+
+        if (groups.Any(g => g.Count < 2))
+        {
+            outcome.Warnings.Add("Some levels have a single observation: comparisons involving them rest entirely on the pooled variance (and are not defined for Games–Howell).");
+        }
+
+        outcome.Notes.Add(MethodNote);
+        return outcome;
+    }
+
+    private static string P(Quantity p) => !p.IsDefined ? "not defined" : p.Value < 0.001 ? "< 0.001" : p.Value.ToString("F3", CultureInfo.InvariantCulture);
+}

@@ -1,0 +1,357 @@
+using System.Globalization;
+using System.Runtime.CompilerServices;
+using StudyPress.Binding.Kinds;
+using StudyPress.Binding;
+using StudyPress.Diagnostics;
+using StudyPress.Evaluation;
+using StudyPress.Statistics.Anova;
+using StudyPress.Statistics.Nonparametric;
+using StudyPress.Statistics;
+
+namespace StudyPress.Evaluation.Kinds;
+
+public sealed class AnovaOutcome(BoundBlock block) : BlockOutcome(block)
+{
+    private AssumptionReview? review;
+
+    public AnovaResult? Result { get; set; }
+
+    public BlockData? Data { get; set; }
+
+    /// <summary>The model input: the (transformed) response, centred, and the factors.</summary>
+    public AnovaInput? Input { get; set; }
+
+    public TransformedResponse? Transformed { get; set; }
+
+    /// <summary>Centre subtracted from the (transformed) response before fitting.</summary>
+    public double ResponseCentre { get; set; }
+
+    public List<(AnovaTerm Term, Dictionary<string, ResultValue> Values)> Terms { get; } = [];
+
+    public Dictionary<string, ResultValue> Residual { get; } = new(StringComparer.Ordinal);
+
+    public Dictionary<string, ResultValue> Total { get; } = new(StringComparer.Ordinal);
+
+    public List<(string Factor, string Level, Dictionary<string, ResultValue> Values)> Means { get; } = [];
+
+    public Dictionary<string, ResultValue>? Welch { get; set; }
+
+    /// <summary>The Box–Cox estimate's values (lambda, lambda_low, lambda_high), when that transform was used.</summary>
+    public Dictionary<string, ResultValue> BoxCox { get; } = new(StringComparer.Ordinal);
+
+    public Dictionary<string, ResultValue>? Ranks { get; set; }
+
+    /// <summary>Which automatic rules fired, in plain words.</summary>
+    public List<string> Decisions { get; } = [];
+
+    /// <summary>The assumption checks of this model, computed when first needed.</summary>
+    public AssumptionReview Review => review ??= AssumptionReview.Run(this);
+
+    public bool ReadWelch { get; set; }
+}
+
+/// <summary>Evaluates <c>anova</c> blocks into values (no HTML, no report text).</summary>
+public sealed class AnovaEvaluator : KindEvaluator
+{
+    /// <summary>Registers this part of the kind (see DEVELOPERS.md, "Adding an analysis kind").</summary>
+    [ModuleInitializer]
+    internal static void Register() => KindEvaluators.Register(new AnovaEvaluator());
+
+    public override string Kind => "anova";
+
+    public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
+    {
+        var options = (AnovaKind.Options)block.Options!;
+        if (AggregatedAnova.Applies(context, block))
+        {
+            return AggregatedAnova.Evaluate(context, block, options, diagnostics);
+        }
+
+        var outcome = new AnovaOutcome(block);
+        var data = context.Select(block, diagnostics);
+        if (data is null)
+        {
+            return outcome;
+        }
+
+        outcome.Data = data;
+        foreach (var f in data.Factors)
+        {
+            if (f.Levels.Count < 2)
+            {
+                diagnostics.TooFewGroups(block.FactorsLocation, f.Spec.Name, f.Levels.Count);
+                return outcome;
+            }
+        }
+
+        var cells = data.Cells();
+        if (cells.All(c => c.Values.Length == 1) && (data.Factors.Count == 1 || options.Interaction))
+        {
+            diagnostics.NoResidualDf(block.Location);
+            return outcome;
+        }
+
+        var factors = data.Factors.Select(f => f.ToColumn()).ToList();
+        var response = data.Response;
+        var centre = data.Centre;
+        if (options.Transform != TransformKind.None)
+        {
+            var t = ResponseTransform.Apply(data.Values, options.Transform, factors, options.Interaction, context.Header.Alpha);
+            if (t.Error is { } error)
+            {
+                if (error.Index is { } index)
+                {
+                    var line = data.Dataset.Lines[data.Rows[index]];
+                    diagnostics.TransformRow(
+                        new SourceLocation(DataDisplay(context, data), line - 1, 0),
+                        options.TransformName,
+                        data.ResponseName,
+                        (error.Value ?? data.Values[index]).ToString("R", CultureInfo.InvariantCulture),
+                        NeedText(options.Transform));
+                }
+                else
+                {
+                    diagnostics.TransformDomain(block.Location, options.TransformName, error.Message);
+                }
+
+                return outcome;
+            }
+
+            outcome.Transformed = t.Result;
+            centre = Groups.Mean(t.Result!.Values);
+            response = [.. t.Result.Values.Select(v => v - centre)];
+        }
+
+        outcome.ResponseCentre = centre;
+        var input = new AnovaInput(response, factors, options.Interaction, options.SsType, context.Header.Alpha)
+        {
+            // Exact decimal data give exact sums of squares (one factor, untransformed response).
+            Exact = options.Transform == TransformKind.None && data.Factors.Count == 1 ? data.Exact?.AsScaled() : null,
+        };
+        if (data.Factors.Count > 1 && AnovaDesign.Check(input) is { } problem)
+        {
+            if (problem.Kind == DesignProblemKind.EmptyCell && problem.Cell is { } cell)
+            {
+                diagnostics.EmptyCell(block.FactorsLocation, string.Join(", ", cell.Select((l, k) => $"{factors[k].Name} = '{l}'")));
+            }
+            else
+            {
+                diagnostics.DesignProblem(block.FactorsLocation, problem.Message);
+            }
+
+            return outcome;
+        }
+
+        outcome.Input = input;
+        var result = FactorialAnova.Fit(input);
+        outcome.Result = result;
+        var inputs = context.Inputs(block);
+        AnovaEvaluator.RecordTable(context, block, result.Terms, result.ResidualSumOfSquares, result.ResidualDf, result.ResidualMeanSquare, result.TotalSumOfSquares, result.TotalDf, inputs, outcome.Terms, outcome.Residual, outcome.Total);
+
+        if (outcome.Transformed?.BoxCox is { } bc)
+        {
+            outcome.BoxCox["lambda"] = context.Results.Add(block.Id, "box_cox", null, null, null, "lambda", bc.Lambda, inputs);
+            outcome.BoxCox["lambda_low"] = context.Results.Add(block.Id, "box_cox", null, null, null, "lambda_low", bc.LambdaLow, inputs);
+            outcome.BoxCox["lambda_high"] = context.Results.Add(block.Id, "box_cox", null, null, null, "lambda_high", bc.LambdaHigh, inputs);
+        }
+
+        AddMeans(context, block, outcome, inputs);
+        if (data.Factors.Count == 1)
+        {
+            OneFactorChecks(context, block, outcome, options, inputs);
+        }
+
+        AddCautions(context, block, outcome, data, options);
+        if (context.Header.Report.Figures)
+        {
+            var shape = data.Factors.Count == 1 ? Figures.Means(data, context.Header.Alpha) : Figures.Interaction(outcome);
+            if (shape is not null)
+            {
+                outcome.Figures.Add(shape);
+            }
+
+            outcome.Figures.AddRange(Figures.FDistributions(outcome).Take(data.Factors.Count == 1 ? 1 : 3));
+        }
+
+        return outcome;
+    }
+
+    /// <summary>
+    /// Records an ANOVA table in the manifest: per term SS, df, MS, F, p, critical F, effect sizes
+    /// and the (1 − alpha) interval of partial eta²; residual SS, df, MS; total SS, df. Shared by
+    /// fits on loaded rows and on database cell summaries, so both write the same vocabulary.
+    /// </summary>
+    internal static void RecordTable(
+        EvaluationContext context,
+        BoundBlock block,
+        IReadOnlyList<AnovaTerm> terms,
+        double ssResidual,
+        int dfResidual,
+        Quantity msResidual,
+        double ssTotal,
+        int dfTotal,
+        IReadOnlyList<string> inputs,
+        List<(AnovaTerm Term, Dictionary<string, ResultValue> Values)> termValues,
+        Dictionary<string, ResultValue> residual,
+        Dictionary<string, ResultValue> total)
+    {
+        foreach (var t in terms)
+        {
+            var values = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
+            void Add(string stat, Quantity q) => values[stat] = context.Results.Add(block.Id, "anova", t.Name, null, null, stat, q, inputs);
+            Add("ss", Quantity.Of(t.SumOfSquares));
+            Add("df", Quantity.Of(t.Df));
+            Add("ms", t.MeanSquare);
+            Add("f", t.F);
+            Add("p", t.P);
+            Add("f_crit", t.FCritical);
+            Add("eta2", t.EtaSquared);
+            Add("partial_eta2", t.PartialEtaSquared);
+            Add("omega2", t.OmegaSquared);
+            Add("cohen_f", t.CohenF);
+            var ci = EffectSizeIntervals.PartialEtaSquared(t.F, t.Df, dfResidual, 1 - context.Header.Alpha);
+            Add("partial_eta2_ci_low", ci.PartialEtaSquaredLow);
+            Add("partial_eta2_ci_high", ci.PartialEtaSquaredHigh);
+            termValues.Add((t, values));
+        }
+
+        residual["ss"] = context.Results.Add(block.Id, "anova", "residual", null, null, "ss", ssResidual, inputs);
+        residual["df"] = context.Results.Add(block.Id, "anova", "residual", null, null, "df", dfResidual, inputs);
+        residual["ms"] = context.Results.Add(block.Id, "anova", "residual", null, null, "ms", msResidual, inputs);
+        total["ss"] = context.Results.Add(block.Id, "anova", "total", null, null, "ss", ssTotal, inputs);
+        total["df"] = context.Results.Add(block.Id, "anova", "total", null, null, "df", dfTotal, inputs);
+    }
+
+    private static string DataDisplay(EvaluationContext context, BlockData data) =>
+        context.DataDisplayPaths.TryGetValue(data.Dataset.Spec.Name, out var p) ? p : data.Dataset.Path;
+
+    private static string NeedText(TransformKind kind) => kind switch
+    {
+        TransformKind.Sqrt => "non-negative",
+        TransformKind.Reciprocal => "non-zero",
+        _ => "positive",
+    };
+
+    private static void AddMeans(EvaluationContext context, BoundBlock block, AnovaOutcome outcome, IReadOnlyList<string> inputs)
+    {
+        var means = AnovaMeans.Compute(outcome.Input!);
+        foreach (var fm in means.Factors)
+        {
+            foreach (var lm in fm.Levels)
+            {
+                var values = new Dictionary<string, ResultValue>(StringComparer.Ordinal)
+                {
+                    ["n"] = context.Results.Add(block.Id, "means", fm.Factor, lm.Level, null, "n", lm.Count, inputs),
+                    ["mean"] = context.Results.Add(block.Id, "means", fm.Factor, lm.Level, null, "mean", Back(outcome, lm.RawMean), inputs),
+                };
+                if (outcome.Input!.Factors.Count > 1)
+                {
+                    values["ls_mean"] = context.Results.Add(block.Id, "means", fm.Factor, lm.Level, null, "ls_mean", Back(outcome, lm.LeastSquaresMean), inputs);
+                }
+
+                outcome.Means.Add((fm.Factor, lm.Level, values));
+            }
+        }
+    }
+
+    /// <summary>A mean on the model scale (centred), back on the response's own scale.</summary>
+    private static Quantity Back(AnovaOutcome outcome, Quantity centredMean)
+    {
+        if (!centredMean.IsDefined)
+        {
+            return centredMean;
+        }
+
+        var m = centredMean.Value + outcome.ResponseCentre;
+        return outcome.Transformed is { } t ? ResponseTransform.BackTransformMean(m, t) : Quantity.Of(m);
+    }
+
+    private static void OneFactorChecks(EvaluationContext context, BoundBlock block, AnovaOutcome outcome, AnovaKind.Options options, IReadOnlyList<string> inputs)
+    {
+        var factor = outcome.Data!.Factors[0];
+        var groups = factor.Split(outcome.Input!.Response);
+        var alpha = context.Header.Alpha.ToString("R", CultureInfo.InvariantCulture);
+        var showWelch = options.Welch == "yes";
+        if (options.Welch == "yes")
+        {
+            outcome.Decisions.Add("Welch's F is shown because it was requested (welch: yes).");
+        }
+        else if (options.Welch == "auto")
+        {
+            var bf = outcome.Review.BrownForsythe;
+            if (outcome.Review.UnequalVariances)
+            {
+                showWelch = true;
+                outcome.ReadWelch = true;
+                outcome.Decisions.Add($"Rule fired (welch: auto): the Brown–Forsythe test found unequal group variances (p = {P(bf.P)} < α = {alpha}), so Welch's F, which does not assume equal variances, is shown and is the test to read.");
+            }
+            else
+            {
+                outcome.Decisions.Add(bf.P.IsDefined
+                    ? $"Welch's F is not shown (welch: auto): the Brown–Forsythe test found no evidence of unequal variances (p = {P(bf.P)} ≥ α = {alpha}). Set 'welch: yes' to show it anyway."
+                    : $"Welch's F is not shown (welch: auto): the rule did not fire because equal variances could not be checked (Brown–Forsythe: {bf.P.Reason}).");
+            }
+
+            if (outcome.Review.WantsRankTest)
+            {
+                var kw = KruskalWallis.Test(groups);
+                outcome.Ranks = new Dictionary<string, ResultValue>(StringComparer.Ordinal)
+                {
+                    ["h"] = context.Results.Add(block.Id, "kruskal_wallis", factor.Spec.Name, null, null, "h", kw.H, inputs),
+                    ["df"] = context.Results.Add(block.Id, "kruskal_wallis", factor.Spec.Name, null, null, "df", kw.Df, inputs),
+                    ["p"] = context.Results.Add(block.Id, "kruskal_wallis", factor.Spec.Name, null, null, "p", kw.P, inputs),
+                };
+                outcome.Decisions.Add(string.Create(CultureInfo.InvariantCulture, $"Rule fired (welch: auto): the residuals depart from normality (Shapiro–Wilk p = {P(outcome.Review.Normality.P)} < α = {alpha}) and the smallest group has only {outcome.Review.SmallestGroup} observations (fewer than {AssumptionReview.SmallGroup}), so the Kruskal–Wallis rank test, which does not assume normality, is shown as well."));
+            }
+        }
+
+        if (showWelch)
+        {
+            var w = WelchAnova.Test(groups);
+            var values = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
+            void AddW(string stat, Quantity q) => values[stat] = context.Results.Add(block.Id, "welch", factor.Spec.Name, null, null, stat, q, inputs);
+            AddW("f", w.F);
+            AddW("df1", Quantity.Of(w.Df1));
+            AddW("df2", w.Df2);
+            AddW("p", w.P);
+            outcome.Welch = values;
+        }
+    }
+
+    private static string P(Quantity p) => !p.IsDefined ? "not defined" : p.Value < 0.001 ? "< 0.001" : p.Value.ToString("F3", CultureInfo.InvariantCulture);
+
+    private static void AddCautions(EvaluationContext context, BoundBlock block, AnovaOutcome outcome, BlockData data, AnovaKind.Options options)
+    {
+        var cells = data.Cells();
+        var ones = cells.Where(c => c.Values.Length == 1).Select(c => c.Label).ToList();
+        if (ones.Count > 0)
+        {
+            outcome.Warnings.Add($"Single-observation group(s): {string.Join(", ", ones)}. They add nothing to the residual variance, and no check of their spread is possible.");
+        }
+
+        var small = cells.Where(c => c.Values.Length is > 1 and < 5).Select(c => c.Label).ToList();
+        if (small.Count > 0)
+        {
+            outcome.Warnings.Add($"Small group(s) (fewer than 5 observations): {string.Join(", ", small.Select(StudyPress.Charts.BidiText.Isolate))}. The test has little power to detect differences, and normality and equal variances cannot be judged well from so few values.");
+        }
+
+        var unbalanced = cells.Select(c => c.Values.Length).Distinct().Count() > 1;
+        if (unbalanced && data.Factors.Count > 1)
+        {
+            outcome.Warnings.Add(options.Interaction
+                ? "The design is unbalanced and includes interactions: the sums of squares depend on the SS type, and a main effect is hard to interpret on its own when its factor interacts with another."
+                : "The design is unbalanced: the sums of squares depend on the SS type chosen.");
+        }
+
+        if (data.DroppedMissing > 0)
+        {
+            outcome.Notes.Add(string.Create(CultureInfo.InvariantCulture, $"{data.DroppedMissing} row(s) with a missing value were left out of this analysis."));
+        }
+
+        var empty = SummaryEvaluator.EmptyGroups(context, block, data);
+        if (empty.Count > 0)
+        {
+            outcome.Notes.Add($"Group(s) without any observed response ({string.Join(", ", empty)}): every response is missing, so they are not part of this analysis, its comparisons or its figures.");
+        }
+    }
+}

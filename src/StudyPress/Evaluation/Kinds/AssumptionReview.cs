@@ -1,0 +1,196 @@
+using System.Globalization;
+using StudyPress.Statistics;
+using StudyPress.Statistics.Anova;
+using StudyPress.Statistics.Assumptions;
+
+namespace StudyPress.Evaluation.Kinds;
+
+/// <summary>
+/// The checks of an ANOVA model's assumptions and their verdicts, computed once per anova block
+/// and shared by the anova block's automatic choices (Welch's F, rank test), the assumptions
+/// block and the post-hoc block's automatic method.
+/// Verdict rules (documented in docs/analyses.md):
+/// normality fails when Shapiro–Wilk p &lt; alpha; equal variances fail when Brown–Forsythe p &lt; alpha;
+/// independence fails when Durbin–Watson p (positive serial correlation) &lt; alpha; an outlier is
+/// an observation whose Bonferroni-adjusted externally studentized residual has p &lt; alpha.
+/// </summary>
+public sealed class AssumptionReview
+{
+    /// <summary>Below this smallest group size, non-normal residuals make the F test's p doubtful.</summary>
+    public const int SmallGroup = 15;
+
+    public required ShapiroWilkResult Normality { get; init; }
+
+    public required LeveneResult BrownForsythe { get; init; }
+
+    public required LeveneResult Levene { get; init; }
+
+    public required BartlettResult Bartlett { get; init; }
+
+    public DurbinWatsonResult? Independence { get; init; }
+
+    /// <summary>Why the independence check was not run, when it was not.</summary>
+    public string? IndependenceSkipped { get; init; }
+
+    public required StudentizedResidualsResult Outliers { get; init; }
+
+    public required int SmallestGroup { get; init; }
+
+    public required double Alpha { get; init; }
+
+    public bool NonNormal => Normality.P.IsDefined && Normality.P.Value < Alpha;
+
+    public bool UnequalVariances => BrownForsythe.P.IsDefined && BrownForsythe.P.Value < Alpha;
+
+    public bool Dependent => Independence is { P.IsDefined: true } d && d.P.Value < Alpha;
+
+    public bool HasOutliers => Outliers.Flagged.Count > 0;
+
+    /// <summary>Non-normal residuals with small groups: the rank test should be run as well.</summary>
+    public bool WantsRankTest => NonNormal && SmallestGroup < SmallGroup;
+
+    /// <summary>Why normality is not checked when the model fits the data exactly.</summary>
+    public const string ZeroResiduals = "every group's values are equal, so the residuals are all exactly zero and W = 0/0 is not defined";
+
+    public static AssumptionReview Run(AnovaOutcome anova)
+    {
+        var result = anova.Result!;
+        var alpha = result.Alpha;
+        var cells = anova.Data!.Cells();
+        var response = anova.Input!.Response;
+        var groups = new List<double[]>(cells.Count);
+        foreach (var c in cells)
+        {
+            var g = new double[c.Positions.Length];
+            for (var j = 0; j < g.Length; j++)
+            {
+                g[j] = response[c.Positions[j]];
+            }
+
+            groups.Add(g);
+        }
+
+        // With every cell constant the cell-means model fits exactly: the residuals are exactly
+        // zero, whatever rounding leaves in their floating-point values, and W is 0/0.
+        var exactFit = (anova.Input!.Factors.Count == 1 || anova.Input.Interactions) && groups.All(g => Groups.IsConstant(g));
+        var normality = exactFit
+            ? new ShapiroWilkResult(result.Residuals.Length, Quantity.Undefined(ZeroResiduals), Quantity.Undefined(ZeroResiduals), [])
+            : ShapiroWilk.Test(result.Residuals);
+        LeveneResult bf, lev;
+        BartlettResult bart;
+        if (groups.Count >= 2)
+        {
+            bf = Statistics.Assumptions.BrownForsythe.Test(groups);
+            lev = Statistics.Assumptions.Levene.Test(groups);
+            bart = Statistics.Assumptions.Bartlett.Test(groups);
+        }
+        else
+        {
+            var u = Quantity.Undefined("there is only one group");
+            bf = lev = new LeveneResult(u, 0, 0, u);
+            bart = new BartlettResult(u, 0, u);
+        }
+
+        DurbinWatsonResult? dw = null;
+        string? skipped = null;
+        var order = anova.Data.Dataset.Order;
+        if (order is null)
+        {
+            skipped = "the header names no run-order column ('order'), so independence in time was not checked; the file's row order is not assumed to be the run order";
+        }
+        else
+        {
+            var positions = RunOrder(order, anova.Data.Rows);
+            if (positions.Length < 3)
+            {
+                skipped = "fewer than three observations have a run order";
+            }
+            else
+            {
+                // The design in structured form (a coding row per cell), in run order.
+                var (cellRows, cellOf) = AnovaDesign.CellModelMatrix(anova.Input!);
+                var sortedCells = new int[positions.Length];
+                var sortedResiduals = new double[positions.Length];
+                for (var r = 0; r < positions.Length; r++)
+                {
+                    sortedCells[r] = cellOf[positions[r]];
+                    sortedResiduals[r] = result.Residuals[positions[r]];
+                }
+
+                dw = DurbinWatson.Test(sortedResiduals, cellRows, sortedCells);
+                var missing = anova.Data.Rows.Length - positions.Length;
+                if (missing > 0)
+                {
+                    skipped = string.Create(CultureInfo.InvariantCulture, $"{missing} observation(s) without a run order were left out of the Durbin–Watson test");
+                }
+            }
+        }
+
+        var outliers = StudentizedResiduals.Compute(result.Residuals, result.Leverages, result.ResidualDf, alpha);
+        return new AssumptionReview
+        {
+            Normality = normality,
+            BrownForsythe = bf,
+            Levene = lev,
+            Bartlett = bart,
+            Independence = dw,
+            IndependenceSkipped = skipped,
+            Outliers = outliers,
+            SmallestGroup = cells.Min(c => c.Values.Length),
+            Alpha = alpha,
+        };
+    }
+
+    /// <summary>
+    /// Positions (into the block's rows) that have a run order, sorted by it, ties in position order.
+    /// Data usually come in run order, so an ordered run is detected in one pass without sorting.
+    /// </summary>
+    private static int[] RunOrder(Data.NumericColumn order, int[] rows)
+    {
+        var count = 0;
+        var sorted = true;
+        var last = double.NegativeInfinity;
+        foreach (var r in rows)
+        {
+            if (order.IsMissing(r))
+            {
+                continue;
+            }
+
+            var v = order.Values[r];
+            sorted &= v.CompareTo(last) >= 0 || count == 0;
+            last = v;
+            count++;
+        }
+
+        var positions = new int[count];
+        var keys = new double[count];
+        var k = 0;
+        for (var i = 0; i < rows.Length; i++)
+        {
+            if (!order.IsMissing(rows[i]))
+            {
+                positions[k] = i;
+                keys[k++] = order.Values[rows[i]];
+            }
+        }
+
+        if (!sorted)
+        {
+            // Stable: equal keys keep position order (as OrderBy(key).ThenBy(position) did).
+            var items = new (double Key, int Position)[count];
+            for (var j = 0; j < count; j++)
+            {
+                items[j] = (keys[j], positions[j]);
+            }
+
+            Array.Sort(items, static (x, y) => x.Key.CompareTo(y.Key) is var c && c != 0 ? c : x.Position.CompareTo(y.Position));
+            for (var j = 0; j < count; j++)
+            {
+                positions[j] = items[j].Position;
+            }
+        }
+
+        return positions;
+    }
+}

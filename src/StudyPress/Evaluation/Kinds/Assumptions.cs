@@ -1,0 +1,104 @@
+using System.Globalization;
+using System.Runtime.CompilerServices;
+using StudyPress.Binding.Kinds;
+using StudyPress.Binding;
+using StudyPress.Diagnostics;
+using StudyPress.Evaluation;
+using StudyPress.Statistics.Assumptions;
+using StudyPress.Statistics;
+
+namespace StudyPress.Evaluation.Kinds;
+
+public sealed class AssumptionsOutcome(BoundBlock block) : BlockOutcome(block)
+{
+    public AssumptionReview? Review { get; set; }
+
+    public AnovaOutcome? Anova { get; set; }
+
+    public Dictionary<string, Dictionary<string, ResultValue>> Values { get; } = new(StringComparer.Ordinal);
+
+    public List<(int Line, Dictionary<string, ResultValue> Values)> Flagged { get; } = [];
+}
+
+/// <summary>Evaluates <c>assumptions</c> blocks into values (no HTML, no report text).</summary>
+public sealed class AssumptionsEvaluator : KindEvaluator
+{
+    /// <summary>Registers this part of the kind (see DEVELOPERS.md, "Adding an analysis kind").</summary>
+    [ModuleInitializer]
+    internal static void Register() => KindEvaluators.Register(new AssumptionsEvaluator());
+
+    public override string Kind => "assumptions";
+
+    public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
+    {
+        var outcome = new AssumptionsOutcome(block);
+        if (context.Outcomes.GetValueOrDefault(block.Of!.Id) is not AnovaOutcome { Result: not null } anova)
+        {
+            return outcome;
+        }
+
+        outcome.Anova = anova;
+        var review = anova.Review;
+        outcome.Review = review;
+        var inputs = context.Inputs(block);
+        var term = string.Join(":", anova.Data!.Factors.Select(f => f.Spec.Name));
+        Dictionary<string, ResultValue> Group(string test) => outcome.Values[test] = new(StringComparer.Ordinal);
+        void Add(Dictionary<string, ResultValue> g, string test, string t, string stat, Quantity q) => g[stat] = context.Results.Add(block.Id, test, t, null, null, stat, q, inputs);
+
+        var sw = Group("shapiro_wilk");
+        Add(sw, "shapiro_wilk", "residual", "w", review.Normality.W);
+        Add(sw, "shapiro_wilk", "residual", "p", review.Normality.P);
+        foreach (var (name, r) in new[] { ("brown_forsythe", review.BrownForsythe), ("levene", review.Levene) })
+        {
+            var g = Group(name);
+            Add(g, name, term, "f", r.F);
+            Add(g, name, term, "df1", Quantity.Of(r.Df1));
+            Add(g, name, term, "df2", Quantity.Of(r.Df2));
+            Add(g, name, term, "p", r.P);
+        }
+
+        var bt = Group("bartlett");
+        Add(bt, "bartlett", term, "statistic", review.Bartlett.Statistic);
+        Add(bt, "bartlett", term, "df", Quantity.Of(review.Bartlett.Df));
+        Add(bt, "bartlett", term, "p", review.Bartlett.P);
+        if (review.Independence is { } dw)
+        {
+            var g = Group("durbin_watson");
+            Add(g, "durbin_watson", "residual", "d", dw.Statistic);
+            Add(g, "durbin_watson", "residual", "p", dw.P);
+        }
+
+        var ol = Group("outliers");
+        var largest = review.Outliers.Largest;
+        Add(ol, "outliers", "residual", "max_abs_t", largest is null ? Quantity.Undefined(review.Outliers.Reason ?? "no studentized residual is defined") : Quantity.Of(Math.Abs(largest.T.Value)));
+        Add(ol, "outliers", "residual", "p_bonferroni", largest is null ? Quantity.Undefined(review.Outliers.Reason ?? "no studentized residual is defined") : largest.BonferroniP);
+        foreach (var index in review.Outliers.Flagged)
+        {
+            var r = review.Outliers.Residuals[index];
+            var line = anova.Data.Dataset.Lines[anova.Data.Rows[index]];
+            var level = "line " + line.ToString(CultureInfo.InvariantCulture);
+            outcome.Flagged.Add((line, new Dictionary<string, ResultValue>(StringComparer.Ordinal)
+            {
+                ["t"] = context.Results.Add(block.Id, "outliers", "residual", level, null, "t", r.T, inputs),
+                ["p_bonferroni"] = context.Results.Add(block.Id, "outliers", "residual", level, null, "p_bonferroni", r.BonferroniP, inputs),
+            }));
+        }
+
+        if (review.Normality.N > ShapiroWilk.MaximumN)
+        {
+            outcome.Warnings.Add(string.Create(CultureInfo.InvariantCulture, $"Shapiro–Wilk is computed for 3 to {ShapiroWilk.MaximumN} residuals; this model has {review.Normality.N}, so normality was not tested. With this many observations the F test is robust to moderate non-normality; judge the residual plots instead."));
+        }
+
+        if (context.Header.Report.Figures)
+        {
+            outcome.Figures.AddRange(new[] { Figures.Qq(anova), Figures.Histogram(anova), Figures.ResidualsFitted(anova) }.OfType<Figure>());
+        }
+
+        if (review.SmallestGroup < 5)
+        {
+            outcome.Warnings.Add("Some groups have fewer than 5 observations: these checks have little power, so passing them is weak reassurance.");
+        }
+
+        return outcome;
+    }
+}

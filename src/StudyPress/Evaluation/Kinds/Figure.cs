@@ -1,0 +1,70 @@
+using System.Runtime.CompilerServices;
+using StudyPress.Binding.Kinds;
+using StudyPress.Binding;
+using StudyPress.Diagnostics;
+using StudyPress.Evaluation;
+
+namespace StudyPress.Evaluation.Kinds;
+
+/// <summary>Evaluates <c>figure</c> blocks into values (no HTML, no report text).</summary>
+public sealed class FigureEvaluator : KindEvaluator
+{
+    /// <summary>Registers this part of the kind (see DEVELOPERS.md, "Adding an analysis kind").</summary>
+    [ModuleInitializer]
+    internal static void Register() => KindEvaluators.Register(new FigureEvaluator());
+
+    public override string Kind => "figure";
+
+    public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
+    {
+        var options = (FigureKind.Options)block.Options!;
+        var outcome = new BlockOutcome(block);
+        var source = context.Outcomes.GetValueOrDefault(options.Source.Id);
+        var caption = block.Caption;
+        var data = source switch
+        {
+            SummaryOutcome s => s.Data,
+            AnovaOutcome a => a.Data,
+            _ => null,
+        };
+        var figures = new List<Figure?>();
+        switch (options.Type)
+        {
+            case "box" when data is not null:
+                figures.Add(Figures.Box(data, caption));
+                break;
+            case "means" when data is not null:
+                figures.Add(Figures.Means(data, context.Header.Alpha, caption));
+                break;
+            case "interaction" when source is AnovaOutcome a:
+                figures.Add(Figures.Interaction(a, caption));
+                break;
+            case "qq" when source is AnovaOutcome a:
+                figures.Add(Figures.Qq(a, caption));
+                break;
+            case "residual-histogram" when source is AnovaOutcome a:
+                figures.Add(Figures.Histogram(a, caption));
+                break;
+            case "residuals-fitted" when source is AnovaOutcome a:
+                figures.Add(Figures.ResidualsFitted(a, caption));
+                break;
+            case "f-distribution" when source is AnovaOutcome a:
+                figures.AddRange(Figures.FDistributions(a, caption));
+                break;
+            case "intervals" when source is PostHocOutcome p:
+                figures.Add(Figures.Intervals(p, context.Header.Alpha, caption));
+                break;
+            case "power-curve" when source is PowerOutcome p:
+                figures.Add(Figures.PowerCurve(p, caption));
+                break;
+        }
+
+        outcome.Figures.AddRange(figures.OfType<Figure>());
+        if (outcome.Figures.Count == 0 && source is not null)
+        {
+            outcome.Notes.Add($"The {options.Type} figure cannot be drawn from block '{options.Source.Id}' (too few values, or the statistics it needs are not defined).");
+        }
+
+        return outcome;
+    }
+}

@@ -1,0 +1,259 @@
+using System.Globalization;
+using StudyPress.Charts;
+using StudyPress.Evaluation;
+using StudyPress.Statistics.Power;
+
+namespace StudyPress.Evaluation.Kinds;
+
+/// <summary>A chart placed in the report, with the caption shown under it.</summary>
+public sealed record Figure(string Type, string Caption, Chart Chart);
+
+/// <summary>
+/// Builds the report's figures from block outcomes. Each kind places the figures that belong to it
+/// (unless the header sets <c>report: {figures: none}</c>); the <c>figure</c> block draws any of
+/// them on its own.
+/// </summary>
+public static class Figures
+{
+
+    /// <summary>Above this many points in one figure (or group), the figure draws a thinned set.</summary>
+    internal const int MaxPoints = 5000;
+
+    /// <summary>How many points a thinned figure draws.</summary>
+    internal const int ThinnedPoints = 2000;
+
+    private static readonly System.Runtime.CompilerServices.ConditionalWeakTable<double[], double[]> Thinned = new();
+
+    private static readonly System.Runtime.CompilerServices.ConditionalWeakTable<int[], double[]> SortedCells = new();
+
+    /// <summary>
+    /// A cell's response values (<paramref name="positions"/> into the block, as
+    /// <see cref="BlockData.Cells"/> gives them) in ascending order: sorted once per cell and shared
+    /// by the summary, the means figure and the box plots. The array must not be changed.
+    /// </summary>
+    internal static double[] SortedValues(BlockData data, int[] positions) => SortedCells.GetValue(positions, p =>
+    {
+        var v = new double[p.Length];
+        for (var k = 0; k < p.Length; k++)
+        {
+            v[k] = data.Values[p[k]];
+        }
+
+        Array.Sort(v);
+        return v;
+    });
+
+    /// <summary>Evenly spaced order statistics of sorted values (see <see cref="Thin"/>).</summary>
+    private static double[] ThinSorted(double[] sorted)
+    {
+        var r = new double[ThinnedPoints];
+        for (var k = 0; k < ThinnedPoints; k++)
+        {
+            r[k] = sorted[(int)Math.Round((double)k * (sorted.Length - 1) / (ThinnedPoints - 1))];
+        }
+
+        return r;
+    }
+
+    /// <summary>
+    /// The values themselves up to <see cref="MaxPoints"/>; above, <see cref="ThinnedPoints"/> evenly
+    /// spaced order statistics (the smallest and largest included), so a figure of millions of
+    /// points stays small and quick while its shape is kept.
+    /// </summary>
+    internal static double[] Thin(double[] values)
+    {
+        if (values.Length <= MaxPoints)
+        {
+            return values;
+        }
+
+        return Thinned.GetValue(values, v =>
+        {
+            var sorted = (double[])v.Clone();
+            Array.Sort(sorted);
+            return ThinSorted(sorted);
+        });
+    }
+
+    private static string ThinNote(int n) => n > MaxPoints
+        ? string.Create(CultureInfo.InvariantCulture, $" With {n:N0} observations, the figure draws {ThinnedPoints:N0} evenly spaced order statistics instead of every point.")
+        : string.Empty;
+
+    /// <summary>Box plots with every observation over them, by the block's cells.</summary>
+    /// <summary>A user-supplied name set inside generated text: isolated on its own, so that numbers beside it keep their order.</summary>
+    private static string Name(string name) => StudyPress.Charts.BidiText.Isolate(name);
+
+    public static Figure? Box(BlockData data, string? caption = null)
+    {
+        var cells = data.Factors.Count == 0 ? [("all", Array.Empty<int>(), data.Response, Enumerable.Range(0, data.Rows.Length).ToArray())] : data.Cells();
+        // Above the limit the thinned order statistics come from the cell's shared sorted values.
+        var groups = cells.Select(c => new GroupSample(
+            c.Label,
+            c.Positions.Length <= MaxPoints ? [.. c.Positions.Select(i => data.Values[i])] : ThinSorted(SortedValues(data, c.Positions)))).ToList();
+        var by = string.Join(" and ", data.Factors.Select(f => f.Spec.Display));
+        var chart = StatCharts.GroupDistributions(groups, new ChartLabels($"Distribution of {Name(data.ResponseName)}" + (by.Length > 0 ? " by " + Name(by) : string.Empty), by, data.ResponseName));
+        var largest = cells.Max(c => c.Positions.Length);
+        return new Figure("box", caption ?? $"Each group's box spans the quartiles with the median marked; whiskers reach the most extreme values within 1.5 IQR of the box; every observation is drawn as a point." + ThinNote(largest), chart);
+    }
+
+    /// <summary>Group means with t confidence intervals.</summary>
+    public static Figure? Means(BlockData data, double alpha, string? caption = null)
+    {
+        var cells = data.Factors.Count == 0 ? [("all", Array.Empty<int>(), data.Response, Enumerable.Range(0, data.Rows.Length).ToArray())] : data.Cells();
+        var means = new List<GroupMean>();
+        foreach (var (label, _, values, positions) in cells)
+        {
+            var s = Statistics.Descriptive.Descriptives.ComputeSorted(values, SortedValues(data, positions), data.Centre, alpha, data.ExactMean(positions));
+            if (!s.CiLow.IsDefined)
+            {
+                continue;
+            }
+
+            means.Add(new GroupMean(label, s.Mean, s.CiLow.Value, s.CiHigh.Value));
+        }
+
+        if (means.Count == 0)
+        {
+            return null;
+        }
+
+        var level = Confidence(alpha);
+        var by = string.Join(" and ", data.Factors.Select(f => f.Spec.Display));
+        var chart = StatCharts.GroupMeans(means, level, new ChartLabels($"Mean {Name(data.ResponseName)} with {level} intervals", by, data.ResponseName));
+        return new Figure("means", caption ?? $"Group means with {level} confidence intervals (each group's own t interval, not adjusted for multiple comparisons).", chart);
+    }
+
+    /// <summary>Cell means of the first two factors, one line per level of the second factor.</summary>
+    public static Figure? Interaction(AnovaOutcome anova, string? caption = null)
+    {
+        if (anova.Input is null || anova.Input.Factors.Count < 2)
+        {
+            return null;
+        }
+
+        var a = anova.Data!.Factors[0];
+        var b = anova.Data.Factors[1];
+        // Means over the crossing of the first two factors (averaging over any further factors).
+        var cells = Enumerable.Range(0, anova.Data.Rows.Length)
+            .GroupBy(i => (a.Codes[i], b.Codes[i]))
+            .OrderBy(g => g.Key.Item1).ThenBy(g => g.Key.Item2)
+            .Select(g => new CellMean(a.Levels[g.Key.Item1], b.Levels[g.Key.Item2], g.Average(i => anova.Data.Values[i])))
+            .ToList();
+
+        var chart = StatCharts.InteractionPlot(a.Levels, b.Levels, cells, b.Spec.Display, new ChartLabels($"Mean {Name(anova.Data.ResponseName)} by {Name(a.Spec.Display)} and {Name(b.Spec.Display)}", a.Spec.Display, anova.Data.ResponseName));
+        return new Figure("interaction", caption ?? $"Observed cell means; lines that are not parallel suggest an interaction (compare with the F test of {Name(a.Spec.Display)} × {Name(b.Spec.Display)}).", chart);
+    }
+
+    public static Figure? Qq(AnovaOutcome anova, string? caption = null)
+    {
+        if (anova.Result is null || anova.Result.Residuals.Length < 3)
+        {
+            return null;
+        }
+
+        var level = Confidence(anova.Result.Alpha);
+        var chart = StatCharts.NormalQuantilePlot(Thin(anova.Result.Residuals), new ChartLabels("Normal quantile plot of the residuals", "standard normal quantile", "residual"), 1 - anova.Result.Alpha);
+        return new Figure("qq", caption ?? $"Residuals against normal quantiles (Blom plotting positions), with a line through the quartiles and a pointwise {level} envelope from the order statistics' beta distributions; points along the line are what normal residuals look like." + ThinNote(anova.Result.Residuals.Length), chart);
+    }
+
+    public static Figure? Histogram(AnovaOutcome anova, string? caption = null)
+    {
+        if (anova.Result is null || anova.Result.Residuals.Length < 3)
+        {
+            return null;
+        }
+
+        var chart = StatCharts.ResidualHistogram(Thin(anova.Result.Residuals), new ChartLabels("Distribution of the residuals", "residual", "count"));
+        return new Figure("residual-histogram", caption ?? "Histogram of the residuals (Freedman–Diaconis bins) with the fitted normal density and a kernel density estimate (Silverman's bandwidth)." + ThinNote(anova.Result.Residuals.Length), chart);
+    }
+
+    public static Figure? ResidualsFitted(AnovaOutcome anova, string? caption = null)
+    {
+        if (anova.Result is null)
+        {
+            return null;
+        }
+
+        var n = anova.Result.Residuals.Length;
+        var picks = n > MaxPoints ? [.. Enumerable.Range(0, ThinnedPoints).Select(k => (int)((long)k * n / ThinnedPoints))] : Enumerable.Range(0, n).ToArray();
+        var fitted = picks.Select(i => anova.Result.Fitted[i] + anova.ResponseCentre).ToArray();
+        var residuals = picks.Select(i => anova.Result.Residuals[i]).ToArray();
+        var chart = StatCharts.ResidualsVersusFitted(fitted, residuals, new ChartLabels("Residuals against fitted values", "fitted value" + (anova.Transformed is null ? string.Empty : " (transformed scale)"), "residual"));
+        return new Figure("residuals-fitted", caption ?? "A funnel shape (spread growing with the fitted value) suggests unequal variances; curvature suggests a missing term or a needed transformation." + (n > MaxPoints ? string.Create(CultureInfo.InvariantCulture, $" With {n:N0} observations, every {Math.Max(1, n / ThinnedPoints):N0}th one in data order is drawn ({ThinnedPoints:N0} points).") : string.Empty), chart);
+    }
+
+    public static IEnumerable<Figure> FDistributions(AnovaOutcome anova, string? caption = null)
+    {
+        if (anova.Result is null)
+        {
+            yield break;
+        }
+
+        foreach (var t in anova.Result.Terms)
+        {
+            if (!t.F.IsDefined || t.Df <= 0 || anova.Result.ResidualDf <= 0)
+            {
+                continue;
+            }
+
+            var name = string.Join(" × ", t.Factors.Select(n => Name(anova.Data!.Factors.First(f => f.Spec.Name == n).Spec.Display)));
+            var chart = StatCharts.FDistribution(t.Df, anova.Result.ResidualDf, t.F.Value, anova.Result.Alpha, new ChartLabels(string.Create(CultureInfo.InvariantCulture, $"F({t.Df}, {anova.Result.ResidualDf}) distribution: {name}"), "F", "density"));
+            yield return new Figure("f-distribution", caption ?? string.Create(CultureInfo.InvariantCulture, $"The F distribution under no effect of {name}; the shaded region is the rejection region at α = {anova.Result.Alpha.ToString("R", CultureInfo.InvariantCulture)} and the line marks the observed F."), chart);
+        }
+    }
+
+    public static Figure? Intervals(PostHocOutcome posthoc, double alpha, string? caption = null)
+    {
+        var family = posthoc.Families.FirstOrDefault(f => f.Pairs.Any(p => p.Pair.CiLow.IsDefined));
+        if (family is null)
+        {
+            return null;
+        }
+
+        var rows = family.Pairs
+            .Where(p => p.Pair.CiLow.IsDefined && p.Pair.CiHigh.IsDefined)
+            .Select(p => new IntervalComparison(StudyPress.Charts.BidiText.Isolate(p.Pair.LevelA) + " − " + StudyPress.Charts.BidiText.Isolate(p.Pair.LevelB), p.Pair.Diff, p.Pair.CiLow.Value, p.Pair.CiHigh.Value))
+            .ToList();
+        var level = Confidence(alpha);
+        var chart = StatCharts.SimultaneousIntervals(rows, level, new ChartLabels($"{family.Title}: simultaneous {level} intervals", "difference", string.Empty));
+        return new Figure("intervals", caption ?? $"Simultaneous {level} intervals for the differences; intervals that exclude zero (solid, diamond) are the pairs the procedure separates.", chart);
+    }
+
+    public static Figure? PowerCurve(PowerOutcome power, string? caption = null)
+    {
+        if (power.Groups < 2 || power.Effect <= 0)
+        {
+            return null;
+        }
+
+        var reference = power.Required.TryGetValue("n_per_group", out var need) && need.Value.IsDefined ? (int)need.Value.Value : 0;
+        var planned = power.Values.TryGetValue("n_per_group", out var n) ? (int)n.Value.Value : 0;
+        var top = Math.Max(10, (int)(1.5 * Math.Max(reference, planned)) + 2);
+        top = Math.Min(top, 5000);
+        var step = Math.Max(1, top / 60);
+        var points = new List<PowerPoint>();
+        for (var k = 2; k <= top; k += step)
+        {
+            var p = AnovaPower.Power(power.Effect, power.Groups, k, power.Alpha);
+            if (p.IsDefined)
+            {
+                points.Add(new PowerPoint(k, p.Value));
+            }
+        }
+
+        PowerPoint? marked = null;
+        if (reference > 0 && power.Required["power"].Value.IsDefined)
+        {
+            marked = new PowerPoint(reference, power.Required["power"].Value.Value);
+        }
+        else if (planned > 0 && power.Values["power"].Value.IsDefined)
+        {
+            marked = new PowerPoint(planned, power.Values["power"].Value.Value);
+        }
+
+        var chart = StatCharts.PowerCurve(points, power.Target ?? 0.8, marked, new ChartLabels(string.Create(CultureInfo.InvariantCulture, $"Power against n per group (k = {power.Groups}, f = {power.Effect:0.###}, α = {power.Alpha.ToString("R", CultureInfo.InvariantCulture)})"), "n per group", "power"));
+        return new Figure("power-curve", caption ?? "Power of the F test as the group size grows; the horizontal line is the target power.", chart);
+    }
+
+    private static string Confidence(double alpha) => Math.Round(100 * (1 - alpha), 10).ToString("R", CultureInfo.InvariantCulture) + "%";
+}

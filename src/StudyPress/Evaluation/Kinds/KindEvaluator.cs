@@ -1,0 +1,55 @@
+using System.Runtime.CompilerServices;
+using StudyPress.Binding;
+using StudyPress.Diagnostics;
+
+namespace StudyPress.Evaluation.Kinds;
+
+/// <summary>
+/// The evaluation of one analysis kind: computes a block into values (the manifest's results and
+/// a typed outcome for rendering). Registered by name; see DEVELOPERS.md, "Adding an analysis kind".
+/// </summary>
+public abstract class KindEvaluator
+{
+    /// <summary>The kind's name, as in <see cref="Binding.Kinds.BlockKind.Name"/>.</summary>
+    public abstract string Kind { get; }
+
+    /// <summary>Computes the block, adding values to the result set, and returns what to render.</summary>
+    public abstract BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics);
+}
+
+/// <summary>What a block produced: its values and anything it needs to render them.</summary>
+public class BlockOutcome(BoundBlock block)
+{
+    public BoundBlock Block { get; } = block;
+
+    /// <summary>Plain-language notes and cautions to show under the block.</summary>
+    public List<string> Notes { get; } = [];
+
+    public List<string> Warnings { get; } = [];
+
+    /// <summary>Charts to show under the block.</summary>
+    public List<Figure> Figures { get; } = [];
+}
+
+
+/// <summary>Every kind's evaluation, by kind name.</summary>
+public static class KindEvaluators
+{
+    private static readonly Dictionary<string, KindEvaluator> Registered = new(StringComparer.Ordinal);
+
+    /// <summary>Called once per kind, by the evaluator's own registration (a module initializer).</summary>
+    public static void Register(KindEvaluator evaluator)
+    {
+        lock (Registered)
+        {
+            if (!Registered.TryAdd(evaluator.Kind, evaluator))
+            {
+                throw new InvalidOperationException($"two evaluators for the kind '{evaluator.Kind}'");
+            }
+        }
+    }
+
+    public static IReadOnlyDictionary<string, KindEvaluator> All => Registered;
+
+    public static KindEvaluator For(BoundBlock block) => Registered[block.Kind.Name];
+}

@@ -1,0 +1,242 @@
+using System.Globalization;
+using System.Runtime.CompilerServices;
+using StudyPress.Binding.Kinds;
+using StudyPress.Binding;
+using StudyPress.Diagnostics;
+using StudyPress.Evaluation;
+using StudyPress.Statistics;
+using StudyPress.Syntax;
+
+namespace StudyPress.Evaluation.Kinds;
+
+/// <summary>One anova block described, with the covered blocks that work on it.</summary>
+public sealed class MethodsSection
+{
+    public required AnovaOutcome Anova { get; init; }
+
+    /// <summary>Whether the anova block itself is covered (not only blocks that work on it).</summary>
+    public required bool Covered { get; init; }
+
+    public AssumptionsOutcome? Checks { get; set; }
+
+    public List<PostHocOutcome> PostHocs { get; } = [];
+
+    public List<PowerOutcome> Powers { get; } = [];
+
+    /// <summary>Cell label → traced size, in cell order.</summary>
+    public List<(string Label, ResultValue N)> Cells { get; } = [];
+
+    public ResultValue? Total { get; set; }
+
+    public ResultValue? Dropped { get; set; }
+
+    /// <summary>Review values by test then statistic: from an assumptions block of the anova, else recorded here.</summary>
+    public Dictionary<string, Dictionary<string, ResultValue>> Review { get; } = new(StringComparer.Ordinal);
+}
+
+public sealed class MethodsOutcome(BoundBlock block) : BlockOutcome(block)
+{
+    public List<MethodsSection> Sections { get; } = [];
+
+    public List<SummaryOutcome> Summaries { get; } = [];
+
+    public List<RanksOutcome> Ranks { get; } = [];
+
+    /// <summary>Power blocks not tied to an anova block.</summary>
+    public List<PowerOutcome> Powers { get; } = [];
+
+    /// <summary>Datasets the covered blocks read, with traced row counts.</summary>
+    public List<(MethodsLoadedDatasetView Dataset, ResultValue Rows, ResultValue RowsUsed)> Inputs { get; } = [];
+
+    public double Alpha { get; set; }
+}
+
+/// <summary>What the text says about an input file.</summary>
+public sealed record MethodsLoadedDatasetView(string Name, string Path, string Sha256);
+
+/// <summary>Evaluates <c>methods</c> blocks into values (no HTML, no report text).</summary>
+public sealed class MethodsEvaluator : KindEvaluator
+{
+    /// <summary>Registers this part of the kind (see DEVELOPERS.md, "Adding an analysis kind").</summary>
+    [ModuleInitializer]
+    internal static void Register() => KindEvaluators.Register(new MethodsEvaluator());
+
+    public override string Kind => "methods";
+
+    public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
+    {
+        var options = (MethodsKind.Options)block.Options!;
+        var outcome = new MethodsOutcome(block) { Alpha = context.Header.Alpha };
+        var describable = context.Outcomes.Values
+            .Where(o => o.Block.Kind is not MethodsKind and not FigureKind)
+            .OrderBy(o => o.Block.Location.Line)
+            .ToList();
+        List<BlockOutcome> covered;
+        if (options.Of is null)
+        {
+            covered = describable;
+        }
+        else
+        {
+            covered = [];
+            foreach (var item in options.Of)
+            {
+                if (context.Outcomes.GetValueOrDefault(item.Value) is not { } target)
+                {
+                    diagnostics.UnknownMethodsOf(item.Location, item.Value, DiagnosticBag.Nearest(item.Value, describable.Select(d => d.Block.Id)));
+                }
+                else if (target.Block.Kind is MethodsKind or FigureKind)
+                {
+                    diagnostics.MethodsOfNotDescribed(item.Location, item.Value, target.Block.Kind.Name);
+                }
+                else if (!covered.Contains(target))
+                {
+                    covered.Add(target);
+                }
+            }
+
+            covered = [.. covered.OrderBy(o => o.Block.Location.Line)];
+        }
+
+        // Anova sections: covered anova blocks, and the anova blocks that covered checks and comparisons work on.
+        var sections = new Dictionary<string, MethodsSection>(StringComparer.Ordinal);
+        MethodsSection? SectionFor(string anovaId, bool isCovered)
+        {
+            if (context.Outcomes.GetValueOrDefault(anovaId) is not AnovaOutcome { Result: not null } anova)
+            {
+                return null;
+            }
+
+            if (!sections.TryGetValue(anovaId, out var s))
+            {
+                s = new MethodsSection { Anova = anova, Covered = isCovered };
+                sections[anovaId] = s;
+            }
+
+            return s;
+        }
+
+        foreach (var o in covered.OfType<AnovaOutcome>())
+        {
+            SectionFor(o.Block.Id, true);
+        }
+
+        foreach (var o in covered)
+        {
+            switch (o)
+            {
+                case AssumptionsOutcome a when a.Review is not null && SectionFor(a.Block.Of!.Id, false) is { } s:
+                    s.Checks ??= a;
+                    break;
+                case PostHocOutcome p when p.Families.Count > 0 && SectionFor(p.Block.Of!.Id, false) is { } s:
+                    s.PostHocs.Add(p);
+                    break;
+                case PowerOutcome w when w.Values.Count + w.Required.Count > 0:
+                    if (((PowerKind.Options)w.Block.Options!).Of is { } of && sections.TryGetValue(of, out var ps))
+                    {
+                        ps.Powers.Add(w);
+                    }
+                    else
+                    {
+                        outcome.Powers.Add(w);
+                    }
+
+                    break;
+                case SummaryOutcome sum when sum.Groups.Count > 0:
+                    outcome.Summaries.Add(sum);
+                    break;
+                case RanksOutcome r when r.Test is not null:
+                    outcome.Ranks.Add(r);
+                    break;
+            }
+        }
+
+        var id = block.Id;
+        foreach (var s in sections.Values.OrderBy(s => s.Anova.Block.Location.Line))
+        {
+            var a = s.Anova;
+            var data = a.Data!;
+            var inputs = context.Inputs(a.Block);
+            foreach (var cell in data.Cells())
+            {
+                s.Cells.Add((cell.Label, context.Results.Add(id, "design", a.Block.Id, cell.Label, null, "n", cell.Values.Length, inputs)));
+            }
+
+            s.Total = context.Results.Add(id, "design", a.Block.Id, null, null, "n_total", data.Rows.Length, inputs);
+            s.Dropped = context.Results.Add(id, "design", a.Block.Id, null, null, "dropped_missing", data.DroppedMissing, inputs);
+            ReviewValues(context, id, s, inputs);
+            outcome.Sections.Add(s);
+        }
+
+        var names = new List<string>();
+        foreach (var o in covered)
+        {
+            var b = o.Block.Of ?? o.Block;
+            if (b.Data is { } d && !names.Contains(d))
+            {
+                names.Add(d);
+            }
+
+            if (o is PowerOutcome pw && ((PowerKind.Options)pw.Block.Options!).Of is { } pof && context.Outcomes.GetValueOrDefault(pof)?.Block.Data is { } pd && !names.Contains(pd))
+            {
+                names.Add(pd);
+            }
+        }
+
+        foreach (var spec in context.Header.Datasets.Where(d => names.Contains(d.Name)))
+        {
+            if (context.Datasets.GetValueOrDefault(spec.Name) is not { } ds)
+            {
+                continue;
+            }
+
+            outcome.Inputs.Add((
+                new MethodsLoadedDatasetView(spec.Name, ds.Path, ds.Sha256),
+                context.Results.Add(id, "input", spec.Name, null, null, "rows", ds.Rows, [spec.Name]),
+                context.Results.Add(id, "input", spec.Name, null, null, "rows_used", ds.RowsUsed, [spec.Name])));
+        }
+
+        return outcome;
+    }
+
+    /// <summary>The checks the text quotes: from an assumptions block of the anova if there is one, else recorded here.</summary>
+    private static void ReviewValues(EvaluationContext context, string id, MethodsSection s, IReadOnlyList<string> inputs)
+    {
+        var a = s.Anova;
+        var checks = s.Checks ?? context.Outcomes.Values.OfType<AssumptionsOutcome>()
+            .Where(o => o.Anova == a && o.Review is not null)
+            .OrderBy(o => o.Block.Location.Line)
+            .FirstOrDefault();
+        if (checks is not null)
+        {
+            foreach (var (test, values) in checks.Values)
+            {
+                s.Review[test] = values;
+            }
+
+            return;
+        }
+
+        // Only the checks the automatic rules read (they ran for the anova block's choices).
+        var options = (AnovaKind.Options)a.Block.Options!;
+        if (a.Data!.Factors.Count != 1 || options.Welch != "auto")
+        {
+            return;
+        }
+
+        var review = a.Review;
+        var term = a.Data.Factors[0].Spec.Name;
+        var level = a.Block.Id;
+        var bf = s.Review["brown_forsythe"] = new(StringComparer.Ordinal);
+        bf["f"] = context.Results.Add(id, "brown_forsythe", term, level, null, "f", review.BrownForsythe.F, inputs);
+        bf["df1"] = context.Results.Add(id, "brown_forsythe", term, level, null, "df1", review.BrownForsythe.Df1, inputs);
+        bf["df2"] = context.Results.Add(id, "brown_forsythe", term, level, null, "df2", review.BrownForsythe.Df2, inputs);
+        bf["p"] = context.Results.Add(id, "brown_forsythe", term, level, null, "p", review.BrownForsythe.P, inputs);
+        if (review.WantsRankTest)
+        {
+            var sw = s.Review["shapiro_wilk"] = new(StringComparer.Ordinal);
+            sw["w"] = context.Results.Add(id, "shapiro_wilk", "residual", level, null, "w", review.Normality.W, inputs);
+            sw["p"] = context.Results.Add(id, "shapiro_wilk", "residual", level, null, "p", review.Normality.P, inputs);
+        }
+    }
+}

@@ -1,0 +1,219 @@
+using System.Globalization;
+using System.Runtime.CompilerServices;
+using StudyPress.Binding.Kinds;
+using StudyPress.Binding;
+using StudyPress.Diagnostics;
+using StudyPress.Evaluation;
+using StudyPress.Statistics.Nonparametric;
+using StudyPress.Statistics.PostHoc;
+using StudyPress.Statistics;
+
+namespace StudyPress.Evaluation.Kinds;
+
+public sealed class PostHocFamily
+{
+    public required string Test { get; init; }
+
+    public required string Title { get; init; }
+
+    public required PostHocResult Result { get; init; }
+
+    public List<(PairwiseComparison Pair, Dictionary<string, ResultValue> Values)> Pairs { get; } = [];
+}
+
+public sealed class PostHocOutcome(BoundBlock block) : BlockOutcome(block)
+{
+    public string FactorLabel { get; set; } = string.Empty;
+
+    public List<PostHocFamily> Families { get; } = [];
+
+    public List<string> Decisions { get; } = [];
+
+    public Dictionary<string, ResultValue> Multiplicity { get; } = new(StringComparer.Ordinal);
+
+    public bool Transformed { get; set; }
+}
+
+/// <summary>Evaluates <c>posthoc</c> blocks into values (no HTML, no report text).</summary>
+public sealed class PostHocEvaluator : KindEvaluator
+{
+    /// <summary>Registers this part of the kind (see DEVELOPERS.md, "Adding an analysis kind").</summary>
+    [ModuleInitializer]
+    internal static void Register() => KindEvaluators.Register(new PostHocEvaluator());
+
+    public override string Kind => "posthoc";
+
+    public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
+    {
+        var options = (PostHocKind.Options)block.Options!;
+        if (context.Outcomes.GetValueOrDefault(block.Of!.Id) is AggregatedAnovaOutcome aggregated)
+        {
+            return AggregatedPostHoc.Evaluate(context, block, options, aggregated, diagnostics);
+        }
+
+        var outcome = new PostHocOutcome(block);
+        if (context.Outcomes.GetValueOrDefault(block.Of!.Id) is not AnovaOutcome { Result: not null } anova)
+        {
+            return outcome;
+        }
+
+        var factors = anova.Data!.Factors;
+        BlockFactor? factor;
+        if (options.Factor is { } name)
+        {
+            factor = factors.FirstOrDefault(f => f.Spec.Name == name);
+            if (factor is null)
+            {
+                diagnostics.FactorNotInAnova(options.FactorLocation, name, block.Of.Id, DiagnosticBag.Nearest(name, factors.Select(f => f.Spec.Name)));
+                return outcome;
+            }
+        }
+        else if (factors.Count == 1)
+        {
+            factor = factors[0];
+        }
+        else
+        {
+            diagnostics.FactorChoiceNeeded(block.Location, block.Of.Id);
+            return outcome;
+        }
+
+        var empty = SummaryEvaluator.EmptyGroups(context, anova.Block, anova.Data);
+        if (empty.Count > 0)
+        {
+            outcome.Notes.Add($"Group(s) without any observed response ({string.Join(", ", empty)}) are not compared: every response in them is missing.");
+        }
+
+        if (options.Control is { } control && !factor.Levels.Contains(control))
+        {
+            diagnostics.UnknownControl(options.ControlLocation, control, factor.Spec.Name, DiagnosticBag.Nearest(control, factor.Levels));
+            return outcome;
+        }
+
+        outcome.FactorLabel = factor.Spec.Display;
+        outcome.Transformed = anova.Transformed is not null;
+        var levels = factor.Levels;
+        var groups = factor.Split(anova.Input!.Response);
+        var ms = anova.Result.ResidualMeanSquare;
+        var df = anova.Result.ResidualDf;
+        var alpha = context.Header.Alpha;
+        var alphaText = alpha.ToString("R", CultureInfo.InvariantCulture);
+        var method = options.Method;
+        if (method == "auto")
+        {
+            var review = anova.Review;
+            if (review.UnequalVariances)
+            {
+                method = "games-howell";
+                outcome.Decisions.Add($"Rule fired (method: auto): the Brown–Forsythe test found unequal variances (p = {P(review.BrownForsythe.P)} < α = {alphaText}), so the Games–Howell procedure, which does not pool the variances, is used.");
+            }
+            else if (!review.BrownForsythe.P.IsDefined)
+            {
+                method = "tukey";
+                outcome.Decisions.Add(options.Control is null
+                    ? $"Method chosen (method: auto): Tukey's HSD; the Games–Howell rule did not fire because equal variances could not be checked (Brown–Forsythe: {review.BrownForsythe.P.Reason})."
+                    : $"Method chosen (method: auto): Dunnett's comparisons with the control; the Games–Howell rule did not fire because equal variances could not be checked (Brown–Forsythe: {review.BrownForsythe.P.Reason}).");
+            }
+            else
+            {
+                method = "tukey";
+                outcome.Decisions.Add(options.Control is null
+                    ? $"Method chosen (method: auto): Tukey's HSD, since the Brown–Forsythe test found no evidence of unequal variances (p = {P(review.BrownForsythe.P)})."
+                    : $"Method chosen (method: auto): Dunnett's comparisons with the control, since the Brown–Forsythe test found no evidence of unequal variances (p = {P(review.BrownForsythe.P)}).");
+            }
+
+            if (review.WantsRankTest)
+            {
+                outcome.Decisions.Add(string.Create(CultureInfo.InvariantCulture, $"Rule fired (method: auto): the residuals depart from normality (Shapiro–Wilk p = {P(review.Normality.P)}) and the smallest group has {review.SmallestGroup} observations, so Dunn's rank comparisons (Holm-adjusted) are shown as well."));
+            }
+        }
+
+        if ((method is "tukey" or "holm" or "bonferroni") && !ms.IsDefined)
+        {
+            outcome.Warnings.Add("The residual mean square is not defined (" + ms.Reason + "), so the pooled-variance comparisons cannot be made.");
+        }
+
+        var msValue = ms.IsDefined ? ms.Value : double.NaN;
+        var (test, title, result) = method switch
+        {
+            "tukey" when options.Control is not null => ("dunnett", "Dunnett's comparisons with the control", Dunnett.Compare(levels, groups, msValue, df, alpha, options.Control)),
+            "tukey" => ("tukey_hsd", groups.Select(g => g.Length).Distinct().Count() > 1 ? "Tukey–Kramer comparisons (unequal group sizes)" : "Tukey HSD comparisons", TukeyHsd.Compare(levels, groups, msValue, df, alpha)),
+            "games-howell" => ("games_howell", "Games–Howell comparisons (unequal variances allowed)", ControlOnly(GamesHowell.Compare(levels, groups, alpha), options.Control)),
+            "holm" => ("holm", "Pooled-variance t tests, Holm-adjusted", PooledTTests.Compare(levels, groups, msValue, df, alpha, PValueAdjustmentMethod.Holm, options.Control)),
+            _ => ("bonferroni", "Pooled-variance t tests, Bonferroni-adjusted", PooledTTests.Compare(levels, groups, msValue, df, alpha, PValueAdjustmentMethod.Bonferroni, options.Control)),
+        };
+        var inputs = context.Inputs(block);
+        var term = factor.Spec.Name;
+        outcome.Families.Add(Record(context, block, test, title, result, term, inputs));
+        if (options.Method == "auto" && anova.Review.WantsRankTest)
+        {
+            var rawGroups = factor.Split(anova.Data.Response);
+            outcome.Families.Add(Record(context, block, "dunn", "Dunn's rank comparisons (Holm-adjusted)", Dunn.Compare(levels, rawGroups, alpha, PValueAdjustmentMethod.Holm), term, inputs));
+        }
+
+        var m = result.Comparisons.Count;
+        outcome.Multiplicity["m"] = context.Results.Add(block.Id, "family", term, null, null, "m", m, inputs);
+        outcome.Multiplicity["fwer_unadjusted"] = context.Results.Add(block.Id, "family", term, null, null, "fwer_unadjusted", PValueAdjustment.FamilyWiseErrorRate(m, alpha), inputs);
+        if (context.Header.Report.Figures && Figures.Intervals(outcome, alpha) is { } figure)
+        {
+            outcome.Figures.Add(figure);
+        }
+
+        if (groups.Any(g => g.Length < 2))
+        {
+            outcome.Warnings.Add("Some levels have a single observation: comparisons involving them rest entirely on the pooled variance (and are not defined for Games–Howell).");
+        }
+
+        return outcome;
+    }
+
+    internal static PostHocResult ControlOnly(PostHocResult all, string? control)
+    {
+        if (control is null)
+        {
+            return all;
+        }
+
+        // Keep the comparisons with the control, oriented as level − control.
+        var kept = all.Comparisons
+            .Where(c => c.LevelA == control || c.LevelB == control)
+            .Select(c => c.LevelB == control ? c : c with
+            {
+                LevelA = c.LevelB,
+                LevelB = c.LevelA,
+                Diff = -c.Diff,
+                Statistic = c.Statistic,
+                CiLow = c.CiHigh.Map(v => -v),
+                CiHigh = c.CiLow.Map(v => -v),
+            })
+            .ToList();
+        return all with { Comparisons = kept };
+    }
+
+    internal static PostHocFamily Record(EvaluationContext context, BoundBlock block, string test, string title, PostHocResult result, string term, IReadOnlyList<string> inputs)
+    {
+        var family = new PostHocFamily { Test = test, Title = title, Result = result };
+        foreach (var c in result.Comparisons)
+        {
+            string[] pair = [c.LevelA, c.LevelB];
+            var values = new Dictionary<string, ResultValue>(StringComparer.Ordinal)
+            {
+                ["diff"] = context.Results.Add(block.Id, test, term, null, pair, "diff", c.Diff, inputs),
+                ["se"] = context.Results.Add(block.Id, test, term, null, pair, "se", c.Se, inputs),
+                ["statistic"] = context.Results.Add(block.Id, test, term, null, pair, "statistic", c.Statistic, inputs),
+            };
+            if (c.CiLow.IsDefined || test != "dunn")
+            {
+                values["ci_low"] = context.Results.Add(block.Id, test, term, null, pair, "ci_low", c.CiLow, inputs);
+                values["ci_high"] = context.Results.Add(block.Id, test, term, null, pair, "ci_high", c.CiHigh, inputs);
+            }
+
+            values["p_adj"] = context.Results.Add(block.Id, test, term, null, pair, "p_adj", c.PAdjusted, inputs);
+            family.Pairs.Add((c, values));
+        }
+
+        return family;
+    }
+
+    private static string P(Quantity p) => !p.IsDefined ? "not defined" : p.Value < 0.001 ? "< 0.001" : p.Value.ToString("F3", CultureInfo.InvariantCulture);
+}

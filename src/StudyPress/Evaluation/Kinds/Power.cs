@@ -1,0 +1,106 @@
+using System.Globalization;
+using System.Runtime.CompilerServices;
+using StudyPress.Binding.Kinds;
+using StudyPress.Binding;
+using StudyPress.Diagnostics;
+using StudyPress.Evaluation;
+using StudyPress.Statistics.Power;
+using StudyPress.Statistics;
+
+namespace StudyPress.Evaluation.Kinds;
+
+public sealed class PowerOutcome(BoundBlock block) : BlockOutcome(block)
+{
+    public Dictionary<string, ResultValue> Values { get; } = new(StringComparer.Ordinal);
+
+    public Dictionary<string, ResultValue> Required { get; } = new(StringComparer.Ordinal);
+
+    public bool Observed { get; set; }
+
+    public double Alpha { get; set; }
+
+    public int Groups { get; set; }
+
+    public double Effect { get; set; }
+
+    public double? Target { get; set; }
+}
+
+/// <summary>Evaluates <c>power</c> blocks into values (no HTML, no report text).</summary>
+public sealed class PowerEvaluator : KindEvaluator
+{
+    /// <summary>Registers this part of the kind (see DEVELOPERS.md, "Adding an analysis kind").</summary>
+    [ModuleInitializer]
+    internal static void Register() => KindEvaluators.Register(new PowerEvaluator());
+
+    public override string Kind => "power";
+
+    public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
+    {
+        var o = (PowerKind.Options)block.Options!;
+        var outcome = new PowerOutcome(block) { Alpha = o.Alpha, Target = o.Target };
+        var groups = o.Groups;
+        var effect = o.Effect;
+        string? term = null;
+        IReadOnlyList<string> inputs = [];
+        if (o.Of is { } of && context.Outcomes.GetValueOrDefault(of) is AnovaOutcome { Result: not null } anova)
+        {
+            var factor = o.Factor is null ? anova.Data!.Factors[0] : anova.Data!.Factors.FirstOrDefault(f => f.Spec.Name == o.Factor);
+            if (factor is null || (o.Factor is null && anova.Data.Factors.Count > 1))
+            {
+                diagnostics.FactorChoiceNeeded(o.Location, of);
+                return outcome;
+            }
+
+            term = factor.Spec.Name;
+            var t = anova.Result.Terms.First(x => x.Name == term);
+            if (!t.CohenF.IsDefined)
+            {
+                diagnostics.PowerNeeds(o.Location, $"a defined Cohen's f; in '{of}' it is not defined ({t.CohenF.Reason})");
+                return outcome;
+            }
+
+            effect ??= t.CohenF.Value;
+            groups ??= factor.Levels.Count;
+            outcome.Observed = o.Effect is null;
+            inputs = [anova.Block.Data!];
+        }
+
+        if (effect is null || groups is null)
+        {
+            return outcome;
+        }
+
+        outcome.Groups = groups.Value;
+        outcome.Effect = effect.Value;
+        if (o.N is { } n)
+        {
+            var power = AnovaPower.Power(effect.Value, groups.Value, n, o.Alpha);
+            outcome.Values["power"] = context.Results.Add(block.Id, "power", term, null, null, "power", power, inputs);
+            outcome.Values["n_per_group"] = context.Results.Add(block.Id, "power", term, null, null, "n_per_group", n, inputs);
+            outcome.Values["n_total"] = context.Results.Add(block.Id, "power", term, null, null, "n_total", (double)n * groups.Value, inputs);
+            outcome.Values["effect_f"] = context.Results.Add(block.Id, "power", term, null, null, "effect_f", effect.Value, inputs);
+        }
+
+        if (o.Target is { } target)
+        {
+            var size = AnovaPower.SampleSize(effect.Value, groups.Value, o.Alpha, target);
+            outcome.Required["n_per_group"] = context.Results.Add(block.Id, "power", term, "target", null, "n_per_group", size.NPerGroup, inputs);
+            outcome.Required["n_total"] = context.Results.Add(block.Id, "power", term, "target", null, "n_total", size.TotalN, inputs);
+            outcome.Required["power"] = context.Results.Add(block.Id, "power", term, "target", null, "power", size.AchievedPower, inputs);
+            outcome.Required["effect_f"] = context.Results.Add(block.Id, "power", term, "target", null, "effect_f", effect.Value, inputs);
+        }
+
+        if (context.Header.Report.Figures && Figures.PowerCurve(outcome) is { } curve)
+        {
+            outcome.Figures.Add(curve);
+        }
+
+        if (outcome.Observed)
+        {
+            outcome.Warnings.Add("This is \"observed\" (post-hoc) power: the effect size was estimated from the same data. Observed power is a fixed function of the test's p-value, so it adds no information, and a low observed power does not show that a non-significant result is inconclusive for the effect you care about. Plan power from an effect size chosen for its practical importance instead.");
+        }
+
+        return outcome;
+    }
+}

@@ -1,0 +1,194 @@
+using System.Runtime.CompilerServices;
+using StudyPress.Binding.Kinds;
+using StudyPress.Binding;
+using StudyPress.Diagnostics;
+using StudyPress.Evaluation;
+using StudyPress.Statistics.Descriptive;
+
+namespace StudyPress.Evaluation.Kinds;
+
+public sealed class SummaryOutcome(BoundBlock block) : BlockOutcome(block)
+{
+    public List<(string Label, int N, Dictionary<string, ResultValue> Values)> Groups { get; } = [];
+
+    public string Term { get; set; } = string.Empty;
+
+    public string ResponseName { get; set; } = string.Empty;
+
+    public BlockData? Data { get; set; }
+}
+
+/// <summary>Evaluates <c>summary</c> blocks into values (no HTML, no report text).</summary>
+public sealed class SummaryEvaluator : KindEvaluator
+{
+    /// <summary>Registers this part of the kind (see DEVELOPERS.md, "Adding an analysis kind").</summary>
+    [ModuleInitializer]
+    internal static void Register() => KindEvaluators.Register(new SummaryEvaluator());
+
+    public override string Kind => "summary";
+
+    public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
+    {
+        if (AggregatedAnova.Applies(context, block))
+        {
+            return AggregatedSummary.Evaluate(context, block, diagnostics);
+        }
+
+        var outcome = new SummaryOutcome(block);
+        var data = context.Select(block, diagnostics);
+        if (data is null)
+        {
+            return outcome;
+        }
+
+        outcome.ResponseName = data.ResponseName;
+        outcome.Data = data;
+        var inputs = context.Inputs(block);
+        var term = data.Factors.Count == 0 ? null : string.Join(":", data.Factors.Select(f => f.Spec.Name));
+        outcome.Term = term ?? string.Empty;
+        var missing = MissingByCell(context, block, data);
+        var cells = data.Factors.Count == 0 ? [("all", Array.Empty<int>(), data.Response, Enumerable.Range(0, data.Rows.Length).ToArray())] : data.Cells();
+        var alpha = context.Header.Alpha;
+        foreach (var (label, _, values, positions) in cells)
+        {
+            var s = Descriptives.ComputeSorted(values, Figures.SortedValues(data, positions), data.Centre, alpha, data.ExactMean(positions));
+            var level = data.Factors.Count == 0 ? null : label;
+            var map = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
+            void Add(string stat, Statistics.Quantity q) => map[stat] = context.Results.Add(block.Id, "summary", term, level, null, stat, q, inputs);
+            Add("n", Statistics.Quantity.Of(s.N));
+            Add("missing", Statistics.Quantity.Of(missing.GetValueOrDefault(label).Count));
+            Add("mean", Statistics.Quantity.Of(s.Mean));
+            Add("sd", s.Sd);
+            Add("se", s.Se);
+            Add("ci_low", s.CiLow);
+            Add("ci_high", s.CiHigh);
+            Add("median", Statistics.Quantity.Of(s.Median));
+            Add("q1", Statistics.Quantity.Of(s.Q1));
+            Add("q3", Statistics.Quantity.Of(s.Q3));
+            Add("min", Statistics.Quantity.Of(s.Min));
+            Add("max", Statistics.Quantity.Of(s.Max));
+            outcome.Groups.Add((label, s.N, map));
+            if (s.N < 2)
+            {
+                outcome.Warnings.Add($"Group '{label}' has a single observation: its spread and interval are not defined.");
+            }
+        }
+
+        // Groups whose every response is missing have no rows in the data, but they are part of
+        // the study: they are shown with n = 0 and their missing count (in the factor's level order).
+        if (data.Factors.Count > 0)
+        {
+            var shown = outcome.Groups.Select(g => g.Label).ToHashSet(StringComparer.Ordinal);
+            foreach (var (label, count) in missing.Where(m => !shown.Contains(m.Key)).OrderBy(m => m.Value.Order, OrderComparer).Select(m => (m.Key, m.Value.Count)))
+            {
+                var map = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
+                var none = Statistics.Quantity.Undefined(NoObservations);
+                void Add(string stat, Statistics.Quantity q) => map[stat] = context.Results.Add(block.Id, "summary", term, label, null, stat, q, inputs);
+                Add("n", Statistics.Quantity.Of(0));
+                Add("missing", Statistics.Quantity.Of(count));
+                foreach (var stat in new[] { "mean", "sd", "se", "ci_low", "ci_high", "median", "q1", "q3", "min", "max" })
+                {
+                    Add(stat, none);
+                }
+
+                outcome.Groups.Add((label, 0, map));
+                outcome.Warnings.Add($"Group '{label}' has no observations: every one of its {count} response(s) is missing, so it is left out of the analyses of these data.");
+            }
+        }
+
+        var small = outcome.Groups.Where(g => g.N is >= 2 and < 5).Select(g => g.Label).ToList();
+        if (small.Count > 0)
+        {
+            outcome.Warnings.Add($"Groups with fewer than 5 observations ({string.Join(", ", small.Select(StudyPress.Charts.BidiText.Isolate))}): their means and intervals are imprecise, and quartiles of so few values say little.");
+        }
+
+        if (data.DroppedMissing > 0)
+        {
+            outcome.Notes.Add(string.Create(System.Globalization.CultureInfo.InvariantCulture, $"{data.DroppedMissing} row(s) with a missing value were left out."));
+        }
+
+        if (context.Header.Report.Figures && data.Factors.Count > 0 && Figures.Box(data) is { } box)
+        {
+            outcome.Figures.Add(box);
+        }
+
+        return outcome;
+    }
+
+    /// <summary>Why the statistics of a group without observations are not defined.</summary>
+    public const string NoObservations = "the group has no observations: every response in it is missing";
+
+    private static readonly Comparer<int[]> OrderComparer = Comparer<int[]>.Create((a, b) =>
+    {
+        for (var i = 0; i < Math.Min(a.Length, b.Length); i++)
+        {
+            if (a[i] != b[i])
+            {
+                return a[i].CompareTo(b[i]);
+            }
+        }
+
+        return a.Length.CompareTo(b.Length);
+    });
+
+    /// <summary>
+    /// The groups (labels as the summary shows them) whose every response is missing among the
+    /// rows the block selects, as "factor = 'level'" texts, for the notes of the other kinds.
+    /// </summary>
+    public static IReadOnlyList<string> EmptyGroups(EvaluationContext context, BoundBlock block, BlockData data)
+    {
+        if (data.Factors.Count == 0)
+        {
+            return [];
+        }
+
+        var shown = data.Cells().Select(c => c.Label).ToHashSet(StringComparer.Ordinal);
+        return [.. MissingByCell(context, block, data).Where(m => !shown.Contains(m.Key)).OrderBy(m => m.Value.Order, OrderComparer).Select(m => m.Key)];
+    }
+
+    /// <summary>Rows whose response is missing, by the group their factors put them in (with the group's level codes, for ordering).</summary>
+    private static Dictionary<string, (int Count, int[] Order)> MissingByCell(EvaluationContext context, BoundBlock block, BlockData data)
+    {
+        var result = new Dictionary<string, (int Count, int[] Order)>(StringComparer.Ordinal);
+        var ds = data.Dataset;
+        var response = ds.Numeric[data.ResponseName];
+        for (var r = 0; r < ds.Rows; r++)
+        {
+            if (!response.IsMissing(r))
+            {
+                continue;
+            }
+
+            var labels = new List<string>();
+            var codes = new List<int>();
+            var ok = true;
+            foreach (var f in block.Factors)
+            {
+                var col = ds.Factors[f.Name];
+                if (col.Codes[r] < 0)
+                {
+                    ok = false;
+                    break;
+                }
+
+                labels.Add(col.Levels[col.Codes[r]]);
+                codes.Add(col.Codes[r]);
+            }
+
+            foreach (var w in block.Where)
+            {
+                var col = ds.Factors[w.Factor.Name];
+                ok &= col.Codes[r] >= 0 && w.Levels.Contains(col.Levels[col.Codes[r]]);
+            }
+
+            if (ok)
+            {
+                var key = labels.Count == 0 ? "all" : string.Join(" / ", labels);
+                result[key] = (result.GetValueOrDefault(key).Count + 1, [.. codes]);
+            }
+        }
+
+        _ = context;
+        return result;
+    }
+}

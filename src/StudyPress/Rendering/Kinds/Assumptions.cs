@@ -1,0 +1,126 @@
+using System.Globalization;
+using System.Runtime.CompilerServices;
+using StudyPress.Binding.Kinds;
+using StudyPress.Binding;
+using StudyPress.Diagnostics;
+using StudyPress.Evaluation.Kinds;
+using StudyPress.Evaluation;
+using StudyPress.Rendering;
+using StudyPress.Statistics.Assumptions;
+using StudyPress.Statistics;
+
+namespace StudyPress.Rendering.Kinds;
+
+/// <summary>Writes the HTML of <c>assumptions</c> blocks.</summary>
+public sealed class AssumptionsRenderer : KindRenderer
+{
+    /// <summary>Registers this part of the kind (see DEVELOPERS.md, "Adding an analysis kind").</summary>
+    [ModuleInitializer]
+    internal static void Register() => KindRenderers.Register(new AssumptionsRenderer());
+
+    public override string Kind => "assumptions";
+
+    public override void Render(HtmlWriter html, BlockOutcome outcome, RenderContext context)
+    {
+        var o = (AssumptionsOutcome)outcome;
+        if (o.Review is null)
+        {
+            return;
+        }
+
+        var r = o.Review;
+        var a = context.AlphaText;
+        var caption = o.Block.Caption ?? $"Checks of the assumptions of anova block '{o.Block.Of!.Id}'";
+        var table = new HtmlTable("assumptions", caption, ["Assumption", "Check", "Statistic", "df", "p", "Verdict"]);
+        string V(string test, string stat) => HtmlWriter.ValueHtml(o.Values[test][stat], context);
+        string Df(string test) => V(test, "df1") + ", " + V(test, "df2");
+        table.Row("Normal residuals", ["Shapiro–Wilk", "W = " + V("shapiro_wilk", "w"), string.Empty, V("shapiro_wilk", "p"), HtmlWriter.Escape(Verdict(r.Normality.P, context.Alpha, "consistent with normality", "departs from normality"))]);
+        table.Row("Equal variances", ["Brown–Forsythe (medians)", "F = " + V("brown_forsythe", "f"), Df("brown_forsythe"), V("brown_forsythe", "p"), HtmlWriter.Escape(Verdict(r.BrownForsythe.P, context.Alpha, "no evidence of unequal variances", "variances differ"))]);
+        table.Row(string.Empty, ["Levene (means)", "F = " + V("levene", "f"), Df("levene"), V("levene", "p"), HtmlWriter.Escape(Verdict(r.Levene.P, context.Alpha, "no evidence of unequal variances", "variances differ"))]);
+        table.Row(string.Empty, ["Bartlett", "χ² = " + V("bartlett", "statistic"), V("bartlett", "df"), V("bartlett", "p"), HtmlWriter.Escape(Verdict(r.Bartlett.P, context.Alpha, "no evidence of unequal variances", "variances differ (sensitive to non-normality)"))]);
+        if (o.Values.ContainsKey("durbin_watson"))
+        {
+            table.Row("Independence", ["Durbin–Watson, run order", "d = " + V("durbin_watson", "d"), string.Empty, V("durbin_watson", "p"), HtmlWriter.Escape(Verdict(r.Independence!.P, context.Alpha, "no evidence of serial correlation", "positively correlated in run order"))]);
+        }
+        else
+        {
+            table.Row("Independence", ["Durbin–Watson, run order", "not run", string.Empty, string.Empty, "not checked"]);
+        }
+
+        table.Row("No outliers", ["Externally studentized residuals (largest), Bonferroni", "|t| = " + V("outliers", "max_abs_t"), HtmlWriter.Escape(r.Outliers.Df.ToString(CultureInfo.InvariantCulture)), V("outliers", "p_bonferroni"), HtmlWriter.Escape(r.HasOutliers ? $"{r.Outliers.Flagged.Count} outlying observation(s)" : "none beyond the Bonferroni bound")]);
+        table.WriteTo(html);
+
+        var notes = new List<string>();
+        if (r.Independence is { } dw)
+        {
+            notes.Add("Durbin–Watson p is for positive serial correlation, computed by " + dw.Method + ".");
+        }
+
+        if (r.IndependenceSkipped is { } why)
+        {
+            notes.Add("Independence: " + why + ".");
+        }
+
+        notes.Add("Normality is checked on the model's residuals; equal variances across the cells of the design, on the analysed response. p-values at α = " + a + ".");
+        foreach (var n in notes)
+        {
+            html.Raw("<p class=\"method\">").Text(n).Raw("</p>");
+        }
+
+        if (o.Flagged.Count > 0)
+        {
+            var ft = new HtmlTable("outliers", "Outlying observations (Bonferroni-adjusted p < α)", ["Data line", "t", "Bonferroni p"]);
+            foreach (var (line, v) in o.Flagged)
+            {
+                ft.Row(line.ToString(CultureInfo.InvariantCulture), [HtmlWriter.ValueHtml(v["t"], context), HtmlWriter.ValueHtml(v["p_bonferroni"], context)]);
+            }
+
+            ft.WriteTo(html);
+        }
+
+        html.Raw("<div class=\"reading\">");
+        foreach (var line in Meaning(r, o.Anova!))
+        {
+            html.Raw("<p>").Text(line).Raw("</p>");
+        }
+
+        html.Raw("</div>");
+    }
+
+    private static string Verdict(Quantity p, double alpha, string ok, string fail) =>
+        !p.IsDefined ? "not defined: " + p.Reason : p.Value < alpha ? fail : ok;
+
+    /// <summary>What the verdicts mean for the analysis, in plain words; never stronger than the tests.</summary>
+    internal static IEnumerable<string> Meaning(AssumptionReview r, AnovaOutcome anova)
+    {
+        var oneFactor = anova.Data!.Factors.Count == 1;
+        if (!r.NonNormal && !r.UnequalVariances && !r.Dependent && !r.HasOutliers)
+        {
+            yield return "None of the checks found a problem. That does not prove the assumptions hold (small samples give these checks little power); it means the data give no evidence against them. Look at the residual plots as well.";
+        }
+
+        if (r.NonNormal)
+        {
+            yield return r.SmallestGroup >= AssumptionReview.SmallGroup
+                ? "The residuals depart from a normal distribution. With groups of this size the F test is usually robust to moderate non-normality, but skewness or heavy tails can still distort it: look at the quantile plot, and consider a transformation of the response or a rank test."
+                : "The residuals depart from a normal distribution and some groups are small, so the F test's p-value may be off. Consider a transformation of the response (see 'transform') or the Kruskal–Wallis rank test (a 'ranks' block).";
+        }
+
+        if (r.UnequalVariances)
+        {
+            yield return oneFactor
+                ? "The group variances differ. The classical F test and Tukey's comparisons assume equal variances; Welch's F and the Games–Howell comparisons do not, and are the ones to use here ('welch: auto' and 'method: auto' choose them)."
+                : "The cell variances differ. The F tests of a factorial ANOVA assume equal variances, and unequal variances with unequal cell sizes can make them too liberal or too conservative; consider a variance-stabilising transformation and interpret the p-values with caution.";
+        }
+
+        if (r.Dependent)
+        {
+            yield return "The residuals are positively correlated in run order: neighbouring runs resemble each other more than chance allows. The tests assume independent observations, and with positive correlation their p-values are too small. Look for drift or carry-over in the process; the analysis should account for it (for example by blocking on time).";
+        }
+
+        if (r.HasOutliers)
+        {
+            yield return "Some observations lie far from their group's fitted value (see the table). Check them for recording or measurement errors; do not remove them only because they are outlying, and if they are kept, say how they affect the results.";
+        }
+    }
+}

@@ -1,0 +1,45 @@
+using System.Globalization;
+using System.Runtime.CompilerServices;
+using StudyPress.Binding.Kinds;
+using StudyPress.Binding;
+using StudyPress.Diagnostics;
+using StudyPress.Evaluation.Kinds;
+using StudyPress.Evaluation;
+using StudyPress.Rendering;
+using StudyPress.Statistics.Power;
+using StudyPress.Statistics;
+
+namespace StudyPress.Rendering.Kinds;
+
+/// <summary>Writes the HTML of <c>power</c> blocks.</summary>
+public sealed class PowerRenderer : KindRenderer
+{
+    /// <summary>Registers this part of the kind (see DEVELOPERS.md, "Adding an analysis kind").</summary>
+    [ModuleInitializer]
+    internal static void Register() => KindRenderers.Register(new PowerRenderer());
+
+    public override string Kind => "power";
+
+    public override void Render(HtmlWriter html, BlockOutcome outcome, RenderContext context)
+    {
+        var o = (PowerOutcome)outcome;
+        var alpha = o.Alpha.ToString("R", CultureInfo.InvariantCulture);
+        var f = string.Create(CultureInfo.InvariantCulture, $"{o.Effect:0.###}");
+        if (o.Values.Count > 0)
+        {
+            var t = new HtmlTable("power", o.Block.Caption ?? "Power of the F test", ["Groups", "n per group", "total n", "Cohen's f", "α", "power"]);
+            t.Row(o.Groups.ToString(CultureInfo.InvariantCulture), [V(o.Values, "n_per_group"), V(o.Values, "n_total"), V(o.Values, "effect_f"), HtmlWriter.Escape(alpha), V(o.Values, "power")]);
+            t.WriteTo(html);
+        }
+
+        if (o.Required.Count > 0)
+        {
+            var t = new HtmlTable("power", "Sample size for a target power", ["Groups", "Cohen's f", "α", "target power", "n per group", "total n", "power reached"]);
+            t.Row(o.Groups.ToString(CultureInfo.InvariantCulture), [V(o.Required, "effect_f"), HtmlWriter.Escape(alpha), HtmlWriter.Escape(o.Target!.Value.ToString("R", CultureInfo.InvariantCulture)), V(o.Required, "n_per_group"), V(o.Required, "n_total"), V(o.Required, "power")]);
+            t.WriteTo(html);
+        }
+
+        html.Raw("<p class=\"method\">").Text($"One-way fixed-effects F test with {o.Groups} equal groups: the noncentrality is λ = f² × k × n and the power is the probability that F′ exceeds the rejection threshold of F, under the noncentral F distribution (Cohen's f = {f}: 0.10, 0.25 and 0.40 are Cohen's conventional small, medium and large effects, but your field's own benchmarks should decide).").Raw("</p>");
+        string V(Dictionary<string, ResultValue> values, string stat) => HtmlWriter.ValueHtml(values[stat], context);
+    }
+}

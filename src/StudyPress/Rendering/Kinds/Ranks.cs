@@ -1,0 +1,54 @@
+using System.Runtime.CompilerServices;
+using StudyPress.Binding.Kinds;
+using StudyPress.Binding;
+using StudyPress.Diagnostics;
+using StudyPress.Evaluation.Kinds;
+using StudyPress.Evaluation;
+using StudyPress.Rendering;
+using StudyPress.Statistics.Nonparametric;
+using StudyPress.Statistics.PostHoc;
+using StudyPress.Statistics;
+
+namespace StudyPress.Rendering.Kinds;
+
+/// <summary>Writes the HTML of <c>ranks</c> blocks.</summary>
+public sealed class RanksRenderer : KindRenderer
+{
+    /// <summary>Registers this part of the kind (see DEVELOPERS.md, "Adding an analysis kind").</summary>
+    [ModuleInitializer]
+    internal static void Register() => KindRenderers.Register(new RanksRenderer());
+
+    public override string Kind => "ranks";
+
+    public override void Render(HtmlWriter html, BlockOutcome outcome, RenderContext context)
+    {
+        var o = (RanksOutcome)outcome;
+        if (o.Test is null)
+        {
+            return;
+        }
+
+        var t = new HtmlTable("ranks", o.Block.Caption ?? $"Kruskal–Wallis test of {o.FactorLabel}", ["Source", "H", "df", "p"]);
+        t.Row(o.FactorLabel, [HtmlWriter.ValueHtml(o.Test["h"], context), HtmlWriter.ValueHtml(o.Test["df"], context), HtmlWriter.ValueHtml(o.Test["p"], context)]);
+        t.WriteTo(html);
+        var g = new HtmlTable("mean-ranks", "Mean ranks", ["Level", "n", "mean rank"]);
+        foreach (var (level, n, rank) in o.Groups)
+        {
+            g.Row(level, [HtmlWriter.ValueHtml(n, context), HtmlWriter.ValueHtml(rank, context)]);
+        }
+
+        g.WriteTo(html);
+        var p = new HtmlTable("pairs", "Dunn's comparisons of mean ranks (Holm-adjusted)", ["Pair", "difference in mean rank", "SE", "z", "adjusted p"]);
+        foreach (var (pair, v) in o.Pairs)
+        {
+            p.Row(StudyPress.Charts.BidiText.Isolate(pair.LevelA) + " − " + StudyPress.Charts.BidiText.Isolate(pair.LevelB), [HtmlWriter.ValueHtml(v["diff"], context), HtmlWriter.ValueHtml(v["se"], context), HtmlWriter.ValueHtml(v["statistic"], context), HtmlWriter.ValueHtml(v["p_adj"], context)]);
+        }
+
+        p.WriteTo(html);
+        html.Raw("<p class=\"method\">").Text("Ranks are mid-ranks for ties; H is corrected for ties and referred to the chi-square distribution. Dunn's z uses the tie-corrected variance; p-values are adjusted by Holm's step-down method to control the family-wise error rate at α = " + context.AlphaText + ".").Raw("</p>");
+        var reading = o.Test["p"].Value is { IsDefined: true } pv && pv.Value < context.Alpha
+            ? "At α = " + context.AlphaText + " the rank test rejects the hypothesis that all groups come from the same distribution: at least one group tends to give larger or smaller values than another. Dunn's comparisons show which pairs the data separate."
+            : "At α = " + context.AlphaText + " the rank test does not reject the hypothesis that all groups come from the same distribution; this is not evidence that they do.";
+        html.Raw("<div class=\"reading\"><p>").Text(reading).Raw("</p></div>");
+    }
+}

@@ -1,0 +1,41 @@
+using System.Runtime.CompilerServices;
+using StudyPress.Binding.Kinds;
+using StudyPress.Binding;
+using StudyPress.Diagnostics;
+using StudyPress.Evaluation.Kinds;
+using StudyPress.Evaluation;
+using StudyPress.Rendering;
+using StudyPress.Statistics.Descriptive;
+
+namespace StudyPress.Rendering.Kinds;
+
+/// <summary>Writes the HTML of <c>summary</c> blocks.</summary>
+public sealed class SummaryRenderer : KindRenderer
+{
+    /// <summary>Registers this part of the kind (see DEVELOPERS.md, "Adding an analysis kind").</summary>
+    [ModuleInitializer]
+    internal static void Register() => KindRenderers.Register(new SummaryRenderer());
+
+    public override string Kind => "summary";
+
+    public override void Render(HtmlWriter html, BlockOutcome outcome, RenderContext context)
+    {
+        var o = (SummaryOutcome)outcome;
+        if (o.Groups.Count == 0)
+        {
+            return;
+        }
+
+        string[] headers = ["Group", "n", "missing", "mean", "SD", "SE", context.ConfidenceText + "% CI of mean", "median", "Q1 – Q3", "min – max"];
+        var caption = o.Block.Caption ?? $"Summary of {o.ResponseName}" + (o.Term.Length > 0 ? $" by {o.Term.Replace(":", " and ", StringComparison.Ordinal)}" : string.Empty);
+        var table = new HtmlTable("summary", caption, headers);
+        foreach (var (label, _, values) in o.Groups)
+        {
+            string V(string stat) => HtmlWriter.ValueHtml(values[stat], context);
+            table.Row(label, [V("n"), V("missing"), V("mean"), V("sd"), V("se"), V("ci_low") + " – " + V("ci_high"), V("median"), V("q1") + " – " + V("q3"), V("min") + " – " + V("max")]);
+        }
+
+        table.WriteTo(html);
+        html.Raw("<p class=\"method\">").Text($"SD with divisor n − 1; SE = SD/√n; the interval is mean ± t × SE on n − 1 df; quartiles by linear interpolation between order statistics.").Raw("</p>");
+    }
+}
