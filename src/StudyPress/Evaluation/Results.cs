@@ -47,6 +47,12 @@ public sealed class ResultSet
 
     public ResultValue Add(string block, string test, string? term, string? level, IReadOnlyList<string>? pair, string stat, Quantity value, IReadOnlyList<string> inputs)
     {
+        // One vocabulary (Vocabulary.cs): a name outside it is a programming error, caught by the tests.
+        if (!TestName.All.ContainsKey(test) || !Stat.All.ContainsKey(stat))
+        {
+            throw new InvalidOperationException($"'{test}.{stat}' is not in the manifest vocabulary (Evaluation/Vocabulary.cs)");
+        }
+
         var v = new ResultValue("v" + (values.Count + 1).ToString(System.Globalization.CultureInfo.InvariantCulture), block, test, term, level, pair, stat, value, inputs);
         values.Add(v);
         return v;

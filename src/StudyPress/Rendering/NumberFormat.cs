@@ -1,4 +1,5 @@
 using System.Globalization;
+using StudyPress.Evaluation;
 
 namespace StudyPress.Rendering;
 
@@ -11,8 +12,8 @@ namespace StudyPress.Rendering;
 /// </summary>
 public sealed class NumberFormat(int digits, int pDigits)
 {
-    private static readonly HashSet<string> IntegerStats = new(StringComparer.Ordinal) { "n", "df", "missing", "n_per_group", "n_total", "df1", "df2", "m" };
-    private static readonly HashSet<string> PStats = new(StringComparer.Ordinal) { "p", "p_adj" };
+    private static readonly HashSet<string> IntegerStats = new(StringComparer.Ordinal) { Stat.N, Stat.Df, Stat.Missing, Stat.NPerGroup, Stat.NTotal, Stat.Df1, Stat.Df2, Stat.M };
+    private static readonly HashSet<string> PStats = new(StringComparer.Ordinal) { Stat.P, Stat.PAdj };
 
     public int Digits { get; } = digits;
 

@@ -168,8 +168,8 @@ public static class AggregatedAnova
                 var name = block.Factors[k].Name;
                 var values = new Dictionary<string, ResultValue>(StringComparer.Ordinal)
                 {
-                    ["n"] = context.Results.Add(block.Id, "means", name, levels[k][l], null, "n", of.N, inputs),
-                    ["mean"] = context.Results.Add(block.Id, "means", name, levels[k][l], null, "mean", of.CentredMean + centre, inputs),
+                    [Stat.N] = context.Results.Add(block.Id, TestName.Means, name, levels[k][l], null, Stat.N, of.N, inputs),
+                    [Stat.Mean] = context.Results.Add(block.Id, TestName.Means, name, levels[k][l], null, Stat.Mean, of.CentredMean + centre, inputs),
                 };
                 outcome.Means.Add((name, levels[k][l], values));
             }
@@ -212,9 +212,9 @@ public static class AggregatedAnova
         var bt = GroupStatisticsTests.Bartlett(groups);
         outcome.Bartlett = new Dictionary<string, ResultValue>(StringComparer.Ordinal)
         {
-            ["statistic"] = context.Results.Add(block.Id, "bartlett", name, null, null, "statistic", bt.Statistic, inputs),
-            ["df"] = context.Results.Add(block.Id, "bartlett", name, null, null, "df", bt.Df, inputs),
-            ["p"] = context.Results.Add(block.Id, "bartlett", name, null, null, "p", bt.P, inputs),
+            [Stat.Statistic] = context.Results.Add(block.Id, TestName.Bartlett, name, null, null, Stat.Statistic, bt.Statistic, inputs),
+            [Stat.Df] = context.Results.Add(block.Id, TestName.Bartlett, name, null, null, Stat.Df, bt.Df, inputs),
+            [Stat.P] = context.Results.Add(block.Id, TestName.Bartlett, name, null, null, Stat.P, bt.P, inputs),
         };
         var alpha = context.Header.Alpha;
         var show = options.Welch == "yes";
@@ -242,11 +242,11 @@ public static class AggregatedAnova
         {
             var w = GroupStatisticsTests.Welch(groups);
             var values = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
-            void AddW(string stat, Quantity q) => values[stat] = context.Results.Add(block.Id, "welch", name, null, null, stat, q, inputs);
-            AddW("f", w.F);
-            AddW("df1", Quantity.Of(w.Df1));
-            AddW("df2", w.Df2);
-            AddW("p", w.P);
+            void AddW(string stat, Quantity q) => values[stat] = context.Results.Add(block.Id, TestName.Welch, name, null, null, stat, q, inputs);
+            AddW(Stat.F, w.F);
+            AddW(Stat.Df1, Quantity.Of(w.Df1));
+            AddW(Stat.Df2, w.Df2);
+            AddW(Stat.P, w.P);
             outcome.Welch = values;
         }
     }

@@ -113,8 +113,8 @@ public static class AggregatedPostHoc
         var term = factor.Name;
         outcome.Families.Add(PostHocEvaluator.Record(context, block, test, title, result, term, inputs));
         var m = result.Comparisons.Count;
-        outcome.Multiplicity["m"] = context.Results.Add(block.Id, "family", term, null, null, "m", m, inputs);
-        outcome.Multiplicity["fwer_unadjusted"] = context.Results.Add(block.Id, "family", term, null, null, "fwer_unadjusted", PValueAdjustment.FamilyWiseErrorRate(m, alpha), inputs);
+        outcome.Multiplicity[Stat.M] = context.Results.Add(block.Id, TestName.Family, term, null, null, Stat.M, m, inputs);
+        outcome.Multiplicity[Stat.FwerUnadjusted] = context.Results.Add(block.Id, TestName.Family, term, null, null, Stat.FwerUnadjusted, PValueAdjustment.FamilyWiseErrorRate(m, alpha), inputs);
         if (context.Header.Report.Figures && Figures.Intervals(outcome, alpha) is { } figure)
         {
             outcome.Figures.Add(figure);

@@ -104,19 +104,19 @@ public static class AggregatedSummary
             var o = orders[gi];
             var level = block.Factors.Count == 0 ? null : label;
             var map = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
-            void Add(string stat, Quantity q) => map[stat] = context.Results.Add(block.Id, "summary", term, level, null, stat, q, inputs);
-            Add("n", Quantity.Of(s.N));
-            Add("missing", Quantity.Of(g.Missing));
-            Add("mean", Quantity.Of(s.Mean));
-            Add("sd", s.Sd);
-            Add("se", s.Se);
-            Add("ci_low", s.CiLow);
-            Add("ci_high", s.CiHigh);
-            Add("median", o.Median);
-            Add("q1", o.Q1);
-            Add("q3", o.Q3);
-            Add("min", o.Min);
-            Add("max", o.Max);
+            void Add(string stat, Quantity q) => map[stat] = context.Results.Add(block.Id, TestName.Summary, term, level, null, stat, q, inputs);
+            Add(Stat.N, Quantity.Of(s.N));
+            Add(Stat.Missing, Quantity.Of(g.Missing));
+            Add(Stat.Mean, Quantity.Of(s.Mean));
+            Add(Stat.Sd, s.Sd);
+            Add(Stat.Se, s.Se);
+            Add(Stat.CiLow, s.CiLow);
+            Add(Stat.CiHigh, s.CiHigh);
+            Add(Stat.Median, o.Median);
+            Add(Stat.Q1, o.Q1);
+            Add(Stat.Q3, o.Q3);
+            Add(Stat.Min, o.Min);
+            Add(Stat.Max, o.Max);
             outcome.Groups.Add((label, (int)Math.Min(s.N, int.MaxValue), map));
             if (s.N < 2)
             {

@@ -150,9 +150,9 @@ public sealed class AnovaEvaluator : KindEvaluator
 
         if (outcome.Transformed?.BoxCox is { } bc)
         {
-            outcome.BoxCox["lambda"] = context.Results.Add(block.Id, "box_cox", null, null, null, "lambda", bc.Lambda, inputs);
-            outcome.BoxCox["lambda_low"] = context.Results.Add(block.Id, "box_cox", null, null, null, "lambda_low", bc.LambdaLow, inputs);
-            outcome.BoxCox["lambda_high"] = context.Results.Add(block.Id, "box_cox", null, null, null, "lambda_high", bc.LambdaHigh, inputs);
+            outcome.BoxCox[Stat.Lambda] = context.Results.Add(block.Id, TestName.BoxCox, null, null, null, Stat.Lambda, bc.Lambda, inputs);
+            outcome.BoxCox[Stat.LambdaLow] = context.Results.Add(block.Id, TestName.BoxCox, null, null, null, Stat.LambdaLow, bc.LambdaLow, inputs);
+            outcome.BoxCox[Stat.LambdaHigh] = context.Results.Add(block.Id, TestName.BoxCox, null, null, null, Stat.LambdaHigh, bc.LambdaHigh, inputs);
         }
 
         AddMeans(context, block, outcome, inputs);
@@ -198,28 +198,28 @@ public sealed class AnovaEvaluator : KindEvaluator
         foreach (var t in terms)
         {
             var values = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
-            void Add(string stat, Quantity q) => values[stat] = context.Results.Add(block.Id, "anova", t.Name, null, null, stat, q, inputs);
-            Add("ss", Quantity.Of(t.SumOfSquares));
-            Add("df", Quantity.Of(t.Df));
-            Add("ms", t.MeanSquare);
-            Add("f", t.F);
-            Add("p", t.P);
-            Add("f_crit", t.FCritical);
-            Add("eta2", t.EtaSquared);
-            Add("partial_eta2", t.PartialEtaSquared);
-            Add("omega2", t.OmegaSquared);
-            Add("cohen_f", t.CohenF);
+            void Add(string stat, Quantity q) => values[stat] = context.Results.Add(block.Id, TestName.Anova, t.Name, null, null, stat, q, inputs);
+            Add(Stat.Ss, Quantity.Of(t.SumOfSquares));
+            Add(Stat.Df, Quantity.Of(t.Df));
+            Add(Stat.Ms, t.MeanSquare);
+            Add(Stat.F, t.F);
+            Add(Stat.P, t.P);
+            Add(Stat.FCrit, t.FCritical);
+            Add(Stat.Eta2, t.EtaSquared);
+            Add(Stat.PartialEta2, t.PartialEtaSquared);
+            Add(Stat.Omega2, t.OmegaSquared);
+            Add(Stat.CohenF, t.CohenF);
             var ci = EffectSizeIntervals.PartialEtaSquared(t.F, t.Df, dfResidual, 1 - context.Header.Alpha);
-            Add("partial_eta2_ci_low", ci.PartialEtaSquaredLow);
-            Add("partial_eta2_ci_high", ci.PartialEtaSquaredHigh);
+            Add(Stat.PartialEta2CiLow, ci.PartialEtaSquaredLow);
+            Add(Stat.PartialEta2CiHigh, ci.PartialEtaSquaredHigh);
             termValues.Add((t, values));
         }
 
-        residual["ss"] = context.Results.Add(block.Id, "anova", "residual", null, null, "ss", ssResidual, inputs);
-        residual["df"] = context.Results.Add(block.Id, "anova", "residual", null, null, "df", dfResidual, inputs);
-        residual["ms"] = context.Results.Add(block.Id, "anova", "residual", null, null, "ms", msResidual, inputs);
-        total["ss"] = context.Results.Add(block.Id, "anova", "total", null, null, "ss", ssTotal, inputs);
-        total["df"] = context.Results.Add(block.Id, "anova", "total", null, null, "df", dfTotal, inputs);
+        residual[Stat.Ss] = context.Results.Add(block.Id, TestName.Anova, "residual", null, null, Stat.Ss, ssResidual, inputs);
+        residual[Stat.Df] = context.Results.Add(block.Id, TestName.Anova, "residual", null, null, Stat.Df, dfResidual, inputs);
+        residual[Stat.Ms] = context.Results.Add(block.Id, TestName.Anova, "residual", null, null, Stat.Ms, msResidual, inputs);
+        total[Stat.Ss] = context.Results.Add(block.Id, TestName.Anova, "total", null, null, Stat.Ss, ssTotal, inputs);
+        total[Stat.Df] = context.Results.Add(block.Id, TestName.Anova, "total", null, null, Stat.Df, dfTotal, inputs);
     }
 
     private static string DataDisplay(EvaluationContext context, BlockData data) =>
@@ -241,12 +241,12 @@ public sealed class AnovaEvaluator : KindEvaluator
             {
                 var values = new Dictionary<string, ResultValue>(StringComparer.Ordinal)
                 {
-                    ["n"] = context.Results.Add(block.Id, "means", fm.Factor, lm.Level, null, "n", lm.Count, inputs),
-                    ["mean"] = context.Results.Add(block.Id, "means", fm.Factor, lm.Level, null, "mean", Back(outcome, lm.RawMean), inputs),
+                    [Stat.N] = context.Results.Add(block.Id, TestName.Means, fm.Factor, lm.Level, null, Stat.N, lm.Count, inputs),
+                    [Stat.Mean] = context.Results.Add(block.Id, TestName.Means, fm.Factor, lm.Level, null, Stat.Mean, Back(outcome, lm.RawMean), inputs),
                 };
                 if (outcome.Input!.Factors.Count > 1)
                 {
-                    values["ls_mean"] = context.Results.Add(block.Id, "means", fm.Factor, lm.Level, null, "ls_mean", Back(outcome, lm.LeastSquaresMean), inputs);
+                    values[Stat.LsMean] = context.Results.Add(block.Id, TestName.Means, fm.Factor, lm.Level, null, Stat.LsMean, Back(outcome, lm.LeastSquaresMean), inputs);
                 }
 
                 outcome.Means.Add((fm.Factor, lm.Level, values));
@@ -297,9 +297,9 @@ public sealed class AnovaEvaluator : KindEvaluator
                 var kw = KruskalWallis.Test(groups);
                 outcome.Ranks = new Dictionary<string, ResultValue>(StringComparer.Ordinal)
                 {
-                    ["h"] = context.Results.Add(block.Id, "kruskal_wallis", factor.Spec.Name, null, null, "h", kw.H, inputs),
-                    ["df"] = context.Results.Add(block.Id, "kruskal_wallis", factor.Spec.Name, null, null, "df", kw.Df, inputs),
-                    ["p"] = context.Results.Add(block.Id, "kruskal_wallis", factor.Spec.Name, null, null, "p", kw.P, inputs),
+                    [Stat.H] = context.Results.Add(block.Id, TestName.KruskalWallis, factor.Spec.Name, null, null, Stat.H, kw.H, inputs),
+                    [Stat.Df] = context.Results.Add(block.Id, TestName.KruskalWallis, factor.Spec.Name, null, null, Stat.Df, kw.Df, inputs),
+                    [Stat.P] = context.Results.Add(block.Id, TestName.KruskalWallis, factor.Spec.Name, null, null, Stat.P, kw.P, inputs),
                 };
                 outcome.Decisions.Add(string.Create(CultureInfo.InvariantCulture, $"Rule fired (welch: auto): the residuals depart from normality (Shapiro–Wilk p = {P(outcome.Review.Normality.P)} < α = {alpha}) and the smallest group has only {outcome.Review.SmallestGroup} observations (fewer than {AssumptionReview.SmallGroup}), so the Kruskal–Wallis rank test, which does not assume normality, is shown as well."));
             }
@@ -309,11 +309,11 @@ public sealed class AnovaEvaluator : KindEvaluator
         {
             var w = WelchAnova.Test(groups);
             var values = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
-            void AddW(string stat, Quantity q) => values[stat] = context.Results.Add(block.Id, "welch", factor.Spec.Name, null, null, stat, q, inputs);
-            AddW("f", w.F);
-            AddW("df1", Quantity.Of(w.Df1));
-            AddW("df2", w.Df2);
-            AddW("p", w.P);
+            void AddW(string stat, Quantity q) => values[stat] = context.Results.Add(block.Id, TestName.Welch, factor.Spec.Name, null, null, stat, q, inputs);
+            AddW(Stat.F, w.F);
+            AddW(Stat.Df1, Quantity.Of(w.Df1));
+            AddW(Stat.Df2, w.Df2);
+            AddW(Stat.P, w.P);
             outcome.Welch = values;
         }
     }

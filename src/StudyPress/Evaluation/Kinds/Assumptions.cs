@@ -79,8 +79,8 @@ public sealed class AssumptionsEvaluator : KindEvaluator
             var level = "line " + line.ToString(CultureInfo.InvariantCulture);
             outcome.Flagged.Add((line, new Dictionary<string, ResultValue>(StringComparer.Ordinal)
             {
-                ["t"] = context.Results.Add(block.Id, "outliers", "residual", level, null, "t", r.T, inputs),
-                ["p_bonferroni"] = context.Results.Add(block.Id, "outliers", "residual", level, null, "p_bonferroni", r.BonferroniP, inputs),
+                [Stat.T] = context.Results.Add(block.Id, TestName.Outliers, "residual", level, null, Stat.T, r.T, inputs),
+                [Stat.PBonferroni] = context.Results.Add(block.Id, TestName.Outliers, "residual", level, null, Stat.PBonferroni, r.BonferroniP, inputs),
             }));
         }
 

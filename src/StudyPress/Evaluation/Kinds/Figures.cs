@@ -242,13 +242,13 @@ public static class Figures
         }
 
         PowerPoint? marked = null;
-        if (reference > 0 && power.Required["power"].Value.IsDefined)
+        if (reference > 0 && power.Required[Stat.Power].Value.IsDefined)
         {
-            marked = new PowerPoint(reference, power.Required["power"].Value.Value);
+            marked = new PowerPoint(reference, power.Required[Stat.Power].Value.Value);
         }
-        else if (planned > 0 && power.Values["power"].Value.IsDefined)
+        else if (planned > 0 && power.Values[Stat.Power].Value.IsDefined)
         {
-            marked = new PowerPoint(planned, power.Values["power"].Value.Value);
+            marked = new PowerPoint(planned, power.Values[Stat.Power].Value.Value);
         }
 
         var chart = StatCharts.PowerCurve(points, power.Target ?? 0.8, marked, new ChartLabels(string.Create(CultureInfo.InvariantCulture, $"Power against n per group (k = {power.Groups}, f = {power.Effect:0.###}, α = {power.Alpha.ToString("R", CultureInfo.InvariantCulture)})"), "n per group", "power"));

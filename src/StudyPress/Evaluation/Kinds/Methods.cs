@@ -159,11 +159,11 @@ public sealed class MethodsEvaluator : KindEvaluator
             var inputs = context.Inputs(a.Block);
             foreach (var cell in data.Cells())
             {
-                s.Cells.Add((cell.Label, context.Results.Add(id, "design", a.Block.Id, cell.Label, null, "n", cell.Values.Length, inputs)));
+                s.Cells.Add((cell.Label, context.Results.Add(id, TestName.Design, a.Block.Id, cell.Label, null, Stat.N, cell.Values.Length, inputs)));
             }
 
-            s.Total = context.Results.Add(id, "design", a.Block.Id, null, null, "n_total", data.Rows.Length, inputs);
-            s.Dropped = context.Results.Add(id, "design", a.Block.Id, null, null, "dropped_missing", data.DroppedMissing, inputs);
+            s.Total = context.Results.Add(id, TestName.Design, a.Block.Id, null, null, Stat.NTotal, data.Rows.Length, inputs);
+            s.Dropped = context.Results.Add(id, TestName.Design, a.Block.Id, null, null, Stat.DroppedMissing, data.DroppedMissing, inputs);
             ReviewValues(context, id, s, inputs);
             outcome.Sections.Add(s);
         }
@@ -192,8 +192,8 @@ public sealed class MethodsEvaluator : KindEvaluator
 
             outcome.Inputs.Add((
                 new MethodsLoadedDatasetView(spec.Name, ds.Path, ds.Sha256),
-                context.Results.Add(id, "input", spec.Name, null, null, "rows", ds.Rows, [spec.Name]),
-                context.Results.Add(id, "input", spec.Name, null, null, "rows_used", ds.RowsUsed, [spec.Name])));
+                context.Results.Add(id, TestName.Input, spec.Name, null, null, Stat.Rows, ds.Rows, [spec.Name]),
+                context.Results.Add(id, TestName.Input, spec.Name, null, null, Stat.RowsUsed, ds.RowsUsed, [spec.Name])));
         }
 
         return outcome;
@@ -228,15 +228,15 @@ public sealed class MethodsEvaluator : KindEvaluator
         var term = a.Data.Factors[0].Spec.Name;
         var level = a.Block.Id;
         var bf = s.Review["brown_forsythe"] = new(StringComparer.Ordinal);
-        bf["f"] = context.Results.Add(id, "brown_forsythe", term, level, null, "f", review.BrownForsythe.F, inputs);
-        bf["df1"] = context.Results.Add(id, "brown_forsythe", term, level, null, "df1", review.BrownForsythe.Df1, inputs);
-        bf["df2"] = context.Results.Add(id, "brown_forsythe", term, level, null, "df2", review.BrownForsythe.Df2, inputs);
-        bf["p"] = context.Results.Add(id, "brown_forsythe", term, level, null, "p", review.BrownForsythe.P, inputs);
+        bf[Stat.F] = context.Results.Add(id, TestName.BrownForsythe, term, level, null, Stat.F, review.BrownForsythe.F, inputs);
+        bf[Stat.Df1] = context.Results.Add(id, TestName.BrownForsythe, term, level, null, Stat.Df1, review.BrownForsythe.Df1, inputs);
+        bf[Stat.Df2] = context.Results.Add(id, TestName.BrownForsythe, term, level, null, Stat.Df2, review.BrownForsythe.Df2, inputs);
+        bf[Stat.P] = context.Results.Add(id, TestName.BrownForsythe, term, level, null, Stat.P, review.BrownForsythe.P, inputs);
         if (review.WantsRankTest)
         {
             var sw = s.Review["shapiro_wilk"] = new(StringComparer.Ordinal);
-            sw["w"] = context.Results.Add(id, "shapiro_wilk", "residual", level, null, "w", review.Normality.W, inputs);
-            sw["p"] = context.Results.Add(id, "shapiro_wilk", "residual", level, null, "p", review.Normality.P, inputs);
+            sw[Stat.W] = context.Results.Add(id, TestName.ShapiroWilk, "residual", level, null, Stat.W, review.Normality.W, inputs);
+            sw[Stat.P] = context.Results.Add(id, TestName.ShapiroWilk, "residual", level, null, Stat.P, review.Normality.P, inputs);
         }
     }
 }

@@ -152,8 +152,8 @@ public sealed class PostHocEvaluator : KindEvaluator
         }
 
         var m = result.Comparisons.Count;
-        outcome.Multiplicity["m"] = context.Results.Add(block.Id, "family", term, null, null, "m", m, inputs);
-        outcome.Multiplicity["fwer_unadjusted"] = context.Results.Add(block.Id, "family", term, null, null, "fwer_unadjusted", PValueAdjustment.FamilyWiseErrorRate(m, alpha), inputs);
+        outcome.Multiplicity[Stat.M] = context.Results.Add(block.Id, TestName.Family, term, null, null, Stat.M, m, inputs);
+        outcome.Multiplicity[Stat.FwerUnadjusted] = context.Results.Add(block.Id, TestName.Family, term, null, null, Stat.FwerUnadjusted, PValueAdjustment.FamilyWiseErrorRate(m, alpha), inputs);
         if (context.Header.Report.Figures && Figures.Intervals(outcome, alpha) is { } figure)
         {
             outcome.Figures.Add(figure);
@@ -198,17 +198,17 @@ public sealed class PostHocEvaluator : KindEvaluator
             string[] pair = [c.LevelA, c.LevelB];
             var values = new Dictionary<string, ResultValue>(StringComparer.Ordinal)
             {
-                ["diff"] = context.Results.Add(block.Id, test, term, null, pair, "diff", c.Diff, inputs),
-                ["se"] = context.Results.Add(block.Id, test, term, null, pair, "se", c.Se, inputs),
-                ["statistic"] = context.Results.Add(block.Id, test, term, null, pair, "statistic", c.Statistic, inputs),
+                [Stat.Diff] = context.Results.Add(block.Id, test, term, null, pair, Stat.Diff, c.Diff, inputs),
+                [Stat.Se] = context.Results.Add(block.Id, test, term, null, pair, Stat.Se, c.Se, inputs),
+                [Stat.Statistic] = context.Results.Add(block.Id, test, term, null, pair, Stat.Statistic, c.Statistic, inputs),
             };
             if (c.CiLow.IsDefined || test != "dunn")
             {
-                values["ci_low"] = context.Results.Add(block.Id, test, term, null, pair, "ci_low", c.CiLow, inputs);
-                values["ci_high"] = context.Results.Add(block.Id, test, term, null, pair, "ci_high", c.CiHigh, inputs);
+                values[Stat.CiLow] = context.Results.Add(block.Id, test, term, null, pair, Stat.CiLow, c.CiLow, inputs);
+                values[Stat.CiHigh] = context.Results.Add(block.Id, test, term, null, pair, Stat.CiHigh, c.CiHigh, inputs);
             }
 
-            values["p_adj"] = context.Results.Add(block.Id, test, term, null, pair, "p_adj", c.PAdjusted, inputs);
+            values[Stat.PAdj] = context.Results.Add(block.Id, test, term, null, pair, Stat.PAdj, c.PAdjusted, inputs);
             family.Pairs.Add((c, values));
         }
 

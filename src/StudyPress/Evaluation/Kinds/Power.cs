@@ -76,19 +76,19 @@ public sealed class PowerEvaluator : KindEvaluator
         if (o.N is { } n)
         {
             var power = AnovaPower.Power(effect.Value, groups.Value, n, o.Alpha);
-            outcome.Values["power"] = context.Results.Add(block.Id, "power", term, null, null, "power", power, inputs);
-            outcome.Values["n_per_group"] = context.Results.Add(block.Id, "power", term, null, null, "n_per_group", n, inputs);
-            outcome.Values["n_total"] = context.Results.Add(block.Id, "power", term, null, null, "n_total", (double)n * groups.Value, inputs);
-            outcome.Values["effect_f"] = context.Results.Add(block.Id, "power", term, null, null, "effect_f", effect.Value, inputs);
+            outcome.Values[Stat.Power] = context.Results.Add(block.Id, TestName.Power, term, null, null, Stat.Power, power, inputs);
+            outcome.Values[Stat.NPerGroup] = context.Results.Add(block.Id, TestName.Power, term, null, null, Stat.NPerGroup, n, inputs);
+            outcome.Values[Stat.NTotal] = context.Results.Add(block.Id, TestName.Power, term, null, null, Stat.NTotal, (double)n * groups.Value, inputs);
+            outcome.Values[Stat.EffectF] = context.Results.Add(block.Id, TestName.Power, term, null, null, Stat.EffectF, effect.Value, inputs);
         }
 
         if (o.Target is { } target)
         {
             var size = AnovaPower.SampleSize(effect.Value, groups.Value, o.Alpha, target);
-            outcome.Required["n_per_group"] = context.Results.Add(block.Id, "power", term, "target", null, "n_per_group", size.NPerGroup, inputs);
-            outcome.Required["n_total"] = context.Results.Add(block.Id, "power", term, "target", null, "n_total", size.TotalN, inputs);
-            outcome.Required["power"] = context.Results.Add(block.Id, "power", term, "target", null, "power", size.AchievedPower, inputs);
-            outcome.Required["effect_f"] = context.Results.Add(block.Id, "power", term, "target", null, "effect_f", effect.Value, inputs);
+            outcome.Required[Stat.NPerGroup] = context.Results.Add(block.Id, TestName.Power, term, "target", null, Stat.NPerGroup, size.NPerGroup, inputs);
+            outcome.Required[Stat.NTotal] = context.Results.Add(block.Id, TestName.Power, term, "target", null, Stat.NTotal, size.TotalN, inputs);
+            outcome.Required[Stat.Power] = context.Results.Add(block.Id, TestName.Power, term, "target", null, Stat.Power, size.AchievedPower, inputs);
+            outcome.Required[Stat.EffectF] = context.Results.Add(block.Id, TestName.Power, term, "target", null, Stat.EffectF, effect.Value, inputs);
         }
 
         if (context.Header.Report.Figures && Figures.PowerCurve(outcome) is { } curve)

@@ -74,16 +74,16 @@ public sealed class RanksEvaluator : KindEvaluator
         var inputs = context.Inputs(block);
         outcome.Test = new Dictionary<string, ResultValue>(StringComparer.Ordinal)
         {
-            ["h"] = context.Results.Add(block.Id, "kruskal_wallis", name, null, null, "h", kw.H, inputs),
-            ["df"] = context.Results.Add(block.Id, "kruskal_wallis", name, null, null, "df", kw.Df, inputs),
-            ["p"] = context.Results.Add(block.Id, "kruskal_wallis", name, null, null, "p", kw.P, inputs),
+            [Stat.H] = context.Results.Add(block.Id, TestName.KruskalWallis, name, null, null, Stat.H, kw.H, inputs),
+            [Stat.Df] = context.Results.Add(block.Id, TestName.KruskalWallis, name, null, null, Stat.Df, kw.Df, inputs),
+            [Stat.P] = context.Results.Add(block.Id, TestName.KruskalWallis, name, null, null, Stat.P, kw.P, inputs),
         };
         for (var g = 0; g < factor.Levels.Count; g++)
         {
             outcome.Groups.Add((
                 factor.Levels[g],
-                context.Results.Add(block.Id, "kruskal_wallis", name, factor.Levels[g], null, "n", kw.Counts[g], inputs),
-                context.Results.Add(block.Id, "kruskal_wallis", name, factor.Levels[g], null, "mean_rank", kw.MeanRanks[g], inputs)));
+                context.Results.Add(block.Id, TestName.KruskalWallis, name, factor.Levels[g], null, Stat.N, kw.Counts[g], inputs),
+                context.Results.Add(block.Id, TestName.KruskalWallis, name, factor.Levels[g], null, Stat.MeanRank, kw.MeanRanks[g], inputs)));
         }
 
         var dunn = Dunn.Compare(factor.Levels, groups, context.Header.Alpha, PValueAdjustmentMethod.Holm);
@@ -92,10 +92,10 @@ public sealed class RanksEvaluator : KindEvaluator
             string[] pair = [c.LevelA, c.LevelB];
             var values = new Dictionary<string, ResultValue>(StringComparer.Ordinal)
             {
-                ["diff"] = context.Results.Add(block.Id, "dunn", name, null, pair, "diff", c.Diff, inputs),
-                ["se"] = context.Results.Add(block.Id, "dunn", name, null, pair, "se", c.Se, inputs),
-                ["statistic"] = context.Results.Add(block.Id, "dunn", name, null, pair, "statistic", c.Statistic, inputs),
-                ["p_adj"] = context.Results.Add(block.Id, "dunn", name, null, pair, "p_adj", c.PAdjusted, inputs),
+                [Stat.Diff] = context.Results.Add(block.Id, TestName.Dunn, name, null, pair, Stat.Diff, c.Diff, inputs),
+                [Stat.Se] = context.Results.Add(block.Id, TestName.Dunn, name, null, pair, Stat.Se, c.Se, inputs),
+                [Stat.Statistic] = context.Results.Add(block.Id, TestName.Dunn, name, null, pair, Stat.Statistic, c.Statistic, inputs),
+                [Stat.PAdj] = context.Results.Add(block.Id, TestName.Dunn, name, null, pair, Stat.PAdj, c.PAdjusted, inputs),
             };
             outcome.Pairs.Add((c, values));
         }

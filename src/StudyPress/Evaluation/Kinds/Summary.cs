@@ -54,19 +54,19 @@ public sealed class SummaryEvaluator : KindEvaluator
             var s = Descriptives.ComputeSorted(values, Figures.SortedValues(data, positions), data.Centre, alpha, data.ExactMean(positions));
             var level = data.Factors.Count == 0 ? null : label;
             var map = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
-            void Add(string stat, Statistics.Quantity q) => map[stat] = context.Results.Add(block.Id, "summary", term, level, null, stat, q, inputs);
-            Add("n", Statistics.Quantity.Of(s.N));
-            Add("missing", Statistics.Quantity.Of(missing.GetValueOrDefault(label).Count));
-            Add("mean", Statistics.Quantity.Of(s.Mean));
-            Add("sd", s.Sd);
-            Add("se", s.Se);
-            Add("ci_low", s.CiLow);
-            Add("ci_high", s.CiHigh);
-            Add("median", Statistics.Quantity.Of(s.Median));
-            Add("q1", Statistics.Quantity.Of(s.Q1));
-            Add("q3", Statistics.Quantity.Of(s.Q3));
-            Add("min", Statistics.Quantity.Of(s.Min));
-            Add("max", Statistics.Quantity.Of(s.Max));
+            void Add(string stat, Statistics.Quantity q) => map[stat] = context.Results.Add(block.Id, TestName.Summary, term, level, null, stat, q, inputs);
+            Add(Stat.N, Statistics.Quantity.Of(s.N));
+            Add(Stat.Missing, Statistics.Quantity.Of(missing.GetValueOrDefault(label).Count));
+            Add(Stat.Mean, Statistics.Quantity.Of(s.Mean));
+            Add(Stat.Sd, s.Sd);
+            Add(Stat.Se, s.Se);
+            Add(Stat.CiLow, s.CiLow);
+            Add(Stat.CiHigh, s.CiHigh);
+            Add(Stat.Median, Statistics.Quantity.Of(s.Median));
+            Add(Stat.Q1, Statistics.Quantity.Of(s.Q1));
+            Add(Stat.Q3, Statistics.Quantity.Of(s.Q3));
+            Add(Stat.Min, Statistics.Quantity.Of(s.Min));
+            Add(Stat.Max, Statistics.Quantity.Of(s.Max));
             outcome.Groups.Add((label, s.N, map));
             if (s.N < 2)
             {
@@ -83,9 +83,9 @@ public sealed class SummaryEvaluator : KindEvaluator
             {
                 var map = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
                 var none = Statistics.Quantity.Undefined(NoObservations);
-                void Add(string stat, Statistics.Quantity q) => map[stat] = context.Results.Add(block.Id, "summary", term, label, null, stat, q, inputs);
-                Add("n", Statistics.Quantity.Of(0));
-                Add("missing", Statistics.Quantity.Of(count));
+                void Add(string stat, Statistics.Quantity q) => map[stat] = context.Results.Add(block.Id, TestName.Summary, term, label, null, stat, q, inputs);
+                Add(Stat.N, Statistics.Quantity.Of(0));
+                Add(Stat.Missing, Statistics.Quantity.Of(count));
                 foreach (var stat in new[] { "mean", "sd", "se", "ci_low", "ci_high", "median", "q1", "q3", "min", "max" })
                 {
                     Add(stat, none);

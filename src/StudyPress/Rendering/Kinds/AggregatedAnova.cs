@@ -80,7 +80,7 @@ public static class AggregatedAnovaRenderer
                 continue;
             }
 
-            var stat = $"F({V(v, "df")}, {V(o.Residual, "df")}) = {V(v, "f")}, p {AnovaRenderer.PText(v["p"], context)}";
+            var stat = $"F({V(v, "df")}, {V(o.Residual, "df")}) = {V(v, "f")}, p {AnovaRenderer.PText(v[Stat.P], context)}";
             var verdict = term.P.Value < context.Alpha ? "rejects" : "does not reject";
             html.Raw("<p>").Raw($"{label}: at α = {context.AlphaText} the test {verdict} the hypothesis of no effect ({stat}).").Raw("</p>");
         }

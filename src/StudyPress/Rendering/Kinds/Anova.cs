@@ -103,10 +103,10 @@ public sealed class AnovaRenderer : KindRenderer
         foreach (var (factor, level, v) in o.Means)
         {
             var label = factorial ? StudyPress.Charts.BidiText.Isolate(o.Data!.Factors.First(f => f.Spec.Name == factor).Spec.Display) + ": " + StudyPress.Charts.BidiText.Isolate(level) : level;
-            List<string> cells = [HtmlWriter.ValueHtml(v["n"], context), HtmlWriter.ValueHtml(v["mean"], context)];
+            List<string> cells = [HtmlWriter.ValueHtml(v[Stat.N], context), HtmlWriter.ValueHtml(v[Stat.Mean], context)];
             if (factorial)
             {
-                cells.Add(HtmlWriter.ValueHtml(v["ls_mean"], context));
+                cells.Add(HtmlWriter.ValueHtml(v[Stat.LsMean], context));
             }
 
             table.Row(label, cells);
@@ -160,7 +160,7 @@ public sealed class AnovaRenderer : KindRenderer
             return $"{label}: the F test is not defined here ({HtmlWriter.Escape(term.F.Reason ?? term.P.Reason)}).";
         }
 
-        var stat = $"F({HtmlWriter.ValueHtml(v["df"], context)}, {HtmlWriter.ValueHtml(o.Residual["df"], context)}) = {HtmlWriter.ValueHtml(v["f"], context)}, p {PText(v["p"], context)}";
+        var stat = $"F({HtmlWriter.ValueHtml(v[Stat.Df], context)}, {HtmlWriter.ValueHtml(o.Residual[Stat.Df], context)}) = {HtmlWriter.ValueHtml(v[Stat.F], context)}, p {PText(v[Stat.P], context)}";
         var isInteraction = term.Factors.Count > 1;
         var response = HtmlWriter.Escape(o.Data!.ResponseName);
         var what = isInteraction

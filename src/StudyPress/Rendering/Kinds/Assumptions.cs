@@ -72,7 +72,7 @@ public sealed class AssumptionsRenderer : KindRenderer
             var ft = new HtmlTable("outliers", "Outlying observations (Bonferroni-adjusted p < α)", ["Data line", "t", "Bonferroni p"]);
             foreach (var (line, v) in o.Flagged)
             {
-                ft.Row(line.ToString(CultureInfo.InvariantCulture), [HtmlWriter.ValueHtml(v["t"], context), HtmlWriter.ValueHtml(v["p_bonferroni"], context)]);
+                ft.Row(line.ToString(CultureInfo.InvariantCulture), [HtmlWriter.ValueHtml(v[Stat.T], context), HtmlWriter.ValueHtml(v[Stat.PBonferroni], context)]);
             }
 
             ft.WriteTo(html);

@@ -258,9 +258,9 @@ internal sealed class MethodsText(MethodsOutcome o, MethodsKind.Options options)
                 Statistics.Anova.TransformKind.Log10 => $", on the common logarithm of {E(data.ResponseName)}",
                 Statistics.Anova.TransformKind.Sqrt => $", on the square root of {E(data.ResponseName)}",
                 Statistics.Anova.TransformKind.Reciprocal => $", on the reciprocal of {E(data.ResponseName)}",
-                _ => $", on the Box–Cox transform of {E(data.ResponseName)} with the maximum-likelihood λ = {S2(a.BoxCox["lambda"])}"
-                    + (a.BoxCox["lambda_low"].Value.IsDefined && a.BoxCox["lambda_high"].Value.IsDefined
-                        ? $" (profile-likelihood interval {S2(a.BoxCox["lambda_low"])} to {S2(a.BoxCox["lambda_high"])})"
+                _ => $", on the Box–Cox transform of {E(data.ResponseName)} with the maximum-likelihood λ = {S2(a.BoxCox[Stat.Lambda])}"
+                    + (a.BoxCox[Stat.LambdaLow].Value.IsDefined && a.BoxCox[Stat.LambdaHigh].Value.IsDefined
+                        ? $" (profile-likelihood interval {S2(a.BoxCox[Stat.LambdaLow])} to {S2(a.BoxCox[Stat.LambdaHigh])})"
                         : string.Empty),
             };
         }
@@ -286,7 +286,7 @@ internal sealed class MethodsText(MethodsOutcome o, MethodsKind.Options options)
         var checks = new List<string>();
         if (r.TryGetValue("shapiro_wilk", out var sw))
         {
-            checks.Add($"normality of the residuals (Shapiro–Wilk, W = {Fr(sw["w"])}, {ReportStyle.PPhrase(sw["p"])})");
+            checks.Add($"normality of the residuals (Shapiro–Wilk, W = {Fr(sw[Stat.W])}, {ReportStyle.PPhrase(sw[Stat.P])})");
         }
 
         var variance = new List<string>();
@@ -294,13 +294,13 @@ internal sealed class MethodsText(MethodsOutcome o, MethodsKind.Options options)
         {
             if (r.TryGetValue(test, out var v))
             {
-                variance.Add($"{name}, F({Df(v["df1"])}, {Df(v["df2"])}) = {S2(v["f"])}, {ReportStyle.PPhrase(v["p"])}");
+                variance.Add($"{name}, F({Df(v[Stat.Df1])}, {Df(v[Stat.Df2])}) = {S2(v[Stat.F])}, {ReportStyle.PPhrase(v[Stat.P])}");
             }
         }
 
         if (r.TryGetValue("bartlett", out var bt))
         {
-            variance.Add($"Bartlett, χ²({Df(bt["df"])}) = {S2(bt["statistic"])}, {ReportStyle.PPhrase(bt["p"])}");
+            variance.Add($"Bartlett, χ²({Df(bt[Stat.Df])}) = {S2(bt[Stat.Statistic])}, {ReportStyle.PPhrase(bt[Stat.P])}");
         }
 
         if (variance.Count > 0)
@@ -310,12 +310,12 @@ internal sealed class MethodsText(MethodsOutcome o, MethodsKind.Options options)
 
         if (r.TryGetValue("durbin_watson", out var dw))
         {
-            checks.Add($"independence in run order (Durbin–Watson, d = {S2(dw["d"])}, {ReportStyle.PPhrase(dw["p"])})");
+            checks.Add($"independence in run order (Durbin–Watson, d = {S2(dw[Stat.D])}, {ReportStyle.PPhrase(dw[Stat.P])})");
         }
 
         if (r.TryGetValue("outliers", out var ol))
         {
-            checks.Add($"outlying observations (largest externally studentized residual |t| = {S2(ol["max_abs_t"])}, {ReportStyle.PPhrase(ol["p_bonferroni"], "Bonferroni-adjusted p")})");
+            checks.Add($"outlying observations (largest externally studentized residual |t| = {S2(ol[Stat.MaxAbsT])}, {ReportStyle.PPhrase(ol[Stat.PBonferroni], "Bonferroni-adjusted p")})");
         }
 
         yield return Did("the model's assumptions", true, "checked", "checked", "check", ": " + List(checks) + ".");
@@ -326,7 +326,7 @@ internal sealed class MethodsText(MethodsOutcome o, MethodsKind.Options options)
 
         var failed = Failed(review);
         var otherVariance = new[] { ("levene", "mean-centred Levene"), ("bartlett", "Bartlett") }
-            .Where(x => r.TryGetValue(x.Item1, out var v) && v["p"].Value.IsDefined && v["p"].Value.Value < o.Alpha)
+            .Where(x => r.TryGetValue(x.Item1, out var v) && v[Stat.P].Value.IsDefined && v[Stat.P].Value.Value < o.Alpha)
             .Select(x => x.Item2)
             .ToList();
         if (otherVariance.Count > 0 && !review.UnequalVariances)
@@ -382,13 +382,13 @@ internal sealed class MethodsText(MethodsOutcome o, MethodsKind.Options options)
             }
             else if (opts.Welch == "auto" && bf is not null)
             {
-                var bfText = $"F({Df(bf["df1"])}, {Df(bf["df2"])}) = {S2(bf["f"])}, {ReportStyle.PPhrase(bf["p"])}";
+                var bfText = $"F({Df(bf[Stat.Df1])}, {Df(bf[Stat.Df2])}) = {S2(bf[Stat.F])}, {ReportStyle.PPhrase(bf[Stat.P])}";
                 if (a.Review.UnequalVariances)
                 {
                     yield return $"Because the Brown–Forsythe test {T("indicated", "indicates")} unequal group variances ({bfText}), "
                         + (active ? $"we {T("used", "use")} Welch's F test, which does not assume equal variances, for {factor} in place of the ordinary F test." : $"Welch's F test, which does not assume equal variances, {Be(false)} used for {factor} in place of the ordinary F test.");
                 }
-                else if (bf["p"].Value.IsDefined)
+                else if (bf[Stat.P].Value.IsDefined)
                 {
                     yield return $"The Brown–Forsythe test {T("gave", "gives")} no indication of unequal group variances ({bfText}), so the ordinary F test {T("was", "is")} kept.";
                 }
@@ -401,7 +401,7 @@ internal sealed class MethodsText(MethodsOutcome o, MethodsKind.Options options)
             if (opts.Welch == "auto" && a.Review.WantsRankTest && s.Review.GetValueOrDefault("shapiro_wilk") is { } sw)
             {
                 var smallest = s.Cells.OrderBy(c => c.N.Value.IsDefined ? c.N.Value.Value : double.MaxValue).First();
-                yield return $"Because the residuals {T("departed", "depart")} from normality (Shapiro–Wilk, W = {Fr(sw["w"])}, {ReportStyle.PPhrase(sw["p"])}) and the smallest group {T("had", "has")} only {Df(smallest.N)} observations, "
+                yield return $"Because the residuals {T("departed", "depart")} from normality (Shapiro–Wilk, W = {Fr(sw[Stat.W])}, {ReportStyle.PPhrase(sw[Stat.P])}) and the smallest group {T("had", "has")} only {Df(smallest.N)} observations, "
                     + (active ? $"we also {T("ran", "run")} the Kruskal–Wallis rank test, which does not assume normality." : $"the Kruskal–Wallis rank test, which does not assume normality, {Be(false)} run as well.");
             }
         }
@@ -417,8 +417,8 @@ internal sealed class MethodsText(MethodsOutcome o, MethodsKind.Options options)
             var method = MethodName(p.Families[0].Test, p);
             var bf = s.Review.GetValueOrDefault("brown_forsythe");
             var why = a.Review.UnequalVariances
-                ? $"because the Brown–Forsythe test {T("indicated", "indicates")} unequal variances{(bf is null ? string.Empty : " (" + ReportStyle.PPhrase(bf["p"]) + ")")}"
-                : $"because the Brown–Forsythe test {T("gave", "gives")} no indication of unequal variances{(bf is null ? string.Empty : " (" + ReportStyle.PPhrase(bf["p"]) + ")")}";
+                ? $"because the Brown–Forsythe test {T("indicated", "indicates")} unequal variances{(bf is null ? string.Empty : " (" + ReportStyle.PPhrase(bf[Stat.P]) + ")")}"
+                : $"because the Brown–Forsythe test {T("gave", "gives")} no indication of unequal variances{(bf is null ? string.Empty : " (" + ReportStyle.PPhrase(bf[Stat.P]) + ")")}";
             yield return $"For the pairwise comparisons of {E(p.FactorLabel)}, {method} {T("was", "is")} chosen {why}"
                 + (p.Families.Count > 1 ? $", and Dunn's rank comparisons (Holm-adjusted) {T("were", "are")} added because the residuals {T("departed", "depart")} from normality in small groups." : ".");
         }
@@ -442,7 +442,7 @@ internal sealed class MethodsText(MethodsOutcome o, MethodsKind.Options options)
             ? $"pairwise differences between the levels of {E(p.FactorLabel)}"
             : $"the differences of each level of {E(p.FactorLabel)} from the control {E(control)}";
         var method = MethodName(f.Test, p).Replace(", which does not pool the variances,", " (variances not pooled)", StringComparison.Ordinal);
-        var text = Did(what, true, "tested", "tested", "test", $" with {method}, which {T("held", "holds")} the family-wise error rate at α = {alphaText} over the {Df(p.Multiplicity["m"])} comparisons");
+        var text = Did(what, true, "tested", "tested", "test", $" with {method}, which {T("held", "holds")} the family-wise error rate at α = {alphaText} over the {Df(p.Multiplicity[Stat.M])} comparisons");
         var hasCi = f.Pairs.Count > 0 && f.Pairs[0].Values.ContainsKey("ci_low");
         text += hasCi ? $", with simultaneous {confidence}% intervals" : string.Empty;
         text += p.Transformed ? "; differences are on the transformed scale." : ".";
@@ -474,13 +474,13 @@ internal sealed class MethodsText(MethodsOutcome o, MethodsKind.Options options)
 
     private string Pair(string test, Dictionary<string, ResultValue> v)
     {
-        var text = test == "dunn" ? $"difference in mean rank = {S2(v["diff"])}" : $"difference = {S2(v["diff"])}";
+        var text = test == "dunn" ? $"difference in mean rank = {S2(v[Stat.Diff])}" : $"difference = {S2(v[Stat.Diff])}";
         if (v.TryGetValue("ci_low", out var lo) && v.TryGetValue("ci_high", out var hi))
         {
             text += $", {confidence}% CI [{S2(lo)}, {S2(hi)}]";
         }
 
-        return text + ", " + ReportStyle.PPhrase(v["p_adj"], "adjusted p");
+        return text + ", " + ReportStyle.PPhrase(v[Stat.PAdj], "adjusted p");
     }
 
     private IEnumerable<string> Effects(MethodsSection s)
@@ -502,9 +502,9 @@ internal sealed class MethodsText(MethodsOutcome o, MethodsKind.Options options)
             var hypothesis = interaction ? "no interaction" : "equal means across its levels";
             if (!interaction && a.ReadWelch && a.Welch is { } w)
             {
-                var wRejected = w["p"].Value.IsDefined && w["p"].Value.Value < o.Alpha;
+                var wRejected = w[Stat.P].Value.IsDefined && w[Stat.P].Value.Value < o.Alpha;
                 yield return $"For {name}, Welch's test {(wRejected ? T("rejected", "rejects") : T("did not reject", "does not reject"))} the hypothesis of {hypothesis}, "
-                    + $"Welch's F({Df(w["df1"])}, {Df(w["df2"])}) = {S2(w["f"])}, {ReportStyle.PPhrase(w["p"])}; the ordinary F test, which assumes equal variances, {T("gave", "gives")} {sentence}."
+                    + $"Welch's F({Df(w[Stat.Df1])}, {Df(w[Stat.Df2])}) = {S2(w[Stat.F])}, {ReportStyle.PPhrase(w[Stat.P])}; the ordinary F test, which assumes equal variances, {T("gave", "gives")} {sentence}."
                     + (wRejected ? string.Empty : " This is not evidence that the means are equal.");
             }
             else
@@ -515,30 +515,30 @@ internal sealed class MethodsText(MethodsOutcome o, MethodsKind.Options options)
                         : (interaction ? " This is not evidence that the factors act independently." : " This is not evidence that the means are equal."));
                 if (!interaction && a.Welch is { } w2)
                 {
-                    yield return $"Welch's test {T("gave", "gives")} F({Df(w2["df1"])}, {Df(w2["df2"])}) = {S2(w2["f"])}, {ReportStyle.PPhrase(w2["p"])}.";
+                    yield return $"Welch's test {T("gave", "gives")} F({Df(w2[Stat.Df1])}, {Df(w2[Stat.Df2])}) = {S2(w2[Stat.F])}, {ReportStyle.PPhrase(w2[Stat.P])}.";
                 }
             }
         }
 
         if (a.Ranks is { } r)
         {
-            var rejected = r["p"].Value.IsDefined && r["p"].Value.Value < o.Alpha;
-            yield return $"The Kruskal–Wallis rank test {(rejected ? T("rejected", "rejects") : T("did not reject", "does not reject"))} the hypothesis that the groups come from one distribution, H({Df(r["df"])}) = {S2(r["h"])}, {ReportStyle.PPhrase(r["p"])}.";
+            var rejected = r[Stat.P].Value.IsDefined && r[Stat.P].Value.Value < o.Alpha;
+            yield return $"The Kruskal–Wallis rank test {(rejected ? T("rejected", "rejects") : T("did not reject", "does not reject"))} the hypothesis that the groups come from one distribution, H({Df(r[Stat.Df])}) = {S2(r[Stat.H])}, {ReportStyle.PPhrase(r[Stat.P])}.";
         }
     }
 
     private string TermSentence(AnovaOutcome a, Dictionary<string, ResultValue> v)
     {
-        var text = $"F({Df(v["df"])}, {Df(a.Residual["df"])}) = {S2(v["f"])}, {ReportStyle.PPhrase(v["p"])}, partial η² = {Fr(v["partial_eta2"])}";
-        return text + $", {confidence}% CI [{Fr(v["partial_eta2_ci_low"])}, {Fr(v["partial_eta2_ci_high"])}]";
+        var text = $"F({Df(v[Stat.Df])}, {Df(a.Residual[Stat.Df])}) = {S2(v[Stat.F])}, {ReportStyle.PPhrase(v[Stat.P])}, partial η² = {Fr(v[Stat.PartialEta2])}";
+        return text + $", {confidence}% CI [{Fr(v[Stat.PartialEta2CiLow])}, {Fr(v[Stat.PartialEta2CiHigh])}]";
     }
 
     private string RanksSentence(RanksOutcome r)
     {
         var t = r.Test!;
-        var rejected = t["p"].Value.IsDefined && t["p"].Value.Value < o.Alpha;
+        var rejected = t[Stat.P].Value.IsDefined && t[Stat.P].Value.Value < o.Alpha;
         return Did($"a Kruskal–Wallis rank test across the levels of {E(r.FactorLabel)}, with Dunn's pairwise comparisons (Holm-adjusted),", false, "run", "ran", "run", ".")
-            + $" It {(rejected ? T("rejected", "rejects") : T("did not reject", "does not reject"))} the hypothesis that the groups come from one distribution, H({Df(t["df"])}) = {S2(t["h"])}, {ReportStyle.PPhrase(t["p"])}.";
+            + $" It {(rejected ? T("rejected", "rejects") : T("did not reject", "does not reject"))} the hypothesis that the groups come from one distribution, H({Df(t[Stat.Df])}) = {S2(t[Stat.H])}, {ReportStyle.PPhrase(t[Stat.P])}.";
     }
 
     private string PowerSentence(PowerOutcome p)
@@ -546,13 +546,13 @@ internal sealed class MethodsText(MethodsOutcome o, MethodsKind.Options options)
         var text = $"For a one-way F test with {Words(p.Groups)} groups at α = {Sentences.AlphaText(p.Alpha)}";
         if (p.Values.TryGetValue("power", out var pw))
         {
-            text += $" and an effect of Cohen's f = {S2(p.Values["effect_f"])}, {Df(p.Values["n_per_group"])} observations per group {T("gave", "give")} a power of {Fr(pw)}";
+            text += $" and an effect of Cohen's f = {S2(p.Values[Stat.EffectF])}, {Df(p.Values[Stat.NPerGroup])} observations per group {T("gave", "give")} a power of {Fr(pw)}";
         }
 
         if (p.Required.TryGetValue("n_per_group", out var need))
         {
-            text += (p.Values.Count > 0 ? "; " : $" and an effect of Cohen's f = {S2(p.Required["effect_f"])}, ")
-                + $"{Df(need)} per group ({Df(p.Required["n_total"])} in all) would give a power of {Fr(p.Required["power"])}";
+            text += (p.Values.Count > 0 ? "; " : $" and an effect of Cohen's f = {S2(p.Required[Stat.EffectF])}, ")
+                + $"{Df(need)} per group ({Df(p.Required[Stat.NTotal])} in all) would give a power of {Fr(p.Required[Stat.Power])}";
         }
 
         return text + ".";
@@ -598,10 +598,10 @@ internal sealed class MethodsText(MethodsOutcome o, MethodsKind.Options options)
 
             foreach (var p in s.PostHocs)
             {
-                var m = p.Multiplicity["m"];
+                var m = p.Multiplicity[Stat.M];
                 if (m.Value.IsDefined && m.Value.Value >= 6)
                 {
-                    yield return $"With {Df(m)} comparisons, unadjusted tests at α = {alphaText} would carry a chance of up to {ReportStyle.Span(p.Multiplicity["fwer_unadjusted"], ReportStyle.Percent(0))} of at least one false positive; the adjusted p-values and simultaneous intervals account for this.";
+                    yield return $"With {Df(m)} comparisons, unadjusted tests at α = {alphaText} would carry a chance of up to {ReportStyle.Span(p.Multiplicity[Stat.FwerUnadjusted], ReportStyle.Percent(0))} of at least one false positive; the adjusted p-values and simultaneous intervals account for this.";
                 }
             }
 

@@ -51,13 +51,13 @@ public sealed class PostHocRenderer : KindRenderer
             var table = new HtmlTable("pairs", caption, headers);
             foreach (var (pair, v) in f.Pairs)
             {
-                var cells = new List<string> { HtmlWriter.ValueHtml(v["diff"], context), HtmlWriter.ValueHtml(v["se"], context), HtmlWriter.ValueHtml(v["statistic"], context) };
+                var cells = new List<string> { HtmlWriter.ValueHtml(v[Stat.Diff], context), HtmlWriter.ValueHtml(v[Stat.Se], context), HtmlWriter.ValueHtml(v[Stat.Statistic], context) };
                 if (hasCi)
                 {
-                    cells.Add(HtmlWriter.ValueHtml(v["ci_low"], context) + " to " + HtmlWriter.ValueHtml(v["ci_high"], context));
+                    cells.Add(HtmlWriter.ValueHtml(v[Stat.CiLow], context) + " to " + HtmlWriter.ValueHtml(v[Stat.CiHigh], context));
                 }
 
-                cells.Add(HtmlWriter.ValueHtml(v["p_adj"], context));
+                cells.Add(HtmlWriter.ValueHtml(v[Stat.PAdj], context));
                 cells.Add(pair.PAdjusted.IsDefined ? (pair.PAdjusted.Value < context.Alpha ? "differ" : "not distinguished") : "not defined");
                 table.Row(StudyPress.Charts.BidiText.Isolate(pair.LevelA) + " − " + StudyPress.Charts.BidiText.Isolate(pair.LevelB), cells);
             }
@@ -68,9 +68,9 @@ public sealed class PostHocRenderer : KindRenderer
         html.Raw("<p class=\"method\">").Text("Differences are first level minus second")
             .Text(o.Transformed ? ", on the transformed scale of the anova block" : string.Empty)
             .Text(". Adjusted p-values and intervals hold the family-wise error rate at α = " + context.AlphaText + " over the comparisons shown; without adjustment, ")
-            .Raw(HtmlWriter.ValueHtml(o.Multiplicity["m"], context))
+            .Raw(HtmlWriter.ValueHtml(o.Multiplicity[Stat.M], context))
             .Text(" tests at α = " + context.AlphaText + " would carry a chance of at least one false positive of up to ")
-            .Raw(HtmlWriter.ValueHtml(o.Multiplicity["fwer_unadjusted"], context))
+            .Raw(HtmlWriter.ValueHtml(o.Multiplicity[Stat.FwerUnadjusted], context))
             .Text(" (1 − (1 − α)^m, for independent tests).").Raw("</p>");
         html.Raw("<div class=\"reading\">");
         foreach (var d in o.Decisions)

@@ -29,7 +29,7 @@ public sealed class RanksRenderer : KindRenderer
         }
 
         var t = new HtmlTable("ranks", o.Block.Caption ?? $"Kruskal–Wallis test of {o.FactorLabel}", ["Source", "H", "df", "p"]);
-        t.Row(o.FactorLabel, [HtmlWriter.ValueHtml(o.Test["h"], context), HtmlWriter.ValueHtml(o.Test["df"], context), HtmlWriter.ValueHtml(o.Test["p"], context)]);
+        t.Row(o.FactorLabel, [HtmlWriter.ValueHtml(o.Test[Stat.H], context), HtmlWriter.ValueHtml(o.Test[Stat.Df], context), HtmlWriter.ValueHtml(o.Test[Stat.P], context)]);
         t.WriteTo(html);
         var g = new HtmlTable("mean-ranks", "Mean ranks", ["Level", "n", "mean rank"]);
         foreach (var (level, n, rank) in o.Groups)
@@ -41,12 +41,12 @@ public sealed class RanksRenderer : KindRenderer
         var p = new HtmlTable("pairs", "Dunn's comparisons of mean ranks (Holm-adjusted)", ["Pair", "difference in mean rank", "SE", "z", "adjusted p"]);
         foreach (var (pair, v) in o.Pairs)
         {
-            p.Row(StudyPress.Charts.BidiText.Isolate(pair.LevelA) + " − " + StudyPress.Charts.BidiText.Isolate(pair.LevelB), [HtmlWriter.ValueHtml(v["diff"], context), HtmlWriter.ValueHtml(v["se"], context), HtmlWriter.ValueHtml(v["statistic"], context), HtmlWriter.ValueHtml(v["p_adj"], context)]);
+            p.Row(StudyPress.Charts.BidiText.Isolate(pair.LevelA) + " − " + StudyPress.Charts.BidiText.Isolate(pair.LevelB), [HtmlWriter.ValueHtml(v[Stat.Diff], context), HtmlWriter.ValueHtml(v[Stat.Se], context), HtmlWriter.ValueHtml(v[Stat.Statistic], context), HtmlWriter.ValueHtml(v[Stat.PAdj], context)]);
         }
 
         p.WriteTo(html);
         html.Raw("<p class=\"method\">").Text("Ranks are mid-ranks for ties; H is corrected for ties and referred to the chi-square distribution. Dunn's z uses the tie-corrected variance; p-values are adjusted by Holm's step-down method to control the family-wise error rate at α = " + context.AlphaText + ".").Raw("</p>");
-        var reading = o.Test["p"].Value is { IsDefined: true } pv && pv.Value < context.Alpha
+        var reading = o.Test[Stat.P].Value is { IsDefined: true } pv && pv.Value < context.Alpha
             ? "At α = " + context.AlphaText + " the rank test rejects the hypothesis that all groups come from the same distribution: at least one group tends to give larger or smaller values than another. Dunn's comparisons show which pairs the data separate."
             : "At α = " + context.AlphaText + " the rank test does not reject the hypothesis that all groups come from the same distribution; this is not evidence that they do.";
         html.Raw("<div class=\"reading\"><p>").Text(reading).Raw("</p></div>");

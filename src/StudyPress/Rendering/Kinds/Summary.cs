@@ -32,7 +32,7 @@ public sealed class SummaryRenderer : KindRenderer
         foreach (var (label, _, values) in o.Groups)
         {
             string V(string stat) => HtmlWriter.ValueHtml(values[stat], context);
-            table.Row(label, [V("n"), V("missing"), V("mean"), V("sd"), V("se"), V("ci_low") + " – " + V("ci_high"), V("median"), V("q1") + " – " + V("q3"), V("min") + " – " + V("max")]);
+            table.Row(label, [V(Stat.N), V(Stat.Missing), V(Stat.Mean), V(Stat.Sd), V(Stat.Se), V(Stat.CiLow) + " – " + V(Stat.CiHigh), V(Stat.Median), V(Stat.Q1) + " – " + V(Stat.Q3), V(Stat.Min) + " – " + V(Stat.Max)]);
         }
 
         table.WriteTo(html);

@@ -1,0 +1,303 @@
+namespace StudyPress.Evaluation;
+
+/// <summary>The names of the statistics in the results manifest (<c>stat</c>): one vocabulary for the manifest, the references, the number formats and the docs. <see cref="ResultSet"/> refuses any other name.</summary>
+public static class Stat
+{
+    /// <summary>Number of observations.</summary>
+    public const string N = "n";
+
+    /// <summary>Responses missing in the group.</summary>
+    public const string Missing = "missing";
+
+    /// <summary>Arithmetic mean.</summary>
+    public const string Mean = "mean";
+
+    /// <summary>Standard deviation (divisor n − 1).</summary>
+    public const string Sd = "sd";
+
+    /// <summary>Standard error.</summary>
+    public const string Se = "se";
+
+    /// <summary>Lower end of the confidence interval.</summary>
+    public const string CiLow = "ci_low";
+
+    /// <summary>Upper end of the confidence interval.</summary>
+    public const string CiHigh = "ci_high";
+
+    /// <summary>Median.</summary>
+    public const string Median = "median";
+
+    /// <summary>First quartile.</summary>
+    public const string Q1 = "q1";
+
+    /// <summary>Third quartile.</summary>
+    public const string Q3 = "q3";
+
+    /// <summary>Smallest value.</summary>
+    public const string Min = "min";
+
+    /// <summary>Largest value.</summary>
+    public const string Max = "max";
+
+    /// <summary>Sum of squares.</summary>
+    public const string Ss = "ss";
+
+    /// <summary>Degrees of freedom.</summary>
+    public const string Df = "df";
+
+    /// <summary>Mean square.</summary>
+    public const string Ms = "ms";
+
+    /// <summary>F statistic.</summary>
+    public const string F = "f";
+
+    /// <summary>P-value.</summary>
+    public const string P = "p";
+
+    /// <summary>F threshold at α.</summary>
+    public const string FCrit = "f_crit";
+
+    /// <summary>Eta squared.</summary>
+    public const string Eta2 = "eta2";
+
+    /// <summary>Partial eta squared.</summary>
+    public const string PartialEta2 = "partial_eta2";
+
+    /// <summary>Omega squared.</summary>
+    public const string Omega2 = "omega2";
+
+    /// <summary>Cohen's f.</summary>
+    public const string CohenF = "cohen_f";
+
+    /// <summary>Lower end of the interval of partial eta squared.</summary>
+    public const string PartialEta2CiLow = "partial_eta2_ci_low";
+
+    /// <summary>Upper end of the interval of partial eta squared.</summary>
+    public const string PartialEta2CiHigh = "partial_eta2_ci_high";
+
+    /// <summary>Least-squares (marginal) mean.</summary>
+    public const string LsMean = "ls_mean";
+
+    /// <summary>Box–Cox lambda.</summary>
+    public const string Lambda = "lambda";
+
+    /// <summary>Lower end of the interval of lambda.</summary>
+    public const string LambdaLow = "lambda_low";
+
+    /// <summary>Upper end of the interval of lambda.</summary>
+    public const string LambdaHigh = "lambda_high";
+
+    /// <summary>Numerator degrees of freedom.</summary>
+    public const string Df1 = "df1";
+
+    /// <summary>Denominator degrees of freedom.</summary>
+    public const string Df2 = "df2";
+
+    /// <summary>Kruskal–Wallis H.</summary>
+    public const string H = "h";
+
+    /// <summary>Mean rank.</summary>
+    public const string MeanRank = "mean_rank";
+
+    /// <summary>Test statistic.</summary>
+    public const string Statistic = "statistic";
+
+    /// <summary>Shapiro–Wilk W.</summary>
+    public const string W = "w";
+
+    /// <summary>Durbin–Watson d.</summary>
+    public const string D = "d";
+
+    /// <summary>Largest absolute studentized residual.</summary>
+    public const string MaxAbsT = "max_abs_t";
+
+    /// <summary>Studentized residual.</summary>
+    public const string T = "t";
+
+    /// <summary>Bonferroni-adjusted p-value.</summary>
+    public const string PBonferroni = "p_bonferroni";
+
+    /// <summary>Difference (A − B).</summary>
+    public const string Diff = "diff";
+
+    /// <summary>Adjusted p-value.</summary>
+    public const string PAdj = "p_adj";
+
+    /// <summary>Number of comparisons in the family.</summary>
+    public const string M = "m";
+
+    /// <summary>Family-wise error rate without adjustment.</summary>
+    public const string FwerUnadjusted = "fwer_unadjusted";
+
+    /// <summary>Power.</summary>
+    public const string Power = "power";
+
+    /// <summary>Observations per group.</summary>
+    public const string NPerGroup = "n_per_group";
+
+    /// <summary>Total observations.</summary>
+    public const string NTotal = "n_total";
+
+    /// <summary>Effect size f.</summary>
+    public const string EffectF = "effect_f";
+
+    /// <summary>Rows left out for a missing value.</summary>
+    public const string DroppedMissing = "dropped_missing";
+
+    /// <summary>Rows read.</summary>
+    public const string Rows = "rows";
+
+    /// <summary>Rows used by some analysis.</summary>
+    public const string RowsUsed = "rows_used";
+
+    /// <summary>Every name, with its meaning (checked against docs/manifest.md by the tests).</summary>
+    public static IReadOnlyDictionary<string, string> All { get; } = new Dictionary<string, string>(StringComparer.Ordinal)
+    {
+        [N] = "number of observations",
+        [Missing] = "responses missing in the group",
+        [Mean] = "arithmetic mean",
+        [Sd] = "standard deviation (divisor n − 1)",
+        [Se] = "standard error",
+        [CiLow] = "lower end of the confidence interval",
+        [CiHigh] = "upper end of the confidence interval",
+        [Median] = "median",
+        [Q1] = "first quartile",
+        [Q3] = "third quartile",
+        [Min] = "smallest value",
+        [Max] = "largest value",
+        [Ss] = "sum of squares",
+        [Df] = "degrees of freedom",
+        [Ms] = "mean square",
+        [F] = "F statistic",
+        [P] = "p-value",
+        [FCrit] = "F threshold at α",
+        [Eta2] = "eta squared",
+        [PartialEta2] = "partial eta squared",
+        [Omega2] = "omega squared",
+        [CohenF] = "Cohen's f",
+        [PartialEta2CiLow] = "lower end of the interval of partial eta squared",
+        [PartialEta2CiHigh] = "upper end of the interval of partial eta squared",
+        [LsMean] = "least-squares (marginal) mean",
+        [Lambda] = "Box–Cox lambda",
+        [LambdaLow] = "lower end of the interval of lambda",
+        [LambdaHigh] = "upper end of the interval of lambda",
+        [Df1] = "numerator degrees of freedom",
+        [Df2] = "denominator degrees of freedom",
+        [H] = "Kruskal–Wallis H",
+        [MeanRank] = "mean rank",
+        [Statistic] = "test statistic",
+        [W] = "Shapiro–Wilk W",
+        [D] = "Durbin–Watson d",
+        [MaxAbsT] = "largest absolute studentized residual",
+        [T] = "studentized residual",
+        [PBonferroni] = "Bonferroni-adjusted p-value",
+        [Diff] = "difference (A − B)",
+        [PAdj] = "adjusted p-value",
+        [M] = "number of comparisons in the family",
+        [FwerUnadjusted] = "family-wise error rate without adjustment",
+        [Power] = "power",
+        [NPerGroup] = "observations per group",
+        [NTotal] = "total observations",
+        [EffectF] = "effect size f",
+        [DroppedMissing] = "rows left out for a missing value",
+        [Rows] = "rows read",
+        [RowsUsed] = "rows used by some analysis",
+    };
+}
+
+/// <summary>The names of the tests in the results manifest (<c>test</c>); see <see cref="Stat"/>.</summary>
+public static class TestName
+{
+    /// <summary>Group summaries.</summary>
+    public const string Summary = "summary";
+
+    /// <summary>ANOVA table.</summary>
+    public const string Anova = "anova";
+
+    /// <summary>Level means.</summary>
+    public const string Means = "means";
+
+    /// <summary>Box–Cox transformation.</summary>
+    public const string BoxCox = "box_cox";
+
+    /// <summary>Welch's ANOVA.</summary>
+    public const string Welch = "welch";
+
+    /// <summary>Kruskal–Wallis test.</summary>
+    public const string KruskalWallis = "kruskal_wallis";
+
+    /// <summary>Brown–Forsythe test of variances.</summary>
+    public const string BrownForsythe = "brown_forsythe";
+
+    /// <summary>Levene's test (mean-centred).</summary>
+    public const string Levene = "levene";
+
+    /// <summary>Bartlett's test.</summary>
+    public const string Bartlett = "bartlett";
+
+    /// <summary>Shapiro–Wilk test of the residuals.</summary>
+    public const string ShapiroWilk = "shapiro_wilk";
+
+    /// <summary>Durbin–Watson test of the residuals in run order.</summary>
+    public const string DurbinWatson = "durbin_watson";
+
+    /// <summary>Studentized-residual outlier test.</summary>
+    public const string Outliers = "outliers";
+
+    /// <summary>Tukey HSD.</summary>
+    public const string TukeyHsd = "tukey_hsd";
+
+    /// <summary>Games–Howell.</summary>
+    public const string GamesHowell = "games_howell";
+
+    /// <summary>Holm-adjusted t tests.</summary>
+    public const string Holm = "holm";
+
+    /// <summary>Bonferroni-adjusted t tests.</summary>
+    public const string Bonferroni = "bonferroni";
+
+    /// <summary>Dunnett's comparisons with a control.</summary>
+    public const string Dunnett = "dunnett";
+
+    /// <summary>Dunn's test after Kruskal–Wallis.</summary>
+    public const string Dunn = "dunn";
+
+    /// <summary>The family of comparisons.</summary>
+    public const string Family = "family";
+
+    /// <summary>Power and sample size.</summary>
+    public const string Power = "power";
+
+    /// <summary>The design a methods block describes.</summary>
+    public const string Design = "design";
+
+    /// <summary>An input dataset.</summary>
+    public const string Input = "input";
+
+    /// <summary>Every name, with its meaning (checked against docs/manifest.md by the tests).</summary>
+    public static IReadOnlyDictionary<string, string> All { get; } = new Dictionary<string, string>(StringComparer.Ordinal)
+    {
+        [Summary] = "group summaries",
+        [Anova] = "ANOVA table",
+        [Means] = "level means",
+        [BoxCox] = "Box–Cox transformation",
+        [Welch] = "Welch's ANOVA",
+        [KruskalWallis] = "Kruskal–Wallis test",
+        [BrownForsythe] = "Brown–Forsythe test of variances",
+        [Levene] = "Levene's test (mean-centred)",
+        [Bartlett] = "Bartlett's test",
+        [ShapiroWilk] = "Shapiro–Wilk test of the residuals",
+        [DurbinWatson] = "Durbin–Watson test of the residuals in run order",
+        [Outliers] = "studentized-residual outlier test",
+        [TukeyHsd] = "Tukey HSD",
+        [GamesHowell] = "Games–Howell",
+        [Holm] = "Holm-adjusted t tests",
+        [Bonferroni] = "Bonferroni-adjusted t tests",
+        [Dunnett] = "Dunnett's comparisons with a control",
+        [Dunn] = "Dunn's test after Kruskal–Wallis",
+        [Family] = "the family of comparisons",
+        [Power] = "power and sample size",
+        [Design] = "the design a methods block describes",
+        [Input] = "an input dataset",
+    };
+}
