@@ -128,6 +128,9 @@ public sealed class DiagnosticBag
     public void IndentUnder(SourceLocation at, string key, string parent) =>
         Error("SP0247", at, $"indent {Q(key)} under {Q(parent + ":")}: it belongs to {Q(parent)}, so it must start further right than {Q(parent)} does");
 
+    public void BlocksSameAsFactor(SourceLocation at, string name) =>
+        Error("SP0249", at, $"{Q(name)} is the factor compared; 'blocks' names a different factor, the one whose levels are the blocks (plots, subjects, batches)");
+
     public void HeaderKeyIndented(SourceLocation at, string key, string parent) =>
         Error("SP0248", at, $"{Q(key)} is a header key, but it is indented under {Q(parent + ":")}; start it in column 1");
 
@@ -485,6 +488,12 @@ public sealed class DiagnosticBag
         Error("SP0507", at, $"transform {Q(transform)} needs {need} values, but column {Q(column)} has {value} here");
 
     public void OrderNotNumeric(SourceLocation at, string column) => Error("SP0508", at, $"run-order column {Q(column)} must hold numbers");
+
+    public void ReplicatedBlockCell(SourceLocation at, string blocks, string block, string factor, string level, int count) =>
+        Error("SP0509", at, string.Create(CultureInfo.InvariantCulture, $"the friedman test needs one value per block and treatment, but {blocks} {Q(block)} has {count} values for {factor} {Q(level)}; summarise replicates into one value per cell first (for example their mean, in the data), or analyse the block as a factor with anova"));
+
+    public void TooFewCompleteBlocks(SourceLocation at, string blocks, int complete, int dropped) =>
+        Error("SP0510", at, string.Create(CultureInfo.InvariantCulture, $"the friedman test needs at least 2 complete blocks (a value for every treatment); {blocks} has {complete} complete and {dropped} incomplete"));
 
     // ---- output (SP06xx) ----
     public void CannotWrite(SourceLocation at, string path, string reason) => Error("SP0601", at, $"cannot write {Q(path)}: {reason}");

@@ -150,6 +150,21 @@ public static class Stat
     /// <summary>Rows used by some analysis.</summary>
     public const string RowsUsed = "rows_used";
 
+    /// <summary>Chi-square statistic.</summary>
+    public const string Chi2 = "chi2";
+
+    /// <summary>Kendall's coefficient of concordance W.</summary>
+    public const string KendallW = "kendall_w";
+
+    /// <summary>Number of complete blocks analysed.</summary>
+    public const string NBlocks = "n_blocks";
+
+    /// <summary>Blocks left out because a treatment had no value.</summary>
+    public const string BlocksDropped = "blocks_dropped";
+
+    /// <summary>Critical difference of mean ranks.</summary>
+    public const string Cd = "cd";
+
     /// <summary>Every name, with its meaning (checked against docs/manifest.md by the tests).</summary>
     public static IReadOnlyDictionary<string, string> All { get; } = new Dictionary<string, string>(StringComparer.Ordinal)
     {
@@ -202,6 +217,11 @@ public static class Stat
         [DroppedMissing] = "rows left out for a missing value",
         [Rows] = "rows read",
         [RowsUsed] = "rows used by some analysis",
+        [Chi2] = "Chi-square statistic",
+        [KendallW] = "Kendall's coefficient of concordance W",
+        [NBlocks] = "Number of complete blocks analysed",
+        [BlocksDropped] = "Blocks left out because a treatment had no value",
+        [Cd] = "Critical difference of mean ranks",
     };
 }
 
@@ -274,6 +294,18 @@ public static class TestName
     /// <summary>An input dataset.</summary>
     public const string Input = "input";
 
+    /// <summary>Friedman rank test for complete blocks.</summary>
+    public const string Friedman = "friedman";
+
+    /// <summary>Iman–Davenport F after a Friedman test.</summary>
+    public const string ImanDavenport = "iman_davenport";
+
+    /// <summary>Conover's comparisons after a Friedman test.</summary>
+    public const string Conover = "conover";
+
+    /// <summary>Nemenyi's comparisons after a Friedman test.</summary>
+    public const string Nemenyi = "nemenyi";
+
     /// <summary>Every name, with its meaning (checked against docs/manifest.md by the tests).</summary>
     public static IReadOnlyDictionary<string, string> All { get; } = new Dictionary<string, string>(StringComparer.Ordinal)
     {
@@ -299,5 +331,9 @@ public static class TestName
         [Power] = "power and sample size",
         [Design] = "the design a methods block describes",
         [Input] = "an input dataset",
+        [Friedman] = "Friedman rank test for complete blocks",
+        [ImanDavenport] = "Iman–Davenport F after a Friedman test",
+        [Conover] = "Conover's comparisons after a Friedman test",
+        [Nemenyi] = "Nemenyi's comparisons after a Friedman test",
     };
 }

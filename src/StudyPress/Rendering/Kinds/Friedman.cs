@@ -1,0 +1,82 @@
+using System.Globalization;
+using System.Runtime.CompilerServices;
+using StudyPress.Evaluation;
+using StudyPress.Evaluation.Kinds;
+
+namespace StudyPress.Rendering.Kinds;
+
+/// <summary>Writes the HTML of <c>friedman</c> blocks: the test, mean ranks, pairwise comparisons, method and reading.</summary>
+public sealed class FriedmanRenderer : KindRenderer
+{
+    /// <summary>Registers this part of the kind (see DEVELOPERS.md, "Adding an analysis kind").</summary>
+    [ModuleInitializer]
+    internal static void Register() => KindRenderers.Register(new FriedmanRenderer());
+
+    public override string Kind => "friedman";
+
+    public override void Render(HtmlWriter html, BlockOutcome outcome, RenderContext context)
+    {
+        if (outcome is not FriedmanOutcome { Test: { } test, ImanDavenport: { } id } o)
+        {
+            return;
+        }
+
+        string V(ResultValue v) => HtmlWriter.ValueHtml(v, context);
+        var t = new HtmlTable("friedman", o.Block.Caption ?? $"Friedman test of {o.TreatmentLabel} within {o.BlocksLabel}", ["Test", "statistic", "df", "p", "Kendall's W"]);
+        t.Row("Friedman χ²", [V(test[Stat.Chi2]), V(test[Stat.Df]), V(test[Stat.P]), V(test[Stat.KendallW])]);
+        t.Row("Iman–Davenport F", [V(id[Stat.F]), V(id[Stat.Df1]) + ", " + V(id[Stat.Df2]), V(id[Stat.P]), string.Empty]);
+        t.WriteTo(html);
+
+        var ranks = new HtmlTable("mean-ranks", "Mean ranks within blocks (" + V(test[Stat.NBlocks]) + " blocks)", [o.TreatmentLabel, "mean rank"]);
+        foreach (var (level, rank) in o.Treatments)
+        {
+            ranks.Row(level, [V(rank)]);
+        }
+
+        ranks.WriteTo(html);
+        var nemenyi = o.PairTest == TestName.Nemenyi;
+        var pairs = new HtmlTable(
+            "pairs",
+            nemenyi ? "Nemenyi comparisons of mean ranks" : "Conover comparisons of mean ranks (Holm-adjusted)",
+            ["Pair", "difference in mean rank", "SE", nemenyi ? "q" : "t", "adjusted p"]);
+        foreach (var (a, b, v) in o.Pairs)
+        {
+            pairs.Row(StudyPress.Charts.BidiText.Isolate(a) + " − " + StudyPress.Charts.BidiText.Isolate(b), [V(v[Stat.Diff]), V(v[Stat.Se]), V(v[Stat.Statistic]), V(v[Stat.PAdj])]);
+        }
+
+        pairs.WriteTo(html);
+        if (o.CriticalDifference is { } cd)
+        {
+            html.Raw("<p class=\"note\">").Text("Critical difference of mean ranks at α = " + context.AlphaText + ": ").Raw(V(cd)).Text(".").Raw("</p>");
+        }
+
+        if (o.DroppedBlocks.Count > 0)
+        {
+            html.Raw("<p class=\"note\">").Text(string.Create(CultureInfo.InvariantCulture, $"{o.DroppedBlocks.Count} block(s) without a value for every treatment were left out ({string.Join(", ", o.DroppedBlocks.Take(10).Select(StudyPress.Charts.BidiText.Isolate))}{(o.DroppedBlocks.Count > 10 ? ", …" : string.Empty)}); the test uses complete blocks only.")).Raw("</p>");
+        }
+
+        if (o.DroppedMissing > 0)
+        {
+            html.Raw("<p class=\"note\">").Text(string.Create(CultureInfo.InvariantCulture, $"{o.DroppedMissing} row(s) with a missing value were left out.")).Raw("</p>");
+        }
+
+        // Common practice (no single source): the chi-square approximation is poor with few blocks;
+        // Iman and Davenport (1980) found their F closer to the exact distribution.
+        if (test[Stat.NBlocks].Value is { IsDefined: true } n && n.Value < 10)
+        {
+            html.Raw("<p class=\"warning\">").Text(string.Create(CultureInfo.InvariantCulture, $"Only {n.Value} blocks: the chi-square approximation of the Friedman statistic is rough with so few blocks (tables of its exact distribution can differ near α); the Iman–Davenport F is usually closer.")).Raw("</p>");
+        }
+
+        var method = "Values are ranked within each block (mid-ranks for ties)"
+            + (o.HasTies ? "; χ² is corrected for ties" : string.Empty)
+            + " and referred to the chi-square distribution on k − 1 df. Kendall's W = χ²/(n(k − 1)) measures how consistently the blocks rank the treatments (0: no agreement, 1: identical rankings). The Iman–Davenport F = (n − 1)χ²/(n(k − 1) − χ²) is the analysis-of-variance F of the within-block ranks. "
+            + (nemenyi
+                ? "Nemenyi's comparisons refer the difference of mean ranks to the studentized range with infinitely many df; adjusted p-values and the critical difference control the family-wise error rate at α = " + context.AlphaText + "."
+                : "Conover's comparisons are t tests of mean-rank differences on the rank error term with (n − 1)(k − 1) df; p-values are adjusted by Holm's step-down method to control the family-wise error rate at α = " + context.AlphaText + ".");
+        html.Raw("<p class=\"method\">").Text(method).Raw("</p>");
+        var reading = test[Stat.P].Value is { IsDefined: true } p && p.Value < context.Alpha
+            ? "At α = " + context.AlphaText + " the Friedman test rejects the hypothesis that the treatments are ranked alike within blocks: at least one treatment tends to rank higher than another within the same block. The pairwise comparisons show which pairs the data separate."
+            : "At α = " + context.AlphaText + " the Friedman test does not reject the hypothesis that the treatments are ranked alike within blocks; this is not evidence that they are.";
+        html.Raw("<div class=\"reading\"><p>").Text(reading).Raw("</p></div>");
+    }
+}

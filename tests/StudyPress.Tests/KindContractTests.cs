@@ -1,0 +1,184 @@
+using System.Globalization;
+using System.Runtime.CompilerServices;
+using System.Text;
+using System.Text.Json;
+using System.Text.Json.Nodes;
+using StudyPress.Binding.Kinds;
+using StudyPress.Evaluation;
+using StudyPress.Evaluation.Kinds;
+using StudyPress.Rendering.Kinds;
+using StudyPress.Syntax;
+
+namespace StudyPress.Tests;
+
+/// <summary>
+/// The contract every analysis kind keeps (DEVELOPERS.md, "Adding an analysis kind"): its three
+/// parts are registered, its docs section names its keys, every manifest name it writes is in the
+/// vocabulary and the docs, and its golden case (<c>Cases/kinds/NAME/</c>) builds to the committed
+/// values and meets the outside references listed beside it. A new kind without any of these
+/// fails here. Golden values are refreshed with STUDYPRESS_UPDATE_GOLDEN=1; references never are.
+/// </summary>
+public sealed class KindContractTests
+{
+    private static string SourceDir([CallerFilePath] string path = "") => Path.GetDirectoryName(path)!;
+
+    private static string CasesDir => Path.Combine(SourceDir(), "Cases", "kinds");
+
+    private static string RepoDir => Path.GetFullPath(Path.Combine(SourceDir(), "..", ".."));
+
+    public static TheoryData<string> Kinds()
+    {
+        var data = new TheoryData<string>();
+        foreach (var name in BlockKinds.Names)
+        {
+            data.Add(name);
+        }
+
+        return data;
+    }
+
+    [Fact]
+    public void EveryKindHasItsThreeParts()
+    {
+        Assert.True(BlockKinds.All.Count >= 9, "kinds are registered by module initializers; too few were found");
+        Assert.Equal(BlockKinds.Names, new SortedSet<string>(KindEvaluators.All.Keys, StringComparer.Ordinal));
+        Assert.Equal(BlockKinds.Names, new SortedSet<string>(KindRenderers.All.Keys, StringComparer.Ordinal));
+    }
+
+    [Theory]
+    [MemberData(nameof(Kinds))]
+    public void DocsSectionNamesTheKindAndItsKeys(string name)
+    {
+        var analyses = File.ReadAllText(Path.Combine(RepoDir, "docs", "analyses.md"));
+        var section = Section(analyses, name);
+        Assert.True(section is not null, $"docs/analyses.md has no section '## `{name}`'");
+        foreach (var key in BlockKinds.All[name].OwnKeys)
+        {
+            Assert.True(section!.Contains($"`{key}`", StringComparison.Ordinal), $"docs/analyses.md, section `{name}`, does not document its key `{key}`");
+        }
+
+        var studyFile = File.ReadAllText(Path.Combine(RepoDir, "docs", "study-file.md"));
+        Assert.Contains($"| `{name}` |", studyFile, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void EveryManifestNameIsDocumented()
+    {
+        var docs = File.ReadAllText(Path.Combine(RepoDir, "docs", "manifest.md")) + File.ReadAllText(Path.Combine(RepoDir, "docs", "methods-and-sentences.md"));
+        var missing = Stat.All.Keys.Concat(TestName.All.Keys).Where(n => !docs.Contains($"`{n}`", StringComparison.Ordinal)).ToList();
+        Assert.True(missing.Count == 0, "names in Evaluation/Vocabulary.cs not documented in docs/manifest.md: " + string.Join(", ", missing));
+    }
+
+    [Theory]
+    [MemberData(nameof(Kinds))]
+    public void GoldenCaseBuildsToItsValues(string name)
+    {
+        var dir = Path.Combine(CasesDir, name);
+        var study = Path.Combine(dir, "study.md");
+        Assert.True(File.Exists(study), $"no golden case for the kind '{name}': add {Path.GetRelativePath(RepoDir, study)}");
+        Assert.Contains($"```{name} ", File.ReadAllText(study), StringComparison.Ordinal);
+
+        var result = Compilation.Compile(study, new CompileOptions { OutputDirectory = Path.Combine(Path.GetTempPath(), "studypress-kind-cases", name) });
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+
+        var values = Values(result.ManifestJson!);
+        var goldenPath = Path.Combine(dir, "golden.json");
+        if (Environment.GetEnvironmentVariable("STUDYPRESS_UPDATE_GOLDEN") == "1")
+        {
+            File.WriteAllText(goldenPath, values, new UTF8Encoding(false));
+        }
+
+        Assert.True(File.Exists(goldenPath), $"no golden values: run with STUDYPRESS_UPDATE_GOLDEN=1 to write {Path.GetRelativePath(RepoDir, goldenPath)}, then review it");
+        Assert.Equal(File.ReadAllText(goldenPath).Replace("\r\n", "\n", StringComparison.Ordinal), values);
+    }
+
+    [Theory]
+    [MemberData(nameof(Kinds))]
+    public void GoldenCaseMeetsItsReferences(string name)
+    {
+        var path = Path.Combine(CasesDir, name, "reference.json");
+        if (!File.Exists(path))
+        {
+            // Kinds whose values have no outside reference (figure, power, methods, ranks on these
+            // data) say so in their study.md; their golden values are a regression snapshot only.
+            Assert.Contains("regression snapshot", File.ReadAllText(Path.Combine(CasesDir, name, "study.md")), StringComparison.Ordinal);
+            return;
+        }
+
+        var result = Compilation.Compile(Path.Combine(CasesDir, name, "study.md"), new CompileOptions { OutputDirectory = Path.Combine(Path.GetTempPath(), "studypress-kind-cases", name) });
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        var manifest = JsonNode.Parse(result.ManifestJson!)!["values"]!.AsArray();
+        var reference = JsonNode.Parse(File.ReadAllText(path))!;
+        var checks = reference["checks"]!.AsArray();
+        Assert.NotEmpty(checks);
+        foreach (var check in checks)
+        {
+            var refPath = check!["path"]!.GetValue<string>();
+            var published = check["published"]!.GetValue<string>();
+            var parts = ReferenceGrammar.Parse(refPath, out var error)?.Parts ?? throw new InvalidOperationException(refPath + ": " + error);
+            var value = manifest.SingleOrDefault(v => Components(v!).SequenceEqual(parts));
+            Assert.True(value is not null, $"{name}: no manifest value at {refPath}");
+            var actual = value!["value"]!.GetValue<double>();
+
+            // A published value is met when the computed one rounds to it at its printed decimals.
+            var decimals = published.Contains('.', StringComparison.Ordinal) ? published.Length - published.IndexOf('.', StringComparison.Ordinal) - 1 : 0;
+            var expected = double.Parse(published, CultureInfo.InvariantCulture);
+            var tolerance = (0.5 * Math.Pow(10, -decimals)) + (1e-12 * Math.Abs(expected));
+            Assert.True(Math.Abs(actual - expected) <= tolerance, $"{name}: {refPath} = {actual.ToString("R", CultureInfo.InvariantCulture)}, reference {published} ({check["status"]}; {reference["source"]})");
+        }
+    }
+
+    private static IEnumerable<string> Components(JsonNode v)
+    {
+        yield return v["block"]!.GetValue<string>();
+        yield return v["test"]!.GetValue<string>();
+        foreach (var key in new[] { "term", "level" })
+        {
+            if (v[key] is { } part)
+            {
+                yield return part.GetValue<string>();
+            }
+        }
+
+        if (v["pair"] is JsonArray pair)
+        {
+            foreach (var p in pair)
+            {
+                yield return p!.GetValue<string>();
+            }
+        }
+
+        yield return v["stat"]!.GetValue<string>();
+    }
+
+    /// <summary>The manifest's values without ids, tool or input identity: one line each, stable across releases.</summary>
+    private static string Values(byte[] manifest)
+    {
+        using var doc = JsonDocument.Parse(manifest);
+        var sb = new StringBuilder();
+        foreach (var v in doc.RootElement.GetProperty("values").EnumerateArray())
+        {
+            var copy = new JsonObject();
+            foreach (var p in v.EnumerateObject().Where(p => p.Name is not ("id" or "inputs")))
+            {
+                copy[p.Name] = JsonNode.Parse(p.Value.GetRawText());
+            }
+
+            sb.Append(copy.ToJsonString()).Append('\n');
+        }
+
+        return sb.ToString();
+    }
+
+    private static string? Section(string markdown, string kind)
+    {
+        var start = markdown.IndexOf($"\n## `{kind}`", StringComparison.Ordinal);
+        if (start < 0)
+        {
+            return null;
+        }
+
+        var end = markdown.IndexOf("\n## ", start + 4, StringComparison.Ordinal);
+        return end < 0 ? markdown[start..] : markdown[start..end];
+    }
+}
