@@ -1,0 +1,92 @@
+using System.Globalization;
+using StudyPress.Tests.Support;
+
+namespace StudyPress.Tests;
+
+/// <summary>
+/// The friedman kind through the whole pipeline: its mistakes (one message each, at the key to
+/// edit), incomplete blocks, and the published value. Data: Zar, Biostatistical Analysis, Example
+/// 12.6 (5 blocks × 4 treatments), as in the kind's golden case; variations of it are test fixtures.
+/// </summary>
+public sealed class FriedmanKindTests
+{
+    private const string Zar = "block,treatment,y\n1,1,7.0\n1,2,5.3\n1,3,4.9\n1,4,8.8\n2,1,9.9\n2,2,5.7\n2,3,7.6\n2,4,8.9\n3,1,8.5\n3,2,4.7\n3,3,5.5\n3,4,8.1\n4,1,5.1\n4,2,3.5\n4,3,2.8\n4,4,3.3\n5,1,10.3\n5,2,7.7\n5,3,8.4\n5,4,9.1\n";
+
+    private static string Study(string keys) => $"""
+---
+title: Friedman fixture
+data:
+  zar: zar.csv
+response: y
+factors: [treatment, block]
+---
+
+```friedman ranks
+{keys}
+```
+""";
+
+    private static StudyRun Run(string keys, string csv = Zar) => new StudyRun().File("zar.csv", csv).Study(Study(keys));
+
+    [Fact]
+    public void PublishedChiSquare_ThroughThePipeline()
+    {
+        // Zar, Example 12.6: chi-square = 10.68 (published, two decimals).
+        using var run = Run("factor: treatment\nblocks: block");
+        var m = run.Manifest();
+        Assert.Equal(10.68, m.Get("ranks", "friedman", "treatment", "chi2"), 2);
+    }
+
+    [Fact]
+    public void TreatmentDefaultsToTheOtherFactor()
+    {
+        using var run = Run("blocks: block");
+        Assert.Equal(10.68, run.Manifest().Get("ranks", "friedman", "treatment", "chi2"), 2);
+    }
+
+    [Theory]
+    [InlineData("factor: treatment", "SP0202", 8)]
+    [InlineData("factor: treatment\nblocks: treatment", "SP0249", 10)]
+    [InlineData("factor: treatment\nblocks: blok", "SP0216", 10)]
+    [InlineData("factor: treatment\nblocks: block\nmethod: tukey", "SP0209", 11)]
+    public void OneMistake_OneMessage_AtTheKey(string keys, string code, int line)
+    {
+        using var run = Run(keys);
+        var d = Assert.Single(run.Compile().Diagnostics);
+        Assert.Equal(code, d.Code);
+        Assert.Equal(line, d.Location.Line);
+    }
+
+    [Fact]
+    public void ReplicatedCell_IsOneErrorAtBlocks()
+    {
+        using var run = Run("factor: treatment\nblocks: block", Zar + "2,3,7.7\n");
+        var d = Assert.Single(run.Compile().Diagnostics);
+        Assert.Equal("SP0509", d.Code);
+        Assert.Equal(10, d.Location.Line);
+        Assert.Contains("block '2' has 2 values for treatment '3'", d.Message, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void IncompleteBlock_IsLeftOutAndSaidSo()
+    {
+        // Block 6 lacks treatments 3 and 4: the test runs on Zar's five complete blocks.
+        using var run = Run("factor: treatment\nblocks: block", Zar + "6,1,4.0\n6,2,3.0\n");
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        var m = new ManifestView(result.ManifestJson!);
+        Assert.Equal(10.68, m.Get("ranks", "friedman", "treatment", "chi2"), 2);
+        Assert.Equal(1, m.Get("ranks", "friedman", "treatment", "blocks_dropped"));
+        Assert.Contains("1 block(s) without a value for every treatment were left out", result.Html, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void TooFewCompleteBlocks_IsOneError()
+    {
+        var csv = string.Join("\n", Zar.Split('\n').Where(l => !l.StartsWith("2,", StringComparison.Ordinal) && !l.StartsWith("3,", StringComparison.Ordinal) && !l.StartsWith("4,", StringComparison.Ordinal) && !l.StartsWith("5,1", StringComparison.Ordinal)));
+        using var run = Run("factor: treatment\nblocks: block", csv);
+        var d = Assert.Single(run.Compile().Diagnostics);
+        Assert.Equal("SP0510", d.Code);
+        Assert.Contains(string.Create(CultureInfo.InvariantCulture, $"block has 1 complete and 1 incomplete"), d.Message, StringComparison.Ordinal);
+    }
+}
