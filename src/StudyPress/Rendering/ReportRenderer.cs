@@ -196,16 +196,18 @@ internal static class ReportRenderer
             var html = new HtmlWriter();
             html.Raw("<section class=\"block block-").Raw(outcome.Block.Kind.Name).Raw("\" id=\"block-").Text(outcome.Block.Id).Raw("\">");
             html.Raw("<p class=\"block-title\">").Text(outcome.Block.Kind.Name + " · " + outcome.Block.Id).Raw("</p>");
-            KindRenderers.For(outcome).Render(html, outcome, context);
+            var kind = KindRenderers.For(outcome);
+            kind.Render(html, outcome, context);
             foreach (var figure in outcome.Figures)
             {
                 html.Raw("<figure class=\"chart chart-").Raw(figure.Type).Raw("\">").Raw(figure.Chart.ToSvg()).Raw("<figcaption>").Text(figure.Caption).Raw("</figcaption></figure>");
             }
 
-            if (outcome.Warnings.Count > 0)
+            var warnings = kind.Warnings(outcome, context).ToList();
+            if (warnings.Count > 0)
             {
                 html.Raw("<div class=\"warnings\">");
-                foreach (var w in outcome.Warnings)
+                foreach (var w in warnings)
                 {
                     html.Raw("<p>").Text(w).Raw("</p>");
                 }
@@ -213,10 +215,11 @@ internal static class ReportRenderer
                 html.Raw("</div>");
             }
 
-            if (outcome.Notes.Count > 0)
+            var notes = kind.Notes(outcome, context).ToList();
+            if (notes.Count > 0)
             {
                 html.Raw("<div class=\"notes\">");
-                foreach (var n in outcome.Notes)
+                foreach (var n in notes)
                 {
                     html.Raw("<p>").Text(n).Raw("</p>");
                 }

@@ -84,19 +84,9 @@ public sealed class AssumptionsEvaluator : KindEvaluator
             }));
         }
 
-        if (review.Normality.N > ShapiroWilk.MaximumN)
-        {
-            outcome.Warnings.Add(string.Create(CultureInfo.InvariantCulture, $"Shapiro–Wilk is computed for 3 to {ShapiroWilk.MaximumN} residuals; this model has {review.Normality.N}, so normality was not tested. With this many observations the F test is robust to moderate non-normality; judge the residual plots instead."));
-        }
-
         if (context.Header.Report.Figures)
         {
             outcome.Figures.AddRange(new[] { Figures.Qq(anova), Figures.Histogram(anova), Figures.ResidualsFitted(anova) }.OfType<Figure>());
-        }
-
-        if (review.SmallestGroup < 5)
-        {
-            outcome.Warnings.Add("Some groups have fewer than 5 observations: these checks have little power, so passing them is weak reassurance.");
         }
 
         return outcome;

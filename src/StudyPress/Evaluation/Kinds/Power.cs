@@ -96,11 +96,6 @@ public sealed class PowerEvaluator : KindEvaluator
             outcome.Figures.Add(curve);
         }
 
-        if (outcome.Observed)
-        {
-            outcome.Warnings.Add("This is \"observed\" (post-hoc) power: the effect size was estimated from the same data. Observed power is a fixed function of the test's p-value, so it adds no information, and a low observed power does not show that a non-significant result is inconclusive for the effect you care about. Plan power from an effect size chosen for its practical importance instead.");
-        }
-
         return outcome;
     }
 }

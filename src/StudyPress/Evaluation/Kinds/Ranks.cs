@@ -18,6 +18,9 @@ public sealed class RanksOutcome(BoundBlock block) : BlockOutcome(block)
     public List<(string Level, ResultValue N, ResultValue MeanRank)> Groups { get; } = [];
 
     public List<(PairwiseComparison Pair, Dictionary<string, ResultValue> Values)> Pairs { get; } = [];
+
+    /// <summary>Some group has fewer than 5 observations (the chi-square approximation is rough).</summary>
+    public bool SmallGroups { get; set; }
 }
 
 /// <summary>Evaluates <c>ranks</c> blocks into values (no HTML, no report text).</summary>
@@ -100,10 +103,7 @@ public sealed class RanksEvaluator : KindEvaluator
             outcome.Pairs.Add((c, values));
         }
 
-        if (kw.Counts.Any(n => n < 5))
-        {
-            outcome.Warnings.Add("Some groups have fewer than 5 observations: the chi-square approximation to the Kruskal–Wallis distribution is rough for groups this small, so treat p-values near α with caution.");
-        }
+        outcome.SmallGroups = kw.Counts.Any(n => n < 5);
 
         return outcome;
     }

@@ -20,6 +20,24 @@ public sealed class AssumptionsRenderer : KindRenderer
 
     public override string Kind => "assumptions";
 
+    public override IEnumerable<string> Warnings(BlockOutcome outcome, RenderContext context)
+    {
+        if (outcome is not AssumptionsOutcome { Review: { } review })
+        {
+            yield break;
+        }
+
+        if (review.Normality.N > ShapiroWilk.MaximumN)
+        {
+            yield return string.Create(CultureInfo.InvariantCulture, $"Shapiro–Wilk is computed for 3 to {ShapiroWilk.MaximumN} residuals; this model has {review.Normality.N}, so normality was not tested. With this many observations the F test is robust to moderate non-normality; judge the residual plots instead.");
+        }
+
+        if (review.SmallestGroup < 5)
+        {
+            yield return "Some groups have fewer than 5 observations: these checks have little power, so passing them is weak reassurance.";
+        }
+    }
+
     public override void Render(HtmlWriter html, BlockOutcome outcome, RenderContext context)
     {
         var o = (AssumptionsOutcome)outcome;

@@ -14,6 +14,34 @@ public sealed class FriedmanRenderer : KindRenderer
 
     public override string Kind => "friedman";
 
+    public override IEnumerable<string> Warnings(BlockOutcome outcome, RenderContext context)
+    {
+        // Common practice (no single source): the chi-square approximation is poor with few blocks;
+        // Iman and Davenport (1980) found their F closer to the exact distribution.
+        if (outcome is FriedmanOutcome { Test: { } test } && test[Stat.NBlocks].Value is { IsDefined: true } n && n.Value < 10)
+        {
+            yield return string.Create(CultureInfo.InvariantCulture, $"Only {n.Value} blocks: the chi-square approximation of the Friedman statistic is rough with so few blocks (tables of its exact distribution can differ near α); the Iman–Davenport F is usually closer.");
+        }
+    }
+
+    public override IEnumerable<string> Notes(BlockOutcome outcome, RenderContext context)
+    {
+        if (outcome is not FriedmanOutcome o)
+        {
+            yield break;
+        }
+
+        if (o.DroppedBlocks.Count > 0)
+        {
+            yield return string.Create(CultureInfo.InvariantCulture, $"{o.DroppedBlocks.Count} block(s) without a value for every treatment were left out ({string.Join(", ", o.DroppedBlocks.Take(10).Select(StudyPress.Charts.BidiText.Isolate))}{(o.DroppedBlocks.Count > 10 ? ", …" : string.Empty)}); the test uses complete blocks only.");
+        }
+
+        if (o.DroppedMissing > 0)
+        {
+            yield return string.Create(CultureInfo.InvariantCulture, $"{o.DroppedMissing} row(s) with a missing value were left out.");
+        }
+    }
+
     public override void Render(HtmlWriter html, BlockOutcome outcome, RenderContext context)
     {
         if (outcome is not FriedmanOutcome { Test: { } test, ImanDavenport: { } id } o)
@@ -48,23 +76,6 @@ public sealed class FriedmanRenderer : KindRenderer
         if (o.CriticalDifference is { } cd)
         {
             html.Raw("<p class=\"note\">").Text("Critical difference of mean ranks at α = " + context.AlphaText + ": ").Raw(V(cd)).Text(".").Raw("</p>");
-        }
-
-        if (o.DroppedBlocks.Count > 0)
-        {
-            html.Raw("<p class=\"note\">").Text(string.Create(CultureInfo.InvariantCulture, $"{o.DroppedBlocks.Count} block(s) without a value for every treatment were left out ({string.Join(", ", o.DroppedBlocks.Take(10).Select(StudyPress.Charts.BidiText.Isolate))}{(o.DroppedBlocks.Count > 10 ? ", …" : string.Empty)}); the test uses complete blocks only.")).Raw("</p>");
-        }
-
-        if (o.DroppedMissing > 0)
-        {
-            html.Raw("<p class=\"note\">").Text(string.Create(CultureInfo.InvariantCulture, $"{o.DroppedMissing} row(s) with a missing value were left out.")).Raw("</p>");
-        }
-
-        // Common practice (no single source): the chi-square approximation is poor with few blocks;
-        // Iman and Davenport (1980) found their F closer to the exact distribution.
-        if (test[Stat.NBlocks].Value is { IsDefined: true } n && n.Value < 10)
-        {
-            html.Raw("<p class=\"warning\">").Text(string.Create(CultureInfo.InvariantCulture, $"Only {n.Value} blocks: the chi-square approximation of the Friedman statistic is rough with so few blocks (tables of its exact distribution can differ near α); the Iman–Davenport F is usually closer.")).Raw("</p>");
         }
 
         var method = "Values are ranked within each block (mid-ranks for ties)"

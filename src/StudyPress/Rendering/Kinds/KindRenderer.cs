@@ -13,6 +13,15 @@ public abstract class KindRenderer
 
     /// <summary>Writes the block's HTML (tables, notes) into the writer.</summary>
     public abstract void Render(HtmlWriter html, BlockOutcome outcome, RenderContext context);
+
+    /// <summary>
+    /// Cautions shown under the block's figures. A kind writes them here from its outcome's typed
+    /// facts (evaluation holds no report text); the default shows the outcome's older text list.
+    /// </summary>
+    public virtual IEnumerable<string> Warnings(BlockOutcome outcome, RenderContext context) => outcome.Warnings;
+
+    /// <summary>Plain notes shown after the cautions (rows left out and the like); see <see cref="Warnings"/>.</summary>
+    public virtual IEnumerable<string> Notes(BlockOutcome outcome, RenderContext context) => outcome.Notes;
 }
 
 /// <summary>Every kind's renderer, by kind name.</summary>

@@ -20,6 +20,14 @@ public sealed class PowerRenderer : KindRenderer
 
     public override string Kind => "power";
 
+    public override IEnumerable<string> Warnings(BlockOutcome outcome, RenderContext context)
+    {
+        if (outcome is PowerOutcome { Observed: true })
+        {
+            yield return "This is \"observed\" (post-hoc) power: the effect size was estimated from the same data. Observed power is a fixed function of the test's p-value, so it adds no information, and a low observed power does not show that a non-significant result is inconclusive for the effect you care about. Plan power from an effect size chosen for its practical importance instead.";
+        }
+    }
+
     public override void Render(HtmlWriter html, BlockOutcome outcome, RenderContext context)
     {
         var o = (PowerOutcome)outcome;

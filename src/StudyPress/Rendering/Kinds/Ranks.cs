@@ -20,6 +20,14 @@ public sealed class RanksRenderer : KindRenderer
 
     public override string Kind => "ranks";
 
+    public override IEnumerable<string> Warnings(BlockOutcome outcome, RenderContext context)
+    {
+        if (outcome is RanksOutcome { SmallGroups: true })
+        {
+            yield return "Some groups have fewer than 5 observations: the chi-square approximation to the Kruskal–Wallis distribution is rough for groups this small, so treat p-values near α with caution.";
+        }
+    }
+
     public override void Render(HtmlWriter html, BlockOutcome outcome, RenderContext context)
     {
         var o = (RanksOutcome)outcome;
