@@ -12,7 +12,7 @@ namespace StudyPress.Rendering;
 /// </summary>
 public sealed class NumberFormat(int digits, int pDigits)
 {
-    private static readonly HashSet<string> IntegerStats = new(StringComparer.Ordinal) { Stat.N, Stat.Df, Stat.Missing, Stat.NPerGroup, Stat.NTotal, Stat.Df1, Stat.Df2, Stat.M };
+    private static readonly IReadOnlySet<string> IntegerStats = Stat.Counts;
     private static readonly HashSet<string> PStats = new(StringComparer.Ordinal) { Stat.P, Stat.PAdj };
 
     public int Digits { get; } = digits;

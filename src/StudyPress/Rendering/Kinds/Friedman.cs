@@ -55,7 +55,7 @@ public sealed class FriedmanRenderer : KindRenderer
         t.Row("Iman–Davenport F", [V(id[Stat.F]), V(id[Stat.Df1]) + ", " + V(id[Stat.Df2]), V(id[Stat.P]), string.Empty]);
         t.WriteTo(html);
 
-        var ranks = new HtmlTable("mean-ranks", "Mean ranks within blocks (" + V(test[Stat.NBlocks]) + " blocks)", [o.TreatmentLabel, "mean rank"]);
+        var ranks = new HtmlTable("mean-ranks", string.Create(CultureInfo.InvariantCulture, $"Mean ranks within {test[Stat.NBlocks].Value.Value} blocks"), [o.TreatmentLabel, "mean rank"]);
         foreach (var (level, rank) in o.Treatments)
         {
             ranks.Row(level, [V(rank)]);

@@ -36,14 +36,14 @@ public sealed class PowerRenderer : KindRenderer
         if (o.Values.Count > 0)
         {
             var t = new HtmlTable("power", o.Block.Caption ?? "Power of the F test", ["Groups", "n per group", "total n", "Cohen's f", "α", "power"]);
-            t.Row(o.Groups.ToString(CultureInfo.InvariantCulture), [V(o.Values, "n_per_group"), V(o.Values, "n_total"), V(o.Values, "effect_f"), HtmlWriter.Escape(alpha), V(o.Values, "power")]);
+            t.Row(o.Groups.ToString(CultureInfo.InvariantCulture), [V(o.Values, Stat.NPerGroup), V(o.Values, Stat.NTotal), V(o.Values, Stat.EffectF), HtmlWriter.Escape(alpha), V(o.Values, Stat.Power)]);
             t.WriteTo(html);
         }
 
         if (o.Required.Count > 0)
         {
             var t = new HtmlTable("power", "Sample size for a target power", ["Groups", "Cohen's f", "α", "target power", "n per group", "total n", "power reached"]);
-            t.Row(o.Groups.ToString(CultureInfo.InvariantCulture), [V(o.Required, "effect_f"), HtmlWriter.Escape(alpha), HtmlWriter.Escape(o.Target!.Value.ToString("R", CultureInfo.InvariantCulture)), V(o.Required, "n_per_group"), V(o.Required, "n_total"), V(o.Required, "power")]);
+            t.Row(o.Groups.ToString(CultureInfo.InvariantCulture), [V(o.Required, Stat.EffectF), HtmlWriter.Escape(alpha), HtmlWriter.Escape(o.Target!.Value.ToString("R", CultureInfo.InvariantCulture)), V(o.Required, Stat.NPerGroup), V(o.Required, Stat.NTotal), V(o.Required, Stat.Power)]);
             t.WriteTo(html);
         }
 
