@@ -40,4 +40,21 @@ public sealed class BoundBlock
 
     /// <summary>The kind's own bound options.</summary>
     public object? Options { get; init; }
+
+    /// <summary>The same block over other factors (a kind that names its factors in its own keys, as ranks and friedman do).</summary>
+    public BoundBlock WithFactors(IReadOnlyList<FactorSpec> factors, SourceLocation at) => new()
+    {
+        Id = Id,
+        Kind = Kind,
+        Syntax = Syntax,
+        Data = Data,
+        Response = Response,
+        ResponseLocation = ResponseLocation,
+        Factors = factors,
+        FactorsLocation = at,
+        Where = Where,
+        Caption = Caption,
+        Of = Of,
+        Options = Options,
+    };
 }

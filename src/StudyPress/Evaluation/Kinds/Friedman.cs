@@ -69,20 +69,7 @@ public sealed class FriedmanEvaluator : KindEvaluator
             treatment = others[0];
         }
 
-        var two = new BoundBlock
-        {
-            Id = block.Id,
-            Kind = block.Kind,
-            Syntax = block.Syntax,
-            Data = block.Data,
-            Response = block.Response,
-            ResponseLocation = block.ResponseLocation,
-            Factors = [treatment, options.Blocks],
-            FactorsLocation = block.FactorsLocation,
-            Where = block.Where,
-            Caption = block.Caption,
-            Options = block.Options,
-        };
+        var two = block.WithFactors([treatment, options.Blocks], block.FactorsLocation);
         var data = context.Select(two, diagnostics);
         if (data is null)
         {

@@ -44,20 +44,7 @@ public sealed class RanksEvaluator : KindEvaluator
         }
 
         var spec = context.Header.Factor(name)!;
-        var one = new BoundBlock
-        {
-            Id = block.Id,
-            Kind = block.Kind,
-            Syntax = block.Syntax,
-            Data = block.Data,
-            Response = block.Response,
-            ResponseLocation = block.ResponseLocation,
-            Factors = [spec],
-            FactorsLocation = options.FactorLocation,
-            Where = block.Where,
-            Caption = block.Caption,
-            Options = block.Options,
-        };
+        var one = block.WithFactors([spec], options.FactorLocation);
         var data = context.Select(one, diagnostics);
         if (data is null)
         {
