@@ -18,15 +18,16 @@ namespace StudyPress.Evaluation.Kinds;
 /// quartiles (<c>quantile_cont</c>, linear interpolation between order statistics, the definition
 /// the loaded rows use), come from one query per group over the group's rows. SQLite has no
 /// quantile function: median and quartiles are not defined, with that reason.
-/// Manifest values and rendering are those of <see cref="SummaryEvaluator"/> and the summary renderer.
+/// Manifest values and rendering are those of the rows route (one <see cref="SummaryOutcome"/>,
+/// with <see cref="AnovaRoute.Cells"/>).
 /// </summary>
-public static class AggregatedSummary
+public sealed partial class SummaryEvaluator
 {
     public const string SqliteQuantiles = "the database computes no quantiles; SQLite";
 
-    public static BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
+    private static SummaryOutcome EvaluateCells(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
     {
-        var outcome = new SummaryOutcome(block);
+        var outcome = new SummaryOutcome(block) { Route = AnovaRoute.Cells };
         var ds = context.Datasets[block.Data!];
         var table = ds.Aggregate!;
         var response = block.Response!;

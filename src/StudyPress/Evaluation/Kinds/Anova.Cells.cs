@@ -3,45 +3,22 @@ using StudyPress.Binding;
 using StudyPress.Data.Sources;
 using StudyPress.Diagnostics;
 using StudyPress.Evaluation;
-using StudyPress.Rendering;
 using StudyPress.Statistics;
 using StudyPress.Statistics.Anova;
 using StudyPress.Binding.Kinds;
 
 namespace StudyPress.Evaluation.Kinds;
 
-public sealed class AggregatedAnovaOutcome(BoundBlock block) : BlockOutcome(block)
-{
-    public CellAnovaResult? Result { get; set; }
-
-    public IReadOnlyList<FactorSpec> Factors { get; set; } = [];
-
-    public List<(AnovaTerm Term, Dictionary<string, ResultValue> Values)> Terms { get; } = [];
-
-    public Dictionary<string, ResultValue> Residual { get; } = new(StringComparer.Ordinal);
-
-    public Dictionary<string, ResultValue> Total { get; } = new(StringComparer.Ordinal);
-
-    public List<(string Factor, string Level, Dictionary<string, ResultValue> Values)> Means { get; } = [];
-
-    public Dictionary<string, ResultValue>? Welch { get; set; }
-
-    public Dictionary<string, ResultValue>? Bartlett { get; set; }
-
-    public List<string> Decisions { get; } = [];
-}
-
 /// <summary>
-/// An <c>anova</c> block on a dataset the database aggregated (<c>aggregate: true</c>): the table,
-/// the level means, Welch's F and Bartlett's test come from the per-cell counts, means and sums of
-/// squares (<see cref="CellStatisticsAnova"/>, <see cref="GroupStatisticsTests"/>); what needs the
-/// rows (residual checks, rank tests, figures) is not run, and the block says so.
-/// The manifest values have the same names as those of a block on loaded rows.
+/// The block's cells on an aggregated dataset: the levels present per factor (in level order), one
+/// entry per non-empty cell (counts, centred means, within-cell sums of squares; codes index the
+/// levels), and the rows left out for a missing value.
 /// </summary>
-public static class AggregatedAnova
-{
-    public const string MethodNote = "ANOVA table, level means, Welch's F and Bartlett's test were computed from per-cell counts, means and sums of squares computed by the database (aggregate: true). The checks that need the rows (normality of the residuals, Brown–Forsythe/Levene, outliers, run order), the Kruskal–Wallis test and the figures were not run: the rows were not loaded.";
+public sealed record SelectedCells(IReadOnlyList<IReadOnlyList<string>> Levels, List<CellStatistics> Cells, long Dropped);
 
+/// <summary>Selection of a block's cells from a dataset the database aggregated (<c>aggregate: true</c>).</summary>
+public static class CellsRoute
+{
     /// <summary>Whether the block reads an aggregated dataset.</summary>
     public static bool Applies(EvaluationContext context, BoundBlock block) =>
         block.Data is not null && context.Datasets.TryGetValue(block.Data, out var d) && d.Aggregate is not null;
@@ -50,7 +27,7 @@ public static class AggregatedAnova
     /// The block's cells: the dataset's cells that pass 'where' and have the block's factors and
     /// response, pooled over the factors the block does not use.
     /// </summary>
-    public static (IReadOnlyList<IReadOnlyList<string>> Levels, List<CellStatistics> Cells, long Dropped)? Cells(EvaluationContext context, BoundBlock block)
+    public static SelectedCells? Select(EvaluationContext context, BoundBlock block)
     {
         var ds = context.Datasets[block.Data!];
         var table = ds.Aggregate!;
@@ -97,12 +74,25 @@ public static class AggregatedAnova
         var cells = pooled.Values
             .Select(v => new CellStatistics([.. v.Codes.Select((c, k) => present[k].IndexOf(c))], v.Stat.N, v.Stat.CentredMean, v.Stat.SumSquares))
             .ToList();
-        return (levels, cells, dropped);
+        return new SelectedCells(levels, cells, dropped);
     }
+}
 
-    public static BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, AnovaKind.Options options, DiagnosticBag diagnostics)
+/// <summary>
+/// An <c>anova</c> block on a dataset the database aggregated (<c>aggregate: true</c>): the table,
+/// the level means, Welch's F and Bartlett's test come from the per-cell counts, means and sums of
+/// squares (<see cref="CellStatisticsAnova"/>, <see cref="GroupStatisticsTests"/>); what needs the
+/// rows (residual checks, rank tests, figures) is not run, and the block says so.
+/// The manifest values have the same names as those of a block on loaded rows; the outcome is the
+/// same <see cref="AnovaOutcome"/>, with <see cref="AnovaRoute.Cells"/>.
+/// </summary>
+public sealed partial class AnovaEvaluator
+{
+    public const string CellsMethodNote = "ANOVA table, level means, Welch's F and Bartlett's test were computed from per-cell counts, means and sums of squares computed by the database (aggregate: true). The checks that need the rows (normality of the residuals, Brown–Forsythe/Levene, outliers, run order), the Kruskal–Wallis test and the figures were not run: the rows were not loaded.";
+
+    private static AnovaOutcome EvaluateCells(EvaluationContext context, BoundBlock block, AnovaKind.Options options, DiagnosticBag diagnostics)
     {
-        var outcome = new AggregatedAnovaOutcome(block);
+        var outcome = new AnovaOutcome(block) { Route = AnovaRoute.Cells };
         var ds = context.Datasets[block.Data!];
         if (options.Transform != TransformKind.None)
         {
@@ -110,7 +100,7 @@ public static class AggregatedAnova
             return outcome;
         }
 
-        if (Cells(context, block) is not { } selected)
+        if (CellsRoute.Select(context, block) is not { } selected)
         {
             diagnostics.NoRowsSelected(block.Location);
             return outcome;
@@ -153,11 +143,13 @@ public static class AggregatedAnova
         }
 
         var result = CellStatisticsAnova.Fit(input);
-        outcome.Result = result;
+        outcome.Fit = AnovaFit.Of(result);
+        outcome.Cells = selected;
         outcome.Factors = block.Factors;
+        outcome.ResponseName = block.Response!;
         var inputs = context.Inputs(block);
         var centre = ds.Aggregate!.Centres[block.Response!];
-        AnovaEvaluator.RecordTable(context, block, result.Terms, result.ResidualSumOfSquares, result.ResidualDf, result.ResidualMeanSquare, result.TotalSumOfSquares, result.TotalDf, inputs, outcome.Terms, outcome.Residual, outcome.Total);
+        RecordTable(context, block, result.Terms, result.ResidualSumOfSquares, result.ResidualDf, result.ResidualMeanSquare, result.TotalSumOfSquares, result.TotalDf, inputs, outcome.Terms, outcome.Residual, outcome.Total);
 
         // Level means (each factor's levels, pooled over the other factors).
         for (var k = 0; k < block.Factors.Count; k++)
@@ -177,7 +169,7 @@ public static class AggregatedAnova
 
         if (block.Factors.Count == 1)
         {
-            OneFactor(context, block, outcome, options, cells, inputs);
+            OneFactorCells(context, block, outcome, options, cells, inputs);
         }
 
         var small = cells.Where(c => c.Count is > 1 and < 5).ToList();
@@ -196,7 +188,7 @@ public static class AggregatedAnova
             outcome.Warnings.Add("The design is unbalanced: the sums of squares depend on the SS type chosen.");
         }
 
-        outcome.Notes.Add(MethodNote);
+        outcome.Notes.Add(CellsMethodNote);
         if (dropped > 0)
         {
             outcome.Notes.Add(string.Create(CultureInfo.InvariantCulture, $"{dropped} row(s) with a missing value were left out of this analysis."));
@@ -205,7 +197,7 @@ public static class AggregatedAnova
         return outcome;
     }
 
-    private static void OneFactor(EvaluationContext context, BoundBlock block, AggregatedAnovaOutcome outcome, AnovaKind.Options options, List<CellStatistics> cells, IReadOnlyList<string> inputs)
+    private static void OneFactorCells(EvaluationContext context, BoundBlock block, AnovaOutcome outcome, AnovaKind.Options options, List<CellStatistics> cells, IReadOnlyList<string> inputs)
     {
         var groups = cells.Select(c => new GroupStatistics(c.Count, c.Mean, c.SumOfSquares)).ToList();
         var name = block.Factors[0].Name;
@@ -228,12 +220,12 @@ public static class AggregatedAnova
             if (bt.P.IsDefined && bt.P.Value < alpha)
             {
                 show = true;
-                outcome.Decisions.Add($"Rule fired (welch: auto): on aggregated data the variances are compared by Bartlett's test (the rows needed by Brown–Forsythe were not loaded); it found unequal group variances (p {P(bt.P)} < α = {a}), so Welch's F, which does not assume equal variances, is shown and is the test to read. Bartlett's test is sensitive to non-normality, which could not be checked.");
+                outcome.Decisions.Add($"Rule fired (welch: auto): on aggregated data the variances are compared by Bartlett's test (the rows needed by Brown–Forsythe were not loaded); it found unequal group variances (p {PCells(bt.P)} < α = {a}), so Welch's F, which does not assume equal variances, is shown and is the test to read. Bartlett's test is sensitive to non-normality, which could not be checked.");
             }
             else
             {
                 outcome.Decisions.Add(bt.P.IsDefined
-                    ? $"Welch's F is not shown (welch: auto): Bartlett's test, used on aggregated data, found no evidence of unequal variances (p {P(bt.P)} ≥ α = {a}). Set 'welch: yes' to show it anyway."
+                    ? $"Welch's F is not shown (welch: auto): Bartlett's test, used on aggregated data, found no evidence of unequal variances (p {PCells(bt.P)} ≥ α = {a}). Set 'welch: yes' to show it anyway."
                     : $"Welch's F is not shown (welch: auto): equal variances could not be checked ({bt.P.Reason}).");
             }
         }
@@ -251,6 +243,6 @@ public static class AggregatedAnova
         }
     }
 
-    private static string P(Quantity p) => p.Value < 0.001 ? "< 0.001" : "= " + p.Value.ToString("F3", CultureInfo.InvariantCulture);
+    private static string PCells(Quantity p) => p.Value < 0.001 ? "< 0.001" : "= " + p.Value.ToString("F3", CultureInfo.InvariantCulture);
 
 }
