@@ -220,6 +220,7 @@ public sealed partial class AnovaEvaluator
             if (bt.P.IsDefined && bt.P.Value < alpha)
             {
                 show = true;
+                outcome.ReadWelch = true;
                 outcome.Decisions.Add($"Rule fired (welch: auto): on aggregated data the variances are compared by Bartlett's test (the rows needed by Brown–Forsythe were not loaded); it found unequal group variances (p {PCells(bt.P)} < α = {a}), so Welch's F, which does not assume equal variances, is shown and is the test to read. Bartlett's test is sensitive to non-normality, which could not be checked.");
             }
             else
