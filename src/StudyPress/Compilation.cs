@@ -160,12 +160,21 @@ public static class Compilation
             return null;
         }
 
+        // Model: each anova block's model, and the cells and order statistics of aggregated datasets
+        // (the last queries), so that evaluation does no I/O.
+        var models = Model.StudyModels.Prepare(blocks, datasets, diagnostics);
+        if (diagnostics.Items.Skip(errorsBeforeData).Any(d => d.Severity == Severity.Error))
+        {
+            return null;
+        }
+
         // Evaluate.
         var studyFolder = Path.GetDirectoryName(display);
         var context = new EvaluationContext
         {
             Header = header,
             Datasets = datasets,
+            Models = models,
             DataDisplayPaths = header.Datasets.ToDictionary(
                 d => d.Name,
                 d => string.IsNullOrEmpty(studyFolder) ? d.Path : Path.Combine(studyFolder, d.Path).Replace('\\', '/'),

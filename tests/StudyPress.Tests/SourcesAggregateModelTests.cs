@@ -111,6 +111,60 @@ public sealed partial class SourcesAggregateModelTests
         Assert.Contains("aggregated by the database into", text, StringComparison.Ordinal);
     }
 
+    [Fact]
+    public void Methods_DesignFromTheRowsAndFromTheDatabaseCells_IsTheSame()
+    {
+        // The cell table is one view on both routes: the same counts, total and dropped rows.
+        using var run = new StudyRun().Study("""
+            ---
+            title: One cell table
+            data:
+              raw: { path: t.sqlite, query: "select plot, fert, soil, y from t order by plot" }
+              agg: { path: t.sqlite, query: "select plot, fert, soil, y from t order by plot", aggregate: true }
+            response: y
+            factors:
+              fert:
+              soil:
+            ---
+
+            ```anova r2
+            data: raw
+            factors: [fert, soil]
+            ```
+
+            ```anova a2
+            data: agg
+            factors: [fert, soil]
+            ```
+
+            ```methods m1
+            ```
+            """);
+        SourcesAggregateTests.SqliteDb(Path.Combine(run.Folder, "t.sqlite"));
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        var manifest = new ManifestView(result.ManifestJson!);
+        string[] stats = ["n_total", "dropped_missing"];
+        foreach (var stat in stats)
+        {
+            Assert.Equal(manifest.Get("m1", "design", "r2", stat), manifest.Get("m1", "design", "a2", stat));
+        }
+
+        // Cell sizes of SourcesAggregateTests.Rows (exact hand count: 3 + ((2f + s) mod 4) + f rows
+        // per cell; plot 5, the third of low / sand, has no response).
+        var cells = new Dictionary<string, double>(StringComparer.Ordinal)
+        {
+            ["low / clay"] = 3, ["low / sand"] = 3, ["mid / clay"] = 6, ["mid / sand"] = 7, ["high / clay"] = 5, ["high / sand"] = 6,
+        };
+        foreach (var (label, n) in cells)
+        {
+            Assert.Equal(n, manifest.Get("m1", "design", "r2", "n", label));
+            Assert.Equal(n, manifest.Get("m1", "design", "a2", "n", label));
+        }
+
+        Assert.Equal(1, manifest.Get("m1", "design", "a2", "dropped_missing"));
+    }
+
     /// <summary>The methods paragraphs' text (tags dropped, entities of quotes restored).</summary>
     private static string Text(string html)
     {

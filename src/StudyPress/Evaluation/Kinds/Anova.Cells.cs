@@ -1,6 +1,7 @@
 using System.Globalization;
 using StudyPress.Binding;
 using StudyPress.Data.Sources;
+using StudyPress.Model;
 using StudyPress.Diagnostics;
 using StudyPress.Evaluation;
 using StudyPress.Statistics;
@@ -8,75 +9,6 @@ using StudyPress.Statistics.Anova;
 using StudyPress.Binding.Kinds;
 
 namespace StudyPress.Evaluation.Kinds;
-
-/// <summary>
-/// The block's cells on an aggregated dataset: the levels present per factor (in level order), one
-/// entry per non-empty cell (counts, centred means, within-cell sums of squares; codes index the
-/// levels), and the rows left out for a missing value.
-/// </summary>
-public sealed record SelectedCells(IReadOnlyList<IReadOnlyList<string>> Levels, List<CellStatistics> Cells, long Dropped);
-
-/// <summary>Selection of a block's cells from a dataset the database aggregated (<c>aggregate: true</c>).</summary>
-public static class CellsRoute
-{
-    /// <summary>Whether the block reads an aggregated dataset.</summary>
-    public static bool Applies(EvaluationContext context, BoundBlock block) =>
-        block.Data is not null && context.Datasets.TryGetValue(block.Data, out var d) && d.Aggregate is not null;
-
-    /// <summary>
-    /// The block's cells: the dataset's cells that pass 'where' and have the block's factors and
-    /// response, pooled over the factors the block does not use.
-    /// </summary>
-    public static SelectedCells? Select(EvaluationContext context, BoundBlock block)
-    {
-        var ds = context.Datasets[block.Data!];
-        var table = ds.Aggregate!;
-        int Pos(string factor) => table.Factors.Select((f, i) => (f, i)).First(p => p.f.Name == factor).i;
-        var factorPos = block.Factors.Select(f => Pos(f.Name)).ToArray();
-        var where = block.Where.Select(w => (Pos: Pos(w.Factor.Name), w.Levels)).ToArray();
-        var pooled = new SortedDictionary<string, (int[] Codes, AggregateStat Stat)>(StringComparer.Ordinal);
-        long dropped = 0;
-        for (var i = 0; i < table.Cells.Count; i++)
-        {
-            var cell = table.Cells[i];
-            if (where.Any(w => cell.Codes[w.Pos] < 0 || !w.Levels.Contains(table.Levels[w.Pos][cell.Codes[w.Pos]])))
-            {
-                continue;
-            }
-
-            var stat = cell.Stats[block.Response!];
-            if (factorPos.Any(p => cell.Codes[p] < 0))
-            {
-                dropped += cell.Rows;
-                continue;
-            }
-
-            dropped += cell.Rows - stat.N;
-            if (stat.N == 0)
-            {
-                continue;
-            }
-
-            ds.Used[i] = true;
-            var codes = factorPos.Select(p => cell.Codes[p]).ToArray();
-            var key = string.Join(",", codes.Select(c => c.ToString("D9", CultureInfo.InvariantCulture)));
-            pooled[key] = pooled.TryGetValue(key, out var before) ? (codes, AggregateSource.Pool(before.Stat, stat)) : (codes, stat);
-        }
-
-        if (pooled.Count == 0)
-        {
-            return null;
-        }
-
-        // Keep only the levels present, as the row selection does.
-        var present = factorPos.Select((_, k) => new SortedSet<int>(pooled.Values.Select(v => v.Codes[k])).ToList()).ToArray();
-        var levels = factorPos.Select((p, k) => (IReadOnlyList<string>)[.. present[k].Select(c => table.Levels[p][c])]).ToList();
-        var cells = pooled.Values
-            .Select(v => new CellStatistics([.. v.Codes.Select((c, k) => present[k].IndexOf(c))], v.Stat.N, v.Stat.CentredMean, v.Stat.SumSquares))
-            .ToList();
-        return new SelectedCells(levels, cells, dropped);
-    }
-}
 
 /// <summary>
 /// An <c>anova</c> block on a dataset the database aggregated (<c>aggregate: true</c>): the table,
@@ -92,21 +24,24 @@ public sealed partial class AnovaEvaluator
 
     private static AnovaOutcome EvaluateCells(EvaluationContext context, BoundBlock block, AnovaKind.Options options, DiagnosticBag diagnostics)
     {
-        var outcome = new AnovaOutcome(block) { Route = AnovaRoute.Cells };
+        var model = context.Models.Descriptions[block.Id];
+        var outcome = new AnovaOutcome(block) { Route = AnovaRoute.Cells, Model = model };
         var ds = context.Datasets[block.Data!];
-        if (options.Transform != TransformKind.None)
+        if (model.Transform != TransformKind.None)
         {
             diagnostics.AggregateProblem(block.Location, ds.Spec.Name, $"'transform: {options.TransformName}' needs the rows, and the database aggregated them (aggregate: true); transform the column in the query instead");
             return outcome;
         }
 
-        if (CellsRoute.Select(context, block) is not { } selected)
+        if (context.Models.AggregatedCells.GetValueOrDefault(block.Id) is not { } selected)
         {
             diagnostics.NoRowsSelected(block.Location);
             return outcome;
         }
 
-        var (levels, cells, dropped) = selected;
+        var levels = selected.Levels;
+        var cells = selected.Cells;
+        var dropped = selected.Dropped;
         for (var k = 0; k < block.Factors.Count; k++)
         {
             if (levels[k].Count < 2)
@@ -116,7 +51,7 @@ public sealed partial class AnovaEvaluator
             }
         }
 
-        if (cells.All(c => c.Count == 1) && (block.Factors.Count == 1 || options.Interaction))
+        if (cells.All(c => c.Count == 1) && (block.Factors.Count == 1 || model.Interaction))
         {
             diagnostics.NoResidualDf(block.Location);
             return outcome;
@@ -125,8 +60,8 @@ public sealed partial class AnovaEvaluator
         var input = new CellAnovaInput(
             [.. block.Factors.Select((f, k) => new CellFactor(f.Name, levels[k]))],
             cells,
-            options.Interaction,
-            options.SsType,
+            model.Interaction,
+            model.SsType,
             context.Header.Alpha);
         if (CellStatisticsAnova.Check(input) is { } problem)
         {
@@ -146,9 +81,10 @@ public sealed partial class AnovaEvaluator
         outcome.Fit = AnovaFit.Of(result);
         outcome.Cells = selected;
         outcome.Factors = block.Factors;
+        outcome.ResponseCentre = selected.Centre;
         outcome.ResponseName = block.Response!;
         var inputs = context.Inputs(block);
-        var centre = ds.Aggregate!.Centres[block.Response!];
+        var centre = selected.Centre;
         RecordTable(context, block, result.Terms, result.ResidualSumOfSquares, result.ResidualDf, result.ResidualMeanSquare, result.TotalSumOfSquares, result.TotalDf, inputs, outcome.Terms, outcome.Residual, outcome.Total);
 
         // Level means (each factor's levels, pooled over the other factors).
@@ -197,7 +133,7 @@ public sealed partial class AnovaEvaluator
         return outcome;
     }
 
-    private static void OneFactorCells(EvaluationContext context, BoundBlock block, AnovaOutcome outcome, AnovaKind.Options options, List<CellStatistics> cells, IReadOnlyList<string> inputs)
+    private static void OneFactorCells(EvaluationContext context, BoundBlock block, AnovaOutcome outcome, AnovaKind.Options options, IReadOnlyList<CellStatistics> cells, IReadOnlyList<string> inputs)
     {
         var groups = cells.Select(c => new GroupStatistics(c.Count, c.Mean, c.SumOfSquares)).ToList();
         var name = block.Factors[0].Name;

@@ -4,6 +4,7 @@ using StudyPress.Binding.Kinds;
 using StudyPress.Binding;
 using StudyPress.Diagnostics;
 using StudyPress.Evaluation;
+using StudyPress.Model;
 using StudyPress.Statistics.Anova;
 using StudyPress.Statistics.Nonparametric;
 using StudyPress.Statistics;
@@ -72,8 +73,14 @@ public sealed class AnovaOutcome(BoundBlock block) : BlockOutcome(block)
     /// <summary>The selected rows (rows route only).</summary>
     public BlockData? Data { get; set; }
 
-    /// <summary>The block's cells: levels and per-cell statistics (cells route only).</summary>
-    public SelectedCells? Cells { get; set; }
+    /// <summary>The model the block states (bound once, before evaluation).</summary>
+    public ModelDescription? Model { get; set; }
+
+    /// <summary>
+    /// The per-cell sufficient statistics: from the database's cells (cells route), or from the
+    /// selected rows (rows route). Set when the model was fitted.
+    /// </summary>
+    public CellTable? Cells { get; set; }
 
     /// <summary>The model input: the (transformed) response, centred, and the factors (rows route only).</summary>
     public AnovaInput? Input { get; set; }
@@ -124,12 +131,13 @@ public sealed partial class AnovaEvaluator : KindEvaluator
     public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
     {
         var options = (AnovaKind.Options)block.Options!;
-        if (CellsRoute.Applies(context, block))
+        if (StudyModels.ReadsAggregate(block, context.Datasets))
         {
             return EvaluateCells(context, block, options, diagnostics);
         }
 
-        var outcome = new AnovaOutcome(block);
+        var model = context.Models.Descriptions[block.Id];
+        var outcome = new AnovaOutcome(block) { Model = model };
         var data = context.Select(block, diagnostics);
         if (data is null)
         {
@@ -149,7 +157,7 @@ public sealed partial class AnovaEvaluator : KindEvaluator
         }
 
         var cells = data.Cells();
-        if (cells.All(c => c.Values.Length == 1) && (data.Factors.Count == 1 || options.Interaction))
+        if (cells.All(c => c.Values.Length == 1) && (data.Factors.Count == 1 || model.Interaction))
         {
             diagnostics.NoResidualDf(block.Location);
             return outcome;
@@ -158,9 +166,9 @@ public sealed partial class AnovaEvaluator : KindEvaluator
         var factors = data.Factors.Select(f => f.ToColumn()).ToList();
         var response = data.Response;
         var centre = data.Centre;
-        if (options.Transform != TransformKind.None)
+        if (model.Transform != TransformKind.None)
         {
-            var t = ResponseTransform.Apply(data.Values, options.Transform, factors, options.Interaction, context.Header.Alpha);
+            var t = ResponseTransform.Apply(data.Values, model.Transform, factors, model.Interaction, context.Header.Alpha);
             if (t.Error is { } error)
             {
                 if (error.Index is { } index)
@@ -171,7 +179,7 @@ public sealed partial class AnovaEvaluator : KindEvaluator
                         options.TransformName,
                         data.ResponseName,
                         (error.Value ?? data.Values[index]).ToString("R", CultureInfo.InvariantCulture),
-                        NeedText(options.Transform));
+                        NeedText(model.Transform));
                 }
                 else
                 {
@@ -187,10 +195,10 @@ public sealed partial class AnovaEvaluator : KindEvaluator
         }
 
         outcome.ResponseCentre = centre;
-        var input = new AnovaInput(response, factors, options.Interaction, options.SsType, context.Header.Alpha)
+        var input = new AnovaInput(response, factors, model.Interaction, model.SsType, context.Header.Alpha)
         {
             // Exact decimal data give exact sums of squares (one factor, untransformed response).
-            Exact = options.Transform == TransformKind.None && data.Factors.Count == 1 ? data.Exact?.AsScaled() : null,
+            Exact = model.Transform == TransformKind.None && data.Factors.Count == 1 ? data.Exact?.AsScaled() : null,
         };
         if (data.Factors.Count > 1 && AnovaDesign.Check(input) is { } problem)
         {
@@ -210,6 +218,7 @@ public sealed partial class AnovaEvaluator : KindEvaluator
         var result = FactorialAnova.Fit(input);
         outcome.Result = result;
         outcome.Fit = AnovaFit.Of(result);
+        outcome.Cells = data.CellTable();
         var inputs = context.Inputs(block);
         AnovaEvaluator.RecordTable(context, block, result.Terms, result.ResidualSumOfSquares, result.ResidualDf, result.ResidualMeanSquare, result.TotalSumOfSquares, result.TotalDf, inputs, outcome.Terms, outcome.Residual, outcome.Total);
 

@@ -156,29 +156,17 @@ public sealed class MethodsEvaluator : KindEvaluator
         {
             var a = s.Anova;
             var inputs = context.Inputs(a.Block);
-            if (a.Data is { } data)
-            {
-                foreach (var cell in data.Cells())
-                {
-                    s.Cells.Add((cell.Label, context.Results.Add(id, TestName.Design, a.Block.Id, cell.Label, null, Stat.N, cell.Values.Length, inputs)));
-                }
 
-                s.Total = context.Results.Add(id, TestName.Design, a.Block.Id, null, null, Stat.NTotal, data.Rows.Length, inputs);
-                s.Dropped = context.Results.Add(id, TestName.Design, a.Block.Id, null, null, Stat.DroppedMissing, data.DroppedMissing, inputs);
-            }
-            else
+            // The cell table: the rows' cells or the database's, the same view on either route.
+            var table = a.Cells!;
+            foreach (var cell in table.Cells)
             {
-                // Cells route: the sizes are the database's per-cell counts.
-                var selected = a.Cells!;
-                foreach (var cell in selected.Cells)
-                {
-                    var label = string.Join(" / ", cell.Levels.Select((c, k) => selected.Levels[k][c]));
-                    s.Cells.Add((label, context.Results.Add(id, TestName.Design, a.Block.Id, label, null, Stat.N, cell.Count, inputs)));
-                }
-
-                s.Total = context.Results.Add(id, TestName.Design, a.Block.Id, null, null, Stat.NTotal, selected.Cells.Sum(c => c.Count), inputs);
-                s.Dropped = context.Results.Add(id, TestName.Design, a.Block.Id, null, null, Stat.DroppedMissing, selected.Dropped, inputs);
+                var label = table.Label(cell);
+                s.Cells.Add((label, context.Results.Add(id, TestName.Design, a.Block.Id, label, null, Stat.N, cell.Count, inputs)));
             }
+
+            s.Total = context.Results.Add(id, TestName.Design, a.Block.Id, null, null, Stat.NTotal, table.Count, inputs);
+            s.Dropped = context.Results.Add(id, TestName.Design, a.Block.Id, null, null, Stat.DroppedMissing, table.Dropped, inputs);
 
             ReviewValues(context, id, s, inputs);
             outcome.Sections.Add(s);

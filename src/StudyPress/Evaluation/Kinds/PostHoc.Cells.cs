@@ -51,7 +51,8 @@ public sealed partial class PostHocEvaluator
             return outcome;
         }
 
-        var (allLevels, cells, _) = selected;
+        var allLevels = selected.Levels;
+        var cells = selected.Cells;
         var levels = allLevels[k];
         var factor = factors[k];
         if (options.Control is { } control && !levels.Contains(control))

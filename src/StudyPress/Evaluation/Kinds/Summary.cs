@@ -33,7 +33,7 @@ public sealed partial class SummaryEvaluator : KindEvaluator
 
     public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
     {
-        if (CellsRoute.Applies(context, block))
+        if (Model.StudyModels.ReadsAggregate(block, context.Datasets))
         {
             return EvaluateCells(context, block, diagnostics);
         }
