@@ -160,12 +160,21 @@ public static class Compilation
             return null;
         }
 
+        // Model: each anova block's model, and the cells and order statistics of aggregated datasets
+        // (the last queries), so that evaluation does no I/O.
+        var models = Model.StudyModels.Prepare(blocks, datasets, diagnostics);
+        if (diagnostics.Items.Skip(errorsBeforeData).Any(d => d.Severity == Severity.Error))
+        {
+            return null;
+        }
+
         // Evaluate.
         var studyFolder = Path.GetDirectoryName(display);
         var context = new EvaluationContext
         {
             Header = header,
             Datasets = datasets,
+            Models = models,
             DataDisplayPaths = header.Datasets.ToDictionary(
                 d => d.Name,
                 d => string.IsNullOrEmpty(studyFolder) ? d.Path : Path.Combine(studyFolder, d.Path).Replace('\\', '/'),
@@ -244,6 +253,18 @@ public static class Compilation
         DiagnosticBag diagnostics)
     {
         var needs = header.Datasets.ToDictionary(d => d.Name, _ => new DatasetNeeds(), StringComparer.Ordinal);
+        foreach (var b in blocks.Where(b => b.Options is FigureKind.Options))
+        {
+            // A figure reads no dataset itself, but most types draw the rows of the block they show.
+            var figure = (FigureKind.Options)b.Options!;
+            if (!FigureKind.DrawnFromStatistics.Contains(figure.Type)
+                && (figure.Source.Data ?? figure.Source.Of?.Data) is { } sourceData
+                && header.Datasets.FirstOrDefault(d => d.Name == sourceData) is { Aggregate: true } aggregatedSource)
+            {
+                diagnostics.AggregateProblem(b.Location, aggregatedSource.Name, $"a '{figure.Type}' figure draws the rows of block '{figure.Source.Id}', and the database aggregates this dataset (aggregate: true); on aggregated data only {string.Join(" and ", FigureKind.DrawnFromStatistics.Select(t => "'" + t + "'"))} figures are drawn (declare a second dataset on the same file with a sampling query for the other figures)");
+            }
+        }
+
         foreach (var b in blocks.Where(b => b.Data is not null))
         {
             var n = needs[b.Data!];

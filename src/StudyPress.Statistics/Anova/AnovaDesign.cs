@@ -50,6 +50,14 @@ public static class AnovaDesign
             .Select(t => new ModelTerm(DesignCoding.TermName(input.Factors, t), [.. t.Select(f => input.Factors[f].Name)]))];
     }
 
+    /// <summary>The terms, in table order, of the model on these factors (before any data is seen).</summary>
+    public static IReadOnlyList<ModelTerm> Terms(IReadOnlyList<string> factors, bool interactions)
+    {
+        ArgumentNullException.ThrowIfNull(factors);
+        return [.. DesignCoding.TermFactorSets(factors.Count, interactions)
+            .Select(t => new ModelTerm(string.Join(":", t.Select(f => factors[f])), [.. t.Select(f => factors[f])]))];
+    }
+
     /// <summary>
     /// The level names (one per factor) of the first empty cell of the full crossing of the used
     /// levels, in the order of the crossing with the first factor varying slowest; null when no

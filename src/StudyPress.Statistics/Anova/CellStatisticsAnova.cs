@@ -137,7 +137,7 @@ public static class CellStatisticsAnova
         var terms = new List<AnovaTerm>(coding.Terms.Count);
         for (var t = 0; t < coding.Terms.Count; t++)
         {
-            var ss = TermSumOfSquares(coding, x, t, input.SsType, effects, y);
+            var ss = SumOfSquaresTypes.TermSumOfSquares(coding, x, t, input.SsType, effects, y);
             terms.Add(AnovaTable.Term(
                 coding.TermNames[t],
                 [.. coding.Terms[t].Select(f => input.Factors[f].Name)],
@@ -295,45 +295,5 @@ public static class CellStatisticsAnova
         }
 
         return (x, y);
-    }
-
-    /// <summary>R(t | …) as in <see cref="FactorialAnova"/>, on the weighted cell design.</summary>
-    private static double TermSumOfSquares(DesignCoding coding, double[,] x, int t, SumOfSquaresType type, double[] fullEffects, double[] y)
-    {
-        if (type == SumOfSquaresType.Sequential)
-        {
-            return SumOfSquaredEffects(fullEffects, coding.TermStart[t], coding.TermCount[t]);
-        }
-
-        var term = coding.Terms[t];
-        var columns = new List<int> { 0 };
-        for (var s = 0; s < coding.Terms.Count; s++)
-        {
-            if (s == t)
-            {
-                continue;
-            }
-
-            if (type == SumOfSquaresType.Marginal || !term.All(coding.Terms[s].Contains))
-            {
-                columns.AddRange(coding.ColumnsOf(s));
-            }
-        }
-
-        var before = columns.Count;
-        columns.AddRange(coding.ColumnsOf(t));
-        var e = HouseholderQr.Factor(x, columns).Effects(y);
-        return SumOfSquaredEffects(e, before, coding.TermCount[t]);
-    }
-
-    private static double SumOfSquaredEffects(double[] e, int start, int count)
-    {
-        double s = 0;
-        for (var j = start; j < start + count; j++)
-        {
-            s += e[j] * e[j];
-        }
-
-        return s;
     }
 }

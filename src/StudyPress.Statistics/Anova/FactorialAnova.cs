@@ -6,7 +6,8 @@ namespace StudyPress.Statistics.Anova;
 /// sum-to-zero coding of <see cref="AnovaDesign"/>, using a Householder QR factorisation
 /// (never the normal equations), which keeps the accuracy of the data's own conditioning.
 /// <para>
-/// Sums of squares, for a term t with columns X_t (Searle 1987, Linear Models for Unbalanced Data,
+/// Sums of squares, for a term t with columns X_t (computed by <see cref="SumOfSquaresTypes"/>,
+/// shared with <see cref="CellStatisticsAnova"/>; Searle 1987, Linear Models for Unbalanced Data,
 /// ch. 4 and 8; Chambers 1977, Computational Methods for Data Analysis, ch. 5):
 /// Sequential (type 1): R(t | terms before t) = the squared entries of the effects vector Q'y for
 /// t's columns, with the columns in term order (successive reductions in residual SS).
@@ -71,7 +72,7 @@ public static class FactorialAnova
         var terms = new List<AnovaTerm>(coding.Terms.Count);
         for (var t = 0; t < coding.Terms.Count; t++)
         {
-            var ss = TermSumOfSquares(coding, t, input.SsType, effects, z);
+            var ss = SumOfSquaresTypes.TermSumOfSquares(coding, coding.WeightedCellRows, t, input.SsType, effects, z);
             terms.Add(AnovaTable.Term(
                 coding.TermNames[t],
                 [.. coding.Terms[t].Select(f => input.Factors[f].Name)],
@@ -132,49 +133,5 @@ public static class FactorialAnova
             leverages,
             input.SsType,
             input.Alpha);
-    }
-
-    private static double TermSumOfSquares(DesignCoding coding, int t, SumOfSquaresType type, double[] fullEffects, double[] y)
-    {
-        if (type == SumOfSquaresType.Sequential)
-        {
-            return SumOfSquaredEffects(fullEffects, coding.TermStart[t], coding.TermCount[t]);
-        }
-
-        var term = coding.Terms[t];
-        var columns = new List<int> { 0 };
-        for (var s = 0; s < coding.Terms.Count; s++)
-        {
-            if (s == t)
-            {
-                continue;
-            }
-
-            var include = type == SumOfSquaresType.Marginal || !Contains(coding.Terms[s], term);
-            if (include)
-            {
-                columns.AddRange(coding.ColumnsOf(s));
-            }
-        }
-
-        var before = columns.Count;
-        columns.AddRange(coding.ColumnsOf(t));
-        var qr = HouseholderQr.Factor(coding.WeightedCellRows, columns);
-        var e = qr.Effects(y);
-        return SumOfSquaredEffects(e, before, coding.TermCount[t]);
-    }
-
-    /// <summary>True when the factor set <paramref name="outer"/> includes every factor of <paramref name="inner"/>.</summary>
-    private static bool Contains(int[] outer, int[] inner) => inner.All(outer.Contains);
-
-    private static double SumOfSquaredEffects(double[] e, int start, int count)
-    {
-        double s = 0;
-        for (var j = start; j < start + count; j++)
-        {
-            s += e[j] * e[j];
-        }
-
-        return s;
     }
 }

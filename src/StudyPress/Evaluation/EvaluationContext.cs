@@ -36,6 +36,14 @@ public sealed class BlockData
 
     private IReadOnlyList<(string Label, int[] Codes, double[] Values, int[] Positions)>? _cells;
 
+    /// <summary>The rows' sufficient statistics per cell (centred means), the view the cells route has too.</summary>
+    public Model.CellTable CellTable() => Model.CellTable.FromGroups(
+        [.. Factors.Select(f => f.Spec)],
+        [.. Factors.Select(f => f.Levels)],
+        Cells().Select(c => (c.Codes, c.Values)),
+        Centre,
+        DroppedMissing);
+
     /// <summary>
     /// Groups by the crossing of all block factors: level label, codes, centred values, row positions.
     /// Computed once per block (the arrays are shared by every caller and must not be changed).
@@ -148,6 +156,9 @@ public sealed class EvaluationContext
     public required StudyHeader Header { get; init; }
 
     public required IReadOnlyDictionary<string, LoadedDataset> Datasets { get; init; }
+
+    /// <summary>The model stage's product: models, and what aggregated datasets give each block.</summary>
+    public required Model.StudyModels Models { get; init; }
 
     public ResultSet Results { get; } = new();
 

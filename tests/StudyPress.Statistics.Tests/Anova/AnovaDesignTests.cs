@@ -19,6 +19,27 @@ public sealed class AnovaDesignTests
     private static AnovaInput WithoutCells(bool interactions, params (string S, string G, string B)[] cells) =>
         FactorialTestData.JahanmiInput(Three, interactions, SumOfSquaresType.Marginal, i => !cells.Any(c => Drop(i, c.S, c.G, c.B)));
 
+    [Theory]
+    [InlineData(true)]
+    [InlineData(false)]
+    public void Terms_FromFactorNamesAlone_AreTheTermsOfTheFit(bool interactions)
+    {
+        // The model stage states the terms before any data is read; they must be the fit's, in
+        // table order (main effects, then interactions by degree; exact by construction of the design).
+        var input = FactorialTestData.JahanmiInput(Three, interactions, SumOfSquaresType.Hierarchical, _ => true);
+        var fromNames = AnovaDesign.Terms(Three, interactions);
+        Assert.Equal(AnovaDesign.Terms(input).Select(t => t.Name), fromNames.Select(t => t.Name));
+        Assert.Equal(FactorialAnova.Fit(input).Terms.Select(t => t.Name), fromNames.Select(t => t.Name));
+        Assert.Equal(interactions ? 7 : 3, fromNames.Count);
+        Assert.Equal(["wheel_grit_x3"], fromNames[1].Factors);
+        if (interactions)
+        {
+            Assert.Equal("table_speed_x1:wheel_grit_x3", fromNames[3].Name);
+            Assert.Equal(["table_speed_x1", "wheel_grit_x3"], fromNames[3].Factors);
+            Assert.Equal(Three, fromNames[6].Factors);
+        }
+    }
+
     [Fact]
     public void FindEmptyCell_TwoCellsMissing_ReturnsFirstInCrossingOrder()
     {

@@ -19,6 +19,12 @@ public sealed class FigureKind : BlockKind
 
     public static readonly string[] Types = ["box", "means", "interaction", "qq", "residual-histogram", "residuals-fitted", "f-distribution", "power-curve", "intervals"];
 
+    /// <summary>
+    /// The types drawn from a block's statistics alone (the ANOVA table, the comparisons), which
+    /// exist on aggregated data (<c>aggregate: true</c>); every other type draws rows.
+    /// </summary>
+    public static readonly string[] DrawnFromStatistics = ["f-distribution", "intervals"];
+
     public override string Name => "figure";
 
     public override string PrimaryTest => "figure";

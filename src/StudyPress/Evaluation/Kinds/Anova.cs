@@ -4,21 +4,85 @@ using StudyPress.Binding.Kinds;
 using StudyPress.Binding;
 using StudyPress.Diagnostics;
 using StudyPress.Evaluation;
+using StudyPress.Model;
 using StudyPress.Statistics.Anova;
 using StudyPress.Statistics.Nonparametric;
 using StudyPress.Statistics;
 
 namespace StudyPress.Evaluation.Kinds;
 
+/// <summary>
+/// Where an anova block's numbers come from. <see cref="Rows"/>: the rows were loaded, and the
+/// fit has per-observation fitted values and residuals (assumption checks, rank tests, figures).
+/// <see cref="Cells"/>: the database aggregated the dataset (<c>aggregate: true</c>), and only the
+/// per-cell counts, means and sums of squares exist; what needs the rows was not computed.
+/// </summary>
+public enum AnovaRoute
+{
+    Rows,
+    Cells,
+}
+
+/// <summary>
+/// The ANOVA table of a fitted model, whichever route computed it (rows or cell statistics):
+/// what every consumer of the table (post-hoc comparisons, methods text, references) reads.
+/// </summary>
+public sealed record AnovaFit(
+    IReadOnlyList<AnovaTerm> Terms,
+    double ResidualSumOfSquares,
+    int ResidualDf,
+    Quantity ResidualMeanSquare,
+    double TotalSumOfSquares,
+    int TotalDf,
+    SumOfSquaresType SsType,
+    double Alpha)
+{
+    public static AnovaFit Of(AnovaResult r) => new(r.Terms, r.ResidualSumOfSquares, r.ResidualDf, r.ResidualMeanSquare, r.TotalSumOfSquares, r.TotalDf, r.SsType, r.Alpha);
+
+    public static AnovaFit Of(CellAnovaResult r) => new(r.Terms, r.ResidualSumOfSquares, r.ResidualDf, r.ResidualMeanSquare, r.TotalSumOfSquares, r.TotalDf, r.SsType, r.Alpha);
+}
+
+/// <summary>
+/// One anova block evaluated, on either route (<see cref="AnovaRoute"/>): the table
+/// (<see cref="Fit"/>) and its manifest values always; the rows' data, per-observation fit and
+/// assumption review only when <see cref="RowsAvailable"/>; the cells and Bartlett's test only on
+/// the cells route.
+/// </summary>
 public sealed class AnovaOutcome(BoundBlock block) : BlockOutcome(block)
 {
     private AssumptionReview? review;
 
+    /// <summary>Which data the numbers come from.</summary>
+    public AnovaRoute Route { get; set; } = AnovaRoute.Rows;
+
+    /// <summary>Whether the rows were read (residuals, rank tests and figures exist only then).</summary>
+    public bool RowsAvailable => Route == AnovaRoute.Rows;
+
+    /// <summary>The ANOVA table (both routes); null when the block failed.</summary>
+    public AnovaFit? Fit { get; set; }
+
+    /// <summary>The fit on the rows, with fitted values and residuals per observation (rows route only).</summary>
     public AnovaResult? Result { get; set; }
 
+    /// <summary>The model's factors, in the block's order (both routes).</summary>
+    public IReadOnlyList<FactorSpec> Factors { get; set; } = [];
+
+    /// <summary>The response column's name (both routes).</summary>
+    public string ResponseName { get; set; } = string.Empty;
+
+    /// <summary>The selected rows (rows route only).</summary>
     public BlockData? Data { get; set; }
 
-    /// <summary>The model input: the (transformed) response, centred, and the factors.</summary>
+    /// <summary>The model the block states (bound once, before evaluation).</summary>
+    public ModelDescription? Model { get; set; }
+
+    /// <summary>
+    /// The per-cell sufficient statistics: from the database's cells (cells route), or from the
+    /// selected rows (rows route). Set when the model was fitted.
+    /// </summary>
+    public CellTable? Cells { get; set; }
+
+    /// <summary>The model input: the (transformed) response, centred, and the factors (rows route only).</summary>
     public AnovaInput? Input { get; set; }
 
     public TransformedResponse? Transformed { get; set; }
@@ -36,6 +100,9 @@ public sealed class AnovaOutcome(BoundBlock block) : BlockOutcome(block)
 
     public Dictionary<string, ResultValue>? Welch { get; set; }
 
+    /// <summary>Bartlett's test from the cell variances (cells route, one factor).</summary>
+    public Dictionary<string, ResultValue>? Bartlett { get; set; }
+
     /// <summary>The Box–Cox estimate's values (lambda, lambda_low, lambda_high), when that transform was used.</summary>
     public Dictionary<string, ResultValue> BoxCox { get; } = new(StringComparer.Ordinal);
 
@@ -44,14 +111,16 @@ public sealed class AnovaOutcome(BoundBlock block) : BlockOutcome(block)
     /// <summary>Which automatic rules fired, in plain words.</summary>
     public List<string> Decisions { get; } = [];
 
-    /// <summary>The assumption checks of this model, computed when first needed.</summary>
-    public AssumptionReview Review => review ??= AssumptionReview.Run(this);
+    /// <summary>The assumption checks of this model, computed when first needed (rows route only).</summary>
+    public AssumptionReview Review => review ??= RowsAvailable
+        ? AssumptionReview.Run(this)
+        : throw new InvalidOperationException("the assumption checks need the rows, and this anova block ran on cell statistics");
 
     public bool ReadWelch { get; set; }
 }
 
 /// <summary>Evaluates <c>anova</c> blocks into values (no HTML, no report text).</summary>
-public sealed class AnovaEvaluator : KindEvaluator
+public sealed partial class AnovaEvaluator : KindEvaluator
 {
     /// <summary>Registers this part of the kind (see DEVELOPERS.md, "Adding an analysis kind").</summary>
     [ModuleInitializer]
@@ -62,12 +131,13 @@ public sealed class AnovaEvaluator : KindEvaluator
     public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
     {
         var options = (AnovaKind.Options)block.Options!;
-        if (AggregatedAnova.Applies(context, block))
+        if (StudyModels.ReadsAggregate(block, context.Datasets))
         {
-            return AggregatedAnova.Evaluate(context, block, options, diagnostics);
+            return EvaluateCells(context, block, options, diagnostics);
         }
 
-        var outcome = new AnovaOutcome(block);
+        var model = context.Models.Descriptions[block.Id];
+        var outcome = new AnovaOutcome(block) { Model = model };
         var data = context.Select(block, diagnostics);
         if (data is null)
         {
@@ -75,6 +145,8 @@ public sealed class AnovaEvaluator : KindEvaluator
         }
 
         outcome.Data = data;
+        outcome.Factors = [.. data.Factors.Select(f => f.Spec)];
+        outcome.ResponseName = data.ResponseName;
         foreach (var f in data.Factors)
         {
             if (f.Levels.Count < 2)
@@ -85,7 +157,7 @@ public sealed class AnovaEvaluator : KindEvaluator
         }
 
         var cells = data.Cells();
-        if (cells.All(c => c.Values.Length == 1) && (data.Factors.Count == 1 || options.Interaction))
+        if (cells.All(c => c.Values.Length == 1) && (data.Factors.Count == 1 || model.Interaction))
         {
             diagnostics.NoResidualDf(block.Location);
             return outcome;
@@ -94,9 +166,9 @@ public sealed class AnovaEvaluator : KindEvaluator
         var factors = data.Factors.Select(f => f.ToColumn()).ToList();
         var response = data.Response;
         var centre = data.Centre;
-        if (options.Transform != TransformKind.None)
+        if (model.Transform != TransformKind.None)
         {
-            var t = ResponseTransform.Apply(data.Values, options.Transform, factors, options.Interaction, context.Header.Alpha);
+            var t = ResponseTransform.Apply(data.Values, model.Transform, factors, model.Interaction, context.Header.Alpha);
             if (t.Error is { } error)
             {
                 if (error.Index is { } index)
@@ -107,7 +179,7 @@ public sealed class AnovaEvaluator : KindEvaluator
                         options.TransformName,
                         data.ResponseName,
                         (error.Value ?? data.Values[index]).ToString("R", CultureInfo.InvariantCulture),
-                        NeedText(options.Transform));
+                        NeedText(model.Transform));
                 }
                 else
                 {
@@ -123,10 +195,10 @@ public sealed class AnovaEvaluator : KindEvaluator
         }
 
         outcome.ResponseCentre = centre;
-        var input = new AnovaInput(response, factors, options.Interaction, options.SsType, context.Header.Alpha)
+        var input = new AnovaInput(response, factors, model.Interaction, model.SsType, context.Header.Alpha)
         {
             // Exact decimal data give exact sums of squares (one factor, untransformed response).
-            Exact = options.Transform == TransformKind.None && data.Factors.Count == 1 ? data.Exact?.AsScaled() : null,
+            Exact = model.Transform == TransformKind.None && data.Factors.Count == 1 ? data.Exact?.AsScaled() : null,
         };
         if (data.Factors.Count > 1 && AnovaDesign.Check(input) is { } problem)
         {
@@ -145,6 +217,8 @@ public sealed class AnovaEvaluator : KindEvaluator
         outcome.Input = input;
         var result = FactorialAnova.Fit(input);
         outcome.Result = result;
+        outcome.Fit = AnovaFit.Of(result);
+        outcome.Cells = data.CellTable();
         var inputs = context.Inputs(block);
         AnovaEvaluator.RecordTable(context, block, result.Terms, result.ResidualSumOfSquares, result.ResidualDf, result.ResidualMeanSquare, result.TotalSumOfSquares, result.TotalDf, inputs, outcome.Terms, outcome.Residual, outcome.Total);
 

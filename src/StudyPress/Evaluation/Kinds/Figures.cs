@@ -184,21 +184,22 @@ public static class Figures
 
     public static IEnumerable<Figure> FDistributions(AnovaOutcome anova, string? caption = null)
     {
-        if (anova.Result is null)
+        // From the table alone, so on either route (rows or cell statistics).
+        if (anova.Fit is not { } fit)
         {
             yield break;
         }
 
-        foreach (var t in anova.Result.Terms)
+        foreach (var t in fit.Terms)
         {
-            if (!t.F.IsDefined || t.Df <= 0 || anova.Result.ResidualDf <= 0)
+            if (!t.F.IsDefined || t.Df <= 0 || fit.ResidualDf <= 0)
             {
                 continue;
             }
 
-            var name = string.Join(" × ", t.Factors.Select(n => Name(anova.Data!.Factors.First(f => f.Spec.Name == n).Spec.Display)));
-            var chart = StatCharts.FDistribution(t.Df, anova.Result.ResidualDf, t.F.Value, anova.Result.Alpha, new ChartLabels(string.Create(CultureInfo.InvariantCulture, $"F({t.Df}, {anova.Result.ResidualDf}) distribution: {name}"), "F", "density"));
-            yield return new Figure("f-distribution", caption ?? string.Create(CultureInfo.InvariantCulture, $"The F distribution under no effect of {name}; the shaded region is the rejection region at α = {anova.Result.Alpha.ToString("R", CultureInfo.InvariantCulture)} and the line marks the observed F."), chart);
+            var name = string.Join(" × ", t.Factors.Select(n => Name(anova.Factors.First(f => f.Name == n).Display)));
+            var chart = StatCharts.FDistribution(t.Df, fit.ResidualDf, t.F.Value, fit.Alpha, new ChartLabels(string.Create(CultureInfo.InvariantCulture, $"F({t.Df}, {fit.ResidualDf}) distribution: {name}"), "F", "density"));
+            yield return new Figure("f-distribution", caption ?? string.Create(CultureInfo.InvariantCulture, $"The F distribution under no effect of {name}; the shaded region is the rejection region at α = {fit.Alpha.ToString("R", CultureInfo.InvariantCulture)} and the line marks the observed F."), chart);
         }
     }
 

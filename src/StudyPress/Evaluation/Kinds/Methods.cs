@@ -51,8 +51,8 @@ public sealed class MethodsOutcome(BoundBlock block) : BlockOutcome(block)
     public double Alpha { get; set; }
 }
 
-/// <summary>What the text says about an input file.</summary>
-public sealed record MethodsLoadedDatasetView(string Name, string Path, string Sha256);
+/// <summary>What the text says about an input file; <paramref name="Aggregated"/>: its rows are the database's cells (<c>aggregate: true</c>).</summary>
+public sealed record MethodsLoadedDatasetView(string Name, string Path, string Sha256, bool Aggregated = false);
 
 /// <summary>Evaluates <c>methods</c> blocks into values (no HTML, no report text).</summary>
 public sealed class MethodsEvaluator : KindEvaluator
@@ -102,7 +102,7 @@ public sealed class MethodsEvaluator : KindEvaluator
         var sections = new Dictionary<string, MethodsSection>(StringComparer.Ordinal);
         MethodsSection? SectionFor(string anovaId, bool isCovered)
         {
-            if (context.Outcomes.GetValueOrDefault(anovaId) is not AnovaOutcome { Result: not null } anova)
+            if (context.Outcomes.GetValueOrDefault(anovaId) is not AnovaOutcome { Fit: not null } anova)
             {
                 return null;
             }
@@ -155,15 +155,19 @@ public sealed class MethodsEvaluator : KindEvaluator
         foreach (var s in sections.Values.OrderBy(s => s.Anova.Block.Location.Line))
         {
             var a = s.Anova;
-            var data = a.Data!;
             var inputs = context.Inputs(a.Block);
-            foreach (var cell in data.Cells())
+
+            // The cell table: the rows' cells or the database's, the same view on either route.
+            var table = a.Cells!;
+            foreach (var cell in table.Cells)
             {
-                s.Cells.Add((cell.Label, context.Results.Add(id, TestName.Design, a.Block.Id, cell.Label, null, Stat.N, cell.Values.Length, inputs)));
+                var label = table.Label(cell);
+                s.Cells.Add((label, context.Results.Add(id, TestName.Design, a.Block.Id, label, null, Stat.N, cell.Count, inputs)));
             }
 
-            s.Total = context.Results.Add(id, TestName.Design, a.Block.Id, null, null, Stat.NTotal, data.Rows.Length, inputs);
-            s.Dropped = context.Results.Add(id, TestName.Design, a.Block.Id, null, null, Stat.DroppedMissing, data.DroppedMissing, inputs);
+            s.Total = context.Results.Add(id, TestName.Design, a.Block.Id, null, null, Stat.NTotal, table.Count, inputs);
+            s.Dropped = context.Results.Add(id, TestName.Design, a.Block.Id, null, null, Stat.DroppedMissing, table.Dropped, inputs);
+
             ReviewValues(context, id, s, inputs);
             outcome.Sections.Add(s);
         }
@@ -191,7 +195,7 @@ public sealed class MethodsEvaluator : KindEvaluator
             }
 
             outcome.Inputs.Add((
-                new MethodsLoadedDatasetView(spec.Name, ds.Path, ds.Sha256),
+                new MethodsLoadedDatasetView(spec.Name, ds.Path, ds.Sha256, ds.Aggregate is not null),
                 context.Results.Add(id, TestName.Input, spec.Name, null, null, Stat.Rows, ds.Rows, [spec.Name]),
                 context.Results.Add(id, TestName.Input, spec.Name, null, null, Stat.RowsUsed, ds.RowsUsed, [spec.Name])));
         }
@@ -217,8 +221,19 @@ public sealed class MethodsEvaluator : KindEvaluator
             return;
         }
 
-        // Only the checks the automatic rules read (they ran for the anova block's choices).
+        // Only the checks the automatic rules read (they ran for the anova block's choices). On the
+        // cells route the rule read Bartlett's test, which the anova block recorded itself.
         var options = (AnovaKind.Options)a.Block.Options!;
+        if (!a.RowsAvailable)
+        {
+            if (a.Bartlett is { } bartlett && options.Welch == "auto")
+            {
+                s.Review["bartlett"] = bartlett;
+            }
+
+            return;
+        }
+
         if (a.Data!.Factors.Count != 1 || options.Welch != "auto")
         {
             return;

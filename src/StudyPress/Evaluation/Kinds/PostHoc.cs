@@ -32,10 +32,13 @@ public sealed class PostHocOutcome(BoundBlock block) : BlockOutcome(block)
     public Dictionary<string, ResultValue> Multiplicity { get; } = new(StringComparer.Ordinal);
 
     public bool Transformed { get; set; }
+
+    /// <summary>Whether the comparisons came from the anova's rows or from its cell statistics.</summary>
+    public AnovaRoute Route { get; set; } = AnovaRoute.Rows;
 }
 
 /// <summary>Evaluates <c>posthoc</c> blocks into values (no HTML, no report text).</summary>
-public sealed class PostHocEvaluator : KindEvaluator
+public sealed partial class PostHocEvaluator : KindEvaluator
 {
     /// <summary>Registers this part of the kind (see DEVELOPERS.md, "Adding an analysis kind").</summary>
     [ModuleInitializer]
@@ -46,9 +49,9 @@ public sealed class PostHocEvaluator : KindEvaluator
     public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
     {
         var options = (PostHocKind.Options)block.Options!;
-        if (context.Outcomes.GetValueOrDefault(block.Of!.Id) is AggregatedAnovaOutcome aggregated)
+        if (context.Outcomes.GetValueOrDefault(block.Of!.Id) is AnovaOutcome { Route: AnovaRoute.Cells } cells)
         {
-            return AggregatedPostHoc.Evaluate(context, block, options, aggregated, diagnostics);
+            return EvaluateCells(context, block, options, cells, diagnostics);
         }
 
         var outcome = new PostHocOutcome(block);

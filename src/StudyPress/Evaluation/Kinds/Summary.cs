@@ -15,11 +15,15 @@ public sealed class SummaryOutcome(BoundBlock block) : BlockOutcome(block)
 
     public string ResponseName { get; set; } = string.Empty;
 
+    /// <summary>The selected rows (rows route only).</summary>
     public BlockData? Data { get; set; }
+
+    /// <summary>Whether the statistics came from the rows or from the database's cell statistics.</summary>
+    public AnovaRoute Route { get; set; } = AnovaRoute.Rows;
 }
 
 /// <summary>Evaluates <c>summary</c> blocks into values (no HTML, no report text).</summary>
-public sealed class SummaryEvaluator : KindEvaluator
+public sealed partial class SummaryEvaluator : KindEvaluator
 {
     /// <summary>Registers this part of the kind (see DEVELOPERS.md, "Adding an analysis kind").</summary>
     [ModuleInitializer]
@@ -29,9 +33,9 @@ public sealed class SummaryEvaluator : KindEvaluator
 
     public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
     {
-        if (AggregatedAnova.Applies(context, block))
+        if (Model.StudyModels.ReadsAggregate(block, context.Datasets))
         {
-            return AggregatedSummary.Evaluate(context, block, diagnostics);
+            return EvaluateCells(context, block, diagnostics);
         }
 
         var outcome = new SummaryOutcome(block);

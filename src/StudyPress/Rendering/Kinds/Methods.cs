@@ -126,6 +126,11 @@ internal sealed class MethodsText(MethodsOutcome o, MethodsKind.Options options)
                 methods.AddRange(Assumptions(s));
             }
 
+            if (Has("assumptions") && s.Covered && !s.Anova.RowsAvailable)
+            {
+                methods.Add(NotComputed());
+            }
+
             if (Has("decisions"))
             {
                 methods.AddRange(Decisions(s));
@@ -195,9 +200,8 @@ internal sealed class MethodsText(MethodsOutcome o, MethodsKind.Options options)
     private string Design(MethodsSection s)
     {
         var a = s.Anova;
-        var data = a.Data!;
         var block = a.Block;
-        var response = E(data.ResponseName);
+        var response = E(a.ResponseName);
         var sb = $"The analysis {T("used", "uses")} {Df(s.Total!)} observations of {response}";
         if (block.Where.Count > 0)
         {
@@ -211,9 +215,9 @@ internal sealed class MethodsText(MethodsOutcome o, MethodsKind.Options options)
             sb += $" {Df(s.Dropped!)} {(one ? "row" : "rows")} with a missing response or factor value {Be(!one)} left out.";
         }
 
-        var factors = data.Factors;
+        var factors = FactorLevels(a);
         var sizes = s.Cells.Select(c => c.N.Value.IsDefined ? c.N.Value.Value : -1).Distinct().Count();
-        var levelText = List(factors.Select(f => E(f.Spec.Display) + " (" + List(f.Levels.Select(E)) + ")"));
+        var levelText = List(factors.Select(f => E(f.Display) + " (" + List(f.Levels.Select(E)) + ")"));
         if (factors.Count == 1)
         {
             sb += $" The groups {Be(true)} the {Words(factors[0].Levels.Count)} levels of {levelText}";
@@ -226,23 +230,27 @@ internal sealed class MethodsText(MethodsOutcome o, MethodsKind.Options options)
         sb += sizes == 1
             ? $", with {Df(s.Cells[0].N)} observations in each."
             : $"; the group sizes {Be(true)} unequal: {string.Join(", ", s.Cells.Select(c => E(c.Label) + " " + Df(c.N)))}.";
+        if (!a.RowsAvailable)
+        {
+            sb += $" The rows {Be(true)} not read: the database aggregated them into per-cell counts, means and sums of squares (aggregate: true), and every result below {T("was", "is")} computed from these.";
+        }
+
         return sb;
     }
 
     private string Model(MethodsSection s)
     {
         var a = s.Anova;
-        var data = a.Data!;
         var opts = (AnovaKind.Options)a.Block.Options!;
-        var k = data.Factors.Count;
+        var k = a.Factors.Count;
         var way = k switch { 1 => "a one-way", 2 => "a two-way", 3 => "a three-way", _ => "a factorial" };
         var subject = $"{way} fixed-effects analysis of variance";
-        var rest = " by least squares";
+        var rest = a.RowsAvailable ? " by least squares" : " by weighted least squares on the cell means, with the cell counts as weights";
         if (k > 1)
         {
             var interaction = opts.Interaction ? (k == 2 ? " and their interaction," : " and their interactions,") : ", without interactions,";
-            rest += $" with the factors {List(data.Factors.Select(f => E(f.Spec.Display)))}{interaction}";
-            rest += a.Result!.SsType switch
+            rest += $" with the factors {List(a.Factors.Select(f => E(f.Display)))}{interaction}";
+            rest += a.Fit!.SsType switch
             {
                 Statistics.Anova.SumOfSquaresType.Sequential => " using sequential (type 1) sums of squares",
                 Statistics.Anova.SumOfSquaresType.Hierarchical => " using hierarchical (type 2) sums of squares",
@@ -254,11 +262,11 @@ internal sealed class MethodsText(MethodsOutcome o, MethodsKind.Options options)
         {
             rest += t.Kind switch
             {
-                Statistics.Anova.TransformKind.Log => $", on the natural logarithm of {E(data.ResponseName)}",
-                Statistics.Anova.TransformKind.Log10 => $", on the common logarithm of {E(data.ResponseName)}",
-                Statistics.Anova.TransformKind.Sqrt => $", on the square root of {E(data.ResponseName)}",
-                Statistics.Anova.TransformKind.Reciprocal => $", on the reciprocal of {E(data.ResponseName)}",
-                _ => $", on the Box–Cox transform of {E(data.ResponseName)} with the maximum-likelihood λ = {S2(a.BoxCox[Stat.Lambda])}"
+                Statistics.Anova.TransformKind.Log => $", on the natural logarithm of {E(a.ResponseName)}",
+                Statistics.Anova.TransformKind.Log10 => $", on the common logarithm of {E(a.ResponseName)}",
+                Statistics.Anova.TransformKind.Sqrt => $", on the square root of {E(a.ResponseName)}",
+                Statistics.Anova.TransformKind.Reciprocal => $", on the reciprocal of {E(a.ResponseName)}",
+                _ => $", on the Box–Cox transform of {E(a.ResponseName)} with the maximum-likelihood λ = {S2(a.BoxCox[Stat.Lambda])}"
                     + (a.BoxCox[Stat.LambdaLow].Value.IsDefined && a.BoxCox[Stat.LambdaHigh].Value.IsDefined
                         ? $" (profile-likelihood interval {S2(a.BoxCox[Stat.LambdaLow])} to {S2(a.BoxCox[Stat.LambdaHigh])})"
                         : string.Empty),
@@ -339,6 +347,67 @@ internal sealed class MethodsText(MethodsOutcome o, MethodsKind.Options options)
             : $"At α = {alphaText} the checks {T("indicated", "indicate")} that {List(failed)}.";
     }
 
+    /// <summary>The model's factors with the levels present (rows route: the selected rows' levels; cells route: the cells').</summary>
+    private static List<(string Display, IReadOnlyList<string> Levels)> FactorLevels(AnovaOutcome a) => a.Data is { } data
+        ? [.. data.Factors.Select(f => (f.Spec.Display, f.Levels))]
+        : [.. a.Factors.Select((f, k) => (f.Display, a.Cells!.Levels[k]))];
+
+    /// <summary>Cells route: what was not computed, because the rows were not read.</summary>
+    private string NotComputed() =>
+        $"The model's assumptions {Be(true)} not checked, and no rank test or least-squares means {Be(true)} computed: the checks of the residuals' normality, of equal variances by Brown–Forsythe or Levene, of outliers and of run order, the Kruskal–Wallis test and least-squares means need the rows.";
+
+    /// <summary>Cells route: the automatic rules read Bartlett's test on the cell variances instead of Brown–Forsythe.</summary>
+    private IEnumerable<string> CellsDecisions(MethodsSection s)
+    {
+        var a = s.Anova;
+        var opts = (AnovaKind.Options)a.Block.Options!;
+        if (a.Factors.Count == 1 && s.Covered)
+        {
+            var factor = E(a.Factors[0].Display);
+            var bt = s.Review.GetValueOrDefault("bartlett");
+            if (opts.Welch == "yes")
+            {
+                yield return active
+                    ? $"We also {T("computed", "compute")} Welch's F test, which does not assume equal variances, as the study requests."
+                    : $"Welch's F test, which does not assume equal variances, {Be(false)} computed as well, as the study requests.";
+            }
+            else if (opts.Welch == "auto" && bt is not null)
+            {
+                var btText = $"Bartlett's test on the group variances, χ²({Df(bt[Stat.Df])}) = {S2(bt[Stat.Statistic])}, {ReportStyle.PPhrase(bt[Stat.P])}, used because the Brown–Forsythe test needs the rows";
+                if (a.ReadWelch)
+                {
+                    yield return $"Because {btText}, {T("indicated", "indicates")} unequal group variances, "
+                        + (active ? $"we {T("used", "use")} Welch's F test, which does not assume equal variances, for {factor} in place of the ordinary F test." : $"Welch's F test, which does not assume equal variances, {Be(false)} used for {factor} in place of the ordinary F test.")
+                        + " Bartlett's test is sensitive to non-normality, which could not be checked.";
+                }
+                else if (bt[Stat.P].Value.IsDefined)
+                {
+                    yield return $"{Cap(btText)}, {T("gave", "gives")} no indication of unequal group variances, so the ordinary F test {T("was", "is")} kept.";
+                }
+                else
+                {
+                    yield return $"Equal variances could not be checked, so the ordinary F test {T("was", "is")} kept.";
+                }
+            }
+        }
+
+        foreach (var p in s.PostHocs)
+        {
+            var popts = (PostHocKind.Options)p.Block.Options!;
+            if (popts.Method != "auto")
+            {
+                continue;
+            }
+
+            var method = MethodName(p.Families[0].Test, p);
+            var over = a.Factors.Count == 1 ? "groups" : "cells";
+            var why = p.Families[0].Test == "games_howell"
+                ? $"because Bartlett's test over the {over} (used because the Brown–Forsythe test needs the rows) {T("indicated", "indicates")} unequal variances"
+                : $"because Bartlett's test over the {over} (used because the Brown–Forsythe test needs the rows) {T("gave", "gives")} no indication of unequal variances";
+            yield return $"For the pairwise comparisons of {E(p.FactorLabel)}, {method} {T("was", "is")} chosen {why}; Dunn's rank comparisons {T("were", "are")} not available, as they need the ranks of the rows.";
+        }
+    }
+
     private List<string> Failed(AssumptionReview review)
     {
         var failed = new List<string>();
@@ -369,6 +438,16 @@ internal sealed class MethodsText(MethodsOutcome o, MethodsKind.Options options)
     {
         var a = s.Anova;
         var opts = (AnovaKind.Options)a.Block.Options!;
+        if (!a.RowsAvailable)
+        {
+            foreach (var d in CellsDecisions(s))
+            {
+                yield return d;
+            }
+
+            yield break;
+        }
+
         var data = a.Data!;
         if (data.Factors.Count == 1 && s.Covered)
         {
@@ -486,11 +565,11 @@ internal sealed class MethodsText(MethodsOutcome o, MethodsKind.Options options)
     private IEnumerable<string> Effects(MethodsSection s)
     {
         var a = s.Anova;
-        var label = (Statistics.Anova.AnovaTerm t) => List(t.Factors.Select(n => E(a.Data!.Factors.First(f => f.Spec.Name == n).Spec.Display)));
+        var label = (Statistics.Anova.AnovaTerm t) => List(t.Factors.Select(n => E(a.Factors.First(f => f.Name == n).Display)));
         foreach (var (term, v) in a.Terms)
         {
             var interaction = term.Factors.Count > 1;
-            var name = interaction ? $"the {string.Join(" × ", term.Factors.Select(n => E(a.Data!.Factors.First(f => f.Spec.Name == n).Spec.Display)))} interaction" : label(term);
+            var name = interaction ? $"the {string.Join(" × ", term.Factors.Select(n => E(a.Factors.First(f => f.Name == n).Display)))} interaction" : label(term);
             var sentence = TermSentence(a, v);
             if (!term.P.IsDefined)
             {
@@ -561,7 +640,9 @@ internal sealed class MethodsText(MethodsOutcome o, MethodsKind.Options options)
     private string Software()
     {
         var inputs = o.Inputs.Select(i =>
-            $"<code>{E(i.Dataset.Path)}</code> (SHA-256 <code class=\"hash\">{E(i.Dataset.Sha256)}</code>; {Df(i.Rows)} rows read, {Df(i.RowsUsed)} used by some analysis)");
+            i.Dataset.Aggregated
+                ? $"<code>{E(i.Dataset.Path)}</code> (SHA-256 <code class=\"hash\">{E(i.Dataset.Sha256)}</code>; aggregated by the database into {Df(i.Rows)} cells, {Df(i.RowsUsed)} used by some analysis)"
+                : $"<code>{E(i.Dataset.Path)}</code> (SHA-256 <code class=\"hash\">{E(i.Dataset.Sha256)}</code>; {Df(i.Rows)} rows read, {Df(i.RowsUsed)} used by some analysis)");
         var subject = $"the analysis";
         var text = Did(subject, false, "run", "ran", "run", $" with StudyPress <code>{E(Rendering.Tool.Version)}</code>");
         text += o.Inputs.Count == 0 ? "." : $" on {List(inputs)}.";
@@ -577,10 +658,12 @@ internal sealed class MethodsText(MethodsOutcome o, MethodsKind.Options options)
             var which = o.Sections.Count > 1 ? $" in {E(a.Block.Id)}" : string.Empty;
             if (smallest < 5)
             {
-                yield return $"Some groups{which} have fewer than five observations, so the tests have little power to detect differences and the assumption checks can say little.";
+                yield return a.RowsAvailable
+                    ? $"Some groups{which} have fewer than five observations, so the tests have little power to detect differences and the assumption checks can say little."
+                    : $"Some groups{which} have fewer than five observations, so the tests have little power to detect differences.";
             }
 
-            var failed = Failed(a.Review);
+            var failed = a.RowsAvailable ? Failed(a.Review) : [];
             if ((s.Checks is not null || s.Review.Count > 0) && failed.Count > 0)
             {
                 var fix = a.ReadWelch && !a.Review.NonNormal && !a.Review.Dependent && !a.Review.HasOutliers
@@ -591,7 +674,7 @@ internal sealed class MethodsText(MethodsOutcome o, MethodsKind.Options options)
 
             var unbalanced = s.Cells.Select(c => c.N.Value.Value).Distinct().Count() > 1;
             var opts = (AnovaKind.Options)a.Block.Options!;
-            if (unbalanced && a.Data!.Factors.Count > 1 && opts.Interaction)
+            if (unbalanced && a.Factors.Count > 1 && opts.Interaction)
             {
                 yield return $"The design{which} is unbalanced and includes interactions: the main-effect tests depend on the type of sums of squares, and a main effect is hard to interpret when its factor interacts with another.";
             }

@@ -1,33 +1,51 @@
 using System.Data.Common;
 using System.Globalization;
 using StudyPress.Binding;
+using StudyPress.Data;
 using StudyPress.Data.Sources;
 using StudyPress.Diagnostics;
-using StudyPress.Evaluation;
 using StudyPress.Statistics;
 using StudyPress.Statistics.Anova;
 using StudyPress.Statistics.Descriptive;
 
-namespace StudyPress.Evaluation.Kinds;
+namespace StudyPress.Model;
+
+/// <summary>A group's order statistics, computed by the database over the group's rows.</summary>
+public sealed record OrderStatistics(Quantity Median, Quantity Q1, Quantity Q3, Quantity Min, Quantity Max);
+
+/// <summary>One group of a summary block on aggregated data: its label, pooled statistics (centred mean), missing count and order statistics.</summary>
+public sealed record SummaryGroup(string Label, GroupStatistics Stat, long Missing, OrderStatistics Orders);
 
 /// <summary>
-/// A <c>summary</c> block on a dataset the database aggregated (<c>aggregate: true</c>). n, mean,
-/// SD, SE and the interval of the mean come from the cells (pooled into the block's groups by the
-/// parallel-axis formula, <see cref="DescriptivesFromSummaries"/>); the missing counts are the
-/// cells' rows minus their non-missing responses. Min and max, and on DuckDB the median and
-/// quartiles (<c>quantile_cont</c>, linear interpolation between order statistics, the definition
-/// the loaded rows use), come from one query per group over the group's rows. SQLite has no
-/// quantile function: median and quartiles are not defined, with that reason.
-/// Manifest values and rendering are those of <see cref="SummaryEvaluator"/> and the summary renderer.
+/// A <c>summary</c> block's groups on a dataset the database aggregated (<c>aggregate: true</c>),
+/// prepared before evaluation because the order statistics need the database: per group (the
+/// crossing of the block's factors, after <c>where</c>) the cells pooled exactly
+/// (<see cref="DescriptivesFromSummaries"/>), the missing count (rows minus non-missing responses),
+/// and min and max, and on DuckDB and PostgreSQL the median and quartiles (<c>quantile_cont</c> /
+/// <c>percentile_cont</c>, linear interpolation between order statistics, the definition the loaded
+/// rows use), from one query per group over the group's rows. SQLite has no quantile function:
+/// median and quartiles are not defined, with that reason.
 /// </summary>
-public static class AggregatedSummary
+public sealed class SummaryCells
 {
     public const string SqliteQuantiles = "the database computes no quantiles; SQLite";
 
-    public static BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
+    /// <summary>The groups with an observation, in code order; empty when none has one.</summary>
+    public required IReadOnlyList<SummaryGroup> Groups { get; init; }
+
+    /// <summary>Whether a query failed (reported): the block cannot be evaluated.</summary>
+    public required bool Failed { get; init; }
+
+    public required long Dropped { get; init; }
+
+    public required double Centre { get; init; }
+
+    /// <summary>Whether the database computed quantiles (DuckDB, Parquet, PostgreSQL).</summary>
+    public required bool Quantiles { get; init; }
+
+    /// <summary>Pools the block's cells into groups and asks the database for each group's order statistics.</summary>
+    public static SummaryCells Build(LoadedDataset ds, BoundBlock block, DiagnosticBag diagnostics)
     {
-        var outcome = new SummaryOutcome(block);
-        var ds = context.Datasets[block.Data!];
         var table = ds.Aggregate!;
         var response = block.Response!;
         int Pos(string factor) => table.Factors.Select((f, i) => (f, i)).First(p => p.f.Name == factor).i;
@@ -77,74 +95,28 @@ public static class AggregatedSummary
         }
 
         var present = groups.Values.Where(g => g.Stat.Count > 0).ToList();
+        var centre = table.Centres[response];
+        var quantiles = table.Duck || ds.Spec.Format == DataFormat.Postgres;
         if (present.Count == 0)
         {
-            diagnostics.NoRowsSelected(block.Location);
-            return outcome;
+            return new SummaryCells { Groups = [], Failed = false, Dropped = dropped, Centre = centre, Quantiles = quantiles };
         }
 
-        outcome.ResponseName = response;
-        var term = block.Factors.Count == 0 ? null : string.Join(":", block.Factors.Select(f => f.Name));
-        outcome.Term = term ?? string.Empty;
-        var inputs = context.Inputs(block);
-        var alpha = context.Header.Alpha;
-        var centre = table.Centres[response];
         var keyColumns = keyPos.Select(p => table.Factors[p].Column).ToArray();
-        var orders = OrderStatistics(ds.Spec, table, response, keyColumns, present.Select(g => g.Keys).ToList(), block, diagnostics);
-        if (orders is null)
-        {
-            return outcome;
-        }
-
-        for (var gi = 0; gi < present.Count; gi++)
+        var orders = Query(ds.Spec, table, response, keyColumns, present.Select(g => g.Keys).ToList(), block, diagnostics);
+        var result = new List<SummaryGroup>();
+        for (var gi = 0; orders is not null && gi < present.Count; gi++)
         {
             var g = present[gi];
             var label = block.Factors.Count == 0 ? "all" : string.Join(" / ", g.Codes.Select((c, k) => table.Levels[factorPos[k]][c]));
-            var s = DescriptivesFromSummaries.Compute(g.Stat, centre, alpha);
-            var o = orders[gi];
-            var level = block.Factors.Count == 0 ? null : label;
-            var map = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
-            void Add(string stat, Quantity q) => map[stat] = context.Results.Add(block.Id, TestName.Summary, term, level, null, stat, q, inputs);
-            Add(Stat.N, Quantity.Of(s.N));
-            Add(Stat.Missing, Quantity.Of(g.Missing));
-            Add(Stat.Mean, Quantity.Of(s.Mean));
-            Add(Stat.Sd, s.Sd);
-            Add(Stat.Se, s.Se);
-            Add(Stat.CiLow, s.CiLow);
-            Add(Stat.CiHigh, s.CiHigh);
-            Add(Stat.Median, o.Median);
-            Add(Stat.Q1, o.Q1);
-            Add(Stat.Q3, o.Q3);
-            Add(Stat.Min, o.Min);
-            Add(Stat.Max, o.Max);
-            outcome.Groups.Add((label, (int)Math.Min(s.N, int.MaxValue), map));
-            if (s.N < 2)
-            {
-                outcome.Warnings.Add($"Group '{label}' has a single observation: its spread and interval are not defined.");
-            }
+            result.Add(new SummaryGroup(label, g.Stat, g.Missing, orders[gi]));
         }
 
-        var small = outcome.Groups.Where(g => g.N is >= 2 and < 5).Select(g => g.Label).ToList();
-        if (small.Count > 0)
-        {
-            outcome.Warnings.Add($"Groups with fewer than 5 observations ({string.Join(", ", small.Select(StudyPress.Charts.BidiText.Isolate))}): their means and intervals are imprecise, and quartiles of so few values say little.");
-        }
-
-        outcome.Notes.Add(table.Duck || ds.Spec.Format == DataFormat.Postgres
-            ? "n, mean, SD, SE and the interval were computed from per-cell counts, means and sums of squares computed by the database (aggregate: true); median, quartiles, min and max by the database over each group's rows (quantile_cont or percentile_cont, linear interpolation). The box plot was not drawn: the rows were not loaded."
-            : "n, mean, SD, SE and the interval were computed from per-cell counts, means and sums of squares computed by the database (aggregate: true); min and max by the database over each group's rows. SQLite computes no quantiles, so the median and quartiles are not defined. The box plot was not drawn: the rows were not loaded.");
-        if (dropped > 0)
-        {
-            outcome.Notes.Add(string.Create(CultureInfo.InvariantCulture, $"{dropped} row(s) with a missing value were left out."));
-        }
-
-        return outcome;
+        return new SummaryCells { Groups = result, Failed = orders is null, Dropped = dropped, Centre = centre, Quantiles = quantiles };
     }
 
-    private sealed record Orders(Quantity Median, Quantity Q1, Quantity Q3, Quantity Min, Quantity Max);
-
     /// <summary>Min, max and (DuckDB) quartiles of each group's rows, one query per group; null after a reported error.</summary>
-    private static List<Orders>? OrderStatistics(DatasetSpec spec, AggregateTable table, string response, string[] keyColumns, List<List<object?[]>> groups, BoundBlock block, DiagnosticBag diagnostics)
+    private static List<OrderStatistics>? Query(DatasetSpec spec, AggregateTable table, string response, string[] keyColumns, List<List<object?[]>> groups, BoundBlock block, DiagnosticBag diagnostics)
     {
         var y = Q(response);
         var pg = spec.Format == DataFormat.Postgres;
@@ -153,7 +125,7 @@ public static class AggregatedSummary
             : table.Duck
             ? $"min({y}), max({y}), quantile_cont(CAST({y} AS DOUBLE), 0.5), quantile_cont(CAST({y} AS DOUBLE), 0.25), quantile_cont(CAST({y} AS DOUBLE), 0.75)"
             : $"min({y}), max({y})";
-        var result = new List<Orders>();
+        var result = new List<OrderStatistics>();
         QueryClock? clock = null;
         try
         {
@@ -193,7 +165,7 @@ public static class AggregatedSummary
                 reader.Read();
                 Quantity V(int i) => reader.IsDBNull(i) ? Quantity.Undefined("the group has no values") : Quantity.Of(Convert.ToDouble(reader.GetValue(i), CultureInfo.InvariantCulture));
                 var none = Quantity.Undefined(SqliteQuantiles);
-                result.Add(table.Duck || pg ? new Orders(V(2), V(3), V(4), V(0), V(1)) : new Orders(none, none, none, V(0), V(1)));
+                result.Add(table.Duck || pg ? new OrderStatistics(V(2), V(3), V(4), V(0), V(1)) : new OrderStatistics(none, none, none, V(0), V(1)));
             }
         }
         catch (Exception e) when (clock is { Expired: true } && e is DbException or InvalidOperationException or OperationCanceledException)

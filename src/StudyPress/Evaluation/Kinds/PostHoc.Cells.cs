@@ -16,16 +16,16 @@ namespace StudyPress.Evaluation.Kinds;
 /// <see cref="PostHocFromSummaries"/>, which computes what the procedures on the values compute.
 /// <c>method: auto</c> compares the variances by Bartlett's test (Brown–Forsythe needs the rows);
 /// Dunn's rank comparisons need the rows and are not available. Manifest values and rendering are
-/// those of <see cref="PostHocKind"/>.
+/// those of the rows route (one <see cref="PostHocOutcome"/>, with <see cref="AnovaRoute.Cells"/>).
 /// </summary>
-public static class AggregatedPostHoc
+public sealed partial class PostHocEvaluator
 {
-    public const string MethodNote = "The comparisons were computed from per-level counts, means and sums of squares computed by the database (aggregate: true) and the residual mean square of the anova block; they equal the comparisons on the rows.";
+    public const string CellsMethodNote = "The comparisons were computed from per-level counts, means and sums of squares computed by the database (aggregate: true) and the residual mean square of the anova block; they equal the comparisons on the rows.";
 
-    public static BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, PostHocKind.Options options, AggregatedAnovaOutcome anova, DiagnosticBag diagnostics)
+    private static PostHocOutcome EvaluateCells(EvaluationContext context, BoundBlock block, PostHocKind.Options options, AnovaOutcome anova, DiagnosticBag diagnostics)
     {
-        var outcome = new PostHocOutcome(block);
-        if (anova.Result is not { } fit)
+        var outcome = new PostHocOutcome(block) { Route = AnovaRoute.Cells };
+        if (anova.Fit is not { } fit || anova.Cells is not { } selected)
         {
             return outcome;
         }
@@ -51,12 +51,8 @@ public static class AggregatedPostHoc
             return outcome;
         }
 
-        if (AggregatedAnova.Cells(context, block.Of!) is not { } selected)
-        {
-            return outcome;
-        }
-
-        var (allLevels, cells, _) = selected;
+        var allLevels = selected.Levels;
+        var cells = selected.Cells;
         var levels = allLevels[k];
         var factor = factors[k];
         if (options.Control is { } control && !levels.Contains(control))
@@ -105,13 +101,13 @@ public static class AggregatedPostHoc
         {
             "tukey" when options.Control is not null => ("dunnett", "Dunnett's comparisons with the control", PostHocFromSummaries.CompareDunnett(levels, groups, msValue, df, alpha, options.Control)),
             "tukey" => ("tukey_hsd", groups.Select(g => g.Count).Distinct().Count() > 1 ? "Tukey–Kramer comparisons (unequal group sizes)" : "Tukey HSD comparisons", PostHocFromSummaries.CompareTukey(levels, groups, msValue, df, alpha)),
-            "games-howell" => ("games_howell", "Games–Howell comparisons (unequal variances allowed)", PostHocEvaluator.ControlOnly(PostHocFromSummaries.CompareGamesHowell(levels, groups, alpha), options.Control)),
+            "games-howell" => ("games_howell", "Games–Howell comparisons (unequal variances allowed)", ControlOnly(PostHocFromSummaries.CompareGamesHowell(levels, groups, alpha), options.Control)),
             "holm" => ("holm", "Pooled-variance t tests, Holm-adjusted", PostHocFromSummaries.ComparePooledT(levels, groups, msValue, df, alpha, PValueAdjustmentMethod.Holm, options.Control)),
             _ => ("bonferroni", "Pooled-variance t tests, Bonferroni-adjusted", PostHocFromSummaries.ComparePooledT(levels, groups, msValue, df, alpha, PValueAdjustmentMethod.Bonferroni, options.Control)),
         };
         var inputs = context.Inputs(block);
         var term = factor.Name;
-        outcome.Families.Add(PostHocEvaluator.Record(context, block, test, title, result, term, inputs));
+        outcome.Families.Add(Record(context, block, test, title, result, term, inputs));
         var m = result.Comparisons.Count;
         outcome.Multiplicity[Stat.M] = context.Results.Add(block.Id, TestName.Family, term, null, null, Stat.M, m, inputs);
         outcome.Multiplicity[Stat.FwerUnadjusted] = context.Results.Add(block.Id, TestName.Family, term, null, null, Stat.FwerUnadjusted, PValueAdjustment.FamilyWiseErrorRate(m, alpha), inputs);
@@ -125,9 +121,8 @@ public static class AggregatedPostHoc
             outcome.Warnings.Add("Some levels have a single observation: comparisons involving them rest entirely on the pooled variance (and are not defined for Games–Howell).");
         }
 
-        outcome.Notes.Add(MethodNote);
+        outcome.Notes.Add(CellsMethodNote);
         return outcome;
     }
 
-    private static string P(Quantity p) => !p.IsDefined ? "not defined" : p.Value < 0.001 ? "< 0.001" : p.Value.ToString("F3", CultureInfo.InvariantCulture);
 }

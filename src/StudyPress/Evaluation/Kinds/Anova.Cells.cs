@@ -1,122 +1,47 @@
 using System.Globalization;
 using StudyPress.Binding;
 using StudyPress.Data.Sources;
+using StudyPress.Model;
 using StudyPress.Diagnostics;
 using StudyPress.Evaluation;
-using StudyPress.Rendering;
 using StudyPress.Statistics;
 using StudyPress.Statistics.Anova;
 using StudyPress.Binding.Kinds;
 
 namespace StudyPress.Evaluation.Kinds;
 
-public sealed class AggregatedAnovaOutcome(BoundBlock block) : BlockOutcome(block)
-{
-    public CellAnovaResult? Result { get; set; }
-
-    public IReadOnlyList<FactorSpec> Factors { get; set; } = [];
-
-    public List<(AnovaTerm Term, Dictionary<string, ResultValue> Values)> Terms { get; } = [];
-
-    public Dictionary<string, ResultValue> Residual { get; } = new(StringComparer.Ordinal);
-
-    public Dictionary<string, ResultValue> Total { get; } = new(StringComparer.Ordinal);
-
-    public List<(string Factor, string Level, Dictionary<string, ResultValue> Values)> Means { get; } = [];
-
-    public Dictionary<string, ResultValue>? Welch { get; set; }
-
-    public Dictionary<string, ResultValue>? Bartlett { get; set; }
-
-    public List<string> Decisions { get; } = [];
-}
-
 /// <summary>
 /// An <c>anova</c> block on a dataset the database aggregated (<c>aggregate: true</c>): the table,
 /// the level means, Welch's F and Bartlett's test come from the per-cell counts, means and sums of
 /// squares (<see cref="CellStatisticsAnova"/>, <see cref="GroupStatisticsTests"/>); what needs the
 /// rows (residual checks, rank tests, figures) is not run, and the block says so.
-/// The manifest values have the same names as those of a block on loaded rows.
+/// The manifest values have the same names as those of a block on loaded rows; the outcome is the
+/// same <see cref="AnovaOutcome"/>, with <see cref="AnovaRoute.Cells"/>.
 /// </summary>
-public static class AggregatedAnova
+public sealed partial class AnovaEvaluator
 {
-    public const string MethodNote = "ANOVA table, level means, Welch's F and Bartlett's test were computed from per-cell counts, means and sums of squares computed by the database (aggregate: true). The checks that need the rows (normality of the residuals, Brown–Forsythe/Levene, outliers, run order), the Kruskal–Wallis test and the figures were not run: the rows were not loaded.";
+    public const string CellsMethodNote = "ANOVA table, level means, Welch's F and Bartlett's test were computed from per-cell counts, means and sums of squares computed by the database (aggregate: true). The checks that need the rows (normality of the residuals, Brown–Forsythe/Levene, outliers, run order), the Kruskal–Wallis test and the figures were not run: the rows were not loaded.";
 
-    /// <summary>Whether the block reads an aggregated dataset.</summary>
-    public static bool Applies(EvaluationContext context, BoundBlock block) =>
-        block.Data is not null && context.Datasets.TryGetValue(block.Data, out var d) && d.Aggregate is not null;
-
-    /// <summary>
-    /// The block's cells: the dataset's cells that pass 'where' and have the block's factors and
-    /// response, pooled over the factors the block does not use.
-    /// </summary>
-    public static (IReadOnlyList<IReadOnlyList<string>> Levels, List<CellStatistics> Cells, long Dropped)? Cells(EvaluationContext context, BoundBlock block)
+    private static AnovaOutcome EvaluateCells(EvaluationContext context, BoundBlock block, AnovaKind.Options options, DiagnosticBag diagnostics)
     {
+        var model = context.Models.Descriptions[block.Id];
+        var outcome = new AnovaOutcome(block) { Route = AnovaRoute.Cells, Model = model };
         var ds = context.Datasets[block.Data!];
-        var table = ds.Aggregate!;
-        int Pos(string factor) => table.Factors.Select((f, i) => (f, i)).First(p => p.f.Name == factor).i;
-        var factorPos = block.Factors.Select(f => Pos(f.Name)).ToArray();
-        var where = block.Where.Select(w => (Pos: Pos(w.Factor.Name), w.Levels)).ToArray();
-        var pooled = new SortedDictionary<string, (int[] Codes, AggregateStat Stat)>(StringComparer.Ordinal);
-        long dropped = 0;
-        for (var i = 0; i < table.Cells.Count; i++)
-        {
-            var cell = table.Cells[i];
-            if (where.Any(w => cell.Codes[w.Pos] < 0 || !w.Levels.Contains(table.Levels[w.Pos][cell.Codes[w.Pos]])))
-            {
-                continue;
-            }
-
-            var stat = cell.Stats[block.Response!];
-            if (factorPos.Any(p => cell.Codes[p] < 0))
-            {
-                dropped += cell.Rows;
-                continue;
-            }
-
-            dropped += cell.Rows - stat.N;
-            if (stat.N == 0)
-            {
-                continue;
-            }
-
-            ds.Used[i] = true;
-            var codes = factorPos.Select(p => cell.Codes[p]).ToArray();
-            var key = string.Join(",", codes.Select(c => c.ToString("D9", CultureInfo.InvariantCulture)));
-            pooled[key] = pooled.TryGetValue(key, out var before) ? (codes, AggregateSource.Pool(before.Stat, stat)) : (codes, stat);
-        }
-
-        if (pooled.Count == 0)
-        {
-            return null;
-        }
-
-        // Keep only the levels present, as the row selection does.
-        var present = factorPos.Select((_, k) => new SortedSet<int>(pooled.Values.Select(v => v.Codes[k])).ToList()).ToArray();
-        var levels = factorPos.Select((p, k) => (IReadOnlyList<string>)[.. present[k].Select(c => table.Levels[p][c])]).ToList();
-        var cells = pooled.Values
-            .Select(v => new CellStatistics([.. v.Codes.Select((c, k) => present[k].IndexOf(c))], v.Stat.N, v.Stat.CentredMean, v.Stat.SumSquares))
-            .ToList();
-        return (levels, cells, dropped);
-    }
-
-    public static BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, AnovaKind.Options options, DiagnosticBag diagnostics)
-    {
-        var outcome = new AggregatedAnovaOutcome(block);
-        var ds = context.Datasets[block.Data!];
-        if (options.Transform != TransformKind.None)
+        if (model.Transform != TransformKind.None)
         {
             diagnostics.AggregateProblem(block.Location, ds.Spec.Name, $"'transform: {options.TransformName}' needs the rows, and the database aggregated them (aggregate: true); transform the column in the query instead");
             return outcome;
         }
 
-        if (Cells(context, block) is not { } selected)
+        if (context.Models.AggregatedCells.GetValueOrDefault(block.Id) is not { } selected)
         {
             diagnostics.NoRowsSelected(block.Location);
             return outcome;
         }
 
-        var (levels, cells, dropped) = selected;
+        var levels = selected.Levels;
+        var cells = selected.Cells;
+        var dropped = selected.Dropped;
         for (var k = 0; k < block.Factors.Count; k++)
         {
             if (levels[k].Count < 2)
@@ -126,7 +51,7 @@ public static class AggregatedAnova
             }
         }
 
-        if (cells.All(c => c.Count == 1) && (block.Factors.Count == 1 || options.Interaction))
+        if (cells.All(c => c.Count == 1) && (block.Factors.Count == 1 || model.Interaction))
         {
             diagnostics.NoResidualDf(block.Location);
             return outcome;
@@ -135,8 +60,8 @@ public static class AggregatedAnova
         var input = new CellAnovaInput(
             [.. block.Factors.Select((f, k) => new CellFactor(f.Name, levels[k]))],
             cells,
-            options.Interaction,
-            options.SsType,
+            model.Interaction,
+            model.SsType,
             context.Header.Alpha);
         if (CellStatisticsAnova.Check(input) is { } problem)
         {
@@ -153,11 +78,14 @@ public static class AggregatedAnova
         }
 
         var result = CellStatisticsAnova.Fit(input);
-        outcome.Result = result;
+        outcome.Fit = AnovaFit.Of(result);
+        outcome.Cells = selected;
         outcome.Factors = block.Factors;
+        outcome.ResponseCentre = selected.Centre;
+        outcome.ResponseName = block.Response!;
         var inputs = context.Inputs(block);
-        var centre = ds.Aggregate!.Centres[block.Response!];
-        AnovaEvaluator.RecordTable(context, block, result.Terms, result.ResidualSumOfSquares, result.ResidualDf, result.ResidualMeanSquare, result.TotalSumOfSquares, result.TotalDf, inputs, outcome.Terms, outcome.Residual, outcome.Total);
+        var centre = selected.Centre;
+        RecordTable(context, block, result.Terms, result.ResidualSumOfSquares, result.ResidualDf, result.ResidualMeanSquare, result.TotalSumOfSquares, result.TotalDf, inputs, outcome.Terms, outcome.Residual, outcome.Total);
 
         // Level means (each factor's levels, pooled over the other factors).
         for (var k = 0; k < block.Factors.Count; k++)
@@ -177,7 +105,7 @@ public static class AggregatedAnova
 
         if (block.Factors.Count == 1)
         {
-            OneFactor(context, block, outcome, options, cells, inputs);
+            OneFactorCells(context, block, outcome, options, cells, inputs);
         }
 
         var small = cells.Where(c => c.Count is > 1 and < 5).ToList();
@@ -196,7 +124,7 @@ public static class AggregatedAnova
             outcome.Warnings.Add("The design is unbalanced: the sums of squares depend on the SS type chosen.");
         }
 
-        outcome.Notes.Add(MethodNote);
+        outcome.Notes.Add(CellsMethodNote);
         if (dropped > 0)
         {
             outcome.Notes.Add(string.Create(CultureInfo.InvariantCulture, $"{dropped} row(s) with a missing value were left out of this analysis."));
@@ -205,7 +133,7 @@ public static class AggregatedAnova
         return outcome;
     }
 
-    private static void OneFactor(EvaluationContext context, BoundBlock block, AggregatedAnovaOutcome outcome, AnovaKind.Options options, List<CellStatistics> cells, IReadOnlyList<string> inputs)
+    private static void OneFactorCells(EvaluationContext context, BoundBlock block, AnovaOutcome outcome, AnovaKind.Options options, IReadOnlyList<CellStatistics> cells, IReadOnlyList<string> inputs)
     {
         var groups = cells.Select(c => new GroupStatistics(c.Count, c.Mean, c.SumOfSquares)).ToList();
         var name = block.Factors[0].Name;
@@ -228,12 +156,13 @@ public static class AggregatedAnova
             if (bt.P.IsDefined && bt.P.Value < alpha)
             {
                 show = true;
-                outcome.Decisions.Add($"Rule fired (welch: auto): on aggregated data the variances are compared by Bartlett's test (the rows needed by Brown–Forsythe were not loaded); it found unequal group variances (p {P(bt.P)} < α = {a}), so Welch's F, which does not assume equal variances, is shown and is the test to read. Bartlett's test is sensitive to non-normality, which could not be checked.");
+                outcome.ReadWelch = true;
+                outcome.Decisions.Add($"Rule fired (welch: auto): on aggregated data the variances are compared by Bartlett's test (the rows needed by Brown–Forsythe were not loaded); it found unequal group variances (p {PCells(bt.P)} < α = {a}), so Welch's F, which does not assume equal variances, is shown and is the test to read. Bartlett's test is sensitive to non-normality, which could not be checked.");
             }
             else
             {
                 outcome.Decisions.Add(bt.P.IsDefined
-                    ? $"Welch's F is not shown (welch: auto): Bartlett's test, used on aggregated data, found no evidence of unequal variances (p {P(bt.P)} ≥ α = {a}). Set 'welch: yes' to show it anyway."
+                    ? $"Welch's F is not shown (welch: auto): Bartlett's test, used on aggregated data, found no evidence of unequal variances (p {PCells(bt.P)} ≥ α = {a}). Set 'welch: yes' to show it anyway."
                     : $"Welch's F is not shown (welch: auto): equal variances could not be checked ({bt.P.Reason}).");
             }
         }
@@ -251,6 +180,6 @@ public static class AggregatedAnova
         }
     }
 
-    private static string P(Quantity p) => p.Value < 0.001 ? "< 0.001" : "= " + p.Value.ToString("F3", CultureInfo.InvariantCulture);
+    private static string PCells(Quantity p) => p.Value < 0.001 ? "< 0.001" : "= " + p.Value.ToString("F3", CultureInfo.InvariantCulture);
 
 }
