@@ -21,6 +21,292 @@ public sealed class AnovaRenderer : KindRenderer
 
     public override string Kind => "anova";
 
+    /// <summary>The anova's sentences in a methods paragraph: design, model, decisions, effects, cautions.</summary>
+    public override IEnumerable<string> Methods(MethodsPart part, MethodsSection? section, BlockOutcome outcome, MethodsWriter w)
+    {
+        if (section is not { } s)
+        {
+            return [];
+        }
+
+        return part switch
+        {
+            MethodsPart.Design when s.Covered && w.Has("design") => [MethodsDesign(s, w)],
+            MethodsPart.Model when s.Covered && w.Has("model") => [MethodsModel(s, w)],
+            MethodsPart.Assumptions when w.Has("assumptions") && s.Covered && !s.Anova.RowsAvailable => [MethodsNotComputed(w)],
+            MethodsPart.Decisions when w.Has("decisions") => MethodsDecisions(s, w),
+            MethodsPart.Results when s.Covered && w.Has("effects") => MethodsEffects(s, w),
+            MethodsPart.Cautions => MethodsCautions(s, w),
+            _ => [],
+        };
+    }
+
+    private static IEnumerable<string> MethodsCautions(MethodsSection s, MethodsWriter w)
+    {
+        var a = s.Anova;
+        var smallest = s.Cells.Min(c => c.N.Value.IsDefined ? c.N.Value.Value : 0);
+        var which = w.Which(s);
+        if (smallest < 5)
+        {
+            yield return a.RowsAvailable
+                ? $"Some groups{which} have fewer than five observations, so the tests have little power to detect differences and the assumption checks can say little."
+                : $"Some groups{which} have fewer than five observations, so the tests have little power to detect differences.";
+        }
+
+        var failed = a.RowsAvailable ? w.Failed(a.Review) : [];
+        if ((s.Checks is not null || s.Review.Count > 0) && failed.Count > 0)
+        {
+            var fix = a.ReadWelch && !a.Review.NonNormal && !a.Review.Dependent && !a.Review.HasOutliers
+                ? " Welch's test allows for the unequal variances; the effect sizes and pooled-variance intervals still assume them equal."
+                : " Read the results with that in mind; a transformation or a rank test may suit these data better.";
+            yield return $"The checks{which} questioned the model's assumptions: {MethodsWriter.List(failed)}.{fix}";
+        }
+
+        var unbalanced = s.Cells.Select(c => c.N.Value.Value).Distinct().Count() > 1;
+        var opts = (AnovaKind.Options)a.Block.Options!;
+        if (unbalanced && a.Factors.Count > 1 && opts.Interaction)
+        {
+            yield return $"The design{which} is unbalanced and includes interactions: the main-effect tests depend on the type of sums of squares, and a main effect is hard to interpret when its factor interacts with another.";
+        }
+    }
+
+    private static string MethodsDesign(MethodsSection s, MethodsWriter w)
+    {
+        var a = s.Anova;
+        var block = a.Block;
+        var response = MethodsWriter.E(a.ResponseName);
+        var sb = $"The analysis {w.T("used", "uses")} {MethodsWriter.Df(s.Total!)} observations of {response}";
+        if (block.Where.Count > 0)
+        {
+            sb += ", restricted to rows where " + MethodsWriter.List(block.Where.Select(w => MethodsWriter.E(w.Factor.Display) + " is " + (w.Levels.Count == 1 ? MethodsWriter.E(w.Levels[0]) : "one of " + MethodsWriter.List(w.Levels.Select(MethodsWriter.E)))));
+        }
+
+        sb += ".";
+        if (!MethodsWriter.Is(s.Dropped, 0))
+        {
+            var one = MethodsWriter.Is(s.Dropped, 1);
+            sb += $" {MethodsWriter.Df(s.Dropped!)} {(one ? "row" : "rows")} with a missing response or factor value {w.Be(!one)} left out.";
+        }
+
+        var factors = MethodsFactorLevels(a);
+        var sizes = s.Cells.Select(c => c.N.Value.IsDefined ? c.N.Value.Value : -1).Distinct().Count();
+        var levelText = MethodsWriter.List(factors.Select(f => MethodsWriter.E(f.Display) + " (" + MethodsWriter.List(f.Levels.Select(MethodsWriter.E)) + ")"));
+        if (factors.Count == 1)
+        {
+            sb += $" The groups {w.Be(true)} the {MethodsWriter.Words(factors[0].Levels.Count)} levels of {levelText}";
+        }
+        else
+        {
+            sb += $" The groups {w.Be(true)} the cells of the crossed factors {levelText}";
+        }
+
+        sb += sizes == 1
+            ? $", with {MethodsWriter.Df(s.Cells[0].N)} observations in each."
+            : $"; the group sizes {w.Be(true)} unequal: {string.Join(", ", s.Cells.Select(c => MethodsWriter.E(c.Label) + " " + MethodsWriter.Df(c.N)))}.";
+        if (!a.RowsAvailable)
+        {
+            sb += $" The rows {w.Be(true)} not read: the database aggregated them into per-cell counts, means and sums of squares (aggregate: true), and every result below {w.T("was", "is")} computed from these.";
+        }
+
+        return sb;
+    }
+
+    private static string MethodsModel(MethodsSection s, MethodsWriter w)
+    {
+        var a = s.Anova;
+        var opts = (AnovaKind.Options)a.Block.Options!;
+        var k = a.Factors.Count;
+        var way = k switch { 1 => "a one-way", 2 => "a two-way", 3 => "a three-way", _ => "a factorial" };
+        var subject = $"{way} fixed-effects analysis of variance";
+        var rest = a.RowsAvailable ? " by least squares" : " by weighted least squares on the cell means, with the cell counts as weights";
+        if (k > 1)
+        {
+            var interaction = opts.Interaction ? (k == 2 ? " and their interaction," : " and their interactions,") : ", without interactions,";
+            rest += $" with the factors {MethodsWriter.List(a.Factors.Select(f => MethodsWriter.E(f.Display)))}{interaction}";
+            rest += a.Fit!.SsType switch
+            {
+                Statistics.Anova.SumOfSquaresType.Sequential => " using sequential (type 1) sums of squares",
+                Statistics.Anova.SumOfSquaresType.Hierarchical => " using hierarchical (type 2) sums of squares",
+                _ => " using marginal (type 3) sums of squares with sum-to-zero coding",
+            };
+        }
+
+        if (a.Transformed is { } t)
+        {
+            rest += t.Kind switch
+            {
+                Statistics.Anova.TransformKind.Log => $", on the natural logarithm of {MethodsWriter.E(a.ResponseName)}",
+                Statistics.Anova.TransformKind.Log10 => $", on the common logarithm of {MethodsWriter.E(a.ResponseName)}",
+                Statistics.Anova.TransformKind.Sqrt => $", on the square root of {MethodsWriter.E(a.ResponseName)}",
+                Statistics.Anova.TransformKind.Reciprocal => $", on the reciprocal of {MethodsWriter.E(a.ResponseName)}",
+                _ => $", on the Box–Cox transform of {MethodsWriter.E(a.ResponseName)} with the maximum-likelihood λ = {MethodsWriter.S2(a.BoxCox[Stat.Lambda])}"
+                    + (a.BoxCox[Stat.LambdaLow].Value.IsDefined && a.BoxCox[Stat.LambdaHigh].Value.IsDefined
+                        ? $" (profile-likelihood interval {MethodsWriter.S2(a.BoxCox[Stat.LambdaLow])} to {MethodsWriter.S2(a.BoxCox[Stat.LambdaHigh])})"
+                        : string.Empty),
+            };
+        }
+
+        var text = w.Did(subject, false, "fitted", "fitted", "fit", rest + ".");
+        if (a.Transformed is not null)
+        {
+            text += $" Sums of squares and tests {w.Be(true)} on the transformed scale; level means {w.Be(true)} reported back-transformed.";
+        }
+
+        if (w.Has("effects"))
+        {
+            text += $" Effect sizes {w.Be(true)} partial η² with {w.Confidence}% confidence intervals from the noncentral F distribution.";
+        }
+
+        return text;
+    }
+
+    private static IEnumerable<string> MethodsDecisions(MethodsSection s, MethodsWriter w)
+    {
+        var a = s.Anova;
+        var opts = (AnovaKind.Options)a.Block.Options!;
+        if (!a.RowsAvailable)
+        {
+            foreach (var d in MethodsCellsDecisions(s, w))
+            {
+                yield return d;
+            }
+
+            yield break;
+        }
+
+        var data = a.Data!;
+        if (data.Factors.Count == 1 && s.Covered)
+        {
+            var factor = MethodsWriter.E(data.Factors[0].Spec.Display);
+            var bf = s.Review.GetValueOrDefault("brown_forsythe");
+            if (opts.Welch == "yes")
+            {
+                yield return w.Active
+                    ? $"We also {w.T("computed", "compute")} Welch's F test, which does not assume equal variances, as the study requests."
+                    : $"Welch's F test, which does not assume equal variances, {w.Be(false)} computed as well, as the study requests.";
+            }
+            else if (opts.Welch == "auto" && bf is not null)
+            {
+                var bfText = $"F({MethodsWriter.Df(bf[Stat.Df1])}, {MethodsWriter.Df(bf[Stat.Df2])}) = {MethodsWriter.S2(bf[Stat.F])}, {ReportStyle.PPhrase(bf[Stat.P])}";
+                if (a.Review.UnequalVariances)
+                {
+                    yield return $"Because the Brown–Forsythe test {w.T("indicated", "indicates")} unequal group variances ({bfText}), "
+                        + (w.Active ? $"we {w.T("used", "use")} Welch's F test, which does not assume equal variances, for {factor} in place of the ordinary F test." : $"Welch's F test, which does not assume equal variances, {w.Be(false)} used for {factor} in place of the ordinary F test.");
+                }
+                else if (bf[Stat.P].Value.IsDefined)
+                {
+                    yield return $"The Brown–Forsythe test {w.T("gave", "gives")} no indication of unequal group variances ({bfText}), so the ordinary F test {w.T("was", "is")} kept.";
+                }
+                else
+                {
+                    yield return $"Equal variances could not be checked, so the ordinary F test {w.T("was", "is")} kept.";
+                }
+            }
+
+            if (opts.Welch == "auto" && a.Review.WantsRankTest && s.Review.GetValueOrDefault("shapiro_wilk") is { } sw)
+            {
+                var smallest = s.Cells.OrderBy(c => c.N.Value.IsDefined ? c.N.Value.Value : double.MaxValue).First();
+                yield return $"Because the residuals {w.T("departed", "depart")} from normality (Shapiro–Wilk, W = {MethodsWriter.Fr(sw[Stat.W])}, {ReportStyle.PPhrase(sw[Stat.P])}) and the smallest group {w.T("had", "has")} only {MethodsWriter.Df(smallest.N)} observations, "
+                    + (w.Active ? $"we also {w.T("ran", "run")} the Kruskal–Wallis rank test, which does not assume normality." : $"the Kruskal–Wallis rank test, which does not assume normality, {w.Be(false)} run as well.");
+            }
+        }
+    }
+
+    /// <summary>Cells route: the automatic rules read Bartlett's test on the cell variances instead of Brown–Forsythe.</summary>
+    private static IEnumerable<string> MethodsCellsDecisions(MethodsSection s, MethodsWriter w)
+    {
+        var a = s.Anova;
+        var opts = (AnovaKind.Options)a.Block.Options!;
+        if (a.Factors.Count == 1 && s.Covered)
+        {
+            var factor = MethodsWriter.E(a.Factors[0].Display);
+            var bt = s.Review.GetValueOrDefault("bartlett");
+            if (opts.Welch == "yes")
+            {
+                yield return w.Active
+                    ? $"We also {w.T("computed", "compute")} Welch's F test, which does not assume equal variances, as the study requests."
+                    : $"Welch's F test, which does not assume equal variances, {w.Be(false)} computed as well, as the study requests.";
+            }
+            else if (opts.Welch == "auto" && bt is not null)
+            {
+                var btText = $"Bartlett's test on the group variances, χ²({MethodsWriter.Df(bt[Stat.Df])}) = {MethodsWriter.S2(bt[Stat.Statistic])}, {ReportStyle.PPhrase(bt[Stat.P])}, used because the Brown–Forsythe test needs the rows";
+                if (a.ReadWelch)
+                {
+                    yield return $"Because {btText}, {w.T("indicated", "indicates")} unequal group variances, "
+                        + (w.Active ? $"we {w.T("used", "use")} Welch's F test, which does not assume equal variances, for {factor} in place of the ordinary F test." : $"Welch's F test, which does not assume equal variances, {w.Be(false)} used for {factor} in place of the ordinary F test.")
+                        + " Bartlett's test is sensitive to non-normality, which could not be checked.";
+                }
+                else if (bt[Stat.P].Value.IsDefined)
+                {
+                    yield return $"{MethodsWriter.Cap(btText)}, {w.T("gave", "gives")} no indication of unequal group variances, so the ordinary F test {w.T("was", "is")} kept.";
+                }
+                else
+                {
+                    yield return $"Equal variances could not be checked, so the ordinary F test {w.T("was", "is")} kept.";
+                }
+            }
+        }
+    }
+
+    private static IEnumerable<string> MethodsEffects(MethodsSection s, MethodsWriter w)
+    {
+        var a = s.Anova;
+        var label = (Statistics.Anova.AnovaTerm t) => MethodsWriter.List(t.Factors.Select(n => MethodsWriter.E(a.Factors.First(f => f.Name == n).Display)));
+        foreach (var (term, v) in a.Terms)
+        {
+            var interaction = term.Factors.Count > 1;
+            var name = interaction ? $"the {string.Join(" × ", term.Factors.Select(n => MethodsWriter.E(a.Factors.First(f => f.Name == n).Display)))} interaction" : label(term);
+            var sentence = MethodsTerm(a, v, w);
+            if (!term.P.IsDefined)
+            {
+                yield return $"For {name}, the F test is not defined ({MethodsWriter.E(term.P.Reason)}).";
+                continue;
+            }
+
+            var rejected = term.P.Value < w.Outcome.Alpha;
+            var hypothesis = interaction ? "no interaction" : "equal means across its levels";
+            if (!interaction && a.ReadWelch && a.Welch is { } welch)
+            {
+                var wRejected = welch[Stat.P].Value.IsDefined && welch[Stat.P].Value.Value < w.Outcome.Alpha;
+                yield return $"For {name}, Welch's test {(wRejected ? w.T("rejected", "rejects") : w.T("did not reject", "does not reject"))} the hypothesis of {hypothesis}, "
+                    + $"Welch's F({MethodsWriter.Df(welch[Stat.Df1])}, {MethodsWriter.Df(welch[Stat.Df2])}) = {MethodsWriter.S2(welch[Stat.F])}, {ReportStyle.PPhrase(welch[Stat.P])}; the ordinary F test, which assumes equal variances, {w.T("gave", "gives")} {sentence}."
+                    + (wRejected ? string.Empty : " This is not evidence that the means are equal.");
+            }
+            else
+            {
+                yield return $"For {name}, the F test {(rejected ? w.T("rejected", "rejects") : w.T("did not reject", "does not reject"))} the hypothesis of {hypothesis}, {sentence}."
+                    + (rejected
+                        ? (interaction ? $" The effect of one factor {w.T("depended", "depends")} on the level of the other, so the main effects are best read level by level." : string.Empty)
+                        : (interaction ? " This is not evidence that the factors act independently." : " This is not evidence that the means are equal."));
+                if (!interaction && a.Welch is { } w2)
+                {
+                    yield return $"Welch's test {w.T("gave", "gives")} F({MethodsWriter.Df(w2[Stat.Df1])}, {MethodsWriter.Df(w2[Stat.Df2])}) = {MethodsWriter.S2(w2[Stat.F])}, {ReportStyle.PPhrase(w2[Stat.P])}.";
+                }
+            }
+        }
+
+        if (a.Ranks is { } r)
+        {
+            var rejected = r[Stat.P].Value.IsDefined && r[Stat.P].Value.Value < w.Outcome.Alpha;
+            yield return $"The Kruskal–Wallis rank test {(rejected ? w.T("rejected", "rejects") : w.T("did not reject", "does not reject"))} the hypothesis that the groups come from one distribution, H({MethodsWriter.Df(r[Stat.Df])}) = {MethodsWriter.S2(r[Stat.H])}, {ReportStyle.PPhrase(r[Stat.P])}.";
+        }
+    }
+
+    private static string MethodsTerm(AnovaOutcome a, Dictionary<string, ResultValue> v, MethodsWriter w)
+    {
+        var text = $"F({MethodsWriter.Df(v[Stat.Df])}, {MethodsWriter.Df(a.Residual[Stat.Df])}) = {MethodsWriter.S2(v[Stat.F])}, {ReportStyle.PPhrase(v[Stat.P])}, partial η² = {MethodsWriter.Fr(v[Stat.PartialEta2])}";
+        return text + $", {w.Confidence}% CI [{MethodsWriter.Fr(v[Stat.PartialEta2CiLow])}, {MethodsWriter.Fr(v[Stat.PartialEta2CiHigh])}]";
+    }
+
+    /// <summary>The model's factors with the levels present (rows route: the selected rows' levels; cells route: the cells').</summary>
+    private static List<(string Display, IReadOnlyList<string> Levels)> MethodsFactorLevels(AnovaOutcome a) => a.Data is { } data
+        ? [.. data.Factors.Select(f => (f.Spec.Display, f.Levels))]
+        : [.. a.Factors.Select((f, k) => (f.Display, a.Cells!.Levels[k]))];
+
+    /// <summary>Cells route: what was not computed, because the rows were not read.</summary>
+    private static string MethodsNotComputed(MethodsWriter w) =>
+        $"The model's assumptions {w.Be(true)} not checked, and no rank test or least-squares means {w.Be(true)} computed: the checks of the residuals' normality, of equal variances by Brown–Forsythe or Levene, of outliers and of run order, the Kruskal–Wallis test and least-squares means need the rows.";
+
     public override void Render(HtmlWriter html, BlockOutcome outcome, RenderContext context)
     {
         var o = (AnovaOutcome)outcome;

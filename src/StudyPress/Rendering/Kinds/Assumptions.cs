@@ -38,6 +38,70 @@ public sealed class AssumptionsRenderer : KindRenderer
         }
     }
 
+    /// <summary>The checks' sentences in a methods paragraph.</summary>
+    public override IEnumerable<string> Methods(MethodsPart part, MethodsSection? section, BlockOutcome outcome, MethodsWriter w) =>
+        part == MethodsPart.Assumptions && w.Has("assumptions") && section is { Checks: { } checks } s && ReferenceEquals(checks, outcome) ? MethodsAssumptions(s, w) : [];
+
+    private static IEnumerable<string> MethodsAssumptions(MethodsSection s, MethodsWriter w)
+    {
+        var r = s.Review;
+        var review = s.Checks!.Review!;
+        var checks = new List<string>();
+        if (r.TryGetValue("shapiro_wilk", out var sw))
+        {
+            checks.Add($"normality of the residuals (Shapiro–Wilk, W = {MethodsWriter.Fr(sw[Stat.W])}, {ReportStyle.PPhrase(sw[Stat.P])})");
+        }
+
+        var variance = new List<string>();
+        foreach (var (test, name) in new[] { ("brown_forsythe", "Brown–Forsythe"), ("levene", "mean-centred Levene") })
+        {
+            if (r.TryGetValue(test, out var v))
+            {
+                variance.Add($"{name}, F({MethodsWriter.Df(v[Stat.Df1])}, {MethodsWriter.Df(v[Stat.Df2])}) = {MethodsWriter.S2(v[Stat.F])}, {ReportStyle.PPhrase(v[Stat.P])}");
+            }
+        }
+
+        if (r.TryGetValue("bartlett", out var bt))
+        {
+            variance.Add($"Bartlett, χ²({MethodsWriter.Df(bt[Stat.Df])}) = {MethodsWriter.S2(bt[Stat.Statistic])}, {ReportStyle.PPhrase(bt[Stat.P])}");
+        }
+
+        if (variance.Count > 0)
+        {
+            checks.Add($"equal variances across the groups ({string.Join("; ", variance)})");
+        }
+
+        if (r.TryGetValue("durbin_watson", out var dw))
+        {
+            checks.Add($"independence in run order (Durbin–Watson, d = {MethodsWriter.S2(dw[Stat.D])}, {ReportStyle.PPhrase(dw[Stat.P])})");
+        }
+
+        if (r.TryGetValue("outliers", out var ol))
+        {
+            checks.Add($"outlying observations (largest externally studentized residual |t| = {MethodsWriter.S2(ol[Stat.MaxAbsT])}, {ReportStyle.PPhrase(ol[Stat.PBonferroni], "Bonferroni-adjusted p")})");
+        }
+
+        yield return w.Did("the model's assumptions", true, "checked", "checked", "check", ": " + MethodsWriter.List(checks) + ".");
+        if (review.Independence is null && review.IndependenceSkipped is not null)
+        {
+            yield return $"Independence in run order {w.Be(false)} not checked, as no run order {w.T("was", "is")} available.";
+        }
+
+        var failed = w.Failed(review);
+        var otherVariance = new[] { ("levene", "mean-centred Levene"), ("bartlett", "Bartlett") }
+            .Where(x => r.TryGetValue(x.Item1, out var v) && v[Stat.P].Value.IsDefined && v[Stat.P].Value.Value < w.Outcome.Alpha)
+            .Select(x => x.Item2)
+            .ToList();
+        if (otherVariance.Count > 0 && !review.UnequalVariances)
+        {
+            yield return $"The {MethodsWriter.List(otherVariance)} {(otherVariance.Count == 1 ? "test" : "tests")} {w.T("pointed", "point")} to unequal variances, but the verdict on variances follows the Brown–Forsythe test, which is less sensitive to non-normal data.";
+        }
+
+        yield return failed.Count == 0
+            ? $"None of these checks {w.T("indicated", "indicates")} a departure at α = {w.AlphaText}, which does not prove that the assumptions hold."
+            : $"At α = {w.AlphaText} the checks {w.T("indicated", "indicate")} that {MethodsWriter.List(failed)}.";
+    }
+
     public override void Render(HtmlWriter html, BlockOutcome outcome, RenderContext context)
     {
         var o = (AssumptionsOutcome)outcome;

@@ -20,6 +20,14 @@ public abstract class KindRenderer
     /// </summary>
     public virtual IEnumerable<string> Warnings(BlockOutcome outcome, RenderContext context) => outcome.Warnings;
 
+    /// <summary>
+    /// The sentences this kind contributes to one part of a methods paragraph (HTML, numbers as
+    /// traced spans). <paramref name="section"/> is the anova section the block belongs to, or null
+    /// for blocks outside one. The methods renderer orders the contributions; see
+    /// docs/methods-and-sentences.md.
+    /// </summary>
+    public virtual IEnumerable<string> Methods(MethodsPart part, MethodsSection? section, BlockOutcome outcome, MethodsWriter w) => [];
+
     /// <summary>Plain notes shown after the cautions (rows left out and the like); see <see cref="Warnings"/>.</summary>
     public virtual IEnumerable<string> Notes(BlockOutcome outcome, RenderContext context) => outcome.Notes;
 }

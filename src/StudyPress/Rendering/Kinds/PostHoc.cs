@@ -21,6 +21,127 @@ public sealed class PostHocRenderer : KindRenderer
 
     public override string Kind => "posthoc";
 
+    /// <summary>The comparisons' sentences in a methods paragraph: the automatic choice, the method, the results, multiplicity.</summary>
+    public override IEnumerable<string> Methods(MethodsPart part, MethodsSection? section, BlockOutcome outcome, MethodsWriter w)
+    {
+        var p = (PostHocOutcome)outcome;
+        return part switch
+        {
+            MethodsPart.Decisions when section is { } s && w.Has("decisions") => MethodsDecision(s, p, w),
+            MethodsPart.Comparisons when w.Has("comparisons") => [MethodsComparison(p, w)],
+            MethodsPart.Results when w.Has("comparisons") => MethodsComparisonResults(p, w),
+            MethodsPart.Cautions when section is not null => MethodsMultiplicity(p, w),
+            _ => [],
+        };
+    }
+
+    private static IEnumerable<string> MethodsMultiplicity(PostHocOutcome p, MethodsWriter w)
+    {
+        var m = p.Multiplicity[Stat.M];
+        if (m.Value.IsDefined && m.Value.Value >= 6)
+        {
+            yield return $"With {MethodsWriter.Df(m)} comparisons, unadjusted tests at α = {w.AlphaText} would carry a chance of up to {ReportStyle.Span(p.Multiplicity[Stat.FwerUnadjusted], ReportStyle.Percent(0))} of at least one false positive; the adjusted p-values and simultaneous intervals account for this.";
+        }
+    }
+
+    private static IEnumerable<string> MethodsDecision(MethodsSection s, PostHocOutcome p, MethodsWriter w) =>
+        s.Anova.RowsAvailable ? MethodsDecisionFromRows(s, p, w) : MethodsDecisionFromCells(s, p, w);
+
+    private static IEnumerable<string> MethodsDecisionFromRows(MethodsSection s, PostHocOutcome p, MethodsWriter w)
+    {
+        var a = s.Anova;
+        var popts = (PostHocKind.Options)p.Block.Options!;
+        if (popts.Method != "auto")
+        {
+            yield break;
+        }
+
+        var method = MethodsName(p.Families[0].Test, p);
+        var bf = s.Review.GetValueOrDefault("brown_forsythe");
+        var why = a.Review.UnequalVariances
+            ? $"because the Brown–Forsythe test {w.T("indicated", "indicates")} unequal variances{(bf is null ? string.Empty : " (" + ReportStyle.PPhrase(bf[Stat.P]) + ")")}"
+            : $"because the Brown–Forsythe test {w.T("gave", "gives")} no indication of unequal variances{(bf is null ? string.Empty : " (" + ReportStyle.PPhrase(bf[Stat.P]) + ")")}";
+        yield return $"For the pairwise comparisons of {MethodsWriter.E(p.FactorLabel)}, {method} {w.T("was", "is")} chosen {why}"
+            + (p.Families.Count > 1 ? $", and Dunn's rank comparisons (Holm-adjusted) {w.T("were", "are")} added because the residuals {w.T("departed", "depart")} from normality in small groups." : ".");
+    }
+
+    /// <summary>Cells route: the rules read Bartlett's test; Dunn's comparisons need the rows.</summary>
+    private static IEnumerable<string> MethodsDecisionFromCells(MethodsSection s, PostHocOutcome p, MethodsWriter w)
+    {
+        var a = s.Anova;
+        var popts = (PostHocKind.Options)p.Block.Options!;
+        if (popts.Method != "auto")
+        {
+            yield break;
+        }
+
+        var method = MethodsName(p.Families[0].Test, p);
+        var over = a.Factors.Count == 1 ? "groups" : "cells";
+        var why = p.Families[0].Test == "games_howell"
+            ? $"because Bartlett's test over the {over} (used because the Brown–Forsythe test needs the rows) {w.T("indicated", "indicates")} unequal variances"
+            : $"because Bartlett's test over the {over} (used because the Brown–Forsythe test needs the rows) {w.T("gave", "gives")} no indication of unequal variances";
+        yield return $"For the pairwise comparisons of {MethodsWriter.E(p.FactorLabel)}, {method} {w.T("was", "is")} chosen {why}; Dunn's rank comparisons {w.T("were", "are")} not available, as they need the ranks of the rows.";
+    }
+
+    private static string MethodsName(string test, PostHocOutcome p) => test switch
+    {
+        "tukey_hsd" => p.Families[0].Title.StartsWith("Tukey–Kramer", StringComparison.Ordinal) ? "the Tukey–Kramer procedure (Tukey's HSD for unequal group sizes)" : "Tukey's HSD procedure",
+        "games_howell" => "the Games–Howell procedure, which does not pool the variances,",
+        "dunnett" => "Dunnett's comparisons with the control",
+        "holm" => "pooled-variance t tests with Holm's step-down adjustment",
+        "bonferroni" => "pooled-variance t tests with the Bonferroni adjustment",
+        _ => "Dunn's rank comparisons with Holm's adjustment",
+    };
+
+    private static string MethodsComparison(PostHocOutcome p, MethodsWriter w)
+    {
+        var f = p.Families[0];
+        var control = ((PostHocKind.Options)p.Block.Options!).Control;
+        var what = control is null
+            ? $"pairwise differences between the levels of {MethodsWriter.E(p.FactorLabel)}"
+            : $"the differences of each level of {MethodsWriter.E(p.FactorLabel)} from the control {MethodsWriter.E(control)}";
+        var method = MethodsName(f.Test, p).Replace(", which does not pool the variances,", " (variances not pooled)", StringComparison.Ordinal);
+        var text = w.Did(what, true, "tested", "tested", "test", $" with {method}, which {w.T("held", "holds")} the family-wise error rate at α = {w.AlphaText} over the {MethodsWriter.Df(p.Multiplicity[Stat.M])} comparisons");
+        var hasCi = f.Pairs.Count > 0 && f.Pairs[0].Values.ContainsKey("ci_low");
+        text += hasCi ? $", with simultaneous {w.Confidence}% intervals" : string.Empty;
+        text += p.Transformed ? "; differences are on the transformed scale." : ".";
+        return text;
+    }
+
+    private static IEnumerable<string> MethodsComparisonResults(PostHocOutcome p, MethodsWriter w)
+    {
+        foreach (var f in p.Families)
+        {
+            var differ = f.Pairs.Where(x => x.Pair.PAdjusted.IsDefined && x.Pair.PAdjusted.Value < w.Outcome.Alpha).ToList();
+            var name = f.Test == "dunn" ? "In Dunn's rank comparisons" : $"In the comparisons of {MethodsWriter.E(p.FactorLabel)}";
+            if (differ.Count == 0)
+            {
+                yield return $"{name}, no pair {w.T("differed", "differs")} at the family-wise level α = {w.AlphaText}; this does not show that the levels are equal.";
+                continue;
+            }
+
+            var items = differ.Select(x => $"{MethodsWriter.E(x.Pair.LevelA)} − {MethodsWriter.E(x.Pair.LevelB)} ({MethodsPair(f.Test, x.Values, w)})");
+            var text = $"{name}, {(differ.Count == f.Pairs.Count ? "every pair " + w.T("differed", "differs") : "these pairs " + w.T("differed", "differ"))} at the family-wise level α = {w.AlphaText}: {string.Join("; ", items)}.";
+            if (differ.Count < f.Pairs.Count)
+            {
+                text += $" The other pairs {w.T("were", "are")} not distinguished, which does not show that they are equal.";
+            }
+
+            yield return text;
+        }
+    }
+
+    private static string MethodsPair(string test, Dictionary<string, ResultValue> v, MethodsWriter w)
+    {
+        var text = test == "dunn" ? $"difference in mean rank = {MethodsWriter.S2(v[Stat.Diff])}" : $"difference = {MethodsWriter.S2(v[Stat.Diff])}";
+        if (v.TryGetValue("ci_low", out var lo) && v.TryGetValue("ci_high", out var hi))
+        {
+            text += $", {w.Confidence}% CI [{MethodsWriter.S2(lo)}, {MethodsWriter.S2(hi)}]";
+        }
+
+        return text + ", " + ReportStyle.PPhrase(v[Stat.PAdj], "adjusted p");
+    }
+
     public override void Render(HtmlWriter html, BlockOutcome outcome, RenderContext context)
     {
         var o = (PostHocOutcome)outcome;

@@ -28,6 +28,43 @@ public sealed class PowerRenderer : KindRenderer
         }
     }
 
+    /// <summary>The power calculation's sentence in a methods paragraph; observed power only as a caution.</summary>
+    public override IEnumerable<string> Methods(MethodsPart part, MethodsSection? section, BlockOutcome outcome, MethodsWriter w)
+    {
+        var p = (PowerOutcome)outcome;
+        return part switch
+        {
+            MethodsPart.Results when w.Has("effects") && !p.Observed => [MethodsSentence(p, w)],
+            MethodsPart.Cautions when section is not null => MethodsObserved(p),
+            _ => [],
+        };
+    }
+
+    private static IEnumerable<string> MethodsObserved(PowerOutcome p)
+    {
+        foreach (var _ in new[] { p }.Where(p => p.Observed))
+        {
+            yield return "A power calculated from the observed effect (\"observed power\") is a function of the p-value and adds nothing to it; it is left out here. Plan power from an effect size chosen for its practical importance.";
+        }
+    }
+
+    private static string MethodsSentence(PowerOutcome p, MethodsWriter w)
+    {
+        var text = $"For a one-way F test with {MethodsWriter.Words(p.Groups)} groups at α = {Sentences.AlphaText(p.Alpha)}";
+        if (p.Values.TryGetValue("power", out var pw))
+        {
+            text += $" and an effect of Cohen's f = {MethodsWriter.S2(p.Values[Stat.EffectF])}, {MethodsWriter.Df(p.Values[Stat.NPerGroup])} observations per group {w.T("gave", "give")} a power of {MethodsWriter.Fr(pw)}";
+        }
+
+        if (p.Required.TryGetValue("n_per_group", out var need))
+        {
+            text += (p.Values.Count > 0 ? "; " : $" and an effect of Cohen's f = {MethodsWriter.S2(p.Required[Stat.EffectF])}, ")
+                + $"{MethodsWriter.Df(need)} per group ({MethodsWriter.Df(p.Required[Stat.NTotal])} in all) would give a power of {MethodsWriter.Fr(p.Required[Stat.Power])}";
+        }
+
+        return text + ".";
+    }
+
     public override void Render(HtmlWriter html, BlockOutcome outcome, RenderContext context)
     {
         var o = (PowerOutcome)outcome;

@@ -28,6 +28,18 @@ public sealed class RanksRenderer : KindRenderer
         }
     }
 
+    /// <summary>The rank test's sentence in a methods paragraph.</summary>
+    public override IEnumerable<string> Methods(MethodsPart part, MethodsSection? section, BlockOutcome outcome, MethodsWriter w) =>
+        part == MethodsPart.Results && w.Has("effects") ? [MethodsSentence((RanksOutcome)outcome, w)] : [];
+
+    private static string MethodsSentence(RanksOutcome r, MethodsWriter w)
+    {
+        var t = r.Test!;
+        var rejected = t[Stat.P].Value.IsDefined && t[Stat.P].Value.Value < w.Outcome.Alpha;
+        return w.Did($"a Kruskal–Wallis rank test across the levels of {MethodsWriter.E(r.FactorLabel)}, with Dunn's pairwise comparisons (Holm-adjusted),", false, "run", "ran", "run", ".")
+            + $" It {(rejected ? w.T("rejected", "rejects") : w.T("did not reject", "does not reject"))} the hypothesis that the groups come from one distribution, H({MethodsWriter.Df(t[Stat.Df])}) = {MethodsWriter.S2(t[Stat.H])}, {ReportStyle.PPhrase(t[Stat.P])}.";
+    }
+
     public override void Render(HtmlWriter html, BlockOutcome outcome, RenderContext context)
     {
         var o = (RanksOutcome)outcome;

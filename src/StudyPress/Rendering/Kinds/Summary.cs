@@ -18,6 +18,12 @@ public sealed class SummaryRenderer : KindRenderer
 
     public override string Kind => "summary";
 
+    /// <summary>The summaries' sentence in a methods paragraph (written once, however many summary blocks).</summary>
+    public override IEnumerable<string> Methods(MethodsPart part, MethodsSection? section, BlockOutcome outcome, MethodsWriter w) =>
+        part == MethodsPart.Descriptives && w.Has("design")
+            ? [w.Did("descriptive statistics by group (n, mean, SD, standard error, confidence interval of the mean, median, quartiles and range)", true, "computed", "computed", "compute", ".")]
+            : [];
+
     public override void Render(HtmlWriter html, BlockOutcome outcome, RenderContext context)
     {
         var o = (SummaryOutcome)outcome;
