@@ -45,6 +45,9 @@ public sealed class MethodsOutcome(BoundBlock block) : BlockOutcome(block)
     /// <summary>Power blocks not tied to an anova block.</summary>
     public List<PowerOutcome> Powers { get; } = [];
 
+    /// <summary>Covered blocks of the other kinds (their renderers contribute their own sentences), in line order.</summary>
+    public List<BlockOutcome> Others { get; } = [];
+
     /// <summary>Datasets the covered blocks read, with traced row counts.</summary>
     public List<(MethodsLoadedDatasetView Dataset, ResultValue Rows, ResultValue RowsUsed)> Inputs { get; } = [];
 
@@ -147,6 +150,12 @@ public sealed class MethodsEvaluator : KindEvaluator
                     break;
                 case RanksOutcome r when r.Test is not null:
                     outcome.Ranks.Add(r);
+                    break;
+                case AnovaOutcome or AssumptionsOutcome or PostHocOutcome or PowerOutcome or SummaryOutcome or RanksOutcome:
+                    break;
+                case var other when other.GetType() != typeof(BlockOutcome):
+                    // A block that failed has a plain outcome and nothing to say.
+                    outcome.Others.Add(other);
                     break;
             }
         }

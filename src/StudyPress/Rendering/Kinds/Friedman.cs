@@ -14,6 +14,21 @@ public sealed class FriedmanRenderer : KindRenderer
 
     public override string Kind => "friedman";
 
+    /// <summary>The sentence a methods paragraph gives this test.</summary>
+    public override IEnumerable<string> Methods(MethodsPart part, MethodsSection? section, BlockOutcome outcome, MethodsWriter w)
+    {
+        if (part != MethodsPart.Results || !w.Has("effects") || outcome is not FriedmanOutcome { Test: { } t, ImanDavenport: { } id } o)
+        {
+            yield break;
+        }
+
+        var rejected = t[Stat.P].Value is { IsDefined: true } p && p.Value < w.Outcome.Alpha;
+        var pairs = o.PairTest == TestName.Nemenyi ? "Nemenyi's comparisons of mean ranks" : "Conover's comparisons of mean ranks (Holm-adjusted)";
+        yield return w.Did($"a Friedman rank test of {MethodsWriter.E(o.TreatmentLabel)} within {MethodsWriter.Df(t[Stat.NBlocks])} complete blocks of {MethodsWriter.E(o.BlocksLabel)}, with {pairs},", false, "run", "ran", "run", ".")
+            + $" It {(rejected ? w.T("rejected", "rejects") : w.T("did not reject", "does not reject"))} the hypothesis that the treatments are ranked alike within blocks, χ²({MethodsWriter.Df(t[Stat.Df])}) = {MethodsWriter.S2(t[Stat.Chi2])}, {ReportStyle.PPhrase(t[Stat.P])}, Kendall's W = {MethodsWriter.Fr(t[Stat.KendallW])}; the Iman–Davenport F({MethodsWriter.Df(id[Stat.Df1])}, {MethodsWriter.Df(id[Stat.Df2])}) = {MethodsWriter.S2(id[Stat.F])}, {ReportStyle.PPhrase(id[Stat.P])}."
+            + (rejected ? string.Empty : " This is not evidence that the treatments act alike.");
+    }
+
     public override IEnumerable<string> Warnings(BlockOutcome outcome, RenderContext context)
     {
         // Common practice (no single source): the chi-square approximation is poor with few blocks;

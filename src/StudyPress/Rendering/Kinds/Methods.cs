@@ -95,7 +95,7 @@ internal sealed class MethodsText(MethodsOutcome o, MethodsKind.Options options)
             other.AddRange(From(MethodsPart.Descriptives, null, o.Summaries[0]));
         }
 
-        other.AddRange(o.Ranks.Concat<BlockOutcome>(o.Powers).SelectMany(b => From(MethodsPart.Results, null, b)));
+        other.AddRange(o.Ranks.Concat<BlockOutcome>(o.Powers).Concat(o.Others).SelectMany(b => From(MethodsPart.Results, null, b)));
         if (other.Count > 0)
         {
             yield return ("results", string.Join(" ", other));
