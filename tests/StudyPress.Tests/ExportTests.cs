@@ -419,3 +419,41 @@ public sealed class TexFactAttribute : FactAttribute
         return (p.ExitCode, output + err.Result);
     }
 }
+
+/// <summary>Level names with LaTeX's special characters, accents and another script: the LaTeX still compiles and the docx still validates.</summary>
+[Collection("cli")]
+public sealed class ExportAwkwardNamesTests
+{
+    private const string Csv = "plot,dose,y\n1,a&b_1,1.0\n2,a&b_1,2.0\n3,a&b_1,1.5\n4,50%,3.5\n5,50%,4.0\n6,50%,4.4\n7,café {x} #2,5.5\n8,café {x} #2,6.0\n9,café {x} #2,5.1\n10,\\end ~^$,2.0\n11,\\end ~^$,2.5\n12,\\end ~^$,2.2\n";
+
+    private const string Study = "---\ntitle: \"Dose & response: 100% _odd_ names\"\ndata: data.csv\nresponse: y\nfactors:\n  dose:\n---\n\n# Results & more\n\nText with 50% and a_b.\n\n```summary s\n```\n\n```anova main\n```\n\n```posthoc pairs\nof: main\n```\n\n```methods\n```\n";
+
+    [TexFact]
+    public void SpecialCharactersInNames_CompileAndValidate()
+    {
+        using var run = new StudyRun().Study(Study).File("data.csv", Csv);
+        var (exit, _, err) = run.Cli("build", "study.md", "--docx", "r.docx", "--latex", "tex", "--quiet");
+        Assert.True(exit == 0, err);
+
+        using (var doc = WordprocessingDocument.Open(Path.Combine(run.Folder, "r.docx"), false))
+        {
+            var errors = new OpenXmlValidator(DocumentFormat.OpenXml.FileFormatVersions.Office2019).Validate(doc).ToList();
+            Assert.True(errors.Count == 0, string.Join("\n", errors.Take(20).Select(e => $"{e.Path?.XPath}: {e.Description}")));
+            Assert.Contains("a&b_1", doc.MainDocumentPart!.Document!.Body!.InnerText, StringComparison.Ordinal);
+        }
+
+        var tex = File.ReadAllText(Path.Combine(run.Folder, "tex", "study", "results.tex"));
+        Assert.Contains("a\\&b\\_1", tex, StringComparison.Ordinal);
+        Assert.Contains("\\newcommand\\spSSummaryDoseABOneMean{", tex, StringComparison.Ordinal);
+        var body = new StringBuilder();
+        foreach (Match m in Regex.Matches(tex, @"\\newcommand\\(?<name>sp[A-Za-z]+)"))
+        {
+            var name = m.Groups["name"].Value;
+            body.Append(Regex.IsMatch(name, "TableB*$") ? "\\" + name + "\n\n" : Regex.IsMatch(name, "FigureB*$") ? string.Empty : "\\" + name + "{}\n\n");
+        }
+
+        File.WriteAllText(Path.Combine(run.Folder, "tex", "study", "paper.tex"), "\\documentclass{article}\n\\usepackage{booktabs}\n\\usepackage{graphicx}\n\\input{results.tex}\n\\begin{document}\n" + body + "\\end{document}\n");
+        var (texExit, log) = TexFactAttribute.Run(Path.Combine(run.Folder, "tex", "study"), "paper.tex");
+        Assert.True(texExit == 0, log.Length > 4000 ? log[^4000..] : log);
+    }
+}
