@@ -374,6 +374,25 @@ public sealed partial class ExportTests
             File.ReadAllText(Path.Combine(run.Folder, "tex", "sites", "south", "study", "results.tex")));
     }
 
+    [Fact]
+    public void LatexFolderCannotBeWritten_LeavesReportAndDocxUntouched()
+    {
+        using var run = new StudyRun().Study(SmallStudy).File("data.csv", SmallCsv);
+        Assert.Equal(0, run.Cli("build", "study.md", "--docx", "r.docx", "--quiet").Exit);
+        var report = File.ReadAllBytes(run.ReportPath);
+        var docx = File.ReadAllBytes(Path.Combine(run.Folder, "r.docx"));
+
+        // The study's LaTeX folder is taken by a file: the fragment cannot be written, so nothing may change.
+        run.File("tex/study", "not a folder");
+        run.Study(SmallStudy.Replace("Text.", "Changed text.", StringComparison.Ordinal));
+        var (exit, _, err) = run.Cli("build", "study.md", "--docx", "r.docx", "--latex", "tex", "--quiet");
+        Assert.Equal(2, exit);
+        Assert.Contains("cannot write the report", err, StringComparison.Ordinal);
+        Assert.Equal(report, File.ReadAllBytes(run.ReportPath));
+        Assert.Equal(docx, File.ReadAllBytes(Path.Combine(run.Folder, "r.docx")));
+        Assert.Empty(Directory.GetFiles(run.Folder, "*.tmp", SearchOption.AllDirectories));
+    }
+
     [GeneratedRegex(@"^\\newcommand\\(?<name>sp[A-Za-z]+)\{(?<body>[^\n]*)\}% (?<id>v[0-9]+) ", RegexOptions.Multiline)]
     private static partial Regex ValueMacro();
 }
