@@ -195,6 +195,60 @@ public sealed partial class ExportTests
         Assert.All(a, f => Assert.Equal(File.ReadAllBytes(Path.Combine(First.Value.TexFolder, f!)), File.ReadAllBytes(Path.Combine(second.TexFolder, f!))));
     }
 
+    [Fact]
+    public void DocxAndLatex_LocaleAndTimeZone_DoNotChangeABit()
+    {
+        // Two child processes: a German locale in India's time zone, and the C locale in UTC.
+        var a = ChildBuild([("LANG", "de_DE.UTF-8"), ("LC_ALL", "de_DE.UTF-8"), ("TZ", "Asia/Kolkata")]);
+        var b = ChildBuild([("LANG", "C"), ("LC_ALL", "C"), ("TZ", "UTC")]);
+        try
+        {
+            Assert.Equal(File.ReadAllBytes(Path.Combine(a, "r.docx")), File.ReadAllBytes(Path.Combine(b, "r.docx")));
+            Assert.Equal(File.ReadAllBytes(Path.Combine(a, "tex", "study", "results.tex")), File.ReadAllBytes(Path.Combine(b, "tex", "study", "results.tex")));
+        }
+        finally
+        {
+            Directory.Delete(a, recursive: true);
+            Directory.Delete(b, recursive: true);
+        }
+    }
+
+    private static string ChildBuild((string Name, string Value)[] environment)
+    {
+        var folder = Path.Combine(Path.GetTempPath(), "studypress-tests", "export-child-" + Guid.NewGuid().ToString("N"));
+        Directory.CreateDirectory(folder);
+        foreach (var file in Directory.GetFiles(Example, "*", SearchOption.AllDirectories).Where(f => f.EndsWith(".md", StringComparison.Ordinal) || f.Contains("/data/", StringComparison.Ordinal)))
+        {
+            var target = Path.Combine(folder, Path.GetRelativePath(Example, file));
+            Directory.CreateDirectory(Path.GetDirectoryName(target)!);
+            File.Copy(file, target);
+        }
+
+        var start = new ProcessStartInfo("dotnet") { WorkingDirectory = folder, RedirectStandardOutput = true, RedirectStandardError = true, UseShellExecute = false };
+        foreach (var arg in new[] { Path.Combine(AppContext.BaseDirectory, "studypress.dll"), "build", "study.md", "--docx", "r.docx", "--latex", "tex", "--quiet" })
+        {
+            start.ArgumentList.Add(arg);
+        }
+
+        start.Environment.Remove("SOURCE_DATE_EPOCH");
+        foreach (var (name, value) in environment)
+        {
+            start.Environment[name] = value;
+        }
+
+        using var process = Process.Start(start)!;
+        var stdout = process.StandardOutput.ReadToEndAsync();
+        var stderr = process.StandardError.ReadToEndAsync();
+        if (!process.WaitForExit(TimeSpan.FromMinutes(2)))
+        {
+            process.Kill(entireProcessTree: true);
+            Assert.Fail("the child build did not finish within two minutes");
+        }
+
+        Assert.True(process.ExitCode == 0, $"exit {process.ExitCode}: {stdout.Result}{stderr.Result}");
+        return folder;
+    }
+
     // ---- LaTeX ----
 
     [Fact]
