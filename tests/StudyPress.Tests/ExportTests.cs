@@ -530,3 +530,79 @@ public sealed class ExportAwkwardNamesTests
         Assert.True(texExit == 0, log.Length > 4000 ? log[^4000..] : log);
     }
 }
+
+/// <summary>Every example and every kind's golden case: the docx validates, and the LaTeX fragment, with every macro used, compiles.</summary>
+[Collection("cli")]
+public sealed class ExportAllStudiesTests
+{
+    public static TheoryData<string> Studies()
+    {
+        var data = new TheoryData<string>();
+        foreach (var dir in Directory.GetDirectories(Path.Combine(Repository.Root, "examples")).Order(StringComparer.Ordinal))
+        {
+            data.Add(Path.Combine("examples", Path.GetFileName(dir)));
+        }
+
+        foreach (var dir in Directory.GetDirectories(Path.Combine(Repository.Root, "tests", "StudyPress.Tests", "Cases", "kinds")).Order(StringComparer.Ordinal))
+        {
+            data.Add(Path.Combine("tests", "StudyPress.Tests", "Cases", "kinds", Path.GetFileName(dir)));
+        }
+
+        return data;
+    }
+
+    [Theory]
+    [MemberData(nameof(Studies))]
+    public void Study_DocxValidatesAndLatexCompiles(string folder)
+    {
+        var out_ = Path.Combine(Path.GetTempPath(), "studypress-tests", "export-all-" + Guid.NewGuid().ToString("N"));
+        Directory.CreateDirectory(out_);
+        var previous = Directory.GetCurrentDirectory();
+        try
+        {
+            Directory.SetCurrentDirectory(Path.Combine(Repository.Root, folder));
+            var o = new StringWriter();
+            var e = new StringWriter();
+            var exit = StudyPress.Cli.StudyPressCommand.Run(["build", "study.md", "--out", out_, "--docx", Path.Combine(out_, "r.docx"), "--latex", Path.Combine(out_, "tex"), "--quiet"], o, e);
+            Assert.True(exit == 0, e.ToString());
+        }
+        finally
+        {
+            Directory.SetCurrentDirectory(previous);
+        }
+
+        try
+        {
+            using (var doc = WordprocessingDocument.Open(Path.Combine(out_, "r.docx"), false))
+            {
+                var errors = new OpenXmlValidator(DocumentFormat.OpenXml.FileFormatVersions.Office2019).Validate(doc).ToList();
+                Assert.True(errors.Count == 0, string.Join("\n", errors.Take(20).Select(x => $"{x.Path?.XPath}: {x.Description}")));
+            }
+
+            if (TexFactAttribute.Pdflatex is null && !string.Equals(Environment.GetEnvironmentVariable("CI"), "true", StringComparison.OrdinalIgnoreCase))
+            {
+                return;
+            }
+
+            var dir = Path.Combine(out_, "tex", "study");
+            var tex = File.ReadAllText(Path.Combine(dir, "results.tex"));
+            var body = new StringBuilder();
+            foreach (Match m in Regex.Matches(tex, @"\\newcommand\\(?<name>sp[A-Za-z]+)"))
+            {
+                var name = m.Groups["name"].Value;
+                body.Append(name.EndsWith("Caption", StringComparison.Ordinal) ? string.Empty
+                    : Regex.IsMatch(name, "TableB*$") ? "\\begin{table}[htbp]\\caption{\\" + name + "Caption}\\resizebox{\\linewidth}{!}{\\" + name + "}\\end{table}\n"
+                    : Regex.IsMatch(name, "FigureB*$") ? "\\begin{figure}[htbp]\\" + name + "\\caption{\\" + name + "Caption}\\end{figure}\n"
+                    : "\\" + name + "{}\n\n");
+            }
+
+            File.WriteAllText(Path.Combine(dir, "paper.tex"), "\\documentclass{article}\n\\usepackage{booktabs}\n\\usepackage{graphicx}\n\\input{results.tex}\n\\begin{document}\n" + body + "\\end{document}\n");
+            var (texExit, log) = TexFactAttribute.Run(dir, "paper.tex");
+            Assert.True(texExit == 0, log.Length > 4000 ? log[^4000..] : log);
+        }
+        finally
+        {
+            Directory.Delete(out_, recursive: true);
+        }
+    }
+}
