@@ -119,7 +119,7 @@ public static class StudyBuilder
 
         if (docxPath is not null)
         {
-            outputs.Add(docxPath, Rendering.Export.ReportExports.Docx(result.Html!, [.. result.Figures.Select((f, i) => (f.Figure.Type, pngs[i].Value))]));
+            outputs.Add(docxPath, Rendering.Export.ReportExports.Docx(result.Html!, result.ManifestJson!, [.. result.Figures.Select((f, i) => (f.Figure.Type, pngs[i].Value))]));
         }
 
         if (latexDir is not null)

@@ -163,6 +163,18 @@ public sealed partial class ExportTests
     }
 
     [Fact]
+    public void Docx_CarriesTheManifest()
+    {
+        using var stream = new MemoryStream(First.Value.Docx);
+        using var doc = WordprocessingDocument.Open(stream, false);
+        var part = Assert.Single(doc.MainDocumentPart!.CustomXmlParts);
+        using var s = part.GetStream();
+        var xml = System.Xml.Linq.XDocument.Load(s);
+        Assert.Equal(System.Xml.Linq.XName.Get("manifest", DocxWriter.ManifestNamespace), xml.Root!.Name);
+        Assert.Equal(Encoding.UTF8.GetString(First.Value.Manifest), xml.Root.Value);
+    }
+
+    [Fact]
     public void Docx_FiguresAreTheChartPngsWithCaptions()
     {
         using var zip = new ZipArchive(new MemoryStream(First.Value.Docx));

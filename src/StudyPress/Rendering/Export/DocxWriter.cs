@@ -27,8 +27,12 @@ public static class DocxWriter
     /// <summary>The widest a figure is drawn: the text width of an A4 page with 1-inch margins, rounded down to 6 inches.</summary>
     private const long MaxFigureWidth = 6 * EmuPerInch;
 
+    /// <summary>The namespace of the custom XML part that carries the results manifest.</summary>
+    public const string ManifestNamespace = "urn:studypress:results-manifest";
+
     /// <param name="figures">Each figure's PNG bytes, in the report's figure order.</param>
-    public static byte[] Write(ReportDocument report, IReadOnlyList<byte[]> figures)
+    /// <param name="manifest">The results manifest (JSON), kept in the document as a custom XML part so the document can be compared with a later build on its own.</param>
+    public static byte[] Write(ReportDocument report, IReadOnlyList<byte[]> figures, byte[]? manifest = null)
     {
         using var package = new MemoryStream();
         using (var doc = WordprocessingDocument.Create(package, WordprocessingDocumentType.Document, autoSave: true))
@@ -50,6 +54,17 @@ public static class DocxWriter
                 new PageSize { Width = 11906U, Height = 16838U },
                 new PageMargin { Top = 1440, Right = 1440U, Bottom = 1440, Left = 1440U, Header = 708U, Footer = 708U, Gutter = 0U }));
             main.Document = new Document(body);
+            if (manifest is not null)
+            {
+                var custom = main.AddNewPart<CustomXmlPart>("application/xml", "rIdManifest");
+                var xml = new System.Xml.Linq.XDocument(new System.Xml.Linq.XElement(
+                    System.Xml.Linq.XName.Get("manifest", ManifestNamespace),
+                    new System.Xml.Linq.XAttribute("format", "application/json"),
+                    System.Text.Encoding.UTF8.GetString(manifest)));
+                using var stream = custom.GetStream(FileMode.Create, FileAccess.Write);
+                using var writer = System.Xml.XmlWriter.Create(stream, new System.Xml.XmlWriterSettings { Encoding = new System.Text.UTF8Encoding(false), NewLineChars = "\n" });
+                xml.Save(writer);
+            }
         }
 
         return Normalize(package.ToArray());

@@ -9,11 +9,12 @@ public static class ReportExports
 {
     /// <summary>The report as a .docx file.</summary>
     /// <param name="figures">The compilation's figures in order: chart type and PNG bytes.</param>
-    public static byte[] Docx(string html, IReadOnlyList<(string Type, byte[] Png)> figures)
+    /// <param name="manifest">The results manifest, kept inside the document (see <see cref="DocxWriter"/>).</param>
+    public static byte[] Docx(string html, byte[] manifest, IReadOnlyList<(string Type, byte[] Png)> figures)
     {
         var report = ReportDocument.Read(html);
         Check(report, figures.Select(f => f.Type).ToList());
-        return DocxWriter.Write(report, [.. figures.Select(f => f.Png)]);
+        return DocxWriter.Write(report, [.. figures.Select(f => f.Png)], manifest);
     }
 
     /// <summary>The LaTeX fragment (<see cref="LatexWriter.FragmentName"/>) and the figure files to put beside it, by file name.</summary>
