@@ -18,6 +18,12 @@ public sealed record BuildRequest(IReadOnlyList<string> Paths, string? OutDir, s
     /// <summary>Folder for the figures as PNG files, or null.</summary>
     public string? FiguresDir { get; init; }
 
+    /// <summary>The Word document (one study) or the folder of Word documents (several), or null; see <see cref="ExportTargets"/>.</summary>
+    public string? Docx { get; init; }
+
+    /// <summary>The folder for the LaTeX fragments and their figures, or null; see <see cref="ExportTargets"/>.</summary>
+    public string? Latex { get; init; }
+
     /// <summary>Stdout is a terminal: show one updating progress line for several studies.</summary>
     public bool Interactive { get; init; }
 }
@@ -35,7 +41,7 @@ public sealed record StudyBuild(string Study, StudyOutcome Outcome, string Outpu
 /// <summary>Builds one study: cache check, compile, write report (and manifest, figures), record in the cache.</summary>
 public static class StudyBuilder
 {
-    public static StudyBuild Build(string study, CompileOptions options, bool useCache, string? jsonPath = null, string? figuresDir = null)
+    public static StudyBuild Build(string study, CompileOptions options, bool useCache, string? jsonPath = null, string? figuresDir = null, string? docxPath = null, string? latexDir = null)
     {
         var outputPath = Compilation.OutputPathFor(study, options);
         if (useCache && BuildCache.IsUpToDate(study, outputPath, options))
@@ -53,7 +59,7 @@ public static class StudyBuilder
         byte[] html;
         try
         {
-            html = Write(result, jsonPath, figuresDir);
+            html = Write(result, jsonPath, figuresDir, docxPath, latexDir);
         }
         catch (Exception e) when (e is IOException or UnauthorizedAccessException)
         {
@@ -75,11 +81,13 @@ public static class StudyBuilder
     }
 
     /// <summary>
-    /// Commits a compiled study's report, its manifest (<paramref name="jsonPath"/>) and PNG figures
-    /// (<paramref name="figuresDir"/>, the study's own figure folder) together or not at all; returns
-    /// the report's bytes. An incomplete report is a bug and is refused before anything is written.
+    /// Commits a compiled study's report, its manifest (<paramref name="jsonPath"/>), PNG figures
+    /// (<paramref name="figuresDir"/>, the study's own figure folder), Word document
+    /// (<paramref name="docxPath"/>) and LaTeX fragment with its figures (<paramref name="latexDir"/>,
+    /// the study's own folder) together or not at all; returns the report's bytes. An incomplete
+    /// report is a bug and is refused before anything is written.
     /// </summary>
-    public static byte[] Write(CompilationResult result, string? jsonPath, string? figuresDir)
+    public static byte[] Write(CompilationResult result, string? jsonPath, string? figuresDir, string? docxPath = null, string? latexDir = null)
     {
         // Refuse to commit a report that is not whole (a bug, never the user's input): nothing is written.
         if (ReportIntegrity.Problem(result.Html!) is { } incomplete)
@@ -89,11 +97,46 @@ public static class StudyBuilder
 
         var html = System.Text.Encoding.UTF8.GetBytes(result.Html!);
         var outputs = new OutputSet();
+
+        // Each figure is drawn as PNG once, for whichever outputs want it.
+        var pngs = new Lazy<byte[]>[result.Figures.Count];
+        for (var i = 0; i < pngs.Length; i++)
+        {
+            var chart = result.Figures[i].Figure.Chart;
+            pngs[i] = new Lazy<byte[]>(chart.ToPng);
+        }
+
+        var added = new HashSet<string>(StringComparer.Ordinal);
         if (figuresDir is not null)
         {
-            foreach (var (name, figure) in result.Figures)
+            for (var i = 0; i < result.Figures.Count; i++)
             {
-                outputs.Add(FigurePaths.Inside(figuresDir, name), figure.Chart.ToPng());
+                var path = FigurePaths.Inside(figuresDir, result.Figures[i].FileName);
+                outputs.Add(path, pngs[i].Value);
+                added.Add(path);
+            }
+        }
+
+        if (docxPath is not null)
+        {
+            outputs.Add(docxPath, Rendering.Export.ReportExports.Docx(result.Html!, result.ManifestJson!, [.. result.Figures.Select((f, i) => (f.Figure.Type, pngs[i].Value))]));
+        }
+
+        if (latexDir is not null)
+        {
+            var files = Rendering.Export.ReportExports.Latex(
+                result.Html!,
+                result.ManifestJson!,
+                result.NumberFormat!,
+                [.. result.Figures.Select((f, i) => (f.FileName, f.Figure.Type, pngs[i].Value))]);
+            foreach (var (name, bytes) in files)
+            {
+                // --figures and --latex may name one folder: its PNG files are then written once.
+                var path = FigurePaths.Inside(latexDir, name);
+                if (added.Add(path))
+                {
+                    outputs.Add(path, bytes);
+                }
             }
         }
 
@@ -217,6 +260,18 @@ public static class BuildCommand
             }
         }
 
+        var exportBag = new DiagnosticBag();
+        var exports = ExportTargets.Resolve(studies, request.Docx, request.Latex, options, request.Json, exportBag);
+        if (exports is null)
+        {
+            foreach (var d in exportBag.Sorted())
+            {
+                stderr.WriteLine(UnsafeText.Escape(d.ToString()));
+            }
+
+            return StudyPressCommand.BadInput;
+        }
+
         var progress = new Progress(stdout, stderr, studies.Count, request.Quiet, request.Interactive && studies.Count > 1);
         var toBuild = new List<string>();
         foreach (var study in studies)
@@ -241,9 +296,9 @@ public static class BuildCommand
             toBuild.Add(study);
         }
 
-        // The cache is about the report only; a manifest or figures asked for are always written.
+        // The cache is about the report only; a manifest, figures, Word or LaTeX asked for are always written.
         var internalErrors = 0;
-        var useCache = !request.Force && request.Json is null && request.FiguresDir is null;
+        var useCache = !request.Force && request.Json is null && request.FiguresDir is null && request.Docx is null && request.Latex is null;
         Parallel.ForEach(
             toBuild,
             new ParallelOptions { MaxDegreeOfParallelism = request.Jobs ?? Environment.ProcessorCount },
@@ -252,7 +307,7 @@ public static class BuildCommand
                 StudyBuild outcome;
                 try
                 {
-                    outcome = StudyBuilder.Build(study, options, useCache, request.Json, request.FiguresDir is null ? null : figureFolders[study]);
+                    outcome = StudyBuilder.Build(study, options, useCache, request.Json, request.FiguresDir is null ? null : figureFolders[study], exports[study].Docx, exports[study].Latex);
                 }
                 catch (Exception e)
                 {

@@ -79,7 +79,7 @@ public static class StudyPressCommand
         return false;
     }
 
-    private static readonly string[] KnownOptions = ["--out", "--json", "--jobs", "--force", "--pin", "--figures", "--quiet", "--allow-outside-data", "--recompute", "--help", "--version"];
+    private static readonly string[] KnownOptions = ["--out", "--json", "--jobs", "--force", "--pin", "--figures", "--docx", "--latex", "--quiet", "--allow-outside-data", "--recompute", "--help", "--version"];
 
     private static RootCommand BuildRoot(TextWriter stdout, TextWriter stderr, bool interactive)
     {
@@ -104,9 +104,11 @@ public static class StudyPressCommand
         var force = new Option<bool>("--force") { Description = "Rebuild every study, even those whose report is up to date." };
         var pin = new Option<bool>("--pin") { Description = "First write each input's current SHA-256 into the study header (data.NAME.sha256), then build." };
         var figures = new Option<string?>("--figures") { HelpName = "DIR", Description = "Also write each figure as a PNG file into this folder." };
+        var docx = new Option<string?>("--docx") { HelpName = "FILE", Description = "Also write the report as a Word document (.docx); with several studies, FILE is a folder and each study gets STUDY.docx in it." };
+        var latex = new Option<string?>("--latex") { HelpName = "DIR", Description = "Also write a LaTeX fragment to \\input (a macro per value, booktabs tables, figures as PNG) into DIR/STUDY/results.tex." };
         var build = new Command("build", "Compile study files into HTML reports; a folder builds every study under it, skipping those that are up to date.");
         build.Arguments.Add(paths);
-        foreach (var o in new Option[] { outDir, json, jobs, force, pin, figures, quiet, allowOutside })
+        foreach (var o in new Option[] { outDir, json, jobs, force, pin, figures, docx, latex, quiet, allowOutside })
         {
             build.Options.Add(o);
         }
@@ -118,6 +120,8 @@ public static class StudyPressCommand
                 Force = pr.GetValue(force),
                 Pin = pr.GetValue(pin),
                 FiguresDir = pr.GetValue(figures),
+                Docx = pr.GetValue(docx),
+                Latex = pr.GetValue(latex),
                 Interactive = interactive,
             },
             stdout,

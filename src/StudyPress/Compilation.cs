@@ -42,6 +42,9 @@ public sealed class CompilationResult
     /// <summary>The report's figures in order, with a file name for PNG export (block id and a running number).</summary>
     public IReadOnlyList<(string FileName, Figure Figure)> Figures { get; init; } = [];
 
+    /// <summary>How the report shows numbers (the study's <c>report:</c> settings); the exports show values the same way.</summary>
+    public NumberFormat? NumberFormat { get; init; }
+
     public bool Succeeded => Html is not null;
 }
 
@@ -64,7 +67,7 @@ public static class Compilation
     {
         var diagnostics = new DiagnosticBag();
         var outputPath = OutputPathFor(studyPath, options);
-        var html = Run(studyPath, outputPath, options, diagnostics, out var manifest, out var figures);
+        var html = Run(studyPath, outputPath, options, diagnostics, out var manifest, out var figures, out var format);
         if (!diagnostics.HasErrors && html is not null && manifest is not null)
         {
             BuildCapture.Keep(studyPath, outputPath, options, manifest, html);
@@ -78,13 +81,15 @@ public static class Compilation
             Html = diagnostics.HasErrors ? null : html,
             ManifestJson = diagnostics.HasErrors ? null : manifest,
             Figures = diagnostics.HasErrors ? [] : figures,
+            NumberFormat = diagnostics.HasErrors ? null : format,
         };
     }
 
-    private static string? Run(string studyPath, string outputPath, CompileOptions options, DiagnosticBag diagnostics, out byte[]? manifest, out List<(string FileName, Figure Figure)> figures)
+    private static string? Run(string studyPath, string outputPath, CompileOptions options, DiagnosticBag diagnostics, out byte[]? manifest, out List<(string FileName, Figure Figure)> figures, out NumberFormat? format)
     {
         manifest = null;
         figures = [];
+        format = null;
         var display = studyPath;
         byte[] bytes;
         try
@@ -224,6 +229,7 @@ public static class Compilation
             ReportTemplate.Sha256,
             options.SourceDateEpoch is { } epoch ? DateTimeOffset.FromUnixTimeSeconds(epoch).UtcDateTime.ToString("yyyy-MM-dd'T'HH:mm:ss'Z'", System.Globalization.CultureInfo.InvariantCulture) : null);
         manifest = Manifest.Write(identity, inputs, context.Results);
+        format = new NumberFormat(header.Report.Digits, header.Report.PDigits);
         foreach (var block in blocks)
         {
             var n = 0;

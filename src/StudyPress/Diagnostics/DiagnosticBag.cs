@@ -503,6 +503,22 @@ public sealed class DiagnosticBag
 
     public void BadStudyId(SourceLocation at, string id) => Error("SP0603", at, $"study id {Q(id)} must start with a letter and use only letters, digits, '_' and '-' (it names the study's figure files)");
 
+    // ---- Word and LaTeX exports (SP0620-SP0639) ----
+    public void ExportFolderMissing(SourceLocation at, string option, string path, string folder) =>
+        Error("SP0620", at, $"{option} {Q(path)}: the folder {Q(folder)} does not exist; create it first or name another place");
+
+    public void ExportNotAFile(SourceLocation at, string path) =>
+        Error("SP0621", at, $"--docx {Q(path)} is a folder; name the Word file to write (for example {Q(System.IO.Path.Combine(path, "report.docx"))})");
+
+    public void ExportNotAFolder(SourceLocation at, string option, string path) =>
+        Error("SP0622", at, $"{option} {Q(path)} is a file, but it names the folder to write into; name a folder");
+
+    public void ExportWrongExtension(SourceLocation at, string path) =>
+        Error("SP0623", at, $"--docx {Q(path)} must end in '.docx' (the file is a Word document; this also keeps a typing slip from overwriting the study or its data)");
+
+    public void ExportCollision(SourceLocation at, string path, string first, string second) =>
+        Error("SP0624", at, $"{Q(path)} would be written twice, as {first} and as {second}; name different places");
+
     // ---- comparison of builds (SP07xx) ----
     public void DiffUnknownKind(SourceLocation at, string path) =>
         Error("SP0701", at, $"cannot compare {Q(path)}: name a report (.html), a results manifest (.json) or a study file (.md)");

@@ -99,6 +99,14 @@ internal static partial class UnicodeNfc
         return b.ToString();
     }
 
+    /// <summary>The first code point of a character's full canonical decomposition (its base letter: é → e).</summary>
+    public static int BaseOf(int cp)
+    {
+        var into = new List<int>(4);
+        Decompose(cp, Data.Value, into);
+        return into.Count == 0 ? cp : into[0];
+    }
+
     private static void Decompose(int cp, Tables t, List<int> into)
     {
         if (cp is >= SBase and < SBase + SCount)
