@@ -102,8 +102,8 @@ public sealed record StrataAnovaResult(
 /// </para>
 /// <para>
 /// Expected mean squares by the rules for balanced designs in the unrestricted mixed model
-/// (Searle, Casella and McCulloch 1992, Variance Components, section 4.6; Hicks and Turner 1999,
-/// Fundamental Concepts in the Design of Experiments, ch. 10): E MS(T) = σ² + Σ over random terms
+/// (Searle, Casella and McCulloch 1992, Variance Components, Wiley; Hicks and Turner 1999,
+/// Fundamental Concepts in the Design of Experiments, 5th ed., Oxford): E MS(T) = σ² + Σ over random terms
 /// U whose factors include T's of (n / cells(U)) σ²(U), plus (n / cells(T)) θ(T) for a fixed T.
 /// The error of T is the combination of mean squares whose expectation is E MS(T) without T's own
 /// component, found by a triangular solve over the random terms; when it is a single mean square

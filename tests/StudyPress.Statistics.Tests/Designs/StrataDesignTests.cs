@@ -60,6 +60,21 @@ public class StrataDesignTests
         Assert.Equal(StrataAnova.ResidualName, r.Row("treatment").Stratum);
     }
 
+    // Latin square rows (exact hand derivation of the general formula for t = 4): the other
+    // blocking factor stays, so RE(rows) = (MS_rows + (t − 1) MS_E) / (t MS_E), f1 = 6, f2 = 9.
+    [Fact]
+    public void LatinSquare_RelativeEfficiencyOfRows()
+    {
+        var r = StrataAnova.Fit([DesignFactor.Block("row"), DesignFactor.Block("column"), DesignFactor.Treatment("treatment")], LatinSquare());
+        var re = RelativeEfficiency.OfBlocking(r, "row");
+        var msR = r.Row("row").MeanSquare.Value;
+        var msE = r.Row(StrataAnova.ResidualName).MeanSquare.Value;
+        AssertRelative(re.Efficiency.Value, (msR + (3 * msE)) / (4 * msE), 1e-12, "RE rows");
+        Assert.Equal(9, re.DfWithoutBlocking);
+        AssertRelative(re.EfficiencyDfCorrected.Value, re.Efficiency.Value * 7 * 12 / (9.0 * 10), 1e-12, "corrected");
+        Assert.Equal(4, re.Replicates);
+    }
+
     // Fixed A (2) x random B (3) x random C (2), 2 replicates: no single mean square has A's null
     // expectation. Exact hand derivation (unrestricted model, n = 24, coefficient n / cells):
     // E MS(A) = σ² + 2 σ²(ABC) + 6 σ²(AC) + 4 σ²(AB) + 12 θ(A); the error is MS(A:B) + MS(A:C) − MS(A:B:C), with Satterthwaite df.
