@@ -125,7 +125,7 @@ public static class StrataAnova
     {
         ArgumentNullException.ThrowIfNull(factors);
         ArgumentNullException.ThrowIfNull(data);
-        return Build(factors, data, out _);
+        return Build(factors, data, requireBalance: true, out _);
     }
 
     /// <summary>Fits the strata ANOVA; throws <see cref="ArgumentException"/> when <see cref="Check"/> finds a problem.</summary>
@@ -133,7 +133,7 @@ public static class StrataAnova
     {
         ArgumentNullException.ThrowIfNull(factors);
         ArgumentNullException.ThrowIfNull(data);
-        var issue = Build(factors, data, out var model);
+        var issue = Build(factors, data, requireBalance: true, out var model);
         if (issue is not null)
         {
             throw new ArgumentException(issue.Message, nameof(data));
@@ -142,7 +142,7 @@ public static class StrataAnova
         return Analyse(model!, data.Response);
     }
 
-    private sealed class TermSpec
+    internal sealed class TermSpec
     {
         public required string Name { get; init; }
         public required int[] Factors { get; init; }
@@ -156,14 +156,18 @@ public static class StrataAnova
         public double Ss { get; set; }
     }
 
-    private sealed class Model
+    internal sealed class Model
     {
         public required IReadOnlyList<DesignFactor> Factors { get; init; }
         public required List<TermSpec> Terms { get; init; }
         public required int N { get; init; }
     }
 
-    private static DesignIssue? Build(IReadOnlyList<DesignFactor> factors, DesignData data, out Model? model)
+    /// <summary>
+    /// Checks the declaration and builds the model's terms (with their cells); with
+    /// <paramref name="requireBalance"/> also checks completeness and equal replication.
+    /// </summary>
+    internal static DesignIssue? Build(IReadOnlyList<DesignFactor> factors, DesignData data, bool requireBalance, out Model? model)
     {
         model = null;
         var k = factors.Count;
@@ -347,6 +351,12 @@ public static class StrataAnova
             }
 
             s.CellCounts = counts;
+        }
+
+        if (!requireBalance)
+        {
+            model = new Model { Factors = factors, Terms = specs, N = n };
+            return null;
         }
 
         // Completeness first (a missing combination is the clearer message), then equal replication,
