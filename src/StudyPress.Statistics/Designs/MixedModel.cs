@@ -224,10 +224,10 @@ public static class MixedModel
     {
         public required double LogLik { get; init; }
         public required Matrix<double> Q1 { get; init; }
+        public required Matrix<double> Q2 { get; init; }
         public required Matrix<double> R { get; init; }
         public required Vector<double> Py { get; init; }
-        public required Vector<double> Beta { get; init; }
-        public required Vector<double> CondResid { get; init; }
+        public required Vector<double> B { get; init; }
     }
 
     private static RemlResult Fit(Setup s, double[] yArr)
@@ -236,94 +236,133 @@ public static class MixedModel
         var n = x.RowCount;
         var p = x.ColumnCount;
         var m = s.Random.Count;
-        var y = Vector<double>.Build.DenseOfArray(yArr);
-        var z = s.Random.Select(t => Matrix<double>.Build.Dense(n, t.Cells, (i, j) => t.CellOf[i] == j ? 1 : 0)).ToList();
         var q = s.Random.Sum(t => t.Cells);
+        var yMean = Groups.Mean(yArr);
+        var y = Vector<double>.Build.Dense(n, i => yArr[i] - yMean); // REML is shift-invariant (intercept in X)
+
+        // Every quantity depends on [Z X y] only through its cross-products, so the n rows are
+        // replaced once by the R factor T of its QR (T'T = [Z X y]'[Z X y]); later QRs are of size q + p + 1.
+        var zStart = new int[m];
+        for (var r = 1; r < m; r++)
+        {
+            zStart[r] = zStart[r - 1] + s.Random[r - 1].Cells;
+        }
+
+        var a0 = Matrix<double>.Build.Dense(n, q + p + 1);
+        for (var r = 0; r < m; r++)
+        {
+            for (var i = 0; i < n; i++)
+            {
+                a0[i, zStart[r] + s.Random[r].CellOf[i]] = 1;
+            }
+        }
+
+        a0.SetSubMatrix(0, q, x);
+        a0.SetColumn(q + p, y);
+        var tm = n > q + p + 1 ? a0.QR(MathNet.Numerics.LinearAlgebra.Factorization.QRMethod.Thin).R : a0;
+        var rowsT = tm.RowCount;
+        var tz = Enumerable.Range(0, m).Select(r => tm.SubMatrix(0, rowsT, zStart[r], s.Random[r].Cells)).ToList();
+        var tx = tm.SubMatrix(0, rowsT, q, p);
+        var ty = tm.Column(q + p);
 
         State Eval(double[] phi)
         {
             var se = phi[m];
-            var a = Matrix<double>.Build.Dense(n + q, q + p);
-            var off = 0;
+            var a = Matrix<double>.Build.Dense(rowsT + q, q + p + 1);
             for (var r = 0; r < m; r++)
             {
                 var lam = Math.Sqrt(phi[r] / se);
-                for (var i = 0; i < n; i++)
-                {
-                    a[i, off + s.Random[r].CellOf[i]] = lam;
-                }
-
-                off += s.Random[r].Cells;
+                a.SetSubMatrix(0, zStart[r], tz[r] * lam);
             }
 
-            a.SetSubMatrix(0, q, x);
+            a.SetSubMatrix(0, q, tx);
+            a.SetSubMatrix(0, q + p, ty.ToColumnMatrix());
             for (var j = 0; j < q; j++)
             {
-                a[n + j, j] = 1;
+                a[rowsT + j, j] = 1;
             }
 
             var qr = a.QR(MathNet.Numerics.LinearAlgebra.Factorization.QRMethod.Thin);
             var qm = qr.Q;
             var rm = qr.R;
-            var rhs = Vector<double>.Build.Dense(n + q);
-            rhs.SetSubVector(0, n, y);
-            var qty = qm.TransposeThisAndMultiply(rhs);
-            var resid = rhs - (qm * qty);
-            var prss = resid.DotProduct(resid);
+            var k = q + p;
+            var prss = rm[k, k] * rm[k, k];
             double logH = 0, logX = 0;
             for (var j = 0; j < q; j++)
             {
                 logH += 2 * Math.Log(Math.Abs(rm[j, j]));
             }
 
-            for (var j = q; j < q + p; j++)
+            for (var j = q; j < k; j++)
             {
                 logX += 2 * Math.Log(Math.Abs(rm[j, j]));
             }
 
             var ll = -0.5 * (((n - p) * Math.Log(2 * Math.PI * se)) + logH + logX + (prss / se));
-            var b = rm.Solve(qty);
-            var beta = b.SubVector(q, p);
-            var cond = resid.SubVector(0, n); // y − Xβ̂ − ZΛb_u
+            var r0 = rm.SubMatrix(0, k, 0, k);
+            var qty = rm.Column(k).SubVector(0, k);
+            var q1 = qm.SubMatrix(0, rowsT, 0, k);
             return new State
             {
                 LogLik = ll,
-                Q1 = qm.SubMatrix(0, n, 0, q + p),
-                R = rm,
-                Py = cond / se,
-                Beta = beta,
-                CondResid = cond,
+                Q1 = q1,
+                Q2 = qm.SubMatrix(rowsT, q, 0, k),
+                R = r0,
+                Py = (ty - (q1 * qty)) / se, // in T's rows: T_Z' Py = Z' P y
+                B = r0.Solve(qty),
             };
         }
 
-        // P applied to the columns of a matrix.
-        Matrix<double> ApplyP(State st, Matrix<double> v, double se) => (v - (st.Q1 * st.Q1.TransposeThisAndMultiply(v))) / se;
+        // Z_r' Z_t: counts of the cell pairs (exact, from the data).
+        Matrix<double> ZtZ(int r, int t)
+        {
+            var res = Matrix<double>.Build.Dense(s.Random[r].Cells, s.Random[t].Cells);
+            for (var i = 0; i < n; i++)
+            {
+                res[s.Random[r].CellOf[i], s.Random[t].CellOf[i]] += 1;
+            }
 
+            return res;
+        }
+
+        var ztz = new Matrix<double>[m, m];
+        for (var r = 0; r < m; r++)
+        {
+            for (var t = 0; t <= r; t++)
+            {
+                ztz[r, t] = ZtZ(r, t);
+            }
+        }
+
+        // With K = Q₁Q₁' (σ²_e P = I − K) and G_r = Q₁'Z_r: σ²_e Z_r'PZ_t = Z_r'Z_t − G_r'G_t,
+        // σ⁴_e ||PZ_r||² = n − 2||G_r||² + tr(G_r'(Q₁'Q₁)G_r), σ²_e tr(PV_r) = n − ||G_r||²,
+        // σ⁴_e tr(P²) = n − 2||Q₁||² + ||Q₁'Q₁||², with Q₁'Q₁ = I − Q₂'Q₂ (Q₂ the last q rows of Q).
         (double[] G, Matrix<double> Info) ScoreInfo(State st, double[] phi)
         {
             var se = phi[m];
-            var pz = z.Select(zr => ApplyP(st, zr, se)).ToList();
+            var gmat = tz.Select(t => st.Q1.TransposeThisAndMultiply(t)).ToList(); // (q+p) x cells
+            var q1q1 = Matrix<double>.Build.DenseIdentity(q + p) - st.Q2.TransposeThisAndMultiply(st.Q2);
             var g = new double[m + 1];
             var info = Matrix<double>.Build.Dense(m + 1, m + 1);
             for (var r = 0; r < m; r++)
             {
-                var zpy = z[r].TransposeThisAndMultiply(st.Py);
-                var trPV = z[r].Transpose().Multiply(pz[r]).Trace();
+                var zpy = tz[r].TransposeThisAndMultiply(st.Py);
+                var gn = gmat[r].FrobeniusNorm();
+                var trPV = (n - (gn * gn)) / se;
                 g[r] = 0.5 * (zpy.DotProduct(zpy) - trPV);
                 for (var t = 0; t <= r; t++)
                 {
-                    var zpz = z[r].TransposeThisAndMultiply(pz[t]);
-                    var v = 0.5 * zpz.FrobeniusNorm() * zpz.FrobeniusNorm();
-                    info[r, t] = v;
-                    info[t, r] = v;
+                    var zpz = (ztz[r, t] - gmat[r].TransposeThisAndMultiply(gmat[t])) / se;
+                    var fn = zpz.FrobeniusNorm();
+                    info[r, t] = info[t, r] = 0.5 * fn * fn;
                 }
 
-                var pzn = pz[r].FrobeniusNorm();
-                info[r, m] = info[m, r] = 0.5 * pzn * pzn;
+                var quad = gmat[r].TransposeThisAndMultiply(q1q1 * gmat[r]).Trace();
+                info[r, m] = info[m, r] = 0.5 * (n - (2 * gn * gn) + quad) / (se * se);
             }
 
             var qn = st.Q1.FrobeniusNorm();
-            var qtq = st.Q1.TransposeThisAndMultiply(st.Q1).FrobeniusNorm();
+            var qtq = q1q1.FrobeniusNorm();
             var trP = (n - (qn * qn)) / se;
             var trPP = (n - (2 * qn * qn) + (qtq * qtq)) / (se * se);
             g[m] = 0.5 * (st.Py.DotProduct(st.Py) - trP);
@@ -413,14 +452,14 @@ public static class MixedModel
         var rxx = state.R.SubMatrix(q, p, q, p);
         var rinv = rxx.Inverse();
         var cb = rinv * rinv.Transpose() * sig;
-        var qz = state.Q1.SubMatrix(0, n, 0, q);
-        var vinvX = (x - (qz * qz.TransposeThisAndMultiply(x))) / sig;
-        var w = vinvX * cb; // n x p
+        var qz = state.Q1.SubMatrix(0, rowsT, 0, q);
+        var vinvX = (tx - (qz * qz.TransposeThisAndMultiply(tx))) / sig;
+        var w = vinvX * cb; // in T's rows
         var tests = new List<RemlFixedTest>();
         foreach (var (name, start, count) in s.FixedTerms)
         {
             var lcl = cb.SubMatrix(start, count, start, count);
-            var lb = state.Beta.SubVector(start, count);
+            var lb = state.B.SubVector(q + start, count);
             var evd = lcl.Evd(Symmetricity.Symmetric);
             var fval = lb.DotProduct(lcl.Solve(lb)) / count;
             double e = 0;
@@ -429,7 +468,7 @@ public static class MixedModel
             {
                 var d = evd.EigenValues[i].Real;
                 var u = evd.EigenVectors.Column(i);
-                var wl = w.SubMatrix(0, n, start, count) * u; // W L' u
+                var wl = w.SubMatrix(0, rowsT, start, count) * u; // W L' u
                 var grad = new double[freeF.Length];
                 for (var k = 0; k < freeF.Length; k++)
                 {
@@ -440,7 +479,7 @@ public static class MixedModel
                     }
                     else
                     {
-                        var zw = z[j].TransposeThisAndMultiply(wl);
+                        var zw = tz[j].TransposeThisAndMultiply(wl);
                         grad[k] = zw.DotProduct(zw);
                     }
                 }
@@ -485,6 +524,18 @@ public static class MixedModel
             note += "; singular fit: " + string.Join(", ", components.Where(c => c.AtBoundary).Select(c => c.Term)) + " estimated at zero";
         }
 
-        return new RemlResult(components, tests, state.LogLik, converged, iterations, singular, note, [.. state.CondResid]);
+        // Conditional residuals y − Xβ̂ − Zû, û_r = Λ_r b_r, in the data's rows.
+        var beta = state.B.SubVector(q, p);
+        var cond = y - (x * beta);
+        for (var r = 0; r < m; r++)
+        {
+            var lam = Math.Sqrt(phi[r] / phi[m]);
+            for (var i = 0; i < n; i++)
+            {
+                cond[i] -= lam * state.B[zStart[r] + s.Random[r].CellOf[i]];
+            }
+        }
+
+        return new RemlResult(components, tests, state.LogLik, converged, iterations, singular, note, [.. cond]);
     }
 }

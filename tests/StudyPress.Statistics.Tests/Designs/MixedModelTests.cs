@@ -86,3 +86,49 @@ public class MixedModelTests
         Assert.Contains("singular fit: S", reml.ConvergenceNote, StringComparison.Ordinal);
     }
 }
+
+public class MixedModelSizeTests
+{
+    // A few thousand rows (invented, deterministic): 40 blocks x 5 whole-plot levels x 10 sub-plot
+    // levels = 2000 sub-plots, 1 in 37 removed. The fit must converge and stay quick.
+    [Fact]
+    public void ThousandsOfRows_ConvergeQuickly()
+    {
+        var b = new List<string>();
+        var w = new List<string>();
+        var s = new List<string>();
+        var y = new List<double>();
+        var k = 0;
+        var v = 0.123;
+        for (var i = 0; i < 40; i++)
+        {
+            var blockEffect = ((i * 7919) % 23) - 11.0;
+            for (var j = 0; j < 5; j++)
+            {
+                var wp = (((i * 31) + (j * 17)) % 13) - 6.0;
+                for (var l = 0; l < 10; l++)
+                {
+                    if (k++ % 37 == 5)
+                    {
+                        continue;
+                    }
+
+                    v = (v * 3.91) % 1; // deterministic pseudo-noise
+                    b.Add("b" + i.ToString(System.Globalization.CultureInfo.InvariantCulture));
+                    w.Add("w" + j.ToString(System.Globalization.CultureInfo.InvariantCulture));
+                    s.Add("s" + l.ToString(System.Globalization.CultureInfo.InvariantCulture));
+                    y.Add(100 + blockEffect + wp + (2.0 * j) + (0.5 * l) + (8 * v));
+                }
+            }
+        }
+
+        var sw = System.Diagnostics.Stopwatch.StartNew();
+        var r = MixedModel.FitReml(
+            [DesignFactor.Block("block"), DesignFactor.Treatment("W", PlotLevel.WholePlot), DesignFactor.Treatment("S", PlotLevel.SubPlot)],
+            new DesignData([.. y], [b, w, s]));
+        sw.Stop();
+        Assert.True(r.Converged, r.ConvergenceNote);
+        Assert.True(sw.Elapsed.TotalSeconds < 30, "took " + sw.Elapsed.TotalSeconds.ToString("F1", System.Globalization.CultureInfo.InvariantCulture) + " s");
+        Assert.Equal(y.Count, r.ConditionalResiduals.Length);
+    }
+}
