@@ -82,6 +82,12 @@ public enum DesignIssueKind
 
     /// <summary>Too few observations for the model's terms.</summary>
     TooFewObservations,
+
+    /// <summary>The response does not vary around the fixed effects: no variance can be estimated.</summary>
+    NoVariation,
+
+    /// <summary>A label of a nested factor occurs under two levels of its parent (when labels are meant to be unique).</summary>
+    ContradictoryNesting,
 }
 
 /// <summary>A design problem; <paramref name="Factors"/> names the factors concerned.</summary>

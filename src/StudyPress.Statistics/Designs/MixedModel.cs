@@ -205,6 +205,14 @@ public static class MixedModel
         }
 
         var x = Matrix<double>.Build.Dense(n, p, (i, j) => columns[j][i]);
+        var yv = Vector<double>.Build.DenseOfArray(data.Response);
+        var fit = x.QR(MathNet.Numerics.LinearAlgebra.Factorization.QRMethod.Thin).Solve(yv);
+        var rss = (yv - (x * fit)).L2Norm();
+        if (!(rss > 1e-13 * Math.Max(yv.L2Norm(), double.Epsilon)))
+        {
+            return new DesignIssue(DesignIssueKind.NoVariation, "the response does not vary around the treatment means, so no variance can be estimated", []);
+        }
+
         var r = x.QR(MathNet.Numerics.LinearAlgebra.Factorization.QRMethod.Thin).R;
         var norms = Enumerable.Range(0, p).Select(j => x.Column(j).L2Norm()).ToArray();
         for (var j = 0; j < p; j++)
@@ -379,6 +387,7 @@ public static class MixedModel
         var converged = false;
         var iterations = 0;
         var active = new bool[m + 1]; // held at zero
+        var confounded = false;
         for (; iterations < MaxIterations; iterations++)
         {
             var (g, info) = ScoreInfo(state, phi);
@@ -390,7 +399,19 @@ public static class MixedModel
             var free = Enumerable.Range(0, m + 1).Where(i => !active[i]).ToArray();
             var sub = Matrix<double>.Build.Dense(free.Length, free.Length, (i, j) => info[free[i], free[j]]);
             var gv = Vector<double>.Build.Dense(free.Length, i => g[free[i]]);
-            var step = sub.Cholesky().Solve(gv);
+            // The information is positive definite unless two variances are confounded in these
+            // data; then the minimum-norm least-squares step is taken (and reported below).
+            Vector<double> step;
+            try
+            {
+                step = sub.Cholesky().Solve(gv);
+            }
+            catch (ArgumentException)
+            {
+                confounded = true;
+                step = sub.Svd().Solve(gv);
+            }
+
             var scale = phi.Max();
             var small = free.All(i => Math.Abs(g[i]) * Math.Max(phi[i], scale * 1e-6) <= 1e-9 * Math.Max(1, Math.Abs(state.LogLik)));
             double t = 1;
@@ -436,14 +457,18 @@ public static class MixedModel
         var (_, infoF) = ScoreInfo(state, phi);
         var freeF = Enumerable.Range(0, m + 1).Where(i => i == m || phi[i] > 0).ToArray();
         var infoFree = Matrix<double>.Build.Dense(freeF.Length, freeF.Length, (i, j) => infoF[freeF[i], freeF[j]]);
-        var cov = infoFree.Inverse();
+        var invertible = infoFree.Svd().ConditionNumber < 1e12;
+        var cov = invertible ? infoFree.Inverse() : infoFree.Svd().Solve(Matrix<double>.Build.DenseIdentity(freeF.Length));
+        confounded |= !invertible;
         var components = new List<RemlComponent>();
         for (var r = 0; r <= m; r++)
         {
             var name = r < m ? s.Random[r].Name : StrataAnova.ResidualName;
             var kind = r < m ? s.Random[r].Kind : TermKind.Residual;
             var at = Array.IndexOf(freeF, r);
-            var se = at >= 0 ? Quantity.Of(Math.Sqrt(cov[at, at])) : Quantity.Undefined("the estimate is on the boundary (zero)");
+            var se = at < 0 ? Quantity.Undefined("the estimate is on the boundary (zero)")
+                : !invertible ? Quantity.Undefined("the variances cannot be told apart in these data (their information is singular)")
+                : Quantity.Of(Math.Sqrt(cov[at, at]));
             components.Add(new RemlComponent(name, kind, phi[r], phi[r] == 0, Quantity.Of(Math.Sqrt(phi[r])), se));
         }
 
@@ -519,6 +544,11 @@ public static class MixedModel
         var note = converged
             ? string.Create(System.Globalization.CultureInfo.InvariantCulture, $"converged after {iterations} Fisher-scoring iterations (changes below 1e-12 of the largest component)")
             : string.Create(System.Globalization.CultureInfo.InvariantCulture, $"did not converge within {iterations} iterations; the estimates are the last iterate");
+        if (confounded)
+        {
+            note += "; the information matrix is singular: some variances cannot be told apart in these data";
+        }
+
         if (singular)
         {
             note += "; singular fit: " + string.Join(", ", components.Where(c => c.AtBoundary).Select(c => c.Term)) + " estimated at zero";

@@ -128,6 +128,50 @@ public static class StrataAnova
         return Build(factors, data, requireBalance: true, out _);
     }
 
+    /// <summary>
+    /// For studies whose nested factors use labels that are unique across parents (batch codes
+    /// B1..B8 rather than 1, 2 within each supplier): the first label of a nested factor that occurs
+    /// under two level combinations of its parents, or null. Under the "labels repeat within each
+    /// parent" convention the same label under two parents is simply two levels, so this check is
+    /// the caller's choice.
+    /// </summary>
+    public static DesignIssue? FindContradictoryNesting(IReadOnlyList<DesignFactor> factors, DesignData data)
+    {
+        ArgumentNullException.ThrowIfNull(factors);
+        ArgumentNullException.ThrowIfNull(data);
+        var n = data.Response.Length;
+        for (var f = 0; f < factors.Count; f++)
+        {
+            if (factors[f].NestedIn.Count == 0)
+            {
+                continue;
+            }
+
+            var parents = factors[f].NestedIn.Select(pn => IndexOf(factors, pn)).Where(i => i >= 0).ToArray();
+            var first = new Dictionary<string, int>(StringComparer.Ordinal);
+            for (var i = 0; i < n; i++)
+            {
+                var label = data.Labels[f][i];
+                if (!first.TryGetValue(label, out var i0))
+                {
+                    first.Add(label, i);
+                    continue;
+                }
+
+                if (parents.Any(pi => !string.Equals(data.Labels[pi][i0], data.Labels[pi][i], StringComparison.Ordinal)))
+                {
+                    string Where(int row) => string.Join(", ", parents.Select(pi => factors[pi].Name + " " + data.Labels[pi][row]));
+                    return new DesignIssue(
+                        DesignIssueKind.ContradictoryNesting,
+                        factors[f].Name + " " + label + " appears under " + Where(i0) + " and under " + Where(i) + ", but " + factors[f].Name + " is declared nested in " + string.Join(" and ", parents.Select(pi => factors[pi].Name)),
+                        [factors[f].Name, .. parents.Select(pi => factors[pi].Name)]);
+                }
+            }
+        }
+
+        return null;
+    }
+
     /// <summary>Fits the strata ANOVA; throws <see cref="ArgumentException"/> when <see cref="Check"/> finds a problem.</summary>
     public static StrataAnovaResult Fit(IReadOnlyList<DesignFactor> factors, DesignData data)
     {

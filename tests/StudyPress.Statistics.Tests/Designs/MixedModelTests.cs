@@ -132,3 +132,69 @@ public class MixedModelSizeTests
         Assert.Equal(y.Count, r.ConditionalResiduals.Length);
     }
 }
+
+public class MixedModelRobustnessTests
+{
+    // Exact recomputation (nested/doncaster-davey-we1-cortisol): balanced nested data by REML give
+    // the ANOVA components (both positive) and food's F against pens within food on 6 df.
+    [Fact]
+    public void BalancedNested_RemlEqualsAnovaMethodAndStrataF()
+    {
+        DesignFactor[] d = [DesignFactor.Treatment("food"), DesignFactor.Random("pen", "food")];
+        var data = Load("nested", "doncaster-davey-we1-cortisol.csv", "cortisol", "food", "pen");
+        var reml = MixedModel.FitReml(d, data);
+        var e = Expected("nested", "doncaster-davey-we1-cortisol.expected.json").GetProperty("exact_recomputation");
+        AssertRelative(reml.Component("pen(food)").Variance, Number(e, "variance_components_anova_method", "pen_within_food"), 1e-9, "σ²(pen)");
+        AssertRelative(reml.Component(StrataAnova.ResidualName).Variance, Number(e, "variance_components_anova_method", "residual"), 1e-9, "σ²");
+        AssertRelative(reml.Test("food").F.Value, Number(e, "food", "f"), 1e-9, "F(food)");
+        AssertRelative(reml.Test("food").DfDenominator.Value, 6, 1e-9, "df");
+        AssertRelative(reml.Test("food").P.Value, Number(e, "food", "p"), 1e-9, "p");
+    }
+
+    [Fact]
+    public void ConstantResponse_IsAnIssueNotACrash()
+    {
+        var data = new DesignData([5, 5, 5, 5, 5, 5], [["a", "a", "a", "b", "b", "b"], ["1", "2", "3", "1", "2", "3"]]);
+        var issue = MixedModel.Check([DesignFactor.Treatment("T"), DesignFactor.Block("block")], data);
+        Assert.NotNull(issue);
+        Assert.Equal(DesignIssueKind.NoVariation, issue.Kind);
+    }
+
+    [Fact]
+    public void EmptyTreatmentCombination_IsAnIssue()
+    {
+        // 2 x 2 treatments in 3 blocks with the combination (a2, b2) never observed.
+        var t1 = new List<string>();
+        var t2 = new List<string>();
+        var bl = new List<string>();
+        var y = new List<double>();
+        foreach (var b in new[] { "I", "II", "III" })
+        {
+            foreach (var (p, q) in new[] { ("a1", "b1"), ("a1", "b2"), ("a2", "b1") })
+            {
+                t1.Add(p);
+                t2.Add(q);
+                bl.Add(b);
+                y.Add(y.Count * 1.7 % 5);
+            }
+        }
+
+        var issue = MixedModel.Check([DesignFactor.Block("block"), DesignFactor.Treatment("A"), DesignFactor.Treatment("B")], new DesignData([.. y], [bl, t1, t2]));
+        Assert.NotNull(issue);
+        Assert.Equal(DesignIssueKind.MissingCombination, issue.Kind);
+        Assert.Contains("A:B", issue.Message, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void BatchCodeUnderTwoSuppliers_IsContradictoryNesting()
+    {
+        var data = new DesignData([1, 2, 3, 4], [["s1", "s1", "s2", "s2"], ["B1", "B2", "B3", "B1"]]);
+        var issue = StrataAnova.FindContradictoryNesting([DesignFactor.Treatment("supplier"), DesignFactor.Random("batch", "supplier")], data);
+        Assert.NotNull(issue);
+        Assert.Equal(DesignIssueKind.ContradictoryNesting, issue.Kind);
+        Assert.Equal("batch B1 appears under supplier s1 and under supplier s2, but batch is declared nested in supplier", issue.Message);
+        Assert.Null(StrataAnova.FindContradictoryNesting(
+            [DesignFactor.Treatment("supplier"), DesignFactor.Random("batch", "supplier")],
+            new DesignData([1, 2, 3, 4], [["s1", "s1", "s2", "s2"], ["B1", "B2", "B3", "B4"]])));
+    }
+}
