@@ -334,7 +334,7 @@ public static class StrataAnova
             }
 
             var random = factors.FirstOrDefault(f => f.Role == FactorRole.Random);
-            if (random is not null)
+            if (random is not null && requireBalance)
             {
                 return new DesignIssue(DesignIssueKind.Declaration, "a split plot with the random factor " + random.Name + " besides its blocks has no classical strata; analyse it with the mixed model", [random.Name]);
             }

@@ -198,3 +198,58 @@ public class MixedModelRobustnessTests
             new DesignData([1, 2, 3, 4], [["s1", "s1", "s2", "s2"], ["B1", "B2", "B3", "B4"]])));
     }
 }
+
+public class MixedModelConfoundingTests
+{
+    // Two random factors with the same partition of the rows (each operator worked in exactly one
+    // block): their variances cannot be told apart. The fit must not fail; it says so.
+    [Fact]
+    public void ConfoundedRandomFactors_AreReportedNotFatal()
+    {
+        var bl = new List<string>();
+        var op = new List<string>();
+        var tr = new List<string>();
+        var y = new List<double>();
+        var v = 0.31;
+        for (var b = 0; b < 5; b++)
+        {
+            for (var t = 0; t < 3; t++)
+            {
+                for (var rep = 0; rep < 2; rep++)
+                {
+                    bl.Add("b" + b.ToString(System.Globalization.CultureInfo.InvariantCulture));
+                    op.Add("o" + b.ToString(System.Globalization.CultureInfo.InvariantCulture));
+                    tr.Add("t" + t.ToString(System.Globalization.CultureInfo.InvariantCulture));
+                    v = (v * 3.3) % 1;
+                    y.Add((b * 1.5) + t + v);
+                }
+            }
+        }
+
+        var r = MixedModel.FitReml([DesignFactor.Block("block"), DesignFactor.Random("operator"), DesignFactor.Treatment("T")], new DesignData([.. y], [bl, op, tr]));
+        Assert.Contains("cannot be told apart", r.ConvergenceNote, StringComparison.Ordinal);
+        Assert.True(r.Test("T").F.IsDefined);
+        Assert.All(r.Components, c => Assert.True(double.IsFinite(c.Variance) && c.Variance >= 0));
+    }
+}
+
+public class MixedModelSplitPlotWithRandomFactorTests
+{
+    // The classical strata refuse a split plot with a random factor besides the blocks (message
+    // points to the mixed model); the mixed model must then accept it.
+    [Fact]
+    public void SplitPlotWithOperator_RefusedByStrata_FittedByReml()
+    {
+        var data = Load("split-plot", "doncaster-davey-model-5-2.csv", "y", "S", "A", "C");
+        var op = Enumerable.Range(0, data.Response.Length).Select(i => "o" + (i % 3).ToString(System.Globalization.CultureInfo.InvariantCulture)).ToList();
+        var withOp = new DesignData(data.Response, [.. data.Labels, op]);
+        DesignFactor[] d = [DesignFactor.Block("S"), DesignFactor.Treatment("A", PlotLevel.WholePlot), DesignFactor.Treatment("C", PlotLevel.SubPlot), DesignFactor.Random("operator")];
+        var issue = StrataAnova.Check(d, withOp);
+        Assert.NotNull(issue);
+        Assert.Contains("mixed model", issue.Message, StringComparison.Ordinal);
+        Assert.Null(MixedModel.Check(d, withOp));
+        var r = MixedModel.FitReml(d, withOp);
+        Assert.Contains(r.Components, c => c.Term == "operator");
+        Assert.True(r.Test("A").F.IsDefined);
+    }
+}
