@@ -487,8 +487,7 @@ public static class MixedModel
             var lb = state.B.SubVector(q + start, count);
             var evd = lcl.Evd(Symmetricity.Symmetric);
             var fval = lb.DotProduct(lcl.Solve(lb)) / count;
-            double e = 0;
-            var ok = true;
+            var nus = new double[count];
             for (var i = 0; i < count; i++)
             {
                 var d = evd.EigenValues[i].Real;
@@ -510,29 +509,22 @@ public static class MixedModel
                 }
 
                 var gvec = Vector<double>.Build.DenseOfArray(grad);
-                var nu = 2 * d * d / gvec.DotProduct(cov * gvec);
-                if (!(nu > 2))
-                {
-                    ok = false;
-                    if (count == 1)
-                    {
-                        e = nu;
-                    }
-
-                    continue;
-                }
-
-                e += count == 1 ? nu : nu / (nu - 2);
+                nus[i] = 2 * d * d / gvec.DotProduct(cov * gvec);
             }
 
+            // One direction, or all directions with the same df (balanced data): that df, which is
+            // also the limit of 2E/(E − q) as the ν_i become equal, even at ν ≤ 2 where E is infinite.
             Quantity df;
-            if (count == 1)
+            if (nus.All(v => double.IsFinite(v) && v > 0) && (count == 1 || nus.Max() - nus.Min() <= 1e-9 * nus.Max()))
             {
-                df = e > 0 ? Quantity.Of(e) : Quantity.Undefined("the Satterthwaite df is not defined for this term");
+                df = Quantity.Of(nus.Average());
             }
             else
             {
-                df = ok && e > count ? Quantity.Of(2 * e / (e - count)) : Quantity.Undefined("the Satterthwaite df is not defined for this term (a direction has 2 df or fewer)");
+                var e = nus.Where(v => v > 2).Sum(v => v / (v - 2));
+                df = nus.All(v => v > 2) && e > count
+                    ? Quantity.Of(2 * e / (e - count))
+                    : Quantity.Undefined("the Satterthwaite df is not defined for this term (a direction of its hypothesis has 2 df or fewer)");
             }
 
             var fq = Quantity.Of(fval);

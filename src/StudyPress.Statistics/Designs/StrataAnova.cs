@@ -62,7 +62,11 @@ public sealed record StrataRow(
 /// <summary>An error stratum: its error row and the rows tested against it, in table order.</summary>
 public sealed record DesignStratum(string Name, TermKind ErrorKind, IReadOnlyList<string> Terms);
 
-/// <summary>The strata ANOVA of a balanced design.</summary>
+/// <summary>
+/// The strata ANOVA of a balanced design. <c>Residuals</c> are the finest stratum's residuals per
+/// observation: what is left after all terms, or, when the finest error is a term with one
+/// observation per cell (a sub-plot error, an unreplicated interaction), that term's effects.
+/// </summary>
 public sealed record StrataAnovaResult(
     IReadOnlyList<StrataRow> Rows,
     IReadOnlyList<DesignStratum> Strata,
@@ -72,6 +76,19 @@ public sealed record StrataAnovaResult(
     double GrandMean,
     double[] Residuals)
 {
+    /// <summary>
+    /// The residuals of each error stratum other than the residual: for every random term (blocks,
+    /// random and nested terms, plot errors) its estimated effect in each of its cells (the unit
+    /// of that stratum: a whole plot, a pen), in order of the cells' first appearance in the data,
+    /// with <see cref="StratumCellOf"/> giving each observation's cell. Count-weighted sums of
+    /// squares of these effects are the rows' sums of squares. Assumption checks of a stratum use
+    /// these; <see cref="Residuals"/> are the finest stratum's.
+    /// </summary>
+    public IReadOnlyDictionary<string, double[]> StratumEffects { get; init; } = new Dictionary<string, double[]>(StringComparer.Ordinal);
+
+    /// <summary>For each entry of <see cref="StratumEffects"/>, the cell of every observation.</summary>
+    public IReadOnlyDictionary<string, int[]> StratumCellOf { get; init; } = new Dictionary<string, int[]>(StringComparer.Ordinal);
+
     /// <summary>The row named <paramref name="term"/>.</summary>
     public StrataRow Row(string term) =>
         Rows.FirstOrDefault(r => string.Equals(r.Term, term, StringComparison.Ordinal))
@@ -198,6 +215,7 @@ public static class StrataAnova
         public int[] CellCounts { get; set; } = [];
         public int Df { get; set; }
         public double Ss { get; set; }
+        public double[] Effects { get; set; } = [];
     }
 
     internal sealed class Model
@@ -523,6 +541,7 @@ public static class StrataAnova
             }
 
             t.Ss = ss;
+            t.Effects = means;
             kept.Add(t);
         }
 
@@ -620,8 +639,19 @@ public static class StrataAnova
             strata.Add(new DesignStratum(row.Term, row.Kind, members));
         }
 
+        // Without a residual row the finest error term (one observation per cell) holds the
+        // finest stratum's residuals: hand those out as the residuals.
         var residuals = r;
-        return new StrataAnovaResult(rows, strata, totalSs, n - 1, n, mean, residuals);
+        var unitTerm = hasResidual ? null : kept.LastOrDefault(t => t.IsRandom && t.Cells == n);
+        if (unitTerm is not null)
+        {
+            residuals = [.. unitTerm.CellOf.Select(c => unitTerm.Effects[c])];
+        }
+        return new StrataAnovaResult(rows, strata, totalSs, n - 1, n, mean, residuals)
+        {
+            StratumEffects = kept.Where(t => t.IsRandom).ToDictionary(t => t.Name, t => t.Effects, StringComparer.Ordinal),
+            StratumCellOf = kept.Where(t => t.IsRandom).ToDictionary(t => t.Name, t => t.CellOf, StringComparer.Ordinal),
+        };
     }
 
     private static StrataRow MakeRow(

@@ -139,6 +139,15 @@ public class StrataAnovaTests
         AssertExactRow(r.Row("sub-plot error"), e.GetProperty("sub_plot_error"), "sub-plot error");
         AssertRelative(r.TotalSumOfSquares, Number(e, "total", "ss"), 1e-9, "total");
         Assert.Equal(71, r.TotalDf);
+
+        // Whole-plot stratum residuals: one effect per whole plot (18), 4 sub-plots each; their
+        // count-weighted SS is the whole-plot error SS (exact recomputation) and they sum to zero.
+        var wp = r.StratumEffects["whole-plot error"];
+        Assert.Equal(18, wp.Length);
+        AssertRelative(wp.Sum(v => 4 * v * v), Number(e, "whole_plot_error_B:V", "ss"), 1e-9, "whole-plot residual SS");
+        Assert.True(Math.Abs(wp.Sum()) < 1e-9);
+        Assert.Equal(72, r.StratumCellOf["whole-plot error"].Length);
+        AssertRelative(r.Residuals.Sum(v => v * v), Number(e, "sub_plot_error", "ss"), 1e-9, "sub-plot residual SS");
         AssertRelative(r.GrandMean, (104.5 + 109.791666666666667 + 97.625) / 3, 1e-12, "grand mean (mean of the exact variety means)");
     }
 
