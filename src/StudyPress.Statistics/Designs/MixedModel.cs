@@ -5,9 +5,21 @@ namespace StudyPress.Statistics.Designs;
 /// <summary>
 /// A REML variance component. <paramref name="AtBoundary"/>: the estimate is zero because the
 /// likelihood is largest there (a singular fit). <paramref name="StandardError"/> from the inverse
-/// expected information (not defined at the boundary).
+/// expected information (not defined at the boundary). The interval is Satterthwaite's: the
+/// estimate taken as σ² χ²_ν / ν with ν = 2 σ̂⁴ / Var(σ̂²) (<paramref name="Df"/>), giving
+/// [ν σ̂² / χ²_{ν, α/2}, ν σ̂² / χ²_{ν, 1−α/2}] at 95 % (upper quantiles; Satterthwaite 1946).
+/// On balanced data with all estimates positive this is the interval of the ANOVA method.
 /// </summary>
-public sealed record RemlComponent(string Term, TermKind Kind, double Variance, bool AtBoundary, Quantity Sd, Quantity StandardError);
+public sealed record RemlComponent(
+    string Term,
+    TermKind Kind,
+    double Variance,
+    bool AtBoundary,
+    Quantity Sd,
+    Quantity StandardError,
+    Quantity Df,
+    Quantity CiLow,
+    Quantity CiHigh);
 
 /// <summary>
 /// The F test of a fixed treatment term: Wald F of its sum-to-zero coefficients (the type 3
@@ -469,7 +481,20 @@ public static class MixedModel
             var se = at < 0 ? Quantity.Undefined("the estimate is on the boundary (zero)")
                 : !invertible ? Quantity.Undefined("the variances cannot be told apart in these data (their information is singular)")
                 : Quantity.Of(Math.Sqrt(cov[at, at]));
-            components.Add(new RemlComponent(name, kind, phi[r], phi[r] == 0, Quantity.Of(Math.Sqrt(phi[r])), se));
+            Quantity nu, lo, hi;
+            if (se.IsDefined && se.Value > 0 && phi[r] > 0)
+            {
+                var v = 2 * phi[r] * phi[r] / (se.Value * se.Value);
+                nu = Quantity.Of(v);
+                lo = Quantity.Of(v * phi[r] / Probability.ChiSquareCritical(0.025, v));
+                hi = Quantity.Of(v * phi[r] / Probability.ChiSquareCritical(0.975, v));
+            }
+            else
+            {
+                nu = lo = hi = Quantity.Undefined(se.IsDefined ? "the estimate is zero" : se.Reason!);
+            }
+
+            components.Add(new RemlComponent(name, kind, phi[r], phi[r] == 0, Quantity.Of(Math.Sqrt(phi[r])), se, nu, lo, hi));
         }
 
         // Cov(β̂) = σ²_e (R_XX' R_XX)⁻¹ and its derivatives C X'V⁻¹ V_j V⁻¹ X C.

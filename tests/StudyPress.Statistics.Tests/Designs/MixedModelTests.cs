@@ -44,6 +44,11 @@ public class MixedModelTests
         {
             var name = c.Kind == TermKind.Residual || c.Term == "sub-plot error" ? StrataAnova.ResidualName : c.Term;
             AssertRelative(reml.Component(name).Variance, c.Variance, 1e-9, "σ² " + c.Term);
+
+            // Balanced and interior: the REML Satterthwaite interval is the ANOVA-method one.
+            AssertRelative(reml.Component(name).Df.Value, c.Df.Value, 1e-9, "ν " + c.Term);
+            AssertRelative(reml.Component(name).CiLow.Value, c.CiLow.Value, 1e-9, "low " + c.Term);
+            AssertRelative(reml.Component(name).CiHigh.Value, c.CiHigh.Value, 1e-9, "high " + c.Term);
         }
     }
 
