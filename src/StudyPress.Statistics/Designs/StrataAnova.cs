@@ -131,7 +131,7 @@ public sealed record StrataAnovaResult(
 /// </summary>
 public static class StrataAnova
 {
-    private const int MaxFactors = 12;
+    private const int MaxFactors = 8; // terms grow as 2^k and the balance check as 4^k
     private const double Zero = 1e-12;
 
     /// <summary>The name of the residual row.</summary>

@@ -184,6 +184,16 @@ public class StrataDesignTests
     }
 
     [Fact]
+    public void TooManyFactors_IsADeclarationIssue()
+    {
+        var labels = Enumerable.Range(0, 9).Select(f => (IReadOnlyList<string>)["a", "b"]).ToList();
+        var issue = StrataAnova.Check([.. Enumerable.Range(0, 9).Select(f => DesignFactor.Treatment("f" + f.ToString(System.Globalization.CultureInfo.InvariantCulture)))], new DesignData([1, 2], labels));
+        Assert.NotNull(issue);
+        Assert.Equal(DesignIssueKind.Declaration, issue.Kind);
+        Assert.Contains("between 1 and 8 factors", issue.Message, StringComparison.Ordinal);
+    }
+
+    [Fact]
     public void RandomFactorWithOneLevel_IsRefused()
     {
         var data = new DesignData([1, 2, 3, 4], [["a", "a", "b", "b"], ["o", "o", "o", "o"]]);
