@@ -45,7 +45,7 @@ public sealed class AssumptionsEvaluator : KindEvaluator
         Dictionary<string, ResultValue> Group(string test) => outcome.Values[test] = new(StringComparer.Ordinal);
         void Add(Dictionary<string, ResultValue> g, string test, string t, string stat, Quantity q) => g[stat] = context.Results.Add(block.Id, test, t, null, null, stat, q, inputs);
 
-        var sw = Group("shapiro_wilk");
+        var sw = Group(TestName.ShapiroWilk);
         Add(sw, "shapiro_wilk", "residual", "w", review.Normality.W);
         Add(sw, "shapiro_wilk", "residual", "p", review.Normality.P);
         foreach (var (name, r) in new[] { ("brown_forsythe", review.BrownForsythe), ("levene", review.Levene) })
@@ -57,18 +57,18 @@ public sealed class AssumptionsEvaluator : KindEvaluator
             Add(g, name, term, "p", r.P);
         }
 
-        var bt = Group("bartlett");
-        Add(bt, "bartlett", term, "statistic", review.Bartlett.Statistic);
-        Add(bt, "bartlett", term, "df", Quantity.Of(review.Bartlett.Df));
-        Add(bt, "bartlett", term, "p", review.Bartlett.P);
+        var bt = Group(TestName.Bartlett);
+        Add(bt, TestName.Bartlett, term, Stat.Statistic, review.Bartlett.Statistic);
+        Add(bt, TestName.Bartlett, term, Stat.Df, Quantity.Of(review.Bartlett.Df));
+        Add(bt, TestName.Bartlett, term, Stat.P, review.Bartlett.P);
         if (review.Independence is { } dw)
         {
-            var g = Group("durbin_watson");
-            Add(g, "durbin_watson", "residual", "d", dw.Statistic);
-            Add(g, "durbin_watson", "residual", "p", dw.P);
+            var g = Group(TestName.DurbinWatson);
+            Add(g, TestName.DurbinWatson, "residual", Stat.D, dw.Statistic);
+            Add(g, TestName.DurbinWatson, "residual", Stat.P, dw.P);
         }
 
-        var ol = Group("outliers");
+        var ol = Group(TestName.Outliers);
         var largest = review.Outliers.Largest;
         Add(ol, "outliers", "residual", "max_abs_t", largest is null ? Quantity.Undefined(review.Outliers.Reason ?? "no studentized residual is defined") : Quantity.Of(Math.Abs(largest.T.Value)));
         Add(ol, "outliers", "residual", "p_bonferroni", largest is null ? Quantity.Undefined(review.Outliers.Reason ?? "no studentized residual is defined") : largest.BonferroniP);

@@ -227,8 +227,8 @@ public static class Figures
             return null;
         }
 
-        var reference = power.Required.TryGetValue("n_per_group", out var need) && need.Value.IsDefined ? (int)need.Value.Value : 0;
-        var planned = power.Values.TryGetValue("n_per_group", out var n) ? (int)n.Value.Value : 0;
+        var reference = power.Required.TryGetValue(Stat.NPerGroup, out var need) && need.Value.IsDefined ? (int)need.Value.Value : 0;
+        var planned = power.Values.TryGetValue(Stat.NPerGroup, out var n) ? (int)n.Value.Value : 0;
         var top = Math.Max(10, (int)(1.5 * Math.Max(reference, planned)) + 2);
         top = Math.Min(top, 5000);
         var step = Math.Max(1, top / 60);

@@ -178,7 +178,7 @@ public sealed class AnovaRenderer : KindRenderer
         if (data.Factors.Count == 1 && s.Covered)
         {
             var factor = MethodsWriter.E(data.Factors[0].Spec.Display);
-            var bf = s.Review.GetValueOrDefault("brown_forsythe");
+            var bf = s.Review.GetValueOrDefault(TestName.BrownForsythe);
             if (opts.Welch == "yes")
             {
                 yield return w.Active
@@ -203,7 +203,7 @@ public sealed class AnovaRenderer : KindRenderer
                 }
             }
 
-            if (opts.Welch == "auto" && a.Review.WantsRankTest && s.Review.GetValueOrDefault("shapiro_wilk") is { } sw)
+            if (opts.Welch == "auto" && a.Review.WantsRankTest && s.Review.GetValueOrDefault(TestName.ShapiroWilk) is { } sw)
             {
                 var smallest = s.Cells.OrderBy(c => c.N.Value.IsDefined ? c.N.Value.Value : double.MaxValue).First();
                 yield return $"Because the residuals {w.T("departed", "depart")} from normality (Shapiro–Wilk, W = {MethodsWriter.Fr(sw[Stat.W])}, {ReportStyle.PPhrase(sw[Stat.P])}) and the smallest group {w.T("had", "has")} only {MethodsWriter.Df(smallest.N)} observations, "
@@ -220,7 +220,7 @@ public sealed class AnovaRenderer : KindRenderer
         if (a.Factors.Count == 1 && s.Covered)
         {
             var factor = MethodsWriter.E(a.Factors[0].Display);
-            var bt = s.Review.GetValueOrDefault("bartlett");
+            var bt = s.Review.GetValueOrDefault(TestName.Bartlett);
             if (opts.Welch == "yes")
             {
                 yield return w.Active

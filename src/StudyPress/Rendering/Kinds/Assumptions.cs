@@ -47,7 +47,7 @@ public sealed class AssumptionsRenderer : KindRenderer
         var r = s.Review;
         var review = s.Checks!.Review!;
         var checks = new List<string>();
-        if (r.TryGetValue("shapiro_wilk", out var sw))
+        if (r.TryGetValue(TestName.ShapiroWilk, out var sw))
         {
             checks.Add($"normality of the residuals (Shapiro–Wilk, W = {MethodsWriter.Fr(sw[Stat.W])}, {ReportStyle.PPhrase(sw[Stat.P])})");
         }
@@ -61,7 +61,7 @@ public sealed class AssumptionsRenderer : KindRenderer
             }
         }
 
-        if (r.TryGetValue("bartlett", out var bt))
+        if (r.TryGetValue(TestName.Bartlett, out var bt))
         {
             variance.Add($"Bartlett, χ²({MethodsWriter.Df(bt[Stat.Df])}) = {MethodsWriter.S2(bt[Stat.Statistic])}, {ReportStyle.PPhrase(bt[Stat.P])}");
         }
@@ -71,12 +71,12 @@ public sealed class AssumptionsRenderer : KindRenderer
             checks.Add($"equal variances across the groups ({string.Join("; ", variance)})");
         }
 
-        if (r.TryGetValue("durbin_watson", out var dw))
+        if (r.TryGetValue(TestName.DurbinWatson, out var dw))
         {
             checks.Add($"independence in run order (Durbin–Watson, d = {MethodsWriter.S2(dw[Stat.D])}, {ReportStyle.PPhrase(dw[Stat.P])})");
         }
 
-        if (r.TryGetValue("outliers", out var ol))
+        if (r.TryGetValue(TestName.Outliers, out var ol))
         {
             checks.Add($"outlying observations (largest externally studentized residual |t| = {MethodsWriter.S2(ol[Stat.MaxAbsT])}, {ReportStyle.PPhrase(ol[Stat.PBonferroni], "Bonferroni-adjusted p")})");
         }
@@ -120,7 +120,7 @@ public sealed class AssumptionsRenderer : KindRenderer
         table.Row("Equal variances", ["Brown–Forsythe (medians)", "F = " + V("brown_forsythe", "f"), Df("brown_forsythe"), V("brown_forsythe", "p"), HtmlWriter.Escape(Verdict(r.BrownForsythe.P, context.Alpha, "no evidence of unequal variances", "variances differ"))]);
         table.Row(string.Empty, ["Levene (means)", "F = " + V("levene", "f"), Df("levene"), V("levene", "p"), HtmlWriter.Escape(Verdict(r.Levene.P, context.Alpha, "no evidence of unequal variances", "variances differ"))]);
         table.Row(string.Empty, ["Bartlett", "χ² = " + V("bartlett", "statistic"), V("bartlett", "df"), V("bartlett", "p"), HtmlWriter.Escape(Verdict(r.Bartlett.P, context.Alpha, "no evidence of unequal variances", "variances differ (sensitive to non-normality)"))]);
-        if (o.Values.ContainsKey("durbin_watson"))
+        if (o.Values.ContainsKey(TestName.DurbinWatson))
         {
             table.Row("Independence", ["Durbin–Watson, run order", "d = " + V("durbin_watson", "d"), string.Empty, V("durbin_watson", "p"), HtmlWriter.Escape(Verdict(r.Independence!.P, context.Alpha, "no evidence of serial correlation", "positively correlated in run order"))]);
         }

@@ -57,7 +57,7 @@ public sealed class PostHocRenderer : KindRenderer
         }
 
         var method = MethodsName(p.Families[0].Test, p);
-        var bf = s.Review.GetValueOrDefault("brown_forsythe");
+        var bf = s.Review.GetValueOrDefault(TestName.BrownForsythe);
         var why = a.Review.UnequalVariances
             ? $"because the Brown–Forsythe test {w.T("indicated", "indicates")} unequal variances{(bf is null ? string.Empty : " (" + ReportStyle.PPhrase(bf[Stat.P]) + ")")}"
             : $"because the Brown–Forsythe test {w.T("gave", "gives")} no indication of unequal variances{(bf is null ? string.Empty : " (" + ReportStyle.PPhrase(bf[Stat.P]) + ")")}";
@@ -102,7 +102,7 @@ public sealed class PostHocRenderer : KindRenderer
             : $"the differences of each level of {MethodsWriter.E(p.FactorLabel)} from the control {MethodsWriter.E(control)}";
         var method = MethodsName(f.Test, p).Replace(", which does not pool the variances,", " (variances not pooled)", StringComparison.Ordinal);
         var text = w.Did(what, true, "tested", "tested", "test", $" with {method}, which {w.T("held", "holds")} the family-wise error rate at α = {w.AlphaText} over the {MethodsWriter.Df(p.Multiplicity[Stat.M])} comparisons");
-        var hasCi = f.Pairs.Count > 0 && f.Pairs[0].Values.ContainsKey("ci_low");
+        var hasCi = f.Pairs.Count > 0 && f.Pairs[0].Values.ContainsKey(Stat.CiLow);
         text += hasCi ? $", with simultaneous {w.Confidence}% intervals" : string.Empty;
         text += p.Transformed ? "; differences are on the transformed scale." : ".";
         return text;
@@ -134,7 +134,7 @@ public sealed class PostHocRenderer : KindRenderer
     private static string MethodsPair(string test, Dictionary<string, ResultValue> v, MethodsWriter w)
     {
         var text = test == "dunn" ? $"difference in mean rank = {MethodsWriter.S2(v[Stat.Diff])}" : $"difference = {MethodsWriter.S2(v[Stat.Diff])}";
-        if (v.TryGetValue("ci_low", out var lo) && v.TryGetValue("ci_high", out var hi))
+        if (v.TryGetValue(Stat.CiLow, out var lo) && v.TryGetValue(Stat.CiHigh, out var hi))
         {
             text += $", {w.Confidence}% CI [{MethodsWriter.S2(lo)}, {MethodsWriter.S2(hi)}]";
         }
@@ -153,7 +153,7 @@ public sealed class PostHocRenderer : KindRenderer
         var level = context.ConfidenceText + "%";
         foreach (var f in o.Families)
         {
-            var hasCi = f.Pairs.Count > 0 && f.Pairs[0].Values.ContainsKey("ci_low");
+            var hasCi = f.Pairs.Count > 0 && f.Pairs[0].Values.ContainsKey(Stat.CiLow);
             var statName = f.Test switch
             {
                 "tukey_hsd" or "games_howell" => "q",

@@ -51,12 +51,12 @@ public sealed class PowerRenderer : KindRenderer
     private static string MethodsSentence(PowerOutcome p, MethodsWriter w)
     {
         var text = $"For a one-way F test with {MethodsWriter.Words(p.Groups)} groups at α = {Sentences.AlphaText(p.Alpha)}";
-        if (p.Values.TryGetValue("power", out var pw))
+        if (p.Values.TryGetValue(Stat.Power, out var pw))
         {
             text += $" and an effect of Cohen's f = {MethodsWriter.S2(p.Values[Stat.EffectF])}, {MethodsWriter.Df(p.Values[Stat.NPerGroup])} observations per group {w.T("gave", "give")} a power of {MethodsWriter.Fr(pw)}";
         }
 
-        if (p.Required.TryGetValue("n_per_group", out var need))
+        if (p.Required.TryGetValue(Stat.NPerGroup, out var need))
         {
             text += (p.Values.Count > 0 ? "; " : $" and an effect of Cohen's f = {MethodsWriter.S2(p.Required[Stat.EffectF])}, ")
                 + $"{MethodsWriter.Df(need)} per group ({MethodsWriter.Df(p.Required[Stat.NTotal])} in all) would give a power of {MethodsWriter.Fr(p.Required[Stat.Power])}";
