@@ -91,25 +91,8 @@ public static class Compilation
         figures = [];
         format = null;
         var display = studyPath;
-        byte[] bytes;
-        try
+        if (StudyFile.Read(studyPath, display, diagnostics) is not { } bytes)
         {
-            if (new FileInfo(studyPath) is { Exists: true, Length: > DataLimits.MaxStudyFileBytes } big)
-            {
-                diagnostics.FileTooLarge(SourceLocation.None(display), "the study file", studyPath, big.Length, DataLimits.MaxStudyFileBytes);
-                return null;
-            }
-
-            bytes = File.ReadAllBytes(studyPath);
-        }
-        catch (Exception e) when (e is FileNotFoundException or DirectoryNotFoundException)
-        {
-            diagnostics.FileNotFound(SourceLocation.None(display), "study file", studyPath);
-            return null;
-        }
-        catch (Exception e) when (e is IOException or UnauthorizedAccessException)
-        {
-            diagnostics.FileUnreadable(SourceLocation.None(display), studyPath, e.Message);
             return null;
         }
 
@@ -137,29 +120,11 @@ public static class Compilation
 
         // References that cannot be read, or name no block, are reported now and left out later;
         // the build goes on so that the other references (even on the same line) are checked too.
-        var reportedReferences = new HashSet<ReferenceInline>();
-        foreach (var r in syntax.References.Where(r => r.Closed))
-        {
-            var parts = r.Expression?.Parts;
-            if (parts is null)
-            {
-                diagnostics.BadReferenceSyntax(r.Location, r.Text, r.SyntaxError!);
-                reportedReferences.Add(r);
-            }
-            else if (!primary.ContainsKey(parts[0]))
-            {
-                if (!syntax.Blocks.Any(b => b.Id == parts[0]) && !syntax.FailedIds.Contains(parts[0]))
-                {
-                    diagnostics.UnknownBlockReference(r.Location, parts[0], DiagnosticBag.Nearest(parts[0], primary.Keys));
-                }
-
-                reportedReferences.Add(r);
-            }
-        }
+        var reportedReferences = References.CheckTargets(syntax, primary, diagnostics);
 
         var studyDir = Path.GetDirectoryName(Path.GetFullPath(studyPath))!;
         var errorsBeforeData = diagnostics.Items.Count;
-        var datasets = LoadDatasets(header, blocks, studyDir, display, options, diagnostics);
+        var datasets = DatasetLoader.Load(header, blocks, studyDir, display, options.AllowOutsidePaths, diagnostics);
         if (diagnostics.Items.Skip(errorsBeforeData).Any(d => d.Severity == Severity.Error))
         {
             return null;
@@ -194,19 +159,7 @@ public static class Compilation
             context.Outcomes[block.Id] = outcome;
         }
 
-        var resolved = new Dictionary<ReferenceInline, ResolvedReference>();
-        foreach (var r in syntax.References.Where(r => r.Closed && !reportedReferences.Contains(r)))
-        {
-            if (References.Resolve(r, context.Results, primary, header.Alpha, diagnostics) is { } v)
-            {
-                if (!v.Value.Value.IsDefined)
-                {
-                    diagnostics.UndefinedReference(r.Location, r.Text, v.Value.Value.Reason!);
-                }
-
-                resolved[r] = v;
-            }
-        }
+        var resolved = References.ResolveAll(syntax, reportedReferences, context.Results, primary, header.Alpha, diagnostics);
 
         if (diagnostics.HasErrors)
         {
@@ -248,131 +201,5 @@ public static class Compilation
         }
 
         return html;
-    }
-
-    private static Dictionary<string, LoadedDataset> LoadDatasets(
-        StudyHeader header,
-        IReadOnlyList<BoundBlock> blocks,
-        string studyDir,
-        string display,
-        CompileOptions options,
-        DiagnosticBag diagnostics)
-    {
-        var needs = header.Datasets.ToDictionary(d => d.Name, _ => new DatasetNeeds(), StringComparer.Ordinal);
-        foreach (var b in blocks.Where(b => b.Options is FigureKind.Options))
-        {
-            // A figure reads no dataset itself, but most types draw the rows of the block they show.
-            var figure = (FigureKind.Options)b.Options!;
-            if (!FigureKind.DrawnFromStatistics.Contains(figure.Type)
-                && (figure.Source.Data ?? figure.Source.Of?.Data) is { } sourceData
-                && header.Datasets.FirstOrDefault(d => d.Name == sourceData) is { Aggregate: true } aggregatedSource)
-            {
-                diagnostics.AggregateProblem(b.Location, aggregatedSource.Name, $"a '{figure.Type}' figure draws the rows of block '{figure.Source.Id}', and the database aggregates this dataset (aggregate: true); on aggregated data only {string.Join(" and ", FigureKind.DrawnFromStatistics.Select(t => "'" + t + "'"))} figures are drawn (declare a second dataset on the same file with a sampling query for the other figures)");
-            }
-        }
-
-        foreach (var b in blocks.Where(b => b.Data is not null))
-        {
-            var n = needs[b.Data!];
-            if (b.Kind.NeedsRows && header.Datasets.FirstOrDefault(d => d.Name == b.Data) is { Aggregate: true } aggregated)
-            {
-                diagnostics.AggregateProblem(b.Location, aggregated.Name, $"a '{b.Kind.Name}' block needs the rows, and the database aggregates this dataset (aggregate: true); only anova, summary and posthoc blocks run on aggregated data in this version (declare a second dataset on the same file with a sampling query for the other blocks)");
-            }
-
-            if (b.Response is not null)
-            {
-                n.Numeric.TryAdd(b.Response, b.ResponseLocation);
-                n.Responses.Add(b.Response);
-            }
-
-            foreach (var f in b.Factors)
-            {
-                n.Factors.TryAdd(f.Name, (f, f.ColumnLocation));
-            }
-
-            foreach (var w in b.Where)
-            {
-                n.Factors.TryAdd(w.Factor.Name, (w.Factor, w.Factor.ColumnLocation));
-            }
-
-            if (header.Order is { } order && b.Kind is AnovaKind)
-            {
-                n.Numeric.TryAdd(order, header.OrderLocation);
-                n.Order = order;
-            }
-        }
-
-        // With one dataset, every declared factor is checked against it (column present, levels
-        // declared), even one no block uses yet: a misspelt column must not pass silently.
-        if (header.Datasets is [{ Aggregate: false } only])
-        {
-            foreach (var f in header.Factors)
-            {
-                needs[only.Name].Factors.TryAdd(f.Name, (f, f.ColumnLocation));
-            }
-        }
-
-        var loaded = new Dictionary<string, LoadedDataset>(StringComparer.Ordinal);
-        var studyFolder = Path.GetDirectoryName(display);
-        foreach (var spec in header.Datasets)
-        {
-            if (spec.Format == DataFormat.Postgres)
-            {
-                // A server, not a file: no path rules, no file hash (see Data/Sources/PostgresSource).
-                if (Data.Sources.PostgresSource.Load(spec, needs[spec.Name], diagnostics) is { } server)
-                {
-                    loaded[spec.Name] = server;
-                }
-
-                continue;
-            }
-
-            // The real path (links followed as the kernel does), checked to be a regular file; it is
-            // what is hashed and read.
-            if (PathGuard.Locate(studyDir, spec, options.AllowOutsidePaths, diagnostics) is not { } full)
-            {
-                continue;
-            }
-
-            var dataDisplay = string.IsNullOrEmpty(studyFolder) ? spec.Path : Path.Combine(studyFolder, spec.Path).Replace('\\', '/');
-            if (spec.Format != DataFormat.Csv)
-            {
-                if (Data.Sources.SourceLoader.Load(spec, full, dataDisplay, needs[spec.Name], diagnostics) is { } other)
-                {
-                    loaded[spec.Name] = other;
-                }
-
-                continue;
-            }
-
-            byte[] bytes;
-            try
-            {
-                if (new FileInfo(full) is { Exists: true, Length: > DataLimits.MaxDataFileBytes } big)
-                {
-                    diagnostics.FileTooLarge(spec.PathLocation, "data file", spec.Path, big.Length, DataLimits.MaxDataFileBytes);
-                    continue;
-                }
-
-                bytes = File.ReadAllBytes(full);
-            }
-            catch (Exception e) when (e is FileNotFoundException or DirectoryNotFoundException)
-            {
-                diagnostics.FileNotFound(spec.PathLocation, "data file", spec.Path);
-                continue;
-            }
-            catch (Exception e) when (e is IOException or UnauthorizedAccessException)
-            {
-                diagnostics.FileUnreadable(spec.PathLocation, spec.Path, e.Message);
-                continue;
-            }
-
-            if (CsvLoader.Load(spec, bytes, dataDisplay, needs[spec.Name], diagnostics) is { } ds)
-            {
-                loaded[spec.Name] = ds;
-            }
-        }
-
-        return loaded;
     }
 }

@@ -11,7 +11,7 @@ public static class DataLimits
     public const long MaxDataFileBytes = 256L * 1024 * 1024;
 
     /// <summary>Largest study file read: 16 MiB (a study is prose and block headers, not data).</summary>
-    public const long MaxStudyFileBytes = 16L * 1024 * 1024;
+    public const long MaxStudyFileBytes = Syntax.StudyFile.MaxBytes;
 
     /// <summary>
     /// Longest field of a CSV/TSV file, in UTF-8 bytes: 1 MiB. No level name or number comes near

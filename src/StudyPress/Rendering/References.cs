@@ -31,6 +31,55 @@ public static class References
         ("df", "degrees of freedom: whole numbers as such, others with two decimals"),
     ];
 
+    /// <summary>
+    /// Reports the references that cannot be read or name no block (one message each; a block that
+    /// failed to parse is already reported) and returns them, to be left out of resolution.
+    /// </summary>
+    public static HashSet<ReferenceInline> CheckTargets(StudySyntax syntax, IReadOnlyDictionary<string, string> primaryTests, DiagnosticBag diagnostics)
+    {
+        var reported = new HashSet<ReferenceInline>();
+        foreach (var r in syntax.References.Where(r => r.Closed))
+        {
+            var parts = r.Expression?.Parts;
+            if (parts is null)
+            {
+                diagnostics.BadReferenceSyntax(r.Location, r.Text, r.SyntaxError!);
+                reported.Add(r);
+            }
+            else if (!primaryTests.ContainsKey(parts[0]))
+            {
+                if (!syntax.Blocks.Any(b => b.Id == parts[0]) && !syntax.FailedIds.Contains(parts[0]))
+                {
+                    diagnostics.UnknownBlockReference(r.Location, parts[0], DiagnosticBag.Nearest(parts[0], primaryTests.Keys));
+                }
+
+                reported.Add(r);
+            }
+        }
+
+        return reported;
+    }
+
+    /// <summary>Resolves every reference not already reported; a value that is not defined is an error at its reference.</summary>
+    public static Dictionary<ReferenceInline, ResolvedReference> ResolveAll(StudySyntax syntax, IReadOnlySet<ReferenceInline> reported, ResultSet results, IReadOnlyDictionary<string, string> primaryTests, double alpha, DiagnosticBag diagnostics)
+    {
+        var resolved = new Dictionary<ReferenceInline, ResolvedReference>();
+        foreach (var r in syntax.References.Where(r => r.Closed && !reported.Contains(r)))
+        {
+            if (Resolve(r, results, primaryTests, alpha, diagnostics) is { } v)
+            {
+                if (!v.Value.Value.IsDefined)
+                {
+                    diagnostics.UndefinedReference(r.Location, r.Text, v.Value.Value.Reason!);
+                }
+
+                resolved[r] = v;
+            }
+        }
+
+        return resolved;
+    }
+
     /// <summary>Resolves a reference against the values; reports and returns null on failure.</summary>
     public static ResolvedReference? Resolve(ReferenceInline reference, ResultSet results, IReadOnlyDictionary<string, string> primaryTests, double alpha, DiagnosticBag diagnostics)
     {
