@@ -64,26 +64,10 @@ public sealed partial class SummaryEvaluator
             Add(Stat.Min, o.Min);
             Add(Stat.Max, o.Max);
             outcome.Groups.Add((label, (int)Math.Min(s.N, int.MaxValue), map));
-            if (s.N < 2)
-            {
-                outcome.Warnings.Add($"Group '{label}' has a single observation: its spread and interval are not defined.");
-            }
         }
 
-        var small = outcome.Groups.Where(g => g.N is >= 2 and < 5).Select(g => g.Label).ToList();
-        if (small.Count > 0)
-        {
-            outcome.Warnings.Add($"Groups with fewer than 5 observations ({string.Join(", ", small.Select(StudyPress.Charts.BidiText.Isolate))}): their means and intervals are imprecise, and quartiles of so few values say little.");
-        }
-
-        outcome.Notes.Add(prepared.Quantiles
-            ? "n, mean, SD, SE and the interval were computed from per-cell counts, means and sums of squares computed by the database (aggregate: true); median, quartiles, min and max by the database over each group's rows (quantile_cont or percentile_cont, linear interpolation). The box plot was not drawn: the rows were not loaded."
-            : "n, mean, SD, SE and the interval were computed from per-cell counts, means and sums of squares computed by the database (aggregate: true); min and max by the database over each group's rows. SQLite computes no quantiles, so the median and quartiles are not defined. The box plot was not drawn: the rows were not loaded.");
-        if (prepared.Dropped > 0)
-        {
-            outcome.Notes.Add(string.Create(CultureInfo.InvariantCulture, $"{prepared.Dropped} row(s) with a missing value were left out."));
-        }
-
+        outcome.DatabaseQuantiles = prepared.Quantiles;
+        outcome.DroppedMissing = prepared.Dropped;
         return outcome;
     }
 }

@@ -20,6 +20,12 @@ public sealed class SummaryOutcome(BoundBlock block) : BlockOutcome(block)
 
     /// <summary>Whether the statistics came from the rows or from the database's cell statistics.</summary>
     public AnovaRoute Route { get; set; } = AnovaRoute.Rows;
+
+    /// <summary>Rows left out because the response or a factor was missing.</summary>
+    public long DroppedMissing { get; set; }
+
+    /// <summary>Cells route: whether the database computed the quantiles (SQLite computes none).</summary>
+    public bool DatabaseQuantiles { get; set; }
 }
 
 /// <summary>Evaluates <c>summary</c> blocks into values (no HTML, no report text).</summary>
@@ -72,10 +78,6 @@ public sealed partial class SummaryEvaluator : KindEvaluator
             Add(Stat.Min, Statistics.Quantity.Of(s.Min));
             Add(Stat.Max, Statistics.Quantity.Of(s.Max));
             outcome.Groups.Add((label, s.N, map));
-            if (s.N < 2)
-            {
-                outcome.Warnings.Add($"Group '{label}' has a single observation: its spread and interval are not defined.");
-            }
         }
 
         // Groups whose every response is missing have no rows in the data, but they are part of
@@ -96,20 +98,10 @@ public sealed partial class SummaryEvaluator : KindEvaluator
                 }
 
                 outcome.Groups.Add((label, 0, map));
-                outcome.Warnings.Add($"Group '{label}' has no observations: every one of its {count} response(s) is missing, so it is left out of the analyses of these data.");
             }
         }
 
-        var small = outcome.Groups.Where(g => g.N is >= 2 and < 5).Select(g => g.Label).ToList();
-        if (small.Count > 0)
-        {
-            outcome.Warnings.Add($"Groups with fewer than 5 observations ({string.Join(", ", small.Select(StudyPress.Charts.BidiText.Isolate))}): their means and intervals are imprecise, and quartiles of so few values say little.");
-        }
-
-        if (data.DroppedMissing > 0)
-        {
-            outcome.Notes.Add(string.Create(System.Globalization.CultureInfo.InvariantCulture, $"{data.DroppedMissing} row(s) with a missing value were left out."));
-        }
+        outcome.DroppedMissing = data.DroppedMissing;
 
         if (context.Header.Report.Figures && data.Factors.Count > 0 && Figures.Box(data) is { } box)
         {

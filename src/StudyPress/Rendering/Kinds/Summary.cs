@@ -1,3 +1,4 @@
+using System.Globalization;
 using System.Runtime.CompilerServices;
 using StudyPress.Binding.Kinds;
 using StudyPress.Binding;
@@ -17,6 +18,55 @@ public sealed class SummaryRenderer : KindRenderer
     internal static void Register() => KindRenderers.Register(new SummaryRenderer());
 
     public override string Kind => "summary";
+
+    public override IEnumerable<string> Warnings(BlockOutcome outcome, RenderContext context)
+    {
+        if (outcome is not SummaryOutcome o)
+        {
+            yield break;
+        }
+
+        // In group order: groups of one (on the cells route, any group under two), then groups
+        // whose every response is missing (rows route: n = 0).
+        foreach (var (label, n, values) in o.Groups)
+        {
+            if (o.Route == AnovaRoute.Cells ? n < 2 : n == 1)
+            {
+                yield return $"Group '{label}' has a single observation: its spread and interval are not defined.";
+            }
+            else if (n == 0)
+            {
+                var count = (long)values[Stat.Missing].Value.Value;
+                yield return string.Create(CultureInfo.InvariantCulture, $"Group '{label}' has no observations: every one of its {count} response(s) is missing, so it is left out of the analyses of these data.");
+            }
+        }
+
+        var small = o.Groups.Where(g => g.N is >= 2 and < 5).Select(g => g.Label).ToList();
+        if (small.Count > 0)
+        {
+            yield return $"Groups with fewer than 5 observations ({string.Join(", ", small.Select(StudyPress.Charts.BidiText.Isolate))}): their means and intervals are imprecise, and quartiles of so few values say little.";
+        }
+    }
+
+    public override IEnumerable<string> Notes(BlockOutcome outcome, RenderContext context)
+    {
+        if (outcome is not SummaryOutcome { Groups.Count: > 0 } o)
+        {
+            yield break;
+        }
+
+        if (o.Route == AnovaRoute.Cells)
+        {
+            yield return o.DatabaseQuantiles
+                ? "n, mean, SD, SE and the interval were computed from per-cell counts, means and sums of squares computed by the database (aggregate: true); median, quartiles, min and max by the database over each group's rows (quantile_cont or percentile_cont, linear interpolation). The box plot was not drawn: the rows were not loaded."
+                : "n, mean, SD, SE and the interval were computed from per-cell counts, means and sums of squares computed by the database (aggregate: true); min and max by the database over each group's rows. SQLite computes no quantiles, so the median and quartiles are not defined. The box plot was not drawn: the rows were not loaded.";
+        }
+
+        if (o.DroppedMissing > 0)
+        {
+            yield return string.Create(CultureInfo.InvariantCulture, $"{o.DroppedMissing} row(s) with a missing value were left out.");
+        }
+    }
 
     /// <summary>The summaries' sentence in a methods paragraph (written once, however many summary blocks).</summary>
     public override IEnumerable<string> Methods(MethodsPart part, MethodsSection? section, BlockOutcome outcome, MethodsWriter w) =>
