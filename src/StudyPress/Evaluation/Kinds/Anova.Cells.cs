@@ -108,27 +108,14 @@ public sealed partial class AnovaEvaluator
             OneFactorCells(context, block, outcome, options, cells, inputs);
         }
 
-        var small = cells.Where(c => c.Count is > 1 and < 5).ToList();
-        if (cells.Any(c => c.Count == 1))
-        {
-            outcome.Warnings.Add("Some groups have a single observation. They add nothing to the residual variance, and no check of their spread is possible.");
-        }
-
-        if (small.Count > 0)
-        {
-            outcome.Warnings.Add("Some groups have fewer than 5 observations: the test has little power to detect differences.");
-        }
-
-        if (block.Factors.Count > 1 && cells.Select(c => c.Count).Distinct().Count() > 1)
-        {
-            outcome.Warnings.Add("The design is unbalanced: the sums of squares depend on the SS type chosen.");
-        }
-
-        outcome.Notes.Add(CellsMethodNote);
-        if (dropped > 0)
-        {
-            outcome.Notes.Add(string.Create(CultureInfo.InvariantCulture, $"{dropped} row(s) with a missing value were left out of this analysis."));
-        }
+        // The cells route names no groups in its cautions (the labels are the database's cells).
+        outcome.Cautions = new AnovaCautions(
+            cells.Any(c => c.Count == 1) ? ["*"] : [],
+            cells.Any(c => c.Count is > 1 and < 5) ? ["*"] : [],
+            block.Factors.Count > 1 && cells.Select(c => c.Count).Distinct().Count() > 1,
+            false,
+            dropped,
+            []);
 
         return outcome;
     }

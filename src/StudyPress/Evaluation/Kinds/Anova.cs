@@ -43,6 +43,18 @@ public sealed record AnovaFit(
 }
 
 /// <summary>
+/// What an anova block's cautions rest on: groups of one, small groups (labels on the rows route),
+/// an unbalanced layout, rows left out, groups without any response.
+/// </summary>
+public sealed record AnovaCautions(
+    IReadOnlyList<string> SingleGroups,
+    IReadOnlyList<string> SmallGroups,
+    bool Unbalanced,
+    bool Interaction,
+    long DroppedMissing,
+    IReadOnlyList<string> EmptyGroups);
+
+/// <summary>
 /// One anova block evaluated, on either route (<see cref="AnovaRoute"/>): the table
 /// (<see cref="Fit"/>) and its manifest values always; the rows' data, per-observation fit and
 /// assumption review only when <see cref="RowsAvailable"/>; the cells and Bartlett's test only on
@@ -54,6 +66,9 @@ public sealed class AnovaOutcome(BoundBlock block) : BlockOutcome(block)
 
     /// <summary>Which data the numbers come from.</summary>
     public AnovaRoute Route { get; set; } = AnovaRoute.Rows;
+
+    /// <summary>The facts the block's cautions and notes are written from (set once the model is fitted).</summary>
+    public AnovaCautions? Cautions { get; set; }
 
     /// <summary>Whether the rows were read (residuals, rank tests and figures exist only then).</summary>
     public bool RowsAvailable => Route == AnovaRoute.Rows;
@@ -397,35 +412,12 @@ public sealed partial class AnovaEvaluator : KindEvaluator
     private static void AddCautions(EvaluationContext context, BoundBlock block, AnovaOutcome outcome, BlockData data, AnovaKind.Options options)
     {
         var cells = data.Cells();
-        var ones = cells.Where(c => c.Values.Length == 1).Select(c => c.Label).ToList();
-        if (ones.Count > 0)
-        {
-            outcome.Warnings.Add($"Single-observation group(s): {string.Join(", ", ones)}. They add nothing to the residual variance, and no check of their spread is possible.");
-        }
-
-        var small = cells.Where(c => c.Values.Length is > 1 and < 5).Select(c => c.Label).ToList();
-        if (small.Count > 0)
-        {
-            outcome.Warnings.Add($"Small group(s) (fewer than 5 observations): {string.Join(", ", small.Select(StudyPress.Charts.BidiText.Isolate))}. The test has little power to detect differences, and normality and equal variances cannot be judged well from so few values.");
-        }
-
-        var unbalanced = cells.Select(c => c.Values.Length).Distinct().Count() > 1;
-        if (unbalanced && data.Factors.Count > 1)
-        {
-            outcome.Warnings.Add(options.Interaction
-                ? "The design is unbalanced and includes interactions: the sums of squares depend on the SS type, and a main effect is hard to interpret on its own when its factor interacts with another."
-                : "The design is unbalanced: the sums of squares depend on the SS type chosen.");
-        }
-
-        if (data.DroppedMissing > 0)
-        {
-            outcome.Notes.Add(string.Create(CultureInfo.InvariantCulture, $"{data.DroppedMissing} row(s) with a missing value were left out of this analysis."));
-        }
-
-        var empty = SummaryEvaluator.EmptyGroups(context, block, data);
-        if (empty.Count > 0)
-        {
-            outcome.Notes.Add($"Group(s) without any observed response ({string.Join(", ", empty)}): every response is missing, so they are not part of this analysis, its comparisons or its figures.");
-        }
+        outcome.Cautions = new AnovaCautions(
+            [.. cells.Where(c => c.Values.Length == 1).Select(c => c.Label)],
+            [.. cells.Where(c => c.Values.Length is > 1 and < 5).Select(c => c.Label)],
+            cells.Select(c => c.Values.Length).Distinct().Count() > 1 && data.Factors.Count > 1,
+            options.Interaction,
+            data.DroppedMissing,
+            SummaryEvaluator.EmptyGroups(context, block, data));
     }
 }

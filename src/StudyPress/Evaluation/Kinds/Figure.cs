@@ -6,6 +6,12 @@ using StudyPress.Evaluation;
 
 namespace StudyPress.Evaluation.Kinds;
 
+/// <summary>What a figure block drew; <see cref="NotDrawn"/> when its source gave nothing to draw.</summary>
+public sealed class FigureOutcome(BoundBlock block) : BlockOutcome(block)
+{
+    public bool NotDrawn { get; init; }
+}
+
 /// <summary>Evaluates <c>figure</c> blocks into values (no HTML, no report text).</summary>
 public sealed class FigureEvaluator : KindEvaluator
 {
@@ -18,7 +24,6 @@ public sealed class FigureEvaluator : KindEvaluator
     public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
     {
         var options = (FigureKind.Options)block.Options!;
-        var outcome = new BlockOutcome(block);
         var source = context.Outcomes.GetValueOrDefault(options.Source.Id);
         var caption = block.Caption;
         var data = source switch
@@ -59,12 +64,9 @@ public sealed class FigureEvaluator : KindEvaluator
                 break;
         }
 
-        outcome.Figures.AddRange(figures.OfType<Figure>());
-        if (outcome.Figures.Count == 0 && source is not null)
-        {
-            outcome.Notes.Add($"The {options.Type} figure cannot be drawn from block '{options.Source.Id}' (too few values, or the statistics it needs are not defined).");
-        }
-
+        var drawn = figures.OfType<Figure>().ToList();
+        var outcome = new FigureOutcome(block) { NotDrawn = drawn.Count == 0 && source is not null };
+        outcome.Figures.AddRange(drawn);
         return outcome;
     }
 }

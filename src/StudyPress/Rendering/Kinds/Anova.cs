@@ -307,6 +307,74 @@ public sealed class AnovaRenderer : KindRenderer
     private static string MethodsNotComputed(MethodsWriter w) =>
         $"The model's assumptions {w.Be(true)} not checked, and no rank test or least-squares means {w.Be(true)} computed: the checks of the residuals' normality, of equal variances by Brown–Forsythe or Levene, of outliers and of run order, the Kruskal–Wallis test and least-squares means need the rows.";
 
+    public override IEnumerable<string> Warnings(BlockOutcome outcome, RenderContext context)
+    {
+        if (outcome is not AnovaOutcome { Cautions: { } c } a)
+        {
+            yield break;
+        }
+
+        if (a.Route == AnovaRoute.Cells)
+        {
+            if (c.SingleGroups.Count > 0)
+            {
+                yield return "Some groups have a single observation. They add nothing to the residual variance, and no check of their spread is possible.";
+            }
+
+            if (c.SmallGroups.Count > 0)
+            {
+                yield return "Some groups have fewer than 5 observations: the test has little power to detect differences.";
+            }
+
+            if (c.Unbalanced)
+            {
+                yield return "The design is unbalanced: the sums of squares depend on the SS type chosen.";
+            }
+
+            yield break;
+        }
+
+        if (c.SingleGroups.Count > 0)
+        {
+            yield return $"Single-observation group(s): {string.Join(", ", c.SingleGroups)}. They add nothing to the residual variance, and no check of their spread is possible.";
+        }
+
+        if (c.SmallGroups.Count > 0)
+        {
+            yield return $"Small group(s) (fewer than 5 observations): {string.Join(", ", c.SmallGroups.Select(StudyPress.Charts.BidiText.Isolate))}. The test has little power to detect differences, and normality and equal variances cannot be judged well from so few values.";
+        }
+
+        if (c.Unbalanced)
+        {
+            yield return c.Interaction
+                ? "The design is unbalanced and includes interactions: the sums of squares depend on the SS type, and a main effect is hard to interpret on its own when its factor interacts with another."
+                : "The design is unbalanced: the sums of squares depend on the SS type chosen.";
+        }
+    }
+
+    public override IEnumerable<string> Notes(BlockOutcome outcome, RenderContext context)
+    {
+        if (outcome is not AnovaOutcome { Cautions: { } c } a)
+        {
+            yield break;
+        }
+
+        if (a.Route == AnovaRoute.Cells)
+        {
+            yield return AnovaEvaluator.CellsMethodNote;
+        }
+
+        if (c.DroppedMissing > 0)
+        {
+            yield return string.Create(CultureInfo.InvariantCulture, $"{c.DroppedMissing} row(s) with a missing value were left out of this analysis.");
+        }
+
+        if (c.EmptyGroups.Count > 0)
+        {
+            yield return $"Group(s) without any observed response ({string.Join(", ", c.EmptyGroups)}): every response is missing, so they are not part of this analysis, its comparisons or its figures.";
+        }
+    }
+
     public override void Render(HtmlWriter html, BlockOutcome outcome, RenderContext context)
     {
         var o = (AnovaOutcome)outcome;

@@ -20,4 +20,12 @@ public sealed class FigureRenderer : KindRenderer
     public override void Render(HtmlWriter html, BlockOutcome outcome, RenderContext context)
     {
     }
+
+    public override IEnumerable<string> Notes(BlockOutcome outcome, RenderContext context)
+    {
+        if (outcome is FigureOutcome { NotDrawn: true } && outcome.Block.Options is FigureKind.Options options)
+        {
+            yield return $"The {options.Type} figure cannot be drawn from block '{options.Source.Id}' (too few values, or the statistics it needs are not defined).";
+        }
+    }
 }
