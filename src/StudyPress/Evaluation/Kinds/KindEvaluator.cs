@@ -17,15 +17,13 @@ public abstract class KindEvaluator
     public abstract BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics);
 }
 
-/// <summary>What a block produced: its values and anything it needs to render them.</summary>
+/// <summary>
+/// What a block produced: its values and the facts its renderer needs. No report text: cautions
+/// and notes are written by the kind's renderer from these facts.
+/// </summary>
 public class BlockOutcome(BoundBlock block)
 {
     public BoundBlock Block { get; } = block;
-
-    /// <summary>Plain-language notes and cautions to show under the block.</summary>
-    public List<string> Notes { get; } = [];
-
-    public List<string> Warnings { get; } = [];
 
     /// <summary>Charts to show under the block.</summary>
     public List<Figure> Figures { get; } = [];

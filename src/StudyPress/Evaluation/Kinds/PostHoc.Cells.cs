@@ -93,7 +93,7 @@ public sealed partial class PostHocEvaluator
 
         if ((method is "tukey" or "holm" or "bonferroni") && !ms.IsDefined)
         {
-            outcome.Warnings.Add("The residual mean square is not defined (" + ms.Reason + "), so the pooled-variance comparisons cannot be made.");
+            outcome.UndefinedResidual = ms.Reason;
         }
 
         var msValue = ms.IsDefined ? ms.Value : double.NaN;
@@ -116,12 +116,8 @@ public sealed partial class PostHocEvaluator
             outcome.Figures.Add(figure);
         }
 
-        if (groups.Any(g => g.Count < 2))
-        {
-            outcome.Warnings.Add("Some levels have a single observation: comparisons involving them rest entirely on the pooled variance (and are not defined for Games–Howell).");
-        }
-
-        outcome.Notes.Add(CellsMethodNote);
+        outcome.SingleObservationLevels = groups.Any(g => g.Count < 2);
+        outcome.FromCells = true;
         return outcome;
     }
 

@@ -35,6 +35,18 @@ public sealed class PostHocOutcome(BoundBlock block) : BlockOutcome(block)
 
     /// <summary>Whether the comparisons came from the anova's rows or from its cell statistics.</summary>
     public AnovaRoute Route { get; set; } = AnovaRoute.Rows;
+
+    /// <summary>Groups whose every response is missing (not compared).</summary>
+    public IReadOnlyList<string> EmptyGroups { get; set; } = [];
+
+    /// <summary>Why the residual mean square is not defined, when pooled-variance comparisons were asked for.</summary>
+    public string? UndefinedResidual { get; set; }
+
+    /// <summary>Some level has a single observation.</summary>
+    public bool SingleObservationLevels { get; set; }
+
+    /// <summary>Cells route: the comparisons were made (the note on how is shown).</summary>
+    public bool FromCells { get; set; }
 }
 
 /// <summary>Evaluates <c>posthoc</c> blocks into values (no HTML, no report text).</summary>
@@ -82,10 +94,7 @@ public sealed partial class PostHocEvaluator : KindEvaluator
         }
 
         var empty = SummaryEvaluator.EmptyGroups(context, anova.Block, anova.Data);
-        if (empty.Count > 0)
-        {
-            outcome.Notes.Add($"Group(s) without any observed response ({string.Join(", ", empty)}) are not compared: every response in them is missing.");
-        }
+        outcome.EmptyGroups = empty;
 
         if (options.Control is { } control && !factor.Levels.Contains(control))
         {
@@ -133,7 +142,7 @@ public sealed partial class PostHocEvaluator : KindEvaluator
 
         if ((method is "tukey" or "holm" or "bonferroni") && !ms.IsDefined)
         {
-            outcome.Warnings.Add("The residual mean square is not defined (" + ms.Reason + "), so the pooled-variance comparisons cannot be made.");
+            outcome.UndefinedResidual = ms.Reason;
         }
 
         var msValue = ms.IsDefined ? ms.Value : double.NaN;
@@ -162,10 +171,7 @@ public sealed partial class PostHocEvaluator : KindEvaluator
             outcome.Figures.Add(figure);
         }
 
-        if (groups.Any(g => g.Length < 2))
-        {
-            outcome.Warnings.Add("Some levels have a single observation: comparisons involving them rest entirely on the pooled variance (and are not defined for Games–Howell).");
-        }
+        outcome.SingleObservationLevels = groups.Any(g => g.Length < 2);
 
         return outcome;
     }

@@ -15,10 +15,10 @@ public abstract class KindRenderer
     public abstract void Render(HtmlWriter html, BlockOutcome outcome, RenderContext context);
 
     /// <summary>
-    /// Cautions shown under the block's figures. A kind writes them here from its outcome's typed
-    /// facts (evaluation holds no report text); the default shows the outcome's older text list.
+    /// Cautions shown under the block's figures, written from the outcome's typed facts
+    /// (evaluation holds no report text).
     /// </summary>
-    public virtual IEnumerable<string> Warnings(BlockOutcome outcome, RenderContext context) => outcome.Warnings;
+    public virtual IEnumerable<string> Warnings(BlockOutcome outcome, RenderContext context) => [];
 
     /// <summary>
     /// The sentences this kind contributes to one part of a methods paragraph (HTML, numbers as
@@ -29,7 +29,7 @@ public abstract class KindRenderer
     public virtual IEnumerable<string> Methods(MethodsPart part, MethodsSection? section, BlockOutcome outcome, MethodsWriter w) => [];
 
     /// <summary>Plain notes shown after the cautions (rows left out and the like); see <see cref="Warnings"/>.</summary>
-    public virtual IEnumerable<string> Notes(BlockOutcome outcome, RenderContext context) => outcome.Notes;
+    public virtual IEnumerable<string> Notes(BlockOutcome outcome, RenderContext context) => [];
 }
 
 /// <summary>Every kind's renderer, by kind name.</summary>

@@ -142,6 +142,42 @@ public sealed class PostHocRenderer : KindRenderer
         return text + ", " + ReportStyle.PPhrase(v[Stat.PAdj], "adjusted p");
     }
 
+    public override IEnumerable<string> Warnings(BlockOutcome outcome, RenderContext context)
+    {
+        if (outcome is not PostHocOutcome o)
+        {
+            yield break;
+        }
+
+        if (o.UndefinedResidual is { } reason)
+        {
+            yield return "The residual mean square is not defined (" + reason + "), so the pooled-variance comparisons cannot be made.";
+        }
+
+        if (o.SingleObservationLevels)
+        {
+            yield return "Some levels have a single observation: comparisons involving them rest entirely on the pooled variance (and are not defined for Games–Howell).";
+        }
+    }
+
+    public override IEnumerable<string> Notes(BlockOutcome outcome, RenderContext context)
+    {
+        if (outcome is not PostHocOutcome o)
+        {
+            yield break;
+        }
+
+        if (o.EmptyGroups.Count > 0)
+        {
+            yield return $"Group(s) without any observed response ({string.Join(", ", o.EmptyGroups)}) are not compared: every response in them is missing.";
+        }
+
+        if (o.FromCells)
+        {
+            yield return PostHocEvaluator.CellsMethodNote;
+        }
+    }
+
     public override void Render(HtmlWriter html, BlockOutcome outcome, RenderContext context)
     {
         var o = (PostHocOutcome)outcome;
