@@ -135,22 +135,19 @@ public sealed partial class AnovaEvaluator
         var show = options.Welch == "yes";
         if (options.Welch == "yes")
         {
-            outcome.Decisions.Add("Welch's F is shown because it was requested (welch: yes).");
+            outcome.Decisions.Add(new RuleDecision(DecisionRule.WelchRequested, Cells: true));
         }
         else if (options.Welch == "auto")
         {
-            var a = alpha.ToString("R", CultureInfo.InvariantCulture);
             if (bt.P.IsDefined && bt.P.Value < alpha)
             {
                 show = true;
                 outcome.ReadWelch = true;
-                outcome.Decisions.Add($"Rule fired (welch: auto): on aggregated data the variances are compared by Bartlett's test (the rows needed by Brown–Forsythe were not loaded); it found unequal group variances (p {PCells(bt.P)} < α = {a}), so Welch's F, which does not assume equal variances, is shown and is the test to read. Bartlett's test is sensitive to non-normality, which could not be checked.");
+                outcome.Decisions.Add(new RuleDecision(DecisionRule.WelchFired, Cells: true) { P = bt.P });
             }
             else
             {
-                outcome.Decisions.Add(bt.P.IsDefined
-                    ? $"Welch's F is not shown (welch: auto): Bartlett's test, used on aggregated data, found no evidence of unequal variances (p {PCells(bt.P)} ≥ α = {a}). Set 'welch: yes' to show it anyway."
-                    : $"Welch's F is not shown (welch: auto): equal variances could not be checked ({bt.P.Reason}).");
+                outcome.Decisions.Add(new RuleDecision(bt.P.IsDefined ? DecisionRule.WelchNotFired : DecisionRule.WelchUnchecked, Cells: true) { P = bt.P });
             }
         }
 
@@ -167,6 +164,5 @@ public sealed partial class AnovaEvaluator
         }
     }
 
-    private static string PCells(Quantity p) => p.Value < 0.001 ? "< 0.001" : "= " + p.Value.ToString("F3", CultureInfo.InvariantCulture);
 
 }

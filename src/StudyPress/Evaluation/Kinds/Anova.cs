@@ -123,8 +123,8 @@ public sealed class AnovaOutcome(BoundBlock block) : BlockOutcome(block)
 
     public Dictionary<string, ResultValue>? Ranks { get; set; }
 
-    /// <summary>Which automatic rules fired, in plain words.</summary>
-    public List<string> Decisions { get; } = [];
+    /// <summary>Which automatic rules fired, and on what evidence (the renderer words them).</summary>
+    public List<RuleDecision> Decisions { get; } = [];
 
     /// <summary>The assumption checks of this model, computed when first needed (rows route only).</summary>
     public AssumptionReview Review => review ??= RowsAvailable
@@ -359,11 +359,10 @@ public sealed partial class AnovaEvaluator : KindEvaluator
     {
         var factor = outcome.Data!.Factors[0];
         var groups = factor.Split(outcome.Input!.Response);
-        var alpha = context.Header.Alpha.ToString("R", CultureInfo.InvariantCulture);
         var showWelch = options.Welch == "yes";
         if (options.Welch == "yes")
         {
-            outcome.Decisions.Add("Welch's F is shown because it was requested (welch: yes).");
+            outcome.Decisions.Add(new RuleDecision(DecisionRule.WelchRequested));
         }
         else if (options.Welch == "auto")
         {
@@ -372,13 +371,11 @@ public sealed partial class AnovaEvaluator : KindEvaluator
             {
                 showWelch = true;
                 outcome.ReadWelch = true;
-                outcome.Decisions.Add($"Rule fired (welch: auto): the Brown–Forsythe test found unequal group variances (p = {P(bf.P)} < α = {alpha}), so Welch's F, which does not assume equal variances, is shown and is the test to read.");
+                outcome.Decisions.Add(new RuleDecision(DecisionRule.WelchFired) { P = bf.P });
             }
             else
             {
-                outcome.Decisions.Add(bf.P.IsDefined
-                    ? $"Welch's F is not shown (welch: auto): the Brown–Forsythe test found no evidence of unequal variances (p = {P(bf.P)} ≥ α = {alpha}). Set 'welch: yes' to show it anyway."
-                    : $"Welch's F is not shown (welch: auto): the rule did not fire because equal variances could not be checked (Brown–Forsythe: {bf.P.Reason}).");
+                outcome.Decisions.Add(new RuleDecision(bf.P.IsDefined ? DecisionRule.WelchNotFired : DecisionRule.WelchUnchecked) { P = bf.P });
             }
 
             if (outcome.Review.WantsRankTest)
@@ -390,7 +387,7 @@ public sealed partial class AnovaEvaluator : KindEvaluator
                     [Stat.Df] = context.Results.Add(block.Id, TestName.KruskalWallis, factor.Spec.Name, null, null, Stat.Df, kw.Df, inputs),
                     [Stat.P] = context.Results.Add(block.Id, TestName.KruskalWallis, factor.Spec.Name, null, null, Stat.P, kw.P, inputs),
                 };
-                outcome.Decisions.Add(string.Create(CultureInfo.InvariantCulture, $"Rule fired (welch: auto): the residuals depart from normality (Shapiro–Wilk p = {P(outcome.Review.Normality.P)} < α = {alpha}) and the smallest group has only {outcome.Review.SmallestGroup} observations (fewer than {AssumptionReview.SmallGroup}), so the Kruskal–Wallis rank test, which does not assume normality, is shown as well."));
+                outcome.Decisions.Add(new RuleDecision(DecisionRule.RankTestAdded) { P = outcome.Review.Normality.P, SmallestGroup = outcome.Review.SmallestGroup });
             }
         }
 
@@ -407,7 +404,6 @@ public sealed partial class AnovaEvaluator : KindEvaluator
         }
     }
 
-    private static string P(Quantity p) => !p.IsDefined ? "not defined" : p.Value < 0.001 ? "< 0.001" : p.Value.ToString("F3", CultureInfo.InvariantCulture);
 
     private static void AddCautions(EvaluationContext context, BoundBlock block, AnovaOutcome outcome, BlockData data, AnovaKind.Options options)
     {

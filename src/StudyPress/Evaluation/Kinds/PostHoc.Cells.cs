@@ -68,7 +68,6 @@ public sealed partial class PostHocEvaluator
         var ms = fit.ResidualMeanSquare;
         var df = fit.ResidualDf;
         var alpha = context.Header.Alpha;
-        var alphaText = alpha.ToString("R", CultureInfo.InvariantCulture);
         var method = options.Method;
         if (method == "auto")
         {
@@ -77,18 +76,15 @@ public sealed partial class PostHocEvaluator
             if (bt.P.IsDefined && bt.P.Value < alpha)
             {
                 method = "games-howell";
-                outcome.Decisions.Add($"Rule fired (method: auto): on aggregated data the variances are compared by Bartlett's test over the {over} (the rows needed by Brown–Forsythe were not loaded); it found unequal variances (p = {P(bt.P)} < α = {alphaText}), so the Games–Howell procedure, which does not pool the variances, is used. Bartlett's test is sensitive to non-normality, which could not be checked.");
+                outcome.Decisions.Add(new RuleDecision(DecisionRule.GamesHowellFired, Cells: true) { P = bt.P, Over = over });
             }
             else
             {
                 method = "tukey";
-                var chosen = options.Control is null ? "Tukey's HSD" : "Dunnett's comparisons with the control";
-                outcome.Decisions.Add(bt.P.IsDefined
-                    ? $"Method chosen (method: auto): {chosen}, since Bartlett's test over the {over}, used on aggregated data (the rows needed by Brown–Forsythe were not loaded), found no evidence of unequal variances (p = {P(bt.P)})."
-                    : $"Method chosen (method: auto): {chosen}; equal variances could not be checked ({bt.P.Reason}).");
+                outcome.Decisions.Add(new RuleDecision(bt.P.IsDefined ? DecisionRule.PooledChosen : DecisionRule.PooledUnchecked, Cells: true) { P = bt.P, Over = over, WithControl = options.Control is not null });
             }
 
-            outcome.Decisions.Add("Dunn's rank comparisons are not available on aggregated data: they need the ranks of the rows, which were not loaded, and the normality of the residuals could not be checked.");
+            outcome.Decisions.Add(new RuleDecision(DecisionRule.DunnUnavailable, Cells: true));
         }
 
         if ((method is "tukey" or "holm" or "bonferroni") && !ms.IsDefined)

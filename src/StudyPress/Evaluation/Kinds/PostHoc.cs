@@ -27,7 +27,8 @@ public sealed class PostHocOutcome(BoundBlock block) : BlockOutcome(block)
 
     public List<PostHocFamily> Families { get; } = [];
 
-    public List<string> Decisions { get; } = [];
+    /// <summary>Which automatic rules fired, and on what evidence (the renderer words them).</summary>
+    public List<RuleDecision> Decisions { get; } = [];
 
     public Dictionary<string, ResultValue> Multiplicity { get; } = new(StringComparer.Ordinal);
 
@@ -109,7 +110,6 @@ public sealed partial class PostHocEvaluator : KindEvaluator
         var ms = anova.Result.ResidualMeanSquare;
         var df = anova.Result.ResidualDf;
         var alpha = context.Header.Alpha;
-        var alphaText = alpha.ToString("R", CultureInfo.InvariantCulture);
         var method = options.Method;
         if (method == "auto")
         {
@@ -117,26 +117,22 @@ public sealed partial class PostHocEvaluator : KindEvaluator
             if (review.UnequalVariances)
             {
                 method = "games-howell";
-                outcome.Decisions.Add($"Rule fired (method: auto): the Brown–Forsythe test found unequal variances (p = {P(review.BrownForsythe.P)} < α = {alphaText}), so the Games–Howell procedure, which does not pool the variances, is used.");
+                outcome.Decisions.Add(new RuleDecision(DecisionRule.GamesHowellFired) { P = review.BrownForsythe.P });
             }
             else if (!review.BrownForsythe.P.IsDefined)
             {
                 method = "tukey";
-                outcome.Decisions.Add(options.Control is null
-                    ? $"Method chosen (method: auto): Tukey's HSD; the Games–Howell rule did not fire because equal variances could not be checked (Brown–Forsythe: {review.BrownForsythe.P.Reason})."
-                    : $"Method chosen (method: auto): Dunnett's comparisons with the control; the Games–Howell rule did not fire because equal variances could not be checked (Brown–Forsythe: {review.BrownForsythe.P.Reason}).");
+                outcome.Decisions.Add(new RuleDecision(DecisionRule.PooledUnchecked) { P = review.BrownForsythe.P, WithControl = options.Control is not null });
             }
             else
             {
                 method = "tukey";
-                outcome.Decisions.Add(options.Control is null
-                    ? $"Method chosen (method: auto): Tukey's HSD, since the Brown–Forsythe test found no evidence of unequal variances (p = {P(review.BrownForsythe.P)})."
-                    : $"Method chosen (method: auto): Dunnett's comparisons with the control, since the Brown–Forsythe test found no evidence of unequal variances (p = {P(review.BrownForsythe.P)}).");
+                outcome.Decisions.Add(new RuleDecision(DecisionRule.PooledChosen) { P = review.BrownForsythe.P, WithControl = options.Control is not null });
             }
 
             if (review.WantsRankTest)
             {
-                outcome.Decisions.Add(string.Create(CultureInfo.InvariantCulture, $"Rule fired (method: auto): the residuals depart from normality (Shapiro–Wilk p = {P(review.Normality.P)}) and the smallest group has {review.SmallestGroup} observations, so Dunn's rank comparisons (Holm-adjusted) are shown as well."));
+                outcome.Decisions.Add(new RuleDecision(DecisionRule.DunnAdded) { P = review.Normality.P, SmallestGroup = review.SmallestGroup });
             }
         }
 
@@ -224,5 +220,4 @@ public sealed partial class PostHocEvaluator : KindEvaluator
         return family;
     }
 
-    private static string P(Quantity p) => !p.IsDefined ? "not defined" : p.Value < 0.001 ? "< 0.001" : p.Value.ToString("F3", CultureInfo.InvariantCulture);
 }

@@ -436,7 +436,7 @@ public sealed class AnovaRenderer : KindRenderer
         html.Raw("<div class=\"reading\">");
         foreach (var d in o.Decisions)
         {
-            html.Raw("<p class=\"decision\">").Text(d).Raw("</p>");
+            html.Raw("<p class=\"decision\">").Text(Decisions.Text(d, context.AlphaText)).Raw("</p>");
         }
 
         foreach (var (term, v) in o.Terms)
@@ -504,7 +504,7 @@ public sealed class AnovaRenderer : KindRenderer
         html.Raw("<div class=\"reading\">");
         foreach (var d in o.Decisions)
         {
-            html.Raw("<p class=\"decision\">").Text(d).Raw("</p>");
+            html.Raw("<p class=\"decision\">").Text(Decisions.Text(d, context.AlphaText)).Raw("</p>");
         }
 
         foreach (var (term, v) in o.Terms)

@@ -232,7 +232,7 @@ public sealed class PostHocRenderer : KindRenderer
         html.Raw("<div class=\"reading\">");
         foreach (var d in o.Decisions)
         {
-            html.Raw("<p class=\"decision\">").Text(d).Raw("</p>");
+            html.Raw("<p class=\"decision\">").Text(Decisions.Text(d, context.AlphaText)).Raw("</p>");
         }
 
         var main = o.Families[0];
