@@ -138,7 +138,10 @@ public static class BlockKinds
 
     public static IReadOnlyDictionary<string, BlockKind> All => Registered;
 
-    public static IReadOnlySet<string> Names => new SortedSet<string>(Registered.Keys, StringComparer.Ordinal);
+    /// <summary>The kinds' names; read after every module initializer has run, so built once.</summary>
+    public static IReadOnlySet<string> Names => names ??= new SortedSet<string>(Registered.Keys, StringComparer.Ordinal);
+
+    private static SortedSet<string>? names;
 
     /// <summary>Keys every kind accepts.</summary>
     public static readonly string[] CommonKeys = ["data", "response", "factors", "where", "caption"];

@@ -307,7 +307,30 @@ public sealed class AnovaRenderer : KindRenderer
     private static string MethodsNotComputed(MethodsWriter w) =>
         $"The model's assumptions {w.Be(true)} not checked, and no rank test or least-squares means {w.Be(true)} computed: the checks of the residuals' normality, of equal variances by Brown–Forsythe or Levene, of outliers and of run order, the Kruskal–Wallis test and least-squares means need the rows.";
 
-    public override IEnumerable<string> Warnings(BlockOutcome outcome, RenderContext context)
+    /// <summary>Welch's test of the one factor, on either route (the source label is the route's).</summary>
+    private static void WriteWelch(HtmlWriter html, AnovaOutcome o, string source, RenderContext context)
+    {
+        if (o.Welch is not { } w)
+        {
+            return;
+        }
+
+        string V(Dictionary<string, ResultValue> values, string stat) => HtmlWriter.ValueHtml(values[stat], context);
+        var welch = new HtmlTable("welch", "Welch's test (unequal variances allowed)", ["Source", "F", "df1", "df2", "p"]);
+        welch.Row(source, [V(w, Stat.F), V(w, Stat.Df1), V(w, Stat.Df2), V(w, Stat.P)]);
+        welch.WriteTo(html);
+    }
+
+    /// <summary>The automatic rules' decisions, worded (<see cref="Decisions"/>).</summary>
+    private static void WriteDecisions(HtmlWriter html, AnovaOutcome o, RenderContext context)
+    {
+        foreach (var d in o.Decisions)
+        {
+            html.Raw("<p class=\"decision\">").Text(Decisions.Text(d, context.AlphaText)).Raw("</p>");
+        }
+    }
+
+        public override IEnumerable<string> Warnings(BlockOutcome outcome, RenderContext context)
     {
         if (outcome is not AnovaOutcome { Cautions: { } c } a)
         {
@@ -419,12 +442,7 @@ public sealed class AnovaRenderer : KindRenderer
         effects.WriteTo(html);
         RenderMeans(html, o, context);
 
-        if (o.Welch is { } w)
-        {
-            var welch = new HtmlTable("welch", "Welch's test (unequal variances allowed)", ["Source", "F", "df1", "df2", "p"]);
-            welch.Row(Label(o.Terms[0].Term, o), [V(w, "f"), V(w, "df1"), V(w, "df2"), V(w, "p")]);
-            welch.WriteTo(html);
-        }
+        WriteWelch(html, o, Label(o.Terms[0].Term, o), context);
 
         if (o.Ranks is { } r)
         {
@@ -434,10 +452,7 @@ public sealed class AnovaRenderer : KindRenderer
         }
 
         html.Raw("<div class=\"reading\">");
-        foreach (var d in o.Decisions)
-        {
-            html.Raw("<p class=\"decision\">").Text(Decisions.Text(d, context.AlphaText)).Raw("</p>");
-        }
+        WriteDecisions(html, o, context);
 
         foreach (var (term, v) in o.Terms)
         {
@@ -487,12 +502,7 @@ public sealed class AnovaRenderer : KindRenderer
         }
 
         means.WriteTo(html);
-        if (o.Welch is { } w)
-        {
-            var welch = new HtmlTable("welch", "Welch's test (unequal variances allowed)", ["Source", "F", "df1", "df2", "p"]);
-            welch.Row(CellsLabel(o.Terms[0].Term, o), [V(w, "f"), V(w, "df1"), V(w, "df2"), V(w, "p")]);
-            welch.WriteTo(html);
-        }
+        WriteWelch(html, o, CellsLabel(o.Terms[0].Term, o), context);
 
         if (o.Bartlett is { } b)
         {
@@ -502,10 +512,7 @@ public sealed class AnovaRenderer : KindRenderer
         }
 
         html.Raw("<div class=\"reading\">");
-        foreach (var d in o.Decisions)
-        {
-            html.Raw("<p class=\"decision\">").Text(Decisions.Text(d, context.AlphaText)).Raw("</p>");
-        }
+        WriteDecisions(html, o, context);
 
         foreach (var (term, v) in o.Terms)
         {
