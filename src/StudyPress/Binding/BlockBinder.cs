@@ -162,7 +162,7 @@ internal static class BlockBinder
             }
             else
             {
-                factors.AddRange(header.Factors);
+                factors.AddRange(DefaultFactors(header, kind));
             }
 
             if (kind.NeedsFactors && factors.Count == 0 && diagnostics.Items.Count == before && !context.FailedQuietly)
@@ -222,6 +222,14 @@ internal static class BlockBinder
             }
         }
 
+        if (kind is Kinds.AnovaKind)
+        {
+            foreach (var f in factors.Where(f => !f.IsModelFactor))
+            {
+                diagnostics.WholePlotColumnInModel(factorsLocation, f.Name);
+            }
+        }
+
         var caption = keys.String("caption");
         var options = kind.BindOptions(keys, context, diagnostics);
         if (diagnostics.Items.Count > before || context.FailedQuietly)
@@ -242,7 +250,27 @@ internal static class BlockBinder
             Where = where,
             Caption = caption,
             Options = options,
+            WholePlots = kind is Kinds.AnovaKind && factors.Any(f => f.Layout.Plot != Statistics.Designs.PlotLevel.Unit)
+                ? header.Factors.FirstOrDefault(f => f.Layout.NamesWholePlots)
+                : null,
         };
+    }
+
+    /// <summary>
+    /// The factors of a block that names none: for an anova block every factor of the model (not
+    /// the column naming the whole plots); for other kinds, when the header declares a layout, the
+    /// treatments (a summary by block and variety is rarely what is wanted), else every factor.
+    /// </summary>
+    private static List<FactorSpec> DefaultFactors(StudyHeader header, Kinds.BlockKind kind)
+    {
+        var model = header.Factors.Where(f => f.IsModelFactor).ToList();
+        if (kind is Kinds.AnovaKind || !header.Factors.Any(f => f.Layout.IsDeclared))
+        {
+            return model;
+        }
+
+        var treatments = model.Where(f => f.Layout.Role == Statistics.Designs.FactorRole.Treatment).ToList();
+        return treatments.Count > 0 ? treatments : model;
     }
 
     /// <summary>

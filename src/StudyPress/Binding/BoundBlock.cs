@@ -41,6 +41,13 @@ public sealed class BoundBlock
     /// <summary>The kind's own bound options.</summary>
     public object? Options { get; init; }
 
+    /// <summary>
+    /// The header factor naming the whole plots (<c>role: whole-plot</c>), for an anova block of a
+    /// split plot: read with the block's rows to check that whole-plot treatments do not vary
+    /// within a whole plot. Null otherwise.
+    /// </summary>
+    public FactorSpec? WholePlots { get; init; }
+
     /// <summary>The same block over other factors (a kind that names its factors in its own keys, as ranks and friedman do).</summary>
     public BoundBlock WithFactors(IReadOnlyList<FactorSpec> factors, SourceLocation at) => new()
     {
@@ -56,5 +63,6 @@ public sealed class BoundBlock
         Caption = Caption,
         Of = Of,
         Options = Options,
+        WholePlots = WholePlots,
     };
 }

@@ -2,6 +2,8 @@ using System.Globalization;
 using StudyPress.Diagnostics;
 using StudyPress.Syntax;
 
+using StudyPress.Statistics.Designs;
+
 namespace StudyPress.Binding;
 
 /// <summary>One declared input file.</summary>
@@ -74,6 +76,41 @@ public sealed record FactorSpec(
 
     /// <summary>Where the column is named: the factor's <c>column:</c> value, or the factor's key when it names its own column.</summary>
     public SourceLocation ColumnLocation { get; init; } = Location;
+
+    /// <summary>The factor's place in the layout (<c>role</c>, <c>within</c>, <c>plot</c>, <c>codes</c>).</summary>
+    public FactorLayout Layout { get; init; } = FactorLayout.Treatment;
+
+    /// <summary>True for a factor the model compares or models (not a column that only names the whole plots).</summary>
+    public bool IsModelFactor => !Layout.NamesWholePlots;
+}
+
+/// <summary>
+/// Where a factor sits in the layout of the study, as its header entry declares it: a treatment
+/// (the default; in a split plot applied to whole, sub- or sub-sub-plots), a block, a random factor,
+/// or the column naming the whole plots (used to check the layout, not a model term); the factors it
+/// is nested in (<c>within</c>) and whether its codes are unique across the study or restart within
+/// each parent (<c>codes</c>).
+/// </summary>
+public sealed record FactorLayout(
+    FactorRole Role,
+    bool NamesWholePlots,
+    PlotLevel Plot,
+    IReadOnlyList<YScalar> Within,
+    bool CodesRestart)
+{
+    public static readonly FactorLayout Treatment = new(FactorRole.Treatment, false, PlotLevel.Unit, [], false);
+
+    public SourceLocation? RoleLocation { get; init; }
+
+    public SourceLocation? PlotLocation { get; init; }
+
+    public SourceLocation? WithinLocation { get; init; }
+
+    /// <summary>True when the entry says anything about the layout (a role other than treatment, a plot, a nesting).</summary>
+    public bool IsDeclared => Role != FactorRole.Treatment || NamesWholePlots || Plot != PlotLevel.Unit || Within.Count > 0;
+
+    /// <summary>The factor as the design engine takes it.</summary>
+    public DesignFactor ToDesignFactor(string name) => new(name, Role, [.. Within.Select(w => w.Value)], Plot);
 }
 
 /// <summary>Presentation options; <paramref name="Figures"/> false stops kinds from placing their figures.</summary>
@@ -112,7 +149,8 @@ internal static class HeaderBinder
 
     private static readonly string[] DatasetKeys = ["path", "sha256", "delimiter", "decimal", "missing", "format", "sheet", "range", "header-row", "query", "aggregate", "timeout", "server", "port", "database", "tls"];
     private static readonly string[] FormatNames = ["csv", "tsv", "xlsx", "sqlite", "duckdb", "parquet", "postgres"];
-    private static readonly string[] FactorKeys = ["column", "levels", "label"];
+    private static readonly string[] LayoutKeys = ["role", "within", "plot", "codes"];
+    private static readonly string[] FactorKeys = ["column", "levels", "label", .. LayoutKeys];
     private static readonly string[] ReportKeys = ["template", "digits", "p-digits", "figures", Syntax.StudyParser.RawHtmlKey];
     private static readonly string[] DefaultMissing = ["", "NA", "N/A", "."];
 
@@ -121,7 +159,7 @@ internal static class HeaderBinder
         // Keys written one level too shallow are the commonest indentation mistake; report each
         // once, where the indentation must change, and bind as if it were right so that nothing
         // else is reported about it.
-        map = Reindent(map, e => e.Key.Value is "data" or "factors" ? key => !Keys.Contains(key) : null, diagnostics);
+        map = Reindent(map, e => e.Key.Value is "data" or "factors" ? c => !Keys.Contains(c.Key.Value) : null, diagnostics);
         map = ReindentChild(map, "data", DatasetKeys, diagnostics);
         map = ReindentChild(map, "factors", FactorKeys, diagnostics);
         var r = new KeyReader(map, "the header", Keys, diagnostics);
@@ -229,6 +267,7 @@ internal static class HeaderBinder
                 break;
         }
 
+        CheckLayout(factors, diagnostics);
         var orderNode = r.Scalar("order");
         var digits = 3;
         var pDigits = 3;
@@ -278,7 +317,7 @@ internal static class HeaderBinder
     /// <paramref name="opener"/>), reports the first of those once and returns the map with them
     /// moved under the entry.
     /// </summary>
-    private static YMapping Reindent(YMapping map, Func<YEntry, Func<string, bool>?> opener, DiagnosticBag diagnostics)
+    private static YMapping Reindent(YMapping map, Func<YEntry, Func<YEntry, bool>?> opener, DiagnosticBag diagnostics)
     {
         var entries = new List<YEntry>();
         var changed = false;
@@ -288,7 +327,7 @@ internal static class HeaderBinder
             if (e.Value is YScalar { IsNull: true } && opener(e) is { } belongs)
             {
                 var j = i + 1;
-                while (j < map.Entries.Count && belongs(map.Entries[j].Key.Value))
+                while (j < map.Entries.Count && belongs(map.Entries[j]))
                 {
                     j++;
                 }
@@ -318,7 +357,12 @@ internal static class HeaderBinder
             return map;
         }
 
-        var fixedInner = Reindent(inner, e => childKeys.Contains(e.Key.Value) ? null : k => childKeys.Contains(k), diagnostics);
+        // Layout keys (role, plot, within, codes) are also plausible column names ('plot'): an entry
+        // with no value is a factor, so only a written value marks one as indented too little.
+        var fixedInner = Reindent(
+            inner,
+            e => childKeys.Contains(e.Key.Value) ? null : c => childKeys.Contains(c.Key.Value) && (!LayoutKeys.Contains(c.Key.Value) || c.Value is YScalar { IsNull: false } or YSequence),
+            diagnostics);
         return ReferenceEquals(fixedInner, inner)
             ? map
             : new YMapping([.. map.Entries.Select(e => e.Key.Value == key ? new YEntry(e.Key, fixedInner) : e)], map.Location);
@@ -624,6 +668,177 @@ internal static class HeaderBinder
         return new FactorSpec(name, r.String("column") ?? name, levels, levelNodes?.Select(l => l.Location).ToList() ?? [], r.String("label"), e.Key.Location)
         {
             ColumnLocation = columnNode?.Location ?? e.Key.Location,
+            Layout = BindLayout(r, name, diagnostics),
         };
+    }
+
+    private static readonly string[] RoleNames = ["treatment", "block", "random", "whole-plot"];
+    private static readonly string[] PlotNames = ["whole", "sub", "sub-sub"];
+
+    /// <summary>A factor's own layout keys; what involves other factors is checked by <see cref="CheckLayout"/>.</summary>
+    private static FactorLayout BindLayout(KeyReader r, string name, DiagnosticBag diagnostics)
+    {
+        var roleNode = r.Scalar("role");
+        var role = r.Choice("role", RoleNames) ?? "treatment";
+        var plotNode = r.Scalar("plot");
+        var plot = r.Choice("plot", PlotNames) switch
+        {
+            "whole" => PlotLevel.WholePlot,
+            "sub" => PlotLevel.SubPlot,
+            "sub-sub" => PlotLevel.SubSubPlot,
+            _ => PlotLevel.Unit,
+        };
+        var within = r.ScalarList("within") ?? [];
+        var codesNode = r.Scalar("codes");
+        var codes = r.Choice("codes", ["unique", "restart"]);
+        if (plotNode is not null && plot != PlotLevel.Unit && role != "treatment")
+        {
+            diagnostics.PlotOnNonTreatment(plotNode.Location, name, role);
+            plot = PlotLevel.Unit;
+        }
+
+        if (within.Count > 0 && role is "block" or "whole-plot")
+        {
+            diagnostics.WithinOnLayoutFactor(r.KeyLocation("within"), name, role);
+            within = [];
+        }
+
+        if (codesNode is not null && within.Count == 0 && !r.Has("within"))
+        {
+            diagnostics.CodesWithoutWithin(codesNode.Location, name);
+        }
+
+        return new FactorLayout(
+            role switch { "block" => FactorRole.Block, "random" => FactorRole.Random, _ => FactorRole.Treatment },
+            role == "whole-plot",
+            plot,
+            within,
+            codes == "restart")
+        {
+            RoleLocation = roleNode?.Location,
+            PlotLocation = plotNode?.Location,
+            WithinLocation = within.Count > 0 ? r.KeyLocation("within") : null,
+        };
+    }
+
+    /// <summary>
+    /// Checks what the factors' layouts say about each other: nesting names other factors and does
+    /// not go round in a circle; a split plot has blocks, gives every treatment a plot level and skips
+    /// no level; at most one column names the whole plots, and only in a split plot.
+    /// </summary>
+    private static void CheckLayout(List<FactorSpec> factors, DiagnosticBag diagnostics)
+    {
+        var names = factors.Select(f => f.Name).ToList();
+        foreach (var f in factors)
+        {
+            foreach (var w in f.Layout.Within)
+            {
+                if (w.Value == f.Name)
+                {
+                    diagnostics.NestedInItself(w.Location, f.Name);
+                }
+                else if (!names.Contains(w.Value))
+                {
+                    diagnostics.WithinUnknownFactor(w.Location, f.Name, w.Value, DiagnosticBag.Nearest(w.Value, names));
+                }
+                else if (factors.First(g => g.Name == w.Value).Layout.NamesWholePlots)
+                {
+                    diagnostics.WithinWholePlotColumn(w.Location, f.Name, w.Value);
+                }
+            }
+        }
+
+        // A circle: report it once, at the 'within' entry that closes it (the last factor on it in header order).
+        var reported = new HashSet<string>(StringComparer.Ordinal);
+        foreach (var f in factors)
+        {
+            var path = new List<string>();
+            if (Circle(f.Name, factors, path, []) && path.Count > 0 && reported.Add(string.Join(",", path.Order(StringComparer.Ordinal))))
+            {
+                var closer = factors.Last(g => path.Contains(g.Name));
+                var at = closer.Layout.Within.FirstOrDefault(w => path.Contains(w.Value));
+                diagnostics.NestingCircle(at?.Location ?? closer.Location, string.Join(" within ", [.. path, path[0]]));
+            }
+        }
+
+        var plotted = factors.Where(f => f.Layout.Plot != PlotLevel.Unit).ToList();
+        var ids = factors.Where(f => f.Layout.NamesWholePlots).ToList();
+        if (plotted.Count == 0)
+        {
+            foreach (var id in ids)
+            {
+                diagnostics.WholePlotColumnWithoutSplitPlot(id.Layout.RoleLocation ?? id.Location, id.Name);
+            }
+
+            return;
+        }
+
+        foreach (var extra in ids.Skip(1))
+        {
+            diagnostics.SecondWholePlotColumn(extra.Layout.RoleLocation ?? extra.Location, extra.Name, ids[0].Name);
+        }
+
+        if (!factors.Any(f => f.Layout.Role == FactorRole.Block))
+        {
+            diagnostics.SplitPlotWithoutBlocks(plotted[0].Layout.PlotLocation ?? plotted[0].Location, plotted[0].Name);
+        }
+
+        foreach (var t in factors.Where(f => f.Layout.Role == FactorRole.Treatment && !f.Layout.NamesWholePlots && f.Layout.Plot == PlotLevel.Unit))
+        {
+            diagnostics.TreatmentWithoutPlot(t.Location, t.Name);
+        }
+
+        var levels = plotted.Select(f => f.Layout.Plot).ToHashSet();
+        foreach (var f in plotted)
+        {
+            var below = f.Layout.Plot - 1;
+            if (below >= PlotLevel.WholePlot && !levels.Contains(below))
+            {
+                diagnostics.PlotLevelSkipped(f.Layout.PlotLocation ?? f.Location, f.Name, PlotWord(f.Layout.Plot), PlotWord(below));
+                break;
+            }
+        }
+    }
+
+    private static string PlotWord(PlotLevel level) => level switch
+    {
+        PlotLevel.WholePlot => "whole",
+        PlotLevel.SubPlot => "sub",
+        _ => "sub-sub",
+    };
+
+    /// <summary>Whether following 'within' from <paramref name="start"/> comes back to it; <paramref name="path"/> gets the circle.</summary>
+    private static bool Circle(string start, List<FactorSpec> factors, List<string> path, HashSet<string> seen)
+    {
+        var stack = new List<string> { start };
+        return Walk(start);
+
+        bool Walk(string current)
+        {
+            var spec = factors.FirstOrDefault(f => f.Name == current);
+            if (spec is null || !seen.Add(current))
+            {
+                return false;
+            }
+
+            foreach (var w in spec.Layout.Within)
+            {
+                if (w.Value == start && w.Value != current)
+                {
+                    path.AddRange(stack);
+                    return true;
+                }
+
+                stack.Add(w.Value);
+                if (Walk(w.Value))
+                {
+                    return true;
+                }
+
+                stack.RemoveAt(stack.Count - 1);
+            }
+
+            return false;
+        }
     }
 }

@@ -56,6 +56,11 @@ public static class DatasetLoader
                 n.Factors.TryAdd(w.Factor.Name, (w.Factor, w.Factor.ColumnLocation));
             }
 
+            if (b.WholePlots is { } plots)
+            {
+                n.Factors.TryAdd(plots.Name, (plots, plots.ColumnLocation));
+            }
+
             if (header.Order is { } order && b.Kind is AnovaKind)
             {
                 n.Numeric.TryAdd(order, header.OrderLocation);

@@ -131,6 +131,47 @@ public sealed class DiagnosticBag
     public void BlocksSameAsFactor(SourceLocation at, string name) =>
         Error("SP0249", at, $"{Q(name)} is the factor compared; 'blocks' names a different factor, the one whose levels are the blocks (plots, subjects, batches)");
 
+    public void PlotOnNonTreatment(SourceLocation at, string name, string role) =>
+        Error("SP0250", at, $"'plot' says which plots a treatment is applied to, but {Q(name)} has 'role: {role}'; remove 'plot' here (blocks and random factors are not applied to plots)");
+
+    public void WithinOnLayoutFactor(SourceLocation at, string name, string role) =>
+        Error("SP0251", at, role == "block"
+            ? $"a block is not nested in another factor, but {Q(name)} is a block with 'within'; remove 'within', or write 'role: random' if {Q(name)} is a random factor nested in others"
+            : $"{Q(name)} names the whole plots, which are nested in the blocks by definition; remove 'within' here");
+
+    public void CodesWithoutWithin(SourceLocation at, string name) =>
+        Error("SP0252", at, $"'codes' says whether the codes of a nested factor repeat under each parent, but {Q(name)} has no 'within'; add 'within: PARENT' or remove 'codes'");
+
+    public void NestedInItself(SourceLocation at, string name) =>
+        Error("SP0253", at, $"{Q(name)} cannot be nested in itself; 'within' names the factor whose levels contain those of {Q(name)} (a batch within its supplier)");
+
+    public void WithinUnknownFactor(SourceLocation at, string name, string parent, string? suggestion) =>
+        Error("SP0254", at, $"{Q(name)} is declared within {Q(parent)}, which is not a factor of the header{Suggest(suggestion)}");
+
+    public void WithinWholePlotColumn(SourceLocation at, string name, string parent) =>
+        Error("SP0255", at, $"{Q(name)} is declared within {Q(parent)}, the column that names the whole plots; give a treatment 'plot: sub' instead of nesting it in the whole plots");
+
+    public void NestingCircle(SourceLocation at, string circle) =>
+        Error("SP0256", at, $"the nesting goes round in a circle ({circle}); a factor can only be nested in factors above it");
+
+    public void WholePlotColumnWithoutSplitPlot(SourceLocation at, string name) =>
+        Error("SP0257", at, $"{Q(name)} names the whole plots of a split plot, but no treatment says 'plot: whole'; declare the plot level of each treatment, or remove 'role: whole-plot'");
+
+    public void SecondWholePlotColumn(SourceLocation at, string name, string first) =>
+        Error("SP0258", at, $"{Q(first)} already names the whole plots; only one column may have 'role: whole-plot'");
+
+    public void SplitPlotWithoutBlocks(SourceLocation at, string name) =>
+        Error("SP0259", at, $"{Q(name)} is applied to plots of a split plot, but no factor has 'role: block'; declare the blocks (replicates), without which the whole plots cannot be told apart from the treatments");
+
+    public void TreatmentWithoutPlot(SourceLocation at, string name) =>
+        Error("SP0260", at, $"in a split plot every treatment says which plots it is applied to; add 'plot: whole', 'plot: sub' or 'plot: sub-sub' to {Q(name)}");
+
+    public void PlotLevelSkipped(SourceLocation at, string name, string level, string missing) =>
+        Error("SP0261", at, $"{Q(name)} is applied to {level}-plots, but no treatment is applied to {missing}-plots; the plot levels go whole, sub, sub-sub without a gap");
+
+    public void WholePlotColumnInModel(SourceLocation at, string name) =>
+        Error("SP0262", at, $"{Q(name)} names the whole plots ('role: whole-plot'), which the model derives from the blocks and the whole-plot treatments; leave it out of the anova block's factors");
+
     public void HeaderKeyIndented(SourceLocation at, string key, string parent) =>
         Error("SP0248", at, $"{Q(key)} is a header key, but it is indented under {Q(parent + ":")}; start it in column 1");
 
@@ -481,6 +522,30 @@ public sealed class DiagnosticBag
     public void EmptyCell(SourceLocation at, string cell) => Error("SP0504", at, $"the cell {cell} has no observations, so the interaction cannot be estimated; set 'interaction: false' or collect data for it");
 
     public void DesignProblem(SourceLocation at, string message) => Error("SP0505", at, message);
+
+    public void ContradictoryNesting(SourceLocation at, string message, string name) =>
+        Error("SP0390", at, $"{message}; if the codes of {Q(name)} start again under each parent (1, 2, 3 in every one), write 'codes: restart' under {Q(name)}, otherwise correct the data");
+
+    public void VariesWithinWholePlot(SourceLocation at, string name, string plot, string first, int firstLine, string second, int secondLine, bool isBlock) =>
+        Error("SP0391", at, string.Create(CultureInfo.InvariantCulture, $"{Q(name)} varies within whole plot {Q(plot)} ({Q(first)} on data line {firstLine}, {Q(second)} on data line {secondLine}), but {(isBlock ? "a whole plot lies in one block" : "it is declared applied to whole plots (plot: whole)")}; correct the data or the plot level"));
+
+    public void LayoutFactorSingleLevel(SourceLocation at, string name, string what, string level) =>
+        Error("SP0392", at, $"{Q(name)} is a {what} with a single level{(level.Length > 0 ? $" ({Q(level)})" : string.Empty)} in the rows analysed, so its variance cannot be estimated; declare it a treatment, or analyse data with more than one {what.Replace("random factor", "level", StringComparison.Ordinal)}");
+
+    public void ClassicalNeedsBalance(SourceLocation at, string reason) =>
+        Error("SP0393", at, $"'fit: classical' needs balanced data, but {reason}; write 'fit: reml' (or leave 'fit' out) to fit the mixed model, which keeps unbalanced data, or complete the data");
+
+    public void DesignDataProblem(SourceLocation at, string message) => Error("SP0394", at, message);
+
+    public void DesignNeedsRows(SourceLocation at, string dataset) =>
+        Error("SP0395", at, $"the header declares a layout (blocks, plots, random or nested factors), whose analysis needs the rows, and the database aggregates {Q(dataset)} (aggregate: true); declare a second dataset on the same file without 'aggregate' for this block");
+
+    public void DesignOptionUnavailable(SourceLocation at, string option, string instead) =>
+        Error("SP0396", at, $"{Q(option)} is not available in an anova block of a study with a declared layout in this version; {instead}");
+
+    public void DesignViewUnavailable(SourceLocation at, string kind, string of, string why) =>
+        Error("SP0397", at, $"a '{kind}' block cannot analyse {Q(of)}: {why}");
+
 
     public void TransformDomain(SourceLocation at, string transform, string message) => Error("SP0506", at, $"transform {Q(transform)} cannot be applied: {message}");
 

@@ -165,8 +165,29 @@ public static class Stat
     /// <summary>Critical difference of mean ranks.</summary>
     public const string Cd = "cd";
 
+    /// <summary>Denominator degrees of freedom of an F test (fractional for a quasi-F or a mixed model).</summary>
+    public const string DfDen = "df_den";
+
+    /// <summary>Estimated variance of a random term.</summary>
+    public const string Variance = "variance";
+
+    /// <summary>Share of the total variance.</summary>
+    public const string Proportion = "proportion";
+
+    /// <summary>Intraclass correlation.</summary>
+    public const string Icc = "icc";
+
+    /// <summary>Relative efficiency of blocking.</summary>
+    public const string RelativeEfficiency = "relative_efficiency";
+
+    /// <summary>Relative efficiency of blocking, corrected for the error df given to the blocks.</summary>
+    public const string RelativeEfficiencyCorrected = "relative_efficiency_df_corrected";
+
+    /// <summary>Unblocked replicates per treatment the blocked layout was worth.</summary>
+    public const string EquivalentReplicates = "equivalent_replicates";
+
     /// <summary>Stats that are whole numbers (counts, degrees of freedom of exact designs), shown without decimals.</summary>
-    public static IReadOnlySet<string> Counts { get; } = new HashSet<string>(StringComparer.Ordinal) { N, Df, Missing, NPerGroup, NTotal, Df1, Df2, M, NBlocks, BlocksDropped };
+    public static IReadOnlySet<string> Counts { get; } = new HashSet<string>(StringComparer.Ordinal) { N, Df, Missing, NPerGroup, NTotal, Df1, Df2, M, NBlocks, BlocksDropped, DfDen };
 
     /// <summary>Every name, with its meaning (checked against docs/manifest.md by the tests).</summary>
     public static IReadOnlyDictionary<string, string> All { get; } = new Dictionary<string, string>(StringComparer.Ordinal)
@@ -225,6 +246,13 @@ public static class Stat
         [NBlocks] = "Number of complete blocks analysed",
         [BlocksDropped] = "Blocks left out because a treatment had no value",
         [Cd] = "Critical difference of mean ranks",
+        [DfDen] = "denominator degrees of freedom of an F test",
+        [Variance] = "estimated variance of a random term",
+        [Proportion] = "share of the total variance",
+        [Icc] = "intraclass correlation",
+        [RelativeEfficiency] = "relative efficiency of blocking",
+        [RelativeEfficiencyCorrected] = "relative efficiency of blocking, corrected for error df",
+        [EquivalentReplicates] = "unblocked replicates per treatment the blocks were worth",
     };
 }
 
@@ -309,6 +337,15 @@ public static class TestName
     /// <summary>Nemenyi's comparisons after a Friedman test.</summary>
     public const string Nemenyi = "nemenyi";
 
+    /// <summary>Variance components of the random terms.</summary>
+    public const string VarianceComponents = "variance_components";
+
+    /// <summary>Intraclass correlation.</summary>
+    public const string Icc = "icc";
+
+    /// <summary>Relative efficiency of blocking.</summary>
+    public const string BlockingEfficiency = "blocking_efficiency";
+
     /// <summary>Every name, with its meaning (checked against docs/manifest.md by the tests).</summary>
     public static IReadOnlyDictionary<string, string> All { get; } = new Dictionary<string, string>(StringComparer.Ordinal)
     {
@@ -338,5 +375,8 @@ public static class TestName
         [ImanDavenport] = "Iman–Davenport F after a Friedman test",
         [Conover] = "Conover's comparisons after a Friedman test",
         [Nemenyi] = "Nemenyi's comparisons after a Friedman test",
+        [VarianceComponents] = "variance components of the random terms",
+        [Icc] = "intraclass correlation",
+        [BlockingEfficiency] = "relative efficiency of blocking",
     };
 }

@@ -27,7 +27,7 @@ public sealed class AnovaKind : BlockKind
 
     public override string PrimaryTest => "anova";
 
-    public override IReadOnlyList<string> OwnKeys { get; } = ["interaction", "ss-type", "transform", "welch"];
+    public override IReadOnlyList<string> OwnKeys { get; } = ["interaction", "ss-type", "transform", "welch", "fit"];
 
     private static readonly Dictionary<string, TransformKind> Transforms = new(StringComparer.Ordinal)
     {
@@ -39,7 +39,16 @@ public sealed class AnovaKind : BlockKind
         ["box-cox"] = TransformKind.BoxCox,
     };
 
-    public sealed record Options(bool Interaction, SumOfSquaresType SsType, string TransformName, TransformKind Transform, string Welch);
+    /// <param name="Fit">
+    /// For a study whose header declares a layout (blocks, plots, random or nested factors): <c>auto</c>
+    /// (the classical strata when the data are balanced, else the mixed model by REML),
+    /// <c>classical</c> (strata only; unbalanced data are an error at the key) or <c>reml</c>.
+    /// </param>
+    public sealed record Options(bool Interaction, SumOfSquaresType SsType, string TransformName, TransformKind Transform, string Welch, string Fit = "auto")
+    {
+        /// <summary>Where <c>fit</c> was written (the block's location when it was not).</summary>
+        public SourceLocation? FitLocation { get; init; }
+    }
 
     public override object? BindOptions(KeyReader keys, BindContext context, DiagnosticBag diagnostics)
     {
@@ -50,6 +59,10 @@ public sealed class AnovaKind : BlockKind
             (SumOfSquaresType)ss,
             transform,
             Transforms[transform],
-            keys.Choice("welch", ["auto", "yes", "no"]) ?? "auto");
+            keys.Choice("welch", ["auto", "yes", "no"]) ?? "auto",
+            keys.Choice("fit", ["auto", "classical", "reml"]) ?? "auto")
+        {
+            FitLocation = keys.Has("fit") ? keys.KeyLocation("fit") : null,
+        };
     }
 }

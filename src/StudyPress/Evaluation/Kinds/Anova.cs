@@ -132,6 +132,9 @@ public sealed class AnovaOutcome(BoundBlock block) : BlockOutcome(block)
         : throw new InvalidOperationException("the assumption checks need the rows, and this anova block ran on cell statistics");
 
     public bool ReadWelch { get; set; }
+
+    /// <summary>The strata or mixed-model fit, when the header declares a layout (then <see cref="Fit"/> and <see cref="Result"/> are null).</summary>
+    public DesignFit? Design { get; set; }
 }
 
 /// <summary>Evaluates <c>anova</c> blocks into values (no HTML, no report text).</summary>
@@ -146,12 +149,17 @@ public sealed partial class AnovaEvaluator : KindEvaluator
     public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
     {
         var options = (AnovaKind.Options)block.Options!;
+        var model = context.Models.Descriptions[block.Id];
+        if (model.Route == ModelRoute.Design)
+        {
+            return EvaluateDesign(context, block, options, model, diagnostics);
+        }
+
         if (StudyModels.ReadsAggregate(block, context.Datasets))
         {
             return EvaluateCells(context, block, options, diagnostics);
         }
 
-        var model = context.Models.Descriptions[block.Id];
         var outcome = new AnovaOutcome(block) { Model = model };
         var data = context.Select(block, diagnostics);
         if (data is null)
@@ -292,6 +300,7 @@ public sealed partial class AnovaEvaluator : KindEvaluator
             Add(Stat.Df, Quantity.Of(t.Df));
             Add(Stat.Ms, t.MeanSquare);
             Add(Stat.F, t.F);
+            Add(Stat.DfDen, Quantity.Of(dfResidual));
             Add(Stat.P, t.P);
             Add(Stat.FCrit, t.FCritical);
             Add(Stat.Eta2, t.EtaSquared);

@@ -151,6 +151,10 @@ public sealed class MethodsEvaluator : KindEvaluator
                 case RanksOutcome r when r.Test is not null:
                     outcome.Ranks.Add(r);
                     break;
+                case AnovaOutcome { Design: not null } design:
+                    // A declared layout: the anova renderer writes its own sentences.
+                    outcome.Others.Add(design);
+                    break;
                 case AnovaOutcome or AssumptionsOutcome or PostHocOutcome or PowerOutcome or SummaryOutcome or RanksOutcome:
                     break;
                 case var other when other.GetType() != typeof(BlockOutcome):

@@ -24,6 +24,12 @@ public sealed class AnovaRenderer : KindRenderer
     /// <summary>The anova's sentences in a methods paragraph: design, model, decisions, effects, cautions.</summary>
     public override IEnumerable<string> Methods(MethodsPart part, MethodsSection? section, BlockOutcome outcome, MethodsWriter w)
     {
+        if (outcome is AnovaOutcome { Design: { } d } design)
+        {
+            // A design anova is told outside the one-way/factorial sections, all in one place.
+            return part == MethodsPart.Results ? DesignRendering.MethodsSentences(design, d, w) : [];
+        }
+
         if (section is not { } s)
         {
             return [];
@@ -332,6 +338,16 @@ public sealed class AnovaRenderer : KindRenderer
 
         public override IEnumerable<string> Warnings(BlockOutcome outcome, RenderContext context)
     {
+        if (outcome is AnovaOutcome { Design: { } d } design)
+        {
+            foreach (var warning in DesignRendering.Warnings(design, d))
+            {
+                yield return warning;
+            }
+
+            yield break;
+        }
+
         if (outcome is not AnovaOutcome { Cautions: { } c } a)
         {
             yield break;
@@ -382,6 +398,14 @@ public sealed class AnovaRenderer : KindRenderer
             yield break;
         }
 
+        if (a.Design is { } d)
+        {
+            foreach (var note in DesignRendering.Notes(a, d))
+            {
+                yield return note;
+            }
+        }
+
         if (a.Route == AnovaRoute.Cells)
         {
             yield return AnovaEvaluator.CellsMethodNote;
@@ -401,6 +425,12 @@ public sealed class AnovaRenderer : KindRenderer
     public override void Render(HtmlWriter html, BlockOutcome outcome, RenderContext context)
     {
         var o = (AnovaOutcome)outcome;
+        if (o.Design is { } design)
+        {
+            DesignRendering.Render(html, o, design, context);
+            return;
+        }
+
         if (o.Route == AnovaRoute.Cells)
         {
             RenderCells(html, o, context);
