@@ -32,12 +32,19 @@ public sealed class PostHocKind : BlockKind
 
     private static readonly string[] Methods = ["auto", "tukey", "games-howell", "holm", "bonferroni"];
 
-    public sealed record Options(string? Factor, SourceLocation FactorLocation, string Method, string? Control, SourceLocation ControlLocation);
+    public sealed record Options(string? Factor, SourceLocation FactorLocation, string Method, string? Control, SourceLocation ControlLocation)
+    {
+        /// <summary>Where <c>method</c> was written, or null.</summary>
+        public SourceLocation? MethodLocation { get; init; }
+    }
 
     public override object? BindOptions(KeyReader keys, BindContext context, DiagnosticBag diagnostics)
     {
         var f = keys.Scalar("factor");
         var c = keys.Scalar("control");
-        return new Options(f?.Value, f?.Location ?? context.Syntax.Location, keys.Choice("method", Methods) ?? "auto", c?.Value, c?.Location ?? context.Syntax.Location);
+        return new Options(f?.Value, f?.Location ?? context.Syntax.Location, keys.Choice("method", Methods) ?? "auto", c?.Value, c?.Location ?? context.Syntax.Location)
+        {
+            MethodLocation = keys.Scalar("method")?.Location,
+        };
     }
 }

@@ -18,10 +18,13 @@ public sealed class AssumptionsOutcome(BoundBlock block) : BlockOutcome(block)
     public Dictionary<string, Dictionary<string, ResultValue>> Values { get; } = new(StringComparer.Ordinal);
 
     public List<(int Line, Dictionary<string, ResultValue> Values)> Flagged { get; } = [];
+
+    /// <summary>The per-stratum checks of a design anova (then <see cref="Review"/> is null).</summary>
+    public DesignChecks? Design { get; set; }
 }
 
 /// <summary>Evaluates <c>assumptions</c> blocks into values (no HTML, no report text).</summary>
-public sealed class AssumptionsEvaluator : KindEvaluator
+public sealed partial class AssumptionsEvaluator : KindEvaluator
 {
     /// <summary>Registers this part of the kind (see DEVELOPERS.md, "Adding an analysis kind").</summary>
     [ModuleInitializer]
@@ -31,6 +34,11 @@ public sealed class AssumptionsEvaluator : KindEvaluator
 
     public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
     {
+        if (context.Outcomes.GetValueOrDefault(block.Of!.Id) is AnovaOutcome { Design: { } design } designAnova)
+        {
+            return EvaluateDesign(context, block, designAnova, design);
+        }
+
         var outcome = new AssumptionsOutcome(block);
         if (context.Outcomes.GetValueOrDefault(block.Of!.Id) is not AnovaOutcome { Result: not null } anova)
         {

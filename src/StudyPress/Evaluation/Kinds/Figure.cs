@@ -33,6 +33,12 @@ public sealed class FigureEvaluator : KindEvaluator
             _ => null,
         };
         var figures = new List<Figure?>();
+        if (source is AnovaOutcome { Design: not null } && options.Type is "interaction" or "qq" or "residual-histogram" or "residuals-fitted" or "f-distribution")
+        {
+            diagnostics.DesignViewUnavailable(block.Location, "figure", options.Source.Id, $"the '{options.Type}' chart is drawn from a fixed-effects fit, and this anova block's header declares a layout (blocks, plots, random or nested factors); draw 'box' or 'means' from it, and see its assumptions block for the residuals of each stratum");
+            return new FigureOutcome(block);
+        }
+
         switch (options.Type)
         {
             case "box" when data is not null:

@@ -48,6 +48,9 @@ public sealed class PostHocOutcome(BoundBlock block) : BlockOutcome(block)
 
     /// <summary>Cells route: the comparisons were made (the note on how is shown).</summary>
     public bool FromCells { get; set; }
+
+    /// <summary>A design anova: the error term the comparisons use (that of the factor's F test).</summary>
+    public DesignErrorTerm? DesignError { get; set; }
 }
 
 /// <summary>Evaluates <c>posthoc</c> blocks into values (no HTML, no report text).</summary>
@@ -65,6 +68,11 @@ public sealed partial class PostHocEvaluator : KindEvaluator
         if (context.Outcomes.GetValueOrDefault(block.Of!.Id) is AnovaOutcome { Route: AnovaRoute.Cells } cells)
         {
             return EvaluateCells(context, block, options, cells, diagnostics);
+        }
+
+        if (context.Outcomes.GetValueOrDefault(block.Of!.Id) is AnovaOutcome { Design: { } design } designAnova)
+        {
+            return EvaluateDesign(context, block, options, designAnova, design, diagnostics);
         }
 
         var outcome = new PostHocOutcome(block);

@@ -43,6 +43,12 @@ public sealed class PowerEvaluator : KindEvaluator
         var effect = o.Effect;
         string? term = null;
         IReadOnlyList<string> inputs = [];
+        if (o.Of is { } designOf && context.Outcomes.GetValueOrDefault(designOf) is AnovaOutcome { Design: not null })
+        {
+            diagnostics.DesignViewUnavailable(o.Location, "power", designOf, "its header declares a layout (blocks, plots, random or nested factors), and power of the tests of a design with strata is not available in this version; give 'groups' and 'effect' without 'of' for a completely randomized plan");
+            return outcome;
+        }
+
         if (o.Of is { } of && context.Outcomes.GetValueOrDefault(of) is AnovaOutcome { Result: not null } anova)
         {
             var factor = o.Factor is null ? anova.Data!.Factors[0] : anova.Data!.Factors.FirstOrDefault(f => f.Spec.Name == o.Factor);

@@ -102,9 +102,39 @@ public sealed class AssumptionsRenderer : KindRenderer
             : $"At α = {w.AlphaText} the checks {w.T("indicated", "indicate")} that {MethodsWriter.List(failed)}.";
     }
 
+    /// <summary>A design anova's checks: normality per error stratum, with what each stratum's residuals are.</summary>
+    private static void RenderDesign(HtmlWriter html, AssumptionsOutcome o, DesignChecks d, RenderContext context)
+    {
+        var caption = o.Block.Caption ?? $"Normality of the residuals of each error stratum of anova block '{o.Block.Of!.Id}'";
+        var table = new HtmlTable("assumptions", caption, ["Stratum", "Residuals of", "n", "Shapiro–Wilk W", "p", "Verdict"]);
+        foreach (var s in d.Strata)
+        {
+            var p = s.Normality.P;
+            var verdict = !p.IsDefined ? "not tested (" + HtmlWriter.Escape(p.Reason) + ")"
+                : p.Value < context.Alpha ? "departs from normal" : "no departure found";
+            var name = s.Term == "residual" ? "Residual" : DesignRendering.TermLabel(o.Anova!, s.Term.Replace('-', ' ').Replace("whole plot", "whole-plot", StringComparison.Ordinal).Replace("sub sub plot", "sub-sub-plot", StringComparison.Ordinal).Replace("sub plot", "sub-plot", StringComparison.Ordinal));
+            table.Row(name, [HtmlWriter.Escape(s.Unit), s.Count.ToString(CultureInfo.InvariantCulture), HtmlWriter.ValueHtml(s.Values[Stat.W], context), HtmlWriter.ValueHtml(s.Values[Stat.P], context), verdict]);
+        }
+
+        table.WriteTo(html);
+        html.Raw("<p class=\"method\">").Text(d.Method == DesignMethod.Reml
+            ? "The mixed model's conditional residuals (observation minus fixed effects minus predicted random effects) are checked for normality. Equal variances across groups are not tested: the model's variances are per random term, not per group."
+            : "Each error stratum is checked on its own residuals: the finest stratum on the residual of every observation, a coarser stratum (whole plots, a nested random term) on the estimated effect of each of its units, since its F tests rest on those. Equal variances across groups are not tested: in a design with strata the groups do not share one error.").Raw("</p>");
+        if (d.AnyNonNormal(context.Alpha))
+        {
+            html.Raw("<div class=\"reading\"><p>").Text("At least one stratum's residuals depart from a normal distribution. The F tests of the terms tested against that stratum's error may be inaccurate, especially with few units; consider a transformation of the response, and judge by the size of the departure rather than by the p-value alone.").Raw("</p></div>");
+        }
+    }
+
     public override void Render(HtmlWriter html, BlockOutcome outcome, RenderContext context)
     {
         var o = (AssumptionsOutcome)outcome;
+        if (o.Design is { } design)
+        {
+            RenderDesign(html, o, design, context);
+            return;
+        }
+
         if (o.Review is null)
         {
             return;

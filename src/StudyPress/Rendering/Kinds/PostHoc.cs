@@ -176,6 +176,12 @@ public sealed class PostHocRenderer : KindRenderer
         {
             yield return PostHocEvaluator.CellsMethodNote;
         }
+
+        if (o.DesignError is { } e)
+        {
+            var term = e.Term == "residual" ? "the residual" : "the " + e.Term.Replace("(", " (in ", StringComparison.Ordinal);
+            yield return string.Create(System.Globalization.CultureInfo.InvariantCulture, $"The comparisons use {term} mean square ({context.Format.Format(Stat.Ms, e.MeanSquare)} on {e.Df} df), the error against which the anova tested {o.FactorLabel}, so their standard errors respect the layout of the study.");
+        }
     }
 
     public override void Render(HtmlWriter html, BlockOutcome outcome, RenderContext context)
