@@ -1,4 +1,3 @@
-using StudyPress.Statistics.Anova;
 using StudyPress.Statistics.Designs;
 using StudyPress.Statistics.PostHoc;
 
@@ -47,7 +46,7 @@ public sealed record SimpleEffect(
     DesignIssue? Issue)
 {
     /// <summary>The row of the within factor in <see cref="Anova"/>.</summary>
-    public RepeatedRow? Row => Anova?.Rows[0];
+    public RepeatedRow? Row => Anova?.Rows.First(r => r.Kind == RepeatedRowKind.Effect);
 }
 
 /// <summary>
