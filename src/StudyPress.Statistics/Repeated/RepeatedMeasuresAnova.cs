@@ -98,7 +98,7 @@ public sealed record RepeatedMeasuresResult(
     /// <summary>Number of within-subject cells.</summary>
     public int Cells => CellMeans.Count > 0 ? CellMeans[0].Count : WithinLevels.Aggregate(1, (a, l) => a * l.Count);
 
-    /// <summary>The levels of within factor <paramref name="factor"/> in <paramref name="cell"/>.</summary>
+    /// <summary>The level code (into <see cref="WithinLevels"/>) of within factor <paramref name="factor"/> in <paramref name="cell"/>.</summary>
     public int LevelOf(int cell, int factor)
     {
         var stride = 1;

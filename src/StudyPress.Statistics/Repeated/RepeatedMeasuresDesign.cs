@@ -130,7 +130,7 @@ internal sealed class RepeatedLayout
 internal static class RepeatedLayoutBuilder
 {
     public const int MaxFactors = 8;
-    public const int MaxCells = 1000; // contrast matrices are w x w at most
+    public const int MaxCells = 256; // scores cost N w² and contrast matrices are w x w at most
 
     /// <summary>Checks the declaration and the shape of the data; throws on a programming error (lengths).</summary>
     public static DesignIssue? CheckDeclaration(RepeatedMeasuresDesign design, RepeatedMeasuresData data)

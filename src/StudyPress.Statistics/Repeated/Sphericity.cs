@@ -40,7 +40,7 @@ public sealed record SphericityTest(
 /// <item>Mauchly (1940, "Significance test for sphericity of a normal n-variate distribution",
 /// Annals of Mathematical Statistics 11, 204-209): W = det E / (tr E / p)^p, computed from the
 /// eigenvalues λ of E as Π (λ_i / λ̄); χ² = −(ν − (2p² + p + 2)/(6p)) ln W on p(p + 1)/2 − 1 df
-/// (Anderson 2003, An Introduction to Multivariate Statistical Analysis, 3rd ed., section 10.7).
+/// (Anderson 2003, An Introduction to Multivariate Statistical Analysis, 3rd ed., Wiley, ch. 10).
 /// Not defined for p = 1 (two levels: a single contrast, so sphericity holds trivially and both
 /// epsilons are 1), nor when ν &lt; p (E is singular: fewer subjects than contrasts) or when the
 /// multiplier ν − (2p² + p + 2)/(6p) is not positive.</item>
@@ -51,8 +51,8 @@ public sealed record SphericityTest(
 /// of Lecoutre (1991, "A correction for the ε̃ approximate test in repeated measures designs with
 /// two or more independent groups", J. Educ. Stat. 16, 371-372): ε̃ = ((ν + 1) p ε̂ − 2) / (p (ν − p ε̂)),
 /// ν = N − g. Huynh and Feldt's original numerator has N p ε̂ − 2; the two agree for one group
-/// (g = 1) and differ with several. ε̃ is capped at 1; it is not defined when ν − p ε̂ ≤ 0 (too few
-/// subjects for the estimator).</item>
+/// (g = 1) and differ with several. ε̃ is capped at 1; it is not defined when ν − p ε̂ ≤ 0 or the
+/// numerator is not positive (too few subjects for the estimator).</item>
 /// </list>
 /// </summary>
 public static class Sphericity
@@ -108,8 +108,9 @@ public static class Sphericity
         var gg = Math.Clamp(trace * trace / (p * sumSq), lower, 1.0);
         var ggQ = Quantity.Of(gg);
         var hfDen = p * (errorDf - (p * gg));
-        var hf = hfDen > 0
-            ? Quantity.Of(Math.Min(1.0, (((errorDf + 1) * p * gg) - 2) / hfDen))
+        var hfNum = ((errorDf + 1) * p * gg) - 2;
+        var hf = hfDen > 0 && hfNum > 0
+            ? Quantity.Of(Math.Min(1.0, hfNum / hfDen))
             : Quantity.Undefined("there are too few subjects for the Huynh–Feldt estimate (N − g ≤ p ε̂)");
 
         Quantity w, chi, pv;

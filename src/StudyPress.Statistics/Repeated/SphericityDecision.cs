@@ -56,7 +56,7 @@ public sealed record SphericityDecision(
     /// <summary>
     /// The rule: no correction when Mauchly's p ≥ alpha. Otherwise (p &lt; alpha, or the test not
     /// defined because there are fewer subjects than contrasts) the correction follows Girden
-    /// (1992, ANOVA: Repeated Measures, Sage University Paper 84, pp. 19-21): Greenhouse–Geisser
+    /// (1992, ANOVA: Repeated Measures, Sage University Paper series on Quantitative Applications in the Social Sciences 84): Greenhouse–Geisser
     /// when its epsilon is below 0.75, Huynh–Feldt otherwise (Greenhouse–Geisser is conservative
     /// when sphericity is only mildly violated, Huynh–Feldt liberal when strongly violated).
     /// When Huynh–Feldt is chosen but not defined, Greenhouse–Geisser is read and the basis says so.

@@ -112,6 +112,23 @@ public class RepeatedSubjectsTests
         Assert.Contains("G1 y, G2 q", missing.Message, StringComparison.Ordinal);
     }
 
+    // More within-subject cells than the classical route handles (16 x 17 = 272 > 256): an issue,
+    // before any per-subject arrays are built.
+    [Fact]
+    public void TooManyWithinCells_IsDeclarationIssue()
+    {
+        var n = 2 * 16 * 17;
+        var idx = Enumerable.Range(0, n).ToArray();
+        var data = new RepeatedMeasuresData(
+            [.. idx.Select(i => (double)(i % 7))],
+            [.. idx.Select(i => (i / 272).ToString(CultureInfo.InvariantCulture))],
+            [[.. idx.Select(i => ((i / 17) % 16).ToString(CultureInfo.InvariantCulture))], [.. idx.Select(i => (i % 17).ToString(CultureInfo.InvariantCulture))]],
+            []);
+        var issue = RepeatedMeasuresAnova.Check(new RepeatedMeasuresDesign("subject", ["P", "Q"], []), data)!;
+        Assert.Equal(DesignIssueKind.Declaration, issue.Kind);
+        Assert.Contains("256", issue.Message, StringComparison.Ordinal);
+    }
+
     // The completeness report without a fit: the kept and the dropped subjects.
     [Fact]
     public void Completeness_ListsKeptAndDropped()
