@@ -21,6 +21,22 @@ public sealed record RepeatedMixedDesign(
 public sealed record RepeatedMixedResult(RepeatedMixedDesign Design, RemlResult Reml);
 
 /// <summary>
+/// One effect tested by both routes. <paramref name="Agree"/> is true when F, the error df and p
+/// agree to the relative tolerance asked for; when either route leaves a value undefined they agree
+/// only if both do.
+/// </summary>
+public sealed record RouteComparison(
+    string Term,
+    int Df,
+    Quantity ClassicalF,
+    int ClassicalDfError,
+    Quantity ClassicalP,
+    Quantity MixedF,
+    Quantity MixedDfError,
+    Quantity MixedP,
+    bool Agree);
+
+/// <summary>
 /// The mixed-model route for repeated measures with missing measurements: the same long data as
 /// <see cref="RepeatedMeasuresAnova"/>, analysed by <see cref="MixedModel.FitReml"/> (REML,
 /// Satterthwaite df), which keeps incomplete subjects.
@@ -89,5 +105,34 @@ public static class RepeatedMeasuresMixedModel
         }
 
         return new RepeatedMixedResult(d!, MixedModel.FitReml(d!.Factors, d.Data));
+    }
+
+    /// <summary>
+    /// The effects of the classical table beside the mixed model's tests of the same terms (same
+    /// names), so that a report can show both routes when they differ: they do when subjects were
+    /// dropped, when group sizes are unequal and the classical SS type is not 3 (the mixed model
+    /// tests type 3 hypotheses), and when a REML variance estimate is on the boundary.
+    /// </summary>
+    public static IReadOnlyList<RouteComparison> Compare(RepeatedMeasuresResult classical, RemlResult mixed, double relativeTolerance = 1e-6)
+    {
+        ArgumentNullException.ThrowIfNull(classical);
+        ArgumentNullException.ThrowIfNull(mixed);
+        static bool Close(Quantity a, Quantity b, double tol) =>
+            a.IsDefined && b.IsDefined ? Math.Abs(a.Value - b.Value) <= tol * Math.Max(Math.Abs(a.Value), Math.Abs(b.Value)) : a.IsDefined == b.IsDefined;
+
+        var list = new List<RouteComparison>();
+        foreach (var row in classical.Rows.Where(r => r.Kind == RepeatedRowKind.Effect))
+        {
+            var t = mixed.Tests.FirstOrDefault(x => string.Equals(x.Term, row.Term, StringComparison.Ordinal))
+                    ?? throw new ArgumentException("the mixed model has no test of " + row.Term, nameof(mixed));
+            var dfError = classical.Row(row.ErrorTerm!).Df;
+            var agree = t.NumeratorDf == row.Df
+                        && Close(row.F, t.F, relativeTolerance)
+                        && Close(Quantity.Of(dfError), t.DfDenominator, relativeTolerance)
+                        && Close(row.P, t.P, relativeTolerance);
+            list.Add(new RouteComparison(row.Term, row.Df, row.F, dfError, row.P, t.F, t.DfDenominator, t.P, agree));
+        }
+
+        return list;
     }
 }

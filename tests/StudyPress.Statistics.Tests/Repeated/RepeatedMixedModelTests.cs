@@ -102,6 +102,7 @@ public class RepeatedMixedModelTests
                 AssertRelative(V(t.P, "REML p"), V(row.P, "p"), 1e-8, "p " + row.Term + " trial " + trial);
             }
 
+            Assert.All(RepeatedMeasuresMixedModel.Compare(classical, reml, 1e-8), c => Assert.True(c.Agree, c.Term));
             compared++;
         }
 
@@ -126,5 +127,24 @@ public class RepeatedMixedModelTests
         Assert.Equal(2, t.NumeratorDf);
         Assert.True(V(t.P, "p") < 0.01);
         Assert.Equal(FactorRole.Random, mixed.Design.Factors[^1].Role);
+    }
+
+    // Rutherford one-way: the ANOVA estimate of the subject variance is negative (MS subjects 2 <
+    // MS error 2.714), so REML puts it on the boundary (0) and pools the subject stratum into the
+    // error: the mixed F is then 112/2/((14 + 38)/21) = 22.615..., the independent-groups F of the
+    // collection's exact recomputation, not the classical 20.63: the comparison says they differ.
+    [Fact]
+    public void BoundaryEstimate_RoutesDiffer_AndComparisonSaysSo()
+    {
+        var design = RepeatedMeasuresAnovaTests.OneWay;
+        var data = RepeatedMeasuresAnovaTests.OneWayData();
+        var classical = RepeatedMeasuresAnova.Fit(design, data);
+        var mixed = RepeatedMeasuresMixedModel.Fit(design, data).Reml;
+        Assert.True(mixed.Singular);
+        var c = Assert.Single(RepeatedMeasuresMixedModel.Compare(classical, mixed));
+        Assert.False(c.Agree);
+        var independent = Number(Json("rutherford-2001-oneway.expected.json"), "exact_recomputation", "independent_groups", "A", "f");
+        AssertRelative(V(c.MixedF, "mixed F"), independent, 1e-8, "pooled F");
+        AssertRelative(V(c.ClassicalF, "classical F"), 20.6315789474, 1e-9, "classical F (exact recomputation)");
     }
 }
