@@ -22,8 +22,9 @@ public sealed record RepeatedMixedResult(RepeatedMixedDesign Design, RemlResult 
 
 /// <summary>
 /// One effect tested by both routes. <paramref name="Agree"/> is true when F, the error df and p
-/// agree to the relative tolerance asked for; when either route leaves a value undefined they agree
-/// only if both do.
+/// agree to the tolerance asked for, relative to the larger value or absolute below 1 (an F of
+/// rounding size, 1e-31 against 4e-31, agrees); when either route leaves a value undefined they
+/// agree only if both do.
 /// </summary>
 public sealed record RouteComparison(
     string Term,
@@ -118,7 +119,7 @@ public static class RepeatedMeasuresMixedModel
         ArgumentNullException.ThrowIfNull(classical);
         ArgumentNullException.ThrowIfNull(mixed);
         static bool Close(Quantity a, Quantity b, double tol) =>
-            a.IsDefined && b.IsDefined ? Math.Abs(a.Value - b.Value) <= tol * Math.Max(Math.Abs(a.Value), Math.Abs(b.Value)) : a.IsDefined == b.IsDefined;
+            a.IsDefined && b.IsDefined ? Math.Abs(a.Value - b.Value) <= tol * Math.Max(1, Math.Max(Math.Abs(a.Value), Math.Abs(b.Value))) : a.IsDefined == b.IsDefined;
 
         var list = new List<RouteComparison>();
         foreach (var row in classical.Rows.Where(r => r.Kind == RepeatedRowKind.Effect))

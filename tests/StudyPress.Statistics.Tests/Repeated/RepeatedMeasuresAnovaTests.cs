@@ -213,9 +213,15 @@ public class RepeatedMeasuresAnovaTests
     [Theory]
     [InlineData("twoway")]
     [InlineData("model63")]
+    [InlineData("twobetween")]
     public void BalancedDesigns_EqualStrataAnova(string which)
     {
-        var (design, data) = which == "twoway" ? (TwoWay, TwoWayData()) : (Model63, Model63Data());
+        var (design, data) = which switch
+        {
+            "twoway" => (TwoWay, TwoWayData()),
+            "model63" => (Model63, Model63Data()),
+            _ => TwoBetween(),
+        };
         var r = RepeatedMeasuresAnova.Fit(design, data);
         var mixed = RepeatedMeasuresMixedModel.ToDesign(design, data, out var issue)!;
         Assert.Null(issue);
@@ -280,6 +286,17 @@ public class RepeatedMeasuresAnovaTests
         var eb = Json("recompute-sphericity.out.json").GetProperty("twoway_as_mixed_balanced");
         AssertNumpy(rb.SphericityOf("B"), eb.GetProperty("sphericity_B"), "numpy balanced groups");
         AssertRelative(V(rb.Row("A:B").F, "F"), Number(eb, "A:B", "f"), 1e-9, "numpy balanced F A:B");
+    }
+
+    /// <summary>
+    /// Two between factors: the two-way data with A between (subjects 9-16 under A2) and C
+    /// between (odd subjects c1, even c2), B within: 4 groups of 4.
+    /// </summary>
+    internal static (RepeatedMeasuresDesign, RepeatedMeasuresData) TwoBetween()
+    {
+        var d = MixedFromTwoWay(dropFirstTwo: false);
+        IReadOnlyList<string> c = [.. d.Subject.Select(x => int.Parse(x, CultureInfo.InvariantCulture) % 2 == 1 ? "c1" : "c2")];
+        return (new RepeatedMeasuresDesign("subject", ["B"], ["A", "C"]), d with { Between = [d.Between[0], c] });
     }
 
     /// <summary>The two-way data with A read as a between factor: subject s under A2 becomes subject s + 8.</summary>

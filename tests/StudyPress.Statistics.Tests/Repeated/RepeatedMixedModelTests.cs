@@ -147,4 +147,24 @@ public class RepeatedMixedModelTests
         AssertRelative(V(c.MixedF, "mixed F"), independent, 1e-8, "pooled F");
         AssertRelative(V(c.ClassicalF, "classical F"), 20.6315789474, 1e-9, "classical F (exact recomputation)");
     }
+
+    // Two between factors with unequal groups (subjects 1, 2 and 10 removed: groups of 3, 3, 4 and
+    // 3 subjects): the classical type 3 table (unweighted means for the within term) equals
+    // the REML Wald tests, since the subject variance is estimated inside the parameter space here.
+    [Fact]
+    public void TwoBetweenFactors_UnequalGroups_Type3EqualsReml()
+    {
+        var (design, all) = RepeatedMeasuresAnovaTests.TwoBetween();
+        var data = Where(all, i => all.Subject[i] is not ("1" or "2" or "10"));
+        var classical = RepeatedMeasuresAnova.Fit(design, data, SumOfSquaresType.Marginal);
+        Assert.Equal(4, classical.Groups);
+        Assert.True(classical.Row("subject(A:C)").MeanSquare.Value > classical.Row("B:subject(A:C)").MeanSquare.Value);
+        var reml = RepeatedMeasuresMixedModel.Fit(design, data).Reml;
+        Assert.False(reml.Singular);
+        Assert.All(RepeatedMeasuresMixedModel.Compare(classical, reml, 1e-8), c => Assert.True(c.Agree, c.Term));
+
+        // Type 2 differs from type 3 for B here (unequal groups): the comparison says so.
+        var type2 = RepeatedMeasuresAnova.Fit(design, data);
+        Assert.Contains(RepeatedMeasuresMixedModel.Compare(type2, reml, 1e-8), c => !c.Agree && c.Term == "B");
+    }
 }
