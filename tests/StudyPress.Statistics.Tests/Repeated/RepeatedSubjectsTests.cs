@@ -129,6 +129,37 @@ public class RepeatedSubjectsTests
         Assert.Contains("256", issue.Message, StringComparison.Ordinal);
     }
 
+    // Subjects numbered within groups: a dropped subject is named with its group, and only that
+    // subject (not subject 1 of the other groups) is dropped.
+    [Fact]
+    public void NumberedWithinGroups_DropsTheSubjectOfThatGroup()
+    {
+        var data = RepeatedMeasuresAnovaTests.Model63Data();
+        var i = Enumerable.Range(0, data.Response.Length).First(j => data.Subject[j] == "1" && data.Between[0][j] == "2");
+        var fit = RepeatedMeasuresAnova.Fit(RepeatedMeasuresAnovaTests.Model63, Where(data, j => j != i));
+        var d = Assert.Single(fit.Dropped);
+        Assert.Equal("1 (A 2)", d.Subject);
+        Assert.Equal(["2"], d.BetweenLevels);
+        Assert.Equal(11, fit.Subjects.Count);
+        Assert.Contains("1 (A 1)", fit.Subjects);
+    }
+
+    // A response without variation: no F, no sphericity, no crash; the rule has nothing to correct.
+    [Fact]
+    public void ConstantResponse_GivesUndefinedValuesWithReasons()
+    {
+        double[][] y = [[5, 5, 5], [5, 5, 5], [5, 5, 5]];
+        var fit = RepeatedMeasuresAnova.Fit(SphericityTests.Design(false), SphericityTests.FromMatrix(y));
+        var row = fit.Row("t");
+        Assert.False(row.F.IsDefined);
+        Assert.Contains("error mean square is zero", row.F.Reason, StringComparison.Ordinal);
+        Assert.False(row.PartialEtaSquared.IsDefined);
+        var s = fit.SphericityOf("t");
+        Assert.False(s.EpsilonGreenhouseGeisser.IsDefined);
+        Assert.False(row.GreenhouseGeisser!.P.IsDefined);
+        Assert.Equal(SphericityBasis.NotAssessable, SphericityDecision.For(s, 0.05).Basis);
+    }
+
     // The completeness report without a fit: the kept and the dropped subjects.
     [Fact]
     public void Completeness_ListsKeptAndDropped()
