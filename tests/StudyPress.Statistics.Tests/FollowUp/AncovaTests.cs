@@ -212,6 +212,52 @@ public class AncovaTests
         Assert.Equal(15, two.Homogeneity.Df2);
     }
 
+    // The data and the unadjusted analysis agree with the publication's sums of squares, which
+    // are not affected by its sum-of-products misprint (published, UF00080557: xx blocks 372.50,
+    // cultivars 561.33, error 1066.00, to the printed digits; yy blocks 10.44, cultivars 8.47,
+    // error 10.26, computed there by hand with rounded intermediates (the error as 29.17 - 10.44 -
+    // 8.47), so within 0.015 of the exact 10.4316, 8.4639 and 10.2722 of the exact recomputation).
+    [Fact]
+    public void Icta_UnadjustedSumsOfSquares_MatchPublication()
+    {
+        var input = Icta();
+        var y = FactorialAnova.Fit(new AnovaInput(input.Response, input.Factors, false, SumOfSquaresType.Hierarchical, 0.05));
+        Assert.InRange(y.Terms.Single(t => t.Name == "block").SumOfSquares, 10.44 - 0.015, 10.44 + 0.015);
+        Assert.InRange(y.Terms.Single(t => t.Name == "cultivar").SumOfSquares, 8.47 - 0.015, 8.47 + 0.015);
+        Assert.InRange(y.ResidualSumOfSquares, 10.26 - 0.015, 10.26 + 0.015);
+        Accuracy.AssertLre(y.Terms.Single(t => t.Name == "cultivar").SumOfSquares, 8.46393750000, 10, "yy cultivars exact");
+        var x = FactorialAnova.Fit(new AnovaInput(input.Covariates[0].Values, input.Factors, false, SumOfSquaresType.Hierarchical, 0.05));
+        Accuracy.AssertRoundsTo(x.Terms.Single(t => t.Name == "block").SumOfSquares, "372.50", "xx blocks");
+        Accuracy.AssertRoundsTo(x.Terms.Single(t => t.Name == "cultivar").SumOfSquares, "561.33", "xx cultivars");
+        Accuracy.AssertRoundsTo(x.ResidualSumOfSquares, "1066.00", "xx error");
+    }
+
+    // Exact identity (two factors with interaction, unbalanced, invented data): a covariate whose
+    // mean is zero within every cell is orthogonal to every factor column, so each factor term's
+    // adjusted SS (types 2 and 3) equals the ANOVA's SS without the covariate, and the residual
+    // SS drops by the covariate's SS.
+    [Theory]
+    [InlineData(SumOfSquaresType.Hierarchical)]
+    [InlineData(SumOfSquaresType.Marginal)]
+    public void Factorial_CovariateOrthogonalToCells_LeavesFactorSs(SumOfSquaresType type)
+    {
+        int[] a = [0, 0, 0, 0, 0, 0, 0, 1, 1, 1, 1, 1, 1, 1, 1, 1];
+        int[] b = [0, 0, 1, 1, 1, 1, 0, 0, 0, 0, 0, 1, 1, 1, 1, 1];
+        double[] y = [3.2, 4.1, 5.0, 6.2, 5.5, 4.9, 3.9, 7.1, 6.4, 6.8, 7.7, 4.2, 3.6, 5.1, 4.4, 3.0];
+        double[] cov = [1, -1, 2, -1, -1, 0, 0, 3, -1, -1, -1, 2, -2, 1, -1, 0];
+        var factors = new[] { new FactorColumn("A", a, ["a1", "a2"]), new FactorColumn("B", b, ["b1", "b2"]) };
+        var anova = FactorialAnova.Fit(new AnovaInput(y, factors, true, type, 0.05));
+        var r = Ancova.Fit(new AncovaInput(y, factors, [new CovariateColumn("x", cov)], true, type, 0.05));
+        foreach (var term in anova.Terms)
+        {
+            Accuracy.AssertLre(r.Terms.Single(t => t.Name == term.Name).SumOfSquares, term.SumOfSquares, 10, term.Name);
+        }
+
+        var x = r.Terms.Single(t => t.Name == "x").SumOfSquares;
+        Accuracy.AssertLre(r.ResidualSumOfSquares + x, anova.ResidualSumOfSquares, 11, "residual");
+        Assert.Equal(anova.ResidualDf - 1, r.ResidualDf);
+    }
+
     /// <summary>2 to 4 groups; one covariate multiset (3 to 6 values with spread) shuffled in each group; responses.</summary>
     private static Gen<(double[] Cov, double[] Y, int[] Group)> BalancedGen =>
         Gen.Choose(2, 4).SelectMany(k =>
