@@ -51,7 +51,7 @@ public sealed record MarginalMeansResult(
 /// cell rows (the same QR as <see cref="FactorialAnova"/>; never the normal equations).
 /// </para>
 /// <para>
-/// The overload with an error mean square and df uses them instead of the residual (e.g. a
+/// <see cref="ComputeWithError"/> takes an error mean square and df and uses them instead of the residual (e.g. a
 /// split-plot whole-plot factor on the whole-plot error): SE = sqrt(MS_error · L (X'X)⁻¹ L'). For a
 /// balanced split-plot design this is the textbook SE of a whole-plot mean; with imbalance it is an
 /// approximation (the exact SE then mixes strata).
@@ -92,7 +92,7 @@ public static class EstimatedMarginalMeans
     /// Marginal means on a given error mean square and df (e.g. a split-plot's whole-plot error for
     /// the whole-plot factor) instead of the residual; see the class summary.
     /// </summary>
-    public static MarginalMeansResult Compute(
+    public static MarginalMeansResult ComputeWithError(
         AnovaInput input,
         double errorMeanSquare,
         double errorDf,

@@ -91,7 +91,7 @@ public class EstimatedMarginalMeansTests
         var r = EstimatedMarginalMeans.Compute(input, responseCentre: 100);
         Accuracy.AssertLre(r.Terms[0].Means[0].Mean.Value, 100 + (39.0 / 6), 14, "A=x");
         Accuracy.AssertLre(r.Terms[0].Means[0].Se.Value, Math.Sqrt(mse / 6), 13, "se");
-        var given = EstimatedMarginalMeans.Compute(input, 2.5, 3, responseCentre: 100);
+        var given = EstimatedMarginalMeans.ComputeWithError(input, 2.5, 3, responseCentre: 100);
         var m = given.Terms[0].Means[1];
         Accuracy.AssertLre(m.Se.Value, Math.Sqrt(2.5 / 6), 13, "se on given MS");
         Assert.Equal(3, m.Df.Value);
