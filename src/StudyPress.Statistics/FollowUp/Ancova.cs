@@ -87,7 +87,8 @@ public sealed record AncovaResult(
 
 /// <summary>
 /// Analysis of covariance with one or more numeric covariates and one or more fixed factors, fitted
-/// by least squares through a Householder QR of the n x p design (never the normal equations)
+/// by least squares through Householder QR (never the normal equations; the n rows are reduced to
+/// a small triangular factor in one pass over blocks of rows, see <c>Prepared</c>)
 /// (Snedecor and Cochran 1989, Statistical Methods, 8th ed., ch. 18; Milliken and Johnson 2002,
 /// Analysis of Messy Data vol. 3: Analysis of Covariance; Searle 1987, ch. 4 and 8, for the SS types).
 /// <para>
@@ -125,8 +126,165 @@ public static class Ancova
     /// <summary>Null when the model can be fitted; otherwise what is wrong, in words.</summary>
     public static string? Check(AncovaInput input)
     {
+        Prepare(input, out var problem);
+        return problem;
+    }
+
+    /// <summary>Fits the analysis of covariance (see the class summary).</summary>
+    public static AncovaResult Fit(AncovaInput input)
+    {
+        var model = Prepare(input, out var problem);
+        if (problem is not null || model is null)
+        {
+            throw new ArgumentException(problem ?? "the model cannot be fitted", nameof(input));
+        }
+
+        var y = input.Response;
+        var n = y.Length;
+        var coding = model.Coding;
+        var r = model.R;
+        var ry = model.ResponseColumn;
+        var pf = coding.ColumnCount;
+        var q = input.Covariates.Count;
+        var p = pf + q;
+        var all = Enumerable.Range(0, p).ToArray();
+        var qr = HouseholderQr.Factor(r, all);
+        var effects = qr.Effects(ry);
+        var rss = 0.0;
+        for (var i = p; i < effects.Length; i++)
+        {
+            rss += effects[i] * effects[i];
+        }
+
+        var dfRes = n - p;
+        var mse = rss / dfRes;
+        var ssTotal = Groups.SumOfSquares(y, Groups.Mean(y));
+        var covariateColumns = Enumerable.Range(pf, q).ToList();
+        var terms = new List<AnovaTerm>(coding.Terms.Count + q);
+        for (var t = 0; t < coding.Terms.Count; t++)
+        {
+            var columns = SumOfSquaresTypes.AdjustedFor(coding, t, input.SsType);
+            columns.AddRange(covariateColumns);
+            var ss = LastColumnsSs(r, ry, columns, [.. coding.ColumnsOf(t)]);
+            terms.Add(AnovaTable.Term(coding.TermNames[t], [.. coding.Terms[t].Select(f => input.Factors[f].Name)], ss, coding.TermCount[t], rss, dfRes, ssTotal, input.Alpha));
+        }
+
+        for (var c = 0; c < q; c++)
+        {
+            var columns = all.Where(j => j != pf + c).ToList();
+            var ss = LastColumnsSs(r, ry, columns, [pf + c]);
+            terms.Add(AnovaTable.Term(input.Covariates[c].Name, [input.Covariates[c].Name], ss, 1, rss, dfRes, ssTotal, input.Alpha));
+        }
+
+        var b = qr.Coefficients(effects);
+        var inverse = qr.InverseCrossProduct();
+        var slopes = new List<CovariateSlope>(q);
+        for (var c = 0; c < q; c++)
+        {
+            var j = pf + c;
+            var se = Quantity.Of(Math.Sqrt(mse * inverse[j, j]));
+            var tq = se.IsDefined && se.Value > 0 ? Quantity.Of(b[j] / se.Value) : Quantity.Undefined("the residual mean square is zero, so the slope has no standard error");
+            slopes.Add(new CovariateSlope(input.Covariates[c].Name, model.CovariateMeans[c], b[j], se, tq, tq.Map(v => Probability.TTwoSided(v, dfRes)), dfRes));
+        }
+
+        var homogeneity = Homogeneity(input, model, n, rss);
+        var fit = new LinearFit(coding, b, inverse, rss, dfRes);
+        var means = fit.Means(input.Factors, mse, dfRes, input.Alpha, input.ResponseCentre, TransformKind.None, null, null);
+        var comparisons = new List<AdjustedMeanComparison>();
+        foreach (var f in model.Treatment)
+        {
+            comparisons.AddRange(Compare(fit, input, f, mse, dfRes));
+        }
+
+        var method = input.Comparisons == AdjustedMeansComparison.Holm
+            ? "Holm step-down adjustment of t tests of adjusted-mean differences within each factor; Bonferroni intervals"
+            : "Tukey-Kramer style: studentized range with each pair's own standard error (an approximation with covariates)";
+        return new AncovaResult(terms, rss, dfRes, AnovaTable.MeanSquareResidual(rss, dfRes), ssTotal, n - 1, slopes, homogeneity, means, comparisons, method, input.SsType, input.Alpha);
+    }
+
+    /// <summary>
+    /// The reduced problem: the triangular factor R of the QR of the augmented n x m matrix
+    /// [factor coding | centred covariates | treatment-term x covariate products | y]. Every fit
+    /// below (the common-slope model, each SS reduction, the separate-slopes model) regresses the last
+    /// column on a subset of the others, and [X y] = Q R with orthonormal Q preserves every inner
+    /// product, so a QR of the same columns of R gives the same effects, coefficients, residual sums
+    /// of squares and (X'X)⁻¹ as a QR of the n-row matrix. R is computed in one pass over blocks of
+    /// rows, each block stacked under the R of the rows before it and factorised by Householder QR
+    /// (a tall-skinny QR; Demmel, Grigori, Hoemmen and Langou 2012, SIAM J. Sci. Comput. 34,
+    /// A206-A239), so the memory is O(block x m) rather than O(n x m), and no normal equations are formed.
+    /// </summary>
+    private sealed record Prepared(DesignCoding Coding, double[] CovariateMeans, int[] Treatment, List<(int Column, int Covariate)> Extra, double[,] R, double[] ResponseColumn);
+
+    private const int BlockRows = 4096;
+
+    private static Prepared? Prepare(AncovaInput input, out string? problem)
+    {
         ArgumentNullException.ThrowIfNull(input);
         ArgumentNullException.ThrowIfNull(input.Covariates);
+        problem = Validate(input);
+        if (problem is not null)
+        {
+            return null;
+        }
+
+        var anova = new AnovaInput(input.Response, input.Factors, input.Interactions, input.SsType, input.Alpha);
+        var design = AnovaDesign.Check(anova);
+        if (design is not null)
+        {
+            problem = design.Message;
+            return null;
+        }
+
+        var coding = DesignCoding.Build(anova);
+        var n = input.Response.Length;
+        var pf = coding.ColumnCount;
+        var q = input.Covariates.Count;
+        var p = pf + q;
+        if (n <= p)
+        {
+            problem = string.Create(CultureInfo.InvariantCulture, $"the model has {p} parameters but there are only {n} observations; an analysis of covariance needs more observations than parameters");
+            return null;
+        }
+
+        var means = input.Covariates.Select(c => Groups.Mean(c.Values)).ToArray();
+        var treatment = input.TreatmentFactors is null
+            ? [.. Enumerable.Range(0, input.Factors.Count)]
+            : Enumerable.Range(0, input.Factors.Count).Where(f => input.TreatmentFactors.Contains(input.Factors[f].Name, StringComparer.Ordinal)).ToArray();
+        var extra = new List<(int Column, int Covariate)>();
+        for (var t = 0; t < coding.Terms.Count; t++)
+        {
+            if (coding.Terms[t].All(treatment.Contains))
+            {
+                for (var c = 0; c < q; c++)
+                {
+                    extra.AddRange(coding.ColumnsOf(t).Select(j => (j, c)));
+                }
+            }
+        }
+
+        var r = Reduce(input, coding, means, extra);
+        var m = r.GetLength(1);
+        var ry = new double[m];
+        for (var i = 0; i < m; i++)
+        {
+            ry[i] = r[i, m - 1];
+        }
+
+        var qr = HouseholderQr.Factor(r, [.. Enumerable.Range(0, p)]);
+        if (!qr.IsFullRank)
+        {
+            var j = qr.FirstAliasedColumn;
+            problem = j >= pf
+                ? "covariate '" + input.Covariates[j - pf].Name + "' is constant, or a combination of the factors and earlier covariates, so its slope cannot be estimated"
+                : "the factors' effects cannot be separated (the design is rank deficient)";
+            return null;
+        }
+
+        return new Prepared(coding, means, treatment, extra, r, ry);
+    }
+
+    private static string? Validate(AncovaInput input)
+    {
         if (input.Covariates.Count == 0)
         {
             return "an analysis of covariance needs at least one covariate";
@@ -164,141 +322,85 @@ public static class Ancova
             }
         }
 
-        var anova = FactorInput(input);
-        var problem = AnovaDesign.Check(anova);
-        if (problem is not null)
-        {
-            return problem.Message;
-        }
-
-        var coding = DesignCoding.Build(anova);
-        var x = Matrix(coding, input.Covariates, out _);
-        var p = x.GetLength(1);
-        if (input.Response.Length <= p)
-        {
-            return string.Create(CultureInfo.InvariantCulture, $"the model has {p} parameters but there are only {input.Response.Length} observations; an analysis of covariance needs more observations than parameters");
-        }
-
-        var qr = HouseholderQr.Factor(x, [.. Enumerable.Range(0, p)]);
-        if (!qr.IsFullRank)
-        {
-            var j = qr.FirstAliasedColumn;
-            return j >= coding.ColumnCount
-                ? "covariate '" + input.Covariates[j - coding.ColumnCount].Name + "' is constant, or a combination of the factors and earlier covariates, so its slope cannot be estimated"
-                : "the factors' effects cannot be separated (the design is rank deficient)";
-        }
-
-        return null;
+        return input.Response.Any(v => !double.IsFinite(v)) ? "the response has a value that is not a finite number" : null;
     }
 
-    /// <summary>Fits the analysis of covariance (see the class summary).</summary>
-    public static AncovaResult Fit(AncovaInput input)
+    /// <summary>The m x m triangular factor of [coding | centred covariates | products | y], block by block (see <see cref="Prepared"/>).</summary>
+    private static double[,] Reduce(AncovaInput input, DesignCoding coding, double[] means, List<(int Column, int Covariate)> extra)
     {
-        var problem = Check(input);
-        if (problem is not null)
-        {
-            throw new ArgumentException(problem, nameof(input));
-        }
-
-        var y = input.Response;
-        var n = y.Length;
-        var anova = FactorInput(input);
-        var coding = DesignCoding.Build(anova);
-        var x = Matrix(coding, input.Covariates, out var covMeans);
-        var p = x.GetLength(1);
+        var n = input.Response.Length;
         var pf = coding.ColumnCount;
         var q = input.Covariates.Count;
-        var all = Enumerable.Range(0, p).ToArray();
-        var qr = HouseholderQr.Factor(x, all);
-        var effects = qr.Effects(y);
-        var rss = 0.0;
-        for (var i = p; i < n; i++)
+        var m = pf + q + extra.Count + 1;
+        var columns = Enumerable.Range(0, m).ToArray();
+        var block = Math.Max(BlockRows, 2 * m);
+        double[,]? r = null;
+        var row = new double[m];
+        var column = Array.Empty<double>();
+        for (var start = 0; start < n; start += block)
         {
-            rss += effects[i] * effects[i];
-        }
-
-        var dfRes = n - p;
-        var mse = rss / dfRes;
-        var ssTotal = Groups.SumOfSquares(y, Groups.Mean(y));
-        var covariateColumns = Enumerable.Range(pf, q).ToList();
-        var terms = new List<AnovaTerm>(coding.Terms.Count + q);
-        for (var t = 0; t < coding.Terms.Count; t++)
-        {
-            var columns = SumOfSquaresTypes.AdjustedFor(coding, t, input.SsType);
-            columns.AddRange(covariateColumns);
-            var ss = LastColumnsSs(x, y, columns, [.. coding.ColumnsOf(t)]);
-            terms.Add(AnovaTable.Term(coding.TermNames[t], [.. coding.Terms[t].Select(f => input.Factors[f].Name)], ss, coding.TermCount[t], rss, dfRes, ssTotal, input.Alpha));
-        }
-
-        for (var c = 0; c < q; c++)
-        {
-            var columns = all.Where(j => j != pf + c).ToList();
-            var ss = LastColumnsSs(x, y, columns, [pf + c]);
-            terms.Add(AnovaTable.Term(input.Covariates[c].Name, [input.Covariates[c].Name], ss, 1, rss, dfRes, ssTotal, input.Alpha));
-        }
-
-        var b = qr.Coefficients(effects);
-        var inverse = qr.InverseCrossProduct();
-        var slopes = new List<CovariateSlope>(q);
-        for (var c = 0; c < q; c++)
-        {
-            var j = pf + c;
-            var se = Quantity.Of(Math.Sqrt(mse * inverse[j, j]));
-            var tq = se.IsDefined && se.Value > 0 ? Quantity.Of(b[j] / se.Value) : Quantity.Undefined("the residual mean square is zero, so the slope has no standard error");
-            slopes.Add(new CovariateSlope(input.Covariates[c].Name, covMeans[c], b[j], se, tq, tq.Map(v => Probability.TTwoSided(v, dfRes)), dfRes));
-        }
-
-        var treatment = TreatmentIndices(input);
-        var homogeneity = Homogeneity(input, coding, x, y, rss, treatment);
-        var fit = new LinearFit(coding, b, inverse, rss, dfRes);
-        var means = fit.Means(input.Factors, mse, dfRes, input.Alpha, input.ResponseCentre, TransformKind.None, null, null);
-        var comparisons = new List<AdjustedMeanComparison>();
-        foreach (var f in treatment)
-        {
-            comparisons.AddRange(Compare(fit, input, f, mse, dfRes));
-        }
-
-        var method = input.Comparisons == AdjustedMeansComparison.Holm
-            ? "Holm step-down adjustment of t tests of adjusted-mean differences within each factor; Bonferroni intervals"
-            : "Tukey-Kramer style: studentized range with each pair's own standard error (an approximation with covariates)";
-        return new AncovaResult(terms, rss, dfRes, AnovaTable.MeanSquareResidual(rss, dfRes), ssTotal, n - 1, slopes, homogeneity, means, comparisons, method, input.SsType, input.Alpha);
-    }
-
-    private static AnovaInput FactorInput(AncovaInput input) =>
-        new(input.Response, input.Factors, input.Interactions, input.SsType, input.Alpha);
-
-    private static int[] TreatmentIndices(AncovaInput input) =>
-        input.TreatmentFactors is null
-            ? [.. Enumerable.Range(0, input.Factors.Count)]
-            : [.. Enumerable.Range(0, input.Factors.Count).Where(f => input.TreatmentFactors.Contains(input.Factors[f].Name, StringComparer.Ordinal))];
-
-    /// <summary>The n x p design: factor coding, then each covariate centred at its (two-pass) mean.</summary>
-    private static double[,] Matrix(DesignCoding coding, IReadOnlyList<CovariateColumn> covariates, out double[] means)
-    {
-        var n = coding.Rows;
-        var pf = coding.ColumnCount;
-        var x = new double[n, pf + covariates.Count];
-        for (var i = 0; i < n; i++)
-        {
-            var c = coding.CellOf[i];
-            for (var j = 0; j < pf; j++)
+            var rows = Math.Min(block, n - start);
+            var top = r is null ? 0 : m;
+            var stacked = new double[Math.Max(top + rows, m), m];
+            for (var i = 0; i < top; i++)
             {
-                x[i, j] = coding.CellRows[c, j];
+                for (var j = i; j < m; j++)
+                {
+                    stacked[i, j] = r![i, j];
+                }
+            }
+
+            for (var k = 0; k < rows; k++)
+            {
+                var i = start + k;
+                var cell = coding.CellOf[i];
+                for (var j = 0; j < pf; j++)
+                {
+                    row[j] = coding.CellRows[cell, j];
+                }
+
+                for (var c = 0; c < q; c++)
+                {
+                    row[pf + c] = input.Covariates[c].Values[i] - means[c];
+                }
+
+                for (var e = 0; e < extra.Count; e++)
+                {
+                    row[pf + q + e] = row[extra[e].Column] * row[pf + extra[e].Covariate];
+                }
+
+                row[m - 1] = input.Response[i];
+                for (var j = 0; j < m; j++)
+                {
+                    stacked[top + k, j] = row[j];
+                }
+            }
+
+            // R = the first m rows of Q'M, column by column (the rows below are zero).
+            var qr = HouseholderQr.Factor(stacked, columns);
+            var height = stacked.GetLength(0);
+            if (column.Length != height)
+            {
+                column = new double[height];
+            }
+
+            r = new double[m, m];
+            for (var j = 0; j < m; j++)
+            {
+                for (var i = 0; i < height; i++)
+                {
+                    column[i] = stacked[i, j];
+                }
+
+                qr.ApplyQTranspose(column);
+                for (var i = 0; i <= j; i++)
+                {
+                    r[i, j] = column[i];
+                }
             }
         }
 
-        means = new double[covariates.Count];
-        for (var c = 0; c < covariates.Count; c++)
-        {
-            var m = Groups.Mean(covariates[c].Values);
-            means[c] = m;
-            for (var i = 0; i < n; i++)
-            {
-                x[i, pf + c] = covariates[c].Values[i] - m;
-            }
-        }
-
-        return x;
+        return r!;
     }
 
     /// <summary>R(last | first): the squared effects of <paramref name="last"/> placed after <paramref name="first"/> in a QR.</summary>
@@ -317,30 +419,11 @@ public static class Ancova
         return s;
     }
 
-    private static SlopesHomogeneity Homogeneity(AncovaInput input, DesignCoding coding, double[,] x, double[] y, double rssCommon, int[] treatment)
+    private static SlopesHomogeneity Homogeneity(AncovaInput input, Prepared model, int n, double rssCommon)
     {
-        var n = y.Length;
-        var p = x.GetLength(1);
-        var pf = coding.ColumnCount;
-        var names = treatment.Select(f => input.Factors[f].Name).ToArray();
-        var extra = new List<(int Column, int Covariate)>();
-        for (var t = 0; t < coding.Terms.Count; t++)
-        {
-            if (!coding.Terms[t].All(treatment.Contains))
-            {
-                continue;
-            }
-
-            for (var c = 0; c < input.Covariates.Count; c++)
-            {
-                foreach (var j in coding.ColumnsOf(t))
-                {
-                    extra.Add((j, c));
-                }
-            }
-        }
-
-        var df1 = extra.Count;
+        var p = model.Coding.ColumnCount + input.Covariates.Count;
+        var names = model.Treatment.Select(f => input.Factors[f].Name).ToArray();
+        var df1 = model.Extra.Count;
         var df2 = n - p - df1;
         if (df1 == 0)
         {
@@ -354,28 +437,14 @@ public static class Ancova
             return new SlopesHomogeneity(names, 0, df1, 0, none, none);
         }
 
-        var wide = new double[n, p + df1];
-        for (var i = 0; i < n; i++)
-        {
-            for (var j = 0; j < p; j++)
-            {
-                wide[i, j] = x[i, j];
-            }
-
-            for (var e = 0; e < df1; e++)
-            {
-                wide[i, p + e] = x[i, extra[e].Column] * x[i, pf + extra[e].Covariate];
-            }
-        }
-
-        var qr = HouseholderQr.Factor(wide, [.. Enumerable.Range(0, p + df1)]);
+        var qr = HouseholderQr.Factor(model.R, [.. Enumerable.Range(0, p + df1)]);
         if (!qr.IsFullRank)
         {
             var none = Quantity.Undefined("the separate slopes cannot all be estimated (a group has too little spread in a covariate)");
             return new SlopesHomogeneity(names, 0, df1, df2, none, none);
         }
 
-        var rssSeparate = qr.ResidualSumOfSquares(y);
+        var rssSeparate = qr.ResidualSumOfSquares(model.ResponseColumn);
         var ss = Math.Max(0, rssCommon - rssSeparate);
         if (!(rssSeparate > 0))
         {

@@ -258,6 +258,37 @@ public class AncovaTests
         Assert.Equal(anova.ResidualDf - 1, r.ResidualDf);
     }
 
+    // Exact identity: the data repeated 200 times (4800 rows, more than one block of the row
+    // reduction) have the same slope and adjusted means, and every sum of squares 200 times larger.
+    [Fact]
+    public void Rutherford_Replicated_SameSlopeAndMeans_ScaledSs()
+    {
+        var one = Rutherford();
+        const int copies = 200;
+        var many = one with
+        {
+            Response = [.. Enumerable.Repeat(one.Response, copies).SelectMany(v => v)],
+            Factors = [one.Factors[0] with { Codes = [.. Enumerable.Repeat(one.Factors[0].Codes, copies).SelectMany(v => v)] }],
+            Covariates = [one.Covariates[0] with { Values = [.. Enumerable.Repeat(one.Covariates[0].Values, copies).SelectMany(v => v)] }],
+        };
+        var a = Ancova.Fit(one);
+        var b = Ancova.Fit(many);
+        Accuracy.AssertLre(b.Slopes[0].Estimate, a.Slopes[0].Estimate, 10, "slope");
+        for (var i = 0; i < 3; i++)
+        {
+            Accuracy.AssertLre(b.AdjustedMeans.Terms[0].Means[i].Mean.Value, a.AdjustedMeans.Terms[0].Means[i].Mean.Value, 10, "mean");
+        }
+
+        for (var t = 0; t < a.Terms.Count; t++)
+        {
+            Accuracy.AssertLre(b.Terms[t].SumOfSquares, copies * a.Terms[t].SumOfSquares, 10, a.Terms[t].Name);
+        }
+
+        Accuracy.AssertLre(b.ResidualSumOfSquares, copies * a.ResidualSumOfSquares, 10, "residual");
+        Accuracy.AssertLre(b.Homogeneity.SumOfSquares, copies * a.Homogeneity.SumOfSquares, 9, "homogeneity SS");
+        Assert.Equal(4800 - 4, b.ResidualDf);
+    }
+
     /// <summary>2 to 4 groups; one covariate multiset (3 to 6 values with spread) shuffled in each group; responses.</summary>
     private static Gen<(double[] Cov, double[] Y, int[] Group)> BalancedGen =>
         Gen.Choose(2, 4).SelectMany(k =>
