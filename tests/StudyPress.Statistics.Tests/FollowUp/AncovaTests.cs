@@ -144,6 +144,33 @@ public class AncovaTests
         Accuracy.AssertRoundsTo(r.ResidualSumOfSquares, "128.46", "residual printed");
     }
 
+    // Standard errors by the one-way ANCOVA formulas (Snedecor and Cochran 1989, ch. 18; exact hand
+    // computation from the data): Var(adjusted mean i) = MSE (1/n_i + (x̄_i - x̄)²/E_xx) and
+    // Var(difference i - j) = MSE (1/n_i + 1/n_j + (x̄_i - x̄_j)²/E_xx), with group covariate means
+    // 46/8, 43/8, 44/8, grand mean 133/24, E_xx = 73.375 (exact recomputation) and
+    // MSE = 128.463373083/20; df 20 and t(0.975; 20) intervals.
+    [Fact]
+    public void Rutherford_StandardErrors_MatchOneWayFormulas()
+    {
+        var r = Ancova.Fit(Rutherford());
+        var mse = 128.463373083 / 20;
+        double[] xbar = [46.0 / 8, 43.0 / 8, 44.0 / 8];
+        var grand = 133.0 / 24;
+        const double exx = 73.375;
+        var means = r.AdjustedMeans.Terms[0].Means;
+        var t = Probability.TCritical(0.05, 20);
+        for (var i = 0; i < 3; i++)
+        {
+            var se = Math.Sqrt(mse * ((1.0 / 8) + ((xbar[i] - grand) * (xbar[i] - grand) / exx)));
+            Accuracy.AssertLre(means[i].Se.Value, se, 9, "se adjusted mean");
+            Assert.Equal(20, means[i].Df.Value);
+            Accuracy.AssertLre(means[i].CiLow.Value, means[i].Mean.Value - (t * means[i].Se.Value), 12, "low");
+        }
+
+        var c13 = r.Comparisons.Single(c => c.LevelA == "1" && c.LevelB == "3");
+        Accuracy.AssertLre(c13.Se.Value, Math.Sqrt(mse * ((2.0 / 8) + ((xbar[0] - xbar[2]) * (xbar[0] - xbar[2]) / exx))), 9, "se difference");
+    }
+
     // Homogeneity of slopes: exact recomputation F = 1.60027785192 on 2 and 18, p = 0.2292595014,
     // SS 19.3935568105; third-party printed F 1.60, p .229.
     [Fact]
