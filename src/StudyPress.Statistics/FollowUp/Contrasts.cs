@@ -379,7 +379,9 @@ public static class Contrasts
             var smallest = double.PositiveInfinity;
             for (var i = 0; i < k; i++)
             {
-                if (Math.Abs(c[i]) <= 1e-9 * max)
+                // Only rounding noise (a few ulps of the largest) is taken for an exact zero, so that
+                // the remaining coefficients still sum to zero within the 1e-12 check.
+                if (Math.Abs(c[i]) <= 1e-14 * max)
                 {
                     c[i] = 0;
                 }

@@ -225,6 +225,11 @@ internal sealed class LinearFit(DesignCoding coding, double[] coefficients, doub
 
     public int[] FactorIndices(IReadOnlyList<FactorColumn> factors, IReadOnlyList<string> names)
     {
+        if (names.Count == 0)
+        {
+            throw new ArgumentException("a term names at least one factor", nameof(names));
+        }
+
         var idx = new int[names.Count];
         for (var q = 0; q < names.Count; q++)
         {
