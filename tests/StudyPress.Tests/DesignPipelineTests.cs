@@ -97,8 +97,12 @@ factors:
         Relative(m.Get("main", "blocking_efficiency", "block", "relative_efficiency"), (2 * 4.89 + 9 * 0.4) / 11 / 0.4, 1e-9, "relative efficiency");
 
         // Tukey on the residual (the error of variety's F): SE of a difference = sqrt(0.40 × (1/3 + 1/3)) (exact hand computation).
-        Relative(m.Get("pairs", "tukey_hsd", "variety", "se"), Math.Sqrt(0.4 * 2 / 3.0), 1e-9, "Tukey SE on the residual");
-        Assert.Contains("randomized complete block design with three blocks", run.Compile().Html, StringComparison.Ordinal);
+        foreach (var se in m.Find("pairs", "tukey_hsd", "variety", "se"))
+        {
+            Relative(se.GetProperty("value").GetDouble(), Math.Sqrt(0.4 * 2 / 3.0), 1e-9, "Tukey SE on the residual");
+        }
+
+        Assert.Contains("randomized complete block design in three blocks", run.Compile().Html, StringComparison.Ordinal);
     }
 
     // ---- Split plot: Yates (1935) oats, exact recomputation (the collection's exact fractions) ----

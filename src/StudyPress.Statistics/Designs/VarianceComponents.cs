@@ -52,7 +52,8 @@ public sealed record VarianceComponentsResult(
 /// χ²_{ν, p} with P(X ≥ χ²) = p). For the residual (one mean square) this is the exact
 /// chi-square interval. When the estimate is a difference of mean squares the interval is
 /// approximate and can be too short (Burdick and Graybill 1992); when the estimate is not
-/// positive no interval is given.
+/// positive no interval is given, nor when Satterthwaite's ν is below 1 (the approximate interval
+/// then does not even contain the estimate).
 /// </para>
 /// </summary>
 public static class VarianceComponents
@@ -113,6 +114,14 @@ public static class VarianceComponents
                 df = Quantity.Of(nu);
                 lo = Quantity.Of(nu * value / Probability.ChiSquareCritical(alpha / 2, nu));
                 hi = Quantity.Of(nu * value / Probability.ChiSquareCritical(1 - (alpha / 2), nu));
+                if (!(nu >= 1) || !double.IsFinite(hi.Value) || !(lo.Value <= value && value <= hi.Value))
+                {
+                    // With less than one degree of freedom the chi-square approximation puts the
+                    // whole interval on one side of the estimate: it says nothing, so none is given.
+                    lo = hi = Quantity.Undefined(string.Create(
+                        System.Globalization.CultureInfo.InvariantCulture,
+                        $"Satterthwaite's df is {nu:G3}, below 1: the estimate is too imprecise for an interval"));
+                }
             }
             else
             {

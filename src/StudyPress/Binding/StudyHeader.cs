@@ -780,7 +780,10 @@ internal static class HeaderBinder
 
         if (!factors.Any(f => f.Layout.Role == FactorRole.Block))
         {
+            // One mistake: the blocks are missing (a factor meant as blocks would otherwise also be
+            // reported as a treatment without a plot level).
             diagnostics.SplitPlotWithoutBlocks(plotted[0].Layout.PlotLocation ?? plotted[0].Location, plotted[0].Name);
+            return;
         }
 
         foreach (var t in factors.Where(f => f.Layout.Role == FactorRole.Treatment && !f.Layout.NamesWholePlots && f.Layout.Plot == PlotLevel.Unit))

@@ -309,6 +309,9 @@ public sealed partial class AnovaEvaluator
 
         var vc = VarianceComponents.Estimate(strata, 1 - alpha);
         var components = new List<DesignComponent>();
+        // Without a residual row the finest term is the residual (one observation per sub-plot, per
+        // target and rater): that its variance includes the measurement error goes without saying.
+        var hasResidual = strata.Rows.Any(r => r.Kind == TermKind.Residual);
         foreach (var c in vc.Components)
         {
             var term = DesignFit.TermName(c.Term);
@@ -319,7 +322,7 @@ public sealed partial class AnovaEvaluator
             Add(Stat.Proportion, c.Proportion);
             Add(Stat.CiLow, c.CiLow);
             Add(Stat.CiHigh, c.CiHigh);
-            components.Add(new DesignComponent(term, c.Kind, c.Variance, c.IsNegative, false, c.Note, values));
+            components.Add(new DesignComponent(term, c.Kind, c.Variance, c.IsNegative, false, c.IsNegative || !hasResidual ? null : c.Note, values));
         }
 
         var efficiency = new List<DesignEfficiency>();

@@ -23,7 +23,7 @@ public sealed partial class AssumptionsEvaluator
 {
     /// <summary>
     /// Checks of a design anova: Shapiro–Wilk on the residuals of each error stratum that has at
-    /// least three units (the finest stratum's residuals; each coarser error term's effects, one per
+    /// least five units (fewer say nothing about a distribution's shape) (the finest stratum's residuals; each coarser error term's effects, one per
     /// unit), or on the conditional residuals of the mixed model. Variance-homogeneity tests across
     /// groups are not run: in a design with strata the groups do not share one error.
     /// </summary>
@@ -53,7 +53,7 @@ public sealed partial class AssumptionsEvaluator
             Check("residual", "observations", strata.Residuals);
             foreach (var row in strata.Rows.Where(r => r.Kind is TermKind.PlotError or TermKind.Random && r.Denominator.Count > 0 && r.Df >= 2))
             {
-                if (strata.StratumEffects.TryGetValue(row.Term, out var effects) && effects.Length >= 3)
+                if (strata.StratumEffects.TryGetValue(row.Term, out var effects) && effects.Length >= 5)
                 {
                     Check(DesignFit.TermName(row.Term), "units of the stratum (estimated effects)", effects);
                 }

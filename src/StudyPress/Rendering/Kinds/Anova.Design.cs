@@ -74,6 +74,18 @@ internal static class DesignRendering
         var caption = o.Block.Caption ?? $"Analysis of variance of {response} by error stratum";
         var table = new HtmlTable("anova strata", caption, ["Source", "SS", "df", "MS", "F", "error df", "p", "Tested against", "Expected mean square"]);
         var shown = new HashSet<string>(StringComparer.Ordinal);
+        var inStrata = strata.Strata.SelectMany(s => s.Terms).ToHashSet(StringComparer.Ordinal);
+        var approximate = strata.Rows.Where(r => !inStrata.Contains(r.Term)).ToList();
+        if (approximate.Count > 0)
+        {
+            table.Row("Tested against a combination of mean squares", ["", "", "", "", "", "", "", ""], "stratum");
+            foreach (var r in approximate)
+            {
+                shown.Add(r.Term);
+                AddRow(r.Term);
+            }
+        }
+
         foreach (var stratum in strata.Strata)
         {
             table.Row(StratumTitle(o, stratum), ["", "", "", "", "", "", "", ""], "stratum");
@@ -311,45 +323,45 @@ internal static class DesignRendering
         var treatments = d.Factors.Where(f => f.Role == FactorRole.Treatment).ToList();
         var random = d.Factors.Where(f => f.Role == FactorRole.Random).ToList();
         var levels = (string name) => o.Data!.Factors.First(f => f.Spec.Name == name).Levels.Count;
-        var parts = new List<string>();
-        var split = treatments.Any(t => t.Plot != PlotLevel.Unit);
-        if (split)
+        string Names(IEnumerable<DesignFactor> fs) => MethodsWriter.List(fs.Select(f => MethodsWriter.E(Display(o, f.Name))));
+        string design;
+        var with = new List<string>();
+        if (treatments.Any(t => t.Plot != PlotLevel.Unit))
         {
-            var whole = treatments.Where(t => t.Plot == PlotLevel.WholePlot).Select(t => MethodsWriter.E(Display(o, t.Name)));
-            var sub = treatments.Where(t => t.Plot == PlotLevel.SubPlot).Select(t => MethodsWriter.E(Display(o, t.Name)));
-            var subsub = treatments.Where(t => t.Plot == PlotLevel.SubSubPlot).Select(t => MethodsWriter.E(Display(o, t.Name))).ToList();
-            var text = $"a split-plot{(subsub.Count > 0 ? "-split-plot" : string.Empty)} design in {BlockWords(blocks, o, levels)}, with {MethodsWriter.List(whole)} on whole plots and {MethodsWriter.List(sub)} on sub-plots";
+            var subsub = treatments.Where(t => t.Plot == PlotLevel.SubSubPlot).ToList();
+            design = $"a split-plot{(subsub.Count > 0 ? "-split-plot" : string.Empty)} design in {BlockWords(blocks, o, levels)}";
+            with.Add($"{Names(treatments.Where(t => t.Plot == PlotLevel.WholePlot))} on whole plots");
+            with.Add($"{Names(treatments.Where(t => t.Plot == PlotLevel.SubPlot))} on sub-plots");
             if (subsub.Count > 0)
             {
-                text += $" and {MethodsWriter.List(subsub)} on sub-sub-plots";
+                with.Add($"{Names(subsub)} on sub-sub-plots");
             }
-
-            parts.Add(text);
         }
-        else if (blocks.Count == 2 && random.Count == 0)
+        else
         {
-            parts.Add($"a row-and-column layout with two crossed blocking factors ({MethodsWriter.List(blocks.Select(b => MethodsWriter.E(Display(o, b.Name))))}, a Latin square when each has as many levels as there are treatments)");
-        }
-        else if (blocks.Count > 0)
-        {
-            parts.Add($"a randomized complete block design with {BlockWords(blocks, o, levels)}");
+            design = blocks.Count switch
+            {
+                0 => "a design",
+                1 => $"a randomized complete block design in {BlockWords(blocks, o, levels)}",
+                _ => $"a row-and-column design with the blocking factors {Names(blocks)} (a Latin square when each has as many levels as there are treatments)",
+            };
+            if (treatments.Count > 0)
+            {
+                with.Add($"{Names(treatments)} as fixed {(treatments.Count == 1 ? "treatment" : "treatments")}");
+            }
         }
 
         if (random.Count > 0)
         {
             var described = random.Select(r => MethodsWriter.E(Display(o, r.Name)) + (r.NestedIn.Count > 0 ? " (nested in " + MethodsWriter.List(r.NestedIn.Select(p => MethodsWriter.E(Display(o, p)))) + ")" : string.Empty));
-            parts.Add($"{MethodsWriter.List(described)} as random {(random.Count == 1 ? "factor" : "factors")}");
-        }
-
-        if (treatments.Count > 0 && !split)
-        {
-            parts.Add($"{MethodsWriter.List(treatments.Select(t => MethodsWriter.E(Display(o, t.Name))))} as fixed {(treatments.Count == 1 ? "treatment" : "treatments")}");
+            with.Add($"{MethodsWriter.List(described)} as random {(random.Count == 1 ? "factor" : "factors")}");
         }
 
         var fit = d.Method == DesignMethod.Strata
-            ? "analysed by error strata, each term tested against the error its expected mean square calls for"
-            : "analysed as a linear mixed model fitted by REML, with Satterthwaite's error df";
-        return $"The {d.Observations.ToString(CultureInfo.InvariantCulture)} observations of {MethodsWriter.E(o.ResponseName)} {w.T("came", "come")} from {MethodsWriter.List(parts)}, {fit}.";
+            ? "by error strata, each term tested against the error its expected mean square calls for"
+            : "as a linear mixed model fitted by REML, with Satterthwaite's error df";
+        var layout = with.Count == 0 ? design : $"{design} with {MethodsWriter.List(with)}";
+        return $"The {d.Observations.ToString(CultureInfo.InvariantCulture)} observations of {MethodsWriter.E(o.ResponseName)} {w.Be(true)} analysed as {layout}, {fit}.";
     }
 
     private static string BlockWords(List<DesignFactor> blocks, AnovaOutcome o, Func<string, int> levels) =>
