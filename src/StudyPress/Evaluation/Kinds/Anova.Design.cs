@@ -187,6 +187,11 @@ public sealed partial class AnovaEvaluator
             ? FitStrata(context, block, factors, designData, reason, means, inputs, alpha)
             : FitReml(context, block, factors, designData, reason, because, means, inputs);
         outcome.Cautions = new AnovaCautions([], [], false, true, data.DroppedMissing, SummaryEvaluator.EmptyGroups(context, block, data));
+        if (context.Header.Report.Figures)
+        {
+            outcome.Figures.AddRange(DesignFigures.Of(outcome, outcome.Design, context.Header.Alpha));
+        }
+
         return outcome;
     }
 
