@@ -94,6 +94,18 @@ public static class StudyParser
             diagnostics.UnclosedReference(r.Location);
         }
 
+        foreach (var old in document.Descendants<OldReferenceInline>())
+        {
+            diagnostics.OldReferenceForm(old.Location, old.Written, OldReferenceForm.Rewrite(old.Written[2..^2].Trim()));
+        }
+
+        // "[=main.dose.f]: text" at the start of a paragraph is a Markdown link definition, which
+        // would make the line vanish from the report without a word.
+        foreach (var definition in document.Descendants<Markdig.Syntax.LinkReferenceDefinition>().Where(d => d.Label?.StartsWith('=') == true))
+        {
+            diagnostics.ReferenceReadAsLinkDefinition(new SourceLocation(path, definition.Line, definition.Column), definition.Label!);
+        }
+
         return new StudySyntax(path, text, header, headerLocation, document, blocks, references)
         {
             HeaderEnd = new SourceLocation(path, end, 0),
