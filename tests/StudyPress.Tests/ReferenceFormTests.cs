@@ -87,6 +87,25 @@ public sealed partial class ReferenceFormTests
         Assert.Equal("Effect (p = 0.008) with F = 12.00.", Paragraph(three.Html!, "Effect"));
     }
 
+    [Fact]
+    public void PValueStyles_AreReproducedByVerify_AndAnEditIsFound()
+    {
+        // p = 0.008 exactly: 4 decimals "0.0080"; 2 decimals without the zero, below 0.01: "< .01".
+        using var run = new StudyRun().Study(Study("Styled [=main.dose.p, 4 decimals] and [=main.dose.p, 2 decimals, no leading zero].")).File("data.csv", Csv);
+        Assert.Equal(0, run.Cli("build", "study.md", "--quiet").Exit);
+        var html = File.ReadAllText(run.ReportPath);
+        Assert.Equal("Styled p = 0.0080 and p < .01.", Paragraph(html, "Styled"));
+        Assert.Contains("data-style=\"p-4\"", html, StringComparison.Ordinal);
+        Assert.Contains("data-style=\"p-fraction-2\"", html, StringComparison.Ordinal);
+        var (exit, output, err) = run.Cli("verify", "--recompute", "study.html");
+        Assert.True(exit == 0, output + err);
+
+        File.WriteAllText(run.ReportPath, html.Replace("tabindex=\"0\">0.0080<", "tabindex=\"0\">0.0081<", StringComparison.Ordinal));
+        (exit, output, _) = run.Cli("verify", "--recompute", "study.html");
+        Assert.Equal(1, exit);
+        Assert.Contains("altered", output, StringComparison.Ordinal);
+    }
+
     [Theory]
     [InlineData("{{ main.dose.f }}", "study.md:13:6: error: '{{ main.dose.f }}' is not a reference form; write [=main.dose.f]")]
     [InlineData("{{main.dose.p|p}}", "study.md:13:6: error: '{{main.dose.p|p}}' is not a reference form; write [=main.dose.p, no leading zero]")]
