@@ -45,7 +45,7 @@ public sealed partial class DiagnosticsTests
         { "header only", Study(), "plot,dose,y\n", "data.csv:1:1: error: the data file has a header line but no data rows" },
         { "unknown reference", Study(body: "```anova main\n```\n\nF is [=main.dose.fstat].\n"), Csv, "study.md:12:6: error: unknown reference 'main.dose.fstat'; did you mean 'main.dose.f'?" },
         { "reference to unknown block", Study(body: "```anova main\n```\n\nF is [=mian.dose.f].\n"), Csv, "study.md:12:6: error: no block with id 'mian'; did you mean 'main'?" },
-        { "unclosed reference", Study(body: "```anova main\n```\n\nF is [=main.dose.f\n"), Csv, "study.md:12:6: error: a reference '[=' is not closed with ']'" },
+        { "unclosed reference", Study(body: "```anova main\n```\n\nF is [=main.dose.f\n"), Csv, "study.md:12:6: error: a reference '[=' is not closed with ']' (a reference is at most 200 characters)" },
         { "reference in the old brace form", Study(body: "```anova main\n```\n\nF is {{ main.dose.f }}.\n"), Csv, "study.md:12:6: error: '{{ main.dose.f }}' is not a reference form; write [=main.dose.f]" },
         { "duplicate block id", Study(body: "```anova main\n```\n\n```summary main\n```\n"), Csv, "study.md:12:12: error: duplicate block id 'main' (first used on line 9)" },
         { "data path escapes", "---\ntitle: T\ndata: ../data.csv\nresponse: y\n---\n", Csv, "study.md:3:7: error: data path '../data.csv' leads outside the study's folder" },

@@ -405,7 +405,7 @@ public sealed partial class MethodsTests
     [InlineData("[=main.residual, result]", "SP0408", "the residual row of an ANOVA table has no test")]
     [InlineData("[=main.groop, result]", "SP0401", "did you mean 'main.group, result'?")]
     [InlineData("[=main.group, 2 decimals]", "SP0409", "'2 decimals' formats one value, but 'main.group' names a term; add the statistic to the path, for example [=main.")]
-    [InlineData("[=main.group.f", "SP0404", "a reference '[=' is not closed with ']'")]
+    [InlineData("[=main.group.f", "SP0404", "a reference '[=' is not closed with ']' (a reference is at most 200 characters)")]
     [InlineData("{{ main.group.f | digits(1) }}", "SP0121", "'{{ main.group.f | digits(1) }}' is not a reference form; write [=main.group.f, 1 decimal]")]
     [InlineData("{{ main.group.p | p }}", "SP0121", "'{{ main.group.p | p }}' is not a reference form; write [=main.group.p, no leading zero]")]
     [InlineData("{{ main.group | result }}", "SP0121", "write [=main.group, result]")]

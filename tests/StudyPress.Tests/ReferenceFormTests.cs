@@ -137,12 +137,29 @@ public sealed partial class ReferenceFormTests
     [Fact]
     public void OldBraceForm_VeryLong_IsShortenedInTheMessage()
     {
-        var inner = new string('x', 5000);
+        var inner = new string('x', 300);
         var r = Build(Study("F {{ " + inner + " }}."));
         Assert.False(r.Succeeded);
         var line = Assert.Single(r.Diagnostics.Split('\n'));
         Assert.True(line.Length < 300, line);
         Assert.Contains("is not a reference form; write [=block.statistic]", line, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void ParagraphOfOpenings_IsReadWithABoundedScanPerOpening()
+    {
+        // 300,000 openings with a quote after each and no closing bracket: each opening looks at most
+        // 400 characters ahead, so the paragraph is read in linear time; each is reported, up to the cap.
+        var r = Build(Study("Many " + string.Concat(Enumerable.Repeat("[='", 300_000))));
+        Assert.False(r.Succeeded);
+        var lines = r.Diagnostics.Split('\n');
+        Assert.Contains("study.md:13:6: error: a reference '[=' is not closed with ']'", lines[0], StringComparison.Ordinal);
+        Assert.True(lines.Length <= Diagnostics.DiagnosticBag.MaxErrorsPerFile + 1, lines.Length.ToString(System.Globalization.CultureInfo.InvariantCulture));
+
+        // A million braces that never close are text.
+        var braces = Build(Study("Braces " + new string('{', 1_000_000) + "."));
+        Assert.True(braces.Succeeded, braces.Diagnostics);
+        Assert.Contains("Braces {{{{", braces.Html!, StringComparison.Ordinal);
     }
 
     [Theory]

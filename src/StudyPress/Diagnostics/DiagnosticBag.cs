@@ -497,7 +497,8 @@ public sealed class DiagnosticBag
 
     public void BadReferenceSyntax(SourceLocation at, string text, string why) => Error("SP0403", at, $"cannot read reference {Q(text)}: {why}");
 
-    public void UnclosedReference(SourceLocation at) => Error("SP0404", at, "a reference '[=' is not closed with ']'");
+    public void UnclosedReference(SourceLocation at, int maxLength) =>
+        Error("SP0404", at, string.Create(CultureInfo.InvariantCulture, $"a reference '[=' is not closed with ']' (a reference is at most {maxLength} characters)"));
 
     public void UndefinedReference(SourceLocation at, string text, string reason) => Error("SP0405", at, $"reference {Q(text)} has no value: {reason}");
 

@@ -46,6 +46,12 @@ public sealed class OldReferenceInline : LeafInline
 /// </summary>
 internal sealed class ReferenceInlineParser : InlineParser
 {
+    /// <summary>
+    /// How far past its opening a reference's closing is looked for: twice the longest reference,
+    /// so that every opening costs a bounded scan and a paragraph of openings stays linear.
+    /// </summary>
+    private const int Window = 2 * ReferenceGrammar.MaxLength;
+
     private readonly string path;
 
     public ReferenceInlineParser(string path)
@@ -86,18 +92,19 @@ internal sealed class ReferenceInlineParser : InlineParser
 
         var position = processor.GetSourcePosition(start, out var line, out var column);
         var location = new SourceLocation(path, line, column);
-        var close = Closing(text, start + 2, slice.End, quoted: true, out var reopened);
+        var last = Math.Min(slice.End, start + 1 + Window);
+        var close = Closing(text, start + 2, last, quoted: true, out var reopened);
         if (close < 0 && reopened < 0)
         {
             // A quote left open: take the first ']' so that the grammar says what is wrong.
-            close = Closing(text, start + 2, slice.End, quoted: false, out reopened);
+            close = Closing(text, start + 2, last, quoted: false, out reopened);
         }
 
         if (close < 0)
         {
             // '[=a.b.c ([=d.e, result])': the first reference is the one left open; the one after
-            // it is read as usual.
-            var end = reopened >= 0 ? reopened : slice.End + 1;
+            // it is read as usual. What follows an opening never closed is text.
+            var end = reopened >= 0 ? reopened : last + 1;
             processor.Inline = new ReferenceInline
             {
                 Text = text[start..end],
@@ -165,7 +172,8 @@ internal sealed class ReferenceInlineParser : InlineParser
     {
         var start = slice.Start;
         var text = slice.Text;
-        var length = slice.End - start - 1;
+        // Looked for within a bounded window, as for '[=': a longer brace text is left as text.
+        var length = Math.Min(slice.End - start - 1, Window);
         var close = length <= 0 ? -1 : text.IndexOf("}}", start + 2, length, StringComparison.Ordinal);
         var reopened = length <= 0 ? -1 : text.IndexOf("{{", start + 2, length, StringComparison.Ordinal);
         if (close < 0 || (reopened >= 0 && reopened < close))

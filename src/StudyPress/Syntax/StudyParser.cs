@@ -91,7 +91,7 @@ public static class StudyParser
         var references = document.Descendants<ReferenceInline>().ToList();
         foreach (var r in references.Where(r => !r.Closed))
         {
-            diagnostics.UnclosedReference(r.Location);
+            diagnostics.UnclosedReference(r.Location, ReferenceGrammar.MaxLength);
         }
 
         foreach (var old in document.Descendants<OldReferenceInline>())
