@@ -48,9 +48,9 @@ public sealed partial class ReferenceFormTests
     [Fact]
     public void Reference_IsReadInProse_ButNotWhenEscapedOrInCode()
     {
-        var r = Build(Study("Read: F = [=main.dose.f] and \\[=main.dose.f] and `[=main.dose.f]`.\n\n```\n[=main.dose.f]\n```\n\n~~~text\n{{ main.dose.f }}\n~~~"));
+        var r = Build(Study("Read: F = [=main.dose.f] and \\[=main.dose.f] and `[=main.dose.f]` and \\{{ main.dose.f }} and `{{ x }}`.\n\n```\n[=main.dose.f]\n```\n\n~~~text\n{{ main.dose.f }}\n~~~"));
         Assert.True(r.Succeeded, r.Diagnostics);
-        Assert.Equal("Read: F = 12.0 and [=main.dose.f] and [=main.dose.f].", Paragraph(r.Html!, "Read:"));
+        Assert.Equal("Read: F = 12.0 and [=main.dose.f] and [=main.dose.f] and {{ main.dose.f }} and {{ x }}.", Paragraph(r.Html!, "Read:"));
         Assert.Contains("<code>[=main.dose.f]</code>", r.Html!, StringComparison.Ordinal);
         Assert.Contains("<pre><code>[=main.dose.f]\n</code></pre>", r.Html!, StringComparison.Ordinal);
         Assert.Contains("{{ main.dose.f }}\n</code></pre>", r.Html!, StringComparison.Ordinal);
