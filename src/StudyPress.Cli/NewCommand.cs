@@ -97,10 +97,10 @@ public static class NewCommand
         factors: [blend]
         ```
 
-        The blend explains an estimated {{ main.blend.omega2 }} of the variance in grain protein
-        (ω²), with F = {{ main.blend.f }} on {{ main.blend.df }} and {{ main.residual.df }}
-        degrees of freedom (p {{ main.blend.p }}). The split-nitrogen plots averaged
-        {{ groups.split-n.mean }} % against {{ groups.standard.mean }} % for the standard blend.
+        The blend explains an estimated [=main.blend.omega2] of the variance in grain protein
+        (ω²), with F = [=main.blend.f] on [=main.blend.df] and [=main.residual.df]
+        degrees of freedom ([=main.blend.p]). The split-nitrogen plots averaged
+        [=groups.split-n.mean] % against [=groups.standard.mean] % for the standard blend.
 
         # Are the assumptions reasonable?
 

@@ -182,7 +182,7 @@ public static class Compilation
             ReportTemplate.Sha256,
             options.SourceDateEpoch is { } epoch ? DateTimeOffset.FromUnixTimeSeconds(epoch).UtcDateTime.ToString("yyyy-MM-dd'T'HH:mm:ss'Z'", System.Globalization.CultureInfo.InvariantCulture) : null);
         manifest = Manifest.Write(identity, inputs, context.Results);
-        format = new NumberFormat(header.Report.Digits, header.Report.PDigits);
+        format = new NumberFormat(header.Report.SignificantDigits, header.Report.PDecimals);
         foreach (var block in blocks)
         {
             var n = 0;

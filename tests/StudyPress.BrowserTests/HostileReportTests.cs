@@ -37,7 +37,7 @@ public sealed class HostileReportTests(BrowserFixture browser)
         + "A [markdown link](javascript:window.__pwned='md-link') and <javascript:window.__pwned='autolink'>.\n\n"
         + "```summary s\ncaption: '<script>document.title=\"pwned\"</script></figcaption><img src=x onerror=\"window.__pwned=''caption''\">'\n```\n\n"
         + "```anova main\n```\n\n"
-        + "F = {{ main.dose.f }}.\n";
+        + "F = [=main.dose.f].\n";
 
     private const string Csv =
         "plot,dose,y\n"

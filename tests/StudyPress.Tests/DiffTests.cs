@@ -232,7 +232,7 @@ public sealed class DiffTests
         var study = Path.Combine(run.Folder, "new", "study.md");
         File.WriteAllText(study, File.ReadAllText(study)
             .Replace("```posthoc pairs", "```posthoc comparisons", StringComparison.Ordinal)
-            .Replace("{{ pairs.", "{{ comparisons.", StringComparison.Ordinal));
+            .Replace("[=pairs.", "[=comparisons.", StringComparison.Ordinal));
         EditRows(run, f => f[0] == "P05" ? [f[0], f[1], f[2], "48.8"] : f);
         var r = Compare(run);
 

@@ -23,9 +23,9 @@ public sealed class FuzzTests
     internal static readonly string[] Tokens =
     [
         "[", "]", "{", "}", ":", ": ", "- ", "-", "\t", "\n", "\r", "\r\n", "---\n", "...\n", "```", "```\n", "~~~", "```anova\n", "```anova main\n", "```posthoc\n",
-        "{{", "}}", "{{ main.dose.f }}", "{{ s.a.mean }}", "{{ main }}", "{{ a.b.c.d.e }}", "{{ 'x' }}", "\"", "'", "#", " #", "&a ", "*a", "!!str ", "!!binary ", "|\n", ">\n", "%YAML 1.2\n", "@", "`", ",", ";", "\\", "\u00A0", "\uFEFF", "é", "\u0000", "\u2028", "😀",
+        "[=", "[=main.dose.f]", "[=s.a.mean]", "[=main]", "[=a.b.c.d.e]", "[='x']", "[=main.dose, result]", ", 2 decimals", ", no leading zero", ", as percent", "\\[=", "{{", "}}", "{{ main.dose.f }}", "{{ main.dose | result }}", "\"", "'", "#", " #", "&a ", "*a", "!!str ", "!!binary ", "|\n", ">\n", "%YAML 1.2\n", "@", "`", ",", ";", "\\", "\u00A0", "\uFEFF", "é", "\u0000", "\u2028", "😀",
         "NaN", "Infinity", "-inf", "1e400", "1e-400", "-0", "NA", "", "0", "-1", "1e308", "99999999999999999999", "0.5", "1,5", "true", "null", "~",
-        "title", "id", "authors", "alpha", "data", "path", "sha256", "delimiter", "decimal", "missing", "response", "factors", "levels", "label", "column", "order", "report", "digits", "p-digits", "figures", "raw-html", "template",
+        "title", "id", "authors", "alpha", "data", "path", "sha256", "delimiter", "decimal", "missing", "response", "factors", "levels", "label", "column", "order", "report", "significant-digits", "p-decimals", "digits", "p-digits", "figures", "raw-html", "template",
         "of", "factor", "method", "control", "type", "where", "caption", "by", "groups", "effect", "n", "target", "welch", "ss-type", "transform", "interaction",
         "summary", "anova", "assumptions", "posthoc", "ranks", "power", "figure", "methods", "box", "means", "qq", "power-curve", "f-distribution", "residuals-fitted", "intervals", "tukey", "games-howell", "holm", "dunnett", "log", "box-cox", "reciprocal", "sqrt", "auto", "yes", "no",
         "main", "dose", "a", "b", "c", "y", "data.csv", "../data.csv", "/etc/passwd", "sub/", "\"a\"\"b\"", "<script>", "</script>", "<img src=x onerror=alert(1)>", "[x](javascript:alert(1))",
@@ -36,12 +36,12 @@ public sealed class FuzzTests
         (
             "---\ntitle: Dose trial\nauthors: [A. Person]\nalpha: 0.05\ndata: data.csv\nresponse: y\nfactors:\n  dose:\n    levels: [a, b, c]\n    label: Dose\norder: run\nreport:\n  figures: none\n---\n\n# Design\n\nSome *prose* with a [link](https://example.org).\n\n"
             + "```summary s\ncaption: Response by dose\n```\n\n```anova main\nwelch: auto\n```\n\n```assumptions chk\nof: main\n```\n\n```posthoc ph\nmethod: auto\n```\n\n```ranks r\nfactor: dose\n```\n\n```power p\ngroups: 3\neffect: 0.4\ntarget: 0.8\n```\n\n"
-            + "F = {{ main.dose.f }} (p {{ main.dose.p }}); mean of a {{ s.a.mean }}.\n",
+            + "F = [=main.dose.f] ([=main.dose.p]); mean of a [=s.a.mean].\n",
             "plot,dose,y,run\n1,a,1.0,3\n2,a,2.0,1\n3,a,1.5,7\n4,b,3.5,2\n5,b,4.0,9\n6,b,3.1,4\n7,c,5.5,8\n8,c,6.0,5\n9,c,5.2,6\n"
         ),
         (
             "---\ntitle: Two factors\ndata:\n  d:\n    path: data.csv\n    delimiter: \";\"\n    decimal: \",\"\n    missing: [\"\", NA]\nresponse: y\nfactors:\n  g:\n  h:\n---\n\n"
-            + "```anova fit\nfactors: [g, h]\ninteraction: true\nss-type: 2\n```\n\n```figure\ntype: interaction\n```\n\n```summary by\nby: [g, h]\n```\n\nInteraction F {{ fit.g:h.f }}.\n",
+            + "```anova fit\nfactors: [g, h]\ninteraction: true\nss-type: 2\n```\n\n```figure\ntype: interaction\n```\n\n```summary by\nby: [g, h]\n```\n\nInteraction F [=fit.\"g:h\".f].\n",
             "g;h;y\nx;p;1,5\nx;p;2,0\nx;q;3,1\nx;q;2,9\nz;p;4,0\nz;p;NA\nz;q;5,5\nz;q;6,1\nz;p;4,4\n"
         ),
         (

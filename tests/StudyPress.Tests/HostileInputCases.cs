@@ -29,11 +29,12 @@ public sealed partial class DiagnosticsTests
         { "duplicate dataset name", "---\ntitle: T\ndata:\n  d: data.csv\n  d: data.csv\n---\n", Csv, "study.md:5:3: error: duplicate key 'd' (first given on line 4)" },
         { "near-miss dataset key", "---\ntitle: T\ndata:\n  d:\n    pth: data.csv\nresponse: y\n---\n", Csv, "study.md:5:5: error: unknown key 'pth' in dataset 'd'; did you mean 'path'?" },
         { "near-miss block key", Study(body: "```anova main\nss_type: 2\n```\n"), Csv, "study.md:10:1: error: unknown key 'ss_type' in the anova block; did you mean 'ss-type'?" },
-        { "near-miss report key", "---\ntitle: T\ndata: data.csv\nreport:\n  digts: 2\n---\n", Csv, "study.md:5:3: error: unknown key 'digts' in 'report'; did you mean 'digits'?" },
+        { "near-miss report key", "---\ntitle: T\ndata: data.csv\nreport:\n  significant-digts: 2\n---\n", Csv, "study.md:5:3: error: unknown key 'significant-digts' in 'report'; did you mean 'significant-digits'?" },
+        { "near-miss of an old report key", "---\ntitle: T\ndata: data.csv\nreport:\n  digts: 2\n---\n", Csv, "study.md:5:3: error: unknown key 'digts' in 'report'; did you mean 'significant-digits'?" },
         { "alpha zero", "---\ntitle: T\nalpha: 0\ndata: data.csv\n---\n", Csv, "study.md:3:8: error: alpha must be a number strictly between 0 and 1, not '0'" },
         { "alpha negative", "---\ntitle: T\nalpha: -0.05\ndata: data.csv\n---\n", Csv, "study.md:3:8: error: alpha must be a number strictly between 0 and 1, not '-0.05'" },
         { "alpha NaN", "---\ntitle: T\nalpha: .nan\ndata: data.csv\n---\n", Csv, "study.md:3:8: error: alpha must be a number strictly between 0 and 1, not '.nan'" },
-        { "digits out of range", "---\ntitle: T\ndata: data.csv\nreport:\n  digits: 99\n---\n", Csv, "study.md:5:11: error: 'digits' must be a whole number from 1 to 15, not '99'" },
+        { "significant digits out of range", "---\ntitle: T\ndata: data.csv\nreport:\n  significant-digits: 99\n---\n", Csv, "study.md:5:23: error: 'significant-digits' must be a whole number from 1 to 15, not '99'" },
         { "raw-html not a boolean", "---\ntitle: T\ndata: data.csv\nreport:\n  raw-html: maybe\n---\n", Csv, "study.md:5:13: error: 'raw-html' must be one of true, false, not 'maybe'" },
         { "header is a list", "---\n- a\n- b\n---\n", Csv, "study.md:2:1: error: the header must be a map of keys to values" },
         { "header is a sentence", "---\njust a sentence\n---\n", Csv, "study.md:2:1: error: the header must be a map of keys to values" },
@@ -47,7 +48,7 @@ public sealed partial class DiagnosticsTests
         { "blank study", "  \n\n", Csv, "study.md:1:1: error: the study file is empty; it must start with a YAML header between '---' lines" },
         { "unclosed analysis block", Study(body: "```anova main\nwelch: yes\n\nProse swallowed by the block.\n"), Csv, "study.md:9:1: error: the anova block is not closed; add a line ``` after its body" },
         { "very long header line", "---\ntitle: " + LongTitle + "\ndata: data.csv\nrespons: y\n---\n", Csv, "study.md:4:1: error: unknown key 'respons' in the header; did you mean 'response'?" },
-        { "very long prose line", Study(body: "```anova main\n```\n\n" + LongProse + "{{ main.dose.fx }}\n"), Csv, "study.md:12:2000001: error: unknown reference 'main.dose.fx'; did you mean 'main.dose.f'?" },
+        { "very long prose line", Study(body: "```anova main\n```\n\n" + LongProse + "[=main.dose.fx]\n"), Csv, "study.md:12:2000001: error: unknown reference 'main.dose.fx'; did you mean 'main.dose.f'?" },
 
         // ---- data ----
         { "Infinity and -inf cells", Study(), "plot,dose,y\n1,a,Infinity\n2,a,1\n3,b,-inf\n4,b,2\n", "data.csv:2:5: error: 'Infinity' is not a finite number in column 'y'; mark missing values with one of the 'missing' strings\ndata.csv:4:5: error: '-inf' is not a finite number in column 'y'; mark missing values with one of the 'missing' strings" },
@@ -83,11 +84,15 @@ public sealed partial class DiagnosticsTests
         { "power target out of range", Study(body: "```power\ngroups: 3\neffect: 0.4\ntarget: 1.2\n```\n"), Csv, "study.md:12:9: error: 'target' is a power strictly between 0 and 1, not '1.2'" },
 
         // ---- references ----
-        { "reference with an empty part", Study(body: "```anova main\n```\n\nF {{ main..f }}\n"), Csv, "study.md:12:3: error: cannot read reference 'main..f': unexpected '.'; write parts as names separated by '.', and quote names with other characters" },
-        { "empty reference", Study(body: "```anova main\n```\n\nF {{ }}\n"), Csv, "study.md:12:3: error: cannot read reference '': it is empty" },
-        { "reference with a filter", Study(body: "```anova main\n```\n\nF {{ main.dose.f | upcase }}\n"), Csv, "study.md:12:3: error: unknown formatting function 'upcase' (known: result, p, digits, fraction, percent, df)" },
-        { "template loop in prose is not run", Study(body: "```anova main\n```\n\n{{ for i in 1..3 }}x{{ end }}\n"), Csv, "study.md:12:1: error: cannot read reference 'for i in 1..3': unexpected 'i' after 'for'\nstudy.md:12:21: error: cannot read reference 'end': name a block and a statistic, for example {{ main.dose.f }}" },
-        { "reference to an undefined value", Study(body: "```anova main\n```\n\nF {{ main.dose.f }}\n"), "plot,dose,y\n1,a,1\n2,a,1\n3,b,2\n4,b,2\n5,c,3\n6,c,3\n", "study.md:12:3: error: reference 'main.dose.f' has no value: the residual variance is zero" },
+        { "reference with an empty part", Study(body: "```anova main\n```\n\nF [=main..f]\n"), Csv, "study.md:12:3: error: cannot read reference 'main..f': unexpected '.'; write parts as names separated by '.', and quote names with other characters" },
+        { "empty reference", Study(body: "```anova main\n```\n\nF [=]\n"), Csv, "study.md:12:3: error: cannot read reference '': it is empty" },
+        { "reference with a quoted bracket", Study(body: "```anova main\n```\n\nF [=main.\"dose]\".f]\n"), Csv, "study.md:12:3: error: unknown reference 'main.\"dose]\".f'; did you mean 'main.dose.f'?" },
+        { "reference with an unclosed quote", Study(body: "```anova main\n```\n\nF [=main.\"dose.f] and more\n"), Csv, "study.md:12:3: error: cannot read reference 'main.\"dose.f': a quoted part is not closed" },
+        { "reference with a filter", Study(body: "```anova main\n```\n\nF [=main.dose.f, upcase]\n"), Csv, "study.md:12:3: error: unknown formatting 'upcase' (known: result, N decimals, no leading zero, as percent, as df, number only)" },
+        { "old brace form with an unknown filter", Study(body: "```anova main\n```\n\nF {{ main.dose.f | upcase }}\n"), Csv, "study.md:12:3: error: '{{ main.dose.f | upcase }}' is not a reference form; write [=main.dose.f]" },
+        { "template loop in prose is not run", Study(body: "```anova main\n```\n\n{{ for i in 1..3 }}x{{ end }}\n"), Csv, "study.md:12:1: error: '{{ for i in 1..3 }}' is not a reference form; write [=block.statistic], for example [=main.dose.f]\nstudy.md:12:21: error: '{{ end }}' is not a reference form; write [=end]" },
+        { "template loop in the reference form is not run", Study(body: "```anova main\n```\n\n[=for i in 1..3]x[=end]\n"), Csv, "study.md:12:1: error: cannot read reference 'for i in 1..3': unexpected 'i' after 'for'\nstudy.md:12:18: error: cannot read reference 'end': name a block and a statistic, for example [=main.dose.f]" },
+        { "reference to an undefined value", Study(body: "```anova main\n```\n\nF [=main.dose.f]\n"), "plot,dose,y\n1,a,1\n2,a,1\n3,b,2\n4,b,2\n5,c,3\n6,c,3\n", "study.md:12:3: error: reference 'main.dose.f' has no value: the residual variance is zero" },
     };
 
     public static TheoryData<string, byte[], byte[], string> EncodingCases()

@@ -53,7 +53,7 @@ public sealed class HostileLimitsTests
         var body = new StringBuilder();
         for (var i = 0; i < 100; i++)
         {
-            body.Append(CultureInfo.InvariantCulture, $"```summary s{i}\n```\n\n```anova a{i}\nwelch: no\n```\n\n```power p{i}\ngroups: 3\neffect: 0.4\nn: 5\n```\n\nF = {{{{ a{i}.dose.f }}}}.\n\n");
+            body.Append(CultureInfo.InvariantCulture, $"```summary s{i}\n```\n\n```anova a{i}\nwelch: no\n```\n\n```power p{i}\ngroups: 3\neffect: 0.4\nn: 5\n```\n\nF = [=a{i}.dose.f].\n\n");
         }
 
         using var run = new StudyRun().Study(Hdr.Replace("---\n\n", "report:\n  figures: none\n---\n\n", StringComparison.Ordinal) + body).File("data.csv", Csv);

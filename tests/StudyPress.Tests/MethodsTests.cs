@@ -88,6 +88,8 @@ public sealed partial class MethodsTests
             "fixed" => Fixed(value, n),
             "fraction" => NoLead(Fixed(value, n)),
             "percent" => Fixed(value * 100, n) + "%",
+            "p" => value < Math.Pow(10, -n) ? "< " + Fixed(Math.Pow(10, -n), n) : Fixed(value, n),
+            "p-fraction" => value < Math.Pow(10, -n) ? "< " + NoLead(Fixed(Math.Pow(10, -n), n)) : NoLead(Fixed(value, n)),
             _ => throw new InvalidOperationException("unknown style " + style),
         };
     }
@@ -340,15 +342,23 @@ public sealed partial class MethodsTests
 
         """ + prose + "\n";
 
+    // One-way case "one-way-significant": means 1, 3, 5 with n = 3; exact hand computation gives
+    // F = 12 on 2 and 6 df, p = (1 + 2F/6)^-3 = 1/125 = 0.008, partial η² = 24/30 = 0.8.
     [Theory]
-    [InlineData("{{ main.group | result }}", "F(2, 6) = 12.00, p = .008, partial η² = .80, 95% CI [")]
-    [InlineData("{{ main.group.p | p }}", "p = .008")]
-    [InlineData("{{ main.group.f | digits(1) }}", "12.0")]
-    [InlineData("{{ main.group.partial_eta2 | fraction(3) }}", ".800")]
-    [InlineData("{{ main.group.partial_eta2 | percent }}", "80%")]
-    [InlineData("{{ main.residual.df | df }}", "6")]
-    [InlineData("{{ main.means.group.A | result }}", "mean = 1.00, n = 3")]
-    public void Reference_WithFunction_RendersStyledTracedText(string reference, string expected)
+    [InlineData("[=main.group, result]", "F(2, 6) = 12.00, p = .008, partial η² = .80, 95% CI [")]
+    [InlineData("[=main.group.p, no leading zero]", "p = .008")]
+    [InlineData("[=main.group.p, 4 decimals]", "p = 0.0080")]
+    [InlineData("[=main.group.p, 4 decimals, no leading zero]", "p = .0080")]
+    [InlineData("[=main.group.p, no leading zero, number only]", ".008")]
+    [InlineData("[=main.group.f, 1 decimal]", "12.0")]
+    [InlineData("[=main.group.f , 2  decimals ]", "12.00")]
+    [InlineData("[=main.group.partial_eta2, 3 decimals, no leading zero]", ".800")]
+    [InlineData("[=main.group.partial_eta2, no leading zero]", ".80")]
+    [InlineData("[=main.group.partial_eta2, as percent]", "80%")]
+    [InlineData("[=main.group.partial_eta2, as percent, 1 decimal]", "80.0%")]
+    [InlineData("[=main.residual.df, as df]", "6")]
+    [InlineData("[=main.means.group.A, result]", "mean = 1.00, n = 3")]
+    public void Reference_WithWords_RendersStyledTracedText(string reference, string expected)
     {
         using var run = new StudyRun();
         run.File("data/d.csv", File.ReadAllText(Path.Combine(CasesDir, "one-way-significant", "data", "d.csv")));
@@ -356,20 +366,54 @@ public sealed partial class MethodsTests
         var r = run.Compile();
         Assert.True(r.Succeeded, string.Join("\n", r.Diagnostics));
         var p = Regex.Match(r.Html!, "<p>Result: (.*?)\\.</p>", RegexOptions.Singleline).Groups[1].Value;
-        Assert.StartsWith(expected, WebUtility.HtmlDecode(Regex.Replace(p, "<[^>]+>", string.Empty)), StringComparison.Ordinal);
+        Assert.Equal(expected, WebUtility.HtmlDecode(Regex.Replace(p, "<[^>]+>", string.Empty))[..expected.Length]);
         Assert.True(AssertSpansMatchManifest(p, new ManifestView(r.ManifestJson!), requireStyle: true) >= 1);
     }
 
+    // Same case: p = 0.008 exactly (hand computation above); the report's p-decimals default is 3.
     [Theory]
-    [InlineData("{{ main.group.p | pp }}", "SP0407", "unknown formatting function 'pp'; did you mean 'p'?")]
-    [InlineData("{{ main.group.f | p }}", "SP0408", "formatting function 'p' does not apply here: it formats p-values, and 'f' is not one")]
-    [InlineData("{{ main.group.f | digits }}", "SP0408", "say how many decimals")]
-    [InlineData("{{ main.group.f | digits(x) }}", "SP0403", "the argument of 'digits' must be a whole number of decimals")]
-    [InlineData("{{ main.group.f | }}", "SP0403", "a formatting function is missing after '|'")]
-    [InlineData("{{ main.group.f | p | p }}", "SP0403", "a reference takes one formatting function")]
-    [InlineData("{{ main.residual | result }}", "SP0408", "the residual row of an ANOVA table has no test")]
-    [InlineData("{{ main.groop | result }}", "SP0401", "did you mean 'main.group | result'?")]
-    public void Reference_BadFunction_IsAnErrorAtTheReference(string reference, string code, string message)
+    [InlineData("[=main.group.p]", "p = 0.008")]
+    [InlineData("[=main.group.p, number only]", "0.008")]
+    [InlineData("[=main.group.f]", "12.0")]
+    [InlineData("([=main.group.p])", "(p = 0.008)")]
+    [InlineData("[=main.means.group.A.mean] and [=main.means.group.C.mean]", "1.00 and 5.00")]
+    public void Reference_WithoutWords_UsesTheReportFormat_AndAPValueReadsAsAPhrase(string prose, string expected)
+    {
+        using var run = new StudyRun();
+        run.File("data/d.csv", File.ReadAllText(Path.Combine(CasesDir, "one-way-significant", "data", "d.csv")));
+        run.Study(ReferenceStudy("Result: " + prose + "."));
+        var r = run.Compile();
+        Assert.True(r.Succeeded, string.Join("\n", r.Diagnostics));
+        var p = Regex.Match(r.Html!, "<p>Result: (.*?)\\.</p>", RegexOptions.Singleline).Groups[1].Value;
+        Assert.Equal(expected, WebUtility.HtmlDecode(Regex.Replace(p, "<[^>]+>", string.Empty)));
+        Assert.True(AssertSpansMatchManifest(p, new ManifestView(r.ManifestJson!), requireStyle: false) >= 1);
+    }
+
+    [Theory]
+    [InlineData("[=main.group.f, resutl]", "SP0407", "unknown formatting 'resutl'; did you mean 'result'?")]
+    [InlineData("[=main.group.f, 2 digits]", "SP0407", "unknown formatting '2 digits'; did you mean '2 decimals'?")]
+    [InlineData("[=main.group.p, as percent]", "SP0408", "formatting 'as percent' does not apply here: 'p' is a p-value")]
+    [InlineData("[=main.group.p, 0 decimals]", "SP0408", "a p-value needs at least one decimal")]
+    [InlineData("[=main.group.f, x decimals]", "SP0403", "the number of decimals must be a whole number from 0 to 10, not 'x'")]
+    [InlineData("[=main.group.f, 11 decimals]", "SP0403", "the number of decimals must be a whole number from 0 to 10, not '11'")]
+    [InlineData("[=main.group.f, ]", "SP0403", "a formatting word is missing after ','")]
+    [InlineData("[=main.group.f, 2 decimals, 1 decimal]", "SP0403", "the number of decimals is given twice")]
+    [InlineData("[=main.group.f, as percent, as percent]", "SP0403", "'as percent' is given twice")]
+    [InlineData("[=main.group, result, 2 decimals]", "SP0403", "'result' writes a whole sentence")]
+    [InlineData("[=main.residual.df, as df, 2 decimals]", "SP0403", "'as df' chooses its own decimals")]
+    [InlineData("[=main.group.f, as percent, no leading zero]", "SP0403", "'as percent' and 'no leading zero' cannot be combined")]
+    [InlineData("[=main.residual, result]", "SP0408", "the residual row of an ANOVA table has no test")]
+    [InlineData("[=main.groop, result]", "SP0401", "did you mean 'main.group, result'?")]
+    [InlineData("[=main.group, 2 decimals]", "SP0409", "'2 decimals' formats one value, but 'main.group' names a term; add the statistic to the path, for example [=main.")]
+    [InlineData("[=main.group.f", "SP0404", "a reference '[=' is not closed with ']' (a reference is at most 200 characters)")]
+    [InlineData("{{ main.group.f | digits(1) }}", "SP0121", "'{{ main.group.f | digits(1) }}' is not a reference form; write [=main.group.f, 1 decimal]")]
+    [InlineData("{{ main.group.p | p }}", "SP0121", "'{{ main.group.p | p }}' is not a reference form; write [=main.group.p, no leading zero]")]
+    [InlineData("{{ main.group | result }}", "SP0121", "write [=main.group, result]")]
+    [InlineData("{{ main.group.partial_eta2 | fraction(3) }}", "SP0121", "write [=main.group.partial_eta2, 3 decimals, no leading zero]")]
+    [InlineData("{{ main.group.partial_eta2 | percent }}", "SP0121", "write [=main.group.partial_eta2, as percent]")]
+    [InlineData("{{ main.residual.df | df }}", "SP0121", "write [=main.residual.df, as df]")]
+    [InlineData("{{ main.\"group\".f }}", "SP0121", "write [=main.group.f]")]
+    public void Reference_BadWords_IsAnErrorAtTheReference(string reference, string code, string message)
     {
         using var run = new StudyRun();
         run.File("data/d.csv", File.ReadAllText(Path.Combine(CasesDir, "one-way-significant", "data", "d.csv")));

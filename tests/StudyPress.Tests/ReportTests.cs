@@ -10,7 +10,7 @@ public sealed partial class ReportTests
 {
     private const string Csv = "plot,dose,y\n1,a,1.0\n2,a,2.0\n3,a,1.5\n4,b,3.5\n5,b,4.0\n6,b,4.4\n7,c,5.5\n8,c,6.0\n9,c,5.1\n";
 
-    private static string Study(string title = "Dose trial", string prose = "F was {{ main.dose.f }} (p {{ main.dose.p }}).") =>
+    private static string Study(string title = "Dose trial", string prose = "F was [=main.dose.f] ([=main.dose.p]).") =>
         $"---\ntitle: \"{title}\"\ndata: data.csv\nresponse: y\nfactors:\n  dose:\n---\n\n```summary s\n```\n\n```anova main\nwelch: yes\n```\n\n{prose}\n";
 
     [GeneratedRegex("data-v=\"(v[0-9]+)\"")]
@@ -88,7 +88,7 @@ public sealed partial class ReportTests
     public void Report_UserStrings_AreEscaped()
     {
         using var run = new StudyRun()
-            .Study(Study(title: "<script>alert(1)</script>", prose: "Prose <img src=x onerror=alert(2)> and {{ main.dose.f }}."))
+            .Study(Study(title: "<script>alert(1)</script>", prose: "Prose <img src=x onerror=alert(2)> and [=main.dose.f]."))
             .File("data.csv", Csv.Replace(",a,", ",<b>a</b>,", StringComparison.Ordinal));
         var result = run.Compile();
         Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
@@ -116,7 +116,7 @@ public sealed partial class ReportTests
     [Fact]
     public void Report_ProseReferences_ShowRoundedValueWithTrace()
     {
-        using var run = new StudyRun().Study(Study(prose: "F = {{ main.dose.f }}, Welch F = {{ main.welch.dose.f }}, mean of a = {{ s.a.mean }}.")).File("data.csv", Csv);
+        using var run = new StudyRun().Study(Study(prose: "F = [=main.dose.f], Welch F = [=main.welch.dose.f], mean of a = [=s.a.mean].")).File("data.csv", Csv);
         var result = run.Compile();
         Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
         var m = new ManifestView(result.ManifestJson!);

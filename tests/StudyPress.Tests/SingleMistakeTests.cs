@@ -57,7 +57,7 @@ effect: 0.4
 target: 0.9
 ```
 
-The fertiliser effect was F = {{ main.fertiliser.f }} ({{ main.fertiliser | result }}).
+The fertiliser effect was F = [=main.fertiliser.f] ([=main.fertiliser, result]).
 
 ```methods
 ```
@@ -132,12 +132,17 @@ run,field,fertiliser,yield_kg
         { "duplicate block id", "study.md", "```posthoc pairs", "```posthoc checks", "study.md:34:12: error: duplicate block id 'checks' (first used on line 30)" },
         { "power key misspelt", "study.md", "target: 0.9", "traget: 0.9", "study.md:42:1: error: unknown key 'traget' in the power block; did you mean 'target'?" },
         { "block factors written as text", "study.md", "```anova main\nfactors: [fertiliser]", "```anova main\nfactors: \"fertiliser, site\"", "study.md:26:10: error: 'factors' is a list, but this is one text; write it as [fertiliser, site]" },
-        { "reference statistic misspelt", "study.md", "{{ main.fertiliser.f }}", "{{ main.fertiliser.fstat }}", "study.md:45:31: error: unknown reference 'main.fertiliser.fstat'; did you mean 'main.fertiliser.f'?" },
-        { "reference term misspelt", "study.md", "{{ main.fertiliser.f }}", "{{ main.fertilizer.f }}", "study.md:45:31: error: unknown reference 'main.fertilizer.f'; did you mean 'main.fertiliser.f'?" },
-        { "reference block misspelt", "study.md", "{{ main.fertiliser.f }}", "{{ mian.fertiliser.f }}", "study.md:45:31: error: no block with id 'mian'; did you mean 'main'?" },
-        { "reference function misspelt", "study.md", "{{ main.fertiliser | result }}", "{{ main.fertiliser | reslt }}", "study.md:45:56: error: unknown formatting function 'reslt'; did you mean 'result'? (known: result, p, digits, fraction, percent, df)" },
-        { "function applied to a term", "study.md", "{{ main.fertiliser.f }}", "{{ main.fertiliser | digits(2) }}", "study.md:45:31: error: 'digits' formats one value, but 'main.fertiliser' names a term; add the statistic to the path, for example {{ main.anova.fertiliser.ss | digits(2) }}" },
-        { "reference not closed", "study.md", "{{ main.fertiliser.f }}", "{{ main.fertiliser.f", "study.md:45:31: error: a reference '{{' is not closed with '}}'" },
+        { "reference statistic misspelt", "study.md", "[=main.fertiliser.f]", "[=main.fertiliser.fstat]", "study.md:45:31: error: unknown reference 'main.fertiliser.fstat'; did you mean 'main.fertiliser.f'?" },
+        { "reference term misspelt", "study.md", "[=main.fertiliser.f]", "[=main.fertilizer.f]", "study.md:45:31: error: unknown reference 'main.fertilizer.f'; did you mean 'main.fertiliser.f'?" },
+        { "reference block misspelt", "study.md", "[=main.fertiliser.f]", "[=mian.fertiliser.f]", "study.md:45:31: error: no block with id 'mian'; did you mean 'main'?" },
+        { "reference formatting misspelt", "study.md", "[=main.fertiliser, result]", "[=main.fertiliser, reslt]", "study.md:45:53: error: unknown formatting 'reslt'; did you mean 'result'? (known: result, N decimals, no leading zero, as percent, as df, number only)" },
+        { "formatting applied to a term", "study.md", "[=main.fertiliser.f]", "[=main.fertiliser, 2 decimals]", "study.md:45:31: error: '2 decimals' formats one value, but 'main.fertiliser' names a term; add the statistic to the path, for example [=main.anova.fertiliser.ss, 2 decimals]" },
+        { "reference not closed", "study.md", "[=main.fertiliser.f]", "[=main.fertiliser.f", "study.md:45:31: error: a reference '[=' is not closed with ']' (a reference is at most 200 characters)" },
+        { "reference in the old brace form", "study.md", "[=main.fertiliser.f]", "{{ main.fertiliser.f }}", "study.md:45:31: error: '{{ main.fertiliser.f }}' is not a reference form; write [=main.fertiliser.f]" },
+        { "old brace form with a filter", "study.md", "[=main.fertiliser, result]", "{{ main.fertiliser | result }}", "study.md:45:53: error: '{{ main.fertiliser | result }}' is not a reference form; write [=main.fertiliser, result]" },
+        { "reference starting a line with a colon", "study.md", "The fertiliser effect was F = [=main.fertiliser.f] ([=main.fertiliser, result]).", "[=main.fertiliser.f]: fertiliser", "study.md:45:1: error: '[=main.fertiliser.f]:' at the start of a line is read as a Markdown link definition, so the line would not be shown; put a word before the reference or drop the ':' after it" },
+        { "old report key digits", "study.md", "order: run\n", "order: run\nreport:\n  digits: 4\n", "study.md:16:3: error: 'digits' is not a report key; write 'significant-digits' (the significant digits shown for other numbers)" },
+        { "old report key p-digits", "study.md", "order: run\n", "order: run\nreport:\n  p-digits: 4\n", "study.md:16:3: error: 'p-digits' is not a report key; write 'p-decimals' (the decimals shown for p-values)" },
     };
 
     [Fact]
@@ -190,12 +195,12 @@ run,field,fertiliser,yield_kg
     [Fact]
     public void SeveralBadReferencesOnOneLine_EachReported()
     {
-        var study = ReplaceFirst(BaseStudy, "{{ main.fertiliser.f }} ({{ main.fertiliser | result }})", "{{ main.fertilizer.f }} ({{ mian.fertiliser | result }})");
+        var study = ReplaceFirst(BaseStudy, "[=main.fertiliser.f] ([=main.fertiliser, result])", "[=main.fertilizer.f] ([=mian.fertiliser, result])");
         using var run = new StudyRun().Study(study).File("data/trial.csv", BaseData);
         DiagnosticsTests.AssertRejected(
             run,
             "two bad references",
-            "study.md:45:31: error: unknown reference 'main.fertilizer.f'; did you mean 'main.fertiliser.f'?\nstudy.md:45:56: error: no block with id 'mian'; did you mean 'main'?");
+            "study.md:45:31: error: unknown reference 'main.fertilizer.f'; did you mean 'main.fertiliser.f'?\nstudy.md:45:53: error: no block with id 'mian'; did you mean 'main'?");
     }
 
     [Fact]

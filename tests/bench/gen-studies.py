@@ -43,7 +43,7 @@ of: main
 method: tukey
 ```
 
-Groups differ: F = {{ main.group.f }}, p {{ main.group.p }}.
+Groups differ: F = [=main.group.f], [=main.group.p].
 """
 
 ONEWAY = """---
@@ -68,7 +68,7 @@ factors: [group]
 of: main
 ```
 
-F = {{{{ main.group.f }}}}.
+F = [=main.group.f].
 """
 
 TWOWAY = """---
@@ -92,7 +92,7 @@ interaction: true
 of: main
 ```
 
-F = {{{{ main.a.f }}}}.
+F = [=main.a.f].
 """
 
 

@@ -105,7 +105,7 @@ of: main
 method: tukey
 \`\`\`
 
-F = {{ main.group.f }}.
+F = [=main.group.f].
 EOF
 done
 

@@ -113,8 +113,12 @@ public sealed record FactorLayout(
     public DesignFactor ToDesignFactor(string name) => new(name, Role, [.. Within.Select(w => w.Value)], Plot);
 }
 
-/// <summary>Presentation options; <paramref name="Figures"/> false stops kinds from placing their figures.</summary>
-public sealed record ReportOptions(int Digits, int PDigits, bool Figures)
+/// <summary>
+/// Presentation options: <paramref name="SignificantDigits"/> of ordinary numbers
+/// (<c>significant-digits</c>), <paramref name="PDecimals"/> of p-values (<c>p-decimals</c>);
+/// <paramref name="Figures"/> false stops kinds from placing their figures.
+/// </summary>
+public sealed record ReportOptions(int SignificantDigits, int PDecimals, bool Figures)
 {
     /// <summary>Raw HTML in prose is passed through (the page's CSP still blocks scripts); off by default.</summary>
     public bool RawHtml { get; init; }
@@ -151,7 +155,10 @@ internal static class HeaderBinder
     private static readonly string[] FormatNames = ["csv", "tsv", "xlsx", "sqlite", "duckdb", "parquet", "postgres"];
     private static readonly string[] LayoutKeys = ["role", "within", "plot", "codes"];
     private static readonly string[] FactorKeys = ["column", "levels", "label", .. LayoutKeys];
-    private static readonly string[] ReportKeys = ["template", "digits", "p-digits", "figures", Syntax.StudyParser.RawHtmlKey];
+    private static readonly string[] ReportKeys = ["template", "significant-digits", "p-decimals", "figures", Syntax.StudyParser.RawHtmlKey];
+
+    /// <summary>Report keys of earlier versions and the names that replaced them.</summary>
+    private static readonly (string Old, string New)[] RenamedReportKeys = [("digits", "significant-digits"), ("p-digits", "p-decimals")];
     private static readonly string[] DefaultMissing = ["", "NA", "N/A", "."];
 
     public static StudyHeader Bind(YMapping map, string studyPath, DiagnosticBag diagnostics)
@@ -278,14 +285,34 @@ internal static class HeaderBinder
             case null or YScalar { IsNull: true }:
                 break;
             case YMapping rm:
+                // An old key is reported once, with its new name, and read no further; so is a
+                // misspelt old key ('digts'), with the new name as the suggestion.
+                var oldKeys = RenamedReportKeys.Select(k => k.Old).ToArray();
+                var dropped = new HashSet<YEntry>();
+                foreach (var e in rm.Entries)
+                {
+                    if (Array.Find(RenamedReportKeys, k => k.Old == e.Key.Value) is { New: { } renamed })
+                    {
+                        diagnostics.RenamedReportKey(e.Key.Location, e.Key.Value, renamed);
+                        dropped.Add(e);
+                    }
+                    else if (!ReportKeys.Contains(e.Key.Value) && DiagnosticBag.Nearest(e.Key.Value, ReportKeys) is null
+                        && DiagnosticBag.Nearest(e.Key.Value, oldKeys) is { } near)
+                    {
+                        diagnostics.UnknownKey(e.Key.Location, e.Key.Value, "'report'", Array.Find(RenamedReportKeys, k => k.Old == near).New);
+                        dropped.Add(e);
+                    }
+                }
+
+                rm = rm with { Entries = [.. rm.Entries.Where(e => !dropped.Contains(e))] };
                 var rr = new KeyReader(rm, "'report'", ReportKeys, diagnostics);
                 if (rr.Scalar("template") is { } t)
                 {
                     diagnostics.TemplateNotAllowed(t.Location);
                 }
 
-                digits = rr.Integer("digits", 1, 15) ?? digits;
-                pDigits = rr.Integer("p-digits", 1, 15) ?? pDigits;
+                digits = rr.Integer("significant-digits", 1, 15) ?? digits;
+                pDigits = rr.Integer("p-decimals", 1, 15) ?? pDigits;
                 figures = (rr.Choice("figures", ["auto", "none"]) ?? "auto") == "auto";
                 rawHtml = rr.Boolean(Syntax.StudyParser.RawHtmlKey) ?? false;
                 break;

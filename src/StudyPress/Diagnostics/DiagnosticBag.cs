@@ -497,19 +497,31 @@ public sealed class DiagnosticBag
 
     public void BadReferenceSyntax(SourceLocation at, string text, string why) => Error("SP0403", at, $"cannot read reference {Q(text)}: {why}");
 
-    public void UnclosedReference(SourceLocation at) => Error("SP0404", at, "a reference '{{' is not closed with '}}'");
+    public void UnclosedReference(SourceLocation at, int maxLength) =>
+        Error("SP0404", at, string.Create(CultureInfo.InvariantCulture, $"a reference '[=' is not closed with ']' (a reference is at most {maxLength} characters)"));
 
     public void UndefinedReference(SourceLocation at, string text, string reason) => Error("SP0405", at, $"reference {Q(text)} has no value: {reason}");
 
-    public void FunctionOnNonValue(SourceLocation at, string function, string written, string path, string what, string? example) =>
-        Error("SP0409", at, $"{Q(function)} formats one value, but {Q(path)} names {what}; add the statistic to the path{(example is null ? string.Empty : $", for example {{{{ {example} | {written} }}}}")}");
+    public void FunctionOnNonValue(SourceLocation at, string word, string words, string path, string what, string? example) =>
+        Error("SP0409", at, $"{Q(word)} formats one value, but {Q(path)} names {what}; add the statistic to the path{(example is null ? string.Empty : $", for example [={example}{words}]")}");
 
     public void UnknownBlockReference(SourceLocation at, string id, string? suggestion) => Error("SP0406", at, $"no block with id {Q(id)}{Suggest(suggestion)}");
 
     public void UnknownReferenceFunction(SourceLocation at, string name, string? suggestion, IEnumerable<string> known) =>
-        Error("SP0407", at, $"unknown formatting function {Q(name)}{Suggest(suggestion)} (known: {string.Join(", ", known)})");
+        Error("SP0407", at, $"unknown formatting {Q(name)}{Suggest(suggestion)} (known: {string.Join(", ", known)})");
 
-    public void BadReferenceFunction(SourceLocation at, string name, string why) => Error("SP0408", at, $"formatting function {Q(name)} does not apply here: {why}");
+    public void BadReferenceFunction(SourceLocation at, string name, string why) => Error("SP0408", at, $"formatting {Q(name)} does not apply here: {why}");
+
+    public void ReferenceReadAsLinkDefinition(SourceLocation at, string label) =>
+        Error("SP0122", at, $"'[{label}]:' at the start of a line is read as a Markdown link definition, so the line would not be shown; put a word before the reference or drop the ':' after it");
+
+    /// <summary>The brace form of earlier versions, with the reference form to write instead (null when its inside is no path).</summary>
+    public void OldReferenceForm(SourceLocation at, string written, string? rewritten)
+    {
+        const int max = 80;
+        var shown = written.Length <= max ? written : written[..max] + "…";
+        Error("SP0121", at, $"{Q(shown)} is not a reference form; write {rewritten ?? "[=block.statistic], for example [=main.dose.f]"}");
+    }
 
     // ---- analysis (SP05xx) ----
     public void TooFewGroups(SourceLocation at, string factor, int groups) =>
@@ -565,6 +577,9 @@ public sealed class DiagnosticBag
 
     public void CannotPin(SourceLocation at, string name, string why) =>
         Error("SP0602", at, $"cannot pin the hash of {Q(name)}: {why}; write it as a map with 'path' and 'sha256'");
+
+    public void RenamedReportKey(SourceLocation at, string old, string renamed) =>
+        Error("SP0604", at, $"{Q(old)} is not a report key; write {Q(renamed)} ({(renamed == "p-decimals" ? "the decimals shown for p-values" : "the significant digits shown for other numbers")})");
 
     public void BadStudyId(SourceLocation at, string id) => Error("SP0603", at, $"study id {Q(id)} must start with a letter and use only letters, digits, '_' and '-' (it names the study's figure files)");
 

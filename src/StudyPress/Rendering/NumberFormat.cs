@@ -4,10 +4,10 @@ using StudyPress.Evaluation;
 namespace StudyPress.Rendering;
 
 /// <summary>
-/// How numbers are shown. General values: <c>digits</c> significant digits, except that a value
+/// How numbers are shown. General values: <c>significant-digits</c> significant digits, except that a value
 /// with more integer digits than that is rounded to a whole number (so 18009 stays 18009, not 1.80e4).
-/// Counts and degrees of freedom print as integers when integral. p-values: <c>p-digits</c>
-/// decimals, and "&lt; 0.001" (for p-digits 3) below the smallest printable value.
+/// Counts and degrees of freedom print as integers when integral. p-values: <c>p-decimals</c>
+/// decimals, and "&lt; 0.001" (for p-decimals 3) below the smallest printable value.
 /// Invariant culture throughout: the report is the same on every machine.
 /// </summary>
 public sealed class NumberFormat(int digits, int pDigits)

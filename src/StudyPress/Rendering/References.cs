@@ -7,29 +7,18 @@ using StudyPress.Evaluation;
 namespace StudyPress.Rendering;
 
 /// <summary>
-/// Prose references: <c>{{ block.part.part.stat }}</c>. The first part names a block, the last a
+/// Prose references: <c>[=block.part.part.stat]</c> and the formatting words after commas
+/// (<see cref="ReferenceGrammar"/> reads them). The first part names a block, the last a
 /// statistic; the parts between pick the value by any of its manifest components in order
-/// (test, term, level, pair). A part is a name (letters, digits, '_', '-') or a quoted string for
-/// level names with spaces or dots: <c>{{ desc."Nozzle A".mean }}</c>. When several values match,
-/// the block's main test wins (<c>{{ main.dose.f }}</c> is the ANOVA F, not Welch's).
-/// Limits: 200 characters and 8 parts per reference, so a reference cannot make the build work hard.
+/// (test, term, level, pair). When several values match, the block's main test wins
+/// (<c>[=main.dose.f]</c> is the ANOVA F, not Welch's). A p-value reads as a phrase on its own
+/// ("p = 0.014", "p &lt; 0.001") unless the reference says <c>number only</c>.
 /// </summary>
 public static class References
 {
     /// <summary>The canonical way to write a reference to a value.</summary>
     public static string PathOf(ResultValue v) =>
         string.Join(".", new[] { v.Block }.Concat(v.Components()).Append(v.Stat).Select(ReferenceGrammar.QuoteIfNeeded));
-
-    /// <summary>The formatting functions a reference may name after '|', with a short description.</summary>
-    public static readonly IReadOnlyList<(string Name, string Usage)> Functions =
-    [
-        ("result", "the whole result of a test, e.g. F(3, 20) = 11.51, p < .001"),
-        ("p", "a p-value as 'p = .035' or 'p < .001'"),
-        ("digits", "a fixed number of decimals, digits(1)"),
-        ("fraction", "two decimals (or fraction(n)) without the leading zero, for values up to 1"),
-        ("percent", "the value as a percentage, percent or percent(1)"),
-        ("df", "degrees of freedom: whole numbers as such, others with two decimals"),
-    ];
 
     /// <summary>
     /// Reports the references that cannot be read or name no block (one message each; a block that
@@ -98,71 +87,83 @@ public static class References
             return null;
         }
 
-        var function = expression.Function;
-        if (function is not null && !Functions.Any(f => f.Name == function.Name))
+        if (expression.Words.FirstOrDefault(w => w.Kind == FormatWord.Unknown) is { } unknown)
         {
-            diagnostics.UnknownReferenceFunction(reference.Location, function.Name, DiagnosticBag.Nearest(function.Name, Functions.Select(f => f.Name)), Functions.Select(f => f.Name));
+            diagnostics.UnknownReferenceFunction(reference.Location, unknown.Text, NearestWord(unknown.Text), ReferenceGrammar.WordForms);
             return null;
         }
 
-        if (function is { Name: "result" })
+        if (expression.IsResult)
         {
             return ResolveResult(reference, expression, results, primary, alpha, diagnostics);
         }
 
-        if (function is not null && NotAValue(parts, results) is { } what)
+        var formatting = expression.Words.Where(w => w.Kind != FormatWord.NumberOnly).ToList();
+        if (formatting.Count > 0 && NotAValue(parts, results) is { } what)
         {
-            var written = reference.Text[(reference.Text.IndexOf('|', StringComparison.Ordinal) + 1)..].Trim();
-            diagnostics.FunctionOnNonValue(reference.Location, function.Name, written, string.Join(".", parts), what, Example(parts, results));
+            diagnostics.FunctionOnNonValue(reference.Location, formatting[0].Text, expression.WordsText, string.Join(".", parts.Select(ReferenceGrammar.QuoteIfNeeded)), what, Example(parts, results));
             return null;
         }
 
         var value = ResolveValue(reference, parts, results, primary, diagnostics);
-        if (value is null || function is null)
-        {
-            return value is null ? null : new ResolvedReference(value, null, null);
-        }
-
-        switch (function.Name)
-        {
-            case "p":
-                if (function.Digits is not null)
-                {
-                    diagnostics.BadReferenceFunction(reference.Location, "p", "it takes no argument; p-values show three decimals, or '< .001'");
-                    return null;
-                }
-
-                if (!IsPStat(value.Stat))
-                {
-                    diagnostics.BadReferenceFunction(reference.Location, "p", $"it formats p-values, and '{value.Stat}' is not one");
-                    return null;
-                }
-
-                return new ResolvedReference(value, ReportStyle.PPhrase(value), null);
-            case "digits":
-                if (function.Digits is not { } d)
-                {
-                    diagnostics.BadReferenceFunction(reference.Location, "digits", "say how many decimals, as in digits(1)");
-                    return null;
-                }
-
-                return new ResolvedReference(value, null, ReportStyle.Fixed(d));
-            case "fraction":
-                return new ResolvedReference(value, null, ReportStyle.Fraction(function.Digits ?? 2));
-            case "percent":
-                return new ResolvedReference(value, null, ReportStyle.Percent(function.Digits ?? 0));
-            default:
-                if (function.Digits is not null)
-                {
-                    diagnostics.BadReferenceFunction(reference.Location, "df", "it takes no argument");
-                    return null;
-                }
-
-                return new ResolvedReference(value, null, ReportStyle.Df);
-        }
+        return value is null ? null : Format(reference, expression, value, diagnostics);
     }
 
-    private static bool IsPStat(string stat) => stat == "p" || stat.StartsWith("p_", StringComparison.Ordinal);
+    /// <summary>The nearest formatting word to a misspelt one ("2 digits" → "2 decimals").</summary>
+    private static string? NearestWord(string written)
+    {
+        var space = written.IndexOf(' ', StringComparison.Ordinal);
+        if (space > 0 && written[..space].All(char.IsAsciiDigit))
+        {
+            // A count with another unit ('2 digits', '3 places'): the count stays, the unit is 'decimals'.
+            return written[..space] + (written[..space] == "1" ? " decimal" : " decimals");
+        }
+
+        return DiagnosticBag.Nearest(written, ReferenceGrammar.WordForms.Where(w => !w.StartsWith('N')));
+    }
+
+    /// <summary>The style of one value from the words; p-values become a phrase ("p = 0.014") unless 'number only'.</summary>
+    private static ResolvedReference? Format(ReferenceInline reference, ReferenceExpression expression, ResultValue value, DiagnosticBag diagnostics)
+    {
+        var words = expression.Words;
+        bool Has(FormatWord k) => words.Any(w => w.Kind == k);
+        int? decimals = words.FirstOrDefault(w => w.Kind == FormatWord.Decimals)?.Decimals;
+        if (PName(value.Stat) is { } name)
+        {
+            if (words.FirstOrDefault(w => w.Kind is FormatWord.AsPercent or FormatWord.AsDf) is { } notForP)
+            {
+                diagnostics.BadReferenceFunction(reference.Location, notForP.Text, $"'{value.Stat}' is a p-value; it is shown as one, with 'N decimals' or 'no leading zero' if you wish");
+                return null;
+            }
+
+            if (decimals == 0)
+            {
+                diagnostics.BadReferenceFunction(reference.Location, "0 decimals", "a p-value needs at least one decimal");
+                return null;
+            }
+
+            var pStyle = decimals is { } pd
+                ? (Has(FormatWord.NoLeadingZero) ? ReportStyle.PFraction(pd) : ReportStyle.PFixed(pd))
+                : Has(FormatWord.NoLeadingZero) ? ReportStyle.P : null;
+            return new ResolvedReference(value, null, pStyle) { PName = Has(FormatWord.NumberOnly) ? null : name };
+        }
+
+        var style = Has(FormatWord.AsDf) ? ReportStyle.Df
+            : Has(FormatWord.AsPercent) ? ReportStyle.Percent(decimals ?? 0)
+            : Has(FormatWord.NoLeadingZero) ? ReportStyle.Fraction(decimals ?? 2)
+            : decimals is { } d ? ReportStyle.Fixed(d)
+            : null;
+        return new ResolvedReference(value, null, style);
+    }
+
+    /// <summary>The name a p-value statistic is given in its phrase ("p", "adjusted p"), or null when the statistic is not a p-value.</summary>
+    private static string? PName(string stat) => stat switch
+    {
+        Stat.P => "p",
+        Stat.PAdj => "adjusted p",
+        Stat.PBonferroni => "Bonferroni-adjusted p",
+        _ => null,
+    };
 
     /// <summary>A path without a statistic, naming one group of values (a term, a pair, a level), as a result sentence.</summary>
     private static ResolvedReference? ResolveResult(ReferenceInline reference, ReferenceExpression expression, ResultSet results, string primary, double alpha, DiagnosticBag diagnostics)
@@ -200,13 +201,13 @@ public static class References
                     string.Join(".", new[] { v.Block }.Concat(v.Components().Skip(1)).Select(ReferenceGrammar.QuoteIfNeeded)),
                     string.Join(".", new[] { v.Block }.Concat(v.Components()).Select(ReferenceGrammar.QuoteIfNeeded)),
                 }).Distinct());
-            diagnostics.UnknownReference(reference.Location, reference.Text, suggestion is null ? null : suggestion + " | result");
+            diagnostics.UnknownReference(reference.Location, reference.Text, suggestion is null ? null : suggestion + ", result");
             return null;
         }
 
         if (groups.Count > 1)
         {
-            diagnostics.AmbiguousReference(reference.Location, reference.Text, groups.Take(4).Select(g => string.Join(".", new[] { g.Block }.Concat(g.Components()).Select(ReferenceGrammar.QuoteIfNeeded)) + " | result"));
+            diagnostics.AmbiguousReference(reference.Location, reference.Text, groups.Take(4).Select(g => string.Join(".", new[] { g.Block }.Concat(g.Components()).Select(ReferenceGrammar.QuoteIfNeeded)) + ", result"));
             return null;
         }
 
@@ -222,7 +223,7 @@ public static class References
         return new ResolvedReference(anchor, html, null);
     }
 
-    /// <summary>"a block" or "a term" when a formatting function is applied to a path that names no single value; else null.</summary>
+    /// <summary>"a block" or "a term" when a formatting word is applied to a path that names no single value; else null.</summary>
     private static string? NotAValue(IReadOnlyList<string> parts, ResultSet results)
     {
         if (parts.Count == 1)
@@ -252,7 +253,7 @@ public static class References
     {
         if (parts.Count < 2)
         {
-            diagnostics.BadReferenceSyntax(reference.Location, reference.Text, "name a block and a statistic, for example {{ main.dose.f }}");
+            diagnostics.BadReferenceSyntax(reference.Location, reference.Text, "name a block and a statistic, for example [=main.dose.f]");
             return null;
         }
 
@@ -286,7 +287,7 @@ public static class References
         var selected = ofBlock.Where(v => IsSubsequence(middle, [.. v.Components()])).Select(v => v.Stat).Distinct().ToList();
         var nearStat = selected.Where(s => stat.StartsWith(s, StringComparison.Ordinal) || s.StartsWith(stat, StringComparison.Ordinal)).OrderByDescending(s => s.Length).FirstOrDefault()
             ?? DiagnosticBag.Nearest(stat, selected);
-        var pathText = reference.Text.Split('|')[0].Trim();
+        var pathText = string.Join(".", parts.Select(ReferenceGrammar.QuoteIfNeeded));
         if (selected.Count == 0 && middle.Length > 0)
         {
             // A misspelt term or level: correct each unknown part to the nearest one of the block.
@@ -325,11 +326,31 @@ public static class References
 
 /// <summary>
 /// A resolved reference: the value it names (for a result sentence, the group's first undefined
-/// value, else its first value), and either ready HTML (a sentence or a p phrase), a report style, or
-/// neither (the report's default number format).
+/// value, else its first value), and either ready HTML (a sentence), a report style, or neither
+/// (the report's default number format). A p-value carries the name of its phrase
+/// (<see cref="PName"/>: "p", "adjusted p"), written before the number with "=" or, when the
+/// number already starts with "&lt;", a space: "p = 0.014", "p &lt; 0.001".
 /// </summary>
 public sealed record ResolvedReference(ResultValue Value, string? Html, string? Style)
 {
-    public string ToHtml(RenderContext context) =>
-        Html ?? (Style is { } style ? ReportStyle.Span(Value, style) : HtmlWriter.ValueHtml(Value, context));
+    public string? PName { get; init; }
+
+    public string ToHtml(RenderContext context)
+    {
+        if (Html is not null)
+        {
+            return Html;
+        }
+
+        var number = Style is { } style ? ReportStyle.Span(Value, style) : HtmlWriter.ValueHtml(Value, context);
+        if (PName is null)
+        {
+            return number;
+        }
+
+        var shown = !Value.Value.IsDefined ? "n/d"
+            : Style is { } s ? ReportStyle.Format(s, Value.Value.Value)!
+            : context.Format.Format(Value.Stat, Value.Value.Value);
+        return PName + (Value.Value.IsDefined && !shown.StartsWith('<') ? " = " : " ") + number;
+    }
 }

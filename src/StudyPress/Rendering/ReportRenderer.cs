@@ -68,7 +68,7 @@ internal static class ReportRenderer
         ManifestHeader identity,
         byte[] manifest)
     {
-        var context = new RenderContext(new NumberFormat(header.Report.Digits, header.Report.PDigits), header.Alpha);
+        var context = new RenderContext(new NumberFormat(header.Report.SignificantDigits, header.Report.PDecimals), header.Alpha);
         var body = new StringWriter(CultureInfo.InvariantCulture);
         var renderer = new HtmlRenderer(body);
         StudyParser.Pipeline(syntax.Path).Setup(renderer);
@@ -250,7 +250,7 @@ internal static class ReportRenderer
         }
     }
 
-    /// <summary>A prose reference: a traced number, styled when the reference names a formatting function.</summary>
+    /// <summary>A prose reference: a traced number, styled when the reference gives formatting words; a p-value with its phrase.</summary>
     private sealed class ReferenceRenderer(IReadOnlyDictionary<ReferenceInline, ResolvedReference> references, RenderContext context)
         : HtmlObjectRenderer<ReferenceInline>
     {

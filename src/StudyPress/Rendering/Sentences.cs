@@ -17,6 +17,8 @@ namespace StudyPress.Rendering;
 /// <item><c>fixed-N</c>: N decimals ("11.51" for fixed-2).</item>
 /// <item><c>fraction-N</c>: N decimals with the leading "0" dropped (".63", "-.05"), for values that cannot exceed 1.</item>
 /// <item><c>percent-N</c>: the value times 100 with N decimals and a "%" sign ("29%").</item>
+/// <item><c>p-N</c>: a p-value with N decimals ("0.0350"), "&lt; 0.0001" (for N = 4) below the smallest such number.</item>
+/// <item><c>p-fraction-N</c>: as <c>p-N</c> with the leading "0" dropped (".0350", "&lt; .0001").</item>
 /// </list>
 /// Rounding is half away from zero on the double (Math.Round with MidpointRounding.AwayFromZero);
 /// a result that rounds to zero prints without a minus sign; the minus is ASCII '-'; invariant culture.
@@ -32,6 +34,10 @@ public static class ReportStyle
     public static string Fraction(int digits) => "fraction-" + digits.ToString(CultureInfo.InvariantCulture);
 
     public static string Percent(int digits) => "percent-" + digits.ToString(CultureInfo.InvariantCulture);
+
+    public static string PFixed(int digits) => "p-" + digits.ToString(CultureInfo.InvariantCulture);
+
+    public static string PFraction(int digits) => "p-fraction-" + digits.ToString(CultureInfo.InvariantCulture);
 
     /// <summary>Largest number of decimals a style may ask for.</summary>
     public const int MaxDigits = Syntax.ReferenceGrammar.MaxDigits;
@@ -60,6 +66,8 @@ public static class ReportStyle
             "fixed" => FixedText(value, digits),
             "fraction" => DropLeadingZero(FixedText(value, digits)),
             "percent" => FixedText(value * 100, digits) + "%",
+            "p" when digits > 0 => PText(value, digits, dropZero: false),
+            "p-fraction" when digits > 0 => PText(value, digits, dropZero: true),
             _ => null,
         };
     }
@@ -74,6 +82,15 @@ public static class ReportStyle
         }
 
         return rounded.ToString("F" + digits.ToString(CultureInfo.InvariantCulture), CultureInfo.InvariantCulture);
+    }
+
+    /// <summary>A p-value with <paramref name="digits"/> decimals, or "&lt; 0.001" (for 3) below the smallest such number.</summary>
+    private static string PText(double value, int digits, bool dropZero)
+    {
+        var smallest = Math.Pow(10, -digits);
+        var text = FixedText(value < smallest ? smallest : value, digits);
+        text = dropZero ? DropLeadingZero(text) : text;
+        return value < smallest ? "< " + text : text;
     }
 
     private static string DropLeadingZero(string s) =>

@@ -91,7 +91,19 @@ public static class StudyParser
         var references = document.Descendants<ReferenceInline>().ToList();
         foreach (var r in references.Where(r => !r.Closed))
         {
-            diagnostics.UnclosedReference(r.Location);
+            diagnostics.UnclosedReference(r.Location, ReferenceGrammar.MaxLength);
+        }
+
+        foreach (var old in document.Descendants<OldReferenceInline>())
+        {
+            diagnostics.OldReferenceForm(old.Location, old.Written, OldReferenceForm.Rewrite(old.Written[2..^2].Trim()));
+        }
+
+        // "[=main.dose.f]: text" at the start of a paragraph is a Markdown link definition, which
+        // would make the line vanish from the report without a word.
+        foreach (var definition in document.Descendants<Markdig.Syntax.LinkReferenceDefinition>().Where(d => d.Label?.StartsWith('=') == true))
+        {
+            diagnostics.ReferenceReadAsLinkDefinition(new SourceLocation(path, definition.Line, definition.Column), definition.Label!);
         }
 
         return new StudySyntax(path, text, header, headerLocation, document, blocks, references)
