@@ -33,7 +33,7 @@ public sealed class PrintLayoutTests(BrowserFixture browser)
         }
     }
 
-    [Fact]
+    [BrowserFact]
     public void PdfPages_ReadsTheLowestTextOfEachPage()
     {
         // A hand-written two-page PDF (exact hand computation): page 1 has text at y = 700 and 100
