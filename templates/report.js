@@ -1,26 +1,38 @@
 (function () {
   "use strict";
-  // The chart font also travels as bytes: some browsers on machines without any installed font
-  // refuse the stylesheet's data: URL now and then, but accept the same font given as bytes.
-  var fontData = document.currentScript ? document.currentScript.previousElementSibling : null;
-  if (fontData && fontData.id !== "chart-font") { fontData = null; }
-  if (fontData && window.FontFace && document.fonts) {
+  // The chart font is embedded once, in the stylesheet's @font-face rule. Some browsers on
+  // machines without any installed font refuse that data: URL now and then, but accept the same
+  // bytes given to a FontFace, so the script hands them over too, read from the same rule.
+  if (window.FontFace && document.fonts) {
     try {
-      var raw = atob(fontData.textContent.trim());
-      var bytes = new Uint8Array(raw.length);
-      for (var i = 0; i < raw.length; i++) { bytes[i] = raw.charCodeAt(i); }
-      var face = new FontFace("StudyPress Sans", bytes.buffer);
-      document.fonts.add(face);
-      face.load().catch(function () { document.fonts.delete(face); });
-    } catch (e) { /* the stylesheet's copy of the font remains */ }
+      var sheets = document.styleSheets;
+      var found = null;
+      for (var s = 0; s < sheets.length && found === null; s++) {
+        var rules = sheets[s].cssRules;
+        for (var r = 0; r < rules.length; r++) {
+          var rule = rules[r];
+          if (rule.type === 5 && rule.style.getPropertyValue("font-family").indexOf("StudyPress Sans") >= 0) {
+            var m = /base64,([A-Za-z0-9+\/=]+)/.exec(rule.style.getPropertyValue("src"));
+            if (m) { found = m[1]; break; }
+          }
+        }
+      }
+      if (found !== null) {
+        var raw = atob(found);
+        var bytes = new Uint8Array(raw.length);
+        for (var i = 0; i < raw.length; i++) { bytes[i] = raw.charCodeAt(i); }
+        var face = new FontFace("StudyPress Sans", bytes.buffer);
+        document.fonts.add(face);
+        face.load().catch(function () { document.fonts.delete(face); });
+      }
+    } catch (e) { /* the stylesheet's rule remains */ }
   }
 
-  // The manifest is the element two before this script, placed by the writer after all the
+  // The manifest is the element just before this script, placed by the writer after all the
   // study's content (the verifier reads the same element); never looked up by id, which the
   // study's own HTML could imitate.
   var here = document.currentScript;
-  var font = here ? here.previousElementSibling : null;
-  var source = font && font.id === "chart-font" ? font.previousElementSibling : null;
+  var source = here ? here.previousElementSibling : null;
   if (!source || source.id !== "study-results" || source.type !== "application/json") { source = null; }
   var panel = document.getElementById("trace");
   if (!source || !panel) { return; }

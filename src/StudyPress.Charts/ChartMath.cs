@@ -205,4 +205,61 @@ internal static class ChartMath
             }
         }
     }
+
+    /// <summary>
+    /// True when any segment of the polyline passes through the box [left, right] × [top, bottom]
+    /// (pixels); Liang–Barsky clipping of each segment against the box.
+    /// </summary>
+    public static bool PolylineCrossesBox(IReadOnlyList<Rendering.Pt> points, double left, double top, double right, double bottom)
+    {
+        if (points.Count == 1)
+        {
+            return points[0].X >= left && points[0].X <= right && points[0].Y >= top && points[0].Y <= bottom;
+        }
+
+        for (int i = 1; i < points.Count; i++)
+        {
+            var a = points[i - 1];
+            var b = points[i];
+            double dx = b.X - a.X, dy = b.Y - a.Y;
+            double t0 = 0, t1 = 1;
+            bool outside = false;
+            foreach (var (p, q) in new[] { (-dx, a.X - left), (dx, right - a.X), (-dy, a.Y - top), (dy, bottom - a.Y) })
+            {
+                if (p == 0)
+                {
+                    if (q < 0)
+                    {
+                        outside = true;
+                        break;
+                    }
+
+                    continue;
+                }
+
+                double r = q / p;
+                if (p < 0)
+                {
+                    t0 = Math.Max(t0, r);
+                }
+                else
+                {
+                    t1 = Math.Min(t1, r);
+                }
+
+                if (t0 > t1)
+                {
+                    outside = true;
+                    break;
+                }
+            }
+
+            if (!outside)
+            {
+                return true;
+            }
+        }
+
+        return false;
+    }
 }

@@ -32,7 +32,15 @@ public static partial class StatCharts
 
         var y = LinearScale.Containing(groups.SelectMany(g => g.Values));
         var x = new CategoryScale(groups.Select(g => g.Label).ToList());
-        var plot = new Plot(labels, size, null, x, y, null);
+        // The legend names the two point markers; the outlier entry only when a group has one.
+        bool anyOutlier = groups.Any(g => g.Values.Count > 0 && ChartMath.Box(g.Values.OrderBy(v => v).ToList()).Outliers.Count > 0);
+        var legend = new List<LegendEntry> { new("Observation", null, MarkerShape.Circle, Palette.Blue) };
+        if (anyOutlier)
+        {
+            legend.Add(new("Beyond 1.5 IQR", null, MarkerShape.Triangle, Palette.Vermillion));
+        }
+
+        var plot = new Plot(labels, size, null, x, y, null, legend);
         var desc = new StringBuilder();
         desc.Append("Box plot with all observations of ").Append(Subject(labels)).Append(" for ").Append(groups.Count)
             .Append(groups.Count == 1 ? " group." : " groups.");

@@ -14,8 +14,9 @@ public static partial class StatCharts
     /// <paramref name="alpha"/> shaded from the critical value to the right edge, and the observed F
     /// as a vertical line with its label. The axis runs from 0 to at least 1.5 × the critical value
     /// and includes the observed F, unless that lies beyond 3 times that; then the F is drawn as an
-    /// arrow at the right edge with a label saying it lies off the axis. A density that is
-    /// unbounded at 0 (df1 &lt; 2) is cut at the top of the plot.
+    /// arrow at the right edge with a label saying it lies off the axis. The vertical axis reaches the
+    /// curve's highest point; a density that is unbounded at 0 (df1 &lt; 2) is drawn from 1 % of the
+    /// axis onwards, so its highest drawn point is still on the axis.
     /// </summary>
     public static Chart FDistribution(double df1, double df2, double observedF, double alpha, ChartLabels labels, ChartSize? size = null)
     {
@@ -42,7 +43,10 @@ public static partial class StatCharts
         const int Grid = 241;
         var gx = Enumerable.Range(0, Grid).Select(k => x.Min + ((x.Max - x.Min) * k / (Grid - 1))).ToArray();
         double Pdf(double v) => v <= 0 ? (df1 < 2 ? double.PositiveInfinity : df1 == 2 ? 1 : 0) : FisherSnedecor.PDF(df1, df2, v);
-        double top = gx.Where(v => v >= x.Max / 100).Select(Pdf).Where(double.IsFinite).DefaultIfEmpty(1).Max();
+        // The curve is drawn over the whole axis, except that a density unbounded at 0 (df1 < 2)
+        // starts at 1 % of the axis; the vertical axis reaches the highest point drawn.
+        var drawn = gx.Where(v => df1 >= 2 || v >= x.Max / 100).ToArray();
+        double top = drawn.Select(Pdf).Where(double.IsFinite).DefaultIfEmpty(1).Max();
         var y = LinearScale.FromBounds(0, top);
         double Clamp(double d) => double.IsFinite(d) ? Math.Min(d, y.Max) : y.Max;
 
@@ -50,7 +54,7 @@ public static partial class StatCharts
         var legend = new List<LegendEntry>
         {
             new("Rejection region", null, null, Palette.Vermillion, Swatch: Paint.FillOnly(Palette.Vermillion, 0.35)),
-            new("Critical value", critPaint, null, Palette.Ink),
+            new("Rejection threshold", critPaint, null, Palette.Ink),
             new("Observed F", Paint.StrokeOnly(Palette.Blue, 2), null, Palette.Blue),
         };
         var plot = new Plot(labels, size, x, null, y, null, legend);
@@ -60,7 +64,7 @@ public static partial class StatCharts
         region.AddRange(gx.Where(v => v > crit).Select(v => new Pt(x.Map(v), y.Map(Clamp(Pdf(v))))));
         region.Add(new(x.Map(x.Max), y.Map(0)));
         plot.Add(new PolygonEl(region, Paint.FillOnly(Palette.Vermillion, 0.35), "rejection-region"));
-        plot.Add(new PolylineEl(gx.Select(v => new Pt(x.Map(v), y.Map(Clamp(Pdf(v))))).ToList(),
+        plot.Add(new PolylineEl(drawn.Select(v => new Pt(x.Map(v), y.Map(Clamp(Pdf(v))))).ToList(),
             Paint.StrokeOnly(Palette.Ink, 1.6), "density"));
 
         string critText = "rejected from F = " + LinearScale.Num(crit);
@@ -145,10 +149,44 @@ public static partial class StatCharts
             var at = new Pt(x.Map(marked.PerGroupN), y.Map(marked.Power));
             markedText = "n = " + marked.PerGroupN.ToString(CultureInfo.InvariantCulture) + ", power " + LinearScale.Num(marked.Power);
             plot.Add(Palette.Marker(MarkerShape.Diamond, at, 5, Palette.Black, true, "marked"));
-            bool nearRight = at.X > (plot.Left + plot.Right) / 2;
-            double ty = marked.Power > 0.85 ? at.Y + 18 : at.Y - 9;
-            plot.Add(new TextEl(new(nearRight ? at.X - 8 : at.X + 8, ty), markedText, Plot.TickSize, Palette.Ink,
-                nearRight ? Anchor.End : Anchor.Start, Class: "marked-label"));
+            // The label goes where it crosses neither the curve nor the target line: the first of
+            // these places around the point (the power curve rises, so up-left and down-right of it
+            // are usually clear) whose measured box stays inside the plot and clear of both.
+            var curvePoints = ordered.Select(pt => new Pt(x.Map(pt.PerGroupN), y.Map(pt.Power))).ToList();
+            var targetY = y.Map(targetPower);
+            double width = ChartFont.MeasureWidth(markedText, Plot.TickSize);
+            double fs = Plot.TickSize;
+            (double X, double Baseline, Anchor Anchor)[] candidates =
+            [
+                (at.X - 8, at.Y - 8, Anchor.End),
+                (at.X + 8, at.Y + fs + 6, Anchor.Start),
+                (at.X - 8, at.Y - 8 - (2 * fs), Anchor.End),
+                (at.X + 8, at.Y + (3 * fs) + 6, Anchor.Start),
+                (at.X + 8, at.Y - 8, Anchor.Start),
+                (at.X - 8, at.Y + fs + 6, Anchor.End),
+            ];
+            (double X, double Baseline, Anchor Anchor)? chosen = null;
+            foreach (var c in candidates)
+            {
+                double left = c.Anchor == Anchor.End ? c.X - width : c.X;
+                var box = (Left: left - 2, Top: c.Baseline - fs - 1, Right: left + width + 2, Bottom: c.Baseline + (fs * 0.3) + 1);
+                bool inside = box.Left >= plot.Left && box.Right <= plot.Right && box.Top >= plot.Top && box.Bottom <= plot.Bottom;
+                if (!inside)
+                {
+                    continue;
+                }
+
+                chosen ??= c;
+                bool crossesTarget = targetY >= box.Top && targetY <= box.Bottom;
+                if (!crossesTarget && !ChartMath.PolylineCrossesBox(curvePoints, box.Left, box.Top, box.Right, box.Bottom))
+                {
+                    chosen = c;
+                    break;
+                }
+            }
+
+            var (lx, ly, anchor) = chosen ?? candidates[0];
+            plot.Add(new TextEl(new(lx, ly), markedText, Plot.TickSize, Palette.Ink, anchor, Class: "marked-label"));
         }
 
         string desc = ordered.Count == 0

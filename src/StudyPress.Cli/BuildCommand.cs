@@ -157,7 +157,7 @@ public static class StudyBuilder
 /// Where PNG figures go. Each study gets its own folder inside the figures folder: the study file's
 /// path relative to the current folder, without the <c>.md</c> extension (<c>figs/a/study/</c> for
 /// <c>a/study.md</c>); a <c>..</c> step of a study outside the current folder becomes <c>_parent</c>.
-/// A figure's file name is <c>STUDYID-BLOCKID-TYPE-N.png</c>; no path may leave its folder.
+/// A figure's file name is <c>STUDYID_BLOCKID_CHART.png</c> (Compilation.FigureFileName); no path may leave its folder.
 /// </summary>
 public static class FigurePaths
 {

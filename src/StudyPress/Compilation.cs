@@ -39,7 +39,7 @@ public sealed class CompilationResult
 
     public byte[]? ManifestJson { get; init; }
 
-    /// <summary>The report's figures in order, with a file name for PNG export (block id and a running number).</summary>
+    /// <summary>The report's figures in order, each with its file name for PNG and LaTeX export (study, block and chart; see FigureFileName).</summary>
     public IReadOnlyList<(string FileName, Figure Figure)> Figures { get; init; } = [];
 
     /// <summary>How the report shows numbers (the study's <c>report:</c> settings); the exports show values the same way.</summary>
@@ -183,13 +183,12 @@ public static class Compilation
             options.SourceDateEpoch is { } epoch ? DateTimeOffset.FromUnixTimeSeconds(epoch).UtcDateTime.ToString("yyyy-MM-dd'T'HH:mm:ss'Z'", System.Globalization.CultureInfo.InvariantCulture) : null);
         manifest = Manifest.Write(identity, inputs, context.Results);
         format = new NumberFormat(header.Report.SignificantDigits, header.Report.PDecimals);
+        var taken = new HashSet<string>(StringComparer.OrdinalIgnoreCase);
         foreach (var block in blocks)
         {
-            var n = 0;
             foreach (var f in outcomes[block.Syntax].Figures)
             {
-                n++;
-                figures.Add(($"{header.Id}-{block.Id}-{f.Type}-{n.ToString(System.Globalization.CultureInfo.InvariantCulture)}.png", f));
+                figures.Add((FigureFileName(header.Id, block.Id, f, taken), f));
             }
         }
 
@@ -201,5 +200,37 @@ public static class Compilation
         }
 
         return html;
+    }
+
+    /// <summary>
+    /// A figure's file name: study, block and chart, joined by '_' (<c>spray-nozzles_main_means.png</c>);
+    /// a figure that shares its type with another of the block adds what tells it apart (an F
+    /// distribution's term: <c>…_main_f-distribution-nozzle.png</c>). Ids are names (letters,
+    /// digits, '_', '-') and chart parts use no '_', so the block and chart stay readable; other
+    /// characters in a part become '-', and a name that is still taken (ignoring case, for
+    /// case-insensitive file systems) gets "-2", "-3", ….
+    /// </summary>
+    internal static string FigureFileName(string studyId, string blockId, Figure figure, ISet<string> taken)
+    {
+        var chart = figure.Part is null ? figure.Type : figure.Type + "-" + FileNamePart(figure.Part);
+        var stem = studyId + "_" + blockId + "_" + chart;
+        var name = stem + ".png";
+        for (var k = 2; !taken.Add(name); k++)
+        {
+            name = stem + "-" + k.ToString(System.Globalization.CultureInfo.InvariantCulture) + ".png";
+        }
+
+        return name;
+    }
+
+    private static string FileNamePart(string text)
+    {
+        var sb = new System.Text.StringBuilder(text.Length);
+        foreach (var c in text)
+        {
+            sb.Append(char.IsAsciiLetterOrDigit(c) ? c : '-');
+        }
+
+        return sb.ToString().Trim('-') is { Length: > 0 } s ? s : "term";
     }
 }

@@ -83,9 +83,9 @@ public sealed class HostileReportTests(BrowserFixture browser)
         Assert.Empty(pageErrors);
 
         // The tool's own script ran (the page is live) and read the embedded manifest intact: the
-        // one element two before the page script, the only element with the manifest's id.
+        // one element just before the page script, the only element with the manifest's id.
         Assert.Equal(1, await page.EvaluateAsync<int>("() => document.querySelectorAll('#study-results').length"));
-        var levels = await page.EvaluateAsync<string[]>("() => JSON.parse(document.scripts[document.scripts.length - 1].previousElementSibling.previousElementSibling.textContent).values.map(v => v.level).filter(l => l)");
+        var levels = await page.EvaluateAsync<string[]>("() => JSON.parse(document.scripts[document.scripts.length - 1].previousElementSibling.textContent).values.map(v => v.level).filter(l => l)");
         Assert.Contains("</script><script>window.__pwned='level'</script>", levels);
 
         var scripts = await page.EvaluateAsync<int>("() => document.querySelectorAll('script').length");
@@ -93,10 +93,10 @@ public sealed class HostileReportTests(BrowserFixture browser)
         var jsLinks = await page.EvaluateAsync<int>("() => document.querySelectorAll('a[href^=\"javascript\" i]').length");
         if (!rawHtml)
         {
-            // Nothing the user wrote became markup: only the tool's three script elements (the
-            // manifest, the chart font's bytes and the page script), no handler attributes, no
-            // script links, and no console message of any kind.
-            Assert.Equal(3, scripts);
+            // Nothing the user wrote became markup: only the tool's two script elements (the
+            // manifest and the page script), no handler attributes, no script links, and no
+            // console message of any kind.
+            Assert.Equal(2, scripts);
             Assert.Equal(0, handlers);
             Assert.Equal(0, jsLinks);
             Assert.Empty(console);
@@ -106,7 +106,7 @@ public sealed class HostileReportTests(BrowserFixture browser)
             // Script, iframe, meta and fake-manifest elements are removed even in raw mode (a meta
             // refresh would navigate away: the URL check above); handler attributes reach the page
             // (so this test can fail), and the policy blocked them all.
-            Assert.Equal(3, scripts);
+            Assert.Equal(2, scripts);
             Assert.True(handlers > 0, "raw HTML should have let the handler attributes into the page");
             Assert.Equal(1, jsLinks); // the raw <a href="javascript:">; the Markdown links were dropped
             Assert.NotEmpty(console);

@@ -23,6 +23,6 @@ internal static class Samples
             Enumerable.Range(2, 29).Select(n => new PowerPoint(n, 1 - Math.Exp(-n / 8.0))).ToList(), 0.8, new PowerPoint(13, 1 - Math.Exp(-13 / 8.0)),
             new("Power", "n per group", "Power"))),
         ("intervals", () => StatCharts.SimultaneousIntervals(
-            [new("B − A", 2.2, 0.4, 4.0), new("C − A", -0.9, -2.7, 0.9), new("C − B", -3.1, -4.9, -1.3)], "95 % simultaneous", new("Tukey", "Difference", ""))),
+            [new("B − A", 2.2, 0.4, 4.0), new("C − A", -0.9, -2.7, 0.9), new("C − B", -3.1, -4.9, -1.3)], "95 % joint", new("Tukey", "Difference", ""))),
     ];
 }

@@ -216,7 +216,7 @@ public sealed partial class OutputIntegrityTests
     {
         using var run = new StudyRun();
         Assert.Throws<InvalidOperationException>(() => FigurePaths.Inside(Path.Combine(run.Folder, "figs"), name));
-        Assert.Equal(Path.Combine(run.Folder, "figs", "s-main-box-1.png"), FigurePaths.Inside(Path.Combine(run.Folder, "figs"), "s-main-box-1.png"));
+        Assert.Equal(Path.Combine(run.Folder, "figs", "s_main_box.png"), FigurePaths.Inside(Path.Combine(run.Folder, "figs"), "s_main_box.png"));
     }
 
     [Fact]
@@ -296,7 +296,7 @@ public sealed partial class OutputIntegrityTests
         using var run = ReproducibilityVerifyTests.Built();
         var html = File.ReadAllText(run.ReportPath);
         File.WriteAllText(run.ReportPath, html.Replace("</main>", "<script>document.title='x'</script></main>", StringComparison.Ordinal));
-        Assert.Equal((1, "study.html: altered (the page has 4 <script> element(s); a studypress report has 3)\n", string.Empty), run.Cli("verify", "study.html"));
+        Assert.Equal((1, "study.html: altered (the page has 3 <script> element(s); a studypress report has 2)\n", string.Empty), run.Cli("verify", "study.html"));
     }
 
     [Fact]

@@ -77,8 +77,8 @@ public sealed partial class SourcesAggregateModelTests
         using var run = Run("```posthoc p1\nof: a1\nmethod: tukey\n```\n\n```figure f1\ntype: f-distribution\nof: a1\n```\n\n```figure f2\ntype: intervals\nof: p1\n```\n");
         var result = run.Compile();
         Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
-        Assert.Contains(result.Figures, f => f.FileName.Contains("-f1-f-distribution-", StringComparison.Ordinal));
-        Assert.Contains(result.Figures, f => f.FileName.Contains("-f2-intervals-", StringComparison.Ordinal));
+        Assert.Contains(result.Figures, f => f.FileName.Contains("_f1_f-distribution-", StringComparison.Ordinal));
+        Assert.Contains(result.Figures, f => f.FileName.EndsWith("_f2_intervals.png", StringComparison.Ordinal));
         Assert.DoesNotContain("cannot be drawn", result.Html!, StringComparison.Ordinal);
     }
 

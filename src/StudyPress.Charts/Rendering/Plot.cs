@@ -13,10 +13,16 @@ internal sealed record LegendEntry(string Label, Paint? Line, MarkerShape? Marke
 /// </summary>
 internal sealed class Plot
 {
-    public const double TitleSize = 14;
-    public const double LabelSize = 12;
-    public const double TickSize = 11;
+    public const double TitleSize = 15;
+    public const double LabelSize = 13;
+    public const double TickSize = 12;
     public const double MaxCategoryLabel = 150;
+
+    /// <summary>A vertical axis's category labels may take up to this share of the chart's width before they are shortened.</summary>
+    public const double MaxCategoryShare = 0.45;
+
+    /// <summary>The smallest text size on any chart (tick and category labels included).</summary>
+    public const double MinTextSize = TickSize;
     private const double TickLength = 5;
     private const double LegendSample = 24;
 
@@ -29,6 +35,7 @@ internal sealed class Plot
     private double xCatSize = TickSize;
     private bool xCatRotated;
     private double xCatMaxWidth = double.PositiveInfinity;
+    private double yCatMaxWidth = MaxCategoryLabel;
 
     public Plot(ChartLabels labels, ChartSize? size, LinearScale? x, CategoryScale? xCat, LinearScale? y, CategoryScale? yCat,
         IReadOnlyList<LegendEntry>? legend = null, string? legendTitle = null)
@@ -100,8 +107,10 @@ internal sealed class Plot
         }
         else if (YCat is not null)
         {
+            // The label margin grows with the longest label (measured), up to a share of the width.
             double widest = YCat.Names.Count == 0 ? 0 : YCat.Names.Max(n => ChartFont.MeasureWidth(n, TickSize));
-            left += Math.Min(widest, MaxCategoryLabel) + TickLength + 4;
+            yCatMaxWidth = Math.Min(widest, Math.Max(MaxCategoryLabel, Width * MaxCategoryShare));
+            left += yCatMaxWidth + TickLength + 4;
         }
 
         double right = 16;
@@ -136,7 +145,8 @@ internal sealed class Plot
             double band = plotWidth / XCat.Count;
             if (XCat.Count > 24)
             {
-                xCatSize = 9;
+                // Many categories: labels shrink to the smallest text size, never below.
+                xCatSize = MinTextSize;
             }
 
             double widest = XCat.Names.Max(n => ChartFont.MeasureWidth(n, xCatSize));
@@ -204,7 +214,7 @@ internal sealed class Plot
             {
                 double py = YCat.Centre(i);
                 string full = YCat.Names[i];
-                string shown = ChartFont.Truncate(full, TickSize, MaxCategoryLabel);
+                string shown = ChartFont.Truncate(full, TickSize, yCatMaxWidth);
                 axes.Add(new LineEl(new(Left - TickLength, py), new(Left, py), axisPaint));
                 axes.Add(new TextEl(new(Left - TickLength - 3, py + (TickSize * 0.35)), shown, TickSize, Palette.Ink, Anchor.End,
                     Tooltip: shown == full ? null : full, Class: "category-label"));

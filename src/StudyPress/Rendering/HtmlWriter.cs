@@ -84,19 +84,26 @@ public sealed class HtmlWriter
     public override string ToString() => sb.ToString();
 }
 
-/// <summary>A simple table: header cells (escaped text), rows of pre-built cell HTML.</summary>
+/// <summary>
+/// A simple table: header cells (escaped text), rows of pre-built cell HTML. Numbers are
+/// right-aligned; the columns in <see cref="TextColumns"/> (by position, the row header being 0)
+/// hold words and are left-aligned, header and cells alike (class <c>text</c>).
+/// </summary>
 public sealed class HtmlTable(string cssClass, string caption, IReadOnlyList<string> headers)
 {
     private readonly List<(string Head, IReadOnlyList<string> Cells, string? RowClass)> rows = [];
+
+    /// <summary>Columns of words rather than numbers (0 is the row header, which is always left-aligned).</summary>
+    public IReadOnlyCollection<int> TextColumns { get; init; } = [];
 
     public void Row(string head, IReadOnlyList<string> cells, string? rowClass = null) => rows.Add((head, cells, rowClass));
 
     public void WriteTo(HtmlWriter html)
     {
         html.Raw("<div class=\"table-wrap\"><table class=\"").Raw(cssClass).Raw("\"><caption>").Text(caption).Raw("</caption><thead><tr>");
-        foreach (var h in headers)
+        for (var i = 0; i < headers.Count; i++)
         {
-            html.Raw("<th scope=\"col\">").Text(h).Raw("</th>");
+            html.Raw(i > 0 && TextColumns.Contains(i) ? "<th scope=\"col\" class=\"text\">" : "<th scope=\"col\">").Text(headers[i]).Raw("</th>");
         }
 
         html.Raw("</tr></thead><tbody>");
@@ -104,9 +111,9 @@ public sealed class HtmlTable(string cssClass, string caption, IReadOnlyList<str
         {
             html.Raw(rowClass is null ? "<tr>" : "<tr class=\"" + rowClass + "\">");
             html.Raw("<th scope=\"row\">").Text(head).Raw("</th>");
-            foreach (var c in cells)
+            for (var i = 0; i < cells.Count; i++)
             {
-                html.Raw("<td>").Raw(c).Raw("</td>");
+                html.Raw(TextColumns.Contains(i + 1) ? "<td class=\"text\">" : "<td>").Raw(cells[i]).Raw("</td>");
             }
 
             html.Raw("</tr>");

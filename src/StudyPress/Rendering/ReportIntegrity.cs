@@ -5,8 +5,8 @@ namespace StudyPress.Rendering;
 /// <summary>
 /// The shape every complete report has, checked before a report is committed to disk and again by
 /// <c>studypress verify</c>: it ends with <c>&lt;/html&gt;</c>, and its last elements are, in this
-/// order and nowhere else, the results manifest, the chart font's bytes and the page script.
-/// The page script finds the manifest by that position (the element two before itself), and the
+/// order and nowhere else, the results manifest and the page script. The page script finds the
+/// manifest by that position (the element just before itself), and the
 /// verifier reads the one manifest element placed there, so no element of the study's own prose
 /// can stand in for it.
 /// </summary>
@@ -35,7 +35,7 @@ public static partial class ReportIntegrity
         var close = html.IndexOf("</script>", last, StringComparison.Ordinal);
         if (close < 0 || !Tail().IsMatch(html.AsSpan(close)))
         {
-            return "the results manifest is not the page's last data element (before the chart font and the page script)";
+            return "the results manifest is not the page's last data element (before the page script)";
         }
 
         if (ReportManifest.FromHtml(html, out var problem) is null)
@@ -47,6 +47,6 @@ public static partial class ReportIntegrity
     }
 
     /// <summary>What follows the manifest's JSON in every report, to the end of the file.</summary>
-    [GeneratedRegex("\\A</script>\n<script type=\"application/octet-stream\" id=\"chart-font\">[A-Za-z0-9+/=]*</script>\n<script>(?:(?!</script)[\\s\\S])*</script>\n</body>\n</html>\n\\z", RegexOptions.CultureInvariant)]
+    [GeneratedRegex("\\A</script>\n<script>(?:(?!</script)[\\s\\S])*</script>\n</body>\n</html>\n\\z", RegexOptions.CultureInvariant)]
     private static partial Regex Tail();
 }

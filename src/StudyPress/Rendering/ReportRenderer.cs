@@ -19,9 +19,13 @@ namespace StudyPress.Rendering;
 /// <summary>The report's page shell and assets, embedded from templates/ at build time.</summary>
 public static class ReportTemplate
 {
-    public const string Name = "report.sbn-html";
+    /// <summary>The name a report's manifest records for its page template: ours, not the template file's.</summary>
+    public const string Name = "studypress-report";
 
-    public static string Shell { get; } = Read(Name);
+    /// <summary>The page shell's file in templates/.</summary>
+    private const string ShellFile = "report.sbn-html";
+
+    public static string Shell { get; } = Read(ShellFile);
 
     public static string Css { get; } = Read("report.css");
 
@@ -32,7 +36,7 @@ public static class ReportTemplate
 
     private static readonly Lazy<Template> Parsed = new(() =>
     {
-        var t = Template.Parse(Shell, Name);
+        var t = Template.Parse(Shell, ShellFile);
         if (t.HasErrors)
         {
             throw new InvalidOperationException("the embedded report template does not parse: " + string.Join("; ", t.Messages));
@@ -101,7 +105,6 @@ internal static class ReportRenderer
             ["manifest"] = manifestText,
             ["css"] = Style,
             ["js"] = ReportTemplate.Script,
-            ["chart_font"] = Convert.ToBase64String(StudyPress.Charts.ChartFont.FontBytes()),
         };
         var tc = new TemplateContext
         {
@@ -144,10 +147,10 @@ internal static class ReportRenderer
     {
         var html = new HtmlWriter();
         html.Raw("<div class=\"table-wrap\"><table class=\"inputs\"><caption>Input files (the hashes identify the exact bytes analysed)</caption><thead><tr>")
-            .Raw("<th scope=\"col\">Dataset</th><th scope=\"col\">Path</th><th scope=\"col\">SHA-256</th><th scope=\"col\">Rows read</th><th scope=\"col\">Rows used</th></tr></thead><tbody>");
+            .Raw("<th scope=\"col\">Dataset</th><th scope=\"col\" class=\"text\">Path</th><th scope=\"col\" class=\"text\">SHA-256</th><th scope=\"col\">Rows read</th><th scope=\"col\">Rows used</th></tr></thead><tbody>");
         foreach (var d in inputs)
         {
-            html.Raw("<tr><th scope=\"row\">").Text(d.Spec.Name).Raw("</th><td><code>").Text(d.Path).Raw("</code></td><td><code class=\"hash\">").Text(d.Sha256)
+            html.Raw("<tr><th scope=\"row\">").Text(d.Spec.Name).Raw("</th><td class=\"text\"><code>").Text(d.Path).Raw("</code></td><td class=\"text\"><code class=\"hash\">").Text(d.Sha256)
                 .Raw("</code></td><td>").Raw(InputNumber(d, "rows", d.Rows)).Raw("</td><td>").Raw(InputNumber(d, "rowsUsed", d.RowsUsed)).Raw("</td></tr>");
         }
 

@@ -6,7 +6,11 @@ using StudyPress.Statistics.Power;
 namespace StudyPress.Evaluation.Kinds;
 
 /// <summary>A chart placed in the report, with the caption shown under it.</summary>
-public sealed record Figure(string Type, string Caption, Chart Chart);
+public sealed record Figure(string Type, string Caption, Chart Chart)
+{
+    /// <summary>What tells this figure from others of its type in the same block (an F distribution's term), or null.</summary>
+    public string? Part { get; init; }
+}
 
 /// <summary>
 /// Builds the report's figures from block outcomes. Each kind places the figures that belong to it
@@ -199,7 +203,7 @@ public static class Figures
 
             var name = string.Join(" × ", t.Factors.Select(n => Name(anova.Factors.First(f => f.Name == n).Display)));
             var chart = StatCharts.FDistribution(t.Df, fit.ResidualDf, t.F.Value, fit.Alpha, new ChartLabels(string.Create(CultureInfo.InvariantCulture, $"F({t.Df}, {fit.ResidualDf}) distribution: {name}"), "F", "density"));
-            yield return new Figure("f-distribution", caption ?? string.Create(CultureInfo.InvariantCulture, $"The F distribution under no effect of {name}; the shaded region is the rejection region at α = {fit.Alpha.ToString("R", CultureInfo.InvariantCulture)} and the line marks the observed F."), chart);
+            yield return new Figure("f-distribution", caption ?? string.Create(CultureInfo.InvariantCulture, $"The F distribution under no effect of {name}; the shaded region is the rejection region at α = {fit.Alpha.ToString("R", CultureInfo.InvariantCulture)} and the line marks the observed F."), chart) { Part = string.Join("-", t.Factors) };
         }
     }
 
@@ -216,8 +220,8 @@ public static class Figures
             .Select(p => new IntervalComparison(StudyPress.Charts.BidiText.Isolate(p.Pair.LevelA) + " − " + StudyPress.Charts.BidiText.Isolate(p.Pair.LevelB), p.Pair.Diff, p.Pair.CiLow.Value, p.Pair.CiHigh.Value))
             .ToList();
         var level = Confidence(alpha);
-        var chart = StatCharts.SimultaneousIntervals(rows, level, new ChartLabels($"{family.Title}: simultaneous {level} intervals", "difference", string.Empty));
-        return new Figure("intervals", caption ?? $"Simultaneous {level} intervals for the differences; intervals that exclude zero (solid, diamond) are the pairs the procedure separates.", chart);
+        var chart = StatCharts.SimultaneousIntervals(rows, level, new ChartLabels($"{family.Title}: differences with {level} joint intervals", "difference", string.Empty));
+        return new Figure("intervals", caption ?? $"Each difference with its {level} joint interval (the intervals cover all the pairs together); intervals that exclude zero (solid, diamond) are the pairs the procedure separates.", chart);
     }
 
     public static Figure? PowerCurve(PowerOutcome power, string? caption = null)

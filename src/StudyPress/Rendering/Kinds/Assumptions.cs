@@ -143,7 +143,7 @@ public sealed class AssumptionsRenderer : KindRenderer
         var r = o.Review;
         var a = context.AlphaText;
         var caption = o.Block.Caption ?? $"Checks of the assumptions of anova block '{o.Block.Of!.Id}'";
-        var table = new HtmlTable("assumptions", caption, ["Assumption", "Check", "Statistic", "df", "p", "Verdict"]);
+        var table = new HtmlTable("assumptions", caption, ["Assumption", "Check", "Statistic", "df", "p", "Verdict"]) { TextColumns = [1, 5] };
         string V(string test, string stat) => HtmlWriter.ValueHtml(o.Values[test][stat], context);
         string Df(string test) => V(test, "df1") + ", " + V(test, "df2");
         table.Row("Normal residuals", ["Shapiro–Wilk", "W = " + V("shapiro_wilk", "w"), string.Empty, V("shapiro_wilk", "p"), HtmlWriter.Escape(Verdict(r.Normality.P, context.Alpha, "consistent with normality", "departs from normality"))]);

@@ -81,10 +81,10 @@ public sealed class FriedmanRenderer : KindRenderer
         var pairs = new HtmlTable(
             "pairs",
             nemenyi ? "Nemenyi comparisons of mean ranks" : "Conover comparisons of mean ranks (Holm-adjusted)",
-            ["Pair", "difference in mean rank", "SE", nemenyi ? "q" : "t", "adjusted p"]);
+            PostHocRenderer.PairHeaders(nemenyi ? "nemenyi" : "conover", "difference in mean rank", null, context)) { TextColumns = [1] };
         foreach (var (a, b, v) in o.Pairs)
         {
-            pairs.Row(StudyPress.Charts.BidiText.Isolate(a) + " − " + StudyPress.Charts.BidiText.Isolate(b), [V(v[Stat.Diff]), V(v[Stat.Se]), V(v[Stat.Statistic]), V(v[Stat.PAdj])]);
+            pairs.Row(StudyPress.Charts.BidiText.Isolate(a) + " − " + StudyPress.Charts.BidiText.Isolate(b), [PostHocRenderer.Verdict(v[Stat.PAdj].Value, context), V(v[Stat.Diff]), V(v[Stat.Se]), V(v[Stat.Statistic]), V(v[Stat.PAdj])]);
         }
 
         pairs.WriteTo(html);

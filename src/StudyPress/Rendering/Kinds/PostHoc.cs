@@ -184,6 +184,33 @@ public sealed class PostHocRenderer : KindRenderer
         }
     }
 
+    /// <summary>
+    /// The statistic's column header, saying how it follows from the columns beside it: Tukey's and
+    /// Games–Howell's q is √2 |difference| / SE (the studentized range is scaled by the standard
+    /// error of one mean, SE/√2 for equal weights); t and z are difference / SE.
+    /// </summary>
+    internal static string StatisticHeader(string test) => test switch
+    {
+        "tukey_hsd" or "games_howell" or "nemenyi" => "q = √2 × |difference| / SE",
+        "dunn" => "z = difference / SE",
+        _ => "t = difference / SE",
+    };
+
+    /// <summary>The headers of a table of pairs: the verdict first, then the estimate (with its interval), its SE, the statistic and the adjusted p.</summary>
+    internal static List<string> PairHeaders(string test, string difference, string? interval, RenderContext context) =>
+    [
+        "Pair",
+        "at α = " + context.AlphaText,
+        interval is null ? difference : $"{difference} [{interval}]",
+        "SE of the difference",
+        StatisticHeader(test),
+        "adjusted p",
+    ];
+
+    /// <summary>A pair's verdict at the study's alpha, from its adjusted p-value.</summary>
+    internal static string Verdict(Quantity pAdjusted, RenderContext context) =>
+        pAdjusted.IsDefined ? (pAdjusted.Value < context.Alpha ? "differ" : "not distinguished") : "not defined";
+
     public override void Render(HtmlWriter html, BlockOutcome outcome, RenderContext context)
     {
         var o = (PostHocOutcome)outcome;
@@ -195,34 +222,25 @@ public sealed class PostHocRenderer : KindRenderer
         var level = context.ConfidenceText + "%";
         foreach (var f in o.Families)
         {
+            // The verdict leads; the estimate and its interval share one cell; the statistic's
+            // header shows how it follows from the difference and the SE printed beside it.
             var hasCi = f.Pairs.Count > 0 && f.Pairs[0].Values.ContainsKey(Stat.CiLow);
-            var statName = f.Test switch
-            {
-                "tukey_hsd" or "games_howell" => "q",
-                "dunn" => "z",
-                _ => "t",
-            };
-            List<string> headers = ["Pair", f.Test == "dunn" ? "difference in mean rank" : "difference", "SE", statName];
-            if (hasCi)
-            {
-                headers.Add($"simultaneous {level} interval");
-            }
-
-            headers.Add("adjusted p");
-            headers.Add("at α = " + context.AlphaText);
+            var difference = f.Test == "dunn" ? "difference in mean rank" : "difference";
+            var headers = PairHeaders(f.Test, difference, hasCi ? level + " joint interval" : null, context);
             var caption = (o.Block.Caption ?? f.Title) + " of " + o.FactorLabel;
-            var table = new HtmlTable("pairs", caption, headers);
+            var table = new HtmlTable("pairs", caption, headers) { TextColumns = [1] };
             foreach (var (pair, v) in f.Pairs)
             {
-                var cells = new List<string> { HtmlWriter.ValueHtml(v[Stat.Diff], context), HtmlWriter.ValueHtml(v[Stat.Se], context), HtmlWriter.ValueHtml(v[Stat.Statistic], context) };
+                var estimate = HtmlWriter.ValueHtml(v[Stat.Diff], context);
                 if (hasCi)
                 {
-                    cells.Add(HtmlWriter.ValueHtml(v[Stat.CiLow], context) + " to " + HtmlWriter.ValueHtml(v[Stat.CiHigh], context));
+                    estimate += " [" + HtmlWriter.ValueHtml(v[Stat.CiLow], context) + ", " + HtmlWriter.ValueHtml(v[Stat.CiHigh], context) + "]";
                 }
 
-                cells.Add(HtmlWriter.ValueHtml(v[Stat.PAdj], context));
-                cells.Add(pair.PAdjusted.IsDefined ? (pair.PAdjusted.Value < context.Alpha ? "differ" : "not distinguished") : "not defined");
-                table.Row(StudyPress.Charts.BidiText.Isolate(pair.LevelA) + " − " + StudyPress.Charts.BidiText.Isolate(pair.LevelB), cells);
+                var verdict = Verdict(pair.PAdjusted, context);
+                table.Row(
+                    StudyPress.Charts.BidiText.Isolate(pair.LevelA) + " − " + StudyPress.Charts.BidiText.Isolate(pair.LevelB),
+                    [verdict, estimate, HtmlWriter.ValueHtml(v[Stat.Se], context), HtmlWriter.ValueHtml(v[Stat.Statistic], context), HtmlWriter.ValueHtml(v[Stat.PAdj], context)]);
             }
 
             table.WriteTo(html);

@@ -58,10 +58,10 @@ public sealed class RanksRenderer : KindRenderer
         }
 
         g.WriteTo(html);
-        var p = new HtmlTable("pairs", "Dunn's comparisons of mean ranks (Holm-adjusted)", ["Pair", "difference in mean rank", "SE", "z", "adjusted p"]);
+        var p = new HtmlTable("pairs", "Dunn's comparisons of mean ranks (Holm-adjusted)", PostHocRenderer.PairHeaders("dunn", "difference in mean rank", null, context)) { TextColumns = [1] };
         foreach (var (pair, v) in o.Pairs)
         {
-            p.Row(StudyPress.Charts.BidiText.Isolate(pair.LevelA) + " − " + StudyPress.Charts.BidiText.Isolate(pair.LevelB), [HtmlWriter.ValueHtml(v[Stat.Diff], context), HtmlWriter.ValueHtml(v[Stat.Se], context), HtmlWriter.ValueHtml(v[Stat.Statistic], context), HtmlWriter.ValueHtml(v[Stat.PAdj], context)]);
+            p.Row(StudyPress.Charts.BidiText.Isolate(pair.LevelA) + " − " + StudyPress.Charts.BidiText.Isolate(pair.LevelB), [PostHocRenderer.Verdict(v[Stat.PAdj].Value, context), HtmlWriter.ValueHtml(v[Stat.Diff], context), HtmlWriter.ValueHtml(v[Stat.Se], context), HtmlWriter.ValueHtml(v[Stat.Statistic], context), HtmlWriter.ValueHtml(v[Stat.PAdj], context)]);
         }
 
         p.WriteTo(html);

@@ -82,13 +82,15 @@ public sealed class SummaryRenderer : KindRenderer
             return;
         }
 
-        string[] headers = ["Group", "n", "missing", "mean", "SD", "SE", context.ConfidenceText + "% CI of mean", "median", "Q1 – Q3", "min – max"];
+        // In the order the box plot reads: counts, the median and quartiles the box draws, the range the
+        // whiskers and points reach; then the mean and its spread and interval.
+        string[] headers = ["Group", "n", "missing", "median", "Q1 – Q3", "min – max", "mean", "SD", "SE", context.ConfidenceText + "% CI of mean"];
         var caption = o.Block.Caption ?? $"Summary of {o.ResponseName}" + (o.Term.Length > 0 ? $" by {o.Term.Replace(":", " and ", StringComparison.Ordinal)}" : string.Empty);
         var table = new HtmlTable("summary", caption, headers);
         foreach (var (label, _, values) in o.Groups)
         {
             string V(string stat) => HtmlWriter.ValueHtml(values[stat], context);
-            table.Row(label, [V(Stat.N), V(Stat.Missing), V(Stat.Mean), V(Stat.Sd), V(Stat.Se), V(Stat.CiLow) + " – " + V(Stat.CiHigh), V(Stat.Median), V(Stat.Q1) + " – " + V(Stat.Q3), V(Stat.Min) + " – " + V(Stat.Max)]);
+            table.Row(label, [V(Stat.N), V(Stat.Missing), V(Stat.Median), V(Stat.Q1) + " – " + V(Stat.Q3), V(Stat.Min) + " – " + V(Stat.Max), V(Stat.Mean), V(Stat.Sd), V(Stat.Se), V(Stat.CiLow) + " – " + V(Stat.CiHigh)]);
         }
 
         table.WriteTo(html);
