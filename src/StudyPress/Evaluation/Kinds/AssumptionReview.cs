@@ -59,8 +59,17 @@ public sealed class AssumptionReview
         var cells = anova.Data!.Cells();
         var response = anova.Input!.Response;
         var groups = new List<double[]>(cells.Count);
+        // The cells hold the block's centred response already: when the model's response is that
+        // array (no transform), they are the groups, with no copy.
+        var shared = ReferenceEquals(response, anova.Data.Response);
         foreach (var c in cells)
         {
+            if (shared)
+            {
+                groups.Add(c.Values);
+                continue;
+            }
+
             var g = new double[c.Positions.Length];
             for (var j = 0; j < g.Length; j++)
             {
