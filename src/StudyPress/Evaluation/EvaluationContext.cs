@@ -134,7 +134,16 @@ public sealed class BlockData
         }
 
         var order = map.OrderBy(p => p.Key).Select(p => p.Value);
-        return [.. order.Select(slot => cells[slot])];
+        (string Label, int[] Codes, double[] Values, int[] Positions)[] sorted = [.. order.Select(slot => cells[slot])];
+
+        // One factor: the cells are its levels in code order, so their values are the split of the
+        // response by the factor (BlockFactor.Split gives these arrays instead of copying again).
+        if (k == 1 && sorted.Length == Factors[0].Levels.Count)
+        {
+            Factors[0].KeepSplit(Response, [.. sorted.Select(c => c.Values)]);
+        }
+
+        return sorted;
     }
 }
 
@@ -161,6 +170,9 @@ public sealed record BlockFactor(FactorSpec Spec, int[] Codes, IReadOnlyList<str
         split = (values, groups);
         return groups;
     }
+
+    /// <summary>Records the split of <paramref name="values"/> computed elsewhere (the block's one-factor cells).</summary>
+    internal void KeepSplit(double[] values, double[][] groups) => split = (values, groups);
 
     private double[][] SplitNew(double[] values)
     {
