@@ -131,3 +131,75 @@ method: tukey
         Assert.Equal(ma.Get("checks", "brown_forsythe", "group", "f"), mb.Get("checks", "brown_forsythe", "group", "f"));
     }
 }
+
+/// <summary>Line numbers kept as first + row when the rows run on line by line, as the array otherwise.</summary>
+public sealed class LineNumbersTests
+{
+    [Fact]
+    public void Consecutive_KeptAsFirstPlusRow()
+    {
+        var lines = StudyPress.Data.LineNumbers.From([2, 3, 4, 5]);
+        Assert.Equal([2, 3, 4, 5], lines);
+        Assert.Equal(5, lines[3]);
+        Assert.Throws<ArgumentOutOfRangeException>(() => lines[4]);
+    }
+
+    [Fact]
+    public void WithBlankLines_TheArrayItself()
+    {
+        var lines = StudyPress.Data.LineNumbers.From([2, 3, 5, 6]);
+        Assert.Equal(4, lines.Count);
+        Assert.Equal(5, lines[2]);
+        Assert.Equal([2, 3, 5, 6], lines);
+    }
+
+    [Fact]
+    public void BlankLineInLargeFile_OutlierLineStillRight()
+    {
+        // 12,001 rows with a blank line after row 6000 and one far outlier on the row after it:
+        // the outlier's line (the data's own line number) is the one the report flags.
+        var csv = new System.Text.StringBuilder("run,group,y\n");
+        var line = 1;
+        var outlierLine = 0;
+        for (var i = 0; i < 12_001; i++)
+        {
+            if (i == 6000)
+            {
+                csv.Append('\n');
+                line++;
+            }
+
+            line++;
+            var y = i == 6000 ? "500.00" : (50 + (i % 7) - 3 + (i % 3)).ToString("F2", System.Globalization.CultureInfo.InvariantCulture);
+            if (i == 6000)
+            {
+                outlierLine = line;
+            }
+
+            csv.Append(System.Globalization.CultureInfo.InvariantCulture, $"{i + 1},g{(i % 3) + 1},{y}\n");
+        }
+
+        using var run = new StudyRun().File("d.csv", csv.ToString()).Study("""
+---
+title: Lines
+data:
+  d: d.csv
+response: y
+factors:
+  group:
+    levels: [g1, g2, g3]
+order: run
+---
+
+```anova main
+factors: [group]
+```
+
+```assumptions checks
+of: main
+```
+""");
+        var m = run.Manifest();
+        Assert.Single(m.Find("checks", "outliers", "residual", "t", "line " + outlierLine.ToString(System.Globalization.CultureInfo.InvariantCulture)));
+    }
+}
