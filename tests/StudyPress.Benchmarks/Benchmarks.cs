@@ -118,3 +118,86 @@ public class SmallStudy
         return result.Succeeded ? result : throw new InvalidOperationException(string.Join("\n", result.Diagnostics));
     }
 }
+
+/// <summary>
+/// Sorting a group of the big-data path: the library sort against the radix sort the summary, box
+/// plots and quantile plots use (same result, bit for bit; see FastSortTests).
+/// </summary>
+[MemoryDiagnoser]
+public class GroupSort
+{
+    private double[] values = [];
+
+    [Params(200_000, 2_000_000)]
+    public int N { get; set; }
+
+    [GlobalSetup]
+    public void Setup() => values = [.. Fixtures.Groups(1, N)[0].Select(v => Math.Round(50 + v, 2))];
+
+    [Benchmark(Baseline = true)]
+    public double[] ArraySort()
+    {
+        var copy = (double[])values.Clone();
+        Array.Sort(copy);
+        return copy;
+    }
+
+    [Benchmark]
+    public double[] RadixSort() => FastSort.SortedCopy(values);
+}
+
+/// <summary>
+/// A whole compilation of a one-way study of 1,000,000 rows (summary, anova, assumptions, Tukey,
+/// with their figures) in a temp folder: the in-process part of tests/bench/versus-python.sh.
+/// </summary>
+[MemoryDiagnoser]
+public class LargeOneWayStudy
+{
+    private string dir = string.Empty;
+
+    [GlobalSetup]
+    public void Setup()
+    {
+        dir = Path.Combine(Path.GetTempPath(), "studypress-bench-large-" + Environment.ProcessId.ToString(CultureInfo.InvariantCulture));
+        Directory.CreateDirectory(dir);
+        File.WriteAllBytes(Path.Combine(dir, "d.csv"), Fixtures.OneWayCsv(1_000_000));
+        File.WriteAllText(Path.Combine(dir, "large.md"), """
+            ---
+            title: Benchmark, 1,000,000 rows
+            data:
+              d: d.csv
+            response: y
+            factors:
+              group:
+                levels: [g1, g2, g3, g4, g5]
+            order: run
+            ---
+
+            ```summary groups
+            ```
+
+            ```anova main
+            factors: [group]
+            ```
+
+            ```assumptions checks
+            of: main
+            ```
+
+            ```posthoc pairs
+            of: main
+            method: tukey
+            ```
+            """);
+    }
+
+    [GlobalCleanup]
+    public void Cleanup() => Directory.Delete(dir, recursive: true);
+
+    [Benchmark]
+    public CompilationResult Compile()
+    {
+        var result = Compilation.Compile(Path.Combine(dir, "large.md"), new CompileOptions { OutputDirectory = dir });
+        return result.Succeeded ? result : throw new InvalidOperationException(string.Join("\n", result.Diagnostics));
+    }
+}

@@ -36,7 +36,7 @@ if (args.Length >= 2 && args[0] == "compile")
     {
         var sw = Stopwatch.StartNew();
         var result = StudyPress.Compilation.Compile(args[1], new StudyPress.CompileOptions { OutputDirectory = args.Length > 2 ? args[2] : Path.GetTempPath() });
-        Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"compile: {sw.Elapsed.TotalSeconds:F3} s, succeeded={result.Succeeded}, html={result.Html?.Length ?? 0} chars"));
+        Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"compile: {sw.Elapsed.TotalSeconds:F3} s, succeeded={result.Succeeded}, html={result.Html?.Length ?? 0} chars, allocated {GC.GetTotalAllocatedBytes() / 1048576} MB so far, peak working set {Process.GetCurrentProcess().PeakWorkingSet64 / 1048576} MB, gen2 collections {GC.CollectionCount(2)}"));
         foreach (var d in result.Diagnostics.Take(5))
         {
             Console.WriteLine(d);

@@ -66,9 +66,9 @@ public sealed record AnovaResult(
     Quantity ResidualMeanSquare,
     double TotalSumOfSquares,
     int TotalDf,
-    double[] Fitted,
+    IReadOnlyList<double> Fitted,
     double[] Residuals,
-    double[] Leverages,
+    IReadOnlyList<double> Leverages,
     SumOfSquaresType SsType,
     double Alpha)
 {

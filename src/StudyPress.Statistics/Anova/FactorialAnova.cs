@@ -110,16 +110,15 @@ public static class FactorialAnova
             cellLeverage[c] = h;
         }
 
-        var fitted = new double[n];
+        // Fitted values and leverages are their cell's: read through the cell codes, not stored per observation.
         var residuals = new double[n];
-        var leverages = new double[n];
         for (var i = 0; i < n; i++)
         {
-            var c = coding.CellOf[i];
-            fitted[i] = cellFitted[c];
-            residuals[i] = y[i] - cellFitted[c];
-            leverages[i] = cellLeverage[c];
+            residuals[i] = y[i] - cellFitted[coding.CellOf[i]];
         }
+
+        var fitted = new CodedValues(cellFitted, coding.CellOf);
+        var leverages = new CodedValues(cellLeverage, coding.CellOf);
 
         return new AnovaResult(
             terms,

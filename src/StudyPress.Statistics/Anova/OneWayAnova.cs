@@ -64,16 +64,19 @@ public static class OneWayAnova
         }
 
         var grand = Groups.Mean(response);
-        var fitted = new double[n];
+        // Fitted values and leverages are their group's (the mean, 1/n_g): read through the codes, not stored per observation.
+        var groupLeverage = new double[k];
+        for (var g = 0; g < k; g++)
+        {
+            groupLeverage[g] = 1.0 / counts[g];
+        }
+
         var residuals = new double[n];
-        var leverages = new double[n];
         double ssWithin = 0, ssTotal = 0;
         for (var i = 0; i < n; i++)
         {
             var g = factor.Codes[i];
-            fitted[i] = means[g];
             residuals[i] = response[i] - means[g];
-            leverages[i] = 1.0 / counts[g];
             ssWithin += residuals[i] * residuals[i];
             var d = response[i] - grand;
             ssTotal += d * d;
@@ -110,9 +113,9 @@ public static class OneWayAnova
             AnovaTable.MeanSquareResidual(ssWithin, dfWithin),
             ssTotal,
             n - 1,
-            fitted,
+            new CodedValues(means, factor.Codes),
             residuals,
-            leverages,
+            new CodedValues(groupLeverage, factor.Codes),
             SumOfSquaresType.Sequential,
             alpha);
     }

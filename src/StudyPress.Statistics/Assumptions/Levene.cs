@@ -41,25 +41,22 @@ internal static class DeviationFTest
             return new LeveneResult(u, df1, df2, u);
         }
 
-        var z = new double[k][];
+        // z_ij = |y_ij − c_i| is formed again wherever it is needed (the same value each time)
+        // instead of being stored: no second copy of a large sample.
+        var centres = new double[k];
         for (var g = 0; g < k; g++)
         {
-            var c = centre(groups[g]);
-            z[g] = new double[groups[g].Length];
-            for (var j = 0; j < groups[g].Length; j++)
-            {
-                z[g][j] = Math.Abs(groups[g][j] - c);
-            }
+            centres[g] = centre(groups[g]);
         }
 
-        var grand = ConcatenatedMean(z);
+        var grand = ConcatenatedMean(groups, centres);
         double between = 0, within = 0;
         for (var g = 0; g < k; g++)
         {
-            var m = Groups.Mean(z[g]);
-            within += Groups.SumOfSquares(z[g], m);
+            var m = DeviationMean(groups[g], centres[g]);
+            within += DeviationSumOfSquares(groups[g], centres[g], m);
             var d = m - grand;
-            between += z[g].Length * d * d;
+            between += groups[g].Length * d * d;
         }
 
         if (!(within > 0))
@@ -178,32 +175,91 @@ internal static class DeviationFTest
         return s[k];
     }
 
-    /// <summary><see cref="Groups.Mean"/> of the groups' values one after another, without concatenating them.</summary>
-    private static double ConcatenatedMean(double[][] z)
+    /// <summary>
+    /// The mean of every z one group after another (the sums of <see cref="Groups.Mean"/> over the
+    /// concatenated deviations), without concatenating or storing them.
+    /// </summary>
+    private static double ConcatenatedMean(IReadOnlyList<double[]> groups, double[] centres)
     {
         double sum = 0;
         var n = 0;
-        foreach (var g in z)
+        for (var g = 0; g < groups.Count; g++)
         {
-            foreach (var v in g)
+            var c = centres[g];
+            foreach (var y in groups[g])
             {
-                sum += v;
+                sum += Math.Abs(y - c);
             }
 
-            n += g.Length;
+            n += groups[g].Length;
         }
 
         var m = sum / n;
-        double c = 0;
-        foreach (var g in z)
+        double corr = 0;
+        for (var g = 0; g < groups.Count; g++)
         {
-            foreach (var v in g)
+            var c = centres[g];
+            foreach (var y in groups[g])
             {
-                c += v - m;
+                corr += Math.Abs(y - c) - m;
             }
         }
 
-        return m + (c / n);
+        return m + (corr / n);
+    }
+
+    /// <summary><see cref="Groups.Mean"/> of z = |y − c| over one group, operation for operation.</summary>
+    private static double DeviationMean(double[] y, double c)
+    {
+        double s = 0;
+        var first = Math.Abs(y[0] - c);
+        var constant = true;
+        foreach (var v in y)
+        {
+            var z = Math.Abs(v - c);
+            s += z;
+            constant &= z == first;
+        }
+
+        if (constant)
+        {
+            return first;
+        }
+
+        var m = s / y.Length;
+        double corr = 0;
+        foreach (var v in y)
+        {
+            corr += Math.Abs(v - c) - m;
+        }
+
+        return m + (corr / y.Length);
+    }
+
+    /// <summary><see cref="Groups.SumOfSquares"/> of z = |y − c| about <paramref name="mean"/> over one group, operation for operation.</summary>
+    private static double DeviationSumOfSquares(double[] y, double c, double mean)
+    {
+        var first = Math.Abs(y[0] - c);
+        var constant = true;
+        for (var i = 1; i < y.Length && constant; i++)
+        {
+            constant = Math.Abs(y[i] - c) == first;
+        }
+
+        if (constant)
+        {
+            return 0.0;
+        }
+
+        double ss = 0, corr = 0;
+        foreach (var v in y)
+        {
+            var d = Math.Abs(v - c) - mean;
+            ss += d * d;
+            corr += d;
+        }
+
+        return ss - (corr * corr / y.Length);
     }
 }
 

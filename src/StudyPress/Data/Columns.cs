@@ -172,7 +172,7 @@ public sealed partial record LoadedDataset
     public required int Rows { get; init; }
 
     /// <summary>The 1-based line of the data file where each row starts (for messages and tables).</summary>
-    public required int[] Lines { get; init; }
+    public required LineNumbers Lines { get; init; }
 
     /// <summary>Run or measurement order per row (the header's <c>order</c> column), when the file has it.</summary>
     public NumericColumn? Order { get; init; }

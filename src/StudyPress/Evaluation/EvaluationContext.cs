@@ -67,12 +67,13 @@ public sealed class BlockData
         var map = new Dictionary<long, int>();
         var slots = new int[Rows.Length];
         var sizes = new List<int>();
+        var factorCodes = Factors.Select(f => f.Codes).ToArray();
         for (var i = 0; i < Rows.Length; i++)
         {
             long key = 0;
             for (var f = 0; f < k; f++)
             {
-                key = (key * radix[f]) + Factors[f].Codes[i];
+                key = (key * radix[f]) + factorCodes[f][i];
             }
 
             int slot;
@@ -95,7 +96,18 @@ public sealed class BlockData
             }
 
             slots[i] = slot;
-            sizes[slot]++;
+        }
+
+        // Sizes counted after the pass (a list indexer per row was a fifth of the pass).
+        var counted = new int[sizes.Count];
+        foreach (var slot in slots)
+        {
+            counted[slot]++;
+        }
+
+        for (var c = 0; c < counted.Length; c++)
+        {
+            sizes[c] = counted[c];
         }
 
         var cells = new (string Label, int[] Codes, double[] Values, int[] Positions)[map.Count];
@@ -122,7 +134,16 @@ public sealed class BlockData
         }
 
         var order = map.OrderBy(p => p.Key).Select(p => p.Value);
-        return [.. order.Select(slot => cells[slot])];
+        (string Label, int[] Codes, double[] Values, int[] Positions)[] sorted = [.. order.Select(slot => cells[slot])];
+
+        // One factor: the cells are its levels in code order, so their values are the split of the
+        // response by the factor (BlockFactor.Split gives these arrays instead of copying again).
+        if (k == 1 && sorted.Length == Factors[0].Levels.Count)
+        {
+            Factors[0].KeepSplit(Response, [.. sorted.Select(c => c.Values)]);
+        }
+
+        return sorted;
     }
 }
 
@@ -131,7 +152,29 @@ public sealed record BlockFactor(FactorSpec Spec, int[] Codes, IReadOnlyList<str
 {
     public Statistics.Anova.FactorColumn ToColumn() => new(Spec.Name, Codes, Levels);
 
+    private (double[] Of, double[][] Groups)? split;
+
+    /// <summary>
+    /// The values by level (level order, row order within a level). The last split is kept: the
+    /// anova's checks, its post-hoc block and the rank test split the same response once. The
+    /// arrays are shared by every caller and must not be changed.
+    /// </summary>
     public double[][] Split(double[] values)
+    {
+        if (split is { } last && ReferenceEquals(last.Of, values))
+        {
+            return last.Groups;
+        }
+
+        var groups = SplitNew(values);
+        split = (values, groups);
+        return groups;
+    }
+
+    /// <summary>Records the split of <paramref name="values"/> computed elsewhere (the block's one-factor cells).</summary>
+    internal void KeepSplit(double[] values, double[][] groups) => split = (values, groups);
+
+    private double[][] SplitNew(double[] values)
     {
         var sizes = new int[Levels.Count];
         foreach (var c in Codes)
@@ -172,6 +215,61 @@ public sealed class EvaluationContext
     /// filter satisfied. Levels without rows in the selection are dropped from the block's factors.
     /// </summary>
     public BlockData? Select(BoundBlock block, DiagnosticBag diagnostics, bool requireResponse = true)
+    {
+        // Blocks that select the same rows (same dataset, response, factors and filter) share one
+        // selection, with its cells and each cell's sorted values: a summary and the anova over
+        // the same factors do not copy, group and sort a large dataset twice.
+        foreach (var (key, shared) in selections)
+        {
+            if (SameSelection(key, block))
+            {
+                return shared;
+            }
+        }
+
+        var data = SelectRows(block, diagnostics);
+        if (data is not null)
+        {
+            selections.Add((block, data));
+        }
+
+        return data;
+    }
+
+    private readonly List<(BoundBlock Block, BlockData Data)> selections = [];
+
+    /// <summary>Whether two blocks select the same rows with the same factors (factor specifications compared as the same objects).</summary>
+    internal static bool SameSelection(BoundBlock a, BoundBlock b)
+    {
+        if (!string.Equals(a.Data, b.Data, StringComparison.Ordinal)
+            || !string.Equals(a.Response, b.Response, StringComparison.Ordinal)
+            || a.Factors.Count != b.Factors.Count
+            || a.Where.Count != b.Where.Count)
+        {
+            return false;
+        }
+
+        for (var k = 0; k < a.Factors.Count; k++)
+        {
+            if (!ReferenceEquals(a.Factors[k], b.Factors[k]))
+            {
+                return false;
+            }
+        }
+
+        for (var w = 0; w < a.Where.Count; w++)
+        {
+            var (x, y) = (a.Where[w], b.Where[w]);
+            if (!ReferenceEquals(x.Factor, y.Factor) || !x.Levels.SequenceEqual(y.Levels, StringComparer.Ordinal))
+            {
+                return false;
+            }
+        }
+
+        return true;
+    }
+
+    private BlockData? SelectRows(BoundBlock block, DiagnosticBag diagnostics)
     {
         var ds = Datasets[block.Data!];
         var response = block.Response is null ? null : ds.Numeric[block.Response];

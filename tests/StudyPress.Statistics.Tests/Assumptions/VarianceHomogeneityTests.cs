@@ -180,4 +180,65 @@ public class VarianceHomogeneityTests
         var f = between / (k - 1) / (within / (n - k));
         Assert.Equal(f, bf.F.Value, 10);
     }
+
+    [Theory]
+    [InlineData(1)]
+    [InlineData(2)]
+    [InlineData(3)]
+    public void DeviationsFormedOnTheFly_SameBitsAsStoredDeviations(int seed)
+    {
+        // The statistic as computed before the deviations stopped being stored: z arrays, then
+        // Groups.Mean / Groups.SumOfSquares and the concatenated mean (exact equality expected).
+        var rng = new Random(seed);
+        var groups = Enumerable.Range(0, 5)
+            .Select(g => Enumerable.Range(0, 3000 + (g * 17)).Select(_ => Math.Round((rng.NextDouble() * (g + 1) * 10) - 5, 2)).ToArray())
+            .ToList();
+        groups.Add([1.5, 1.5, 2.5, 2.5]); // a group with constant deviations
+        static double StoredF(IReadOnlyList<double[]> groups, Func<double[], double> centre)
+        {
+            var z = groups.Select(g => { var c = centre(g); return g.Select(v => Math.Abs(v - c)).ToArray(); }).ToArray();
+            double sum = 0;
+            var n = 0;
+            foreach (var g in z)
+            {
+                foreach (var v in g)
+                {
+                    sum += v;
+                }
+
+                n += g.Length;
+            }
+
+            var m0 = sum / n;
+            double corr = 0;
+            foreach (var g in z)
+            {
+                foreach (var v in g)
+                {
+                    corr += v - m0;
+                }
+            }
+
+            var grand = m0 + (corr / n);
+            double between = 0, within = 0;
+            foreach (var g in z)
+            {
+                var m = Groups.Mean(g);
+                within += Groups.SumOfSquares(g, m);
+                between += g.Length * (m - grand) * (m - grand);
+            }
+
+            return between / (z.Length - 1) / (within / (n - z.Length));
+        }
+
+        static double Median(double[] x)
+        {
+            var s = x.OrderBy(v => v).ToArray();
+            var h = s.Length / 2;
+            return s.Length % 2 == 1 ? s[h] : 0.5 * (s[h - 1] + s[h]);
+        }
+
+        Assert.Equal(StoredF(groups, g => Groups.Mean(g)), Levene.Test(groups).F.Value);
+        Assert.Equal(StoredF(groups, Median), BrownForsythe.Test(groups).F.Value);
+    }
 }

@@ -358,7 +358,7 @@ public static partial class AggregateSource
             Path = spec.Path.Replace('\\', '/'),
             Sha256 = sha256,
             Rows = cells.Count,
-            Lines = [.. Enumerable.Range(1, cells.Count)],
+            Lines = LineNumbers.Sequential(1, cells.Count),
             ColumnNames = names,
             Numeric = new Dictionary<string, NumericColumn>(StringComparer.Ordinal),
             Factors = new Dictionary<string, CategoricalColumn>(StringComparer.Ordinal),

@@ -59,8 +59,17 @@ public sealed class AssumptionReview
         var cells = anova.Data!.Cells();
         var response = anova.Input!.Response;
         var groups = new List<double[]>(cells.Count);
+        // The cells hold the block's centred response already: when the model's response is that
+        // array (no transform), they are the groups, with no copy.
+        var shared = ReferenceEquals(response, anova.Data.Response);
         foreach (var c in cells)
         {
+            if (shared)
+            {
+                groups.Add(c.Values);
+                continue;
+            }
+
             var g = new double[c.Positions.Length];
             for (var j = 0; j < g.Length; j++)
             {
@@ -100,8 +109,10 @@ public sealed class AssumptionReview
         }
         else
         {
+            // Null: every observation has a run order and they are already in it.
             var positions = RunOrder(order, anova.Data.Rows);
-            if (positions.Length < 3)
+            var ordered = positions?.Length ?? anova.Data.Rows.Length;
+            if (ordered < 3)
             {
                 skipped = "fewer than three observations have a run order";
             }
@@ -109,16 +120,21 @@ public sealed class AssumptionReview
             {
                 // The design in structured form (a coding row per cell), in run order.
                 var (cellRows, cellOf) = AnovaDesign.CellModelMatrix(anova.Input!);
-                var sortedCells = new int[positions.Length];
-                var sortedResiduals = new double[positions.Length];
-                for (var r = 0; r < positions.Length; r++)
+                var sortedCells = cellOf;
+                var sortedResiduals = result.Residuals;
+                if (positions is not null)
                 {
-                    sortedCells[r] = cellOf[positions[r]];
-                    sortedResiduals[r] = result.Residuals[positions[r]];
+                    sortedCells = new int[positions.Length];
+                    sortedResiduals = new double[positions.Length];
+                    for (var r = 0; r < positions.Length; r++)
+                    {
+                        sortedCells[r] = cellOf[positions[r]];
+                        sortedResiduals[r] = result.Residuals[positions[r]];
+                    }
                 }
 
                 dw = DurbinWatson.Test(sortedResiduals, cellRows, sortedCells);
-                var missing = anova.Data.Rows.Length - positions.Length;
+                var missing = anova.Data.Rows.Length - ordered;
                 if (missing > 0)
                 {
                     skipped = string.Create(CultureInfo.InvariantCulture, $"{missing} observation(s) without a run order were left out of the Durbin–Watson test");
@@ -143,24 +159,33 @@ public sealed class AssumptionReview
 
     /// <summary>
     /// Positions (into the block's rows) that have a run order, sorted by it, ties in position order.
-    /// Data usually come in run order, so an ordered run is detected in one pass without sorting.
+    /// Data usually come in run order, so an ordered run is detected in one pass without sorting;
+    /// when every row has a run order and they are in it, the positions are 0, 1, … and null is
+    /// returned instead (the caller uses the residuals as they are).
     /// </summary>
-    private static int[] RunOrder(Data.NumericColumn order, int[] rows)
+    private static int[]? RunOrder(Data.NumericColumn order, int[] rows)
     {
         var count = 0;
         var sorted = true;
         var last = double.NegativeInfinity;
+        var values = order.Values;
+        var centred = order.Centred;
         foreach (var r in rows)
         {
-            if (order.IsMissing(r))
+            if (double.IsNaN(centred[r]))
             {
-                continue;
+                continue; // missing (NumericColumn.IsMissing)
             }
 
-            var v = order.Values[r];
+            var v = values[r];
             sorted &= v.CompareTo(last) >= 0 || count == 0;
             last = v;
             count++;
+        }
+
+        if (sorted && count == rows.Length)
+        {
+            return null;
         }
 
         var positions = new int[count];

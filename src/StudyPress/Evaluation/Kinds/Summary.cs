@@ -59,6 +59,11 @@ public sealed partial class SummaryEvaluator : KindEvaluator
         var missing = MissingByCell(context, block, data);
         var cells = data.Factors.Count == 0 ? [("all", Array.Empty<int>(), data.Response, Enumerable.Range(0, data.Rows.Length).ToArray())] : data.Cells();
         var alpha = context.Header.Alpha;
+        if (data.Factors.Count > 0)
+        {
+            Figures.SortAllCells(data);
+        }
+
         foreach (var (label, _, values, positions) in cells)
         {
             var s = Descriptives.ComputeSorted(values, Figures.SortedValues(data, positions), data.Centre, alpha, data.ExactMean(positions));

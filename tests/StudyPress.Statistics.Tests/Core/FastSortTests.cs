@@ -1,0 +1,89 @@
+using StudyPress.Statistics;
+
+namespace StudyPress.Statistics.Tests.Core;
+
+/// <summary>
+/// FastSort must give exactly the array Array.Sort gives (compared bit for bit), on every kind of
+/// data: the reference is the library sort itself.
+/// </summary>
+public class FastSortTests
+{
+    private static void AssertSameAsLibrarySort(double[] values)
+    {
+        var expected = (double[])values.Clone();
+        Array.Sort(expected);
+        var actual = (double[])values.Clone();
+        FastSort.Sort(actual);
+        Assert.Equal(expected.Length, actual.Length);
+        for (var i = 0; i < expected.Length; i++)
+        {
+            Assert.True(
+                BitConverter.DoubleToInt64Bits(expected[i]) == BitConverter.DoubleToInt64Bits(actual[i]),
+                $"position {i}: expected {expected[i]:R}, got {actual[i]:R}");
+        }
+
+        Assert.Equal(expected, FastSort.SortedCopy(values));
+    }
+
+    [Theory]
+    [InlineData(1, 5_000)]
+    [InlineData(2, 100_003)]
+    [InlineData(3, 250_000)]
+    public void Sort_NormalData_SameAsArraySort(int seed, int n)
+    {
+        var rng = new Random(seed);
+        var values = new double[n];
+        for (var i = 0; i < n; i++)
+        {
+            // Box–Muller normal values around 100 and around -3, with a scale spanning exponents.
+            var u = 1 - rng.NextDouble();
+            var z = Math.Sqrt(-2 * Math.Log(u)) * Math.Cos(2 * Math.PI * rng.NextDouble());
+            values[i] = (i % 3 == 0 ? -3 : 100) + (z * Math.Pow(10, rng.Next(-6, 6)));
+        }
+
+        AssertSameAsLibrarySort(values);
+    }
+
+    [Fact]
+    public void Sort_TiesRoundedValues_SameAsArraySort()
+    {
+        var rng = new Random(7);
+        var values = Enumerable.Range(0, 60_000).Select(_ => Math.Round((rng.NextDouble() - 0.5) * 40) / 4).Where(v => v != 0).ToArray();
+        AssertSameAsLibrarySort(values);
+    }
+
+    [Fact]
+    public void Sort_ExtremeValues_SameAsArraySort()
+    {
+        var rng = new Random(11);
+        var special = new[] { double.PositiveInfinity, double.NegativeInfinity, double.MaxValue, double.MinValue, double.Epsilon, -double.Epsilon, 1e-310, -1e-310, 1, -1 };
+        var values = Enumerable.Range(0, 20_000).Select(i => i % 7 == 0 ? special[rng.Next(special.Length)] : (rng.NextDouble() - 0.5) * 1e300).ToArray();
+        AssertSameAsLibrarySort(values);
+    }
+
+    [Fact]
+    public void Sort_ConstantAndAlreadySorted_SameAsArraySort()
+    {
+        AssertSameAsLibrarySort(Enumerable.Repeat(2.5, 10_000).ToArray());
+        AssertSameAsLibrarySort(Enumerable.Range(0, 10_000).Select(i => (double)i).ToArray());
+        AssertSameAsLibrarySort(Enumerable.Range(0, 10_000).Select(i => (double)-i).ToArray());
+    }
+
+    [Fact]
+    public void Sort_ZerosOfBothSignsOrNaN_LeftToArraySort()
+    {
+        // With −0 and +0 (or NaN) the ascending order is not unique; FastSort then runs Array.Sort itself.
+        var rng = new Random(5);
+        var zeros = Enumerable.Range(0, 10_000).Select(i => i % 10 == 0 ? -0.0 : i % 10 == 1 ? 0.0 : rng.NextDouble() - 0.5).ToArray();
+        AssertSameAsLibrarySort(zeros);
+        var nans = Enumerable.Range(0, 10_000).Select(i => i % 100 == 0 ? double.NaN : rng.NextDouble()).ToArray();
+        AssertSameAsLibrarySort(nans);
+    }
+
+    [Fact]
+    public void Sort_Small_SameAsArraySort()
+    {
+        AssertSameAsLibrarySort([]);
+        AssertSameAsLibrarySort([3, 1, 2]);
+    }
+}
