@@ -394,6 +394,36 @@ factors:
         Assert.Contains("mixed model by REML", result.Html, StringComparison.Ordinal);
     }
 
+    [Fact]
+    public void MixedModelBeyondItsSize_IsOneErrorAtTheBlock_WithoutFitting()
+    {
+        // 8 blocks × 5 whole plots × 20 sub-plots × 2 readings, one reading missing: the REML model
+        // would have 800 sub-plot levels alone (fixture data; only the refusal is checked).
+        var sb = new System.Text.StringBuilder("block,irrigation,variety,y\n");
+        var k = 0;
+        for (var b = 0; b < 8; b++)
+        {
+            for (var i = 0; i < 5; i++)
+            {
+                for (var v = 0; v < 20; v++)
+                {
+                    for (var r = 0; r < 2; r++)
+                    {
+                        if (k++ != 17)
+                        {
+                            sb.Append(CultureInfo.InvariantCulture, $"b{b},i{i},v{v},{(k * 37 % 101) / 10.0}\n");
+                        }
+                    }
+                }
+            }
+        }
+
+        using var run = Study("big.csv", sb.ToString(), "response: y\nfactors:\n  block:\n    role: block\n  irrigation:\n    plot: whole\n  variety:\n    plot: sub", "```anova main\n```");
+        var d = Assert.Single(run.Compile().Diagnostics);
+        Assert.Equal("SP0398", d.Code);
+        Assert.Contains("800 levels of sub-plot error", d.Message, StringComparison.Ordinal);
+    }
+
     [Theory]
     [InlineData("```anova main\n```\n\n```posthoc p\nof: main\nfactor: block\n```", "SP0397")]
     [InlineData("```anova main\n```\n\n```posthoc p\nof: main\nmethod: games-howell\n```", "SP0397")]

@@ -88,6 +88,9 @@ public enum DesignIssueKind
 
     /// <summary>A label of a nested factor occurs under two levels of its parent (when labels are meant to be unique).</summary>
     ContradictoryNesting,
+
+    /// <summary>The mixed model has more columns than the REML fit takes (<see cref="MixedModel.MaxColumns"/>).</summary>
+    TooLarge,
 }
 
 /// <summary>A design problem; <paramref name="Factors"/> names the factors concerned.</summary>

@@ -555,6 +555,9 @@ public sealed class DiagnosticBag
     public void DesignOptionUnavailable(SourceLocation at, string option, string instead) =>
         Error("SP0396", at, $"{Q(option)} is not available in an anova block of a study with a declared layout in this version; {instead}");
 
+    public void MixedModelTooLarge(SourceLocation at, string message) =>
+        Error("SP0398", at, $"{message}; analyse one row per plot (the mean of its sub-samples), or balance the data so that the classical strata apply");
+
     public void DesignViewUnavailable(SourceLocation at, string kind, string of, string why) =>
         Error("SP0397", at, $"a '{kind}' block cannot analyse {Q(of)}: {why}");
 

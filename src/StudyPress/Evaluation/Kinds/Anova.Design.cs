@@ -271,6 +271,9 @@ public sealed partial class AnovaEvaluator
         var spec = issue.Factors.Count > 0 ? model.Factors.FirstOrDefault(m => m.Name == issue.Factors[0])?.Spec : null;
         switch (issue.Kind)
         {
+            case DesignIssueKind.TooLarge:
+                diagnostics.MixedModelTooLarge(block.Location, issue.Message);
+                break;
             case DesignIssueKind.SingleLevel when spec is not null:
                 diagnostics.DesignDataProblem(spec.Layout.RoleLocation ?? spec.Location, issue.Message);
                 break;
