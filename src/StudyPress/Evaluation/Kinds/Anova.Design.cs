@@ -323,13 +323,7 @@ public sealed partial class AnovaEvaluator
         foreach (var c in vc.Components)
         {
             var term = DesignFit.TermName(c.Term);
-            var values = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
-            void Add(string stat, Quantity q) => values[stat] = context.Results.Add(block.Id, TestName.VarianceComponents, term, null, null, stat, q, inputs);
-            Add(Stat.Variance, Quantity.Of(c.Variance));
-            Add(Stat.Sd, c.Sd);
-            Add(Stat.Proportion, c.Proportion);
-            Add(Stat.CiLow, c.CiLow);
-            Add(Stat.CiHigh, c.CiHigh);
+            var values = ComponentValues(context, block, inputs, term, c.Variance, c.Sd, c.Proportion, c.CiLow, c.CiHigh);
             components.Add(new DesignComponent(term, c.Kind, c.Variance, c.IsNegative, false, c.IsNegative || !hasResidual ? null : c.Note, values));
         }
 
@@ -474,13 +468,8 @@ public sealed partial class AnovaEvaluator
         foreach (var c in reml.Components)
         {
             var term = DesignFit.TermName(c.Term);
-            var values = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
-            void Add(string stat, Quantity q) => values[stat] = context.Results.Add(block.Id, TestName.VarianceComponents, term, null, null, stat, q, inputs);
-            Add(Stat.Variance, Quantity.Of(c.Variance));
-            Add(Stat.Sd, c.Sd);
-            Add(Stat.Proportion, total > 0 ? Quantity.Of(c.Variance / total) : Quantity.Undefined("every variance component is zero"));
-            Add(Stat.CiLow, c.CiLow);
-            Add(Stat.CiHigh, c.CiHigh);
+            var share = total > 0 ? Quantity.Of(c.Variance / total) : Quantity.Undefined("every variance component is zero");
+            var values = ComponentValues(context, block, inputs, term, c.Variance, c.Sd, share, c.CiLow, c.CiHigh);
             components.Add(new DesignComponent(term, c.Kind, c.Variance, false, c.AtBoundary, null, values));
         }
 
@@ -497,6 +486,18 @@ public sealed partial class AnovaEvaluator
             Observations = data.Response.Length,
             Means = means,
         };
+    }
+
+    /// <summary>One variance component in the manifest (test <c>variance_components</c>), on either route.</summary>
+    private static Dictionary<string, ResultValue> ComponentValues(EvaluationContext context, BoundBlock block, IReadOnlyList<string> inputs, string term, double variance, Quantity sd, Quantity share, Quantity low, Quantity high)
+    {
+        var values = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
+        foreach (var (stat, q) in new[] { (Stat.Variance, Quantity.Of(variance)), (Stat.Sd, sd), (Stat.Proportion, share), (Stat.CiLow, low), (Stat.CiHigh, high) })
+        {
+            values[stat] = context.Results.Add(block.Id, TestName.VarianceComponents, term, null, null, stat, q, inputs);
+        }
+
+        return values;
     }
 
     /// <summary>Raw level means of each treatment factor (test <c>means</c>: n, mean).</summary>
