@@ -46,7 +46,7 @@ public static class DatasetLoader
                 n.Responses.Add(b.Response);
             }
 
-            foreach (var f in b.Factors)
+            foreach (var f in b.Factors.Concat(b.Kind.FactorsRead(b.Options)))
             {
                 n.Factors.TryAdd(f.Name, (f, f.ColumnLocation));
             }

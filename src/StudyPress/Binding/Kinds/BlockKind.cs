@@ -39,6 +39,12 @@ public abstract class BlockKind
     /// </summary>
     public virtual bool NeedsRows => true;
 
+    /// <summary>
+    /// Factors the kind names in its own keys (not in <c>factors</c>), which the data stage must
+    /// load besides the block's factors.
+    /// </summary>
+    public virtual IEnumerable<FactorSpec> FactorsRead(object? options) => [];
+
     /// <summary>Binds the kind's own keys; report mistakes to the bag.</summary>
     public abstract object? BindOptions(KeyReader keys, BindContext context, DiagnosticBag diagnostics);
 
