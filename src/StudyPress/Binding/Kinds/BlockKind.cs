@@ -45,6 +45,9 @@ public abstract class BlockKind
     /// </summary>
     public virtual IEnumerable<FactorSpec> FactorsRead(object? options) => [];
 
+    /// <summary>Whether the kind names its factors in its own keys, so that a block without <c>factors</c> takes no default ones.</summary>
+    public virtual bool NamesOwnFactors => false;
+
     /// <summary>Binds the kind's own keys; report mistakes to the bag.</summary>
     public abstract object? BindOptions(KeyReader keys, BindContext context, DiagnosticBag diagnostics);
 

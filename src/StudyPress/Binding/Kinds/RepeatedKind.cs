@@ -42,6 +42,8 @@ public sealed class RepeatedKind : BlockKind
     /// <summary>The block's factors come from <c>subject</c>, <c>within</c> and <c>between</c>, not from <c>factors</c>.</summary>
     public override bool NeedsFactors => false;
 
+    public override bool NamesOwnFactors => true;
+
     /// <summary>One factor named by the block, with where it is named.</summary>
     public sealed record Named(FactorSpec Spec, SourceLocation Location);
 
