@@ -38,7 +38,7 @@ public sealed class RepeatedRenderer : KindRenderer
                 : $"{CorrectionName(r.Correction)} as the block asks ('correction')";
         }
 
-        var mauchly = rule.MauchlyP.IsDefined ? "Mauchly's p = " + (rule.MauchlyP.Value < 0.001 ? "< 0.001" : rule.MauchlyP.Value.ToString("0.000", CultureInfo.InvariantCulture)) : "Mauchly's test not defined (fewer subjects than contrasts)";
+        var mauchly = rule.MauchlyP.IsDefined ? "Mauchly's p " + (rule.MauchlyP.Value < 0.001 ? "< 0.001" : "= " + rule.MauchlyP.Value.ToString("0.000", CultureInfo.InvariantCulture)) : "Mauchly's test not defined (fewer subjects than contrasts)";
         var gg = rule.EpsilonGreenhouseGeisser.IsDefined ? rule.EpsilonGreenhouseGeisser.Value.ToString("0.###", CultureInfo.InvariantCulture) : "not defined";
         return rule.Basis switch
         {
@@ -73,8 +73,8 @@ public sealed class RepeatedRenderer : KindRenderer
             if (corrected.Count > 0)
             {
                 var rule = o.CorrectionAsked == "auto"
-                    ? $"Sphericity was checked with Mauchly's test for each within-subject term with more than two levels; where it was rejected at α = {w.AlphaText}, the Greenhouse–Geisser correction was read when its ε was below 0.75 and the Huynh–Feldt correction otherwise"
-                    : $"The {CorrectionName(corrected[0].Correction)} correction was read for every within-subject term with more than two levels, as asked";
+                    ? $"Sphericity {w.T("was", "is")} checked with Mauchly's test for each within-subject term with more than two levels; where it {w.T("was", "is")} rejected at α = {w.AlphaText}, the Greenhouse–Geisser correction {w.T("was", "is")} read when its ε {w.T("was", "is")} below 0.75 and the Huynh–Feldt correction otherwise"
+                    : $"The {CorrectionName(corrected[0].Correction)} correction {w.T("was", "is")} read for every within-subject term with more than two levels, as asked";
                 var read = string.Join("; ", corrected.Select(r => $"{MethodsWriter.E(Term(r.Term))}: {CorrectionName(r.Correction)}"));
                 yield return $"{rule} ({read}).";
             }
