@@ -205,4 +205,57 @@ factors: [{factors}]
         Assert.Equal(10, d.Location.Line);
         Assert.Contains("already the block's 'subject'", d.Message, StringComparison.Ordinal);
     }
+
+    /// <summary>Rutherford's one-way data written wide: one row per subject, one column per condition.</summary>
+    private const string WideOneWay = "subject,a,b,c\n1,7,7,8\n2,3,11,14\n3,6,9,10\n4,6,11,11\n5,5,10,12\n6,8,10,10\n7,6,11,11\n8,7,11,12\n";
+
+    private static StudyRun Wide(string csv, string keys) => new StudyRun().File("d.csv", csv).Study(Study("subject", keys).Replace("response: y", "response: score", StringComparison.Ordinal));
+
+    [Fact]
+    public void WideData_PublishedTable()
+    {
+        // Rutherford (2001) p. 72, published: SS(A) 112, F 20.6316 — the same data as long format.
+        using var run = Wide(WideOneWay, "subject: subject\nwithin: condition\ncolumns: [a, b, c]");
+        var m = run.Manifest();
+        Assert.Equal(112.0, m.Get("r", "anova", "condition", "ss"), 4);
+        Assert.Equal(20.6316, m.Get("r", "anova", "condition", "f"), 4);
+        Assert.Equal(0.220683287165, m.Get("r", "mauchly", "condition", "w"), 10);
+    }
+
+    [Fact]
+    public void WideData_LevelsFromAMapping_AndAnEmptyCellDropsTheSubject()
+    {
+        using var run = Wide(WideOneWay.Replace("8,7,11,12", "8,7,11,", StringComparison.Ordinal), "subject: subject\nwithin: condition\ncolumns: {a: first, b: second, c: third}\ncompare: condition");
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        var m = new ManifestView(result.ManifestJson!);
+        Assert.Equal(1, m.Get("r", "subjects", null, "subjects_dropped"));
+        Assert.Equal(8, m.Get("r", "anova_reml", null, "n"));
+        Assert.Contains("subject 8 was dropped from the classical analysis: incomplete: no measurement for condition third", result.Html, StringComparison.Ordinal);
+        Assert.Single(m.Values, v => v.GetProperty("test").GetString() == "holm" && v.GetProperty("stat").GetString() == "diff" && v.GetProperty("pair")[0].GetString() == "first" && v.GetProperty("pair")[1].GetString() == "second");
+    }
+
+    [Theory]
+    [InlineData("subject: subject\nwithin: condition\ncolumns: [a, b, cc]", "SP0308", 11, 16)]
+    [InlineData("subject: subject\nwithin: condition\ncolumns: [a]", "SP0267", 11, 0)]
+    [InlineData("subject: subject\nwithin: condition\ncolumns: [a, b, a]", "SP0267", 11, 16)]
+    [InlineData("subject: subject\nwithin: [condition, time]\ncolumns: [a, b, c]", "SP0268", 10, 20)]
+    public void WideData_OneMistake_OneMessage_AtTheKey(string keys, string code, int line, int column)
+    {
+        using var run = Wide(WideOneWay, keys);
+        var d = Assert.Single(run.Compile().Diagnostics);
+        Assert.Equal(code, d.Code);
+        Assert.Equal(line, d.Location.Line);
+        Assert.Equal(column, d.Location.Column);
+    }
+
+    [Fact]
+    public void WideData_BadCell_IsOneErrorAtTheCell()
+    {
+        using var run = Wide(WideOneWay.Replace("3,6,9,10", "3,6,x,10", StringComparison.Ordinal), "subject: subject\nwithin: condition\ncolumns: [a, b, c]");
+        var d = Assert.Single(run.Compile().Diagnostics);
+        Assert.EndsWith("d.csv", d.Location.Path, StringComparison.Ordinal);
+        Assert.Equal(3, d.Location.Line);
+        Assert.Contains("'x' is not a number in column 'b'", d.Message, StringComparison.Ordinal);
+    }
 }

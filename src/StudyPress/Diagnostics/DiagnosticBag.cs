@@ -575,6 +575,12 @@ public sealed class DiagnosticBag
     public void RepeatedAdjustWithoutCompare(SourceLocation at) =>
         Error("SP0266", at, "'adjust' sets the adjustment of the paired comparisons, which 'compare' asks for; add 'compare: FACTOR' (a within-subject factor) or remove 'adjust'");
 
+    public void RepeatedWideColumns(SourceLocation at, string what) =>
+        Error("SP0267", at, "'columns' names the measurement columns of wide data: " + what);
+
+    public void RepeatedWideOneWithin(SourceLocation at) =>
+        Error("SP0268", at, "with 'columns' (wide data), 'within' names the one factor the measurement columns form; list a single name");
+
     public void RepeatedSubjectInTwoGroups(SourceLocation at, string message) =>
         Error("SP0511", at, message + "; correct the data, or write 'labels: per-group' if subjects are numbered again within each group");
 

@@ -37,7 +37,7 @@ public sealed class RepeatedKind : BlockKind
 
     public override string PrimaryTest => "anova";
 
-    public override IReadOnlyList<string> OwnKeys { get; } = ["subject", "within", "between", "correction", "fit", "compare", "adjust", "simple", "labels"];
+    public override IReadOnlyList<string> OwnKeys { get; } = ["subject", "within", "between", "correction", "fit", "compare", "adjust", "simple", "labels", "columns"];
 
     /// <summary>The block's factors come from <c>subject</c>, <c>within</c> and <c>between</c>, not from <c>factors</c>.</summary>
     public override bool NeedsFactors => false;
@@ -47,7 +47,10 @@ public sealed class RepeatedKind : BlockKind
     /// <summary>One factor named by the block, with where it is named.</summary>
     public sealed record Named(FactorSpec Spec, SourceLocation Location);
 
-    /// <summary>The bound keys of a <c>repeated</c> block.</summary>
+    /// <summary>One measurement column of wide data and the level of the within factor it holds.</summary>
+    public sealed record WideColumn(string Column, string Level, SourceLocation Location);
+
+    /// <summary>The bound keys of a <c>repeated</c> block; <paramref name="Wide"/> lists the measurement columns of wide data (null: long data).</summary>
     public sealed record Options(
         Named Subject,
         IReadOnlyList<Named> Within,
@@ -59,10 +62,11 @@ public sealed class RepeatedKind : BlockKind
         Named? Compare,
         string Adjust,
         string Simple,
-        bool LabelsPerGroup)
+        bool LabelsPerGroup,
+        IReadOnlyList<WideColumn>? Wide = null)
     {
-        /// <summary>Every factor the block reads: subject, within, between.</summary>
-        public IEnumerable<FactorSpec> Factors => new[] { Subject }.Concat(Within).Concat(Between).Select(n => n.Spec);
+        /// <summary>Every factor column the block reads: subject, within (long data only), between.</summary>
+        public IEnumerable<FactorSpec> Factors => new[] { Subject }.Concat(Wide is null ? Within : []).Concat(Between).Select(n => n.Spec);
 
         /// <summary>Where the user names <paramref name="factor"/> in the block (its entry in subject, within or between).</summary>
         public SourceLocation Where(string factor, SourceLocation fallback) =>
@@ -71,6 +75,11 @@ public sealed class RepeatedKind : BlockKind
 
     public override IEnumerable<FactorSpec> FactorsRead(object? options) =>
         options is Options o ? o.Factors : [];
+
+    public override IEnumerable<(string Column, SourceLocation At)> NumericRead(object? options) =>
+        options is Options { Wide: { } wide } ? wide.Select(w => (w.Column, w.Location)) : [];
+
+    public override bool LoadsResponse(object? options) => options is not Options { Wide: not null };
 
     public override object? BindOptions(KeyReader keys, BindContext context, DiagnosticBag diagnostics)
     {
@@ -115,7 +124,29 @@ public sealed class RepeatedKind : BlockKind
         }
 
         var subject = keys.Scalar("subject") is { } s ? Resolve(s) : null;
-        var within = List("within");
+        var wide = keys.Has("columns") ? WideColumns(keys, diagnostics) : null;
+        List<Named> within;
+        if (keys.Has("columns"))
+        {
+            // Wide data: 'within' names the factor the measurement columns form, not a column.
+            within = [];
+            var withinNames = keys.ScalarList("within") ?? [];
+            if (withinNames.Count > 1)
+            {
+                diagnostics.RepeatedWideOneWithin(withinNames[1].Location);
+            }
+            else if (withinNames.Count == 1)
+            {
+                var w = withinNames[0];
+                var header = context.Header.Factor(w.Value);
+                within.Add(new Named(new FactorSpec(w.Value, w.Value, null, [], header?.Label, w.Location), w.Location));
+            }
+        }
+        else
+        {
+            within = List("within");
+        }
+
         var between = List("between");
         var correction = keys.Choice("correction", Corrections) ?? "auto";
         var fit = keys.Choice("fit", Fits) ?? "auto";
@@ -178,6 +209,57 @@ public sealed class RepeatedKind : BlockKind
             compare,
             adjust,
             simple,
-            labels == "per-group");
+            labels == "per-group",
+            wide);
+    }
+
+    /// <summary>The <c>columns</c> key: a list of columns (each column's name is its level) or a mapping column → level.</summary>
+    private static List<WideColumn>? WideColumns(KeyReader keys, DiagnosticBag diagnostics)
+    {
+        var list = new List<WideColumn>();
+        switch (keys.Node("columns"))
+        {
+            case YMapping map:
+                foreach (var e in map.Entries)
+                {
+                    if (e.Value is YScalar v)
+                    {
+                        list.Add(new WideColumn(e.Key.Value, v.Value, e.Key.Location));
+                    }
+                    else
+                    {
+                        diagnostics.ExpectedScalar(e.Value.Location, "the level of column '" + e.Key.Value + "' in 'columns'");
+                        return null;
+                    }
+                }
+
+                break;
+            default:
+                foreach (var c in keys.ScalarList("columns") ?? [])
+                {
+                    list.Add(new WideColumn(c.Value, c.Value, c.Location));
+                }
+
+                break;
+        }
+
+        var columns = new HashSet<string>(StringComparer.Ordinal);
+        var levels = new HashSet<string>(StringComparer.Ordinal);
+        foreach (var c in list)
+        {
+            if (!columns.Add(c.Column) || !levels.Add(c.Level))
+            {
+                diagnostics.RepeatedWideColumns(c.Location, string.Create(System.Globalization.CultureInfo.InvariantCulture, $"'{c.Column}' repeats a column or a level already listed"));
+                return null;
+            }
+        }
+
+        if (list.Count < 2)
+        {
+            diagnostics.RepeatedWideColumns(keys.KeyLocation("columns"), "list at least two measurement columns, one per level of the within factor");
+            return null;
+        }
+
+        return list;
     }
 }

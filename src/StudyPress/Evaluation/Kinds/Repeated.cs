@@ -131,27 +131,80 @@ public sealed class RepeatedEvaluator : KindEvaluator
     {
         var o = (RepeatedKind.Options)block.Options!;
         var all = o.Factors.ToList();
-        var data = context.Select(block.WithFactors(all, block.Location), diagnostics);
-        if (data is null)
-        {
-            return new BlockOutcome(block);
-        }
-
         var kw = o.Within.Count;
         var kb = o.Between.Count;
+        BlockData? data;
         string[] Labels(BlockFactor f) => [.. f.Codes.Select(c => f.Levels[c])];
-        var subjectCol = Labels(data.Factors[0]);
-        var withinCols = Enumerable.Range(1, kw).Select(i => (IReadOnlyList<string>)Labels(data.Factors[i])).ToList();
-        var betweenCols = Enumerable.Range(1 + kw, kb).Select(i => (IReadOnlyList<string>)Labels(data.Factors[i])).ToList();
+        double[] values;
+        string[] subjectCol;
+        List<IReadOnlyList<string>> withinCols;
+        List<IReadOnlyList<string>> betweenCols;
+        int droppedMissing;
+        if (o.Wide is { } wide)
+        {
+            // Wide data: one row per subject, one column per level of the within factor; each
+            // present cell is a measurement, an empty cell a missing one.
+            data = context.Select(NoResponse(block, all), diagnostics, requireResponse: false);
+            if (data is null)
+            {
+                return new BlockOutcome(block);
+            }
+
+            var columns = wide.Select(w => data.Dataset.Numeric[w.Column]).ToArray();
+            var v = new List<double>();
+            var subj = new List<string>();
+            var lev = new List<string>();
+            var btw = Enumerable.Range(0, kb).Select(_ => new List<string>()).ToList();
+            droppedMissing = data.DroppedMissing;
+            for (var i = 0; i < data.Rows.Length; i++)
+            {
+                var r = data.Rows[i];
+                for (var j = 0; j < columns.Length; j++)
+                {
+                    if (columns[j].IsMissing(r))
+                    {
+                        droppedMissing++;
+                        continue;
+                    }
+
+                    v.Add(columns[j].Values[r]);
+                    subj.Add(data.Factors[0].Levels[data.Factors[0].Codes[i]]);
+                    lev.Add(wide[j].Level);
+                    for (var b = 0; b < kb; b++)
+                    {
+                        btw[b].Add(data.Factors[1 + b].Levels[data.Factors[1 + b].Codes[i]]);
+                    }
+                }
+            }
+
+            values = [.. v];
+            subjectCol = [.. subj];
+            withinCols = [lev];
+            betweenCols = [.. btw.Select(c => (IReadOnlyList<string>)c)];
+        }
+        else
+        {
+            data = context.Select(block.WithFactors(all, block.Location), diagnostics);
+            if (data is null)
+            {
+                return new BlockOutcome(block);
+            }
+
+            values = data.Values;
+            subjectCol = Labels(data.Factors[0]);
+            withinCols = [.. Enumerable.Range(1, kw).Select(i => (IReadOnlyList<string>)Labels(data.Factors[i]))];
+            betweenCols = [.. Enumerable.Range(1 + kw, kb).Select(i => (IReadOnlyList<string>)Labels(data.Factors[i]))];
+            droppedMissing = data.DroppedMissing;
+        }
         var design = new RepeatedMeasuresDesign(
             o.Subject.Spec.Name,
             [.. o.Within.Select(w => w.Spec.Name)],
             [.. o.Between.Select(b => b.Spec.Name)],
             o.LabelsPerGroup ? SubjectLabels.NumberedWithinGroups : SubjectLabels.UniqueAcrossGroups);
-        var rm = new RepeatedMeasuresData(data.Values, subjectCol, withinCols, betweenCols);
+        var rm = new RepeatedMeasuresData(values, subjectCol, withinCols, betweenCols);
 
         // A within factor that no subject is measured under twice is a between factor declared as within.
-        for (var f = 0; f < kw; f++)
+        for (var f = 0; f < kw && o.Wide is null; f++)
         {
             if (data.Factors[1 + f].Levels.Count > 1 && !VariesWithinSomeSubject(data.Factors[0].Codes, data.Factors[1 + f].Codes, betweenCols, o.LabelsPerGroup))
             {
@@ -400,7 +453,7 @@ public sealed class RepeatedEvaluator : KindEvaluator
             Subjects = subjects,
             Dropped = dropped,
             ReplicatedCells = fit?.ReplicatedCells ?? 0,
-            DroppedMissing = data.DroppedMissing,
+            DroppedMissing = droppedMissing,
             MixedReason = reason,
             Mixed = mixed,
             MixedCounts = mixedCounts,
@@ -412,15 +465,31 @@ public sealed class RepeatedEvaluator : KindEvaluator
             Pairs = pairs,
             Simple = simple,
             SimpleAsked = o.Simple == "always",
-            WithinLevelCounts = [.. Enumerable.Range(1, kw).Select(i => data.Factors[i].Levels.Count)],
+            WithinLevelCounts = [.. withinCols.Select(c => c.Distinct(StringComparer.Ordinal).Count())],
         };
         if (fit is not null && context.Header.Report.Figures)
         {
-            AddFigures(outcome, fit, data.ResponseName, o);
+            AddFigures(outcome, fit, block.Response ?? data.ResponseName, o);
         }
 
         return outcome;
     }
+
+    /// <summary>The block over its subject and between factors, without a response column (wide data).</summary>
+    private static BoundBlock NoResponse(BoundBlock block, IReadOnlyList<Binding.FactorSpec> factors) => new()
+    {
+        Id = block.Id,
+        Kind = block.Kind,
+        Syntax = block.Syntax,
+        Data = block.Data,
+        Response = null,
+        ResponseLocation = block.ResponseLocation,
+        Factors = factors,
+        FactorsLocation = block.Location,
+        Where = block.Where,
+        Caption = block.Caption,
+        Options = block.Options,
+    };
 
     /// <summary>The p-value a reading selects for a within row.</summary>
     public static Quantity ReadP(RepeatedRow row, SphericityCorrection c) => c switch
