@@ -258,4 +258,45 @@ factors: [{factors}]
         Assert.Equal(3, d.Location.Line);
         Assert.Contains("'x' is not a number in column 'b'", d.Message, StringComparison.Ordinal);
     }
+
+    /// <summary>3000 subjects × 3 conditions (deterministic values), optionally without subject 1's third measurement.</summary>
+    private static string Many(bool dropOne)
+    {
+        var sb = new System.Text.StringBuilder("subject,condition,y\n");
+        for (var s = 1; s <= 3000; s++)
+        {
+            for (var l = 0; l < 3; l++)
+            {
+                if (!(dropOne && s == 1 && l == 2))
+                {
+                    sb.Append(CultureInfo.InvariantCulture, $"{s},{(char)('a' + l)},{((s * 7) + (l * 3)) % 11 + l}\n");
+                }
+            }
+        }
+
+        return sb.ToString();
+    }
+
+    [Fact]
+    public void MixedModelTooLarge_Reml_IsOneErrorAtFit()
+    {
+        // (9000 + 3000) × (3000 + 3 + 1) numbers exceed the 2^25 cap: refused before any allocation.
+        using var run = Run(Many(false), "subject, condition", "subject: subject\nwithin: condition\nfit: reml");
+        var d = Assert.Single(run.Compile().Diagnostics);
+        Assert.Equal("SP0515", d.Code);
+        Assert.Equal(11, d.Location.Line);
+        Assert.Contains("working matrix", d.Message, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void MixedModelTooLarge_Auto_ClassicalRouteStands_AndSaysWhy()
+    {
+        using var run = Run(Many(true), "subject, condition", "subject: subject\nwithin: condition");
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        var m = new ManifestView(result.ManifestJson!);
+        Assert.Equal(2999, m.Get("r", "subjects", null, "n"));
+        Assert.Empty(m.Find("r", "anova_reml", null, "n"));
+        Assert.Contains("The mixed-model route was not fitted: 8999 measurements of 3000 subjects need a working matrix", result.Html, StringComparison.Ordinal);
+    }
 }

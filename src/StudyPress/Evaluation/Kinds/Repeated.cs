@@ -250,6 +250,13 @@ public sealed class RepeatedEvaluator : KindEvaluator
             reason = MixedRouteReason.SubjectsDropped;
         }
 
+        var mixedTooLarge = reason != MixedRouteReason.None ? MixedTooLarge(subjectCol, withinCols, values.Length, betweenCols) : null;
+        if (reason is MixedRouteReason.Asked or MixedRouteReason.ClassicalImpossible && mixedTooLarge is not null)
+        {
+            diagnostics.RepeatedMixedModelProblem(o.FitLocation, mixedTooLarge);
+            return new BlockOutcome(block);
+        }
+
         if (reason == MixedRouteReason.Asked && RepeatedMeasuresMixedModel.Check(design, rm) is { } mixedIssue)
         {
             diagnostics.RepeatedMixedModelProblem(o.FitLocation, mixedIssue.Message);
@@ -332,7 +339,11 @@ public sealed class RepeatedEvaluator : KindEvaluator
         string? mixedNotFitted = null;
         if (reason != MixedRouteReason.None)
         {
-            if (RepeatedMeasuresMixedModel.Check(design, rm) is { } issue)
+            if (mixedTooLarge is not null)
+            {
+                mixedNotFitted = mixedTooLarge;
+            }
+            else if (RepeatedMeasuresMixedModel.Check(design, rm) is { } issue)
             {
                 mixedNotFitted = issue.Message;
             }
@@ -473,6 +484,40 @@ public sealed class RepeatedEvaluator : KindEvaluator
         }
 
         return outcome;
+    }
+
+    /// <summary>Doubles the mixed model's dense working matrices may hold (2^25, 256 MiB); larger fits are refused.</summary>
+    public const long MaxMixedModelCells = 1L << 25;
+
+    /// <summary>
+    /// Why the mixed model is too large to fit here, or null. The REML fit factors a dense
+    /// (n + q) × (q + p + 1) matrix: n measurements, q random-effect levels (subjects times every
+    /// proper subset of the within factors: Σ Π k = Π (k + 1) − Π k per subject), p fixed effects
+    /// (at most groups × cells).
+    /// </summary>
+    private static string? MixedTooLarge(IReadOnlyList<string> subject, IReadOnlyList<IReadOnlyList<string>> within, int measurements, IReadOnlyList<IReadOnlyList<string>> between)
+    {
+        long subjects = subject.Distinct(StringComparer.Ordinal).Count();
+        long all = 1, cells = 1;
+        foreach (var col in within)
+        {
+            long k = col.Distinct(StringComparer.Ordinal).Count();
+            all *= k + 1;
+            cells *= k;
+        }
+
+        long groups = 1;
+        foreach (var col in between)
+        {
+            groups *= col.Distinct(StringComparer.Ordinal).Count();
+        }
+
+        var q = subjects * (all - cells);
+        var p = groups * cells;
+        var size = (measurements + q) * (q + p + 1);
+        return size <= MaxMixedModelCells
+            ? null
+            : string.Create(System.Globalization.CultureInfo.InvariantCulture, $"{measurements} measurements of {subjects} subjects need a working matrix of {size} numbers, more than the {MaxMixedModelCells} this version fits in memory");
     }
 
     /// <summary>The block over its subject and between factors, without a response column (wide data).</summary>
