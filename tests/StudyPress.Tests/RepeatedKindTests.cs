@@ -280,7 +280,7 @@ factors: [{factors}]
     [Fact]
     public void MixedModelTooLarge_Reml_IsOneErrorAtFit()
     {
-        // (9000 + 3000) × (3000 + 3 + 1) numbers exceed the 2^25 cap: refused before any allocation.
+        // (9000 + 3000) × (3000 + 3 + 1) numbers exceed the 2^22 cap: refused before any allocation.
         using var run = Run(Many(false), "subject, condition", "subject: subject\nwithin: condition\nfit: reml");
         var d = Assert.Single(run.Compile().Diagnostics);
         Assert.Equal("SP0515", d.Code);

@@ -486,8 +486,8 @@ public sealed class RepeatedEvaluator : KindEvaluator
         return outcome;
     }
 
-    /// <summary>Doubles the mixed model's dense working matrices may hold (2^25, 256 MiB); larger fits are refused.</summary>
-    public const long MaxMixedModelCells = 1L << 25;
+    /// <summary>Numbers the mixed model's dense working matrix may hold (2^22, 32 MiB; its fit then peaks near 360 MB and a minute: 1000 subjects × 3 cells, measured); larger fits are refused.</summary>
+    public const long MaxMixedModelCells = 1L << 22;
 
     /// <summary>
     /// Why the mixed model is too large to fit here, or null. The REML fit factors a dense
