@@ -298,5 +298,6 @@ factors: [{factors}]
         Assert.Equal(2999, m.Get("r", "subjects", null, "n"));
         Assert.Empty(m.Find("r", "anova_reml", null, "n"));
         Assert.Contains("The mixed-model route was not fitted: 8999 measurements of 3000 subjects need a working matrix", result.Html, StringComparison.Ordinal);
+        Assert.Contains("the first 200 of 2999 complete subjects, in file order", result.Html, StringComparison.Ordinal);
     }
 }

@@ -486,6 +486,9 @@ public sealed class RepeatedEvaluator : KindEvaluator
         return outcome;
     }
 
+    /// <summary>Subjects drawn as thin lines in the profile figure (the mean profile uses all).</summary>
+    public const int MaxProfilesDrawn = 200;
+
     /// <summary>Numbers the mixed model's dense working matrix may hold (2^22, 32 MiB; its fit then peaks near 360 MB and a minute: 1000 subjects × 3 cells, measured); larger fits are refused.</summary>
     public const long MaxMixedModelCells = 1L << 22;
 
@@ -634,14 +637,20 @@ public sealed class RepeatedEvaluator : KindEvaluator
             mean.Add(new ProfilePoint(m, m - half, m + half));
         }
 
+        // At most MaxProfilesDrawn thin lines (the first subjects in file order): beyond that the lines
+        // hide each other and only weigh down the report; the mean profile uses every subject.
+        var drawn = profiles.Count > MaxProfilesDrawn ? profiles.Take(MaxProfilesDrawn).ToList() : profiles;
         var chart = StatCharts.SubjectProfiles(
             levels,
-            profiles,
+            drawn,
             bLabel,
             mean,
             "95%",
             new ChartLabels($"{response} of each {o.Subject.Spec.Display} by {wLabel}", wLabel, response));
-        outcome.Figures.Add(new Figure("profiles", $"Each thin line is one {o.Subject.Spec.Display} (complete subjects only); the thick line is the mean at each level of {wLabel} with its 95% interval (t interval over subjects; it does not show the within-subject comparison).", chart));
+        var which = drawn.Count < profiles.Count
+            ? string.Create(System.Globalization.CultureInfo.InvariantCulture, $"Each thin line is one {o.Subject.Spec.Display} (the first {drawn.Count} of {profiles.Count} complete subjects, in file order); ")
+            : $"Each thin line is one {o.Subject.Spec.Display} (complete subjects only); ";
+        outcome.Figures.Add(new Figure("profiles", which + $"the thick line is the mean at each level of {wLabel} with its 95% interval (t interval over subjects; it does not show the within-subject comparison).", chart));
 
         if (fit.Design.Between.Count > 0)
         {
