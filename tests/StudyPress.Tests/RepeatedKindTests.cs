@@ -160,6 +160,7 @@ factors: [{factors}]
     [InlineData("subject: subject\nwithin: condition\nfactors: [condition]", "SP0263", 11)]
     [InlineData("subject: subjct\nwithin: condition", "SP0216", 9)]
     [InlineData("subject: subject\nwithin: condition\ncorrection: box", "SP0209", 11)]
+    [InlineData("subject: subject\nwithin: condition\nfit: reml\ncompare: condition", "SP0269", 12)]
     public void OneMistake_OneMessage_AtTheKey(string keys, string code, int line)
     {
         using var run = Run(OneWay, "subject, condition", keys);
@@ -299,5 +300,46 @@ factors: [{factors}]
         Assert.Empty(m.Find("r", "anova_reml", null, "n"));
         Assert.Contains("The mixed-model route was not fitted: 8999 measurements of 3000 subjects need a working matrix", result.Html, StringComparison.Ordinal);
         Assert.Contains("the first 200 of 2999 complete subjects, in file order", result.Html, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void FitReml_MixedRouteOnly()
+    {
+        using var run = Run(OneWay, "subject, condition", "subject: subject\nwithin: condition\nfit: reml");
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        var m = new ManifestView(result.ManifestJson!);
+        Assert.Equal(8, m.Get("r", "anova_reml", null, "n"));
+        Assert.Equal(24, m.Get("r", "anova_reml", null, "n_total"));
+        Assert.Equal(2, m.Get("r", "anova_reml", "condition", "df"));
+        Assert.Empty(m.Find("r", "anova", "condition", "f"));
+        Assert.Empty(m.Find("r", "mauchly", "condition", "w"));
+    }
+
+    [Fact]
+    public void AutoFit_TooFewCompleteSubjects_FallsBackToTheMixedModel()
+    {
+        // Subjects 1-7 lack condition c: one complete subject leaves the classical route no error df.
+        var csv = string.Join("\n", OneWay.Split('\n').Where(l => !(l.Contains(",c,", StringComparison.Ordinal) && !l.StartsWith("8,", StringComparison.Ordinal))));
+        using var run = Run(csv, "subject, condition", "subject: subject\nwithin: condition");
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        var m = new ManifestView(result.ManifestJson!);
+        Assert.Equal(1, m.Get("r", "subjects", null, "n"));
+        Assert.Equal(7, m.Get("r", "subjects", null, "subjects_dropped"));
+        Assert.Equal(8, m.Get("r", "anova_reml", null, "n"));
+        Assert.Equal(17, m.Get("r", "anova_reml", null, "n_total"));
+        Assert.Empty(m.Find("r", "anova", "condition", "f"));
+    }
+
+    [Fact]
+    public void FitClassical_TooFewCompleteSubjects_IsOneErrorAtSubject()
+    {
+        var csv = string.Join("\n", OneWay.Split('\n').Where(l => !(l.Contains(",c,", StringComparison.Ordinal) && !l.StartsWith("8,", StringComparison.Ordinal))));
+        using var run = Run(csv, "subject, condition", "subject: subject\nwithin: condition\nfit: classical");
+        var d = Assert.Single(run.Compile().Diagnostics);
+        Assert.Equal("SP0514", d.Code);
+        Assert.Equal(9, d.Location.Line);
+        Assert.Contains("'subject' has 1 complete and 7 incomplete", d.Message, StringComparison.Ordinal);
     }
 }

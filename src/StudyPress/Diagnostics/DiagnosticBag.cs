@@ -581,6 +581,9 @@ public sealed class DiagnosticBag
     public void RepeatedWideOneWithin(SourceLocation at) =>
         Error("SP0268", at, "with 'columns' (wide data), 'within' names the one factor the measurement columns form; list a single name");
 
+    public void RepeatedCompareNeedsClassical(SourceLocation at) =>
+        Error("SP0269", at, "the paired comparisons are made on the complete subjects of the classical route, which 'fit: reml' does not fit; write 'fit: auto' (both routes when subjects are incomplete) or remove 'compare'");
+
     public void RepeatedSubjectInTwoGroups(SourceLocation at, string message) =>
         Error("SP0511", at, message + "; correct the data, or write 'labels: per-group' if subjects are numbered again within each group");
 

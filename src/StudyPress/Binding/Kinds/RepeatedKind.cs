@@ -192,7 +192,14 @@ public sealed class RepeatedKind : BlockKind
                 return null;
             }
         }
-        else if (keys.Has("adjust"))
+
+        if (compare is not null && fit == "reml")
+        {
+            diagnostics.RepeatedCompareNeedsClassical(compareNode!.Location);
+            return null;
+        }
+
+        if (compare is null && keys.Has("adjust"))
         {
             diagnostics.RepeatedAdjustWithoutCompare(keys.KeyLocation("adjust"));
             return null;

@@ -135,6 +135,11 @@ public sealed class RepeatedRenderer : KindRenderer
             yield return string.Create(CultureInfo.InvariantCulture, $"{o.DroppedMissing} row(s) with a missing value were left out.");
         }
 
+        if (o.Rows is null && o.CompareLabel is not null)
+        {
+            yield return "No paired comparisons: too few subjects are complete for the classical route, on whose complete subjects they are made.";
+        }
+
         if (o.MixedNotFitted is { } why)
         {
             yield return "The mixed-model route was not fitted: " + why + ".";
