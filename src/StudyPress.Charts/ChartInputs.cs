@@ -14,3 +14,9 @@ public sealed record PowerPoint(int PerGroupN, double Power);
 
 /// <summary>One simultaneous interval: pair label, estimated difference and its bounds.</summary>
 public sealed record IntervalComparison(string Pair, double Difference, double Lower, double Upper);
+
+/// <summary>One subject's measurements at each level of a within-subject factor, for <see cref="StatCharts.SubjectProfiles"/>; <paramref name="Group"/> is its between-subject level (empty without groups).</summary>
+public sealed record SubjectProfile(string Subject, string Group, IReadOnlyList<double> Values);
+
+/// <summary>The mean profile with its interval at each level, for <see cref="StatCharts.SubjectProfiles"/>.</summary>
+public sealed record ProfilePoint(double Mean, double Lower, double Upper);

@@ -137,4 +137,31 @@ public class ChartGeometryTests
         var line = Svg.ByClass(Svg.Parse(chart.ToSvg()), "target-line").Single();
         Assert.Equal(chart.Plot.Y!.Map(0.8), Svg.D(line, "y1"), Pixel);
     }
+
+    [Fact]
+    public void SubjectProfiles_OneThinLinePerSubject_MeanAndIntervalsAtValues()
+    {
+        // Exact hand computation: the profiles are drawn at their values; the mean profile and its bounds as given.
+        SubjectProfile[] profiles = [new("s1", "g1", [1, 2, 3]), new("s2", "g1", [2, 3, 5]), new("s3", "g2", [0, 4, 4])];
+        ProfilePoint[] mean = [new(1, 0.5, 1.5), new(3, 2, 4), new(4, 3, 5)];
+        var chart = StatCharts.SubjectProfiles(["t1", "t2", "t3"], profiles, "group", mean, "95%", Samples.Labels);
+        var root = Svg.Parse(chart.ToSvg());
+        var lines = Svg.ByClass(root, "subject").Where(e => e.Name.LocalName == "polyline").ToList();
+        Assert.Equal(3, lines.Count);
+        var s2 = Svg.Points(lines[1]);
+        Assert.Equal(chart.Plot.Y!.Map(5), s2[2].Y, Pixel);
+        Assert.Equal(chart.Plot.XCat!.Centre(2), s2[2].X, Pixel);
+        var profile = Svg.Points(Svg.ByClass(root, "mean-profile").Single());
+        Assert.Equal(chart.Plot.Y!.Map(3), profile[1].Y, Pixel);
+        var ci = Svg.ByClass(root, "ci");
+        Assert.Equal(3, ci.Count);
+        Assert.Equal(chart.Plot.Y!.Map(2), Svg.D(ci[1], "y1"), Pixel);
+        Assert.Equal(chart.Plot.Y!.Map(4), Svg.D(ci[1], "y2"), Pixel);
+    }
+
+    [Fact]
+    public void SubjectProfiles_ProfileOfWrongLength_IsRefused()
+    {
+        Assert.Throws<ArgumentException>(() => StatCharts.SubjectProfiles(["t1", "t2"], [new("s1", string.Empty, [1])], string.Empty, [new(1, 1, 1), new(2, 2, 2)], "95%", Samples.Labels));
+    }
 }

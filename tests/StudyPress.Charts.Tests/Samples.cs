@@ -11,6 +11,13 @@ internal static class Samples
             [new("A", [1, 2, 3, 4, 5, 6, 7, 8, 9, 30]), new("B", [4, 4, 4, 5, 6]), new("C", [2.5])], Labels)),
         ("means", () => StatCharts.GroupMeans(
             [new("A", 5, 3.9, 6.1), new("B", 7.2, 6.0, 8.4), new("C", 4.1, 2.2, 6.0)], "95 %", Labels)),
+        ("profiles", () => StatCharts.SubjectProfiles(
+            ["week 1", "week 2", "week 3"],
+            [new("s1", "shade", [4.1, 5.0, 6.2]), new("s2", "shade", [3.8, 4.9, 5.5]), new("s3", "sun", [4.4, 6.1, 8.0]), new("s4", "sun", [4.0, 5.8, 7.9])],
+            "Light",
+            [new(4.075, 3.7, 4.45), new(5.45, 4.6, 6.3), new(6.9, 5.3, 8.5)],
+            "95%",
+            new("Profiles", "Week", "Height (cm)"))),
         ("interaction", () => StatCharts.InteractionPlot(["low", "mid", "high"], ["male", "female"],
             [new("low", "male", 3), new("mid", "male", 4), new("high", "male", 6), new("low", "female", 3.5), new("mid", "female", 5.5), new("high", "female", 5)],
             "Sex", new("Interaction", "Dose", "Mean response"))),

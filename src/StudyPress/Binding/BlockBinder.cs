@@ -160,7 +160,7 @@ internal static class BlockBinder
                     }
                 }
             }
-            else
+            else if (!kind.NamesOwnFactors)
             {
                 factors.AddRange(DefaultFactors(header, kind));
             }

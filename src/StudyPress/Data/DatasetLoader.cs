@@ -40,13 +40,19 @@ public static class DatasetLoader
                 diagnostics.AggregateProblem(b.Location, aggregated.Name, $"a '{b.Kind.Name}' block needs the rows, and the database aggregates this dataset (aggregate: true); only anova, summary and posthoc blocks run on aggregated data in this version (declare a second dataset on the same file with a sampling query for the other blocks)");
             }
 
-            if (b.Response is not null)
+            if (b.Response is not null && b.Kind.LoadsResponse(b.Options))
             {
                 n.Numeric.TryAdd(b.Response, b.ResponseLocation);
                 n.Responses.Add(b.Response);
             }
 
-            foreach (var f in b.Factors)
+            foreach (var (column, at) in b.Kind.NumericRead(b.Options))
+            {
+                n.Numeric.TryAdd(column, at);
+                n.Responses.Add(column);
+            }
+
+            foreach (var f in b.Factors.Concat(b.Kind.FactorsRead(b.Options)))
             {
                 n.Factors.TryAdd(f.Name, (f, f.ColumnLocation));
             }

@@ -575,6 +575,45 @@ public sealed class DiagnosticBag
     public void TooFewCompleteBlocks(SourceLocation at, string blocks, int complete, int dropped) =>
         Error("SP0510", at, string.Create(CultureInfo.InvariantCulture, $"the friedman test needs at least 2 complete blocks (a value for every treatment); {blocks} has {complete} complete and {dropped} incomplete"));
 
+    // ---- repeated measures (SP0263-SP0269 keys, SP0511-SP0519 analysis) ----
+    public void RepeatedFactorsKey(SourceLocation at) =>
+        Error("SP0263", at, "a repeated block names its factors with 'subject', 'within' and 'between'; remove 'factors'");
+
+    public void RepeatedFactorTwice(SourceLocation at, string name, string first, string second) =>
+        Error("SP0264", at, first == second
+            ? $"factor {Q(name)} is listed twice in {Q(second)}"
+            : $"factor {Q(name)} is already the block's {Q(first)}; 'subject', 'within' and 'between' name different factors (a factor is either measured within each subject or splits the subjects into groups)");
+
+    public void RepeatedCompareNotWithin(SourceLocation at, string name, string? suggestion) =>
+        Error("SP0265", at, $"'compare' names a within-subject factor of this block (one listed in 'within'), but {Q(name)} is not one{Suggest(suggestion)}");
+
+    public void RepeatedAdjustWithoutCompare(SourceLocation at) =>
+        Error("SP0266", at, "'adjust' sets the adjustment of the paired comparisons, which 'compare' asks for; add 'compare: FACTOR' (a within-subject factor) or remove 'adjust'");
+
+    public void RepeatedWideColumns(SourceLocation at, string what) =>
+        Error("SP0267", at, "'columns' names the measurement columns of wide data: " + what);
+
+    public void RepeatedWideOneWithin(SourceLocation at) =>
+        Error("SP0268", at, "with 'columns' (wide data), 'within' names the one factor the measurement columns form; list a single name");
+
+    public void RepeatedCompareNeedsClassical(SourceLocation at) =>
+        Error("SP0269", at, "the paired comparisons are made on the complete subjects of the classical route, which 'fit: reml' does not fit; write 'fit: auto' (both routes when subjects are incomplete) or remove 'compare'");
+
+    public void RepeatedSubjectInTwoGroups(SourceLocation at, string message) =>
+        Error("SP0511", at, message + "; correct the data, or write 'labels: per-group' if subjects are numbered again within each group");
+
+    public void RepeatedDesignProblem(SourceLocation at, string message) =>
+        Error("SP0512", at, message);
+
+    public void RepeatedWithinDoesNotVary(SourceLocation at, string name, string subject) =>
+        Error("SP0513", at, $"{Q(name)} does not vary within any {Q(subject)}: each subject is measured under one level only, so it is a between-subject factor; move it to 'between'");
+
+    public void RepeatedTooFewComplete(SourceLocation at, string subject, int complete, int dropped, string reason) =>
+        Error("SP0514", at, string.Create(CultureInfo.InvariantCulture, $"the classical repeated-measures analysis needs complete subjects, and {Q(subject)} has {complete} complete and {dropped} incomplete: {reason}; write 'fit: reml' to analyse every measurement with the mixed model"));
+
+    public void RepeatedMixedModelProblem(SourceLocation at, string message) =>
+        Error("SP0515", at, "the mixed-model route cannot be fitted: " + message + "; write 'fit: classical' to analyse the complete subjects only");
+
     // ---- output (SP06xx) ----
     public void CannotWrite(SourceLocation at, string path, string reason) => Error("SP0601", at, $"cannot write {Q(path)}: {reason}");
 

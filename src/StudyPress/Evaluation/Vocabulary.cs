@@ -186,8 +186,26 @@ public static class Stat
     /// <summary>Unblocked replicates per treatment the blocked layout was worth.</summary>
     public const string EquivalentReplicates = "equivalent_replicates";
 
+    /// <summary>Greenhouse–Geisser epsilon of a within-subject term (repeated measures).</summary>
+    public const string EpsilonGg = "epsilon_gg";
+
+    /// <summary>Huynh–Feldt epsilon (Lecoutre's correction) of a within-subject term.</summary>
+    public const string EpsilonHf = "epsilon_hf";
+
+    /// <summary>p-value with both df multiplied by the Greenhouse–Geisser epsilon.</summary>
+    public const string PGg = "p_gg";
+
+    /// <summary>p-value with both df multiplied by the Huynh–Feldt epsilon.</summary>
+    public const string PHf = "p_hf";
+
+    /// <summary>Generalized eta squared (Olejnik and Algina 2003).</summary>
+    public const string GeneralizedEta2 = "generalized_eta2";
+
+    /// <summary>Subjects left out of the classical repeated-measures analysis (incomplete).</summary>
+    public const string SubjectsDropped = "subjects_dropped";
+
     /// <summary>Stats that are whole numbers (counts, degrees of freedom of exact designs), shown without decimals.</summary>
-    public static IReadOnlySet<string> Counts { get; } = new HashSet<string>(StringComparer.Ordinal) { N, Df, Missing, NPerGroup, NTotal, Df1, Df2, M, NBlocks, BlocksDropped, DfDen };
+    public static IReadOnlySet<string> Counts { get; } = new HashSet<string>(StringComparer.Ordinal) { N, Df, Missing, NPerGroup, NTotal, Df1, Df2, M, NBlocks, BlocksDropped, DfDen, SubjectsDropped };
 
     /// <summary>Every name, with its meaning (checked against docs/manifest.md by the tests).</summary>
     public static IReadOnlyDictionary<string, string> All { get; } = new Dictionary<string, string>(StringComparer.Ordinal)
@@ -225,7 +243,7 @@ public static class Stat
         [H] = "Kruskal–Wallis H",
         [MeanRank] = "mean rank",
         [Statistic] = "test statistic",
-        [W] = "Shapiro–Wilk W",
+        [W] = "W statistic (Shapiro–Wilk; Mauchly's W for sphericity)",
         [D] = "Durbin–Watson d",
         [MaxAbsT] = "largest absolute studentized residual",
         [T] = "studentized residual",
@@ -253,6 +271,12 @@ public static class Stat
         [RelativeEfficiency] = "relative efficiency of blocking",
         [RelativeEfficiencyCorrected] = "relative efficiency of blocking, corrected for error df",
         [EquivalentReplicates] = "unblocked replicates per treatment the blocks were worth",
+        [EpsilonGg] = "Greenhouse–Geisser epsilon of a within-subject term",
+        [EpsilonHf] = "Huynh–Feldt epsilon (Lecoutre) of a within-subject term",
+        [PGg] = "p-value on Greenhouse–Geisser corrected df",
+        [PHf] = "p-value on Huynh–Feldt corrected df",
+        [GeneralizedEta2] = "generalized eta squared",
+        [SubjectsDropped] = "subjects left out of the classical repeated-measures analysis",
     };
 }
 
@@ -346,6 +370,18 @@ public static class TestName
     /// <summary>Relative efficiency of blocking.</summary>
     public const string BlockingEfficiency = "blocking_efficiency";
 
+    /// <summary>Mauchly's test of sphericity of a within-subject term.</summary>
+    public const string Mauchly = "mauchly";
+
+    /// <summary>F tests of the mixed-model route of a repeated-measures block (REML, Satterthwaite df).</summary>
+    public const string AnovaReml = "anova_reml";
+
+    /// <summary>Simple effects of a within-subject factor at each level of a between-subject factor.</summary>
+    public const string SimpleEffects = "simple_effects";
+
+    /// <summary>Subjects of a repeated-measures block: analysed and left out.</summary>
+    public const string Subjects = "subjects";
+
     /// <summary>Every name, with its meaning (checked against docs/manifest.md by the tests).</summary>
     public static IReadOnlyDictionary<string, string> All { get; } = new Dictionary<string, string>(StringComparer.Ordinal)
     {
@@ -378,5 +414,9 @@ public static class TestName
         [VarianceComponents] = "variance components of the random terms",
         [Icc] = "intraclass correlation",
         [BlockingEfficiency] = "relative efficiency of blocking",
+        [Mauchly] = "Mauchly's test of sphericity",
+        [AnovaReml] = "mixed-model (REML) F tests of a repeated-measures block",
+        [SimpleEffects] = "simple effects of a within-subject factor",
+        [Subjects] = "subjects analysed and left out",
     };
 }

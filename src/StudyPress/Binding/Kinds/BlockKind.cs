@@ -39,6 +39,25 @@ public abstract class BlockKind
     /// </summary>
     public virtual bool NeedsRows => true;
 
+    /// <summary>
+    /// Factors the kind names in its own keys (not in <c>factors</c>), which the data stage must
+    /// load besides the block's factors.
+    /// </summary>
+    public virtual IEnumerable<FactorSpec> FactorsRead(object? options) => [];
+
+    /// <summary>Whether the kind names its factors in its own keys, so that a block without <c>factors</c> takes no default ones.</summary>
+    public virtual bool NamesOwnFactors => false;
+
+    /// <summary>
+    /// Numeric columns the kind reads besides the response (with where each is named), and whether
+    /// the block's response is a column to load (false when it only names the quantity measured,
+    /// as for wide repeated-measures data whose measurements are in several columns).
+    /// </summary>
+    public virtual IEnumerable<(string Column, SourceLocation At)> NumericRead(object? options) => [];
+
+    /// <summary>Whether the block's <c>response</c> names a column to load.</summary>
+    public virtual bool LoadsResponse(object? options) => true;
+
     /// <summary>Binds the kind's own keys; report mistakes to the bag.</summary>
     public abstract object? BindOptions(KeyReader keys, BindContext context, DiagnosticBag diagnostics);
 

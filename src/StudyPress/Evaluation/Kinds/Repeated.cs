@@ -1,0 +1,675 @@
+using System.Runtime.CompilerServices;
+using StudyPress.Binding;
+using StudyPress.Binding.Kinds;
+using StudyPress.Charts;
+using StudyPress.Diagnostics;
+using StudyPress.Statistics;
+using StudyPress.Statistics.Designs;
+using StudyPress.Statistics.PostHoc;
+using StudyPress.Statistics.Repeated;
+
+namespace StudyPress.Evaluation.Kinds;
+
+/// <summary>One row of the classical repeated-measures table with its manifest values.</summary>
+/// <param name="Values">ss, df, ms; for effects f, df_den, p, partial_eta2, generalized_eta2 and, within, epsilon_gg, epsilon_hf, p_gg, p_hf.</param>
+public sealed record RepeatedRowValues(string Term, bool IsEffect, bool IsWithin, string Stratum, string? ErrorTerm, IReadOnlyDictionary<string, ResultValue> Values);
+
+/// <summary>
+/// Which test of a within-subject term is read: the rule's decision (<see cref="Rule"/>, for
+/// <c>correction: auto</c>) or the correction the block asked for (<see cref="Rule"/> null).
+/// </summary>
+public sealed record SphericityReading(string Term, int Levels, SphericityCorrection Correction, SphericityDecision? Rule);
+
+/// <summary>Mauchly's test of one within term (more than two levels): w, chi2, df, p.</summary>
+public sealed record MauchlyValues(string Term, IReadOnlyDictionary<string, ResultValue> Values);
+
+/// <summary>One effect of the mixed-model route: df, f, df_den, p; <paramref name="Agrees"/> says whether the classical route gives the same test.</summary>
+public sealed record MixedRowValues(string Term, IReadOnlyDictionary<string, ResultValue> Values, bool? Agrees);
+
+/// <summary>A paired comparison: diff, se, statistic, p, p_adj, ci_low, ci_high (simultaneous, Bonferroni level).</summary>
+public sealed record RepeatedPairValues(string A, string B, IReadOnlyDictionary<string, ResultValue> Values);
+
+/// <summary>The simple effect of a within factor at one level of a between factor (null values with the reason when it cannot be analysed).</summary>
+public sealed record SimpleEffectValues(string Within, string Between, string Level, int Subjects, IReadOnlyDictionary<string, ResultValue>? Values, SphericityReading? Reading, string? NotAnalysed);
+
+/// <summary>Why the mixed-model route was fitted.</summary>
+public enum MixedRouteReason
+{
+    /// <summary>Not fitted.</summary>
+    None,
+
+    /// <summary><c>fit: reml</c>.</summary>
+    Asked,
+
+    /// <summary><c>fit: auto</c> and the classical route dropped incomplete subjects.</summary>
+    SubjectsDropped,
+
+    /// <summary><c>fit: auto</c> and the classical route could not be fitted at all.</summary>
+    ClassicalImpossible,
+}
+
+/// <summary>What a <c>repeated</c> block computed: manifest values and the facts its text needs.</summary>
+public sealed class RepeatedOutcome(BoundBlock block) : BlockOutcome(block)
+{
+    public string SubjectLabel { get; init; } = string.Empty;
+
+    /// <summary>Within factors (name, display label), in the block's order.</summary>
+    public IReadOnlyList<(string Name, string Label)> Within { get; init; } = [];
+
+    /// <summary>Between factors (name, display label), in the block's order.</summary>
+    public IReadOnlyList<(string Name, string Label)> Between { get; init; } = [];
+
+    /// <summary>The requested correction (auto, gg, hf, none).</summary>
+    public string CorrectionAsked { get; init; } = "auto";
+
+    /// <summary>The classical table (null when that route was not fitted).</summary>
+    public IReadOnlyList<RepeatedRowValues>? Rows { get; init; }
+
+    /// <summary>The classical total row: ss, df.</summary>
+    public IReadOnlyDictionary<string, ResultValue>? Total { get; init; }
+
+    public IReadOnlyList<MauchlyValues> Mauchly { get; init; } = [];
+
+    /// <summary>The test read for each within term (in the table's order).</summary>
+    public IReadOnlyList<SphericityReading> Readings { get; init; } = [];
+
+    /// <summary>subjects: n (analysed by the classical route), subjects_dropped.</summary>
+    public IReadOnlyDictionary<string, ResultValue>? Subjects { get; init; }
+
+    /// <summary>Subjects the classical route left out, with the cells they miss.</summary>
+    public IReadOnlyList<DroppedSubject> Dropped { get; init; } = [];
+
+    /// <summary>Subject × cell combinations measured more than once (their mean was analysed).</summary>
+    public int ReplicatedCells { get; init; }
+
+    /// <summary>Rows left out because the response or a factor was missing.</summary>
+    public int DroppedMissing { get; init; }
+
+    public MixedRouteReason MixedReason { get; init; }
+
+    /// <summary>The mixed route's tests (null when not fitted).</summary>
+    public IReadOnlyList<MixedRowValues>? Mixed { get; init; }
+
+    /// <summary>anova_reml: n (subjects kept), n_total (measurements used).</summary>
+    public IReadOnlyDictionary<string, ResultValue>? MixedCounts { get; init; }
+
+    /// <summary>Incomplete subjects the mixed route kept.</summary>
+    public int MixedKeptIncomplete { get; init; }
+
+    /// <summary>True when a REML variance estimate is on the boundary (zero).</summary>
+    public bool MixedSingular { get; init; }
+
+    /// <summary>The mixed route could not be fitted in <c>fit: auto</c> (the reason), or null.</summary>
+    public string? MixedNotFitted { get; init; }
+
+    /// <summary>The within factor compared (label) and its comparisons; null when none asked.</summary>
+    public string? CompareLabel { get; init; }
+
+    public string PairTest { get; init; } = TestName.Holm;
+
+    public IReadOnlyList<RepeatedPairValues> Pairs { get; init; } = [];
+
+    /// <summary>Simple effects, when computed; <see cref="SimpleAsked"/> says whether asked for (else: interaction significant).</summary>
+    public IReadOnlyList<SimpleEffectValues> Simple { get; init; } = [];
+
+    public bool SimpleAsked { get; init; }
+
+    /// <summary>Number of levels per within factor (block order).</summary>
+    public IReadOnlyList<int> WithinLevelCounts { get; init; } = [];
+}
+
+/// <summary>Evaluates <c>repeated</c> blocks: classical route, mixed-model route, comparisons, simple effects, figures.</summary>
+public sealed class RepeatedEvaluator : KindEvaluator
+{
+    /// <summary>Registers this part of the kind (see DEVELOPERS.md, "Adding an analysis kind").</summary>
+    [ModuleInitializer]
+    internal static void Register() => KindEvaluators.Register(new RepeatedEvaluator());
+
+    public override string Kind => "repeated";
+
+    public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
+    {
+        var o = (RepeatedKind.Options)block.Options!;
+        var all = o.Factors.ToList();
+        var kw = o.Within.Count;
+        var kb = o.Between.Count;
+        BlockData? data;
+        string[] Labels(BlockFactor f) => [.. f.Codes.Select(c => f.Levels[c])];
+        double[] values;
+        string[] subjectCol;
+        List<IReadOnlyList<string>> withinCols;
+        List<IReadOnlyList<string>> betweenCols;
+        int droppedMissing;
+        if (o.Wide is { } wide)
+        {
+            // Wide data: one row per subject, one column per level of the within factor; each
+            // present cell is a measurement, an empty cell a missing one.
+            data = context.Select(NoResponse(block, all), diagnostics, requireResponse: false);
+            if (data is null)
+            {
+                return new BlockOutcome(block);
+            }
+
+            var columns = wide.Select(w => data.Dataset.Numeric[w.Column]).ToArray();
+            var v = new List<double>();
+            var subj = new List<string>();
+            var lev = new List<string>();
+            var btw = Enumerable.Range(0, kb).Select(_ => new List<string>()).ToList();
+            droppedMissing = data.DroppedMissing;
+            for (var i = 0; i < data.Rows.Length; i++)
+            {
+                var r = data.Rows[i];
+                for (var j = 0; j < columns.Length; j++)
+                {
+                    if (columns[j].IsMissing(r))
+                    {
+                        droppedMissing++;
+                        continue;
+                    }
+
+                    v.Add(columns[j].Values[r]);
+                    subj.Add(data.Factors[0].Levels[data.Factors[0].Codes[i]]);
+                    lev.Add(wide[j].Level);
+                    for (var b = 0; b < kb; b++)
+                    {
+                        btw[b].Add(data.Factors[1 + b].Levels[data.Factors[1 + b].Codes[i]]);
+                    }
+                }
+            }
+
+            values = [.. v];
+            subjectCol = [.. subj];
+            withinCols = [lev];
+            betweenCols = [.. btw.Select(c => (IReadOnlyList<string>)c)];
+        }
+        else
+        {
+            data = context.Select(block.WithFactors(all, block.Location), diagnostics);
+            if (data is null)
+            {
+                return new BlockOutcome(block);
+            }
+
+            values = data.Values;
+            subjectCol = Labels(data.Factors[0]);
+            withinCols = [.. Enumerable.Range(1, kw).Select(i => (IReadOnlyList<string>)Labels(data.Factors[i]))];
+            betweenCols = [.. Enumerable.Range(1 + kw, kb).Select(i => (IReadOnlyList<string>)Labels(data.Factors[i]))];
+            droppedMissing = data.DroppedMissing;
+        }
+        var design = new RepeatedMeasuresDesign(
+            o.Subject.Spec.Name,
+            [.. o.Within.Select(w => w.Spec.Name)],
+            [.. o.Between.Select(b => b.Spec.Name)],
+            o.LabelsPerGroup ? SubjectLabels.NumberedWithinGroups : SubjectLabels.UniqueAcrossGroups);
+        var rm = new RepeatedMeasuresData(values, subjectCol, withinCols, betweenCols);
+
+        // A within factor that no subject is measured under twice is a between factor declared as within.
+        for (var f = 0; f < kw && o.Wide is null; f++)
+        {
+            if (data.Factors[1 + f].Levels.Count > 1 && !VariesWithinSomeSubject(data.Factors[0].Codes, data.Factors[1 + f].Codes, betweenCols, o.LabelsPerGroup))
+            {
+                diagnostics.RepeatedWithinDoesNotVary(o.Within[f].Location, o.Within[f].Spec.Name, o.Subject.Spec.Name);
+                return new BlockOutcome(block);
+            }
+        }
+
+        var completeness = RepeatedMeasuresAnova.Completeness(design, rm, out var layoutIssue);
+        if (layoutIssue is not null || completeness is null)
+        {
+            Report(layoutIssue!, o, block, diagnostics);
+            return new BlockOutcome(block);
+        }
+
+        var alpha = context.Header.Alpha;
+        var classicalIssue = o.Fit == "reml" ? null : RepeatedMeasuresAnova.Check(design, rm);
+        var (complete, dropped) = completeness.Value;
+        var reason = MixedRouteReason.None;
+        if (o.Fit == "reml")
+        {
+            reason = MixedRouteReason.Asked;
+        }
+        else if (classicalIssue is not null)
+        {
+            if (o.Fit == "auto" && dropped.Count > 0 && RepeatedMeasuresMixedModel.Check(design, rm) is null)
+            {
+                reason = MixedRouteReason.ClassicalImpossible;
+            }
+            else if (dropped.Count > 0 && classicalIssue.Kind is DesignIssueKind.TooFewObservations or DesignIssueKind.MissingCombination)
+            {
+                diagnostics.RepeatedTooFewComplete(o.Subject.Location, o.Subject.Spec.Name, complete.Count, dropped.Count, classicalIssue.Message);
+                return new BlockOutcome(block);
+            }
+            else
+            {
+                Report(classicalIssue, o, block, diagnostics);
+                return new BlockOutcome(block);
+            }
+        }
+        else if (o.Fit == "auto" && dropped.Count > 0)
+        {
+            reason = MixedRouteReason.SubjectsDropped;
+        }
+
+        var mixedTooLarge = reason != MixedRouteReason.None ? MixedTooLarge(subjectCol, withinCols, values.Length, betweenCols) : null;
+        if (reason is MixedRouteReason.Asked or MixedRouteReason.ClassicalImpossible && mixedTooLarge is not null)
+        {
+            diagnostics.RepeatedMixedModelProblem(o.FitLocation, mixedTooLarge);
+            return new BlockOutcome(block);
+        }
+
+        if (reason == MixedRouteReason.Asked && RepeatedMeasuresMixedModel.Check(design, rm) is { } mixedIssue)
+        {
+            diagnostics.RepeatedMixedModelProblem(o.FitLocation, mixedIssue.Message);
+            return new BlockOutcome(block);
+        }
+
+        var inputs = context.Inputs(block);
+        ResultValue Add(string test, string? term, string? level, IReadOnlyList<string>? pair, string stat, Quantity q) =>
+            context.Results.Add(block.Id, test, term, level, pair, stat, q, inputs);
+
+        RepeatedMeasuresResult? fit = null;
+        List<RepeatedRowValues>? rows = null;
+        Dictionary<string, ResultValue>? total = null;
+        var mauchly = new List<MauchlyValues>();
+        var readings = new List<SphericityReading>();
+        Dictionary<string, ResultValue>? subjects = null;
+        if (reason is not (MixedRouteReason.Asked or MixedRouteReason.ClassicalImpossible))
+        {
+            fit = RepeatedMeasuresAnova.Fit(design, rm);
+            foreach (var s in fit.Sphericity)
+            {
+                readings.Add(Reading(s, o.Correction, alpha));
+            }
+
+            rows = [];
+            foreach (var r in fit.Rows)
+            {
+                var v = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
+                void Put(string stat, Quantity q) => v[stat] = Add(TestName.Anova, r.Term, null, null, stat, q);
+                Put(Stat.Ss, Quantity.Of(r.SumOfSquares));
+                Put(Stat.Df, Quantity.Of(r.Df));
+                Put(Stat.Ms, r.MeanSquare);
+                if (r.Kind == RepeatedRowKind.Effect)
+                {
+                    Put(Stat.F, r.F);
+                    Put(Stat.DfDen, Quantity.Of(fit.Row(r.ErrorTerm!).Df));
+                    Put(Stat.P, r.P);
+                    Put(Stat.PartialEta2, r.PartialEtaSquared);
+                    Put(Stat.GeneralizedEta2, r.GeneralizedEtaSquared);
+                    if (r.GreenhouseGeisser is { } gg && r.HuynhFeldt is { } hf)
+                    {
+                        Put(Stat.EpsilonGg, gg.Epsilon);
+                        Put(Stat.EpsilonHf, hf.Epsilon);
+                        Put(Stat.PGg, gg.P);
+                        Put(Stat.PHf, hf.P);
+                    }
+                }
+
+                rows.Add(new RepeatedRowValues(r.Term, r.Kind == RepeatedRowKind.Effect, r.IsWithin, r.Stratum, r.ErrorTerm, v));
+            }
+
+            total = new Dictionary<string, ResultValue>(StringComparer.Ordinal)
+            {
+                [Stat.Ss] = Add(TestName.Anova, "total", null, null, Stat.Ss, Quantity.Of(fit.TotalSumOfSquares)),
+                [Stat.Df] = Add(TestName.Anova, "total", null, null, Stat.Df, Quantity.Of(fit.TotalDf)),
+            };
+            foreach (var s in fit.Sphericity.Where(s => s.Contrasts > 1))
+            {
+                mauchly.Add(new MauchlyValues(s.Term, new Dictionary<string, ResultValue>(StringComparer.Ordinal)
+                {
+                    [Stat.W] = Add(TestName.Mauchly, s.Term, null, null, Stat.W, s.W),
+                    [Stat.Chi2] = Add(TestName.Mauchly, s.Term, null, null, Stat.Chi2, s.ChiSquare),
+                    [Stat.Df] = Add(TestName.Mauchly, s.Term, null, null, Stat.Df, Quantity.Of(s.ChiSquareDf)),
+                    [Stat.P] = Add(TestName.Mauchly, s.Term, null, null, Stat.P, s.P),
+                }));
+            }
+        }
+
+        subjects = new Dictionary<string, ResultValue>(StringComparer.Ordinal)
+        {
+            [Stat.N] = Add(TestName.Subjects, null, null, null, Stat.N, Quantity.Of(complete.Count)),
+            [Stat.SubjectsDropped] = Add(TestName.Subjects, null, null, null, Stat.SubjectsDropped, Quantity.Of(dropped.Count)),
+        };
+
+        // Mixed-model route.
+        List<MixedRowValues>? mixed = null;
+        Dictionary<string, ResultValue>? mixedCounts = null;
+        var keptIncomplete = 0;
+        var singular = false;
+        string? mixedNotFitted = null;
+        if (reason != MixedRouteReason.None)
+        {
+            if (mixedTooLarge is not null)
+            {
+                mixedNotFitted = mixedTooLarge;
+            }
+            else if (RepeatedMeasuresMixedModel.Check(design, rm) is { } issue)
+            {
+                mixedNotFitted = issue.Message;
+            }
+            else
+            {
+                var m = RepeatedMeasuresMixedModel.Fit(design, rm);
+                var agree = fit is null ? null : RepeatedMeasuresMixedModel.Compare(fit, m.Reml).ToDictionary(c => c.Term, c => c.Agree, StringComparer.Ordinal);
+                mixed = [];
+                foreach (var t in m.Reml.Tests)
+                {
+                    var v = new Dictionary<string, ResultValue>(StringComparer.Ordinal)
+                    {
+                        [Stat.Df] = Add(TestName.AnovaReml, t.Term, null, null, Stat.Df, Quantity.Of(t.NumeratorDf)),
+                        [Stat.F] = Add(TestName.AnovaReml, t.Term, null, null, Stat.F, t.F),
+                        [Stat.DfDen] = Add(TestName.AnovaReml, t.Term, null, null, Stat.DfDen, t.DfDenominator),
+                        [Stat.P] = Add(TestName.AnovaReml, t.Term, null, null, Stat.P, t.P),
+                    };
+                    mixed.Add(new MixedRowValues(t.Term, v, agree is not null && agree.TryGetValue(t.Term, out var a) ? a : null));
+                }
+
+                mixedCounts = new Dictionary<string, ResultValue>(StringComparer.Ordinal)
+                {
+                    [Stat.N] = Add(TestName.AnovaReml, null, null, null, Stat.N, Quantity.Of(m.Design.Subjects)),
+                    [Stat.NTotal] = Add(TestName.AnovaReml, null, null, null, Stat.NTotal, Quantity.Of(m.Design.Measurements)),
+                };
+                keptIncomplete = m.Design.IncompleteSubjects.Count;
+                singular = m.Reml.Singular;
+            }
+        }
+
+        // Paired comparisons of one within factor.
+        var pairs = new List<RepeatedPairValues>();
+        var pairTest = o.Adjust == "bonferroni" ? TestName.Bonferroni : TestName.Holm;
+        if (o.Compare is { } compare && fit is not null)
+        {
+            var result = RepeatedComparisons.Pairwise(fit, compare.Spec.Name, o.Adjust == "bonferroni" ? PValueAdjustmentMethod.Bonferroni : PValueAdjustmentMethod.Holm, alpha);
+            foreach (var c in result.Comparisons)
+            {
+                string[] pair = [c.LevelA, c.LevelB];
+                var term = compare.Spec.Name;
+                pairs.Add(new RepeatedPairValues(c.LevelA, c.LevelB, new Dictionary<string, ResultValue>(StringComparer.Ordinal)
+                {
+                    [Stat.Diff] = Add(pairTest, term, null, pair, Stat.Diff, Quantity.Of(c.Estimate)),
+                    [Stat.Se] = Add(pairTest, term, null, pair, Stat.Se, c.Se),
+                    [Stat.Statistic] = Add(pairTest, term, null, pair, Stat.Statistic, c.T),
+                    [Stat.Df] = Add(pairTest, term, null, pair, Stat.Df, Quantity.Of(c.Df)),
+                    [Stat.P] = Add(pairTest, term, null, pair, Stat.P, c.P),
+                    [Stat.PAdj] = Add(pairTest, term, null, pair, Stat.PAdj, c.PAdjusted),
+                    [Stat.CiLow] = Add(pairTest, term, null, pair, Stat.CiLow, c.SimultaneousCiLow),
+                    [Stat.CiHigh] = Add(pairTest, term, null, pair, Stat.CiHigh, c.SimultaneousCiHigh),
+                }));
+            }
+        }
+
+        // Simple effects of each within factor at each level of each between factor.
+        var simple = new List<SimpleEffectValues>();
+        if (fit is not null && o.Simple != "never")
+        {
+            foreach (var w in o.Within)
+            {
+                foreach (var b in o.Between)
+                {
+                    var term = b.Spec.Name + ":" + w.Spec.Name;
+                    var row = fit.Rows.FirstOrDefault(r => r.Kind == RepeatedRowKind.Effect && r.Factors.Count == 2 && r.Factors.Contains(w.Spec.Name) && r.Factors.Contains(b.Spec.Name));
+                    if (row is null)
+                    {
+                        continue;
+                    }
+
+                    var reading = readings.First(x => x.Term == row.Stratum);
+                    var p = ReadP(row, reading.Correction);
+                    if (o.Simple == "auto" && !(p.IsDefined && p.Value < alpha))
+                    {
+                        continue;
+                    }
+
+                    foreach (var se in RepeatedComparisons.SimpleEffects(fit, w.Spec.Name, b.Spec.Name))
+                    {
+                        if (se.Anova is null || se.Row is not { } sr)
+                        {
+                            simple.Add(new SimpleEffectValues(w.Spec.Name, b.Spec.Name, se.Level, se.Subjects, null, null, se.Issue?.Message ?? "not analysed"));
+                            continue;
+                        }
+
+                        var sReading = Reading(se.Anova.SphericityOf(sr.Stratum), o.Correction, alpha);
+                        var level = b.Spec.Name + " " + se.Level;
+                        var v = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
+                        void Put(string stat, Quantity q) => v[stat] = Add(TestName.SimpleEffects, w.Spec.Name, level, null, stat, q);
+                        Put(Stat.Df, Quantity.Of(sr.Df));
+                        Put(Stat.F, sr.F);
+                        Put(Stat.DfDen, Quantity.Of(se.Anova.Row(sr.ErrorTerm!).Df));
+                        Put(Stat.P, sr.P);
+                        if (sr.GreenhouseGeisser is { } gg && sr.HuynhFeldt is { } hf)
+                        {
+                            Put(Stat.EpsilonGg, gg.Epsilon);
+                            Put(Stat.EpsilonHf, hf.Epsilon);
+                            Put(Stat.PGg, gg.P);
+                            Put(Stat.PHf, hf.P);
+                        }
+
+                        Put(Stat.GeneralizedEta2, sr.GeneralizedEtaSquared);
+                        simple.Add(new SimpleEffectValues(w.Spec.Name, b.Spec.Name, se.Level, se.Subjects, v, sReading, null));
+                    }
+                }
+            }
+        }
+
+        var outcome = new RepeatedOutcome(block)
+        {
+            SubjectLabel = o.Subject.Spec.Display,
+            Within = [.. o.Within.Select(w => (w.Spec.Name, w.Spec.Display))],
+            Between = [.. o.Between.Select(b => (b.Spec.Name, b.Spec.Display))],
+            CorrectionAsked = o.Correction,
+            Rows = rows,
+            Total = total,
+            Mauchly = mauchly,
+            Readings = readings,
+            Subjects = subjects,
+            Dropped = dropped,
+            ReplicatedCells = fit?.ReplicatedCells ?? 0,
+            DroppedMissing = droppedMissing,
+            MixedReason = reason,
+            Mixed = mixed,
+            MixedCounts = mixedCounts,
+            MixedKeptIncomplete = keptIncomplete,
+            MixedSingular = singular,
+            MixedNotFitted = mixedNotFitted,
+            CompareLabel = o.Compare?.Spec.Display,
+            PairTest = pairTest,
+            Pairs = pairs,
+            Simple = simple,
+            SimpleAsked = o.Simple == "always",
+            WithinLevelCounts = [.. withinCols.Select(c => c.Distinct(StringComparer.Ordinal).Count())],
+        };
+        if (fit is not null && context.Header.Report.Figures)
+        {
+            AddFigures(outcome, fit, block.Response ?? data.ResponseName, o);
+        }
+
+        return outcome;
+    }
+
+    /// <summary>Subjects drawn as thin lines in the profile figure (the mean profile uses all).</summary>
+    public const int MaxProfilesDrawn = 200;
+
+    /// <summary>Numbers the mixed model's dense working matrix may hold (2^22, 32 MiB; its fit then peaks near 360 MB and a minute: 1000 subjects × 3 cells, measured); larger fits are refused.</summary>
+    public const long MaxMixedModelCells = 1L << 22;
+
+    /// <summary>
+    /// Why the mixed model is too large to fit here, or null. The REML fit factors a dense
+    /// (n + q) × (q + p + 1) matrix: n measurements, q random-effect levels (subjects times every
+    /// proper subset of the within factors: Σ Π k = Π (k + 1) − Π k per subject), p fixed effects
+    /// (at most groups × cells).
+    /// </summary>
+    private static string? MixedTooLarge(IReadOnlyList<string> subject, IReadOnlyList<IReadOnlyList<string>> within, int measurements, IReadOnlyList<IReadOnlyList<string>> between)
+    {
+        long subjects = subject.Distinct(StringComparer.Ordinal).Count();
+        long all = 1, cells = 1;
+        foreach (var col in within)
+        {
+            long k = col.Distinct(StringComparer.Ordinal).Count();
+            all *= k + 1;
+            cells *= k;
+        }
+
+        long groups = 1;
+        foreach (var col in between)
+        {
+            groups *= col.Distinct(StringComparer.Ordinal).Count();
+        }
+
+        var q = subjects * (all - cells);
+        var p = groups * cells;
+        var size = (measurements + q) * (q + p + 1);
+        return size <= MaxMixedModelCells
+            ? null
+            : string.Create(System.Globalization.CultureInfo.InvariantCulture, $"{measurements} measurements of {subjects} subjects need a working matrix of {size} numbers, more than the {MaxMixedModelCells} this version fits in memory");
+    }
+
+    /// <summary>The block over its subject and between factors, without a response column (wide data).</summary>
+    private static BoundBlock NoResponse(BoundBlock block, IReadOnlyList<Binding.FactorSpec> factors) => new()
+    {
+        Id = block.Id,
+        Kind = block.Kind,
+        Syntax = block.Syntax,
+        Data = block.Data,
+        Response = null,
+        ResponseLocation = block.ResponseLocation,
+        Factors = factors,
+        FactorsLocation = block.Location,
+        Where = block.Where,
+        Caption = block.Caption,
+        Options = block.Options,
+    };
+
+    /// <summary>The p-value a reading selects for a within row.</summary>
+    public static Quantity ReadP(RepeatedRow row, SphericityCorrection c) => c switch
+    {
+        SphericityCorrection.GreenhouseGeisser when row.GreenhouseGeisser is not null => row.GreenhouseGeisser.P,
+        SphericityCorrection.HuynhFeldt when row.HuynhFeldt is not null => row.HuynhFeldt.P,
+        _ => row.P,
+    };
+
+    private static SphericityReading Reading(SphericityTest s, string asked, double alpha)
+    {
+        var levels = s.Contrasts + 1;
+        if (asked == "auto")
+        {
+            var rule = SphericityDecision.For(s, alpha);
+            return new SphericityReading(s.Term, levels, rule.Correction, rule);
+        }
+
+        // A term with one contrast needs no correction whatever was asked: its epsilons are 1.
+        var c = s.Contrasts == 1 ? SphericityCorrection.None : asked switch
+        {
+            "gg" => SphericityCorrection.GreenhouseGeisser,
+            "hf" => SphericityCorrection.HuynhFeldt,
+            _ => SphericityCorrection.None,
+        };
+        return new SphericityReading(s.Term, levels, c, null);
+    }
+
+    private static bool VariesWithinSomeSubject(int[] subject, int[] within, IReadOnlyList<IReadOnlyList<string>> between, bool perGroup)
+    {
+        var first = new Dictionary<string, int>(StringComparer.Ordinal);
+        for (var i = 0; i < subject.Length; i++)
+        {
+            var key = subject[i].ToString(System.Globalization.CultureInfo.InvariantCulture);
+            if (perGroup)
+            {
+                foreach (var col in between)
+                {
+                    key += "\u001f" + col[i];
+                }
+            }
+
+            if (!first.TryAdd(key, within[i]) && first[key] != within[i])
+            {
+                return true;
+            }
+        }
+
+        return false;
+    }
+
+    private static void Report(DesignIssue issue, RepeatedKind.Options o, BoundBlock block, DiagnosticBag diagnostics)
+    {
+        if (issue.Kind == DesignIssueKind.ContradictoryNesting)
+        {
+            // The subject sits under two levels of a between factor: point at that factor's entry.
+            var between = issue.Factors.FirstOrDefault(f => o.Between.Any(b => b.Spec.Name == f)) ?? o.Subject.Spec.Name;
+            diagnostics.RepeatedSubjectInTwoGroups(o.Where(between, block.Location), issue.Message);
+            return;
+        }
+
+        var at = issue.Factors.Count > 0 ? o.Where(issue.Factors[0], block.Location) : block.Location;
+        diagnostics.RepeatedDesignProblem(at, issue.Message);
+    }
+
+    private static void AddFigures(RepeatedOutcome outcome, RepeatedMeasuresResult fit, string response, RepeatedKind.Options o)
+    {
+        // Subject profiles along the first within factor (each subject's mean over the other within factors).
+        var f0 = 0;
+        var levels = fit.WithinLevels[f0];
+        var profiles = new List<SubjectProfile>();
+        for (var s = 0; s < fit.Subjects.Count; s++)
+        {
+            var means = new double[levels.Count];
+            var counts = new int[levels.Count];
+            for (var c = 0; c < fit.Cells; c++)
+            {
+                var l = fit.LevelOf(c, f0);
+                means[l] += fit.CellMeans[s][c];
+                counts[l]++;
+            }
+
+            var group = fit.Design.Between.Count > 0 ? fit.BetweenLevels[0][fit.SubjectBetween[s][0]] : string.Empty;
+            profiles.Add(new SubjectProfile(fit.Subjects[s], group, [.. means.Select((m, i) => m / counts[i])]));
+        }
+
+        var wLabel = o.Within[f0].Spec.Display;
+        var bLabel = o.Between.Count > 0 ? o.Between[0].Spec.Display : string.Empty;
+        var n = profiles.Count;
+        var tCrit = n > 1 ? Probability.TCritical(0.05, n - 1) : double.NaN;
+        var mean = new List<ProfilePoint>();
+        for (var l = 0; l < levels.Count; l++)
+        {
+            var values = profiles.Select(p => p.Values[l]).ToArray();
+            var m = values.Average();
+            var half = n > 1 ? tCrit * Math.Sqrt(values.Sum(v => (v - m) * (v - m)) / (n - 1) / n) : 0;
+            mean.Add(new ProfilePoint(m, m - half, m + half));
+        }
+
+        // At most MaxProfilesDrawn thin lines (the first subjects in file order): beyond that the lines
+        // hide each other and only weigh down the report; the mean profile uses every subject.
+        var drawn = profiles.Count > MaxProfilesDrawn ? profiles.Take(MaxProfilesDrawn).ToList() : profiles;
+        var chart = StatCharts.SubjectProfiles(
+            levels,
+            drawn,
+            bLabel,
+            mean,
+            "95%",
+            new ChartLabels($"{response} of each {o.Subject.Spec.Display} by {wLabel}", wLabel, response));
+        var which = drawn.Count < profiles.Count
+            ? string.Create(System.Globalization.CultureInfo.InvariantCulture, $"Each thin line is one {o.Subject.Spec.Display} (the first {drawn.Count} of {profiles.Count} complete subjects, in file order); ")
+            : $"Each thin line is one {o.Subject.Spec.Display} (complete subjects only); ";
+        outcome.Figures.Add(new Figure("profiles", which + $"the thick line is the mean at each level of {wLabel} with its 95% interval (t interval over subjects; it does not show the within-subject comparison).", chart));
+
+        if (fit.Design.Between.Count > 0)
+        {
+            var between = fit.BetweenLevels[0];
+            var cells = new List<CellMean>();
+            for (var l = 0; l < levels.Count; l++)
+            {
+                for (var g = 0; g < between.Count; g++)
+                {
+                    var ps = profiles.Where(p => p.Group == between[g]).Select(p => p.Values[l]).ToList();
+                    if (ps.Count > 0)
+                    {
+                        cells.Add(new CellMean(levels[l], between[g], ps.Average()));
+                    }
+                }
+            }
+
+            var ichart = StatCharts.InteractionPlot(levels, between, cells, bLabel, new ChartLabels($"Mean {response} by {wLabel} and {bLabel}", wLabel, response));
+            outcome.Figures.Add(new Figure("interaction", $"Means of the complete subjects; lines that are not parallel suggest an interaction (compare with the F test of {bLabel} × {wLabel}).", ichart));
+        }
+    }
+}

@@ -1,0 +1,298 @@
+using System.Globalization;
+using System.Runtime.CompilerServices;
+using StudyPress.Charts;
+using StudyPress.Evaluation;
+using StudyPress.Evaluation.Kinds;
+using StudyPress.Statistics.Repeated;
+
+namespace StudyPress.Rendering.Kinds;
+
+/// <summary>
+/// Writes the HTML of <c>repeated</c> blocks: the table by strata with the sphericity corrections,
+/// Mauchly's tests, which correction is read and why, subjects left out, the mixed-model route,
+/// paired comparisons and simple effects; method and reading; methods sentences.
+/// </summary>
+public sealed class RepeatedRenderer : KindRenderer
+{
+    /// <summary>Registers this part of the kind (see DEVELOPERS.md, "Adding an analysis kind").</summary>
+    [ModuleInitializer]
+    internal static void Register() => KindRenderers.Register(new RepeatedRenderer());
+
+    public override string Kind => "repeated";
+
+    /// <summary>The correction's name as the report prints it.</summary>
+    public static string CorrectionName(SphericityCorrection c) => c switch
+    {
+        SphericityCorrection.GreenhouseGeisser => "Greenhouse–Geisser",
+        SphericityCorrection.HuynhFeldt => "Huynh–Feldt",
+        _ => "uncorrected",
+    };
+
+    /// <summary>Why a correction is read, in words (the typed decision worded here).</summary>
+    public static string Why(SphericityReading r, string alphaText)
+    {
+        if (r.Rule is not { } rule)
+        {
+            return r.Levels == 2
+                ? "two levels: one contrast, so sphericity holds and no correction applies"
+                : $"{CorrectionName(r.Correction)} as the block asks ('correction')";
+        }
+
+        var mauchly = rule.MauchlyP.IsDefined ? "Mauchly's p " + (rule.MauchlyP.Value < 0.001 ? "< 0.001" : "= " + rule.MauchlyP.Value.ToString("0.000", CultureInfo.InvariantCulture)) : "Mauchly's test not defined (fewer subjects than contrasts)";
+        var gg = rule.EpsilonGreenhouseGeisser.IsDefined ? rule.EpsilonGreenhouseGeisser.Value.ToString("0.###", CultureInfo.InvariantCulture) : "not defined";
+        return rule.Basis switch
+        {
+            SphericityBasis.TwoLevels => "two levels: one contrast, so sphericity holds and no correction applies",
+            SphericityBasis.MauchlyNotSignificant => $"{mauchly}, not below α = {alphaText}: sphericity is not rejected, so the uncorrected test is read",
+            SphericityBasis.EpsilonBelowThreshold => $"{mauchly}; Greenhouse–Geisser ε = {gg} is below {SphericityDecision.GirdenThreshold.ToString("0.00", CultureInfo.InvariantCulture)}, so the Greenhouse–Geisser correction is read (Huynh–Feldt is liberal when sphericity is strongly violated)",
+            SphericityBasis.EpsilonAtOrAboveThreshold => $"{mauchly}; Greenhouse–Geisser ε = {gg} is at or above {SphericityDecision.GirdenThreshold.ToString("0.00", CultureInfo.InvariantCulture)}, so the Huynh–Feldt correction is read (Greenhouse–Geisser is conservative when the violation is mild)",
+            SphericityBasis.HuynhFeldtNotDefined => $"{mauchly}; the rule points to Huynh–Feldt, whose estimate is not defined with so few subjects, so Greenhouse–Geisser is read",
+            _ => "the epsilons are not defined (no within-subject error), so nothing can be corrected",
+        };
+    }
+
+    private static string Term(string term) => term.Replace(":", " × ", StringComparison.Ordinal);
+
+    public override IEnumerable<string> Methods(MethodsPart part, MethodsSection? section, BlockOutcome outcome, MethodsWriter w)
+    {
+        if (part != MethodsPart.Results || !w.Has("effects") || outcome is not RepeatedOutcome o)
+        {
+            yield break;
+        }
+
+        var within = MethodsWriter.List(o.Within.Select(x => MethodsWriter.E(x.Label)));
+        var between = o.Between.Count == 0 ? string.Empty : " and " + MethodsWriter.List(o.Between.Select(x => MethodsWriter.E(x.Label))) + " between subjects";
+        var n = o.Subjects![Stat.N];
+        var dropped = o.Subjects[Stat.SubjectsDropped];
+        var design = $"a repeated-measures analysis of variance with {within} within subjects{between} ({MethodsWriter.E(o.SubjectLabel)}, {MethodsWriter.Df(n)} complete subjects analysed"
+            + (o.Dropped.Count > 0 ? $", {MethodsWriter.Df(dropped)} incomplete left out" : string.Empty) + ")";
+        if (o.Rows is not null)
+        {
+            yield return w.Did(design, false, "run", "ran", "run", ".");
+            var corrected = o.Readings.Where(r => r.Levels > 2).ToList();
+            if (corrected.Count > 0)
+            {
+                var rule = o.CorrectionAsked == "auto"
+                    ? $"Sphericity {w.T("was", "is")} checked with Mauchly's test for each within-subject term with more than two levels; where it {w.T("was", "is")} rejected at α = {w.AlphaText}, the Greenhouse–Geisser correction {w.T("was", "is")} read when its ε {w.T("was", "is")} below 0.75 and the Huynh–Feldt correction otherwise"
+                    : $"The {CorrectionName(corrected[0].Correction)} correction {w.T("was", "is")} read for every within-subject term with more than two levels, as asked";
+                var read = string.Join("; ", corrected.Select(r => $"{MethodsWriter.E(Term(r.Term))}: {CorrectionName(r.Correction)}"));
+                yield return $"{rule} ({read}).";
+            }
+        }
+        else
+        {
+            yield return w.Did($"a repeated-measures analysis with {within} within subjects{between}, fitted as a linear mixed model by REML with Satterthwaite df on every measurement ({MethodsWriter.Df(o.MixedCounts![Stat.N])} subjects of {MethodsWriter.E(o.SubjectLabel)})", false, "run", "ran", "run", ".");
+        }
+
+        if (o.Mixed is not null && o.Rows is not null)
+        {
+            yield return $"Because incomplete subjects were left out of the classical analysis, the mixed model (REML, Satterthwaite df) that keeps them {w.T("was", "is")} also reported.";
+        }
+    }
+
+    public override IEnumerable<string> Warnings(BlockOutcome outcome, RenderContext context)
+    {
+        if (outcome is not RepeatedOutcome o)
+        {
+            yield break;
+        }
+
+        if (o.Mixed is not null && o.Rows is not null && o.Mixed.Any(m => m.Agrees == false))
+        {
+            yield return "The classical and mixed-model routes differ for " + string.Join(", ", o.Mixed.Where(m => m.Agrees == false).Select(m => BidiText.Isolate(Term(m.Term)))) + ": read both tables; the mixed model uses every measurement of the incomplete subjects.";
+        }
+
+        if (o.MixedSingular)
+        {
+            yield return "A variance of the mixed model is estimated at zero (on the boundary), so its tests pool that stratum with its error.";
+        }
+    }
+
+    public override IEnumerable<string> Notes(BlockOutcome outcome, RenderContext context)
+    {
+        if (outcome is not RepeatedOutcome o)
+        {
+            yield break;
+        }
+
+        foreach (var d in o.Dropped.Take(10))
+        {
+            yield return $"{BidiText.Isolate(o.SubjectLabel)} {BidiText.Isolate(d.Subject)} was dropped from the classical analysis: {d.Reason}." + (o.Mixed is not null && d.Measurements > 0 ? " The mixed-model route keeps its measurements." : string.Empty);
+        }
+
+        if (o.Dropped.Count > 10)
+        {
+            yield return string.Create(CultureInfo.InvariantCulture, $"… and {o.Dropped.Count - 10} more incomplete subject(s) dropped from the classical analysis.");
+        }
+
+        if (o.ReplicatedCells > 0)
+        {
+            yield return string.Create(CultureInfo.InvariantCulture, $"{o.ReplicatedCells} subject × cell combination(s) were measured more than once; their mean was analysed.");
+        }
+
+        if (o.DroppedMissing > 0)
+        {
+            yield return string.Create(CultureInfo.InvariantCulture, $"{o.DroppedMissing} row(s) with a missing value were left out.");
+        }
+
+        if (o.Rows is null && o.CompareLabel is not null)
+        {
+            yield return "No paired comparisons: too few subjects are complete for the classical route, on whose complete subjects they are made.";
+        }
+
+        if (o.MixedNotFitted is { } why)
+        {
+            yield return "The mixed-model route was not fitted: " + why + ".";
+        }
+    }
+
+    public override void Render(HtmlWriter html, BlockOutcome outcome, RenderContext context)
+    {
+        if (outcome is not RepeatedOutcome o)
+        {
+            return;
+        }
+
+        string V(ResultValue v) => HtmlWriter.ValueHtml(v, context);
+        string Opt(IReadOnlyDictionary<string, ResultValue> d, string stat) => d.TryGetValue(stat, out var v) ? V(v) : string.Empty;
+        if (o.Rows is { } rows)
+        {
+            var t = new HtmlTable(
+                "repeated",
+                o.Block.Caption ?? $"Repeated-measures analysis of variance ({o.Subjects![Stat.N].Value.Value.ToString(CultureInfo.InvariantCulture)} complete subjects)",
+                ["Source", "SS", "df", "MS", "F", "p", "ε GG", "p (GG)", "ε HF", "p (HF)", "partial η²", "generalized η²"]);
+            string? stratum = null;
+            foreach (var r in rows)
+            {
+                if (r.Stratum != stratum)
+                {
+                    stratum = r.Stratum;
+                    t.Row(r.IsWithin ? "Within subjects: " + Term(r.Stratum) : "Between subjects", [.. Enumerable.Repeat(string.Empty, 11)], "stratum");
+                }
+
+                var v = r.Values;
+                var name = r.IsEffect ? Term(r.Term) : "Error: " + Term(r.Term);
+                t.Row(name, [V(v[Stat.Ss]), V(v[Stat.Df]), V(v[Stat.Ms]), Opt(v, Stat.F), Opt(v, Stat.P), Opt(v, Stat.EpsilonGg), Opt(v, Stat.PGg), Opt(v, Stat.EpsilonHf), Opt(v, Stat.PHf), Opt(v, Stat.PartialEta2), Opt(v, Stat.GeneralizedEta2)], r.IsEffect ? null : "error");
+            }
+
+            t.Row("Total", [V(o.Total![Stat.Ss]), V(o.Total[Stat.Df]), .. Enumerable.Repeat(string.Empty, 9)]);
+            t.WriteTo(html);
+
+            if (o.Mauchly.Count > 0)
+            {
+                var m = new HtmlTable("mauchly", "Mauchly's test of sphericity", ["Within term", "W", "χ²", "df", "p"]);
+                foreach (var s in o.Mauchly)
+                {
+                    m.Row(Term(s.Term), [V(s.Values[Stat.W]), V(s.Values[Stat.Chi2]), V(s.Values[Stat.Df]), V(s.Values[Stat.P])]);
+                }
+
+                m.WriteTo(html);
+            }
+
+            html.Raw("<ul class=\"decisions\">");
+            foreach (var r in o.Readings)
+            {
+                html.Raw("<li>").Text($"{Term(r.Term)}: {CorrectionName(r.Correction)} test read — {Why(r, context.AlphaText)}.").Raw("</li>");
+            }
+
+            html.Raw("</ul>");
+        }
+
+        if (o.Mixed is { } mixed)
+        {
+            var counts = o.MixedCounts!;
+            var caption = string.Create(CultureInfo.InvariantCulture, $"Mixed-model route (REML, Satterthwaite df): {counts[Stat.N].Value.Value} subjects, {counts[Stat.NTotal].Value.Value} measurements");
+            var m = new HtmlTable("repeated-reml", caption, o.Rows is null ? ["Effect", "df", "F", "df (denominator)", "p"] : ["Effect", "df", "F", "df (denominator)", "p", "same as classical"]);
+            foreach (var r in mixed)
+            {
+                var cells = new List<string> { V(r.Values[Stat.Df]), V(r.Values[Stat.F]), V(r.Values[Stat.DfDen]), V(r.Values[Stat.P]) };
+                if (o.Rows is not null)
+                {
+                    cells.Add(r.Agrees switch { true => "yes", false => "no", _ => string.Empty });
+                }
+
+                m.Row(Term(r.Term), cells);
+            }
+
+            m.WriteTo(html);
+            if (o.MixedKeptIncomplete > 0)
+            {
+                html.Raw("<p class=\"note\">").Text(string.Create(CultureInfo.InvariantCulture, $"The mixed model keeps the {o.MixedKeptIncomplete} incomplete subject(s) that the classical analysis dropped.")).Raw("</p>");
+            }
+        }
+
+        if (o.Pairs.Count > 0)
+        {
+            var holm = o.PairTest == TestName.Holm;
+            var p = new HtmlTable("pairs", $"Paired comparisons of {o.CompareLabel} ({(holm ? "Holm" : "Bonferroni")}-adjusted)", ["Pair", "mean difference", "SE", "t", "df", "p", "adjusted p", "simultaneous interval"]);
+            foreach (var c in o.Pairs)
+            {
+                var v = c.Values;
+                p.Row(BidiText.Isolate(c.A) + " − " + BidiText.Isolate(c.B), [V(v[Stat.Diff]), V(v[Stat.Se]), V(v[Stat.Statistic]), V(v[Stat.Df]), V(v[Stat.P]), V(v[Stat.PAdj]), V(v[Stat.CiLow]) + " to " + V(v[Stat.CiHigh])]);
+            }
+
+            p.WriteTo(html);
+        }
+
+        if (o.Simple.Count > 0)
+        {
+            var s = new HtmlTable("simple-effects", "Simple effects (one-way repeated-measures analysis within each group, own error term)", ["Effect", "subjects", "df", "F", "df (denominator)", "p", "ε GG", "p (GG)", "ε HF", "p (HF)", "generalized η²", "read"]);
+            foreach (var e in o.Simple)
+            {
+                var head = $"{e.Within} at {e.Between} {e.Level}";
+                if (e.Values is not { } v)
+                {
+                    s.Row(head, [e.Subjects.ToString(CultureInfo.InvariantCulture), HtmlWriter.Escape("not analysed: " + e.NotAnalysed), .. Enumerable.Repeat(string.Empty, 10)]);
+                    continue;
+                }
+
+                s.Row(head, [e.Subjects.ToString(CultureInfo.InvariantCulture), V(v[Stat.Df]), V(v[Stat.F]), V(v[Stat.DfDen]), V(v[Stat.P]), Opt(v, Stat.EpsilonGg), Opt(v, Stat.PGg), Opt(v, Stat.EpsilonHf), Opt(v, Stat.PHf), V(v[Stat.GeneralizedEta2]), HtmlWriter.Escape(CorrectionName(e.Reading!.Correction))]);
+            }
+
+            s.WriteTo(html);
+        }
+
+        var method = "Each subject's measurements are averaged within each within-subject cell. Every within-subject term is tested against its own interaction with subjects (within groups), between-subject terms against subjects within groups; SS of between terms are hierarchical (type 2). "
+            + "Corrected tests multiply both df by the term's ε: Greenhouse–Geisser (Box's estimator) or Huynh–Feldt with Lecoutre's correction for several groups, each capped at 1. "
+            + "Generalized η² (Olejnik and Algina 2003) divides an effect's SS by itself plus every error SS, so it can be compared across designs; partial η² divides by the effect's own error only."
+            + (o.Mixed is null ? string.Empty : " The mixed model treats subjects (within groups) and each within term × subjects as random effects, estimated by REML, with type 3 Wald F tests on Satterthwaite df.")
+            + (o.Pairs.Count == 0 ? string.Empty : " Paired comparisons are paired t tests of the subjects' differences (they do not assume sphericity), adjusted for the family; the interval is simultaneous at the Bonferroni level.");
+        html.Raw("<p class=\"method\">").Text(method).Raw("</p>");
+        var reading = Reading(o, context);
+        if (reading.Length > 0)
+        {
+            html.Raw("<div class=\"reading\"><p>").Text(reading).Raw("</p></div>");
+        }
+    }
+
+    private static string Reading(RepeatedOutcome o, RenderContext context)
+    {
+        if (o.Rows is null)
+        {
+            return string.Empty;
+        }
+
+        var parts = new List<string>();
+        foreach (var r in o.Rows.Where(r => r.IsEffect))
+        {
+            var reading = r.IsWithin ? o.Readings.FirstOrDefault(x => x.Term == r.Stratum) : null;
+            var stat = reading?.Correction switch
+            {
+                SphericityCorrection.GreenhouseGeisser when r.Values.ContainsKey(Stat.PGg) => Stat.PGg,
+                SphericityCorrection.HuynhFeldt when r.Values.ContainsKey(Stat.PHf) => Stat.PHf,
+                _ => Stat.P,
+            };
+            var p = r.Values[stat].Value;
+            if (!p.IsDefined)
+            {
+                continue;
+            }
+
+            parts.Add(p.Value < context.Alpha
+                ? $"{Term(r.Term)} rejects the hypothesis of no effect"
+                : $"{Term(r.Term)} does not reject it (not evidence of no effect)");
+        }
+
+        return parts.Count == 0 ? string.Empty : $"At α = {context.AlphaText}, reading the test the sphericity decision names: " + string.Join("; ", parts) + ".";
+    }
+}
