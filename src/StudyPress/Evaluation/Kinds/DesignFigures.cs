@@ -45,7 +45,10 @@ internal static class DesignFigures
                 yield return new Figure(
                     "means",
                     string.Create(CultureInfo.InvariantCulture, $"Means of {BidiText.Isolate(factor.Spec.Display)} with {level} intervals on {errorName} mean square ({error.Df} df), the error its F test used; each interval is for one mean, not adjusted for comparisons."),
-                    chart);
+                    chart)
+                {
+                    Part = factor.Spec.Name,
+                };
             }
         }
 
