@@ -137,6 +137,11 @@ factors:
             Assert.Equal(Num(e, key, "error_term_df"), m.Get("main", "anova", term, "df_den"));
         }
 
+        // Partial eta squared against each term's own error (exact hand computation from the
+        // recomputed sums of squares): variety against the whole-plot error, nitrogen against the sub-plot error.
+        Relative(m.Get("main", "anova", "variety", "partial_eta2"), Num(e, "varieties", "ss") / (Num(e, "varieties", "ss") + Num(e, "whole_plot_error_B:V", "ss")), 1e-9, "variety partial eta squared");
+        Relative(m.Get("main", "anova", "nitrogen", "partial_eta2"), Num(e, "nitrogen", "ss") / (Num(e, "nitrogen", "ss") + Num(e, "sub_plot_error", "ss")), 1e-9, "nitrogen partial eta squared");
+
         // The whole-plot factor is tested against the whole-plot error, not the sub-plot error.
         var html = run.Compile().Html;
         Assert.Contains("MS(Whole-plot error)", html, StringComparison.Ordinal);

@@ -305,6 +305,27 @@ public sealed partial class AnovaEvaluator
                 Add(Stat.P, r.P);
             }
 
+            if (r.Kind == TermKind.Treatment)
+            {
+                // Partial eta squared against the term's own error: SS / (SS + SS of the error),
+                // with the noncentral-F interval on (df, error df); not defined for a quasi-F.
+                if (r.Denominator is [{ Coefficient: 1.0 } error] && !r.IsQuasiF)
+                {
+                    var errorSs = error.MeanSquare * error.Df;
+                    Add(Stat.PartialEta2, r.SumOfSquares + errorSs > 0 ? Quantity.Of(r.SumOfSquares / (r.SumOfSquares + errorSs)) : Quantity.Undefined("the term and its error have no variation"));
+                    var ci = EffectSizeIntervals.PartialEtaSquared(r.F, r.Df, error.Df, 1 - alpha);
+                    Add(Stat.PartialEta2CiLow, ci.PartialEtaSquaredLow);
+                    Add(Stat.PartialEta2CiHigh, ci.PartialEtaSquaredHigh);
+                }
+                else
+                {
+                    var why = Quantity.Undefined("the term has no single error mean square (approximate F)");
+                    Add(Stat.PartialEta2, why);
+                    Add(Stat.PartialEta2CiLow, why);
+                    Add(Stat.PartialEta2CiHigh, why);
+                }
+            }
+
             rows.Add(new DesignRow(term, r, null, values));
         }
 

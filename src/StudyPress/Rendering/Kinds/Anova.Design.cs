@@ -206,6 +206,11 @@ internal static class DesignRendering
 
         var against = row.Row is { } sr ? " against " + HtmlWriter.Escape(Against(o, sr.Denominator)) : string.Empty;
         var stat = $"F({HtmlWriter.ValueHtml(v[Stat.Df], context)}, {HtmlWriter.ValueHtml(v[Stat.DfDen], context)}) = {HtmlWriter.ValueHtml(v[Stat.F], context)}{against}, p {AnovaRenderer.PText(v[Stat.P], context)}";
+        if (v.TryGetValue(Stat.PartialEta2, out var eta) && eta.Value.IsDefined)
+        {
+            stat += $"; partial η² against the same error {HtmlWriter.ValueHtml(eta, context)}, {context.ConfidenceText}% CI {HtmlWriter.ValueHtml(v[Stat.PartialEta2CiLow], context)} to {HtmlWriter.ValueHtml(v[Stat.PartialEta2CiHigh], context)}";
+        }
+
         var interaction = (row.Row?.Factors.Count ?? row.Test!.Term.Count(c => c == ':') + 1) > 1;
         var response = HtmlWriter.Escape(o.ResponseName);
         var what = interaction
@@ -294,6 +299,11 @@ internal static class DesignRendering
 
                 var rejected = v[Stat.P].Value.Value < w.Outcome.Alpha;
                 var stat = $"F({MethodsWriter.Df(v[Stat.Df])}, {DfText(v[Stat.DfDen])}) = {MethodsWriter.S2(v[Stat.F])}, {ReportStyle.PPhrase(v[Stat.P])}";
+                if (v.TryGetValue(Stat.PartialEta2, out var eta) && eta.Value.IsDefined)
+                {
+                    stat += $", partial η² = {MethodsWriter.Fr(eta)}, {w.Confidence}% CI [{MethodsWriter.Fr(v[Stat.PartialEta2CiLow])}, {MethodsWriter.Fr(v[Stat.PartialEta2CiHigh])}]";
+                }
+
                 yield return $"For {name}, the F test {(rejected ? w.T("rejected", "rejects") : w.T("did not reject", "does not reject"))} the hypothesis of no effect, {stat}."
                     + (rejected ? string.Empty : " This is not evidence that there is no effect.");
             }
