@@ -706,8 +706,8 @@ public static class StrataAnova
         return new StrataRow(name, [.. factors.Select(i => all[i].Name)], kind, plot, random, stratum, ss, df, msT, ems, parts, quasi, denMs, denDf, f, p);
     }
 
-    /// <summary>A mean-square combination in words, e.g. "A:S + B:S − A:B:S".</summary>
-    public static string DescribeDenominator(IReadOnlyList<DenominatorPart> parts)
+    /// <summary>A mean-square combination in words, e.g. "A:S + B:S − A:B:S"; <paramref name="name"/> writes a term's name (default: as it is).</summary>
+    public static string DescribeDenominator(IReadOnlyList<DenominatorPart> parts, Func<string, string>? name = null)
     {
         ArgumentNullException.ThrowIfNull(parts);
         var sb = new StringBuilder();
@@ -729,19 +729,20 @@ public static class StrataAnova
                 sb.Append(a.ToString("G6", CultureInfo.InvariantCulture)).Append(' ');
             }
 
-            sb.Append("MS(").Append(x.Term).Append(')');
+            sb.Append("MS(").Append(name is null ? x.Term : name(x.Term)).Append(')');
         }
 
         return sb.ToString();
     }
 
-    /// <summary>An expected mean square in words, e.g. "σ² + 2 σ²(whole-plot error) + 8 θ(A)".</summary>
-    public static string DescribeEms(IReadOnlyList<EmsComponent> ems)
+    /// <summary>An expected mean square in words, e.g. "σ² + 2 σ²(whole-plot error) + 8 θ(A)"; <paramref name="name"/> writes a term's name (default: as it is).</summary>
+    public static string DescribeEms(IReadOnlyList<EmsComponent> ems, Func<string, string>? name = null)
     {
         ArgumentNullException.ThrowIfNull(ems);
+        name ??= t => t;
         return string.Join(" + ", ems.Select(e =>
         {
-            var sym = e.IsFixed ? "θ(" + e.Term + ")" : string.Equals(e.Term, ResidualName, StringComparison.Ordinal) ? "σ²" : "σ²(" + e.Term + ")";
+            var sym = e.IsFixed ? "θ(" + name(e.Term) + ")" : string.Equals(e.Term, ResidualName, StringComparison.Ordinal) ? "σ²" : "σ²(" + name(e.Term) + ")";
             return Math.Abs(e.Coefficient - 1) <= Zero ? sym : e.Coefficient.ToString("G6", CultureInfo.InvariantCulture) + " " + sym;
         }));
     }

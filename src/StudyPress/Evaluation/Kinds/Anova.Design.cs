@@ -42,7 +42,9 @@ public enum DesignMethodReason
 public sealed record DesignRow(string Term, StrataRow? Row, RemlFixedTest? Test, IReadOnlyDictionary<string, ResultValue> Values);
 
 /// <summary>One variance component with its manifest values (either route).</summary>
-public sealed record DesignComponent(string Term, TermKind Kind, double Variance, bool Negative, bool AtBoundary, string? SingleObservationNote, IReadOnlyDictionary<string, ResultValue> Values);
+/// <param name="Term">The manifest term (plot errors hyphenated).</param>
+/// <param name="EngineTerm">The design engine's name of the term, which the renderer labels.</param>
+public sealed record DesignComponent(string Term, string EngineTerm, TermKind Kind, double Variance, bool Negative, bool AtBoundary, string? SingleObservationNote, IReadOnlyDictionary<string, ResultValue> Values);
 
 /// <summary>An intraclass correlation form with its manifest values.</summary>
 public sealed record DesignIcc(string Form, string Meaning, IReadOnlyDictionary<string, ResultValue> Values);
@@ -345,7 +347,7 @@ public sealed partial class AnovaEvaluator
         {
             var term = DesignFit.TermName(c.Term);
             var values = ComponentValues(context, block, inputs, term, c.Variance, c.Sd, c.Proportion, c.CiLow, c.CiHigh);
-            components.Add(new DesignComponent(term, c.Kind, c.Variance, c.IsNegative, false, c.IsNegative || !hasResidual ? null : c.Note, values));
+            components.Add(new DesignComponent(term, c.Term, c.Kind, c.Variance, c.IsNegative, false, c.IsNegative || !hasResidual ? null : c.Note, values));
         }
 
         var efficiency = new List<DesignEfficiency>();
@@ -491,7 +493,7 @@ public sealed partial class AnovaEvaluator
             var term = DesignFit.TermName(c.Term);
             var share = total > 0 ? Quantity.Of(c.Variance / total) : Quantity.Undefined("every variance component is zero");
             var values = ComponentValues(context, block, inputs, term, c.Variance, c.Sd, share, c.CiLow, c.CiHigh);
-            components.Add(new DesignComponent(term, c.Kind, c.Variance, false, c.AtBoundary, null, values));
+            components.Add(new DesignComponent(term, c.Term, c.Kind, c.Variance, false, c.AtBoundary, null, values));
         }
 
         return new DesignFit

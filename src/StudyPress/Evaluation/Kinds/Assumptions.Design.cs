@@ -10,7 +10,9 @@ namespace StudyPress.Evaluation.Kinds;
 /// (<see cref="Unit"/> "observations"), or a coarser error term's estimated effects, one per unit
 /// of that stratum (whole plots, batches), or the mixed model's conditional residuals.
 /// </summary>
-public sealed record StratumCheck(string Term, string Unit, int Count, ShapiroWilkResult Normality, IReadOnlyDictionary<string, ResultValue> Values);
+/// <param name="Term">The manifest term (plot errors hyphenated).</param>
+/// <param name="EngineTerm">The design engine's name of the term, which the renderer labels.</param>
+public sealed record StratumCheck(string Term, string EngineTerm, string Unit, int Count, ShapiroWilkResult Normality, IReadOnlyDictionary<string, ResultValue> Values);
 
 /// <summary>The checks of a design anova, per stratum.</summary>
 public sealed record DesignChecks(DesignMethod Method, IReadOnlyList<StratumCheck> Strata)
@@ -32,30 +34,31 @@ public sealed partial class AssumptionsEvaluator
         var outcome = new AssumptionsOutcome(block) { Anova = anova };
         var inputs = context.Inputs(block);
         var checks = new List<StratumCheck>();
-        void Check(string term, string unit, double[] values)
+        void Check(string engineTerm, string unit, double[] values)
         {
+            var term = DesignFit.TermName(engineTerm);
             var sw = ShapiroWilk.Test(values);
             var v = new Dictionary<string, ResultValue>(StringComparer.Ordinal)
             {
                 [Stat.W] = context.Results.Add(block.Id, TestName.ShapiroWilk, term, null, null, Stat.W, sw.W, inputs),
                 [Stat.P] = context.Results.Add(block.Id, TestName.ShapiroWilk, term, null, null, Stat.P, sw.P, inputs),
             };
-            checks.Add(new StratumCheck(term, unit, values.Length, sw, v));
+            checks.Add(new StratumCheck(term, engineTerm, unit, values.Length, sw, v));
         }
 
         if (design.Method == DesignMethod.Reml)
         {
-            Check("residual", "observations (conditional residuals)", design.Residuals);
+            Check(StrataAnova.ResidualName, "observations (conditional residuals)", design.Residuals);
         }
         else
         {
             var strata = design.Strata!;
-            Check("residual", "observations", strata.Residuals);
+            Check(StrataAnova.ResidualName, "observations", strata.Residuals);
             foreach (var row in strata.Rows.Where(r => r.Kind is TermKind.PlotError or TermKind.Random && r.Denominator.Count > 0 && r.Df >= 2))
             {
                 if (strata.StratumEffects.TryGetValue(row.Term, out var effects) && effects.Length >= 5)
                 {
-                    Check(DesignFit.TermName(row.Term), "units of the stratum (estimated effects)", effects);
+                    Check(row.Term, "units of the stratum (estimated effects)", effects);
                 }
             }
         }

@@ -163,7 +163,7 @@ internal static class DesignRendering
         var table = new HtmlTable("components", $"Variance components ({method})", ["Source", "Variance", "SD", "Share", context.ConfidenceText + "% interval"]);
         foreach (var c in d.ComponentValues)
         {
-            table.Row(c.Term == StrataAnova.ResidualName ? "Residual" : TermLabel(o, EngineName(d, c.Term)), [V(c.Values, Stat.Variance), V(c.Values, Stat.Sd), V(c.Values, Stat.Proportion), Interval(c.Values, context)]);
+            table.Row(TermLabel(o, c.EngineTerm), [V(c.Values, Stat.Variance), V(c.Values, Stat.Sd), V(c.Values, Stat.Proportion), Interval(c.Values, context)]);
         }
 
         table.WriteTo(html);
@@ -178,11 +178,6 @@ internal static class DesignRendering
         values[Stat.CiLow].Value.IsDefined && values[Stat.CiHigh].Value.IsDefined
             ? HtmlWriter.ValueHtml(values[Stat.CiLow], context) + " to " + HtmlWriter.ValueHtml(values[Stat.CiHigh], context)
             : HtmlWriter.ValueHtml(values[Stat.CiLow], context);
-
-    private static string EngineName(DesignFit d, string manifestTerm) =>
-        d.Strata?.Rows.FirstOrDefault(r => DesignFit.TermName(r.Term) == manifestTerm)?.Term
-        ?? d.Reml?.Components.FirstOrDefault(c => DesignFit.TermName(c.Term) == manifestTerm)?.Term
-        ?? manifestTerm;
 
     private static string EfficiencyText(AnovaOutcome o, DesignEfficiency e, RenderContext context)
     {
@@ -225,7 +220,7 @@ internal static class DesignRendering
     {
         foreach (var c in d.ComponentValues.Where(c => c.Negative))
         {
-            yield return $"The variance component of {TermLabel(o, EngineName(d, c.Term))} is estimated below zero. A variance cannot be negative: the estimate says that the variation between these units is smaller than chance alone would produce, which happens when the true component is zero or small, or when the units were not assigned at random. It is shown as estimated (not set to zero), without an interval or share.";
+            yield return $"The variance component of {TermLabel(o, c.EngineTerm)} is estimated below zero. A variance cannot be negative: the estimate says that the variation between these units is smaller than chance alone would produce, which happens when the true component is zero or small, or when the units were not assigned at random. It is shown as estimated (not set to zero), without an interval or share.";
         }
 
         if (d.Strata is { } s && s.Rows.Any(r => r.IsQuasiF))
@@ -242,7 +237,7 @@ internal static class DesignRendering
 
             if (reml.Singular)
             {
-                var zero = d.ComponentValues.Where(c => c.AtBoundary).Select(c => TermLabel(o, EngineName(d, c.Term)));
+                var zero = d.ComponentValues.Where(c => c.AtBoundary).Select(c => TermLabel(o, c.EngineTerm));
                 yield return $"The fit is singular: the variance of {string.Join(", ", zero)} is estimated at zero (the likelihood is largest there). The data show no variation of that kind beyond the residual; the tests treat it as absent.";
             }
         }
@@ -263,7 +258,7 @@ internal static class DesignRendering
 
         foreach (var c in d.ComponentValues.Where(c => c.SingleObservationNote is not null))
         {
-            yield return $"{TermLabel(o, EngineName(d, c.Term))}: {c.SingleObservationNote}.";
+            yield return $"{TermLabel(o, c.EngineTerm)}: {c.SingleObservationNote}.";
         }
 
         if (d.Reml is { } reml && reml.Converged)
@@ -416,7 +411,7 @@ internal static class DesignRendering
         _ => TermLabel(o, r.Term),
     };
 
-    /// <summary>An engine term name in display labels: ':' as ×, nesting as "(in …)".</summary>
+    /// <summary>An engine term name (not the manifest's hyphenated form) in display labels: ':' as ×, nesting as "(in …)".</summary>
     internal static string TermLabel(AnovaOutcome o, string term)
     {
         if (term == StrataAnova.ResidualName)
@@ -424,10 +419,9 @@ internal static class DesignRendering
             return "Residual";
         }
 
-        if (term.EndsWith(" error", StringComparison.Ordinal) || term.EndsWith("-error", StringComparison.Ordinal))
+        if (term.EndsWith(" error", StringComparison.Ordinal))
         {
-            var t = term.Replace('-', ' ').Replace("whole plot", "whole-plot", StringComparison.Ordinal).Replace("sub sub plot", "sub-sub-plot", StringComparison.Ordinal).Replace("sub plot", "sub-plot", StringComparison.Ordinal);
-            return char.ToUpperInvariant(t[0]) + t[1..];
+            return char.ToUpperInvariant(term[0]) + term[1..];
         }
 
         var sb = new StringBuilder();
@@ -472,38 +466,10 @@ internal static class DesignRendering
         return sb.ToString();
     }
 
-    private static string Against(AnovaOutcome o, IReadOnlyList<DenominatorPart> parts)
-    {
-        var sb = new StringBuilder();
-        foreach (var x in parts)
-        {
-            var neg = x.Coefficient < 0;
-            if (sb.Length > 0)
-            {
-                sb.Append(neg ? " − " : " + ");
-            }
-            else if (neg)
-            {
-                sb.Append('−');
-            }
+    private static string Against(AnovaOutcome o, IReadOnlyList<DenominatorPart> parts) =>
+        StrataAnova.DescribeDenominator(parts, t => TermLabel(o, t));
 
-            var a = Math.Abs(x.Coefficient);
-            if (Math.Abs(a - 1) > 1e-12)
-            {
-                sb.Append(a.ToString("G6", CultureInfo.InvariantCulture)).Append(' ');
-            }
-
-            sb.Append("MS(").Append(TermLabel(o, x.Term)).Append(')');
-        }
-
-        return sb.ToString();
-    }
-
-    private static string Ems(AnovaOutcome o, StrataRow r) => string.Join(" + ", r.ExpectedMeanSquare.Select(e =>
-    {
-        var sym = e.IsFixed ? "θ(" + TermLabel(o, e.Term) + ")" : e.Term == StrataAnova.ResidualName ? "σ²" : "σ²(" + TermLabel(o, e.Term) + ")";
-        return Math.Abs(e.Coefficient - 1) <= 1e-12 ? sym : e.Coefficient.ToString("G6", CultureInfo.InvariantCulture) + " " + sym;
-    }));
+    private static string Ems(AnovaOutcome o, StrataRow r) => StrataAnova.DescribeEms(r.ExpectedMeanSquare, t => TermLabel(o, t));
 
     private static string Display(AnovaOutcome o, string factor) =>
         o.Factors.FirstOrDefault(f => f.Name == factor)?.Display ?? factor;

@@ -112,7 +112,7 @@ public sealed class AssumptionsRenderer : KindRenderer
             var p = s.Normality.P;
             var verdict = !p.IsDefined ? "not tested (" + HtmlWriter.Escape(p.Reason) + ")"
                 : p.Value < context.Alpha ? "departs from normal" : "no departure found";
-            var name = s.Term == "residual" ? "Residual" : DesignRendering.TermLabel(o.Anova!, s.Term.Replace('-', ' ').Replace("whole plot", "whole-plot", StringComparison.Ordinal).Replace("sub sub plot", "sub-sub-plot", StringComparison.Ordinal).Replace("sub plot", "sub-plot", StringComparison.Ordinal));
+            var name = DesignRendering.TermLabel(o.Anova!, s.EngineTerm);
             table.Row(name, [HtmlWriter.Escape(s.Unit), s.Count.ToString(CultureInfo.InvariantCulture), HtmlWriter.ValueHtml(s.Values[Stat.W], context), HtmlWriter.ValueHtml(s.Values[Stat.P], context), verdict]);
         }
 
