@@ -323,6 +323,8 @@ factors:
     [InlineData("response: yield\nfactors:\n  block:\n    role: block\n  variety:\n    plot: sub", "SP0261", 8)]
     [InlineData("response: yield\nfactors:\n  block:\n    role: whole-plot\n  variety:", "SP0257", 6)]
     [InlineData("response: yield\nfactors:\n  block:\n    role: blok\n  variety:", "SP0209", 6)]
+    [InlineData("response: yield\nfactors:\n  block:\n    role: blok\n  variety:\n    plot: whole\n  row:\n    plot: sub", "SP0209", 6)]
+    [InlineData("response: yield\nfactors:\n  block:\n    role: block\n  variety:\n    plot: wholee\n  row:\n    plot: sub", "SP0209", 8)]
     public void HeaderMistake_OneMessage(string header, string code, int line) // line: 0-based
     {
         using var run = Study("wheat.csv", Csv("rcbd", "clewer-wheat.csv"), header, "```anova main\n```");

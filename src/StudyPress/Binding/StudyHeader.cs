@@ -106,6 +106,9 @@ public sealed record FactorLayout(
 
     public SourceLocation? WithinLocation { get; init; }
 
+    /// <summary>A <c>role</c> or <c>plot</c> value was not one of the choices (already reported): the layout's cross-checks are skipped, so one typo gives one message.</summary>
+    public bool Unreadable { get; init; }
+
     /// <summary>True when the entry says anything about the layout (a role other than treatment, a plot, a nesting).</summary>
     public bool IsDeclared => Role != FactorRole.Treatment || NamesWholePlots || Plot != PlotLevel.Unit || Within.Count > 0;
 
@@ -706,9 +709,11 @@ internal static class HeaderBinder
     private static FactorLayout BindLayout(KeyReader r, string name, DiagnosticBag diagnostics)
     {
         var roleNode = r.Scalar("role");
-        var role = r.Choice("role", RoleNames) ?? "treatment";
+        var roleChoice = r.Choice("role", RoleNames);
+        var role = roleChoice ?? "treatment";
         var plotNode = r.Scalar("plot");
-        var plot = r.Choice("plot", PlotNames) switch
+        var plotChoice = r.Choice("plot", PlotNames);
+        var plot = plotChoice switch
         {
             "whole" => PlotLevel.WholePlot,
             "sub" => PlotLevel.SubPlot,
@@ -744,6 +749,7 @@ internal static class HeaderBinder
         {
             RoleLocation = roleNode?.Location,
             PlotLocation = plotNode?.Location,
+            Unreadable = (roleNode is not null && roleChoice is null) || (plotNode is not null && plotChoice is null),
             WithinLocation = within.Count > 0 ? r.KeyLocation("within") : null,
         };
     }
@@ -786,6 +792,11 @@ internal static class HeaderBinder
                 var at = closer.Layout.Within.FirstOrDefault(w => path.Contains(w.Value));
                 diagnostics.NestingCircle(at?.Location ?? closer.Location, string.Join(" within ", [.. path, path[0]]));
             }
+        }
+
+        if (factors.Any(f => f.Layout.Unreadable))
+        {
+            return;
         }
 
         var plotted = factors.Where(f => f.Layout.Plot != PlotLevel.Unit).ToList();
