@@ -96,6 +96,7 @@ public sealed class HtmlTable(string cssClass, string caption, IReadOnlyList<str
     /// <summary>Columns of words rather than numbers (0 is the row header, which is always left-aligned).</summary>
     public IReadOnlyCollection<int> TextColumns { get; init; } = [];
 
+    /// <summary>A row; with no cells, a heading row across the table over the rows that follow.</summary>
     public void Row(string head, IReadOnlyList<string> cells, string? rowClass = null) => rows.Add((head, cells, rowClass));
 
     public void WriteTo(HtmlWriter html)
@@ -110,6 +111,13 @@ public sealed class HtmlTable(string cssClass, string caption, IReadOnlyList<str
         foreach (var (head, cells, rowClass) in rows)
         {
             html.Raw(rowClass is null ? "<tr>" : "<tr class=\"" + rowClass + "\">");
+            if (cells.Count == 0)
+            {
+                // A heading over the rows below it (a stratum of a design table), across the whole table.
+                html.Raw("<th scope=\"rowgroup\" class=\"text\" colspan=\"").Raw(headers.Count.ToString(System.Globalization.CultureInfo.InvariantCulture)).Raw("\">").Text(head).Raw("</th></tr>");
+                continue;
+            }
+
             html.Raw("<th scope=\"row\">").Text(head).Raw("</th>");
             for (var i = 0; i < cells.Count; i++)
             {

@@ -30,7 +30,7 @@ internal static class DesignRendering
         RenderComponents(html, o, d, context);
         if (d.Icc.Count > 0)
         {
-            var icc = new HtmlTable("icc", d.IccLayout == "raters" ? "Intraclass correlations (Shrout and Fleiss forms; targets × raters, one rating each)" : "Intraclass correlation", ["Form", "Reads as", "ICC", context.ConfidenceText + "% interval"]);
+            var icc = new HtmlTable("icc", d.IccLayout == "raters" ? "Intraclass correlations (Shrout and Fleiss forms; targets × raters, one rating each)" : "Intraclass correlation", ["Form", "Reads as", "ICC", context.ConfidenceText + "% interval"]) { TextColumns = [1] };
             foreach (var f in d.Icc)
             {
                 icc.Row(f.Form, [HtmlWriter.Escape(f.Meaning), V(f.Values, Stat.Icc), Interval(f.Values, context)]);
@@ -41,7 +41,7 @@ internal static class DesignRendering
 
         if (d.Means.Count > 0)
         {
-            var means = new HtmlTable("means", d.Method == DesignMethod.Reml ? "Treatment means (observed; not adjusted for missing or unequal cells)" : "Treatment means (observed)", ["Factor", "Level", "n", "Mean"]);
+            var means = new HtmlTable("means", d.Method == DesignMethod.Reml ? "Treatment means (observed; not adjusted for missing or unequal cells)" : "Treatment means (observed)", ["Factor", "Level", "n", "Mean"]) { TextColumns = [1] };
             foreach (var m in d.Means)
             {
                 means.Row(Display(o, m.Factor), [HtmlWriter.Escape(m.Level), V(m.Values, Stat.N), V(m.Values, Stat.Mean)]);
@@ -72,13 +72,13 @@ internal static class DesignRendering
     {
         var strata = d.Strata!;
         var caption = o.Block.Caption ?? $"Analysis of variance of {response} by error stratum";
-        var table = new HtmlTable("anova strata", caption, ["Source", "SS", "df", "MS", "F", "error df", "p", "Tested against", "Expected mean square"]);
+        var table = new HtmlTable("anova strata", caption, ["Source", "SS", "df", "MS", "F", "error df", "p", "Tested against", "Expected mean square"]) { TextColumns = [7, 8] };
         var shown = new HashSet<string>(StringComparer.Ordinal);
         var inStrata = strata.Strata.SelectMany(s => s.Terms).ToHashSet(StringComparer.Ordinal);
         var approximate = strata.Rows.Where(r => !inStrata.Contains(r.Term)).ToList();
         if (approximate.Count > 0)
         {
-            table.Row("Tested against a combination of mean squares", ["", "", "", "", "", "", "", ""], "stratum");
+            table.Row("Tested against a combination of mean squares", [], "stratum");
             foreach (var r in approximate)
             {
                 shown.Add(r.Term);
@@ -88,7 +88,7 @@ internal static class DesignRendering
 
         foreach (var stratum in strata.Strata)
         {
-            table.Row(StratumTitle(o, stratum), ["", "", "", "", "", "", "", ""], "stratum");
+            table.Row(StratumTitle(o, stratum), [], "stratum");
             foreach (var name in stratum.Terms)
             {
                 if (shown.Add(name))

@@ -106,7 +106,7 @@ public sealed class AssumptionsRenderer : KindRenderer
     private static void RenderDesign(HtmlWriter html, AssumptionsOutcome o, DesignChecks d, RenderContext context)
     {
         var caption = o.Block.Caption ?? $"Normality of the residuals of each error stratum of anova block '{o.Block.Of!.Id}'";
-        var table = new HtmlTable("assumptions", caption, ["Stratum", "Residuals of", "n", "Shapiro–Wilk W", "p", "Verdict"]);
+        var table = new HtmlTable("assumptions", caption, ["Stratum", "Residuals of", "n", "Shapiro–Wilk W", "p", "Verdict"]) { TextColumns = [1, 5] };
         foreach (var s in d.Strata)
         {
             var p = s.Normality.P;
