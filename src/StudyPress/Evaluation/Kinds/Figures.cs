@@ -278,5 +278,32 @@ public static class Figures
         return new Figure("power-curve", caption ?? "Power of the F test as the group size grows; the horizontal line is the target power.", chart);
     }
 
+    /// <summary>An equivalence block's (1 − 2α) intervals against its shaded margin band and the zero line.</summary>
+    public static Figure? Equivalence(EquivalenceOutcome outcome, string? caption = null)
+    {
+        var rows = outcome.Comparisons
+            .Where(c => c.Result.CiLow.IsDefined && c.Result.CiHigh.IsDefined)
+            .Select(c => new EquivalenceInterval(
+                StudyPress.Charts.BidiText.Isolate(c.Result.LevelA) + " − " + StudyPress.Charts.BidiText.Isolate(c.Result.LevelB),
+                c.Result.Diff,
+                c.Result.CiLow.Value,
+                c.Result.CiHigh.Value,
+                c.Result.Verdict is Statistics.FollowUp.EquivalenceVerdict.EquivalentWithinMargin or Statistics.FollowUp.EquivalenceVerdict.NonInferiorWithinMargin))
+            .ToList();
+        if (rows.Count == 0)
+        {
+            return null;
+        }
+
+        var first = outcome.Comparisons[0].Result;
+        var level = Confidence(2 * first.Alpha);
+        var what = outcome.NonInferiority ? "non-inferiority margin" : "equivalence margin";
+        var chart = StatCharts.EquivalenceIntervals(rows, first.MarginLow, first.MarginHigh, level + " intervals",
+            new ChartLabels($"Differences of {outcome.FactorLabel} with {level} intervals against the {what}", "difference", string.Empty));
+        return new Figure("equivalence", caption ?? (outcome.NonInferiority
+            ? $"Each difference with its {level} interval; the shaded region is the side of the margin that counts as not inferior. Non-inferiority is shown where the whole interval lies in it (solid, diamond); an interval reaching past the margin does not show it."
+            : $"Each difference with its {level} interval; the shaded band is the equivalence margin. Equivalence is shown where the whole interval lies inside the band (solid, diamond); an interval reaching beyond it does not show equivalence, and one that covers zero does not show it either."), chart);
+    }
+
     private static string Confidence(double alpha) => Math.Round(100 * (1 - alpha), 10).ToString("R", CultureInfo.InvariantCulture) + "%";
 }
