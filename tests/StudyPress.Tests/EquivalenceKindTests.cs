@@ -166,7 +166,7 @@ factors: [level]
         Assert.Equal(2, exit);
         var line = Assert.Single(err.Split('\n', StringSplitOptions.RemoveEmptyEntries), l => l.Contains("error:", StringComparison.Ordinal));
         Assert.Contains("study.md:15:", line, StringComparison.Ordinal);
-        Assert.Contains("SP0287", line, StringComparison.Ordinal);
+        Assert.Contains("error: 'margin' is a positive number", line, StringComparison.Ordinal);
         Assert.False(File.Exists(run.ReportPath));
     }
 

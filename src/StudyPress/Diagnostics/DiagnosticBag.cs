@@ -684,8 +684,8 @@ public sealed class DiagnosticBag
     public void EquivalenceUnknownLevel(SourceLocation at, string level, string factor, string? suggestion) =>
         Error("SP0535", at, $"{Q(level)} is not a level of factor {Q(factor)} with data{Suggest(suggestion)}");
 
-    public void DirectionNeedsPooledVariance(SourceLocation at, string pText) =>
-        Error("SP0536", at, $"a one-sided 'direction' is tested by Dunnett's comparisons on the pooled variance, but the Brown-Forsythe test finds the variances unequal ({pText}); write 'method: tukey' to use the pooled variance anyway, or remove 'direction' for the two-sided Games-Howell comparisons");
+    public void DirectionNeedsPooledVariance(SourceLocation at, string test, string pText) =>
+        Error("SP0536", at, $"a one-sided 'direction' is tested by Dunnett's comparisons on the pooled variance, but {test} finds the variances unequal ({pText}); write 'method: tukey' to use the pooled variance anyway, or remove 'direction' for the two-sided Games-Howell comparisons");
 
     /// <summary>Closest candidate within a small edit distance, for "did you mean".</summary>
     public static string? Nearest(string word, IEnumerable<string> candidates)
