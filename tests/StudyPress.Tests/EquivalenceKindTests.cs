@@ -134,6 +134,33 @@ factors: [level]
         Assert.Contains("Welch", result.Html!, StringComparison.Ordinal);
     }
 
+    [Fact]
+    public void DeclaredSplitPlot_UsesTheWholePlotError()
+    {
+        // Yates (1935) oats (shared reference split-plot/, exact recomputation): variety is tested
+        // against the whole-plot error, MS 601.330555556 on 10 df, so SE = sqrt(MS (1/24 + 1/24))
+        // (exact hand computation) on 10 df.
+        const string header = "response: yield\nfactors:\n  block:\n    role: block\n  variety:\n    plot: whole\n  nitrogen:\n    plot: sub";
+        using var run = new StudyRun().File("oats.csv", File.ReadAllText(ReferenceFiles.PathOf("split-plot", "yates-oats.csv"))).Study(
+            $"---\ntitle: oats\ndata:\n  d: oats.csv\n{header}\n---\n\n```anova main\n```\n\n```equivalence eq\nfactor: variety\npair: [Marvellous, Victory]\nmargin: 10\n```\n");
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        var m = new ManifestView(result.ManifestJson!);
+        Assert.Equal(Math.Sqrt(601.330555556 * 2 / 24), Pair(m, "eq", "Marvellous", "Victory", "se"), 8);
+        Assert.Equal(10, Pair(m, "eq", "Marvellous", "Victory", "df"));
+        Assert.Contains("whole-plot error mean square", result.Html!, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void DeclaredDesign_BlockFactor_IsRefusedAtFactor()
+    {
+        const string header = "response: yield\nfactors:\n  block:\n    role: block\n  variety:\n    plot: whole\n  nitrogen:\n    plot: sub";
+        using var run = new StudyRun().File("oats.csv", File.ReadAllText(ReferenceFiles.PathOf("split-plot", "yates-oats.csv"))).Study(
+            $"---\ntitle: oats\ndata:\n  d: oats.csv\n{header}\n---\n\n```anova main\n```\n\n```equivalence eq\nfactor: block\nreference: I\nmargin: 10\n```\n");
+        var d = Assert.Single(run.Compile().Diagnostics);
+        Assert.Equal("SP0397", d.Code);
+    }
+
     [Theory]
     [InlineData("margin: 2", "SP0285", 12)]
     [InlineData("pair: [\"4\", \"1\"]\nreference: \"1\"\nmargin: 2", "SP0285", 14)]

@@ -85,9 +85,9 @@ public sealed class EquivalenceRenderer : KindRenderer
 
     private static string Margin(Dictionary<string, ResultValue> v)
     {
-        var low = v.TryGetValue(Stat.MarginLow, out var lo) ? MethodsWriter.S2(lo) : "−∞";
-        var high = v.TryGetValue(Stat.MarginHigh, out var hi) ? MethodsWriter.S2(hi) : "+∞";
-        return $"[{low}, {high}]";
+        var low = v.TryGetValue(Stat.MarginLow, out var lo) ? "[" + MethodsWriter.S2(lo) : "(−∞";
+        var high = v.TryGetValue(Stat.MarginHigh, out var hi) ? MethodsWriter.S2(hi) + "]" : "+∞)";
+        return $"{low}, {high}";
     }
 
     public override IEnumerable<string> Notes(BlockOutcome outcome, RenderContext context)
@@ -112,7 +112,7 @@ public sealed class EquivalenceRenderer : KindRenderer
             ["Pair", "at α = " + context.AlphaText, $"difference [{level} interval]", "margin", "SE (df)", "p against the lower margin", "p against the upper margin", "p (the larger)"]) { TextColumns = [1] };
         foreach (var (r, v) in o.Comparisons)
         {
-            var margin = "[" + (v.TryGetValue(Stat.MarginLow, out var lo) ? V(lo) : "−∞") + ", " + (v.TryGetValue(Stat.MarginHigh, out var hi) ? V(hi) : "+∞") + "]";
+            var margin = (v.TryGetValue(Stat.MarginLow, out var lo) ? "[" + V(lo) : "(−∞") + ", " + (v.TryGetValue(Stat.MarginHigh, out var hi) ? V(hi) + "]" : "+∞)");
             table.Row(
                 StudyPress.Charts.BidiText.Isolate(r.LevelA) + " − " + StudyPress.Charts.BidiText.Isolate(r.LevelB),
                 [
