@@ -135,6 +135,20 @@ factors: [level]
     }
 
     [Fact]
+    public void TransformedAnova_UsesWelchOnTheUntransformedValues()
+    {
+        // Exact hand computation from the data: s1² = 1.248, s4² = 0.96 (n = 5 each), so the Welch
+        // SE of 4 − 1 is sqrt((1.248 + 0.96)/5) on the response's own scale, whatever the anova's transform.
+        using var run = new StudyRun().File("d.csv", Prc471).Study(Study("pair: [\"4\", \"1\"]\nmargin: 2", "transform: log"));
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        var m = new ManifestView(result.ManifestJson!);
+        Assert.Equal(Math.Sqrt((1.248 + 0.96) / 5), Pair(m, "eq", "4", "1", "se"), 12);
+        Assert.Equal(0.16, Pair(m, "eq", "4", "1", "diff"), 12);
+        Assert.Contains("the anova&#39;s error is on the transformed scale", result.Html!, StringComparison.Ordinal);
+    }
+
+    [Fact]
     public void DeclaredSplitPlot_UsesTheWholePlotError()
     {
         // Yates (1935) oats (shared reference split-plot/, exact recomputation): variety is tested

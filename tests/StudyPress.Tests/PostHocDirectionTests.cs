@@ -65,6 +65,7 @@ factors: {factors}
         Assert.Contains("higher than the control</td>", html, StringComparison.Ordinal);
         Assert.Contains("not shown higher</td>", html, StringComparison.Ordinal);
         Assert.Contains(", +∞)", html, StringComparison.Ordinal);
+        Assert.DoesNotContain("joint interval (the intervals cover all the pairs together)", html, StringComparison.Ordinal); // no two-sided interval figure
     }
 
     [Fact]

@@ -237,6 +237,12 @@ public static class Figures
             .Where(p => p.Pair.CiLow.IsDefined && p.Pair.CiHigh.IsDefined)
             .Select(p => new IntervalComparison(StudyPress.Charts.BidiText.Isolate(p.Pair.LevelA) + " − " + StudyPress.Charts.BidiText.Isolate(p.Pair.LevelB), p.Pair.Diff, p.Pair.CiLow.Value, p.Pair.CiHigh.Value))
             .ToList();
+        if (rows.Count == 0)
+        {
+            // One-sided bounds (Dunnett with a direction) have an open end: no two-sided interval to draw.
+            return null;
+        }
+
         var level = Confidence(alpha);
         var chart = StatCharts.SimultaneousIntervals(rows, level, new ChartLabels($"{family.Title}: differences with {level} joint intervals", "difference", string.Empty));
         return new Figure("intervals", caption ?? $"Each difference with its {level} joint interval (the intervals cover all the pairs together); intervals that exclude zero (solid, diamond) are the pairs the procedure separates.", chart);
