@@ -200,6 +200,16 @@ factors: [level]
     }
 
     [Fact]
+    public void AlphaOfAHalfOrMore_IsOneErrorAtTheBlock()
+    {
+        // The (1 − 2α) interval has no meaning for α ≥ 0.5; the engine refuses it, the binder says so.
+        using var run = new StudyRun().File("d.csv", Prc471).Study(Study("pair: [\"4\", \"1\"]\nmargin: 2").Replace("title: Equivalence fixture", "title: Equivalence fixture\nalpha: 0.6", StringComparison.Ordinal));
+        var d = Assert.Single(run.Compile().Diagnostics);
+        Assert.Equal("SP0537", d.Code);
+        Assert.Equal(13, d.Location.Line);
+    }
+
+    [Fact]
     public void Mistake_ExitsWithStatus2_AndOneLine()
     {
         using var run = Run("pair: [\"4\", \"1\"]\nmargin: -1");

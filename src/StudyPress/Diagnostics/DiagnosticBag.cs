@@ -684,6 +684,9 @@ public sealed class DiagnosticBag
     public void EquivalenceUnknownLevel(SourceLocation at, string level, string factor, string? suggestion) =>
         Error("SP0535", at, $"{Q(level)} is not a level of factor {Q(factor)} with data{Suggest(suggestion)}");
 
+    public void EquivalenceAlphaTooLarge(SourceLocation at, double alpha) =>
+        Error("SP0537", at, string.Create(CultureInfo.InvariantCulture, $"an equivalence test needs the study's alpha below 0.5 (its interval has coverage 1 - 2 alpha), but alpha is {alpha}; lower 'alpha' in the header"));
+
     public void DirectionNeedsPooledVariance(SourceLocation at, string test, string pText) =>
         Error("SP0536", at, $"a one-sided 'direction' is tested by Dunnett's comparisons on the pooled variance, but {test} finds the variances unequal ({pText}); write 'method: tukey' to use the pooled variance anyway, or remove 'direction' for the two-sided Games-Howell comparisons");
 

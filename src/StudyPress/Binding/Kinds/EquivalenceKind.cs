@@ -89,6 +89,11 @@ public sealed class EquivalenceKind : BlockKind
         }
 
         var (low, high) = Margin(keys, context, nonInferiority, better, diagnostics);
+        if (!(context.Header.Alpha < 0.5))
+        {
+            diagnostics.EquivalenceAlphaTooLarge(context.Syntax.Location, context.Header.Alpha);
+        }
+
         if (diagnostics.Items.Count > before)
         {
             return null;
