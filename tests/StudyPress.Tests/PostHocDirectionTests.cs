@@ -53,7 +53,7 @@ factors: {factors}
         // Shared reference dunnett/dunnett1955.expected.json, blood_counts_example: one-sided
         // ("greater") adjusted p 0.324978 (A) and 0.002914 (B); numerical recomputation (SciPy
         // 1.10.1 quadrature, about 1e-6 in probability), not published values.
-        using var run = Run("control: control\nmethod: tukey\ndirection: higher");
+        using var run = new StudyRun().File("d.csv", BloodCounts).Study(Study("control: control\nmethod: tukey\ndirection: higher") + "\n```methods text\n```\n");
         var m = run.Manifest();
         Assert.Equal(0.324978, Pair(m, "A", "control", "p_adj"), 2e-6);
         Assert.Equal(0.002914, Pair(m, "B", "control", "p_adj"), 2e-6);
@@ -65,6 +65,8 @@ factors: {factors}
         Assert.Contains("higher than the control</td>", html, StringComparison.Ordinal);
         Assert.Contains("not shown higher</td>", html, StringComparison.Ordinal);
         Assert.Contains(", +∞)", html, StringComparison.Ordinal);
+        Assert.Contains("these levels were shown higher than the control at the family-wise level", html, StringComparison.Ordinal);
+        Assert.Contains("one-sided 95% bound [", html, StringComparison.Ordinal);
         Assert.DoesNotContain("joint interval (the intervals cover all the pairs together)", html, StringComparison.Ordinal); // no two-sided interval figure
     }
 

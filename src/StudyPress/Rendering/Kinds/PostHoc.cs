@@ -119,6 +119,17 @@ public sealed class PostHocRenderer : KindRenderer
         {
             var differ = f.Pairs.Where(x => x.Pair.PAdjusted.IsDefined && x.Pair.PAdjusted.Value < w.Outcome.Alpha).ToList();
             var name = f.Test == "dunn" ? "In Dunn's rank comparisons" : $"In the comparisons of {MethodsWriter.E(p.FactorLabel)}";
+            if (f.Test == "dunnett" && p.Direction != DunnettAlternative.TwoSided)
+            {
+                var way = p.Direction == DunnettAlternative.Greater ? "higher" : "lower";
+                var shown = differ.Select(x => $"{MethodsWriter.E(x.Pair.LevelA)} − {MethodsWriter.E(x.Pair.LevelB)} ({MethodsPair(f.Test, x.Values, w)})").ToList();
+                yield return shown.Count == 0
+                    ? $"{name} with the control (one-sided), no level {w.T("was", "is")} shown {way} than the control at the family-wise level α = {w.AlphaText}; this does not show that the levels equal the control."
+                    : $"{name} with the control (one-sided), these levels {w.T("were", "are")} shown {way} than the control at the family-wise level α = {w.AlphaText}: {string.Join("; ", shown)}."
+                        + (shown.Count < f.Pairs.Count ? $" The others {w.T("were", "are")} not shown {way}, which does not show that they equal the control." : string.Empty);
+                continue;
+            }
+
             if (differ.Count == 0)
             {
                 yield return $"{name}, no pair {w.T("differed", "differs")} at the family-wise level α = {w.AlphaText}; this does not show that the levels are equal.";
