@@ -13,7 +13,7 @@ namespace StudyPress.Rendering;
 public sealed class NumberFormat(int digits, int pDigits)
 {
     private static readonly IReadOnlySet<string> IntegerStats = Stat.Counts;
-    private static readonly HashSet<string> PStats = new(StringComparer.Ordinal) { Stat.P, Stat.PAdj };
+    private static readonly HashSet<string> PStats = new(StringComparer.Ordinal) { Stat.P, Stat.PAdj, Stat.PLower, Stat.PUpper };
 
     public int Digits { get; } = digits;
 
