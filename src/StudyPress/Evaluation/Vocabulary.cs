@@ -204,6 +204,9 @@ public static class Stat
     /// <summary>Subjects left out of the classical repeated-measures analysis (incomplete).</summary>
     public const string SubjectsDropped = "subjects_dropped";
 
+    /// <summary>An estimate (a covariate's common slope).</summary>
+    public const string Estimate = "estimate";
+
     /// <summary>Stats that are whole numbers (counts, degrees of freedom of exact designs), shown without decimals.</summary>
     public static IReadOnlySet<string> Counts { get; } = new HashSet<string>(StringComparer.Ordinal) { N, Df, Missing, NPerGroup, NTotal, Df1, Df2, M, NBlocks, BlocksDropped, DfDen, SubjectsDropped };
 
@@ -277,6 +280,7 @@ public static class Stat
         [PHf] = "p-value on Huynh–Feldt corrected df",
         [GeneralizedEta2] = "generalized eta squared",
         [SubjectsDropped] = "subjects left out of the classical repeated-measures analysis",
+        [Estimate] = "estimate (a covariate's common slope)",
     };
 }
 
@@ -382,6 +386,15 @@ public static class TestName
     /// <summary>Subjects of a repeated-measures block: analysed and left out.</summary>
     public const string Subjects = "subjects";
 
+    /// <summary>A covariate's common slope in an analysis of covariance.</summary>
+    public const string CovariateSlope = "covariate_slope";
+
+    /// <summary>The homogeneity-of-slopes test (treatment x covariate).</summary>
+    public const string SlopesHomogeneity = "slopes_homogeneity";
+
+    /// <summary>Estimated marginal (adjusted) means.</summary>
+    public const string Emmeans = "emmeans";
+
     /// <summary>Every name, with its meaning (checked against docs/manifest.md by the tests).</summary>
     public static IReadOnlyDictionary<string, string> All { get; } = new Dictionary<string, string>(StringComparer.Ordinal)
     {
@@ -418,5 +431,8 @@ public static class TestName
         [AnovaReml] = "mixed-model (REML) F tests of a repeated-measures block",
         [SimpleEffects] = "simple effects of a within-subject factor",
         [Subjects] = "subjects analysed and left out",
+        [CovariateSlope] = "a covariate's common slope in an analysis of covariance",
+        [SlopesHomogeneity] = "homogeneity-of-slopes test (treatment x covariate interaction)",
+        [Emmeans] = "estimated marginal (adjusted) means",
     };
 }

@@ -57,7 +57,9 @@ public sealed class AssumptionReview
         var result = anova.Result!;
         var alpha = result.Alpha;
         var cells = anova.Data!.Cells();
-        var response = anova.Input!.Response;
+        // An analysis of covariance: the variance checks compare the groups' residuals from the
+        // covariance model (the spread around each group's regression line), not the raw values.
+        var response = anova.Ancova is null ? anova.Input!.Response : result.Residuals;
         var groups = new List<double[]>(cells.Count);
         // The cells hold the block's centred response already: when the model's response is that
         // array (no transform), they are the groups, with no copy.
@@ -81,7 +83,9 @@ public sealed class AssumptionReview
 
         // With every cell constant the cell-means model fits exactly: the residuals are exactly
         // zero, whatever rounding leaves in their floating-point values, and W is 0/0.
-        var exactFit = (anova.Input!.Factors.Count == 1 || anova.Input.Interactions) && groups.All(g => Groups.IsConstant(g));
+        var exactFit = anova.Ancova is null
+            ? (anova.Input!.Factors.Count == 1 || anova.Input.Interactions) && groups.All(g => Groups.IsConstant(g))
+            : result.Residuals.All(r => r == 0);
         var normality = exactFit
             ? new ShapiroWilkResult(result.Residuals.Length, Quantity.Undefined(ZeroResiduals), Quantity.Undefined(ZeroResiduals), [])
             : ShapiroWilk.Test(result.Residuals);
@@ -103,7 +107,11 @@ public sealed class AssumptionReview
         DurbinWatsonResult? dw = null;
         string? skipped = null;
         var order = anova.Data.Dataset.Order;
-        if (order is null)
+        if (anova.Ancova is not null)
+        {
+            skipped = "the Durbin–Watson test is not run for an analysis of covariance in this version (its p-value needs the covariates' columns in the design)";
+        }
+        else if (order is null)
         {
             skipped = "the header names no run-order column ('order'), so independence in time was not checked; the file's row order is not assumed to be the run order";
         }
