@@ -210,7 +210,20 @@ public sealed partial class AnovaEvaluator
             }
         }
 
-        AddCautions(context, block, outcome, data, options);
+        // Cautions over the treatment groups (the crossing of the treatment factors): blocks are
+        // additive, so the cells of blocks x treatments are not groups of this model.
+        var groupSizes = data.Rows.Select((_, i) => string.Join(" / ", data.Factors.Where(f => f.Spec.Layout.Role != FactorRole.Block).Select(f => f.Levels[f.Codes[i]])))
+            .GroupBy(label => label, StringComparer.Ordinal)
+            .OrderBy(g => g.Key, StringComparer.Ordinal)
+            .Select(g => (Label: g.Key, Count: g.Count()))
+            .ToList();
+        outcome.Cautions = new AnovaCautions(
+            [.. groupSizes.Where(g => g.Count == 1).Select(g => g.Label)],
+            [.. groupSizes.Where(g => g.Count is > 1 and < 5).Select(g => g.Label)],
+            groupSizes.Select(g => g.Count).Distinct().Count() > 1 && data.Factors.Count > 1,
+            interactions,
+            data.DroppedMissing,
+            SummaryEvaluator.EmptyGroups(context, block, selected));
         return outcome;
     }
 

@@ -74,7 +74,7 @@ public sealed partial class PostHocEvaluator
             c.LevelB,
             c.Diff,
             c.Se,
-            c.T,
+            method == "tukey" ? c.T.Map(t => Math.Sqrt(2.0) * Math.Abs(t)) : c.T,
             c.CiLow,
             c.CiHigh,
             method == "bonferroni" ? c.P.Map(p => Math.Min(1.0, p * m)) : c.PAdjusted,

@@ -148,8 +148,9 @@ internal static class CovariateRendering
         if (w.Has("model"))
         {
             var ss = a.Result.SsType == SumOfSquaresType.Hierarchical ? "hierarchical (type 2)" : "marginal (type 3)";
-            var blocks = a.Blocks.Count > 0 ? $", with {MethodsWriter.List(a.Blocks.Select(MethodsWriter.E))} as additive blocks" : string.Empty;
-            yield return $"{MethodsWriter.Cap(response)} {w.T("was", "is")} analysed by analysis of covariance (least squares) with the factors {factors}{blocks} and the {(a.Covariates.Count == 1 ? "covariate" : "covariates")} {covs} with a common slope, using {ss} sums of squares, so that each factor term is adjusted for the {(a.Covariates.Count == 1 ? "covariate" : "covariates")}.";
+            var blocks = a.Blocks.Count > 0 ? $" ({MethodsWriter.List(a.Blocks.Select(MethodsWriter.E))} as additive {(a.Blocks.Count == 1 ? "blocks" : "blocking factors")})" : string.Empty;
+            var kind = a.Covariates.Count == 1 ? "covariate" : "covariates";
+            yield return $"The response {response} {w.T("was", "is")} analysed by analysis of covariance (least squares) with the {(o.Factors.Count == 1 ? "factor" : "factors")} {factors}{blocks} and the {kind} {covs} with a common slope, using {ss} sums of squares, so that each factor term is adjusted for the {kind}.";
             var h = a.Homogeneity;
             var check = $"Homogeneity of slopes {w.T("was", "is")} tested by adding the interaction of {MethodsWriter.List(a.Treatments.Select(MethodsWriter.E))} with {covs}";
             if (!a.Result.Homogeneity.P.IsDefined)
