@@ -161,6 +161,16 @@ factors:
     }
 
     [Fact]
+    public void Assumptions_WithBlocks_CompareTheTreatmentGroups()
+    {
+        // Additive blocks: the variance checks group the residuals by cultivar (6 groups of 4:
+        // df 5 and 18), not by block x cultivar cells of one plot each.
+        var m = new ManifestView(CompileCase().ManifestJson!);
+        Assert.Equal(5, m.Get("maize_checks", "brown_forsythe", "cultivar", "df1"));
+        Assert.Equal(18, m.Get("maize_checks", "brown_forsythe", "cultivar", "df2"));
+    }
+
+    [Fact]
     public void BalancedCovariate_AdjustedMeansEqualRawMeans()
     {
         // Constructed data (exact arithmetic): every group has covariate values 1, 2, 3, 4, 6, so the
