@@ -170,6 +170,23 @@ factors:
         Assert.Equal(18, m.Get("maize_checks", "brown_forsythe", "cultivar", "df2"));
     }
 
+    [Theory]
+    [InlineData("f-distribution")]
+    [InlineData("qq")]
+    [InlineData("residuals-fitted")]
+    [InlineData("interaction")]
+    public void FigureOfAnAncova_Builds(string type)
+    {
+        // The covariate's row of the table has no factor; figures drawn from the table or the
+        // covariance model's residuals must name it by its column (this threw before).
+        var extra = $"\n```figure f\nof: a\ntype: {type}\n```\n";
+        const string keys = "factors: [block, cultivar]\ninteraction: false\ncovariates: plants";
+        using var run = Run(keys, Maize, extra, "  cultivar:\n  block:\n", "yield_kg");
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        Assert.Contains("<svg", result.Html, StringComparison.Ordinal);
+    }
+
     [Fact]
     public void BalancedCovariate_AdjustedMeansEqualRawMeans()
     {
