@@ -188,6 +188,23 @@ factors:
     }
 
     [Fact]
+    public void ProseReferences_ReachTheAdjustedValues()
+    {
+        // Prose references name the new tests like any other: an adjusted mean, the slope, the slopes test.
+        const string prose = "\nAdjusted mean of group 3: [=a.emmeans.group.3.mean]; slope [=a.covariate_slope.covariate.estimate]; slopes test: [=a.slopes_homogeneity.p].\n";
+        using var run = Run("covariates: covariate", Rutherford, prose);
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+
+        // Exact recomputation (shared reference): adjusted mean 23.0687109597, slope 1.64906303237, p 0.2292595014.
+        var html = result.Html!;
+        var at = html.IndexOf("Adjusted mean of group 3:", StringComparison.Ordinal);
+        Assert.True(at >= 0);
+        var sentence = System.Text.RegularExpressions.Regex.Replace(html[at..html.IndexOf("</p>", at, StringComparison.Ordinal)], "<[^>]+>", string.Empty);
+        Assert.Equal("Adjusted mean of group 3: 23.1; slope 1.65; slopes test: p = 0.229.", sentence);
+    }
+
+    [Fact]
     public void BalancedCovariate_AdjustedMeansEqualRawMeans()
     {
         // Constructed data (exact arithmetic): every group has covariate values 1, 2, 3, 4, 6, so the
