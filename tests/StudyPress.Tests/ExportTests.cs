@@ -560,6 +560,7 @@ public sealed class ExportAllStudiesTests
             data.Add(Path.Combine("tests", "StudyPress.Tests", "Cases", "kinds", Path.GetFileName(dir)));
         }
 
+        data.Add(Path.Combine("tests", "StudyPress.Tests", "Cases", "ancova"));
         return data;
     }
 

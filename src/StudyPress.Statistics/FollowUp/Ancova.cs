@@ -83,7 +83,17 @@ public sealed record AncovaResult(
     IReadOnlyList<AdjustedMeanComparison> Comparisons,
     string ComparisonMethod,
     SumOfSquaresType SsType,
-    double Alpha);
+    double Alpha)
+{
+    /// <summary>Fitted values of the common-slope model, per observation, on the scale of <see cref="AncovaInput.Response"/> (centred when the response was).</summary>
+    public double[] Fitted { get; init; } = [];
+
+    /// <summary>Residuals y - fitted of the common-slope model, per observation.</summary>
+    public double[] Residuals { get; init; } = [];
+
+    /// <summary>Leverages h_i = x_i' (X'X)⁻¹ x_i of the common-slope model (covariates centred), per observation.</summary>
+    public double[] Leverages { get; init; } = [];
+}
 
 /// <summary>
 /// Analysis of covariance with one or more numeric covariates and one or more fixed factors, fitted
@@ -199,7 +209,58 @@ public static class Ancova
         var method = input.Comparisons == AdjustedMeansComparison.Holm
             ? "Holm step-down adjustment of t tests of adjusted-mean differences within each factor; Bonferroni intervals"
             : "Tukey-Kramer style: studentized range with each pair's own standard error (an approximation with covariates)";
-        return new AncovaResult(terms, rss, dfRes, AnovaTable.MeanSquareResidual(rss, dfRes), ssTotal, n - 1, slopes, homogeneity, means, comparisons, method, input.SsType, input.Alpha);
+        var (fitted, residuals, leverages) = PerObservation(input, model, b, inverse);
+        return new AncovaResult(terms, rss, dfRes, AnovaTable.MeanSquareResidual(rss, dfRes), ssTotal, n - 1, slopes, homogeneity, means, comparisons, method, input.SsType, input.Alpha)
+        {
+            Fitted = fitted,
+            Residuals = residuals,
+            Leverages = leverages,
+        };
+    }
+
+    /// <summary>Fitted values x_i b, residuals y_i - x_i b and leverages x_i' (X'X)⁻¹ x_i, one pass over the rows (O(n p²)).</summary>
+    private static (double[] Fitted, double[] Residuals, double[] Leverages) PerObservation(AncovaInput input, Prepared model, double[] b, double[,] inverse)
+    {
+        var n = input.Response.Length;
+        var pf = model.Coding.ColumnCount;
+        var q = input.Covariates.Count;
+        var p = pf + q;
+        var fitted = new double[n];
+        var residuals = new double[n];
+        var leverages = new double[n];
+        var x = new double[p];
+        for (var i = 0; i < n; i++)
+        {
+            var cell = model.Coding.CellOf[i];
+            for (var j = 0; j < pf; j++)
+            {
+                x[j] = model.Coding.CellRows[cell, j];
+            }
+
+            for (var c = 0; c < q; c++)
+            {
+                x[pf + c] = input.Covariates[c].Values[i] - model.CovariateMeans[c];
+            }
+
+            double f = 0, h = 0;
+            for (var j = 0; j < p; j++)
+            {
+                f += x[j] * b[j];
+                double row = 0;
+                for (var k = 0; k < p; k++)
+                {
+                    row += inverse[j, k] * x[k];
+                }
+
+                h += x[j] * row;
+            }
+
+            fitted[i] = f;
+            residuals[i] = input.Response[i] - f;
+            leverages[i] = h;
+        }
+
+        return (fitted, residuals, leverages);
     }
 
     /// <summary>

@@ -237,7 +237,7 @@ internal static class BlockBinder
             return null;
         }
 
-        return new BoundBlock
+        var bound = new BoundBlock
         {
             Id = id,
             Kind = kind,
@@ -254,6 +254,8 @@ internal static class BlockBinder
                 ? header.Factors.FirstOrDefault(f => f.Layout.NamesWholePlots)
                 : null,
         };
+        kind.CheckBound(bound, header, diagnostics);
+        return diagnostics.Items.Count > before ? null : bound;
     }
 
     /// <summary>

@@ -614,6 +614,37 @@ public sealed class DiagnosticBag
     public void RepeatedMixedModelProblem(SourceLocation at, string message) =>
         Error("SP0515", at, "the mixed-model route cannot be fitted: " + message + "; write 'fit: classical' to analyse the complete subjects only");
 
+    // ---- analysis of covariance (SP0270-SP0274 keys, SP0520-SP0524 analysis) ----
+    public void CovariatesWith(SourceLocation at, string other, string why) =>
+        Error("SP0270", at, $"'covariates' cannot be combined with {Q(other)}: {why}");
+
+    public void CovariatesOnLayout(SourceLocation at, string factor, string why) =>
+        Error("SP0271", at, $"'covariates' cannot be used here: factor {Q(factor)} {why}");
+
+    public void CovariatesOnAggregate(SourceLocation at, string dataset) =>
+        Error("SP0272", at, $"'covariates' needs each row's covariate value, and the database aggregates dataset {Q(dataset)} into per-cell statistics (aggregate: true), which keep no covariate; declare a second dataset on the same file without 'aggregate' for this block");
+
+    public void CovariateName(SourceLocation at, string column, string what) =>
+        Error("SP0273", at, $"covariate {Q(column)} is {what}; a covariate is a further numeric column measured on each unit (list each once, and neither the response nor a factor)");
+
+    public void CovariatesEmpty(SourceLocation at) =>
+        Error("SP0274", at, "'covariates' lists no column; name one numeric column or a list of them, or remove the key");
+
+    public void AncovaCannotFit(SourceLocation at, string message) =>
+        Error("SP0520", at, $"the analysis of covariance cannot be fitted: {message}");
+
+    public void AncovaPostHocMethod(SourceLocation at, string method) =>
+        Error("SP0521", at, $"the comparisons of an analysis of covariance compare adjusted means, and {Q(method)} estimates a variance per group of raw values, which would ignore the covariates; use 'method: tukey' (the default), 'holm' or 'bonferroni'");
+
+    public void AncovaPostHocControl(SourceLocation at) =>
+        Error("SP0522", at, "comparisons of adjusted means with a control are not available in this version (the many-to-one adjustment is not defined for adjusted means here); remove 'control' to compare every pair of adjusted means");
+
+    public void AncovaPostHocBlock(SourceLocation at, string factor) =>
+        Error("SP0523", at, $"{Q(factor)} is a block of the analysis of covariance: its levels are units, not treatments to compare, so its adjusted means are not compared; name a treatment factor");
+
+    public void AncovaCovariateMissing(SourceLocation at, string column) =>
+        Error("SP0524", at, $"covariate {Q(column)} has no value in any selected row, so nothing is left to analyse; check the column or the block's 'where'");
+
     // ---- output (SP06xx) ----
     public void CannotWrite(SourceLocation at, string path, string reason) => Error("SP0601", at, $"cannot write {Q(path)}: {reason}");
 

@@ -215,6 +215,8 @@ public static class Stat
 
     /// <summary>One-sided p-value against the upper margin (H0: difference at or above it).</summary>
     public const string PUpper = "p_upper";
+    /// <summary>An estimate (a covariate's common slope).</summary>
+    public const string Estimate = "estimate";
 
     /// <summary>Stats that are whole numbers (counts, degrees of freedom of exact designs), shown without decimals.</summary>
     public static IReadOnlySet<string> Counts { get; } = new HashSet<string>(StringComparer.Ordinal) { N, Df, Missing, NPerGroup, NTotal, Df1, Df2, M, NBlocks, BlocksDropped, DfDen, SubjectsDropped };
@@ -293,6 +295,7 @@ public static class Stat
         [MarginHigh] = "upper equivalence margin, in response units",
         [PLower] = "one-sided p-value against the lower margin",
         [PUpper] = "one-sided p-value against the upper margin",
+        [Estimate] = "estimate (a covariate's common slope)",
     };
 }
 
@@ -400,6 +403,14 @@ public static class TestName
 
     /// <summary>Equivalence (two one-sided tests) or non-inferiority of a difference of two level means.</summary>
     public const string Equivalence = "equivalence";
+    /// <summary>A covariate's common slope in an analysis of covariance.</summary>
+    public const string CovariateSlope = "covariate_slope";
+
+    /// <summary>The homogeneity-of-slopes test (treatment x covariate).</summary>
+    public const string SlopesHomogeneity = "slopes_homogeneity";
+
+    /// <summary>Estimated marginal (adjusted) means.</summary>
+    public const string Emmeans = "emmeans";
 
     /// <summary>Every name, with its meaning (checked against docs/manifest.md by the tests).</summary>
     public static IReadOnlyDictionary<string, string> All { get; } = new Dictionary<string, string>(StringComparer.Ordinal)
@@ -438,5 +449,8 @@ public static class TestName
         [SimpleEffects] = "simple effects of a within-subject factor",
         [Subjects] = "subjects analysed and left out",
         [Equivalence] = "equivalence (TOST) or non-inferiority of a difference of means",
+        [CovariateSlope] = "a covariate's common slope in an analysis of covariance",
+        [SlopesHomogeneity] = "homogeneity-of-slopes test (treatment x covariate interaction)",
+        [Emmeans] = "estimated marginal (adjusted) means",
     };
 }

@@ -144,6 +144,31 @@ public class AncovaTests
         Accuracy.AssertRoundsTo(r.ResidualSumOfSquares, "128.46", "residual printed");
     }
 
+    // Per-observation outputs of the common-slope model, by identities of least squares (exact):
+    // fitted + residual = y; the residuals sum to the residual SS; the leverages sum to the number
+    // of parameters (trace of the hat matrix; ICTA: intercept + 3 block + 5 cultivar + 1 slope = 10,
+    // Rutherford: 1 + 2 + 1 = 4); the residuals are orthogonal to the covariate (normal equations).
+    [Fact]
+    public void Residuals_FittedAndLeverages_FollowTheLeastSquaresIdentities()
+    {
+        foreach (var (input, parameters) in new[] { (Icta(), 10), (Rutherford(), 4) })
+        {
+            var r = Ancova.Fit(input);
+            var n = input.Response.Length;
+            Assert.Equal(n, r.Residuals.Length);
+            for (var i = 0; i < n; i++)
+            {
+                Assert.Equal(input.Response[i], r.Fitted[i] + r.Residuals[i], 12);
+                Assert.InRange(r.Leverages[i], 0.0, 1.0);
+            }
+
+            Accuracy.AssertLre(r.Residuals.Sum(e => e * e), r.ResidualSumOfSquares, 11, "residual SS");
+            Accuracy.AssertLre(r.Leverages.Sum(), parameters, 12, "trace of the hat matrix");
+            var x = input.Covariates[0].Values;
+            Assert.Equal(0.0, r.Residuals.Select((e, i) => e * x[i]).Sum(), 9);
+        }
+    }
+
     // Standard errors by the one-way ANCOVA formulas (Snedecor and Cochran 1989, ch. 18; exact hand
     // computation from the data): Var(adjusted mean i) = MSE (1/n_i + (x̄_i - x̄)²/E_xx) and
     // Var(difference i - j) = MSE (1/n_i + 1/n_j + (x̄_i - x̄_j)²/E_xx), with group covariate means

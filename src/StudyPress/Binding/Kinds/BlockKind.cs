@@ -61,6 +61,11 @@ public abstract class BlockKind
     /// <summary>Binds the kind's own keys; report mistakes to the bag.</summary>
     public abstract object? BindOptions(KeyReader keys, BindContext context, DiagnosticBag diagnostics);
 
+    /// <summary>Checks of the kind's options that need the bound block (response, factors, dataset); report mistakes to the bag.</summary>
+    public virtual void CheckBound(BoundBlock block, StudyHeader header, DiagnosticBag diagnostics)
+    {
+    }
+
 }
 
 /// <summary>What binding a block can see: the header, the blocks above it, and the block itself.</summary>

@@ -135,6 +135,9 @@ public sealed class AnovaOutcome(BoundBlock block) : BlockOutcome(block)
 
     /// <summary>The strata or mixed-model fit, when the header declares a layout (then <see cref="Fit"/> and <see cref="Result"/> are null).</summary>
     public DesignFit? Design { get; set; }
+
+    /// <summary>The analysis of covariance, when the block names covariates (then <see cref="Result"/> holds its residuals).</summary>
+    public CovariateAnalysis? Ancova { get; set; }
 }
 
 /// <summary>Evaluates <c>anova</c> blocks into values (no HTML, no report text).</summary>
@@ -150,6 +153,11 @@ public sealed partial class AnovaEvaluator : KindEvaluator
     {
         var options = (AnovaKind.Options)block.Options!;
         var model = context.Models.Descriptions[block.Id];
+        if (options.HasCovariates)
+        {
+            return EvaluateCovariates(context, block, options, model, diagnostics);
+        }
+
         if (model.Route == ModelRoute.Design)
         {
             return EvaluateDesign(context, block, options, model, diagnostics);

@@ -55,9 +55,16 @@ public sealed class AssumptionReview
     public static AssumptionReview Run(AnovaOutcome anova)
     {
         var result = anova.Result!;
-        var alpha = result.Alpha;
         var cells = anova.Data!.Cells();
-        var response = anova.Input!.Response;
+        // An analysis of covariance: the variance checks compare the groups' residuals from the
+        // covariance model (the spread around each group's regression line), not the raw values.
+        var response = anova.Ancova is null ? anova.Input!.Response : result.Residuals;
+        if (anova.Ancova is { Blocks.Count: > 0 } blocked)
+        {
+            // Additive blocks: the groups are the treatment cells (a block x treatment cell holds one plot).
+            return Run(anova, result, TreatmentGroups(anova, blocked, result.Residuals));
+        }
+
         var groups = new List<double[]>(cells.Count);
         // The cells hold the block's centred response already: when the model's response is that
         // array (no transform), they are the groups, with no copy.
@@ -79,9 +86,29 @@ public sealed class AssumptionReview
             groups.Add(g);
         }
 
+        return Run(anova, result, groups);
+    }
+
+    /// <summary>The residuals grouped by the crossing of the treatment factors (blocks left out), in ordinal order of the cell labels.</summary>
+    private static List<double[]> TreatmentGroups(AnovaOutcome anova, CovariateAnalysis ancova, double[] residuals)
+    {
+        var data = anova.Data!;
+        var treatments = data.Factors.Where(f => ancova.Treatments.Contains(f.Spec.Name, StringComparer.Ordinal)).ToList();
+        return [.. Enumerable.Range(0, residuals.Length)
+            .GroupBy(i => string.Join(" / ", treatments.Select(f => f.Levels[f.Codes[i]])), StringComparer.Ordinal)
+            .OrderBy(g => g.Key, StringComparer.Ordinal)
+            .Select(g => g.Select(i => residuals[i]).ToArray())];
+    }
+
+    private static AssumptionReview Run(AnovaOutcome anova, AnovaResult result, List<double[]> groups)
+    {
+        var alpha = result.Alpha;
+
         // With every cell constant the cell-means model fits exactly: the residuals are exactly
         // zero, whatever rounding leaves in their floating-point values, and W is 0/0.
-        var exactFit = (anova.Input!.Factors.Count == 1 || anova.Input.Interactions) && groups.All(g => Groups.IsConstant(g));
+        var exactFit = anova.Ancova is null
+            ? (anova.Input!.Factors.Count == 1 || anova.Input.Interactions) && groups.All(g => Groups.IsConstant(g))
+            : result.Residuals.All(r => r == 0);
         var normality = exactFit
             ? new ShapiroWilkResult(result.Residuals.Length, Quantity.Undefined(ZeroResiduals), Quantity.Undefined(ZeroResiduals), [])
             : ShapiroWilk.Test(result.Residuals);
@@ -102,8 +129,12 @@ public sealed class AssumptionReview
 
         DurbinWatsonResult? dw = null;
         string? skipped = null;
-        var order = anova.Data.Dataset.Order;
-        if (order is null)
+        var order = anova.Data!.Dataset.Order;
+        if (anova.Ancova is not null)
+        {
+            skipped = "the Durbin–Watson test is not run for an analysis of covariance in this version (its p-value needs the covariates' columns in the design)";
+        }
+        else if (order is null)
         {
             skipped = "the header names no run-order column ('order'), so independence in time was not checked; the file's row order is not assumed to be the run order";
         }
@@ -152,7 +183,7 @@ public sealed class AssumptionReview
             Independence = dw,
             IndependenceSkipped = skipped,
             Outliers = outliers,
-            SmallestGroup = cells.Min(c => c.Values.Length),
+            SmallestGroup = groups.Min(g => g.Length),
             Alpha = alpha,
         };
     }

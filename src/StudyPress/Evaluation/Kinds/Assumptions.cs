@@ -49,7 +49,9 @@ public sealed partial class AssumptionsEvaluator : KindEvaluator
         var review = anova.Review;
         outcome.Review = review;
         var inputs = context.Inputs(block);
-        var term = string.Join(":", anova.Data!.Factors.Select(f => f.Spec.Name));
+        var term = anova.Ancova is { Blocks.Count: > 0 } blocked
+            ? string.Join(":", blocked.Treatments)
+            : string.Join(":", anova.Data!.Factors.Select(f => f.Spec.Name));
         Dictionary<string, ResultValue> Group(string test) => outcome.Values[test] = new(StringComparer.Ordinal);
         void Add(Dictionary<string, ResultValue> g, string test, string t, string stat, Quantity q) => g[stat] = context.Results.Add(block.Id, test, t, null, null, stat, q, inputs);
 
@@ -83,7 +85,7 @@ public sealed partial class AssumptionsEvaluator : KindEvaluator
         foreach (var index in review.Outliers.Flagged)
         {
             var r = review.Outliers.Residuals[index];
-            var line = anova.Data.Dataset.Lines[anova.Data.Rows[index]];
+            var line = anova.Data!.Dataset.Lines[anova.Data.Rows[index]];
             var level = "line " + line.ToString(CultureInfo.InvariantCulture);
             outcome.Flagged.Add((line, new Dictionary<string, ResultValue>(StringComparer.Ordinal)
             {

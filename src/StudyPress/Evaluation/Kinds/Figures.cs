@@ -219,7 +219,8 @@ public static class Figures
                 continue;
             }
 
-            var name = string.Join(" × ", t.Factors.Select(n => Name(anova.Factors.First(f => f.Name == n).Display)));
+            // A covariate's row (analysis of covariance) is named by its column.
+            var name = string.Join(" × ", t.Factors.Select(n => Name(anova.Factors.FirstOrDefault(f => f.Name == n)?.Display ?? n)));
             var chart = StatCharts.FDistribution(t.Df, fit.ResidualDf, t.F.Value, fit.Alpha, new ChartLabels(string.Create(CultureInfo.InvariantCulture, $"F({t.Df}, {fit.ResidualDf}) distribution: {name}"), "F", "density"));
             yield return new Figure("f-distribution", caption ?? string.Create(CultureInfo.InvariantCulture, $"The F distribution under no effect of {name}; the shaded region is the rejection region at α = {fit.Alpha.ToString("R", CultureInfo.InvariantCulture)} and the line marks the observed F."), chart) { Part = string.Join("-", t.Factors) };
         }

@@ -105,7 +105,7 @@ public sealed class MethodsEvaluator : KindEvaluator
         var sections = new Dictionary<string, MethodsSection>(StringComparer.Ordinal);
         MethodsSection? SectionFor(string anovaId, bool isCovered)
         {
-            if (context.Outcomes.GetValueOrDefault(anovaId) is not AnovaOutcome { Fit: not null } anova)
+            if (context.Outcomes.GetValueOrDefault(anovaId) is not AnovaOutcome { Fit: not null, Ancova: null } anova)
             {
                 return null;
             }
@@ -150,6 +150,13 @@ public sealed class MethodsEvaluator : KindEvaluator
                     break;
                 case RanksOutcome r when r.Test is not null:
                     outcome.Ranks.Add(r);
+                    break;
+                case PostHocOutcome { Adjusted: true } adjusted when adjusted.Families.Count > 0:
+                    outcome.Others.Add(adjusted);
+                    break;
+                case AnovaOutcome { Ancova: not null } ancova:
+                    // Covariates: the anova renderer writes its own sentences (with its checks and comparisons).
+                    outcome.Others.Add(ancova);
                     break;
                 case AnovaOutcome { Design: not null } design:
                     // A declared layout: the anova renderer writes its own sentences.

@@ -60,6 +60,8 @@ public sealed class PostHocOutcome(BoundBlock block) : BlockOutcome(block)
     /// name, the other factors in it, and its p): the comparison averages over those factors' levels.
     /// </summary>
     public List<(string Term, IReadOnlyList<string> Others, ResultValue P)> Interactions { get; } = [];
+    /// <summary>An analysis of covariance: the comparisons are of adjusted means (covariates at their means).</summary>
+    public bool Adjusted { get; set; }
 }
 
 /// <summary>Evaluates <c>posthoc</c> blocks into values (no HTML, no report text).</summary>
@@ -74,6 +76,11 @@ public sealed partial class PostHocEvaluator : KindEvaluator
     public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
     {
         var options = (PostHocKind.Options)block.Options!;
+        if (context.Outcomes.GetValueOrDefault(block.Of!.Id) is AnovaOutcome { Ancova: { } ancova } covariance)
+        {
+            return EvaluateCovariates(context, block, options, covariance, ancova, diagnostics);
+        }
+
         if (context.Outcomes.GetValueOrDefault(block.Of!.Id) is AnovaOutcome { Route: AnovaRoute.Cells } cells)
         {
             return EvaluateCells(context, block, options, cells, diagnostics);

@@ -24,6 +24,12 @@ public sealed class AnovaRenderer : KindRenderer
     /// <summary>The anova's sentences in a methods paragraph: design, model, decisions, effects, cautions.</summary>
     public override IEnumerable<string> Methods(MethodsPart part, MethodsSection? section, BlockOutcome outcome, MethodsWriter w)
     {
+        if (outcome is AnovaOutcome { Ancova: { } c } covariance)
+        {
+            // An analysis of covariance is told in one place, like a design anova.
+            return part == MethodsPart.Results ? CovariateRendering.MethodsSentences(covariance, c, w) : [];
+        }
+
         if (outcome is AnovaOutcome { Design: { } d } design)
         {
             // A design anova is told outside the one-way/factorial sections, all in one place.
@@ -353,6 +359,14 @@ public sealed class AnovaRenderer : KindRenderer
             yield break;
         }
 
+        if (a.Ancova is { } covariance)
+        {
+            foreach (var warning in CovariateRendering.Warnings(covariance))
+            {
+                yield return warning;
+            }
+        }
+
         if (a.Route == AnovaRoute.Cells)
         {
             if (c.SingleGroups.Count > 0)
@@ -411,6 +425,14 @@ public sealed class AnovaRenderer : KindRenderer
             yield return AnovaEvaluator.CellsMethodNote;
         }
 
+        if (a.Ancova is { } covariance)
+        {
+            foreach (var note in CovariateRendering.Notes(covariance))
+            {
+                yield return note;
+            }
+        }
+
         if (c.DroppedMissing > 0)
         {
             yield return string.Create(CultureInfo.InvariantCulture, $"{c.DroppedMissing} row(s) with a missing value were left out of this analysis.");
@@ -428,6 +450,12 @@ public sealed class AnovaRenderer : KindRenderer
         if (o.Design is { } design)
         {
             DesignRendering.Render(html, o, design, context);
+            return;
+        }
+
+        if (o.Ancova is { } covariance)
+        {
+            CovariateRendering.Render(html, o, covariance, context);
             return;
         }
 

@@ -173,7 +173,9 @@ public sealed class AssumptionsRenderer : KindRenderer
             notes.Add("Independence: " + why + ".");
         }
 
-        notes.Add("Normality is checked on the model's residuals; equal variances across the cells of the design, on the analysed response. p-values at α = " + a + ".");
+        notes.Add(o.Anova?.Ancova is not null
+            ? "Normality is checked on the residuals of the covariance model; equal variances across the cells of the design, on the same residuals (each observation's distance from its group's line). p-values at α = " + a + "."
+            : "Normality is checked on the model's residuals; equal variances across the cells of the design, on the analysed response. p-values at α = " + a + ".");
         foreach (var n in notes)
         {
             html.Raw("<p class=\"method\">").Text(n).Raw("</p>");
@@ -211,14 +213,27 @@ public sealed class AssumptionsRenderer : KindRenderer
             yield return "None of the checks found a problem. That does not prove the assumptions hold (small samples give these checks little power); it means the data give no evidence against them. Look at the residual plots as well.";
         }
 
-        if (r.NonNormal)
+        if (anova.Ancova is not null && (r.NonNormal || r.UnequalVariances))
+        {
+            // An analysis of covariance: Welch's F, Games–Howell and 'transform' are not combined with covariates.
+            if (r.NonNormal)
+            {
+                yield return "The residuals of the covariance model depart from a normal distribution; with small groups the F tests' p-values and the adjusted comparisons may be off. Look at the quantile plot and the outlying observations; a transformation of the response (made in the data, as 'transform' is not combined with 'covariates') may suit these data better.";
+            }
+
+            if (r.UnequalVariances)
+            {
+                yield return "The residual spread differs between groups. The F tests and the comparisons of adjusted means assume one common residual variance, so read their p-values with caution.";
+            }
+        }
+        else if (r.NonNormal)
         {
             yield return r.SmallestGroup >= AssumptionReview.SmallGroup
                 ? "The residuals depart from a normal distribution. With groups of this size the F test is usually robust to moderate non-normality, but skewness or heavy tails can still distort it: look at the quantile plot, and consider a transformation of the response or a rank test."
                 : "The residuals depart from a normal distribution and some groups are small, so the F test's p-value may be off. Consider a transformation of the response (see 'transform') or the Kruskal–Wallis rank test (a 'ranks' block).";
         }
 
-        if (r.UnequalVariances)
+        if (r.UnequalVariances && anova.Ancova is null)
         {
             yield return oneFactor
                 ? "The group variances differ. The classical F test and Tukey's comparisons assume equal variances; Welch's F and the Games–Howell comparisons do not, and are the ones to use here ('welch: auto' and 'method: auto' choose them)."

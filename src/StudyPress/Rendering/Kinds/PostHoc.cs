@@ -25,6 +25,14 @@ public sealed class PostHocRenderer : KindRenderer
     public override IEnumerable<string> Methods(MethodsPart part, MethodsSection? section, BlockOutcome outcome, MethodsWriter w)
     {
         var p = (PostHocOutcome)outcome;
+        if (p.Adjusted)
+        {
+            // Comparisons of an analysis of covariance: told beside its sentences, with the method.
+            return part == MethodsPart.Results && w.Has("comparisons")
+                ? [$"The adjusted means of {MethodsWriter.E(p.FactorLabel)} {w.T("were", "are")} compared pairwise by the analysis of covariance's own comparison ({MethodsWriter.E(p.Families[0].Result.Method)}), each difference with its own standard error from the covariance model, over {MethodsWriter.Df(p.Multiplicity[Stat.M])} comparisons at α = {w.AlphaText}.", .. MethodsComparisonResults(p, w)]
+                : [];
+        }
+
         return part switch
         {
             MethodsPart.Decisions when section is { } s && w.Has("decisions") => MethodsDecision(s, p, w),
@@ -194,6 +202,11 @@ public sealed class PostHocRenderer : KindRenderer
         if (o.EmptyGroups.Count > 0)
         {
             yield return $"Group(s) without any observed response ({string.Join(", ", o.EmptyGroups)}) are not compared: every response in them is missing.";
+        }
+
+        if (o.Adjusted)
+        {
+            yield return $"These are comparisons of ADJUSTED means (every covariate at its mean), not of the raw means, by the analysis of covariance's own comparison: {o.Families[0].Result.Method}. Each difference has its own standard error from the covariance model; they assume parallel slopes (see the homogeneity-of-slopes test of the anova block).";
         }
 
         if (o.FromCells)

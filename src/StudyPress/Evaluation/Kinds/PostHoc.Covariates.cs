@@ -1,0 +1,98 @@
+using StudyPress.Binding;
+using StudyPress.Binding.Kinds;
+using StudyPress.Diagnostics;
+using StudyPress.Statistics;
+using StudyPress.Statistics.Designs;
+using StudyPress.Statistics.FollowUp;
+using StudyPress.Statistics.PostHoc;
+
+namespace StudyPress.Evaluation.Kinds;
+
+public sealed partial class PostHocEvaluator
+{
+    /// <summary>
+    /// Comparisons of an analysis of covariance: pairwise differences of the ADJUSTED means of a
+    /// treatment factor (covariates at their means), each with its own standard error from the
+    /// covariance model, by the engine's adjusted comparison (<see cref="Ancova"/>):
+    /// <c>tukey</c> (and <c>auto</c>): the studentized range with each pair's own SE (Tukey–Kramer
+    /// style; an approximation with covariates); <c>holm</c>: Holm step-down over t tests of the
+    /// adjusted differences with Bonferroni intervals; <c>bonferroni</c>: the same t tests with
+    /// p × m and the same Bonferroni intervals. Refused: Games–Howell (a variance per group of raw
+    /// values), a control, and blocks.
+    /// </summary>
+    private static PostHocOutcome EvaluateCovariates(EvaluationContext context, BoundBlock block, PostHocKind.Options options, AnovaOutcome anova, CovariateAnalysis ancova, DiagnosticBag diagnostics)
+    {
+        var outcome = new PostHocOutcome(block) { Adjusted = true };
+        var of = block.Of!.Id;
+        var factors = anova.Data!.Factors;
+        BlockFactor? factor;
+        if (options.Factor is { } name)
+        {
+            factor = factors.FirstOrDefault(f => f.Spec.Name == name);
+            if (factor is null)
+            {
+                diagnostics.FactorNotInAnova(options.FactorLocation, name, of, DiagnosticBag.Nearest(name, factors.Select(f => f.Spec.Name)));
+                return outcome;
+            }
+
+            if (factor.Spec.Layout.Role == FactorRole.Block)
+            {
+                diagnostics.AncovaPostHocBlock(options.FactorLocation, name);
+                return outcome;
+            }
+        }
+        else if (ancova.Treatments.Count == 1)
+        {
+            factor = factors.First(f => f.Spec.Name == ancova.Treatments[0]);
+        }
+        else
+        {
+            diagnostics.FactorChoiceNeeded(block.Location, of);
+            return outcome;
+        }
+
+        if (options.Method == "games-howell")
+        {
+            diagnostics.AncovaPostHocMethod(options.MethodLocation ?? block.Location, options.Method);
+            return outcome;
+        }
+
+        if (options.Control is not null)
+        {
+            diagnostics.AncovaPostHocControl(options.ControlLocation);
+            return outcome;
+        }
+
+        var method = options.Method == "auto" ? "tukey" : options.Method;
+        var fit = method == "tukey"
+            ? Ancova.Fit(ancova.Input with { Comparisons = AdjustedMeansComparison.TukeyKramer })
+            : ancova.Result;
+        var pairs = fit.Comparisons.Where(c => c.Factor == factor.Spec.Name).ToList();
+        var m = pairs.Count;
+        var comparisons = pairs.Select(c => new PairwiseComparison(
+            c.LevelA,
+            c.LevelB,
+            c.Diff,
+            c.Se,
+            method == "tukey" ? c.T.Map(t => Math.Sqrt(2.0) * Math.Abs(t)) : c.T,
+            c.CiLow,
+            c.CiHigh,
+            method == "bonferroni" ? c.P.Map(p => Math.Min(1.0, p * m)) : c.PAdjusted,
+            Quantity.Of(c.Df))).ToList();
+        var (test, title) = method switch
+        {
+            "tukey" => (TestName.TukeyHsd, "Tukey–Kramer-style comparisons of adjusted means (each pair's own standard error)"),
+            "holm" => (TestName.Holm, "t tests of adjusted-mean differences, Holm-adjusted (Bonferroni intervals)"),
+            _ => (TestName.Bonferroni, "t tests of adjusted-mean differences, Bonferroni-adjusted"),
+        };
+        var result = new PostHocResult(fit.ComparisonMethod, context.Header.Alpha, comparisons, Quantity.Undefined("each pair has its own standard error"));
+        var inputs = context.Inputs(block);
+        var term = factor.Spec.Name;
+        outcome.FactorLabel = factor.Spec.Display;
+        outcome.Families.Add(Record(context, block, test, title, result, term, inputs));
+        outcome.Multiplicity[Stat.M] = context.Results.Add(block.Id, TestName.Family, term, null, null, Stat.M, m, inputs);
+        outcome.Multiplicity[Stat.FwerUnadjusted] = context.Results.Add(block.Id, TestName.Family, term, null, null, Stat.FwerUnadjusted, PValueAdjustment.FamilyWiseErrorRate(m, context.Header.Alpha), inputs);
+        outcome.SingleObservationLevels = factor.Split(anova.Data.Response).Any(g => g.Length < 2);
+        return outcome;
+    }
+}
