@@ -614,6 +614,37 @@ public sealed class DiagnosticBag
     public void RepeatedMixedModelProblem(SourceLocation at, string message) =>
         Error("SP0515", at, "the mixed-model route cannot be fitted: " + message + "; write 'fit: classical' to analyse the complete subjects only");
 
+    // ---- contrasts (SP0280-SP0284 keys, SP0530-SP0534 analysis) ----
+    public void ContrastSumNotZero(SourceLocation at, string name, string sum) =>
+        Error("SP0280", at, $"the coefficients of contrast {Q(name)} sum to {sum}, not 0; a contrast compares levels, so its coefficients must cancel (unlisted levels count as 0)");
+
+    public void ContrastAllZero(SourceLocation at, string name) =>
+        Error("SP0281", at, $"contrast {Q(name)} has no coefficient other than 0, so it compares nothing; give the levels it compares coefficients that sum to 0 (e.g. 'A: 1, B: -1')");
+
+    public void ContrastsNeedCompareOrTrend(SourceLocation at) =>
+        Error("SP0282", at, "a contrasts block needs 'compare' (named contrasts: each a map of level to coefficient) or 'trend' (polynomial trends over numeric levels)");
+
+    public void ContrastsCompareAndTrend(SourceLocation at) =>
+        Error("SP0283", at, "'trend' and 'values' ask for polynomial trends and 'compare' for named contrasts; each contrasts block is one family with one adjustment, so write them in two contrasts blocks");
+
+    public void TrendDegreeText(SourceLocation at, string text) =>
+        Error("SP0284", at, $"'trend' is the highest polynomial degree (a whole number from 1) or 'true' for every degree the levels allow, not {Q(text)}");
+
+    public void ContrastUnknownLevel(SourceLocation at, string level, string factor, string? suggestion) =>
+        Error("SP0530", at, $"{Q(level)} is not a level of factor {Q(factor)} with data{Suggest(suggestion)}");
+
+    public void TrendLevelNotNumber(SourceLocation at, string factor, string level) =>
+        Error("SP0531", at, $"a trend needs a number for each level, and level {Q(level)} of factor {Q(factor)} is not a number; give every level its number with 'values' (a map of level to number)");
+
+    public void TrendValueMissing(SourceLocation at, string factor, string level) =>
+        Error("SP0532", at, $"'values' gives no number for level {Q(level)} of factor {Q(factor)}; give every level with data its number");
+
+    public void TrendDegreeTooHigh(SourceLocation at, int degree, string factor, int levels) =>
+        Error("SP0533", at, string.Create(CultureInfo.InvariantCulture, $"factor {Q(factor)} has {levels} levels with data, which allow polynomial trends up to degree {levels - 1}, not {degree}; write 'trend: {levels - 1}' or 'trend: true'"));
+
+    public void TrendValuesRepeat(SourceLocation at, string factor, string level, string other, string value) =>
+        Error("SP0534", at, $"levels {Q(other)} and {Q(level)} of factor {Q(factor)} have the same number ({value}); a trend needs a distinct number for each level");
+
     // ---- output (SP06xx) ----
     public void CannotWrite(SourceLocation at, string path, string reason) => Error("SP0601", at, $"cannot write {Q(path)}: {reason}");
 

@@ -204,6 +204,9 @@ public static class Stat
     /// <summary>Subjects left out of the classical repeated-measures analysis (incomplete).</summary>
     public const string SubjectsDropped = "subjects_dropped";
 
+    /// <summary>Estimate of a contrast (Σ c_i × mean_i).</summary>
+    public const string Estimate = "estimate";
+
     /// <summary>Stats that are whole numbers (counts, degrees of freedom of exact designs), shown without decimals.</summary>
     public static IReadOnlySet<string> Counts { get; } = new HashSet<string>(StringComparer.Ordinal) { N, Df, Missing, NPerGroup, NTotal, Df1, Df2, M, NBlocks, BlocksDropped, DfDen, SubjectsDropped };
 
@@ -277,6 +280,7 @@ public static class Stat
         [PHf] = "p-value on Huynh–Feldt corrected df",
         [GeneralizedEta2] = "generalized eta squared",
         [SubjectsDropped] = "subjects left out of the classical repeated-measures analysis",
+        [Estimate] = "estimate of a contrast (sum of coefficient × level mean)",
     };
 }
 
@@ -382,6 +386,9 @@ public static class TestName
     /// <summary>Subjects of a repeated-measures block: analysed and left out.</summary>
     public const string Subjects = "subjects";
 
+    /// <summary>A planned contrast or polynomial trend of one factor's level means.</summary>
+    public const string Contrast = "contrast";
+
     /// <summary>Every name, with its meaning (checked against docs/manifest.md by the tests).</summary>
     public static IReadOnlyDictionary<string, string> All { get; } = new Dictionary<string, string>(StringComparer.Ordinal)
     {
@@ -418,5 +425,6 @@ public static class TestName
         [AnovaReml] = "mixed-model (REML) F tests of a repeated-measures block",
         [SimpleEffects] = "simple effects of a within-subject factor",
         [Subjects] = "subjects analysed and left out",
+        [Contrast] = "planned contrast or polynomial trend of level means",
     };
 }
