@@ -132,7 +132,7 @@ factors: [density]
         Relative(m.Get("c", "contrast", "density", "p_adj", "top two"), Math.Min(1, 2 * p), 1e-12, "Bonferroni p");
         Assert.Empty(m.Find("c", "contrast", "density", "ss", "top two"));
         var html = run.Compile().Html;
-        Assert.Contains("&#39;low vs rest&#39; and &#39;top two&#39; orthogonal", html, StringComparison.Ordinal);
+        Assert.Contains("&#39;low vs rest&#39; and &#39;top two&#39; are orthogonal", html, StringComparison.Ordinal);
         Assert.Contains("Bonferroni adjustment over 2 contrasts", html, StringComparison.Ordinal);
     }
 
@@ -144,7 +144,7 @@ factors: [density]
         var csv = Kuehl.Replace("10,12.4\n", string.Empty, StringComparison.Ordinal);
         using var run = Run("compare:\n  a: {\"10\": 1, \"20\": -1}\n  b: {\"10\": 1, \"20\": 1, \"30\": -2}", csv);
         var html = Assert.IsType<string>(run.Compile().Html);
-        Assert.Contains("&#39;a&#39; and &#39;b&#39; not orthogonal", html, StringComparison.Ordinal);
+        Assert.Contains("not orthogonal: &#39;a&#39; and &#39;b&#39;.", html, StringComparison.Ordinal);
     }
 
     [Fact]
@@ -234,6 +234,79 @@ values: {0.0cwt: 0, 0.2cwt: 0.2, 0.4cwt: 0.4, 0.6cwt: 0.6}
     }
 
     [Fact]
+    public void AggregatedData_GiveTheContrastsOfTheLoadedRows()
+    {
+        // The same unbalanced 3 × 2 table (SourcesAggregateTests' fixture) loaded as rows and
+        // aggregated by SQLite into cells: the contrasts of fert agree to 1e-10 relative
+        // (both use the level means and the residual of the same model).
+        const string text = """
+            ---
+            title: Aggregated contrasts
+            data:
+              raw: { path: t.sqlite, query: "select plot, fert, soil, y from t order by plot" }
+              agg: { path: t.sqlite, query: "select plot, fert, soil, y from t order by plot", aggregate: true }
+            response: y
+            factors:
+              fert:
+              soil:
+            ---
+
+            ```anova r
+            data: raw
+            factors: [fert, soil]
+            ```
+
+            ```anova a
+            data: agg
+            factors: [fert, soil]
+            ```
+
+            ```contrasts cr
+            of: r
+            factor: fert
+            compare:
+              ends: {low: 1, high: -1}
+              middle: {low: 1, mid: -2, high: 1}
+            ```
+
+            ```contrasts ca
+            of: a
+            factor: fert
+            compare:
+              ends: {low: 1, high: -1}
+              middle: {low: 1, mid: -2, high: 1}
+            ```
+            """;
+        using var run = new StudyRun().Study(text);
+        SourcesAggregateTests.SqliteDb(Path.Combine(run.Folder, "t.sqlite"));
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        var m = new ManifestView(result.ManifestJson!);
+        foreach (var name in new[] { "ends", "middle" })
+        {
+            foreach (var stat in new[] { "estimate", "se", "statistic", "p", "p_adj", "ci_low", "ci_high" })
+            {
+                Relative(m.Get("ca", "contrast", "fert", stat, name), m.Get("cr", "contrast", "fert", stat, name), 1e-10, name + " " + stat);
+            }
+        }
+
+        // Unequal cell counts with another factor: the caution says the means are raw pooled means.
+        Assert.Contains("raw means pooled over the other factors", result.Html, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void MixedModelRoute_IsRefused()
+    {
+        // Clewer and Scarisbrick's wheat RCBD with one plot removed: the anova is fitted by REML,
+        // and contrasts of its marginal means are refused with one message.
+        var csv = string.Join("\n", File.ReadAllText(ReferenceFiles.PathOf("rcbd", "clewer-wheat.csv")).Split('\n').Where(l => !l.Contains("B2,V3", StringComparison.Ordinal)));
+        using var run = new StudyRun().File("data/wheat.csv", csv).Study("---\ntitle: Wheat\ndata: data/wheat.csv\nresponse: yield\nfactors:\n  block:\n    role: block\n  variety:\n---\n\n```anova main\n```\n\n```contrasts c\ncompare:\n  one: {V1: 1, V2: -1}\n```\n");
+        var d = Assert.Single(run.Compile().Diagnostics);
+        Assert.Equal("SP0397", d.Code);
+        Assert.Contains("mixed model (REML)", d.Message, StringComparison.Ordinal);
+    }
+
+    [Fact]
     public void MethodsText_NamesTheContrastsAndTheAdjustment()
     {
         using var run = new StudyRun().File("kuehl.csv", Kuehl).Study(Study("compare:\n  low vs rest: {\"10\": 4, \"20\": -1, \"30\": -1, \"40\": -1, \"50\": -1}\n  top two: {\"40\": 1, \"50\": -1}") + "\n```methods text\n```\n");
@@ -247,12 +320,13 @@ values: {0.0cwt: 0, 0.2cwt: 0.2, 0.4cwt: 0.4, 0.6cwt: 0.6}
     // Lines are counted from 0 in diagnostics (the CLI prints them from 1): the block's first key is line 12.
     [Theory]
     [InlineData("adjust: holm", "SP0282", 11)]
-    [InlineData("compare:\n  a: {\"10\": 1, \"20\": -1}\ntrend: true", "SP0283", 14)]
+    [InlineData("compare:\n  a: {\"10\": 1, \"20\": -1}\ntrend: true", "SP0282", 14)]
+    [InlineData("values: {\"10\": 1}", "SP0282", 12)]
     [InlineData("compare:\n  a:\n    \"10\": 1\n    \"20\": -1\n  b:\n    \"10\": 1\n    \"20\": 1", "SP0280", 16)]
     [InlineData("compare:\n  a:\n    \"10\": 0\n    \"20\": 0", "SP0281", 13)]
     [InlineData("trend: linear", "SP0284", 12)]
     [InlineData("compare:\n  a:\n    \"10\": 1\n    \"25\": -1", "SP0530", 15)]
-    [InlineData("trend: true\nvalues:\n  \"10\": 1\n  \"20\": 2\n  \"30\": 3\n  \"40\": 4", "SP0532", 13)]
+    [InlineData("trend: true\nvalues:\n  \"10\": 1\n  \"20\": 2\n  \"30\": 3\n  \"40\": 4", "SP0531", 13)]
     [InlineData("trend: 5", "SP0533", 12)]
     [InlineData("trend: true\nvalues:\n  \"10\": 1\n  \"20\": 2\n  \"30\": 3\n  \"40\": 4\n  \"50\": 2", "SP0534", 18)]
     [InlineData("trend: true\nadjust: tukey", "SP0209", 13)]
@@ -268,6 +342,35 @@ values: {0.0cwt: 0, 0.2cwt: 0.2, 0.4cwt: 0.4, 0.6cwt: 0.6}
         Assert.Equal(code, d.Code);
         Assert.Equal(line, d.Location.Line);
         Assert.False(result.Succeeded);
+    }
+
+    [Fact]
+    public void TooManyContrasts_IsOneErrorAtTheFirstOneTooMany()
+    {
+        // 101 contrasts: refused before any is evaluated (their orthogonality alone is 5050 pairs).
+        var keys = "compare:\n" + string.Concat(Enumerable.Range(0, 101).Select(i => string.Create(CultureInfo.InvariantCulture, $"  c{i}: {{\"10\": 1, \"20\": -1}}\n")));
+        using var run = Run(keys.TrimEnd('\n'));
+        var d = Assert.Single(run.Compile().Diagnostics);
+        Assert.Equal("SP0283", d.Code);
+        Assert.Equal(13 + 100, d.Location.Line);
+    }
+
+    [Fact]
+    public void TrendOverTooManyLevels_IsOneErrorAtTrend()
+    {
+        // 101 numeric levels, two plots each (fixture data): 'compare' works over them, 'trend' is refused.
+        var sb = new System.Text.StringBuilder("density,yield\n");
+        for (var i = 0; i < 101; i++)
+        {
+            sb.Append(CultureInfo.InvariantCulture, $"{i},{i % 7}.5\n{i},{i % 5}.25\n");
+        }
+
+        using var run = Run("trend: true", sb.ToString());
+        var d = Assert.Single(run.Compile().Diagnostics);
+        Assert.Equal("SP0532", d.Code);
+        Assert.Equal(12, d.Location.Line);
+        using var compare = Run("compare:\n  ends: {\"0\": 1, \"100\": -1}", sb.ToString());
+        Assert.Single(Built(compare).Find("c", "contrast", "density", "estimate", "ends"));
     }
 
     [Fact]

@@ -621,11 +621,11 @@ public sealed class DiagnosticBag
     public void ContrastAllZero(SourceLocation at, string name) =>
         Error("SP0281", at, $"contrast {Q(name)} has no coefficient other than 0, so it compares nothing; give the levels it compares coefficients that sum to 0 (e.g. 'A: 1, B: -1')");
 
-    public void ContrastsNeedCompareOrTrend(SourceLocation at) =>
-        Error("SP0282", at, "a contrasts block needs 'compare' (named contrasts: each a map of level to coefficient) or 'trend' (polynomial trends over numeric levels)");
+    public void ContrastsOneFamily(SourceLocation at) =>
+        Error("SP0282", at, "a contrasts block asks for one family: 'compare' (named contrasts, each a map of level to coefficient) or 'trend' (polynomial trends over numeric levels, with 'values' when the level names are not numbers); for both, write two contrasts blocks");
 
-    public void ContrastsCompareAndTrend(SourceLocation at) =>
-        Error("SP0283", at, "'trend' and 'values' ask for polynomial trends and 'compare' for named contrasts; each contrasts block is one family with one adjustment, so write them in two contrasts blocks");
+    public void TooManyContrasts(SourceLocation at, int count, int max) =>
+        Error("SP0283", at, string.Create(CultureInfo.InvariantCulture, $"'compare' lists {count} contrasts, and a contrasts block holds at most {max}; planned contrasts are few (a factor with k levels has k − 1 independent ones), so split the family or choose the contrasts that answer the study's questions"));
 
     public void TrendDegreeText(SourceLocation at, string text) =>
         Error("SP0284", at, $"'trend' is the highest polynomial degree (a whole number from 1) or 'true' for every degree the levels allow, not {Q(text)}");
@@ -633,11 +633,11 @@ public sealed class DiagnosticBag
     public void ContrastUnknownLevel(SourceLocation at, string level, string factor, string? suggestion) =>
         Error("SP0530", at, $"{Q(level)} is not a level of factor {Q(factor)} with data{Suggest(suggestion)}");
 
-    public void TrendLevelNotNumber(SourceLocation at, string factor, string level) =>
-        Error("SP0531", at, $"a trend needs a number for each level, and level {Q(level)} of factor {Q(factor)} is not a number; give every level its number with 'values' (a map of level to number)");
+    public void TrendLevelWithoutNumber(SourceLocation at, string factor, string level) =>
+        Error("SP0531", at, $"a trend needs a number for each level, and level {Q(level)} of factor {Q(factor)} has none (its name is not a number, and 'values' gives none); give every level with data its number with 'values' (a map of level to number)");
 
-    public void TrendValueMissing(SourceLocation at, string factor, string level) =>
-        Error("SP0532", at, $"'values' gives no number for level {Q(level)} of factor {Q(factor)}; give every level with data its number");
+    public void TrendTooManyLevels(SourceLocation at, string factor, int levels, int max) =>
+        Error("SP0532", at, string.Create(CultureInfo.InvariantCulture, $"factor {Q(factor)} has {levels} levels with data, and polynomial trends are fitted over at most {max} levels (polynomials of a higher degree describe nothing the data can show); compare chosen levels with 'compare', or group the levels"));
 
     public void TrendDegreeTooHigh(SourceLocation at, int degree, string factor, int levels) =>
         Error("SP0533", at, string.Create(CultureInfo.InvariantCulture, $"factor {Q(factor)} has {levels} levels with data, which allow polynomial trends up to degree {levels - 1}, not {degree}; write 'trend: {levels - 1}' or 'trend: true'"));

@@ -20,6 +20,12 @@ public sealed class ContrastsKind : BlockKind
     [ModuleInitializer]
     internal static void Register() => BlockKinds.Register(new ContrastsKind());
 
+    /// <summary>The most named contrasts one block holds (their orthogonality is reported pair by pair).</summary>
+    public const int MaxContrasts = 100;
+
+    /// <summary>The most levels a trend is fitted over (k − 1 orthogonal polynomials are built, at O(k³)).</summary>
+    public const int MaxTrendLevels = 100;
+
     /// <summary>The adjustments <c>adjust</c> accepts.</summary>
     public static readonly string[] Adjustments = ["holm", "bonferroni", "scheffe", "none"];
 
@@ -79,7 +85,7 @@ public sealed class ContrastsKind : BlockKind
         {
             if (!keys.Misspelt.Contains("compare") && !keys.Misspelt.Contains("trend"))
             {
-                diagnostics.ContrastsNeedCompareOrTrend(context.Syntax.Location);
+                diagnostics.ContrastsOneFamily(hasValues ? keys.KeyLocation("values") : context.Syntax.Location);
             }
 
             return null;
@@ -87,7 +93,7 @@ public sealed class ContrastsKind : BlockKind
 
         if (hasCompare && (hasTrend || hasValues))
         {
-            diagnostics.ContrastsCompareAndTrend(keys.KeyLocation(hasTrend ? "trend" : "values"));
+            diagnostics.ContrastsOneFamily(keys.KeyLocation(hasTrend ? "trend" : "values"));
             return null;
         }
 
@@ -159,6 +165,12 @@ public sealed class ContrastsKind : BlockKind
         if (node is not YMapping map || map.Entries.Count == 0)
         {
             diagnostics.ExpectedMapping(node.Location, "'compare' (each contrast's name, then a map of level to coefficient)");
+            return null;
+        }
+
+        if (map.Entries.Count > MaxContrasts)
+        {
+            diagnostics.TooManyContrasts(map.Entries[MaxContrasts].Key.Location, map.Entries.Count, MaxContrasts);
             return null;
         }
 

@@ -239,6 +239,12 @@ public sealed class ContrastsEvaluator : KindEvaluator
         }
 
         // Polynomial trends: the levels' numbers, from 'values' or from the level names.
+        if (names.Length > ContrastsKind.MaxTrendLevels)
+        {
+            diagnostics.TrendTooManyLevels(options.TrendLocation, factorName, names.Length, ContrastsKind.MaxTrendLevels);
+            return outcome;
+        }
+
         var numbers = new double[names.Length];
         if (options.Values is { } given)
         {
@@ -255,7 +261,7 @@ public sealed class ContrastsEvaluator : KindEvaluator
             {
                 if (given.FirstOrDefault(v => v.Level == names[i]) is not { } v)
                 {
-                    diagnostics.TrendValueMissing(options.ValuesLocation, factorName, names[i]);
+                    diagnostics.TrendLevelWithoutNumber(options.ValuesLocation, factorName, names[i]);
                     return outcome;
                 }
 
@@ -268,7 +274,7 @@ public sealed class ContrastsEvaluator : KindEvaluator
             {
                 if (!double.TryParse(names[i], NumberStyles.Float, CultureInfo.InvariantCulture, out numbers[i]) || !double.IsFinite(numbers[i]))
                 {
-                    diagnostics.TrendLevelNotNumber(options.TrendLocation, factorName, names[i]);
+                    diagnostics.TrendLevelWithoutNumber(options.TrendLocation, factorName, names[i]);
                     return outcome;
                 }
             }

@@ -213,12 +213,20 @@ public sealed class ContrastsRenderer : KindRenderer
         }
         else if (o.Orthogonality.Count > 0)
         {
-            var pairs = o.Orthogonality.Select(p => $"'{p.First}' and '{p.Second}' {(p.OrthogonalWeighted ? "orthogonal" : "not orthogonal")}");
-            var all = o.Orthogonality.All(p => p.OrthogonalWeighted);
-            yield return "Orthogonality of the contrasts (Σ cᵢ dᵢ / nᵢ = 0, weighted by the group sizes, so that the estimates are uncorrelated): " + string.Join("; ", pairs) + ". "
-                + (all
-                    ? "Being orthogonal, their tests use independent parts of the between-level variation."
-                    : "Contrasts that are not orthogonal share information: their tests are correlated and their sums of squares do not add up to the factor's.");
+            // Weighted by the group sizes, Σ cᵢ dᵢ / nᵢ = 0 is the condition for uncorrelated estimates.
+            const string Rule = "Orthogonality of the contrasts is judged by Σ cᵢ dᵢ / nᵢ = 0 (weighted by the group sizes, the condition for uncorrelated estimates; for equal groups the usual Σ cᵢ dᵢ = 0): ";
+            var not = o.Orthogonality.Where(p => !p.OrthogonalWeighted).ToList();
+            if (not.Count == 0)
+            {
+                yield return Rule + (o.Orthogonality.Count == 1 ? $"'{o.Orthogonality[0].First}' and '{o.Orthogonality[0].Second}' are orthogonal" : "every pair is orthogonal") + ", so their tests use independent parts of the between-level variation.";
+            }
+            else
+            {
+                var shown = not.Take(20).Select(p => $"'{p.First}' and '{p.Second}'");
+                var more = not.Count > 20 ? string.Create(CultureInfo.InvariantCulture, $" and {not.Count - 20} more pairs") : string.Empty;
+                var rest = not.Count < o.Orthogonality.Count ? "; the other pairs are orthogonal" : string.Empty;
+                yield return Rule + "not orthogonal: " + string.Join("; ", shown) + more + rest + ". Contrasts that are not orthogonal share information: their tests are correlated and their sums of squares do not add up to the factor's.";
+            }
         }
     }
 
