@@ -101,6 +101,17 @@ factors: [density]
     }
 
     [Fact]
+    public void ExtremeLevelNumbers_GiveTheSameTrends()
+    {
+        // Equally spaced numbers near the ends of the double range: the trends depend on the
+        // numbers only up to shift and scale, so the SS are Kuehl's (exact recomputation) again.
+        using var run = Run("trend: true\nadjust: none\nvalues: {\"10\": -1e308, \"20\": -5e307, \"30\": 0, \"40\": 5e307, \"50\": 1e308}");
+        var m = Built(run);
+        Relative(m.Get("c", "contrast", "density", "ss", "linear"), 43.2, 1e-10, "linear SS");
+        Relative(m.Get("c", "contrast", "density", "ss", "quadratic"), 42, 1e-10, "quadratic SS");
+    }
+
+    [Fact]
     public void LowerDegree_ShowsTheLackOfFit()
     {
         // trend: 2 leaves the cubic and quartic SS as lack of fit: 0.3 + 2.1 = 2.4 on 2 df,
@@ -307,6 +318,33 @@ values: {0.0cwt: 0, 0.2cwt: 0.2, 0.4cwt: 0.4, 0.6cwt: 0.6}
     }
 
     [Fact]
+    public void QuasiF_IsRefused()
+    {
+        // A fixed factor crossed with two random factors (all interactions): its F test is a
+        // quasi-F, so no single mean square is its error (fixture data).
+        var sb = new System.Text.StringBuilder("a,b,c,y\n");
+        for (var a = 0; a < 2; a++)
+        {
+            for (var b = 0; b < 3; b++)
+            {
+                for (var c = 0; c < 3; c++)
+                {
+                    for (var r = 0; r < 2; r++)
+                    {
+                        sb.Append(CultureInfo.InvariantCulture, $"a{a},b{b},c{c},{((a * 7) + (b * 3) + (c * 5) + (r * 11)) % 13}.5\n");
+                    }
+                }
+            }
+        }
+
+        using var run = new StudyRun().File("d.csv", sb.ToString()).Study("---\ntitle: Q\ndata: d.csv\nresponse: y\nfactors:\n  a:\n  b:\n    role: random\n  c:\n    role: random\n---\n\n```anova main\n```\n\n```contrasts k\nfactor: a\ncompare:\n  one: {a0: 1, a1: -1}\n```\n");
+        var d = Assert.Single(run.Compile().Diagnostics);
+        Assert.Equal("SP0397", d.Code);
+        Assert.Contains("no single error mean square", d.Message, StringComparison.Ordinal);
+        Assert.Equal(16, d.Location.Line);
+    }
+
+    [Fact]
     public void MethodsText_NamesTheContrastsAndTheAdjustment()
     {
         using var run = new StudyRun().File("kuehl.csv", Kuehl).Study(Study("compare:\n  low vs rest: {\"10\": 4, \"20\": -1, \"30\": -1, \"40\": -1, \"50\": -1}\n  top two: {\"40\": 1, \"50\": -1}") + "\n```methods text\n```\n");
@@ -324,6 +362,9 @@ values: {0.0cwt: 0, 0.2cwt: 0.2, 0.4cwt: 0.4, 0.6cwt: 0.6}
     [InlineData("values: {\"10\": 1}", "SP0282", 12)]
     [InlineData("compare:\n  a:\n    \"10\": 1\n    \"20\": -1\n  b:\n    \"10\": 1\n    \"20\": 1", "SP0280", 16)]
     [InlineData("compare:\n  a:\n    \"10\": 0\n    \"20\": 0", "SP0281", 13)]
+    [InlineData("compare:\n  a:\n    \"10\": 1e200\n    \"20\": -1e200", "SP0281", 14)]
+    [InlineData("compare:\n  a:\n    \"10\": 1e-300\n    \"20\": -1e-300", "SP0281", 14)]
+    [InlineData("trend: true\nvalues:\n  \"10\": 1e308\n  \"20\": 1e-300\n  \"30\": 0\n  \"40\": 1\n  \"50\": 2", "SP0534", 16)]
     [InlineData("trend: linear", "SP0284", 12)]
     [InlineData("compare:\n  a:\n    \"10\": 1\n    \"25\": -1", "SP0530", 15)]
     [InlineData("trend: true\nvalues:\n  \"10\": 1\n  \"20\": 2\n  \"30\": 3\n  \"40\": 4", "SP0531", 13)]

@@ -618,8 +618,8 @@ public sealed class DiagnosticBag
     public void ContrastSumNotZero(SourceLocation at, string name, string sum) =>
         Error("SP0280", at, $"the coefficients of contrast {Q(name)} sum to {sum}, not 0; a contrast compares levels, so its coefficients must cancel (unlisted levels count as 0)");
 
-    public void ContrastAllZero(SourceLocation at, string name) =>
-        Error("SP0281", at, $"contrast {Q(name)} has no coefficient other than 0, so it compares nothing; give the levels it compares coefficients that sum to 0 (e.g. 'A: 1, B: -1')");
+    public void ContrastCoefficientRange(SourceLocation at, string name, string text) =>
+        Error("SP0281", at, $"contrast {Q(name)} needs some coefficient other than 0, and every coefficient other than 0 between 0.000001 and 1000000 in size, not {Q(text)}; coefficients only weigh the levels against each other, so write them as e.g. 'A: 1, B: 1, C: -2'");
 
     public void ContrastsOneFamily(SourceLocation at) =>
         Error("SP0282", at, "a contrasts block asks for one family: 'compare' (named contrasts, each a map of level to coefficient) or 'trend' (polynomial trends over numeric levels, with 'values' when the level names are not numbers); for both, write two contrasts blocks");
@@ -642,8 +642,8 @@ public sealed class DiagnosticBag
     public void TrendDegreeTooHigh(SourceLocation at, int degree, string factor, int levels) =>
         Error("SP0533", at, string.Create(CultureInfo.InvariantCulture, $"factor {Q(factor)} has {levels} levels with data, which allow polynomial trends up to degree {levels - 1}, not {degree}; write 'trend: {levels - 1}' or 'trend: true'"));
 
-    public void TrendValuesRepeat(SourceLocation at, string factor, string level, string other, string value) =>
-        Error("SP0534", at, $"levels {Q(other)} and {Q(level)} of factor {Q(factor)} have the same number ({value}); a trend needs a distinct number for each level");
+    public void TrendValuesRepeat(SourceLocation at, string factor, string level, string other, string value, string otherValue) =>
+        Error("SP0534", at, $"levels {Q(other)} and {Q(level)} of factor {Q(factor)} have numbers ({otherValue} and {value}) that a trend cannot tell apart (equal, or closer than a billionth of the range of the numbers); give each level a distinct number");
 
     // ---- output (SP06xx) ----
     public void CannotWrite(SourceLocation at, string path, string reason) => Error("SP0601", at, $"cannot write {Q(path)}: {reason}");

@@ -226,7 +226,15 @@ public sealed class ContrastsKind : BlockKind
             var values = coefficients.Select(c => c.Value).ToList();
             if (values.All(v => v == 0))
             {
-                diagnostics.ContrastAllZero(e.Key.Location, e.Key.Value);
+                diagnostics.ContrastCoefficientRange(e.Key.Location, e.Key.Value, "0");
+                ok = false;
+                continue;
+            }
+
+            // Sizes far from 1 would overflow or vanish in Σ c²/n; they carry no meaning beyond the ratios.
+            if (levels.Entries.Zip(values).FirstOrDefault(x => x.Second != 0 && !(Math.Abs(x.Second) >= 1e-6 && Math.Abs(x.Second) <= 1e6)) is { First: { } bad })
+            {
+                diagnostics.ContrastCoefficientRange(bad.Value.Location, e.Key.Value, ((YScalar)bad.Value).Value);
                 ok = false;
                 continue;
             }

@@ -280,14 +280,20 @@ public sealed class ContrastsEvaluator : KindEvaluator
             }
         }
 
+        // The trends depend on the numbers only up to a shift and a scale: divided by the largest
+        // size they lie in [-1, 1] (no overflow in the engine's centring). Numbers closer than a
+        // billionth of their range cannot be told apart by polynomials of any use.
+        var largest = numbers.Max(Math.Abs);
+        var scaled = numbers.Select(v => largest > 0 ? v / largest : v).ToArray();
+        var range = scaled.Max() - scaled.Min();
         for (var i = 0; i < names.Length; i++)
         {
             for (var j = 0; j < i; j++)
             {
-                if (numbers[i] == numbers[j])
+                if (!(Math.Abs(scaled[i] - scaled[j]) > 1e-9 * range))
                 {
                     var where = options.Values?.First(v => v.Level == names[i]).At ?? options.TrendLocation;
-                    diagnostics.TrendValuesRepeat(where, factorName, names[i], names[j], numbers[i].ToString("R", CultureInfo.InvariantCulture));
+                    diagnostics.TrendValuesRepeat(where, factorName, names[i], names[j], numbers[i].ToString("R", CultureInfo.InvariantCulture), numbers[j].ToString("R", CultureInfo.InvariantCulture));
                     return outcome;
                 }
             }
@@ -303,7 +309,7 @@ public sealed class ContrastsEvaluator : KindEvaluator
 
         outcome.IsTrend = true;
         outcome.Levels = [.. names.Select((l, i) => (l, numbers[i], n[i]))];
-        var all = Statistics.FollowUp.Contrasts.PolynomialTrends(numbers, n, top);
+        var all = Statistics.FollowUp.Contrasts.PolynomialTrends(scaled, n, top);
         var asked = all.Take(degree).ToList();
         var trendAdjustment = ContrastsKind.AdjustmentFor(options.Adjust, asked.Count);
         var trends = Statistics.FollowUp.Contrasts.OnGroupMeans(m, n, error.MeanSquare, error.Df, asked, trendAdjustment, alpha);
