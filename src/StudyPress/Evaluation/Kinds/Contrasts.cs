@@ -280,11 +280,14 @@ public sealed class ContrastsEvaluator : KindEvaluator
             }
         }
 
-        // The trends depend on the numbers only up to a shift and a scale: divided by the largest
-        // size they lie in [-1, 1] (no overflow in the engine's centring). Numbers closer than a
-        // billionth of their range cannot be told apart by polynomials of any use.
+        // The trends depend on the numbers only up to a shift and a scale: scaled by the power of
+        // two below the largest size they lie within ±2 (no overflow in the engine's centring),
+        // and a power of two scales without rounding, so ordinary numbers give the same results
+        // as unscaled ones. Numbers closer than a billionth of their range cannot be told apart
+        // by polynomials of any use.
         var largest = numbers.Max(Math.Abs);
-        var scaled = numbers.Select(v => largest > 0 ? v / largest : v).ToArray();
+        var exponent = largest > 0 ? Math.ILogB(largest) : 0;
+        var scaled = numbers.Select(v => Math.ScaleB(v, -exponent)).ToArray();
         var range = scaled.Max() - scaled.Min();
         for (var i = 0; i < names.Length; i++)
         {

@@ -37,12 +37,8 @@ public sealed class ContrastsRenderer : KindRenderer
         _ => "the intervals use t at α for each contrast on its own",
     };
 
-    private static string Number(double v)
-    {
-        var r = Math.Round(v, 4);
-        var text = (r == Math.Round(r) ? r.ToString("0", CultureInfo.InvariantCulture) : r.ToString("0.####", CultureInfo.InvariantCulture)).Replace("-", "−", StringComparison.Ordinal);
-        return text == "−0" ? "0" : text;
-    }
+    /// <summary>A coefficient or level number as text: six significant digits, a true minus sign.</summary>
+    private static string Number(double v) => v == 0 ? "0" : v.ToString("G6", CultureInfo.InvariantCulture).Replace("-", "−", StringComparison.Ordinal);
 
     /// <summary>The contrast's coefficients as text: "level: c" for named contrasts (non-zero ones), all in level order for trends.</summary>
     private static string Coefficients(ContrastRow row, bool trend) => trend
@@ -140,7 +136,7 @@ public sealed class ContrastsRenderer : KindRenderer
     {
         var m = o.Rows.Count;
         var e = o.Error!;
-        var text = string.Create(CultureInfo.InvariantCulture, $"Each estimate is Σ cᵢ × meanᵢ over the level means of {o.FactorLabel}{(o.Transformed ? " (on the transformed scale of the anova block)" : string.Empty)}; its SE is √(MS × Σ cᵢ²/nᵢ), with MS = {context.Format.Format(Stat.Ms, e.MeanSquare)} on {e.Df} df, {ErrorName(o)}; t = estimate / SE on those df, two-sided. ");
+        var text = string.Create(CultureInfo.InvariantCulture, $"Each estimate is Σ cᵢ × meanᵢ over the level means of {o.FactorLabel}{(o.Transformed ? " (on the transformed scale of the anova block)" : string.Empty)}; its SE is √(MS × Σ cᵢ²/nᵢ), with MS = {(double.IsFinite(e.MeanSquare) ? context.Format.Format(Stat.Ms, e.MeanSquare) : "not defined")} on {e.Df} df, {ErrorName(o)}; t = estimate / SE on those df, two-sided. ");
         if (o.IsTrend)
         {
             text += "The coefficients are orthogonal polynomials built for the levels' numbers and group sizes (equally spaced levels with equal groups give the usual integer tables); each trend's SS = estimate² / Σ cᵢ²/nᵢ. ";
@@ -241,7 +237,7 @@ public sealed class ContrastsRenderer : KindRenderer
         var m = o.Rows.Count;
         var names = MethodsWriter.List(o.Rows.Select(r => "‘" + MethodsWriter.E(r.Name) + "’"));
         var what = o.IsTrend
-            ? $"the orthogonal polynomial trends of {MethodsWriter.E(o.FactorLabel)} ({names})"
+            ? $"the orthogonal polynomial trend{(m > 1 ? "s" : string.Empty)} of {MethodsWriter.E(o.FactorLabel)} ({names})"
             : $"the planned contrast{(m > 1 ? "s" : string.Empty)} {names} among the levels of {MethodsWriter.E(o.FactorLabel)}";
         var error = o.Error is { Term: not "residual" } e ? "the " + MethodsWriter.E(e.Term) + " mean square" : "the residual mean square";
         yield return w.Did(what, m > 1, "tested", "tested", "test", $" with t tests on {error}, with {AdjustmentText(o.Adjustment, m)}{(o.Transformed ? ", on the transformed scale" : string.Empty)}.");
