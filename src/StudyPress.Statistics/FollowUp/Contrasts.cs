@@ -130,7 +130,7 @@ public static class Contrasts
         }
 
         var k = means.Count;
-        var m = new double[k, k];
+        var inverse = new double[k];
         for (var i = 0; i < k; i++)
         {
             if (counts[i] < 1)
@@ -138,10 +138,23 @@ public static class Contrasts
                 throw new ArgumentException("a level has no observations", nameof(counts));
             }
 
-            m[i, i] = 1.0 / counts[i];
+            inverse[i] = 1.0 / counts[i];
         }
 
-        return Evaluate(means, m, mse, df, contrasts, adjustment, alpha);
+        // M is diagonal: its quadratic forms cost O(k), and no k x k matrix is held (a factor may
+        // have thousands of levels).
+        double Diagonal(IReadOnlyList<double> a, IReadOnlyList<double> b)
+        {
+            double s = 0;
+            for (var i = 0; i < a.Count; i++)
+            {
+                s += a[i] * inverse[i] * b[i];
+            }
+
+            return s;
+        }
+
+        return EvaluateWith(means, Diagonal, mse, df, contrasts, adjustment, alpha);
     }
 
     /// <summary>
@@ -169,6 +182,26 @@ public static class Contrasts
         if (unitCovariance.GetLength(0) != k || unitCovariance.GetLength(1) != k)
         {
             throw new ArgumentException("the covariance matrix does not match the means", nameof(unitCovariance));
+        }
+
+        return EvaluateWith(means, (a, b) => Quadratic(a, unitCovariance, b), mse, df, contrasts, adjustment, alpha);
+    }
+
+    /// <summary>The family on means whose unit covariance is given by its quadratic form a'Mb.</summary>
+    private static ContrastFamily EvaluateWith(
+        IReadOnlyList<double> means,
+        Func<IReadOnlyList<double>, IReadOnlyList<double>, double> quadratic,
+        double mse,
+        int df,
+        IReadOnlyList<ContrastSpec> contrasts,
+        ContrastAdjustment adjustment,
+        double alpha)
+    {
+        ArgumentNullException.ThrowIfNull(contrasts);
+        var k = means.Count;
+        if (k < 2)
+        {
+            throw new ArgumentException("contrasts need at least two levels", nameof(means));
         }
 
         if (contrasts.Count == 0)
@@ -227,10 +260,10 @@ public static class Contrasts
                 l += c[i] * means[i];
             }
 
-            var v = Quadratic(c, unitCovariance, c);
+            var v = quadratic(c, c);
             if (!(v > 0))
             {
-                throw new ArgumentException("contrast '" + contrasts[j].Name + "' has no variance (the covariance matrix is not positive definite)", nameof(unitCovariance));
+                throw new ArgumentException("contrast '" + contrasts[j].Name + "' has no variance (the covariance matrix is not positive definite)", nameof(means));
             }
 
             rows[j] = (l, v);
@@ -282,7 +315,7 @@ public static class Contrasts
                     nb += cb[i] * cb[i];
                 }
 
-                var weighted = Quadratic(ca, unitCovariance, cb);
+                var weighted = quadratic(ca, cb);
                 pairs.Add(new ContrastOrthogonality(
                     contrasts[a].Name,
                     contrasts[b].Name,

@@ -644,6 +644,36 @@ public sealed class DiagnosticBag
 
     public void AncovaCovariateMissing(SourceLocation at, string column) =>
         Error("SP0524", at, $"covariate {Q(column)} has no value in any selected row, so nothing is left to analyse; check the column or the block's 'where'");
+    // ---- contrasts (SP0280-SP0284 keys, SP0530-SP0534 analysis) ----
+    public void ContrastSumNotZero(SourceLocation at, string name, string sum) =>
+        Error("SP0280", at, $"the coefficients of contrast {Q(name)} sum to {sum}, not 0; a contrast compares levels, so its coefficients must cancel (unlisted levels count as 0)");
+
+    public void ContrastCoefficientRange(SourceLocation at, string name, string text) =>
+        Error("SP0281", at, $"contrast {Q(name)} needs some coefficient other than 0, and every coefficient other than 0 between 0.000001 and 1000000 in size, not {Q(text)}; coefficients only weigh the levels against each other, so write them as e.g. 'A: 1, B: 1, C: -2'");
+
+    public void ContrastsOneFamily(SourceLocation at) =>
+        Error("SP0282", at, "a contrasts block asks for one family: 'compare' (named contrasts, each a map of level to coefficient) or 'trend' (polynomial trends over numeric levels, with 'values' when the level names are not numbers); for both, write two contrasts blocks");
+
+    public void TooManyContrasts(SourceLocation at, int count, int max) =>
+        Error("SP0283", at, string.Create(CultureInfo.InvariantCulture, $"'compare' lists {count} contrasts, and a contrasts block holds at most {max}; planned contrasts are few (a factor with k levels has k − 1 independent ones), so split the family or choose the contrasts that answer the study's questions"));
+
+    public void TrendDegreeText(SourceLocation at, string text) =>
+        Error("SP0284", at, $"'trend' is the highest polynomial degree (a whole number from 1) or 'true' for every degree the levels allow, not {Q(text)}");
+
+    public void ContrastUnknownLevel(SourceLocation at, string level, string factor, string? suggestion) =>
+        Error("SP0530", at, $"{Q(level)} is not a level of factor {Q(factor)} with data{Suggest(suggestion)}");
+
+    public void TrendLevelWithoutNumber(SourceLocation at, string factor, string level) =>
+        Error("SP0531", at, $"a trend needs a number for each level, and level {Q(level)} of factor {Q(factor)} has none (its name is not a number, and 'values' gives none); give every level with data its number with 'values' (a map of level to number)");
+
+    public void TrendTooManyLevels(SourceLocation at, string factor, int levels, int max) =>
+        Error("SP0532", at, string.Create(CultureInfo.InvariantCulture, $"factor {Q(factor)} has {levels} levels with data, and polynomial trends are fitted over at most {max} levels (polynomials of a higher degree describe nothing the data can show); compare chosen levels with 'compare', or group the levels"));
+
+    public void TrendDegreeTooHigh(SourceLocation at, int degree, string factor, int levels) =>
+        Error("SP0533", at, string.Create(CultureInfo.InvariantCulture, $"factor {Q(factor)} has {levels} levels with data, which allow polynomial trends up to degree {levels - 1}, not {degree}; write 'trend: {levels - 1}' or 'trend: true'"));
+
+    public void TrendValuesRepeat(SourceLocation at, string factor, string level, string other, string value, string otherValue) =>
+        Error("SP0534", at, $"levels {Q(other)} and {Q(level)} of factor {Q(factor)} have numbers ({otherValue} and {value}) that a trend cannot tell apart (equal, or closer than a billionth of the range of the numbers); give each level a distinct number");
 
     // ---- output (SP06xx) ----
     public void CannotWrite(SourceLocation at, string path, string reason) => Error("SP0601", at, $"cannot write {Q(path)}: {reason}");

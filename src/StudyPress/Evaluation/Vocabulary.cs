@@ -215,7 +215,8 @@ public static class Stat
 
     /// <summary>One-sided p-value against the upper margin (H0: difference at or above it).</summary>
     public const string PUpper = "p_upper";
-    /// <summary>An estimate (a covariate's common slope).</summary>
+
+    /// <summary>An estimate: a covariate's common slope, or a contrast's Σ c_i × mean_i.</summary>
     public const string Estimate = "estimate";
 
     /// <summary>Stats that are whole numbers (counts, degrees of freedom of exact designs), shown without decimals.</summary>
@@ -295,7 +296,7 @@ public static class Stat
         [MarginHigh] = "upper equivalence margin, in response units",
         [PLower] = "one-sided p-value against the lower margin",
         [PUpper] = "one-sided p-value against the upper margin",
-        [Estimate] = "estimate (a covariate's common slope)",
+        [Estimate] = "estimate (a covariate's common slope, or a contrast's sum of coefficient × level mean)",
     };
 }
 
@@ -403,6 +404,7 @@ public static class TestName
 
     /// <summary>Equivalence (two one-sided tests) or non-inferiority of a difference of two level means.</summary>
     public const string Equivalence = "equivalence";
+
     /// <summary>A covariate's common slope in an analysis of covariance.</summary>
     public const string CovariateSlope = "covariate_slope";
 
@@ -411,6 +413,8 @@ public static class TestName
 
     /// <summary>Estimated marginal (adjusted) means.</summary>
     public const string Emmeans = "emmeans";
+    /// <summary>A planned contrast or polynomial trend of one factor's level means.</summary>
+    public const string Contrast = "contrast";
 
     /// <summary>Every name, with its meaning (checked against docs/manifest.md by the tests).</summary>
     public static IReadOnlyDictionary<string, string> All { get; } = new Dictionary<string, string>(StringComparer.Ordinal)
@@ -452,5 +456,6 @@ public static class TestName
         [CovariateSlope] = "a covariate's common slope in an analysis of covariance",
         [SlopesHomogeneity] = "homogeneity-of-slopes test (treatment x covariate interaction)",
         [Emmeans] = "estimated marginal (adjusted) means",
+        [Contrast] = "planned contrast or polynomial trend of level means",
     };
 }

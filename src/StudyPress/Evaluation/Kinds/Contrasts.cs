@@ -1,0 +1,411 @@
+using System.Globalization;
+using System.Runtime.CompilerServices;
+using StudyPress.Binding;
+using StudyPress.Binding.Kinds;
+using StudyPress.Diagnostics;
+using StudyPress.Statistics;
+using StudyPress.Statistics.Designs;
+using StudyPress.Statistics.FollowUp;
+
+namespace StudyPress.Evaluation.Kinds;
+
+/// <summary>One evaluated contrast: its coefficients over the levels (level order, zeros included), the engine's estimate and its manifest values.</summary>
+public sealed record ContrastRow(string Name, IReadOnlyList<(string Level, double Coefficient)> Coefficients, ContrastEstimate Estimate, IReadOnlyDictionary<string, ResultValue> Values);
+
+/// <summary>The outcome of a <c>contrasts</c> block: the family, its adjustment, and for trends the partition of the between-level sum of squares.</summary>
+public sealed class ContrastsOutcome(BoundBlock block) : BlockOutcome(block)
+{
+    public string FactorLabel { get; set; } = string.Empty;
+
+    /// <summary>Whether the contrasts are polynomial trends (else named contrasts).</summary>
+    public bool IsTrend { get; set; }
+
+    /// <summary>The contrasts in the order given (trends by degree).</summary>
+    public List<ContrastRow> Rows { get; } = [];
+
+    /// <summary>Pairwise orthogonality of named contrasts (equal-n sum Σ c d and the 1/n-weighted sum, which decides independence).</summary>
+    public IReadOnlyList<ContrastOrthogonality> Orthogonality { get; set; } = [];
+
+    public ContrastAdjustment Adjustment { get; set; }
+
+    /// <summary>Whether <c>adjust</c> was written (else the default: Holm for several, none for one).</summary>
+    public bool AdjustmentChosen { get; set; }
+
+    /// <summary>The levels with data and their numbers (trends), in level order.</summary>
+    public IReadOnlyList<(string Level, double Value, long Count)> Levels { get; set; } = [];
+
+    /// <summary>Trends below k − 1 degrees: the sum of the higher-degree SS (ss, df, f, p).</summary>
+    public Dictionary<string, ResultValue>? LackOfFit { get; set; }
+
+    /// <summary>Trends: the between-level SS of the level means, Σ n_i (ȳ_i − ȳ)², and its df.</summary>
+    public Dictionary<string, ResultValue>? BetweenLevels { get; set; }
+
+    /// <summary>The anova's SS of the factor, when it equals the between-level SS (one factor, or means that partition it).</summary>
+    public ResultValue? AnovaFactorSs { get; set; }
+
+    /// <summary>The error mean square and df the contrasts use, and its name ("residual" or a design's error term).</summary>
+    public DesignErrorTerm? Error { get; set; }
+
+    public bool Transformed { get; set; }
+
+    /// <summary>The anova has other factors and unequal cell counts: the level means are raw means pooled over them.</summary>
+    public bool PooledUnbalanced { get; set; }
+
+    /// <summary>The anova has other factors (the level means are pooled over them).</summary>
+    public bool OtherFactors { get; set; }
+
+    /// <summary>Levels with a single observation.</summary>
+    public bool SingleObservationLevels { get; set; }
+}
+
+/// <summary>
+/// Evaluates <c>contrasts</c> blocks into values (no HTML, no report text): the factor's level means
+/// (on the anova's response scale) and counts, the error mean square of the factor's F test, the
+/// named contrasts or polynomial trends through <see cref="Statistics.FollowUp.Contrasts"/>.
+/// </summary>
+public sealed class ContrastsEvaluator : KindEvaluator
+{
+    /// <summary>Registers this part of the kind (see DEVELOPERS.md, "Adding an analysis kind").</summary>
+    [ModuleInitializer]
+    internal static void Register() => KindEvaluators.Register(new ContrastsEvaluator());
+
+    /// <summary>The level of the manifest values of the trends' remainder.</summary>
+    public const string LackOfFitLevel = "lack of fit";
+
+    /// <summary>The level of the manifest values of the between-level sum of squares.</summary>
+    public const string BetweenLevelsLevel = "between levels";
+
+    public override string Kind => "contrasts";
+
+    public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
+    {
+        var options = (ContrastsKind.Options)block.Options!;
+        var outcome = new ContrastsOutcome(block);
+        if (context.Outcomes.GetValueOrDefault(block.Of!.Id) is not AnovaOutcome anova)
+        {
+            return outcome;
+        }
+
+        var of = block.Of.Id;
+        string factorName;
+        IReadOnlyList<string> levels;
+        double[] means;
+        long[] counts;
+        DesignErrorTerm error;
+        var at = options.Factor is null ? block.Location : options.FactorLocation;
+        if (anova.Design is { } design && anova.Data is { } designData)
+        {
+            var treatments = designData.Factors.Where(f => f.Spec.Layout.Role == FactorRole.Treatment).ToList();
+            var factor = Choose(designData.Factors, treatments, options, of, block, diagnostics);
+            if (factor is null)
+            {
+                return outcome;
+            }
+
+            if (factor.Spec.Layout.Role != FactorRole.Treatment)
+            {
+                diagnostics.DesignViewUnavailable(options.FactorLocation, "contrasts", factor.Spec.Name, "it is a block or random factor, whose levels are a sample of units rather than treatments to compare; its variance component is in the anova block");
+                return outcome;
+            }
+
+            if (design.Method == DesignMethod.Reml)
+            {
+                diagnostics.DesignViewUnavailable(at, "contrasts", of, "it was fitted as a mixed model (REML), and contrasts of its marginal means are not available in this version; 'fit: classical' applies to balanced data only");
+                return outcome;
+            }
+
+            var row = design.Strata!.Row(factor.Spec.Name);
+            if (row.Denominator is not [{ Coefficient: 1.0 } part] || row.IsQuasiF)
+            {
+                diagnostics.DesignViewUnavailable(at, "contrasts", of, $"{factor.Spec.Name} has no single error mean square in this design (its F test is approximate, against a combination of mean squares), so its contrasts would have no exact standard error");
+                return outcome;
+            }
+
+            factorName = factor.Spec.Name;
+            outcome.FactorLabel = factor.Spec.Display;
+            levels = factor.Levels;
+            (means, counts) = FromGroups(factor.Split(designData.Response));
+            error = new DesignErrorTerm(part.Term, part.MeanSquare, part.Df);
+            outcome.OtherFactors = designData.Factors.Count > 1;
+            outcome.PooledUnbalanced = outcome.OtherFactors && Unbalanced(designData.Cells().Select(c => (long)c.Values.Length));
+        }
+        else if (anova.Route == AnovaRoute.Cells && anova.Fit is { } fit && anova.Cells is { } cells)
+        {
+            var factors = anova.Factors;
+            var k = -1;
+            if (options.Factor is { } name)
+            {
+                k = factors.Select((f, i) => (f, i)).FirstOrDefault(p => p.f.Name == name, (null!, -1)).Item2;
+                if (k < 0)
+                {
+                    diagnostics.FactorNotInAnova(options.FactorLocation, name, of, DiagnosticBag.Nearest(name, factors.Select(f => f.Name)));
+                    return outcome;
+                }
+            }
+            else if (factors.Count == 1)
+            {
+                k = 0;
+            }
+            else
+            {
+                diagnostics.FactorChoiceNeeded(block.Location, of);
+                return outcome;
+            }
+
+            factorName = factors[k].Name;
+            outcome.FactorLabel = factors[k].Display;
+            levels = cells.Levels[k];
+            means = new double[levels.Count];
+            counts = new long[levels.Count];
+            foreach (var c in cells.Cells)
+            {
+                counts[c.Levels[k]] += c.Count;
+                means[c.Levels[k]] += c.Count * c.Mean;
+            }
+
+            for (var i = 0; i < means.Length; i++)
+            {
+                means[i] = counts[i] > 0 ? means[i] / counts[i] : 0;
+            }
+
+            error = new DesignErrorTerm("residual", fit.ResidualMeanSquare.IsDefined ? fit.ResidualMeanSquare.Value : double.NaN, fit.ResidualDf);
+            outcome.OtherFactors = factors.Count > 1;
+            outcome.PooledUnbalanced = outcome.OtherFactors && Unbalanced(cells.Cells.Select(c => c.Count));
+        }
+        else if (anova is { Result: { } result, Data: { } data, Input: { } input })
+        {
+            var factor = Choose(data.Factors, data.Factors, options, of, block, diagnostics);
+            if (factor is null)
+            {
+                return outcome;
+            }
+
+            factorName = factor.Spec.Name;
+            outcome.FactorLabel = factor.Spec.Display;
+            levels = factor.Levels;
+            (means, counts) = FromGroups(factor.Split(input.Response));
+            var ms = result.ResidualMeanSquare;
+            error = new DesignErrorTerm("residual", ms.IsDefined ? ms.Value : double.NaN, result.ResidualDf);
+            outcome.OtherFactors = data.Factors.Count > 1;
+            outcome.PooledUnbalanced = outcome.OtherFactors && Unbalanced(data.Cells().Select(c => (long)c.Values.Length));
+        }
+        else
+        {
+            return outcome;
+        }
+
+        // Levels without any observation take no part (they have no mean).
+        var kept = Enumerable.Range(0, levels.Count).Where(i => counts[i] > 0).ToArray();
+        var names = kept.Select(i => levels[i]).ToArray();
+        var m = kept.Select(i => means[i]).ToArray();
+        var n = kept.Select(i => counts[i]).ToArray();
+        outcome.Error = error;
+        outcome.Transformed = anova.Transformed is not null;
+        outcome.SingleObservationLevels = n.Any(x => x < 2);
+        if (names.Length < 2)
+        {
+            return outcome;
+        }
+
+        var alpha = context.Header.Alpha;
+        var inputs = context.Inputs(block);
+        if (options.Compare is { } compare)
+        {
+            var specs = new List<ContrastSpec>();
+            foreach (var c in compare)
+            {
+                var coefficients = new double[names.Length];
+                foreach (var x in c.Coefficients)
+                {
+                    var i = Array.IndexOf(names, x.Level);
+                    if (i < 0)
+                    {
+                        diagnostics.ContrastUnknownLevel(x.At, x.Level, factorName, DiagnosticBag.Nearest(x.Level, names));
+                        return outcome;
+                    }
+
+                    coefficients[i] = x.Value;
+                }
+
+                specs.Add(new ContrastSpec(c.Name, coefficients));
+            }
+
+            var adjustment = ContrastsKind.AdjustmentFor(options.Adjust, specs.Count);
+            var family = Statistics.FollowUp.Contrasts.OnGroupMeans(m, n, error.MeanSquare, error.Df, specs, adjustment, alpha);
+            Record(context, block, outcome, factorName, names, family, false, inputs);
+            outcome.Orthogonality = family.Orthogonality;
+            outcome.Levels = [.. names.Select((l, i) => (l, double.NaN, n[i]))];
+            return outcome;
+        }
+
+        // Polynomial trends: the levels' numbers, from 'values' or from the level names.
+        if (names.Length > ContrastsKind.MaxTrendLevels)
+        {
+            diagnostics.TrendTooManyLevels(options.TrendLocation, factorName, names.Length, ContrastsKind.MaxTrendLevels);
+            return outcome;
+        }
+
+        var numbers = new double[names.Length];
+        if (options.Values is { } given)
+        {
+            foreach (var v in given)
+            {
+                if (Array.IndexOf(names, v.Level) < 0)
+                {
+                    diagnostics.ContrastUnknownLevel(v.At, v.Level, factorName, DiagnosticBag.Nearest(v.Level, names));
+                    return outcome;
+                }
+            }
+
+            for (var i = 0; i < names.Length; i++)
+            {
+                if (given.FirstOrDefault(v => v.Level == names[i]) is not { } v)
+                {
+                    diagnostics.TrendLevelWithoutNumber(options.ValuesLocation, factorName, names[i]);
+                    return outcome;
+                }
+
+                numbers[i] = v.Value;
+            }
+        }
+        else
+        {
+            for (var i = 0; i < names.Length; i++)
+            {
+                if (!double.TryParse(names[i], NumberStyles.Float, CultureInfo.InvariantCulture, out numbers[i]) || !double.IsFinite(numbers[i]))
+                {
+                    diagnostics.TrendLevelWithoutNumber(options.TrendLocation, factorName, names[i]);
+                    return outcome;
+                }
+            }
+        }
+
+        // The trends depend on the numbers only up to a shift and a scale: scaled by the power of
+        // two below the largest size they lie within ±2 (no overflow in the engine's centring),
+        // and a power of two scales without rounding, so ordinary numbers give the same results
+        // as unscaled ones. Numbers closer than a billionth of their range cannot be told apart
+        // by polynomials of any use.
+        var largest = numbers.Max(Math.Abs);
+        var exponent = largest > 0 ? Math.ILogB(largest) : 0;
+        var scaled = numbers.Select(v => Math.ScaleB(v, -exponent)).ToArray();
+        var range = scaled.Max() - scaled.Min();
+        for (var i = 0; i < names.Length; i++)
+        {
+            for (var j = 0; j < i; j++)
+            {
+                if (!(Math.Abs(scaled[i] - scaled[j]) > 1e-9 * range))
+                {
+                    var where = options.Values?.First(v => v.Level == names[i]).At ?? options.TrendLocation;
+                    diagnostics.TrendValuesRepeat(where, factorName, names[i], names[j], numbers[i].ToString("R", CultureInfo.InvariantCulture), numbers[j].ToString("R", CultureInfo.InvariantCulture));
+                    return outcome;
+                }
+            }
+        }
+
+        var top = names.Length - 1;
+        var degree = options.TrendDegree is 0 or null ? top : options.TrendDegree.Value;
+        if (degree > top)
+        {
+            diagnostics.TrendDegreeTooHigh(options.TrendLocation, degree, factorName, names.Length);
+            return outcome;
+        }
+
+        outcome.IsTrend = true;
+        outcome.Levels = [.. names.Select((l, i) => (l, numbers[i], n[i]))];
+        var all = Statistics.FollowUp.Contrasts.PolynomialTrends(scaled, n, top);
+        var asked = all.Take(degree).ToList();
+        var trendAdjustment = ContrastsKind.AdjustmentFor(options.Adjust, asked.Count);
+        var trends = Statistics.FollowUp.Contrasts.OnGroupMeans(m, n, error.MeanSquare, error.Df, asked, trendAdjustment, alpha);
+        Record(context, block, outcome, factorName, names, trends, true, inputs);
+
+        // The partition: Σ n_i (ȳ_i − ȳ)² on k − 1 df, and the higher degrees' SS as the lack of fit.
+        double total = 0, grand = 0;
+        for (var i = 0; i < m.Length; i++)
+        {
+            total += n[i];
+            grand += n[i] * m[i];
+        }
+
+        grand /= total;
+        double between = 0;
+        for (var i = 0; i < m.Length; i++)
+        {
+            between += n[i] * (m[i] - grand) * (m[i] - grand);
+        }
+
+        Dictionary<string, ResultValue> Values(string level, params (string Stat, Quantity Value)[] values) =>
+            values.ToDictionary(v => v.Stat, v => context.Results.Add(block.Id, TestName.Contrast, factorName, level, null, v.Stat, v.Value, inputs), StringComparer.Ordinal);
+
+        if (degree < top)
+        {
+            var rest = Statistics.FollowUp.Contrasts.OnGroupMeans(m, n, error.MeanSquare, error.Df, all.Skip(degree).ToList(), ContrastAdjustment.None, alpha);
+            var ss = rest.Contrasts.Sum(c => c.SumOfSquares.Value);
+            var df = top - degree;
+            var defined = error.Df >= 1 && error.MeanSquare > 0 && double.IsFinite(error.MeanSquare);
+            var f = defined ? Quantity.Of(ss / df / error.MeanSquare) : Quantity.Undefined("the error mean square is not defined");
+            var p = f.IsDefined ? Quantity.Of(Probability.FUpper(f.Value, df, error.Df)) : f;
+            outcome.LackOfFit = Values(LackOfFitLevel, (Stat.Ss, Quantity.Of(ss)), (Stat.Df, Quantity.Of(df)), (Stat.F, f), (Stat.P, p));
+        }
+
+        outcome.BetweenLevels = Values(BetweenLevelsLevel, (Stat.Ss, Quantity.Of(between)), (Stat.Df, Quantity.Of(top)));
+        if (anova.Terms.FirstOrDefault(t => t.Term.Name == factorName) is { Values: { } tv } && tv.TryGetValue(Stat.Ss, out var anovaSs)
+            && anovaSs.Value.IsDefined && Math.Abs(anovaSs.Value.Value - between) <= 1e-9 * Math.Max(Math.Abs(between), 1e-300))
+        {
+            outcome.AnovaFactorSs = anovaSs;
+        }
+
+        return outcome;
+    }
+
+    private static BlockFactor? Choose(IReadOnlyList<BlockFactor> factors, IReadOnlyList<BlockFactor> candidates, ContrastsKind.Options options, string of, BoundBlock block, DiagnosticBag diagnostics)
+    {
+        if (options.Factor is { } name)
+        {
+            var factor = factors.FirstOrDefault(f => f.Spec.Name == name);
+            if (factor is null)
+            {
+                diagnostics.FactorNotInAnova(options.FactorLocation, name, of, DiagnosticBag.Nearest(name, candidates.Select(f => f.Spec.Name)));
+            }
+
+            return factor;
+        }
+
+        if (candidates.Count == 1)
+        {
+            return candidates[0];
+        }
+
+        diagnostics.FactorChoiceNeeded(block.Location, of);
+        return null;
+    }
+
+    private static (double[] Means, long[] Counts) FromGroups(double[][] groups) =>
+        ([.. groups.Select(g => g.Length > 0 ? Groups.Mean(g) : 0)], [.. groups.Select(g => (long)g.Length)]);
+
+    private static bool Unbalanced(IEnumerable<long> counts) => counts.Distinct().Count() > 1;
+
+    private static void Record(EvaluationContext context, BoundBlock block, ContrastsOutcome outcome, string term, string[] names, ContrastFamily family, bool trend, IReadOnlyList<string> inputs)
+    {
+        outcome.Adjustment = family.Adjustment;
+        outcome.AdjustmentChosen = ((ContrastsKind.Options)block.Options!).Adjust is not null;
+        foreach (var c in family.Contrasts)
+        {
+            var values = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
+            void Add(string stat, Quantity q) => values[stat] = context.Results.Add(block.Id, TestName.Contrast, term, c.Name, null, stat, q, inputs);
+            Add(Stat.Estimate, Quantity.Of(c.Estimate));
+            Add(Stat.Se, c.Se);
+            Add(Stat.Df, Quantity.Of(c.Df));
+            Add(Stat.Statistic, c.T);
+            Add(Stat.P, c.P);
+            Add(Stat.PAdj, c.PAdjusted);
+            Add(Stat.CiLow, c.CiLow);
+            Add(Stat.CiHigh, c.CiHigh);
+            if (trend)
+            {
+                Add(Stat.Ss, c.SumOfSquares);
+            }
+
+            outcome.Rows.Add(new ContrastRow(c.Name, [.. names.Select((l, i) => (l, c.Coefficients[i]))], c, values));
+        }
+    }
+}
