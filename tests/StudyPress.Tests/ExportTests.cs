@@ -227,7 +227,8 @@ public sealed partial class ExportTests
 
     private static string ChildBuild((string Name, string Value)[] environment)
     {
-        var folder = Path.Combine(Path.GetTempPath(), "studypress-tests", "export-child-" + Guid.NewGuid().ToString("N"));
+        // "." keeps the folder name from becoming the study id (see StudyRun): both builds are named "study".
+        var folder = Path.Combine(Path.GetTempPath(), "studypress-tests", "export-child." + Guid.NewGuid().ToString("N"));
         Directory.CreateDirectory(folder);
         foreach (var file in Directory.GetFiles(Example, "*", SearchOption.AllDirectories).Where(f => f.EndsWith(".md", StringComparison.Ordinal) || f.Contains("/data/", StringComparison.Ordinal)))
         {
@@ -293,7 +294,7 @@ public sealed partial class ExportTests
         Assert.Equal(html.QuerySelectorAll("table").Length, tabulars.Count);
         Assert.All(tabulars, t => Assert.Contains("\\midrule\n", t.Groups["rows"].Value, StringComparison.Ordinal));
         Assert.Contains("\\spMainAnovaNozzleF{}", tabulars[1].Value, StringComparison.Ordinal);
-        Assert.Contains("\\newcommand\\spMainAnovaTableCaption{Analysis of variance of thickness\\_um}", tex, StringComparison.Ordinal);
+        Assert.Contains("\\newcommand\\spMainAnovaTableCaption{Analysis of variance of Coating thickness (", tex, StringComparison.Ordinal);
         Assert.Contains("\\newcommand\\spMethodsOneMethodsText{", tex, StringComparison.Ordinal);
         Assert.Equal(html.QuerySelectorAll("figure.chart").Length, Regex.Count(tex, @"\\includegraphics"));
     }

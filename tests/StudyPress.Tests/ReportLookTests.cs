@@ -208,9 +208,9 @@ public sealed partial class ReportLookTests
     {
         Assert.Equal(
             [
-                "study_groups_box.png", "study_main_means.png", "study_main_f-distribution-nozzle.png",
-                "study_checks_qq.png", "study_checks_residual-histogram.png", "study_checks_residuals-fitted.png",
-                "study_pairs_intervals.png", "study_plan_power-curve.png",
+                "spray-nozzles_groups_box.png", "spray-nozzles_main_means.png", "spray-nozzles_main_f-distribution-nozzle.png",
+                "spray-nozzles_checks_qq.png", "spray-nozzles_checks_residual-histogram.png", "spray-nozzles_checks_residuals-fitted.png",
+                "spray-nozzles_pairs_intervals.png", "spray-nozzles_plan_power-curve.png",
             ],
             Built.Value["spray-nozzles"].Figures.Select(f => f.FileName));
     }

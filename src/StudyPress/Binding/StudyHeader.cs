@@ -147,6 +147,28 @@ public sealed record StudyHeader(
     public IReadOnlySet<string> Misspelt { get; init; } = new HashSet<string>(StringComparer.Ordinal);
 
     public DatasetSpec? Dataset(string name) => Datasets.FirstOrDefault(d => d.Name == name);
+
+    /// <summary>The response's label for readers (<c>response: {column, label, unit}</c>), or null.</summary>
+    public string? ResponseLabel { get; init; }
+
+    /// <summary>The response's unit (<c>µm</c>), or null.</summary>
+    public string? ResponseUnit { get; init; }
+
+    /// <summary>
+    /// How a response column is named in text, captions and axis titles: the header response's
+    /// label with its unit ("Coating thickness (µm)") when the column is the header's response and
+    /// a label or unit is given; otherwise the column name.
+    /// </summary>
+    public string ResponseDisplay(string? column)
+    {
+        if (column is null || !string.Equals(column, Response, StringComparison.Ordinal) || (ResponseLabel is null && ResponseUnit is null))
+        {
+            return column ?? string.Empty;
+        }
+
+        var label = ResponseLabel ?? column;
+        return ResponseUnit is null ? label : label + " (" + ResponseUnit + ")";
+    }
 }
 
 /// <summary>Binds the header map to a <see cref="StudyHeader"/>, reporting every mistake found.</summary>
@@ -188,7 +210,7 @@ internal static class HeaderBinder
         }
 
         var idNode = r.Scalar("id");
-        var id = idNode?.Value ?? Path.GetFileNameWithoutExtension(studyPath);
+        var id = idNode?.Value ?? DefaultId(studyPath);
         if (idNode is not null && !IsName(id))
         {
             // The id names the study's figure files: no path separators, dots or spaces.
@@ -244,7 +266,7 @@ internal static class HeaderBinder
                 break;
         }
 
-        var responseNode = r.Scalar("response");
+        var (responseNode, responseLabel, responseUnit) = BindResponse(r, diagnostics);
         var factors = new List<FactorSpec>();
         switch (r.Node("factors"))
         {
@@ -338,8 +360,56 @@ internal static class HeaderBinder
             new ReportOptions(digits, pDigits, figures) { RawHtml = rawHtml },
             map.Location)
         {
-            Misspelt = r.Misspelt,
+            // A response that could not be read was reported once; blocks do not report it missing again.
+            Misspelt = r.Has("response") && responseNode is null ? new HashSet<string>(r.Misspelt.Append("response"), StringComparer.Ordinal) : r.Misspelt,
+            ResponseLabel = responseLabel,
+            ResponseUnit = responseUnit,
         };
+    }
+
+    private static readonly string[] ResponseKeys = ["column", "label", "unit"];
+
+    /// <summary>
+    /// <c>response: col</c>, or <c>response: {column: col, label: Text, unit: µm}</c>: the column
+    /// node (its location is where a missing column is reported), the label and the unit.
+    /// </summary>
+    private static (YScalar? Column, string? Label, string? Unit) BindResponse(KeyReader r, DiagnosticBag diagnostics)
+    {
+        switch (r.Node("response"))
+        {
+            case null or YScalar { IsNull: true }:
+                return (null, null, null);
+            case YScalar s:
+                return (s, null, null);
+            case YMapping m:
+                var rr = new KeyReader(m, "'response'", ResponseKeys, diagnostics);
+                var column = rr.Scalar("column");
+                if (column is null && !rr.Misspelt.Contains("column"))
+                {
+                    diagnostics.MissingKey(m.Location, "column", "'response'");
+                }
+
+                string? Text(string key)
+                {
+                    if (rr.Scalar(key) is not { } t)
+                    {
+                        return null;
+                    }
+
+                    if (t.Value.Trim().Length == 0)
+                    {
+                        diagnostics.ResponseTextEmpty(t.Location, key);
+                        return null;
+                    }
+
+                    return t.Value.Trim();
+                }
+
+                return (column, Text("label"), Text("unit"));
+            case var other:
+                diagnostics.ResponseForm(other.Location);
+                return (null, null, null);
+        }
     }
 
     /// <summary>
@@ -396,6 +466,24 @@ internal static class HeaderBinder
         return ReferenceEquals(fixedInner, inner)
             ? map
             : new YMapping([.. map.Entries.Select(e => e.Key.Value == key ? new YEntry(e.Key, fixedInner) : e)], map.Location);
+    }
+
+    /// <summary>
+    /// The study id when the header gives none: a study kept as <c>study.md</c> in a folder of its
+    /// own is named by that folder (<c>examples/spray-nozzles/study.md</c> is <c>spray-nozzles</c>),
+    /// any other study by its file name. A folder name that is not a valid id (a letter first, then
+    /// letters, digits, <c>-</c> and <c>_</c>) is not used: the file name is.
+    /// </summary>
+    internal static string DefaultId(string studyPath)
+    {
+        var file = Path.GetFileNameWithoutExtension(studyPath);
+        if (!string.Equals(file, "study", StringComparison.Ordinal))
+        {
+            return file;
+        }
+
+        var folder = Path.GetFileName(Path.GetDirectoryName(Path.GetFullPath(studyPath)) ?? string.Empty);
+        return folder is { Length: > 0 } && IsName(folder) ? folder : file;
     }
 
     internal static bool IsName(string s) =>

@@ -599,6 +599,12 @@ public sealed class DiagnosticBag
     public void RepeatedCompareNeedsClassical(SourceLocation at) =>
         Error("SP0269", at, "the paired comparisons are made on the complete subjects of the classical route, which 'fit: reml' does not fit; write 'fit: auto' (both routes when subjects are incomplete) or remove 'compare'");
 
+    public void ResponseForm(SourceLocation at) =>
+        Error("SP0290", at, "'response' is a column name or a mapping such as '{column: thickness_um, label: Coating thickness, unit: µm}'");
+
+    public void ResponseTextEmpty(SourceLocation at, string key) =>
+        Error("SP0291", at, $"the response's {Q(key)} must not be empty; remove the key or write the text");
+
     public void RepeatedSubjectInTwoGroups(SourceLocation at, string message) =>
         Error("SP0511", at, message + "; correct the data, or write 'labels: per-group' if subjects are numbered again within each group");
 

@@ -12,6 +12,11 @@ public sealed class BlockData
 
     public required string ResponseName { get; init; }
 
+    /// <summary>The response as readers see it: the header's label and unit, else the column name (<see cref="StudyHeader.ResponseDisplay"/>).</summary>
+    public string ResponseLabel { get => responseLabel.Length > 0 ? responseLabel : ResponseName; init => responseLabel = value; }
+
+    private readonly string responseLabel = string.Empty;
+
     /// <summary>Row indices into the dataset, in file order.</summary>
     public required int[] Rows { get; init; }
 
@@ -364,6 +369,7 @@ public sealed class EvaluationContext
         {
             Dataset = ds,
             ResponseName = block.Response ?? string.Empty,
+            ResponseLabel = Header.ResponseDisplay(block.Response),
             Rows = rows,
             Response = response is null ? [] : all ? response.Centred : Pick(response.Centred, rows),
             Centre = response?.Centre ?? 0,

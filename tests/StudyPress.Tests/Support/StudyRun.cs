@@ -9,7 +9,10 @@ public sealed class StudyRun : IDisposable
 {
     public StudyRun()
     {
-        Folder = Path.Combine(Path.GetTempPath(), "studypress-tests", Guid.NewGuid().ToString("N"));
+        // "run." makes the folder name an invalid study id, so a study.md here keeps the id "study"
+        // (the default id is the folder's name only when that is a valid id): reports of two runs
+        // in different folders stay comparable.
+        Folder = Path.Combine(Path.GetTempPath(), "studypress-tests", "run." + Guid.NewGuid().ToString("N"));
         Directory.CreateDirectory(Folder);
     }
 

@@ -27,7 +27,7 @@ public sealed class MethodsKind : BlockKind
 
     public override string PrimaryTest => "design";
 
-    public override IReadOnlyList<string> OwnKeys { get; } = ["of", "tense", "voice", "include"];
+    public override IReadOnlyList<string> OwnKeys { get; } = ["of", "tense", "voice", "include", "detail"];
 
     public override bool UsesData => false;
 
@@ -36,7 +36,12 @@ public sealed class MethodsKind : BlockKind
     /// <summary>The parts a methods block can include, in the order they are written.</summary>
     public static readonly string[] Parts = ["design", "model", "assumptions", "decisions", "comparisons", "effects", "software", "cautions"];
 
-    public sealed record Options(IReadOnlyList<YScalar>? Of, bool Past, bool Active, IReadOnlySet<string> Include);
+    /// <summary>
+    /// The block's options. <paramref name="Full"/> (<c>detail: full</c>) keeps the long form: every
+    /// check with its statistic, each decision with its reasons, the manifest sentence; the default
+    /// (<c>detail: brief</c>) is one concise paragraph in the order a paper uses.
+    /// </summary>
+    public sealed record Options(IReadOnlyList<YScalar>? Of, bool Past, bool Active, IReadOnlySet<string> Include, bool Full = false);
 
     public override object? BindOptions(KeyReader keys, BindContext context, DiagnosticBag diagnostics)
     {
@@ -52,6 +57,7 @@ public sealed class MethodsKind : BlockKind
 
         var tense = keys.Choice("tense", ["past", "present"]) ?? "past";
         var voice = keys.Choice("voice", ["passive", "active"]) ?? "passive";
+        var detail = keys.Choice("detail", ["brief", "full"]) ?? "brief";
         var include = new HashSet<string>(StringComparer.Ordinal);
         if (keys.ScalarList("include") is { } list)
         {
@@ -72,6 +78,6 @@ public sealed class MethodsKind : BlockKind
             include.UnionWith(Parts);
         }
 
-        return new Options(of, tense == "past", voice == "active", include);
+        return new Options(of, tense == "past", voice == "active", include, detail == "full");
     }
 }

@@ -83,6 +83,7 @@ public sealed partial class AnovaEvaluator
         outcome.Factors = block.Factors;
         outcome.ResponseCentre = selected.Centre;
         outcome.ResponseName = block.Response!;
+        outcome.ResponseLabel = context.Header.ResponseDisplay(block.Response);
         var inputs = context.Inputs(block);
         var centre = selected.Centre;
         RecordTable(context, block, result.Terms, result.ResidualSumOfSquares, result.ResidualDf, result.ResidualMeanSquare, result.TotalSumOfSquares, result.TotalDf, inputs, outcome.Terms, outcome.Residual, outcome.Total);

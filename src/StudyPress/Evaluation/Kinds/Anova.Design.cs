@@ -134,6 +134,7 @@ public sealed partial class AnovaEvaluator
         outcome.Data = data;
         outcome.Factors = [.. data.Factors.Select(f => f.Spec)];
         outcome.ResponseName = data.ResponseName;
+        outcome.ResponseLabel = data.ResponseLabel;
         var factors = model.DesignFactors;
         var labels = data.Factors.Select(f => (IReadOnlyList<string>)[.. f.Codes.Select(c => f.Levels[c])]).ToList();
         var designData = new DesignData(data.Response, labels);

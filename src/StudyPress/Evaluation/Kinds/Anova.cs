@@ -85,6 +85,11 @@ public sealed class AnovaOutcome(BoundBlock block) : BlockOutcome(block)
     /// <summary>The response column's name (both routes).</summary>
     public string ResponseName { get; set; } = string.Empty;
 
+    /// <summary>The response as readers see it (label and unit from the header, else the column name).</summary>
+    public string ResponseLabel { get => responseLabel.Length > 0 ? responseLabel : ResponseName; set => responseLabel = value; }
+
+    private string responseLabel = string.Empty;
+
     /// <summary>The selected rows (rows route only).</summary>
     public BlockData? Data { get; set; }
 
@@ -178,6 +183,7 @@ public sealed partial class AnovaEvaluator : KindEvaluator
         outcome.Data = data;
         outcome.Factors = [.. data.Factors.Select(f => f.Spec)];
         outcome.ResponseName = data.ResponseName;
+        outcome.ResponseLabel = data.ResponseLabel;
         foreach (var f in data.Factors)
         {
             if (f.Levels.Count < 2)

@@ -41,7 +41,7 @@ internal static class DesignFigures
                 }
 
                 var errorName = error.Term == StrataAnova.ResidualName ? "the residual" : "the " + error.Term.Replace("(", " (in ", StringComparison.Ordinal);
-                var chart = StatCharts.GroupMeans(means, level, new ChartLabels($"Mean {BidiText.Isolate(data.ResponseName)} by {BidiText.Isolate(factor.Spec.Display)}", factor.Spec.Display, data.ResponseName));
+                var chart = StatCharts.GroupMeans(means, level, new ChartLabels($"Mean {BidiText.Isolate(data.ResponseLabel)} by {BidiText.Isolate(factor.Spec.Display)}", factor.Spec.Display, data.ResponseLabel));
                 yield return new Figure(
                     "means",
                     string.Create(CultureInfo.InvariantCulture, $"Means of {BidiText.Isolate(factor.Spec.Display)} with {level} intervals on {errorName} mean square ({error.Df} df), the error its F test used; each interval is for one mean, not adjusted for comparisons."),
@@ -61,7 +61,7 @@ internal static class DesignFigures
                 .OrderBy(g => g.Key.Item1).ThenBy(g => g.Key.Item2)
                 .Select(g => new CellMean(a.Levels[g.Key.Item1], b.Levels[g.Key.Item2], g.Average(i => data.Values[i])))
                 .ToList();
-            var chart = StatCharts.InteractionPlot(a.Levels, b.Levels, cells, b.Spec.Display, new ChartLabels($"Mean {BidiText.Isolate(data.ResponseName)} by {BidiText.Isolate(a.Spec.Display)} and {BidiText.Isolate(b.Spec.Display)}", a.Spec.Display, data.ResponseName));
+            var chart = StatCharts.InteractionPlot(a.Levels, b.Levels, cells, b.Spec.Display, new ChartLabels($"Mean {BidiText.Isolate(data.ResponseLabel)} by {BidiText.Isolate(a.Spec.Display)} and {BidiText.Isolate(b.Spec.Display)}", a.Spec.Display, data.ResponseLabel));
             yield return new Figure("interaction", $"Observed cell means; lines that are not parallel suggest an interaction (compare with the F test of {BidiText.Isolate(a.Spec.Display)} × {BidiText.Isolate(b.Spec.Display)}).", chart);
         }
     }

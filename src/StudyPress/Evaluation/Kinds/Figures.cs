@@ -108,7 +108,7 @@ public static class Figures
             c.Label,
             c.Positions.Length <= MaxPoints ? [.. c.Positions.Select(i => data.Values[i])] : ThinSorted(SortedValues(data, c.Positions)))).ToList();
         var by = string.Join(" and ", data.Factors.Select(f => f.Spec.Display));
-        var chart = StatCharts.GroupDistributions(groups, new ChartLabels($"Distribution of {Name(data.ResponseName)}" + (by.Length > 0 ? " by " + Name(by) : string.Empty), by, data.ResponseName));
+        var chart = StatCharts.GroupDistributions(groups, new ChartLabels($"Distribution of {Name(data.ResponseLabel)}" + (by.Length > 0 ? " by " + Name(by) : string.Empty), by, data.ResponseLabel));
         var largest = cells.Max(c => c.Positions.Length);
         return new Figure("box", caption ?? $"Each group's box spans the quartiles with the median marked; whiskers reach the most extreme values within 1.5 IQR of the box; every observation is drawn as a point." + ThinNote(largest), chart);
     }
@@ -141,7 +141,7 @@ public static class Figures
 
         var level = Confidence(alpha);
         var by = string.Join(" and ", data.Factors.Select(f => f.Spec.Display));
-        var chart = StatCharts.GroupMeans(means, level, new ChartLabels($"Mean {Name(data.ResponseName)} with {level} intervals", by, data.ResponseName));
+        var chart = StatCharts.GroupMeans(means, level, new ChartLabels($"Mean {Name(data.ResponseLabel)} with {level} intervals", by, data.ResponseLabel));
         return new Figure("means", caption ?? $"Group means with {level} confidence intervals (each group's own t interval, not adjusted for multiple comparisons).", chart);
     }
 
@@ -162,7 +162,7 @@ public static class Figures
             .Select(g => new CellMean(a.Levels[g.Key.Item1], b.Levels[g.Key.Item2], g.Average(i => anova.Data.Values[i])))
             .ToList();
 
-        var chart = StatCharts.InteractionPlot(a.Levels, b.Levels, cells, b.Spec.Display, new ChartLabels($"Mean {Name(anova.Data.ResponseName)} by {Name(a.Spec.Display)} and {Name(b.Spec.Display)}", a.Spec.Display, anova.Data.ResponseName));
+        var chart = StatCharts.InteractionPlot(a.Levels, b.Levels, cells, b.Spec.Display, new ChartLabels($"Mean {Name(anova.Data.ResponseLabel)} by {Name(a.Spec.Display)} and {Name(b.Spec.Display)}", a.Spec.Display, anova.Data.ResponseLabel));
         return new Figure("interaction", caption ?? $"Observed cell means; lines that are not parallel suggest an interaction (compare with the F test of {Name(a.Spec.Display)} × {Name(b.Spec.Display)}).", chart);
     }
 

@@ -480,7 +480,7 @@ public sealed class RepeatedEvaluator : KindEvaluator
         };
         if (fit is not null && context.Header.Report.Figures)
         {
-            AddFigures(outcome, fit, block.Response ?? data.ResponseName, o);
+            AddFigures(outcome, fit, block.Response is null ? data.ResponseName : data.ResponseLabel, o);
         }
 
         return outcome;

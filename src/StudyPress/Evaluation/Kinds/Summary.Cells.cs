@@ -33,6 +33,7 @@ public sealed partial class SummaryEvaluator
         }
 
         outcome.ResponseName = response;
+        outcome.ResponseLabel = context.Header.ResponseDisplay(response);
         var term = block.Factors.Count == 0 ? null : string.Join(":", block.Factors.Select(f => f.Name));
         outcome.Term = term ?? string.Empty;
         var inputs = context.Inputs(block);

@@ -15,6 +15,11 @@ public sealed class SummaryOutcome(BoundBlock block) : BlockOutcome(block)
 
     public string ResponseName { get; set; } = string.Empty;
 
+    /// <summary>The response as readers see it (label and unit from the header, else the column name).</summary>
+    public string ResponseLabel { get => responseLabel.Length > 0 ? responseLabel : ResponseName; set => responseLabel = value; }
+
+    private string responseLabel = string.Empty;
+
     /// <summary>The selected rows (rows route only).</summary>
     public BlockData? Data { get; set; }
 
@@ -52,6 +57,7 @@ public sealed partial class SummaryEvaluator : KindEvaluator
         }
 
         outcome.ResponseName = data.ResponseName;
+        outcome.ResponseLabel = data.ResponseLabel;
         outcome.Data = data;
         var inputs = context.Inputs(block);
         var term = data.Factors.Count == 0 ? null : string.Join(":", data.Factors.Select(f => f.Spec.Name));

@@ -17,7 +17,7 @@ internal static class DesignRendering
 {
     public static void Render(HtmlWriter html, AnovaOutcome o, DesignFit d, RenderContext context)
     {
-        var response = o.ResponseName;
+        var response = o.ResponseLabel;
         if (d.Method == DesignMethod.Strata)
         {
             RenderStrata(html, o, d, context, response);
@@ -207,7 +207,7 @@ internal static class DesignRendering
         }
 
         var interaction = (row.Row?.Factors.Count ?? row.Test!.Term.Count(c => c == ':') + 1) > 1;
-        var response = HtmlWriter.Escape(o.ResponseName);
+        var response = HtmlWriter.Escape(o.ResponseLabel);
         var what = interaction
             ? $"the effect of one of {label} on {response} depends on the level of the other"
             : $"the mean {response} differs between at least two levels of {label}";
@@ -366,7 +366,7 @@ internal static class DesignRendering
             ? "by error strata, each term tested against the error its expected mean square calls for"
             : "as a linear mixed model fitted by REML, with Satterthwaite's error df";
         var layout = with.Count == 0 ? design : $"{design} with {MethodsWriter.List(with)}";
-        return $"The {d.Observations.ToString(CultureInfo.InvariantCulture)} observations of {MethodsWriter.E(o.ResponseName)} {w.Be(true)} analysed as {layout}, {fit}.";
+        return $"The {d.Observations.ToString(CultureInfo.InvariantCulture)} observations of {MethodsWriter.E(o.ResponseLabel)} {w.Be(true)} analysed as {layout}, {fit}.";
     }
 
     private static string BlockWords(List<DesignFactor> blocks, AnovaOutcome o, Func<string, int> levels) =>

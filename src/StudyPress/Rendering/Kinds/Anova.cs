@@ -43,10 +43,10 @@ public sealed class AnovaRenderer : KindRenderer
 
         return part switch
         {
-            MethodsPart.Design when s.Covered && w.Has("design") => [MethodsDesign(s, w)],
-            MethodsPart.Model when s.Covered && w.Has("model") => [MethodsModel(s, w)],
+            MethodsPart.Design when s.Covered && w.Has("design") => [w.Brief ? BriefDesign(s, w) : MethodsDesign(s, w)],
+            MethodsPart.Model when s.Covered && w.Has("model") => [w.Brief ? BriefModel(s, w) : MethodsModel(s, w)],
             MethodsPart.Assumptions when w.Has("assumptions") && s.Covered && !s.Anova.RowsAvailable => [MethodsNotComputed(w)],
-            MethodsPart.Decisions when w.Has("decisions") => MethodsDecisions(s, w),
+            MethodsPart.Decisions when w.Has("decisions") => w.Brief && s.Anova.RowsAvailable ? BriefDecisions(s, w) : MethodsDecisions(s, w),
             MethodsPart.Results when s.Covered && w.Has("effects") => MethodsEffects(s, w),
             MethodsPart.Cautions => MethodsCautions(s, w),
             _ => [],
@@ -82,11 +82,184 @@ public sealed class AnovaRenderer : KindRenderer
         }
     }
 
+    /// <summary>Brief: the observations, the groups and their sizes in one sentence.</summary>
+    private static string BriefDesign(MethodsSection s, MethodsWriter w)
+    {
+        var a = s.Anova;
+        var block = a.Block;
+        var sb = $"The analysis {w.T("used", "uses")} {MethodsWriter.Df(s.Total!)} observations of {MethodsWriter.E(a.ResponseLabel)}";
+        if (block.Where.Count > 0)
+        {
+            sb += " (rows where " + MethodsWriter.List(block.Where.Select(w => MethodsWriter.E(w.Factor.Display) + " is " + (w.Levels.Count == 1 ? MethodsWriter.E(w.Levels[0]) : "one of " + MethodsWriter.List(w.Levels.Select(MethodsWriter.E))))) + ")";
+        }
+
+        var factors = MethodsFactorLevels(a);
+        var equal = s.Cells.Select(c => c.N.Value.IsDefined ? c.N.Value.Value : -1).Distinct().Count() == 1;
+        var sizes = string.Join(", ", s.Cells.Select(c => MethodsWriter.E(c.Label) + " " + MethodsWriter.Df(c.N)));
+        if (factors.Count == 1)
+        {
+            var f = factors[0];
+            sb += equal
+                ? $", {MethodsWriter.Df(s.Cells[0].N)} in each of the {MethodsWriter.Words(f.Levels.Count)} levels of {MethodsWriter.E(f.Display)} ({MethodsWriter.List(f.Levels.Select(MethodsWriter.E))})."
+                : $" in the {MethodsWriter.Words(f.Levels.Count)} levels of {MethodsWriter.E(f.Display)}, with group sizes {sizes}.";
+        }
+        else
+        {
+            var crossed = string.Join(" × ", factors.Select(f => MethodsWriter.E(f.Display) + " (" + MethodsWriter.List(f.Levels.Select(MethodsWriter.E)) + ")"));
+            sb += equal
+                ? $", {MethodsWriter.Df(s.Cells[0].N)} in each of the {MethodsWriter.Words(s.Cells.Count)} cells of {crossed}."
+                : $" in the {MethodsWriter.Words(s.Cells.Count)} cells of {crossed}, with unequal sizes: {sizes}.";
+        }
+
+        if (!MethodsWriter.Is(s.Dropped, 0))
+        {
+            var one = MethodsWriter.Is(s.Dropped, 1);
+            sb += $" {MethodsWriter.Df(s.Dropped!)} {(one ? "row" : "rows")} with a missing value {w.Be(!one)} left out.";
+        }
+
+        if (!a.RowsAvailable)
+        {
+            sb += $" The rows {w.Be(true)} not read: the database aggregated them into per-cell counts, means and sums of squares (aggregate: true).";
+        }
+
+        return sb;
+    }
+
+    /// <summary>Brief: the model, α and the effect size in one sentence.</summary>
+    private static string BriefModel(MethodsSection s, MethodsWriter w)
+    {
+        var a = s.Anova;
+        var opts = (AnovaKind.Options)a.Block.Options!;
+        var k = a.Factors.Count;
+        var way = k switch { 1 => "a one-way", 2 => "a two-way", 3 => "a three-way", _ => "a factorial" };
+        var subject = $"{way} fixed-effects analysis of variance";
+        var rest = string.Empty;
+        if (k > 1)
+        {
+            var names = MethodsWriter.List(a.Factors.Select(f => MethodsWriter.E(f.Display)));
+            rest += opts.Interaction
+                ? $" with {MethodsWriter.List(a.Factors.Select(f => MethodsWriter.E(f.Display)).Append(k == 2 ? "their interaction" : "their interactions"))}"
+                : $" with {names}, without interactions,";
+        }
+
+        rest += a.RowsAvailable ? " by least squares" : " by weighted least squares on the cell means";
+        if (k > 1)
+        {
+            rest += a.Fit!.SsType switch
+            {
+                Statistics.Anova.SumOfSquaresType.Sequential => " (type 1 sums of squares)",
+                Statistics.Anova.SumOfSquaresType.Hierarchical => " (type 2 sums of squares)",
+                _ => " (type 3 sums of squares, sum-to-zero coding)",
+            };
+        }
+
+        if (a.Transformed is { } t)
+        {
+            rest += t.Kind switch
+            {
+                Statistics.Anova.TransformKind.Log => ", on the natural logarithm of the response",
+                Statistics.Anova.TransformKind.Log10 => ", on the common logarithm of the response",
+                Statistics.Anova.TransformKind.Sqrt => ", on the square root of the response",
+                Statistics.Anova.TransformKind.Reciprocal => ", on the reciprocal of the response",
+                _ => $", on the Box–Cox transform of the response (λ = {MethodsWriter.S2(a.BoxCox[Stat.Lambda])})",
+            };
+        }
+
+        var text = w.Did(subject, false, "fitted", "fitted", "fit", rest);
+        text += w.Has("effects")
+            ? $"; tests {w.T("used", "use")} α = {w.AlphaText}, and effect sizes {w.Be(true)} partial η² with {w.Confidence}% confidence intervals (noncentral F)."
+            : $"; tests {w.T("used", "use")} α = {w.AlphaText}.";
+        if (a.Transformed is not null)
+        {
+            text += $" Means {w.Be(true)} reported back-transformed.";
+        }
+
+        return text;
+    }
+
+    /// <summary>
+    /// Brief: what the automatic rules decided. When the checks were told before (an assumptions
+    /// block), the decision refers to them; otherwise the check the rule read is cited here, once.
+    /// </summary>
+    private static IEnumerable<string> BriefDecisions(MethodsSection s, MethodsWriter w)
+    {
+        var a = s.Anova;
+        var opts = (AnovaKind.Options)a.Block.Options!;
+        var data = a.Data!;
+        if (data.Factors.Count != 1 || !s.Covered)
+        {
+            yield break;
+        }
+
+        var bf = s.Review.GetValueOrDefault(TestName.BrownForsythe);
+        var sentences = new List<string>();
+        if (opts.Welch == "yes")
+        {
+            sentences.Add(w.Active
+                ? $"We also {w.T("computed", "compute")} Welch's F test, which does not assume equal variances, as requested"
+                : $"Welch's F test, which does not assume equal variances, {w.Be(false)} computed as well, as requested");
+        }
+        else if (opts.Welch == "auto" && bf is not null)
+        {
+            var told = w.Told(MethodsWriter.VariancesFact(s));
+            if (!bf[Stat.P].Value.IsDefined)
+            {
+                sentences.Add($"Equal variances could not be checked, so the ordinary F test {w.T("was", "is")} kept");
+            }
+            else if (a.Review.UnequalVariances)
+            {
+                sentences.Add((told ? "Welch's F test therefore " : $"Because the Brown–Forsythe test {w.T("found", "finds")} unequal variances ({ReportStyle.PPhrase(bf[Stat.P])}), Welch's F test ")
+                    + $"{w.T("replaced", "replaces")} the ordinary F test");
+            }
+            else
+            {
+                sentences.Add(told
+                    ? $"The ordinary F test {w.T("was", "is")} therefore kept"
+                    : $"The Brown–Forsythe test {w.T("found", "finds")} no evidence of unequal variances ({ReportStyle.PPhrase(bf[Stat.P])}), so the ordinary F test {w.T("was", "is")} kept");
+            }
+
+            w.Tell(MethodsWriter.VariancesFact(s));
+        }
+
+        if (opts.Welch == "auto" && a.Review.WantsRankTest && s.Review.GetValueOrDefault(TestName.ShapiroWilk) is { } sw)
+        {
+            // The group sizes were given with the design; the smallest is cited only when they differ.
+            var smallest = s.Cells.OrderBy(c => c.N.Value.IsDefined ? c.N.Value.Value : double.MaxValue).First();
+            var small = s.Cells.Select(c => c.N.Value.IsDefined ? c.N.Value.Value : -1).Distinct().Count() == 1 && w.Has("design")
+                ? "in small groups"
+                : $"in small groups (smallest n = {MethodsWriter.Df(smallest.N)})";
+            var added = w.Active ? $"we also {w.T("ran", "run")} the Kruskal–Wallis test" : $"the Kruskal–Wallis test {w.Be(false)} added";
+            if (w.Told(MethodsWriter.NormalityFact(s)))
+            {
+                var clause = $"{added} for the non-normal residuals {small}";
+                if (sentences.Count > 0)
+                {
+                    sentences[^1] += ", and " + clause;
+                }
+                else
+                {
+                    sentences.Add(MethodsWriter.Cap(clause));
+                }
+            }
+            else
+            {
+                sentences.Add($"Because the residuals {w.T("departed", "depart")} from normality (Shapiro–Wilk {ReportStyle.PPhrase(sw[Stat.P])}) {small}, {added}");
+            }
+
+            w.Tell(MethodsWriter.NormalityFact(s));
+        }
+
+        foreach (var sentence in sentences)
+        {
+            yield return sentence + ".";
+        }
+    }
+
     private static string MethodsDesign(MethodsSection s, MethodsWriter w)
     {
         var a = s.Anova;
         var block = a.Block;
-        var response = MethodsWriter.E(a.ResponseName);
+        var response = MethodsWriter.E(a.ResponseLabel);
         var sb = $"The analysis {w.T("used", "uses")} {MethodsWriter.Df(s.Total!)} observations of {response}";
         if (block.Where.Count > 0)
         {
@@ -147,11 +320,11 @@ public sealed class AnovaRenderer : KindRenderer
         {
             rest += t.Kind switch
             {
-                Statistics.Anova.TransformKind.Log => $", on the natural logarithm of {MethodsWriter.E(a.ResponseName)}",
-                Statistics.Anova.TransformKind.Log10 => $", on the common logarithm of {MethodsWriter.E(a.ResponseName)}",
-                Statistics.Anova.TransformKind.Sqrt => $", on the square root of {MethodsWriter.E(a.ResponseName)}",
-                Statistics.Anova.TransformKind.Reciprocal => $", on the reciprocal of {MethodsWriter.E(a.ResponseName)}",
-                _ => $", on the Box–Cox transform of {MethodsWriter.E(a.ResponseName)} with the maximum-likelihood λ = {MethodsWriter.S2(a.BoxCox[Stat.Lambda])}"
+                Statistics.Anova.TransformKind.Log => $", on the natural logarithm of {MethodsWriter.E(a.ResponseLabel)}",
+                Statistics.Anova.TransformKind.Log10 => $", on the common logarithm of {MethodsWriter.E(a.ResponseLabel)}",
+                Statistics.Anova.TransformKind.Sqrt => $", on the square root of {MethodsWriter.E(a.ResponseLabel)}",
+                Statistics.Anova.TransformKind.Reciprocal => $", on the reciprocal of {MethodsWriter.E(a.ResponseLabel)}",
+                _ => $", on the Box–Cox transform of {MethodsWriter.E(a.ResponseLabel)} with the maximum-likelihood λ = {MethodsWriter.S2(a.BoxCox[Stat.Lambda])}"
                     + (a.BoxCox[Stat.LambdaLow].Value.IsDefined && a.BoxCox[Stat.LambdaHigh].Value.IsDefined
                         ? $" (profile-likelihood interval {MethodsWriter.S2(a.BoxCox[Stat.LambdaLow])} to {MethodsWriter.S2(a.BoxCox[Stat.LambdaHigh])})"
                         : string.Empty),
@@ -470,7 +643,7 @@ public sealed class AnovaRenderer : KindRenderer
             return;
         }
 
-        var responseText = o.Transformed is null ? o.Data.ResponseName : TransformLabel(o) + " of " + o.Data.ResponseName;
+        var responseText = o.Transformed is null ? o.Data.ResponseLabel : TransformLabel(o) + " of " + o.Data.ResponseLabel;
         var caption = o.Block.Caption ?? $"Analysis of variance of {responseText}";
         var table = new HtmlTable("anova", caption, ["Source", "SS", "df", "MS", "F", "p"]);
         foreach (var (term, v) in o.Terms)
@@ -661,7 +834,7 @@ public sealed class AnovaRenderer : KindRenderer
 
         var stat = $"F({HtmlWriter.ValueHtml(v[Stat.Df], context)}, {HtmlWriter.ValueHtml(o.Residual[Stat.Df], context)}) = {HtmlWriter.ValueHtml(v[Stat.F], context)}, p {PText(v[Stat.P], context)}";
         var isInteraction = term.Factors.Count > 1;
-        var response = HtmlWriter.Escape(o.Data!.ResponseName);
+        var response = HtmlWriter.Escape(o.Data!.ResponseLabel);
         var what = isInteraction
             ? $"the effect of one of {label} on {response} depends on the level of the other"
             : $"the mean {response} differs between at least two levels of {label}";

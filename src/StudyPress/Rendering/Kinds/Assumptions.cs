@@ -40,7 +40,118 @@ public sealed class AssumptionsRenderer : KindRenderer
 
     /// <summary>The checks' sentences in a methods paragraph.</summary>
     public override IEnumerable<string> Methods(MethodsPart part, MethodsSection? section, BlockOutcome outcome, MethodsWriter w) =>
-        part == MethodsPart.Assumptions && w.Has("assumptions") && section is { Checks: { } checks } s && ReferenceEquals(checks, outcome) ? MethodsAssumptions(s, w) : [];
+        part == MethodsPart.Assumptions && w.Has("assumptions") && section is { Checks: { } checks } s && ReferenceEquals(checks, outcome)
+            ? (w.Brief ? BriefAssumptions(s, w) : MethodsAssumptions(s, w))
+            : [];
+
+    /// <summary>
+    /// Brief: each check once, by its p-value, with its verdict at α. The verdict on variances
+    /// follows the Brown–Forsythe test (as the automatic rules do); the tests that disagree with it
+    /// are named with their own verdict and the reason Brown–Forsythe decides.
+    /// </summary>
+    private static IEnumerable<string> BriefAssumptions(MethodsSection s, MethodsWriter w)
+    {
+        var r = s.Review;
+        var review = s.Checks!.Review!;
+        bool Fails(Dictionary<string, ResultValue> v, string stat = Stat.P) => v[stat].Value.IsDefined && v[stat].Value.Value < w.Outcome.Alpha;
+        bool Defined(Dictionary<string, ResultValue> v, string stat = Stat.P) => v[stat].Value.IsDefined;
+        var found = w.T("found", "finds");
+        var clauses = new List<string>();
+        var sw = r.GetValueOrDefault(TestName.ShapiroWilk);
+        var variance = new[] { (TestName.BrownForsythe, "Brown–Forsythe"), (TestName.Levene, "mean-centred Levene"), (TestName.Bartlett, "Bartlett") }
+            .Where(x => r.ContainsKey(x.Item1) && Defined(r[x.Item1]))
+            .Select(x => (Test: x.Item1, Name: x.Item2, Values: r[x.Item1], Fails: Fails(r[x.Item1])))
+            .ToList();
+        var dw = r.GetValueOrDefault(TestName.DurbinWatson);
+        var ol = r.GetValueOrDefault(TestName.Outliers);
+        string Ps(IEnumerable<(string Test, string Name, Dictionary<string, ResultValue> Values, bool Fails)> tests) =>
+            string.Join(", ", tests.Select(t => ReportStyle.PPhrase(t.Values[Stat.P], t.Name + " p")));
+        var allPass = (sw is null || !Defined(sw) || !Fails(sw)) && variance.All(v => !v.Fails) && (dw is null || !Fails(dw)) && (ol is null || !Fails(ol, Stat.PBonferroni));
+        if (allPass)
+        {
+            var parts = new List<string>();
+            if (sw is not null && Defined(sw))
+            {
+                parts.Add($"normality ({ReportStyle.PPhrase(sw[Stat.P], "Shapiro–Wilk p")})");
+            }
+
+            if (variance.Count > 0)
+            {
+                parts.Add($"equal variances ({Ps(variance)})");
+            }
+
+            if (dw is not null)
+            {
+                parts.Add($"independence in run order ({ReportStyle.PPhrase(dw[Stat.P], "Durbin–Watson p")})");
+            }
+
+            if (ol is not null)
+            {
+                parts.Add($"outliers (largest studentized residual, {ReportStyle.PPhrase(ol[Stat.PBonferroni], "Bonferroni p")})");
+            }
+
+            if (parts.Count > 0)
+            {
+                yield return $"None of the checks {w.T("found", "finds")} a departure from the model's assumptions: {MethodsWriter.List(parts)}.";
+            }
+        }
+        else
+        {
+            if (sw is not null && Defined(sw))
+            {
+                clauses.Add(Fails(sw)
+                    ? $"the residuals {w.T("departed", "depart")} from normality ({ReportStyle.PPhrase(sw[Stat.P], "Shapiro–Wilk p")})"
+                    : $"the Shapiro–Wilk test {found} no departure from normality ({ReportStyle.PPhrase(sw[Stat.P])})");
+            }
+
+            if (variance.Count > 0)
+            {
+                // The verdict follows Brown–Forsythe; the tests that disagree are named with their own verdict.
+                var decider = variance.FirstOrDefault(v => v.Test == TestName.BrownForsythe);
+                var decides = decider.Values is null ? variance[0].Fails : decider.Fails;
+                var agree = variance.Where(v => v.Fails == decides).ToList();
+                var disagree = variance.Where(v => v.Fails != decides).ToList();
+                clauses.Add(decides
+                    ? $"the variances {w.T("differed", "differ")} ({Ps(agree)})"
+                    : $"no evidence of unequal variances {w.T("was", "is")} found ({Ps(agree)})");
+                if (disagree.Count > 0)
+                {
+                    var names = disagree.Count == 1 ? "the " + disagree[0].Name + " test alone" : "the " + MethodsWriter.List(disagree.Select(v => v.Name)) + " tests";
+                    clauses.Add(decides
+                        ? $"{names} {w.T("found", disagree.Count == 1 ? "finds" : "find")} no evidence of unequal variances ({(disagree.Count == 1 ? ReportStyle.PPhrase(disagree[0].Values[Stat.P]) : Ps(disagree))})"
+                        : $"{names} {w.T("found", disagree.Count == 1 ? "finds" : "find")} unequal variances ({(disagree.Count == 1 ? ReportStyle.PPhrase(disagree[0].Values[Stat.P]) : Ps(disagree))})");
+                    clauses.Add($"the verdict {w.T("followed", "follows")} the Brown–Forsythe test, the one least affected by non-normal data");
+                }
+            }
+
+            if (dw is not null)
+            {
+                clauses.Add(Fails(dw)
+                    ? $"the residuals {w.Be(true)} correlated in run order ({ReportStyle.PPhrase(dw[Stat.P], "Durbin–Watson p")})"
+                    : $"the Durbin–Watson test {found} no correlation in run order ({ReportStyle.PPhrase(dw[Stat.P])})");
+            }
+
+            if (ol is not null)
+            {
+                clauses.Add(Fails(ol, Stat.PBonferroni)
+                    ? $"some observations {w.T("stood", "stand")} out as outliers (largest studentized residual, {ReportStyle.PPhrase(ol[Stat.PBonferroni], "Bonferroni p")})"
+                    : $"no outlier {w.T("was", "is")} found (largest studentized residual, {ReportStyle.PPhrase(ol[Stat.PBonferroni], "Bonferroni p")})");
+            }
+
+            yield return MethodsWriter.Cap(string.Join("; ", clauses)) + ".";
+        }
+
+        if (review.Independence is null && review.IndependenceSkipped is not null)
+        {
+            yield return $"Independence in run order {w.Be(false)} not checked (no run order {w.T("was", "is")} given).";
+        }
+
+        w.Tell(MethodsWriter.VariancesFact(s));
+        if (sw is not null)
+        {
+            w.Tell(MethodsWriter.NormalityFact(s));
+        }
+    }
 
     private static IEnumerable<string> MethodsAssumptions(MethodsSection s, MethodsWriter w)
     {
@@ -94,12 +205,16 @@ public sealed class AssumptionsRenderer : KindRenderer
             .ToList();
         if (otherVariance.Count > 0 && !review.UnequalVariances)
         {
-            yield return $"The {MethodsWriter.List(otherVariance)} {(otherVariance.Count == 1 ? "test" : "tests")} {w.T("pointed", "point")} to unequal variances, but the verdict on variances follows the Brown–Forsythe test, which is less sensitive to non-normal data.";
+            var plural = otherVariance.Count > 1;
+            yield return $"The {MethodsWriter.List(otherVariance)} {(plural ? "tests" : "test")} {(plural ? w.T("pointed", "point") : w.T("pointed", "points"))} to unequal variances, but the verdict on variances follows the Brown–Forsythe test, which is less sensitive to non-normal data, and it {w.T("found", "finds")} no evidence of unequal variances.";
         }
 
-        yield return failed.Count == 0
-            ? $"None of these checks {w.T("indicated", "indicates")} a departure at α = {w.AlphaText}, which does not prove that the assumptions hold."
-            : $"At α = {w.AlphaText} the checks {w.T("indicated", "indicate")} that {MethodsWriter.List(failed)}.";
+        yield return (failed.Count, otherVariance.Count > 0 && !review.UnequalVariances) switch
+        {
+            (0, false) => $"None of these checks {w.T("indicated", "indicates")} a departure at α = {w.AlphaText}, which does not prove that the assumptions hold.",
+            (0, true) => $"Apart from the {MethodsWriter.List(otherVariance)} {(otherVariance.Count == 1 ? "test" : "tests")}, none of these checks {w.T("indicated", "indicates")} a departure at α = {w.AlphaText}, which does not prove that the assumptions hold.",
+            _ => $"At α = {w.AlphaText} the checks {w.T("indicated", "indicate")} that {MethodsWriter.List(failed)}.",
+        };
     }
 
     /// <summary>A design anova's checks: normality per error stratum, with what each stratum's residuals are.</summary>

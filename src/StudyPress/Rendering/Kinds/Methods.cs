@@ -50,20 +50,24 @@ internal sealed class MethodsText(MethodsOutcome o, MethodsKind.Options options)
     {
         var many = o.Sections.Count > 1;
         var first = true;
+        var paragraphs = new List<(string Css, string Html)>();
+        var lastMethods = -1;
         foreach (var s in o.Sections)
         {
             var methods = new List<string>();
-            if (first && (w.Has("model") || w.Has("effects")))
+
+            // The long form opens with α; the brief form states it with the model (or here, when
+            // the model is not written but results are).
+            if (first && (w.Brief ? !w.Has("model") && w.Has("effects") : w.Has("model") || w.Has("effects")))
             {
                 methods.Add($"Every test {w.T("used", "uses")} the significance level α = {w.AlphaText}, and intervals are {w.Confidence}% intervals.");
             }
 
-            if (first && o.Summaries.Count > 0)
+            if (first && o.Summaries.Count > 0 && !w.Brief)
             {
                 methods.AddRange(From(MethodsPart.Descriptives, null, o.Summaries[0]));
             }
 
-            first = false;
             var blocks = new List<BlockOutcome> { s.Anova };
             if (s.Checks is not null)
             {
@@ -74,18 +78,25 @@ internal sealed class MethodsText(MethodsOutcome o, MethodsKind.Options options)
             foreach (var part in MethodParts)
             {
                 methods.AddRange(blocks.SelectMany(b => From(part, s, b)));
+                if (part == MethodsPart.Design && first && o.Summaries.Count > 0 && w.Brief)
+                {
+                    // Brief: the design first, then that descriptive statistics were computed.
+                    methods.AddRange(From(MethodsPart.Descriptives, null, o.Summaries[0]));
+                }
             }
 
+            first = false;
             var label = many ? "<span class=\"methods-of\">" + MethodsWriter.E(s.Anova.Block.Caption ?? s.Anova.Block.Id) + ".</span> " : string.Empty;
             if (methods.Count > 0)
             {
-                yield return ("methods", label + string.Join(" ", methods));
+                lastMethods = paragraphs.Count;
+                paragraphs.Add(("methods", label + string.Join(" ", methods)));
             }
 
             var results = Followers(s).SelectMany(b => From(MethodsPart.Results, s, b)).ToList();
             if (results.Count > 0)
             {
-                yield return ("results", (methods.Count == 0 ? label : string.Empty) + string.Join(" ", results));
+                paragraphs.Add(("results", (methods.Count == 0 ? label : string.Empty) + string.Join(" ", results)));
             }
         }
 
@@ -98,34 +109,54 @@ internal sealed class MethodsText(MethodsOutcome o, MethodsKind.Options options)
         other.AddRange(o.Ranks.Concat<BlockOutcome>(o.Powers).Concat(o.Others).SelectMany(b => From(MethodsPart.Results, null, b)));
         if (other.Count > 0)
         {
-            yield return ("results", string.Join(" ", other));
+            paragraphs.Add(("results", string.Join(" ", other)));
         }
 
         if (w.Has("software"))
         {
-            yield return ("software", Software());
+            if (w.Brief && lastMethods >= 0)
+            {
+                // Brief: software and data close the methods paragraph, as in a paper.
+                paragraphs[lastMethods] = (paragraphs[lastMethods].Css, paragraphs[lastMethods].Html + " " + Software());
+            }
+            else
+            {
+                paragraphs.Add(("software", Software()));
+            }
         }
 
         if (w.Has("cautions"))
         {
             var cautions = o.Sections.SelectMany(s => Followers(s).SelectMany(b => From(MethodsPart.Cautions, s, b))).ToList();
             cautions.Add("Statistical significance is not practical importance: whether a difference of the size estimated matters is a judgement for the field, and the intervals show which sizes remain compatible with the data. The reporting standards of the field apply.");
-            yield return ("cautions", string.Join(" ", cautions));
+            paragraphs.Add(("cautions", string.Join(" ", cautions)));
         }
+
+        return paragraphs;
     }
 
     /// <summary>A section's anova and the blocks that follow from it, in the order their results are told.</summary>
     private static IEnumerable<BlockOutcome> Followers(MethodsSection s) => new BlockOutcome[] { s.Anova }.Concat(s.PostHocs).Concat(s.Powers);
 
+    /// <summary>The first characters of a SHA-256 the text shows; the full hash is in the report's table of inputs.</summary>
+    internal const int ShortHash = 12;
+
     private string Software()
     {
         var inputs = w.Outcome.Inputs.Select(i =>
-            i.Dataset.Aggregated
-                ? $"<code>{MethodsWriter.E(i.Dataset.Path)}</code> (SHA-256 <code class=\"hash\">{MethodsWriter.E(i.Dataset.Sha256)}</code>; aggregated by the database into {MethodsWriter.Df(i.Rows)} cells, {MethodsWriter.Df(i.RowsUsed)} used by some analysis)"
-                : $"<code>{MethodsWriter.E(i.Dataset.Path)}</code> (SHA-256 <code class=\"hash\">{MethodsWriter.E(i.Dataset.Sha256)}</code>; {MethodsWriter.Df(i.Rows)} rows read, {MethodsWriter.Df(i.RowsUsed)} used by some analysis)");
-        var subject = $"the analysis";
-        var text = w.Did(subject, false, "run", "ran", "run", $" with StudyPress <code>{MethodsWriter.E(Rendering.Tool.Version)}</code>");
+        {
+            var hash = $"SHA-256 <code class=\"hash\">{MethodsWriter.E(i.Dataset.Sha256[..Math.Min(ShortHash, i.Dataset.Sha256.Length)])}…</code>";
+            var all = i.Rows.Value.IsDefined && i.RowsUsed.Value.IsDefined && i.Rows.Value.Value == i.RowsUsed.Value.Value;
+            var unit = i.Dataset.Aggregated ? "cells" : "rows";
+            var counts = all
+                ? (i.Dataset.Aggregated ? $"aggregated by the database into {MethodsWriter.Df(i.Rows)} cells" : $"{MethodsWriter.Df(i.Rows)} rows")
+                : (i.Dataset.Aggregated
+                    ? $"aggregated by the database into {MethodsWriter.Df(i.Rows)} cells, {MethodsWriter.Df(i.RowsUsed)} of them analysed"
+                    : $"{MethodsWriter.Df(i.Rows)} {unit} read, {MethodsWriter.Df(i.RowsUsed)} analysed");
+            return $"<code>{MethodsWriter.E(i.Dataset.Path)}</code> ({counts}; {hash})";
+        });
+        var text = w.Did("the analysis", false, "run", "ran", "run", $" with StudyPress <code>{MethodsWriter.E(Rendering.Tool.Version)}</code>");
         text += w.Outcome.Inputs.Count == 0 ? "." : $" on {MethodsWriter.List(inputs)}.";
-        return text + " The report's embedded manifest records every value with the file it came from, and this text is regenerated from those values on each build.";
+        return w.Brief ? text : text + " The report's embedded manifest records every value with the file it came from, and this text is regenerated from those values on each build.";
     }
 }

@@ -52,6 +52,26 @@ public sealed class MethodsWriter(MethodsOutcome o, MethodsKind.Options options)
 
     public bool Active { get; } = options.Active;
 
+    /// <summary>The concise form (<c>detail: brief</c>, the default): each fact once, checks by their p-values.</summary>
+    public bool Brief { get; } = !options.Full;
+
+    private readonly HashSet<string> told = new(StringComparer.Ordinal);
+
+    /// <summary>
+    /// Records that a fact (for example the verdict on variances of one anova block) has been told,
+    /// so that later parts refer to it instead of repeating it; true the first time.
+    /// </summary>
+    public bool Tell(string fact) => told.Add(fact);
+
+    /// <summary>Whether a fact has been told earlier in this text (<see cref="Tell"/>).</summary>
+    public bool Told(string fact) => told.Contains(fact);
+
+    /// <summary>The fact key of the verdict on equal variances of an anova block.</summary>
+    public static string VariancesFact(MethodsSection s) => "variances:" + s.Anova.Block.Id;
+
+    /// <summary>The fact key of the verdict on normality of an anova block's residuals.</summary>
+    public static string NormalityFact(MethodsSection s) => "normality:" + s.Anova.Block.Id;
+
     /// <summary>α as the text prints it.</summary>
     public string AlphaText { get; } = Sentences.AlphaText(o.Alpha);
 

@@ -35,8 +35,9 @@ public sealed class PostHocRenderer : KindRenderer
 
         return part switch
         {
-            MethodsPart.Decisions when section is { } s && w.Has("decisions") => MethodsDecision(s, p, w),
-            MethodsPart.Comparisons when w.Has("comparisons") => [MethodsComparison(p, w)],
+            // Brief: the choice is told with the comparisons (when they are written).
+            MethodsPart.Decisions when section is { } s && w.Has("decisions") && !(w.Brief && s.Anova.RowsAvailable && w.Has("comparisons")) => MethodsDecision(s, p, w),
+            MethodsPart.Comparisons when w.Has("comparisons") => [w.Brief ? BriefComparison(section, p, w) : MethodsComparison(p, w)],
             MethodsPart.Results when w.Has("comparisons") => MethodsComparisonResults(p, w),
             MethodsPart.Cautions when section is not null => MethodsMultiplicity(p, w),
             _ => [],
@@ -105,6 +106,61 @@ public sealed class PostHocRenderer : KindRenderer
         "bonferroni" => "pooled-variance t tests with the Bonferroni adjustment",
         _ => "Dunn's rank comparisons with Holm's adjustment",
     };
+
+    /// <summary>
+    /// Brief: the procedure, why the automatic rule chose it (citing the variance check only when
+    /// the text has not told its verdict yet), Dunn's comparisons when added, and the error rate held.
+    /// </summary>
+    private static string BriefComparison(MethodsSection? s, PostHocOutcome p, MethodsWriter w)
+    {
+        var f = p.Families[0];
+        var popts = (PostHocKind.Options)p.Block.Options!;
+        var factor = MethodsWriter.E(p.FactorLabel);
+        var method = f.Test switch
+        {
+            "tukey_hsd" => f.Title.StartsWith("Tukey–Kramer", StringComparison.Ordinal) ? "the Tukey–Kramer procedure" : "Tukey's HSD procedure",
+            "games_howell" => "the Games–Howell procedure (variances not pooled)",
+            "dunnett" => "Dunnett's procedure",
+            "holm" => "pooled-variance t tests with Holm's adjustment",
+            "bonferroni" => "pooled-variance t tests with the Bonferroni adjustment",
+            _ => "Dunn's rank comparisons (Holm-adjusted)",
+        };
+        if (popts.Method == "auto" && s is { Anova.RowsAvailable: true } section)
+        {
+            var unequal = section.Anova.Review.UnequalVariances;
+            var bf = section.Review.GetValueOrDefault(TestName.BrownForsythe);
+            var verdict = unequal ? $"the variances {w.T("differed", "differ")}" : $"the variances {w.T("were", "are")} not found to differ";
+            if (!w.Told(MethodsWriter.VariancesFact(section)))
+            {
+                verdict = (unequal ? $"the Brown–Forsythe test {w.T("found", "finds")} unequal variances" : $"the Brown–Forsythe test {w.T("found", "finds")} no evidence of unequal variances")
+                    + (bf is null ? string.Empty : " (" + ReportStyle.PPhrase(bf[Stat.P]) + ")");
+                w.Tell(MethodsWriter.VariancesFact(section));
+            }
+
+            method = method.Replace(" (variances not pooled)", string.Empty, StringComparison.Ordinal) + $", chosen because {verdict},";
+            if (p.Families.Count > 1)
+            {
+                method += w.Tell(MethodsWriter.NormalityFact(section))
+                    ? $" and by Dunn's rank comparisons (Holm-adjusted), added because the residuals {w.T("departed", "depart")} from normality in small groups,"
+                    : " and by Dunn's rank comparisons (Holm-adjusted),";
+            }
+        }
+        else if (p.Families.Count > 1)
+        {
+            method += " and by Dunn's rank comparisons (Holm-adjusted)";
+        }
+
+        var control = popts.Control;
+        var text = control is null
+            ? w.Did($"pairs of {factor} levels", true, "compared", "compared", "compare", $" by {method}")
+            : w.Did($"each level of {factor}", false, "compared", "compared", "compare", $" with the control {MethodsWriter.E(control)} by {method}");
+        text = text.EndsWith(',') ? text : text + ",";
+        text += $" {(p.Families.Count > 1 ? "each holding" : "holding")} the family-wise error rate at α over {MethodsWriter.Df(p.Multiplicity[Stat.M])} comparisons";
+        var hasCi = f.Pairs.Count > 0 && f.Pairs[0].Values.ContainsKey(Stat.CiLow);
+        text += hasCi ? ", with simultaneous intervals" : string.Empty;
+        text += p.Transformed ? "; differences are on the transformed scale." : ".";
+        return text;
+    }
 
     private static string MethodsComparison(PostHocOutcome p, MethodsWriter w)
     {

@@ -71,7 +71,9 @@ public sealed class SummaryRenderer : KindRenderer
     /// <summary>The summaries' sentence in a methods paragraph (written once, however many summary blocks).</summary>
     public override IEnumerable<string> Methods(MethodsPart part, MethodsSection? section, BlockOutcome outcome, MethodsWriter w) =>
         part == MethodsPart.Descriptives && w.Has("design")
-            ? [w.Did("descriptive statistics by group (n, mean, SD, standard error, confidence interval of the mean, median, quartiles and range)", true, "computed", "computed", "compute", ".")]
+            ? [w.Brief
+                ? w.Did("descriptive statistics by group", true, "computed", "computed", "compute", ".")
+                : w.Did("descriptive statistics by group (n, mean, SD, standard error, confidence interval of the mean, median, quartiles and range)", true, "computed", "computed", "compute", ".")]
             : [];
 
     public override void Render(HtmlWriter html, BlockOutcome outcome, RenderContext context)
@@ -85,7 +87,7 @@ public sealed class SummaryRenderer : KindRenderer
         // In the order the box plot reads: counts, the median and quartiles the box draws, the range the
         // whiskers and points reach; then the mean and its spread and interval.
         string[] headers = ["Group", "n", "missing", "median", "Q1 – Q3", "min – max", "mean", "SD", "SE", context.ConfidenceText + "% CI of mean"];
-        var caption = o.Block.Caption ?? $"Summary of {o.ResponseName}" + (o.Term.Length > 0 ? $" by {o.Term.Replace(":", " and ", StringComparison.Ordinal)}" : string.Empty);
+        var caption = o.Block.Caption ?? $"Summary of {o.ResponseLabel}" + (o.Term.Length > 0 ? $" by {o.Term.Replace(":", " and ", StringComparison.Ordinal)}" : string.Empty);
         var table = new HtmlTable("summary", caption, headers);
         foreach (var (label, _, values) in o.Groups)
         {
