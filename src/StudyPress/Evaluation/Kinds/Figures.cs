@@ -221,7 +221,7 @@ public static class Figures
 
             var name = string.Join(" × ", t.Factors.Select(n => Name(anova.Factors.First(f => f.Name == n).Display)));
             var chart = StatCharts.FDistribution(t.Df, fit.ResidualDf, t.F.Value, fit.Alpha, new ChartLabels(string.Create(CultureInfo.InvariantCulture, $"F({t.Df}, {fit.ResidualDf}) distribution: {name}"), "F", "density"));
-            yield return new Figure("f-distribution", caption ?? string.Create(CultureInfo.InvariantCulture, $"The F distribution under no effect of {name}; the shaded region is the rejection region at α = {fit.Alpha.ToString("R", CultureInfo.InvariantCulture)} and the line marks the observed F."), chart) { Part = string.Join("-", t.Factors) };
+            yield return new Figure("f-distribution", caption ?? string.Create(CultureInfo.InvariantCulture, $"The F distribution under no effect of {name}; the shaded region is the rejection region at α = {NumberText.Current.Level(fit.Alpha)} and the line marks the observed F."), chart) { Part = string.Join("-", t.Factors) };
         }
     }
 
@@ -274,9 +274,9 @@ public static class Figures
             marked = new PowerPoint(planned, power.Values[Stat.Power].Value.Value);
         }
 
-        var chart = StatCharts.PowerCurve(points, power.Target ?? 0.8, marked, new ChartLabels(string.Create(CultureInfo.InvariantCulture, $"Power against n per group (k = {power.Groups}, f = {power.Effect:0.###}, α = {power.Alpha.ToString("R", CultureInfo.InvariantCulture)})"), "n per group", "power"));
+        var chart = StatCharts.PowerCurve(points, power.Target ?? 0.8, marked, new ChartLabels(string.Create(CultureInfo.InvariantCulture, $"Power against n per group (k = {power.Groups}, f = {power.Effect:0.###}, α = {NumberText.Current.Level(power.Alpha)})"), "n per group", "power"));
         return new Figure("power-curve", caption ?? "Power of the F test as the group size grows; the horizontal line is the target power.", chart);
     }
 
-    private static string Confidence(double alpha) => Math.Round(100 * (1 - alpha), 10).ToString("R", CultureInfo.InvariantCulture) + "%";
+    private static string Confidence(double alpha) => NumberText.Confidence(alpha);
 }
