@@ -9,8 +9,9 @@ namespace StudyPress.Charts;
 /// the compiler's text follow the same rules; the compiler's <c>NumberFormat</c> adds only which
 /// statistic is which kind of number.
 /// <list type="bullet">
-/// <item>Ordinary values: <see cref="SignificantDigits"/> significant digits, rounded half away from
-/// zero; a value with more integer digits than that is rounded to a whole number (18009 stays
+/// <item>Rounding: half away from zero, on the value's shortest decimal form (the text that reads
+/// back as the same double: 41.15 → 41.2, 4.015 → 4.02), so a number rounds as its printed digits say.</item>
+/// <item>Ordinary values: <see cref="SignificantDigits"/> significant digits; a value with more integer digits than that is rounded to a whole number (18009 stays
 /// 18009); scientific notation only from 10^15 up or below 10^-6.</item>
 /// <item>p-values: <see cref="PDecimals"/> decimals; below the smallest such number,
 /// "&lt; 0.001" (for 3). The leading "0" is written unless <see cref="PLeadingZero"/> is false
@@ -69,7 +70,7 @@ public sealed record NumberText(int SignificantDigits = 3, int PDecimals = 3, bo
                 return Signed(value.ToString("E" + (digits - 1).ToString(CultureInfo.InvariantCulture), CultureInfo.InvariantCulture));
             }
 
-            return Signed(Math.Round(value, MidpointRounding.AwayFromZero).ToString("0", CultureInfo.InvariantCulture));
+            return Whole(value);
         }
 
         if (magnitude < -6)
@@ -78,29 +79,51 @@ public sealed record NumberText(int SignificantDigits = 3, int PDecimals = 3, bo
         }
 
         var decimals = digits - 1 - magnitude;
-        var rounded = Math.Round(value, decimals, MidpointRounding.AwayFromZero);
-        // Rounding can carry into a new digit (9.996 -> 10.00); recompute the decimals then.
-        if (rounded != 0 && (int)Math.Floor(Math.Log10(Math.Abs(rounded))) > magnitude)
+        var rounded = Fixed(value, decimals);
+        // Rounding can carry into a new digit (9.996 -> 10.00); one decimal fewer then.
+        var carried = double.Parse(rounded.Replace(Minus, '-'), NumberStyles.Float, CultureInfo.InvariantCulture);
+        if (carried != 0 && (int)Math.Floor(Math.Log10(Math.Abs(carried))) > magnitude)
         {
-            decimals = Math.Max(0, decimals - 1);
+            return Fixed(value, Math.Max(0, decimals - 1));
         }
 
-        return Fixed(rounded, decimals);
+        return rounded;
     }
 
     /// <summary>A whole number ("20"), with the minus sign when negative.</summary>
-    public static string Whole(double value) => Signed(Math.Round(value, MidpointRounding.AwayFromZero).ToString("0", CultureInfo.InvariantCulture));
+    public static string Whole(double value) => Fixed(value, 0);
 
     /// <summary>The value with <paramref name="decimals"/> decimals, rounded half away from zero; no sign when it rounds to zero.</summary>
     public static string Fixed(double value, int decimals)
     {
-        var rounded = Math.Round(value, decimals, MidpointRounding.AwayFromZero);
+        var format = "F" + decimals.ToString(CultureInfo.InvariantCulture);
+        if (decimals <= 28 && Shortest(value) is { } exact)
+        {
+            var r = Math.Round(exact, decimals, MidpointRounding.AwayFromZero);
+            var s = r.ToString(format, CultureInfo.InvariantCulture);
+            return Signed(r == 0 ? s.TrimStart('-') : s);
+        }
+
+        // Beyond decimal's range: on the double.
+        var rounded = Math.Round(value, Math.Min(decimals, 15), MidpointRounding.AwayFromZero);
         if (rounded == 0)
         {
             rounded = 0; // drops the sign of -0
         }
 
-        return Signed(rounded.ToString("F" + decimals.ToString(CultureInfo.InvariantCulture), CultureInfo.InvariantCulture));
+        return Signed(rounded.ToString(format, CultureInfo.InvariantCulture));
+    }
+
+    /// <summary>The value's shortest round-trip decimal form as a decimal, or null outside decimal's range.</summary>
+    private static decimal? Shortest(double value)
+    {
+        var abs = Math.Abs(value);
+        if (double.IsNaN(value) || abs >= 7.9e27 || (abs != 0 && abs < 1e-27))
+        {
+            return null;
+        }
+
+        return decimal.Parse(value.ToString("R", CultureInfo.InvariantCulture), NumberStyles.Float, CultureInfo.InvariantCulture);
     }
 
     /// <summary>A p-value: <see cref="PDecimals"/> decimals, "&lt; 0.001" (for 3) below the smallest such number; the leading zero by <see cref="PLeadingZero"/>.</summary>

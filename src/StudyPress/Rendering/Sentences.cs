@@ -21,8 +21,8 @@ namespace StudyPress.Rendering;
 /// <item><c>p-N</c>: a p-value with N decimals ("0.0350"), "&lt; 0.0001" (for N = 4) below the smallest such number.</item>
 /// <item><c>p-fraction-N</c>: as <c>p-N</c> with the leading "0" dropped (".0350", "&lt; .0001").</item>
 /// </list>
-/// Rounding is half away from zero on the double (Math.Round with MidpointRounding.AwayFromZero);
-/// a result that rounds to zero prints without a minus sign; the minus is U+2212 ("−"), as
+/// Rounding is half away from zero on the value's shortest decimal form (the "R" text: 41.15 → 41.2;
+/// <see cref="StudyPress.Charts.NumberText"/>); a result that rounds to zero prints without a minus sign; the minus is U+2212 ("−"), as
 /// everywhere in the report; invariant culture.
 /// </summary>
 public static class ReportStyle
