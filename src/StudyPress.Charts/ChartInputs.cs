@@ -20,3 +20,10 @@ public sealed record SubjectProfile(string Subject, string Group, IReadOnlyList<
 
 /// <summary>The mean profile with its interval at each level, for <see cref="StatCharts.SubjectProfiles"/>.</summary>
 public sealed record ProfilePoint(double Mean, double Lower, double Upper);
+
+/// <summary>
+/// One equivalence comparison for <see cref="StatCharts.EquivalenceIntervals"/>: pair label, estimated
+/// difference, its (1 − 2α) interval, and whether the test showed it within the margin (the caller's
+/// verdict, so the figure cannot disagree with the table).
+/// </summary>
+public sealed record EquivalenceInterval(string Pair, double Difference, double Lower, double Upper, bool Shown);

@@ -122,6 +122,39 @@ public class ChartGeometryTests
     }
 
     [Fact]
+    public void EquivalenceIntervals_BandAtMargins_ZeroLine_VerdictByShapeAndDash()
+    {
+        // Exact hand computation: the band spans x(−1.5)..x(1.5); intervals drawn at their bounds.
+        var chart = Samples.All().Single(s => s.Name == "equivalence").Make();
+        var root = Svg.Parse(chart.ToSvg());
+        var x = chart.Plot.X!;
+        var band = Svg.ByClass(root, "margin-band").Single();
+        Assert.Equal(x.Map(-1.5), Svg.D(band, "x"), Pixel);
+        Assert.Equal(x.Map(1.5) - x.Map(-1.5), Svg.D(band, "width"), Pixel);
+        var margins = Svg.ByClass(root, "margin-line").Select(l => Svg.D(l, "x1")).OrderBy(v => v).ToList();
+        Assert.Equal([x.Map(-1.5), x.Map(1.5)], margins, (a, b) => Math.Abs(a - b) < Pixel);
+        Assert.Equal(x.Map(0), Svg.D(Svg.ByClass(root, "zero-line").Single(), "x1"), Pixel);
+        var shown = Svg.ByClass(root, "shown").Where(e => e.Name.LocalName == "line").Single();
+        Assert.Null(shown.Attribute("stroke-dasharray"));
+        Assert.Equal(x.Map(-0.5), Svg.D(shown, "x1"), Pixel);
+        Assert.Equal(x.Map(1.1), Svg.D(shown, "x2"), Pixel);
+        var other = Svg.ByClass(root, "interval").Single(e => !Svg.ByClass(root, "shown").Contains(e));
+        Assert.NotNull(other.Attribute("stroke-dasharray"));
+        Assert.Equal(x.Map(2.3), Svg.D(other, "x2"), Pixel);
+    }
+
+    [Fact]
+    public void EquivalenceIntervals_OneMargin_BandOpenToThePlotEdge()
+    {
+        // Non-inferiority (higher is better): the band runs from −1 to the right edge of the plot.
+        var chart = StatCharts.EquivalenceIntervals([new("B − A", 0.2, -0.4, 0.8, true)], -1, null, "90% intervals", Samples.Labels);
+        var band = Svg.ByClass(Svg.Parse(chart.ToSvg()), "margin-band").Single();
+        Assert.Equal(chart.Plot.X!.Map(-1), Svg.D(band, "x"), Pixel);
+        Assert.Equal(chart.Plot.Right, Svg.D(band, "x") + Svg.D(band, "width"), Pixel);
+        Assert.Single(Svg.ByClass(Svg.Parse(chart.ToSvg()), "margin-line"));
+    }
+
+    [Fact]
     public void GroupMeans_ErrorBars_AtIntervalBounds()
     {
         var chart = StatCharts.GroupMeans([new("A", 5, 3.9, 6.1)], "95 %", Samples.Labels);

@@ -31,5 +31,7 @@ internal static class Samples
             new("Power", "n per group", "Power"))),
         ("intervals", () => StatCharts.SimultaneousIntervals(
             [new("B − A", 2.2, 0.4, 4.0), new("C − A", -0.9, -2.7, 0.9), new("C − B", -3.1, -4.9, -1.3)], "95 % joint", new("Tukey", "Difference", ""))),
+        ("equivalence", () => StatCharts.EquivalenceIntervals(
+            [new("B − A", 0.3, -0.5, 1.1, true), new("C − A", 1.2, 0.1, 2.3, false)], -1.5, 1.5, "90% intervals", new("Equivalence", "Difference", ""))),
     ];
 }

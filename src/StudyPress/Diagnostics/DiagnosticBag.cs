@@ -665,6 +665,34 @@ public sealed class DiagnosticBag
 
     public void DiffBadAlpha(SourceLocation at, string text) => Error("SP0708", at, $"--alpha must be a number between 0 and 1 (exclusive), not {Q(text)}");
 
+    public void EquivalenceComparisonChoice(SourceLocation at, bool both) => Error("SP0285", at, both
+        ? "write either 'pair' (two levels to compare) or 'reference' (the level every other level is compared with), not both"
+        : "an equivalence block needs 'pair' (two levels to compare, e.g. [new, old]) or 'reference' (the level every other level is compared with)");
+
+    public void EquivalencePair(SourceLocation at, int count) => Error("SP0286", at, count == 2
+        ? "'pair' names the same level twice; name two different levels, e.g. [new, old] (the difference is first minus second)"
+        : string.Create(CultureInfo.InvariantCulture, $"'pair' names two levels, e.g. [new, old] (the difference is first minus second), not {count}"));
+
+    public void EquivalenceMargin(SourceLocation at, string text, bool nonInferiority) => Error("SP0287", at, nonInferiority
+        ? $"a non-inferiority 'margin' is one positive number in the response's units (how much worse still counts as not inferior), not {(text is "a list" or "a mapping" ? text : Q(text))}"
+        : $"'margin' is a positive number m (the interval -m to m) or a list [low, high] with low < 0 < high, in the response's units, not {(text is "a list" or "a mapping" or "this list" ? text : Q(text))}");
+
+    public void EquivalenceBetterWithoutGoal(SourceLocation at) =>
+        Error("SP0288", at, "'better' says which direction is better for a non-inferiority test; write 'goal: non-inferiority' too, or remove 'better' for a test of equivalence");
+
+    public void DirectionMisplaced(SourceLocation at, string? method) => Error("SP0289", at, method is null
+        ? "'direction' says which way the levels are expected to differ from the control; it needs 'control'"
+        : $"a one-sided 'direction' is tested by Dunnett's comparisons with the control ('method: tukey' or 'auto'), not by {Q(method)}");
+
+    public void EquivalenceUnknownLevel(SourceLocation at, string level, string factor, string? suggestion) =>
+        Error("SP0535", at, $"{Q(level)} is not a level of factor {Q(factor)} with data{Suggest(suggestion)}");
+
+    public void EquivalenceAlphaTooLarge(SourceLocation at, double alpha) =>
+        Error("SP0537", at, string.Create(CultureInfo.InvariantCulture, $"an equivalence test needs the study's alpha below 0.5 (its interval has coverage 1 - 2 alpha), but alpha is {alpha}; lower 'alpha' in the header"));
+
+    public void DirectionNeedsPooledVariance(SourceLocation at, string test, string pText) =>
+        Error("SP0536", at, $"a one-sided 'direction' is tested by Dunnett's comparisons on the pooled variance, but {test} finds the variances unequal ({pText}); write 'method: tukey' to use the pooled variance anyway, or remove 'direction' for the two-sided Games-Howell comparisons");
+
     /// <summary>Closest candidate within a small edit distance, for "did you mean".</summary>
     public static string? Nearest(string word, IEnumerable<string> candidates)
     {

@@ -204,6 +204,18 @@ public static class Stat
     /// <summary>Subjects left out of the classical repeated-measures analysis (incomplete).</summary>
     public const string SubjectsDropped = "subjects_dropped";
 
+    /// <summary>Lower equivalence margin of a difference, in response units (equivalence, non-inferiority when higher is better).</summary>
+    public const string MarginLow = "margin_low";
+
+    /// <summary>Upper equivalence margin of a difference, in response units (equivalence, non-inferiority when lower is better).</summary>
+    public const string MarginHigh = "margin_high";
+
+    /// <summary>One-sided p-value against the lower margin (H0: difference at or below it).</summary>
+    public const string PLower = "p_lower";
+
+    /// <summary>One-sided p-value against the upper margin (H0: difference at or above it).</summary>
+    public const string PUpper = "p_upper";
+
     /// <summary>Stats that are whole numbers (counts, degrees of freedom of exact designs), shown without decimals.</summary>
     public static IReadOnlySet<string> Counts { get; } = new HashSet<string>(StringComparer.Ordinal) { N, Df, Missing, NPerGroup, NTotal, Df1, Df2, M, NBlocks, BlocksDropped, DfDen, SubjectsDropped, Rows, RowsUsed, DroppedMissing };
 
@@ -277,6 +289,10 @@ public static class Stat
         [PHf] = "p-value on Huynh–Feldt corrected df",
         [GeneralizedEta2] = "generalized eta squared",
         [SubjectsDropped] = "subjects left out of the classical repeated-measures analysis",
+        [MarginLow] = "lower equivalence margin, in response units",
+        [MarginHigh] = "upper equivalence margin, in response units",
+        [PLower] = "one-sided p-value against the lower margin",
+        [PUpper] = "one-sided p-value against the upper margin",
     };
 }
 
@@ -382,6 +398,9 @@ public static class TestName
     /// <summary>Subjects of a repeated-measures block: analysed and left out.</summary>
     public const string Subjects = "subjects";
 
+    /// <summary>Equivalence (two one-sided tests) or non-inferiority of a difference of two level means.</summary>
+    public const string Equivalence = "equivalence";
+
     /// <summary>Every name, with its meaning (checked against docs/manifest.md by the tests).</summary>
     public static IReadOnlyDictionary<string, string> All { get; } = new Dictionary<string, string>(StringComparer.Ordinal)
     {
@@ -418,5 +437,6 @@ public static class TestName
         [AnovaReml] = "mixed-model (REML) F tests of a repeated-measures block",
         [SimpleEffects] = "simple effects of a within-subject factor",
         [Subjects] = "subjects analysed and left out",
+        [Equivalence] = "equivalence (TOST) or non-inferiority of a difference of means",
     };
 }

@@ -26,25 +26,53 @@ public sealed class PostHocKind : BlockKind
 
     public override string PrimaryTest => "posthoc";
 
-    public override IReadOnlyList<string> OwnKeys { get; } = ["of", "factor", "method", "control"];
+    public override IReadOnlyList<string> OwnKeys { get; } = ["of", "factor", "method", "control", "direction"];
 
     public override bool AnalysesAnovaBlock => true;
 
     private static readonly string[] Methods = ["auto", "tukey", "games-howell", "holm", "bonferroni"];
 
+    /// <summary>The directions of comparisons with a control: two-sided, or every level expected higher (lower) than the control.</summary>
+    public static readonly string[] Directions = ["both", "higher", "lower"];
+
     public sealed record Options(string? Factor, SourceLocation FactorLocation, string Method, string? Control, SourceLocation ControlLocation)
     {
         /// <summary>Where <c>method</c> was written, or null.</summary>
         public SourceLocation? MethodLocation { get; init; }
+
+        /// <summary>Dunnett's alternative: both (two-sided, default), higher or lower than the control.</summary>
+        public DunnettAlternative Direction { get; init; } = DunnettAlternative.TwoSided;
+
+        /// <summary>Where <c>direction</c> was written (the block when absent).</summary>
+        public SourceLocation DirectionLocation { get; init; }
     }
 
     public override object? BindOptions(KeyReader keys, BindContext context, DiagnosticBag diagnostics)
     {
         var f = keys.Scalar("factor");
         var c = keys.Scalar("control");
-        return new Options(f?.Value, f?.Location ?? context.Syntax.Location, keys.Choice("method", Methods) ?? "auto", c?.Value, c?.Location ?? context.Syntax.Location)
+        var method = keys.Choice("method", Methods) ?? "auto";
+        var d = keys.Scalar("direction");
+        var direction = keys.Choice("direction", Directions) switch
+        {
+            "higher" => DunnettAlternative.Greater,
+            "lower" => DunnettAlternative.Less,
+            _ => DunnettAlternative.TwoSided,
+        };
+        if (d is not null && c is null && !keys.Misspelt.Contains("control"))
+        {
+            diagnostics.DirectionMisplaced(d.Location, null);
+        }
+        else if (d is not null && direction != DunnettAlternative.TwoSided && method is not ("auto" or "tukey"))
+        {
+            diagnostics.DirectionMisplaced(d.Location, method);
+        }
+
+        return new Options(f?.Value, f?.Location ?? context.Syntax.Location, method, c?.Value, c?.Location ?? context.Syntax.Location)
         {
             MethodLocation = keys.Scalar("method")?.Location,
+            Direction = direction,
+            DirectionLocation = d?.Location ?? context.Syntax.Location,
         };
     }
 }

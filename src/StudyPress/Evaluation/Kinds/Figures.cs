@@ -237,6 +237,12 @@ public static class Figures
             .Where(p => p.Pair.CiLow.IsDefined && p.Pair.CiHigh.IsDefined)
             .Select(p => new IntervalComparison(StudyPress.Charts.BidiText.Isolate(p.Pair.LevelA) + " − " + StudyPress.Charts.BidiText.Isolate(p.Pair.LevelB), p.Pair.Diff, p.Pair.CiLow.Value, p.Pair.CiHigh.Value))
             .ToList();
+        if (rows.Count == 0)
+        {
+            // One-sided bounds (Dunnett with a direction) have an open end: no two-sided interval to draw.
+            return null;
+        }
+
         var level = Confidence(alpha);
         var chart = StatCharts.SimultaneousIntervals(rows, level, new ChartLabels($"{family.Title}: differences with {level} joint intervals", "difference", string.Empty));
         return new Figure("intervals", caption ?? $"Each difference with its {level} joint interval (the intervals cover all the pairs together); intervals that exclude zero (solid, diamond) are the pairs the procedure separates.", chart);
@@ -276,6 +282,33 @@ public static class Figures
 
         var chart = StatCharts.PowerCurve(points, power.Target ?? 0.8, marked, new ChartLabels(string.Create(CultureInfo.InvariantCulture, $"Power against n per group (k = {power.Groups}, f = {power.Effect:0.###}, α = {NumberText.Current.Level(power.Alpha)})"), "n per group", "power"));
         return new Figure("power-curve", caption ?? "Power of the F test as the group size grows; the horizontal line is the target power.", chart);
+    }
+
+    /// <summary>An equivalence block's (1 − 2α) intervals against its shaded margin band and the zero line.</summary>
+    public static Figure? Equivalence(EquivalenceOutcome outcome, string? caption = null)
+    {
+        var rows = outcome.Comparisons
+            .Where(c => c.Result.CiLow.IsDefined && c.Result.CiHigh.IsDefined)
+            .Select(c => new EquivalenceInterval(
+                StudyPress.Charts.BidiText.Isolate(c.Result.LevelA) + " − " + StudyPress.Charts.BidiText.Isolate(c.Result.LevelB),
+                c.Result.Diff,
+                c.Result.CiLow.Value,
+                c.Result.CiHigh.Value,
+                c.Result.Verdict is Statistics.FollowUp.EquivalenceVerdict.EquivalentWithinMargin or Statistics.FollowUp.EquivalenceVerdict.NonInferiorWithinMargin))
+            .ToList();
+        if (rows.Count == 0)
+        {
+            return null;
+        }
+
+        var first = outcome.Comparisons[0].Result;
+        var level = Confidence(2 * first.Alpha);
+        var what = outcome.NonInferiority ? "non-inferiority margin" : "equivalence margin";
+        var chart = StatCharts.EquivalenceIntervals(rows, first.MarginLow, first.MarginHigh, level + " intervals",
+            new ChartLabels($"Differences of {outcome.FactorLabel} with {level} intervals against the {what}", "difference", string.Empty));
+        return new Figure("equivalence", caption ?? (outcome.NonInferiority
+            ? $"Each difference with its {level} interval; the shaded region is the side of the margin that counts as not inferior. Non-inferiority is shown where the whole interval lies in it (solid, diamond); an interval reaching past the margin does not show it."
+            : $"Each difference with its {level} interval; the shaded band is the equivalence margin. Equivalence is shown where the whole interval lies inside the band (solid, diamond); an interval reaching beyond it does not show equivalence, and one that covers zero does not show it either."), chart);
     }
 
     private static string Confidence(double alpha) => NumberText.Confidence(alpha);

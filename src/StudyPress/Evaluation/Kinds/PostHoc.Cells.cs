@@ -87,15 +87,23 @@ public sealed partial class PostHocEvaluator
             outcome.Decisions.Add(new RuleDecision(DecisionRule.DunnUnavailable, Cells: true));
         }
 
+        if (method == "games-howell" && options.Direction != DunnettAlternative.TwoSided)
+        {
+            var bp = outcome.Decisions.FirstOrDefault(d => d.Rule == DecisionRule.GamesHowellFired)?.P;
+            diagnostics.DirectionNeedsPooledVariance(options.DirectionLocation, "Bartlett's test over the cells", bp is { IsDefined: true } q ? "p = " + q.Value.ToString("0.####", CultureInfo.InvariantCulture) : "p below α");
+            return new PostHocOutcome(block);
+        }
+
         if ((method is "tukey" or "holm" or "bonferroni") && !ms.IsDefined)
         {
             outcome.UndefinedResidual = ms.Reason;
         }
 
+        outcome.Direction = options.Direction;
         var msValue = ms.IsDefined ? ms.Value : double.NaN;
         var (test, title, result) = method switch
         {
-            "tukey" when options.Control is not null => ("dunnett", "Dunnett's comparisons with the control", PostHocFromSummaries.CompareDunnett(levels, groups, msValue, df, alpha, options.Control)),
+            "tukey" when options.Control is not null => ("dunnett", DunnettTitle(options.Direction), Dunnett.CompareFromSummaries(levels, groups, msValue, df, alpha, options.Control, options.Direction)),
             "tukey" => ("tukey_hsd", groups.Select(g => g.Count).Distinct().Count() > 1 ? "Tukey–Kramer comparisons (unequal group sizes)" : "Tukey HSD comparisons", PostHocFromSummaries.CompareTukey(levels, groups, msValue, df, alpha)),
             "games-howell" => ("games_howell", "Games–Howell comparisons (unequal variances allowed)", ControlOnly(PostHocFromSummaries.CompareGamesHowell(levels, groups, alpha), options.Control)),
             "holm" => ("holm", "Pooled-variance t tests, Holm-adjusted", PostHocFromSummaries.ComparePooledT(levels, groups, msValue, df, alpha, PValueAdjustmentMethod.Holm, options.Control)),
@@ -114,6 +122,7 @@ public sealed partial class PostHocEvaluator
 
         outcome.SingleObservationLevels = groups.Any(g => g.Count < 2);
         outcome.FromCells = true;
+        AddInteractions(outcome, anova, term, alpha);
         return outcome;
     }
 

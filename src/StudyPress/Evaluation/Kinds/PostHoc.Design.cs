@@ -85,9 +85,10 @@ public sealed partial class PostHocEvaluator
         var ms = part.MeanSquare;
         var df = part.Df;
         var method = options.Method == "auto" ? "tukey" : options.Method;
+        outcome.Direction = options.Direction;
         var (test, title, result) = method switch
         {
-            "tukey" when options.Control is not null => ("dunnett", "Dunnett's comparisons with the control", Dunnett.Compare(levels, groups, ms, df, alpha, options.Control)),
+            "tukey" when options.Control is not null => ("dunnett", DunnettTitle(options.Direction), Dunnett.CompareWithAlternative(levels, groups, ms, df, alpha, options.Control, options.Direction)),
             "tukey" => ("tukey_hsd", "Tukey HSD comparisons", TukeyHsd.Compare(levels, groups, ms, df, alpha)),
             "holm" => ("holm", "Pooled-variance t tests, Holm-adjusted", PooledTTests.Compare(levels, groups, ms, df, alpha, PValueAdjustmentMethod.Holm, options.Control)),
             _ => ("bonferroni", "Pooled-variance t tests, Bonferroni-adjusted", PooledTTests.Compare(levels, groups, ms, df, alpha, PValueAdjustmentMethod.Bonferroni, options.Control)),
@@ -104,6 +105,7 @@ public sealed partial class PostHocEvaluator
         }
 
         outcome.SingleObservationLevels = groups.Any(g => g.Length < 2);
+        AddInteractions(outcome, anova, term, alpha);
         return outcome;
     }
 }

@@ -51,6 +51,15 @@ public sealed class PostHocOutcome(BoundBlock block) : BlockOutcome(block)
 
     /// <summary>A design anova: the error term the comparisons use (that of the factor's F test).</summary>
     public DesignErrorTerm? DesignError { get; set; }
+
+    /// <summary>The alternative of comparisons with a control (two-sided unless <c>direction</c> says otherwise).</summary>
+    public DunnettAlternative Direction { get; set; } = DunnettAlternative.TwoSided;
+
+    /// <summary>
+    /// Interactions of the anova that contain the compared factor and are significant at α (term
+    /// name, the other factors in it, and its p): the comparison averages over those factors' levels.
+    /// </summary>
+    public List<(string Term, IReadOnlyList<string> Others, ResultValue P)> Interactions { get; } = [];
 }
 
 /// <summary>Evaluates <c>posthoc</c> blocks into values (no HTML, no report text).</summary>
@@ -144,15 +153,22 @@ public sealed partial class PostHocEvaluator : KindEvaluator
             }
         }
 
+        if (method == "games-howell" && options.Direction != DunnettAlternative.TwoSided)
+        {
+            diagnostics.DirectionNeedsPooledVariance(options.DirectionLocation, "the Brown-Forsythe test", "p = " + anova.Review.BrownForsythe.P.Value.ToString("0.####", CultureInfo.InvariantCulture));
+            return new PostHocOutcome(block);
+        }
+
         if ((method is "tukey" or "holm" or "bonferroni") && !ms.IsDefined)
         {
             outcome.UndefinedResidual = ms.Reason;
         }
 
+        outcome.Direction = options.Direction;
         var msValue = ms.IsDefined ? ms.Value : double.NaN;
         var (test, title, result) = method switch
         {
-            "tukey" when options.Control is not null => ("dunnett", "Dunnett's comparisons with the control", Dunnett.Compare(levels, groups, msValue, df, alpha, options.Control)),
+            "tukey" when options.Control is not null => ("dunnett", DunnettTitle(options.Direction), Dunnett.CompareWithAlternative(levels, groups, msValue, df, alpha, options.Control, options.Direction)),
             "tukey" => ("tukey_hsd", groups.Select(g => g.Length).Distinct().Count() > 1 ? "Tukey–Kramer comparisons (unequal group sizes)" : "Tukey HSD comparisons", TukeyHsd.Compare(levels, groups, msValue, df, alpha)),
             "games-howell" => ("games_howell", "Games–Howell comparisons (unequal variances allowed)", ControlOnly(GamesHowell.Compare(levels, groups, alpha), options.Control)),
             "holm" => ("holm", "Pooled-variance t tests, Holm-adjusted", PooledTTests.Compare(levels, groups, msValue, df, alpha, PValueAdjustmentMethod.Holm, options.Control)),
@@ -176,8 +192,28 @@ public sealed partial class PostHocEvaluator : KindEvaluator
         }
 
         outcome.SingleObservationLevels = groups.Any(g => g.Length < 2);
-
+        AddInteractions(outcome, anova, term, alpha);
         return outcome;
+    }
+
+    /// <summary>The title of Dunnett's family, with its alternative.</summary>
+    internal static string DunnettTitle(DunnettAlternative direction) => direction switch
+    {
+        DunnettAlternative.Greater => "Dunnett's one-sided comparisons with the control (alternative: higher than the control)",
+        DunnettAlternative.Less => "Dunnett's one-sided comparisons with the control (alternative: lower than the control)",
+        _ => "Dunnett's comparisons with the control",
+    };
+
+    /// <summary>Records the anova's significant interactions that contain the compared factor.</summary>
+    internal static void AddInteractions(PostHocOutcome outcome, AnovaOutcome anova, string factor, double alpha)
+    {
+        foreach (var (t, values) in anova.Terms)
+        {
+            if (t.Factors.Count > 1 && t.Factors.Contains(factor) && t.P.IsDefined && t.P.Value < alpha && values.TryGetValue(Stat.P, out var p))
+            {
+                outcome.Interactions.Add((t.Name, t.Factors.Where(f => f != factor).ToList(), p));
+            }
+        }
     }
 
     internal static PostHocResult ControlOnly(PostHocResult all, string? control)

@@ -88,7 +88,12 @@ public sealed class PostHocRenderer : KindRenderer
     {
         "tukey_hsd" => p.Families[0].Title.StartsWith("Tukey–Kramer", StringComparison.Ordinal) ? "the Tukey–Kramer procedure (Tukey's HSD for unequal group sizes)" : "Tukey's HSD procedure",
         "games_howell" => "the Games–Howell procedure, which does not pool the variances,",
-        "dunnett" => "Dunnett's comparisons with the control",
+        "dunnett" => p.Direction switch
+        {
+            DunnettAlternative.Greater => "Dunnett's one-sided comparisons with the control (alternative: every level higher than the control)",
+            DunnettAlternative.Less => "Dunnett's one-sided comparisons with the control (alternative: every level lower than the control)",
+            _ => "Dunnett's comparisons with the control",
+        },
         "holm" => "pooled-variance t tests with Holm's step-down adjustment",
         "bonferroni" => "pooled-variance t tests with the Bonferroni adjustment",
         _ => "Dunn's rank comparisons with Holm's adjustment",
@@ -115,6 +120,17 @@ public sealed class PostHocRenderer : KindRenderer
         {
             var differ = f.Pairs.Where(x => x.Pair.PAdjusted.IsDefined && x.Pair.PAdjusted.Value < w.Outcome.Alpha).ToList();
             var name = f.Test == "dunn" ? "In Dunn's rank comparisons" : $"In the comparisons of {MethodsWriter.E(p.FactorLabel)}";
+            if (f.Test == "dunnett" && p.Direction != DunnettAlternative.TwoSided)
+            {
+                var way = p.Direction == DunnettAlternative.Greater ? "higher" : "lower";
+                var shown = differ.Select(x => $"{MethodsWriter.E(x.Pair.LevelA)} − {MethodsWriter.E(x.Pair.LevelB)} ({MethodsPair(f.Test, x.Values, w)})").ToList();
+                yield return shown.Count == 0
+                    ? $"{name} with the control (one-sided), no level {w.T("was", "is")} shown {way} than the control at the family-wise level α = {w.AlphaText}; this does not show that the levels equal the control."
+                    : $"{name} with the control (one-sided), these levels {w.T("were", "are")} shown {way} than the control at the family-wise level α = {w.AlphaText}: {string.Join("; ", shown)}."
+                        + (shown.Count < f.Pairs.Count ? $" The others {w.T("were", "are")} not shown {way}, which does not show that they equal the control." : string.Empty);
+                continue;
+            }
+
             if (differ.Count == 0)
             {
                 yield return $"{name}, no pair {w.T("differed", "differs")} at the family-wise level α = {w.AlphaText}; this does not show that the levels are equal.";
@@ -137,7 +153,9 @@ public sealed class PostHocRenderer : KindRenderer
         var text = test == "dunn" ? $"difference in mean rank = {MethodsWriter.S2(v[Stat.Diff])}" : $"difference = {MethodsWriter.S2(v[Stat.Diff])}";
         if (v.TryGetValue(Stat.CiLow, out var lo) && v.TryGetValue(Stat.CiHigh, out var hi))
         {
-            text += $", {w.Confidence}% CI [{MethodsWriter.S2(lo)}, {MethodsWriter.S2(hi)}]";
+            text += !hi.Value.IsDefined && lo.Value.IsDefined ? $", one-sided {w.Confidence}% bound [{MethodsWriter.S2(lo)}, +∞)"
+                : !lo.Value.IsDefined && hi.Value.IsDefined ? $", one-sided {w.Confidence}% bound (−∞, {MethodsWriter.S2(hi)}]"
+                : $", {w.Confidence}% CI [{MethodsWriter.S2(lo)}, {MethodsWriter.S2(hi)}]";
         }
 
         return text + ", " + ReportStyle.PPhrase(v[Stat.PAdj], "adjusted p");
@@ -158,6 +176,12 @@ public sealed class PostHocRenderer : KindRenderer
         if (o.SingleObservationLevels)
         {
             yield return "Some levels have a single observation: comparisons involving them rest entirely on the pooled variance (and are not defined for Games–Howell).";
+        }
+
+        foreach (var (term, others, p) in o.Interactions)
+        {
+            var other = string.Join(" and ", others);
+            yield return $"The anova found the interaction {term} significant (p = {context.Format.Format(Stat.P, p.Value.Value)} < α = {context.AlphaText}): the effect of {o.FactorLabel} depends on {other}. These comparisons average over the levels of {other}, so a difference here may be absent, or reversed, at some level of {other}; compare the levels of {o.FactorLabel} within each level of {other} instead (for example, an anova block with 'where' restricted to one level of {other}, and its posthoc block).";
         }
     }
 
@@ -208,6 +232,13 @@ public sealed class PostHocRenderer : KindRenderer
         "adjusted p",
     ];
 
+    /// <summary>A one-sided Dunnett pair's verdict at the study's alpha: shown in the stated direction, or not shown (which is not the opposite).</summary>
+    internal static string OneSidedVerdict(Quantity pAdjusted, DunnettAlternative direction, RenderContext context)
+    {
+        var way = direction == DunnettAlternative.Greater ? "higher" : "lower";
+        return pAdjusted.IsDefined ? (pAdjusted.Value < context.Alpha ? way + " than the control" : "not shown " + way) : "not defined";
+    }
+
     /// <summary>A pair's verdict at the study's alpha, from its adjusted p-value.</summary>
     internal static string Verdict(Quantity pAdjusted, RenderContext context) =>
         pAdjusted.IsDefined ? (pAdjusted.Value < context.Alpha ? "differ" : "not distinguished") : "not defined";
@@ -227,24 +258,41 @@ public sealed class PostHocRenderer : KindRenderer
             // header shows how it follows from the difference and the SE printed beside it.
             var hasCi = f.Pairs.Count > 0 && f.Pairs[0].Values.ContainsKey(Stat.CiLow);
             var difference = f.Test == "dunn" ? "difference in mean rank" : "difference";
-            var headers = PairHeaders(f.Test, difference, hasCi ? level + " joint interval" : null, context);
+            var oneSided = f.Test == "dunnett" && o.Direction != DunnettAlternative.TwoSided;
+            var headers = PairHeaders(f.Test, difference, hasCi ? level + (oneSided ? " one-sided joint bound" : " joint interval") : null, context);
+            if (oneSided)
+            {
+                headers[^1] = o.Direction == DunnettAlternative.Greater ? "adjusted p (one-sided: higher)" : "adjusted p (one-sided: lower)";
+            }
             var caption = (o.Block.Caption ?? f.Title) + " of " + o.FactorLabel;
             var table = new HtmlTable("pairs", caption, headers) { TextColumns = [1] };
             foreach (var (pair, v) in f.Pairs)
             {
                 var estimate = HtmlWriter.ValueHtml(v[Stat.Diff], context);
-                if (hasCi)
+                if (hasCi && oneSided)
+                {
+                    estimate += o.Direction == DunnettAlternative.Greater
+                        ? " [" + HtmlWriter.ValueHtml(v[Stat.CiLow], context) + ", +∞)"
+                        : " (−∞, " + HtmlWriter.ValueHtml(v[Stat.CiHigh], context) + "]";
+                }
+                else if (hasCi)
                 {
                     estimate += " [" + HtmlWriter.ValueHtml(v[Stat.CiLow], context) + ", " + HtmlWriter.ValueHtml(v[Stat.CiHigh], context) + "]";
                 }
 
-                var verdict = Verdict(pair.PAdjusted, context);
+                var verdict = oneSided ? OneSidedVerdict(pair.PAdjusted, o.Direction, context) : Verdict(pair.PAdjusted, context);
                 table.Row(
                     StudyPress.Charts.BidiText.Isolate(pair.LevelA) + " − " + StudyPress.Charts.BidiText.Isolate(pair.LevelB),
                     [verdict, estimate, HtmlWriter.ValueHtml(v[Stat.Se], context), HtmlWriter.ValueHtml(v[Stat.Statistic], context), HtmlWriter.ValueHtml(v[Stat.PAdj], context)]);
             }
 
             table.WriteTo(html);
+        }
+
+        if (o.Families[0].Test == "dunnett" && o.Direction != DunnettAlternative.TwoSided)
+        {
+            var way = o.Direction == DunnettAlternative.Greater ? "higher" : "lower";
+            html.Raw("<p class=\"method\">").Text($"Alternative: every level {way} than the control (one-sided, as 'direction: {way}' asks). Dunnett's one-sided test only looks for differences in that direction: a level {(way == "higher" ? "lower" : "higher")} than the control, however far, is not detected, and \"not shown {way}\" is not evidence of no difference. The one-sided simultaneous bounds and adjusted p-values come from the exact multivariate t distribution with the correlations of the group sizes (Dunnett 1955), integrated numerically.").Raw("</p>");
         }
 
         html.Raw("<p class=\"method\">").Text("Differences are first level minus second")
@@ -262,6 +310,14 @@ public sealed class PostHocRenderer : KindRenderer
 
         var main = o.Families[0];
         var differ = main.Pairs.Count(p => p.Pair.PAdjusted.IsDefined && p.Pair.PAdjusted.Value < context.Alpha);
+        if (main.Test == "dunnett" && o.Direction != DunnettAlternative.TwoSided)
+        {
+            var way = o.Direction == DunnettAlternative.Greater ? "higher" : "lower";
+            html.Raw("<p>").Text(string.Create(CultureInfo.InvariantCulture, $"{differ} of {NumberText.Count(main.Pairs.Count, "level")} {(differ == 1 ? "is" : "are")} shown {way} than the control at the family-wise level α = {context.AlphaText} (one-sided). \"Not shown {way}\" means the data do not establish that direction, not that the level equals the control.")).Raw("</p>");
+            html.Raw("</div>");
+            return;
+        }
+
         html.Raw("<p>").Text(string.Create(CultureInfo.InvariantCulture, $"{differ} of {NumberText.Count(main.Pairs.Count, "comparison")} {(differ == 1 ? "differs" : "differ")} at the family-wise level α = {context.AlphaText}. \"Not distinguished\" means the data cannot tell those levels apart at this level, not that they are equal; the intervals show how large a difference remains compatible with the data.")).Raw("</p>");
         html.Raw("</div>");
     }
