@@ -10,7 +10,11 @@ public sealed record ChartSize(int Width, int Height)
 }
 
 /// <summary>Title (the SVG title and visible heading; may be empty) and axis titles (may be empty).</summary>
-public sealed record ChartLabels(string Title, string XAxis, string YAxis);
+public sealed record ChartLabels(string Title, string XAxis, string YAxis)
+{
+    /// <summary>How the chart writes the numbers in its labels and description (the report's rules; ticks keep their own decimals but the same minus sign).</summary>
+    public NumberText Numbers { get; init; } = NumberText.Current;
+}
 
 /// <summary>
 /// A finished chart. <see cref="ToSvg"/> and <see cref="ToPng"/> give the same picture; both are

@@ -82,7 +82,7 @@ public static partial class StatCharts
         var shownCount = comparisons.Count(c => c.Shown);
         desc.Append(confidenceText).Append(" for ").Append(comparisons.Count.ToString(CultureInfo.InvariantCulture))
             .Append(" comparisons against the margin ")
-            .Append(marginLow is { } a ? LinearScale.Num(a) : "(none)").Append(" to ").Append(marginHigh is { } b ? LinearScale.Num(b) : "(none)")
+            .Append(marginLow is { } a ? labels.Numbers.General(a) : "(none)").Append(" to ").Append(marginHigh is { } b ? labels.Numbers.General(b) : "(none)")
             .Append("; ").Append(shownCount.ToString(CultureInfo.InvariantCulture)).Append(" shown within it.");
         for (var i = 0; i < comparisons.Count; i++)
         {
@@ -90,8 +90,8 @@ public static partial class StatCharts
             var cy = yCat.Centre(i);
             var paint = c.Shown ? shownPaint : otherPaint;
             var capPaint = paint with { Dash = null };
-            var summary = string.Concat(BidiText.Isolate(c.Pair), ": difference ", LinearScale.Num(c.Difference), ", interval ", LinearScale.Num(c.Lower), " to ",
-                LinearScale.Num(c.Upper), c.Shown ? ", within the margin." : ", not shown within the margin.");
+            var summary = string.Concat(BidiText.Isolate(c.Pair), ": difference ", labels.Numbers.General(c.Difference), ", interval ", labels.Numbers.General(c.Lower), " to ",
+                labels.Numbers.General(c.Upper), c.Shown ? ", within the margin." : ", not shown within the margin.");
             desc.Append(' ').Append(summary);
             plot.Add(new GroupEl(
             [

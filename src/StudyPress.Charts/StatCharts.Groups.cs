@@ -84,9 +84,9 @@ public static partial class StatCharts
             }
 
             string summary = string.Concat(BidiText.Isolate(groups[i].Label), ": n = ", sorted.Count.ToString(System.Globalization.CultureInfo.InvariantCulture),
-                ", median ", LinearScale.Num(b.Median), ", quartiles ", LinearScale.Num(b.Q1), " to ", LinearScale.Num(b.Q3),
-                ", whiskers ", LinearScale.Num(b.LowerWhisker), " to ", LinearScale.Num(b.UpperWhisker),
-                b.Outliers.Count == 0 ? "" : ", outliers " + string.Join(", ", b.Outliers.Select(LinearScale.Num)), ".");
+                ", median ", labels.Numbers.General(b.Median), ", quartiles ", labels.Numbers.General(b.Q1), " to ", labels.Numbers.General(b.Q3),
+                ", whiskers ", labels.Numbers.General(b.LowerWhisker), " to ", labels.Numbers.General(b.UpperWhisker),
+                b.Outliers.Count == 0 ? "" : ", outliers " + string.Join(", ", b.Outliers.Select(labels.Numbers.General)), ".");
             desc.Append(' ').Append(summary);
             plot.Add(new GroupEl(els, "group", summary));
         }
@@ -130,8 +130,8 @@ public static partial class StatCharts
             var m = means[i];
             double cx = x.Centre(i);
             var ink = Paint.StrokeOnly(Palette.Ink, 1.4);
-            string summary = string.Concat(BidiText.Isolate(m.Label), ": mean ", LinearScale.Num(m.Mean), ", interval ", LinearScale.Num(m.Lower),
-                " to ", LinearScale.Num(m.Upper), ".");
+            string summary = string.Concat(BidiText.Isolate(m.Label), ": mean ", labels.Numbers.General(m.Mean), ", interval ", labels.Numbers.General(m.Lower),
+                " to ", labels.Numbers.General(m.Upper), ".");
             plot.Add(new GroupEl(
             [
                 new LineEl(new(cx, y.Map(m.Lower)), new(cx, y.Map(m.Upper)), ink, "ci"),
@@ -195,7 +195,7 @@ public static partial class StatCharts
                 if (lookup.TryGetValue((levelsA[i], levelsB[j]), out double mean))
                 {
                     line.Add(new(x.Centre(i) + shift, y.Map(mean)));
-                    parts.Add(BidiText.Isolate(levelsA[i]) + " " + LinearScale.Num(mean));
+                    parts.Add(BidiText.Isolate(levelsA[i]) + " " + labels.Numbers.General(mean));
                 }
                 else
                 {

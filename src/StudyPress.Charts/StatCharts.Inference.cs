@@ -67,12 +67,12 @@ public static partial class StatCharts
         plot.Add(new PolylineEl(drawn.Select(v => new Pt(x.Map(v), y.Map(Clamp(Pdf(v))))).ToList(),
             Paint.StrokeOnly(Palette.Ink, 1.6), "density"));
 
-        string critText = "rejected from F = " + LinearScale.Num(crit);
+        string critText = "rejected from F = " + labels.Numbers.General(crit);
         plot.Add(new LineEl(new(x.Map(crit), plot.Top), new(x.Map(crit), plot.Bottom), critPaint, "critical"));
         plot.Add(new TextEl(new(x.Map(crit) + 4, plot.Top + 12), critText, Plot.TickSize, Palette.Ink, Class: "critical-label"));
 
         double p = Probability.FUpper(observedF, df1, df2);
-        string fText = "F = " + LinearScale.Num(observedF);
+        string fText = "F = " + labels.Numbers.General(observedF);
         if (offAxis)
         {
             double ax = plot.Right, ay = plot.Top + 34;
@@ -88,9 +88,9 @@ public static partial class StatCharts
                 nearRight ? Anchor.End : Anchor.Start, Class: "observed-label"));
         }
 
-        string desc = string.Concat("Density of the F distribution with ", LinearScale.Num(df1), " and ", LinearScale.Num(df2),
-            " degrees of freedom. Rejection region at alpha ", LinearScale.Num(alpha), ": F above ", LinearScale.Num(crit),
-            ". Observed ", fText, ", upper-tail p = ", LinearScale.Num(p), offAxis ? "; it lies beyond the right end of the axis." : ".");
+        string desc = string.Concat("Density of the F distribution with ", labels.Numbers.General(df1), " and ", labels.Numbers.General(df2),
+            " degrees of freedom. Rejection region at alpha ", labels.Numbers.Level(alpha), ": F above ", labels.Numbers.General(crit),
+            ". Observed ", fText, ", upper-tail p = ", labels.Numbers.P(p), offAxis ? "; it lies beyond the right end of the axis." : ".");
         return plot.ToChart(desc);
     }
 
@@ -123,7 +123,7 @@ public static partial class StatCharts
         var legend = new List<LegendEntry>
         {
             new("Power", linePaint, MarkerShape.Circle, Palette.Blue),
-            new("Target " + LinearScale.Num(targetPower), targetPaint, null, Palette.Vermillion),
+            new("Target " + labels.Numbers.General(targetPower), targetPaint, null, Palette.Vermillion),
         };
         if (marked is not null)
         {
@@ -147,7 +147,7 @@ public static partial class StatCharts
         if (marked is not null)
         {
             var at = new Pt(x.Map(marked.PerGroupN), y.Map(marked.Power));
-            markedText = "n = " + marked.PerGroupN.ToString(CultureInfo.InvariantCulture) + ", power " + LinearScale.Num(marked.Power);
+            markedText = "n = " + marked.PerGroupN.ToString(CultureInfo.InvariantCulture) + ", power " + labels.Numbers.General(marked.Power);
             plot.Add(Palette.Marker(MarkerShape.Diamond, at, 5, Palette.Black, true, "marked"));
             // The label goes where it crosses neither the curve nor the target line: the first of
             // these places around the point (the power curve rises, so up-left and down-right of it
@@ -192,8 +192,8 @@ public static partial class StatCharts
         string desc = ordered.Count == 0
             ? "Power curve: no points."
             : string.Concat("Power against sample size per group from n = ", ordered[0].PerGroupN.ToString(CultureInfo.InvariantCulture),
-                " (power ", LinearScale.Num(ordered[0].Power), ") to n = ", ordered[^1].PerGroupN.ToString(CultureInfo.InvariantCulture),
-                " (power ", LinearScale.Num(ordered[^1].Power), "). Target power ", LinearScale.Num(targetPower), ".",
+                " (power ", labels.Numbers.General(ordered[0].Power), ") to n = ", ordered[^1].PerGroupN.ToString(CultureInfo.InvariantCulture),
+                " (power ", labels.Numbers.General(ordered[^1].Power), "). Target power ", labels.Numbers.General(targetPower), ".",
                 marked is null ? "" : " Marked: " + markedText + ".");
         return plot.ToChart(desc);
     }
@@ -243,8 +243,8 @@ public static partial class StatCharts
             double cy = yCat.Centre(i);
             var paint = flagged ? flaggedPaint : plainPaint;
             var capPaint = paint with { Dash = null };
-            string summary = string.Concat(BidiText.Isolate(c.Pair), ": difference ", LinearScale.Num(c.Difference), ", interval ", LinearScale.Num(c.Lower), " to ",
-                LinearScale.Num(c.Upper), flagged ? ", excludes 0." : ", covers 0.");
+            string summary = string.Concat(BidiText.Isolate(c.Pair), ": difference ", labels.Numbers.General(c.Difference), ", interval ", labels.Numbers.General(c.Lower), " to ",
+                labels.Numbers.General(c.Upper), flagged ? ", excludes 0." : ", covers 0.");
             desc.Append(' ').Append(summary);
             plot.Add(new GroupEl(
             [

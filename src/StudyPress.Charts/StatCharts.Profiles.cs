@@ -74,7 +74,7 @@ public static partial class StatCharts
             els.Add(new LineEl(new(cx - cap, y.Map(m.Lower)), new(cx + cap, y.Map(m.Lower)), thin, "ci-cap"));
             els.Add(new LineEl(new(cx - cap, y.Map(m.Upper)), new(cx + cap, y.Map(m.Upper)), thin, "ci-cap"));
             els.Add(Palette.Marker(MarkerShape.Circle, new(cx, y.Map(m.Mean)), 3.5, Palette.Ink, true, "mean"));
-            parts.Add(string.Concat(BidiText.Isolate(levels[i]), " ", LinearScale.Num(m.Mean), " (", LinearScale.Num(m.Lower), " to ", LinearScale.Num(m.Upper), ")"));
+            parts.Add(string.Concat(BidiText.Isolate(levels[i]), " ", labels.Numbers.General(m.Mean), " (", labels.Numbers.General(m.Lower), " to ", labels.Numbers.General(m.Upper), ")"));
         }
 
         string summary = "Mean profile: " + string.Join(", ", parts) + ".";

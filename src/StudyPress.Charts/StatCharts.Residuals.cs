@@ -60,7 +60,7 @@ public static partial class StatCharts
         }
 
         var y = LinearScale.Containing(yValues);
-        string confText = (confidence * 100).ToString("0.##", CultureInfo.InvariantCulture) + " % pointwise envelope";
+        string confText = (confidence * 100).ToString("0.##", CultureInfo.InvariantCulture) + "% pointwise envelope";
         var legend = new List<LegendEntry> { new("Residual", null, MarkerShape.Circle, Palette.Blue) };
         if (hasLine)
         {
@@ -101,12 +101,12 @@ public static partial class StatCharts
             .Append(" residuals against standard normal quantiles (Blom positions).");
         if (hasLine)
         {
-            desc.Append(" Reference line through the quartiles: intercept ").Append(LinearScale.Num(intercept)).Append(", slope ")
-                .Append(LinearScale.Num(slope)).Append(". ").Append(outside.ToString(CultureInfo.InvariantCulture))
+            desc.Append(" Reference line through the quartiles: intercept ").Append(labels.Numbers.General(intercept)).Append(", slope ")
+                .Append(labels.Numbers.General(slope)).Append(". ").Append(outside.ToString(CultureInfo.InvariantCulture))
                 .Append(" of ").Append(n.ToString(CultureInfo.InvariantCulture)).Append(" points lie outside the ").Append(confText).Append('.');
         }
 
-        desc.Append(" Smallest residual ").Append(LinearScale.Num(sorted[0])).Append(", largest ").Append(LinearScale.Num(sorted[n - 1])).Append('.');
+        desc.Append(" Smallest residual ").Append(labels.Numbers.General(sorted[0])).Append(", largest ").Append(labels.Numbers.General(sorted[n - 1])).Append('.');
         return plot.ToChart(desc.ToString());
     }
 
@@ -180,17 +180,17 @@ public static partial class StatCharts
 
         var desc = new StringBuilder();
         desc.Append("Histogram of ").Append(n.ToString(CultureInfo.InvariantCulture)).Append(" residuals in ")
-            .Append(bins.Counts.Count.ToString(CultureInfo.InvariantCulture)).Append(" bins of width ").Append(LinearScale.Num(bins.Width))
-            .Append(" (").Append(bins.Rule).Append(") from ").Append(LinearScale.Num(bins.Start)).Append(" to ").Append(LinearScale.Num(end))
+            .Append(bins.Counts.Count.ToString(CultureInfo.InvariantCulture)).Append(" bins of width ").Append(labels.Numbers.General(bins.Width))
+            .Append(" (").Append(bins.Rule).Append(") from ").Append(labels.Numbers.General(bins.Start)).Append(" to ").Append(labels.Numbers.General(end))
             .Append("; counts ").Append(string.Join(", ", bins.Counts.Select(c => c.ToString(CultureInfo.InvariantCulture)))).Append('.');
         if (normal is not null)
         {
-            desc.Append(" Fitted normal density: mean ").Append(LinearScale.Num(mean)).Append(", SD ").Append(LinearScale.Num(sd)).Append('.');
+            desc.Append(" Fitted normal density: mean ").Append(labels.Numbers.General(mean)).Append(", SD ").Append(labels.Numbers.General(sd)).Append('.');
         }
 
         if (kde is not null)
         {
-            desc.Append(" Kernel density: Gaussian kernel, bandwidth ").Append(LinearScale.Num(h)).Append(" (Silverman's rule).");
+            desc.Append(" Kernel density: Gaussian kernel, bandwidth ").Append(labels.Numbers.General(h)).Append(" (Silverman's rule).");
         }
 
         return plot.ToChart(desc.ToString());
@@ -223,8 +223,8 @@ public static partial class StatCharts
         string desc = fitted.Count == 0
             ? "Residuals against fitted values: no data."
             : string.Concat("Residuals against fitted values for ", fitted.Count.ToString(CultureInfo.InvariantCulture),
-                " observations, with a line at zero. Fitted values ", LinearScale.Num(fitted.Min()), " to ", LinearScale.Num(fitted.Max()),
-                "; residuals ", LinearScale.Num(residuals.Min()), " to ", LinearScale.Num(residuals.Max()), ".");
+                " observations, with a line at zero. Fitted values ", labels.Numbers.General(fitted.Min()), " to ", labels.Numbers.General(fitted.Max()),
+                "; residuals ", labels.Numbers.General(residuals.Min()), " to ", labels.Numbers.General(residuals.Max()), ".");
         return plot.ToChart(desc);
     }
 }

@@ -112,6 +112,8 @@ public static class Compilation
         // Bind.
         var header = HeaderBinder.Bind(syntax.Header, display, diagnostics);
         var blocks = BlockBinder.Bind(syntax, header, diagnostics);
+        // Every number of this study, in chart labels made while evaluating as in the report's text, is written by the header's rules.
+        using var numbers = StudyPress.Charts.NumberText.Use(header.Report.Numbers);
         var primary = blocks.ToDictionary(b => b.Id, b => b.Kind.PrimaryTest, StringComparer.Ordinal);
         if (diagnostics.HasErrors)
         {
@@ -182,7 +184,7 @@ public static class Compilation
             ReportTemplate.Sha256,
             options.SourceDateEpoch is { } epoch ? DateTimeOffset.FromUnixTimeSeconds(epoch).UtcDateTime.ToString("yyyy-MM-dd'T'HH:mm:ss'Z'", System.Globalization.CultureInfo.InvariantCulture) : null);
         manifest = Manifest.Write(identity, inputs, context.Results);
-        format = new NumberFormat(header.Report.SignificantDigits, header.Report.PDecimals);
+        format = new NumberFormat(header.Report.Numbers);
         var taken = new HashSet<string>(StringComparer.OrdinalIgnoreCase);
         foreach (var block in blocks)
         {

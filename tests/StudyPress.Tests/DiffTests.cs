@@ -101,7 +101,7 @@ public sealed class DiffTests
 
         // The methods text moves with the data: the comparisons sentence now names one pair.
         var methods = Assert.Single(r.Sentences);
-        Assert.Contains(methods.Added, s => s.StartsWith("In the comparisons of Nozzle type, these pairs differed at the family-wise level α = .05: flat-fan − full-cone", StringComparison.Ordinal) && !s.Contains("hollow-cone", StringComparison.Ordinal));
+        Assert.Contains(methods.Added, s => s.StartsWith("In the comparisons of Nozzle type, these pairs differed at the family-wise level α = 0.05: flat-fan − full-cone", StringComparison.Ordinal) && !s.Contains("hollow-cone", StringComparison.Ordinal));
         Assert.Equal(3, r.ExitCode(FailOn.Values));
     }
 

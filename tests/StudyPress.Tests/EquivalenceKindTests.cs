@@ -87,7 +87,7 @@ factors: [level]
         Assert.Equal(1, Count(html, "within the margin: equivalence shown at α = 0.05"));
         Assert.Equal(2, Count(html, "not shown to be equivalent: the interval reaches beyond the margin"));
         Assert.Contains("this is not evidence that the levels differ", html, StringComparison.Ordinal);
-        Assert.Contains("Equivalence is shown for 1 of 3 comparison(s)", html, StringComparison.Ordinal);
+        Assert.Contains("Equivalence is shown for 1 of 3 comparisons", html, StringComparison.Ordinal);
         Assert.Contains("the anova&#39;s residual mean square", html, StringComparison.Ordinal);
         Assert.Contains("class=\"margin-band\"", html, StringComparison.Ordinal);
     }

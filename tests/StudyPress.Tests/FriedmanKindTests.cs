@@ -77,7 +77,7 @@ factors: [treatment, block]
         var m = new ManifestView(result.ManifestJson!);
         Assert.Equal(10.68, m.Get("ranks", "friedman", "treatment", "chi2"), 2);
         Assert.Equal(1, m.Get("ranks", "friedman", "treatment", "blocks_dropped"));
-        Assert.Contains("1 block(s) without a value for every treatment were left out", result.Html, StringComparison.Ordinal);
+        Assert.Contains("1 block without a value for every treatment was left out", result.Html, StringComparison.Ordinal);
     }
 
     [Fact]

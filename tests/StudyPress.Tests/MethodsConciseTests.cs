@@ -257,7 +257,7 @@ public sealed partial class MethodsConciseTests
     {
         // Tomato example: mean-centred Levene p = .005 while Brown–Forsythe p = .188 (its assumptions table).
         var text = Visible(MethodsParagraphs(Build("examples/tomato-irrigation/study.md").Html!).Single());
-        Assert.Contains("the mean-centred Levene test alone finds unequal variances (p = .005)", text, StringComparison.Ordinal);
+        Assert.Contains("the mean-centred Levene test alone finds unequal variances (p = 0.005)", text, StringComparison.Ordinal);
         Assert.Contains("the verdict follows the Brown–Forsythe test, the one least affected by non-normal data", text, StringComparison.Ordinal);
         Assert.DoesNotContain("None of", text, StringComparison.Ordinal);
     }
@@ -267,7 +267,7 @@ public sealed partial class MethodsConciseTests
     {
         var html = Build("tests/StudyPress.Tests/Cases/methods/levene-disagrees-full/study.md").Html!;
         var text = Visible(MethodsParagraphs(html).Single());
-        Assert.Contains("mean-centred Levene, F(5, 26) = 4.38, p = .005", text, StringComparison.Ordinal);
+        Assert.Contains("mean-centred Levene, F(5, 26) = 4.38, p = 0.005", text, StringComparison.Ordinal);
         Assert.Contains("The mean-centred Levene test pointed to unequal variances, but the verdict on variances follows the Brown–Forsythe test", text, StringComparison.Ordinal);
         Assert.Contains("Apart from the mean-centred Levene test, none of these checks indicated a departure", text, StringComparison.Ordinal);
         Assert.Single(MethodsParagraphs(html, "software"));

@@ -71,31 +71,92 @@ public sealed partial class MethodsTests
         }
 
         static string NoLead(string s) => s.StartsWith("0.", StringComparison.Ordinal) ? s[1..] : s.StartsWith("-0.", StringComparison.Ordinal) ? "-" + s[2..] : s;
-        if (style == "report-p")
-        {
-            return value < 0.001 ? "< .001" : NoLead(Fixed(value, 3));
-        }
+        return ExpectedAscii().Replace('-', '\u2212');
 
-        if (style == "report-df")
+        string ExpectedAscii()
         {
-            return value == Math.Floor(value) ? value.ToString("0", CultureInfo.InvariantCulture) : Fixed(value, 2);
-        }
+            if (style == "report-p")
+            {
+                return value < 0.001 ? "< .001" : NoLead(Fixed(value, 3));
+            }
 
-        var dash = style.LastIndexOf('-');
-        var n = int.Parse(style[(dash + 1)..], CultureInfo.InvariantCulture);
-        return style[..dash] switch
-        {
-            "fixed" => Fixed(value, n),
-            "fraction" => NoLead(Fixed(value, n)),
-            "percent" => Fixed(value * 100, n) + "%",
-            "p" => value < Math.Pow(10, -n) ? "< " + Fixed(Math.Pow(10, -n), n) : Fixed(value, n),
-            "p-fraction" => value < Math.Pow(10, -n) ? "< " + NoLead(Fixed(Math.Pow(10, -n), n)) : NoLead(Fixed(value, n)),
-            _ => throw new InvalidOperationException("unknown style " + style),
-        };
+            if (style == "report-df")
+            {
+                return value == Math.Floor(value) ? value.ToString("0", CultureInfo.InvariantCulture) : Fixed(value, 2);
+            }
+
+            var dash = style.LastIndexOf('-');
+            var n = int.Parse(style[(dash + 1)..], CultureInfo.InvariantCulture);
+            return style[..dash] switch
+            {
+                "fixed" => Fixed(value, n),
+                "fraction" => NoLead(Fixed(value, n)),
+                "percent" => Fixed(value * 100, n) + "%",
+                "p" => value < Math.Pow(10, -n) ? "< " + Fixed(Math.Pow(10, -n), n) : Fixed(value, n),
+                "p-fraction" => value < Math.Pow(10, -n) ? "< " + NoLead(Fixed(Math.Pow(10, -n), n)) : NoLead(Fixed(value, n)),
+                _ => throw new InvalidOperationException("unknown style " + style),
+            };
+        }
     }
 
-    /// <summary>Every number span in the html names a manifest value and shows it by its style's rule; returns the count.</summary>
-    private static int AssertSpansMatchManifest(string html, ManifestView manifest, bool requireStyle)
+    /// <summary>
+    /// The report's one format at its defaults (docs/study-file.md, "How numbers are written"),
+    /// written again independently of the compiler (decimal rounding of the shortest decimal form): p-values with 3 decimals and
+    /// their leading zero ("&lt; 0.001" below), whole counts as integers, everything else with 3
+    /// significant digits; the minus sign U+2212.
+    /// </summary>
+    private static string ExpectedInReportFormat(string stat, double value)
+    {
+        // Rounded on the value's shortest decimal form (its "R" text): 41.15 → 41.2, 4.015 → 4.02.
+        decimal Exact() => decimal.Parse(value.ToString("R", CultureInfo.InvariantCulture), NumberStyles.Float, CultureInfo.InvariantCulture);
+        static string Fixed(decimal r, int d)
+        {
+            var s = r.ToString("F" + d.ToString(CultureInfo.InvariantCulture), CultureInfo.InvariantCulture);
+            return r == 0 ? s.TrimStart('-') : s;
+        }
+
+        string ascii;
+        if (stat == "p" || stat.StartsWith("p_", StringComparison.Ordinal))
+        {
+            ascii = value < 0.001 ? "< 0.001" : Fixed(Math.Round(Exact(), 3, MidpointRounding.AwayFromZero), 3);
+        }
+        else if (StudyPress.Evaluation.Stat.Counts.Contains(stat) && value == Math.Floor(value))
+        {
+            ascii = value.ToString("0", CultureInfo.InvariantCulture);
+        }
+        else if (value == 0)
+        {
+            ascii = "0";
+        }
+        else if (Math.Abs(value) is < 1e-6 or >= 1e15)
+        {
+            ascii = value.ToString("E2", CultureInfo.InvariantCulture);
+        }
+        else
+        {
+            var magnitude = (int)Math.Floor(Math.Log10(Math.Abs(value)));
+            if (magnitude >= 2)
+            {
+                ascii = Math.Round(Exact(), 0, MidpointRounding.AwayFromZero).ToString("0", CultureInfo.InvariantCulture);
+            }
+            else
+            {
+                var d = 2 - magnitude;
+                var r = Math.Round(Exact(), d, MidpointRounding.AwayFromZero);
+                if (r != 0 && (int)Math.Floor(Math.Log10((double)Math.Abs(r))) > magnitude)
+                {
+                    d = Math.Max(0, d - 1);
+                }
+
+                ascii = Fixed(r, d);
+            }
+        }
+
+        return ascii.Replace('-', '\u2212');
+    }
+
+    /// <summary>Every number span in the html names a manifest value and shows it by its style's rule, or without a style in the report's one format; returns the count.</summary>
+    private static int AssertSpansMatchManifest(string html, ManifestView manifest)
     {
         var values = manifest.Values.ToDictionary(v => v.GetProperty("id").GetString()!, v => v);
         var count = 0;
@@ -118,7 +179,8 @@ public sealed partial class MethodsTests
             }
             else
             {
-                Assert.False(requireStyle, $"span {id} in generated text has no style");
+                var stat = entry.GetProperty("stat").GetString()!;
+                Assert.True(ExpectedInReportFormat(stat, value) == text, $"{id} ({stat} = {value.ToString("R", CultureInfo.InvariantCulture)}) shows '{text}', not the report's format '{ExpectedInReportFormat(stat, value)}'");
             }
         }
 
@@ -141,7 +203,7 @@ public sealed partial class MethodsTests
 
         // The version changes with releases; the golden text names it as {version}.
         Assert.Equal(File.ReadAllText(expectedPath).Replace("\r\n", "\n", StringComparison.Ordinal), text);
-        var spans = AssertSpansMatchManifest(section, new ManifestView(result.ManifestJson!), requireStyle: true);
+        var spans = AssertSpansMatchManifest(section, new ManifestView(result.ManifestJson!));
         Assert.True(spans > 10, $"only {spans} traced numbers");
     }
 
@@ -151,7 +213,7 @@ public sealed partial class MethodsTests
         // Means 1, 3, 5; SSB 24 on 2 df, SSW 6 on 6 df; F = 12; p = (1 + 2F/6)^-3 = 1/125; partial eta2 = 0.8.
         var result = Build(Path.Combine(CasesDir, "one-way-significant", "study.md"));
         var text = VisibleText(MethodsHtml(result));
-        Assert.Contains("the F test rejected the hypothesis of equal means across its levels, F(2, 6) = 12.00, p = .008, partial η² = .80, 95% CI [", text, StringComparison.Ordinal);
+        Assert.Contains("the F test rejected the hypothesis of equal means across its levels, F(2, 6) = 12.0, p = 0.008, partial η² = 0.800, 95% CI [", text, StringComparison.Ordinal);
         Assert.Contains("The Brown–Forsythe test found no evidence of unequal variances (p = 1.000), so the ordinary F test was kept.", text, StringComparison.Ordinal);
         Assert.Contains("compared by Tukey's HSD procedure, chosen because the variances were not found to differ", text, StringComparison.Ordinal);
         var m = new ManifestView(result.ManifestJson!);
@@ -164,7 +226,7 @@ public sealed partial class MethodsTests
         // Means 2, 3, 2; SSB 2 on 2 df, SSW 6 on 6 df; F = 1; p = (3/4)^3 = 0.421875; partial eta2 = 0.25.
         var result = Build(Path.Combine(CasesDir, "one-way-null", "study.md"));
         var text = VisibleText(MethodsHtml(result));
-        Assert.Contains("the F test does not reject the hypothesis of equal means across its levels, F(2, 6) = 1.00, p = .422, partial η² = .25, 95% CI [.00, ", text, StringComparison.Ordinal);
+        Assert.Contains("the F test does not reject the hypothesis of equal means across its levels, F(2, 6) = 1.00, p = 0.422, partial η² = 0.250, 95% CI [0, ", text, StringComparison.Ordinal);
         Assert.Contains("This is not evidence that the means are equal.", text, StringComparison.Ordinal);
         Assert.DoesNotContain(" rejects the hypothesis of equal means", text, StringComparison.Ordinal);
     }
@@ -173,10 +235,10 @@ public sealed partial class MethodsTests
     public void UnequalVariances_Text_StatesWelchGamesHowellAndRankTest()
     {
         var text = VisibleText(MethodsHtml(Build(Path.Combine(CasesDir, "unequal-variances", "study.md"))));
-        Assert.Contains("the variances differed (Brown–Forsythe p = .002, mean-centred Levene p < .001, Bartlett p < .001)", text, StringComparison.Ordinal);
+        Assert.Contains("the variances differed (Brown–Forsythe p = 0.002, mean-centred Levene p < 0.001, Bartlett p < 0.001)", text, StringComparison.Ordinal);
         Assert.Contains("Welch's F test therefore replaced the ordinary F test, and we also ran the Kruskal–Wallis test", text, StringComparison.Ordinal);
         Assert.Contains("by the Games–Howell procedure, chosen because the variances differed", text, StringComparison.Ordinal);
-        Assert.Contains("Welch's F(3, 12.03) = 12.03, p < .001", text, StringComparison.Ordinal);
+        Assert.Contains("Welch's F(3, 12.0) = 12.0, p < 0.001", text, StringComparison.Ordinal);
     }
 
     [Fact]
@@ -256,7 +318,7 @@ public sealed partial class MethodsTests
         Assert.NotEqual(
             Regex.Match(textBefore, @"F\(3, 24\) = [0-9.]+").Value,
             Regex.Match(textAfter, @"F\(3, 24\) = [0-9.]+").Value);
-        AssertSpansMatchManifest(MethodsHtml(after), new ManifestView(after.ManifestJson!), requireStyle: true);
+        AssertSpansMatchManifest(MethodsHtml(after), new ManifestView(after.ManifestJson!));
     }
 
     [Fact]
@@ -305,8 +367,8 @@ public sealed partial class MethodsTests
             var result = Build(Path.Combine(RepoDir, "examples", name, "study.md"));
             var manifest = new ManifestView(result.ManifestJson!);
             var section = MethodsHtml(result);
-            Assert.True(AssertSpansMatchManifest(section, manifest, requireStyle: true) > 20, name);
-            AssertSpansMatchManifest(result.Html!, manifest, requireStyle: false);
+            Assert.True(AssertSpansMatchManifest(section, manifest) > 20, name);
+            AssertSpansMatchManifest(result.Html!, manifest);
         }
     }
 
@@ -316,7 +378,7 @@ public sealed partial class MethodsTests
     [InlineData(0.0355, "report-p", ".036")]
     [InlineData(1.0, "report-p", "1.000")]
     [InlineData(0.6332, "fraction-2", ".63")]
-    [InlineData(-0.049, "fraction-2", "-.05")]
+    [InlineData(-0.049, "fraction-2", "\u2212.05")]
     [InlineData(-0.001, "fixed-2", "0.00")]
     [InlineData(11.5102, "fixed-2", "11.51")]
     [InlineData(12.03015, "report-df", "12.03")]
@@ -345,7 +407,7 @@ public sealed partial class MethodsTests
     // One-way case "one-way-significant": means 1, 3, 5 with n = 3; exact hand computation gives
     // F = 12 on 2 and 6 df, p = (1 + 2F/6)^-3 = 1/125 = 0.008, partial η² = 24/30 = 0.8.
     [Theory]
-    [InlineData("[=main.group, result]", "F(2, 6) = 12.00, p = .008, partial η² = .80, 95% CI [")]
+    [InlineData("[=main.group, result]", "F(2, 6) = 12.0, p = 0.008, partial η² = 0.800, 95% CI [")]
     [InlineData("[=main.group.p, no leading zero]", "p = .008")]
     [InlineData("[=main.group.p, 4 decimals]", "p = 0.0080")]
     [InlineData("[=main.group.p, 4 decimals, no leading zero]", "p = .0080")]
@@ -367,7 +429,7 @@ public sealed partial class MethodsTests
         Assert.True(r.Succeeded, string.Join("\n", r.Diagnostics));
         var p = Regex.Match(r.Html!, "<p>Result: (.*?)\\.</p>", RegexOptions.Singleline).Groups[1].Value;
         Assert.Equal(expected, WebUtility.HtmlDecode(Regex.Replace(p, "<[^>]+>", string.Empty))[..expected.Length]);
-        Assert.True(AssertSpansMatchManifest(p, new ManifestView(r.ManifestJson!), requireStyle: true) >= 1);
+        Assert.True(AssertSpansMatchManifest(p, new ManifestView(r.ManifestJson!)) >= 1);
     }
 
     // Same case: p = 0.008 exactly (hand computation above); the report's p-decimals default is 3.
@@ -386,7 +448,7 @@ public sealed partial class MethodsTests
         Assert.True(r.Succeeded, string.Join("\n", r.Diagnostics));
         var p = Regex.Match(r.Html!, "<p>Result: (.*?)\\.</p>", RegexOptions.Singleline).Groups[1].Value;
         Assert.Equal(expected, WebUtility.HtmlDecode(Regex.Replace(p, "<[^>]+>", string.Empty)));
-        Assert.True(AssertSpansMatchManifest(p, new ManifestView(r.ManifestJson!), requireStyle: false) >= 1);
+        Assert.True(AssertSpansMatchManifest(p, new ManifestView(r.ManifestJson!)) >= 1);
     }
 
     [Theory]

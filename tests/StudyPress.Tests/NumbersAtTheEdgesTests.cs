@@ -93,7 +93,7 @@ public sealed class NumbersAtTheEdgesTests
         Assert.Equal(3, m.Get("s", "summary", "g", "n", "a"));
         var html = result.Html!;
         Assert.Contains("Group &#39;c&#39; has no observations", html.Replace("'", "&#39;", StringComparison.Ordinal), StringComparison.Ordinal);
-        Assert.Contains("Group(s) without any observed response (c)", html, StringComparison.Ordinal);
+        Assert.Contains("Group without any observed response (c)", html, StringComparison.Ordinal);
         Assert.Equal(1, m.Get("main", "anova", "g", "df"));
     }
 

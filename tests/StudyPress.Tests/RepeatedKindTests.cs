@@ -120,7 +120,7 @@ factors: [{factors}]
         Assert.True(m.Get("r", "anova_reml", "A", "f") > 0);
         Assert.Contains("subject 1 (A 3) was dropped from the classical analysis: incomplete: no measurement for B 2", result.Html, StringComparison.Ordinal);
         Assert.Contains("The mixed-model route keeps its measurements.", result.Html, StringComparison.Ordinal);
-        Assert.Contains("The mixed model keeps the 1 incomplete subject(s) that the classical analysis dropped.", result.Html, StringComparison.Ordinal);
+        Assert.Contains("The mixed model keeps the 1 incomplete subject that the classical analysis dropped.", result.Html, StringComparison.Ordinal);
     }
 
     [Fact]

@@ -168,7 +168,7 @@ public sealed class SourcesTests
         var db = Path.Combine(run.Folder, "results.sqlite");
         SourcesFixtures.Sqlite(db, "create table panels (nozzle text, run integer, thickness real)", "insert into panels values ($p0, $p1, $p2)", Panels().Select(p => new object?[] { p.Nozzle, p.Run, (double)p.Thickness }));
         var html = run.Compile().Html!;
-        Assert.Contains("held binary doubles in column(s) &#39;thickness&#39;", html.Replace("'", "&#39;", StringComparison.Ordinal), StringComparison.Ordinal);
+        Assert.Contains("held binary doubles in column &#39;thickness&#39;", html.Replace("'", "&#39;", StringComparison.Ordinal), StringComparison.Ordinal);
 
         using var text = new StudyRun().Study(StudyWith("{ path: results.sqlite, query: \"select * from panels\" }"));
         SourcesFixtures.Sqlite(Path.Combine(text.Folder, "results.sqlite"), "create table panels (nozzle text, run integer, thickness text)", "insert into panels values ($p0, $p1, $p2)", Panels().Select(p => new object?[] { p.Nozzle, p.Run, p.Thickness.ToString(CultureInfo.InvariantCulture) }));

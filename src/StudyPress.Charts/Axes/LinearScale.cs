@@ -144,26 +144,6 @@ internal sealed class LinearScale
         return Minus(relativeTick.ToString("F" + Range.FractionDigits.ToString(CultureInfo.InvariantCulture), CultureInfo.InvariantCulture));
     }
 
-    /// <summary>Typographic minus sign instead of a hyphen.</summary>
-    internal static string Minus(string s) => s.Replace("-", "\u2212", StringComparison.Ordinal);
-
-    /// <summary>Formats a value for descriptions and point labels: 4 significant digits, invariant,
-    /// "e" notation outside [0.001, 10^6).</summary>
-    internal static string Num(double v)
-    {
-        if (v == 0)
-        {
-            return "0";
-        }
-
-        double abs = Math.Abs(v);
-        if (abs >= 1e6 || abs < 1e-3)
-        {
-            return Minus(v.ToString("0.###e+0", CultureInfo.InvariantCulture));
-        }
-
-        int digits = Math.Max(0, 3 - (int)Math.Floor(Math.Log10(abs)));
-        string format = digits == 0 ? "0" : "0." + new string('#', digits);
-        return Minus(v.ToString(format, CultureInfo.InvariantCulture));
-    }
+    /// <summary>Typographic minus sign instead of a hyphen (<see cref="NumberText.Signed"/>).</summary>
+    internal static string Minus(string s) => NumberText.Signed(s);
 }

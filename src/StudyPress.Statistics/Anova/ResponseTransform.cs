@@ -149,20 +149,20 @@ public static class ResponseTransform
                 var problem = AnovaDesign.Check(model);
                 if (problem is not null)
                 {
-                    return new TransformOutcome(null, new TransformError("the Box-Cox lambda cannot be estimated: " + problem.Message, null, null));
+                    return new TransformOutcome(null, new TransformError("the Box–Cox lambda cannot be estimated: " + problem.Message, null, null));
                 }
 
                 var coding = DesignCoding.Build(model);
                 if (coding.Rows - coding.ColumnCount < 1)
                 {
-                    return new TransformOutcome(null, new TransformError("the Box-Cox lambda cannot be estimated without residual degrees of freedom (no replication)", null, null));
+                    return new TransformOutcome(null, new TransformError("the Box–Cox lambda cannot be estimated without residual degrees of freedom (no replication)", null, null));
                 }
 
                 var profile = new Profile(raw, coding);
                 estimate = profile.Estimate(alpha);
                 if (estimate is null)
                 {
-                    return new TransformOutcome(null, new TransformError("the Box-Cox lambda cannot be estimated: the model fits the data exactly", null, null));
+                    return new TransformOutcome(null, new TransformError("the Box–Cox lambda cannot be estimated: the model fits the data exactly", null, null));
                 }
 
                 var lambda = estimate.Lambda;
@@ -294,7 +294,7 @@ public static class ResponseTransform
             case TransformKind.BoxCox:
                 if (lambda is not { } l)
                 {
-                    throw new ArgumentException("Box-Cox back-transformation needs lambda", nameof(lambda));
+                    throw new ArgumentException("Box–Cox back-transformation needs lambda", nameof(lambda));
                 }
 
                 if (l == 0)
@@ -305,7 +305,7 @@ public static class ResponseTransform
                 var b = 1 + (l * mean);
                 return b > 0
                     ? Quantity.Of(Math.Exp(Elementary.Log1P(l * mean) / l))
-                    : Quantity.Undefined("the mean lies outside the range of the Box-Cox transform, so it has no value on the original scale");
+                    : Quantity.Undefined("the mean lies outside the range of the Box–Cox transform, so it has no value on the original scale");
             default:
                 throw new ArgumentOutOfRangeException(nameof(kind));
         }
@@ -338,7 +338,7 @@ public static class ResponseTransform
     {
         TransformKind.Log => "logarithm",
         TransformKind.Log10 => "base-10 logarithm",
-        TransformKind.BoxCox => "Box-Cox transform",
+        TransformKind.BoxCox => "Box–Cox transform",
         _ => kind.ToString(),
     };
 

@@ -86,7 +86,7 @@ public static class DurbinWatson
         var n = residuals.Count;
         if (n < 3)
         {
-            return Quantity.Undefined("the Durbin-Watson statistic needs at least 3 residuals");
+            return Quantity.Undefined("the Durbin–Watson statistic needs at least 3 residuals");
         }
 
         // Scale by the largest |e| so that squares neither overflow nor underflow.
@@ -103,7 +103,7 @@ public static class DurbinWatson
 
         if (big == 0)
         {
-            return Quantity.Undefined("all residuals are zero, so the Durbin-Watson statistic is not defined");
+            return Quantity.Undefined("all residuals are zero, so the Durbin–Watson statistic is not defined");
         }
 
         double num = 0, den = 0;
@@ -216,7 +216,7 @@ public static class DurbinWatson
 
         var m = n - p;
         var (dist, reason) = m < 2
-            ? (null, "the Durbin-Watson test needs at least 2 residual degrees of freedom (with fewer, d does not vary under the null hypothesis)")
+            ? (null, "the Durbin–Watson test needs at least 2 residual degrees of freedom (with fewer, d does not vary under the null hypothesis)")
             : StreamingMoments(new CellTriples(cellRows, cellOfRow), n, p, m);
         if (dist is null)
         {
@@ -262,7 +262,7 @@ public static class DurbinWatson
         var m = n - p;
         if (m < 2)
         {
-            return (null, "the Durbin-Watson test needs at least 2 residual degrees of freedom (with fewer, d does not vary under the null hypothesis)");
+            return (null, "the Durbin–Watson test needs at least 2 residual degrees of freedom (with fewer, d does not vary under the null hypothesis)");
         }
 
         var exact = method == DurbinWatsonMethod.Exact || (method == DurbinWatsonMethod.Automatic && n <= ExactLimit);
@@ -304,7 +304,7 @@ public static class DurbinWatson
         var variance = 2.0 * (traceMA2 - (traceMA * mean)) / (m * (m + 2.0));
         if (!(variance > 0))
         {
-            return (null, "the Durbin-Watson statistic has zero variance for this design");
+            return (null, "the Durbin–Watson statistic has zero variance for this design");
         }
 
         return (DurbinWatsonNullDistribution.BetaFromMoments(mean, variance), null);
@@ -459,7 +459,7 @@ public static class DurbinWatson
         var variance = 2.0 * (traceMA2 - (traceMA * mean)) / (m * (m + 2.0));
         if (!(variance > 0))
         {
-            return (null, "the Durbin-Watson statistic has zero variance for this design");
+            return (null, "the Durbin–Watson statistic has zero variance for this design");
         }
 
         return (DurbinWatsonNullDistribution.BetaFromMoments(mean, variance), null);

@@ -69,14 +69,14 @@ public static class ShapiroWilk
 
         if (n < 3)
         {
-            return Undefined(n, "the Shapiro-Wilk test needs at least 3 observations");
+            return Undefined(n, "the Shapiro–Wilk test needs at least 3 observations");
         }
 
         if (n > MaximumN)
         {
             return Undefined(
                 n,
-                "the Shapiro-Wilk test is not computed for more than 5000 observations (Royston's approximation is validated up to n = 5000)");
+                "the Shapiro–Wilk test is not computed for more than 5000 observations (Royston's approximation is validated up to n = 5000)");
         }
 
         var sorted = x.ToArray();

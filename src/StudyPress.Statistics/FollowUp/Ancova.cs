@@ -208,7 +208,7 @@ public static class Ancova
 
         var method = input.Comparisons == AdjustedMeansComparison.Holm
             ? "Holm step-down adjustment of t tests of adjusted-mean differences within each factor; Bonferroni intervals"
-            : "Tukey-Kramer style: studentized range with each pair's own standard error (an approximation with covariates)";
+            : "Tukey–Kramer style: studentized range with each pair's own standard error (an approximation with covariates)";
         var (fitted, residuals, leverages) = PerObservation(input, model, b, inverse);
         return new AncovaResult(terms, rss, dfRes, AnovaTable.MeanSquareResidual(rss, dfRes), ssTotal, n - 1, slopes, homogeneity, means, comparisons, method, input.SsType, input.Alpha)
         {

@@ -274,7 +274,7 @@ internal sealed class LinearFit(DesignCoding coding, double[] coefficients, doub
 
         if (transform == TransformKind.BoxCox && lambda is null)
         {
-            throw new ArgumentException("Box-Cox back-transformation needs lambda", nameof(lambda));
+            throw new ArgumentException("Box–Cox back-transformation needs lambda", nameof(lambda));
         }
 
         var sets = terms is null

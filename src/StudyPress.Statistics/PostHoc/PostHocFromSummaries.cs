@@ -47,7 +47,7 @@ public static class PostHocFromSummaries
                 : "the residual mean square is not a positive finite number";
         }
 
-        var method = equal ? "Tukey HSD" : "Tukey-Kramer";
+        var method = equal ? "Tukey HSD" : "Tukey–Kramer";
         var comparisons = new List<PairwiseComparison>(k * (k - 1) / 2);
         if (reason is not null)
         {
@@ -142,10 +142,10 @@ public static class PostHocFromSummaries
         }
 
         return new PostHocResult(
-            "Games-Howell",
+            "Games–Howell",
             alpha,
             comparisons,
-            Quantity.Undefined("the critical value differs per pair (Welch-Satterthwaite degrees of freedom)"));
+            Quantity.Undefined("the critical value differs per pair (Welch–Satterthwaite degrees of freedom)"));
     }
 
     /// <summary>Pooled-variance t tests with Holm or Bonferroni adjustment; see <see cref="PooledTTests.Compare"/>.</summary>

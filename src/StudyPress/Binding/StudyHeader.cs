@@ -123,6 +123,12 @@ public sealed record FactorLayout(
 /// </summary>
 public sealed record ReportOptions(int SignificantDigits, int PDecimals, bool Figures)
 {
+    /// <summary>Whether p-values (and α) keep their leading zero ("0.035"; false: ".035"); <c>p-leading-zero</c>, default true.</summary>
+    public bool PLeadingZero { get; init; } = true;
+
+    /// <summary>The rules every number of the report is written by (tables, text, chart labels).</summary>
+    public StudyPress.Charts.NumberText Numbers => new(SignificantDigits, PDecimals, PLeadingZero);
+
     /// <summary>Raw HTML in prose is passed through (the page's CSP still blocks scripts); off by default.</summary>
     public bool RawHtml { get; init; }
 }
@@ -180,7 +186,7 @@ internal static class HeaderBinder
     private static readonly string[] FormatNames = ["csv", "tsv", "xlsx", "sqlite", "duckdb", "parquet", "postgres"];
     private static readonly string[] LayoutKeys = ["role", "within", "plot", "codes"];
     private static readonly string[] FactorKeys = ["column", "levels", "label", .. LayoutKeys];
-    private static readonly string[] ReportKeys = ["template", "significant-digits", "p-decimals", "figures", Syntax.StudyParser.RawHtmlKey];
+    private static readonly string[] ReportKeys = ["template", "significant-digits", "p-decimals", "p-leading-zero", "figures", Syntax.StudyParser.RawHtmlKey];
 
     /// <summary>Report keys of earlier versions and the names that replaced them.</summary>
     private static readonly (string Old, string New)[] RenamedReportKeys = [("digits", "significant-digits"), ("p-digits", "p-decimals")];
@@ -303,6 +309,7 @@ internal static class HeaderBinder
         var orderNode = r.Scalar("order");
         var digits = 3;
         var pDigits = 3;
+        var pLeadingZero = true;
         var figures = true;
         var rawHtml = false;
         switch (r.Node("report"))
@@ -338,6 +345,21 @@ internal static class HeaderBinder
 
                 digits = rr.Integer("significant-digits", 1, 15) ?? digits;
                 pDigits = rr.Integer("p-decimals", 1, 15) ?? pDigits;
+                if (rr.Scalar("p-leading-zero") is { } lz)
+                {
+                    switch (lz.Value)
+                    {
+                        case "true" or "True" or "yes":
+                            break;
+                        case "false" or "False" or "no":
+                            pLeadingZero = false;
+                            break;
+                        default:
+                            diagnostics.BadPLeadingZero(lz.Location, lz.Value);
+                            break;
+                    }
+                }
+
                 figures = (rr.Choice("figures", ["auto", "none"]) ?? "auto") == "auto";
                 rawHtml = rr.Boolean(Syntax.StudyParser.RawHtmlKey) ?? false;
                 break;
@@ -357,7 +379,7 @@ internal static class HeaderBinder
             factors,
             orderNode?.Value,
             orderNode?.Location ?? map.Location,
-            new ReportOptions(digits, pDigits, figures) { RawHtml = rawHtml },
+            new ReportOptions(digits, pDigits, figures) { RawHtml = rawHtml, PLeadingZero = pLeadingZero },
             map.Location)
         {
             // A response that could not be read was reported once; blocks do not report it missing again.

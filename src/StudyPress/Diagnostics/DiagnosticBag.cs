@@ -690,6 +690,9 @@ public sealed class DiagnosticBag
     public void RenamedReportKey(SourceLocation at, string old, string renamed) =>
         Error("SP0604", at, $"{Q(old)} is not a report key; write {Q(renamed)} ({(renamed == "p-decimals" ? "the decimals shown for p-values" : "the significant digits shown for other numbers")})");
 
+    public void BadPLeadingZero(SourceLocation at, string value) =>
+        Error("SP0605", at, $"'p-leading-zero' is {Q(value)}; write true (p-values as 0.035, < 0.001) or false (as .035, < .001)");
+
     public void BadStudyId(SourceLocation at, string id) => Error("SP0603", at, $"study id {Q(id)} must start with a letter and use only letters, digits, '_' and '-' (it names the study's figure files)");
 
     // ---- Word and LaTeX exports (SP0620-SP0639) ----

@@ -11,10 +11,11 @@ public sealed class RenderContext(NumberFormat format, double alpha)
 
     public double Alpha { get; } = alpha;
 
-    public string AlphaText => Alpha.ToString("R", System.Globalization.CultureInfo.InvariantCulture);
+    /// <summary>α as the report writes it ("0.05", or ".05" without the leading zero of p).</summary>
+    public string AlphaText => Format.Level(Alpha);
 
     /// <summary>The confidence level that goes with alpha, as a percentage ("95").</summary>
-    public string ConfidenceText => Math.Round(100 * (1 - Alpha), 10).ToString("R", System.Globalization.CultureInfo.InvariantCulture);
+    public string ConfidenceText => StudyPress.Charts.NumberText.ConfidenceNumber(Alpha);
 }
 
 /// <summary>
@@ -71,14 +72,17 @@ public sealed class HtmlWriter
         return this;
     }
 
-    public static string ValueHtml(ResultValue v, RenderContext context)
+    public static string ValueHtml(ResultValue v, RenderContext context) => ValueHtml(v, context.Format);
+
+    /// <summary>A traced number in the given format (or its "not defined" marker with the reason).</summary>
+    public static string ValueHtml(ResultValue v, NumberFormat format)
     {
         if (!v.Value.IsDefined)
         {
             return "<span class=\"nd\" data-v=\"" + v.Id + "\" tabindex=\"0\" title=\"not defined: " + Escape(v.Value.Reason) + "\">n/d</span>";
         }
 
-        return "<span class=\"v\" data-v=\"" + v.Id + "\" tabindex=\"0\">" + Escape(context.Format.Format(v.Stat, v.Value.Value)) + "</span>";
+        return "<span class=\"v\" data-v=\"" + v.Id + "\" tabindex=\"0\">" + Escape(format.Format(v.Stat, v.Value.Value)) + "</span>";
     }
 
     public override string ToString() => sb.ToString();

@@ -1,83 +1,84 @@
-using System.Globalization;
+using StudyPress.Charts;
 using StudyPress.Evaluation;
 
 namespace StudyPress.Rendering;
 
 /// <summary>
-/// How numbers are shown. General values: <c>significant-digits</c> significant digits, except that a value
-/// with more integer digits than that is rounded to a whole number (so 18009 stays 18009, not 1.80e4).
-/// Counts and degrees of freedom print as integers when integral. p-values: <c>p-decimals</c>
-/// decimals, and "&lt; 0.001" (for p-decimals 3) below the smallest printable value.
-/// Invariant culture throughout: the report is the same on every machine.
+/// The report's number format: which statistic is which kind of number, written by the one set of
+/// rules in <see cref="NumberText"/> (significant digits, p-values, the minus sign U+2212, percent,
+/// plurals; docs/study-file.md, "How numbers are written"). Counts and degrees of freedom print as
+/// whole numbers when integral; p-values by <c>p-decimals</c> and <c>p-leading-zero</c>; every
+/// other value with <c>significant-digits</c> significant digits — in tables, prose, the methods
+/// text, result sentences and chart labels alike.
 /// </summary>
-public sealed class NumberFormat(int digits, int pDigits)
+public sealed class NumberFormat(int digits, int pDigits, bool pLeadingZero = true)
 {
     private static readonly IReadOnlySet<string> IntegerStats = Stat.Counts;
-    private static readonly HashSet<string> PStats = new(StringComparer.Ordinal) { Stat.P, Stat.PAdj, Stat.PLower, Stat.PUpper };
+    private static NumberFormat? last;
+
+    public NumberFormat(NumberText text)
+        : this(text.SignificantDigits, text.PDecimals, text.PLeadingZero)
+    {
+    }
+
+    /// <summary>The default format (3 significant digits, p with 3 decimals and its leading zero).</summary>
+    public static NumberFormat Default { get; } = new(NumberText.Default);
+
+    /// <summary>
+    /// The format of the study being compiled (<see cref="NumberText.Current"/>, set by
+    /// <see cref="Use"/> for one compilation), for the sentence helpers that are called without a
+    /// render context.
+    /// </summary>
+    public static NumberFormat Current
+    {
+        get
+        {
+            var text = NumberText.Current;
+            var f = last;
+            if (f is null || f.Text != text)
+            {
+                f = new NumberFormat(text);
+                last = f;
+            }
+
+            return f;
+        }
+    }
+
+    /// <summary>Makes <paramref name="format"/> the current format until the returned scope is disposed.</summary>
+    public static IDisposable Use(NumberFormat format) => NumberText.Use(format.Text);
 
     public int Digits { get; } = digits;
 
     public int PDigits { get; } = pDigits;
 
+    public bool PLeadingZero { get; } = pLeadingZero;
+
+    /// <summary>The rules themselves, shared with the charts.</summary>
+    public NumberText Text { get; } = new(digits, pDigits, pLeadingZero);
+
+    /// <summary>Whether a statistic is a p-value: <c>p</c> and every <c>p_…</c> name (p_adj, p_bonferroni, p_gg, p_hf).</summary>
+    public static bool IsP(string stat) => stat == Stat.P || stat.StartsWith("p_", StringComparison.Ordinal);
+
     public string Format(string stat, double value)
     {
-        if (PStats.Contains(stat))
+        if (IsP(stat))
         {
             return P(value);
         }
 
         if (IntegerStats.Contains(stat) && value == Math.Round(value))
         {
-            return value.ToString("0", CultureInfo.InvariantCulture);
+            return NumberText.Whole(value);
         }
 
         return General(value);
     }
 
-    public string P(double p)
-    {
-        var smallest = Math.Pow(10, -PDigits);
-        if (p < smallest)
-        {
-            return "< " + smallest.ToString("F" + PDigits.ToString(CultureInfo.InvariantCulture), CultureInfo.InvariantCulture);
-        }
+    public string P(double p) => Text.P(p);
 
-        return p.ToString("F" + PDigits.ToString(CultureInfo.InvariantCulture), CultureInfo.InvariantCulture);
-    }
+    public string General(double value) => Text.General(value);
 
-    public string General(double value)
-    {
-        if (value == 0)
-        {
-            return "0";
-        }
-
-        var abs = Math.Abs(value);
-        var magnitude = (int)Math.Floor(Math.Log10(abs));
-        if (magnitude >= Digits - 1)
-        {
-            if (magnitude >= 15)
-            {
-                return value.ToString("E" + (Digits - 1).ToString(CultureInfo.InvariantCulture), CultureInfo.InvariantCulture);
-            }
-
-            return Math.Round(value, MidpointRounding.AwayFromZero).ToString("0", CultureInfo.InvariantCulture);
-        }
-
-        if (magnitude < -6)
-        {
-            return value.ToString("E" + (Digits - 1).ToString(CultureInfo.InvariantCulture), CultureInfo.InvariantCulture);
-        }
-
-        var decimals = Digits - 1 - magnitude;
-        var rounded = Math.Round(value, decimals, MidpointRounding.AwayFromZero);
-        // Rounding can carry into a new digit (9.996 -> 10.00); recompute the decimals then.
-        if (rounded != 0 && (int)Math.Floor(Math.Log10(Math.Abs(rounded))) > magnitude)
-        {
-            decimals = Math.Max(0, decimals - 1);
-        }
-
-        var s = rounded.ToString("F" + decimals.ToString(CultureInfo.InvariantCulture), CultureInfo.InvariantCulture);
-        return s == "-0" || s.StartsWith("-0.", StringComparison.Ordinal) && s.Trim('-', '0', '.').Length == 0 ? s.TrimStart('-') : s;
-    }
+    /// <summary>α as written ("0.05", or ".05" without the leading zero of p).</summary>
+    public string Level(double alpha) => Text.Level(alpha);
 }

@@ -1,3 +1,4 @@
+using StudyPress.Charts;
 using System.Globalization;
 using System.Reflection;
 using System.Security.Cryptography;
@@ -72,7 +73,8 @@ internal static class ReportRenderer
         ManifestHeader identity,
         byte[] manifest)
     {
-        var context = new RenderContext(new NumberFormat(header.Report.SignificantDigits, header.Report.PDecimals), header.Alpha);
+        var context = new RenderContext(new NumberFormat(header.Report.Numbers), header.Alpha);
+        using var numbers = NumberFormat.Use(context.Format);
         var body = new StringWriter(CultureInfo.InvariantCulture);
         var renderer = new HtmlRenderer(body);
         StudyParser.Pipeline(syntax.Path).Setup(renderer);
@@ -169,7 +171,7 @@ internal static class ReportRenderer
         var dropped = inputs.Where(d => d.RowsUsed < d.Rows).ToList();
         foreach (var d in dropped)
         {
-            html.Raw("<p class=\"method\">").Text(string.Create(CultureInfo.InvariantCulture, $"{d.Spec.Name}: {d.Rows - d.RowsUsed} row(s) were not used by any analysis (missing values, or outside every block's 'where' filter)."))
+            html.Raw("<p class=\"method\">").Text(string.Create(CultureInfo.InvariantCulture, $"{d.Spec.Name}: {NumberText.Count(d.Rows - d.RowsUsed, "row")} {(d.Rows - d.RowsUsed == 1 ? "was" : "were")} not used by any analysis (missing values, or outside every block's 'where' filter)."))
                 .Raw("</p>");
         }
 

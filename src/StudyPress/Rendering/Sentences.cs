@@ -1,27 +1,29 @@
 using System.Globalization;
-using StudyPress.Rendering;
-
+using StudyPress.Charts;
 using StudyPress.Evaluation;
 
 namespace StudyPress.Rendering;
 
 /// <summary>
-/// The report style for numbers in sentences, and the span that keeps a styled number's trace.
-/// Every styled number is written as
-/// <c>&lt;span class="v" data-v="ID" data-style="STYLE"&gt;TEXT&lt;/span&gt;</c>; the style names
+/// Named number styles that a prose reference asks for in words ("2 decimals", "no leading zero",
+/// "as percent"), and the spans that keep a number's trace. Numbers the compiler writes itself
+/// (tables, sentences, the methods text) are in the report's one format (<see cref="NumberFormat"/>,
+/// <see cref="Number"/>); a styled number is written as
+/// <c>&lt;span class="v" data-v="ID" data-style="STYLE"&gt;TEXT&lt;/span&gt;</c>, the style naming
 /// the rule that turns the manifest value into TEXT, so a checker can reproduce it:
 /// <list type="bullet">
 /// <item><c>report-p</c>: "&lt; .001" when the value is below 0.001; otherwise three decimals
 /// (rounded half away from zero) with the leading "0" dropped: ".035", "1.000".</item>
 /// <item><c>report-df</c>: an integral value as a whole number ("20"); otherwise two decimals ("12.03").</item>
 /// <item><c>fixed-N</c>: N decimals ("11.51" for fixed-2).</item>
-/// <item><c>fraction-N</c>: N decimals with the leading "0" dropped (".63", "-.05"), for values that cannot exceed 1.</item>
+/// <item><c>fraction-N</c>: N decimals with the leading "0" dropped (".63", "−.05"), for values that cannot exceed 1.</item>
 /// <item><c>percent-N</c>: the value times 100 with N decimals and a "%" sign ("29%").</item>
 /// <item><c>p-N</c>: a p-value with N decimals ("0.0350"), "&lt; 0.0001" (for N = 4) below the smallest such number.</item>
 /// <item><c>p-fraction-N</c>: as <c>p-N</c> with the leading "0" dropped (".0350", "&lt; .0001").</item>
 /// </list>
-/// Rounding is half away from zero on the double (Math.Round with MidpointRounding.AwayFromZero);
-/// a result that rounds to zero prints without a minus sign; the minus is ASCII '-'; invariant culture.
+/// Rounding is half away from zero on the value's shortest decimal form (the "R" text: 41.15 → 41.2;
+/// <see cref="StudyPress.Charts.NumberText"/>); a result that rounds to zero prints without a minus sign; the minus is U+2212 ("−"), as
+/// everywhere in the report; invariant culture.
 /// </summary>
 public static class ReportStyle
 {
@@ -47,12 +49,12 @@ public static class ReportStyle
     {
         if (style == P)
         {
-            return value < 0.001 ? "< .001" : DropLeadingZero(FixedText(value, 3));
+            return NumberText.P(value, 3, leadingZero: false);
         }
 
         if (style == Df)
         {
-            return value == Math.Round(value) && Math.Abs(value) < 1e15 ? value.ToString("0", CultureInfo.InvariantCulture) : FixedText(value, 2);
+            return value == Math.Round(value) && Math.Abs(value) < 1e15 ? NumberText.Whole(value) : FixedText(value, 2);
         }
 
         var dash = style.LastIndexOf('-');
@@ -64,39 +66,16 @@ public static class ReportStyle
         return style[..dash] switch
         {
             "fixed" => FixedText(value, digits),
-            "fraction" => DropLeadingZero(FixedText(value, digits)),
-            "percent" => FixedText(value * 100, digits) + "%",
-            "p" when digits > 0 => PText(value, digits, dropZero: false),
-            "p-fraction" when digits > 0 => PText(value, digits, dropZero: true),
+            "fraction" => NumberText.DropLeadingZero(FixedText(value, digits)),
+            "percent" => NumberText.Percent(value, digits),
+            "p" when digits > 0 => NumberText.P(value, digits, leadingZero: true),
+            "p-fraction" when digits > 0 => NumberText.P(value, digits, leadingZero: false),
             _ => null,
         };
     }
 
-    /// <summary>The value with <paramref name="digits"/> decimals, rounded half away from zero, without "-0".</summary>
-    public static string FixedText(double value, int digits)
-    {
-        var rounded = Math.Round(value, digits, MidpointRounding.AwayFromZero);
-        if (rounded == 0)
-        {
-            rounded = 0; // drops the sign of -0
-        }
-
-        return rounded.ToString("F" + digits.ToString(CultureInfo.InvariantCulture), CultureInfo.InvariantCulture);
-    }
-
-    /// <summary>A p-value with <paramref name="digits"/> decimals, or "&lt; 0.001" (for 3) below the smallest such number.</summary>
-    private static string PText(double value, int digits, bool dropZero)
-    {
-        var smallest = Math.Pow(10, -digits);
-        var text = FixedText(value < smallest ? smallest : value, digits);
-        text = dropZero ? DropLeadingZero(text) : text;
-        return value < smallest ? "< " + text : text;
-    }
-
-    private static string DropLeadingZero(string s) =>
-        s.StartsWith("0.", StringComparison.Ordinal) ? s[1..]
-        : s.StartsWith("-0.", StringComparison.Ordinal) ? "-" + s[2..]
-        : s;
+    /// <summary>The value with <paramref name="digits"/> decimals, rounded half away from zero, without "−0".</summary>
+    public static string FixedText(double value, int digits) => NumberText.Fixed(value, digits);
 
     /// <summary>A traced number in a style; an undefined value shows the usual "n/d" marker.</summary>
     public static string Span(ResultValue v, string style)
@@ -110,23 +89,27 @@ public static class ReportStyle
         return "<span class=\"v\" data-v=\"" + v.Id + "\" data-style=\"" + style + "\" tabindex=\"0\">" + HtmlWriter.Escape(text) + "</span>";
     }
 
-    /// <summary>"p = .035" or "p &lt; .001" (HTML), with the given name for p ("p", "adjusted p").</summary>
+    /// <summary>A traced number in the report's one format (<see cref="NumberFormat.Current"/>): the same text as in the tables.</summary>
+    public static string Number(ResultValue v) => HtmlWriter.ValueHtml(v, NumberFormat.Current);
+
+    /// <summary>"p = 0.035" or "p &lt; 0.001" (HTML) in the report's format, with the given name for p ("p", "adjusted p").</summary>
     public static string PPhrase(ResultValue p, string name = "p")
     {
         if (!p.Value.IsDefined)
         {
-            return name + " " + Span(p, P);
+            return name + " " + Number(p);
         }
 
-        return name + (p.Value.Value < 0.001 ? " " : " = ") + Span(p, P);
+        var shown = NumberFormat.Current.Format(p.Stat, p.Value.Value);
+        return name + (shown.StartsWith('<') ? " " : " = ") + Number(p);
     }
 }
 
 /// <summary>
-/// Result sentences in the report style: the test statistic with its degrees of freedom, the exact
-/// p to three decimals (or "p &lt; .001"), and an effect size with its interval, for example
-/// "F(3, 20) = 11.51, p &lt; .001, partial η² = .63, 95% CI [.30, .75]". Every number is a
-/// traced span (see <see cref="ReportStyle"/>). The wording states what was computed, no more.
+/// Result sentences: the test statistic with its degrees of freedom, the exact p (or
+/// "p &lt; 0.001"), and an effect size with its interval, for example
+/// "F(3, 20) = 11.5, p &lt; 0.001, partial η² = 0.633, 95% CI [0.300, 0.750]". Every number is a
+/// traced span in the report's one format (<see cref="ReportStyle.Number"/>), the same text as in the tables. The wording states what was computed, no more.
 /// </summary>
 public static class Sentences
 {
@@ -137,11 +120,11 @@ public static class Sentences
         "tukey_hsd", "games_howell", "holm", "bonferroni", "dunnett", "dunn", "power", "summary", "means",
     ];
 
-    private static string S2(ResultValue v) => ReportStyle.Span(v, ReportStyle.Fixed(2));
+    private static string S2(ResultValue v) => ReportStyle.Number(v);
 
-    private static string Fr(ResultValue v) => ReportStyle.Span(v, ReportStyle.Fraction(2));
+    private static string Fr(ResultValue v) => ReportStyle.Number(v);
 
-    private static string Df(ResultValue v) => ReportStyle.Span(v, ReportStyle.Df);
+    private static string Df(ResultValue v) => ReportStyle.Number(v);
 
     /// <summary>
     /// The whole result of one manifest group (the values sharing block, test, term, level and
@@ -290,12 +273,8 @@ public static class Sentences
         && (a.Pair is null ? b.Pair is null : b.Pair is not null && a.Pair.SequenceEqual(b.Pair, StringComparer.Ordinal));
 
     /// <summary>The confidence level that goes with alpha, as a percentage ("95").</summary>
-    public static string ConfidenceText(double alpha) => Math.Round(100 * (1 - alpha), 10).ToString("R", CultureInfo.InvariantCulture);
+    public static string ConfidenceText(double alpha) => NumberText.ConfidenceNumber(alpha);
 
-    /// <summary>Alpha in the report style: ".05".</summary>
-    public static string AlphaText(double alpha)
-    {
-        var s = alpha.ToString("R", CultureInfo.InvariantCulture);
-        return s.StartsWith("0.", StringComparison.Ordinal) ? s[1..] : s;
-    }
+    /// <summary>Alpha as the report writes it ("0.05", or ".05" without the leading zero of p).</summary>
+    public static string AlphaText(double alpha) => NumberFormat.Current.Level(alpha);
 }

@@ -204,7 +204,7 @@ public static partial class ReportVerifier
     /// <summary>Every visible number (data-v) is its manifest value as the report's format rounds it; every input row count is the manifest's.</summary>
     private static string? VisibleNumbers(string html, ReportManifest manifest, StudyHeaderFile header)
     {
-        var format = new NumberFormat(header.Header.Report.SignificantDigits, header.Header.Report.PDecimals);
+        var format = new NumberFormat(header.Header.Report.Numbers);
         var values = new Dictionary<string, RecordedValue>(StringComparer.Ordinal);
         foreach (var v in manifest.Values)
         {

@@ -97,7 +97,7 @@ public class PostHocFromSummariesTests
         groups[0] = groups[0][..^1];
         var (ms, df) = Residual(groups);
         var raw = TukeyHsd.Compare(levels, groups, ms, df, 0.05);
-        Assert.Equal("Tukey-Kramer", raw.Method);
+        Assert.Equal("Tukey–Kramer", raw.Method);
         Same(raw, PostHocFromSummaries.CompareTukey(levels, Summaries(groups), ms, df, 0.05));
     }
 

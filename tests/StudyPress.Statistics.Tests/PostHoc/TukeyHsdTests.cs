@@ -87,7 +87,7 @@ public class TukeyHsdTests
     {
         double[][] groups = [[1, 2, 3], [2, 4, 6, 8, 10], [5, 5.5]];
         var r = TukeyHsd.Compare(["a", "b", "c"], groups, 2.5, 7, 0.05);
-        Assert.Equal("Tukey-Kramer", r.Method);
+        Assert.Equal("Tukey–Kramer", r.Method);
         var ab = r.Comparisons[0];
         Assert.Equal(Math.Sqrt(2.5 * ((1 / 3.0) + (1 / 5.0))), ab.Se.Value, 14);
         Assert.Equal(r.CriticalValue.Value / Math.Sqrt(2) * ab.Se.Value, ab.CiHigh.Value - ab.Diff, 12);

@@ -220,7 +220,7 @@ public static class TableColumns
 
     /// <summary>The report's note for a dataset whose numbers came as binary floating point.</summary>
     public static string BinaryNote(string sourceWords, IReadOnlyList<string> columns) =>
-        $"{sourceWords} held binary doubles in column(s) {string.Join(", ", columns.Select(c => "'" + c + "'"))}: each value was read as the shortest decimal text that gives back the same double, so no more than about 15-17 significant digits were ever stored.";
+        $"{sourceWords} held binary doubles in {StudyPress.Charts.NumberText.Noun(columns.Count, "column")} {string.Join(", ", columns.Select(c => "'" + c + "'"))}: each value was read as the shortest decimal text that gives back the same double, so no more than about 15–17 significant digits were ever stored.";
 
     internal enum Problem
     {

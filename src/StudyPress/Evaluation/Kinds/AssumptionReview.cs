@@ -168,7 +168,7 @@ public sealed class AssumptionReview
                 var missing = anova.Data.Rows.Length - ordered;
                 if (missing > 0)
                 {
-                    skipped = string.Create(CultureInfo.InvariantCulture, $"{missing} observation(s) without a run order were left out of the Durbin–Watson test");
+                    skipped = string.Create(CultureInfo.InvariantCulture, $"{StudyPress.Charts.NumberText.Count(missing, "observation")} without a run order {(missing == 1 ? "was" : "were")} left out of the Durbin–Watson test");
                 }
             }
         }

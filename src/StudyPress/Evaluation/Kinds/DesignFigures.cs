@@ -16,7 +16,7 @@ internal static class DesignFigures
     {
         var data = anova.Data!;
         var treatments = data.Factors.Where(f => f.Spec.Layout.Role == FactorRole.Treatment).ToList();
-        var level = Math.Round(100 * (1 - alpha), 10).ToString("R", CultureInfo.InvariantCulture) + "%";
+        var level = NumberText.Confidence(alpha);
         if (design.Strata is { } strata)
         {
             foreach (var factor in treatments)

@@ -222,7 +222,7 @@ public static class Figures
             // A covariate's row (analysis of covariance) is named by its column.
             var name = string.Join(" × ", t.Factors.Select(n => Name(anova.Factors.FirstOrDefault(f => f.Name == n)?.Display ?? n)));
             var chart = StatCharts.FDistribution(t.Df, fit.ResidualDf, t.F.Value, fit.Alpha, new ChartLabels(string.Create(CultureInfo.InvariantCulture, $"F({t.Df}, {fit.ResidualDf}) distribution: {name}"), "F", "density"));
-            yield return new Figure("f-distribution", caption ?? string.Create(CultureInfo.InvariantCulture, $"The F distribution under no effect of {name}; the shaded region is the rejection region at α = {fit.Alpha.ToString("R", CultureInfo.InvariantCulture)} and the line marks the observed F."), chart) { Part = string.Join("-", t.Factors) };
+            yield return new Figure("f-distribution", caption ?? string.Create(CultureInfo.InvariantCulture, $"The F distribution under no effect of {name}; the shaded region is the rejection region at α = {NumberText.Current.Level(fit.Alpha)} and the line marks the observed F."), chart) { Part = string.Join("-", t.Factors) };
         }
     }
 
@@ -281,7 +281,7 @@ public static class Figures
             marked = new PowerPoint(planned, power.Values[Stat.Power].Value.Value);
         }
 
-        var chart = StatCharts.PowerCurve(points, power.Target ?? 0.8, marked, new ChartLabels(string.Create(CultureInfo.InvariantCulture, $"Power against n per group (k = {power.Groups}, f = {power.Effect:0.###}, α = {power.Alpha.ToString("R", CultureInfo.InvariantCulture)})"), "n per group", "power"));
+        var chart = StatCharts.PowerCurve(points, power.Target ?? 0.8, marked, new ChartLabels(string.Create(CultureInfo.InvariantCulture, $"Power against n per group (k = {power.Groups}, f = {power.Effect:0.###}, α = {NumberText.Current.Level(power.Alpha)})"), "n per group", "power"));
         return new Figure("power-curve", caption ?? "Power of the F test as the group size grows; the horizontal line is the target power.", chart);
     }
 
@@ -312,5 +312,5 @@ public static class Figures
             : $"Each difference with its {level} interval; the shaded band is the equivalence margin. Equivalence is shown where the whole interval lies inside the band (solid, diamond); an interval reaching beyond it does not show equivalence, and one that covers zero does not show it either."), chart);
     }
 
-    private static string Confidence(double alpha) => Math.Round(100 * (1 - alpha), 10).ToString("R", CultureInfo.InvariantCulture) + "%";
+    private static string Confidence(double alpha) => NumberText.Confidence(alpha);
 }

@@ -263,7 +263,7 @@ internal static class DesignRendering
 
         if (d.Reml is { } reml && reml.Converged)
         {
-            yield return $"The REML fit {reml.ConvergenceNote}; restricted log-likelihood {reml.LogLikelihood.ToString("F4", CultureInfo.InvariantCulture)}.";
+            yield return $"The REML fit {reml.ConvergenceNote}; restricted log-likelihood {NumberFormat.Current.General(reml.LogLikelihood)}.";
         }
     }
 

@@ -1,3 +1,4 @@
+using StudyPress.Charts;
 using System.Globalization;
 using System.Runtime.CompilerServices;
 using StudyPress.Binding.Kinds;
@@ -562,12 +563,12 @@ public sealed class AnovaRenderer : KindRenderer
 
         if (c.SingleGroups.Count > 0)
         {
-            yield return $"Single-observation group(s): {string.Join(", ", c.SingleGroups)}. They add nothing to the residual variance, and no check of their spread is possible.";
+            yield return $"Single-observation {NumberText.Noun(c.SingleGroups.Count, "group")}: {string.Join(", ", c.SingleGroups)}. They add nothing to the residual variance, and no check of their spread is possible.";
         }
 
         if (c.SmallGroups.Count > 0)
         {
-            yield return $"Small group(s) (fewer than 5 observations): {string.Join(", ", c.SmallGroups.Select(StudyPress.Charts.BidiText.Isolate))}. The test has little power to detect differences, and normality and equal variances cannot be judged well from so few values.";
+            yield return $"Small {NumberText.Noun(c.SmallGroups.Count, "group")} (fewer than 5 observations): {string.Join(", ", c.SmallGroups.Select(StudyPress.Charts.BidiText.Isolate))}. The test has little power to detect differences, and normality and equal variances cannot be judged well from so few values.";
         }
 
         if (c.Unbalanced)
@@ -608,12 +609,12 @@ public sealed class AnovaRenderer : KindRenderer
 
         if (c.DroppedMissing > 0)
         {
-            yield return string.Create(CultureInfo.InvariantCulture, $"{c.DroppedMissing} row(s) with a missing value were left out of this analysis.");
+            yield return string.Create(CultureInfo.InvariantCulture, $"{NumberText.Count(c.DroppedMissing, "row")} with a missing value {(c.DroppedMissing == 1 ? "was" : "were")} left out of this analysis.");
         }
 
         if (c.EmptyGroups.Count > 0)
         {
-            yield return $"Group(s) without any observed response ({string.Join(", ", c.EmptyGroups)}): every response is missing, so they are not part of this analysis, its comparisons or its figures.";
+            yield return $"{MethodsWriter.Cap(NumberText.Noun(c.EmptyGroups.Count, "group"))} without any observed response ({string.Join(", ", c.EmptyGroups)}): every response is missing, so {(c.EmptyGroups.Count == 1 ? "it is" : "they are")} not part of this analysis, its comparisons or its figures.";
         }
     }
 
@@ -661,7 +662,8 @@ public sealed class AnovaRenderer : KindRenderer
 
         if (o.Transformed is { } tr)
         {
-            html.Raw("<p class=\"method\">").Text(TransformText(tr)).Raw("</p>");
+            // The power in the Box–Cox formula is set as a superscript, not a literal '^'.
+            html.Raw("<p class=\"method\">").Raw(HtmlWriter.Escape(TransformText(tr)).Replace("y^λ", "y<sup>λ</sup>", StringComparison.Ordinal)).Raw("</p>");
         }
 
         var effects = new HtmlTable("effects", "Rejection threshold and effect sizes", ["Term", "F threshold (α = " + context.AlphaText + ")", "η²", "partial η²", context.ConfidenceText + "% CI of partial η²", "ω²", "Cohen's f"]);
@@ -802,9 +804,9 @@ public sealed class AnovaRenderer : KindRenderer
             TransformKind.Log10 => "common logarithm, log10 y",
             TransformKind.Sqrt => "square root, √y",
             TransformKind.Reciprocal => "reciprocal, 1/y",
-            _ => string.Create(CultureInfo.InvariantCulture, $"Box–Cox power (y^λ − 1)/λ with the maximum-likelihood λ = {t.BoxCox!.Lambda:0.###}")
+            _ => $"Box–Cox power (y^λ − 1)/λ with the maximum-likelihood λ = {NumberFormat.Current.General(t.BoxCox!.Lambda)}"
                 + (t.BoxCox!.LambdaLow.IsDefined && t.BoxCox.LambdaHigh.IsDefined
-                    ? string.Create(CultureInfo.InvariantCulture, $" ({t.BoxCox.ConfidenceLevel * 100:0.#}% profile-likelihood interval {t.BoxCox.LambdaLow.Value:0.###} to {t.BoxCox.LambdaHigh.Value:0.###})")
+                    ? string.Create(CultureInfo.InvariantCulture, $" ({t.BoxCox.ConfidenceLevel * 100:0.#}% profile-likelihood interval {NumberFormat.Current.General(t.BoxCox.LambdaLow.Value)} to {NumberFormat.Current.General(t.BoxCox.LambdaHigh.Value)})")
                     : string.Empty)
                 + (t.BoxCox.AtBound ? "; the maximum lies at the edge of the searched range [−3, 3], so the data may need a different treatment" : string.Empty),
         };

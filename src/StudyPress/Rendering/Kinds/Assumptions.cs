@@ -1,3 +1,4 @@
+using StudyPress.Charts;
 using System.Globalization;
 using System.Runtime.CompilerServices;
 using StudyPress.Binding.Kinds;
@@ -274,7 +275,7 @@ public sealed class AssumptionsRenderer : KindRenderer
             table.Row("Independence", ["Durbin–Watson, run order", "not run", string.Empty, string.Empty, "not checked"]);
         }
 
-        table.Row("No outliers", ["Externally studentized residuals (largest), Bonferroni", "|t| = " + V("outliers", "max_abs_t"), HtmlWriter.Escape(r.Outliers.Df.ToString(CultureInfo.InvariantCulture)), V("outliers", "p_bonferroni"), HtmlWriter.Escape(r.HasOutliers ? $"{r.Outliers.Flagged.Count} outlying observation(s)" : "none beyond the Bonferroni bound")]);
+        table.Row("No outliers", ["Externally studentized residuals (largest), Bonferroni", "|t| = " + V("outliers", "max_abs_t"), HtmlWriter.Escape(r.Outliers.Df.ToString(CultureInfo.InvariantCulture)), V("outliers", "p_bonferroni"), HtmlWriter.Escape(r.HasOutliers ? NumberText.Count(r.Outliers.Flagged.Count, "outlying observation") : "none beyond the Bonferroni bound")]);
         table.WriteTo(html);
 
         var notes = new List<string>();

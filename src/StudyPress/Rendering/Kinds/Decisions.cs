@@ -32,7 +32,7 @@ public static class Decisions
         };
     }
 
-    private static string P(Quantity p) => !p.IsDefined ? "not defined" : p.Value < 0.001 ? "< 0.001" : p.Value.ToString("F3", CultureInfo.InvariantCulture);
+    private static string P(Quantity p) => !p.IsDefined ? "not defined" : NumberFormat.Current.P(p.Value);
 
-    private static string PCells(Quantity p) => p.Value < 0.001 ? "< 0.001" : "= " + p.Value.ToString("F3", CultureInfo.InvariantCulture);
+    private static string PCells(Quantity p) => NumberFormat.Current.P(p.Value) is var s && s.StartsWith('<') ? s : "= " + s;
 }

@@ -1,3 +1,4 @@
+using StudyPress.Charts;
 using System.Globalization;
 using System.Runtime.CompilerServices;
 using StudyPress.Evaluation;
@@ -134,7 +135,7 @@ public sealed class EquivalenceRenderer : KindRenderer
         html.Raw("<p class=\"method\">").Text(method).Raw("</p>");
         var shown = o.Comparisons.Count(c => c.Result.Verdict is EquivalenceVerdict.EquivalentWithinMargin or EquivalenceVerdict.NonInferiorWithinMargin);
         var what = o.NonInferiority ? "non-inferiority" : "equivalence";
-        var reading = string.Create(CultureInfo.InvariantCulture, $"{what[..1].ToUpperInvariant()}{what[1..]} is shown for {shown} of {o.Comparisons.Count} comparison(s) at α = {context.AlphaText}.")
+        var reading = string.Create(CultureInfo.InvariantCulture, $"{what[..1].ToUpperInvariant()}{what[1..]} is shown for {shown} of {NumberText.Count(o.Comparisons.Count, "comparison")} at α = {context.AlphaText}.")
             + (shown < o.Comparisons.Count
                 ? $" Where it is not shown, the data do not rule out a difference as large as the margin; this is not evidence that the levels differ, and an ordinary test that finds no difference would not show {what} either."
                 : string.Empty);

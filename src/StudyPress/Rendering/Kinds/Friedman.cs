@@ -1,3 +1,4 @@
+using StudyPress.Charts;
 using System.Globalization;
 using System.Runtime.CompilerServices;
 using StudyPress.Evaluation;
@@ -48,12 +49,12 @@ public sealed class FriedmanRenderer : KindRenderer
 
         if (o.DroppedBlocks.Count > 0)
         {
-            yield return string.Create(CultureInfo.InvariantCulture, $"{o.DroppedBlocks.Count} block(s) without a value for every treatment were left out ({string.Join(", ", o.DroppedBlocks.Take(10).Select(StudyPress.Charts.BidiText.Isolate))}{(o.DroppedBlocks.Count > 10 ? ", …" : string.Empty)}); the test uses complete blocks only.");
+            yield return string.Create(CultureInfo.InvariantCulture, $"{NumberText.Count(o.DroppedBlocks.Count, "block")} without a value for every treatment {(o.DroppedBlocks.Count == 1 ? "was" : "were")} left out ({string.Join(", ", o.DroppedBlocks.Take(10).Select(StudyPress.Charts.BidiText.Isolate))}{(o.DroppedBlocks.Count > 10 ? ", …" : string.Empty)}); the test uses complete blocks only.");
         }
 
         if (o.DroppedMissing > 0)
         {
-            yield return string.Create(CultureInfo.InvariantCulture, $"{o.DroppedMissing} row(s) with a missing value were left out.");
+            yield return string.Create(CultureInfo.InvariantCulture, $"{NumberText.Count(o.DroppedMissing, "row")} with a missing value {(o.DroppedMissing == 1 ? "was" : "were")} left out.");
         }
     }
 

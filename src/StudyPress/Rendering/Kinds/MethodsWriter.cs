@@ -125,11 +125,17 @@ public sealed class MethodsWriter(MethodsOutcome o, MethodsKind.Options options)
         };
     }
 
-    public static string Df(ResultValue v) => ReportStyle.Span(v, ReportStyle.Df);
+    // Every number in the text is in the report's one format, the same text as in the tables
+    // (docs/study-file.md, "How numbers are written"); the three names say what the value is.
 
-    public static string S2(ResultValue v) => ReportStyle.Span(v, ReportStyle.Fixed(2));
+    /// <summary>A count or degrees of freedom.</summary>
+    public static string Df(ResultValue v) => ReportStyle.Number(v);
 
-    public static string Fr(ResultValue v) => ReportStyle.Span(v, ReportStyle.Fraction(2));
+    /// <summary>A statistic, mean or difference.</summary>
+    public static string S2(ResultValue v) => ReportStyle.Number(v);
+
+    /// <summary>A value that cannot exceed 1 (W, η², power).</summary>
+    public static string Fr(ResultValue v) => ReportStyle.Number(v);
 
     public static bool Is(ResultValue? v, double x) => v is { Value.IsDefined: true } && v.Value.Value == x;
 

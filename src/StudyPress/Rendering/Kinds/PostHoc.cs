@@ -1,3 +1,4 @@
+using StudyPress.Charts;
 using System.Globalization;
 using System.Runtime.CompilerServices;
 using StudyPress.Binding.Kinds;
@@ -49,7 +50,7 @@ public sealed class PostHocRenderer : KindRenderer
         var m = p.Multiplicity[Stat.M];
         if (m.Value.IsDefined && m.Value.Value >= 6)
         {
-            yield return $"With {MethodsWriter.Df(m)} comparisons, unadjusted tests at α = {w.AlphaText} would carry a chance of up to {ReportStyle.Span(p.Multiplicity[Stat.FwerUnadjusted], ReportStyle.Percent(0))} of at least one false positive; the adjusted p-values and simultaneous intervals account for this.";
+            yield return $"With {MethodsWriter.Df(m)} comparisons, unadjusted tests at α = {w.AlphaText} would carry a chance of up to {ReportStyle.Number(p.Multiplicity[Stat.FwerUnadjusted])} of at least one false positive; the adjusted p-values and simultaneous intervals account for this.";
         }
     }
 
@@ -257,7 +258,7 @@ public sealed class PostHocRenderer : KindRenderer
 
         if (o.EmptyGroups.Count > 0)
         {
-            yield return $"Group(s) without any observed response ({string.Join(", ", o.EmptyGroups)}) are not compared: every response in them is missing.";
+            yield return $"{MethodsWriter.Cap(NumberText.Noun(o.EmptyGroups.Count, "group"))} without any observed response ({string.Join(", ", o.EmptyGroups)}) {(o.EmptyGroups.Count == 1 ? "is" : "are")} not compared: every response in them is missing.";
         }
 
         if (o.Adjusted)
@@ -369,7 +370,7 @@ public sealed class PostHocRenderer : KindRenderer
             .Raw(HtmlWriter.ValueHtml(o.Multiplicity[Stat.M], context))
             .Text(" tests at α = " + context.AlphaText + " would carry a chance of at least one false positive of up to ")
             .Raw(HtmlWriter.ValueHtml(o.Multiplicity[Stat.FwerUnadjusted], context))
-            .Text(" (1 − (1 − α)^m, for independent tests).").Raw("</p>");
+            .Text(" (1 − (1 − α)").Raw("<sup>m</sup>").Text(", for independent tests).").Raw("</p>");
         html.Raw("<div class=\"reading\">");
         foreach (var d in o.Decisions)
         {
@@ -381,12 +382,12 @@ public sealed class PostHocRenderer : KindRenderer
         if (main.Test == "dunnett" && o.Direction != DunnettAlternative.TwoSided)
         {
             var way = o.Direction == DunnettAlternative.Greater ? "higher" : "lower";
-            html.Raw("<p>").Text(string.Create(CultureInfo.InvariantCulture, $"{differ} of {main.Pairs.Count} level(s) are shown {way} than the control at the family-wise level α = {context.AlphaText} (one-sided). \"Not shown {way}\" means the data do not establish that direction, not that the level equals the control.")).Raw("</p>");
+            html.Raw("<p>").Text(string.Create(CultureInfo.InvariantCulture, $"{differ} of {NumberText.Count(main.Pairs.Count, "level")} {(differ == 1 ? "is" : "are")} shown {way} than the control at the family-wise level α = {context.AlphaText} (one-sided). \"Not shown {way}\" means the data do not establish that direction, not that the level equals the control.")).Raw("</p>");
             html.Raw("</div>");
             return;
         }
 
-        html.Raw("<p>").Text(string.Create(CultureInfo.InvariantCulture, $"{differ} of {main.Pairs.Count} comparison(s) differ at the family-wise level α = {context.AlphaText}. \"Not distinguished\" means the data cannot tell those levels apart at this level, not that they are equal; the intervals show how large a difference remains compatible with the data.")).Raw("</p>");
+        html.Raw("<p>").Text(string.Create(CultureInfo.InvariantCulture, $"{differ} of {NumberText.Count(main.Pairs.Count, "comparison")} {(differ == 1 ? "differs" : "differ")} at the family-wise level α = {context.AlphaText}. \"Not distinguished\" means the data cannot tell those levels apart at this level, not that they are equal; the intervals show how large a difference remains compatible with the data.")).Raw("</p>");
         html.Raw("</div>");
     }
 }

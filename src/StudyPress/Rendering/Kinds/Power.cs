@@ -68,7 +68,7 @@ public sealed class PowerRenderer : KindRenderer
     public override void Render(HtmlWriter html, BlockOutcome outcome, RenderContext context)
     {
         var o = (PowerOutcome)outcome;
-        var alpha = o.Alpha.ToString("R", CultureInfo.InvariantCulture);
+        var alpha = context.Format.Level(o.Alpha);
         var f = string.Create(CultureInfo.InvariantCulture, $"{o.Effect:0.###}");
         if (o.Values.Count > 0)
         {

@@ -38,8 +38,8 @@ public sealed class RepeatedRenderer : KindRenderer
                 : $"{CorrectionName(r.Correction)} as the block asks ('correction')";
         }
 
-        var mauchly = rule.MauchlyP.IsDefined ? "Mauchly's p " + (rule.MauchlyP.Value < 0.001 ? "< 0.001" : "= " + rule.MauchlyP.Value.ToString("0.000", CultureInfo.InvariantCulture)) : "Mauchly's test not defined (fewer subjects than contrasts)";
-        var gg = rule.EpsilonGreenhouseGeisser.IsDefined ? rule.EpsilonGreenhouseGeisser.Value.ToString("0.###", CultureInfo.InvariantCulture) : "not defined";
+        var mauchly = rule.MauchlyP.IsDefined ? "Mauchly's p " + (NumberFormat.Current.P(rule.MauchlyP.Value) is var mp && mp.StartsWith('<') ? mp : "= " + mp) : "Mauchly's test not defined (fewer subjects than contrasts)";
+        var gg = rule.EpsilonGreenhouseGeisser.IsDefined ? NumberFormat.Current.General(rule.EpsilonGreenhouseGeisser.Value) : "not defined";
         return rule.Basis switch
         {
             SphericityBasis.TwoLevels => "two levels: one contrast, so sphericity holds and no correction applies",
@@ -122,17 +122,17 @@ public sealed class RepeatedRenderer : KindRenderer
 
         if (o.Dropped.Count > 10)
         {
-            yield return string.Create(CultureInfo.InvariantCulture, $"… and {o.Dropped.Count - 10} more incomplete subject(s) dropped from the classical analysis.");
+            yield return string.Create(CultureInfo.InvariantCulture, $"… and {o.Dropped.Count - 10} more incomplete {NumberText.Noun(o.Dropped.Count - 10, "subject")} dropped from the classical analysis.");
         }
 
         if (o.ReplicatedCells > 0)
         {
-            yield return string.Create(CultureInfo.InvariantCulture, $"{o.ReplicatedCells} subject × cell combination(s) were measured more than once; their mean was analysed.");
+            yield return string.Create(CultureInfo.InvariantCulture, $"{NumberText.Count(o.ReplicatedCells, "subject × cell combination")} {(o.ReplicatedCells == 1 ? "was" : "were")} measured more than once; their mean was analysed.");
         }
 
         if (o.DroppedMissing > 0)
         {
-            yield return string.Create(CultureInfo.InvariantCulture, $"{o.DroppedMissing} row(s) with a missing value were left out.");
+            yield return string.Create(CultureInfo.InvariantCulture, $"{NumberText.Count(o.DroppedMissing, "row")} with a missing value {(o.DroppedMissing == 1 ? "was" : "were")} left out.");
         }
 
         if (o.Rows is null && o.CompareLabel is not null)
@@ -217,7 +217,7 @@ public sealed class RepeatedRenderer : KindRenderer
             m.WriteTo(html);
             if (o.MixedKeptIncomplete > 0)
             {
-                html.Raw("<p class=\"note\">").Text(string.Create(CultureInfo.InvariantCulture, $"The mixed model keeps the {o.MixedKeptIncomplete} incomplete subject(s) that the classical analysis dropped.")).Raw("</p>");
+                html.Raw("<p class=\"note\">").Text(string.Create(CultureInfo.InvariantCulture, $"The mixed model keeps the {NumberText.Count(o.MixedKeptIncomplete, "incomplete subject")} that the classical analysis dropped.")).Raw("</p>");
             }
         }
 

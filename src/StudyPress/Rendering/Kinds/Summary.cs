@@ -1,3 +1,4 @@
+using StudyPress.Charts;
 using System.Globalization;
 using System.Runtime.CompilerServices;
 using StudyPress.Binding.Kinds;
@@ -37,7 +38,7 @@ public sealed class SummaryRenderer : KindRenderer
             else if (n == 0)
             {
                 var count = (long)values[Stat.Missing].Value.Value;
-                yield return string.Create(CultureInfo.InvariantCulture, $"Group '{label}' has no observations: every one of its {count} response(s) is missing, so it is left out of the analyses of these data.");
+                yield return string.Create(CultureInfo.InvariantCulture, $"Group '{label}' has no observations: {(count == 1 ? "its one response is" : $"every one of its {count} responses is")} missing, so it is left out of the analyses of these data.");
             }
         }
 
@@ -64,7 +65,7 @@ public sealed class SummaryRenderer : KindRenderer
 
         if (o.DroppedMissing > 0)
         {
-            yield return string.Create(CultureInfo.InvariantCulture, $"{o.DroppedMissing} row(s) with a missing value were left out.");
+            yield return string.Create(CultureInfo.InvariantCulture, $"{NumberText.Count(o.DroppedMissing, "row")} with a missing value {(o.DroppedMissing == 1 ? "was" : "were")} left out.");
         }
     }
 
