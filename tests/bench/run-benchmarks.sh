@@ -47,7 +47,7 @@ mkdir -p "$reports"
 
 if [ -z "$cli" ]; then
   echo "publishing the CLI (ReadyToRun) into $work/cli ..." >&2
-  dotnet publish "$root/src/StudyPress.Cli" -c Release -r linux-x64 --self-contained false \
+  dotnet publish "$root/src/StudyPress.Cli" -c Release -r linux-x64 --self-contained false -p:PublishAot=false \
     -p:PublishReadyToRun=true -o "$work/cli" >"$work/publish.log" 2>&1 \
     || { cat "$work/publish.log" >&2; exit 1; }
   cli="$work/cli/studypress"

@@ -61,7 +61,7 @@ public sealed class FigureKind : BlockKind
         }
 
         var kinds = Sources(type);
-        var names = string.Join(" or ", kinds.Select(k => ((BlockKind)Activator.CreateInstance(k)!).Name));
+        var names = string.Join(" or ", kinds.Select(k => BlockKinds.All.Values.First(r => r.GetType() == k).Name));
         BoundBlock? source;
         if (keys.Scalar("of") is { } of)
         {

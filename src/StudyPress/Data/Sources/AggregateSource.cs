@@ -91,7 +91,7 @@ public static partial class AggregateSource
                 using var reader = probe.ExecuteReader();
                 names = [.. Enumerable.Range(0, reader.FieldCount).Select(reader.GetName)];
                 types = [.. Enumerable.Range(0, reader.FieldCount).Select(i => TypeName(reader, i))];
-                clr = [.. Enumerable.Range(0, reader.FieldCount).Select(reader.GetFieldType)];
+                clr = [.. Enumerable.Range(0, reader.FieldCount).Select(i => reader.GetFieldType(i))];
             }
 
             if (!ColumnsPresent(names, spec, needs, diagnostics))
