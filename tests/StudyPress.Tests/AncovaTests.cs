@@ -275,8 +275,8 @@ factors:
         var m = new ManifestView(result.ManifestJson!);
         Assert.Equal(22, m.Get("a", "anova", "total", "df"));
         Assert.Equal(7, m.Get("a", "means", "group", "n", "1"));
-        Assert.Contains("1 row(s) with a missing covariate value were left out", result.Html, StringComparison.Ordinal);
-        Assert.Contains("1 row(s) with a missing value were left out of this analysis", result.Html, StringComparison.Ordinal);
+        Assert.Contains("1 row with a missing covariate value was left out", result.Html, StringComparison.Ordinal);
+        Assert.Contains("1 row with a missing value was left out of this analysis", result.Html, StringComparison.Ordinal);
     }
 
     [Fact]
@@ -382,6 +382,21 @@ covariates: plot
         var d = Assert.Single(run.Compile().Diagnostics);
         Assert.Equal(code, d.Code);
         Assert.Equal(LineOf(Study("covariates: covariate", extra), marker), d.Location.Line);
+    }
+
+    [Theory]
+    [InlineData("equivalence e", "pair: [\"1\", \"2\"]\nmargin: 1")]
+    [InlineData("contrasts c", "compare:\n  first: {\"1\": 1, \"2\": -1}")]
+    [InlineData("power w", "n: 10")]
+    public void RawMeansKindsOfAncova_AreOneErrorAtTheBlock(string fence, string keys)
+    {
+        // These kinds work on raw level means and the plain anova; on an analysis of covariance
+        // they would mix raw means with the covariance model's error: one SP0538 at the block.
+        var extra = $"\n```{fence}\nof: a\n{keys}\n```\n";
+        using var run = Run("covariates: covariate", Rutherford, extra);
+        var d = Assert.Single(run.Compile().Diagnostics);
+        Assert.Equal("SP0538", d.Code);
+        Assert.Equal(LineOf(Study("covariates: covariate", extra), "```" + fence), d.Location.Line);
     }
 
     [Fact]

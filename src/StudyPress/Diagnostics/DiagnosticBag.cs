@@ -757,6 +757,9 @@ public sealed class DiagnosticBag
     public void EquivalenceAlphaTooLarge(SourceLocation at, double alpha) =>
         Error("SP0537", at, string.Create(CultureInfo.InvariantCulture, $"an equivalence test needs the study's alpha below 0.5 (its interval has coverage 1 - 2 alpha), but alpha is {alpha}; lower 'alpha' in the header"));
 
+    public void CovariateViewUnavailable(SourceLocation at, string kind, string of) =>
+        Error("SP0538", at, $"a '{kind}' block works on the raw level means and the plain analysis of variance, but anova block {Q(of)} adjusts for covariates (an analysis of covariance); its adjusted means are in that block's report and a 'posthoc' block of it compares them; for this block, use an anova block without 'covariates'");
+
     public void DirectionNeedsPooledVariance(SourceLocation at, string test, string pText) =>
         Error("SP0536", at, $"a one-sided 'direction' is tested by Dunnett's comparisons on the pooled variance, but {test} finds the variances unequal ({pText}); write 'method: tukey' to use the pooled variance anyway, or remove 'direction' for the two-sided Games-Howell comparisons");
 

@@ -86,6 +86,12 @@ public sealed class ContrastsEvaluator : KindEvaluator
             return outcome;
         }
 
+        if (anova.Ancova is not null)
+        {
+            diagnostics.CovariateViewUnavailable(block.Location, "contrasts", block.Of.Id);
+            return outcome;
+        }
+
         var of = block.Of.Id;
         string factorName;
         IReadOnlyList<string> levels;

@@ -71,6 +71,12 @@ public sealed class EquivalenceEvaluator : KindEvaluator
             return outcome;
         }
 
+        if (anova.Ancova is not null)
+        {
+            diagnostics.CovariateViewUnavailable(block.Location, "equivalence", block.Of.Id);
+            return outcome;
+        }
+
         var of = block.Of.Id;
         IReadOnlyList<string> levels;
         IReadOnlyList<GroupStatistics> groups;

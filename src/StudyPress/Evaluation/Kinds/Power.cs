@@ -49,6 +49,12 @@ public sealed class PowerEvaluator : KindEvaluator
             return outcome;
         }
 
+        if (o.Of is { } covOf && context.Outcomes.GetValueOrDefault(covOf) is AnovaOutcome { Ancova: not null })
+        {
+            diagnostics.CovariateViewUnavailable(o.Location, "power", covOf);
+            return outcome;
+        }
+
         if (o.Of is { } of && context.Outcomes.GetValueOrDefault(of) is AnovaOutcome { Result: not null } anova)
         {
             var factor = o.Factor is null ? anova.Data!.Factors[0] : anova.Data!.Factors.FirstOrDefault(f => f.Spec.Name == o.Factor);

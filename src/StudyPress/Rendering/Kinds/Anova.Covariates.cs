@@ -135,7 +135,7 @@ internal static class CovariateRendering
     {
         if (a.DroppedCovariate > 0)
         {
-            yield return string.Create(CultureInfo.InvariantCulture, $"{a.DroppedCovariate} row(s) with a missing covariate value were left out (counted with the rows missing a response or factor).");
+            yield return string.Create(CultureInfo.InvariantCulture, $"{StudyPress.Charts.NumberText.Count(a.DroppedCovariate, "row")} with a missing covariate value {(a.DroppedCovariate == 1 ? "was" : "were")} left out (counted with the rows missing a response or factor).");
         }
     }
 

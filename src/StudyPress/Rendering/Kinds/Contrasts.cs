@@ -159,7 +159,7 @@ public sealed class ContrastsRenderer : KindRenderer
         else
         {
             var list = string.Join(", ", differ.Select(d => "'" + d + "'"));
-            yield return string.Create(CultureInfo.InvariantCulture, $"{differ.Count} of {o.Rows.Count} {noun}(s) differ from 0 {adjusted}: {list}. ")
+            yield return string.Create(CultureInfo.InvariantCulture, $"{differ.Count} of {o.Rows.Count} {NumberText.Noun(o.Rows.Count, noun)} {(differ.Count == 1 ? "differs" : "differ")} from 0 {adjusted}: {list}. ")
                 + (differ.Count < o.Rows.Count ? $"The others are not distinguished from 0, which does not show that they are 0." : string.Empty);
         }
 
