@@ -376,11 +376,14 @@ public static class TestName
     /// <summary>F tests of the mixed-model route of a repeated-measures block (REML, Satterthwaite df).</summary>
     public const string AnovaReml = "anova_reml";
 
-    /// <summary>Simple effects of a within-subject factor at each level of a between-subject factor.</summary>
+    /// <summary>Simple effects of a factor at each level of another (a within-subject factor at each level of a between-subject factor; a marginal-means block's factor at each level of its 'at' factor).</summary>
     public const string SimpleEffects = "simple_effects";
 
     /// <summary>Subjects of a repeated-measures block: analysed and left out.</summary>
     public const string Subjects = "subjects";
+
+    /// <summary>Estimated marginal means (equally weighted over the other factors), with SE and interval.</summary>
+    public const string Emmeans = "emmeans";
 
     /// <summary>Every name, with its meaning (checked against docs/manifest.md by the tests).</summary>
     public static IReadOnlyDictionary<string, string> All { get; } = new Dictionary<string, string>(StringComparer.Ordinal)
@@ -416,7 +419,8 @@ public static class TestName
         [BlockingEfficiency] = "relative efficiency of blocking",
         [Mauchly] = "Mauchly's test of sphericity",
         [AnovaReml] = "mixed-model (REML) F tests of a repeated-measures block",
-        [SimpleEffects] = "simple effects of a within-subject factor",
+        [SimpleEffects] = "simple effects of a factor at each level of another",
         [Subjects] = "subjects analysed and left out",
+        [Emmeans] = "estimated marginal means",
     };
 }
