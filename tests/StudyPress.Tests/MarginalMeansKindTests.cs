@@ -22,7 +22,7 @@ public sealed class MarginalMeansKindTests
 
     // Lines (1-based) 9 opens the anova block, 10 is its key, 13 opens the marginal-means block and
     // 14 is its first key; Location.Line counts from 0.
-    private static StudyRun Run(string keys, string anovaKeys = "interaction: true") => new StudyRun().File("d.csv", Fixture).Study($"""
+    private static StudyRun Run(string keys, string anovaKeys = "interaction: true", string after = "") => new StudyRun().File("d.csv", Fixture).Study($"""
 ---
 title: Marginal means fixture
 data:
@@ -38,6 +38,7 @@ factors: [A, B, C]
 ```marginal-means mm
 {keys}
 ```
+{after}
 """);
 
     private const string OatsHeader = """
@@ -204,14 +205,19 @@ data: data/oats.csv
         using var quiet = Run("by: C");
         Assert.DoesNotContain("average over the levels of", quiet.Compile().Html, StringComparison.Ordinal);
         using var simple = Run("by: A\nat: B");
-        Assert.DoesNotContain("average over the levels of", simple.Compile().Html, StringComparison.Ordinal);
+        var withAt = simple.Compile();
+        Assert.DoesNotContain("average over the levels of", withAt.Html, StringComparison.Ordinal);
+        Assert.DoesNotContain(withAt.Figures, f => f.FileName.Contains("_mm_", StringComparison.Ordinal));
     }
 
     [Fact]
-    public void Defaults_EachFactorOnItsOwn_AndAtWithTwoFactorsTakesTheOther()
+    public void Defaults_EachFactorOnItsOwn_WithOneMeansFigureEach()
     {
         using var run = Run(string.Empty);
-        var m = run.Manifest();
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        var m = new ManifestView(result.ManifestJson!);
+        Assert.Equal(3, result.Figures.Count(f => f.FileName.Contains("_mm_means", StringComparison.Ordinal)));
         foreach (var f in new[] { "A", "B", "C" })
         {
             Assert.Equal(2, m.Find("mm", "emmeans", f, "mean").Count());
@@ -219,6 +225,16 @@ data: data/oats.csv
 
         // Exact hand computation: the mean of a1 is (10 + 11 + 12 + 11 + 20 + 21 + 22 + 19) / 8 = 15.75.
         Assert.Equal(15.75, m.Get("mm", "emmeans", "A", "mean", "a1"), 12);
+    }
+
+    [Fact]
+    public void MethodsBlock_StatesTheSimpleEffectsWithTheirTests()
+    {
+        using var run = Run("by: B\nat: A", after: "\n```methods\n```");
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        Assert.Contains("estimated marginal means of", result.Html, StringComparison.Ordinal);
+        Assert.Contains("with Holm-adjusted pairwise differences within each level", result.Html, StringComparison.Ordinal);
     }
 
     [Fact]

@@ -1,6 +1,8 @@
+using System.Globalization;
 using System.Runtime.CompilerServices;
 using StudyPress.Binding;
 using StudyPress.Binding.Kinds;
+using StudyPress.Charts;
 using StudyPress.Diagnostics;
 using StudyPress.Statistics;
 using StudyPress.Statistics.Anova;
@@ -175,6 +177,10 @@ public sealed class MarginalMeansEvaluator : KindEvaluator
 
             var hints = options.At is null ? Interactions(anova, t.Factors, alpha, outcome.Labels) : [];
             outcome.Tables.Add(new MarginalMeansTable(t.Term, t.Factors, [.. t.Factors.Select(f => outcome.Labels[f])], error, rows, hints));
+            if (context.Header.Report.Figures && t.Factors.Count == 1 && MeansFigure(rows, outcome.Labels[t.Factors[0]], data.ResponseName, error, outcome.Transform != TransformKind.None, alpha) is { } figure)
+            {
+                outcome.Figures.Add(figure with { Part = t.Factors[0] });
+            }
 
             if (options.At is { } a)
             {
@@ -220,6 +226,32 @@ public sealed class MarginalMeansEvaluator : KindEvaluator
         }
 
         return outcome;
+    }
+
+    /// <summary>
+    /// The means of one factor with their intervals (back-transformed when the anova used a
+    /// transformation); null when a mean or a limit is not defined.
+    /// </summary>
+    private static Figure? MeansFigure(List<MarginalMeansRow> rows, string factor, string response, MarginalMeansError error, bool transformed, double alpha)
+    {
+        var means = new List<GroupMean>();
+        foreach (var r in rows)
+        {
+            if (r.Mean.BackTransformedMean is not { IsDefined: true } m || r.Mean.BackTransformedLow is not { IsDefined: true } lo || r.Mean.BackTransformedHigh is not { IsDefined: true } hi)
+            {
+                return null;
+            }
+
+            means.Add(new GroupMean(r.Levels[0], m.Value, lo.Value, hi.Value));
+        }
+
+        var level = Math.Round(100 * (1 - alpha), 10).ToString("R", CultureInfo.InvariantCulture) + "%";
+        var errorName = error.Term == "residual" ? "the residual" : "the " + error.Term.Replace("(", " (in ", StringComparison.Ordinal);
+        var chart = StatCharts.GroupMeans(means, level, new ChartLabels($"Estimated marginal means of {BidiText.Isolate(response)} by {BidiText.Isolate(factor)}", factor, response));
+        return new Figure(
+            "means",
+            string.Create(CultureInfo.InvariantCulture, $"Estimated marginal means of {BidiText.Isolate(factor)} with {level} intervals on {errorName} mean square ({error.Df} df){(transformed ? ", back-transformed to the original scale" : string.Empty)}; each interval is for one mean, not adjusted for comparisons, and overlapping intervals are not a test."),
+            chart);
     }
 
     /// <summary>The names in the model's factor order (the engine's term order).</summary>
