@@ -249,7 +249,7 @@ data: data/oats.csv
     }
 
     [Theory]
-    [InlineData("by: [A, A]", "SP0277", 13)]
+    [InlineData("by: [A, A]", "SP0245", 13)]
     [InlineData("by: A\nat: A", "SP0275", 14)]
     [InlineData("by: [A, B]\nat: C", "SP0276", 13)]
     [InlineData("at: C", "SP0279", 13)]
@@ -263,6 +263,28 @@ data: data/oats.csv
         var d = Assert.Single(run.Compile().Diagnostics);
         Assert.Equal(code, d.Code);
         Assert.Equal(line, d.Location.Line);
+    }
+
+    [Fact]
+    public void CrossingOfMoreThan500Means_IsOneErrorAtBy()
+    {
+        // Invented: three factors of 8 levels in 64 rows, main effects only; their crossing has 512 means (> 500).
+        var csv = new System.Text.StringBuilder("P,Q,R,y\n");
+        for (var i = 0; i < 64; i++)
+        {
+            csv.Append(CultureInfo.InvariantCulture, $"p{i % 8},q{i / 8},r{(i + (i / 8)) % 8},{(i * 7 % 13) + (i % 8)}\n");
+        }
+
+        StudyRun Study(string by) => new StudyRun().File("d.csv", csv.ToString()).Study("---\ntitle: Many levels\ndata:\n  d: d.csv\nresponse: y\nfactors: [P, Q, R]\n---\n\n```anova fit\ninteraction: false\n```\n\n```marginal-means mm\nby: " + by + "\n```\n");
+        using var run = Study("[P, Q, R]");
+        var d = Assert.Single(run.Compile().Diagnostics);
+        Assert.Equal("SP0277", d.Code);
+        Assert.Equal(13, d.Location.Line);
+        Assert.Contains("would be 512", d.Message, StringComparison.Ordinal);
+
+        // Two of them (64 means) are within the bound.
+        using var two = Study("[P, Q]");
+        Assert.Equal(64, two.Manifest().Find("mm", "emmeans", "P:Q", "mean").Count());
     }
 
     [Fact]

@@ -621,8 +621,8 @@ public sealed class DiagnosticBag
     public void MarginalMeansAtWithCrossing(SourceLocation at, string atFactor) =>
         Error("SP0276", at, $"with 'at: {atFactor}', 'by' names the one factor whose simple effects are tested at each level of {Q(atFactor)}; remove the other names from 'by' (or remove 'at' for the means of the cells of their crossing)");
 
-    public void MarginalMeansFactorTwice(SourceLocation at, string factor) =>
-        Error("SP0277", at, $"factor {Q(factor)} is listed twice in 'by'");
+    public void MarginalMeansTooMany(SourceLocation at, string term, long count, int max) =>
+        Error("SP0277", at, string.Create(CultureInfo.InvariantCulture, $"the means of {term} would be {count} (the product of the factors' numbers of levels); a 'marginal-means' table holds at most {max}: name fewer factors in 'by', or a factor with fewer levels"));
 
     public void MarginalMeansOfLayoutFactor(SourceLocation at, string factor, string role) =>
         Error("SP0278", at, $"{Q(factor)} is {role} of the layout, whose levels are a sample of units rather than treatments; marginal means are those of treatment factors (its variance component is in the anova block)");

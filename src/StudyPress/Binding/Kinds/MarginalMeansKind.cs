@@ -73,7 +73,7 @@ public sealed class MarginalMeansKind : BlockKind
         {
             if (by.Exists(b => b.Name == v.Value))
             {
-                diagnostics.MarginalMeansFactorTwice(v.Location, v.Value);
+                diagnostics.DuplicateInList(v.Location, "by", v.Value);
                 continue;
             }
 

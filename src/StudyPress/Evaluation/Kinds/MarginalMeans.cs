@@ -78,6 +78,9 @@ public sealed class MarginalMeansEvaluator : KindEvaluator
 
     public override string Kind => "marginal-means";
 
+    /// <summary>The most means one table holds (a 500 × 500 covariance is 2 MB; a simple effect's pairs stay under about 62,500).</summary>
+    public const int MaxMeans = 500;
+
     public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
     {
         var options = (MarginalMeansKind.Options)block.Options!;
@@ -153,6 +156,14 @@ public sealed class MarginalMeansEvaluator : KindEvaluator
         var inputs = context.Inputs(block);
         foreach (var term in terms)
         {
+            // The means' covariance is k × k and the pairs of a simple effect grow with k²: bound k.
+            var count = term.Aggregate(1L, (c, f) => c * data.Factors.First(x => x.Spec.Name == f).Levels.Count);
+            if (count > MaxMeans)
+            {
+                diagnostics.MarginalMeansTooMany(at, string.Join(" × ", term.Select(f => outcome.Labels[f])), count, MaxMeans);
+                return outcome;
+            }
+
             if (errorOf(term) is not { } error)
             {
                 return outcome;
