@@ -388,6 +388,7 @@ covariates: plot
     [InlineData("equivalence e", "pair: [\"1\", \"2\"]\nmargin: 1")]
     [InlineData("contrasts c", "compare:\n  first: {\"1\": 1, \"2\": -1}")]
     [InlineData("power w", "n: 10")]
+    [InlineData("marginal-means mm", "by: group")]
     public void RawMeansKindsOfAncova_AreOneErrorAtTheBlock(string fence, string keys)
     {
         // These kinds work on raw level means and the plain anova; on an analysis of covariance

@@ -680,6 +680,36 @@ public sealed class DiagnosticBag
 
     public void TrendValuesRepeat(SourceLocation at, string factor, string level, string other, string value, string otherValue) =>
         Error("SP0534", at, $"levels {Q(other)} and {Q(level)} of factor {Q(factor)} have numbers ({otherValue} and {value}) that a trend cannot tell apart (equal, or closer than a billionth of the range of the numbers); give each level a distinct number");
+    // ---- marginal means (SP0275-SP0279 keys, SP0525-SP0529 analysis) ----
+    public void MarginalMeansAtIsBy(SourceLocation at, string factor) =>
+        Error("SP0275", at, $"'at' names {Q(factor)}, which 'by' names too; the simple effects are those of the 'by' factor at each level of another factor");
+
+    public void MarginalMeansAtWithCrossing(SourceLocation at, string atFactor) =>
+        Error("SP0276", at, $"with 'at: {atFactor}', 'by' names the one factor whose simple effects are tested at each level of {Q(atFactor)}; remove the other names from 'by' (or remove 'at' for the means of the cells of their crossing)");
+
+    public void MarginalMeansTooMany(SourceLocation at, string term, long count, int max) =>
+        Error("SP0277", at, string.Create(CultureInfo.InvariantCulture, $"the means of {term} would be {count} (the product of the factors' numbers of levels); a 'marginal-means' table holds at most {max}: name fewer factors in 'by', or a factor with fewer levels"));
+
+    public void MarginalMeansOfLayoutFactor(SourceLocation at, string factor, string role) =>
+        Error("SP0278", at, $"{Q(factor)} is {role} of the layout, whose levels are a sample of units rather than treatments; marginal means are those of treatment factors (its variance component is in the anova block)");
+
+    public void MarginalMeansAtNeedsBy(SourceLocation at, string atFactor, string anovaId) =>
+        Error("SP0279", at, $"the anova block {Q(anovaId)} has several other factors; say with 'by' which one's simple effects to test at each level of {Q(atFactor)}");
+
+    public void MarginalMeansAtWithoutInteraction(SourceLocation at, string atFactor, string anovaId) =>
+        Error("SP0525", at, $"the anova block {Q(anovaId)} fits no interaction ('interaction: false'), so its model makes every effect the same at each level of {Q(atFactor)}; remove 'at' for the main-effect means, or fit the interaction");
+
+    public void MarginalMeansReml(SourceLocation at, string anovaId) =>
+        Error("SP0526", at, $"a 'marginal-means' block cannot analyse {Q(anovaId)}: it was fitted as a mixed model (REML), and its marginal means are not available in this version; 'fit: classical' applies to balanced data only");
+
+    public void MarginalMeansNoSingleError(SourceLocation at, string term, string anovaId) =>
+        Error("SP0527", at, $"{term} has no single error mean square in the anova block {Q(anovaId)} (its F test is approximate, against a combination of mean squares), so its marginal means would have no exact standard error");
+
+    public void MarginalMeansMixedErrors(SourceLocation at, string what, string first, string second, string suggestion) =>
+        Error("SP0528", at, $"{what} would mix two error terms ({first} and {second}): their standard errors need a combination of mean squares, which this version does not compute; {suggestion}");
+
+    public void MarginalMeansNoTreatment(SourceLocation at, string anovaId) =>
+        Error("SP0529", at, $"the anova block {Q(anovaId)} has no treatment factor (only blocks and random factors), so it has no marginal means; its variance components are in the anova block");
 
     // ---- output (SP06xx) ----
     public void CannotWrite(SourceLocation at, string path, string reason) => Error("SP0601", at, $"cannot write {Q(path)}: {reason}");

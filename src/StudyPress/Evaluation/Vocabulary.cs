@@ -396,7 +396,7 @@ public static class TestName
     /// <summary>F tests of the mixed-model route of a repeated-measures block (REML, Satterthwaite df).</summary>
     public const string AnovaReml = "anova_reml";
 
-    /// <summary>Simple effects of a within-subject factor at each level of a between-subject factor.</summary>
+    /// <summary>Simple effects of a factor at each level of another (a within-subject factor at each level of a between-subject factor; a marginal-means block's factor at each level of its 'at' factor).</summary>
     public const string SimpleEffects = "simple_effects";
 
     /// <summary>Subjects of a repeated-measures block: analysed and left out.</summary>
@@ -411,8 +411,9 @@ public static class TestName
     /// <summary>The homogeneity-of-slopes test (treatment x covariate).</summary>
     public const string SlopesHomogeneity = "slopes_homogeneity";
 
-    /// <summary>Estimated marginal (adjusted) means.</summary>
+    /// <summary>Estimated marginal means (equally weighted over the other factors; adjusted to the covariate means in an analysis of covariance), with SE and interval.</summary>
     public const string Emmeans = "emmeans";
+
     /// <summary>A planned contrast or polynomial trend of one factor's level means.</summary>
     public const string Contrast = "contrast";
 
@@ -450,12 +451,12 @@ public static class TestName
         [BlockingEfficiency] = "relative efficiency of blocking",
         [Mauchly] = "Mauchly's test of sphericity",
         [AnovaReml] = "mixed-model (REML) F tests of a repeated-measures block",
-        [SimpleEffects] = "simple effects of a within-subject factor",
+        [SimpleEffects] = "simple effects of a factor at each level of another",
         [Subjects] = "subjects analysed and left out",
         [Equivalence] = "equivalence (TOST) or non-inferiority of a difference of means",
         [CovariateSlope] = "a covariate's common slope in an analysis of covariance",
         [SlopesHomogeneity] = "homogeneity-of-slopes test (treatment x covariate interaction)",
-        [Emmeans] = "estimated marginal (adjusted) means",
         [Contrast] = "planned contrast or polynomial trend of level means",
+        [Emmeans] = "estimated marginal means (adjusted to the covariate means in an analysis of covariance)",
     };
 }

@@ -1,0 +1,378 @@
+using System.Globalization;
+using System.Runtime.CompilerServices;
+using StudyPress.Binding;
+using StudyPress.Binding.Kinds;
+using StudyPress.Charts;
+using StudyPress.Diagnostics;
+using StudyPress.Statistics;
+using StudyPress.Statistics.Anova;
+using StudyPress.Statistics.Designs;
+using StudyPress.Statistics.FollowUp;
+
+namespace StudyPress.Evaluation.Kinds;
+
+/// <summary>The error a table of marginal means uses: its name (the engine's, or "residual"), mean square and df.</summary>
+public sealed record MarginalMeansError(string Term, double MeanSquare, int Df)
+{
+    /// <summary>The anova block's traced values of this error's mean square and df (null when it has none).</summary>
+    public ResultValue? Ms { get; init; }
+
+    public ResultValue? DfValue { get; init; }
+}
+
+/// <summary>A significant interaction a main-effect table averages over: its term, the other factors' labels and the anova's p.</summary>
+public sealed record InteractionHint(string Term, IReadOnlyList<string> Others, IReadOnlyList<string> OtherNames, ResultValue P);
+
+/// <summary>One marginal mean with its manifest values (<c>mean</c>, <c>se</c>, <c>df</c>, <c>ci_low</c>, <c>ci_high</c>).</summary>
+public sealed record MarginalMeansRow(IReadOnlyList<string> Levels, MarginalMean Mean, IReadOnlyDictionary<string, ResultValue> Values);
+
+/// <summary>The means of one term (a factor, or the cells of a crossing) on one error.</summary>
+public sealed record MarginalMeansTable(
+    string Term,
+    IReadOnlyList<string> Factors,
+    IReadOnlyList<string> Labels,
+    MarginalMeansError Error,
+    IReadOnlyList<MarginalMeansRow> Rows,
+    IReadOnlyList<InteractionHint> Interactions);
+
+/// <summary>One pairwise difference within a level of the <c>at</c> factor, with its manifest values.</summary>
+public sealed record SimpleEffectPair(string LevelA, string LevelB, Quantity PAdjusted, IReadOnlyDictionary<string, ResultValue> Values);
+
+/// <summary>The simple effect at one level of the <c>at</c> factor: its F test values and its pairs.</summary>
+public sealed record MarginalSimpleEffect(string AtLevel, IReadOnlyDictionary<string, ResultValue> Test, IReadOnlyList<SimpleEffectPair> Pairs);
+
+public sealed class MarginalMeansOutcome(BoundBlock block) : BlockOutcome(block)
+{
+    public List<MarginalMeansTable> Tables { get; } = [];
+
+    /// <summary>The simple effects of the <c>by</c> factor at each level of <c>at</c> (empty without <c>at</c>).</summary>
+    public List<MarginalSimpleEffect> SimpleEffects { get; } = [];
+
+    /// <summary>The factor whose simple effects are tested, and the factor at whose levels (labels), when <c>at</c> is given.</summary>
+    public string? ByLabel { get; set; }
+
+    public string? AtLabel { get; set; }
+
+    /// <summary>The <c>at</c> factor's name (the manifest level of a simple effect is "NAME level").</summary>
+    public string? AtName { get; set; }
+
+    /// <summary>The anova's transformation (none: means on the response's scale).</summary>
+    public TransformKind Transform { get; set; } = TransformKind.None;
+
+    /// <summary>What a back-transformed mean is, in words (from the engine).</summary>
+    public string BackTransformation { get; set; } = string.Empty;
+
+    /// <summary>Whether the anova is a declared design (the errors are its strata's).</summary>
+    public bool Design { get; set; }
+
+    /// <summary>The factors' display labels, by name.</summary>
+    public Dictionary<string, string> Labels { get; } = new(StringComparer.Ordinal);
+}
+
+/// <summary>Evaluates <c>marginal-means</c> blocks into values (no HTML, no report text).</summary>
+public sealed class MarginalMeansEvaluator : KindEvaluator
+{
+    /// <summary>Registers this part of the kind (see DEVELOPERS.md, "Adding an analysis kind").</summary>
+    [ModuleInitializer]
+    internal static void Register() => KindEvaluators.Register(new MarginalMeansEvaluator());
+
+    public override string Kind => "marginal-means";
+
+    /// <summary>The most means one table holds (a 500 × 500 covariance is 2 MB; a simple effect's pairs stay under about 62,500).</summary>
+    public const int MaxMeans = 500;
+
+    public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
+    {
+        var options = (MarginalMeansKind.Options)block.Options!;
+        var outcome = new MarginalMeansOutcome(block);
+        if (context.Outcomes.GetValueOrDefault(block.Of!.Id) is not AnovaOutcome { Data: { } data } anova)
+        {
+            return outcome;
+        }
+
+        if (anova.Ancova is not null)
+        {
+            diagnostics.CovariateViewUnavailable(block.Location, "marginal-means", block.Of.Id);
+            return outcome;
+        }
+
+        var of = block.Of.Id;
+        var alpha = context.Header.Alpha;
+        foreach (var f in data.Factors)
+        {
+            outcome.Labels[f.Spec.Name] = f.Spec.Display;
+        }
+
+        // Where a refusal points: the key that asked for the view, else the block.
+        var at = options.At?.Location ?? (options.By.Count > 0 ? options.By[0].Location : block.Location);
+        AnovaInput input;
+        double centre;
+        Func<IReadOnlyList<string>, MarginalMeansError?> errorOf;
+        List<string> factors;
+        if (anova.Design is { } design)
+        {
+            if (design.Method == DesignMethod.Reml || design.Strata is null)
+            {
+                diagnostics.MarginalMeansReml(at, of);
+                return outcome;
+            }
+
+            var treatments = data.Factors.Where(f => f.Spec.Layout.Role == FactorRole.Treatment).ToList();
+            if (treatments.Count == 0)
+            {
+                diagnostics.MarginalMeansNoTreatment(block.Location, of);
+                return outcome;
+            }
+
+            outcome.Design = true;
+            factors = [.. treatments.Select(f => f.Spec.Name)];
+            input = new AnovaInput(data.Response, [.. treatments.Select(f => f.ToColumn())], true, SumOfSquaresType.Hierarchical, alpha);
+            centre = data.Centre;
+            errorOf = set => DesignError(design.Strata, set, options, outcome, of, at, diagnostics) is { } e
+                ? e with
+                {
+                    Ms = design.Rows.FirstOrDefault(r => r.Term == DesignFit.TermName(e.Term))?.Values.GetValueOrDefault(Stat.Ms),
+                    DfValue = design.Rows.FirstOrDefault(r => r.Term == DesignFit.TermName(e.Term))?.Values.GetValueOrDefault(Stat.Df),
+                }
+                : null;
+        }
+        else if (anova.Input is { } fixedInput && anova.Fit is { ResidualMeanSquare.IsDefined: true } fit)
+        {
+            factors = [.. data.Factors.Select(f => f.Spec.Name)];
+            input = fixedInput;
+            centre = anova.ResponseCentre;
+            var residual = new MarginalMeansError("residual", fit.ResidualMeanSquare.Value, fit.ResidualDf)
+            {
+                Ms = anova.Residual.GetValueOrDefault(Stat.Ms),
+                DfValue = anova.Residual.GetValueOrDefault(Stat.Df),
+            };
+            errorOf = _ => residual;
+            outcome.Transform = anova.Model?.Transform ?? TransformKind.None;
+        }
+        else
+        {
+            // The anova block failed, or has no residual mean square (its own message says why).
+            return outcome;
+        }
+
+        var lambda = anova.Transformed?.BoxCox?.Lambda;
+        List<IReadOnlyList<string>> terms = options.At is { } atFactor
+            ? [Ordered(factors, [options.By[0].Name, atFactor.Name])]
+            : options.By.Count > 0 ? [Ordered(factors, [.. options.By.Select(b => b.Name)])] : [.. factors.Select(f => (IReadOnlyList<string>)[f])];
+        var inputs = context.Inputs(block);
+        foreach (var term in terms)
+        {
+            // The means' covariance is k × k and the pairs of a simple effect grow with k²: bound k.
+            var count = term.Aggregate(1L, (c, f) => c * data.Factors.First(x => x.Spec.Name == f).Levels.Count);
+            if (count > MaxMeans)
+            {
+                diagnostics.MarginalMeansTooMany(at, string.Join(" × ", term.Select(f => outcome.Labels[f])), count, MaxMeans);
+                return outcome;
+            }
+
+            if (errorOf(term) is not { } error)
+            {
+                return outcome;
+            }
+
+            var result = EstimatedMarginalMeans.ComputeWithError(input, error.MeanSquare, error.Df, centre, outcome.Transform, lambda, [term]);
+            outcome.BackTransformation = result.BackTransformation;
+            var t = result.Terms[0];
+            var rows = new List<MarginalMeansRow>();
+            foreach (var m in t.Means)
+            {
+                var level = string.Join(" / ", m.Levels);
+                var values = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
+                void Add(string stat, Quantity q) => values[stat] = context.Results.Add(block.Id, TestName.Emmeans, t.Term, level, null, stat, q, inputs);
+                Add(Stat.Mean, m.BackTransformedMean);
+                Add(Stat.Se, m.Se);
+                Add(Stat.Df, m.Df);
+                Add(Stat.CiLow, m.BackTransformedLow);
+                Add(Stat.CiHigh, m.BackTransformedHigh);
+                rows.Add(new MarginalMeansRow(m.Levels, m, values));
+            }
+
+            var hints = options.At is null ? Interactions(anova, t.Factors, alpha, outcome.Labels) : [];
+            outcome.Tables.Add(new MarginalMeansTable(t.Term, t.Factors, [.. t.Factors.Select(f => outcome.Labels[f])], error, rows, hints));
+            if (context.Header.Report.Figures && t.Factors.Count == 1 && MeansFigure(rows, outcome.Labels[t.Factors[0]], data.ResponseName, error, outcome.Transform != TransformKind.None, alpha) is { } figure)
+            {
+                outcome.Figures.Add(figure with { Part = t.Factors[0] });
+            }
+
+            if (options.At is { } a)
+            {
+                var by = options.By[0].Name;
+                outcome.ByLabel = outcome.Labels[by];
+                outcome.AtLabel = outcome.Labels[a.Name];
+                outcome.AtName = a.Name;
+                foreach (var se in SimpleEffects.Compute(t, by, a.Name, error.MeanSquare, error.Df, ContrastAdjustment.Holm, alpha))
+                {
+                    var level = a.Name + " " + se.AtLevel;
+                    var test = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
+                    void Put(string stat, Quantity q) => test[stat] = context.Results.Add(block.Id, TestName.SimpleEffects, by, level, null, stat, q, inputs);
+                    Put(Stat.Df, Quantity.Of(se.Df1));
+                    Put(Stat.F, se.F);
+                    Put(Stat.DfDen, Quantity.Of(se.Df2));
+                    Put(Stat.P, se.P);
+                    var pairs = new List<SimpleEffectPair>();
+                    var c = 0;
+                    var fi = t.Factors.ToList().IndexOf(by);
+                    for (var i = 0; i < se.Means.Count; i++)
+                    {
+                        for (var j = i + 1; j < se.Means.Count; j++)
+                        {
+                            var e = se.Pairs.Contrasts[c++];
+                            string[] pair = [se.Means[i].Levels[fi], se.Means[j].Levels[fi]];
+                            var v = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
+                            void P(string stat, Quantity q) => v[stat] = context.Results.Add(block.Id, TestName.Holm, by, level, pair, stat, q, inputs);
+                            P(Stat.Diff, Quantity.Of(e.Estimate));
+                            P(Stat.Se, e.Se);
+                            P(Stat.Statistic, e.T);
+                            P(Stat.Df, Quantity.Of(e.Df));
+                            P(Stat.P, e.P);
+                            P(Stat.PAdj, e.PAdjusted);
+                            P(Stat.CiLow, e.CiLow);
+                            P(Stat.CiHigh, e.CiHigh);
+                            pairs.Add(new SimpleEffectPair(pair[0], pair[1], e.PAdjusted, v));
+                        }
+                    }
+
+                    outcome.SimpleEffects.Add(new MarginalSimpleEffect(se.AtLevel, test, pairs));
+                }
+            }
+        }
+
+        return outcome;
+    }
+
+    /// <summary>
+    /// The means of one factor with their intervals (back-transformed when the anova used a
+    /// transformation); null when a mean or a limit is not defined.
+    /// </summary>
+    private static Figure? MeansFigure(List<MarginalMeansRow> rows, string factor, string response, MarginalMeansError error, bool transformed, double alpha)
+    {
+        var means = new List<GroupMean>();
+        foreach (var r in rows)
+        {
+            if (r.Mean.BackTransformedMean is not { IsDefined: true } m || r.Mean.BackTransformedLow is not { IsDefined: true } lo || r.Mean.BackTransformedHigh is not { IsDefined: true } hi)
+            {
+                return null;
+            }
+
+            means.Add(new GroupMean(r.Levels[0], m.Value, lo.Value, hi.Value));
+        }
+
+        var level = Math.Round(100 * (1 - alpha), 10).ToString("R", CultureInfo.InvariantCulture) + "%";
+        var errorName = error.Term == "residual" ? "the residual" : "the " + error.Term.Replace("(", " (in ", StringComparison.Ordinal);
+        var chart = StatCharts.GroupMeans(means, level, new ChartLabels($"Estimated marginal means of {BidiText.Isolate(response)} by {BidiText.Isolate(factor)}", factor, response));
+        return new Figure(
+            "means",
+            string.Create(CultureInfo.InvariantCulture, $"Estimated marginal means of {BidiText.Isolate(factor)} with {level} intervals on {errorName} mean square ({error.Df} df){(transformed ? ", back-transformed to the original scale" : string.Empty)}; each interval is for one mean, not adjusted for comparisons, and overlapping intervals are not a test."),
+            chart);
+    }
+
+    /// <summary>The names in the model's factor order (the engine's term order).</summary>
+    private static List<string> Ordered(List<string> factors, IEnumerable<string> names)
+    {
+        var set = names.ToHashSet(StringComparer.Ordinal);
+        return [.. factors.Where(set.Contains)];
+    }
+
+    /// <summary>
+    /// Significant interactions of the anova that involve a factor of <paramref name="term"/> and a
+    /// factor outside it: the means average over those other factors' levels.
+    /// </summary>
+    private static List<InteractionHint> Interactions(AnovaOutcome anova, IReadOnlyList<string> term, double alpha, Dictionary<string, string> labels)
+    {
+        var rows = anova.Design is { } d
+            ? d.Rows.Where(r => r.Row is { Kind: TermKind.Treatment }).Select(r => (r.Term, Factors: r.Row!.Factors, r.Values))
+            : anova.Terms.Select(t => (Term: t.Term.Name, Factors: t.Term.Factors, Values: (IReadOnlyDictionary<string, ResultValue>)t.Values));
+        var hints = new List<InteractionHint>();
+        foreach (var (name, factors, values) in rows)
+        {
+            if (factors.Count < 2 || !factors.Any(term.Contains) || factors.All(term.Contains) || !values.TryGetValue(Stat.P, out var p))
+            {
+                continue;
+            }
+
+            if (p.Value is { IsDefined: true } pv && pv.Value < alpha)
+            {
+                var others = factors.Where(f => !term.Contains(f)).ToList();
+                hints.Add(new InteractionHint(name, [.. others.Select(f => labels.GetValueOrDefault(f, f))], others, p));
+            }
+        }
+
+        return hints;
+    }
+
+    /// <summary>
+    /// The single error of a design's term set: every treatment row the means rest on (for simple
+    /// effects, the rows that contain the <c>by</c> factor) tested against one mean square. Null,
+    /// with one message at <paramref name="at"/>, for a quasi-F or for rows on different errors.
+    /// </summary>
+    private static MarginalMeansError? DesignError(StrataAnovaResult strata, IReadOnlyList<string> set, MarginalMeansKind.Options options, MarginalMeansOutcome outcome, string of, SourceLocation at, DiagnosticBag diagnostics)
+    {
+        string Label(IEnumerable<string> names) => string.Join(" × ", names.Select(n => outcome.Labels.GetValueOrDefault(n, n)));
+        var by = options.At is null ? null : options.By[0].Name;
+        var (error, quasi, mixed) = FindError(strata, set, by);
+        if (error is not null)
+        {
+            return error;
+        }
+
+        if (quasi is { } q)
+        {
+            diagnostics.MarginalMeansNoSingleError(at, Label(q.Factors), of);
+            return null;
+        }
+
+        var (first, second) = mixed!.Value;
+        string what, suggestion;
+        if (options.At is { } a)
+        {
+            what = $"the simple effects of {Label([by!])} at each level of {Label([a.Name])}";
+            suggestion = FindError(strata, set, a.Name).Error is not null
+                ? $"the simple effects of {Label([a.Name])} at each level of {Label([by!])} ('by: {a.Name}', 'at: {by}') rest on a single error"
+                : "ask for the means of each factor on its own (leave out 'by' and 'at')";
+        }
+        else
+        {
+            what = $"the means of the cells of {Label(set)}";
+            var single = set.Count == 2 ? set.FirstOrDefault(f => FindError(strata, set, f).Error is not null) : null;
+            suggestion = single is not null
+                ? $"'by: {single}' with 'at: {set.First(f => f != single)}' gives the means and simple effects of {Label([single])} within each level of {Label(set.Where(f => f != single))} on a single error"
+                : "ask for the means of each factor on its own (leave out 'by')";
+        }
+
+        diagnostics.MarginalMeansMixedErrors(at, what, "the " + first, "the " + second, suggestion);
+        return null;
+    }
+
+    private static (MarginalMeansError? Error, StrataRow? Quasi, (string First, string Second)? Mixed) FindError(StrataAnovaResult strata, IReadOnlyList<string> set, string? by)
+    {
+        MarginalMeansError? error = null;
+        foreach (var r in strata.Rows)
+        {
+            if (r.Kind != TermKind.Treatment || r.Factors.Count == 0 || !r.Factors.All(set.Contains) || (by is not null && !r.Factors.Contains(by)))
+            {
+                continue;
+            }
+
+            if (r.Denominator is not [{ Coefficient: 1.0 } part] || r.IsQuasiF)
+            {
+                return (null, r, null);
+            }
+
+            if (error is null)
+            {
+                error = new MarginalMeansError(part.Term, part.MeanSquare, part.Df);
+            }
+            else if (!string.Equals(error.Term, part.Term, StringComparison.Ordinal))
+            {
+                return (null, null, (error.Term, part.Term));
+            }
+        }
+
+        return (error, null, null);
+    }
+}
