@@ -239,9 +239,7 @@ values: {0.0cwt: 0, 0.2cwt: 0.2, 0.4cwt: 0.4, 0.6cwt: 0.6}
     {
         var csv = File.ReadAllText(ReferenceFiles.PathOf("split-plot", "yates-oats.csv"));
         using var run = new StudyRun().File("data/oats.csv", csv).Study("---\ntitle: Oats\ndata: data/oats.csv\nresponse: yield\nfactors:\n  block:\n    role: block\n  variety:\n    plot: whole\n  nitrogen:\n    plot: sub\n---\n\n```anova main\n```\n\n```contrasts n\nfactor: block\ncompare:\n  one: {I: 1, II: -1}\n```\n");
-        var d = Assert.Single(run.Compile().Diagnostics);
-        Assert.Equal("SP0397", d.Code);
-        Assert.Equal(17, d.Location.Line);
+        run.SingleError("SP0397", 17);
     }
 
     [Fact]
@@ -391,9 +389,7 @@ values: {0.0cwt: 0, 0.2cwt: 0.2, 0.4cwt: 0.4, 0.6cwt: 0.6}
         // 101 contrasts: refused before any is evaluated (their orthogonality alone is 5050 pairs).
         var keys = "compare:\n" + string.Concat(Enumerable.Range(0, 101).Select(i => string.Create(CultureInfo.InvariantCulture, $"  c{i}: {{\"10\": 1, \"20\": -1}}\n")));
         using var run = Run(keys.TrimEnd('\n'));
-        var d = Assert.Single(run.Compile().Diagnostics);
-        Assert.Equal("SP0283", d.Code);
-        Assert.Equal(13 + 100, d.Location.Line);
+        run.SingleError("SP0283", 13 + 100);
     }
 
     [Fact]
@@ -407,9 +403,7 @@ values: {0.0cwt: 0, 0.2cwt: 0.2, 0.4cwt: 0.4, 0.6cwt: 0.6}
         }
 
         using var run = Run("trend: true", sb.ToString());
-        var d = Assert.Single(run.Compile().Diagnostics);
-        Assert.Equal("SP0532", d.Code);
-        Assert.Equal(12, d.Location.Line);
+        var d = run.SingleError("SP0532", 12);
         using var compare = Run("compare:\n  ends: {\"0\": 1, \"100\": -1}", sb.ToString());
         Assert.Single(Built(compare).Find("c", "contrast", "density", "estimate", "ends"));
     }
@@ -428,9 +422,7 @@ values: {0.0cwt: 0, 0.2cwt: 0.2, 0.4cwt: 0.4, 0.6cwt: 0.6}
     {
         var csv = Kuehl.Replace("\n10,", "\nlow,", StringComparison.Ordinal);
         using var run = Run("trend: true", csv);
-        var d = Assert.Single(run.Compile().Diagnostics);
-        Assert.Equal("SP0531", d.Code);
-        Assert.Equal(12, d.Location.Line);
+        var d = run.SingleError("SP0531", 12);
         Assert.Contains("'low'", d.Message, StringComparison.Ordinal);
     }
 

@@ -328,9 +328,7 @@ factors:
     public void HeaderMistake_OneMessage(string header, string code, int line) // line: 0-based
     {
         using var run = Study("wheat.csv", Csv("rcbd", "clewer-wheat.csv"), header, "```anova main\n```");
-        var d = Assert.Single(run.Compile().Diagnostics);
-        Assert.Equal(code, d.Code);
-        Assert.Equal(line, d.Location.Line);
+        run.SingleError(code, line);
     }
 
     [Fact]

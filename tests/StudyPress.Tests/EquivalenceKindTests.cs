@@ -194,9 +194,7 @@ factors: [level]
     public void OneMistake_OneMessage_AtTheKey(string keys, string code, int line)
     {
         using var run = Run(keys);
-        var d = Assert.Single(run.Compile().Diagnostics);
-        Assert.Equal(code, d.Code);
-        Assert.Equal(line, d.Location.Line);
+        run.SingleError(code, line);
     }
 
     [Fact]
@@ -204,9 +202,7 @@ factors: [level]
     {
         // The (1 − 2α) interval has no meaning for α ≥ 0.5; the engine refuses it, the binder says so.
         using var run = new StudyRun().File("d.csv", Prc471).Study(Study("pair: [\"4\", \"1\"]\nmargin: 2").Replace("title: Equivalence fixture", "title: Equivalence fixture\nalpha: 0.6", StringComparison.Ordinal));
-        var d = Assert.Single(run.Compile().Diagnostics);
-        Assert.Equal("SP0537", d.Code);
-        Assert.Equal(13, d.Location.Line);
+        run.SingleError("SP0537", 13);
     }
 
     [Fact]

@@ -52,18 +52,14 @@ factors: [treatment, block]
     public void OneMistake_OneMessage_AtTheKey(string keys, string code, int line)
     {
         using var run = Run(keys);
-        var d = Assert.Single(run.Compile().Diagnostics);
-        Assert.Equal(code, d.Code);
-        Assert.Equal(line, d.Location.Line);
+        run.SingleError(code, line);
     }
 
     [Fact]
     public void ReplicatedCell_IsOneErrorAtBlocks()
     {
         using var run = Run("factor: treatment\nblocks: block", Zar + "2,3,7.7\n");
-        var d = Assert.Single(run.Compile().Diagnostics);
-        Assert.Equal("SP0509", d.Code);
-        Assert.Equal(10, d.Location.Line);
+        var d = run.SingleError("SP0509", 10);
         Assert.Contains("block '2' has 2 values for treatment '3'", d.Message, StringComparison.Ordinal);
     }
 

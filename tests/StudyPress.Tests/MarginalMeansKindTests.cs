@@ -260,9 +260,7 @@ data: data/oats.csv
     public void OneMistake_OneMessage_AtTheKey(string keys, string code, int line)
     {
         using var run = Run(keys);
-        var d = Assert.Single(run.Compile().Diagnostics);
-        Assert.Equal(code, d.Code);
-        Assert.Equal(line, d.Location.Line);
+        run.SingleError(code, line);
     }
 
     [Fact]
@@ -277,9 +275,7 @@ data: data/oats.csv
 
         StudyRun Study(string by) => new StudyRun().File("d.csv", csv.ToString()).Study("---\ntitle: Many levels\ndata:\n  d: d.csv\nresponse: y\nfactors: [P, Q, R]\n---\n\n```anova fit\ninteraction: false\n```\n\n```marginal-means mm\nby: " + by + "\n```\n");
         using var run = Study("[P, Q, R]");
-        var d = Assert.Single(run.Compile().Diagnostics);
-        Assert.Equal("SP0277", d.Code);
-        Assert.Equal(13, d.Location.Line);
+        var d = run.SingleError("SP0277", 13);
         Assert.Contains("would be 512", d.Message, StringComparison.Ordinal);
 
         // Two of them (64 means) are within the bound.
@@ -291,9 +287,7 @@ data: data/oats.csv
     public void AtWithoutTheInteraction_IsOneErrorAtAt()
     {
         using var run = Run("by: A\nat: B", "interaction: false");
-        var d = Assert.Single(run.Compile().Diagnostics);
-        Assert.Equal("SP0525", d.Code);
-        Assert.Equal(14, d.Location.Line);
+        run.SingleError("SP0525", 14);
     }
 
     [Theory]
@@ -303,9 +297,7 @@ data: data/oats.csv
     public void Oats_OneMistake_OneMessage(string keys, string code, int line)
     {
         using var run = Oats(keys);
-        var d = Assert.Single(run.Compile().Diagnostics);
-        Assert.Equal(code, d.Code);
-        Assert.Equal(line, d.Location.Line);
+        run.SingleError(code, line);
     }
 
     [Fact]
@@ -320,9 +312,7 @@ data: data/oats.csv
     public void Oats_MixedModelFit_IsRefused()
     {
         using var run = Oats("by: variety", "fit: reml");
-        var d = Assert.Single(run.Compile().Diagnostics);
-        Assert.Equal("SP0526", d.Code);
-        Assert.Equal(18, d.Location.Line);
+        run.SingleError("SP0526", 18);
     }
 
     // Invented: a fixed factor crossed with two random factors, two replicates per cell, so that A
@@ -367,9 +357,7 @@ factors:
     public void QuasiF_HasNoSingleError_IsOneErrorAtBy()
     {
         using var run = RandomFactors("  A: {}\n  R1:\n    role: random\n  R2:\n    role: random", "by: A");
-        var d = Assert.Single(run.Compile().Diagnostics);
-        Assert.Equal("SP0527", d.Code);
-        Assert.Equal(16, d.Location.Line);
+        run.SingleError("SP0527", 16);
     }
 
     [Fact]
@@ -378,9 +366,7 @@ factors:
         // Two random factors and no treatment: the factors block lists two lines fewer, so the
         // marginal-means fence is line 15 (1-based).
         using var run = RandomFactors("  R1:\n    role: random\n  R2:\n    role: random", string.Empty);
-        var d = Assert.Single(run.Compile().Diagnostics);
-        Assert.Equal("SP0529", d.Code);
-        Assert.Equal(14, d.Location.Line);
+        run.SingleError("SP0529", 14);
     }
 
     [Fact]

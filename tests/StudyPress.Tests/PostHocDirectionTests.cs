@@ -146,9 +146,7 @@ factors: {factors}
     public void DirectionMistake_OneMessage_AtDirection(string keys, string code, int line)
     {
         using var run = Run(keys);
-        var d = Assert.Single(run.Compile().Diagnostics);
-        Assert.Equal(code, d.Code);
-        Assert.Equal(line, d.Location.Line);
+        run.SingleError(code, line);
     }
 
     [Fact]
@@ -158,9 +156,7 @@ factors: {factors}
         // method: auto would switch to Games–Howell, which has no one-sided form here.
         const string csv = "group,count\ncontrol,10.0\ncontrol,10.1\ncontrol,10.2\ncontrol,10.1\ncontrol,10.0\ncontrol,10.1\nA,10.3\nA,10.2\nA,10.4\nA,10.3\nA,10.2\nB,-20\nB,40\nB,0\nB,30\nB,-10\nB,25\n";
         using var run = Run("control: control\ndirection: higher", csv);
-        var d = Assert.Single(run.Compile().Diagnostics);
-        Assert.Equal("SP0536", d.Code);
-        Assert.Equal(15, d.Location.Line);
+        run.SingleError("SP0536", 15);
     }
 
     [Fact]

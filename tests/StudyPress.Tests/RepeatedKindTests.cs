@@ -164,9 +164,7 @@ factors: [{factors}]
     public void OneMistake_OneMessage_AtTheKey(string keys, string code, int line)
     {
         using var run = Run(OneWay, "subject, condition", keys);
-        var d = Assert.Single(run.Compile().Diagnostics);
-        Assert.Equal(code, d.Code);
-        Assert.Equal(line, d.Location.Line);
+        run.SingleError(code, line);
     }
 
     [Fact]
@@ -174,9 +172,7 @@ factors: [{factors}]
     {
         // Model 6.3 numbers subjects 1-4 in every group: read as unique labels, subject 1 is in three groups.
         using var run = Run(Mixed, "subject, A, B", "subject: subject\nwithin: B\nbetween: A");
-        var d = Assert.Single(run.Compile().Diagnostics);
-        Assert.Equal("SP0511", d.Code);
-        Assert.Equal(11, d.Location.Line);
+        var d = run.SingleError("SP0511", 11);
         Assert.Contains("labels: per-group", d.Message, StringComparison.Ordinal);
     }
 
@@ -191,9 +187,7 @@ factors: [{factors}]
             return string.Create(CultureInfo.InvariantCulture, $"{(int.Parse(p[1], CultureInfo.InvariantCulture) * 10) + int.Parse(p[0], CultureInfo.InvariantCulture)},{p[1]},{p[2]},{p[3]}");
         })) + "\n";
         using var run = Run(csv, "subject, A, B", "subject: subject\nwithin: [B, A]");
-        var d = Assert.Single(run.Compile().Diagnostics);
-        Assert.Equal("SP0513", d.Code);
-        Assert.Equal(10, d.Location.Line);
+        var d = run.SingleError("SP0513", 10);
         Assert.Equal(12, d.Location.Column);
     }
 
@@ -201,9 +195,7 @@ factors: [{factors}]
     public void SubjectEqualToWithinFactor_IsOneErrorAtTheSecondNaming()
     {
         using var run = Run(OneWay, "subject, condition", "subject: condition\nwithin: condition");
-        var d = Assert.Single(run.Compile().Diagnostics);
-        Assert.Equal("SP0264", d.Code);
-        Assert.Equal(10, d.Location.Line);
+        var d = run.SingleError("SP0264", 10);
         Assert.Contains("already the block's 'subject'", d.Message, StringComparison.Ordinal);
     }
 
@@ -244,9 +236,7 @@ factors: [{factors}]
     public void WideData_OneMistake_OneMessage_AtTheKey(string keys, string code, int line, int column)
     {
         using var run = Wide(WideOneWay, keys);
-        var d = Assert.Single(run.Compile().Diagnostics);
-        Assert.Equal(code, d.Code);
-        Assert.Equal(line, d.Location.Line);
+        var d = run.SingleError(code, line);
         Assert.Equal(column, d.Location.Column);
     }
 
@@ -283,9 +273,7 @@ factors: [{factors}]
     {
         // (9000 + 3000) × (3000 + 3 + 1) numbers exceed the 2^22 cap: refused before any allocation.
         using var run = Run(Many(false), "subject, condition", "subject: subject\nwithin: condition\nfit: reml");
-        var d = Assert.Single(run.Compile().Diagnostics);
-        Assert.Equal("SP0515", d.Code);
-        Assert.Equal(11, d.Location.Line);
+        var d = run.SingleError("SP0515", 11);
         Assert.Contains("working matrix", d.Message, StringComparison.Ordinal);
     }
 
@@ -337,9 +325,7 @@ factors: [{factors}]
     {
         var csv = string.Join("\n", OneWay.Split('\n').Where(l => !(l.Contains(",c,", StringComparison.Ordinal) && !l.StartsWith("8,", StringComparison.Ordinal))));
         using var run = Run(csv, "subject, condition", "subject: subject\nwithin: condition\nfit: classical");
-        var d = Assert.Single(run.Compile().Diagnostics);
-        Assert.Equal("SP0514", d.Code);
-        Assert.Equal(9, d.Location.Line);
+        var d = run.SingleError("SP0514", 9);
         Assert.Contains("'subject' has 1 complete and 7 incomplete", d.Message, StringComparison.Ordinal);
     }
 }

@@ -43,6 +43,18 @@ public sealed class StudyRun : IDisposable
     /// <summary>Compiles the study in memory (nothing written).</summary>
     public CompilationResult Compile(CompileOptions? options = null) => Compilation.Compile(StudyPath, options ?? new CompileOptions());
 
+    /// <summary>
+    /// Compiles and asserts exactly one diagnostic, with this code, on this line (0-based): one
+    /// mistake, one message, at the place the user must edit. Returns it for further checks.
+    /// </summary>
+    public StudyPress.Diagnostics.Diagnostic SingleError(string code, int line)
+    {
+        var d = Assert.Single(Compile().Diagnostics);
+        Assert.Equal(code, d.Code);
+        Assert.Equal(line, d.Location.Line);
+        return d;
+    }
+
     /// <summary>Compiles and returns the manifest, failing the test on any error.</summary>
     public ManifestView Manifest()
     {
