@@ -309,7 +309,7 @@ public static class Figures
             new ChartLabels($"Differences of {outcome.FactorLabel} with {level} intervals against the {what}", "difference", string.Empty));
         return new Figure("equivalence", caption ?? (outcome.NonInferiority
             ? $"Each difference with its {level} interval; the shaded region is the side of the margin that counts as not inferior. Non-inferiority is shown where the whole interval lies in it (solid, diamond); an interval reaching past the margin does not show it."
-            : $"Each difference with its {level} interval; the shaded band is the equivalence margin. Equivalence is shown where the whole interval lies inside the band (solid, diamond); an interval reaching beyond it does not show equivalence, and one that covers zero does not show it either."), chart);
+            : $"Each difference with its {level} interval; the shaded band is the equivalence margin. Equivalence is shown where the whole interval lies inside the band (solid, diamond); an interval reaching beyond it does not show equivalence, even when it covers zero (finding no difference is not showing equivalence)."), chart);
     }
 
     private static string Confidence(double alpha) => NumberText.Confidence(alpha);
