@@ -174,6 +174,30 @@ factors: {factors}
     }
 
     [Fact]
+    public void DeclaredBlocks_MainEffectInSignificantInteraction_CarriesTheCaution()
+    {
+        // Randomized complete blocks (3 blocks) of a 2 × 2 with a reversal: the interaction's F is
+        // in the design's strata rows, not the fixed-effects terms; the caution must still appear.
+        var rows = new System.Text.StringBuilder("block,a,b,y\n");
+        double[] noise = [0.0, 0.4, -0.3, 0.2, -0.1, 0.3, -0.4, 0.1, 0.2, -0.2, 0.5, -0.5];
+        var i = 0;
+        foreach (var block in new[] { "I", "II", "III" })
+        {
+            foreach (var (a, b, mean) in new[] { ("a1", "b1", 20.0), ("a1", "b2", 10.0), ("a2", "b1", 10.0), ("a2", "b2", 20.0) })
+            {
+                rows.Append(CultureInfo.InvariantCulture, $"{block},{a},{b},{mean + (block.Length * 1.5) + noise[i++]}\n");
+            }
+        }
+
+        using var run = new StudyRun().File("d.csv", rows.ToString()).Study(
+            "---\ntitle: blocks\ndata:\n  d: d.csv\nresponse: y\nfactors:\n  block:\n    role: block\n  a:\n  b:\n---\n\n```anova main\n```\n\n```posthoc p\nof: main\nfactor: a\n```\n");
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        Assert.Contains("The anova found the interaction", result.Html!, StringComparison.Ordinal);
+        Assert.Contains("compare the levels of a within each level of b instead", result.Html!, StringComparison.Ordinal);
+    }
+
+    [Fact]
     public void MainEffect_WithoutInteraction_HasNoSuchCaution()
     {
         // Additive 2 × 2 (no interaction at all): no caution.

@@ -221,6 +221,17 @@ public sealed partial class PostHocEvaluator : KindEvaluator
                 outcome.Interactions.Add((t.Name, t.Factors.Where(f => f != factor).ToList(), p));
             }
         }
+
+        // A declared layout keeps its F tests in the strata rows: a treatment interaction there
+        // (tested against its own error) counts the same way.
+        foreach (var row in anova.Design?.Rows ?? [])
+        {
+            if (row.Row is { Kind: StudyPress.Statistics.Designs.TermKind.Treatment } r && r.Factors.Count > 1 && r.Factors.Contains(factor)
+                && row.Values.TryGetValue(Stat.P, out var p) && p.Value is { IsDefined: true } q && q.Value < alpha)
+            {
+                outcome.Interactions.Add((row.Term, r.Factors.Where(f => f != factor).ToList(), p));
+            }
+        }
     }
 
     internal static PostHocResult ControlOnly(PostHocResult all, string? control)
