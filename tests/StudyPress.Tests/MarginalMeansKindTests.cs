@@ -11,6 +11,7 @@ namespace StudyPress.Tests;
 /// its mistakes (one message each, at the key to edit). The small three-factor data set is an
 /// invented fixture.
 /// </summary>
+[Collection("cli")]
 public sealed class MarginalMeansKindTests
 {
     // Invented balanced 2 x 2 x 2 data, two replicates per cell, with a strong A × B interaction.

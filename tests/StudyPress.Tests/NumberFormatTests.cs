@@ -20,6 +20,7 @@ namespace StudyPress.Tests;
 /// the report option <c>p-leading-zero</c> and a regression test for each inconsistency that was
 /// found (leading zero of p, digits, minus, percent spacing, dashes in method names, "(s)", "^").
 /// </summary>
+[Collection("cli")]
 public sealed partial class NumberFormatTests
 {
     private static string SourceDir([CallerFilePath] string path = "") => Path.GetDirectoryName(path)!;
