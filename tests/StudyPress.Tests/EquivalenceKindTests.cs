@@ -61,6 +61,31 @@ factors: [level]
     }
 
     [Fact]
+    public void MethodsText_SaysHowTheTestsWereMade_Once_ForSeveralBlocks()
+    {
+        // The golden case has three equivalence blocks on the same error: the methods paragraph
+        // says once how the tests were made (each fact once), and names each block's margin.
+        var path = Path.Combine(ErrorCodeDocsTests.RepositoryRoot(), "tests", "StudyPress.Tests", "Cases", "kinds", "equivalence", "study.md");
+        var result = Compilation.Compile(path, new CompileOptions());
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        var html = System.Net.WebUtility.HtmlDecode(System.Text.RegularExpressions.Regex.Replace(result.Html!, "<[^>]*>", string.Empty));
+        Assert.Equal(1, CountOf(html, "the standard errors used the anova's residual mean square, as the anova assumes equal variances"));
+        Assert.Equal(1, CountOf(html, "this is not evidence of a difference: the interval reached beyond the margin"));
+        Assert.Contains("within the margin [−1.50, 1.50] by two one-sided t tests was tested, as above.", html, StringComparison.Ordinal);
+    }
+
+    private static int CountOf(string text, string part)
+    {
+        var count = 0;
+        for (var i = text.IndexOf(part, StringComparison.Ordinal); i >= 0; i = text.IndexOf(part, i + part.Length, StringComparison.Ordinal))
+        {
+            count++;
+        }
+
+        return count;
+    }
+
+    [Fact]
     public void Reference_EveryPairHasPEqualToTheLargerOneSidedP()
     {
         // Property (Schuirmann 1987): the TOST p-value is the larger of the two one-sided p-values.

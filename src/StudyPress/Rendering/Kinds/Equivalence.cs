@@ -68,8 +68,13 @@ public sealed class EquivalenceRenderer : KindRenderer
         var what = o.NonInferiority
             ? $"non-inferiority of {(o.Comparisons.Count == 1 ? "a difference" : "differences")} of {MethodsWriter.E(o.FactorLabel)} ({(o.Better == "lower" ? "lower is better" : "higher is better")}; margin {margin})"
             : $"equivalence of {(o.Comparisons.Count == 1 ? "a difference" : "differences")} of {MethodsWriter.E(o.FactorLabel)} within the margin {margin} by two one-sided t tests";
+        // How the tests were made is said once per paragraph: a second block on the same error
+        // only names its margin and its results (each fact once).
+        var source = SourceOfError(o, null);
         yield return w.Did(what, false, "tested", "tested", "test", string.Empty)
-            + $", each at α = {w.AlphaText} with its {level}% interval; the standard errors {w.T("used", "use")} {MethodsWriter.E(SourceOfError(o, null))}.";
+            + (w.Tell("equivalence:" + source)
+                ? $", each at α = {w.AlphaText} with its {level}% interval; the standard errors {w.T("used", "use")} {MethodsWriter.E(source)}."
+                : ", as above.");
         var items = o.Comparisons.Select(c =>
         {
             var v = c.Values;
@@ -81,7 +86,7 @@ public sealed class EquivalenceRenderer : KindRenderer
         });
         var notShown = o.Comparisons.Any(c => c.Result.Verdict is EquivalenceVerdict.NotShownEquivalent or EquivalenceVerdict.NotShownNonInferior);
         yield return string.Join("; ", items) + "."
-            + (notShown ? $" Where it {w.T("was", "is")} not shown, this is not evidence of a difference: the interval {w.T("reached", "reaches")} beyond the margin." : string.Empty);
+            + (notShown && w.Tell("equivalence:not-shown") ? $" Where it {w.T("was", "is")} not shown, this is not evidence of a difference: the interval {w.T("reached", "reaches")} beyond the margin." : string.Empty);
     }
 
     private static string Margin(Dictionary<string, ResultValue> v)
