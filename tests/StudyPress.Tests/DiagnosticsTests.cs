@@ -52,7 +52,7 @@ public sealed partial class DiagnosticsTests
         { "absolute data path", "---\ntitle: T\ndata: /etc/passwd\nresponse: y\n---\n", Csv, "study.md:3:7: error: data path '/etc/passwd' must be relative to the study file" },
         { "data file missing", "---\ntitle: T\ndata: nothere.csv\nresponse: y\n---\n", Csv, "study.md:3:7: error: data file 'nothere.csv' not found" },
         { "hash mismatch", "---\ntitle: T\ndata:\n  d:\n    path: data.csv\n    sha256: 0000000000000000000000000000000000000000000000000000000000000000\nresponse: y\n---\n", Csv, "study.md:6:13: error: 'data.csv' has SHA-256 …" },
-        { "single level", Study(body: "```anova main\nwhere:\n  dose: a\n```\n"), Csv, "study.md:9:1: error: factor 'dose' has 1 level(s) with data here; a comparison needs at least 2" },
+        { "single level", Study(body: "```anova main\nwhere:\n  dose: a\n```\n"), Csv, "study.md:9:1: error: factor 'dose' has 1 level with data here; a comparison needs at least 2" },
         { "groups of one only", Study(), "plot,dose,y\n1,a,1\n2,b,2\n3,c,3\n", "study.md:9:1: error: every group has a single observation, so there is no residual variance to test against" },
         { "response needed", "---\ntitle: T\ndata: data.csv\nfactors:\n  dose:\n---\n\n```anova\n```\n", Csv, "study.md:8:1: error: no response column: set 'response' in the block or in the header" },
         { "ss-type out of range", Study(body: "```anova main\nss-type: 4\n```\n"), Csv, "study.md:10:10: error: 'ss-type' must be a whole number from 1 to 3, not '4'" },

@@ -62,7 +62,7 @@ public sealed partial class DiagnosticsTests
         { "factor column missing", "---\ntitle: T\ndata: data.csv\nresponse: y\nfactors:\n  dose:\n    column: dosage\n---\n\n```anova\n```\n", Csv, "study.md:7:13: error: column 'dosage' is not in 'data.csv'; did you mean 'dose'?" },
         { "block response column missing", Study(body: "```anova main\nresponse: yield\n```\n"), Csv, "study.md:10:11: error: column 'yield' is not in 'data.csv'" },
         { "every response missing", Study(), "plot,dose,y\n1,a,NA\n2,a,NA\n3,b,NA\n", "study.md:9:1: error: no rows are left after dropping missing values and applying 'where'" },
-        { "empty group after where", Study(body: "```anova main\nwhere:\n  dose: [a, b]\n```\n"), "plot,dose,y\n1,a,1\n2,a,2\n3,b,NA\n4,b,NA\n5,c,3\n6,c,4\n", "study.md:9:1: error: factor 'dose' has 1 level(s) with data here; a comparison needs at least 2" },
+        { "empty group after where", Study(body: "```anova main\nwhere:\n  dose: [a, b]\n```\n"), "plot,dose,y\n1,a,1\n2,a,2\n3,b,NA\n4,b,NA\n5,c,3\n6,c,4\n", "study.md:9:1: error: factor 'dose' has 1 level with data here; a comparison needs at least 2" },
         { "undeclared level in where", "---\ntitle: T\ndata: data.csv\nresponse: y\nfactors:\n  dose:\n    levels: [a, b, c]\n---\n\n```anova main\nwhere:\n  dose: [a, bb]\n```\n", Csv, "study.md:12:13: error: factor 'dose' has no level 'bb'; did you mean 'b'?" },
         { "unknown factor in where", Study(body: "```anova main\nwhere:\n  dse: a\n```\n"), Csv, "study.md:11:3: error: unknown factor 'dse'; did you mean 'dose'?" },
         { "bad decimal mark", "---\ntitle: T\ndata:\n  d:\n    path: data.csv\n    decimal: ';'\nresponse: y\n---\n", Csv, "study.md:6:14: error: decimal must be '.' or ',', not ';'" },

@@ -168,6 +168,8 @@ public sealed class SourcesAggregateTests
         Assert.Matches("^[0-9a-f]{64}$", input.GetProperty("resultSha256").GetString()!);
         Assert.Equal(6, input.GetProperty("rows").GetInt32());
         Assert.Contains("The database aggregated the query", result.Html!, StringComparison.Ordinal);
+        Assert.Matches("aggregated the query(&#39;|')s [0-9]+ rows into [0-9]+ cells of", result.Html!);
+        Assert.DoesNotContain("(s)", result.Html!, StringComparison.Ordinal);
         Assert.Contains("computed from per-cell counts, means and sums of squares computed by the database", result.Html!, StringComparison.Ordinal);
         Assert.Contains(db == "duckdb-decimal" ? "summed exactly as scaled integers" : "binary double arithmetic", result.Html!, StringComparison.Ordinal);
     }

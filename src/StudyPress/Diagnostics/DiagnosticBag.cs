@@ -525,7 +525,7 @@ public sealed class DiagnosticBag
 
     // ---- analysis (SP05xx) ----
     public void TooFewGroups(SourceLocation at, string factor, int groups) =>
-        Error("SP0501", at, string.Create(CultureInfo.InvariantCulture, $"factor {Q(factor)} has {groups} level(s) with data here; a comparison needs at least 2"));
+        Error("SP0501", at, string.Create(CultureInfo.InvariantCulture, $"factor {Q(factor)} has {StudyPress.Charts.NumberText.Count(groups, "level")} with data here; a comparison needs at least 2"));
 
     public void NoRowsSelected(SourceLocation at) => Error("SP0502", at, "no rows are left after dropping missing values and applying 'where'");
 

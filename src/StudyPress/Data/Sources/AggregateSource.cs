@@ -131,7 +131,7 @@ public static partial class AggregateSource
                 {
                     if (bad[j] is not null and not DBNull && Convert.ToInt64(bad[j], CultureInfo.InvariantCulture) > 0)
                     {
-                        diagnostics.AggregateProblem(queryAt, spec.Name, $"column '{numeric[j]}' holds text (or other non-numeric values) in {Convert.ToInt64(bad[j], CultureInfo.InvariantCulture)} row(s) of the query result; to aggregate, return numbers (e.g. 'cast({numeric[j]} as real)', missing values as NULL)");
+                        diagnostics.AggregateProblem(queryAt, spec.Name, $"column '{numeric[j]}' holds text (or other non-numeric values) in {StudyPress.Charts.NumberText.Count(Convert.ToInt64(bad[j], CultureInfo.InvariantCulture), "row")} of the query result; to aggregate, return numbers (e.g. 'cast({numeric[j]} as real)', missing values as NULL)");
                         return null;
                     }
                 }
@@ -341,15 +341,15 @@ public static partial class AggregateSource
         var cells = order.Select(k => pooled[k]).ToList();
         var exact = numeric.Where(scale.ContainsKey).ToList();
         var inexact = numeric.Where(c => !scale.ContainsKey(c)).ToList();
-        var note = new StringBuilder(string.Create(CultureInfo.InvariantCulture, $"The database aggregated the query's {sourceRows} row(s) into {cells.Count} cell(s) of {(factors.Count == 0 ? "the whole table" : string.Join(" × ", factors.Select(f => f.Column)))} (count, mean and centred sum of squares per cell); the rows themselves were not loaded."));
+        var note = new StringBuilder(string.Create(CultureInfo.InvariantCulture, $"The database aggregated the query's {StudyPress.Charts.NumberText.Count(sourceRows, "row")} into {StudyPress.Charts.NumberText.Count(cells.Count, "cell")} of {(factors.Count == 0 ? "the whole table" : string.Join(" × ", factors.Select(f => f.Column)))} (count, mean and centred sum of squares per cell); the rows themselves were not loaded."));
         if (exact.Count > 0)
         {
-            note.Append(" Column(s) " + string.Join(", ", exact.Select(c => "'" + c + "'")) + " were summed exactly as scaled integers.");
+            note.Append(" " + (exact.Count == 1 ? "Column " : "Columns ") + string.Join(", ", exact.Select(c => "'" + c + "'")) + (exact.Count == 1 ? " was" : " were") + " summed exactly as scaled integers.");
         }
 
         if (inexact.Count > 0)
         {
-            note.Append(" Column(s) " + string.Join(", ", inexact.Select(c => "'" + c + "'")) + " were summed by the database in binary double arithmetic (centred, two passes).");
+            note.Append(" " + (inexact.Count == 1 ? "Column " : "Columns ") + string.Join(", ", inexact.Select(c => "'" + c + "'")) + (inexact.Count == 1 ? " was" : " were") + " summed by the database in binary double arithmetic (centred, two passes).");
         }
 
         return new LoadedDataset
