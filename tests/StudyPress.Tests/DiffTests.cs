@@ -287,6 +287,8 @@ public sealed class DiffTests
         var (exit, output, error) = run.Cli("diff", "old/study.md", "new/study.md");
         Assert.Equal((1, string.Empty), (exit, error));
         Assert.Contains("Decisions flipped: 0", output, StringComparison.Ordinal);
+        Assert.Matches("Summary: 0 decisions flipped, [0-9]+ values? changed, ", output);
+        Assert.DoesNotContain("(s)", output, StringComparison.Ordinal);
         Assert.DoesNotContain('\u001b', output);
         Assert.Equal(0, run.Cli("diff", "old/study.md", "new/study.md", "--fail-on", "decisions").Exit);
 

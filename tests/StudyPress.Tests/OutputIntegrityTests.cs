@@ -296,7 +296,7 @@ public sealed partial class OutputIntegrityTests
         using var run = ReproducibilityVerifyTests.Built();
         var html = File.ReadAllText(run.ReportPath);
         File.WriteAllText(run.ReportPath, html.Replace("</main>", "<script>document.title='x'</script></main>", StringComparison.Ordinal));
-        Assert.Equal((1, "study.html: altered (the page has 3 <script> element(s); a studypress report has 2)\n", string.Empty), run.Cli("verify", "study.html"));
+        Assert.Equal((1, "study.html: altered (the page has 3 <script> elements; a studypress report has 2)\n", string.Empty), run.Cli("verify", "study.html"));
     }
 
     [Fact]

@@ -1,5 +1,6 @@
 using System.Globalization;
 using System.Text;
+using StudyPress.Charts;
 
 namespace StudyPress.Comparison;
 
@@ -196,7 +197,7 @@ public static class ComparisonText
     /// <summary>One line: what changed, in counts.</summary>
     public static string Summary(ComparisonResult r) => string.Create(
         CultureInfo.InvariantCulture,
-        $"Summary: {r.Decisions.Count} decision(s) flipped, {r.Changed.Count} value(s) changed, {r.Added.Count} added, {r.Removed.Count} removed, {r.Inputs.Count} input(s) changed, {r.Sentences.Sum(s => s.Added.Count + s.Removed.Count)} methods sentence(s) changed, {r.BlocksAdded.Count} block(s) added, {r.BlocksRemoved.Count} removed.");
+        $"Summary: {NumberText.Count(r.Decisions.Count, "decision")} flipped, {NumberText.Count(r.Changed.Count, "value")} changed, {r.Added.Count} added, {r.Removed.Count} removed, {NumberText.Count(r.Inputs.Count, "input")} changed, {NumberText.Count(r.Sentences.Sum(s => s.Added.Count + s.Removed.Count), "methods sentence")} changed, {NumberText.Count(r.BlocksAdded.Count, "block")} added, {r.BlocksRemoved.Count} removed.");
 
     /// <summary>The path below block and test: term › level › A vs B › stat.</summary>
     internal static string Where(SnapshotValue v)

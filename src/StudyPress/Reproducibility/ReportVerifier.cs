@@ -164,7 +164,7 @@ public static partial class ReportVerifier
             var count = TagOpen().Matches(html).Count(m => string.Equals(m.Groups["name"].Value, tag, StringComparison.OrdinalIgnoreCase));
             if (count != allowed)
             {
-                return $"the page has {count} <{tag}> element(s); a studypress report has {allowed}";
+                return $"the page has {count} <{tag}> {(count == 1 ? "element" : "elements")}; a studypress report has {allowed}";
             }
         }
 
