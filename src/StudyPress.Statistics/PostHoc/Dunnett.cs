@@ -268,29 +268,8 @@ public static class Dunnett
             throw new ArgumentOutOfRangeException(nameof(alpha), "a one-sided alpha must lie in (0, 1/2)");
         }
 
-        var m = lambdas.Count;
-        var single = Quantile(2.0 * alpha, df);
-        if (m == 1)
-        {
-            return single;
-        }
-
-        var bonferroni = Quantile(2.0 * alpha / m, df);
-        var lnAlpha = Math.Log(alpha);
-        double G(double u) => lnAlpha - Math.Log(UpperProbabilityOneSided(Math.Exp(u), lambdas, df));
-        double lo = Math.Log(single), hi = Math.Log(bonferroni);
-        double glo = G(lo), ghi = G(hi);
-        if (glo >= 0)
-        {
-            return single;
-        }
-
-        if (ghi <= 0)
-        {
-            return bonferroni;
-        }
-
-        return Math.Exp(Distributions.RootFinding.Brent(G, lo, hi, glo, ghi, 1e-13));
+        // One-sided at alpha is the two-sided t quantile at 2 alpha (and 2 alpha / m for Bonferroni).
+        return SolveCritical(alpha, 2.0 * alpha, lambdas.Count, df, c => UpperProbabilityOneSided(c, lambdas, df));
     }
 
     /// <summary>
@@ -471,22 +450,30 @@ public static class Dunnett
             throw new ArgumentOutOfRangeException(nameof(alpha), "alpha must lie in (0, 1)");
         }
 
-        var m = lambdas.Count;
-        var single = Quantile(alpha, df);
+        return SolveCritical(alpha, alpha, lambdas.Count, df, c => UpperProbability(c, lambdas, df));
+    }
+
+    /// <summary>
+    /// The c with <paramref name="upper"/>(c) = alpha for m comparisons. The single and the
+    /// Bonferroni quantiles (two-sided t quantiles at <paramref name="tailAlpha"/> and
+    /// tailAlpha / m) bracket c, since the probability lies within its Bonferroni bounds. Solved by
+    /// Brent's method on ln P − ln alpha against ln c, so that tiny alphas keep their relative
+    /// accuracy (an absolute tolerance on P would accept any c there); only rounding can put an end
+    /// of the bracket beyond the root, and then that end is the answer.
+    /// </summary>
+    private static double SolveCritical(double alpha, double tailAlpha, int m, double df, Func<double, double> upper)
+    {
+        var single = Quantile(tailAlpha, df);
         if (m == 1)
         {
             return single;
         }
 
-        // The single and the Bonferroni quantiles bracket c (the probability lies within its
-        // Bonferroni bounds). Solved on ln P − ln alpha against ln c, so that tiny alphas keep
-        // their relative accuracy (an absolute tolerance on P would accept any c there).
-        var bonferroni = Quantile(alpha / m, df);
+        var bonferroni = Quantile(tailAlpha / m, df);
         var lnAlpha = Math.Log(alpha);
-        double G(double u) => lnAlpha - Math.Log(UpperProbability(Math.Exp(u), lambdas, df));
+        double G(double u) => lnAlpha - Math.Log(upper(Math.Exp(u)));
         double lo = Math.Log(single), hi = Math.Log(bonferroni);
         double glo = G(lo), ghi = G(hi);
-        // The probability is kept within its bounds, so only rounding can put an end beyond the root.
         if (glo >= 0)
         {
             return single;
