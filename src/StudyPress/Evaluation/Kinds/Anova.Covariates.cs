@@ -198,13 +198,7 @@ public sealed partial class AnovaEvaluator
             foreach (var m in term.Means)
             {
                 var level = string.Join(" / ", m.Levels);
-                var v = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
-                void AddM(string stat, Quantity q) => v[stat] = context.Results.Add(block.Id, TestName.Emmeans, term.Term, level, null, stat, q, inputs);
-                AddM(Stat.Mean, m.BackTransformedMean);
-                AddM(Stat.Se, m.Se);
-                AddM(Stat.Df, m.Df);
-                AddM(Stat.CiLow, m.BackTransformedLow);
-                AddM(Stat.CiHigh, m.BackTransformedHigh);
+                var v = MarginalMeansEvaluator.RecordMean(context, block, term.Term, m, inputs);
                 var rawValues = term.Factors.Count == 1 && raw.TryGetValue((term.Factors[0], m.Levels[0]), out var rv) ? rv : default;
                 analysis.Means.Add(new AdjustedMeanRow(term.Term, level, m, v, rawValues.Mean, rawValues.N));
             }

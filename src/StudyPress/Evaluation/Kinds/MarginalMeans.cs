@@ -181,15 +181,7 @@ public sealed class MarginalMeansEvaluator : KindEvaluator
             var rows = new List<MarginalMeansRow>();
             foreach (var m in t.Means)
             {
-                var level = string.Join(" / ", m.Levels);
-                var values = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
-                void Add(string stat, Quantity q) => values[stat] = context.Results.Add(block.Id, TestName.Emmeans, t.Term, level, null, stat, q, inputs);
-                Add(Stat.Mean, m.BackTransformedMean);
-                Add(Stat.Se, m.Se);
-                Add(Stat.Df, m.Df);
-                Add(Stat.CiLow, m.BackTransformedLow);
-                Add(Stat.CiHigh, m.BackTransformedHigh);
-                rows.Add(new MarginalMeansRow(m.Levels, m, values));
+                rows.Add(new MarginalMeansRow(m.Levels, m, RecordMean(context, block, t.Term, m, inputs)));
             }
 
             var hints = options.At is null ? Interactions(anova, t.Factors, alpha, outcome.Labels) : [];
@@ -282,6 +274,24 @@ public sealed class MarginalMeansEvaluator : KindEvaluator
     /// Significant interactions of the anova that involve a factor of <paramref name="term"/> and a
     /// factor outside it: the means average over those other factors' levels.
     /// </summary>
+    /// <summary>
+    /// Records one estimated marginal mean under test <c>emmeans</c> (level = its levels joined by
+    /// " / "): the mean and interval limits back-transformed, SE and df on the model's scale. Used by
+    /// this kind and by an anova block with covariates (its adjusted means).
+    /// </summary>
+    internal static Dictionary<string, ResultValue> RecordMean(EvaluationContext context, BoundBlock block, string term, MarginalMean m, IReadOnlyList<string> inputs)
+    {
+        var level = string.Join(" / ", m.Levels);
+        var values = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
+        void Add(string stat, Quantity q) => values[stat] = context.Results.Add(block.Id, TestName.Emmeans, term, level, null, stat, q, inputs);
+        Add(Stat.Mean, m.BackTransformedMean);
+        Add(Stat.Se, m.Se);
+        Add(Stat.Df, m.Df);
+        Add(Stat.CiLow, m.BackTransformedLow);
+        Add(Stat.CiHigh, m.BackTransformedHigh);
+        return values;
+    }
+
     private static List<InteractionHint> Interactions(AnovaOutcome anova, IReadOnlyList<string> term, double alpha, Dictionary<string, string> labels)
     {
         var rows = anova.Design is { } d
