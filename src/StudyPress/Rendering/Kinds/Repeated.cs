@@ -88,6 +88,14 @@ public sealed class RepeatedRenderer : KindRenderer
         {
             yield return $"Because incomplete subjects were left out of the classical analysis, the mixed model (REML, Satterthwaite df) that keeps them {w.T("was", "is")} also reported.";
         }
+
+        if (o.Friedman is not null)
+        {
+            var why = o.RankReason == RankRouteReason.NormalityFailed
+                ? $"Because the residuals {w.T("departed", "depart")} from normality (Shapiro–Wilk, {ReportStyle.PPhrase(o.Normality![Stat.P])}), the"
+                : "The";
+            yield return $"{why} Friedman rank test of {MethodsWriter.E(o.Within[0].Label)} with the Iman–Davenport F {w.T("was", "is")} also run (subjects as blocks)" + (o.RankPairs.Count > 0 ? ", with Conover's comparisons of mean ranks (Holm-adjusted)." : ".");
+        }
     }
 
     public override IEnumerable<string> Warnings(BlockOutcome outcome, RenderContext context)
@@ -100,6 +108,16 @@ public sealed class RepeatedRenderer : KindRenderer
         if (o.Mixed is not null && o.Rows is not null && o.Mixed.Any(m => m.Agrees == false))
         {
             yield return "The classical and mixed-model routes differ for " + string.Join(", ", o.Mixed.Where(m => m.Agrees == false).Select(m => BidiText.Isolate(Term(m.Term)))) + ": read both tables; the mixed model uses every measurement of the incomplete subjects.";
+        }
+
+        if (o.RankReason == RankRouteReason.NormalityFailedNoRankForm)
+        {
+            yield return "The residuals depart from a normal distribution (Shapiro–Wilk p below α), so the F tests' p-values may be off. The Friedman rank test has no form for this layout (between-subject groups or several within factors): consider a transformation of the response, and judge the size of the departure with qualified review.";
+        }
+
+        if (o.RankReason == RankRouteReason.NormalityFailed)
+        {
+            yield return "The residuals depart from a normal distribution (Shapiro–Wilk p below α), so the F test's p-value may be off; the Friedman rank test, which does not assume normality, is shown below it ('ranks: auto'). It tests whether the subjects rank the levels alike, not whether the means differ; where the two tests disagree, neither settles the question alone.";
         }
 
         if (o.MixedSingular)
@@ -138,6 +156,11 @@ public sealed class RepeatedRenderer : KindRenderer
         if (o.Rows is null && o.CompareLabel is not null)
         {
             yield return "No paired comparisons: too few subjects are complete for the classical route, on whose complete subjects they are made.";
+        }
+
+        if (o.RankReason == RankRouteReason.NormalityNotTested && o.Normality is null)
+        {
+            yield return string.Create(CultureInfo.InvariantCulture, $"Shapiro–Wilk is computed for 3 to {Statistics.Assumptions.ShapiroWilk.MaximumN} residuals; this analysis has {o.NormalityN}, so normality was not tested and the rank route was not considered.");
         }
 
         if (o.MixedNotFitted is { } why)
@@ -195,7 +218,53 @@ public sealed class RepeatedRenderer : KindRenderer
                 html.Raw("<li>").Text($"{Term(r.Term)}: {CorrectionName(r.Correction)} test read — {Why(r, context.AlphaText)}.").Raw("</li>");
             }
 
+            if (o.Normality is { } sw)
+            {
+                var verdict = !sw[Stat.P].Value.IsDefined ? "not defined"
+                    : sw[Stat.P].Value.Value < context.Alpha ? "departs from normality" : "consistent with normality";
+                var next = o.RankReason switch
+                {
+                    RankRouteReason.NormalityFailed => "; the Friedman rank test is shown below",
+                    RankRouteReason.NormalityFailedNoRankForm => "; no rank test exists for this layout",
+                    RankRouteReason.Asked => "; the Friedman rank test is shown below, as asked ('ranks: always')",
+                    _ => string.Empty,
+                };
+                html.Raw("<li>").Text("Residuals (subject × cell, after subjects and group × cell means): Shapiro–Wilk W = ").Raw(V(sw[Stat.W])).Text(", p = ").Raw(V(sw[Stat.P]))
+                    .Text($" — {verdict}{next}.").Raw("</li>");
+            }
+
             html.Raw("</ul>");
+        }
+
+        if (o.Friedman is { } fr)
+        {
+            var within = o.Within[0].Label;
+            var id = o.ImanDavenport!;
+            var f = new HtmlTable("repeated-friedman", $"Friedman rank test of {within} (subjects as blocks, {fr[Stat.NBlocks].Value.Value.ToString(CultureInfo.InvariantCulture)} complete subjects)", ["Test", "statistic", "df", "p", "Kendall's W"]);
+            f.Row("Friedman χ²", [V(fr[Stat.Chi2]), V(fr[Stat.Df]), V(fr[Stat.P]), V(fr[Stat.KendallW])]);
+            f.Row("Iman–Davenport F", [V(id[Stat.F]), V(id[Stat.Df1]) + ", " + V(id[Stat.Df2]), V(id[Stat.P]), string.Empty]);
+            f.WriteTo(html);
+            var ranks = new HtmlTable("repeated-mean-ranks", $"Mean rank of each level of {within} within subjects", ["Level", "mean rank"]);
+            foreach (var (level, rank) in o.MeanRanks)
+            {
+                ranks.Row(BidiText.Isolate(level), [V(rank)]);
+            }
+
+            ranks.WriteTo(html);
+            if (o.RankPairs.Count > 0)
+            {
+                var cp = new HtmlTable("repeated-rank-pairs", $"Conover's comparisons of mean ranks of {within} (Holm-adjusted)", ["Pair", "mean-rank difference", "SE", "t", "adjusted p"]);
+                foreach (var c in o.RankPairs)
+                {
+                    var v = c.Values;
+                    cp.Row(BidiText.Isolate(c.A) + " − " + BidiText.Isolate(c.B), [V(v[Stat.Diff]), V(v[Stat.Se]), V(v[Stat.Statistic]), V(v[Stat.PAdj])]);
+                }
+
+                cp.WriteTo(html);
+            }
+
+            html.Raw("<p class=\"method\">").Text("Friedman's test ranks each complete subject's cell means across the levels (mid-ranks for ties; tie-corrected statistic, χ² on k − 1 df); Kendall's W = χ²/(n(k − 1)) measures how alike the subjects rank the levels; the Iman–Davenport F is the analysis of variance of those ranks and is usually closer to the exact distribution with few subjects."
+                + (o.RankPairs.Count > 0 ? " Conover's t compares mean ranks on the rank error term with (n − 1)(k − 1) df." : string.Empty)).Raw("</p>");
         }
 
         if (o.Mixed is { } mixed)
