@@ -98,6 +98,9 @@ public sealed class RepeatedOutcome(BoundBlock block) : BlockOutcome(block)
 
     public string SubjectLabel { get; init; } = string.Empty;
 
+    /// <summary>The subject factor's name (terms such as <c>B:subject(A)</c> use it).</summary>
+    public string SubjectName { get; init; } = string.Empty;
+
     /// <summary>Within factors (name, display label), in the block's order.</summary>
     public IReadOnlyList<(string Name, string Label)> Within { get; init; } = [];
 
@@ -508,6 +511,7 @@ public sealed class RepeatedEvaluator : KindEvaluator
             MeanRanks = ranks?.MeanRanks ?? [],
             RankPairs = ranks?.Pairs ?? [],
             SubjectLabel = o.Subject.Spec.Display,
+            SubjectName = o.Subject.Spec.Name,
             Within = [.. o.Within.Select(w => (w.Spec.Name, w.Spec.Display))],
             Between = [.. o.Between.Select(b => (b.Spec.Name, b.Spec.Display))],
             CorrectionAsked = o.Correction,

@@ -51,7 +51,37 @@ public sealed class RepeatedRenderer : KindRenderer
         };
     }
 
-    private static string Term(string term) => term.Replace(":", " × ", StringComparison.Ordinal);
+    /// <summary>
+    /// A term as the report prints it: each factor name replaced by its label (the header's
+    /// <c>label</c>, else the name) and ':' written as ' × '; an error term keeps its form
+    /// ("B × subject(A)" with labels in place of B, subject and A).
+    /// </summary>
+    private static string Term(RepeatedOutcome o, string term)
+    {
+        var labels = new Dictionary<string, string>(StringComparer.Ordinal) { [o.SubjectName] = o.SubjectLabel };
+        foreach (var (name, label) in o.Within.Concat(o.Between))
+        {
+            labels[name] = label;
+        }
+
+        var sb = new System.Text.StringBuilder();
+        var start = 0;
+        for (var i = 0; i <= term.Length; i++)
+        {
+            var ch = i < term.Length ? term[i] : '\0';
+            if (ch is not (':' or '(' or ')' or ',' or '\0'))
+            {
+                continue;
+            }
+
+            var name = term[start..i];
+            sb.Append(labels.TryGetValue(name, out var label) ? label : name);
+            sb.Append(ch switch { ':' => " × ", '\0' => string.Empty, _ => ch.ToString() });
+            start = i + 1;
+        }
+
+        return sb.ToString();
+    }
 
     public override IEnumerable<string> Methods(MethodsPart part, MethodsSection? section, BlockOutcome outcome, MethodsWriter w)
     {
@@ -75,7 +105,7 @@ public sealed class RepeatedRenderer : KindRenderer
                 var rule = o.CorrectionAsked == "auto"
                     ? $"Sphericity {w.T("was", "is")} checked with Mauchly's test for each within-subject term with more than two levels; where it {w.T("was", "is")} rejected at α = {w.AlphaText}, the Greenhouse–Geisser correction {w.T("was", "is")} read when its ε {w.T("was", "is")} below 0.75 and the Huynh–Feldt correction otherwise"
                     : $"The {CorrectionName(corrected[0].Correction)} correction {w.T("was", "is")} read for every within-subject term with more than two levels, as asked";
-                var read = string.Join("; ", corrected.Select(r => $"{MethodsWriter.E(Term(r.Term))}: {CorrectionName(r.Correction)}"));
+                var read = string.Join("; ", corrected.Select(r => $"{MethodsWriter.E(Term(o, r.Term))}: {CorrectionName(r.Correction)}"));
                 yield return $"{rule} ({read}).";
             }
         }
@@ -107,7 +137,7 @@ public sealed class RepeatedRenderer : KindRenderer
 
         if (o.Mixed is not null && o.Rows is not null && o.Mixed.Any(m => m.Agrees == false))
         {
-            yield return "The classical and mixed-model routes differ for " + string.Join(", ", o.Mixed.Where(m => m.Agrees == false).Select(m => BidiText.Isolate(Term(m.Term)))) + ": read both tables; the mixed model uses every measurement of the incomplete subjects.";
+            yield return "The classical and mixed-model routes differ for " + string.Join(", ", o.Mixed.Where(m => m.Agrees == false).Select(m => BidiText.Isolate(Term(o, m.Term)))) + ": read both tables; the mixed model uses every measurement of the incomplete subjects.";
         }
 
         if (o.RankReason == RankRouteReason.NormalityFailedNoRankForm)
@@ -190,11 +220,11 @@ public sealed class RepeatedRenderer : KindRenderer
                 if (r.Stratum != stratum)
                 {
                     stratum = r.Stratum;
-                    t.Row(r.IsWithin ? "Within subjects: " + Term(r.Stratum) : "Between subjects", [.. Enumerable.Repeat(string.Empty, 11)], "stratum");
+                    t.Row(r.IsWithin ? "Within subjects: " + Term(o, r.Stratum) : "Between subjects", [.. Enumerable.Repeat(string.Empty, 11)], "stratum");
                 }
 
                 var v = r.Values;
-                var name = r.IsEffect ? Term(r.Term) : "Error: " + Term(r.Term);
+                var name = r.IsEffect ? Term(o, r.Term) : "Error: " + Term(o, r.Term);
                 t.Row(name, [V(v[Stat.Ss]), V(v[Stat.Df]), V(v[Stat.Ms]), Opt(v, Stat.F), Opt(v, Stat.P), Opt(v, Stat.EpsilonGg), Opt(v, Stat.PGg), Opt(v, Stat.EpsilonHf), Opt(v, Stat.PHf), Opt(v, Stat.PartialEta2), Opt(v, Stat.GeneralizedEta2)], r.IsEffect ? null : "error");
             }
 
@@ -206,7 +236,7 @@ public sealed class RepeatedRenderer : KindRenderer
                 var m = new HtmlTable("mauchly", "Mauchly's test of sphericity", ["Within term", "W", "χ²", "df", "p"]);
                 foreach (var s in o.Mauchly)
                 {
-                    m.Row(Term(s.Term), [V(s.Values[Stat.W]), V(s.Values[Stat.Chi2]), V(s.Values[Stat.Df]), V(s.Values[Stat.P])]);
+                    m.Row(Term(o, s.Term), [V(s.Values[Stat.W]), V(s.Values[Stat.Chi2]), V(s.Values[Stat.Df]), V(s.Values[Stat.P])]);
                 }
 
                 m.WriteTo(html);
@@ -215,7 +245,7 @@ public sealed class RepeatedRenderer : KindRenderer
             html.Raw("<ul class=\"decisions\">");
             foreach (var r in o.Readings)
             {
-                html.Raw("<li>").Text($"{Term(r.Term)}: {CorrectionName(r.Correction)} test read — {Why(r, context.AlphaText)}.").Raw("</li>");
+                html.Raw("<li>").Text($"{Term(o, r.Term)}: {CorrectionName(r.Correction)} test read — {Why(r, context.AlphaText)}.").Raw("</li>");
             }
 
             if (o.Normality is { } sw)
@@ -280,7 +310,7 @@ public sealed class RepeatedRenderer : KindRenderer
                     cells.Add(r.Agrees switch { true => "yes", false => "no", _ => string.Empty });
                 }
 
-                m.Row(Term(r.Term), cells);
+                m.Row(Term(o, r.Term), cells);
             }
 
             m.WriteTo(html);
@@ -308,7 +338,7 @@ public sealed class RepeatedRenderer : KindRenderer
             var s = new HtmlTable("simple-effects", "Simple effects (one-way repeated-measures analysis within each group, own error term)", ["Effect", "subjects", "df", "F", "df (denominator)", "p", "ε GG", "p (GG)", "ε HF", "p (HF)", "generalized η²", "read"]);
             foreach (var e in o.Simple)
             {
-                var head = $"{e.Within} at {e.Between} {e.Level}";
+                var head = $"{Term(o, e.Within)} at {Term(o, e.Between)} {e.Level}";
                 if (e.Values is not { } v)
                 {
                     s.Row(head, [e.Subjects.ToString(CultureInfo.InvariantCulture), HtmlWriter.Escape("not analysed: " + e.NotAnalysed), .. Enumerable.Repeat(string.Empty, 10)]);
@@ -358,8 +388,8 @@ public sealed class RepeatedRenderer : KindRenderer
             }
 
             parts.Add(p.Value < context.Alpha
-                ? $"{Term(r.Term)} rejects the hypothesis of no effect"
-                : $"{Term(r.Term)} does not reject it (not evidence of no effect)");
+                ? $"{Term(o, r.Term)} rejects the hypothesis of no effect"
+                : $"{Term(o, r.Term)} does not reject it (not evidence of no effect)");
         }
 
         return parts.Count == 0 ? string.Empty : $"At α = {context.AlphaText}, reading the test the sphericity decision names: " + string.Join("; ", parts) + ".";
