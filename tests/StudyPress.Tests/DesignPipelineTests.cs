@@ -402,15 +402,17 @@ factors:
     [Fact]
     public void MixedModelBeyondItsSize_IsOneErrorAtTheBlock_WithoutFitting()
     {
-        // 8 blocks × 5 whole plots × 20 sub-plots × 2 readings, one reading missing: the REML model
-        // would have 800 sub-plot levels alone (fixture data; only the refusal is checked).
+        // 200 blocks × 5 whole plots × 2 sub-plots × 2 readings, one reading missing: the REML fit
+        // absorbs the 2000 sub-plot levels but would keep 1210 columns dense (10 fixed-effect
+        // columns, 200 blocks, 1000 whole plots), beyond its bound of 1000 (fixture data; only the
+        // refusal is checked).
         var sb = new System.Text.StringBuilder("block,irrigation,variety,y\n");
         var k = 0;
-        for (var b = 0; b < 8; b++)
+        for (var b = 0; b < 200; b++)
         {
             for (var i = 0; i < 5; i++)
             {
-                for (var v = 0; v < 20; v++)
+                for (var v = 0; v < 2; v++)
                 {
                     for (var r = 0; r < 2; r++)
                     {
@@ -426,7 +428,7 @@ factors:
         using var run = Study("big.csv", sb.ToString(), "response: y\nfactors:\n  block:\n    role: block\n  irrigation:\n    plot: whole\n  variety:\n    plot: sub", "```anova main\n```");
         var d = Assert.Single(run.Compile().Diagnostics);
         Assert.Equal("SP0398", d.Code);
-        Assert.Contains("800 levels of sub-plot error", d.Message, StringComparison.Ordinal);
+        Assert.Contains("keeps 1210 columns dense (10 fixed-effect columns and 200 levels of block, 1000 levels of whole-plot error; the 2000 levels of sub-plot error are absorbed), more than the 1000", d.Message, StringComparison.Ordinal);
     }
 
     [Theory]

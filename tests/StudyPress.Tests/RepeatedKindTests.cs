@@ -251,16 +251,18 @@ factors: [{factors}]
     }
 
     /// <summary>3000 subjects × 3 conditions (deterministic values), optionally without subject 1's third measurement.</summary>
+    // 600 subjects × 2 × 2 conditions: the mixed model absorbs subject × A and keeps subject and
+    // subject × B dense, 600 × 3 + 4 = 1804 columns, beyond its bound of 1000.
     private static string Many(bool dropOne)
     {
-        var sb = new System.Text.StringBuilder("subject,condition,y\n");
-        for (var s = 1; s <= 3000; s++)
+        var sb = new System.Text.StringBuilder("subject,a,b,y\n");
+        for (var s = 1; s <= 600; s++)
         {
-            for (var l = 0; l < 3; l++)
+            for (var l = 0; l < 4; l++)
             {
-                if (!(dropOne && s == 1 && l == 2))
+                if (!(dropOne && s == 1 && l == 3))
                 {
-                    sb.Append(CultureInfo.InvariantCulture, $"{s},{(char)('a' + l)},{((s * 7) + (l * 3)) % 11 + l}\n");
+                    sb.Append(CultureInfo.InvariantCulture, $"{s},{(char)('a' + (l / 2))},{(char)('x' + (l % 2))},{((s * 7) + (l * 3)) % 11 + l}\n");
                 }
             }
         }
@@ -271,23 +273,45 @@ factors: [{factors}]
     [Fact]
     public void MixedModelTooLarge_Reml_IsOneErrorAtFit()
     {
-        // (9000 + 3000) × (3000 + 3 + 1) numbers exceed the 2^22 cap: refused before any allocation.
-        using var run = Run(Many(false), "subject, condition", "subject: subject\nwithin: condition\nfit: reml");
+        // Refused before anything is built.
+        using var run = Run(Many(false), "subject, a, b", "subject: subject\nwithin: [a, b]\nfit: reml");
         var d = run.SingleError("SP0515", 11);
-        Assert.Contains("working matrix", d.Message, StringComparison.Ordinal);
+        Assert.Contains("keeps 1804 columns dense, more than the 1000", d.Message, StringComparison.Ordinal);
     }
 
     [Fact]
     public void MixedModelTooLarge_Auto_ClassicalRouteStands_AndSaysWhy()
     {
-        using var run = Run(Many(true), "subject, condition", "subject: subject\nwithin: condition");
+        using var run = Run(Many(true), "subject, a, b", "subject: subject\nwithin: [a, b]");
         var result = run.Compile();
         Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
         var m = new ManifestView(result.ManifestJson!);
-        Assert.Equal(2999, m.Get("r", "subjects", null, "n"));
+        Assert.Equal(599, m.Get("r", "subjects", null, "n"));
         Assert.Empty(m.Find("r", "anova_reml", null, "n"));
-        Assert.Contains("The mixed-model route was not fitted: 8999 measurements of 3000 subjects need a working matrix", result.Html, StringComparison.Ordinal);
-        Assert.Contains("the first 200 of 2999 complete subjects, in file order", result.Html, StringComparison.Ordinal);
+        Assert.Contains("The mixed-model route was not fitted: 2399 measurements of 600 subjects need a mixed model that keeps 1804 columns dense", result.Html, StringComparison.Ordinal);
+        Assert.Contains("the first 200 of 599 complete subjects, in file order", result.Html, StringComparison.Ordinal);
+    }
+
+    // 3000 subjects × 3 conditions (9000 measurements): refused before (a dense working matrix of
+    // 12000 × 3004 numbers, over 2^22); the REML fit now absorbs the subjects and keeps the 3
+    // fixed-effect columns dense.
+    [Fact]
+    public void ThousandsOfSubjects_Reml_Fits()
+    {
+        var sb = new System.Text.StringBuilder("subject,condition,y\n");
+        for (var s = 1; s <= 3000; s++)
+        {
+            for (var l = 0; l < 3; l++)
+            {
+                sb.Append(CultureInfo.InvariantCulture, $"{s},{(char)('a' + l)},{((s * 7) + (l * 3)) % 11 + l}\n");
+            }
+        }
+
+        using var run = Run(sb.ToString(), "subject, condition", "subject: subject\nwithin: condition\nfit: reml");
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        var m = new ManifestView(result.ManifestJson!);
+        Assert.Equal(3000, m.Get("r", "anova_reml", null, "n")); // subjects
     }
 
     [Fact]

@@ -89,7 +89,7 @@ public enum DesignIssueKind
     /// <summary>A label of a nested factor occurs under two levels of its parent (when labels are meant to be unique).</summary>
     ContradictoryNesting,
 
-    /// <summary>The mixed model has more columns than the REML fit takes (<see cref="MixedModel.MaxColumns"/>).</summary>
+    /// <summary>The mixed model keeps more columns dense than the REML fit takes (<see cref="MixedModel.MaxDenseColumns"/>, <see cref="MixedModel.MaxAbsorbWork"/>).</summary>
     TooLarge,
 }
 

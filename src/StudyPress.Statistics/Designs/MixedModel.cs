@@ -1,5 +1,6 @@
 using System.Globalization;
 using MathNet.Numerics.LinearAlgebra;
+using MathNet.Numerics.LinearAlgebra.Factorization;
 
 namespace StudyPress.Statistics.Designs;
 
@@ -61,11 +62,21 @@ public sealed record RemlResult(
 /// errors are random effects with one variance each; the finest term that identifies single
 /// observations is the residual.
 /// <para>
-/// Model y = Xβ + Σ Z_r u_r + e, V = σ²_e I + Σ σ²_r Z_r Z_r'. Every quantity comes from one
-/// Householder QR of the augmented matrix [Z Λ, X; I, 0] (Λ = diag √(σ²_r/σ²_e); the penalized
-/// least-squares form of Bates et al. 2015, "Fitting linear mixed-effects models using lme4",
-/// J. Stat. Softw. 67(1)): with Q₁ its first n rows, σ²_e P = I − Q₁Q₁'; log|H| and log|X'H⁻¹X|
-/// from the diagonal of R; Cov(β̂) = σ²_e (R_XX'R_XX)⁻¹. No normal equations are formed.
+/// Model y = Xβ + Σ Z_r u_r + e, V = σ²_e I + Σ σ²_r Z_r Z_r'. The penalized least-squares
+/// system of Bates et al. (2015, "Fitting linear mixed-effects models using lme4", J. Stat. Softw.
+/// 67(1)), M = [ΛZ'ZΛ + I, ΛZ'X; X'ZΛ, X'X] with Λ = diag √(σ²_r/σ²_e), is solved without forming
+/// it: the random term with the most levels has a diagonal block, so its levels are eliminated one
+/// by one through A₁ = (I + γ Z_big Z_big')⁻¹ (block diagonal over its levels: I − γ/(1 + γ n_j) 11'),
+/// leaving a dense Cholesky factor of S = R̃'A₁R̃ + diag(I, 0), R̃ = [Z_rest Λ_rest, X], whose order
+/// is the fixed-effect columns plus the other terms' levels (<see cref="MaxDenseColumns"/>).
+/// Then σ²_e P = A₁ − U S⁻¹U' with U = A₁R̃; log|M| = Σ log(1 + γ n_j) + log|S|;
+/// Cov(β̂) = σ²_e [S⁻¹]_XX. Every trace the scores and information need is written with
+/// T'A₁ᵏT (T = [Z_rest X y]; k = 1, 2, 3) and weighted sums over the big term's levels, so no
+/// n × n matrix and no matrix over the big term's levels is formed; these cross-products are
+/// accumulated as within-level sums plus positive level terms, so nothing near-equal is subtracted.
+/// On the designs checked (the tests' and sets of unbalanced nested, split-plot and crossed
+/// layouts) the results equal those of a dense QR of the whole augmented matrix, the previous
+/// implementation, to 1e-9.
 /// </para>
 /// <para>
 /// Estimation by Fisher scoring on (σ²_r, σ²_e) (Harville 1977, "Maximum likelihood approaches to
@@ -92,12 +103,20 @@ public static class MixedModel
     private const int MaxIterations = 500;
 
     /// <summary>
-    /// Most columns (fixed-effect columns plus random-effect levels) the REML fit takes: it
-    /// factorizes a dense matrix of that many columns at every iteration, so time grows with the
-    /// cube (measured on the project's 2-core machine: 290 columns about 3 s, 610 columns about
-    /// 45 s in a debug build). Larger models are refused with a <see cref="DesignIssueKind.TooLarge"/> issue.
+    /// Most columns the REML fit keeps dense: the fixed-effect columns plus the levels of every
+    /// random term except the one with the most levels (which is absorbed level by level, see
+    /// <see cref="FitReml"/>). Each iteration factorizes and multiplies matrices of that order, so
+    /// time grows with its cube and memory with its square (about 15 such matrices: 120 MB at the
+    /// bound). Larger models are refused with a <see cref="DesignIssueKind.TooLarge"/> issue.
     /// </summary>
-    public const int MaxColumns = 600;
+    public const int MaxDenseColumns = 1000;
+
+    /// <summary>
+    /// Most work of absorbing the largest random term, counted as Σ_j w_j² over its levels j (w_j
+    /// the dense columns that level's rows touch); each iteration does this a few times, so time
+    /// and the stored level sums stay bounded. Larger models are refused with a <see cref="DesignIssueKind.TooLarge"/> issue.
+    /// </summary>
+    public const long MaxAbsorbWork = 200_000_000;
 
     /// <summary>The first problem with the declaration or data for the mixed model, or null.</summary>
     public static DesignIssue? Check(IReadOnlyList<DesignFactor> factors, DesignData data)
@@ -220,13 +239,43 @@ public static class MixedModel
         }
 
         var p = columns.Count;
-        var width = p + random.Sum(r => r.Item4);
-        if (width > MaxColumns)
+        // The same choice as Arrange: the random term with the most levels (the first on ties) is absorbed.
+        var big = -1;
+        for (var t = 0; t < random.Count; t++)
+        {
+            if (big < 0 || random[t].Item4 > random[big].Item4)
+            {
+                big = t;
+            }
+        }
+
+        var others = random.Where((_, i) => i != big).ToList();
+        var dense = p + others.Sum(r => r.Item4);
+        if (dense > MaxDenseColumns)
         {
             return new DesignIssue(
                 DesignIssueKind.TooLarge,
-                string.Create(CultureInfo.InvariantCulture, $"the mixed model of these data has {width} columns ({p} fixed-effect columns and {string.Join(", ", random.Select(r => r.Item4 + " levels of " + r.Item1))}), more than the {MaxColumns} this version fits: its dense factorization grows with the cube of that number"),
-                [.. random.OrderByDescending(r => r.Item4).Take(1).Select(r => r.Item1)]);
+                string.Create(CultureInfo.InvariantCulture, $"the mixed model of these data keeps {dense} columns dense ({p} fixed-effect columns and {string.Join(", ", others.Select(r => r.Item4 + " levels of " + r.Item1))}; the {random[big].Item4} levels of {random[big].Item1} are absorbed), more than the {MaxDenseColumns} this version fits: its time grows with the cube of that number"),
+                [.. others.OrderByDescending(r => r.Item4).Take(1).Select(r => r.Item1)]);
+        }
+
+        if (big >= 0)
+        {
+            var perCell = new int[random[big].Item4];
+            foreach (var c in random[big].Item3)
+            {
+                perCell[c]++;
+            }
+
+            var qr = dense - p;
+            var work = perCell.Sum(c => Math.Pow(Math.Min((long)c * (random.Count - 1), qr) + p + 1, 2));
+            if (work > MaxAbsorbWork)
+            {
+                return new DesignIssue(
+                    DesignIssueKind.TooLarge,
+                    string.Create(CultureInfo.InvariantCulture, $"the mixed model of these data absorbs {random[big].Item4} levels of {random[big].Item1} against {dense} dense columns ({p} fixed-effect columns), about {work:0.#e0} operations per step, more than the {MaxAbsorbWork:0.#e0} this version does"),
+                    [random[big].Item1]);
+            }
         }
 
         if (n - p < 1)
@@ -258,14 +307,193 @@ public static class MixedModel
         return null;
     }
 
+    /// <summary>
+    /// The fixed cross-products of the data, arranged for the fit. The random term with the most
+    /// levels ("big") is absorbed cell by cell; every other column (the levels of the other random
+    /// terms, the fixed-effect columns and the response: T = [Z_rest X y], width w) is kept dense.
+    /// </summary>
+    private sealed class Layout
+    {
+        public required int N { get; init; }
+        public required int P { get; init; }
+        public required int Big { get; init; }                 // index into Setup.Random, or −1
+        public required int[] Rest { get; init; }              // the other random terms, in order
+        public required int[] RestStart { get; init; }         // first z-column of each (by Setup.Random index)
+        public required int Qr { get; init; }                  // z-columns kept dense
+        public required int W { get; init; }                   // Qr + P + 1
+        public required double[] Within { get; init; }         // T'T − Σ_j (T'1_j)(T'1_j)'/n_j, W × W row-major
+        public required int[] BigCount { get; init; }          // rows in each big cell
+        public required int[][] SIdx { get; init; }            // T'1_j: column indices (ascending) ...
+        public required double[][] SVal { get; init; }         // ... and values, per big cell j
+        public required double[] Y { get; init; }              // centred response
+    }
+
+    private static Layout Arrange(Setup s, double[] y)
+    {
+        var x = s.X;
+        var n = x.RowCount;
+        var p = x.ColumnCount;
+        var m = s.Random.Count;
+        var big = -1;
+        for (var r = 0; r < m; r++)
+        {
+            if (big < 0 || s.Random[r].Cells > s.Random[big].Cells)
+            {
+                big = r;
+            }
+        }
+
+        var rest = Enumerable.Range(0, m).Where(r => r != big).ToArray();
+        var restStart = new int[m];
+        var qr = 0;
+        foreach (var r in rest)
+        {
+            restStart[r] = qr;
+            qr += s.Random[r].Cells;
+        }
+
+        var w = qr + p + 1;
+        var xr = x.ToRowArrays();
+        var cells = big < 0 ? 0 : s.Random[big].Cells;
+        var count = new int[cells];
+        var zs = new SortedDictionary<int, double>[cells];
+        var dense = new double[cells][];
+        for (var j = 0; j < cells; j++)
+        {
+            zs[j] = [];
+            dense[j] = new double[p + 1];
+        }
+
+        for (var i = 0; i < n && big >= 0; i++)
+        {
+            var j = s.Random[big].CellOf[i];
+            count[j]++;
+            foreach (var r in rest)
+            {
+                var col = restStart[r] + s.Random[r].CellOf[i];
+                zs[j][col] = zs[j].GetValueOrDefault(col) + 1;
+            }
+
+            for (var c = 0; c < p; c++)
+            {
+                dense[j][c] += xr[i][c];
+            }
+
+            dense[j][p] += y[i];
+        }
+
+        var sIdx = new int[cells][];
+        var sVal = new double[cells][];
+        for (var j = 0; j < cells; j++)
+        {
+            sIdx[j] = [.. zs[j].Keys, .. Enumerable.Range(qr, p + 1)];
+            sVal[j] = [.. zs[j].Values, .. dense[j]];
+        }
+
+        // Σ_i (t_i − t̄_j)(t_i − t̄_j)' over the rows (t̄_j the mean of the row's big cell, or 0
+        // without a big term): the within-cell cross-products, a sum of outer products, so that
+        // absorbing the big cells later adds positive terms instead of subtracting near-equal ones.
+        var within = new double[(long)w * w];
+        var zRow = new int[rest.Length];
+        for (var i = 0; i < n; i++)
+        {
+            for (var t = 0; t < rest.Length; t++)
+            {
+                zRow[t] = restStart[rest[t]] + s.Random[rest[t]].CellOf[i];
+            }
+
+            int[] idx;
+            double[] dev;
+            if (big >= 0)
+            {
+                var j = s.Random[big].CellOf[i];
+                idx = sIdx[j];
+                dev = [.. sVal[j].Select(v => -v / count[j])];
+                foreach (var col in zRow)
+                {
+                    dev[Array.BinarySearch(idx, 0, idx.Length - p - 1, col)] += 1;
+                }
+
+                for (var c = 0; c < p; c++)
+                {
+                    dev[idx.Length - p - 1 + c] += xr[i][c];
+                }
+
+                dev[idx.Length - 1] += y[i];
+            }
+            else
+            {
+                idx = [.. zRow, .. Enumerable.Range(qr, p + 1)];
+                dev = [.. zRow.Select(_ => 1.0), .. xr[i], y[i]];
+            }
+
+            for (var a = 0; a < idx.Length; a++)
+            {
+                var baseA = (long)idx[a] * w;
+                for (var b = 0; b < idx.Length; b++)
+                {
+                    within[baseA + idx[b]] += dev[a] * dev[b];
+                }
+            }
+        }
+
+        return new Layout
+        {
+            N = n,
+            P = p,
+            Big = big,
+            Rest = rest,
+            RestStart = restStart,
+            Qr = qr,
+            W = w,
+            Within = within,
+            BigCount = count,
+            SIdx = sIdx,
+            SVal = sVal,
+            Y = y,
+        };
+    }
+
+    /// <summary>Σ_j weight_j (T'1_j)(T'1_j)', added to the within-cell cross-products when <paramref name="within"/>.</summary>
+    private static double[] Absorb(Layout l, double[] weight, bool within)
+    {
+        var w = l.W;
+        var res = within ? (double[])l.Within.Clone() : new double[(long)w * w];
+        for (var j = 0; j < l.SIdx.Length; j++)
+        {
+            var wj = weight[j];
+            if (wj == 0)
+            {
+                continue;
+            }
+
+            var idx = l.SIdx[j];
+            var val = l.SVal[j];
+            for (var a = 0; a < idx.Length; a++)
+            {
+                var va = wj * val[a];
+                var baseA = (long)idx[a] * w;
+                for (var b = 0; b < idx.Length; b++)
+                {
+                    res[baseA + idx[b]] += va * val[b];
+                }
+            }
+        }
+
+        return res;
+    }
+
     private sealed class State
     {
         public required double LogLik { get; init; }
-        public required Matrix<double> Q1 { get; init; }
-        public required Matrix<double> Q2 { get; init; }
-        public required Matrix<double> R { get; init; }
-        public required Vector<double> Py { get; init; }
-        public required Vector<double> B { get; init; }
+        public required double[] Phi { get; init; }
+        public required double[] Scale { get; init; }          // d: λ of each dense z-column, 1 for X and y
+        public required double[] X1 { get; init; }            // 1 / (1 + γ_big n_j)
+        public required double[] A1 { get; init; }            // γ_big / (1 + γ_big n_j)
+        public required double[] K1 { get; init; }            // T'A₁T (unscaled)
+        public required Cholesky<double> Chol { get; init; }   // of S = d K1 d + diag(I_z, 0) over the first k columns
+        public required double[] Theta { get; init; }         // [b_rest; β]
+        public required double[] Residual { get; init; }      // y − Xβ̂ − Zû (σ²_e P y)
     }
 
     private static RemlResult Fit(Setup s, double[] yArr)
@@ -274,137 +502,302 @@ public static class MixedModel
         var n = x.RowCount;
         var p = x.ColumnCount;
         var m = s.Random.Count;
-        var q = s.Random.Sum(t => t.Cells);
         var yMean = Groups.Mean(yArr);
-        var y = Vector<double>.Build.Dense(n, i => yArr[i] - yMean); // REML is shift-invariant (intercept in X)
-
-        // Every quantity depends on [Z X y] only through its cross-products, so the n rows are
-        // replaced once by the R factor T of its QR (T'T = [Z X y]'[Z X y]); later QRs are of size q + p + 1.
-        var zStart = new int[m];
-        for (var r = 1; r < m; r++)
+        var yc = new double[n];
+        for (var i = 0; i < n; i++)
         {
-            zStart[r] = zStart[r - 1] + s.Random[r - 1].Cells;
+            yc[i] = yArr[i] - yMean; // REML is shift-invariant (intercept in X)
         }
 
-        var a0 = Matrix<double>.Build.Dense(n, q + p + 1);
-        for (var r = 0; r < m; r++)
+        var y = Vector<double>.Build.DenseOfArray(yc);
+        var l = Arrange(s, yc);
+        var qr = l.Qr;
+        var k = qr + p;
+        var w = l.W;
+        var big = l.Big;
+        var cells = l.BigCount.Length;
+        var xr = x.ToRowArrays();
+
+        Matrix<double> Block(double[] flat, int r0, int rows, int c0, int cols, double[]? dr, double[]? dc) =>
+            Matrix<double>.Build.Dense(rows, cols, (i, j) => flat[((long)(r0 + i) * w) + c0 + j] * (dr is null ? 1 : dr[r0 + i]) * (dc is null ? 1 : dc[c0 + j]));
+
+        // With V = σ²_e (I + Σ γ_r Z_r Z_r') and A₁ = (I + γ_big Z_big Z_big')⁻¹ (block diagonal over
+        // the big cells: I − a_j 11' in cell j), the penalized system of Bates et al. (2015) reduces,
+        // by eliminating the big levels (a diagonal block), to S = R̃'A₁R̃ + diag(I, 0) over
+        // R̃ = [Z_rest Λ_rest, X]; σ²_e P = A₁ − U S⁻¹ U' with U = A₁R̃.
+        State? Eval(double[] phi)
         {
-            for (var i = 0; i < n; i++)
+            if (!phi.All(double.IsFinite))
             {
-                a0[i, zStart[r] + s.Random[r].CellOf[i]] = 1;
+                return null;
             }
-        }
 
-        a0.SetSubMatrix(0, q, x);
-        a0.SetColumn(q + p, y);
-        var tm = n > q + p + 1 ? a0.QR(MathNet.Numerics.LinearAlgebra.Factorization.QRMethod.Thin).R : a0;
-        var rowsT = tm.RowCount;
-        var tz = Enumerable.Range(0, m).Select(r => tm.SubMatrix(0, rowsT, zStart[r], s.Random[r].Cells)).ToList();
-        var tx = tm.SubMatrix(0, rowsT, q, p);
-        var ty = tm.Column(q + p);
-
-        State Eval(double[] phi)
-        {
             var se = phi[m];
-            var a = Matrix<double>.Build.Dense(rowsT + q, q + p + 1);
-            for (var r = 0; r < m; r++)
+            var scale = new double[w];
+            foreach (var r in l.Rest)
             {
                 var lam = Math.Sqrt(phi[r] / se);
-                a.SetSubMatrix(0, zStart[r], tz[r] * lam);
-            }
-
-            a.SetSubMatrix(0, q, tx);
-            a.SetSubMatrix(0, q + p, ty.ToColumnMatrix());
-            for (var j = 0; j < q; j++)
-            {
-                a[rowsT + j, j] = 1;
-            }
-
-            var qr = a.QR(MathNet.Numerics.LinearAlgebra.Factorization.QRMethod.Thin);
-            var qm = qr.Q;
-            var rm = qr.R;
-            var k = q + p;
-            var prss = rm[k, k] * rm[k, k];
-            double logH = 0, logX = 0;
-            for (var j = 0; j < q; j++)
-            {
-                logH += 2 * Math.Log(Math.Abs(rm[j, j]));
-            }
-
-            for (var j = q; j < k; j++)
-            {
-                logX += 2 * Math.Log(Math.Abs(rm[j, j]));
-            }
-
-            var ll = -0.5 * (((n - p) * Math.Log(2 * Math.PI * se)) + logH + logX + (prss / se));
-            var r0 = rm.SubMatrix(0, k, 0, k);
-            var qty = rm.Column(k).SubVector(0, k);
-            var q1 = qm.SubMatrix(0, rowsT, 0, k);
-            return new State
-            {
-                LogLik = ll,
-                Q1 = q1,
-                Q2 = qm.SubMatrix(rowsT, q, 0, k),
-                R = r0,
-                Py = (ty - (q1 * qty)) / se, // in T's rows: T_Z' Py = Z' P y
-                B = r0.Solve(qty),
-            };
-        }
-
-        // Z_r' Z_t: counts of the cell pairs (exact, from the data).
-        Matrix<double> ZtZ(int r, int t)
-        {
-            var res = Matrix<double>.Build.Dense(s.Random[r].Cells, s.Random[t].Cells);
-            for (var i = 0; i < n; i++)
-            {
-                res[s.Random[r].CellOf[i], s.Random[t].CellOf[i]] += 1;
-            }
-
-            return res;
-        }
-
-        var ztz = new Matrix<double>[m, m];
-        for (var r = 0; r < m; r++)
-        {
-            for (var t = 0; t <= r; t++)
-            {
-                ztz[r, t] = ZtZ(r, t);
-            }
-        }
-
-        // With K = Q₁Q₁' (σ²_e P = I − K) and G_r = Q₁'Z_r: σ²_e Z_r'PZ_t = Z_r'Z_t − G_r'G_t,
-        // σ⁴_e ||PZ_r||² = n − 2||G_r||² + tr(G_r'(Q₁'Q₁)G_r), σ²_e tr(PV_r) = n − ||G_r||²,
-        // σ⁴_e tr(P²) = n − 2||Q₁||² + ||Q₁'Q₁||², with Q₁'Q₁ = I − Q₂'Q₂ (Q₂ the last q rows of Q).
-        (double[] G, Matrix<double> Info) ScoreInfo(State st, double[] phi)
-        {
-            var se = phi[m];
-            var gmat = tz.Select(t => st.Q1.TransposeThisAndMultiply(t)).ToList(); // (q+p) x cells
-            var q1q1 = Matrix<double>.Build.DenseIdentity(q + p) - st.Q2.TransposeThisAndMultiply(st.Q2);
-            var g = new double[m + 1];
-            var info = Matrix<double>.Build.Dense(m + 1, m + 1);
-            for (var r = 0; r < m; r++)
-            {
-                var zpy = tz[r].TransposeThisAndMultiply(st.Py);
-                var gn = gmat[r].FrobeniusNorm();
-                var trPV = (n - (gn * gn)) / se;
-                g[r] = 0.5 * (zpy.DotProduct(zpy) - trPV);
-                for (var t = 0; t <= r; t++)
+                for (var c = 0; c < s.Random[r].Cells; c++)
                 {
-                    var zpz = (ztz[r, t] - gmat[r].TransposeThisAndMultiply(gmat[t])) / se;
-                    var fn = zpz.FrobeniusNorm();
-                    info[r, t] = info[t, r] = 0.5 * fn * fn;
+                    scale[l.RestStart[r] + c] = lam;
+                }
+            }
+
+            for (var c = qr; c < w; c++)
+            {
+                scale[c] = 1;
+            }
+
+            var gBig = big < 0 ? 0 : phi[big] / se;
+            var lamBig = Math.Sqrt(gBig);
+            var x1 = new double[cells];
+            var a1 = new double[cells];
+            var logH = 0.0;
+            for (var j = 0; j < cells; j++)
+            {
+                var d = 1 + (gBig * l.BigCount[j]);
+                x1[j] = 1 / d;
+                a1[j] = gBig / d;
+                logH += Math.Log(d);
+            }
+
+            var k1 = Absorb(l, [.. x1.Select((v, j) => v / l.BigCount[j])], within: true); // T'T − Σ a_j s_j s_j' = within + Σ (x_j/n_j) s_j s_j'
+            var sm = Block(k1, 0, k, 0, k, scale, scale);
+            for (var c = 0; c < qr; c++)
+            {
+                sm[c, c] += 1;
+            }
+
+            Cholesky<double> chol;
+            try
+            {
+                chol = sm.Cholesky();
+            }
+            catch (ArgumentException)
+            {
+                return null; // a trial point too extreme to factorize (an infinite or huge step): rejected, the step is halved
+            }
+            var rhs = Vector<double>.Build.Dense(k, i => scale[i] * k1[((long)i * w) + k]);
+            var theta = chol.Solve(rhs).ToArray();
+            for (var c = 0; c < k; c++)
+            {
+                logH += 2 * Math.Log(chol.Factor[c, c]);
+            }
+
+            // b_big = λ_big (1 + γ n_j)⁻¹ Z_big'(y − R̃θ), cell by cell.
+            var bBig = new double[cells];
+            for (var j = 0; j < cells; j++)
+            {
+                var idx = l.SIdx[j];
+                var val = l.SVal[j];
+                var sum = 0.0;
+                for (var a = 0; a < idx.Length; a++)
+                {
+                    sum += idx[a] == k ? val[a] : -val[a] * scale[idx[a]] * theta[idx[a]];
                 }
 
-                var quad = gmat[r].TransposeThisAndMultiply(q1q1 * gmat[r]).Trace();
-                info[r, m] = info[m, r] = 0.5 * (n - (2 * gn * gn) + quad) / (se * se);
+                bBig[j] = lamBig * x1[j] * sum;
             }
 
-            var qn = st.Q1.FrobeniusNorm();
-            var qtq = q1q1.FrobeniusNorm();
-            var trP = (n - (qn * qn)) / se;
-            var trPP = (n - (2 * qn * qn) + (qtq * qtq)) / (se * se);
-            g[m] = 0.5 * (st.Py.DotProduct(st.Py) - trP);
-            info[m, m] = 0.5 * trPP;
+            var e = new double[n];
+            var prss = 0.0;
+            for (var i = 0; i < n; i++)
+            {
+                var v = yc[i];
+                for (var c = 0; c < p; c++)
+                {
+                    v -= xr[i][c] * theta[qr + c];
+                }
+
+                foreach (var r in l.Rest)
+                {
+                    var col = l.RestStart[r] + s.Random[r].CellOf[i];
+                    v -= scale[col] * theta[col];
+                }
+
+                if (big >= 0)
+                {
+                    v -= lamBig * bBig[s.Random[big].CellOf[i]];
+                }
+
+                e[i] = v;
+                prss += v * v;
+            }
+
+            for (var c = 0; c < qr; c++)
+            {
+                prss += theta[c] * theta[c];
+            }
+
+            foreach (var b in bBig)
+            {
+                prss += b * b;
+            }
+
+            var ll = -0.5 * (((n - p) * Math.Log(2 * Math.PI * se)) + logH + (prss / se));
+            return new State { LogLik = ll, Phi = phi, Scale = scale, X1 = x1, A1 = a1, K1 = k1, Chol = chol, Theta = theta, Residual = e };
+        }
+
+        double[] CellSums(int r, double[] v)
+        {
+            var sums = new double[s.Random[r].Cells];
+            var cellOf = s.Random[r].CellOf;
+            for (var i = 0; i < n; i++)
+            {
+                sums[cellOf[i]] += v[i];
+            }
+
+            return sums;
+        }
+
+        static double Dot(double[] a) => a.Sum(v => v * v);
+
+        // tr(A B) of square matrices.
+        static double TrProd(Matrix<double> a, Matrix<double> b)
+        {
+            var t = 0.0;
+            for (var i = 0; i < a.RowCount; i++)
+            {
+                for (var j = 0; j < a.ColumnCount; j++)
+                {
+                    t += a[i, j] * b[j, i];
+                }
+            }
+
+            return t;
+        }
+
+        // Score ½(y'PV_rPy − tr PV_r) and expected information ½ tr(PV_rPV_s) (V_e = I), from
+        // Z_r'(σ²_e P)Z_s and traces of S⁻¹ against small cross-product matrices: no n × n or
+        // big × big matrix is formed.
+        (double[] G, Matrix<double> Info) ScoreInfo(State st)
+        {
+            var phi = st.Phi;
+            var se = phi[m];
+            var d = st.Scale;
+            var py = st.Residual.Select(v => v / se).ToArray();
+            var g = new double[m + 1];
+            var info = Matrix<double>.Build.Dense(m + 1, m + 1);
+            var x1 = st.X1;
+            var c2 = new double[cells]; // A₁² = I − Σ (1 − x_j²)/n_j 1_j1_j': T'A₁²T = within + Σ (x_j²/n_j) s_j s_j'
+            var c3 = new double[cells];
+            var wx2 = new double[cells];
+            var wx3 = new double[cells];
+            var wnx3 = new double[cells];
+            double trA1 = big < 0 ? n : 0, normA1 = big < 0 ? n : 0, bigTrace = 0, bigNorm = 0, bigNorm2 = 0;
+            for (var j = 0; j < cells; j++)
+            {
+                var nj = l.BigCount[j];
+                var xj = x1[j];
+                c2[j] = xj * xj / nj;
+                c3[j] = xj * xj * xj / nj;
+                wx2[j] = xj * xj;
+                wx3[j] = xj * xj * xj;
+                wnx3[j] = nj * wx3[j];
+                trA1 += nj - 1 + xj; // cell block I − a_j 11': trace n_j − a_j n_j, squared norm n_j − 2a_j n_j + a_j² n_j²
+                normA1 += nj - 1 + (xj * xj);
+                bigTrace += nj * xj;
+                bigNorm += nj * xj * nj * xj;
+                bigNorm2 += nj * xj * xj;
+            }
+
+            var k2 = Absorb(l, c2, within: true);
+            var k3 = Absorb(l, c3, within: true);
+            var uu = Block(k2, 0, k, 0, k, d, d);
+            var ua1u = Block(k3, 0, k, 0, k, d, d);
+            var sinv = st.Chol.Solve(Matrix<double>.Build.DenseIdentity(k));
+            var p1 = sinv * uu;
+
+            // Residual: σ²tr P = tr A₁ − tr(S⁻¹U'U); σ⁴||P||² = ||A₁||² − 2 tr(S⁻¹U'A₁U) + tr((S⁻¹U'U)²).
+            var trP = trA1 - p1.Trace();
+            var normP = normA1 - (2 * TrProd(sinv, ua1u)) + TrProd(p1, p1);
+            g[m] = 0.5 * (Dot(py) - (trP / se));
+            info[m, m] = 0.5 * normP / (se * se);
+
+            // Dense random terms: Z_r'(σ²P)Z_s = K1[r,s] − E_r'S⁻¹E_s, E = d K1[R, z].
+            Matrix<double>? h = null, uuh = null;
+            if (qr > 0)
+            {
+                var e1 = Block(st.K1, 0, k, 0, qr, d, null);
+                h = st.Chol.Solve(e1);
+                uuh = uu * h;
+                var qzz = Block(st.K1, 0, qr, 0, qr, null, null) - e1.TransposeThisAndMultiply(h);
+                foreach (var r in l.Rest)
+                {
+                    var r0 = l.RestStart[r];
+                    var rc = s.Random[r].Cells;
+                    var zpy = CellSums(r, py);
+                    var tr = 0.0;
+                    for (var c = r0; c < r0 + rc; c++)
+                    {
+                        tr += qzz[c, c];
+                    }
+
+                    g[r] = 0.5 * (Dot(zpy) - (tr / se));
+                    foreach (var t in l.Rest)
+                    {
+                        var t0 = l.RestStart[t];
+                        var fn = 0.0;
+                        for (var a = r0; a < r0 + rc; a++)
+                        {
+                            for (var b = t0; b < t0 + s.Random[t].Cells; b++)
+                            {
+                                fn += qzz[a, b] * qzz[a, b];
+                            }
+                        }
+
+                        info[r, t] = 0.5 * fn / (se * se);
+                    }
+
+                    // σ⁴||PZ_r||² = tr K2[r,r] − 2 tr(K2[r,R] d H_r) + tr(H_r'U'U H_r).
+                    var v = 0.0;
+                    for (var c = r0; c < r0 + rc; c++)
+                    {
+                        v += k2[((long)c * w) + c];
+                        for (var a = 0; a < k; a++)
+                        {
+                            v += (h[a, c] * uuh[a, c]) - (2 * k2[((long)c * w) + a] * d[a] * h[a, c]);
+                        }
+                    }
+
+                    info[r, m] = info[m, r] = 0.5 * v / (se * se);
+                }
+            }
+
+            if (big >= 0)
+            {
+                // Z_big'(σ²P)Z_big = Δ − G S⁻¹G', Δ = diag(n_j x_j), G = diag(x) Z_big'R̃.
+                var wt2 = Absorb(l, wx2, within: false);
+                var w2 = Block(wt2, 0, k, 0, k, d, d);
+                var w3 = Block(Absorb(l, wx3, within: false), 0, k, 0, k, d, d);
+                var wn3 = Block(Absorb(l, wnx3, within: false), 0, k, 0, k, d, d);
+                var p2 = sinv * w2;
+                var zpy = CellSums(big, py);
+                g[big] = 0.5 * (Dot(zpy) - ((bigTrace - p2.Trace()) / se));
+                info[big, big] = 0.5 * (bigNorm - (2 * TrProd(sinv, wn3)) + TrProd(p2, p2)) / (se * se);
+                info[big, m] = info[m, big] = 0.5 * (bigNorm2 - (2 * TrProd(sinv, w3)) + TrProd(p1, p2)) / (se * se);
+                if (qr > 0)
+                {
+                    var w2h = w2 * h!;
+                    foreach (var t in l.Rest)
+                    {
+                        // ||Z_big'(σ²P)Z_t||² = ||diag(x)(Z_big'Z_t − Z_big'R̃ H_t)||².
+                        var t0 = l.RestStart[t];
+                        var v = 0.0;
+                        for (var c = t0; c < t0 + s.Random[t].Cells; c++)
+                        {
+                            v += wt2[((long)c * w) + c];
+                            for (var a = 0; a < k; a++)
+                            {
+                                v += (h![a, c] * w2h[a, c]) - (2 * d[a] * wt2[((long)a * w) + c] * h[a, c]);
+                            }
+                        }
+
+                        info[big, t] = info[t, big] = 0.5 * v / (se * se);
+                    }
+                }
+            }
+
             return (g, info);
         }
 
@@ -413,14 +806,14 @@ public static class MixedModel
         var olsRes = y - (x * ols.Solve(y));
         var s2 = Math.Max(olsRes.DotProduct(olsRes) / (n - p), 1e-300);
         var phi = Enumerable.Repeat(s2 / (m + 1), m + 1).ToArray();
-        var state = Eval(phi);
+        var state = Eval(phi) ?? throw new InvalidOperationException("the starting values of the REML fit cannot be factorized");
         var converged = false;
         var iterations = 0;
         var active = new bool[m + 1]; // held at zero
         var confounded = false;
         for (; iterations < MaxIterations; iterations++)
         {
-            var (g, info) = ScoreInfo(state, phi);
+            var (g, info) = ScoreInfo(state);
             for (var r = 0; r < m; r++)
             {
                 active[r] = phi[r] == 0 && g[r] <= 0;
@@ -430,7 +823,8 @@ public static class MixedModel
             var sub = Matrix<double>.Build.Dense(free.Length, free.Length, (i, j) => info[free[i], free[j]]);
             var gv = Vector<double>.Build.Dense(free.Length, i => g[free[i]]);
             // The information is positive definite unless two variances are confounded in these
-            // data; then the minimum-norm least-squares step is taken (and reported below).
+            // data; then the minimum-norm least-squares step is taken (the pseudo-inverse, singular
+            // values below rounding treated as zero; reported below).
             Vector<double> step;
             try
             {
@@ -439,7 +833,7 @@ public static class MixedModel
             catch (ArgumentException)
             {
                 confounded = true;
-                step = sub.Svd().Solve(gv);
+                step = sub.PseudoInverse() * gv;
             }
 
             var scale = phi.Max();
@@ -447,7 +841,7 @@ public static class MixedModel
             double t = 1;
             double[] next = phi;
             State? nextState = null;
-            for (var h = 0; h < 60; h++)
+            for (var hv = 0; hv < 60; hv++)
             {
                 next = (double[])phi.Clone();
                 for (var i = 0; i < free.Length; i++)
@@ -457,7 +851,7 @@ public static class MixedModel
 
                 next[m] = Math.Max(next[m], scale * 1e-12);
                 nextState = Eval(next);
-                if (nextState.LogLik >= state.LogLik - (1e-13 * Math.Abs(state.LogLik)))
+                if (nextState is not null && nextState.LogLik >= state.LogLik - (1e-13 * Math.Abs(state.LogLik)))
                 {
                     break;
                 }
@@ -484,11 +878,11 @@ public static class MixedModel
         }
 
         // Final quantities.
-        var (_, infoF) = ScoreInfo(state, phi);
+        var (_, infoF) = ScoreInfo(state);
         var freeF = Enumerable.Range(0, m + 1).Where(i => i == m || phi[i] > 0).ToArray();
         var infoFree = Matrix<double>.Build.Dense(freeF.Length, freeF.Length, (i, j) => infoF[freeF[i], freeF[j]]);
         var invertible = infoFree.Svd().ConditionNumber < 1e12;
-        var cov = invertible ? infoFree.Inverse() : infoFree.Svd().Solve(Matrix<double>.Build.DenseIdentity(freeF.Length));
+        var cov = invertible ? infoFree.Inverse() : infoFree.PseudoInverse();
         confounded |= !invertible;
         var components = new List<RemlComponent>();
         for (var r = 0; r <= m; r++)
@@ -515,19 +909,86 @@ public static class MixedModel
             components.Add(new RemlComponent(name, kind, phi[r], phi[r] == 0, Quantity.Of(Math.Sqrt(phi[r])), se, nu, lo, hi));
         }
 
-        // Cov(β̂) = σ²_e (R_XX' R_XX)⁻¹ and its derivatives C X'V⁻¹ V_j V⁻¹ X C.
+        // Cov(β̂) = σ²_e [S⁻¹]_XX = σ²_e (L_XX L_XX')⁻¹ (L the Cholesky factor of S, X columns last).
         var sig = phi[m];
-        var rxx = state.R.SubMatrix(q, p, q, p);
-        var rinv = rxx.Inverse();
-        var cb = rinv * rinv.Transpose() * sig;
-        var qz = state.Q1.SubMatrix(0, rowsT, 0, q);
-        var vinvX = (tx - (qz * qz.TransposeThisAndMultiply(tx))) / sig;
-        var w = vinvX * cb; // in T's rows
+        var lxxInv = state.Chol.Factor.SubMatrix(qr, p, qr, p).Inverse();
+        var cb = lxxInv.TransposeThisAndMultiply(lxxInv) * sig;
+        var beta = Vector<double>.Build.Dense(p, i => state.Theta[qr + i]);
+
+        // V⁻¹X v = σ⁻²(A₁ − A₁Z̃(Z̃'A₁Z̃ + I)⁻¹Z̃'A₁)Xv, Z̃ = Z_rest Λ: S's leading block is Z̃'A₁Z̃ + I.
+        var bigCellOf = big >= 0 ? s.Random[big].CellOf : null;
+        var lzz = qr > 0 ? state.Chol.Factor.SubMatrix(0, qr, 0, qr).ToArray() : null;
+        double[] ApplyA1(double[] f)
+        {
+            if (bigCellOf is null)
+            {
+                return f;
+            }
+
+            var sums = CellSums(big, f);
+            return [.. f.Select((v, i) => v - (state.A1[bigCellOf[i]] * sums[bigCellOf[i]]))];
+        }
+
+        double[] VinvXv(Vector<double> v)
+        {
+            var gA = ApplyA1([.. x * v]);
+            if (lzz is null)
+            {
+                return [.. gA.Select(a => a / sig)];
+            }
+
+            var tv = Vector<double>.Build.Dense(qr);
+            foreach (var r in l.Rest)
+            {
+                var sums = CellSums(r, gA);
+                for (var c = 0; c < sums.Length; c++)
+                {
+                    tv[l.RestStart[r] + c] = state.Scale[l.RestStart[r] + c] * sums[c];
+                }
+            }
+
+            var b = new double[qr]; // L_zz L_zz' b = t: forward, then back substitution
+            for (var i = 0; i < qr; i++)
+            {
+                var acc = tv[i];
+                for (var j = 0; j < i; j++)
+                {
+                    acc -= lzz[i, j] * b[j];
+                }
+
+                b[i] = acc / lzz[i, i];
+            }
+
+            for (var i = qr - 1; i >= 0; i--)
+            {
+                var acc = b[i];
+                for (var j = i + 1; j < qr; j++)
+                {
+                    acc -= lzz[j, i] * b[j];
+                }
+
+                b[i] = acc / lzz[i, i];
+            }
+
+            var zb = new double[n];
+            for (var i = 0; i < n; i++)
+            {
+                foreach (var r in l.Rest)
+                {
+                    var col = l.RestStart[r] + s.Random[r].CellOf[i];
+                    zb[i] += state.Scale[col] * b[col];
+                }
+            }
+
+            var az = ApplyA1(zb);
+            return [.. gA.Select((a, i) => (a - az[i]) / sig)];
+        }
+
         var tests = new List<RemlFixedTest>();
         foreach (var (name, start, count) in s.FixedTerms)
         {
             var lcl = cb.SubMatrix(start, count, start, count);
-            var lb = state.B.SubVector(q + start, count);
+            var lb = beta.SubVector(start, count);
             var evd = lcl.Evd(Symmetricity.Symmetric);
             var fval = lb.DotProduct(lcl.Solve(lb)) / count;
             var nus = new double[count];
@@ -535,20 +996,12 @@ public static class MixedModel
             {
                 var d = evd.EigenValues[i].Real;
                 var u = evd.EigenVectors.Column(i);
-                var wl = w.SubMatrix(0, rowsT, start, count) * u; // W L' u
+                var wl = VinvXv(cb.SubMatrix(0, p, start, count) * u); // V⁻¹X Cov L'u
                 var grad = new double[freeF.Length];
-                for (var k = 0; k < freeF.Length; k++)
+                for (var kk = 0; kk < freeF.Length; kk++)
                 {
-                    var j = freeF[k];
-                    if (j == m)
-                    {
-                        grad[k] = wl.DotProduct(wl);
-                    }
-                    else
-                    {
-                        var zw = tz[j].TransposeThisAndMultiply(wl);
-                        grad[k] = zw.DotProduct(zw);
-                    }
+                    var j = freeF[kk];
+                    grad[kk] = j == m ? Dot(wl) : Dot(CellSums(j, wl));
                 }
 
                 var gvec = Vector<double>.Build.DenseOfArray(grad);
@@ -589,18 +1042,7 @@ public static class MixedModel
             note += "; singular fit: " + string.Join(", ", components.Where(c => c.AtBoundary).Select(c => c.Term)) + " estimated at zero";
         }
 
-        // Conditional residuals y − Xβ̂ − Zû, û_r = Λ_r b_r, in the data's rows.
-        var beta = state.B.SubVector(q, p);
-        var cond = y - (x * beta);
-        for (var r = 0; r < m; r++)
-        {
-            var lam = Math.Sqrt(phi[r] / phi[m]);
-            for (var i = 0; i < n; i++)
-            {
-                cond[i] -= lam * state.B[zStart[r] + s.Random[r].CellOf[i]];
-            }
-        }
-
-        return new RemlResult(components, tests, state.LogLik, converged, iterations, singular, note, [.. cond]);
+        // Conditional residuals y − Xβ̂ − Zû, in the data's rows.
+        return new RemlResult(components, tests, state.LogLik, converged, iterations, singular, note, state.Residual);
     }
 }

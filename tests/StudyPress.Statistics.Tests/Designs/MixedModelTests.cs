@@ -258,3 +258,213 @@ public class MixedModelSplitPlotWithRandomFactorTests
         Assert.True(r.Test("A").F.IsDefined);
     }
 }
+
+// The fit eliminates the random term with the most levels level by level and keeps only the other
+// columns dense. Regression snapshot: the previous implementation (one dense Householder QR of the
+// whole augmented matrix every iteration, commit c923d29) on the same invented unbalanced data,
+// printed in full ("R" format); the new fit must give the same estimates, F, df and p to 1e-9.
+public class MixedModelPreviousImplementationTests
+{
+    [Fact]
+    public void NestedWithOperator_EqualsDenseQrFit()
+    {
+        var (f, data) = MixedModelData.NestedWithOperator();
+        var r = MixedModel.FitReml(f, data);
+        Assert.Equal(64, data.Response.Length);
+        Assert.True(r.Converged, r.ConvergenceNote);
+        Assert.Equal(13, r.Iterations);
+        AssertRelative(r.LogLikelihood, -58.13128262576513, 1e-9, "REML log-likelihood");
+        AssertRelative(r.Component("operator").Variance, 0.1252272815401996, 1e-9, "σ² operator");
+        AssertRelative(r.Component("operator").StandardError.Value, 0.14030341932622023, 1e-9, "se operator");
+        AssertRelative(r.Component("batch(supplier)").Variance, 0.31449170042237923, 1e-9, "σ² batch");
+        AssertRelative(r.Component("batch(supplier)").Df.Value, 5.599287590760415, 1e-9, "ν batch");
+        Assert.True(r.Component("supplier:operator").AtBoundary);
+        AssertRelative(r.Component("batch(supplier):operator").Variance, 0.07300712681939166, 1e-9, "σ² batch × operator");
+        AssertRelative(r.Component(StrataAnova.ResidualName).Variance, 0.1754985327690128, 1e-9, "σ² residual");
+        AssertRelative(r.Component(StrataAnova.ResidualName).Df.Value, 29.354163503624413, 1e-9, "ν residual");
+        var t = r.Test("supplier");
+        AssertRelative(t.F.Value, 3.8819039540648888, 1e-9, "F supplier");
+        AssertRelative(t.DfDenominator.Value, 8.007343182227865, 1e-9, "df supplier");
+        AssertRelative(t.P.Value, 0.055448608523255526, 1e-9, "p supplier");
+    }
+
+    [Fact]
+    public void SplitPlotWithOperator_EqualsDenseQrFit()
+    {
+        var (f, data) = MixedModelData.SplitPlotWithOperator();
+        var r = MixedModel.FitReml(f, data);
+        Assert.Equal(39, data.Response.Length);
+        Assert.True(r.Converged, r.ConvergenceNote);
+        Assert.Equal(31, r.Iterations);
+        AssertRelative(r.LogLikelihood, -48.30076013032156, 1e-9, "REML log-likelihood");
+        AssertRelative(r.Component("block").Variance, 0.6958649226809571, 1e-9, "σ² block");
+        AssertRelative(r.Component("whole-plot error").Variance, 0.24726997517503008, 1e-9, "σ² whole plots");
+        AssertRelative(r.Component("C:operator").Variance, 0.06003226115976746, 1e-9, "σ² C × operator");
+        AssertRelative(r.Component(StrataAnova.ResidualName).Variance, 0.275523184296781, 1e-9, "σ² residual");
+        AssertRelative(r.Component(StrataAnova.ResidualName).StandardError.Value, 0.10406778562538328, 1e-9, "se residual");
+        Assert.Equal(["operator", "A:operator", "A:C:operator"], r.Components.Where(c => c.AtBoundary).Select(c => c.Term));
+        foreach (var (term, fv, df, p) in new[]
+        {
+            ("A", 24.418447405971648, 7.946316100973732, 0.0004043040001343318),
+            ("C", 1.5280767049157638, 3.0029912292587966, 0.3485444462725305),
+            ("A:C", 0.9425781742673301, 17.41945794868063, 0.4627741359331531),
+        })
+        {
+            AssertRelative(r.Test(term).F.Value, fv, 1e-9, "F " + term);
+            AssertRelative(r.Test(term).DfDenominator.Value, df, 1e-9, "df " + term);
+            AssertRelative(r.Test(term).P.Value, p, 1e-9, "p " + term);
+        }
+    }
+}
+
+// Beyond the previous 600-column bound: 120 blocks × 5 whole-plot levels × 10 sub-plot levels
+// (6,000 rows, 770 columns in the old count, refused there). Balanced, so the REML F and df must
+// equal the classical strata (exact: the strata ANOVA of the same data) to 1e-9.
+public class MixedModelBeyondOldBoundTests
+{
+    [Fact]
+    public void LargeBalancedSplitPlot_FitsAndEqualsClassicalStrata()
+    {
+        var b = new List<string>();
+        var w = new List<string>();
+        var s = new List<string>();
+        var y = new List<double>();
+        var v = 0.123;
+        for (var i = 0; i < 120; i++)
+        {
+            var blockEffect = ((i * 7919) % 23) - 11.0;
+            for (var j = 0; j < 5; j++)
+            {
+                var wp = (((i * 31) + (j * 17)) % 13) - 6.0;
+                for (var l = 0; l < 10; l++)
+                {
+                    v = (v * 3.91) % 1; // deterministic pseudo-noise
+                    b.Add("b" + i.ToString(CultureInfo.InvariantCulture));
+                    w.Add("w" + j.ToString(CultureInfo.InvariantCulture));
+                    s.Add("s" + l.ToString(CultureInfo.InvariantCulture));
+                    y.Add(100 + blockEffect + wp + (2.0 * j) + (0.5 * l) + (8 * v));
+                }
+            }
+        }
+
+        DesignFactor[] d = [DesignFactor.Block("block"), DesignFactor.Treatment("W", PlotLevel.WholePlot), DesignFactor.Treatment("S", PlotLevel.SubPlot)];
+        var data = new DesignData([.. y], [b, w, s]);
+        Assert.Null(MixedModel.Check(d, data));
+        var reml = MixedModel.FitReml(d, data);
+        Assert.True(reml.Converged, reml.ConvergenceNote);
+        var strata = StrataAnova.Fit(d, data);
+        Assert.True(VarianceComponents.Estimate(strata).Components.All(c => c.Variance > 0));
+        foreach (var term in new[] { "W", "S", "W:S" })
+        {
+            AssertRelative(reml.Test(term).F.Value, strata.Row(term).F.Value, 1e-9, "F " + term);
+            AssertRelative(reml.Test(term).DfDenominator.Value, strata.Row(term).DfDenominator.Value, 1e-9, "df " + term);
+        }
+    }
+
+    // The bound that remains: the columns kept dense (fixed effects and every random term but the
+    // largest). Two crossed random factors of 1,050 levels each (every pair once): 1,051 dense columns.
+    [Fact]
+    public void TooManyDenseColumns_IsATooLargeIssue()
+    {
+        var fa = new List<string>();
+        var fb = new List<string>();
+        var y = new List<double>();
+        for (var i = 0; i < 4200; i++)
+        {
+            fa.Add("a" + (i % 1050).ToString(CultureInfo.InvariantCulture));
+            fb.Add("b" + (i / 4).ToString(CultureInfo.InvariantCulture));
+            y.Add((i % 7) + (0.01 * ((i * 13) % 11)));
+        }
+
+        var issue = MixedModel.Check([DesignFactor.Random("A"), DesignFactor.Random("B")], new DesignData([.. y], [fa, fb]));
+        Assert.NotNull(issue);
+        Assert.Equal(DesignIssueKind.TooLarge, issue.Kind);
+        Assert.Contains("more than the 1000 this version fits", issue.Message, StringComparison.Ordinal);
+    }
+}
+
+internal static class MixedModelData
+{
+    // Invented unbalanced data from a fixed linear congruential sequence (Knuth's MMIX constants).
+    internal static (DesignFactor[] Factors, DesignData Data) NestedWithOperator()
+    {
+        var rng = new Lcg(20261204);
+        var sup = new List<string>();
+        var bat = new List<string>();
+        var op = new List<string>();
+        var y = new List<double>();
+        double[] opEffect = [rng.Next(), rng.Next(), rng.Next()];
+        for (var s = 0; s < 4; s++)
+        {
+            for (var b = 0; b < 3; b++)
+            {
+                var batchEffect = 2 * rng.Next();
+                for (var o = 0; o < 3; o++)
+                {
+                    var inter = 0.3 * rng.Next();
+                    for (var r = 0; r < 2; r++)
+                    {
+                        var u = rng.Next();
+                        var noise = rng.Next();
+                        if (u < 0.15)
+                        {
+                            continue;
+                        }
+
+                        sup.Add("s" + s.ToString(CultureInfo.InvariantCulture));
+                        bat.Add("b" + ((s * 3) + b).ToString(CultureInfo.InvariantCulture));
+                        op.Add("o" + o.ToString(CultureInfo.InvariantCulture));
+                        y.Add(10 + (0.7 * s) + batchEffect + opEffect[o] + inter + (1.5 * noise));
+                    }
+                }
+            }
+        }
+
+        return ([DesignFactor.Treatment("supplier"), DesignFactor.Random("batch", "supplier"), DesignFactor.Random("operator")], new DesignData([.. y], [sup, bat, op]));
+    }
+
+    internal static (DesignFactor[] Factors, DesignData Data) SplitPlotWithOperator()
+    {
+        var rng = new Lcg(7);
+        var bl = new List<string>();
+        var a = new List<string>();
+        var c = new List<string>();
+        var op = new List<string>();
+        var y = new List<double>();
+        for (var b = 0; b < 5; b++)
+        {
+            var be = 3 * rng.Next();
+            for (var i = 0; i < 3; i++)
+            {
+                var we = 2 * rng.Next();
+                for (var j = 0; j < 3; j++)
+                {
+                    var u = rng.Next();
+                    var o = (int)(3 * rng.Next());
+                    var noise = rng.Next();
+                    if (u < 0.12)
+                    {
+                        continue;
+                    }
+
+                    bl.Add("B" + b.ToString(CultureInfo.InvariantCulture));
+                    a.Add("a" + i.ToString(CultureInfo.InvariantCulture));
+                    c.Add("c" + j.ToString(CultureInfo.InvariantCulture));
+                    op.Add("o" + o.ToString(CultureInfo.InvariantCulture));
+                    y.Add(50 + be + we + (1.3 * i) + (0.4 * j) + (2 * noise));
+                }
+            }
+        }
+
+        return ([DesignFactor.Block("block"), DesignFactor.Treatment("A", PlotLevel.WholePlot), DesignFactor.Treatment("C", PlotLevel.SubPlot), DesignFactor.Random("operator")], new DesignData([.. y], [bl, a, c, op]));
+    }
+
+    private sealed class Lcg(ulong state)
+    {
+        public double Next()
+        {
+            state = (state * 6364136223846793005UL) + 1442695040888963407UL;
+            return (state >> 11) * (1.0 / (1UL << 53));
+        }
+    }
+}

@@ -673,24 +673,24 @@ public sealed class RepeatedEvaluator : KindEvaluator
     /// <summary>Subjects drawn as thin lines in the profile figure (the mean profile uses all).</summary>
     public const int MaxProfilesDrawn = 200;
 
-    /// <summary>Numbers the mixed model's dense working matrix may hold (2^22, 32 MiB; its fit then peaks near 360 MB and a minute: 1000 subjects × 3 cells, measured); larger fits are refused.</summary>
-    public const long MaxMixedModelCells = 1L << 22;
-
     /// <summary>
-    /// Why the mixed model is too large to fit here, or null. The REML fit factors a dense
-    /// (n + q) × (q + p + 1) matrix: n measurements, q random-effect levels (subjects times every
-    /// proper subset of the within factors: Σ Π k = Π (k + 1) − Π k per subject), p fixed effects
-    /// (at most groups × cells).
+    /// Why the mixed model is too large to fit here, or null. The REML fit (<see cref="MixedModel"/>)
+    /// absorbs its random term with the most levels (subjects times all within factors but the one
+    /// with fewest levels) and keeps dense the fixed effects (at most groups × cells) and the levels
+    /// of the other random terms (subjects times every other proper subset of the within factors;
+    /// all of them together Σ Π k = Π (k + 1) − Π k per subject). More than
+    /// <see cref="MixedModel.MaxDenseColumns"/> dense columns are refused before anything is built.
     /// </summary>
     private static string? MixedTooLarge(IReadOnlyList<string> subject, IReadOnlyList<IReadOnlyList<string>> within, int measurements, IReadOnlyList<IReadOnlyList<string>> between)
     {
         long subjects = subject.Distinct(StringComparer.Ordinal).Count();
-        long all = 1, cells = 1;
+        long all = 1, cells = 1, fewest = long.MaxValue;
         foreach (var col in within)
         {
             long k = col.Distinct(StringComparer.Ordinal).Count();
             all *= k + 1;
             cells *= k;
+            fewest = Math.Min(fewest, k);
         }
 
         long groups = 1;
@@ -700,11 +700,11 @@ public sealed class RepeatedEvaluator : KindEvaluator
         }
 
         var q = subjects * (all - cells);
-        var p = groups * cells;
-        var size = (measurements + q) * (q + p + 1);
-        return size <= MaxMixedModelCells
+        var largest = fewest == long.MaxValue ? subjects : subjects * (cells / fewest);
+        var dense = q - largest + (groups * cells);
+        return dense <= MixedModel.MaxDenseColumns
             ? null
-            : string.Create(System.Globalization.CultureInfo.InvariantCulture, $"{measurements} measurements of {subjects} subjects need a working matrix of {size} numbers, more than the {MaxMixedModelCells} this version fits in memory");
+            : string.Create(System.Globalization.CultureInfo.InvariantCulture, $"{measurements} measurements of {subjects} subjects need a mixed model that keeps {dense} columns dense, more than the {MixedModel.MaxDenseColumns} this version fits");
     }
 
     /// <summary>The block over its subject and between factors, without a response column (wide data).</summary>
