@@ -105,7 +105,7 @@ public sealed class RepeatedCellMeans
     private readonly Matrix<double> thetaCov;
     private readonly Func<double[][], double[][], double> total;
     private readonly Func<int, double[][], double[][], double> part;
-    private readonly int[]? stratumMask; // strata route: -1 between, else within bitmask, per parameter
+    private readonly double[]? strataDf; // strata route: each stratum's error df
 
     private RepeatedCellMeans(
         RepeatedMeansRoute route,
@@ -119,7 +119,7 @@ public sealed class RepeatedCellMeans
         Matrix<double> thetaCov,
         Func<double[][], double[][], double>? total,
         Func<int, double[][], double[][], double> part,
-        int[]? stratumMask)
+        double[]? strataDf)
     {
         Route = route;
         Design = design;
@@ -144,7 +144,7 @@ public sealed class RepeatedCellMeans
         this.thetaCov = thetaCov;
         this.part = part;
         this.total = total ?? ((a, b) => Enumerable.Range(0, theta.Length).Sum(k => theta[k] * part(k, a, b)));
-        this.stratumMask = stratumMask;
+        this.strataDf = strataDf;
     }
 
     public RepeatedMeansRoute Route { get; }
@@ -268,7 +268,7 @@ public sealed class RepeatedCellMeans
             cov[k, k] = 2 * theta[k] * theta[k] / dfs[k];
         }
 
-        return new RepeatedCellMeans(RepeatedMeansRoute.Strata, design, fit.BetweenLevels, fit.WithinLevels, [.. groupCodes], mu, [.. names], theta, cov, null, Part, maskArr);
+        return new RepeatedCellMeans(RepeatedMeansRoute.Strata, design, fit.BetweenLevels, fit.WithinLevels, [.. groupCodes], mu, [.. names], theta, cov, null, Part, [.. dfs]);
     }
 
     /// <summary>
@@ -635,7 +635,26 @@ public sealed class RepeatedCellMeans
         var gv = Vector<double>.Build.DenseOfArray(grad);
         var den = gv.DotProduct(thetaCov * gv);
         var df = v > 0 && den > 0 ? Quantity.Of(2 * v * v / den) : Quantity.Undefined("the variance of this estimate is zero");
+        if (df.IsDefined && OneStratum(grad) is { } only)
+        {
+            // One stratum: Satterthwaite's formula gives its df; take it exactly (no rounding residue).
+            df = Quantity.Of(strataDf![only]);
+        }
+
         return (v, grad, df);
+    }
+
+    /// <summary>The one stratum an estimate's variance rests on (strata route), or null.</summary>
+    private int? OneStratum(double[] grad)
+    {
+        if (strataDf is null)
+        {
+            return null;
+        }
+
+        var scale = grad.Select((g, k) => Math.Abs(g * theta[k])).DefaultIfEmpty(0).Max();
+        var used = Enumerable.Range(0, grad.Length).Where(k => Math.Abs(grad[k] * theta[k]) > 1e-10 * scale && scale > 0).ToList();
+        return used.Count == 1 ? used[0] : null;
     }
 
     private string[] ErrorsOf(double[] grad)
@@ -846,7 +865,11 @@ public sealed class RepeatedCellMeans
         }
 
         Quantity df;
-        if (nus.All(v => double.IsFinite(v) && v > 0) && (q == 1 || nus.Max() - nus.Min() <= 1e-9 * nus.Max()))
+        if (strataDf is not null && errors.Length == 1)
+        {
+            df = Quantity.Of(strataDf[Array.IndexOf(parameters, errors[0])]);
+        }
+        else if (nus.All(v => double.IsFinite(v) && v > 0) && (q == 1 || nus.Max() - nus.Min() <= 1e-9 * nus.Max()))
         {
             df = Quantity.Of(nus.Average());
         }
