@@ -104,7 +104,7 @@ public sealed class RepeatedCellMeans
     private readonly double[] theta;
     private readonly Matrix<double> thetaCov;
     private readonly Func<double[][], double[][], double> total;
-    private readonly Func<int, double[][], double[][], double> part;
+    private readonly Func<double[][], double[][], double[]> parts; // a′D_k b for every variance parameter k
     private readonly double[]? strataDf; // strata route: each stratum's error df
 
     private RepeatedCellMeans(
@@ -118,7 +118,7 @@ public sealed class RepeatedCellMeans
         double[] theta,
         Matrix<double> thetaCov,
         Func<double[][], double[][], double>? total,
-        Func<int, double[][], double[][], double> part,
+        Func<double[][], double[][], double[]> parts,
         double[]? strataDf)
     {
         Route = route;
@@ -142,8 +142,12 @@ public sealed class RepeatedCellMeans
         this.parameters = parameters;
         this.theta = theta;
         this.thetaCov = thetaCov;
-        this.part = part;
-        this.total = total ?? ((a, b) => Enumerable.Range(0, theta.Length).Sum(k => theta[k] * part(k, a, b)));
+        this.parts = parts;
+        this.total = total ?? ((a, b) =>
+        {
+            var d = parts(a, b);
+            return Enumerable.Range(0, theta.Length).Sum(k => theta[k] * d[k]);
+        });
         this.strataDf = strataDf;
     }
 
@@ -160,6 +164,9 @@ public sealed class RepeatedCellMeans
 
     /// <summary>Most cell means (groups × cells) the mixed-model route handles (its matrices are per group, cells × cells).</summary>
     public const int MaxCellMeans = 20_000;
+
+    /// <summary>Most numbers the mixed-model route's per-group matrices may hold (2^24, 128 MiB): 2m + 2 matrices of cells × cells per group for m variance parameters.</summary>
+    public const long MaxWorkingNumbers = 1L << 24;
 
     /// <summary>The classical route from the classical fit (complete subjects).</summary>
     public static RepeatedCellMeans FromStrata(RepeatedMeasuresResult fit)
@@ -235,11 +242,40 @@ public sealed class RepeatedCellMeans
             masks.Add(mask);
         }
 
+        // Each stratum's part of a′b: transform both along every within factor by an orthonormal
+        // Helmert basis (first row the mean direction); the cells whose transformed codes are
+        // non-zero exactly on the factors of term T carry P_T, those with all codes zero P₀.
         var counts = fit.WithinLevels.Select(l => l.Count).ToArray();
-        var maskArr = masks.ToArray();
-        double Part(int k, double[][] a, double[][] b)
+        var helmert = counts.Select(Helmert).ToArray();
+        var cellMask = new int[w];
+        var strideOf = new int[kw];
+        var st = 1;
+        for (var f = kw - 1; f >= 0; f--)
         {
-            double acc = 0;
+            strideOf[f] = st;
+            st *= counts[f];
+        }
+
+        for (var c = 0; c < w; c++)
+        {
+            for (var f = 0; f < kw; f++)
+            {
+                if ((c / strideOf[f]) % counts[f] != 0)
+                {
+                    cellMask[c] |= 1 << f;
+                }
+            }
+        }
+
+        var paramOfMask = new int[1 << kw];
+        for (var k = 0; k < masks.Count; k++)
+        {
+            paramOfMask[masks[k]] = k;
+        }
+
+        double[] Parts(double[][] a, double[][] b)
+        {
+            var acc = new double[masks.Count];
             for (var g = 0; g < a.Length; g++)
             {
                 if (a[g] is null || b[g] is null)
@@ -247,15 +283,12 @@ public sealed class RepeatedCellMeans
                     continue;
                 }
 
-                var pa = Project(a[g], counts, maskArr[k]);
-                var pb = ReferenceEquals(a[g], b[g]) ? pa : Project(b[g], counts, maskArr[k]);
-                double dot = 0;
-                for (var c = 0; c < pa.Length; c++)
+                var ta = Transform(a[g], counts, helmert);
+                var tb = ReferenceEquals(a[g], b[g]) ? ta : Transform(b[g], counts, helmert);
+                for (var c = 0; c < w; c++)
                 {
-                    dot += pa[c] * pb[c];
+                    acc[paramOfMask[cellMask[c]]] += ta[c] * tb[c] / sizes[g];
                 }
-
-                acc += dot / sizes[g];
             }
 
             return acc;
@@ -268,7 +301,7 @@ public sealed class RepeatedCellMeans
             cov[k, k] = 2 * theta[k] * theta[k] / dfs[k];
         }
 
-        return new RepeatedCellMeans(RepeatedMeansRoute.Strata, design, fit.BetweenLevels, fit.WithinLevels, [.. groupCodes], mu, [.. names], theta, cov, null, Part, [.. dfs]);
+        return new RepeatedCellMeans(RepeatedMeansRoute.Strata, design, fit.BetweenLevels, fit.WithinLevels, [.. groupCodes], mu, [.. names], theta, cov, null, Parts, [.. dfs]);
     }
 
     /// <summary>
@@ -354,46 +387,61 @@ public sealed class RepeatedCellMeans
         }
 
         var gCount = groupCodes.Length;
+        if ((2L * m + 2) * gCount * w * w > MaxWorkingNumbers)
+        {
+            issue = string.Create(CultureInfo.InvariantCulture, $"its {m} variance parameters over {gCount} groups of {w} within-subject cells need {(2L * m + 2) * gCount * w * w} working numbers, more than the {MaxWorkingNumbers} this version holds for marginal means");
+            return null;
+        }
+
         Matrix<double> Zero() => Matrix<double>.Build.Dense(w, w);
         var mg = Enumerable.Range(0, gCount).Select(_ => Zero()).ToArray();
         var ug = Enumerable.Range(0, gCount).Select(_ => new double[w]).ToArray();
         var kg = new Matrix<double>[m, gCount];
-        var ng = new Matrix<double>[m, m, gCount];
-        var t1 = new double[m, m];
         for (var r = 0; r < m; r++)
         {
             for (var g = 0; g < gCount; g++)
             {
                 kg[r, g] = Zero();
-                for (var s = 0; s < m; s++)
-                {
-                    ng[r, s, g] = Zero();
-                }
             }
         }
 
-        foreach (var rows in blocks.Where(b => b is not null))
+        // ∂V/∂θ_k within one subject's rows: same level of the random term (or the identity for the residual).
+        Matrix<double>[] Derivatives(List<int> rows)
         {
             var mb = rows.Count;
-            var g = groupOfRow[rows[0]];
             var vr = new Matrix<double>[m];
             for (var k = 0; k < m; k++)
             {
-                vr[k] = k == m - 1
+                var term = k == m - 1 ? null : random[free[k]];
+                vr[k] = term is null
                     ? Matrix<double>.Build.DenseIdentity(mb)
-                    : Matrix<double>.Build.Dense(mb, mb, (i, j) => random[free[k]].CellOf[rows[i]] == random[free[k]].CellOf[rows[j]] ? 1 : 0);
+                    : Matrix<double>.Build.Dense(mb, mb, (i, j) => term.CellOf[rows[i]] == term.CellOf[rows[j]] ? 1 : 0);
             }
 
+            return vr;
+        }
+
+        // First pass: V⁻¹ of each subject, X′V⁻¹X and X′V⁻¹y per group, K_r = X′V⁻¹V_rV⁻¹X per group.
+        var subjects = blocks.Where(b => b is not null).ToList();
+        var inverses = new List<Matrix<double>>(subjects.Count);
+        foreach (var rows in subjects)
+        {
+            var mb = rows.Count;
+            var g = groupOfRow[rows[0]];
+            var vr = Derivatives(rows);
             var v = Matrix<double>.Build.DenseIdentity(mb) * residual;
             for (var r = 0; r < random.Count; r++)
             {
                 if (comps[r].Variance > 0)
                 {
-                    v += Matrix<double>.Build.Dense(mb, mb, (i, j) => random[r].CellOf[rows[i]] == random[r].CellOf[rows[j]] ? comps[r].Variance : 0);
+                    var term = random[r];
+                    var sigma = comps[r].Variance;
+                    v += Matrix<double>.Build.Dense(mb, mb, (i, j) => term.CellOf[rows[i]] == term.CellOf[rows[j]] ? sigma : 0);
                 }
             }
 
             var wb = v.Cholesky().Solve(Matrix<double>.Build.DenseIdentity(mb));
+            inverses.Add(wb);
             var yb = Vector<double>.Build.Dense(mb, i => y[rows[i]]);
             var wy = wb * yb;
             for (var i = 0; i < mb; i++)
@@ -405,21 +453,9 @@ public sealed class RepeatedCellMeans
                 }
             }
 
-            var a = new Matrix<double>[m];
             for (var r = 0; r < m; r++)
             {
-                a[r] = wb * vr[r] * wb;
-                AddCells(kg[r, g], a[r], rows, cellOfRow);
-            }
-
-            for (var r = 0; r < m; r++)
-            {
-                for (var s = 0; s < m; s++)
-                {
-                    var avw = a[r] * vr[s] * wb;
-                    AddCells(ng[r, s, g], avw, rows, cellOfRow);
-                    t1[r, s] += (a[r] * vr[s]).Trace();
-                }
+                AddCells(kg[r, g], wb * vr[r] * wb, rows, cellOfRow);
             }
         }
 
@@ -431,19 +467,47 @@ public sealed class RepeatedCellMeans
             mu[g] = [.. cg[g] * Vector<double>.Build.DenseOfArray(ug[g])];
         }
 
+        // Second pass: tr(PV_rPV_s) = tr(WV_rWV_s) − 2 tr(C X′WV_rWV_sWX) + tr(C K_r C K_s), W = V⁻¹.
         var info = Matrix<double>.Build.Dense(m, m);
+        for (var b = 0; b < subjects.Count; b++)
+        {
+            var rows = subjects[b];
+            var g = groupOfRow[rows[0]];
+            var wb = inverses[b];
+            var vr = Derivatives(rows);
+            var a = vr.Select(x => wb * x * wb).ToArray();
+            for (var r = 0; r < m; r++)
+            {
+                for (var t = 0; t < m; t++)
+                {
+                    var avw = a[r] * vr[t];
+                    var first = avw.Trace();
+                    avw *= wb;
+                    double cross = 0;
+                    for (var i = 0; i < rows.Count; i++)
+                    {
+                        for (var j = 0; j < rows.Count; j++)
+                        {
+                            cross += avw[i, j] * cg[g][cellOfRow[rows[j]], cellOfRow[rows[i]]];
+                        }
+                    }
+
+                    info[r, t] += 0.5 * (first - (2 * cross));
+                }
+            }
+        }
+
         for (var r = 0; r < m; r++)
         {
-            for (var s = 0; s < m; s++)
+            for (var t = 0; t < m; t++)
             {
-                double v = t1[r, s];
+                double v = 0;
                 for (var g = 0; g < gCount; g++)
                 {
-                    v -= 2 * (cg[g] * ng[r, s, g]).Trace();
-                    v += (cg[g] * kg[r, g] * cg[g] * kg[s, g]).Trace();
+                    v += (cg[g] * kg[r, g] * cg[g] * kg[t, g]).Trace();
                 }
 
-                info[r, s] = 0.5 * v;
+                info[r, t] += 0.5 * v;
             }
         }
 
@@ -499,14 +563,17 @@ public sealed class RepeatedCellMeans
             return acc;
         }
 
-        double Part(int r, double[][] a, double[][] b)
+        double[] Parts(double[][] a, double[][] b)
         {
-            double acc = 0;
-            for (var g = 0; g < gCount; g++)
+            var acc = new double[m];
+            for (var r = 0; r < m; r++)
             {
-                if (a[g] is not null && b[g] is not null)
+                for (var g = 0; g < gCount; g++)
                 {
-                    acc += Quad(dg[r, g], a[g], b[g]);
+                    if (a[g] is not null && b[g] is not null)
+                    {
+                        acc[r] += Quad(dg[r, g], a[g], b[g]);
+                    }
                 }
             }
 
@@ -514,7 +581,7 @@ public sealed class RepeatedCellMeans
         }
 
         var theta = free.Select(r => comps[r].Variance).Append(residual).ToArray();
-        return new RepeatedCellMeans(RepeatedMeansRoute.Reml, design, betweenLevels, withinLevels, groupCodes, mu, names, theta, thetaCov, Total, Part, null);
+        return new RepeatedCellMeans(RepeatedMeansRoute.Reml, design, betweenLevels, withinLevels, groupCodes, mu, names, theta, thetaCov, Total, Parts, null);
     }
 
     /// <summary>Index of a factor of the design: between factors first, then within factors; −1 when not a factor of it.</summary>
@@ -625,11 +692,7 @@ public sealed class RepeatedCellMeans
     /// <summary>Variance, the gradient in the variance parameters, and its Satterthwaite df.</summary>
     private (double Var, double[] Grad, Quantity Df) Variance(double[][] a)
     {
-        var grad = new double[theta.Length];
-        for (var k = 0; k < theta.Length; k++)
-        {
-            grad[k] = part(k, a, a);
-        }
+        var grad = parts(a, a);
 
         var v = total(a, a);
         var gv = Vector<double>.Build.DenseOfArray(grad);
@@ -835,12 +898,30 @@ public sealed class RepeatedCellMeans
     {
         var q = rows.Count;
         var s = Matrix<double>.Build.Dense(q, q, (i, j) => total(rows[i], rows[j]));
-        var parts = Enumerable.Range(0, theta.Length).Select(r => Matrix<double>.Build.Dense(q, q, (i, j) => part(r, rows[i], rows[j]))).ToArray();
+        var partMats = Enumerable.Range(0, theta.Length).Select(_ => Matrix<double>.Build.Dense(q, q)).ToArray();
+        var diagonal = new List<double[]>();
+        for (var i = 0; i < q; i++)
+        {
+            for (var j = 0; j < q; j++)
+            {
+                var d = parts(rows[i], rows[j]);
+                for (var r = 0; r < theta.Length; r++)
+                {
+                    partMats[r][i, j] = d[r];
+                }
+
+                if (i == j)
+                {
+                    diagonal.Add(d);
+                }
+            }
+        }
+
         var lm = Vector<double>.Build.Dense(q, i => Value(rows[i]));
         var errorsSet = new SortedSet<string>(StringComparer.Ordinal);
-        foreach (var row in rows)
+        foreach (var d in diagonal)
         {
-            foreach (var e in ErrorsOf(Enumerable.Range(0, theta.Length).Select(r => part(r, row, row)).ToArray()))
+            foreach (var e in ErrorsOf(d))
             {
                 errorsSet.Add(e);
             }
@@ -860,7 +941,7 @@ public sealed class RepeatedCellMeans
         {
             var d = evd.EigenValues[i].Real;
             var uvec = evd.EigenVectors.Column(i);
-            var g = Vector<double>.Build.Dense(theta.Length, r => uvec.DotProduct(parts[r] * uvec));
+            var g = Vector<double>.Build.Dense(theta.Length, r => uvec.DotProduct(partMats[r] * uvec));
             nus[i] = 2 * d * d / g.DotProduct(thetaCov * g);
         }
 
@@ -884,32 +965,59 @@ public sealed class RepeatedCellMeans
         return (Quantity.Of(f), df, errors);
     }
 
-    /// <summary>P_k a: along each within factor, centre (factor in the stratum's term) or average (not in it).</summary>
-    private static double[] Project(double[] a, int[] counts, int mask)
+    /// <summary>The orthonormal Helmert basis of k levels (rows): the mean direction 1/√k, then the Helmert contrasts.</summary>
+    private static double[,] Helmert(int k)
+    {
+        var h = new double[k, k];
+        for (var i = 0; i < k; i++)
+        {
+            h[0, i] = 1 / Math.Sqrt(k);
+        }
+
+        for (var j = 1; j < k; j++)
+        {
+            var norm = Math.Sqrt(j * (j + 1.0));
+            for (var i = 0; i < j; i++)
+            {
+                h[j, i] = 1 / norm;
+            }
+
+            h[j, j] = -j / norm;
+        }
+
+        return h;
+    }
+
+    /// <summary>(⊗ H_f) a: the Helmert basis applied along every within factor (last factor fastest).</summary>
+    private static double[] Transform(double[] a, int[] counts, double[][,] helmert)
     {
         var v = (double[])a.Clone();
         var w = v.Length;
         var stride = 1;
+        var fibre = new double[counts.Length == 0 ? 0 : counts.Max()];
         for (var f = counts.Length - 1; f >= 0; f--)
         {
             var k = counts[f];
-            var centre = (mask & (1 << f)) != 0;
+            var h = helmert[f];
             var block = stride * k;
             for (var start = 0; start < w; start += block)
             {
                 for (var off = 0; off < stride; off++)
                 {
-                    double mean = 0;
                     for (var l = 0; l < k; l++)
                     {
-                        mean += v[start + off + (l * stride)];
+                        fibre[l] = v[start + off + (l * stride)];
                     }
 
-                    mean /= k;
-                    for (var l = 0; l < k; l++)
+                    for (var r = 0; r < k; r++)
                     {
-                        var i = start + off + (l * stride);
-                        v[i] = centre ? v[i] - mean : mean;
+                        double acc = 0;
+                        for (var l = 0; l < k; l++)
+                        {
+                            acc += h[r, l] * fibre[l];
+                        }
+
+                        v[start + off + (r * stride)] = acc;
                     }
                 }
             }
