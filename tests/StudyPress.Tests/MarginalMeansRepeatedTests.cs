@@ -252,4 +252,16 @@ factors: [{(repeatedKeys.Contains("condition", StringComparison.Ordinal) ? "subj
         using var run = Run(Mixed, MixedKeys, "of: fit\ncompare: holm", extra);
         run.SingleError("SP0294", FirstKeyLine(MixedKeys, extra) + 1);
     }
+
+    [Fact]
+    public void MethodsText_NamesTheRouteAndTheAdjustment()
+    {
+        var csv = string.Join("\n", Mixed.Split('\n').Where(l => !string.Equals(l.TrimEnd('\r'), "1,3,2,16.4482", StringComparison.Ordinal)));
+        using var run = new StudyRun().File("d.csv", csv).Study(Study(MixedKeys, "by: B\ncompare: holm") + "\n```methods text\n```\n");
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        var html = System.Net.WebUtility.HtmlDecode(result.Html);
+        Assert.Contains("from the repeated-measures mixed model (REML; Satterthwaite df), which keeps incomplete subjects", html, StringComparison.Ordinal);
+        Assert.Contains("Holm-adjusted p-values, each difference on its own error", html, StringComparison.Ordinal);
+    }
 }
