@@ -264,4 +264,15 @@ factors: [{(repeatedKeys.Contains("condition", StringComparison.Ordinal) ? "subj
         Assert.Contains("from the repeated-measures mixed model (REML; Satterthwaite df), which keeps incomplete subjects", html, StringComparison.Ordinal);
         Assert.Contains("Holm-adjusted p-values, each difference on its own error", html, StringComparison.Ordinal);
     }
+
+    [Fact]
+    public void Compare_OverTooManyMeans_IsAnError()
+    {
+        // Invented fixture: 3 subjects under 101 conditions (101 means would make 5050 pairs).
+        var csv = "subject,condition,y\n" + string.Concat(Enumerable.Range(0, 3).SelectMany(s => Enumerable.Range(0, 101).Select(c => string.Create(System.Globalization.CultureInfo.InvariantCulture, $"s{s},c{c:D3},{(s * 7) + (c % 5) + ((s * c) % 3)}\n"))));
+        const string keys = "subject: subject\nwithin: condition";
+        using var run = Run(csv, keys, "compare: holm");
+        var d = run.SingleError("SP0540", FirstKeyLine(keys));
+        Assert.Contains("at most 100 means", d.Message, StringComparison.Ordinal);
+    }
 }
