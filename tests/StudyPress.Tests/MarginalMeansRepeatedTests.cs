@@ -275,4 +275,23 @@ factors: [{(repeatedKeys.Contains("condition", StringComparison.Ordinal) ? "subj
         var d = run.SingleError("SP0540", FirstKeyLine(keys));
         Assert.Contains("at most 100 means", d.Message, StringComparison.Ordinal);
     }
+
+    [Fact]
+    public void WideData_RepeatedBlock_GivesTheSameMeans()
+    {
+        // The one-way data in wide form (one column per condition): no response column is loaded,
+        // and the means and SEs are those of the long form (Rutherford 2001; hand computation above).
+        var wide = "subject,a,b,c\n" + string.Concat(OneWay.Split('\n').Skip(1).Where(l => l.Trim().Length > 0)
+            .Select(l => l.Trim().Split(','))
+            .GroupBy(f => f[0], StringComparer.Ordinal)
+            .Select(g => g.Key + "," + string.Join(",", g.OrderBy(f => f[1], StringComparer.Ordinal).Select(f => f[2])) + "\n"));
+        const string keys = "subject: subject\nwithin: condition\ncolumns: [a, b, c]";
+        var study = Study(keys, "compare: holm").Replace("factors: [subject, condition]", "factors: [subject]", StringComparison.Ordinal);
+        using var run = new StudyRun().File("d.csv", wide).Study(study);
+        var m = run.Manifest();
+        double msS = 2, msAs = 38.0 / 14;
+        Close(10, m.Get("mm", "emmeans", "condition", "mean", "b"));
+        Close(Math.Sqrt((msS + (2 * msAs)) / 24), m.Get("mm", "emmeans", "condition", "se", "b"));
+        Close(Math.Sqrt(2 * msAs / 8), Pair(m, "holm", "condition", "a", "c", "se").GetProperty("value").GetDouble());
+    }
 }

@@ -46,7 +46,12 @@ public sealed class MarginalMeansKind : BlockKind
         public string? Compare { get; init; }
 
         public SourceLocation CompareLocation { get; init; }
+
+        /// <summary>True when 'of' names a repeated block of wide data: its measurements are columns, and there is no response column to load.</summary>
+        public bool OfWideData { get; init; }
     }
+
+    public override bool LoadsResponse(object? options) => options is not Options { OfWideData: true };
 
     public override object? BindOptions(KeyReader keys, BindContext context, DiagnosticBag diagnostics)
     {
@@ -162,6 +167,6 @@ public sealed class MarginalMeansKind : BlockKind
 
         return diagnostics.Items.Count > before
             ? null
-            : new Options(by, byLocation, at) { Compare = compare, CompareLocation = keys.Has("compare") ? keys.KeyLocation("compare") : context.Syntax.Location };
+            : new Options(by, byLocation, at) { Compare = compare, CompareLocation = keys.Has("compare") ? keys.KeyLocation("compare") : context.Syntax.Location, OfWideData = repeated?.Wide is not null };
     }
 }
