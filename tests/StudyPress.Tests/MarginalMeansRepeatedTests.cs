@@ -294,4 +294,18 @@ factors: [{(repeatedKeys.Contains("condition", StringComparison.Ordinal) ? "subj
         Close(Math.Sqrt((msS + (2 * msAs)) / 24), m.Get("mm", "emmeans", "condition", "se", "b"));
         Close(Math.Sqrt(2 * msAs / 8), Pair(m, "holm", "condition", "a", "c", "se").GetProperty("value").GetDouble());
     }
+
+    [Fact]
+    public void At_WithoutBy_WhenSeveralOtherFactors_IsAnError()
+    {
+        // Rutherford's two-way within design with an invented between factor G (subjects 1-4, 5-8): 'at: A' leaves B and G.
+        var csv = "subject,A,B,G,y\n" + string.Concat(Csv("rutherford-2001-twoway.csv").Split('\n').Skip(1).Where(l => l.Trim().Length > 0)
+            .Select(l => l.Trim().Split(','))
+            .Select(f => $"{f[0]},{f[1]},{f[2]},{(int.Parse(f[0], System.Globalization.CultureInfo.InvariantCulture) <= 4 ? "g1" : "g2")},{f[3]}\n"));
+        const string keys = "subject: subject\nwithin: [A, B]\nbetween: G";
+        var study = Study(keys, "at: A").Replace("factors: [subject, A, B]", "factors: [subject, A, B, G]", StringComparison.Ordinal);
+        using var run = new StudyRun().File("d.csv", csv).Study(study);
+        var d = run.SingleError("SP0279", FirstKeyLine(keys));
+        Assert.Contains("the repeated block 'r' has several other factors", d.Message, StringComparison.Ordinal);
+    }
 }

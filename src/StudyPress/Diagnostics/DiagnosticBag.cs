@@ -693,8 +693,8 @@ public sealed class DiagnosticBag
     public void MarginalMeansOfLayoutFactor(SourceLocation at, string factor, string role) =>
         Error("SP0278", at, $"{Q(factor)} is {role} of the layout, whose levels are a sample of units rather than treatments; marginal means are those of treatment factors (its variance component is in the anova block)");
 
-    public void MarginalMeansAtNeedsBy(SourceLocation at, string atFactor, string anovaId) =>
-        Error("SP0279", at, $"the anova block {Q(anovaId)} has several other factors; say with 'by' which one's simple effects to test at each level of {Q(atFactor)}");
+    public void MarginalMeansAtNeedsBy(SourceLocation at, string atFactor, string anovaId, string blockKind = "anova") =>
+        Error("SP0279", at, $"the {blockKind} block {Q(anovaId)} has several other factors; say with 'by' which one's simple effects to test at each level of {Q(atFactor)}");
 
     public void MarginalMeansAtWithoutInteraction(SourceLocation at, string atFactor, string anovaId) =>
         Error("SP0525", at, $"the anova block {Q(anovaId)} fits no interaction ('interaction: false'), so its model makes every effect the same at each level of {Q(atFactor)}; remove 'at' for the main-effect means, or fit the interaction");

@@ -149,7 +149,7 @@ public sealed class MarginalMeansKind : BlockKind
                     : anova!.Factors.Where(f => f.Name != at.Name && f.Layout.Role == FactorRole.Treatment).Select(f => f.Name).ToList();
                 if (others.Count != 1)
                 {
-                    diagnostics.MarginalMeansAtNeedsBy(atNode.Location, at.Name, ofId);
+                    diagnostics.MarginalMeansAtNeedsBy(atNode.Location, at.Name, ofId, repeated is null ? "anova" : "repeated");
                     at = null;
                 }
                 else
