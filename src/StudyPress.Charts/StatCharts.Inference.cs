@@ -1,6 +1,5 @@
 using System.Globalization;
 using System.Text;
-using MathNet.Numerics.Distributions;
 using StudyPress.Charts.Axes;
 using StudyPress.Charts.Rendering;
 using StudyPress.Statistics;
@@ -42,7 +41,7 @@ public static partial class StatCharts
         var x = LinearScale.FromBounds(0, wanted);
         const int Grid = 241;
         var gx = Enumerable.Range(0, Grid).Select(k => x.Min + ((x.Max - x.Min) * k / (Grid - 1))).ToArray();
-        double Pdf(double v) => v <= 0 ? (df1 < 2 ? double.PositiveInfinity : df1 == 2 ? 1 : 0) : FisherSnedecor.PDF(df1, df2, v);
+        double Pdf(double v) => Probability.FDensity(Math.Max(v, 0), df1, df2);
         // The curve is drawn over the whole axis, except that a density unbounded at 0 (df1 < 2)
         // starts at 1 % of the axis; the vertical axis reaches the highest point drawn.
         var drawn = gx.Where(v => df1 >= 2 || v >= x.Max / 100).ToArray();

@@ -96,6 +96,22 @@ public class ChartGeometryTests
     }
 
     [Fact]
+    public void FDistribution_LargeDenominatorDf_DrawsTheCurve()
+    {
+        // A one-way study with 3,975 rows in 3 groups tests F(2, 3972). The density's product form
+        // overflowed there and the chart showed an empty axis. With d1 = 2 the density is
+        // (1 + 2f/d2)^−(d2/2 + 1) (exact hand computation), so its peak is 1 at f = 0.
+        var chart = StatCharts.FDistribution(2, 3972, 4.7, 0.05, Samples.Labels);
+        Assert.Equal(0, chart.Plot.Y!.Min);
+        Assert.InRange(chart.Plot.Y!.Max, 1, 1.25);
+        var curve = Svg.Points(Svg.ByClass(Svg.Parse(chart.ToSvg()), "density").Single());
+        Assert.All(curve, p => Assert.True(double.IsFinite(p.Y)));
+        double atThree = Math.Pow(1 + (2 * 3.0 / 3972), -(3972 / 2.0) - 1);
+        var nearest = curve.MinBy(p => Math.Abs(chart.Plot.X!.Map(3.0) - p.X));
+        Assert.Equal(chart.Plot.Y!.Map(atThree), nearest.Y, 2.0);
+    }
+
+    [Fact]
     public void FDistribution_HugeF_MarkedOffAxis()
     {
         var chart = StatCharts.FDistribution(3, 20, 512.7, 0.05, Samples.Labels);

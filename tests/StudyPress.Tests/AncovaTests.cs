@@ -277,6 +277,13 @@ factors:
         Assert.Equal(7, m.Get("a", "means", "group", "n", "1"));
         Assert.Contains("1 row with a missing covariate value was left out", result.Html, StringComparison.Ordinal);
         Assert.Contains("1 row with a missing value was left out of this analysis", result.Html, StringComparison.Ordinal);
+
+        // The row left out for its covariate is not "used" by the input: 24 rows read, 23 used.
+        using var doc = System.Text.Json.JsonDocument.Parse(result.ManifestJson!);
+        var input = doc.RootElement.GetProperty("inputs")[0];
+        Assert.Equal(24, input.GetProperty("rows").GetInt32());
+        Assert.Equal(23, input.GetProperty("rowsUsed").GetInt32());
+        Assert.Contains("1 row was not used by any analysis", result.Html, StringComparison.Ordinal);
     }
 
     [Fact]

@@ -599,6 +599,9 @@ public sealed class DiagnosticBag
     public void RepeatedCompareNeedsClassical(SourceLocation at) =>
         Error("SP0269", at, "the paired comparisons are made on the complete subjects of the classical route, which 'fit: reml' does not fit; write 'fit: auto' (both routes when subjects are incomplete) or remove 'compare'");
 
+    public void RepeatedRanksLayout(SourceLocation at, string reason) =>
+        Error("SP0295", at, $"'ranks: always' asks for the Friedman test, which ranks each subject's measurements over the levels of one within factor with no between-subject groups, on complete subjects; {reason}. Write 'ranks: auto' or 'never', or analyse that factor in a 'friedman' block");
+
     public void ResponseForm(SourceLocation at) =>
         Error("SP0290", at, "'response' is a column name or a mapping such as '{column: thickness_um, label: Coating thickness, unit: µm}'");
 

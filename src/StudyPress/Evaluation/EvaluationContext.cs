@@ -232,7 +232,7 @@ public sealed class EvaluationContext
             }
         }
 
-        var data = SelectRows(block, diagnostics);
+        var data = SelectRows(block, diagnostics, markUsed: true);
         if (data is not null)
         {
             selections.Add((block, data));
@@ -240,6 +240,13 @@ public sealed class EvaluationContext
 
         return data;
     }
+
+    /// <summary>
+    /// As <see cref="Select"/>, but the rows are not counted as used by the input: the caller leaves
+    /// out more rows (for example those missing a covariate) and marks the rows it analyses with
+    /// <see cref="MarkUsed"/>. The selection is not shared with other blocks.
+    /// </summary>
+    public BlockData? SelectUnmarked(BoundBlock block, DiagnosticBag diagnostics) => SelectRows(block, diagnostics, markUsed: false);
 
     private readonly List<(BoundBlock Block, BlockData Data)> selections = [];
 
@@ -274,7 +281,16 @@ public sealed class EvaluationContext
         return true;
     }
 
-    private BlockData? SelectRows(BoundBlock block, DiagnosticBag diagnostics)
+    /// <summary>Counts the rows of <paramref name="data"/> as used by its input (the report's "rows used").</summary>
+    public static void MarkUsed(BlockData data)
+    {
+        foreach (var r in data.Rows)
+        {
+            data.Dataset.Used[r] = true;
+        }
+    }
+
+    private BlockData? SelectRows(BoundBlock block, DiagnosticBag diagnostics, bool markUsed)
     {
         var ds = Datasets[block.Data!];
         var response = block.Response is null ? null : ds.Numeric[block.Response];
@@ -330,9 +346,9 @@ public sealed class EvaluationContext
             Array.Resize(ref rows, count);
         }
 
-        foreach (var r in rows)
+        for (var i = 0; markUsed && i < rows.Length; i++)
         {
-            ds.Used[r] = true;
+            ds.Used[rows[i]] = true;
         }
 
         var factors = new List<BlockFactor>();

@@ -37,7 +37,10 @@ public sealed class RepeatedKind : BlockKind
 
     public override string PrimaryTest => "anova";
 
-    public override IReadOnlyList<string> OwnKeys { get; } = ["subject", "within", "between", "correction", "fit", "compare", "adjust", "simple", "labels", "columns"];
+    public override IReadOnlyList<string> OwnKeys { get; } = ["subject", "within", "between", "correction", "fit", "compare", "adjust", "simple", "labels", "columns", "ranks"];
+
+    /// <summary>Values of <c>ranks</c>: the Friedman test when the residuals depart from normality, always, or never.</summary>
+    public static readonly string[] RanksChoices = ["auto", "always", "never"];
 
     /// <summary>The block's factors come from <c>subject</c>, <c>within</c> and <c>between</c>, not from <c>factors</c>.</summary>
     public override bool NeedsFactors => false;
@@ -63,7 +66,8 @@ public sealed class RepeatedKind : BlockKind
         string Adjust,
         string Simple,
         bool LabelsPerGroup,
-        IReadOnlyList<WideColumn>? Wide = null)
+        IReadOnlyList<WideColumn>? Wide = null,
+        string Ranks = "auto")
     {
         /// <summary>Every factor column the block reads: subject, within (long data only), between.</summary>
         public IEnumerable<FactorSpec> Factors => new[] { Subject }.Concat(Wide is null ? Within : []).Concat(Between).Select(n => n.Spec);
@@ -153,6 +157,7 @@ public sealed class RepeatedKind : BlockKind
         var adjust = keys.Choice("adjust", Adjustments) ?? "holm";
         var simple = keys.Choice("simple", SimpleChoices) ?? "auto";
         var labels = keys.Choice("labels", LabelChoices) ?? "unique";
+        var ranks = keys.Choice("ranks", RanksChoices) ?? "auto";
         var compareNode = keys.Scalar("compare");
         if (diagnostics.Items.Count > before || context.FailedQuietly)
         {
@@ -199,6 +204,17 @@ public sealed class RepeatedKind : BlockKind
             return null;
         }
 
+        // The Friedman test ranks each subject's measurements across the levels of one within factor:
+        // it has no form for between-subject groups or crossed within factors, and it needs the
+        // classical route's complete subjects.
+        if (ranks == "always" && (within.Count > 1 || between.Count > 0 || fit == "reml"))
+        {
+            diagnostics.RepeatedRanksLayout(keys.KeyLocation("ranks"), fit == "reml"
+                ? "'fit: reml' fits no classical route, whose complete subjects the rank test uses"
+                : within.Count > 1 ? "the block has more than one within factor" : "the block has between-subject factors");
+            return null;
+        }
+
         if (compare is null && keys.Has("adjust"))
         {
             diagnostics.RepeatedAdjustWithoutCompare(keys.KeyLocation("adjust"));
@@ -217,7 +233,8 @@ public sealed class RepeatedKind : BlockKind
             adjust,
             simple,
             labels == "per-group",
-            wide);
+            wide,
+            ranks);
     }
 
     /// <summary>The <c>columns</c> key: a list of columns (each column's name is its level) or a mapping column → level.</summary>

@@ -61,7 +61,8 @@ public sealed partial class AnovaEvaluator
     private static AnovaOutcome EvaluateCovariates(EvaluationContext context, BoundBlock block, AnovaKind.Options options, ModelDescription model, DiagnosticBag diagnostics)
     {
         var outcome = new AnovaOutcome(block) { Model = model };
-        var selected = context.Select(block, diagnostics);
+        // Rows missing a covariate are left out below, so only the rows analysed count as used.
+        var selected = context.SelectUnmarked(block, diagnostics);
         if (selected is null)
         {
             return outcome;
@@ -88,6 +89,7 @@ public sealed partial class AnovaEvaluator
 
         var dropped = selected.Rows.Length - keep.Count;
         var data = dropped == 0 ? selected : Subset(selected, [.. keep]);
+        EvaluationContext.MarkUsed(data);
         outcome.Data = data;
         outcome.Factors = [.. data.Factors.Select(f => f.Spec)];
         outcome.ResponseName = data.ResponseName;

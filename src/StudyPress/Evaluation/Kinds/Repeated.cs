@@ -4,7 +4,9 @@ using StudyPress.Binding.Kinds;
 using StudyPress.Charts;
 using StudyPress.Diagnostics;
 using StudyPress.Statistics;
+using StudyPress.Statistics.Assumptions;
 using StudyPress.Statistics.Designs;
+using StudyPress.Statistics.Nonparametric;
 using StudyPress.Statistics.PostHoc;
 using StudyPress.Statistics.Repeated;
 
@@ -49,9 +51,55 @@ public enum MixedRouteReason
 }
 
 /// <summary>What a <c>repeated</c> block computed: manifest values and the facts its text needs.</summary>
+/// <summary>Whether the Friedman test of a <c>repeated</c> block is shown, and why.</summary>
+public enum RankRouteReason
+{
+    /// <summary>No classical route, or <c>ranks: never</c>.</summary>
+    None,
+
+    /// <summary><c>ranks: auto</c>; Shapiro–Wilk did not reject normal residuals.</summary>
+    NormalityHeld,
+
+    /// <summary><c>ranks: auto</c>; Shapiro–Wilk rejected normal residuals, so the Friedman test is shown.</summary>
+    NormalityFailed,
+
+    /// <summary><c>ranks: auto</c>; Shapiro–Wilk rejected normal residuals, but the layout has no Friedman form (several within factors, or between-subject groups).</summary>
+    NormalityFailedNoRankForm,
+
+    /// <summary><c>ranks: auto</c>; normality could not be tested (too many residuals, or the test is not defined).</summary>
+    NormalityNotTested,
+
+    /// <summary><c>ranks: always</c>.</summary>
+    Asked,
+}
+
 public sealed class RepeatedOutcome(BoundBlock block) : BlockOutcome(block)
 {
+    /// <summary>Shapiro–Wilk of the classical route's residuals (<c>w</c>, <c>p</c>); null without the classical route or with more than 5000 residuals.</summary>
+    public IReadOnlyDictionary<string, ResultValue>? Normality { get; init; }
+
+    /// <summary>How many residuals the normality check saw (subjects × cells).</summary>
+    public int NormalityN { get; init; }
+
+    /// <summary>Whether the Friedman test is shown, and why.</summary>
+    public RankRouteReason RankReason { get; init; }
+
+    /// <summary>The Friedman test over the within factor's levels (<c>chi2</c>, <c>df</c>, <c>p</c>, <c>kendall_w</c>, <c>n_blocks</c>, <c>blocks_dropped</c>), when shown.</summary>
+    public IReadOnlyDictionary<string, ResultValue>? Friedman { get; init; }
+
+    /// <summary>Iman–Davenport F (<c>f</c>, <c>df1</c>, <c>df2</c>, <c>p</c>), with the Friedman test.</summary>
+    public IReadOnlyDictionary<string, ResultValue>? ImanDavenport { get; init; }
+
+    /// <summary>Mean rank of each level of the within factor, with the Friedman test.</summary>
+    public IReadOnlyList<(string Level, ResultValue MeanRank)> MeanRanks { get; init; } = [];
+
+    /// <summary>Conover's comparisons of mean ranks (Holm), with the Friedman test and <c>compare</c>.</summary>
+    public IReadOnlyList<RepeatedPairValues> RankPairs { get; init; } = [];
+
     public string SubjectLabel { get; init; } = string.Empty;
+
+    /// <summary>The subject factor's name (terms such as <c>B:subject(A)</c> use it).</summary>
+    public string SubjectName { get; init; } = string.Empty;
 
     /// <summary>Within factors (name, display label), in the block's order.</summary>
     public IReadOnlyList<(string Name, string Label)> Within { get; init; } = [];
@@ -460,9 +508,19 @@ public sealed class RepeatedEvaluator : KindEvaluator
             }
         }
 
+        var ranks = fit is null ? null : RankRoute(fit, o, alpha, Add);
+
         var outcome = new RepeatedOutcome(block)
         {
+            Normality = ranks?.Normality,
+            NormalityN = ranks?.NormalityN ?? 0,
+            RankReason = ranks?.Reason ?? RankRouteReason.None,
+            Friedman = ranks?.Friedman,
+            ImanDavenport = ranks?.ImanDavenport,
+            MeanRanks = ranks?.MeanRanks ?? [],
+            RankPairs = ranks?.Pairs ?? [],
             SubjectLabel = o.Subject.Spec.Display,
+            SubjectName = o.Subject.Spec.Name,
             Within = [.. o.Within.Select(w => (w.Spec.Name, w.Spec.Display))],
             Between = [.. o.Between.Select(b => (b.Spec.Name, b.Spec.Display))],
             CorrectionAsked = o.Correction,
@@ -496,6 +554,132 @@ public sealed class RepeatedEvaluator : KindEvaluator
         }
 
         return outcome;
+    }
+
+    private sealed record RankValues(
+        IReadOnlyDictionary<string, ResultValue>? Normality,
+        int NormalityN,
+        RankRouteReason Reason,
+        IReadOnlyDictionary<string, ResultValue>? Friedman,
+        IReadOnlyDictionary<string, ResultValue>? ImanDavenport,
+        IReadOnlyList<(string Level, ResultValue MeanRank)> MeanRanks,
+        IReadOnlyList<RepeatedPairValues> Pairs);
+
+    private delegate ResultValue AddValue(string test, string? term, string? level, IReadOnlyList<string>? pair, string stat, Quantity q);
+
+    /// <summary>
+    /// The residuals' normality check and the rank route. The residuals are those of the classical
+    /// route's model: each complete subject's cell mean minus its subject mean, minus its group's cell
+    /// mean, plus its group's grand mean (subjects within groups and every group × cell mean fitted).
+    /// With <c>ranks: auto</c>, the Friedman test (subjects as blocks, the within factor's levels as
+    /// treatments, on the cell means the classical route analyses) is shown when Shapiro–Wilk rejects
+    /// normality at α and the layout has one within factor and no between factor.
+    /// </summary>
+    private static RankValues? RankRoute(RepeatedMeasuresResult fit, RepeatedKind.Options o, double alpha, AddValue add)
+    {
+        if (o.Ranks == "never")
+        {
+            return null;
+        }
+
+        var subjects = fit.CellMeans.Count;
+        var cells = fit.Cells;
+        var residuals = new double[subjects * cells];
+        var groups = new Dictionary<string, List<int>>(StringComparer.Ordinal);
+        for (var i = 0; i < subjects; i++)
+        {
+            var key = string.Join('\u001f', fit.SubjectBetween[i]);
+            if (!groups.TryGetValue(key, out var members))
+            {
+                groups[key] = members = [];
+            }
+
+            members.Add(i);
+        }
+
+        foreach (var members in groups.Values)
+        {
+            var cellMean = new double[cells];
+            foreach (var i in members)
+            {
+                for (var c = 0; c < cells; c++)
+                {
+                    cellMean[c] += fit.CellMeans[i][c] / members.Count;
+                }
+            }
+
+            var grand = cellMean.Average();
+            foreach (var i in members)
+            {
+                var subjectMean = fit.CellMeans[i].Average();
+                for (var c = 0; c < cells; c++)
+                {
+                    residuals[(i * cells) + c] = fit.CellMeans[i][c] - subjectMean - cellMean[c] + grand;
+                }
+            }
+        }
+
+        IReadOnlyDictionary<string, ResultValue>? normality = null;
+        var reason = o.Ranks == "always" ? RankRouteReason.Asked : RankRouteReason.NormalityNotTested;
+        if (residuals.Length <= ShapiroWilk.MaximumN)
+        {
+            var sw = ShapiroWilk.Test(residuals);
+            normality = new Dictionary<string, ResultValue>(StringComparer.Ordinal)
+            {
+                [Stat.W] = add(TestName.ShapiroWilk, "residual", null, null, Stat.W, sw.W),
+                [Stat.P] = add(TestName.ShapiroWilk, "residual", null, null, Stat.P, sw.P),
+            };
+            if (o.Ranks == "auto" && sw.P.IsDefined)
+            {
+                reason = sw.P.Value >= alpha ? RankRouteReason.NormalityHeld
+                    : o.Within.Count == 1 && o.Between.Count == 0 ? RankRouteReason.NormalityFailed
+                    : RankRouteReason.NormalityFailedNoRankForm;
+            }
+        }
+
+        if (reason is not (RankRouteReason.Asked or RankRouteReason.NormalityFailed))
+        {
+            return new RankValues(normality, residuals.Length, reason, null, null, [], []);
+        }
+
+        var levels = fit.WithinLevels[0];
+        var blocks = fit.CellMeans.Select(m => m.ToArray()).ToList();
+        var result = Statistics.Nonparametric.Friedman.Test(blocks);
+        var term = o.Within[0].Spec.Name;
+        var friedman = new Dictionary<string, ResultValue>(StringComparer.Ordinal)
+        {
+            [Stat.Chi2] = add(TestName.Friedman, term, null, null, Stat.Chi2, result.ChiSquare),
+            [Stat.Df] = add(TestName.Friedman, term, null, null, Stat.Df, Quantity.Of(result.Df)),
+            [Stat.P] = add(TestName.Friedman, term, null, null, Stat.P, result.P),
+            [Stat.KendallW] = add(TestName.Friedman, term, null, null, Stat.KendallW, result.KendallW),
+            [Stat.NBlocks] = add(TestName.Friedman, term, null, null, Stat.NBlocks, Quantity.Of(result.Blocks)),
+            [Stat.BlocksDropped] = add(TestName.Friedman, term, null, null, Stat.BlocksDropped, Quantity.Of(fit.Dropped.Count)),
+        };
+        var meanRanks = levels.Select((level, j) => (level, add(TestName.Friedman, term, level, null, Stat.MeanRank, Quantity.Of(result.MeanRanks[j])))).ToList();
+        var id = new Dictionary<string, ResultValue>(StringComparer.Ordinal)
+        {
+            [Stat.F] = add(TestName.ImanDavenport, term, null, null, Stat.F, result.ImanDavenportF),
+            [Stat.Df1] = add(TestName.ImanDavenport, term, null, null, Stat.Df1, Quantity.Of(result.ImanDavenportDf1)),
+            [Stat.Df2] = add(TestName.ImanDavenport, term, null, null, Stat.Df2, Quantity.Of(result.ImanDavenportDf2)),
+            [Stat.P] = add(TestName.ImanDavenport, term, null, null, Stat.P, result.ImanDavenportP),
+        };
+        var pairs = new List<RepeatedPairValues>();
+        if (o.Compare is not null)
+        {
+            foreach (var c in FriedmanConover.Compare([.. levels], blocks, PValueAdjustmentMethod.Holm).Comparisons)
+            {
+                string[] pair = [c.TreatmentA, c.TreatmentB];
+                pairs.Add(new RepeatedPairValues(c.TreatmentA, c.TreatmentB, new Dictionary<string, ResultValue>(StringComparer.Ordinal)
+                {
+                    [Stat.Diff] = add(TestName.Conover, term, null, pair, Stat.Diff, Quantity.Of(c.MeanRankDiff)),
+                    [Stat.Se] = add(TestName.Conover, term, null, pair, Stat.Se, c.Se),
+                    [Stat.Statistic] = add(TestName.Conover, term, null, pair, Stat.Statistic, c.Statistic),
+                    [Stat.PAdj] = add(TestName.Conover, term, null, pair, Stat.PAdj, c.PAdjusted),
+                }));
+            }
+        }
+
+        return new RankValues(normality, residuals.Length, reason, friedman, id, meanRanks, pairs);
     }
 
     /// <summary>Subjects drawn as thin lines in the profile figure (the mean profile uses all).</summary>

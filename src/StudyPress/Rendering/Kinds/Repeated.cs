@@ -51,7 +51,37 @@ public sealed class RepeatedRenderer : KindRenderer
         };
     }
 
-    private static string Term(string term) => term.Replace(":", " × ", StringComparison.Ordinal);
+    /// <summary>
+    /// A term as the report prints it: each factor name replaced by its label (the header's
+    /// <c>label</c>, else the name) and ':' written as ' × '; an error term keeps its form
+    /// ("B × subject(A)" with labels in place of B, subject and A).
+    /// </summary>
+    private static string Term(RepeatedOutcome o, string term)
+    {
+        var labels = new Dictionary<string, string>(StringComparer.Ordinal) { [o.SubjectName] = o.SubjectLabel };
+        foreach (var (name, label) in o.Within.Concat(o.Between))
+        {
+            labels[name] = label;
+        }
+
+        var sb = new System.Text.StringBuilder();
+        var start = 0;
+        for (var i = 0; i <= term.Length; i++)
+        {
+            var ch = i < term.Length ? term[i] : '\0';
+            if (ch is not (':' or '(' or ')' or ',' or '\0'))
+            {
+                continue;
+            }
+
+            var name = term[start..i];
+            sb.Append(labels.TryGetValue(name, out var label) ? label : name);
+            sb.Append(ch switch { ':' => " × ", '\0' => string.Empty, _ => ch.ToString() });
+            start = i + 1;
+        }
+
+        return sb.ToString();
+    }
 
     public override IEnumerable<string> Methods(MethodsPart part, MethodsSection? section, BlockOutcome outcome, MethodsWriter w)
     {
@@ -75,7 +105,7 @@ public sealed class RepeatedRenderer : KindRenderer
                 var rule = o.CorrectionAsked == "auto"
                     ? $"Sphericity {w.T("was", "is")} checked with Mauchly's test for each within-subject term with more than two levels; where it {w.T("was", "is")} rejected at α = {w.AlphaText}, the Greenhouse–Geisser correction {w.T("was", "is")} read when its ε {w.T("was", "is")} below 0.75 and the Huynh–Feldt correction otherwise"
                     : $"The {CorrectionName(corrected[0].Correction)} correction {w.T("was", "is")} read for every within-subject term with more than two levels, as asked";
-                var read = string.Join("; ", corrected.Select(r => $"{MethodsWriter.E(Term(r.Term))}: {CorrectionName(r.Correction)}"));
+                var read = string.Join("; ", corrected.Select(r => $"{MethodsWriter.E(Term(o, r.Term))}: {CorrectionName(r.Correction)}"));
                 yield return $"{rule} ({read}).";
             }
         }
@@ -88,6 +118,14 @@ public sealed class RepeatedRenderer : KindRenderer
         {
             yield return $"Because incomplete subjects were left out of the classical analysis, the mixed model (REML, Satterthwaite df) that keeps them {w.T("was", "is")} also reported.";
         }
+
+        if (o.Friedman is not null)
+        {
+            var why = o.RankReason == RankRouteReason.NormalityFailed
+                ? $"Because the residuals {w.T("departed", "depart")} from normality (Shapiro–Wilk, {ReportStyle.PPhrase(o.Normality![Stat.P])}), the"
+                : "The";
+            yield return $"{why} Friedman rank test of {MethodsWriter.E(o.Within[0].Label)} with the Iman–Davenport F {w.T("was", "is")} also run (subjects as blocks)" + (o.RankPairs.Count > 0 ? ", with Conover's comparisons of mean ranks (Holm-adjusted)." : ".");
+        }
     }
 
     public override IEnumerable<string> Warnings(BlockOutcome outcome, RenderContext context)
@@ -99,7 +137,17 @@ public sealed class RepeatedRenderer : KindRenderer
 
         if (o.Mixed is not null && o.Rows is not null && o.Mixed.Any(m => m.Agrees == false))
         {
-            yield return "The classical and mixed-model routes differ for " + string.Join(", ", o.Mixed.Where(m => m.Agrees == false).Select(m => BidiText.Isolate(Term(m.Term)))) + ": read both tables; the mixed model uses every measurement of the incomplete subjects.";
+            yield return "The classical and mixed-model routes differ for " + string.Join(", ", o.Mixed.Where(m => m.Agrees == false).Select(m => BidiText.Isolate(Term(o, m.Term)))) + ": read both tables; the mixed model uses every measurement of the incomplete subjects.";
+        }
+
+        if (o.RankReason == RankRouteReason.NormalityFailedNoRankForm)
+        {
+            yield return "The residuals depart from a normal distribution (Shapiro–Wilk p below α), so the F tests' p-values may be off. The Friedman rank test has no form for this layout (between-subject groups or several within factors): consider a transformation of the response, and judge the size of the departure with qualified review.";
+        }
+
+        if (o.RankReason == RankRouteReason.NormalityFailed)
+        {
+            yield return "The residuals depart from a normal distribution (Shapiro–Wilk p below α), so the F test's p-value may be off; the Friedman rank test, which does not assume normality, is shown below it ('ranks: auto'). It tests whether the subjects rank the levels alike, not whether the means differ; where the two tests disagree, neither settles the question alone.";
         }
 
         if (o.MixedSingular)
@@ -140,6 +188,11 @@ public sealed class RepeatedRenderer : KindRenderer
             yield return "No paired comparisons: too few subjects are complete for the classical route, on whose complete subjects they are made.";
         }
 
+        if (o.RankReason == RankRouteReason.NormalityNotTested && o.Normality is null)
+        {
+            yield return string.Create(CultureInfo.InvariantCulture, $"Shapiro–Wilk is computed for 3 to {Statistics.Assumptions.ShapiroWilk.MaximumN} residuals; this analysis has {o.NormalityN}, so normality was not tested and the rank route was not considered.");
+        }
+
         if (o.MixedNotFitted is { } why)
         {
             yield return "The mixed-model route was not fitted: " + why + ".";
@@ -167,11 +220,11 @@ public sealed class RepeatedRenderer : KindRenderer
                 if (r.Stratum != stratum)
                 {
                     stratum = r.Stratum;
-                    t.Row(r.IsWithin ? "Within subjects: " + Term(r.Stratum) : "Between subjects", [.. Enumerable.Repeat(string.Empty, 11)], "stratum");
+                    t.Row(r.IsWithin ? "Within subjects: " + Term(o, r.Stratum) : "Between subjects", [.. Enumerable.Repeat(string.Empty, 11)], "stratum");
                 }
 
                 var v = r.Values;
-                var name = r.IsEffect ? Term(r.Term) : "Error: " + Term(r.Term);
+                var name = r.IsEffect ? Term(o, r.Term) : "Error: " + Term(o, r.Term);
                 t.Row(name, [V(v[Stat.Ss]), V(v[Stat.Df]), V(v[Stat.Ms]), Opt(v, Stat.F), Opt(v, Stat.P), Opt(v, Stat.EpsilonGg), Opt(v, Stat.PGg), Opt(v, Stat.EpsilonHf), Opt(v, Stat.PHf), Opt(v, Stat.PartialEta2), Opt(v, Stat.GeneralizedEta2)], r.IsEffect ? null : "error");
             }
 
@@ -183,7 +236,7 @@ public sealed class RepeatedRenderer : KindRenderer
                 var m = new HtmlTable("mauchly", "Mauchly's test of sphericity", ["Within term", "W", "χ²", "df", "p"]);
                 foreach (var s in o.Mauchly)
                 {
-                    m.Row(Term(s.Term), [V(s.Values[Stat.W]), V(s.Values[Stat.Chi2]), V(s.Values[Stat.Df]), V(s.Values[Stat.P])]);
+                    m.Row(Term(o, s.Term), [V(s.Values[Stat.W]), V(s.Values[Stat.Chi2]), V(s.Values[Stat.Df]), V(s.Values[Stat.P])]);
                 }
 
                 m.WriteTo(html);
@@ -192,10 +245,56 @@ public sealed class RepeatedRenderer : KindRenderer
             html.Raw("<ul class=\"decisions\">");
             foreach (var r in o.Readings)
             {
-                html.Raw("<li>").Text($"{Term(r.Term)}: {CorrectionName(r.Correction)} test read — {Why(r, context.AlphaText)}.").Raw("</li>");
+                html.Raw("<li>").Text($"{Term(o, r.Term)}: {CorrectionName(r.Correction)} test read — {Why(r, context.AlphaText)}.").Raw("</li>");
+            }
+
+            if (o.Normality is { } sw)
+            {
+                var verdict = !sw[Stat.P].Value.IsDefined ? "not defined"
+                    : sw[Stat.P].Value.Value < context.Alpha ? "departs from normality" : "consistent with normality";
+                var next = o.RankReason switch
+                {
+                    RankRouteReason.NormalityFailed => "; the Friedman rank test is shown below",
+                    RankRouteReason.NormalityFailedNoRankForm => "; no rank test exists for this layout",
+                    RankRouteReason.Asked => "; the Friedman rank test is shown below, as asked ('ranks: always')",
+                    _ => string.Empty,
+                };
+                html.Raw("<li>").Text("Residuals (subject × cell, after subjects and group × cell means): Shapiro–Wilk W = ").Raw(V(sw[Stat.W])).Text(", p = ").Raw(V(sw[Stat.P]))
+                    .Text($" — {verdict}{next}.").Raw("</li>");
             }
 
             html.Raw("</ul>");
+        }
+
+        if (o.Friedman is { } fr)
+        {
+            var within = o.Within[0].Label;
+            var id = o.ImanDavenport!;
+            var f = new HtmlTable("repeated-friedman", $"Friedman rank test of {within} (subjects as blocks, {fr[Stat.NBlocks].Value.Value.ToString(CultureInfo.InvariantCulture)} complete subjects)", ["Test", "statistic", "df", "p", "Kendall's W"]);
+            f.Row("Friedman χ²", [V(fr[Stat.Chi2]), V(fr[Stat.Df]), V(fr[Stat.P]), V(fr[Stat.KendallW])]);
+            f.Row("Iman–Davenport F", [V(id[Stat.F]), V(id[Stat.Df1]) + ", " + V(id[Stat.Df2]), V(id[Stat.P]), string.Empty]);
+            f.WriteTo(html);
+            var ranks = new HtmlTable("repeated-mean-ranks", $"Mean rank of each level of {within} within subjects", ["Level", "mean rank"]);
+            foreach (var (level, rank) in o.MeanRanks)
+            {
+                ranks.Row(BidiText.Isolate(level), [V(rank)]);
+            }
+
+            ranks.WriteTo(html);
+            if (o.RankPairs.Count > 0)
+            {
+                var cp = new HtmlTable("repeated-rank-pairs", $"Conover's comparisons of mean ranks of {within} (Holm-adjusted)", ["Pair", "mean-rank difference", "SE", "t", "adjusted p"]);
+                foreach (var c in o.RankPairs)
+                {
+                    var v = c.Values;
+                    cp.Row(BidiText.Isolate(c.A) + " − " + BidiText.Isolate(c.B), [V(v[Stat.Diff]), V(v[Stat.Se]), V(v[Stat.Statistic]), V(v[Stat.PAdj])]);
+                }
+
+                cp.WriteTo(html);
+            }
+
+            html.Raw("<p class=\"method\">").Text("Friedman's test ranks each complete subject's cell means across the levels (mid-ranks for ties; tie-corrected statistic, χ² on k − 1 df); Kendall's W = χ²/(n(k − 1)) measures how alike the subjects rank the levels; the Iman–Davenport F is the analysis of variance of those ranks and is usually closer to the exact distribution with few subjects."
+                + (o.RankPairs.Count > 0 ? " Conover's t compares mean ranks on the rank error term with (n − 1)(k − 1) df." : string.Empty)).Raw("</p>");
         }
 
         if (o.Mixed is { } mixed)
@@ -211,7 +310,7 @@ public sealed class RepeatedRenderer : KindRenderer
                     cells.Add(r.Agrees switch { true => "yes", false => "no", _ => string.Empty });
                 }
 
-                m.Row(Term(r.Term), cells);
+                m.Row(Term(o, r.Term), cells);
             }
 
             m.WriteTo(html);
@@ -239,7 +338,7 @@ public sealed class RepeatedRenderer : KindRenderer
             var s = new HtmlTable("simple-effects", "Simple effects (one-way repeated-measures analysis within each group, own error term)", ["Effect", "subjects", "df", "F", "df (denominator)", "p", "ε GG", "p (GG)", "ε HF", "p (HF)", "generalized η²", "read"]);
             foreach (var e in o.Simple)
             {
-                var head = $"{e.Within} at {e.Between} {e.Level}";
+                var head = $"{Term(o, e.Within)} at {Term(o, e.Between)} {e.Level}";
                 if (e.Values is not { } v)
                 {
                     s.Row(head, [e.Subjects.ToString(CultureInfo.InvariantCulture), HtmlWriter.Escape("not analysed: " + e.NotAnalysed), .. Enumerable.Repeat(string.Empty, 10)]);
@@ -289,8 +388,8 @@ public sealed class RepeatedRenderer : KindRenderer
             }
 
             parts.Add(p.Value < context.Alpha
-                ? $"{Term(r.Term)} rejects the hypothesis of no effect"
-                : $"{Term(r.Term)} does not reject it (not evidence of no effect)");
+                ? $"{Term(o, r.Term)} rejects the hypothesis of no effect"
+                : $"{Term(o, r.Term)} does not reject it (not evidence of no effect)");
         }
 
         return parts.Count == 0 ? string.Empty : $"At α = {context.AlphaText}, reading the test the sphericity decision names: " + string.Join("; ", parts) + ".";
