@@ -696,8 +696,8 @@ public sealed class DiagnosticBag
     public void MarginalMeansOfLayoutFactor(SourceLocation at, string factor, string role) =>
         Error("SP0278", at, $"{Q(factor)} is {role} of the layout, whose levels are a sample of units rather than treatments; marginal means are those of treatment factors (its variance component is in the anova block)");
 
-    public void MarginalMeansAtNeedsBy(SourceLocation at, string atFactor, string anovaId) =>
-        Error("SP0279", at, $"the anova block {Q(anovaId)} has several other factors; say with 'by' which one's simple effects to test at each level of {Q(atFactor)}");
+    public void MarginalMeansAtNeedsBy(SourceLocation at, string atFactor, string anovaId, string blockKind = "anova") =>
+        Error("SP0279", at, $"the {blockKind} block {Q(anovaId)} has several other factors; say with 'by' which one's simple effects to test at each level of {Q(atFactor)}");
 
     public void MarginalMeansAtWithoutInteraction(SourceLocation at, string atFactor, string anovaId) =>
         Error("SP0525", at, $"the anova block {Q(anovaId)} fits no interaction ('interaction: false'), so its model makes every effect the same at each level of {Q(atFactor)}; remove 'at' for the main-effect means, or fit the interaction");
@@ -713,6 +713,22 @@ public sealed class DiagnosticBag
 
     public void MarginalMeansNoTreatment(SourceLocation at, string anovaId) =>
         Error("SP0529", at, $"the anova block {Q(anovaId)} has no treatment factor (only blocks and random factors), so it has no marginal means; its variance components are in the anova block");
+
+    // ---- marginal means of a repeated block (SP0292-SP0294 keys, SP0539-SP0540 analysis) ----
+    public void MarginalMeansOfSubject(SourceLocation at, string factor, string repeatedId, IEnumerable<string> factors) =>
+        Error("SP0292", at, $"{Q(factor)} is the subject of the repeated block {Q(repeatedId)} (the unit measured repeatedly), whose levels are a sample of units, not conditions with marginal means; name one of its within- or between-subject factors ({string.Join(", ", factors.Select(Q))})");
+
+    public void FactorNotInRepeated(SourceLocation at, string factor, string repeatedId, string? suggestion) =>
+        Error("SP0293", at, $"factor {Q(factor)} is not a within- or between-subject factor of the repeated block {Q(repeatedId)}{Suggest(suggestion)}");
+
+    public void MarginalMeansCompareNeedsRepeated(SourceLocation at, string anovaId) =>
+        Error("SP0294", at, $"'compare' asks for pairwise comparisons of the means of a repeated block, and {Q(anovaId)} is an anova block; compare its means with a posthoc block ('of: {anovaId}'), or its simple effects with 'at'");
+
+    public void MarginalMeansRepeatedUnavailable(SourceLocation at, string repeatedId, string reason) =>
+        Error("SP0539", at, $"the marginal means of the repeated block {Q(repeatedId)} cannot be estimated: {reason}");
+
+    public void MarginalMeansCompareNotDefensible(SourceLocation at, string compare, string what, string reason) =>
+        Error("SP0540", at, $"'compare: {compare}' cannot be applied to {what}: {reason}");
 
     // ---- output (SP06xx) ----
     public void CannotWrite(SourceLocation at, string path, string reason) => Error("SP0601", at, $"cannot write {Q(path)}: {reason}");

@@ -33,6 +33,9 @@ public abstract class BlockKind
     /// </summary>
     public virtual bool AnalysesAnovaBlock => false;
 
+    /// <summary>With <see cref="AnalysesAnovaBlock"/>: 'of' may also name a repeated block (the default is then the nearest anova or repeated block above).</summary>
+    public virtual bool AnalysesRepeatedBlock => false;
+
     /// <summary>
     /// Whether the block needs the data's rows (residual checks, ranks, figures of points), as
     /// opposed to per-cell statistics that a database can compute (<c>aggregate: true</c>).
@@ -88,15 +91,18 @@ public sealed record BindContext(StudyHeader Header, IReadOnlyList<BoundBlock> E
     /// <summary>Marks the block as failed without a message of its own (its cause is reported elsewhere).</summary>
     public void FailQuietly() => failedQuietly.Value = true;
 
-    /// <summary>Whether a failed anova block (or a block whose kind was misspelt) stands above this one.</summary>
-    private bool FailedAbove => Failed.Any(id => !AllIds.TryGetValue(id, out var b) || (b.Location.Line < Syntax.Location.Line && b.Kind == "anova"));
+    /// <summary>Whether a failed anova block (a failed repeated block too, with <paramref name="repeatedToo"/>; or a block whose kind was misspelt) stands above this one.</summary>
+    private bool FailedAbove(bool repeatedToo = false) => Failed.Any(id => !AllIds.TryGetValue(id, out var b) || (b.Location.Line < Syntax.Location.Line && (b.Kind == "anova" || (repeatedToo && b.Kind == "repeated"))));
 
     /// <summary>
     /// Resolves an <c>of</c> key to an anova block above this one (default: the nearest above).
     /// </summary>
     public BoundBlock? AnovaOf(KeyReader keys, string kindName, DiagnosticBag diagnostics)
     {
-        var anovas = Earlier.Where(b => b.Kind is AnovaKind).ToList();
+        // A kind that also analyses repeated blocks (AnalysesRepeatedBlock) takes either kind.
+        var repeatedToo = BlockKinds.All.GetValueOrDefault(kindName)?.AnalysesRepeatedBlock == true;
+        bool Accepts(BoundBlock b) => b.Kind is AnovaKind || (repeatedToo && b.Kind is RepeatedKind);
+        var anovas = Earlier.Where(Accepts).ToList();
         if (keys.Scalar("of") is { } of)
         {
             var target = Earlier.FirstOrDefault(b => b.Id == of.Value);
@@ -119,7 +125,7 @@ public sealed record BindContext(StudyHeader Header, IReadOnlyList<BoundBlock> E
                 return null;
             }
 
-            if (target.Kind is not AnovaKind)
+            if (!Accepts(target))
             {
                 diagnostics.OfNotAnova(of.Location, of.Value, target.Kind.Name);
                 return null;
@@ -128,7 +134,7 @@ public sealed record BindContext(StudyHeader Header, IReadOnlyList<BoundBlock> E
             return target;
         }
 
-        if (anovas.Count == 0 && FailedAbove)
+        if (anovas.Count == 0 && FailedAbove(repeatedToo))
         {
             return null;
         }

@@ -22,9 +22,15 @@ public sealed class MarginalMeansKind : BlockKind
 
     public override string PrimaryTest => "emmeans";
 
-    public override IReadOnlyList<string> OwnKeys { get; } = ["of", "by", "at"];
+    public override IReadOnlyList<string> OwnKeys { get; } = ["of", "by", "at", "compare"];
 
     public override bool AnalysesAnovaBlock => true;
+
+    /// <summary>'of' may name a repeated block: the means of its within- and between-subject factors.</summary>
+    public override bool AnalysesRepeatedBlock => true;
+
+    /// <summary>Values of <c>compare</c> (pairwise comparisons of a repeated block's means, and the adjustment).</summary>
+    public static readonly string[] Comparisons = ["holm", "bonferroni", "tukey"];
 
     /// <summary>A factor named in <c>by</c> or <c>at</c>, with where it is written.</summary>
     public sealed record Named(string Name, SourceLocation Location);
@@ -34,7 +40,18 @@ public sealed class MarginalMeansKind : BlockKind
     /// each factor of the anova on its own); <paramref name="At"/>: the factor at whose levels the
     /// simple effects of the single <c>by</c> factor are taken (null: none).
     /// </summary>
-    public sealed record Options(IReadOnlyList<Named> By, SourceLocation ByLocation, Named? At);
+    public sealed record Options(IReadOnlyList<Named> By, SourceLocation ByLocation, Named? At)
+    {
+        /// <summary>The <c>compare</c> value (holm, bonferroni, tukey; null: no pairwise comparisons) and where it is written.</summary>
+        public string? Compare { get; init; }
+
+        public SourceLocation CompareLocation { get; init; }
+
+        /// <summary>True when 'of' names a repeated block of wide data: its measurements are columns, and there is no response column to load.</summary>
+        public bool OfWideData { get; init; }
+    }
+
+    public override bool LoadsResponse(object? options) => options is not Options { OfWideData: true };
 
     public override object? BindOptions(KeyReader keys, BindContext context, DiagnosticBag diagnostics)
     {
@@ -42,13 +59,39 @@ public sealed class MarginalMeansKind : BlockKind
 
         // The anova block analysed (its own mistakes are reported by the binder, not here).
         var anova = context.AnovaOf(keys, Name, new DiagnosticBag());
-        var factors = anova?.Factors.Select(f => f.Name).ToList();
+        var repeated = anova?.Options as RepeatedKind.Options;
+        var factors = repeated is not null
+            ? [.. repeated.Between.Concat(repeated.Within).Select(f => f.Spec.Name)]
+            : anova?.Factors.Select(f => f.Name).ToList();
         var ofId = anova?.Id ?? string.Empty;
+        var compare = keys.Choice("compare", Comparisons);
+        if (compare is not null && anova is not null && repeated is null)
+        {
+            diagnostics.MarginalMeansCompareNeedsRepeated(keys.KeyLocation("compare"), ofId);
+        }
 
         Named? Check(YScalar v)
         {
             if (factors is null)
             {
+                return new Named(v.Value, v.Location);
+            }
+
+            if (repeated is not null)
+            {
+                // A repeated block: its within- and between-subject factors, never its subject.
+                if (v.Value == repeated.Subject.Spec.Name)
+                {
+                    diagnostics.MarginalMeansOfSubject(v.Location, v.Value, ofId, factors);
+                    return null;
+                }
+
+                if (!factors.Contains(v.Value))
+                {
+                    diagnostics.FactorNotInRepeated(v.Location, v.Value, ofId, DiagnosticBag.Nearest(v.Value, factors));
+                    return null;
+                }
+
                 return new Named(v.Value, v.Location);
             }
 
@@ -101,15 +144,17 @@ public sealed class MarginalMeansKind : BlockKind
             else if (at is not null && by.Count == 0 && factors is not null && diagnostics.Items.Count == before)
             {
                 // Without 'by', the simple effects are those of the one other treatment factor.
-                var others = anova!.Factors.Where(f => f.Name != at.Name && f.Layout.Role == FactorRole.Treatment).ToList();
+                var others = repeated is not null
+                    ? [.. factors.Where(f => f != at.Name)]
+                    : anova!.Factors.Where(f => f.Name != at.Name && f.Layout.Role == FactorRole.Treatment).Select(f => f.Name).ToList();
                 if (others.Count != 1)
                 {
-                    diagnostics.MarginalMeansAtNeedsBy(atNode.Location, at.Name, ofId);
+                    diagnostics.MarginalMeansAtNeedsBy(atNode.Location, at.Name, ofId, repeated is null ? "anova" : "repeated");
                     at = null;
                 }
                 else
                 {
-                    by.Add(new Named(others[0].Name, atNode.Location));
+                    by.Add(new Named(others[0], atNode.Location));
                 }
             }
 
@@ -120,6 +165,8 @@ public sealed class MarginalMeansKind : BlockKind
             }
         }
 
-        return diagnostics.Items.Count > before ? null : new Options(by, byLocation, at);
+        return diagnostics.Items.Count > before
+            ? null
+            : new Options(by, byLocation, at) { Compare = compare, CompareLocation = keys.Has("compare") ? keys.KeyLocation("compare") : context.Syntax.Location, OfWideData = repeated?.Wide is not null };
     }
 }

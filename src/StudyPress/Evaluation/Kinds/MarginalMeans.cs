@@ -70,7 +70,7 @@ public sealed class MarginalMeansOutcome(BoundBlock block) : BlockOutcome(block)
 }
 
 /// <summary>Evaluates <c>marginal-means</c> blocks into values (no HTML, no report text).</summary>
-public sealed class MarginalMeansEvaluator : KindEvaluator
+public sealed partial class MarginalMeansEvaluator : KindEvaluator
 {
     /// <summary>Registers this part of the kind (see DEVELOPERS.md, "Adding an analysis kind").</summary>
     [ModuleInitializer]
@@ -84,6 +84,11 @@ public sealed class MarginalMeansEvaluator : KindEvaluator
     public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
     {
         var options = (MarginalMeansKind.Options)block.Options!;
+        if (block.Of!.Kind is RepeatedKind)
+        {
+            return EvaluateRepeated(context, block, options, diagnostics);
+        }
+
         var outcome = new MarginalMeansOutcome(block);
         if (context.Outcomes.GetValueOrDefault(block.Of!.Id) is not AnovaOutcome { Data: { } data } anova)
         {

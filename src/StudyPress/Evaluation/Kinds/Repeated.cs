@@ -164,6 +164,13 @@ public sealed class RepeatedOutcome(BoundBlock block) : BlockOutcome(block)
 
     /// <summary>Number of levels per within factor (block order).</summary>
     public IReadOnlyList<int> WithinLevelCounts { get; init; } = [];
+
+    /// <summary>The design analysed, and the fits of its two routes (null when not fitted): a marginal-means block reads them.</summary>
+    public RepeatedMeasuresDesign? Design { get; init; }
+
+    public RepeatedMeasuresResult? ClassicalFit { get; init; }
+
+    public RepeatedMixedResult? MixedFit { get; init; }
 }
 
 /// <summary>Evaluates <c>repeated</c> blocks: classical route, mixed-model route, comparisons, simple effects, figures.</summary>
@@ -383,6 +390,7 @@ public sealed class RepeatedEvaluator : KindEvaluator
         List<MixedRowValues>? mixed = null;
         Dictionary<string, ResultValue>? mixedCounts = null;
         var keptIncomplete = 0;
+        RepeatedMixedResult? mixedFit = null;
         var singular = false;
         string? mixedNotFitted = null;
         if (reason != MixedRouteReason.None)
@@ -398,6 +406,7 @@ public sealed class RepeatedEvaluator : KindEvaluator
             else
             {
                 var m = RepeatedMeasuresMixedModel.Fit(design, rm);
+                mixedFit = m;
                 var agree = fit is null ? null : RepeatedMeasuresMixedModel.Compare(fit, m.Reml).ToDictionary(c => c.Term, c => c.Agree, StringComparer.Ordinal);
                 mixed = [];
                 foreach (var t in m.Reml.Tests)
@@ -535,6 +544,9 @@ public sealed class RepeatedEvaluator : KindEvaluator
             Simple = simple,
             SimpleAsked = o.Simple == "always",
             WithinLevelCounts = [.. withinCols.Select(c => c.Distinct(StringComparer.Ordinal).Count())],
+            Design = design,
+            ClassicalFit = fit,
+            MixedFit = mixedFit,
         };
         if (fit is not null && context.Header.Report.Figures)
         {

@@ -21,6 +21,16 @@ public sealed class MarginalMeansRenderer : KindRenderer
     /// <summary>The sentences a methods paragraph gives this block (it stands outside the anova sections).</summary>
     public override IEnumerable<string> Methods(MethodsPart part, MethodsSection? section, BlockOutcome outcome, MethodsWriter w)
     {
+        if (outcome is RepeatedMarginalMeansOutcome repeated)
+        {
+            foreach (var s in RepeatedMeansRendering.Methods(part, repeated, w))
+            {
+                yield return s;
+            }
+
+            yield break;
+        }
+
         if (part != MethodsPart.Results || !w.Has("effects") || outcome is not MarginalMeansOutcome { Tables.Count: > 0 } o)
         {
             yield break;
@@ -46,6 +56,16 @@ public sealed class MarginalMeansRenderer : KindRenderer
 
     public override IEnumerable<string> Warnings(BlockOutcome outcome, RenderContext context)
     {
+        if (outcome is RepeatedMarginalMeansOutcome repeated)
+        {
+            foreach (var s in RepeatedMeansRendering.Warnings(repeated, context))
+            {
+                yield return s;
+            }
+
+            yield break;
+        }
+
         if (outcome is not MarginalMeansOutcome o)
         {
             yield break;
@@ -67,6 +87,12 @@ public sealed class MarginalMeansRenderer : KindRenderer
 
     public override void Render(HtmlWriter html, BlockOutcome outcome, RenderContext context)
     {
+        if (outcome is RepeatedMarginalMeansOutcome repeated)
+        {
+            RepeatedMeansRendering.Render(html, repeated, context);
+            return;
+        }
+
         if (outcome is not MarginalMeansOutcome { Tables.Count: > 0 } o)
         {
             return;
