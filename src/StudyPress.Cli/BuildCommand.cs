@@ -50,6 +50,7 @@ public static class StudyBuilder
         }
 
         var result = Compilation.Compile(study, options);
+        StageTimes.Mark("compiled");
         var messages = result.Diagnostics.Select(d => d.ToString()).ToList();
         if (!result.Succeeded)
         {
@@ -60,6 +61,7 @@ public static class StudyBuilder
         try
         {
             html = Write(result, jsonPath, figuresDir, docxPath, latexDir);
+            StageTimes.Mark("wrote the outputs");
         }
         catch (Exception e) when (e is IOException or UnauthorizedAccessException)
         {
@@ -70,6 +72,7 @@ public static class StudyBuilder
         try
         {
             BuildCache.Record(study, result.OutputPath, options, result.ManifestJson!, html);
+            StageTimes.Mark("recorded in the build cache");
         }
         catch (Exception e) when (e is IOException or UnauthorizedAccessException)
         {
@@ -320,6 +323,7 @@ public static class BuildCommand
             });
 
         progress.Finish();
+        StageTimes.Mark("done");
         return internalErrors != 0 ? StudyPressCommand.InternalError : progress.Failed == 0 ? StudyPressCommand.Ok : StudyPressCommand.BadInput;
     }
 

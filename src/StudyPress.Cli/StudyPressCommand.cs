@@ -23,9 +23,11 @@ public static class StudyPressCommand
     /// <param name="interactive">True when stdout is a terminal: long batches show one updating progress line.</param>
     public static int Run(string[] args, TextWriter stdout, TextWriter stderr, bool interactive)
     {
+        StageTimes.Mark("main");
         try
         {
             var root = BuildRoot(stdout, stderr, interactive);
+            StageTimes.Mark("command tree");
             var commands = root.Subcommands.Select(c => c.Name).ToList();
             if (args.Length > 0 && !args[0].StartsWith('-') && !commands.Contains(args[0]))
             {
@@ -37,6 +39,7 @@ public static class StudyPressCommand
             }
 
             var parse = root.Parse(args);
+            StageTimes.Mark("command line parsed");
             if (parse.Errors.Count > 0)
             {
                 foreach (var e in parse.Errors)

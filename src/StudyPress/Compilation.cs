@@ -102,12 +102,16 @@ public static class Compilation
             return null;
         }
 
+        StageTimes.Mark("read the study");
+
         // Parse.
         var syntax = StudyParser.Parse(display, text, BlockKinds.Names, diagnostics);
         if (syntax?.Header is null || diagnostics.HasErrors)
         {
             return null;
         }
+
+        StageTimes.Mark("parse");
 
         // Bind.
         var header = HeaderBinder.Bind(syntax.Header, display, diagnostics);
@@ -123,10 +127,12 @@ public static class Compilation
         // References that cannot be read, or name no block, are reported now and left out later;
         // the build goes on so that the other references (even on the same line) are checked too.
         var reportedReferences = References.CheckTargets(syntax, primary, diagnostics);
+        StageTimes.Mark("bind");
 
         var studyDir = Path.GetDirectoryName(Path.GetFullPath(studyPath))!;
         var errorsBeforeData = diagnostics.Items.Count;
         var datasets = DatasetLoader.Load(header, blocks, studyDir, display, options.AllowOutsidePaths, diagnostics);
+        StageTimes.Mark("load data");
         if (diagnostics.Items.Skip(errorsBeforeData).Any(d => d.Severity == Severity.Error))
         {
             return null;
@@ -135,6 +141,7 @@ public static class Compilation
         // Model: each anova block's model, and the cells and order statistics of aggregated datasets
         // (the last queries), so that evaluation does no I/O.
         var models = Model.StudyModels.Prepare(blocks, datasets, diagnostics);
+        StageTimes.Mark("model");
         if (diagnostics.Items.Skip(errorsBeforeData).Any(d => d.Severity == Severity.Error))
         {
             return null;
@@ -159,9 +166,11 @@ public static class Compilation
             var outcome = KindEvaluators.For(block).Evaluate(context, block, diagnostics);
             outcomes[block.Syntax] = outcome;
             context.Outcomes[block.Id] = outcome;
+            StageTimes.Mark("evaluate " + block.Kind.Name + " " + block.Id);
         }
 
         var resolved = References.ResolveAll(syntax, reportedReferences, context.Results, primary, header.Alpha, diagnostics);
+        StageTimes.Mark("resolve references");
 
         if (diagnostics.HasErrors)
         {
@@ -184,6 +193,7 @@ public static class Compilation
             ReportTemplate.Sha256,
             options.SourceDateEpoch is { } epoch ? DateTimeOffset.FromUnixTimeSeconds(epoch).UtcDateTime.ToString("yyyy-MM-dd'T'HH:mm:ss'Z'", System.Globalization.CultureInfo.InvariantCulture) : null);
         manifest = Manifest.Write(identity, inputs, context.Results);
+        StageTimes.Mark("manifest");
         format = new NumberFormat(header.Report.Numbers);
         var taken = new HashSet<string>(StringComparer.OrdinalIgnoreCase);
         foreach (var block in blocks)
@@ -195,6 +205,7 @@ public static class Compilation
         }
 
         var html = ReportRenderer.Render(syntax, header, outcomes, resolved, inputs, identity, manifest);
+        StageTimes.Mark("render");
         if (ReportIntegrity.Problem(html) is { } problem)
         {
             // Checked before anything can be written, and again by the writer (OutputSet).

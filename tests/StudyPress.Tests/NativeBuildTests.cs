@@ -92,6 +92,41 @@ public sealed class NativeBuildTests
         }
     }
 
+    [NativeTheory]
+    [InlineData("examples/spray-nozzles")]
+    public void NativeBuild_StageTimes_GoToStandardErrorOnly(string study)
+    {
+        // STUDYPRESS_TIMINGS=1 (StageTimes) adds one standard-error line per stage and changes no output.
+        var work = Path.Combine(Path.GetTempPath(), "studypress-tests", "native-times-" + Guid.NewGuid().ToString("N"));
+        try
+        {
+            var folder = Path.Combine(Repository.Root, study);
+            var plain = Path.Combine(work, "plain");
+            var timed = Path.Combine(work, "timed");
+            var (plainExit, plainOut, plainErr) = RunNative(folder, ["build", "study.md", "--force", "--out", plain]);
+            var (timedExit, timedOut, timedErr) = RunNative(folder, ["build", "study.md", "--force", "--out", timed], (StageTimes.Variable, "1"));
+            Assert.Equal(0, plainExit);
+            Assert.Equal(0, timedExit);
+            Assert.Equal(string.Empty, plainErr);
+            Assert.Equal(plainOut.Replace(plain, "OUT", StringComparison.Ordinal), timedOut.Replace(timed, "OUT", StringComparison.Ordinal));
+            var lines = timedErr.Split('\n', StringSplitOptions.RemoveEmptyEntries);
+            Assert.All(lines, l => Assert.StartsWith("studypress: time: ", l, StringComparison.Ordinal));
+            foreach (var stage in new[] { "main", "parse", "load data", "evaluate posthoc", "render", "wrote the outputs", "done" })
+            {
+                Assert.Contains(lines, l => l.StartsWith("studypress: time: " + stage, StringComparison.Ordinal));
+            }
+
+            Assert.True(File.ReadAllBytes(Path.Combine(plain, "study.html")).AsSpan().SequenceEqual(File.ReadAllBytes(Path.Combine(timed, "study.html"))));
+        }
+        finally
+        {
+            if (Directory.Exists(work))
+            {
+                Directory.Delete(work, recursive: true);
+            }
+        }
+    }
+
     private static string[] Arguments(string outDir) =>
         ["build", "study.md", "--force", "--out", outDir, "--json", Path.Combine(outDir, "manifest.json"), "--figures", Path.Combine(outDir, "figures"),
          "--docx", Path.Combine(outDir, "report.docx"), "--latex", Path.Combine(outDir, "tex")];
@@ -103,7 +138,7 @@ public sealed class NativeBuildTests
             .Where(f => !f.StartsWith(BuildCache.FolderName + "/", StringComparison.Ordinal))
             .Order(StringComparer.Ordinal)];
 
-    private static (int Exit, string Out, string Err) RunNative(string folder, string[] args)
+    private static (int Exit, string Out, string Err) RunNative(string folder, string[] args, (string Name, string Value)? environment = null)
     {
         var start = new ProcessStartInfo(NativeCli.Path!)
         {
@@ -113,6 +148,11 @@ public sealed class NativeBuildTests
             StandardOutputEncoding = Encoding.UTF8,
             StandardErrorEncoding = Encoding.UTF8,
         };
+        if (environment is { } variable)
+        {
+            start.Environment[variable.Name] = variable.Value;
+        }
+
         foreach (var a in args)
         {
             start.ArgumentList.Add(a);

@@ -3,9 +3,9 @@
 #
 #   tests/bench/startup.sh --native PATH/studypress [--jit PATH/studypress.dll] [--runs N] [--study STUDY.md]
 #
-# Times `studypress build STUDY.md --force` (default: examples/spray-nozzles) with hyperfine, as
-# whole processes: "warm" after 3 warm-up runs; "cold" with the binary's folder, the study's folder
-# and (for the JIT build) the .NET shared framework's assemblies dropped from the page cache before
+# Times `studypress --version` (start-up alone) and `studypress build STUDY.md --force` (default:
+# examples/spray-nozzles) with hyperfine, as whole processes: "warm" after 3 warm-up runs; "cold"
+# with the binary's folder, the study's folder and (for the JIT build) the .NET shared framework's assemblies dropped from the page cache before
 # every run (posix_fadvise DONTNEED, which evicts only these files' clean pages). hyperfine reports
 # wall time (mean ± sd, median) and the CPU time (user, system). Needs hyperfine and python3.
 set -euo pipefail
@@ -40,6 +40,11 @@ PY
 dir=$(dirname "$study")
 framework=$(dirname "$(dotnet --list-runtimes | sed -n 's/^Microsoft.NETCore.App \([^ ]*\) \[\(.*\)\]$/\2\/\1/p' | tail -n 1)/x")
 cmd() { echo "$1 build $study --force --out $work/out-$2"; }
+
+echo "== --version, warm (start-up alone: $runs runs after 3 warm-up runs)"
+args=(-N --warmup 3 --runs "$runs" -n native "$native --version")
+[ -n "$jit" ] && args+=(-n jit "dotnet $jit --version")
+hyperfine "${args[@]}"
 
 echo "== warm (median of $runs after 3 warm-up runs)"
 args=(-N --warmup 3 --runs "$runs" -n native "$(cmd "$native" native)")

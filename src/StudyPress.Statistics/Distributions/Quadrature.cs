@@ -97,7 +97,28 @@ internal static class Quadrature
     /// </summary>
     public static double Integrate(Func<double, double> f, IReadOnlyList<double> breaks, double relTol, double absTol = 0, int maxPanels = 400)
     {
-        var queue = new PriorityQueue<(double A, double B, double V, double E), double>();
+        // The studentized range nests one integral in another (an inner integral at every point of
+        // the outer one), so a Tukey comparison runs thousands of these: reuse this thread's queues
+        // instead of allocating and growing a new one each time. A heap's order depends only on the
+        // operations made on it, so a cleared queue gives the same panels in the same order.
+        var spare = spareQueues ??= new Stack<PriorityQueue<(double A, double B, double V, double E), double>>();
+        var queue = spare.Count > 0 ? spare.Pop() : new PriorityQueue<(double A, double B, double V, double E), double>();
+        try
+        {
+            return Integrate(f, breaks, relTol, absTol, maxPanels, queue);
+        }
+        finally
+        {
+            queue.Clear();
+            spare.Push(queue);
+        }
+    }
+
+    [ThreadStatic]
+    private static Stack<PriorityQueue<(double A, double B, double V, double E), double>>? spareQueues;
+
+    private static double Integrate(Func<double, double> f, IReadOnlyList<double> breaks, double relTol, double absTol, int maxPanels, PriorityQueue<(double A, double B, double V, double E), double> queue)
+    {
         double total = 0, err = 0;
         for (var i = 0; i + 1 < breaks.Count; i++)
         {

@@ -108,7 +108,10 @@ internal static class ReportRenderer
             ["css"] = Style,
             ["js"] = ReportTemplate.Script,
         };
-        var tc = new TemplateContext
+        // No built-in functions: the shell uses none, and Scriban's default set is built by
+        // reflection over some two hundred methods on first use (about a tenth of a small study's
+        // time in the native build; docs/performance.md, "Start-up").
+        var tc = new TemplateContext(new ScriptObject())
         {
             StrictVariables = true,
             EnableRelaxedMemberAccess = false,

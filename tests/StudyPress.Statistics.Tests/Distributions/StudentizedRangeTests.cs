@@ -27,6 +27,35 @@ public class StudentizedRangeTests
 
     public static TheoryData<double> DfValues => new() { 1, 2, 3, 5, 10, 30, 120, 1000, double.PositiveInfinity };
 
+    [Fact]
+    public void Upper_SameBitsOnAFreshThreadAsAfterManyIntegrals()
+    {
+        // The quadrature reuses each thread's priority queues (Quadrature.Integrate): a queue left
+        // over from earlier (nested) integrals must give exactly the panels a new one gives.
+        // Regression check against a reused queue keeping state; the values themselves are checked
+        // against published tables by the tests below.
+        double[] Run() =>
+        [
+            StudentizedRange.Upper(3.7, 4, 36),
+            StudentizedRange.UpperQuantile(0.05, 6, 12),
+            StudentizedRange.Cdf(2.1, 3, 8),
+            StudentizedRange.Upper(5.5, 10, double.PositiveInfinity),
+        ];
+
+        var warm = Run();
+        var again = Run();
+        double[]? fresh = null;
+        var thread = new Thread(() => fresh = Run());
+        thread.Start();
+        thread.Join();
+        Assert.NotNull(fresh);
+        for (var i = 0; i < warm.Length; i++)
+        {
+            Assert.Equal(BitConverter.DoubleToInt64Bits(fresh![i]), BitConverter.DoubleToInt64Bits(warm[i]));
+            Assert.Equal(BitConverter.DoubleToInt64Bits(fresh[i]), BitConverter.DoubleToInt64Bits(again[i]));
+        }
+    }
+
     [Theory]
     [MemberData(nameof(DfValues))]
     public void Upper_K2_EqualsTwoSidedStudentT(double df)
