@@ -90,6 +90,7 @@ public static class Compilation
         manifest = null;
         figures = [];
         format = null;
+        var timer = PhaseTimes.Start();
         var display = studyPath;
         if (StudyFile.Read(studyPath, display, diagnostics) is not { } bytes)
         {
@@ -126,11 +127,14 @@ public static class Compilation
 
         var studyDir = Path.GetDirectoryName(Path.GetFullPath(studyPath))!;
         var errorsBeforeData = diagnostics.Items.Count;
+        timer?.End("parse and bind");
         var datasets = DatasetLoader.Load(header, blocks, studyDir, display, options.AllowOutsidePaths, diagnostics);
         if (diagnostics.Items.Skip(errorsBeforeData).Any(d => d.Severity == Severity.Error))
         {
             return null;
         }
+
+        timer?.End("load");
 
         // Model: each anova block's model, and the cells and order statistics of aggregated datasets
         // (the last queries), so that evaluation does no I/O.
@@ -139,6 +143,8 @@ public static class Compilation
         {
             return null;
         }
+
+        timer?.End("model");
 
         // Evaluate.
         var studyFolder = Path.GetDirectoryName(display);
@@ -159,6 +165,7 @@ public static class Compilation
             var outcome = KindEvaluators.For(block).Evaluate(context, block, diagnostics);
             outcomes[block.Syntax] = outcome;
             context.Outcomes[block.Id] = outcome;
+            timer?.End("evaluate " + block.Kind.Name + " " + block.Id);
         }
 
         var resolved = References.ResolveAll(syntax, reportedReferences, context.Results, primary, header.Alpha, diagnostics);
@@ -194,7 +201,9 @@ public static class Compilation
             }
         }
 
+        timer?.End("references and manifest");
         var html = ReportRenderer.Render(syntax, header, outcomes, resolved, inputs, identity, manifest);
+        timer?.End("render");
         if (ReportIntegrity.Problem(html) is { } problem)
         {
             // Checked before anything can be written, and again by the writer (OutputSet).
