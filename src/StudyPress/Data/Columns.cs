@@ -147,6 +147,38 @@ public sealed class ExactValues
         }
     }
 
+    /// <summary>
+    /// <c>(double)Decimal(v, scale)</c> without forming the decimal: the runtime converts a decimal
+    /// to double as (low 64 bits + high 32 bits × 2^64) / 10^scale in double arithmetic, with the
+    /// sign applied last, and this does the same operations in the same order, so the result is
+    /// the same bits (test ExactValuesTests.ToDouble_SameBitsAsDecimalConversion). Four times
+    /// faster than forming the decimal and converting it, on the big-data path (exact centring).
+    /// </summary>
+    internal static double ToDouble(Int128 v, byte scale)
+    {
+        var negative = v < 0;
+        var a = (UInt128)(negative ? -v : v);
+        var d = ((double)(ulong)a + ((double)(uint)(a >> 64) * TwoTo64)) / DoublePowers10[scale];
+        return negative ? -d : d;
+    }
+
+    /// <summary><see cref="ToDouble(Int128, byte)"/> of a 64-bit mantissa (no 128-bit arithmetic).</summary>
+    internal static double ToDouble(long v, byte scale)
+    {
+        var negative = v < 0;
+        var d = (double)(negative ? (ulong)-v : (ulong)v) / DoublePowers10[scale];
+        return negative ? -d : d;
+    }
+
+    private const double TwoTo64 = 1.8446744073709552e+019;
+
+    /// <summary>10^k as doubles for decimal scales 0..28 (exact up to 10^22, the nearest double above).</summary>
+    private static readonly double[] DoublePowers10 =
+    [
+        1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11, 1e12, 1e13, 1e14,
+        1e15, 1e16, 1e17, 1e18, 1e19, 1e20, 1e21, 1e22, 1e23, 1e24, 1e25, 1e26, 1e27, 1e28,
+    ];
+
     /// <summary>The decimal with mantissa |v| (below 2^96), the sign of v and the given scale.</summary>
     internal static decimal Decimal(Int128 v, byte scale)
     {
