@@ -48,4 +48,55 @@ public sealed class ExactValuesTests
             }
         }
     }
+
+    [Theory]
+    [InlineData(3, 40_000, 1_000)]
+    [InlineData(0, 10_000, 7)]
+    [InlineData(2, 20_000, 2_400)]
+    public void CountingSorted_SameArrayAsSort(int scale, int n, int spread)
+    {
+        // Integers in a narrow range around zero (ties, negatives, zero), their doubles as the
+        // loader makes them, and every other position of the column.
+        var rng = new Random(n + spread);
+        var m = new long[n];
+        var values = new double[n];
+        for (var i = 0; i < n; i++)
+        {
+            m[i] = rng.Next(-spread / 2, spread / 2 + 1);
+            values[i] = (double)ExactValues.Decimal(m[i], (byte)scale);
+        }
+
+        var positions = Enumerable.Range(0, n).Where(i => i % 2 == 1).ToArray();
+        var expected = positions.Select(p => values[p]).ToArray();
+        Array.Sort(expected);
+        var counted = ExactValues.Scaled(m, scale).CountingSorted(values, positions);
+        Assert.NotNull(counted);
+        Assert.Equal(expected.Select(Bits), counted.Select(Bits));
+    }
+
+    [Fact]
+    public void CountingSorted_DeclinesWhatItCannotProve()
+    {
+        var m = new long[] { 5, 3, 4, 3, 5, 4, 3, 5 };
+        var values = m.Select(v => (double)v).ToArray();
+        var all = Enumerable.Range(0, m.Length).ToArray();
+        var exact = ExactValues.Scaled(m, 0);
+        Assert.Equal(new double[] { 3, 3, 3, 4, 4, 5, 5, 5 }, exact.CountingSorted(values, all));
+
+        // The same integer with two different doubles: not the column's doubles, so no counting.
+        var other = (double[])values.Clone();
+        other[3] = 3.5;
+        Assert.Null(exact.CountingSorted(other, all));
+
+        // Doubles that fall while the integers rise: not an order-preserving column.
+        var falling = m.Select(v => (double)-v).ToArray();
+        Assert.Null(exact.CountingSorted(falling, all));
+
+        // A range wider than half the count: sorted the ordinary way.
+        var wide = ExactValues.Scaled([0, 1000, 7, 3], 0);
+        Assert.Null(wide.CountingSorted([0, 1000, 7, 3], [0, 1, 2, 3]));
+
+        // Decimals (no common scale): not counted.
+        Assert.Null(ExactValues.Of([1m, 2m, 1m, 2m]).CountingSorted([1, 2, 1, 2], [0, 1, 2, 3]));
+    }
 }
