@@ -225,8 +225,8 @@ public sealed class ExactValues
     /// <c>(double)Decimal(v, scale)</c> without forming the decimal: the runtime converts a decimal
     /// to double as (low 64 bits + high 32 bits × 2^64) / 10^scale in double arithmetic, with the
     /// sign applied last, and this does the same operations in the same order, so the result is
-    /// the same bits (test ExactValuesTests.ToDouble_SameBitsAsDecimalConversion). Four times
-    /// faster than forming the decimal and converting it, on the big-data path (exact centring).
+    /// the same bits (test ExactValuesTests.ToDouble_SameBitsAsDecimalConversion). Used by exact
+    /// centring on the big-data path.
     /// </summary>
     internal static double ToDouble(Int128 v, byte scale)
     {
