@@ -203,7 +203,6 @@ public static class Compilation
                 figures.Add((FigureFileName(header.Id, block.Id, f, taken), f));
             }
         }
-
         var html = ReportRenderer.Render(syntax, header, outcomes, resolved, inputs, identity, manifest);
         StageTimes.Mark("render");
         if (ReportIntegrity.Problem(html) is { } problem)

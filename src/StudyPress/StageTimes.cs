@@ -6,9 +6,12 @@ namespace StudyPress;
 /// <summary>
 /// A developer's look at where a build's time goes: when the environment variable
 /// <c>STUDYPRESS_TIMINGS</c> is <c>1</c>, each stage of the command line and of a compilation
-/// writes one line to standard error, <c>studypress: time: STAGE +X ms (Y ms since the process
-/// started)</c>. Off (one environment read, then nothing) when the variable is unset; it never
-/// touches a report, a manifest or any other output (docs/performance.md, "Start-up").
+/// writes one line to standard error when it ends, <c>studypress: time: STAGE +X ms (Y ms since
+/// the process started; CPU +C ms, allocated +A MB, heap H MB, resident R MB)</c>: its wall time,
+/// the process's CPU time in it (all threads), the managed memory allocated in it, and the GC heap
+/// and the process's resident memory after it. Off (one environment read, then nothing: no clock
+/// or counter is read) when the variable is unset; it never touches a report, a manifest or any
+/// other output (docs/performance.md, "Start-up" and "Where the time goes").
 /// </summary>
 public static class StageTimes
 {
@@ -20,10 +23,14 @@ public static class StageTimes
 
     private static long last = Stopwatch.GetTimestamp();
 
+    private static TimeSpan lastCpu = On ? Process.GetCurrentProcess().TotalProcessorTime : TimeSpan.Zero;
+
+    private static long lastAllocated = On ? GC.GetTotalAllocatedBytes() : 0;
+
     /// <summary>True when the variable asks for the lines.</summary>
     public static bool Enabled => On;
 
-    /// <summary>Ends a stage: writes its time since the previous mark (nothing when off).</summary>
+    /// <summary>Ends a stage: writes its time and memory since the previous mark (nothing when off).</summary>
     public static void Mark(string stage)
     {
         if (!On)
@@ -36,8 +43,15 @@ public static class StageTimes
             var now = Stopwatch.GetTimestamp();
             var step = Stopwatch.GetElapsedTime(last, now).TotalMilliseconds;
             last = now;
-            var sinceStart = (DateTime.Now - Process.GetCurrentProcess().StartTime).TotalMilliseconds;
-            Console.Error.WriteLine(string.Create(CultureInfo.InvariantCulture, $"studypress: time: {stage} +{step:F1} ms ({sinceStart:F0} ms since the process started)"));
+            using var process = Process.GetCurrentProcess();
+            var sinceStart = (DateTime.Now - process.StartTime).TotalMilliseconds;
+            var cpu = process.TotalProcessorTime;
+            var allocated = GC.GetTotalAllocatedBytes();
+            const double MiB = 1048576.0;
+            Console.Error.WriteLine(string.Create(CultureInfo.InvariantCulture,
+                $"studypress: time: {stage} +{step:F1} ms ({sinceStart:F0} ms since the process started; CPU +{(cpu - lastCpu).TotalMilliseconds:F1} ms, allocated +{(allocated - lastAllocated) / MiB:F1} MB, heap {GC.GetTotalMemory(false) / MiB:F1} MB, resident {Environment.WorkingSet / MiB:F1} MB)"));
+            lastCpu = cpu;
+            lastAllocated = allocated;
         }
     }
 }

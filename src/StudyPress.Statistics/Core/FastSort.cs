@@ -101,6 +101,128 @@ public static class FastSort
         return copy;
     }
 
+    /// <summary>
+    /// The order statistics <c>SortedCopy(values)[ranks[k]]</c> (0-based ranks) without sorting all
+    /// the values: one pass counts the values into 65,536 equal-width buckets between the smallest
+    /// and the largest (the bucket index does not decrease as the value grows, so each bucket holds
+    /// a run of the sorted order); a second pass copies out only the buckets that hold a wanted rank,
+    /// and each of those is sorted on its own. The same doubles, bit for bit, as the full sort when
+    /// there is no NaN and no −0 (the ascending order is then unique); otherwise, or for fewer than
+    /// <see cref="RadixThreshold"/> values, the full sort runs. Extra memory: the counts and the
+    /// wanted buckets' values (a few per cent of n for thinned figures) instead of two copies of n.
+    /// </summary>
+    public static double[] OrderStatistics(ReadOnlySpan<double> values, IReadOnlyList<int> ranks)
+    {
+        ArgumentNullException.ThrowIfNull(ranks);
+        var n = values.Length;
+        foreach (var r in ranks)
+        {
+            ArgumentOutOfRangeException.ThrowIfNegative(r);
+            ArgumentOutOfRangeException.ThrowIfGreaterThanOrEqual(r, n);
+        }
+
+        var min = double.PositiveInfinity;
+        var max = double.NegativeInfinity;
+        var safe = n >= RadixThreshold;
+        foreach (var v in values)
+        {
+            if (double.IsNaN(v) || (v == 0 && double.IsNegative(v)))
+            {
+                safe = false;
+                break;
+            }
+
+            min = Math.Min(min, v);
+            max = Math.Max(max, v);
+        }
+
+        const int BucketCount = 1 << 16;
+        var width = max - min;
+        var scale = BucketCount / width;
+        if (!safe || !double.IsFinite(width) || !(width > 0) || !double.IsFinite(scale) || !(scale > 0))
+        {
+            var sorted = SortedCopy(values);
+            return [.. ranks.Select(r => sorted[r])];
+        }
+
+        int Bucket(double v) => Math.Min(BucketCount - 1, (int)((v - min) * scale));
+
+        var counts = new int[BucketCount + 1];
+        foreach (var v in values)
+        {
+            counts[Bucket(v) + 1]++;
+        }
+
+        // counts[b] becomes the rank of bucket b's first value.
+        for (var b = 1; b <= BucketCount; b++)
+        {
+            counts[b] += counts[b - 1];
+        }
+
+        int BucketOf(int rank)
+        {
+            var at = Array.BinarySearch(counts, 0, BucketCount + 1, rank);
+            if (at >= 0)
+            {
+                while (at < BucketCount && counts[at + 1] == rank)
+                {
+                    at++; // skip empty buckets: the rank is the first value of the next non-empty one
+                }
+
+                return at;
+            }
+
+            return ~at - 1;
+        }
+
+        // Slots of the wanted buckets in one array, in bucket order.
+        var wanted = new int[BucketCount];
+        Array.Fill(wanted, -1);
+        var size = 0;
+        var order = new List<int>();
+        foreach (var r in ranks)
+        {
+            var b = BucketOf(r);
+            if (wanted[b] < 0)
+            {
+                order.Add(b);
+                wanted[b] = 0;
+            }
+        }
+
+        order.Sort();
+        foreach (var b in order)
+        {
+            wanted[b] = size;
+            size += counts[b + 1] - counts[b];
+        }
+
+        var picked = new double[size];
+        var fill = new int[BucketCount];
+        foreach (var v in values)
+        {
+            var b = Bucket(v);
+            if (wanted[b] >= 0)
+            {
+                picked[wanted[b] + fill[b]++] = v;
+            }
+        }
+
+        foreach (var b in order)
+        {
+            Array.Sort(picked, wanted[b], counts[b + 1] - counts[b]);
+        }
+
+        var result = new double[ranks.Count];
+        for (var k = 0; k < result.Length; k++)
+        {
+            var b = BucketOf(ranks[k]);
+            result[k] = picked[wanted[b] + (ranks[k] - counts[b])];
+        }
+
+        return result;
+    }
+
     /// <summary>No NaN and no negative zero: the ascending order of the values is unique.</summary>
     private static bool RadixSafe(double[] values)
     {

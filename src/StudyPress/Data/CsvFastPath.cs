@@ -217,6 +217,8 @@ internal static class CsvFastPath
     /// The general reader's centring, from scaled integers: centre = (decimal)(Σm × 10^-s) / n, and
     /// each centred value is (double)(x - centre) with the difference formed exactly, as decimal
     /// subtraction forms it; where that is not certain the decimal subtraction itself is done.
+    /// Conversions to double go through <see cref="ExactValues.ToDouble(Int128, byte)"/>, the
+    /// decimal conversion's own arithmetic without forming a decimal.
     /// </summary>
     private static NumericColumn Centre(string name, long[] m, int scale, Int128 sum, int n)
     {
@@ -259,8 +261,7 @@ internal static class CsvFastPath
                     continue;
                 }
 
-                var x = ExactValues.Decimal(v, s);
-                raw[i] = (double)x;
+                raw[i] = ExactValues.ToDouble(v, s);
                 var mag = (UInt128)(v < 0 ? -(Int128)v : v);
                 if (mag <= limit)
                 {
@@ -268,12 +269,12 @@ internal static class CsvFastPath
                     var dm = (UInt128)(diff < 0 ? -diff : diff);
                     if (dm <= max96 && (diff != 0 || v >= 0))
                     {
-                        centred[i] = (double)ExactValues.Decimal(diff, resultScale);
+                        centred[i] = ExactValues.ToDouble(diff, resultScale);
                         continue;
                     }
                 }
 
-                centred[i] = (double)(x - centre);
+                centred[i] = (double)(ExactValues.Decimal(v, s) - centre);
             }
 
             missingByBlock[blk] = miss;
@@ -305,7 +306,7 @@ internal static class CsvFastPath
             }
             else
             {
-                raw[i] = (double)ExactValues.Decimal(m[i], s);
+                raw[i] = ExactValues.ToDouble(m[i], s);
             }
         }
 

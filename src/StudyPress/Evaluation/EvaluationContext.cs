@@ -346,9 +346,16 @@ public sealed class EvaluationContext
             Array.Resize(ref rows, count);
         }
 
-        for (var i = 0; markUsed && i < rows.Length; i++)
+        if (markUsed && all)
         {
-            ds.Used[rows[i]] = true;
+            Array.Fill(ds.Used, true);
+        }
+        else if (markUsed)
+        {
+            foreach (var r in rows)
+            {
+                ds.Used[r] = true;
+            }
         }
 
         var factors = new List<BlockFactor>();
@@ -356,9 +363,20 @@ public sealed class EvaluationContext
         {
             var col = factorCols[k];
             var present = new bool[col.Levels.Count];
-            foreach (var r in rows)
+            if (all)
             {
-                present[col.Codes[r]] = true;
+                // Every row: the levels present are those the column counted.
+                for (var c = 0; c < present.Length; c++)
+                {
+                    present[c] = col.Counts[c] > 0;
+                }
+            }
+            else
+            {
+                foreach (var r in rows)
+                {
+                    present[col.Codes[r]] = true;
+                }
             }
 
             var remap = new int[col.Levels.Count];
@@ -372,10 +390,19 @@ public sealed class EvaluationContext
                 }
             }
 
-            var codes = new int[rows.Length];
-            for (var i = 0; i < rows.Length; i++)
+            // Every row and every level: the block's codes are the column's (shared, never changed).
+            int[] codes;
+            if (all && levels.Count == col.Levels.Count)
             {
-                codes[i] = remap[col.Codes[rows[i]]];
+                codes = col.Codes;
+            }
+            else
+            {
+                codes = new int[rows.Length];
+                for (var i = 0; i < rows.Length; i++)
+                {
+                    codes[i] = remap[col.Codes[rows[i]]];
+                }
             }
 
             factors.Add(new BlockFactor(block.Factors[k], codes, levels));

@@ -86,4 +86,34 @@ public class FastSortTests
         AssertSameAsLibrarySort([]);
         AssertSameAsLibrarySort([3, 1, 2]);
     }
+
+    /// <summary>The thinned figures' ranks: evenly spaced from the smallest to the largest, and a few more.</summary>
+    private static int[] Ranks(int n) =>
+        [.. Enumerable.Range(0, 2000).Select(k => (int)Math.Round((double)k * (n - 1) / 1999)).Concat([0, 1, n / 2, n - 2, n - 1])];
+
+    private static void AssertSameOrderStatistics(double[] values)
+    {
+        var ranks = Ranks(values.Length);
+        var sorted = (double[])values.Clone();
+        Array.Sort(sorted);
+        var picked = FastSort.OrderStatistics(values, ranks);
+        Assert.Equal(ranks.Select(r => BitConverter.DoubleToInt64Bits(sorted[r])), picked.Select(BitConverter.DoubleToInt64Bits));
+    }
+
+    [Fact]
+    public void OrderStatistics_SameAsFullSort()
+    {
+        var rng = new Random(3);
+        // Normal values (dense middle, sparse tails), heavy ties, one far outlier (most buckets empty),
+        // extremes of magnitude, zeros of both signs and NaN (left to the full sort).
+        var normal = Enumerable.Range(0, 300_000).Select(_ => Math.Sqrt(-2 * Math.Log(1 - rng.NextDouble())) * Math.Cos(2 * Math.PI * rng.NextDouble())).ToArray();
+        AssertSameOrderStatistics(normal);
+        AssertSameOrderStatistics([.. Enumerable.Range(0, 50_000).Select(_ => Math.Round((rng.NextDouble() - 0.5) * 8) / 4)]);
+        AssertSameOrderStatistics([.. normal.Take(100_000).Append(1e12)]);
+        AssertSameOrderStatistics([.. Enumerable.Range(0, 20_000).Select(i => i % 9 == 0 ? double.MaxValue * (i % 2 == 0 ? 1 : -1) : rng.NextDouble())]);
+        AssertSameOrderStatistics([.. Enumerable.Range(0, 20_000).Select(i => i % 10 == 0 ? -0.0 : rng.NextDouble() - 0.5)]);
+        AssertSameOrderStatistics([.. Enumerable.Range(0, 20_000).Select(i => i % 100 == 0 ? double.NaN : rng.NextDouble())]);
+        AssertSameOrderStatistics([.. Enumerable.Repeat(2.5, 10_000)]);
+        AssertSameOrderStatistics([.. Enumerable.Range(0, 5_000).Select(i => (double)-i)]);
+    }
 }

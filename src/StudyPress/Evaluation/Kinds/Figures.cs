@@ -33,10 +33,17 @@ public static class Figures
     /// <summary>
     /// A cell's response values (<paramref name="positions"/> into the block, as
     /// <see cref="BlockData.Cells"/> gives them) in ascending order: sorted once per cell and shared
-    /// by the summary, the means figure and the box plots. The array must not be changed.
+    /// by the summary, the means figure and the box plots. The array must not be changed. Exact
+    /// values in a narrow range are sorted by counting (<see cref="Data.ExactValues.CountingSorted"/>,
+    /// the same array), others by <see cref="Statistics.FastSort"/>.
     /// </summary>
     internal static double[] SortedValues(BlockData data, int[] positions) => SortedCells.GetValue(positions, p =>
     {
+        if (data.Exact?.CountingSorted(data.Values, p) is { } counted)
+        {
+            return counted;
+        }
+
         var v = new double[p.Length];
         for (var k = 0; k < p.Length; k++)
         {
@@ -65,13 +72,26 @@ public static class Figures
     /// <summary>Evenly spaced order statistics of sorted values (see <see cref="Thin"/>).</summary>
     private static double[] ThinSorted(double[] sorted)
     {
+        var ranks = ThinRanks(sorted.Length);
         var r = new double[ThinnedPoints];
         for (var k = 0; k < ThinnedPoints; k++)
         {
-            r[k] = sorted[(int)Math.Round((double)k * (sorted.Length - 1) / (ThinnedPoints - 1))];
+            r[k] = sorted[ranks[k]];
         }
 
         return r;
+    }
+
+    /// <summary>The 0-based ranks of the <see cref="ThinnedPoints"/> evenly spaced order statistics of n values.</summary>
+    private static int[] ThinRanks(int n)
+    {
+        var ranks = new int[ThinnedPoints];
+        for (var k = 0; k < ThinnedPoints; k++)
+        {
+            ranks[k] = (int)Math.Round((double)k * (n - 1) / (ThinnedPoints - 1));
+        }
+
+        return ranks;
     }
 
     /// <summary>
@@ -86,10 +106,8 @@ public static class Figures
             return values;
         }
 
-        return Thinned.GetValue(values, v =>
-        {
-            return ThinSorted(Statistics.FastSort.SortedCopy(v));
-        });
+        // The wanted order statistics only, not a sorted copy of all the values (same doubles).
+        return Thinned.GetValue(values, v => Statistics.FastSort.OrderStatistics(v, ThinRanks(v.Length)));
     }
 
     private static string ThinNote(int n) => n > MaxPoints
