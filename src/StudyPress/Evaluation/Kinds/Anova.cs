@@ -156,7 +156,7 @@ public sealed partial class AnovaEvaluator : KindEvaluator
 
     public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
     {
-        var options = (AnovaKind.Options)block.Options!;
+        var options = block.OptionsOf<AnovaKind.Options>();
         var model = context.Models.Descriptions[block.Id];
         if (options.HasCovariates)
         {

@@ -64,7 +64,7 @@ public sealed class EquivalenceEvaluator : KindEvaluator
 
     public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
     {
-        var options = (EquivalenceKind.Options)block.Options!;
+        var options = block.OptionsOf<EquivalenceKind.Options>();
         var outcome = new EquivalenceOutcome(block) { NonInferiority = options.NonInferiority, Better = options.Better };
         if (context.Outcomes.GetValueOrDefault(block.Of!.Id) is not AnovaOutcome anova)
         {

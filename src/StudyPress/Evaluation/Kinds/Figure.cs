@@ -23,7 +23,7 @@ public sealed class FigureEvaluator : KindEvaluator
 
     public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
     {
-        var options = (FigureKind.Options)block.Options!;
+        var options = block.OptionsOf<FigureKind.Options>();
         var source = context.Outcomes.GetValueOrDefault(options.Source.Id);
         var caption = block.Caption;
         var data = source switch

@@ -83,7 +83,7 @@ public sealed class MarginalMeansEvaluator : KindEvaluator
 
     public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
     {
-        var options = (MarginalMeansKind.Options)block.Options!;
+        var options = block.OptionsOf<MarginalMeansKind.Options>();
         var outcome = new MarginalMeansOutcome(block);
         if (context.Outcomes.GetValueOrDefault(block.Of!.Id) is not AnovaOutcome { Data: { } data } anova)
         {

@@ -75,7 +75,7 @@ public sealed partial class PostHocEvaluator : KindEvaluator
 
     public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
     {
-        var options = (PostHocKind.Options)block.Options!;
+        var options = block.OptionsOf<PostHocKind.Options>();
         if (context.Outcomes.GetValueOrDefault(block.Of!.Id) is AnovaOutcome { Ancova: { } ancova } covariance)
         {
             return EvaluateCovariates(context, block, options, covariance, ancova, diagnostics);

@@ -37,7 +37,7 @@ public sealed class PowerEvaluator : KindEvaluator
 
     public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
     {
-        var o = (PowerKind.Options)block.Options!;
+        var o = block.OptionsOf<PowerKind.Options>();
         var outcome = new PowerOutcome(block) { Alpha = o.Alpha, Target = o.Target };
         var groups = o.Groups;
         var effect = o.Effect;

@@ -129,7 +129,7 @@ public sealed class RepeatedEvaluator : KindEvaluator
 
     public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
     {
-        var o = (RepeatedKind.Options)block.Options!;
+        var o = block.OptionsOf<RepeatedKind.Options>();
         var all = o.Factors.ToList();
         var kw = o.Within.Count;
         var kb = o.Between.Count;

@@ -60,7 +60,7 @@ public sealed class PostHocRenderer : KindRenderer
     private static IEnumerable<string> MethodsDecisionFromRows(MethodsSection s, PostHocOutcome p, MethodsWriter w)
     {
         var a = s.Anova;
-        var popts = (PostHocKind.Options)p.Block.Options!;
+        var popts = p.Block.OptionsOf<PostHocKind.Options>();
         if (popts.Method != "auto")
         {
             yield break;
@@ -79,7 +79,7 @@ public sealed class PostHocRenderer : KindRenderer
     private static IEnumerable<string> MethodsDecisionFromCells(MethodsSection s, PostHocOutcome p, MethodsWriter w)
     {
         var a = s.Anova;
-        var popts = (PostHocKind.Options)p.Block.Options!;
+        var popts = p.Block.OptionsOf<PostHocKind.Options>();
         if (popts.Method != "auto")
         {
             yield break;
@@ -115,7 +115,7 @@ public sealed class PostHocRenderer : KindRenderer
     private static string BriefComparison(MethodsSection? s, PostHocOutcome p, MethodsWriter w)
     {
         var f = p.Families[0];
-        var popts = (PostHocKind.Options)p.Block.Options!;
+        var popts = p.Block.OptionsOf<PostHocKind.Options>();
         var factor = MethodsWriter.E(p.FactorLabel);
         var method = f.Test switch
         {
@@ -166,7 +166,7 @@ public sealed class PostHocRenderer : KindRenderer
     private static string MethodsComparison(PostHocOutcome p, MethodsWriter w)
     {
         var f = p.Families[0];
-        var control = ((PostHocKind.Options)p.Block.Options!).Control;
+        var control = p.Block.OptionsOf<PostHocKind.Options>().Control;
         var what = control is null
             ? $"pairwise differences between the levels of {MethodsWriter.E(p.FactorLabel)}"
             : $"the differences of each level of {MethodsWriter.E(p.FactorLabel)} from the control {MethodsWriter.E(control)}";
