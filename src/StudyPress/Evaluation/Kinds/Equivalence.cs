@@ -32,10 +32,10 @@ public sealed class EquivalenceOutcome(BoundBlock block) : BlockOutcome(block)
     public string FactorLabel { get; set; } = string.Empty;
 
     /// <summary>True for non-inferiority, false for equivalence (TOST).</summary>
-    public bool NonInferiority { get; set; }
+    public bool NonInferiority { get; init; }
 
     /// <summary>Non-inferiority: "higher" or "lower" is better.</summary>
-    public string? Better { get; set; }
+    public string? Better { get; init; }
 
     /// <summary>The standard error's source (pooled from the anova, a design's error term, or Welch).</summary>
     public EquivalenceError Error { get; set; }

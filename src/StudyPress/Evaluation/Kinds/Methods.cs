@@ -51,7 +51,7 @@ public sealed class MethodsOutcome(BoundBlock block) : BlockOutcome(block)
     /// <summary>Datasets the covered blocks read, with traced row counts.</summary>
     public List<(MethodsLoadedDatasetView Dataset, ResultValue Rows, ResultValue RowsUsed)> Inputs { get; } = [];
 
-    public double Alpha { get; set; }
+    public double Alpha { get; init; }
 }
 
 /// <summary>What the text says about an input file; <paramref name="Aggregated"/>: its rows are the database's cells (<c>aggregate: true</c>).</summary>

@@ -22,6 +22,8 @@ public sealed class AnovaRenderer : KindRenderer
 
     public override string Kind => "anova";
 
+    private const string CellsMethodNote = "ANOVA table, level means, Welch's F and Bartlett's test were computed from per-cell counts, means and sums of squares computed by the database (aggregate: true). The checks that need the rows (normality of the residuals, Brown–Forsythe/Levene, outliers, run order), the Kruskal–Wallis test and the figures were not run: the rows were not loaded.";
+
     /// <summary>The anova's sentences in a methods paragraph: design, model, decisions, effects, cautions.</summary>
     public override IEnumerable<string> Methods(MethodsPart part, MethodsSection? section, BlockOutcome outcome, MethodsWriter w)
     {
@@ -596,7 +598,7 @@ public sealed class AnovaRenderer : KindRenderer
 
         if (a.Route == AnovaRoute.Cells)
         {
-            yield return AnovaEvaluator.CellsMethodNote;
+            yield return CellsMethodNote;
         }
 
         if (a.Ancova is { } covariance)
