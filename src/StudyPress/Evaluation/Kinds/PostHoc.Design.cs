@@ -96,13 +96,7 @@ public sealed partial class PostHocEvaluator
         var inputs = context.Inputs(block);
         var term = factor.Spec.Name;
         outcome.Families.Add(Record(context, block, test, procedure, result, term, inputs));
-        var m = result.Comparisons.Count;
-        outcome.Multiplicity[Stat.M] = context.Results.Add(block.Id, TestName.Family, term, null, null, Stat.M, m, inputs);
-        outcome.Multiplicity[Stat.FwerUnadjusted] = context.Results.Add(block.Id, TestName.Family, term, null, null, Stat.FwerUnadjusted, PValueAdjustment.FamilyWiseErrorRate(m, alpha), inputs);
-        if (context.Header.Report.Figures && Figures.Intervals(outcome, alpha) is { } figure)
-        {
-            outcome.Figures.Add(figure);
-        }
+        AddFamilySize(context, block, outcome, term, result.Comparisons.Count, alpha, inputs);
 
         outcome.SingleObservationLevels = groups.Any(g => g.Length < 2);
         AddInteractions(outcome, anova, term, alpha);

@@ -230,17 +230,25 @@ public sealed partial class PostHocEvaluator : KindEvaluator
             outcome.Families.Add(Record(context, block, "dunn", PostHocProcedure.Dunn, Dunn.Compare(levels, rawGroups, alpha, PValueAdjustmentMethod.Holm), term, inputs));
         }
 
-        var m = result.Comparisons.Count;
+        AddFamilySize(context, block, outcome, term, result.Comparisons.Count, alpha, inputs);
+
+        outcome.SingleObservationLevels = groups.Any(g => g.Length < 2);
+        AddInteractions(outcome, anova, term, alpha);
+        return outcome;
+    }
+
+    /// <summary>
+    /// The family's size and its family-wise error rate without adjustment (manifest), and its
+    /// intervals figure: the same on every route (rows, cell statistics, declared design).
+    /// </summary>
+    internal static void AddFamilySize(EvaluationContext context, BoundBlock block, PostHocOutcome outcome, string term, int m, double alpha, IReadOnlyList<string> inputs)
+    {
         outcome.Multiplicity[Stat.M] = context.Results.Add(block.Id, TestName.Family, term, null, null, Stat.M, m, inputs);
         outcome.Multiplicity[Stat.FwerUnadjusted] = context.Results.Add(block.Id, TestName.Family, term, null, null, Stat.FwerUnadjusted, PValueAdjustment.FamilyWiseErrorRate(m, alpha), inputs);
         if (context.Header.Report.Figures && Figures.Intervals(outcome, alpha) is { } figure)
         {
             outcome.Figures.Add(figure);
         }
-
-        outcome.SingleObservationLevels = groups.Any(g => g.Length < 2);
-        AddInteractions(outcome, anova, term, alpha);
-        return outcome;
     }
 
     /// <summary>Dunnett's procedure with its alternative.</summary>
