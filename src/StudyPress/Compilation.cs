@@ -165,7 +165,7 @@ public static class Compilation
         {
             var outcome = KindEvaluators.For(block).Evaluate(context, block, diagnostics);
             outcomes[block.Syntax] = outcome;
-            context.Outcomes[block.Id] = outcome;
+            context.Record(outcome);
             StageTimes.Mark("evaluate " + block.Kind.Name + " " + block.Id);
         }
 
@@ -196,14 +196,21 @@ public static class Compilation
         StageTimes.Mark("manifest");
         format = new NumberFormat(header.Report.Numbers);
         var taken = new HashSet<string>(StringComparer.OrdinalIgnoreCase);
+        // Each block's figures drawn once (chart and caption, from the values evaluation chose),
+        // for the report and for the PNG and LaTeX exports alike.
+        var drawn = new Dictionary<BlockOutcome, IReadOnlyList<Figure>>();
         foreach (var block in blocks)
         {
-            foreach (var f in outcomes[block.Syntax].Figures)
+            var outcome = outcomes[block.Syntax];
+            drawn[outcome] = FigureDrawing.Of(outcome);
+            foreach (var f in drawn[outcome])
             {
                 figures.Add((FigureFileName(header.Id, block.Id, f, taken), f));
             }
         }
-        var html = ReportRenderer.Render(syntax, header, outcomes, resolved, inputs, identity, manifest);
+
+        StageTimes.Mark("figures");
+        var html = ReportRenderer.Render(syntax, header, outcomes, drawn, resolved, inputs, identity, manifest);
         StageTimes.Mark("render");
         if (ReportIntegrity.Problem(html) is { } problem)
         {

@@ -254,10 +254,10 @@ public sealed partial class ReportLookTests
     {
         var chart = StudyPress.Charts.StatCharts.GroupMeans([new("A", 1, 0, 2)], "95%", new("t", "x", "y"));
         var taken = new HashSet<string>(StringComparer.OrdinalIgnoreCase);
-        var f = new StudyPress.Evaluation.Kinds.Figure("f-distribution", "c", chart) { Part = "dose:Ré gime" };
+        var f = new StudyPress.Rendering.Figure("f-distribution", "c", chart) { Part = "dose:Ré gime" };
         Assert.Equal("s_b_f-distribution-dose-R--gime.png", Compilation.FigureFileName("s", "b", f, taken));
         Assert.Equal("s_b_f-distribution-dose-R--gime-2.png", Compilation.FigureFileName("s", "b", f, taken));
-        Assert.Equal("s_b_means.png", Compilation.FigureFileName("s", "b", new StudyPress.Evaluation.Kinds.Figure("means", "c", chart), taken));
+        Assert.Equal("s_b_means.png", Compilation.FigureFileName("s", "b", new StudyPress.Rendering.Figure("means", "c", chart), taken));
     }
 
     [Theory]

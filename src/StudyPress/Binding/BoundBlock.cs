@@ -38,8 +38,18 @@ public sealed class BoundBlock
     /// <summary>The anova block this block analyses (assumptions, posthoc), or null.</summary>
     public BoundBlock? Of { get; init; }
 
-    /// <summary>The kind's own bound options.</summary>
+    /// <summary>The kind's own bound options (read them typed with <see cref="OptionsOf{TOptions}"/>).</summary>
     public object? Options { get; init; }
+
+    /// <summary>
+    /// The kind's own bound options as the kind's <c>Options</c> record (for example
+    /// <c>block.OptionsOf&lt;AnovaKind.Options&gt;()</c>): the one typed way evaluators and renderers read
+    /// them, instead of a cast at each use (ArchitectureTests keeps it so). A block of another kind,
+    /// or one bound without options, is a bug and throws.
+    /// </summary>
+    public TOptions OptionsOf<TOptions>()
+        where TOptions : class =>
+        Options as TOptions ?? throw new InvalidOperationException($"block '{Id}' ({Kind.Name}) has no {typeof(TOptions).FullName} options");
 
     /// <summary>
     /// The header factor naming the whole plots (<c>role: whole-plot</c>), for an anova block of a

@@ -23,7 +23,7 @@ public static class DatasetLoader
         foreach (var b in blocks.Where(b => b.Options is FigureKind.Options))
         {
             // A figure reads no dataset itself, but most types draw the rows of the block they show.
-            var figure = (FigureKind.Options)b.Options!;
+            var figure = b.OptionsOf<FigureKind.Options>();
             if (!FigureKind.DrawnFromStatistics.Contains(figure.Type)
                 && (figure.Source.Data ?? figure.Source.Of?.Data) is { } sourceData
                 && header.Datasets.FirstOrDefault(d => d.Name == sourceData) is { Aggregate: true } aggregatedSource)

@@ -730,6 +730,12 @@ public sealed class DiagnosticBag
     public void MarginalMeansCompareNotDefensible(SourceLocation at, string compare, string what, string reason) =>
         Error("SP0540", at, $"'compare: {compare}' cannot be applied to {what}: {reason}");
 
+    /// <summary>SP0540 for Tukey over means whose differences do not rest on one error (from the mixed model, or from several strata).</summary>
+    public void MarginalMeansTukeyNotOneError(SourceLocation at, string what, bool fromMixedModel) =>
+        MarginalMeansCompareNotDefensible(at, "tukey", what, fromMixedModel
+            ? "the means come from the mixed model (incomplete subjects kept), where each difference has its own standard error and Satterthwaite df, and Tukey's studentized range needs one error for all of them; write 'compare: holm' or 'compare: bonferroni'"
+            : "their differences do not all rest on one error (differences between the levels of a between-subject factor rest on the subjects' error, those of a within-subject factor on its own error, and cells of a crossing mix both), and Tukey's studentized range needs one error for all of them; write 'compare: holm' or 'compare: bonferroni' (each pair on its own error, Satterthwaite df)");
+
     // ---- output (SP06xx) ----
     public void CannotWrite(SourceLocation at, string path, string reason) => Error("SP0601", at, $"cannot write {Q(path)}: {reason}");
 

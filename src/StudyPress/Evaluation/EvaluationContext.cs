@@ -41,6 +41,34 @@ public sealed class BlockData
 
     private IReadOnlyList<(string Label, int[] Codes, double[] Values, int[] Positions)>? _cells;
 
+    /// <summary>Each cell's sorted values, by the cell's positions array: a memo of this selection (one run's), filled by <see cref="SortedValues"/>.</summary>
+    private readonly System.Collections.Concurrent.ConcurrentDictionary<int[], double[]> sortedCells = new(ReferenceEqualityComparer.Instance);
+
+    /// <summary>
+    /// A cell's response values (<paramref name="positions"/> as <see cref="Cells"/> gives them) in
+    /// ascending order, sorted once per cell (whichever thread asks first; the result is the same)
+    /// and shared by every caller: the array must not be changed. Exact values in a narrow range are
+    /// sorted by counting (<see cref="Data.ExactValues.CountingSorted"/>), others by
+    /// <see cref="Statistics.FastSort"/>.
+    /// </summary>
+    internal double[] SortedValues(int[] positions) => sortedCells.GetOrAdd(positions, p =>
+    {
+        // Exact values in a narrow range are sorted by counting (the same array), others by FastSort.
+        if (Exact?.CountingSorted(Values, p) is { } counted)
+        {
+            return counted;
+        }
+
+        var v = new double[p.Length];
+        for (var k = 0; k < p.Length; k++)
+        {
+            v[k] = Values[p[k]];
+        }
+
+        Statistics.FastSort.Sort(v);
+        return v;
+    });
+
     /// <summary>The rows' sufficient statistics per cell (centred means), the view the cells route has too.</summary>
     public Model.CellTable CellTable() => Model.CellTable.FromGroups(
         [.. Factors.Select(f => f.Spec)],
@@ -213,7 +241,22 @@ public sealed class EvaluationContext
     /// <summary>How each dataset's path is printed in messages (relative to the working folder).</summary>
     public IReadOnlyDictionary<string, string> DataDisplayPaths { get; init; } = new Dictionary<string, string>(StringComparer.Ordinal);
 
-    public Dictionary<string, Kinds.BlockOutcome> Outcomes { get; } = new(StringComparer.Ordinal);
+    /// <summary>The outcomes of the blocks evaluated so far, by block id (a read-only view; <see cref="Record"/> adds one).</summary>
+    public IReadOnlyDictionary<string, Kinds.BlockOutcome> Outcomes => outcomes;
+
+    private readonly Dictionary<string, Kinds.BlockOutcome> outcomes = new(StringComparer.Ordinal);
+
+    /// <summary>Records a block's outcome once it is evaluated (the compilation's evaluation loop).</summary>
+    internal void Record(Kinds.BlockOutcome outcome) => outcomes[outcome.Block.Id] = outcome;
+
+    /// <summary>
+    /// A pure memo owned by this run: <paramref name="compute"/> of <paramref name="key"/> (an array,
+    /// compared as the same object), computed once and shared (for example the thinned residuals
+    /// that a normal quantile plot and a histogram both draw). The result must not be changed.
+    /// </summary>
+    internal double[] Memo(double[] key, Func<double[], double[]> compute) => memo.GetOrAdd(key, compute);
+
+    private readonly System.Collections.Concurrent.ConcurrentDictionary<double[], double[]> memo = new(ReferenceEqualityComparer.Instance);
 
     /// <summary>
     /// Selects a block's rows: the response and every block factor present, and the 'where'

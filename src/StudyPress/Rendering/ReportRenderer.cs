@@ -68,6 +68,7 @@ internal static class ReportRenderer
         StudySyntax syntax,
         StudyHeader header,
         IReadOnlyDictionary<AnalysisBlockSyntax, BlockOutcome> outcomes,
+        IReadOnlyDictionary<BlockOutcome, IReadOnlyList<Figure>> figures,
         IReadOnlyDictionary<ReferenceInline, ResolvedReference> references,
         IReadOnlyList<LoadedDataset> inputs,
         ManifestHeader identity,
@@ -78,7 +79,7 @@ internal static class ReportRenderer
         var body = new StringWriter(CultureInfo.InvariantCulture);
         var renderer = new HtmlRenderer(body);
         StudyParser.Pipeline(syntax.Path).Setup(renderer);
-        renderer.ObjectRenderers.Insert(0, new AnalysisBlockRenderer(outcomes, context));
+        renderer.ObjectRenderers.Insert(0, new AnalysisBlockRenderer(outcomes, figures, context));
         renderer.ObjectRenderers.Insert(0, new ReferenceRenderer(references, context));
         if (header.Report.RawHtml)
         {
@@ -191,7 +192,7 @@ internal static class ReportRenderer
         + "A small p-value is not a large or important effect, and a large p-value does not show that there is no effect.</p>"
         + "<p>Where these results inform clinical, safety, environmental or regulatory decisions, follow that field's reporting standards and have the analysis reviewed by a qualified person.</p>";
 
-    private sealed class AnalysisBlockRenderer(IReadOnlyDictionary<AnalysisBlockSyntax, BlockOutcome> outcomes, RenderContext context)
+    private sealed class AnalysisBlockRenderer(IReadOnlyDictionary<AnalysisBlockSyntax, BlockOutcome> outcomes, IReadOnlyDictionary<BlockOutcome, IReadOnlyList<Figure>> figures, RenderContext context)
         : HtmlObjectRenderer<AnalysisBlockSyntax>
     {
         protected override void Write(HtmlRenderer renderer, AnalysisBlockSyntax obj)
@@ -206,7 +207,7 @@ internal static class ReportRenderer
             html.Raw("<p class=\"block-title\">").Text(outcome.Block.Kind.Name + " · " + outcome.Block.Id).Raw("</p>");
             var kind = KindRenderers.For(outcome);
             kind.Render(html, outcome, context);
-            foreach (var figure in outcome.Figures)
+            foreach (var figure in figures[outcome])
             {
                 html.Raw("<figure class=\"chart chart-").Raw(figure.Type).Raw("\">").Raw(figure.Chart.ToSvg()).Raw("<figcaption>").Text(figure.Caption).Raw("</figcaption></figure>");
             }

@@ -59,7 +59,7 @@ public sealed class MarginalMeansKind : BlockKind
 
         // The anova block analysed (its own mistakes are reported by the binder, not here).
         var anova = context.AnovaOf(keys, Name, new DiagnosticBag());
-        var repeated = anova?.Options as RepeatedKind.Options;
+        var repeated = anova?.Kind is RepeatedKind ? anova.OptionsOf<RepeatedKind.Options>() : null;
         var factors = repeated is not null
             ? [.. repeated.Between.Concat(repeated.Within).Select(f => f.Spec.Name)]
             : anova?.Factors.Select(f => f.Name).ToList();

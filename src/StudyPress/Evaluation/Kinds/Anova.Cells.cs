@@ -20,8 +20,6 @@ namespace StudyPress.Evaluation.Kinds;
 /// </summary>
 public sealed partial class AnovaEvaluator
 {
-    public const string CellsMethodNote = "ANOVA table, level means, Welch's F and Bartlett's test were computed from per-cell counts, means and sums of squares computed by the database (aggregate: true). The checks that need the rows (normality of the residuals, Brown–Forsythe/Levene, outliers, run order), the Kruskal–Wallis test and the figures were not run: the rows were not loaded.";
-
     private static AnovaOutcome EvaluateCells(EvaluationContext context, BoundBlock block, AnovaKind.Options options, DiagnosticBag diagnostics)
     {
         var model = context.Models.Descriptions[block.Id];

@@ -47,7 +47,7 @@ public sealed record DesignRow(string Term, StrataRow? Row, RemlFixedTest? Test,
 public sealed record DesignComponent(string Term, string EngineTerm, TermKind Kind, double Variance, bool Negative, bool AtBoundary, string? SingleObservationNote, IReadOnlyDictionary<string, ResultValue> Values);
 
 /// <summary>An intraclass correlation form with its manifest values.</summary>
-public sealed record DesignIcc(string Form, string Meaning, IReadOnlyDictionary<string, ResultValue> Values);
+public sealed record DesignIcc(string Form, int Model, bool OfMean, string Layout, IReadOnlyDictionary<string, ResultValue> Values);
 
 /// <summary>The relative efficiency of one blocking factor with its manifest values.</summary>
 public sealed record DesignEfficiency(BlockingEfficiency Efficiency, IReadOnlyDictionary<string, ResultValue> Values);
@@ -453,23 +453,11 @@ public sealed partial class AnovaEvaluator
             Add(Stat.Icc, f.Icc);
             Add(Stat.CiLow, f.CiLow);
             Add(Stat.CiHigh, f.CiHigh);
-            forms.Add(new DesignIcc(f.Name, IccMeaning(f, layout!), values));
+            forms.Add(new DesignIcc(f.Name, f.Model, f.OfMean, layout!, values));
         }
 
         return (forms, layout);
     }
-
-    private static string IccMeaning(IccForm f, string layout) => (f.Model, f.OfMean, layout) switch
-    {
-        (1, false, "one-way") => "share of the variance due to the random factor (one observation)",
-        (1, true, "one-way") => "reliability of the mean of a level's observations",
-        (1, false, _) => "each target rated by different raters, one rating",
-        (1, true, _) => "each target rated by different raters, mean rating",
-        (2, false, _) => "raters a random sample, absolute agreement, one rating",
-        (2, true, _) => "raters a random sample, absolute agreement, mean rating",
-        (3, false, _) => "these raters only, consistency, one rating",
-        _ => "these raters only, consistency, mean rating",
-    };
 
     private static DesignFit FitReml(EvaluationContext context, BoundBlock block, IReadOnlyList<DesignFactor> factors, DesignData data, DesignMethodReason reason, string? because, List<DesignMean> means, IReadOnlyList<string> inputs)
     {

@@ -65,7 +65,7 @@ public sealed class AnovaOutcome(BoundBlock block) : BlockOutcome(block)
     private AssumptionReview? review;
 
     /// <summary>Which data the numbers come from.</summary>
-    public AnovaRoute Route { get; set; } = AnovaRoute.Rows;
+    public AnovaRoute Route { get; init; } = AnovaRoute.Rows;
 
     /// <summary>The facts the block's cautions and notes are written from (set once the model is fitted).</summary>
     public AnovaCautions? Cautions { get; set; }
@@ -94,7 +94,7 @@ public sealed class AnovaOutcome(BoundBlock block) : BlockOutcome(block)
     public BlockData? Data { get; set; }
 
     /// <summary>The model the block states (bound once, before evaluation).</summary>
-    public ModelDescription? Model { get; set; }
+    public ModelDescription? Model { get; init; }
 
     /// <summary>
     /// The per-cell sufficient statistics: from the database's cells (cells route), or from the
@@ -156,7 +156,7 @@ public sealed partial class AnovaEvaluator : KindEvaluator
 
     public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
     {
-        var options = (AnovaKind.Options)block.Options!;
+        var options = block.OptionsOf<AnovaKind.Options>();
         var model = context.Models.Descriptions[block.Id];
         if (options.HasCovariates)
         {

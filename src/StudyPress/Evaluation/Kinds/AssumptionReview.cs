@@ -29,8 +29,11 @@ public sealed class AssumptionReview
 
     public DurbinWatsonResult? Independence { get; init; }
 
-    /// <summary>Why the independence check was not run, when it was not.</summary>
-    public string? IndependenceSkipped { get; init; }
+    /// <summary>Why the independence check was not run, or not on every observation; null when it was (the renderer words it).</summary>
+    public IndependenceGap? IndependenceSkipped { get; init; }
+
+    /// <summary>How many observations had no run order and were left out of the Durbin–Watson test (<see cref="IndependenceGap.SomeWithoutOrder"/>).</summary>
+    public int WithoutRunOrder { get; init; }
 
     public required StudentizedResidualsResult Outliers { get; init; }
 
@@ -128,15 +131,16 @@ public sealed class AssumptionReview
         }
 
         DurbinWatsonResult? dw = null;
-        string? skipped = null;
+        IndependenceGap? skipped = null;
+        var missing = 0;
         var order = anova.Data!.Dataset.Order;
         if (anova.Ancova is not null)
         {
-            skipped = "the Durbin–Watson test is not run for an analysis of covariance in this version (its p-value needs the covariates' columns in the design)";
+            skipped = IndependenceGap.Covariates;
         }
         else if (order is null)
         {
-            skipped = "the header names no run-order column ('order'), so independence in time was not checked; the file's row order is not assumed to be the run order";
+            skipped = IndependenceGap.NoRunOrder;
         }
         else
         {
@@ -145,7 +149,7 @@ public sealed class AssumptionReview
             var ordered = positions?.Length ?? anova.Data.Rows.Length;
             if (ordered < 3)
             {
-                skipped = "fewer than three observations have a run order";
+                skipped = IndependenceGap.TooFewOrdered;
             }
             else
             {
@@ -165,10 +169,10 @@ public sealed class AssumptionReview
                 }
 
                 dw = DurbinWatson.Test(sortedResiduals, cellRows, sortedCells);
-                var missing = anova.Data.Rows.Length - ordered;
+                missing = anova.Data.Rows.Length - ordered;
                 if (missing > 0)
                 {
-                    skipped = string.Create(CultureInfo.InvariantCulture, $"{StudyPress.Charts.NumberText.Count(missing, "observation")} without a run order {(missing == 1 ? "was" : "were")} left out of the Durbin–Watson test");
+                    skipped = IndependenceGap.SomeWithoutOrder;
                 }
             }
         }
@@ -182,6 +186,7 @@ public sealed class AssumptionReview
             Bartlett = bart,
             Independence = dw,
             IndependenceSkipped = skipped,
+            WithoutRunOrder = missing,
             Outliers = outliers,
             SmallestGroup = groups.Min(g => g.Length),
             Alpha = alpha,
@@ -249,4 +254,20 @@ public sealed class AssumptionReview
 
         return positions;
     }
+}
+
+/// <summary>Why the Durbin–Watson test of independence was not run, or not on every observation.</summary>
+public enum IndependenceGap
+{
+    /// <summary>An analysis of covariance: its p-value would need the covariates' columns in the design.</summary>
+    Covariates,
+
+    /// <summary>The header names no run-order column.</summary>
+    NoRunOrder,
+
+    /// <summary>Fewer than three observations have a run order.</summary>
+    TooFewOrdered,
+
+    /// <summary>The test ran; some observations had no run order and were left out.</summary>
+    SomeWithoutOrder,
 }

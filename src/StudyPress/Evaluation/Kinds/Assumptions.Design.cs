@@ -12,7 +12,20 @@ namespace StudyPress.Evaluation.Kinds;
 /// </summary>
 /// <param name="Term">The manifest term (plot errors hyphenated).</param>
 /// <param name="EngineTerm">The design engine's name of the term, which the renderer labels.</param>
-public sealed record StratumCheck(string Term, string EngineTerm, string Unit, int Count, ShapiroWilkResult Normality, IReadOnlyDictionary<string, ResultValue> Values);
+public sealed record StratumCheck(string Term, string EngineTerm, StratumUnit Unit, int Count, ShapiroWilkResult Normality, IReadOnlyDictionary<string, ResultValue> Values);
+
+/// <summary>What a stratum's normality check was computed on (the renderer words it).</summary>
+public enum StratumUnit
+{
+    /// <summary>The finest stratum's residuals, one per observation.</summary>
+    Observations,
+
+    /// <summary>A coarser error term's estimated effects, one per unit of that stratum.</summary>
+    EstimatedEffects,
+
+    /// <summary>The mixed model's conditional residuals, one per observation.</summary>
+    ConditionalResiduals,
+}
 
 /// <summary>The checks of a design anova, per stratum.</summary>
 public sealed record DesignChecks(DesignMethod Method, IReadOnlyList<StratumCheck> Strata)
@@ -34,7 +47,7 @@ public sealed partial class AssumptionsEvaluator
         var outcome = new AssumptionsOutcome(block) { Anova = anova };
         var inputs = context.Inputs(block);
         var checks = new List<StratumCheck>();
-        void Check(string engineTerm, string unit, double[] values)
+        void Check(string engineTerm, StratumUnit unit, double[] values)
         {
             var term = DesignFit.TermName(engineTerm);
             var sw = ShapiroWilk.Test(values);
@@ -48,17 +61,17 @@ public sealed partial class AssumptionsEvaluator
 
         if (design.Method == DesignMethod.Reml)
         {
-            Check(StrataAnova.ResidualName, "observations (conditional residuals)", design.Residuals);
+            Check(StrataAnova.ResidualName, StratumUnit.ConditionalResiduals, design.Residuals);
         }
         else
         {
             var strata = design.Strata!;
-            Check(StrataAnova.ResidualName, "observations", strata.Residuals);
+            Check(StrataAnova.ResidualName, StratumUnit.Observations, strata.Residuals);
             foreach (var row in strata.Rows.Where(r => r.Kind is TermKind.PlotError or TermKind.Random && r.Denominator.Count > 0 && r.Df >= 2))
             {
                 if (strata.StratumEffects.TryGetValue(row.Term, out var effects) && effects.Length >= 5)
                 {
-                    Check(row.Term, "units of the stratum (estimated effects)", effects);
+                    Check(row.Term, StratumUnit.EstimatedEffects, effects);
                 }
             }
         }

@@ -96,7 +96,7 @@ public sealed partial class AssumptionsEvaluator : KindEvaluator
 
         if (context.Header.Report.Figures)
         {
-            outcome.Figures.AddRange(new[] { Figures.Qq(anova), Figures.Histogram(anova), Figures.ResidualsFitted(anova) }.OfType<Figure>());
+            outcome.Figures.AddRange(new[] { Figures.Qq(context, anova), Figures.Histogram(context, anova), Figures.ResidualsFitted(anova) }.OfType<FigurePlan>());
         }
 
         return outcome;

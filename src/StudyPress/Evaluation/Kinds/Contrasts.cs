@@ -79,7 +79,7 @@ public sealed class ContrastsEvaluator : KindEvaluator
 
     public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
     {
-        var options = (ContrastsKind.Options)block.Options!;
+        var options = block.OptionsOf<ContrastsKind.Options>();
         var outcome = new ContrastsOutcome(block);
         if (context.Outcomes.GetValueOrDefault(block.Of!.Id) is not AnovaOutcome anova)
         {
@@ -393,7 +393,7 @@ public sealed class ContrastsEvaluator : KindEvaluator
     private static void Record(EvaluationContext context, BoundBlock block, ContrastsOutcome outcome, string term, string[] names, ContrastFamily family, bool trend, IReadOnlyList<string> inputs)
     {
         outcome.Adjustment = family.Adjustment;
-        outcome.AdjustmentChosen = ((ContrastsKind.Options)block.Options!).Adjust is not null;
+        outcome.AdjustmentChosen = block.OptionsOf<ContrastsKind.Options>().Adjust is not null;
         foreach (var c in family.Contrasts)
         {
             var values = new Dictionary<string, ResultValue>(StringComparer.Ordinal);

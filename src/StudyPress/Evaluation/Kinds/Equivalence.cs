@@ -32,10 +32,10 @@ public sealed class EquivalenceOutcome(BoundBlock block) : BlockOutcome(block)
     public string FactorLabel { get; set; } = string.Empty;
 
     /// <summary>True for non-inferiority, false for equivalence (TOST).</summary>
-    public bool NonInferiority { get; set; }
+    public bool NonInferiority { get; init; }
 
     /// <summary>Non-inferiority: "higher" or "lower" is better.</summary>
-    public string? Better { get; set; }
+    public string? Better { get; init; }
 
     /// <summary>The standard error's source (pooled from the anova, a design's error term, or Welch).</summary>
     public EquivalenceError Error { get; set; }
@@ -64,7 +64,7 @@ public sealed class EquivalenceEvaluator : KindEvaluator
 
     public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
     {
-        var options = (EquivalenceKind.Options)block.Options!;
+        var options = block.OptionsOf<EquivalenceKind.Options>();
         var outcome = new EquivalenceOutcome(block) { NonInferiority = options.NonInferiority, Better = options.Better };
         if (context.Outcomes.GetValueOrDefault(block.Of!.Id) is not AnovaOutcome anova)
         {

@@ -23,7 +23,7 @@ public sealed class FigureEvaluator : KindEvaluator
 
     public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
     {
-        var options = (FigureKind.Options)block.Options!;
+        var options = block.OptionsOf<FigureKind.Options>();
         var source = context.Outcomes.GetValueOrDefault(options.Source.Id);
         var caption = block.Caption;
         var data = source switch
@@ -32,7 +32,7 @@ public sealed class FigureEvaluator : KindEvaluator
             AnovaOutcome a => a.Data,
             _ => null,
         };
-        var figures = new List<Figure?>();
+        var figures = new List<FigurePlan?>();
         if (source is AnovaOutcome { Design: not null } && options.Type is "interaction" or "qq" or "residual-histogram" or "residuals-fitted" or "f-distribution")
         {
             diagnostics.DesignViewUnavailable(block.Location, "figure", options.Source.Id, $"the '{options.Type}' chart is drawn from a fixed-effects fit, and this anova block's header declares a layout (blocks, plots, random or nested factors); draw 'box' or 'means' from it, and see its assumptions block for the residuals of each stratum");
@@ -51,10 +51,10 @@ public sealed class FigureEvaluator : KindEvaluator
                 figures.Add(Figures.Interaction(a, caption));
                 break;
             case "qq" when source is AnovaOutcome a:
-                figures.Add(Figures.Qq(a, caption));
+                figures.Add(Figures.Qq(context, a, caption));
                 break;
             case "residual-histogram" when source is AnovaOutcome a:
-                figures.Add(Figures.Histogram(a, caption));
+                figures.Add(Figures.Histogram(context, a, caption));
                 break;
             case "residuals-fitted" when source is AnovaOutcome a:
                 figures.Add(Figures.ResidualsFitted(a, caption));
@@ -70,7 +70,7 @@ public sealed class FigureEvaluator : KindEvaluator
                 break;
         }
 
-        var drawn = figures.OfType<Figure>().ToList();
+        var drawn = figures.OfType<FigurePlan>().ToList();
         var outcome = new FigureOutcome(block) { NotDrawn = drawn.Count == 0 && source is not null };
         outcome.Figures.AddRange(drawn);
         return outcome;

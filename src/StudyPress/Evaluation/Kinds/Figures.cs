@@ -5,17 +5,74 @@ using StudyPress.Statistics.Power;
 
 namespace StudyPress.Evaluation.Kinds;
 
-/// <summary>A chart placed in the report, with the caption shown under it.</summary>
-public sealed record Figure(string Type, string Caption, Chart Chart)
+/// <summary>
+/// A figure to draw under a block: which chart and the values it shows, computed here; no text.
+/// Rendering (<c>Rendering/Figures.cs</c>) writes its title, axis labels and caption and draws it.
+/// </summary>
+/// <param name="Type">The chart's name (its CSS class and the end of its file name).</param>
+public abstract record FigurePlan(string Type)
 {
     /// <summary>What tells this figure from others of its type in the same block (an F distribution's term), or null.</summary>
     public string? Part { get; init; }
+
+    /// <summary>The block's own caption (the study's words, a <c>figure</c> block's <c>caption</c>), shown instead of the generated one; null for the generated one.</summary>
+    public string? UserCaption { get; init; }
 }
 
+/// <summary>Box plots with every observation (thinned above <see cref="Figures.MaxPoints"/>), by the block's cells.</summary>
+/// <param name="By">The factors' display names (none for one group).</param>
+/// <param name="Largest">The largest cell's number of observations.</param>
+public sealed record BoxFigure(IReadOnlyList<GroupSample> Groups, IReadOnlyList<string> By, string Response, int Largest) : FigurePlan("box");
+
+/// <summary>Group means with each group's own t interval at <paramref name="Alpha"/>.</summary>
+public sealed record MeansFigure(IReadOnlyList<GroupMean> Means, double Alpha, IReadOnlyList<string> By, string Response) : FigurePlan("means");
+
+/// <summary>Observed cell means of two factors (display names <paramref name="A"/> and <paramref name="B"/>), one line per level of the second.</summary>
+public sealed record InteractionFigure(IReadOnlyList<string> ALevels, IReadOnlyList<string> BLevels, IReadOnlyList<CellMean> Cells, string A, string B, string Response) : FigurePlan("interaction");
+
+/// <summary>Residuals (thinned; <paramref name="Count"/> of them in all) against normal quantiles with an envelope at <paramref name="Alpha"/>.</summary>
+public sealed record QqFigure(double[] Residuals, int Count, double Alpha) : FigurePlan("qq");
+
+/// <summary>Histogram of the residuals (thinned; <paramref name="Count"/> in all).</summary>
+public sealed record HistogramFigure(double[] Residuals, int Count) : FigurePlan("residual-histogram");
+
+/// <summary>Residuals against fitted values (every point, or an even choice in data order above <see cref="Figures.MaxPoints"/>; <paramref name="Count"/> in all).</summary>
+public sealed record ResidualsFittedFigure(double[] Fitted, double[] Residuals, int Count, bool TransformedScale) : FigurePlan("residuals-fitted");
+
+/// <summary>One term's F distribution under no effect, its rejection region at <paramref name="Alpha"/> and the observed F; <paramref name="Term"/> are the display names of its factors (or a covariate's column).</summary>
+public sealed record FDistributionFigure(int Df, int ResidualDf, double F, double Alpha, IReadOnlyList<string> Term) : FigurePlan("f-distribution");
+
+/// <summary>A pair's difference with its joint interval.</summary>
+public sealed record PairInterval(string LevelA, string LevelB, double Difference, double Lower, double Upper);
+
+/// <summary>The first post-hoc family's differences with their joint intervals at <paramref name="Alpha"/>.</summary>
+public sealed record IntervalsFigure(IReadOnlyList<PairInterval> Pairs, double Alpha, PostHocFamily Family) : FigurePlan("intervals");
+
+/// <summary>Power of the F test against n per group, with the marked design (the required or the planned n).</summary>
+public sealed record PowerCurveFigure(IReadOnlyList<PowerPoint> Points, double Target, PowerPoint? Marked, int Groups, double Effect, double Alpha) : FigurePlan("power-curve");
+
+/// <summary>An equivalence block's differences with their (1 − 2α) intervals (<paramref name="Alpha"/> = 2α) against the margin; each pair with whether its interval lies within the margin.</summary>
+public sealed record EquivalenceFigure(IReadOnlyList<(PairInterval Pair, bool Shown)> Pairs, double? MarginLow, double? MarginHigh, double Alpha, bool NonInferiority, string Factor) : FigurePlan("equivalence");
+
+/// <summary>A design treatment's means with intervals on the error mean square its F test used (term <paramref name="ErrorTerm"/>, <paramref name="ErrorDf"/> df).</summary>
+public sealed record DesignMeansFigure(IReadOnlyList<GroupMean> Means, double Alpha, string Factor, string Response, string ErrorTerm, int ErrorDf) : FigurePlan("means");
+
+/// <summary>One factor's estimated marginal means with intervals on their error mean square (back-transformed when <paramref name="Transformed"/>).</summary>
+public sealed record MarginalMeansFigure(IReadOnlyList<GroupMean> Means, double Alpha, string Factor, string Response, string ErrorTerm, int ErrorDf, bool Transformed) : FigurePlan("means");
+
 /// <summary>
-/// Builds the report's figures from block outcomes. Each kind places the figures that belong to it
-/// (unless the header sets <c>report: {figures: none}</c>); the <c>figure</c> block draws any of
-/// them on its own.
+/// Each subject's profile along the first within factor (<paramref name="Drawn"/>: the first ones,
+/// of <paramref name="Complete"/> complete subjects) and the mean profile with 95% t intervals.
+/// </summary>
+public sealed record ProfilesFigure(IReadOnlyList<string> Levels, IReadOnlyList<SubjectProfile> Drawn, int Complete, string Between, IReadOnlyList<ProfilePoint> Mean, string Response, string Subject, string Within) : FigurePlan("profiles");
+
+/// <summary>Means of the complete subjects by the first within factor and the first between factor.</summary>
+public sealed record RepeatedInteractionFigure(IReadOnlyList<string> Levels, IReadOnlyList<string> BetweenLevels, IReadOnlyList<CellMean> Cells, string Between, string Within, string Response) : FigurePlan("interaction");
+
+/// <summary>
+/// Chooses and computes the report's figures from block outcomes (values only). Each kind places
+/// the figures that belong to it (unless the header sets <c>report: {figures: none}</c>); the
+/// <c>figure</c> block draws any of them on its own.
 /// </summary>
 public static class Figures
 {
@@ -26,33 +83,13 @@ public static class Figures
     /// <summary>How many points a thinned figure draws.</summary>
     internal const int ThinnedPoints = 2000;
 
-    private static readonly System.Runtime.CompilerServices.ConditionalWeakTable<double[], double[]> Thinned = new();
-
-    private static readonly System.Runtime.CompilerServices.ConditionalWeakTable<int[], double[]> SortedCells = new();
-
     /// <summary>
     /// A cell's response values (<paramref name="positions"/> into the block, as
     /// <see cref="BlockData.Cells"/> gives them) in ascending order: sorted once per cell and shared
-    /// by the summary, the means figure and the box plots. The array must not be changed. Exact
-    /// values in a narrow range are sorted by counting (<see cref="Data.ExactValues.CountingSorted"/>,
-    /// the same array), others by <see cref="Statistics.FastSort"/>.
+    /// by the summary, the means figure and the box plots (<see cref="BlockData.SortedValues"/>, a
+    /// memo of the block's selection, owned by the run). The array must not be changed.
     /// </summary>
-    internal static double[] SortedValues(BlockData data, int[] positions) => SortedCells.GetValue(positions, p =>
-    {
-        if (data.Exact?.CountingSorted(data.Values, p) is { } counted)
-        {
-            return counted;
-        }
-
-        var v = new double[p.Length];
-        for (var k = 0; k < p.Length; k++)
-        {
-            v[k] = data.Values[p[k]];
-        }
-
-        Statistics.FastSort.Sort(v);
-        return v;
-    });
+    internal static double[] SortedValues(BlockData data, int[] positions) => data.SortedValues(positions);
 
     /// <summary>
     /// Sorts every cell of the block at once (<see cref="SortedValues"/>), the cells spread over the
@@ -99,7 +136,7 @@ public static class Figures
     /// spaced order statistics (the smallest and largest included), so a figure of millions of
     /// points stays small and quick while its shape is kept.
     /// </summary>
-    internal static double[] Thin(double[] values)
+    internal static double[] Thin(EvaluationContext context, double[] values)
     {
         if (values.Length <= MaxPoints)
         {
@@ -107,32 +144,23 @@ public static class Figures
         }
 
         // The wanted order statistics only, not a sorted copy of all the values (same doubles).
-        return Thinned.GetValue(values, v => Statistics.FastSort.OrderStatistics(v, ThinRanks(v.Length)));
+        return context.Memo(values, v => Statistics.FastSort.OrderStatistics(v, ThinRanks(v.Length)));
     }
 
-    private static string ThinNote(int n) => n > MaxPoints
-        ? string.Create(CultureInfo.InvariantCulture, $" With {n:N0} observations, the figure draws {ThinnedPoints:N0} evenly spaced order statistics instead of every point.")
-        : string.Empty;
-
     /// <summary>Box plots with every observation over them, by the block's cells.</summary>
-    /// <summary>A user-supplied name set inside generated text: isolated on its own, so that numbers beside it keep their order.</summary>
-    private static string Name(string name) => StudyPress.Charts.BidiText.Isolate(name);
-
-    public static Figure? Box(BlockData data, string? caption = null)
+    public static FigurePlan? Box(BlockData data, string? caption = null)
     {
         var cells = data.Factors.Count == 0 ? [("all", Array.Empty<int>(), data.Response, Enumerable.Range(0, data.Rows.Length).ToArray())] : data.Cells();
         // Above the limit the thinned order statistics come from the cell's shared sorted values.
         var groups = cells.Select(c => new GroupSample(
             c.Label,
             c.Positions.Length <= MaxPoints ? [.. c.Positions.Select(i => data.Values[i])] : ThinSorted(SortedValues(data, c.Positions)))).ToList();
-        var by = string.Join(" and ", data.Factors.Select(f => f.Spec.Display));
-        var chart = StatCharts.GroupDistributions(groups, new ChartLabels($"Distribution of {Name(data.ResponseLabel)}" + (by.Length > 0 ? " by " + Name(by) : string.Empty), by, data.ResponseLabel));
         var largest = cells.Max(c => c.Positions.Length);
-        return new Figure("box", caption ?? $"Each group's box spans the quartiles with the median marked; whiskers reach the most extreme values within 1.5 IQR of the box; every observation is drawn as a point." + ThinNote(largest), chart);
+        return new BoxFigure(groups, [.. data.Factors.Select(f => f.Spec.Display)], data.ResponseLabel, largest) { UserCaption = caption };
     }
 
     /// <summary>Group means with t confidence intervals.</summary>
-    public static Figure? Means(BlockData data, double alpha, string? caption = null)
+    public static FigurePlan? Means(BlockData data, double alpha, string? caption = null)
     {
         var cells = data.Factors.Count == 0 ? [("all", Array.Empty<int>(), data.Response, Enumerable.Range(0, data.Rows.Length).ToArray())] : data.Cells();
         var means = new List<GroupMean>();
@@ -157,14 +185,11 @@ public static class Figures
             return null;
         }
 
-        var level = Confidence(alpha);
-        var by = string.Join(" and ", data.Factors.Select(f => f.Spec.Display));
-        var chart = StatCharts.GroupMeans(means, level, new ChartLabels($"Mean {Name(data.ResponseLabel)} with {level} intervals", by, data.ResponseLabel));
-        return new Figure("means", caption ?? $"Group means with {level} confidence intervals (each group's own t interval, not adjusted for multiple comparisons).", chart);
+        return new MeansFigure(means, alpha, [.. data.Factors.Select(f => f.Spec.Display)], data.ResponseLabel) { UserCaption = caption };
     }
 
     /// <summary>Cell means of the first two factors, one line per level of the second factor.</summary>
-    public static Figure? Interaction(AnovaOutcome anova, string? caption = null)
+    public static FigurePlan? Interaction(AnovaOutcome anova, string? caption = null)
     {
         if (anova.Input is null || anova.Input.Factors.Count < 2)
         {
@@ -173,41 +198,41 @@ public static class Figures
 
         var a = anova.Data!.Factors[0];
         var b = anova.Data.Factors[1];
-        // Means over the crossing of the first two factors (averaging over any further factors).
-        var cells = Enumerable.Range(0, anova.Data.Rows.Length)
+        return Interaction(anova.Data, a, b) with { UserCaption = caption };
+    }
+
+    /// <summary>Observed means over the crossing of two of the block's factors (averaging over any further factors).</summary>
+    internal static InteractionFigure Interaction(BlockData data, BlockFactor a, BlockFactor b)
+    {
+        var cells = Enumerable.Range(0, data.Rows.Length)
             .GroupBy(i => (a.Codes[i], b.Codes[i]))
             .OrderBy(g => g.Key.Item1).ThenBy(g => g.Key.Item2)
-            .Select(g => new CellMean(a.Levels[g.Key.Item1], b.Levels[g.Key.Item2], g.Average(i => anova.Data.Values[i])))
+            .Select(g => new CellMean(a.Levels[g.Key.Item1], b.Levels[g.Key.Item2], g.Average(i => data.Values[i])))
             .ToList();
-
-        var chart = StatCharts.InteractionPlot(a.Levels, b.Levels, cells, b.Spec.Display, new ChartLabels($"Mean {Name(anova.Data.ResponseLabel)} by {Name(a.Spec.Display)} and {Name(b.Spec.Display)}", a.Spec.Display, anova.Data.ResponseLabel));
-        return new Figure("interaction", caption ?? $"Observed cell means; lines that are not parallel suggest an interaction (compare with the F test of {Name(a.Spec.Display)} × {Name(b.Spec.Display)}).", chart);
+        return new InteractionFigure(a.Levels, b.Levels, cells, a.Spec.Display, b.Spec.Display, data.ResponseLabel);
     }
 
-    public static Figure? Qq(AnovaOutcome anova, string? caption = null)
+    public static FigurePlan? Qq(EvaluationContext context, AnovaOutcome anova, string? caption = null)
     {
         if (anova.Result is null || anova.Result.Residuals.Length < 3)
         {
             return null;
         }
 
-        var level = Confidence(anova.Result.Alpha);
-        var chart = StatCharts.NormalQuantilePlot(Thin(anova.Result.Residuals), new ChartLabels("Normal quantile plot of the residuals", "standard normal quantile", "residual"), 1 - anova.Result.Alpha);
-        return new Figure("qq", caption ?? $"Residuals against normal quantiles (Blom plotting positions), with a line through the quartiles and a pointwise {level} envelope from the order statistics' beta distributions; points along the line are what normal residuals look like." + ThinNote(anova.Result.Residuals.Length), chart);
+        return new QqFigure(Thin(context, anova.Result.Residuals), anova.Result.Residuals.Length, anova.Result.Alpha) { UserCaption = caption };
     }
 
-    public static Figure? Histogram(AnovaOutcome anova, string? caption = null)
+    public static FigurePlan? Histogram(EvaluationContext context, AnovaOutcome anova, string? caption = null)
     {
         if (anova.Result is null || anova.Result.Residuals.Length < 3)
         {
             return null;
         }
 
-        var chart = StatCharts.ResidualHistogram(Thin(anova.Result.Residuals), new ChartLabels("Distribution of the residuals", "residual", "count"));
-        return new Figure("residual-histogram", caption ?? "Histogram of the residuals (Freedman–Diaconis bins) with the fitted normal density and a kernel density estimate (Silverman's bandwidth)." + ThinNote(anova.Result.Residuals.Length), chart);
+        return new HistogramFigure(Thin(context, anova.Result.Residuals), anova.Result.Residuals.Length) { UserCaption = caption };
     }
 
-    public static Figure? ResidualsFitted(AnovaOutcome anova, string? caption = null)
+    public static FigurePlan? ResidualsFitted(AnovaOutcome anova, string? caption = null)
     {
         if (anova.Result is null)
         {
@@ -218,11 +243,10 @@ public static class Figures
         var picks = n > MaxPoints ? [.. Enumerable.Range(0, ThinnedPoints).Select(k => (int)((long)k * n / ThinnedPoints))] : Enumerable.Range(0, n).ToArray();
         var fitted = picks.Select(i => anova.Result.Fitted[i] + anova.ResponseCentre).ToArray();
         var residuals = picks.Select(i => anova.Result.Residuals[i]).ToArray();
-        var chart = StatCharts.ResidualsVersusFitted(fitted, residuals, new ChartLabels("Residuals against fitted values", "fitted value" + (anova.Transformed is null ? string.Empty : " (transformed scale)"), "residual"));
-        return new Figure("residuals-fitted", caption ?? "A funnel shape (spread growing with the fitted value) suggests unequal variances; curvature suggests a missing term or a needed transformation." + (n > MaxPoints ? string.Create(CultureInfo.InvariantCulture, $" With {n:N0} observations, every {Math.Max(1, n / ThinnedPoints):N0}th one in data order is drawn ({ThinnedPoints:N0} points).") : string.Empty), chart);
+        return new ResidualsFittedFigure(fitted, residuals, n, anova.Transformed is not null) { UserCaption = caption };
     }
 
-    public static IEnumerable<Figure> FDistributions(AnovaOutcome anova, string? caption = null)
+    public static IEnumerable<FigurePlan> FDistributions(AnovaOutcome anova, string? caption = null)
     {
         // From the table alone, so on either route (rows or cell statistics).
         if (anova.Fit is not { } fit)
@@ -238,13 +262,12 @@ public static class Figures
             }
 
             // A covariate's row (analysis of covariance) is named by its column.
-            var name = string.Join(" × ", t.Factors.Select(n => Name(anova.Factors.FirstOrDefault(f => f.Name == n)?.Display ?? n)));
-            var chart = StatCharts.FDistribution(t.Df, fit.ResidualDf, t.F.Value, fit.Alpha, new ChartLabels(string.Create(CultureInfo.InvariantCulture, $"F({t.Df}, {fit.ResidualDf}) distribution: {name}"), "F", "density"));
-            yield return new Figure("f-distribution", caption ?? string.Create(CultureInfo.InvariantCulture, $"The F distribution under no effect of {name}; the shaded region is the rejection region at α = {NumberText.Current.Level(fit.Alpha)} and the line marks the observed F."), chart) { Part = string.Join("-", t.Factors) };
+            IReadOnlyList<string> name = [.. t.Factors.Select(n => anova.Factors.FirstOrDefault(f => f.Name == n)?.Display ?? n)];
+            yield return new FDistributionFigure(t.Df, fit.ResidualDf, t.F.Value, fit.Alpha, name) { Part = string.Join("-", t.Factors), UserCaption = caption };
         }
     }
 
-    public static Figure? Intervals(PostHocOutcome posthoc, double alpha, string? caption = null)
+    public static FigurePlan? Intervals(PostHocOutcome posthoc, double alpha, string? caption = null)
     {
         var family = posthoc.Families.FirstOrDefault(f => f.Pairs.Any(p => p.Pair.CiLow.IsDefined));
         if (family is null)
@@ -254,7 +277,7 @@ public static class Figures
 
         var rows = family.Pairs
             .Where(p => p.Pair.CiLow.IsDefined && p.Pair.CiHigh.IsDefined)
-            .Select(p => new IntervalComparison(StudyPress.Charts.BidiText.Isolate(p.Pair.LevelA) + " − " + StudyPress.Charts.BidiText.Isolate(p.Pair.LevelB), p.Pair.Diff, p.Pair.CiLow.Value, p.Pair.CiHigh.Value))
+            .Select(p => new PairInterval(p.Pair.LevelA, p.Pair.LevelB, p.Pair.Diff, p.Pair.CiLow.Value, p.Pair.CiHigh.Value))
             .ToList();
         if (rows.Count == 0)
         {
@@ -262,12 +285,10 @@ public static class Figures
             return null;
         }
 
-        var level = Confidence(alpha);
-        var chart = StatCharts.SimultaneousIntervals(rows, level, new ChartLabels($"{family.Title}: differences with {level} joint intervals", "difference", string.Empty));
-        return new Figure("intervals", caption ?? $"Each difference with its {level} joint interval (the intervals cover all the pairs together); intervals that exclude zero (solid, diamond) are the pairs the procedure separates.", chart);
+        return new IntervalsFigure(rows, alpha, family) { UserCaption = caption };
     }
 
-    public static Figure? PowerCurve(PowerOutcome power, string? caption = null)
+    public static FigurePlan? PowerCurve(PowerOutcome power, string? caption = null)
     {
         if (power.Groups < 2 || power.Effect <= 0)
         {
@@ -299,20 +320,20 @@ public static class Figures
             marked = new PowerPoint(planned, power.Values[Stat.Power].Value.Value);
         }
 
-        var chart = StatCharts.PowerCurve(points, power.Target ?? 0.8, marked, new ChartLabels(string.Create(CultureInfo.InvariantCulture, $"Power against n per group (k = {power.Groups}, f = {power.Effect:0.###}, α = {NumberText.Current.Level(power.Alpha)})"), "n per group", "power"));
-        return new Figure("power-curve", caption ?? "Power of the F test as the group size grows; the horizontal line is the target power.", chart);
+        return new PowerCurveFigure(points, power.Target ?? 0.8, marked, power.Groups, power.Effect, power.Alpha) { UserCaption = caption };
     }
 
     /// <summary>An equivalence block's (1 − 2α) intervals against its shaded margin band and the zero line.</summary>
-    public static Figure? Equivalence(EquivalenceOutcome outcome, string? caption = null)
+    public static FigurePlan? Equivalence(EquivalenceOutcome outcome, string? caption = null)
     {
         var rows = outcome.Comparisons
             .Where(c => c.Result.CiLow.IsDefined && c.Result.CiHigh.IsDefined)
-            .Select(c => new EquivalenceInterval(
-                StudyPress.Charts.BidiText.Isolate(c.Result.LevelA) + " − " + StudyPress.Charts.BidiText.Isolate(c.Result.LevelB),
+            .Select(c => (new PairInterval(
+                c.Result.LevelA,
+                c.Result.LevelB,
                 c.Result.Diff,
                 c.Result.CiLow.Value,
-                c.Result.CiHigh.Value,
+                c.Result.CiHigh.Value),
                 c.Result.Verdict is Statistics.FollowUp.EquivalenceVerdict.EquivalentWithinMargin or Statistics.FollowUp.EquivalenceVerdict.NonInferiorWithinMargin))
             .ToList();
         if (rows.Count == 0)
@@ -321,14 +342,6 @@ public static class Figures
         }
 
         var first = outcome.Comparisons[0].Result;
-        var level = Confidence(2 * first.Alpha);
-        var what = outcome.NonInferiority ? "non-inferiority margin" : "equivalence margin";
-        var chart = StatCharts.EquivalenceIntervals(rows, first.MarginLow, first.MarginHigh, level + " intervals",
-            new ChartLabels($"Differences of {outcome.FactorLabel} with {level} intervals against the {what}", "difference", string.Empty));
-        return new Figure("equivalence", caption ?? (outcome.NonInferiority
-            ? $"Each difference with its {level} interval; the shaded region is the side of the margin that counts as not inferior. Non-inferiority is shown where the whole interval lies in it (solid, diamond); an interval reaching past the margin does not show it."
-            : $"Each difference with its {level} interval; the shaded band is the equivalence margin. Equivalence is shown where the whole interval lies inside the band (solid, diamond); an interval reaching beyond it does not show equivalence, even when it covers zero (finding no difference is not showing equivalence)."), chart);
+        return new EquivalenceFigure(rows, first.MarginLow, first.MarginHigh, 2 * first.Alpha, outcome.NonInferiority, outcome.FactorLabel) { UserCaption = caption };
     }
-
-    private static string Confidence(double alpha) => NumberText.Confidence(alpha);
 }

@@ -55,7 +55,7 @@ public sealed class FriedmanEvaluator : KindEvaluator
 
     public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
     {
-        var options = (FriedmanKind.Options)block.Options!;
+        var options = block.OptionsOf<FriedmanKind.Options>();
         var treatment = options.Treatment;
         if (treatment is null)
         {

@@ -25,8 +25,8 @@ public class BlockOutcome(BoundBlock block)
 {
     public BoundBlock Block { get; } = block;
 
-    /// <summary>Charts to show under the block.</summary>
-    public List<Figure> Figures { get; } = [];
+    /// <summary>Charts to show under the block: what each shows (Rendering draws them, with their words).</summary>
+    public List<FigurePlan> Figures { get; } = [];
 }
 
 

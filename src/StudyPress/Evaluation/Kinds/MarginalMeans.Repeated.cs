@@ -49,9 +49,9 @@ public sealed class RepeatedMarginalMeansOutcome(BoundBlock block) : BlockOutcom
 
     public List<RepeatedMeansSimpleEffect> SimpleEffects { get; } = [];
 
-    public string? ByLabel { get; set; }
+    public string? ByLabel { get; init; }
 
-    public string? AtLabel { get; set; }
+    public string? AtLabel { get; init; }
 
     /// <summary>The <c>compare</c> adjustment (holm, bonferroni, tukey) or null; the manifest test of the pairs.</summary>
     public string? Compare { get; init; }
@@ -121,6 +121,8 @@ public sealed partial class MarginalMeansEvaluator
             Of = of,
             Compare = options.Compare,
             PairTest = pairTest,
+            ByLabel = options.At is null ? null : rep.Within.Concat(rep.Between).First(f => f.Name == options.By[0].Name).Label,
+            AtLabel = options.At is null ? null : rep.Within.Concat(rep.Between).First(f => f.Name == options.At.Name).Label,
         };
         foreach (var (name, label) in rep.Within.Concat(rep.Between))
         {
@@ -160,7 +162,7 @@ public sealed partial class MarginalMeansEvaluator
 
                 if (compare == "tukey" && !cm.SingleError(term))
                 {
-                    diagnostics.MarginalMeansCompareNotDefensible(options.CompareLocation, compare, "the means of " + Label(term), TukeyReason(cm.Route));
+                    diagnostics.MarginalMeansTukeyNotOneError(options.CompareLocation, "the means of " + Label(term), cm.Route == RepeatedMeansRoute.Reml);
                     return new BlockOutcome(block);
                 }
             }
@@ -190,11 +192,9 @@ public sealed partial class MarginalMeansEvaluator
         if (options.At is { } a)
         {
             var by = options.By[0].Name;
-            outcome.ByLabel = outcome.Labels[by];
-            outcome.AtLabel = outcome.Labels[a.Name];
             if (options.Compare == "tukey" && !SimpleSingleError(cm, by, a.Name))
             {
-                diagnostics.MarginalMeansCompareNotDefensible(options.CompareLocation, "tukey", $"the pairs of {outcome.ByLabel} within each level of {outcome.AtLabel}", TukeyReason(cm.Route));
+                diagnostics.MarginalMeansTukeyNotOneError(options.CompareLocation, $"the pairs of {outcome.ByLabel} within each level of {outcome.AtLabel}", cm.Route == RepeatedMeansRoute.Reml);
                 return new BlockOutcome(block);
             }
 
@@ -214,10 +214,6 @@ public sealed partial class MarginalMeansEvaluator
 
         return outcome;
     }
-
-    private static string TukeyReason(RepeatedMeansRoute route) => route == RepeatedMeansRoute.Reml
-        ? "the means come from the mixed model (incomplete subjects kept), where each difference has its own standard error and Satterthwaite df, and Tukey's studentized range needs one error for all of them; write 'compare: holm' or 'compare: bonferroni'"
-        : "their differences do not all rest on one error (differences between the levels of a between-subject factor rest on the subjects' error, those of a within-subject factor on its own error, and cells of a crossing mix both), and Tukey's studentized range needs one error for all of them; write 'compare: holm' or 'compare: bonferroni' (each pair on its own error, Satterthwaite df)";
 
     /// <summary>Whether the pairs of <paramref name="by"/> at every level of <paramref name="at"/> rest on one error (Tukey's condition).</summary>
     private static bool SimpleSingleError(RepeatedCellMeans cm, string by, string at)

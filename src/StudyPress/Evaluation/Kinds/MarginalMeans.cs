@@ -83,7 +83,7 @@ public sealed partial class MarginalMeansEvaluator : KindEvaluator
 
     public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
     {
-        var options = (MarginalMeansKind.Options)block.Options!;
+        var options = block.OptionsOf<MarginalMeansKind.Options>();
         if (block.Of!.Kind is RepeatedKind)
         {
             return EvaluateRepeated(context, block, options, diagnostics);
@@ -246,7 +246,7 @@ public sealed partial class MarginalMeansEvaluator : KindEvaluator
     /// The means of one factor with their intervals (back-transformed when the anova used a
     /// transformation); null when a mean or a limit is not defined.
     /// </summary>
-    private static Figure? MeansFigure(List<MarginalMeansRow> rows, string factor, string response, MarginalMeansError error, bool transformed, double alpha)
+    private static MarginalMeansFigure? MeansFigure(List<MarginalMeansRow> rows, string factor, string response, MarginalMeansError error, bool transformed, double alpha)
     {
         var means = new List<GroupMean>();
         foreach (var r in rows)
@@ -259,13 +259,7 @@ public sealed partial class MarginalMeansEvaluator : KindEvaluator
             means.Add(new GroupMean(r.Levels[0], m.Value, lo.Value, hi.Value));
         }
 
-        var level = Math.Round(100 * (1 - alpha), 10).ToString("R", CultureInfo.InvariantCulture) + "%";
-        var errorName = error.Term == "residual" ? "the residual" : "the " + error.Term.Replace("(", " (in ", StringComparison.Ordinal);
-        var chart = StatCharts.GroupMeans(means, level, new ChartLabels($"Estimated marginal means of {BidiText.Isolate(response)} by {BidiText.Isolate(factor)}", factor, response));
-        return new Figure(
-            "means",
-            string.Create(CultureInfo.InvariantCulture, $"Estimated marginal means of {BidiText.Isolate(factor)} with {level} intervals on {errorName} mean square ({error.Df} df){(transformed ? ", back-transformed to the original scale" : string.Empty)}; each interval is for one mean, not adjusted for comparisons, and overlapping intervals are not a test."),
-            chart);
+        return new MarginalMeansFigure(means, alpha, factor, response, error.Term, error.Df, transformed);
     }
 
     /// <summary>The names in the model's factor order (the engine's term order).</summary>

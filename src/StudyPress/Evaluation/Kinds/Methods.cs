@@ -51,7 +51,7 @@ public sealed class MethodsOutcome(BoundBlock block) : BlockOutcome(block)
     /// <summary>Datasets the covered blocks read, with traced row counts.</summary>
     public List<(MethodsLoadedDatasetView Dataset, ResultValue Rows, ResultValue RowsUsed)> Inputs { get; } = [];
 
-    public double Alpha { get; set; }
+    public double Alpha { get; init; }
 }
 
 /// <summary>What the text says about an input file; <paramref name="Aggregated"/>: its rows are the database's cells (<c>aggregate: true</c>).</summary>
@@ -68,7 +68,7 @@ public sealed class MethodsEvaluator : KindEvaluator
 
     public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
     {
-        var options = (MethodsKind.Options)block.Options!;
+        var options = block.OptionsOf<MethodsKind.Options>();
         var outcome = new MethodsOutcome(block) { Alpha = context.Header.Alpha };
         var describable = context.Outcomes.Values
             .Where(o => o.Block.Kind is not MethodsKind and not FigureKind)
@@ -135,7 +135,7 @@ public sealed class MethodsEvaluator : KindEvaluator
                     s.PostHocs.Add(p);
                     break;
                 case PowerOutcome w when w.Values.Count + w.Required.Count > 0:
-                    if (((PowerKind.Options)w.Block.Options!).Of is { } of && sections.TryGetValue(of, out var ps))
+                    if (w.Block.OptionsOf<PowerKind.Options>().Of is { } of && sections.TryGetValue(of, out var ps))
                     {
                         ps.Powers.Add(w);
                     }
@@ -201,7 +201,7 @@ public sealed class MethodsEvaluator : KindEvaluator
                 names.Add(d);
             }
 
-            if (o is PowerOutcome pw && ((PowerKind.Options)pw.Block.Options!).Of is { } pof && context.Outcomes.GetValueOrDefault(pof)?.Block.Data is { } pd && !names.Contains(pd))
+            if (o is PowerOutcome pw && pw.Block.OptionsOf<PowerKind.Options>().Of is { } pof && context.Outcomes.GetValueOrDefault(pof)?.Block.Data is { } pd && !names.Contains(pd))
             {
                 names.Add(pd);
             }
@@ -243,7 +243,7 @@ public sealed class MethodsEvaluator : KindEvaluator
 
         // Only the checks the automatic rules read (they ran for the anova block's choices). On the
         // cells route the rule read Bartlett's test, which the anova block recorded itself.
-        var options = (AnovaKind.Options)a.Block.Options!;
+        var options = a.Block.OptionsOf<AnovaKind.Options>();
         if (!a.RowsAvailable)
         {
             if (a.Bartlett is { } bartlett && options.Welch == "auto")

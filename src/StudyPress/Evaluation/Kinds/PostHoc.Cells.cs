@@ -20,8 +20,6 @@ namespace StudyPress.Evaluation.Kinds;
 /// </summary>
 public sealed partial class PostHocEvaluator
 {
-    public const string CellsMethodNote = "The comparisons were computed from per-level counts, means and sums of squares computed by the database (aggregate: true) and the residual mean square of the anova block; they equal the comparisons on the rows.";
-
     private static PostHocOutcome EvaluateCells(EvaluationContext context, BoundBlock block, PostHocKind.Options options, AnovaOutcome anova, DiagnosticBag diagnostics)
     {
         var outcome = new PostHocOutcome(block) { Route = AnovaRoute.Cells };
@@ -72,16 +70,16 @@ public sealed partial class PostHocEvaluator
         if (method == "auto")
         {
             var bt = GroupStatisticsTests.Bartlett([.. cells.Select(c => new GroupStatistics(c.Count, c.Mean, c.SumOfSquares))]);
-            var over = factors.Count == 1 ? "groups" : "cells of the anova";
+            var overCells = factors.Count != 1;
             if (bt.P.IsDefined && bt.P.Value < alpha)
             {
                 method = "games-howell";
-                outcome.Decisions.Add(new RuleDecision(DecisionRule.GamesHowellFired, Cells: true) { P = bt.P, Over = over });
+                outcome.Decisions.Add(new RuleDecision(DecisionRule.GamesHowellFired, Cells: true) { P = bt.P, OverCellsOfAnova = overCells });
             }
             else
             {
                 method = "tukey";
-                outcome.Decisions.Add(new RuleDecision(bt.P.IsDefined ? DecisionRule.PooledChosen : DecisionRule.PooledUnchecked, Cells: true) { P = bt.P, Over = over, WithControl = options.Control is not null });
+                outcome.Decisions.Add(new RuleDecision(bt.P.IsDefined ? DecisionRule.PooledChosen : DecisionRule.PooledUnchecked, Cells: true) { P = bt.P, OverCellsOfAnova = overCells, WithControl = options.Control is not null });
             }
 
             outcome.Decisions.Add(new RuleDecision(DecisionRule.DunnUnavailable, Cells: true));
@@ -101,24 +99,18 @@ public sealed partial class PostHocEvaluator
 
         outcome.Direction = options.Direction;
         var msValue = ms.IsDefined ? ms.Value : double.NaN;
-        var (test, title, result) = method switch
+        var (test, procedure, result) = method switch
         {
-            "tukey" when options.Control is not null => ("dunnett", DunnettTitle(options.Direction), Dunnett.CompareFromSummaries(levels, groups, msValue, df, alpha, options.Control, options.Direction)),
-            "tukey" => ("tukey_hsd", groups.Select(g => g.Count).Distinct().Count() > 1 ? "Tukey–Kramer comparisons (unequal group sizes)" : "Tukey HSD comparisons", PostHocFromSummaries.CompareTukey(levels, groups, msValue, df, alpha)),
-            "games-howell" => ("games_howell", "Games–Howell comparisons (unequal variances allowed)", ControlOnly(PostHocFromSummaries.CompareGamesHowell(levels, groups, alpha), options.Control)),
-            "holm" => ("holm", "Pooled-variance t tests, Holm-adjusted", PostHocFromSummaries.ComparePooledT(levels, groups, msValue, df, alpha, PValueAdjustmentMethod.Holm, options.Control)),
-            _ => ("bonferroni", "Pooled-variance t tests, Bonferroni-adjusted", PostHocFromSummaries.ComparePooledT(levels, groups, msValue, df, alpha, PValueAdjustmentMethod.Bonferroni, options.Control)),
+            "tukey" when options.Control is not null => ("dunnett", DunnettProcedure(options.Direction), Dunnett.CompareFromSummaries(levels, groups, msValue, df, alpha, options.Control, options.Direction)),
+            "tukey" => ("tukey_hsd", groups.Select(g => g.Count).Distinct().Count() > 1 ? PostHocProcedure.TukeyKramer : PostHocProcedure.TukeyHsd, PostHocFromSummaries.CompareTukey(levels, groups, msValue, df, alpha)),
+            "games-howell" => ("games_howell", PostHocProcedure.GamesHowell, ControlOnly(PostHocFromSummaries.CompareGamesHowell(levels, groups, alpha), options.Control)),
+            "holm" => ("holm", PostHocProcedure.PooledHolm, PostHocFromSummaries.ComparePooledT(levels, groups, msValue, df, alpha, PValueAdjustmentMethod.Holm, options.Control)),
+            _ => ("bonferroni", PostHocProcedure.PooledBonferroni, PostHocFromSummaries.ComparePooledT(levels, groups, msValue, df, alpha, PValueAdjustmentMethod.Bonferroni, options.Control)),
         };
         var inputs = context.Inputs(block);
         var term = factor.Name;
-        outcome.Families.Add(Record(context, block, test, title, result, term, inputs));
-        var m = result.Comparisons.Count;
-        outcome.Multiplicity[Stat.M] = context.Results.Add(block.Id, TestName.Family, term, null, null, Stat.M, m, inputs);
-        outcome.Multiplicity[Stat.FwerUnadjusted] = context.Results.Add(block.Id, TestName.Family, term, null, null, Stat.FwerUnadjusted, PValueAdjustment.FamilyWiseErrorRate(m, alpha), inputs);
-        if (context.Header.Report.Figures && Figures.Intervals(outcome, alpha) is { } figure)
-        {
-            outcome.Figures.Add(figure);
-        }
+        outcome.Families.Add(Record(context, block, test, procedure, result, term, inputs));
+        AddFamilySize(context, block, outcome, term, result.Comparisons.Count, alpha, inputs);
 
         outcome.SingleObservationLevels = groups.Any(g => g.Count < 2);
         outcome.FromCells = true;

@@ -79,17 +79,17 @@ public sealed partial class PostHocEvaluator
             c.CiHigh,
             method == "bonferroni" ? c.P.Map(p => Math.Min(1.0, p * m)) : c.PAdjusted,
             Quantity.Of(c.Df))).ToList();
-        var (test, title) = method switch
+        var (test, procedure) = method switch
         {
-            "tukey" => (TestName.TukeyHsd, "Tukey–Kramer-style comparisons of adjusted means (each pair's own standard error)"),
-            "holm" => (TestName.Holm, "t tests of adjusted-mean differences, Holm-adjusted (Bonferroni intervals)"),
-            _ => (TestName.Bonferroni, "t tests of adjusted-mean differences, Bonferroni-adjusted"),
+            "tukey" => (TestName.TukeyHsd, PostHocProcedure.AdjustedTukeyKramer),
+            "holm" => (TestName.Holm, PostHocProcedure.AdjustedHolm),
+            _ => (TestName.Bonferroni, PostHocProcedure.AdjustedBonferroni),
         };
         var result = new PostHocResult(fit.ComparisonMethod, context.Header.Alpha, comparisons, Quantity.Undefined("each pair has its own standard error"));
         var inputs = context.Inputs(block);
         var term = factor.Spec.Name;
         outcome.FactorLabel = factor.Spec.Display;
-        outcome.Families.Add(Record(context, block, test, title, result, term, inputs));
+        outcome.Families.Add(Record(context, block, test, procedure, result, term, inputs));
         outcome.Multiplicity[Stat.M] = context.Results.Add(block.Id, TestName.Family, term, null, null, Stat.M, m, inputs);
         outcome.Multiplicity[Stat.FwerUnadjusted] = context.Results.Add(block.Id, TestName.Family, term, null, null, Stat.FwerUnadjusted, PValueAdjustment.FamilyWiseErrorRate(m, context.Header.Alpha), inputs);
         outcome.SingleObservationLevels = factor.Split(anova.Data.Response).Any(g => g.Length < 2);

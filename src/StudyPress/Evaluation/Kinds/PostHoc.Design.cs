@@ -86,23 +86,17 @@ public sealed partial class PostHocEvaluator
         var df = part.Df;
         var method = options.Method == "auto" ? "tukey" : options.Method;
         outcome.Direction = options.Direction;
-        var (test, title, result) = method switch
+        var (test, procedure, result) = method switch
         {
-            "tukey" when options.Control is not null => ("dunnett", DunnettTitle(options.Direction), Dunnett.CompareWithAlternative(levels, groups, ms, df, alpha, options.Control, options.Direction)),
-            "tukey" => ("tukey_hsd", "Tukey HSD comparisons", TukeyHsd.Compare(levels, groups, ms, df, alpha)),
-            "holm" => ("holm", "Pooled-variance t tests, Holm-adjusted", PooledTTests.Compare(levels, groups, ms, df, alpha, PValueAdjustmentMethod.Holm, options.Control)),
-            _ => ("bonferroni", "Pooled-variance t tests, Bonferroni-adjusted", PooledTTests.Compare(levels, groups, ms, df, alpha, PValueAdjustmentMethod.Bonferroni, options.Control)),
+            "tukey" when options.Control is not null => ("dunnett", DunnettProcedure(options.Direction), Dunnett.CompareWithAlternative(levels, groups, ms, df, alpha, options.Control, options.Direction)),
+            "tukey" => ("tukey_hsd", PostHocProcedure.TukeyHsd, TukeyHsd.Compare(levels, groups, ms, df, alpha)),
+            "holm" => ("holm", PostHocProcedure.PooledHolm, PooledTTests.Compare(levels, groups, ms, df, alpha, PValueAdjustmentMethod.Holm, options.Control)),
+            _ => ("bonferroni", PostHocProcedure.PooledBonferroni, PooledTTests.Compare(levels, groups, ms, df, alpha, PValueAdjustmentMethod.Bonferroni, options.Control)),
         };
         var inputs = context.Inputs(block);
         var term = factor.Spec.Name;
-        outcome.Families.Add(Record(context, block, test, title, result, term, inputs));
-        var m = result.Comparisons.Count;
-        outcome.Multiplicity[Stat.M] = context.Results.Add(block.Id, TestName.Family, term, null, null, Stat.M, m, inputs);
-        outcome.Multiplicity[Stat.FwerUnadjusted] = context.Results.Add(block.Id, TestName.Family, term, null, null, Stat.FwerUnadjusted, PValueAdjustment.FamilyWiseErrorRate(m, alpha), inputs);
-        if (context.Header.Report.Figures && Figures.Intervals(outcome, alpha) is { } figure)
-        {
-            outcome.Figures.Add(figure);
-        }
+        outcome.Families.Add(Record(context, block, test, procedure, result, term, inputs));
+        AddFamilySize(context, block, outcome, term, result.Comparisons.Count, alpha, inputs);
 
         outcome.SingleObservationLevels = groups.Any(g => g.Length < 2);
         AddInteractions(outcome, anova, term, alpha);

@@ -10,11 +10,51 @@ using StudyPress.Statistics;
 
 namespace StudyPress.Evaluation.Kinds;
 
+/// <summary>Which procedure made a family of comparisons (its title is written by the renderer).</summary>
+public enum PostHocProcedure
+{
+    /// <summary>Tukey's HSD, equal group sizes.</summary>
+    TukeyHsd,
+
+    /// <summary>Tukey–Kramer, unequal group sizes.</summary>
+    TukeyKramer,
+
+    /// <summary>Dunnett's two-sided comparisons with the control.</summary>
+    Dunnett,
+
+    /// <summary>Dunnett's one-sided comparisons, alternative: higher than the control.</summary>
+    DunnettGreater,
+
+    /// <summary>Dunnett's one-sided comparisons, alternative: lower than the control.</summary>
+    DunnettLess,
+
+    /// <summary>Games–Howell (unequal variances).</summary>
+    GamesHowell,
+
+    /// <summary>Pooled-variance t tests, Holm-adjusted.</summary>
+    PooledHolm,
+
+    /// <summary>Pooled-variance t tests, Bonferroni-adjusted.</summary>
+    PooledBonferroni,
+
+    /// <summary>Dunn's rank comparisons, Holm-adjusted.</summary>
+    Dunn,
+
+    /// <summary>Adjusted means (covariates), Tukey–Kramer-style, each pair's own standard error.</summary>
+    AdjustedTukeyKramer,
+
+    /// <summary>Adjusted-mean differences, Holm-adjusted (Bonferroni intervals).</summary>
+    AdjustedHolm,
+
+    /// <summary>Adjusted-mean differences, Bonferroni-adjusted.</summary>
+    AdjustedBonferroni,
+}
+
 public sealed class PostHocFamily
 {
     public required string Test { get; init; }
 
-    public required string Title { get; init; }
+    public required PostHocProcedure Procedure { get; init; }
 
     public required PostHocResult Result { get; init; }
 
@@ -35,7 +75,7 @@ public sealed class PostHocOutcome(BoundBlock block) : BlockOutcome(block)
     public bool Transformed { get; set; }
 
     /// <summary>Whether the comparisons came from the anova's rows or from its cell statistics.</summary>
-    public AnovaRoute Route { get; set; } = AnovaRoute.Rows;
+    public AnovaRoute Route { get; init; } = AnovaRoute.Rows;
 
     /// <summary>Groups whose every response is missing (not compared).</summary>
     public IReadOnlyList<string> EmptyGroups { get; set; } = [];
@@ -61,7 +101,7 @@ public sealed class PostHocOutcome(BoundBlock block) : BlockOutcome(block)
     /// </summary>
     public List<(string Term, IReadOnlyList<string> Others, ResultValue P)> Interactions { get; } = [];
     /// <summary>An analysis of covariance: the comparisons are of adjusted means (covariates at their means).</summary>
-    public bool Adjusted { get; set; }
+    public bool Adjusted { get; init; }
 }
 
 /// <summary>Evaluates <c>posthoc</c> blocks into values (no HTML, no report text).</summary>
@@ -75,7 +115,7 @@ public sealed partial class PostHocEvaluator : KindEvaluator
 
     public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
     {
-        var options = (PostHocKind.Options)block.Options!;
+        var options = block.OptionsOf<PostHocKind.Options>();
         if (context.Outcomes.GetValueOrDefault(block.Of!.Id) is AnovaOutcome { Ancova: { } ancova } covariance)
         {
             return EvaluateCovariates(context, block, options, covariance, ancova, diagnostics);
@@ -173,42 +213,50 @@ public sealed partial class PostHocEvaluator : KindEvaluator
 
         outcome.Direction = options.Direction;
         var msValue = ms.IsDefined ? ms.Value : double.NaN;
-        var (test, title, result) = method switch
+        var (test, procedure, result) = method switch
         {
-            "tukey" when options.Control is not null => ("dunnett", DunnettTitle(options.Direction), Dunnett.CompareWithAlternative(levels, groups, msValue, df, alpha, options.Control, options.Direction)),
-            "tukey" => ("tukey_hsd", groups.Select(g => g.Length).Distinct().Count() > 1 ? "Tukey–Kramer comparisons (unequal group sizes)" : "Tukey HSD comparisons", TukeyHsd.Compare(levels, groups, msValue, df, alpha)),
-            "games-howell" => ("games_howell", "Games–Howell comparisons (unequal variances allowed)", ControlOnly(GamesHowell.Compare(levels, groups, alpha), options.Control)),
-            "holm" => ("holm", "Pooled-variance t tests, Holm-adjusted", PooledTTests.Compare(levels, groups, msValue, df, alpha, PValueAdjustmentMethod.Holm, options.Control)),
-            _ => ("bonferroni", "Pooled-variance t tests, Bonferroni-adjusted", PooledTTests.Compare(levels, groups, msValue, df, alpha, PValueAdjustmentMethod.Bonferroni, options.Control)),
+            "tukey" when options.Control is not null => ("dunnett", DunnettProcedure(options.Direction), Dunnett.CompareWithAlternative(levels, groups, msValue, df, alpha, options.Control, options.Direction)),
+            "tukey" => ("tukey_hsd", groups.Select(g => g.Length).Distinct().Count() > 1 ? PostHocProcedure.TukeyKramer : PostHocProcedure.TukeyHsd, TukeyHsd.Compare(levels, groups, msValue, df, alpha)),
+            "games-howell" => ("games_howell", PostHocProcedure.GamesHowell, ControlOnly(GamesHowell.Compare(levels, groups, alpha), options.Control)),
+            "holm" => ("holm", PostHocProcedure.PooledHolm, PooledTTests.Compare(levels, groups, msValue, df, alpha, PValueAdjustmentMethod.Holm, options.Control)),
+            _ => ("bonferroni", PostHocProcedure.PooledBonferroni, PooledTTests.Compare(levels, groups, msValue, df, alpha, PValueAdjustmentMethod.Bonferroni, options.Control)),
         };
         var inputs = context.Inputs(block);
         var term = factor.Spec.Name;
-        outcome.Families.Add(Record(context, block, test, title, result, term, inputs));
+        outcome.Families.Add(Record(context, block, test, procedure, result, term, inputs));
         if (options.Method == "auto" && anova.Review.WantsRankTest)
         {
             var rawGroups = factor.Split(anova.Data.Response);
-            outcome.Families.Add(Record(context, block, "dunn", "Dunn's rank comparisons (Holm-adjusted)", Dunn.Compare(levels, rawGroups, alpha, PValueAdjustmentMethod.Holm), term, inputs));
+            outcome.Families.Add(Record(context, block, "dunn", PostHocProcedure.Dunn, Dunn.Compare(levels, rawGroups, alpha, PValueAdjustmentMethod.Holm), term, inputs));
         }
 
-        var m = result.Comparisons.Count;
-        outcome.Multiplicity[Stat.M] = context.Results.Add(block.Id, TestName.Family, term, null, null, Stat.M, m, inputs);
-        outcome.Multiplicity[Stat.FwerUnadjusted] = context.Results.Add(block.Id, TestName.Family, term, null, null, Stat.FwerUnadjusted, PValueAdjustment.FamilyWiseErrorRate(m, alpha), inputs);
-        if (context.Header.Report.Figures && Figures.Intervals(outcome, alpha) is { } figure)
-        {
-            outcome.Figures.Add(figure);
-        }
+        AddFamilySize(context, block, outcome, term, result.Comparisons.Count, alpha, inputs);
 
         outcome.SingleObservationLevels = groups.Any(g => g.Length < 2);
         AddInteractions(outcome, anova, term, alpha);
         return outcome;
     }
 
-    /// <summary>The title of Dunnett's family, with its alternative.</summary>
-    internal static string DunnettTitle(DunnettAlternative direction) => direction switch
+    /// <summary>
+    /// The family's size and its family-wise error rate without adjustment (manifest), and its
+    /// intervals figure: the same on every route (rows, cell statistics, declared design).
+    /// </summary>
+    internal static void AddFamilySize(EvaluationContext context, BoundBlock block, PostHocOutcome outcome, string term, int m, double alpha, IReadOnlyList<string> inputs)
     {
-        DunnettAlternative.Greater => "Dunnett's one-sided comparisons with the control (alternative: higher than the control)",
-        DunnettAlternative.Less => "Dunnett's one-sided comparisons with the control (alternative: lower than the control)",
-        _ => "Dunnett's comparisons with the control",
+        outcome.Multiplicity[Stat.M] = context.Results.Add(block.Id, TestName.Family, term, null, null, Stat.M, m, inputs);
+        outcome.Multiplicity[Stat.FwerUnadjusted] = context.Results.Add(block.Id, TestName.Family, term, null, null, Stat.FwerUnadjusted, PValueAdjustment.FamilyWiseErrorRate(m, alpha), inputs);
+        if (context.Header.Report.Figures && Figures.Intervals(outcome, alpha) is { } figure)
+        {
+            outcome.Figures.Add(figure);
+        }
+    }
+
+    /// <summary>Dunnett's procedure with its alternative.</summary>
+    internal static PostHocProcedure DunnettProcedure(DunnettAlternative direction) => direction switch
+    {
+        DunnettAlternative.Greater => PostHocProcedure.DunnettGreater,
+        DunnettAlternative.Less => PostHocProcedure.DunnettLess,
+        _ => PostHocProcedure.Dunnett,
     };
 
     /// <summary>Records the anova's significant interactions that contain the compared factor.</summary>
@@ -257,9 +305,9 @@ public sealed partial class PostHocEvaluator : KindEvaluator
         return all with { Comparisons = kept };
     }
 
-    internal static PostHocFamily Record(EvaluationContext context, BoundBlock block, string test, string title, PostHocResult result, string term, IReadOnlyList<string> inputs)
+    internal static PostHocFamily Record(EvaluationContext context, BoundBlock block, string test, PostHocProcedure procedure, PostHocResult result, string term, IReadOnlyList<string> inputs)
     {
-        var family = new PostHocFamily { Test = test, Title = title, Result = result };
+        var family = new PostHocFamily { Test = test, Procedure = procedure, Result = result };
         foreach (var c in result.Comparisons)
         {
             string[] pair = [c.LevelA, c.LevelB];

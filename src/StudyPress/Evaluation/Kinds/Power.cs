@@ -17,13 +17,13 @@ public sealed class PowerOutcome(BoundBlock block) : BlockOutcome(block)
 
     public bool Observed { get; set; }
 
-    public double Alpha { get; set; }
+    public double Alpha { get; init; }
 
     public int Groups { get; set; }
 
     public double Effect { get; set; }
 
-    public double? Target { get; set; }
+    public double? Target { get; init; }
 }
 
 /// <summary>Evaluates <c>power</c> blocks into values (no HTML, no report text).</summary>
@@ -37,7 +37,7 @@ public sealed class PowerEvaluator : KindEvaluator
 
     public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
     {
-        var o = (PowerKind.Options)block.Options!;
+        var o = block.OptionsOf<PowerKind.Options>();
         var outcome = new PowerOutcome(block) { Alpha = o.Alpha, Target = o.Target };
         var groups = o.Groups;
         var effect = o.Effect;

@@ -34,7 +34,7 @@ public sealed class RanksEvaluator : KindEvaluator
 
     public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
     {
-        var options = (RanksKind.Options)block.Options!;
+        var options = block.OptionsOf<RanksKind.Options>();
         var outcome = new RanksOutcome(block);
         var name = options.Factor ?? (block.Factors.Count == 1 ? block.Factors[0].Name : null);
         if (name is null)

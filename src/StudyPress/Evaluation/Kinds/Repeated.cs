@@ -184,7 +184,7 @@ public sealed class RepeatedEvaluator : KindEvaluator
 
     public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
     {
-        var o = (RepeatedKind.Options)block.Options!;
+        var o = block.OptionsOf<RepeatedKind.Options>();
         var all = o.Factors.ToList();
         var kw = o.Within.Count;
         var kb = o.Between.Count;
@@ -836,17 +836,7 @@ public sealed class RepeatedEvaluator : KindEvaluator
         // At most MaxProfilesDrawn thin lines (the first subjects in file order): beyond that the lines
         // hide each other and only weigh down the report; the mean profile uses every subject.
         var drawn = profiles.Count > MaxProfilesDrawn ? profiles.Take(MaxProfilesDrawn).ToList() : profiles;
-        var chart = StatCharts.SubjectProfiles(
-            levels,
-            drawn,
-            bLabel,
-            mean,
-            "95%",
-            new ChartLabels($"{response} of each {o.Subject.Spec.Display} by {wLabel}", wLabel, response));
-        var which = drawn.Count < profiles.Count
-            ? string.Create(System.Globalization.CultureInfo.InvariantCulture, $"Each thin line is one {o.Subject.Spec.Display} (the first {drawn.Count} of {profiles.Count} complete subjects, in file order); ")
-            : $"Each thin line is one {o.Subject.Spec.Display} (complete subjects only); ";
-        outcome.Figures.Add(new Figure("profiles", which + $"the thick line is the mean at each level of {wLabel} with its 95% interval (t interval over subjects; it does not show the within-subject comparison).", chart));
+        outcome.Figures.Add(new ProfilesFigure(levels, drawn, profiles.Count, bLabel, mean, response, o.Subject.Spec.Display, wLabel));
 
         if (fit.Design.Between.Count > 0)
         {
@@ -864,8 +854,7 @@ public sealed class RepeatedEvaluator : KindEvaluator
                 }
             }
 
-            var ichart = StatCharts.InteractionPlot(levels, between, cells, bLabel, new ChartLabels($"Mean {response} by {wLabel} and {bLabel}", wLabel, response));
-            outcome.Figures.Add(new Figure("interaction", $"Means of the complete subjects; lines that are not parallel suggest an interaction (compare with the F test of {bLabel} × {wLabel}).", ichart));
+            outcome.Figures.Add(new RepeatedInteractionFigure(levels, between, cells, bLabel, wLabel, response));
         }
     }
 }

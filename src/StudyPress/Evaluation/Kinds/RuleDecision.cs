@@ -50,6 +50,6 @@ public sealed record RuleDecision(DecisionRule Rule, bool Cells = false)
 
     public bool WithControl { get; init; }
 
-    /// <summary>Cells route: "groups" or "cells of the anova".</summary>
-    public string Over { get; init; } = "groups";
+    /// <summary>Cells route: whether Bartlett's test compared the cells of the anova (several factors) rather than the groups of one factor.</summary>
+    public bool OverCellsOfAnova { get; init; }
 }

@@ -24,7 +24,7 @@ public sealed class SummaryOutcome(BoundBlock block) : BlockOutcome(block)
     public BlockData? Data { get; set; }
 
     /// <summary>Whether the statistics came from the rows or from the database's cell statistics.</summary>
-    public AnovaRoute Route { get; set; } = AnovaRoute.Rows;
+    public AnovaRoute Route { get; init; } = AnovaRoute.Rows;
 
     /// <summary>Rows left out because the response or a factor was missing.</summary>
     public long DroppedMissing { get; set; }

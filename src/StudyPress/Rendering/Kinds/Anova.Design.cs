@@ -33,7 +33,7 @@ internal static class DesignRendering
             var icc = new HtmlTable("icc", d.IccLayout == "raters" ? "Intraclass correlations (Shrout and Fleiss forms; targets × raters, one rating each)" : "Intraclass correlation", ["Form", "Reads as", "ICC", context.ConfidenceText + "% interval"]) { TextColumns = [1] };
             foreach (var f in d.Icc)
             {
-                icc.Row(f.Form, [HtmlWriter.Escape(f.Meaning), V(f.Values, Stat.Icc), Interval(f.Values, context)]);
+                icc.Row(f.Form, [HtmlWriter.Escape(IccMeaning(f)), V(f.Values, Stat.Icc), Interval(f.Values, context)]);
             }
 
             icc.WriteTo(html);
@@ -473,4 +473,17 @@ internal static class DesignRendering
 
     private static string Display(AnovaOutcome o, string factor) =>
         o.Factors.FirstOrDefault(f => f.Name == factor)?.Display ?? factor;
+
+    /// <summary>What an intraclass correlation form measures, in the layout it was computed for.</summary>
+    private static string IccMeaning(DesignIcc f) => (f.Model, f.OfMean, f.Layout) switch
+    {
+        (1, false, "one-way") => "share of the variance due to the random factor (one observation)",
+        (1, true, "one-way") => "reliability of the mean of a level's observations",
+        (1, false, _) => "each target rated by different raters, one rating",
+        (1, true, _) => "each target rated by different raters, mean rating",
+        (2, false, _) => "raters a random sample, absolute agreement, one rating",
+        (2, true, _) => "raters a random sample, absolute agreement, mean rating",
+        (3, false, _) => "these raters only, consistency, one rating",
+        _ => "these raters only, consistency, mean rating",
+    };
 }

@@ -22,6 +22,8 @@ public sealed class AnovaRenderer : KindRenderer
 
     public override string Kind => "anova";
 
+    private const string CellsMethodNote = "ANOVA table, level means, Welch's F and Bartlett's test were computed from per-cell counts, means and sums of squares computed by the database (aggregate: true). The checks that need the rows (normality of the residuals, Brown–Forsythe/Levene, outliers, run order), the Kruskal–Wallis test and the figures were not run: the rows were not loaded.";
+
     /// <summary>The anova's sentences in a methods paragraph: design, model, decisions, effects, cautions.</summary>
     public override IEnumerable<string> Methods(MethodsPart part, MethodsSection? section, BlockOutcome outcome, MethodsWriter w)
     {
@@ -76,7 +78,7 @@ public sealed class AnovaRenderer : KindRenderer
         }
 
         var unbalanced = s.Cells.Select(c => c.N.Value.Value).Distinct().Count() > 1;
-        var opts = (AnovaKind.Options)a.Block.Options!;
+        var opts = a.Block.OptionsOf<AnovaKind.Options>();
         if (unbalanced && a.Factors.Count > 1 && opts.Interaction)
         {
             yield return $"The design{which} is unbalanced and includes interactions: the main-effect tests depend on the type of sums of squares, and a main effect is hard to interpret when its factor interacts with another.";
@@ -130,7 +132,7 @@ public sealed class AnovaRenderer : KindRenderer
     private static string BriefModel(MethodsSection s, MethodsWriter w)
     {
         var a = s.Anova;
-        var opts = (AnovaKind.Options)a.Block.Options!;
+        var opts = a.Block.OptionsOf<AnovaKind.Options>();
         var k = a.Factors.Count;
         var way = k switch { 1 => "a one-way", 2 => "a two-way", 3 => "a three-way", _ => "a factorial" };
         var subject = $"{way} fixed-effects analysis of variance";
@@ -185,7 +187,7 @@ public sealed class AnovaRenderer : KindRenderer
     private static IEnumerable<string> BriefDecisions(MethodsSection s, MethodsWriter w)
     {
         var a = s.Anova;
-        var opts = (AnovaKind.Options)a.Block.Options!;
+        var opts = a.Block.OptionsOf<AnovaKind.Options>();
         var data = a.Data!;
         if (data.Factors.Count != 1 || !s.Covered)
         {
@@ -300,7 +302,7 @@ public sealed class AnovaRenderer : KindRenderer
     private static string MethodsModel(MethodsSection s, MethodsWriter w)
     {
         var a = s.Anova;
-        var opts = (AnovaKind.Options)a.Block.Options!;
+        var opts = a.Block.OptionsOf<AnovaKind.Options>();
         var k = a.Factors.Count;
         var way = k switch { 1 => "a one-way", 2 => "a two-way", 3 => "a three-way", _ => "a factorial" };
         var subject = $"{way} fixed-effects analysis of variance";
@@ -349,7 +351,7 @@ public sealed class AnovaRenderer : KindRenderer
     private static IEnumerable<string> MethodsDecisions(MethodsSection s, MethodsWriter w)
     {
         var a = s.Anova;
-        var opts = (AnovaKind.Options)a.Block.Options!;
+        var opts = a.Block.OptionsOf<AnovaKind.Options>();
         if (!a.RowsAvailable)
         {
             foreach (var d in MethodsCellsDecisions(s, w))
@@ -402,7 +404,7 @@ public sealed class AnovaRenderer : KindRenderer
     private static IEnumerable<string> MethodsCellsDecisions(MethodsSection s, MethodsWriter w)
     {
         var a = s.Anova;
-        var opts = (AnovaKind.Options)a.Block.Options!;
+        var opts = a.Block.OptionsOf<AnovaKind.Options>();
         if (a.Factors.Count == 1 && s.Covered)
         {
             var factor = MethodsWriter.E(a.Factors[0].Display);
@@ -596,7 +598,7 @@ public sealed class AnovaRenderer : KindRenderer
 
         if (a.Route == AnovaRoute.Cells)
         {
-            yield return AnovaEvaluator.CellsMethodNote;
+            yield return CellsMethodNote;
         }
 
         if (a.Ancova is { } covariance)
@@ -789,7 +791,7 @@ public sealed class AnovaRenderer : KindRenderer
         table.WriteTo(html);
     }
 
-    private static string TransformLabel(AnovaOutcome o) => ((AnovaKind.Options)o.Block.Options!).TransformName switch
+    private static string TransformLabel(AnovaOutcome o) => o.Block.OptionsOf<AnovaKind.Options>().TransformName switch
     {
         "log" => "ln",
         "box-cox" => "Box–Cox transform",

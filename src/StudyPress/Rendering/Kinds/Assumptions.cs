@@ -229,7 +229,7 @@ public sealed class AssumptionsRenderer : KindRenderer
             var verdict = !p.IsDefined ? "not tested (" + HtmlWriter.Escape(p.Reason) + ")"
                 : p.Value < context.Alpha ? "departs from normal" : "no departure found";
             var name = DesignRendering.TermLabel(o.Anova!, s.EngineTerm);
-            table.Row(name, [HtmlWriter.Escape(s.Unit), s.Count.ToString(CultureInfo.InvariantCulture), HtmlWriter.ValueHtml(s.Values[Stat.W], context), HtmlWriter.ValueHtml(s.Values[Stat.P], context), verdict]);
+            table.Row(name, [HtmlWriter.Escape(s.Unit switch { StratumUnit.Observations => "observations", StratumUnit.EstimatedEffects => "units of the stratum (estimated effects)", _ => "observations (conditional residuals)" }), s.Count.ToString(CultureInfo.InvariantCulture), HtmlWriter.ValueHtml(s.Values[Stat.W], context), HtmlWriter.ValueHtml(s.Values[Stat.P], context), verdict]);
         }
 
         table.WriteTo(html);
@@ -284,9 +284,9 @@ public sealed class AssumptionsRenderer : KindRenderer
             notes.Add("Durbin–Watson p is for positive serial correlation, computed by " + dw.Method + ".");
         }
 
-        if (r.IndependenceSkipped is { } why)
+        if (r.IndependenceSkipped is { } gap)
         {
-            notes.Add("Independence: " + why + ".");
+            notes.Add("Independence: " + IndependenceNote(gap, r.WithoutRunOrder) + ".");
         }
 
         notes.Add(o.Anova?.Ancova is not null
@@ -366,4 +366,13 @@ public sealed class AssumptionsRenderer : KindRenderer
             yield return "Some observations lie far from their group's fitted value (see the table). Check them for recording or measurement errors; do not remove them only because they are outlying, and if they are kept, say how they affect the results.";
         }
     }
+
+    /// <summary>Why independence in run order was not checked, or not on every observation.</summary>
+    private static string IndependenceNote(IndependenceGap gap, int withoutOrder) => gap switch
+    {
+        IndependenceGap.Covariates => "the Durbin–Watson test is not run for an analysis of covariance in this version (its p-value needs the covariates' columns in the design)",
+        IndependenceGap.NoRunOrder => "the header names no run-order column ('order'), so independence in time was not checked; the file's row order is not assumed to be the run order",
+        IndependenceGap.TooFewOrdered => "fewer than three observations have a run order",
+        _ => string.Create(System.Globalization.CultureInfo.InvariantCulture, $"{StudyPress.Charts.NumberText.Count(withoutOrder, "observation")} without a run order {(withoutOrder == 1 ? "was" : "were")} left out of the Durbin–Watson test"),
+    };
 }

@@ -23,7 +23,7 @@ public sealed class MethodsRenderer : KindRenderer
     public override void Render(HtmlWriter html, BlockOutcome outcome, RenderContext context)
     {
         var o = (MethodsOutcome)outcome;
-        var options = (MethodsKind.Options)o.Block.Options!;
+        var options = o.Block.OptionsOf<MethodsKind.Options>();
         var text = new MethodsText(o, options);
         foreach (var (css, paragraph) in text.Paragraphs())
         {

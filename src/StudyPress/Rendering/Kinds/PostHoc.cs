@@ -22,6 +22,25 @@ public sealed class PostHocRenderer : KindRenderer
 
     public override string Kind => "posthoc";
 
+    private const string CellsMethodNote = "The comparisons were computed from per-level counts, means and sums of squares computed by the database (aggregate: true) and the residual mean square of the anova block; they equal the comparisons on the rows.";
+
+    /// <summary>A family's title: its table's caption and its intervals figure's heading.</summary>
+    public static string Title(PostHocFamily family) => family.Procedure switch
+    {
+        PostHocProcedure.TukeyHsd => "Tukey HSD comparisons",
+        PostHocProcedure.TukeyKramer => "Tukey–Kramer comparisons (unequal group sizes)",
+        PostHocProcedure.Dunnett => "Dunnett's comparisons with the control",
+        PostHocProcedure.DunnettGreater => "Dunnett's one-sided comparisons with the control (alternative: higher than the control)",
+        PostHocProcedure.DunnettLess => "Dunnett's one-sided comparisons with the control (alternative: lower than the control)",
+        PostHocProcedure.GamesHowell => "Games–Howell comparisons (unequal variances allowed)",
+        PostHocProcedure.PooledHolm => "Pooled-variance t tests, Holm-adjusted",
+        PostHocProcedure.PooledBonferroni => "Pooled-variance t tests, Bonferroni-adjusted",
+        PostHocProcedure.Dunn => "Dunn's rank comparisons (Holm-adjusted)",
+        PostHocProcedure.AdjustedTukeyKramer => "Tukey–Kramer-style comparisons of adjusted means (each pair's own standard error)",
+        PostHocProcedure.AdjustedHolm => "t tests of adjusted-mean differences, Holm-adjusted (Bonferroni intervals)",
+        _ => "t tests of adjusted-mean differences, Bonferroni-adjusted",
+    };
+
     /// <summary>The comparisons' sentences in a methods paragraph: the automatic choice, the method, the results, multiplicity.</summary>
     public override IEnumerable<string> Methods(MethodsPart part, MethodsSection? section, BlockOutcome outcome, MethodsWriter w)
     {
@@ -60,7 +79,7 @@ public sealed class PostHocRenderer : KindRenderer
     private static IEnumerable<string> MethodsDecisionFromRows(MethodsSection s, PostHocOutcome p, MethodsWriter w)
     {
         var a = s.Anova;
-        var popts = (PostHocKind.Options)p.Block.Options!;
+        var popts = p.Block.OptionsOf<PostHocKind.Options>();
         if (popts.Method != "auto")
         {
             yield break;
@@ -79,7 +98,7 @@ public sealed class PostHocRenderer : KindRenderer
     private static IEnumerable<string> MethodsDecisionFromCells(MethodsSection s, PostHocOutcome p, MethodsWriter w)
     {
         var a = s.Anova;
-        var popts = (PostHocKind.Options)p.Block.Options!;
+        var popts = p.Block.OptionsOf<PostHocKind.Options>();
         if (popts.Method != "auto")
         {
             yield break;
@@ -95,7 +114,7 @@ public sealed class PostHocRenderer : KindRenderer
 
     private static string MethodsName(string test, PostHocOutcome p) => test switch
     {
-        "tukey_hsd" => p.Families[0].Title.StartsWith("Tukey–Kramer", StringComparison.Ordinal) ? "the Tukey–Kramer procedure (Tukey's HSD for unequal group sizes)" : "Tukey's HSD procedure",
+        "tukey_hsd" => Title(p.Families[0]).StartsWith("Tukey–Kramer", StringComparison.Ordinal) ? "the Tukey–Kramer procedure (Tukey's HSD for unequal group sizes)" : "Tukey's HSD procedure",
         "games_howell" => "the Games–Howell procedure, which does not pool the variances,",
         "dunnett" => p.Direction switch
         {
@@ -115,11 +134,11 @@ public sealed class PostHocRenderer : KindRenderer
     private static string BriefComparison(MethodsSection? s, PostHocOutcome p, MethodsWriter w)
     {
         var f = p.Families[0];
-        var popts = (PostHocKind.Options)p.Block.Options!;
+        var popts = p.Block.OptionsOf<PostHocKind.Options>();
         var factor = MethodsWriter.E(p.FactorLabel);
         var method = f.Test switch
         {
-            "tukey_hsd" => f.Title.StartsWith("Tukey–Kramer", StringComparison.Ordinal) ? "the Tukey–Kramer procedure" : "Tukey's HSD procedure",
+            "tukey_hsd" => Title(f).StartsWith("Tukey–Kramer", StringComparison.Ordinal) ? "the Tukey–Kramer procedure" : "Tukey's HSD procedure",
             "games_howell" => "the Games–Howell procedure (variances not pooled)",
             "dunnett" => "Dunnett's procedure",
             "holm" => "pooled-variance t tests with Holm's adjustment",
@@ -166,7 +185,7 @@ public sealed class PostHocRenderer : KindRenderer
     private static string MethodsComparison(PostHocOutcome p, MethodsWriter w)
     {
         var f = p.Families[0];
-        var control = ((PostHocKind.Options)p.Block.Options!).Control;
+        var control = p.Block.OptionsOf<PostHocKind.Options>().Control;
         var what = control is null
             ? $"pairwise differences between the levels of {MethodsWriter.E(p.FactorLabel)}"
             : $"the differences of each level of {MethodsWriter.E(p.FactorLabel)} from the control {MethodsWriter.E(control)}";
@@ -268,7 +287,7 @@ public sealed class PostHocRenderer : KindRenderer
 
         if (o.FromCells)
         {
-            yield return PostHocEvaluator.CellsMethodNote;
+            yield return CellsMethodNote;
         }
 
         if (o.DesignError is { } e)
@@ -333,7 +352,7 @@ public sealed class PostHocRenderer : KindRenderer
             {
                 headers[^1] = o.Direction == DunnettAlternative.Greater ? "adjusted p (one-sided: higher)" : "adjusted p (one-sided: lower)";
             }
-            var caption = (o.Block.Caption ?? f.Title) + " of " + o.FactorLabel;
+            var caption = (o.Block.Caption ?? Title(f)) + " of " + o.FactorLabel;
             var table = new HtmlTable("pairs", caption, headers) { TextColumns = [1] };
             foreach (var (pair, v) in f.Pairs)
             {
