@@ -137,6 +137,9 @@ factor: treatment
         Assert.Equal(m.Get("f", "iman_davenport", "treatment", "p"), m.Get("r", "iman_davenport", "treatment", "p"));
         Assert.Contains("the Friedman rank test is shown below", result.Html, StringComparison.Ordinal);
         Assert.Contains("It tests whether the subjects rank the levels alike, not whether the means differ", result.Html, StringComparison.Ordinal);
+        Assert.True(m.Get("r", "shapiro_wilk", "residual", "p") < 0.001, "shown as '< 0.001', so the line must not read 'p = <'");
+        Assert.Contains("p <span", result.Html, StringComparison.Ordinal);
+        Assert.DoesNotContain("p = &lt;", result.Html, StringComparison.Ordinal);
     }
 
     [Fact]

@@ -147,7 +147,7 @@ public sealed class RepeatedRenderer : KindRenderer
 
         if (o.RankReason == RankRouteReason.NormalityFailed)
         {
-            yield return "The residuals depart from a normal distribution (Shapiro–Wilk p below α), so the F test's p-value may be off; the Friedman rank test, which does not assume normality, is shown below it ('ranks: auto'). It tests whether the subjects rank the levels alike, not whether the means differ; where the two tests disagree, neither settles the question alone.";
+            yield return "The residuals depart from a normal distribution (Shapiro–Wilk p below α), so the F test's p-value may be off; the Friedman rank test, which does not assume normality, is shown with it ('ranks: auto'). It tests whether the subjects rank the levels alike, not whether the means differ; where the two tests disagree, neither settles the question alone.";
         }
 
         if (o.MixedSingular)
@@ -259,7 +259,7 @@ public sealed class RepeatedRenderer : KindRenderer
                     RankRouteReason.Asked => "; the Friedman rank test is shown below, as asked ('ranks: always')",
                     _ => string.Empty,
                 };
-                html.Raw("<li>").Text("Residuals (subject × cell, after subjects and group × cell means): Shapiro–Wilk W = ").Raw(V(sw[Stat.W])).Text(", p = ").Raw(V(sw[Stat.P]))
+                html.Raw("<li>").Text("Residuals (subject × cell, after subjects and group × cell means): Shapiro–Wilk W = ").Raw(V(sw[Stat.W])).Text(sw[Stat.P].Value.IsDefined && context.Format.Format(Stat.P, sw[Stat.P].Value.Value).StartsWith('<') ? ", p " : ", p = ").Raw(V(sw[Stat.P]))
                     .Text($" — {verdict}{next}.").Raw("</li>");
             }
 
