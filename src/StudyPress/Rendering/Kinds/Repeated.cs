@@ -135,9 +135,9 @@ public sealed class RepeatedRenderer : KindRenderer
             yield break;
         }
 
-        if (o.Mixed is not null && o.Rows is not null && o.Mixed.Any(m => m.Agrees == false))
+        if (o.Mixed is not null && o.Rows is not null && o.Mixed.Any(m => SameDecision(o, m, context.Alpha) == false))
         {
-            yield return "The classical and mixed-model routes differ for " + string.Join(", ", o.Mixed.Where(m => m.Agrees == false).Select(m => BidiText.Isolate(Term(o, m.Term)))) + ": read both tables; the mixed model uses every measurement of the incomplete subjects.";
+            yield return $"At α = {context.AlphaText} the classical and mixed-model routes reach different decisions for " + string.Join(", ", o.Mixed.Where(m => SameDecision(o, m, context.Alpha) == false).Select(m => BidiText.Isolate(Term(o, m.Term)))) + ": read both tables; the mixed model uses every measurement of the incomplete subjects, the classical route only the complete subjects.";
         }
 
         if (o.RankReason == RankRouteReason.NormalityFailedNoRankForm)
@@ -191,6 +191,11 @@ public sealed class RepeatedRenderer : KindRenderer
         if (o.RankReason == RankRouteReason.NormalityNotTested && o.Normality is null)
         {
             yield return string.Create(CultureInfo.InvariantCulture, $"Shapiro–Wilk is computed for 3 to {Statistics.Assumptions.ShapiroWilk.MaximumN} residuals; this analysis has {o.NormalityN}, so normality was not tested and the rank route was not considered.");
+        }
+
+        if (o.Mixed is not null && o.Rows is not null && o.Mixed.Any(m => m.Agrees == false) && o.Mixed.All(m => SameDecision(o, m, context.Alpha) != false))
+        {
+            yield return $"The mixed model's F and p differ from the classical ones (it keeps the incomplete subjects' measurements), but every term gets the same decision at α = {context.AlphaText}.";
         }
 
         if (o.MixedNotFitted is { } why)
@@ -301,13 +306,14 @@ public sealed class RepeatedRenderer : KindRenderer
         {
             var counts = o.MixedCounts!;
             var caption = string.Create(CultureInfo.InvariantCulture, $"Mixed-model route (REML, Satterthwaite df): {counts[Stat.N].Value.Value} subjects, {counts[Stat.NTotal].Value.Value} measurements");
-            var m = new HtmlTable("repeated-reml", caption, o.Rows is null ? ["Effect", "df", "F", "df (denominator)", "p"] : ["Effect", "df", "F", "df (denominator)", "p", "same as classical"]);
+            var m = new HtmlTable("repeated-reml", caption, o.Rows is null ? ["Effect", "df", "F", "df (denominator)", "p"] : ["Effect", "df", "F", "df (denominator)", "p", "same numbers as classical", "same decision at α"]);
             foreach (var r in mixed)
             {
                 var cells = new List<string> { V(r.Values[Stat.Df]), V(r.Values[Stat.F]), V(r.Values[Stat.DfDen]), V(r.Values[Stat.P]) };
                 if (o.Rows is not null)
                 {
                     cells.Add(r.Agrees switch { true => "yes", false => "no", _ => string.Empty });
+                    cells.Add(SameDecision(o, r, context.Alpha) switch { true => "yes", false => "no", _ => string.Empty });
                 }
 
                 m.Row(Term(o, r.Term), cells);
@@ -364,6 +370,36 @@ public sealed class RepeatedRenderer : KindRenderer
         }
     }
 
+    /// <summary>
+    /// Whether the mixed model's test of a term and the classical test the sphericity decision names
+    /// both reject, or both do not, at α; null when either p is not defined or the term has no
+    /// classical row.
+    /// </summary>
+    private static bool? SameDecision(RepeatedOutcome o, MixedRowValues m, double alpha)
+    {
+        var row = o.Rows?.FirstOrDefault(r => r.IsEffect && string.Equals(r.Term, m.Term, StringComparison.Ordinal));
+        if (row is null)
+        {
+            return null;
+        }
+
+        var classical = row.Values[ReadStat(o, row)].Value;
+        var mixed = m.Values[Stat.P].Value;
+        return classical.IsDefined && mixed.IsDefined ? (classical.Value < alpha) == (mixed.Value < alpha) : null;
+    }
+
+    /// <summary>The p-value the sphericity decision names for a row: uncorrected, Greenhouse–Geisser or Huynh–Feldt.</summary>
+    private static string ReadStat(RepeatedOutcome o, RepeatedRowValues r)
+    {
+        var reading = r.IsWithin ? o.Readings.FirstOrDefault(x => x.Term == r.Stratum) : null;
+        return reading?.Correction switch
+        {
+            SphericityCorrection.GreenhouseGeisser when r.Values.ContainsKey(Stat.PGg) => Stat.PGg,
+            SphericityCorrection.HuynhFeldt when r.Values.ContainsKey(Stat.PHf) => Stat.PHf,
+            _ => Stat.P,
+        };
+    }
+
     private static string Reading(RepeatedOutcome o, RenderContext context)
     {
         if (o.Rows is null)
@@ -374,14 +410,7 @@ public sealed class RepeatedRenderer : KindRenderer
         var parts = new List<string>();
         foreach (var r in o.Rows.Where(r => r.IsEffect))
         {
-            var reading = r.IsWithin ? o.Readings.FirstOrDefault(x => x.Term == r.Stratum) : null;
-            var stat = reading?.Correction switch
-            {
-                SphericityCorrection.GreenhouseGeisser when r.Values.ContainsKey(Stat.PGg) => Stat.PGg,
-                SphericityCorrection.HuynhFeldt when r.Values.ContainsKey(Stat.PHf) => Stat.PHf,
-                _ => Stat.P,
-            };
-            var p = r.Values[stat].Value;
+            var p = r.Values[ReadStat(o, r)].Value;
             if (!p.IsDefined)
             {
                 continue;
