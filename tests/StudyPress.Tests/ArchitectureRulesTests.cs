@@ -216,6 +216,7 @@ public sealed partial class ArchitectureRulesTests
         "PostHocOutcome.Direction",
         "PostHocOutcome.EmptyGroups",
         "PostHocOutcome.FactorLabel",
+        "PostHocOutcome.MultivariateTError",
         "PostHocOutcome.FromCells",
         "PostHocOutcome.SingleObservationLevels",
         "PostHocOutcome.Transformed",
