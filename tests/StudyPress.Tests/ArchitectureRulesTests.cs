@@ -188,6 +188,7 @@ public sealed partial class ArchitectureRulesTests
         "ContrastsOutcome.Adjustment",
         "ContrastsOutcome.AdjustmentChosen",
         "ContrastsOutcome.AnovaFactorSs",
+        "ContrastsOutcome.MarginalMeans",
         "ContrastsOutcome.BetweenLevels",
         "ContrastsOutcome.Error",
         "ContrastsOutcome.FactorLabel",
