@@ -299,8 +299,10 @@ values: {0.0cwt: 0, 0.2cwt: 0.2, 0.4cwt: 0.4, 0.6cwt: 0.6}
             }
         }
 
-        // Unequal cell counts with another factor: the caution says the means are raw pooled means.
-        Assert.Contains("raw means pooled over the other factors", result.Html, StringComparison.Ordinal);
+        // Unequal cell counts with another factor: both routes contrast the model's estimated
+        // marginal means (equal weights over soil), not raw pooled means, and say so.
+        Assert.DoesNotContain("raw means pooled over the other factors", result.Html, StringComparison.Ordinal);
+        Assert.Contains("estimated marginal means of", result.Html, StringComparison.Ordinal);
     }
 
     [Fact]

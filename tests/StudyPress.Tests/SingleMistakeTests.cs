@@ -124,7 +124,7 @@ run,field,fertiliser,yield_kg
         { "block kind misspelt", "study.md", "```anova main", "```anvoa main", "study.md:25:4: error: unknown analysis kind 'anvoa'; did you mean 'anova'?" },
         { "block kind misspelt (summary)", "study.md", "```summary groups", "```sumary groups", "study.md:21:4: error: unknown analysis kind 'sumary'; did you mean 'summary'?" },
         { "block key misspelt", "study.md", "welch: auto", "welsh: auto", "study.md:27:1: error: unknown key 'welsh' in the anova block; did you mean 'welch'?" },
-        { "block choice misspelt", "study.md", "method: auto", "method: tukee", "study.md:36:9: error: 'method' must be one of auto, tukey, games-howell, holm, bonferroni, not 'tukee'; did you mean 'tukey'?" },
+        { "block choice misspelt", "study.md", "method: auto", "method: tukee", "study.md:36:9: error: 'method' must be one of auto, tukey, games-howell, holm, bonferroni, dunnett, not 'tukee'; did you mean 'tukey'?" },
         { "factor misspelt in a block", "study.md", "```anova main\nfactors: [fertiliser]", "```anova main\nfactors: [fertilizer]", "study.md:26:11: error: unknown factor 'fertilizer'; did you mean 'fertiliser'?" },
         { "of names a misspelt block", "study.md", "```assumptions checks\nof: main", "```assumptions checks\nof: mian", "study.md:31:5: error: no anova block with id 'mian' above this block; did you mean 'main'?" },
         { "block body mis-indented", "study.md", "welch: auto", "  welch: auto\nss-type: 2", "study.md:27:3: error: 'welch' is indented further than the line above, which does not end with ':'; line it up with the keys above it (column 1)" },

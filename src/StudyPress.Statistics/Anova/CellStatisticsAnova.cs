@@ -172,6 +172,40 @@ public static class CellStatisticsAnova
             input.Alpha);
     }
 
+    /// <summary>
+    /// Estimated marginal means of <paramref name="terms"/> (null: every term) from cell statistics,
+    /// on the residual mean square and df: the same coefficients and (X'X)⁻¹ as the fit on the rows
+    /// (the weighted cell design has the rows' cross-products), so the same means, covariances and
+    /// standard errors as <see cref="FollowUp.EstimatedMarginalMeans.Compute"/> on the rows. Two or more factors.
+    /// </summary>
+    public static FollowUp.MarginalMeansResult MarginalMeans(CellAnovaInput input, IReadOnlyList<IReadOnlyList<string>>? terms = null)
+    {
+        ArgumentNullException.ThrowIfNull(input);
+        if (input.Factors.Count < 2)
+        {
+            throw new ArgumentException("with one factor the marginal means are the level means", nameof(input));
+        }
+
+        var problem = Check(input, out var cells, out var coding, out var qr);
+        if (problem is not null)
+        {
+            throw new ArgumentException(problem.Message, nameof(input));
+        }
+
+        var p = coding!.ColumnCount;
+        var (_, y) = Weighted(coding, cells);
+        var effects = qr!.Effects(y);
+        var rss = cells.Sum(c => c.SumOfSquares);
+        for (var i = p; i < effects.Length; i++)
+        {
+            rss += effects[i] * effects[i];
+        }
+
+        var df = checked((int)(cells.Sum(c => c.Count) - p));
+        var fit = new FollowUp.LinearFit(coding, qr.Coefficients(effects), qr.InverseCrossProduct(), rss, df);
+        return fit.Means(CellInput(input, cells).Factors, fit.ResidualMeanSquare, df, input.Alpha, 0, TransformKind.None, null, terms);
+    }
+
     private static DesignProblem? Check(CellAnovaInput input, out List<CellStatistics> cells, out DesignCoding? coding, out HouseholderQr? qr)
     {
         ArgumentNullException.ThrowIfNull(input);

@@ -24,6 +24,12 @@ public enum AdjustedMeansComparison
     /// adjusted means are not equally correlated; Hochberg and Tamhane 1987, ch. 3).
     /// </summary>
     TukeyKramer = 1,
+
+    /// <summary>
+    /// Bonferroni: the t tests of the adjusted differences with p × m (capped at 1), m the pairs of
+    /// the factor; intervals at the Bonferroni level (the same as Holm's).
+    /// </summary>
+    Bonferroni = 2,
 }
 
 /// <summary>
@@ -93,6 +99,18 @@ public sealed record AncovaResult(
 
     /// <summary>Leverages h_i = x_i' (X'X)⁻¹ x_i of the common-slope model (covariates centred), per observation.</summary>
     public double[] Leverages { get; init; } = [];
+
+    /// <summary>
+    /// The adjusted means of each treatment factor from this one fit, with their covariance and
+    /// the error df: every comparison of them (<see cref="AdjustedComparisons"/>) is computed from
+    /// these, without fitting the model again.
+    /// </summary>
+    public IReadOnlyList<AdjustedMeansFamily> Families { get; init; } = [];
+
+    /// <summary>The adjusted means of treatment factor <paramref name="factor"/>.</summary>
+    public AdjustedMeansFamily Family(string factor) =>
+        Families.FirstOrDefault(f => string.Equals(f.Factor, factor, StringComparison.Ordinal))
+        ?? throw new ArgumentException("'" + factor + "' is not a treatment factor of the analysis of covariance", nameof(factor));
 }
 
 /// <summary>
@@ -200,21 +218,21 @@ public static class Ancova
         var homogeneity = Homogeneity(input, model, n, rss);
         var fit = new LinearFit(coding, b, inverse, rss, dfRes);
         var means = fit.Means(input.Factors, mse, dfRes, input.Alpha, input.ResponseCentre, TransformKind.None, null, null);
+        var families = model.Treatment.Select(f => AdjustedMeansFamily.Of(fit, input.Factors, f, mse, dfRes, input.ResponseCentre)).ToList();
         var comparisons = new List<AdjustedMeanComparison>();
-        foreach (var f in model.Treatment)
+        foreach (var family in families)
         {
-            comparisons.AddRange(Compare(fit, input, f, mse, dfRes));
+            comparisons.AddRange(AdjustedComparisons.Pairwise(family, input.Comparisons, input.Alpha));
         }
 
-        var method = input.Comparisons == AdjustedMeansComparison.Holm
-            ? "Holm step-down adjustment of t tests of adjusted-mean differences within each factor; Bonferroni intervals"
-            : "Tukey–Kramer style: studentized range with each pair's own standard error (an approximation with covariates)";
+        var method = AdjustedComparisons.Describe(input.Comparisons);
         var (fitted, residuals, leverages) = PerObservation(input, model, b, inverse);
         return new AncovaResult(terms, rss, dfRes, AnovaTable.MeanSquareResidual(rss, dfRes), ssTotal, n - 1, slopes, homogeneity, means, comparisons, method, input.SsType, input.Alpha)
         {
             Fitted = fitted,
             Residuals = residuals,
             Leverages = leverages,
+            Families = families,
         };
     }
 
@@ -515,68 +533,5 @@ public static class Ancova
 
         var f = ss / df1 / (rssSeparate / df2);
         return new SlopesHomogeneity(names, ss, df1, df2, Quantity.Of(f), Quantity.Of(Probability.FUpper(f, df1, df2)));
-    }
-
-    private static List<AdjustedMeanComparison> Compare(LinearFit fit, AncovaInput input, int factor, double mse, int df)
-    {
-        var (rows, cells) = fit.Rows([factor]);
-        var k = rows.Length;
-        var levels = cells.Select(c => input.Factors[factor].Levels[fit.Coding.Used[factor][c[0]]]).ToArray();
-        var name = input.Factors[factor].Name;
-        var pairs = new List<(int A, int B, double Diff, double Se)>();
-        for (var a = 0; a < k; a++)
-        {
-            for (var b = a + 1; b < k; b++)
-            {
-                var d = rows[a].Zip(rows[b], (u, v) => u - v).ToArray();
-                pairs.Add((a, b, fit.Estimate(d), Math.Sqrt(mse * fit.Form(d, d))));
-            }
-        }
-
-        var list = new List<AdjustedMeanComparison>(pairs.Count);
-        if (!(mse > 0))
-        {
-            var u = Quantity.Undefined("the residual mean square is zero, so the standard errors are zero");
-            foreach (var (a, b, diff, _) in pairs)
-            {
-                list.Add(new AdjustedMeanComparison(name, levels[a], levels[b], diff, u, u, u, u, u, u, df));
-            }
-
-            return list;
-        }
-
-        var t = pairs.Select(x => x.Diff / x.Se).ToArray();
-        var raw = t.Select(v => Probability.TTwoSided(v, df)).ToArray();
-        double[] adjusted;
-        double multiplier;
-        if (input.Comparisons == AdjustedMeansComparison.Holm)
-        {
-            adjusted = PValueAdjustment.Holm(raw);
-            multiplier = Probability.TCritical(input.Alpha / pairs.Count, df);
-        }
-        else
-        {
-            adjusted = [.. t.Select(v => StudentizedRange.Upper(Math.Sqrt(2.0) * Math.Abs(v), k, df))];
-            multiplier = StudentizedRange.UpperQuantile(input.Alpha, k, df) / Math.Sqrt(2.0);
-        }
-
-        for (var i = 0; i < pairs.Count; i++)
-        {
-            var (a, b, diff, se) = pairs[i];
-            list.Add(new AdjustedMeanComparison(
-                name,
-                levels[a],
-                levels[b],
-                diff,
-                Quantity.Of(se),
-                Quantity.Of(t[i]),
-                Quantity.Of(raw[i]),
-                Quantity.Of(Math.Min(1.0, adjusted[i])),
-                Quantity.Of(diff - (multiplier * se)),
-                Quantity.Of(diff + (multiplier * se)),
-                df));
-        }
-
-        return list;
     }
 }

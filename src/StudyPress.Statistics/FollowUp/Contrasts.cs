@@ -492,6 +492,80 @@ public static class Contrasts
         _ => string.Create(CultureInfo.InvariantCulture, $"Scheffé adjustment over all contrasts of {k} levels (F on {k - 1} and the error df)"),
     };
 
+    /// <summary>
+    /// The joint (Wald) sum of squares of several contrasts c_1..c_q among means with unit
+    /// covariance M: SS = L' (C M C')⁻¹ L, L = C m, on q df (F = SS / q / MSE). For contrasts
+    /// uncorrelated in M it is the sum of their single SS; for a full set of k − 1 independent
+    /// contrasts of estimated marginal means it is the sum of squares of the hypothesis that the
+    /// means are equal (the factor's marginal, type 3, sum of squares in a full-rank model).
+    /// Solved by Cholesky of C M C' (throws when the contrasts are linearly dependent).
+    /// </summary>
+    public static double JointSumOfSquares(IReadOnlyList<double> means, double[,] unitCovariance, IReadOnlyList<ContrastSpec> contrasts)
+    {
+        ArgumentNullException.ThrowIfNull(means);
+        ArgumentNullException.ThrowIfNull(unitCovariance);
+        ArgumentNullException.ThrowIfNull(contrasts);
+        var q = contrasts.Count;
+        if (q == 0 || contrasts.Any(c => c.Coefficients.Count != means.Count))
+        {
+            throw new ArgumentException("one or more contrasts over the means are needed", nameof(contrasts));
+        }
+
+        var l = contrasts.Select(c => c.Coefficients.Select((v, i) => v * means[i]).Sum()).ToArray();
+        var a = new double[q, q];
+        for (var i = 0; i < q; i++)
+        {
+            for (var j = 0; j <= i; j++)
+            {
+                a[i, j] = a[j, i] = Quadratic(contrasts[i].Coefficients, unitCovariance, contrasts[j].Coefficients);
+            }
+        }
+
+        // Cholesky A = G G', then SS = |G⁻¹ L|².
+        var g = new double[q, q];
+        for (var i = 0; i < q; i++)
+        {
+            for (var j = 0; j <= i; j++)
+            {
+                var sum = a[i, j];
+                for (var r = 0; r < j; r++)
+                {
+                    sum -= g[i, r] * g[j, r];
+                }
+
+                if (i == j)
+                {
+                    if (!(sum > 1e-12 * Math.Abs(a[i, i])))
+                    {
+                        throw new ArgumentException("the contrasts are linearly dependent", nameof(contrasts));
+                    }
+
+                    g[i, i] = Math.Sqrt(sum);
+                }
+                else
+                {
+                    g[i, j] = sum / g[j, j];
+                }
+            }
+        }
+
+        double ss = 0;
+        var z = new double[q];
+        for (var i = 0; i < q; i++)
+        {
+            var sum = l[i];
+            for (var r = 0; r < i; r++)
+            {
+                sum -= g[i, r] * z[r];
+            }
+
+            z[i] = sum / g[i, i];
+            ss += z[i] * z[i];
+        }
+
+        return ss;
+    }
+
     private static double Quadratic(IReadOnlyList<double> a, double[,] m, IReadOnlyList<double> b)
     {
         var k = a.Count;

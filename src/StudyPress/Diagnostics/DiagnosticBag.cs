@@ -645,8 +645,8 @@ public sealed class DiagnosticBag
     public void AncovaPostHocMethod(SourceLocation at, string method) =>
         Error("SP0521", at, $"the comparisons of an analysis of covariance compare adjusted means, and {Q(method)} estimates a variance per group of raw values, which would ignore the covariates; use 'method: tukey' (the default), 'holm' or 'bonferroni'");
 
-    public void AncovaPostHocControl(SourceLocation at) =>
-        Error("SP0522", at, "comparisons of adjusted means with a control are not available in this version (the many-to-one adjustment is not defined for adjusted means here); remove 'control' to compare every pair of adjusted means");
+    public void AncovaPostHocControl(SourceLocation at, string method) =>
+        Error("SP0522", at, $"adjusted means are compared with a control by Dunnett's method on the multivariate t of their own correlation ('method: dunnett', 'tukey' or 'auto'), not by {Q(method)}; change the method, or remove 'control' to compare every pair of adjusted means");
 
     public void AncovaPostHocBlock(SourceLocation at, string factor) =>
         Error("SP0523", at, $"{Q(factor)} is a block of the analysis of covariance: its levels are units, not treatments to compare, so its adjusted means are not compared; name a treatment factor");
@@ -817,6 +817,10 @@ public sealed class DiagnosticBag
 
     public void DirectionNeedsPooledVariance(SourceLocation at, string test, string pText) =>
         Error("SP0536", at, $"a one-sided 'direction' is tested by Dunnett's comparisons on the pooled variance, but {test} finds the variances unequal ({pText}); write 'method: tukey' to use the pooled variance anyway, or remove 'direction' for the two-sided Games-Howell comparisons");
+
+    // ---- posthoc of adjusted means: Dunnett with a control (SP0296-SP0297, SP0541-SP0542) ----
+    public void DunnettNeedsControl(SourceLocation at) =>
+        Error("SP0296", at, "'method: dunnett' compares every level with a control; name the control level with 'control', or choose a pairwise method ('tukey', 'holm', 'bonferroni')");
 
     /// <summary>Closest candidate within a small edit distance, for "did you mean".</summary>
     public static string? Nearest(string word, IEnumerable<string> candidates)

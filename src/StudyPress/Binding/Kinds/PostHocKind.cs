@@ -30,7 +30,7 @@ public sealed class PostHocKind : BlockKind
 
     public override bool AnalysesAnovaBlock => true;
 
-    private static readonly string[] Methods = ["auto", "tukey", "games-howell", "holm", "bonferroni"];
+    private static readonly string[] Methods = ["auto", "tukey", "games-howell", "holm", "bonferroni", "dunnett"];
 
     /// <summary>The directions of comparisons with a control: two-sided, or every level expected higher (lower) than the control.</summary>
     public static readonly string[] Directions = ["both", "higher", "lower"];
@@ -63,9 +63,20 @@ public sealed class PostHocKind : BlockKind
         {
             diagnostics.DirectionMisplaced(d.Location, null);
         }
-        else if (d is not null && direction != DunnettAlternative.TwoSided && method is not ("auto" or "tukey"))
+        else if (d is not null && direction != DunnettAlternative.TwoSided && method is not ("auto" or "tukey" or "dunnett"))
         {
             diagnostics.DirectionMisplaced(d.Location, method);
+        }
+
+        // 'dunnett' is Dunnett's many-to-one procedure: the pooled-variance method ('tukey') with a control.
+        if (method == "dunnett")
+        {
+            if (c is null && !keys.Misspelt.Contains("control"))
+            {
+                diagnostics.DunnettNeedsControl(keys.Scalar("method")!.Location);
+            }
+
+            method = "tukey";
         }
 
         return new Options(f?.Value, f?.Location ?? context.Syntax.Location, method, c?.Value, c?.Location ?? context.Syntax.Location)

@@ -4,6 +4,7 @@ using StudyPress.Binding;
 using StudyPress.Binding.Kinds;
 using StudyPress.Diagnostics;
 using StudyPress.Statistics;
+using StudyPress.Statistics.Anova;
 using StudyPress.Statistics.Designs;
 using StudyPress.Statistics.FollowUp;
 
@@ -56,6 +57,14 @@ public sealed class ContrastsOutcome(BoundBlock block) : BlockOutcome(block)
 
     /// <summary>Levels with a single observation.</summary>
     public bool SingleObservationLevels { get; set; }
+
+    /// <summary>
+    /// The anova has other factors (fixed factorial from the rows): the contrasts are of the model's
+    /// estimated marginal means of the factor (equal-weight averages of the fitted cells over the
+    /// other factors), with their covariance from the model; trends use equal weights and their
+    /// partition is of the joint (Wald) sum of squares of the means.
+    /// </summary>
+    public bool MarginalMeans { get; set; }
 }
 
 /// <summary>
@@ -98,6 +107,7 @@ public sealed class ContrastsEvaluator : KindEvaluator
         double[] means;
         long[] counts;
         DesignErrorTerm error;
+        MarginalMeansTerm? marginal = null;
         var at = options.Factor is null ? block.Location : options.FactorLocation;
         if (anova.Design is { } design && anova.Data is { } designData)
         {
@@ -176,7 +186,17 @@ public sealed class ContrastsEvaluator : KindEvaluator
 
             error = new DesignErrorTerm("residual", fit.ResidualMeanSquare.IsDefined ? fit.ResidualMeanSquare.Value : double.NaN, fit.ResidualDf);
             outcome.OtherFactors = factors.Count > 1;
-            outcome.PooledUnbalanced = outcome.OtherFactors && Unbalanced(cells.Cells.Select(c => c.Count));
+            if (outcome.OtherFactors && anova.Model is { } model)
+            {
+                // The model's estimated marginal means from the cell statistics (the same as from the rows).
+                var cellInput = new CellAnovaInput([.. factors.Select((f, i) => new CellFactor(f.Name, cells.Levels[i]))], cells.Cells, model.Interaction, model.SsType, context.Header.Alpha);
+                marginal = CellStatisticsAnova.MarginalMeans(cellInput, [[factorName]]).Terms[0];
+                outcome.MarginalMeans = true;
+            }
+            else
+            {
+                outcome.PooledUnbalanced = outcome.OtherFactors && Unbalanced(cells.Cells.Select(c => c.Count));
+            }
         }
         else if (anova is { Result: { } result, Data: { } data, Input: { } input })
         {
@@ -193,7 +213,12 @@ public sealed class ContrastsEvaluator : KindEvaluator
             var ms = result.ResidualMeanSquare;
             error = new DesignErrorTerm("residual", ms.IsDefined ? ms.Value : double.NaN, result.ResidualDf);
             outcome.OtherFactors = data.Factors.Count > 1;
-            outcome.PooledUnbalanced = outcome.OtherFactors && Unbalanced(data.Cells().Select(c => (long)c.Values.Length));
+            if (outcome.OtherFactors)
+            {
+                // The model's estimated marginal means of the factor, not raw means pooled over the others.
+                marginal = EstimatedMarginalMeans.Compute(input, 0, TransformKind.None, null, [[factorName]]).Terms[0];
+                outcome.MarginalMeans = true;
+            }
         }
         else
         {
@@ -212,6 +237,27 @@ public sealed class ContrastsEvaluator : KindEvaluator
         {
             return outcome;
         }
+
+        // Estimated marginal means (several factors): the means of the kept levels and their unit covariance, in that order.
+        double[]? em = null;
+        double[,]? cov = null;
+        if (marginal is not null)
+        {
+            var index = names.Select(l => marginal.Means.Select((x, i) => (x, i)).First(p => p.x.Levels[0] == l).i).ToArray();
+            em = [.. index.Select(i => marginal.Means[i].Mean.Value)];
+            cov = new double[index.Length, index.Length];
+            for (var a = 0; a < index.Length; a++)
+            {
+                for (var b = 0; b < index.Length; b++)
+                {
+                    cov[a, b] = marginal.UnitCovariance[index[a], index[b]];
+                }
+            }
+        }
+
+        ContrastFamily Family(IReadOnlyList<ContrastSpec> specs, ContrastAdjustment adjustment) => em is null
+            ? Statistics.FollowUp.Contrasts.OnGroupMeans(m, n, error.MeanSquare, error.Df, specs, adjustment, context.Header.Alpha)
+            : Statistics.FollowUp.Contrasts.Evaluate(em, cov!, error.MeanSquare, error.Df, specs, adjustment, context.Header.Alpha);
 
         var alpha = context.Header.Alpha;
         var inputs = context.Inputs(block);
@@ -237,7 +283,7 @@ public sealed class ContrastsEvaluator : KindEvaluator
             }
 
             var adjustment = ContrastsKind.AdjustmentFor(options.Adjust, specs.Count);
-            var family = Statistics.FollowUp.Contrasts.OnGroupMeans(m, n, error.MeanSquare, error.Df, specs, adjustment, alpha);
+            var family = Family(specs, adjustment);
             Record(context, block, outcome, factorName, names, family, false, inputs);
             outcome.Orthogonality = family.Orthogonality;
             outcome.Levels = [.. names.Select((l, i) => (l, double.NaN, n[i]))];
@@ -318,10 +364,11 @@ public sealed class ContrastsEvaluator : KindEvaluator
 
         outcome.IsTrend = true;
         outcome.Levels = [.. names.Select((l, i) => (l, numbers[i], n[i]))];
-        var all = Statistics.FollowUp.Contrasts.PolynomialTrends(scaled, n, top);
+        // Estimated marginal means weigh each level once: equal weights for the polynomials.
+        var all = Statistics.FollowUp.Contrasts.PolynomialTrends(scaled, em is null ? n : [.. n.Select(_ => 1L)], top);
         var asked = all.Take(degree).ToList();
         var trendAdjustment = ContrastsKind.AdjustmentFor(options.Adjust, asked.Count);
-        var trends = Statistics.FollowUp.Contrasts.OnGroupMeans(m, n, error.MeanSquare, error.Df, asked, trendAdjustment, alpha);
+        var trends = Family(asked, trendAdjustment);
         Record(context, block, outcome, factorName, names, trends, true, inputs);
 
         // The partition: Σ n_i (ȳ_i − ȳ)² on k − 1 df, and the higher degrees' SS as the lack of fit.
@@ -339,13 +386,21 @@ public sealed class ContrastsEvaluator : KindEvaluator
             between += n[i] * (m[i] - grand) * (m[i] - grand);
         }
 
+        // Estimated marginal means: the joint sum of squares of all k − 1 trends (the hypothesis of equal means).
+        if (em is not null)
+        {
+            between = Statistics.FollowUp.Contrasts.JointSumOfSquares(em, cov!, all);
+        }
+
         Dictionary<string, ResultValue> Values(string level, params (string Stat, Quantity Value)[] values) =>
             values.ToDictionary(v => v.Stat, v => context.Results.Add(block.Id, TestName.Contrast, factorName, level, null, v.Stat, v.Value, inputs), StringComparer.Ordinal);
 
         if (degree < top)
         {
-            var rest = Statistics.FollowUp.Contrasts.OnGroupMeans(m, n, error.MeanSquare, error.Df, all.Skip(degree).ToList(), ContrastAdjustment.None, alpha);
-            var ss = rest.Contrasts.Sum(c => c.SumOfSquares.Value);
+            var higher = all.Skip(degree).ToList();
+            var ss = em is null
+                ? Statistics.FollowUp.Contrasts.OnGroupMeans(m, n, error.MeanSquare, error.Df, higher, ContrastAdjustment.None, alpha).Contrasts.Sum(c => c.SumOfSquares.Value)
+                : Statistics.FollowUp.Contrasts.JointSumOfSquares(em, cov!, higher);
             var df = top - degree;
             var defined = error.Df >= 1 && error.MeanSquare > 0 && double.IsFinite(error.MeanSquare);
             var f = defined ? Quantity.Of(ss / df / error.MeanSquare) : Quantity.Undefined("the error mean square is not defined");

@@ -57,17 +57,33 @@ public sealed partial class PostHocEvaluator
             return outcome;
         }
 
-        if (options.Control is not null)
+        var family = ancova.Result.Family(factor.Spec.Name);
+        var method = options.Method == "auto" ? "tukey" : options.Method;
+        if (options.Control is { } control)
         {
-            diagnostics.AncovaPostHocControl(options.ControlLocation);
-            return outcome;
+            if (family.IndexOf(control) < 0)
+            {
+                diagnostics.UnknownControl(options.ControlLocation, control, factor.Spec.Name, DiagnosticBag.Nearest(control, family.Levels));
+                return outcome;
+            }
+
+            if (method != "tukey")
+            {
+                diagnostics.AncovaPostHocControl(options.ControlLocation, method);
+                return outcome;
+            }
+
+            return WithControl(context, block, outcome, factor, family, control, options.Direction);
         }
 
-        var method = options.Method == "auto" ? "tukey" : options.Method;
-        var fit = method == "tukey"
-            ? Ancova.Fit(ancova.Input with { Comparisons = AdjustedMeansComparison.TukeyKramer })
-            : ancova.Result;
-        var pairs = fit.Comparisons.Where(c => c.Factor == factor.Spec.Name).ToList();
+        // Every comparison from the one fit of the anova block (its adjusted means, their covariance and error df).
+        var adjustment = method switch
+        {
+            "tukey" => AdjustedMeansComparison.TukeyKramer,
+            "holm" => AdjustedMeansComparison.Holm,
+            _ => AdjustedMeansComparison.Bonferroni,
+        };
+        var pairs = AdjustedComparisons.Pairwise(family, adjustment, context.Header.Alpha);
         var m = pairs.Count;
         var comparisons = pairs.Select(c => new PairwiseComparison(
             c.LevelA,
@@ -77,7 +93,7 @@ public sealed partial class PostHocEvaluator
             method == "tukey" ? c.T.Map(t => Math.Sqrt(2.0) * Math.Abs(t)) : c.T,
             c.CiLow,
             c.CiHigh,
-            method == "bonferroni" ? c.P.Map(p => Math.Min(1.0, p * m)) : c.PAdjusted,
+            c.PAdjusted,
             Quantity.Of(c.Df))).ToList();
         var (test, procedure) = method switch
         {
@@ -85,7 +101,7 @@ public sealed partial class PostHocEvaluator
             "holm" => (TestName.Holm, PostHocProcedure.AdjustedHolm),
             _ => (TestName.Bonferroni, PostHocProcedure.AdjustedBonferroni),
         };
-        var result = new PostHocResult(fit.ComparisonMethod, context.Header.Alpha, comparisons, Quantity.Undefined("each pair has its own standard error"));
+        var result = new PostHocResult(AdjustedComparisons.Describe(adjustment), context.Header.Alpha, comparisons, Quantity.Undefined("each pair has its own standard error"));
         var inputs = context.Inputs(block);
         var term = factor.Spec.Name;
         outcome.FactorLabel = factor.Spec.Display;
@@ -93,6 +109,28 @@ public sealed partial class PostHocEvaluator
         outcome.Multiplicity[Stat.M] = context.Results.Add(block.Id, TestName.Family, term, null, null, Stat.M, m, inputs);
         outcome.Multiplicity[Stat.FwerUnadjusted] = context.Results.Add(block.Id, TestName.Family, term, null, null, Stat.FwerUnadjusted, PValueAdjustment.FamilyWiseErrorRate(m, context.Header.Alpha), inputs);
         outcome.SingleObservationLevels = factor.Split(anova.Data.Response).Any(g => g.Length < 2);
+        return outcome;
+    }
+
+    /// <summary>
+    /// Every other level's adjusted mean against the control's, by the multivariate t with the
+    /// adjusted means' own correlation (<see cref="AdjustedComparisons.WithControl"/>), from the same fit.
+    /// </summary>
+    private static PostHocOutcome WithControl(EvaluationContext context, BoundBlock block, PostHocOutcome outcome, BlockFactor factor, AdjustedMeansFamily family, string control, DunnettAlternative direction)
+    {
+        var alpha = context.Header.Alpha;
+        var dunnett = AdjustedComparisons.WithControl(family, control, direction, alpha);
+        var m = dunnett.Comparisons.Count;
+        var comparisons = dunnett.Comparisons.Select(c => new PairwiseComparison(c.LevelA, c.LevelB, c.Diff, c.Se, c.T, c.CiLow, c.CiHigh, c.PAdjusted, Quantity.Of(c.Df))).ToList();
+        var result = new PostHocResult(dunnett.Method, alpha, comparisons, dunnett.CriticalValue);
+        var inputs = context.Inputs(block);
+        var term = factor.Spec.Name;
+        outcome.FactorLabel = factor.Spec.Display;
+        outcome.Direction = direction;
+        outcome.MultivariateTError = m > 1 ? dunnett.Error : null;
+        outcome.Families.Add(Record(context, block, TestName.Dunnett, DunnettProcedure(direction), result, term, inputs));
+        outcome.Multiplicity[Stat.M] = context.Results.Add(block.Id, TestName.Family, term, null, null, Stat.M, m, inputs);
+        outcome.Multiplicity[Stat.FwerUnadjusted] = context.Results.Add(block.Id, TestName.Family, term, null, null, Stat.FwerUnadjusted, PValueAdjustment.FamilyWiseErrorRate(m, alpha), inputs);
         return outcome;
     }
 }

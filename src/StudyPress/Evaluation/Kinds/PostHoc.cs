@@ -102,6 +102,9 @@ public sealed class PostHocOutcome(BoundBlock block) : BlockOutcome(block)
     public List<(string Term, IReadOnlyList<string> Others, ResultValue P)> Interactions { get; } = [];
     /// <summary>An analysis of covariance: the comparisons are of adjusted means (covariates at their means).</summary>
     public bool Adjusted { get; init; }
+
+    /// <summary>Adjusted means against a control with several comparisons: the largest error estimate of the multivariate t probabilities (quasi-Monte Carlo).</summary>
+    public double? MultivariateTError { get; set; }
 }
 
 /// <summary>Evaluates <c>posthoc</c> blocks into values (no HTML, no report text).</summary>

@@ -103,7 +103,7 @@ public sealed class ContrastsRenderer : KindRenderer
         table.WriteTo(html);
         if (o.IsTrend && o.BetweenLevels is { } between)
         {
-            var part = new HtmlTable("trend-partition", $"The trends' sums of squares add up to the between-level sum of squares of {o.FactorLabel}", ["Source", "SS", "df", "F", "p"]);
+            var part = new HtmlTable("trend-partition", o.MarginalMeans ? $"The trends' sums of squares and the joint sum of squares of the estimated marginal means of {o.FactorLabel}" : $"The trends' sums of squares add up to the between-level sum of squares of {o.FactorLabel}", ["Source", "SS", "df", "F", "p"]);
             foreach (var r in o.Rows)
             {
                 part.Row(r.Name, [V(r.Values[Stat.Ss]), "1", string.Empty, string.Empty]);
@@ -136,8 +136,14 @@ public sealed class ContrastsRenderer : KindRenderer
     {
         var m = o.Rows.Count;
         var e = o.Error!;
-        var text = string.Create(CultureInfo.InvariantCulture, $"Each estimate is Σ cᵢ × meanᵢ over the level means of {o.FactorLabel}{(o.Transformed ? " (on the transformed scale of the anova block)" : string.Empty)}; its SE is √(MS × Σ cᵢ²/nᵢ), with MS = {(double.IsFinite(e.MeanSquare) ? context.Format.Format(Stat.Ms, e.MeanSquare) : "not defined")} on {e.Df} df, {ErrorName(o)}; t = estimate / SE on those df, two-sided. ");
-        if (o.IsTrend)
+        var text = o.MarginalMeans
+            ? string.Create(CultureInfo.InvariantCulture, $"Each estimate is Σ cᵢ × meanᵢ over the estimated marginal means of {o.FactorLabel}{(o.Transformed ? " (on the transformed scale of the anova block)" : string.Empty)} (each the equal-weight average of the model's fitted cell means over the levels of the other factors); its SE is √(MS × c′Vc), V the covariance of those means divided by σ², from the model, with MS = {(double.IsFinite(e.MeanSquare) ? context.Format.Format(Stat.Ms, e.MeanSquare) : "not defined")} on {e.Df} df, {ErrorName(o)}; t = estimate / SE on those df, two-sided. ")
+            : string.Create(CultureInfo.InvariantCulture, $"Each estimate is Σ cᵢ × meanᵢ over the level means of {o.FactorLabel}{(o.Transformed ? " (on the transformed scale of the anova block)" : string.Empty)}; its SE is √(MS × Σ cᵢ²/nᵢ), with MS = {(double.IsFinite(e.MeanSquare) ? context.Format.Format(Stat.Ms, e.MeanSquare) : "not defined")} on {e.Df} df, {ErrorName(o)}; t = estimate / SE on those df, two-sided. ");
+        if (o.IsTrend && o.MarginalMeans)
+        {
+            text += "The coefficients are orthogonal polynomials built for the levels' numbers with equal weights (each estimated marginal mean counts once); each trend's SS = estimate² / c′Vc. ";
+        }
+        else if (o.IsTrend)
         {
             text += "The coefficients are orthogonal polynomials built for the levels' numbers and group sizes (equally spaced levels with equal groups give the usual integer tables); each trend's SS = estimate² / Σ cᵢ²/nᵢ. ";
         }
@@ -205,23 +211,27 @@ public sealed class ContrastsRenderer : KindRenderer
         {
             var levels = string.Join(", ", o.Levels.Select(l => BidiText.Isolate(l.Level) + " = " + Number(l.Value)));
             var same = o.AnovaFactorSs is not null ? $" This total is the sum of squares of {o.FactorLabel} in the anova table." : o.OtherFactors ? $" With other factors in the anova, this total can differ from the anova's sum of squares of {o.FactorLabel}." : string.Empty;
-            yield return $"Level numbers used for the trends: {levels}. The trends of every degree up to {o.Levels.Count - 1} partition the between-level sum of squares Σ nᵢ (meanᵢ − mean)² exactly.{same}";
+            yield return o.MarginalMeans
+                ? $"Level numbers used for the trends: {levels}. The total is the joint sum of squares of the trends of every degree up to {o.Levels.Count - 1}, L′(CVC′)⁻¹L, which tests that the estimated marginal means are equal (and the lack of fit is the joint sum of squares of the degrees not asked for); the single trends' sums of squares add up to it exactly only when the means are uncorrelated with equal variances, as in balanced data.{(o.AnovaFactorSs is not null ? $" This total is the sum of squares of {o.FactorLabel} in the anova table." : string.Empty)}"
+                : $"Level numbers used for the trends: {levels}. The trends of every degree up to {o.Levels.Count - 1} partition the between-level sum of squares Σ nᵢ (meanᵢ − mean)² exactly.{same}";
         }
         else if (o.Orthogonality.Count > 0)
         {
             // Weighted by the group sizes, Σ cᵢ dᵢ / nᵢ = 0 is the condition for uncorrelated estimates.
-            const string Rule = "Orthogonality of the contrasts is judged by Σ cᵢ dᵢ / nᵢ = 0 (weighted by the group sizes, the condition for uncorrelated estimates; for equal groups the usual Σ cᵢ dᵢ = 0): ";
+            var rule = o.MarginalMeans
+                ? "Orthogonality of the contrasts is judged by c′Vd = 0, V the covariance of the estimated marginal means over σ² (the condition for uncorrelated estimates): "
+                : "Orthogonality of the contrasts is judged by Σ cᵢ dᵢ / nᵢ = 0 (weighted by the group sizes, the condition for uncorrelated estimates; for equal groups the usual Σ cᵢ dᵢ = 0): ";
             var not = o.Orthogonality.Where(p => !p.OrthogonalWeighted).ToList();
             if (not.Count == 0)
             {
-                yield return Rule + (o.Orthogonality.Count == 1 ? $"'{o.Orthogonality[0].First}' and '{o.Orthogonality[0].Second}' are orthogonal" : "every pair is orthogonal") + ", so their tests use independent parts of the between-level variation.";
+                yield return rule + (o.Orthogonality.Count == 1 ? $"'{o.Orthogonality[0].First}' and '{o.Orthogonality[0].Second}' are orthogonal" : "every pair is orthogonal") + ", so their tests use independent parts of the between-level variation.";
             }
             else
             {
                 var shown = not.Take(20).Select(p => $"'{p.First}' and '{p.Second}'");
                 var more = not.Count > 20 ? string.Create(CultureInfo.InvariantCulture, $" and {not.Count - 20} more pairs") : string.Empty;
                 var rest = not.Count < o.Orthogonality.Count ? "; the other pairs are orthogonal" : string.Empty;
-                yield return Rule + "not orthogonal: " + string.Join("; ", shown) + more + rest + ". Contrasts that are not orthogonal share information: their tests are correlated and their sums of squares do not add up to the factor's.";
+                yield return rule + "not orthogonal: " + string.Join("; ", shown) + more + rest + ". Contrasts that are not orthogonal share information: their tests are correlated and their sums of squares do not add up to the factor's.";
             }
         }
     }

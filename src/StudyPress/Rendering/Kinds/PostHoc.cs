@@ -1,3 +1,4 @@
+using StudyPress.Statistics.Distributions;
 using StudyPress.Charts;
 using System.Globalization;
 using System.Runtime.CompilerServices;
@@ -285,6 +286,11 @@ public sealed class PostHocRenderer : KindRenderer
             yield return $"These are comparisons of ADJUSTED means (every covariate at its mean), not of the raw means, by the analysis of covariance's own comparison: {o.Families[0].Result.Method}. Each difference has its own standard error from the covariance model; they assume parallel slopes (see the homogeneity-of-slopes test of the anova block).";
         }
 
+        if (o.MultivariateTError is { } error)
+        {
+            yield return $"The comparisons with the control share the control's adjusted mean and the covariates' slopes, so their correlations follow no product pattern: the adjusted p-values and the critical value come from the multivariate t distribution with the correlations of these adjusted differences, integrated by the randomized quasi-Monte Carlo method of Genz and Bretz (2002, 2009) with a fixed seed (the same data always give the same numbers). Its estimated absolute error ({NumberText.Fixed(MultivariateT.ErrorFactor, 1)} standard errors of the mean of {NumberText.Whole(MultivariateT.Shifts)} randomly shifted lattice rules) is at most {context.Format.General(error)} for these probabilities; each adjusted p-value is also kept between the unadjusted p-value and its Bonferroni bound.";
+        }
+
         if (o.FromCells)
         {
             yield return CellsMethodNote;
@@ -380,7 +386,7 @@ public sealed class PostHocRenderer : KindRenderer
         if (o.Families[0].Test == "dunnett" && o.Direction != DunnettAlternative.TwoSided)
         {
             var way = o.Direction == DunnettAlternative.Greater ? "higher" : "lower";
-            html.Raw("<p class=\"method\">").Text($"Alternative: every level {way} than the control (one-sided, as 'direction: {way}' asks). Dunnett's one-sided test only looks for differences in that direction: a level {(way == "higher" ? "lower" : "higher")} than the control, however far, is not detected, and \"not shown {way}\" is not evidence of no difference. The one-sided simultaneous bounds and adjusted p-values come from the exact multivariate t distribution with the correlations of the group sizes (Dunnett 1955), integrated numerically.").Raw("</p>");
+            html.Raw("<p class=\"method\">").Text($"Alternative: every level {way} than the control (one-sided, as 'direction: {way}' asks). Dunnett's one-sided test only looks for differences in that direction: a level {(way == "higher" ? "lower" : "higher")} than the control, however far, is not detected, and \"not shown {way}\" is not evidence of no difference. " + (o.Adjusted ? "The one-sided simultaneous bounds and adjusted p-values come from the multivariate t distribution with the adjusted means' own correlations, integrated by quasi-Monte Carlo (see the note below)." : "The one-sided simultaneous bounds and adjusted p-values come from the exact multivariate t distribution with the correlations of the group sizes (Dunnett 1955), integrated numerically.")).Raw("</p>");
         }
 
         html.Raw("<p class=\"method\">").Text("Differences are first level minus second")
