@@ -179,7 +179,7 @@ public sealed class RepeatedCellMeans
         var groupIndex = new Dictionary<string, int>(StringComparer.Ordinal);
         var groupCodes = new List<int[]>();
         var groupOf = new int[fit.Subjects.Count];
-        foreach (var combo in Combinations([.. fit.BetweenLevels.Select(l => l.Count)]))
+        foreach (var combo in RepeatedLayoutBuilder.Combinations([.. fit.BetweenLevels.Select(l => l.Count)]))
         {
             groupIndex.Add(Key(combo), groupCodes.Count);
             groupCodes.Add(combo);
@@ -333,7 +333,7 @@ public sealed class RepeatedCellMeans
         var withinLevels = Enumerable.Range(0, kw).Select(f => LevelsOf(d.Data.Labels[kb + f])).ToArray();
         var counts = withinLevels.Select(l => l.Count).ToArray();
         var w = counts.Aggregate(1, (a, c) => a * c);
-        var groupCodes = Combinations([.. betweenLevels.Select(l => l.Count)]).ToArray();
+        var groupCodes = RepeatedLayoutBuilder.Combinations([.. betweenLevels.Select(l => l.Count)]).ToArray();
         if ((long)groupCodes.Length * w > MaxCellMeans)
         {
             issue = string.Create(CultureInfo.InvariantCulture, $"the mixed model has {(long)groupCodes.Length * w} cell means (groups × within-subject cells), more than the {MaxCellMeans} this version estimates marginal means from");
@@ -753,7 +753,7 @@ public sealed class RepeatedCellMeans
         }
 
         var list = new List<RepeatedMean>();
-        foreach (var codes in Combinations([.. factors.Select(f => LevelsOf(f).Count)]))
+        foreach (var codes in RepeatedLayoutBuilder.Combinations([.. factors.Select(f => LevelsOf(f).Count)]))
         {
             var a = Coefficients(idx, codes);
             list.Add(new RepeatedMean([.. codes.Select((c, i) => LevelsOf(factors[i])[c])], Estimate(a, alpha, 1)));
@@ -775,7 +775,7 @@ public sealed class RepeatedCellMeans
         }
 
         var idx = factors.Select(FactorIndex).ToArray();
-        var combos = Combinations([.. factors.Select(f => LevelsOf(f).Count)]).ToList();
+        var combos = RepeatedLayoutBuilder.Combinations([.. factors.Select(f => LevelsOf(f).Count)]).ToList();
         string? only = null;
         for (var i = 0; i < combos.Count; i++)
         {
@@ -800,7 +800,7 @@ public sealed class RepeatedCellMeans
     {
         ArgumentNullException.ThrowIfNull(factors);
         var idx = factors.Select(FactorIndex).ToArray();
-        var combos = Combinations([.. factors.Select(f => LevelsOf(f).Count)]).ToList();
+        var combos = RepeatedLayoutBuilder.Combinations([.. factors.Select(f => LevelsOf(f).Count)]).ToList();
         var coef = combos.Select(c => Coefficients(idx, c)).ToList();
         var labels = combos.Select(c => (IReadOnlyList<string>)[.. c.Select((x, i) => LevelsOf(factors[i])[x])]).ToList();
         var pairs = new List<(int I, int J)>();
@@ -1041,29 +1041,4 @@ public sealed class RepeatedCellMeans
 
     private static string Key(int[] codes) => string.Join(",", codes.Select(c => c.ToString(CultureInfo.InvariantCulture)));
 
-    /// <summary>Every combination of codes for the given radices, last fastest (one empty combination for none).</summary>
-    private static IEnumerable<int[]> Combinations(int[] radix)
-    {
-        var c = new int[radix.Length];
-        while (true)
-        {
-            yield return (int[])c.Clone();
-            var f = radix.Length - 1;
-            while (f >= 0)
-            {
-                if (++c[f] < radix[f])
-                {
-                    break;
-                }
-
-                c[f] = 0;
-                f--;
-            }
-
-            if (f < 0)
-            {
-                yield break;
-            }
-        }
-    }
 }

@@ -503,7 +503,8 @@ internal static class RepeatedLayoutBuilder
         return null;
     }
 
-    private static IEnumerable<int[]> Combinations(int[] radix)
+    /// <summary>Every combination of codes for the given radices, last fastest (one empty combination for none).</summary>
+    internal static IEnumerable<int[]> Combinations(int[] radix)
     {
         var c = new int[radix.Length];
         while (true)
