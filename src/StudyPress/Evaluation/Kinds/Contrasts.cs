@@ -90,18 +90,12 @@ public sealed class ContrastsEvaluator : KindEvaluator
     {
         var options = block.OptionsOf<ContrastsKind.Options>();
         var outcome = new ContrastsOutcome(block);
-        if (context.Outcomes.GetValueOrDefault(block.Of!.Id) is not AnovaOutcome anova)
+        if (PlainAnovaOf(context, block, diagnostics) is not { } anova)
         {
             return outcome;
         }
 
-        if (anova.Ancova is not null)
-        {
-            diagnostics.CovariateViewUnavailable(block.Location, "contrasts", block.Of.Id);
-            return outcome;
-        }
-
-        var of = block.Of.Id;
+        var of = block.Of!.Id;
         string factorName;
         IReadOnlyList<string> levels;
         double[] means;

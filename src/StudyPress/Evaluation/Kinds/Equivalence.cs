@@ -66,18 +66,12 @@ public sealed class EquivalenceEvaluator : KindEvaluator
     {
         var options = block.OptionsOf<EquivalenceKind.Options>();
         var outcome = new EquivalenceOutcome(block) { NonInferiority = options.NonInferiority, Better = options.Better };
-        if (context.Outcomes.GetValueOrDefault(block.Of!.Id) is not AnovaOutcome anova)
+        if (PlainAnovaOf(context, block, diagnostics) is not { } anova)
         {
             return outcome;
         }
 
-        if (anova.Ancova is not null)
-        {
-            diagnostics.CovariateViewUnavailable(block.Location, "equivalence", block.Of.Id);
-            return outcome;
-        }
-
-        var of = block.Of.Id;
+        var of = block.Of!.Id;
         IReadOnlyList<string> levels;
         IReadOnlyList<GroupStatistics> groups;
         string term;

@@ -15,6 +15,27 @@ public abstract class KindEvaluator
 
     /// <summary>Computes the block, adding values to the result set, and returns what to render.</summary>
     public abstract BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics);
+
+    /// <summary>
+    /// The plain anova outcome a view block (<c>of</c>) reads: null when that block gave no anova
+    /// outcome (its own mistakes are already reported), or when it adjusts for covariates, which a
+    /// view of raw level means cannot follow (one error, SP0538, at this block).
+    /// </summary>
+    protected AnovaOutcome? PlainAnovaOf(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
+    {
+        if (context.Outcomes.GetValueOrDefault(block.Of!.Id) is not AnovaOutcome anova)
+        {
+            return null;
+        }
+
+        if (anova.Ancova is not null)
+        {
+            diagnostics.CovariateViewUnavailable(block.Location, Kind, block.Of.Id);
+            return null;
+        }
+
+        return anova;
+    }
 }
 
 /// <summary>

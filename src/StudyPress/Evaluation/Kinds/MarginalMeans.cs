@@ -90,18 +90,12 @@ public sealed partial class MarginalMeansEvaluator : KindEvaluator
         }
 
         var outcome = new MarginalMeansOutcome(block);
-        if (context.Outcomes.GetValueOrDefault(block.Of!.Id) is not AnovaOutcome { Data: { } data } anova)
+        if (PlainAnovaOf(context, block, diagnostics) is not { Data: { } data } anova)
         {
             return outcome;
         }
 
-        if (anova.Ancova is not null)
-        {
-            diagnostics.CovariateViewUnavailable(block.Location, "marginal-means", block.Of.Id);
-            return outcome;
-        }
-
-        var of = block.Of.Id;
+        var of = block.Of!.Id;
         var alpha = context.Header.Alpha;
         foreach (var f in data.Factors)
         {
