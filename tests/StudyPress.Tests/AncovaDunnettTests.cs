@@ -157,4 +157,30 @@ of: a
         Assert.Contains("own comparison: Bonferroni adjustment", result.Html, StringComparison.Ordinal);
         Assert.DoesNotContain("own comparison: Holm", result.Html, StringComparison.Ordinal);
     }
+
+    // Regression (issue #16): a control among 48 (or 60) levels of an ANCOVA ended in an internal
+    // error (the lattice had 46 generators), and past that limit the integration ran for many
+    // minutes. Now its work is bounded and the block gets one error at 'control' when the
+    // probabilities miss the required accuracy within it.
+    [Theory]
+    [InlineData(48)]
+    [InlineData(60)]
+    public void ManyLevels_Control_OneErrorAtControl_NotACrash(int levels)
+    {
+        var csv = new System.Text.StringBuilder("group,x,y\n");
+        for (var a = 0; a < levels; a++)
+        {
+            for (var i = 0; i < 3; i++)
+            {
+                var x = 10 + (a % 7 * 0.4) + (i * 0.9) + ((((a * 13) + (i * 7)) % 11) * 0.05);
+                var y = 5 + (a % 4 * 0.3) + (0.5 * x) + ((((a * 5) + (i * 3)) % 7) * 0.4);
+                csv.Append(CultureInfo.InvariantCulture, $"L{a:D2},{x:R},{y:R}\n");
+            }
+        }
+
+        var study = Study("covariates: x", "control: L00");
+        using var run = new StudyRun().File("d.csv", csv.ToString()).Study(study);
+        var diagnostic = run.SingleError("SP0541", LineOf(study, "control:"));
+        Assert.Contains($"comparing {levels - 1} adjusted means with control 'L00'", diagnostic.Message, StringComparison.Ordinal);
+    }
 }
