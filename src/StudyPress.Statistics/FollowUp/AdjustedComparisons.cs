@@ -179,8 +179,13 @@ public static class AdjustedComparisons
         _ => "Bonferroni adjustment of t tests of adjusted-mean differences within each factor; Bonferroni intervals",
     };
 
-    /// <summary>Every pair of the family's levels, adjusted by <paramref name="method"/> at <paramref name="alpha"/>.</summary>
-    public static IReadOnlyList<AdjustedMeanComparison> Pairwise(AdjustedMeansFamily family, AdjustedMeansComparison method, double alpha)
+    /// <summary>
+    /// Every pair of the family's levels, adjusted by <paramref name="method"/> at <paramref name="alpha"/>;
+    /// with <paramref name="control"/>, each other level against the control only (m = k − 1, Diff =
+    /// level − control, two-sided), for Holm or Bonferroni: the many-to-one family without the
+    /// multivariate t, which suits families too large for <see cref="WithControl"/>.
+    /// </summary>
+    public static IReadOnlyList<AdjustedMeanComparison> Pairwise(AdjustedMeansFamily family, AdjustedMeansComparison method, double alpha, string? control = null)
     {
         ArgumentNullException.ThrowIfNull(family);
         var k = family.Count;
@@ -189,11 +194,35 @@ public static class AdjustedComparisons
         var name = family.Factor;
         var levels = family.Levels;
         var pairs = new List<(int A, int B, double Diff, double Se)>();
-        for (var a = 0; a < k; a++)
+        if (control is not null)
         {
-            for (var b = a + 1; b < k; b++)
+            if (method == AdjustedMeansComparison.TukeyKramer)
             {
-                pairs.Add((a, b, family.Difference(a, b), Math.Sqrt(mse * family.DifferenceUnitVariance(a, b))));
+                throw new ArgumentException("comparisons with a control use Holm or Bonferroni here; Dunnett's method is WithControl", nameof(method));
+            }
+
+            var c0 = family.IndexOf(control);
+            if (c0 < 0)
+            {
+                throw new ArgumentException("no level " + control, nameof(control));
+            }
+
+            for (var a = 0; a < k; a++)
+            {
+                if (a != c0)
+                {
+                    pairs.Add((a, c0, family.Difference(a, c0), Math.Sqrt(mse * family.DifferenceUnitVariance(a, c0))));
+                }
+            }
+        }
+        else
+        {
+            for (var a = 0; a < k; a++)
+            {
+                for (var b = a + 1; b < k; b++)
+                {
+                    pairs.Add((a, b, family.Difference(a, b), Math.Sqrt(mse * family.DifferenceUnitVariance(a, b))));
+                }
             }
         }
 

@@ -645,9 +645,6 @@ public sealed class DiagnosticBag
     public void AncovaPostHocMethod(SourceLocation at, string method) =>
         Error("SP0521", at, $"the comparisons of an analysis of covariance compare adjusted means, and {Q(method)} estimates a variance per group of raw values, which would ignore the covariates; use 'method: tukey' (the default), 'holm' or 'bonferroni'");
 
-    public void AncovaPostHocControl(SourceLocation at, string method) =>
-        Error("SP0522", at, $"adjusted means are compared with a control by Dunnett's method on the multivariate t of their own correlation ('method: dunnett', 'tukey' or 'auto'), not by {Q(method)}; change the method, or remove 'control' to compare every pair of adjusted means");
-
     public void AncovaPostHocBlock(SourceLocation at, string factor) =>
         Error("SP0523", at, $"{Q(factor)} is a block of the analysis of covariance: its levels are units, not treatments to compare, so its adjusted means are not compared; name a treatment factor");
 
@@ -824,7 +821,7 @@ public sealed class DiagnosticBag
 
     /// <summary>SP0541: the multivariate t probabilities of Dunnett's comparisons of adjusted means missed the required accuracy within the work limit (many levels).</summary>
     public void DunnettAccuracyNotReached(SourceLocation at, string control, int comparisons, double reached, double required, string of) =>
-        Error("SP0541", at, string.Create(CultureInfo.InvariantCulture, $"comparing {comparisons} adjusted means with control {Q(control)} needs multivariate t probabilities in {comparisons} dimensions, and within the work limit their estimated error is {reached:G2}, above the {required:G2} the p-values need; compare fewer levels with the control (a 'where' in anova block {Q(of)} that keeps the levels of interest), or remove 'control' to compare every pair"));
+        Error("SP0541", at, string.Create(CultureInfo.InvariantCulture, $"comparing {comparisons} adjusted means with control {Q(control)} needs multivariate t probabilities in {comparisons} dimensions, and within the work limit their estimated error is {reached:G2}, above the {required:G2} the p-values need; compare fewer levels with the control (a 'where' in anova block {Q(of)} that keeps the levels of interest), or write 'method: holm' (or 'bonferroni') to compare each level with the control without the multivariate t"));
 
     /// <summary>Closest candidate within a small edit distance, for "did you mean".</summary>
     public static string? Nearest(string word, IEnumerable<string> candidates)

@@ -67,13 +67,10 @@ public sealed partial class PostHocEvaluator
                 return outcome;
             }
 
-            if (method != "tukey")
+            if (method == "tukey")
             {
-                diagnostics.AncovaPostHocControl(options.ControlLocation, method);
-                return outcome;
+                return WithControl(context, block, outcome, factor, family, control, options, diagnostics);
             }
-
-            return WithControl(context, block, outcome, factor, family, control, options, diagnostics);
         }
 
         // Every comparison from the one fit of the anova block (its adjusted means, their covariance and error df).
@@ -83,7 +80,8 @@ public sealed partial class PostHocEvaluator
             "holm" => AdjustedMeansComparison.Holm,
             _ => AdjustedMeansComparison.Bonferroni,
         };
-        var pairs = AdjustedComparisons.Pairwise(family, adjustment, context.Header.Alpha);
+        // With a control and Holm or Bonferroni: each other level against the control (m = k − 1), no multivariate t.
+        var pairs = AdjustedComparisons.Pairwise(family, adjustment, context.Header.Alpha, options.Control);
         var m = pairs.Count;
         var comparisons = pairs.Select(c => new PairwiseComparison(
             c.LevelA,
