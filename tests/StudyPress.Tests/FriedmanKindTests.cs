@@ -38,6 +38,38 @@ factors: [treatment, block]
     }
 
     [Fact]
+    public void ImanDavenport_OnTheFriedmanRow()
+    {
+        // Zar, Example 12.6; Iman–Davenport F, df and p: shared reference collection, exact
+        // recomputation (friedman/zar-example-12-6.expected.json: F 9.88888888889 on (3, 12), p 0.001451880229).
+        using var run = Run("factor: treatment\nblocks: block");
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        var m = new ManifestView(result.ManifestJson!);
+        Assert.Equal(9.88888888889, m.Get("ranks", "friedman", "treatment", "f_iman_davenport"), 10);
+        Assert.Equal(3, m.Get("ranks", "friedman", "treatment", "df1_iman_davenport"));
+        Assert.Equal(12, m.Get("ranks", "friedman", "treatment", "df2_iman_davenport"));
+        Assert.Equal(0.001451880229, m.Get("ranks", "friedman", "treatment", "p_iman_davenport"), 11);
+        Assert.DoesNotContain(m.Values, v => v.GetProperty("test").GetString() == "iman_davenport");
+        Assert.Contains("Iman–Davenport F", result.Html, StringComparison.Ordinal);
+    }
+
+    [Theory]
+    [InlineData("[=ranks.iman_davenport.f]", "ranks.f_iman_davenport")]
+    [InlineData("[=ranks.iman_davenport.treatment.p]", "ranks.treatment.p_iman_davenport")]
+    [InlineData("[=ranks.iman_davenport.df2]", "ranks.df2_iman_davenport")]
+    public void OldImanDavenportReference_IsUnknown_AndPointsToTheNewStat(string reference, string suggestion)
+    {
+        using var run = new StudyRun().File("zar.csv", Zar).Study(Study("factor: treatment\nblocks: block") + "\n\nThe F was " + reference + ".\n");
+        var d = run.SingleError("SP0401", 13);
+        Assert.Contains($"did you mean '{suggestion}'", d.Message, StringComparison.Ordinal);
+
+        // The suggested path reads.
+        using var fixedRun = new StudyRun().File("zar.csv", Zar).Study(Study("factor: treatment\nblocks: block") + "\n\nThe F was [=" + suggestion + "].\n");
+        Assert.True(fixedRun.Compile().Succeeded);
+    }
+
+    [Fact]
     public void TreatmentDefaultsToTheOtherFactor()
     {
         using var run = Run("blocks: block");

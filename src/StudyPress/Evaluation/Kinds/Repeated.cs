@@ -84,11 +84,8 @@ public sealed class RepeatedOutcome(BoundBlock block) : BlockOutcome(block)
     /// <summary>Whether the Friedman test is shown, and why.</summary>
     public RankRouteReason RankReason { get; init; }
 
-    /// <summary>The Friedman test over the within factor's levels (<c>chi2</c>, <c>df</c>, <c>p</c>, <c>kendall_w</c>, <c>n_blocks</c>, <c>blocks_dropped</c>), when shown.</summary>
+    /// <summary>The Friedman test over the within factor's levels (<c>chi2</c>, <c>df</c>, <c>p</c>, <c>kendall_w</c>, the Iman–Davenport <c>f_iman_davenport</c>, <c>df1_iman_davenport</c>, <c>df2_iman_davenport</c>, <c>p_iman_davenport</c>, <c>n_blocks</c>, <c>blocks_dropped</c>), when shown.</summary>
     public IReadOnlyDictionary<string, ResultValue>? Friedman { get; init; }
-
-    /// <summary>Iman–Davenport F (<c>f</c>, <c>df1</c>, <c>df2</c>, <c>p</c>), with the Friedman test.</summary>
-    public IReadOnlyDictionary<string, ResultValue>? ImanDavenport { get; init; }
 
     /// <summary>Mean rank of each level of the within factor, with the Friedman test.</summary>
     public IReadOnlyList<(string Level, ResultValue MeanRank)> MeanRanks { get; init; } = [];
@@ -516,7 +513,6 @@ public sealed class RepeatedEvaluator : KindEvaluator
             NormalityN = ranks?.NormalityN ?? 0,
             RankReason = ranks?.Reason ?? RankRouteReason.None,
             Friedman = ranks?.Friedman,
-            ImanDavenport = ranks?.ImanDavenport,
             MeanRanks = ranks?.MeanRanks ?? [],
             RankPairs = ranks?.Pairs ?? [],
             SubjectLabel = o.Subject.Spec.Display,
@@ -561,7 +557,6 @@ public sealed class RepeatedEvaluator : KindEvaluator
         int NormalityN,
         RankRouteReason Reason,
         IReadOnlyDictionary<string, ResultValue>? Friedman,
-        IReadOnlyDictionary<string, ResultValue>? ImanDavenport,
         IReadOnlyList<(string Level, ResultValue MeanRank)> MeanRanks,
         IReadOnlyList<RepeatedPairValues> Pairs);
 
@@ -639,7 +634,7 @@ public sealed class RepeatedEvaluator : KindEvaluator
 
         if (reason is not (RankRouteReason.Asked or RankRouteReason.NormalityFailed))
         {
-            return new RankValues(normality, residuals.Length, reason, null, null, [], []);
+            return new RankValues(normality, residuals.Length, reason, null, [], []);
         }
 
         var levels = fit.WithinLevels[0];
@@ -652,17 +647,14 @@ public sealed class RepeatedEvaluator : KindEvaluator
             [Stat.Df] = add(TestName.Friedman, term, null, null, Stat.Df, Quantity.Of(result.Df)),
             [Stat.P] = add(TestName.Friedman, term, null, null, Stat.P, result.P),
             [Stat.KendallW] = add(TestName.Friedman, term, null, null, Stat.KendallW, result.KendallW),
+            [Stat.FImanDavenport] = add(TestName.Friedman, term, null, null, Stat.FImanDavenport, result.ImanDavenportF),
+            [Stat.Df1ImanDavenport] = add(TestName.Friedman, term, null, null, Stat.Df1ImanDavenport, Quantity.Of(result.ImanDavenportDf1)),
+            [Stat.Df2ImanDavenport] = add(TestName.Friedman, term, null, null, Stat.Df2ImanDavenport, Quantity.Of(result.ImanDavenportDf2)),
+            [Stat.PImanDavenport] = add(TestName.Friedman, term, null, null, Stat.PImanDavenport, result.ImanDavenportP),
             [Stat.NBlocks] = add(TestName.Friedman, term, null, null, Stat.NBlocks, Quantity.Of(result.Blocks)),
             [Stat.BlocksDropped] = add(TestName.Friedman, term, null, null, Stat.BlocksDropped, Quantity.Of(fit.Dropped.Count)),
         };
         var meanRanks = levels.Select((level, j) => (level, add(TestName.Friedman, term, level, null, Stat.MeanRank, Quantity.Of(result.MeanRanks[j])))).ToList();
-        var id = new Dictionary<string, ResultValue>(StringComparer.Ordinal)
-        {
-            [Stat.F] = add(TestName.ImanDavenport, term, null, null, Stat.F, result.ImanDavenportF),
-            [Stat.Df1] = add(TestName.ImanDavenport, term, null, null, Stat.Df1, Quantity.Of(result.ImanDavenportDf1)),
-            [Stat.Df2] = add(TestName.ImanDavenport, term, null, null, Stat.Df2, Quantity.Of(result.ImanDavenportDf2)),
-            [Stat.P] = add(TestName.ImanDavenport, term, null, null, Stat.P, result.ImanDavenportP),
-        };
         var pairs = new List<RepeatedPairValues>();
         if (o.Compare is not null)
         {
@@ -679,7 +671,7 @@ public sealed class RepeatedEvaluator : KindEvaluator
             }
         }
 
-        return new RankValues(normality, residuals.Length, reason, friedman, id, meanRanks, pairs);
+        return new RankValues(normality, residuals.Length, reason, friedman, meanRanks, pairs);
     }
 
     /// <summary>Subjects drawn as thin lines in the profile figure (the mean profile uses all).</summary>

@@ -274,10 +274,9 @@ public sealed class RepeatedRenderer : KindRenderer
         if (o.Friedman is { } fr)
         {
             var within = o.Within[0].Label;
-            var id = o.ImanDavenport!;
             var f = new HtmlTable("repeated-friedman", $"Friedman rank test of {within} (subjects as blocks, {fr[Stat.NBlocks].Value.Value.ToString(CultureInfo.InvariantCulture)} complete subjects)", ["Test", "statistic", "df", "p", "Kendall's W"]);
             f.Row("Friedman χ²", [V(fr[Stat.Chi2]), V(fr[Stat.Df]), V(fr[Stat.P]), V(fr[Stat.KendallW])]);
-            f.Row("Iman–Davenport F", [V(id[Stat.F]), V(id[Stat.Df1]) + ", " + V(id[Stat.Df2]), V(id[Stat.P]), string.Empty]);
+            f.Row("Iman–Davenport F", [V(fr[Stat.FImanDavenport]), V(fr[Stat.Df1ImanDavenport]) + ", " + V(fr[Stat.Df2ImanDavenport]), V(fr[Stat.PImanDavenport]), string.Empty]);
             f.WriteTo(html);
             var ranks = new HtmlTable("repeated-mean-ranks", $"Mean rank of each level of {within} within subjects", ["Level", "mean rank"]);
             foreach (var (level, rank) in o.MeanRanks)
