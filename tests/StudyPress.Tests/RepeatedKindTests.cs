@@ -152,6 +152,157 @@ factors: [{factors}]
         Assert.Equal(3, m.Values.Count(v => v.GetProperty("test").GetString() == "simple_effects" && v.GetProperty("stat").GetString() == "f"));
     }
 
+    /// <summary>
+    /// Rutherford's one-way data with 3 × subject added to each subject's scores: only the subject
+    /// stratum changes (its mean square becomes large, so every REML variance estimate is inside the
+    /// parameter space; on the published data MS(subject) 2 is below MS(A × subject) 38/14 and REML
+    /// puts the subject variance at zero), while the condition differences and the condition × subject
+    /// stratum (SS 38 on 14 df, published) stay as published.
+    /// </summary>
+    private static string OneWayWithSubjectOffsets(bool dropSubject8C = false) =>
+        string.Join("\n", OneWay.Split('\n', StringSplitOptions.RemoveEmptyEntries).Select((l, i) =>
+        {
+            if (i == 0)
+            {
+                return l;
+            }
+
+            var p = l.TrimEnd('\r').Split(',');
+            var s = int.Parse(p[0], CultureInfo.InvariantCulture);
+            return dropSubject8C && s == 8 && p[1] == "c" ? null : string.Create(CultureInfo.InvariantCulture, $"{s},{p[1]},{int.Parse(p[2], CultureInfo.InvariantCulture) + (3 * s)}");
+        }).OfType<string>()) + "\n";
+
+    private static string CompareStudy(string fit) => $"""
+---
+title: Mixed-model comparisons fixture
+data:
+  d: d.csv
+response: y
+factors: [subject, condition]
+---
+
+```repeated r
+subject: subject
+within: condition
+fit: {fit}
+compare: condition
+```
+
+```repeated c
+subject: subject
+within: condition
+fit: classical
+```
+
+```marginal-means mm
+of: c
+compare: holm
+```
+
+```methods text
+```
+""";
+
+    private static System.Text.Json.JsonElement PairValue(ManifestView m, string block, string test, string a, string b, string stat) =>
+        Assert.Single(m.Values, v => v.GetProperty("block").GetString() == block && v.GetProperty("test").GetString() == test && v.GetProperty("stat").GetString() == stat
+            && v.GetProperty("pair").ValueKind == System.Text.Json.JsonValueKind.Array && v.GetProperty("pair")[0].GetString() == a && v.GetProperty("pair")[1].GetString() == b).GetProperty("value");
+
+    [Fact]
+    public void FitReml_Compare_EqualsTheClassicalMarginalMeansPairs_OnCompleteBalancedData()
+    {
+        using var run = new StudyRun().File("d.csv", OneWayWithSubjectOffsets()).Study(CompareStudy("reml"));
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        var m = new ManifestView(result.ManifestJson!);
+
+        // The REML fit is inside the parameter space: its F of condition is the published classical F.
+        // Rutherford (2001) p. 72, published: F 20.6316 (the subject offsets leave the within stratum unchanged).
+        Assert.Equal(20.6316, m.Get("r", "anova_reml", "condition", "f"), 4);
+        Assert.Empty(m.Find("r", "holm", "condition", "diff"));
+
+        // Exact hand computation: condition means a 6, b 10, c 11 (each plus the mean offset 13.5);
+        // a difference of two conditions rests on the condition × subject stratum only,
+        // SE = √(2 MS / n) = √(2 × (38/14) / 8) on 14 df (published SS 38 on 14 df).
+        var se = Math.Sqrt(2 * (38.0 / 14) / 8);
+        foreach (var (a, b, diff) in new[] { ("a", "b", -4.0), ("a", "c", -5.0), ("b", "c", -1.0) })
+        {
+            Assert.Equal(diff, PairValue(m, "r", "holm_reml", a, b, "diff").GetDouble(), 8);
+            Assert.Equal(se, PairValue(m, "r", "holm_reml", a, b, "se").GetDouble(), 7);
+            Assert.Equal(14, PairValue(m, "r", "holm_reml", a, b, "df").GetDouble(), 5);
+            Assert.Equal(diff / se, PairValue(m, "r", "holm_reml", a, b, "statistic").GetDouble(), 6);
+
+            // The classical route's marginal-means comparisons on the same error: the same numbers.
+            foreach (var stat in new[] { "diff", "se", "df", "statistic", "p", "p_adj", "ci_low", "ci_high" })
+            {
+                var classical = PairValue(m, "mm", "holm", a, b, stat).GetDouble();
+                Assert.True(Math.Abs(classical - PairValue(m, "r", "holm_reml", a, b, stat).GetDouble()) <= 1e-6 * Math.Max(1, Math.Abs(classical)), $"{a} − {b} {stat}");
+            }
+        }
+
+        Assert.Contains("marginal means (REML, Satterthwaite df; Holm-adjusted; 8 subjects, 24 measurements)", result.Html, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void FitAuto_OneMeasurementRemoved_MixedModelComparisonsUseAllSubjects_BesideThePairedOnes()
+    {
+        // Subject 8 loses its condition c measurement: the paired tests use the 7 complete subjects,
+        // the mixed model's comparisons all 8 subjects (23 measurements).
+        using var run = new StudyRun().File("d.csv", OneWayWithSubjectOffsets(dropSubject8C: true)).Study(CompareStudy("auto"));
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        var m = new ManifestView(result.ManifestJson!);
+        Assert.Equal(7, m.Get("r", "subjects", null, "n"));
+        Assert.Equal(8, m.Get("r", "anova_reml", null, "n"));
+        Assert.Equal(23, m.Get("r", "anova_reml", null, "n_total"));
+        using var complete = new StudyRun().File("d.csv", OneWayWithSubjectOffsets()).Study(CompareStudy("reml"));
+        var full = complete.Manifest();
+        foreach (var (a, b) in new[] { ("a", "b"), ("a", "c"), ("b", "c") })
+        {
+            var reml = PairValue(m, "r", "holm_reml", a, b, "se").GetDouble();
+            Assert.NotEqual(PairValue(m, "r", "holm", a, b, "se").GetDouble(), reml, 6);
+            Assert.NotEqual(PairValue(full, "r", "holm_reml", a, b, "se").GetDouble(), reml, 6);
+        }
+
+        // Exact hand computation: the paired a − b of subjects 1-7 are 0, −8, −3, −5, −5, −2, −5 (mean −4).
+        Assert.Equal(-4.0, PairValue(m, "r", "holm", "a", "b", "diff").GetDouble(), 10);
+        Assert.Contains("8 subjects, 23 measurements)", result.Html, StringComparison.Ordinal);
+        Assert.Contains("paired t tests on the 7 complete subjects", result.Html, StringComparison.Ordinal);
+        Assert.Contains("same decision at α as the paired test", result.Html, StringComparison.Ordinal);
+        Assert.Contains("The levels of condition were compared pairwise by paired t tests on the complete subjects and from the mixed model's estimated marginal means", result.Html, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void FitAuto_PairDecisionsDiffer_CautionNamesThePairs()
+    {
+        // Six more subjects measured under a and b only, each with a − b = +7 (against −4 on average for
+        // the complete ones): the paired tests (8 complete subjects) reject every pair at 0.05, the
+        // mixed model (14 subjects) none of them.
+        var csv = OneWayWithSubjectOffsets() + string.Concat(Enumerable.Range(9, 6).Select(s => string.Create(CultureInfo.InvariantCulture, $"{s},a,{14 + (3 * s)}\n{s},b,{7 + (3 * s)}\n")));
+        using var run = Run(csv, "subject, condition", "subject: subject\nwithin: condition\ncompare: condition");
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        var m = new ManifestView(result.ManifestJson!);
+        var paired = m.Find("r", "holm", "condition", "p_adj").Select(v => v.GetProperty("value").GetDouble()).ToList();
+        var reml = m.Find("r", "holm_reml", "condition", "p_adj").Select(v => v.GetProperty("value").GetDouble()).ToList();
+        Assert.Equal(3, paired.Count);
+        Assert.Equal(3, reml.Count);
+        Assert.All(paired, p => Assert.True(p < 0.05));
+        Assert.All(reml, p => Assert.True(p >= 0.05));
+        Assert.Equal(14, m.Get("r", "anova_reml", null, "n"));
+        Assert.Contains("the mixed model’s comparisons (every measurement) of condition reach different decisions for a − b, a − c, b − c".Replace("’", "&#39;", StringComparison.Ordinal), result.Html, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void FitAuto_TooFewCompleteSubjects_ComparisonsFromTheMixedModel()
+    {
+        // Subjects 1-7 lack condition c: no classical route, so the comparisons come from the mixed model alone.
+        var csv = string.Join("\n", OneWay.Split('\n').Where(l => !(l.Contains(",c,", StringComparison.Ordinal) && !l.StartsWith("8,", StringComparison.Ordinal))));
+        using var run = Run(csv, "subject, condition", "subject: subject\nwithin: condition\ncompare: condition\nadjust: bonferroni");
+        var m = run.Manifest();
+        Assert.Empty(m.Find("r", "bonferroni", "condition", "diff"));
+        Assert.Equal(3, m.Values.Count(v => v.GetProperty("test").GetString() == "bonferroni_reml" && v.GetProperty("stat").GetString() == "p_adj"));
+    }
+
     [Theory]
     [InlineData("within: condition", "SP0202", 8)]
     [InlineData("subject: subject\nwithin: [condition, subject]", "SP0264", 10)]
@@ -160,7 +311,6 @@ factors: [{factors}]
     [InlineData("subject: subject\nwithin: condition\nfactors: [condition]", "SP0263", 11)]
     [InlineData("subject: subjct\nwithin: condition", "SP0216", 9)]
     [InlineData("subject: subject\nwithin: condition\ncorrection: box", "SP0209", 11)]
-    [InlineData("subject: subject\nwithin: condition\nfit: reml\ncompare: condition", "SP0269", 12)]
     public void OneMistake_OneMessage_AtTheKey(string keys, string code, int line)
     {
         using var run = Run(OneWay, "subject, condition", keys);

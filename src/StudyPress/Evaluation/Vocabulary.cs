@@ -430,6 +430,12 @@ public static class TestName
     /// <summary>A planned contrast or polynomial trend of one factor's level means.</summary>
     public const string Contrast = "contrast";
 
+    /// <summary>Holm-adjusted comparisons of a repeated block's within-subject levels from the mixed model's (REML) marginal means.</summary>
+    public const string HolmReml = "holm_reml";
+
+    /// <summary>Bonferroni-adjusted comparisons of a repeated block's within-subject levels from the mixed model's (REML) marginal means.</summary>
+    public const string BonferroniReml = "bonferroni_reml";
+
     /// <summary>Every name, with its meaning (checked against docs/manifest.md by the tests).</summary>
     public static IReadOnlyDictionary<string, string> All { get; } = new Dictionary<string, string>(StringComparer.Ordinal)
     {
@@ -470,5 +476,7 @@ public static class TestName
         [SlopesHomogeneity] = "homogeneity-of-slopes test (treatment x covariate interaction)",
         [Contrast] = "planned contrast or polynomial trend of level means",
         [Emmeans] = "estimated marginal means (adjusted to the covariate means in an analysis of covariance)",
+        [HolmReml] = "Holm-adjusted comparisons of within-subject levels from the mixed model's marginal means",
+        [BonferroniReml] = "Bonferroni-adjusted comparisons of within-subject levels from the mixed model's marginal means",
     };
 }

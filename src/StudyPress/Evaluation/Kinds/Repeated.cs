@@ -154,6 +154,20 @@ public sealed class RepeatedOutcome(BoundBlock block) : BlockOutcome(block)
 
     public IReadOnlyList<RepeatedPairValues> Pairs { get; init; } = [];
 
+    /// <summary>
+    /// Comparisons of the <c>compare</c> factor's levels from the mixed model's marginal means
+    /// (REML, Satterthwaite df; diff, se, statistic, df, p, p_adj, ci_low, ci_high), whenever the
+    /// mixed model was fitted: alone with <c>fit: reml</c>, beside <see cref="Pairs"/> when
+    /// <c>fit: auto</c> fitted both routes.
+    /// </summary>
+    public IReadOnlyList<RepeatedPairValues> RemlPairs { get; init; } = [];
+
+    /// <summary>The manifest test of <see cref="RemlPairs"/>: <c>holm_reml</c> or <c>bonferroni_reml</c>.</summary>
+    public string RemlPairTest { get; init; } = TestName.HolmReml;
+
+    /// <summary>Why the mixed model's marginal means, and so its comparisons, could not be estimated (the engine's reason), or null.</summary>
+    public string? RemlPairsNotComputed { get; init; }
+
     /// <summary>Simple effects, when computed; <see cref="SimpleAsked"/> says whether asked for (else: interaction significant).</summary>
     public IReadOnlyList<SimpleEffectValues> Simple { get; init; } = [];
 
@@ -452,6 +466,39 @@ public sealed class RepeatedEvaluator : KindEvaluator
             }
         }
 
+        // Comparisons of the same levels from the mixed model's marginal means (incomplete subjects kept).
+        var remlPairs = new List<RepeatedPairValues>();
+        var remlPairTest = o.Adjust == "bonferroni" ? TestName.BonferroniReml : TestName.HolmReml;
+        string? remlPairsNotComputed = null;
+        if (o.Compare is { } remlCompare && mixedFit is not null)
+        {
+            var cm = RepeatedCellMeans.FromReml(design, mixedFit, out var cmIssue);
+            if (cm is null)
+            {
+                remlPairsNotComputed = cmIssue;
+            }
+            else
+            {
+                var term = remlCompare.Spec.Name;
+                foreach (var c in cm.Pairs([term], o.Adjust == "bonferroni" ? RepeatedPairAdjustment.Bonferroni : RepeatedPairAdjustment.Holm, alpha))
+                {
+                    var (a, b) = (c.LevelsA[0], c.LevelsB[0]);
+                    string[] pair = [a, b];
+                    remlPairs.Add(new RepeatedPairValues(a, b, new Dictionary<string, ResultValue>(StringComparer.Ordinal)
+                    {
+                        [Stat.Diff] = Add(remlPairTest, term, null, pair, Stat.Diff, Quantity.Of(c.Difference.Value)),
+                        [Stat.Se] = Add(remlPairTest, term, null, pair, Stat.Se, c.Difference.Se),
+                        [Stat.Statistic] = Add(remlPairTest, term, null, pair, Stat.Statistic, c.T),
+                        [Stat.Df] = Add(remlPairTest, term, null, pair, Stat.Df, c.Difference.Df),
+                        [Stat.P] = Add(remlPairTest, term, null, pair, Stat.P, c.P),
+                        [Stat.PAdj] = Add(remlPairTest, term, null, pair, Stat.PAdj, c.PAdjusted),
+                        [Stat.CiLow] = Add(remlPairTest, term, null, pair, Stat.CiLow, c.Difference.CiLow),
+                        [Stat.CiHigh] = Add(remlPairTest, term, null, pair, Stat.CiHigh, c.Difference.CiHigh),
+                    }));
+                }
+            }
+        }
+
         // Simple effects of each within factor at each level of each between factor.
         var simple = new List<SimpleEffectValues>();
         if (fit is not null && o.Simple != "never")
@@ -537,6 +584,9 @@ public sealed class RepeatedEvaluator : KindEvaluator
             CompareLabel = o.Compare?.Spec.Display,
             PairTest = pairTest,
             Pairs = pairs,
+            RemlPairs = remlPairs,
+            RemlPairTest = remlPairTest,
+            RemlPairsNotComputed = remlPairsNotComputed,
             Simple = simple,
             SimpleAsked = o.Simple == "always",
             WithinLevelCounts = [.. withinCols.Select(c => c.Distinct(StringComparer.Ordinal).Count())],
