@@ -124,6 +124,61 @@ factors: [{factors}]
     }
 
     [Fact]
+    public void MixedDesign_Figures_SubjectProfilesWithMeanProfile_AndInteractionPlot()
+    {
+        using var run = Run(Mixed, "subject, A, B", "subject: subject\nwithin: B\nbetween: A\nlabels: per-group");
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        var profiles = Assert.Single(result.Figures, f => f.Figure.Type == "profiles").Figure;
+        var svg = System.Xml.Linq.XElement.Parse(profiles.Chart.ToSvg());
+        bool Has(System.Xml.Linq.XElement e, string cls) => ((string?)e.Attribute("class"))?.Split(' ').Contains(cls, StringComparer.Ordinal) == true;
+        Assert.Equal(12, svg.Descendants().Count(e => e.Name.LocalName == "polyline" && Has(e, "subject")));
+        Assert.Single(svg.Descendants(), e => e.Name.LocalName == "polyline" && Has(e, "mean-profile"));
+        Assert.Equal(2, svg.Descendants().Count(e => e.Name.LocalName == "line" && Has(e, "ci")));
+
+        // Exact hand computation from the data (Doncaster and Davey 2007, model 6.3): the mean profile is
+        // the mean of the 12 subjects at each level of B with its 95% t interval over subjects,
+        // mean ± t(0.975; 11) sd/√12 (B means 10.3014916667 and 10.1249083333).
+        var rows = Mixed.Split('\n', StringSplitOptions.RemoveEmptyEntries).Skip(1).Select(l => l.TrimEnd('\r').Split(',')).ToList();
+        var t = MathNet.Numerics.Distributions.StudentT.InvCDF(0, 1, 11, 0.975);
+        var parts = new List<string>();
+        foreach (var level in new[] { "1", "2" })
+        {
+            var y = rows.Where(r => r[2] == level).Select(r => double.Parse(r[3], CultureInfo.InvariantCulture)).ToArray();
+            var mean = y.Average();
+            var half = t * Math.Sqrt(y.Sum(v => (v - mean) * (v - mean)) / 11 / 12);
+            var n = StudyPress.Charts.NumberText.Default;
+            parts.Add($"{level} {n.General(mean)} ({n.General(mean - half)} to {n.General(mean + half)})");
+        }
+
+        Assert.Equal(10.3014916667, rows.Where(r => r[2] == "1").Average(r => double.Parse(r[3], CultureInfo.InvariantCulture)), 9);
+        Assert.Contains("Mean profile: " + string.Join(", ", parts) + ".", profiles.Chart.Description, StringComparison.Ordinal);
+
+        // With a between factor: the interaction plot of B by A, one line per group.
+        var interaction = Assert.Single(result.Figures, f => f.Figure.Type == "interaction").Figure;
+        Assert.Contains("compare with the F test of A × B", interaction.Caption, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void MethodsText_NamesDesign_SphericityDecision_Correction_AndSubjectsAnalysed()
+    {
+        static string Visible(string html) => System.Net.WebUtility.HtmlDecode(System.Text.RegularExpressions.Regex.Replace(html, "<[^>]+>", string.Empty));
+        using var run = new StudyRun().File("d.csv", Without(OneWay, "8,c,12")).Study(Study("subject, condition", "subject: subject\nwithin: condition") + "\n\n```methods text\n```\n");
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        var text = Visible(result.Html!);
+        Assert.Contains("A repeated-measures analysis of variance with condition within subjects (subject, 7 complete subjects analysed, 1 incomplete left out) was run.", text, StringComparison.Ordinal);
+        Assert.Contains("Sphericity was checked with Mauchly's test for each within-subject term with more than two levels; where it was rejected at α = 0.05, the Greenhouse–Geisser correction was read when its ε was below 0.75 and the Huynh–Feldt correction otherwise (condition: ", text, StringComparison.Ordinal);
+        Assert.Contains("the mixed model (REML, Satterthwaite df) that keeps them was also reported", text, StringComparison.Ordinal);
+
+        // Complete data: Mauchly p 0.0107 and GG ε 0.562 < 0.75 (exact recomputation, shared reference) — the text names GG.
+        using var complete = new StudyRun().File("d.csv", OneWay).Study(Study("subject, condition", "subject: subject\nwithin: condition") + "\n\n```methods text\n```\n");
+        var all = Visible(complete.Compile().Html!);
+        Assert.Contains("(subject, 8 complete subjects analysed) was run.", all, StringComparison.Ordinal);
+        Assert.Contains("the Huynh–Feldt correction otherwise (condition: Greenhouse–Geisser).", all, StringComparison.Ordinal);
+    }
+
+    [Fact]
     public void MissingMeasurement_FitClassical_FitsNoMixedModel()
     {
         var csv = Without(OneWay, "8,c,12");
