@@ -55,6 +55,11 @@ factors: [{factors}]
         Assert.Equal(38.0, m.Get("r", "anova", "condition:subject", "ss"), 4);
         Assert.Equal(14, m.Get("r", "anova", "condition", "df_den"));
 
+        // Exact hand computation from those published SS: partial η² = 112/(112 + 38); generalized η²
+        // (Olejnik and Algina 2003, every factor manipulated) = 112/(112 + 14 + 38).
+        Assert.Equal(112.0 / 150, m.Get("r", "anova", "condition", "partial_eta2"), 12);
+        Assert.Equal(112.0 / 164, m.Get("r", "anova", "condition", "generalized_eta2"), 12);
+
         // Exact recomputation (shared reference, rutherford-2001-oneway.expected.json; no published epsilon).
         Assert.Equal(0.220683287165, m.Get("r", "mauchly", "condition", "w"), 10);
         Assert.Equal(9.06616017042, m.Get("r", "mauchly", "condition", "chi2"), 9);
