@@ -596,9 +596,6 @@ public sealed class DiagnosticBag
     public void RepeatedWideOneWithin(SourceLocation at) =>
         Error("SP0268", at, "with 'columns' (wide data), 'within' names the one factor the measurement columns form; list a single name");
 
-    public void RepeatedCompareNeedsClassical(SourceLocation at) =>
-        Error("SP0269", at, "the paired comparisons are made on the complete subjects of the classical route, which 'fit: reml' does not fit; write 'fit: auto' (both routes when subjects are incomplete) or remove 'compare'");
-
     public void RepeatedRanksLayout(SourceLocation at, string reason) =>
         Error("SP0295", at, $"'ranks: always' asks for the Friedman test, which ranks each subject's measurements over the levels of one within factor with no between-subject groups, on complete subjects; {reason}. Write 'ranks: auto' or 'never', or analyse that factor in a 'friedman' block");
 

@@ -219,8 +219,20 @@ public static class Stat
     /// <summary>An estimate: a covariate's common slope, or a contrast's Σ c_i × mean_i.</summary>
     public const string Estimate = "estimate";
 
+    /// <summary>Iman–Davenport F of a Friedman test (recorded on the <c>friedman</c> row).</summary>
+    public const string FImanDavenport = "f_iman_davenport";
+
+    /// <summary>Numerator degrees of freedom of the Iman–Davenport F, k − 1.</summary>
+    public const string Df1ImanDavenport = "df1_iman_davenport";
+
+    /// <summary>Denominator degrees of freedom of the Iman–Davenport F, (k − 1)(n − 1).</summary>
+    public const string Df2ImanDavenport = "df2_iman_davenport";
+
+    /// <summary>p-value of the Iman–Davenport F.</summary>
+    public const string PImanDavenport = "p_iman_davenport";
+
     /// <summary>Stats that are whole numbers (counts, degrees of freedom of exact designs), shown without decimals.</summary>
-    public static IReadOnlySet<string> Counts { get; } = new HashSet<string>(StringComparer.Ordinal) { N, Df, Missing, NPerGroup, NTotal, Df1, Df2, M, NBlocks, BlocksDropped, DfDen, SubjectsDropped, Rows, RowsUsed, DroppedMissing };
+    public static IReadOnlySet<string> Counts { get; } = new HashSet<string>(StringComparer.Ordinal) { N, Df, Missing, NPerGroup, NTotal, Df1, Df2, M, NBlocks, BlocksDropped, DfDen, SubjectsDropped, Rows, RowsUsed, DroppedMissing, Df1ImanDavenport, Df2ImanDavenport };
 
     /// <summary>Every name, with its meaning (checked against docs/manifest.md by the tests).</summary>
     public static IReadOnlyDictionary<string, string> All { get; } = new Dictionary<string, string>(StringComparer.Ordinal)
@@ -297,6 +309,10 @@ public static class Stat
         [PLower] = "one-sided p-value against the lower margin",
         [PUpper] = "one-sided p-value against the upper margin",
         [Estimate] = "estimate (a covariate's common slope, or a contrast's sum of coefficient × level mean)",
+        [FImanDavenport] = "Iman–Davenport F of a Friedman test",
+        [Df1ImanDavenport] = "numerator degrees of freedom of the Iman–Davenport F",
+        [Df2ImanDavenport] = "denominator degrees of freedom of the Iman–Davenport F",
+        [PImanDavenport] = "p-value of the Iman–Davenport F",
     };
 }
 
@@ -372,9 +388,6 @@ public static class TestName
     /// <summary>Friedman rank test for complete blocks.</summary>
     public const string Friedman = "friedman";
 
-    /// <summary>Iman–Davenport F after a Friedman test.</summary>
-    public const string ImanDavenport = "iman_davenport";
-
     /// <summary>Conover's comparisons after a Friedman test.</summary>
     public const string Conover = "conover";
 
@@ -417,6 +430,12 @@ public static class TestName
     /// <summary>A planned contrast or polynomial trend of one factor's level means.</summary>
     public const string Contrast = "contrast";
 
+    /// <summary>Holm-adjusted comparisons of a repeated block's within-subject levels from the mixed model's (REML) marginal means.</summary>
+    public const string HolmReml = "holm_reml";
+
+    /// <summary>Bonferroni-adjusted comparisons of a repeated block's within-subject levels from the mixed model's (REML) marginal means.</summary>
+    public const string BonferroniReml = "bonferroni_reml";
+
     /// <summary>Every name, with its meaning (checked against docs/manifest.md by the tests).</summary>
     public static IReadOnlyDictionary<string, string> All { get; } = new Dictionary<string, string>(StringComparer.Ordinal)
     {
@@ -443,7 +462,6 @@ public static class TestName
         [Design] = "the design a methods block describes",
         [Input] = "an input dataset",
         [Friedman] = "Friedman rank test for complete blocks",
-        [ImanDavenport] = "Iman–Davenport F after a Friedman test",
         [Conover] = "Conover's comparisons after a Friedman test",
         [Nemenyi] = "Nemenyi's comparisons after a Friedman test",
         [VarianceComponents] = "variance components of the random terms",
@@ -458,5 +476,7 @@ public static class TestName
         [SlopesHomogeneity] = "homogeneity-of-slopes test (treatment x covariate interaction)",
         [Contrast] = "planned contrast or polynomial trend of level means",
         [Emmeans] = "estimated marginal means (adjusted to the covariate means in an analysis of covariance)",
+        [HolmReml] = "Holm-adjusted comparisons of within-subject levels from the mixed model's marginal means",
+        [BonferroniReml] = "Bonferroni-adjusted comparisons of within-subject levels from the mixed model's marginal means",
     };
 }
