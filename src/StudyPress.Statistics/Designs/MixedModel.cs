@@ -331,6 +331,16 @@ public static class MixedModel
             }
         }
 
+        // The fixed-effects starting point of the fit needs X'X factorized (a rank within rounding).
+        try
+        {
+            _ = x.TransposeThisAndMultiply(x).Cholesky();
+        }
+        catch (ArgumentException)
+        {
+            return new DesignIssue(DesignIssueKind.MissingCombination, "the treatment combinations observed are too close to not allowing every fixed effect to be estimated (their columns are collinear within rounding)", []);
+        }
+
         setup = new Setup { X = x, FixedTerms = fixedTerms, Random = random, Elimination = elim };
         return null;
     }
@@ -883,6 +893,27 @@ public static class MixedModel
             yc[i] = yArr[i] - yMean; // REML is shift-invariant (intercept in X)
         }
 
+        // REML is scale-equivariant: a response of extreme magnitude (whose squares and variances
+        // would overflow or vanish, so that no starting value could be factorized) is fitted
+        // divided by a power of two c (exact), and the variances (× c²), their intervals and
+        // standard errors (× c²), the residuals (× c) and the log-likelihood (− (n − p) ln c) are
+        // scaled back; F, df and p do not depend on c. Ordinary responses are fitted as they are.
+        var magnitude = yc.Max(Math.Abs);
+        var c2 = 1.0;
+        var logC = 0.0;
+        if (magnitude > Math.ScaleB(1.0, 64) || magnitude < Math.ScaleB(1.0, -64))
+        {
+            var exponent = Math.ILogB(magnitude);
+            var inv = Math.ScaleB(1.0, -exponent);
+            for (var i = 0; i < n; i++)
+            {
+                yc[i] *= inv;
+            }
+
+            c2 = Math.ScaleB(1.0, 2 * exponent);
+            logC = exponent * Math.Log(2);
+        }
+
         var y = Vector<double>.Build.DenseOfArray(yc);
         var l = Arrange(s, yc);
         var qr = l.Qr;
@@ -1329,7 +1360,15 @@ public static class MixedModel
         var olsRes = y - (x * ols.Solve(y));
         var s2 = Math.Max(olsRes.DotProduct(olsRes) / (n - p), 1e-300);
         var phi = Enumerable.Repeat(s2 / (m + 1), m + 1).ToArray();
-        var state = Eval(phi) ?? throw new InvalidOperationException("the starting values of the REML fit cannot be factorized");
+        // If the equal split cannot be factorized, the fit starts from the fixed-effects point
+        // (every random variance zero: S = diag(I, X'X)), which Prepare has checked can be
+        // factorized (Check reports a design issue otherwise).
+        var state = Eval(phi);
+        if (state is null)
+        {
+            phi = [.. Enumerable.Repeat(0.0, m), s2];
+            state = Eval(phi) ?? throw new InvalidOperationException("the fixed-effects starting point of the REML fit cannot be factorized although Check found X'X positive definite");
+        }
         var converged = false;
         var iterations = 0;
         var active = new bool[m + 1]; // held at zero
@@ -1405,6 +1444,7 @@ public static class MixedModel
         }
 
         // Final quantities.
+        Quantity Scaled(Quantity q) => q.IsDefined ? Quantity.Of(q.Value * c2) : q;
         var (_, infoF) = ScoreInfo(state);
         var freeF = Enumerable.Range(0, m + 1).Where(i => i == m || phi[i] > 0).ToArray();
         var infoFree = Matrix<double>.Build.Dense(freeF.Length, freeF.Length, (i, j) => infoF[freeF[i], freeF[j]]);
@@ -1433,7 +1473,7 @@ public static class MixedModel
                 nu = lo = hi = Quantity.Undefined(se.IsDefined ? "the estimate is zero" : se.Reason!);
             }
 
-            components.Add(new RemlComponent(name, kind, phi[r], phi[r] == 0, Quantity.Of(Math.Sqrt(phi[r])), se, nu, lo, hi));
+            components.Add(new RemlComponent(name, kind, phi[r] * c2, phi[r] == 0, Quantity.Of(Math.Sqrt(phi[r] * c2)), Scaled(se), nu, Scaled(lo), Scaled(hi)));
         }
 
         // Cov(β̂) = σ²_e [S⁻¹]_XX = σ²_e (L_XX L_XX')⁻¹ (L the Cholesky factor of S, X columns last).
@@ -1560,6 +1600,7 @@ public static class MixedModel
         }
 
         // Conditional residuals y − Xβ̂ − Zû, in the data's rows.
-        return new RemlResult(components, tests, state.LogLik, converged, iterations, singular, note, state.Residual);
+        var residuals = c2 == 1 ? state.Residual : [.. state.Residual.Select(v => v * Math.Sqrt(c2))];
+        return new RemlResult(components, tests, state.LogLik - ((n - p) * logC), converged, iterations, singular, note, residuals);
     }
 }

@@ -528,6 +528,42 @@ public class MixedModelNestedEliminationTests
     }
 }
 
+// A response of extreme magnitude: before, the starting values could not be factorized (an
+// internal error) or the scores overflowed (a false "did not converge"); REML is scale-equivariant,
+// so the fit must equal that of the ordinary data: variances × c², F, df and p equal, the
+// log-likelihood shifted by −(n − p) ln c (exact hand computation of the scaling).
+public class MixedModelScaleTests
+{
+    [Theory]
+    [InlineData(1e120)]
+    [InlineData(1e150)]
+    [InlineData(1e-120)]
+    [InlineData(1e-140)]
+    public void ExtremeResponseMagnitude_FitsLikeTheOrdinaryData(double c)
+    {
+        var (f, data) = MixedModelData.DeepNested();
+        var plain = MixedModel.FitReml(f, data);
+        var scaled = MixedModel.FitReml(f, new DesignData([.. data.Response.Select(v => v * c)], data.Labels));
+        Assert.True(scaled.Converged, scaled.ConvergenceNote);
+        Assert.Equal(plain.Iterations, scaled.Iterations);
+        foreach (var p in plain.Components)
+        {
+            var q = scaled.Component(p.Term);
+            AssertRelative(q.Variance, p.Variance * c * c, 1e-9, "σ² " + p.Term);
+            AssertRelative(q.StandardError.Value, p.StandardError.Value * c * c, 1e-9, "se " + p.Term);
+            AssertRelative(q.Df.Value, p.Df.Value, 1e-9, "ν " + p.Term);
+            AssertRelative(q.CiHigh.Value, p.CiHigh.Value * c * c, 1e-9, "high " + p.Term);
+        }
+
+        AssertRelative(scaled.Test("supplier").F.Value, plain.Test("supplier").F.Value, 1e-9, "F");
+        AssertRelative(scaled.Test("supplier").DfDenominator.Value, plain.Test("supplier").DfDenominator.Value, 1e-9, "df");
+        AssertRelative(scaled.Test("supplier").P.Value, plain.Test("supplier").P.Value, 1e-9, "p");
+        var expected = plain.LogLikelihood - ((data.Response.Length - 3) * Math.Log(c));
+        AssertRelative(scaled.LogLikelihood, expected, 1e-9, "REML log-likelihood");
+        AssertRelative(scaled.ConditionalResiduals[5], plain.ConditionalResiduals[5] * c, 1e-9, "residual");
+    }
+}
+
 internal static class MixedModelData
 {
     // Invented unbalanced data from a fixed linear congruential sequence (Knuth's MMIX constants).
