@@ -402,33 +402,20 @@ factors:
     [Fact]
     public void MixedModelBeyondItsSize_IsOneErrorAtTheBlock_WithoutFitting()
     {
-        // 200 blocks × 5 whole plots × 2 sub-plots × 2 readings, one reading missing: the REML fit
-        // absorbs the 2000 sub-plot levels but would keep 1210 columns dense (10 fixed-effect
-        // columns, 200 blocks, 1000 whole plots), beyond its bound of 1000 (fixture data; only the
-        // refusal is checked).
-        var sb = new System.Text.StringBuilder("block,irrigation,variety,y\n");
-        var k = 0;
-        for (var b = 0; b < 200; b++)
+        // Two crossed random factors of 1050 levels each (each instrument used by four operators,
+        // each operator on four instruments): the REML fit absorbs one
+        // and would keep the other's 1050 levels dense, beyond its bound of 1000 (fixture data;
+        // only the refusal is checked). Nested terms no longer count: they are absorbed too.
+        var sb = new System.Text.StringBuilder("operator,instrument,y\n");
+        for (var i = 0; i < 4200; i++)
         {
-            for (var i = 0; i < 5; i++)
-            {
-                for (var v = 0; v < 2; v++)
-                {
-                    for (var r = 0; r < 2; r++)
-                    {
-                        if (k++ != 17)
-                        {
-                            sb.Append(CultureInfo.InvariantCulture, $"b{b},i{i},v{v},{(k * 37 % 101) / 10.0}\n");
-                        }
-                    }
-                }
-            }
+            sb.Append(CultureInfo.InvariantCulture, $"o{i % 1050},i{i / 4},{(i * 37 % 101) / 10.0}\n");
         }
 
-        using var run = Study("big.csv", sb.ToString(), "response: y\nfactors:\n  block:\n    role: block\n  irrigation:\n    plot: whole\n  variety:\n    plot: sub", "```anova main\n```");
+        using var run = Study("big.csv", sb.ToString(), "response: y\nfactors:\n  operator:\n    role: random\n  instrument:\n    role: random", "```anova main\n```");
         var d = Assert.Single(run.Compile().Diagnostics);
         Assert.Equal("SP0398", d.Code);
-        Assert.Contains("keeps 1210 columns dense (10 fixed-effect columns and 200 levels of block, 1000 levels of whole-plot error; the 2000 levels of sub-plot error are absorbed), more than the 1000", d.Message, StringComparison.Ordinal);
+        Assert.Contains("keeps 1051 columns dense (1 fixed-effect columns and 1050 levels of instrument; the 1050 levels of operator are absorbed), more than the 1000", d.Message, StringComparison.Ordinal);
     }
 
     [Theory]
