@@ -189,16 +189,19 @@ public static class Figures
     }
 
     /// <summary>Cell means of the first two factors, one line per level of the second factor.</summary>
-    public static FigurePlan? Interaction(AnovaOutcome anova, string? caption = null)
+    public static FigurePlan? Interaction(AnovaOutcome anova, string? caption = null) => Interaction(anova.Input, anova.Data, caption);
+
+    /// <summary>Cell means of the first two factors of a model fitted on <paramref name="data"/> with <paramref name="input"/> (null: none).</summary>
+    internal static FigurePlan? Interaction(Statistics.Anova.AnovaInput? input, BlockData? data, string? caption = null)
     {
-        if (anova.Input is null || anova.Input.Factors.Count < 2)
+        if (input is null || input.Factors.Count < 2)
         {
             return null;
         }
 
-        var a = anova.Data!.Factors[0];
-        var b = anova.Data.Factors[1];
-        return Interaction(anova.Data, a, b) with { UserCaption = caption };
+        var a = data!.Factors[0];
+        var b = data.Factors[1];
+        return Interaction(data, a, b) with { UserCaption = caption };
     }
 
     /// <summary>Observed means over the crossing of two of the block's factors (averaging over any further factors).</summary>
@@ -246,10 +249,13 @@ public static class Figures
         return new ResidualsFittedFigure(fitted, residuals, n, anova.Transformed is not null) { UserCaption = caption };
     }
 
-    public static IEnumerable<FigurePlan> FDistributions(AnovaOutcome anova, string? caption = null)
+    public static IEnumerable<FigurePlan> FDistributions(AnovaOutcome anova, string? caption = null) => FDistributions(anova.Fit, anova.Factors, caption);
+
+    /// <summary>Each term's F distribution of the table <paramref name="table"/> (null: none), its factors named by <paramref name="factors"/>.</summary>
+    internal static IEnumerable<FigurePlan> FDistributions(AnovaFit? table, IReadOnlyList<Binding.FactorSpec> factors, string? caption = null)
     {
         // From the table alone, so on either route (rows or cell statistics).
-        if (anova.Fit is not { } fit)
+        if (table is not { } fit)
         {
             yield break;
         }
@@ -262,7 +268,7 @@ public static class Figures
             }
 
             // A covariate's row (analysis of covariance) is named by its column.
-            IReadOnlyList<string> name = [.. t.Factors.Select(n => anova.Factors.FirstOrDefault(f => f.Name == n)?.Display ?? n)];
+            IReadOnlyList<string> name = [.. t.Factors.Select(n => factors.FirstOrDefault(f => f.Name == n)?.Display ?? n)];
             yield return new FDistributionFigure(t.Df, fit.ResidualDf, t.F.Value, fit.Alpha, name) { Part = string.Join("-", t.Factors), UserCaption = caption };
         }
     }

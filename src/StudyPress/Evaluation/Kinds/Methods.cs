@@ -31,7 +31,7 @@ public sealed class MethodsSection
     public ResultValue? Dropped { get; set; }
 
     /// <summary>Review values by test then statistic: from an assumptions block of the anova, else recorded here.</summary>
-    public Dictionary<string, Dictionary<string, ResultValue>> Review { get; } = new(StringComparer.Ordinal);
+    public Dictionary<string, IReadOnlyDictionary<string, ResultValue>> Review { get; } = new(StringComparer.Ordinal);
 }
 
 public sealed class MethodsOutcome(BoundBlock block) : BlockOutcome(block)
@@ -262,16 +262,18 @@ public sealed class MethodsEvaluator : KindEvaluator
         var review = a.Review;
         var term = a.Data.Factors[0].Spec.Name;
         var level = a.Block.Id;
-        var bf = s.Review["brown_forsythe"] = new(StringComparer.Ordinal);
+        var bf = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
         bf[Stat.F] = context.Results.Add(id, TestName.BrownForsythe, term, level, null, Stat.F, review.BrownForsythe.F, inputs);
         bf[Stat.Df1] = context.Results.Add(id, TestName.BrownForsythe, term, level, null, Stat.Df1, review.BrownForsythe.Df1, inputs);
         bf[Stat.Df2] = context.Results.Add(id, TestName.BrownForsythe, term, level, null, Stat.Df2, review.BrownForsythe.Df2, inputs);
         bf[Stat.P] = context.Results.Add(id, TestName.BrownForsythe, term, level, null, Stat.P, review.BrownForsythe.P, inputs);
+        s.Review["brown_forsythe"] = bf.AsReadOnly();
         if (review.WantsRankTest)
         {
-            var sw = s.Review["shapiro_wilk"] = new(StringComparer.Ordinal);
+            var sw = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
             sw[Stat.W] = context.Results.Add(id, TestName.ShapiroWilk, "residual", level, null, Stat.W, review.Normality.W, inputs);
             sw[Stat.P] = context.Results.Add(id, TestName.ShapiroWilk, "residual", level, null, Stat.P, review.Normality.P, inputs);
+            s.Review["shapiro_wilk"] = sw.AsReadOnly();
         }
     }
 }
