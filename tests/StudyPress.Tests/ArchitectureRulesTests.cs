@@ -165,9 +165,6 @@ public sealed partial class ArchitectureRulesTests
     /// </summary>
     private static readonly string[] StillSetDuringEvaluation =
     [
-        "AssumptionsOutcome.Anova",
-        "AssumptionsOutcome.Design",
-        "AssumptionsOutcome.Review",
         "ContrastsOutcome.Adjustment",
         "ContrastsOutcome.AdjustmentChosen",
         "ContrastsOutcome.AnovaFactorSs",
