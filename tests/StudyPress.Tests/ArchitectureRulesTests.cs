@@ -208,12 +208,6 @@ public sealed partial class ArchitectureRulesTests
         "RanksOutcome.FactorLabel",
         "RanksOutcome.SmallGroups",
         "RanksOutcome.Test",
-        "SummaryOutcome.Data",
-        "SummaryOutcome.DatabaseQuantiles",
-        "SummaryOutcome.DroppedMissing",
-        "SummaryOutcome.ResponseLabel",
-        "SummaryOutcome.ResponseName",
-        "SummaryOutcome.Term",
     ];
 
     [Fact]
