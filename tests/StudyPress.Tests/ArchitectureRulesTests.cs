@@ -202,9 +202,6 @@ public sealed partial class ArchitectureRulesTests
         "PostHocOutcome.SingleObservationLevels",
         "PostHocOutcome.Transformed",
         "PostHocOutcome.UndefinedResidual",
-        "RanksOutcome.FactorLabel",
-        "RanksOutcome.SmallGroups",
-        "RanksOutcome.Test",
     ];
 
     [Fact]
