@@ -262,12 +262,10 @@ public sealed partial class ArchitectureRulesTests
         "BlockOutcome",
         "ContrastsOutcome",
         "EquivalenceOutcome",
-        "FriedmanOutcome",
         "MarginalMeansOutcome",
         "PostHocFamily",
         "PostHocOutcome",
         "RepeatedMarginalMeansOutcome",
-        "RepeatedOutcome",
     ];
 
     [Fact]
