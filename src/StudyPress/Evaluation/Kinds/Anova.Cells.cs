@@ -23,18 +23,19 @@ public sealed partial class AnovaEvaluator
     private static AnovaOutcome EvaluateCells(EvaluationContext context, BoundBlock block, AnovaKind.Options options, DiagnosticBag diagnostics)
     {
         var model = context.Models.Descriptions[block.Id];
-        var outcome = new AnovaOutcome(block) { Route = AnovaRoute.Cells, Model = model };
+        // What the block hands on when it stops at a mistake: nothing fitted.
+        var stopped = new AnovaOutcome(block) { Route = AnovaRoute.Cells, Model = model };
         var ds = context.Datasets[block.Data!];
         if (model.Transform != TransformKind.None)
         {
             diagnostics.AggregateProblem(block.Location, ds.Spec.Name, $"'transform: {options.TransformName}' needs the rows, and the database aggregated them (aggregate: true); transform the column in the query instead");
-            return outcome;
+            return stopped;
         }
 
         if (context.Models.AggregatedCells.GetValueOrDefault(block.Id) is not { } selected)
         {
             diagnostics.NoRowsSelected(block.Location);
-            return outcome;
+            return stopped;
         }
 
         var levels = selected.Levels;
@@ -45,14 +46,14 @@ public sealed partial class AnovaEvaluator
             if (levels[k].Count < 2)
             {
                 diagnostics.TooFewGroups(block.FactorsLocation, block.Factors[k].Name, levels[k].Count);
-                return outcome;
+                return stopped;
             }
         }
 
         if (cells.All(c => c.Count == 1) && (block.Factors.Count == 1 || model.Interaction))
         {
             diagnostics.NoResidualDf(block.Location);
-            return outcome;
+            return stopped;
         }
 
         var input = new CellAnovaInput(
@@ -72,21 +73,16 @@ public sealed partial class AnovaEvaluator
                 diagnostics.DesignProblem(block.FactorsLocation, problem.Message);
             }
 
-            return outcome;
+            return stopped;
         }
 
         var result = CellStatisticsAnova.Fit(input);
-        outcome.Fit = AnovaFit.Of(result);
-        outcome.Cells = selected;
-        outcome.Factors = block.Factors;
-        outcome.ResponseCentre = selected.Centre;
-        outcome.ResponseName = block.Response!;
-        outcome.ResponseLabel = context.Header.ResponseDisplay(block.Response);
         var inputs = context.Inputs(block);
         var centre = selected.Centre;
-        RecordTable(context, block, result.Terms, result.ResidualSumOfSquares, result.ResidualDf, result.ResidualMeanSquare, result.TotalSumOfSquares, result.TotalDf, inputs, outcome.Terms, outcome.Residual, outcome.Total);
+        var (terms, residual, total) = RecordTable(context, block, result.Terms, result.ResidualSumOfSquares, result.ResidualDf, result.ResidualMeanSquare, result.TotalSumOfSquares, result.TotalDf, inputs);
 
         // Level means (each factor's levels, pooled over the other factors).
+        var means = new List<(string Factor, string Level, IReadOnlyDictionary<string, ResultValue> Values)>();
         for (var k = 0; k < block.Factors.Count; k++)
         {
             for (var l = 0; l < levels[k].Count; l++)
@@ -98,70 +94,91 @@ public sealed partial class AnovaEvaluator
                     [Stat.N] = context.Results.Add(block.Id, TestName.Means, name, levels[k][l], null, Stat.N, of.N, inputs),
                     [Stat.Mean] = context.Results.Add(block.Id, TestName.Means, name, levels[k][l], null, Stat.Mean, of.CentredMean + centre, inputs),
                 };
-                outcome.Means.Add((name, levels[k][l], values));
+                means.Add((name, levels[k][l], values.AsReadOnly()));
             }
         }
 
-        if (block.Factors.Count == 1)
+        var decisions = new List<RuleDecision>();
+        var (bartlett, welch, readWelch) = block.Factors.Count == 1
+            ? OneFactorCells(context, block, options, cells, decisions, inputs)
+            : (null, null, false);
+
+        return new AnovaOutcome(block)
         {
-            OneFactorCells(context, block, outcome, options, cells, inputs);
-        }
+            Route = AnovaRoute.Cells,
+            Model = model,
+            Fit = AnovaFit.Of(result),
+            Cells = selected,
+            Factors = block.Factors,
+            ResponseCentre = selected.Centre,
+            ResponseName = block.Response!,
+            ResponseLabel = context.Header.ResponseDisplay(block.Response),
+            Terms = terms,
+            Residual = residual,
+            Total = total,
+            Means = means.AsReadOnly(),
+            Bartlett = bartlett,
+            Welch = welch,
+            ReadWelch = readWelch,
+            Decisions = decisions.AsReadOnly(),
 
-        // The cells route names no groups in its cautions (the labels are the database's cells).
-        outcome.Cautions = new AnovaCautions(
-            cells.Any(c => c.Count == 1) ? ["*"] : [],
-            cells.Any(c => c.Count is > 1 and < 5) ? ["*"] : [],
-            block.Factors.Count > 1 && cells.Select(c => c.Count).Distinct().Count() > 1,
-            false,
-            dropped,
-            []);
-
-        return outcome;
+            // The cells route names no groups in its cautions (the labels are the database's cells).
+            Cautions = new AnovaCautions(
+                cells.Any(c => c.Count == 1) ? ["*"] : [],
+                cells.Any(c => c.Count is > 1 and < 5) ? ["*"] : [],
+                block.Factors.Count > 1 && cells.Select(c => c.Count).Distinct().Count() > 1,
+                false,
+                dropped,
+                []),
+        };
     }
 
-    private static void OneFactorCells(EvaluationContext context, BoundBlock block, AnovaOutcome outcome, AnovaKind.Options options, IReadOnlyList<CellStatistics> cells, IReadOnlyList<string> inputs)
+    /// <summary>Bartlett's test and Welch's F of one factor from the cells, by the block's <c>welch</c> choice; the rules' decisions go to <paramref name="decisions"/>.</summary>
+    private static (IReadOnlyDictionary<string, ResultValue> Bartlett, IReadOnlyDictionary<string, ResultValue>? Welch, bool ReadWelch) OneFactorCells(
+        EvaluationContext context, BoundBlock block, AnovaKind.Options options, IReadOnlyList<CellStatistics> cells, List<RuleDecision> decisions, IReadOnlyList<string> inputs)
     {
         var groups = cells.Select(c => new GroupStatistics(c.Count, c.Mean, c.SumOfSquares)).ToList();
         var name = block.Factors[0].Name;
         var bt = GroupStatisticsTests.Bartlett(groups);
-        outcome.Bartlett = new Dictionary<string, ResultValue>(StringComparer.Ordinal)
+        var bartlett = new Dictionary<string, ResultValue>(StringComparer.Ordinal)
         {
             [Stat.Statistic] = context.Results.Add(block.Id, TestName.Bartlett, name, null, null, Stat.Statistic, bt.Statistic, inputs),
             [Stat.Df] = context.Results.Add(block.Id, TestName.Bartlett, name, null, null, Stat.Df, bt.Df, inputs),
             [Stat.P] = context.Results.Add(block.Id, TestName.Bartlett, name, null, null, Stat.P, bt.P, inputs),
-        };
+        }.AsReadOnly();
         var alpha = context.Header.Alpha;
         var show = options.Welch == "yes";
+        var readWelch = false;
         if (options.Welch == "yes")
         {
-            outcome.Decisions.Add(new RuleDecision(DecisionRule.WelchRequested, Cells: true));
+            decisions.Add(new RuleDecision(DecisionRule.WelchRequested, Cells: true));
         }
         else if (options.Welch == "auto")
         {
             if (bt.P.IsDefined && bt.P.Value < alpha)
             {
                 show = true;
-                outcome.ReadWelch = true;
-                outcome.Decisions.Add(new RuleDecision(DecisionRule.WelchFired, Cells: true) { P = bt.P });
+                readWelch = true;
+                decisions.Add(new RuleDecision(DecisionRule.WelchFired, Cells: true) { P = bt.P });
             }
             else
             {
-                outcome.Decisions.Add(new RuleDecision(bt.P.IsDefined ? DecisionRule.WelchNotFired : DecisionRule.WelchUnchecked, Cells: true) { P = bt.P });
+                decisions.Add(new RuleDecision(bt.P.IsDefined ? DecisionRule.WelchNotFired : DecisionRule.WelchUnchecked, Cells: true) { P = bt.P });
             }
         }
 
-        if (show)
+        if (!show)
         {
-            var w = GroupStatisticsTests.Welch(groups);
-            var values = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
-            void AddW(string stat, Quantity q) => values[stat] = context.Results.Add(block.Id, TestName.Welch, name, null, null, stat, q, inputs);
-            AddW(Stat.F, w.F);
-            AddW(Stat.Df1, Quantity.Of(w.Df1));
-            AddW(Stat.Df2, w.Df2);
-            AddW(Stat.P, w.P);
-            outcome.Welch = values;
+            return (bartlett, null, readWelch);
         }
+
+        var w = GroupStatisticsTests.Welch(groups);
+        var values = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
+        void AddW(string stat, Quantity q) => values[stat] = context.Results.Add(block.Id, TestName.Welch, name, null, null, stat, q, inputs);
+        AddW(Stat.F, w.F);
+        AddW(Stat.Df1, Quantity.Of(w.Df1));
+        AddW(Stat.Df2, w.Df2);
+        AddW(Stat.P, w.P);
+        return (bartlett, values.AsReadOnly(), readWelch);
     }
-
-
 }

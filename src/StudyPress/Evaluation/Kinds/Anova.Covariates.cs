@@ -38,11 +38,11 @@ public sealed class CovariateAnalysis
     /// <summary>Rows left out because a covariate was missing (their response and factors were present).</summary>
     public required int DroppedCovariate { get; init; }
 
-    public List<(CovariateSlope Slope, Dictionary<string, ResultValue> Values)> Slopes { get; } = [];
+    public required IReadOnlyList<(CovariateSlope Slope, IReadOnlyDictionary<string, ResultValue> Values)> Slopes { get; init; }
 
-    public Dictionary<string, ResultValue> Homogeneity { get; } = new(StringComparer.Ordinal);
+    public required IReadOnlyDictionary<string, ResultValue> Homogeneity { get; init; }
 
-    public List<AdjustedMeanRow> Means { get; } = [];
+    public required IReadOnlyList<AdjustedMeanRow> Means { get; init; }
 
     /// <summary>Whether the slopes test rejects parallel slopes at alpha.</summary>
     public bool SlopesDiffer => Result.Homogeneity.P.IsDefined && Result.Homogeneity.P.Value < Result.Alpha;
@@ -60,12 +60,11 @@ public sealed partial class AnovaEvaluator
     /// </summary>
     private static AnovaOutcome EvaluateCovariates(EvaluationContext context, BoundBlock block, AnovaKind.Options options, ModelDescription model, DiagnosticBag diagnostics)
     {
-        var outcome = new AnovaOutcome(block) { Model = model };
         // Rows missing a covariate are left out below, so only the rows analysed count as used.
         var selected = context.SelectUnmarked(block, diagnostics);
         if (selected is null)
         {
-            return outcome;
+            return new AnovaOutcome(block) { Model = model };
         }
 
         var ds = selected.Dataset;
@@ -84,21 +83,22 @@ public sealed partial class AnovaEvaluator
         {
             var first = options.Covariates.First(c => selected.Rows.All(r => double.IsNaN(ds.Numeric[c.Column].Centred[r])));
             diagnostics.AncovaCovariateMissing(first.At, first.Column);
-            return outcome;
+            return new AnovaOutcome(block) { Model = model };
         }
 
         var dropped = selected.Rows.Length - keep.Count;
         var data = dropped == 0 ? selected : Subset(selected, [.. keep]);
         EvaluationContext.MarkUsed(data);
-        outcome.Data = data;
-        outcome.Factors = [.. data.Factors.Select(f => f.Spec)];
-        outcome.ResponseName = data.ResponseName;
+        var specs = data.Factors.Select(f => f.Spec).ToList().AsReadOnly();
+
+        // What the block hands on when it stops at a mistake: its selection, nothing fitted.
+        var stopped = new AnovaOutcome(block) { Model = model, Data = data, Factors = specs, ResponseName = data.ResponseName };
         foreach (var f in data.Factors)
         {
             if (f.Levels.Count < 2)
             {
                 diagnostics.TooFewGroups(block.FactorsLocation, f.Spec.Name, f.Levels.Count);
-                return outcome;
+                return stopped;
             }
         }
 
@@ -119,7 +119,7 @@ public sealed partial class AnovaEvaluator
                 diagnostics.DesignProblem(block.FactorsLocation, problem.Message);
             }
 
-            return outcome;
+            return stopped;
         }
 
         var covariates = new List<CovariateColumn>(columns.Length);
@@ -136,29 +136,15 @@ public sealed partial class AnovaEvaluator
         if (Ancova.Check(input) is { } reason)
         {
             diagnostics.AncovaCannotFit(options.CovariatesLocation, reason);
-            return outcome;
+            return stopped;
         }
 
         var result = Ancova.Fit(input);
-        outcome.Input = anovaInput;
-        outcome.ResponseCentre = data.Centre;
-        outcome.Result = new AnovaResult(result.Terms, result.ResidualSumOfSquares, result.ResidualDf, result.ResidualMeanSquare, result.TotalSumOfSquares, result.TotalDf, result.Fitted, result.Residuals, result.Leverages, result.SsType, alpha);
-        outcome.Fit = AnovaFit.Of(outcome.Result);
-        outcome.Cells = data.CellTable();
-        var analysis = new CovariateAnalysis
-        {
-            Result = result,
-            Input = input,
-            Covariates = [.. columns.Select(c => c.Name)],
-            CovariateMeans = [.. result.Slopes.Select((s, k) => s.Mean + columns[k].Centre)],
-            Blocks = blocks,
-            Treatments = treatments,
-            DroppedCovariate = dropped,
-        };
-        outcome.Ancova = analysis;
+        var fitted = new AnovaResult(result.Terms, result.ResidualSumOfSquares, result.ResidualDf, result.ResidualMeanSquare, result.TotalSumOfSquares, result.TotalDf, result.Fitted, result.Residuals, result.Leverages, result.SsType, alpha);
         var inputs = context.Inputs(block);
-        RecordTable(context, block, result.Terms, result.ResidualSumOfSquares, result.ResidualDf, result.ResidualMeanSquare, result.TotalSumOfSquares, result.TotalDf, inputs, outcome.Terms, outcome.Residual, outcome.Total);
+        var (terms, residual, total) = RecordTable(context, block, result.Terms, result.ResidualSumOfSquares, result.ResidualDf, result.ResidualMeanSquare, result.TotalSumOfSquares, result.TotalDf, inputs);
 
+        var slopes = new List<(CovariateSlope Slope, IReadOnlyDictionary<string, ResultValue> Values)>(result.Slopes.Count);
         foreach (var s in result.Slopes)
         {
             var v = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
@@ -168,17 +154,19 @@ public sealed partial class AnovaEvaluator
             AddS(Stat.Df, Quantity.Of(s.Df));
             AddS(Stat.Statistic, s.T);
             AddS(Stat.P, s.P);
-            analysis.Slopes.Add((s, v));
+            slopes.Add((s, v.AsReadOnly()));
         }
 
         var h = result.Homogeneity;
-        void AddH(string stat, Quantity q) => analysis.Homogeneity[stat] = context.Results.Add(block.Id, TestName.SlopesHomogeneity, null, null, null, stat, q, inputs);
+        var homogeneity = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
+        void AddH(string stat, Quantity q) => homogeneity[stat] = context.Results.Add(block.Id, TestName.SlopesHomogeneity, null, null, null, stat, q, inputs);
         AddH(Stat.F, h.F);
         AddH(Stat.Df1, Quantity.Of(h.Df1));
         AddH(Stat.Df2, Quantity.Of(h.Df2));
         AddH(Stat.P, h.P);
 
         // Raw means (the block's own level means) beside the adjusted ones: one factor's levels only.
+        var means = new List<(string Factor, string Level, IReadOnlyDictionary<string, ResultValue> Values)>();
         var raw = new Dictionary<(string Factor, string Level), (ResultValue N, ResultValue Mean)>();
         foreach (var f in data.Factors)
         {
@@ -190,11 +178,12 @@ public sealed partial class AnovaEvaluator
                     [Stat.N] = context.Results.Add(block.Id, TestName.Means, f.Spec.Name, f.Levels[l], null, Stat.N, groups[l].Length, inputs),
                     [Stat.Mean] = context.Results.Add(block.Id, TestName.Means, f.Spec.Name, f.Levels[l], null, Stat.Mean, Groups.Mean(groups[l]) + data.Centre, inputs),
                 };
-                outcome.Means.Add((f.Spec.Name, f.Levels[l], values));
+                means.Add((f.Spec.Name, f.Levels[l], values.AsReadOnly()));
                 raw[(f.Spec.Name, f.Levels[l])] = (values[Stat.N], values[Stat.Mean]);
             }
         }
 
+        var adjusted = new List<AdjustedMeanRow>();
         foreach (var term in result.AdjustedMeans.Terms)
         {
             foreach (var m in term.Means)
@@ -202,9 +191,23 @@ public sealed partial class AnovaEvaluator
                 var level = string.Join(" / ", m.Levels);
                 var v = MarginalMeansEvaluator.RecordMean(context, block, term.Term, m, inputs);
                 var rawValues = term.Factors.Count == 1 && raw.TryGetValue((term.Factors[0], m.Levels[0]), out var rv) ? rv : default;
-                analysis.Means.Add(new AdjustedMeanRow(term.Term, level, m, v, rawValues.Mean, rawValues.N));
+                adjusted.Add(new AdjustedMeanRow(term.Term, level, m, v.AsReadOnly(), rawValues.Mean, rawValues.N));
             }
         }
+
+        var analysis = new CovariateAnalysis
+        {
+            Result = result,
+            Input = input,
+            Covariates = [.. columns.Select(c => c.Name)],
+            CovariateMeans = [.. result.Slopes.Select((s, k) => s.Mean + columns[k].Centre)],
+            Blocks = blocks,
+            Treatments = treatments,
+            DroppedCovariate = dropped,
+            Slopes = slopes.AsReadOnly(),
+            Homogeneity = homogeneity.AsReadOnly(),
+            Means = adjusted.AsReadOnly(),
+        };
 
         // Cautions over the treatment groups (the crossing of the treatment factors): blocks are
         // additive, so the cells of blocks x treatments are not groups of this model.
@@ -213,14 +216,32 @@ public sealed partial class AnovaEvaluator
             .OrderBy(g => g.Key, StringComparer.Ordinal)
             .Select(g => (Label: g.Key, Count: g.Count()))
             .ToList();
-        outcome.Cautions = new AnovaCautions(
+        var cautions = new AnovaCautions(
             [.. groupSizes.Where(g => g.Count == 1).Select(g => g.Label)],
             [.. groupSizes.Where(g => g.Count is > 1 and < 5).Select(g => g.Label)],
             groupSizes.Select(g => g.Count).Distinct().Count() > 1 && data.Factors.Count > 1,
             interactions,
             data.DroppedMissing,
             SummaryEvaluator.EmptyGroups(context, block, selected));
-        return outcome;
+        return new AnovaOutcome(block)
+        {
+            Model = model,
+            Data = data,
+            Factors = specs,
+            ResponseName = data.ResponseName,
+            Input = anovaInput,
+            ResponseCentre = data.Centre,
+            Result = fitted,
+            Fit = AnovaFit.Of(fitted),
+            Cells = data.CellTable(),
+            Ancova = analysis,
+            Terms = terms,
+            Residual = residual,
+            Total = total,
+            Means = means.AsReadOnly(),
+            Review = AssumptionReview.Run(fitted, data, anovaInput, analysis),
+            Cautions = cautions,
+        };
     }
 
     /// <summary>The rows of <paramref name="data"/> at <paramref name="positions"/>, with the levels that keep rows (a new selection; the shared one is not changed).</summary>

@@ -106,42 +106,41 @@ public sealed partial class AnovaEvaluator
     /// <summary>Evaluates an anova block of a study with a declared layout (blocks, plots, random or nested factors).</summary>
     private static AnovaOutcome EvaluateDesign(EvaluationContext context, BoundBlock block, AnovaKind.Options options, ModelDescription model, DiagnosticBag diagnostics)
     {
-        var outcome = new AnovaOutcome(block) { Model = model };
+        // What the block hands on when it stops at a mistake: nothing fitted (and, once selected, its rows).
+        var stopped = new AnovaOutcome(block) { Model = model };
         if (StudyModels.ReadsAggregate(block, context.Datasets))
         {
             diagnostics.DesignNeedsRows(block.Location, block.Data!);
-            return outcome;
+            return stopped;
         }
 
         if (model.Transform != TransformKind.None)
         {
             diagnostics.DesignOptionUnavailable(block.Location, "transform", "transform the response in the data (a new column) and name that column as the response");
-            return outcome;
+            return stopped;
         }
 
         if (!model.Interaction)
         {
             diagnostics.DesignOptionUnavailable(block.Location, "interaction: false", "the strata keep every interaction of the treatments");
-            return outcome;
+            return stopped;
         }
 
         var data = context.Select(block, diagnostics);
         if (data is null)
         {
-            return outcome;
+            return stopped;
         }
 
-        outcome.Data = data;
-        outcome.Factors = [.. data.Factors.Select(f => f.Spec)];
-        outcome.ResponseName = data.ResponseName;
-        outcome.ResponseLabel = data.ResponseLabel;
+        IReadOnlyList<FactorSpec> specs = data.Factors.Select(f => f.Spec).ToList().AsReadOnly();
+        stopped = new AnovaOutcome(block) { Model = model, Data = data, Factors = specs, ResponseName = data.ResponseName, ResponseLabel = data.ResponseLabel };
         var factors = model.DesignFactors;
         var labels = data.Factors.Select(f => (IReadOnlyList<string>)[.. f.Codes.Select(c => f.Levels[c])]).ToList();
         var designData = new DesignData(data.Response, labels);
 
         if (!CheckLayoutAgainstData(context, block, model, data, designData, diagnostics))
         {
-            return outcome;
+            return stopped;
         }
 
         var method = DesignMethod.Strata;
@@ -159,13 +158,13 @@ public sealed partial class AnovaEvaluator
             if (!strataOnly || remlIssue is not null)
             {
                 ReportDesignIssue(block, model, remlIssue ?? issue, diagnostics);
-                return outcome;
+                return stopped;
             }
 
             if (options.Fit == "classical")
             {
                 diagnostics.ClassicalNeedsBalance(options.FitLocation ?? block.Location, issue.Message);
-                return outcome;
+                return stopped;
             }
 
             method = DesignMethod.Reml;
@@ -180,22 +179,26 @@ public sealed partial class AnovaEvaluator
         if (method == DesignMethod.Reml && MixedModel.Check(factors, designData) is { } mixedIssue)
         {
             ReportDesignIssue(block, model, mixedIssue, diagnostics);
-            return outcome;
+            return stopped;
         }
 
         var inputs = context.Inputs(block);
         var alpha = context.Header.Alpha;
         var means = DesignMeans(context, block, model, data, inputs);
-        outcome.Design = method == DesignMethod.Strata
+        var design = method == DesignMethod.Strata
             ? FitStrata(context, block, factors, designData, reason, means, inputs, alpha)
             : FitReml(context, block, factors, designData, reason, because, means, inputs);
-        outcome.Cautions = new AnovaCautions([], [], false, true, data.DroppedMissing, SummaryEvaluator.EmptyGroups(context, block, data));
-        if (context.Header.Report.Figures)
+        return new AnovaOutcome(block)
         {
-            outcome.Figures.AddRange(DesignFigures.Of(outcome, outcome.Design, context.Header.Alpha));
-        }
-
-        return outcome;
+            Model = model,
+            Data = data,
+            Factors = specs,
+            ResponseName = data.ResponseName,
+            ResponseLabel = data.ResponseLabel,
+            Design = design,
+            Cautions = new AnovaCautions([], [], false, true, data.DroppedMissing, SummaryEvaluator.EmptyGroups(context, block, data)),
+            Figures = context.Header.Report.Figures ? [.. DesignFigures.Of(data, design, context.Header.Alpha)] : [],
+        };
     }
 
     /// <summary>

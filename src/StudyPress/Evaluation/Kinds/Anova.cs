@@ -62,87 +62,97 @@ public sealed record AnovaCautions(
 /// </summary>
 public sealed class AnovaOutcome(BoundBlock block) : BlockOutcome(block)
 {
-    private AssumptionReview? review;
+    private readonly AssumptionReview? review;
+
+    private readonly string responseLabel = string.Empty;
 
     /// <summary>Which data the numbers come from.</summary>
     public AnovaRoute Route { get; init; } = AnovaRoute.Rows;
 
-    /// <summary>The facts the block's cautions and notes are written from (set once the model is fitted).</summary>
-    public AnovaCautions? Cautions { get; set; }
+    /// <summary>The facts the block's cautions and notes are written from (null when the model was not fitted).</summary>
+    public AnovaCautions? Cautions { get; init; }
 
     /// <summary>Whether the rows were read (residuals, rank tests and figures exist only then).</summary>
     public bool RowsAvailable => Route == AnovaRoute.Rows;
 
     /// <summary>The ANOVA table (both routes); null when the block failed.</summary>
-    public AnovaFit? Fit { get; set; }
+    public AnovaFit? Fit { get; init; }
 
     /// <summary>The fit on the rows, with fitted values and residuals per observation (rows route only).</summary>
-    public AnovaResult? Result { get; set; }
+    public AnovaResult? Result { get; init; }
 
     /// <summary>The model's factors, in the block's order (both routes).</summary>
-    public IReadOnlyList<FactorSpec> Factors { get; set; } = [];
+    public IReadOnlyList<FactorSpec> Factors { get; init; } = [];
 
     /// <summary>The response column's name (both routes).</summary>
-    public string ResponseName { get; set; } = string.Empty;
+    public string ResponseName { get; init; } = string.Empty;
 
     /// <summary>The response as readers see it (label and unit from the header, else the column name).</summary>
-    public string ResponseLabel { get => responseLabel.Length > 0 ? responseLabel : ResponseName; set => responseLabel = value; }
-
-    private string responseLabel = string.Empty;
+    public string ResponseLabel { get => responseLabel.Length > 0 ? responseLabel : ResponseName; init => responseLabel = value; }
 
     /// <summary>The selected rows (rows route only).</summary>
-    public BlockData? Data { get; set; }
+    public BlockData? Data { get; init; }
 
     /// <summary>The model the block states (bound once, before evaluation).</summary>
     public ModelDescription? Model { get; init; }
 
     /// <summary>
     /// The per-cell sufficient statistics: from the database's cells (cells route), or from the
-    /// selected rows (rows route). Set when the model was fitted.
+    /// selected rows (rows route). Present when the model was fitted.
     /// </summary>
-    public CellTable? Cells { get; set; }
+    public CellTable? Cells { get; init; }
 
     /// <summary>The model input: the (transformed) response, centred, and the factors (rows route only).</summary>
-    public AnovaInput? Input { get; set; }
+    public AnovaInput? Input { get; init; }
 
-    public TransformedResponse? Transformed { get; set; }
+    public TransformedResponse? Transformed { get; init; }
 
     /// <summary>Centre subtracted from the (transformed) response before fitting.</summary>
-    public double ResponseCentre { get; set; }
+    public double ResponseCentre { get; init; }
 
-    public List<(AnovaTerm Term, Dictionary<string, ResultValue> Values)> Terms { get; } = [];
+    public IReadOnlyList<(AnovaTerm Term, IReadOnlyDictionary<string, ResultValue> Values)> Terms { get; init; } = [];
 
-    public Dictionary<string, ResultValue> Residual { get; } = new(StringComparer.Ordinal);
+    public IReadOnlyDictionary<string, ResultValue> Residual { get; init; } = NoValues;
 
-    public Dictionary<string, ResultValue> Total { get; } = new(StringComparer.Ordinal);
+    public IReadOnlyDictionary<string, ResultValue> Total { get; init; } = NoValues;
 
-    public List<(string Factor, string Level, Dictionary<string, ResultValue> Values)> Means { get; } = [];
+    public IReadOnlyList<(string Factor, string Level, IReadOnlyDictionary<string, ResultValue> Values)> Means { get; init; } = [];
 
-    public Dictionary<string, ResultValue>? Welch { get; set; }
+    public IReadOnlyDictionary<string, ResultValue>? Welch { get; init; }
 
     /// <summary>Bartlett's test from the cell variances (cells route, one factor).</summary>
-    public Dictionary<string, ResultValue>? Bartlett { get; set; }
+    public IReadOnlyDictionary<string, ResultValue>? Bartlett { get; init; }
 
     /// <summary>The Box–Cox estimate's values (lambda, lambda_low, lambda_high), when that transform was used.</summary>
-    public Dictionary<string, ResultValue> BoxCox { get; } = new(StringComparer.Ordinal);
+    public IReadOnlyDictionary<string, ResultValue> BoxCox { get; init; } = NoValues;
 
-    public Dictionary<string, ResultValue>? Ranks { get; set; }
+    public IReadOnlyDictionary<string, ResultValue>? Ranks { get; init; }
 
     /// <summary>Which automatic rules fired, and on what evidence (the renderer words them).</summary>
-    public List<RuleDecision> Decisions { get; } = [];
+    public IReadOnlyList<RuleDecision> Decisions { get; init; } = [];
 
-    /// <summary>The assumption checks of this model, computed when first needed (rows route only).</summary>
-    public AssumptionReview Review => review ??= RowsAvailable
-        ? AssumptionReview.Run(this)
-        : throw new InvalidOperationException("the assumption checks need the rows, and this anova block ran on cell statistics");
+    /// <summary>
+    /// The assumption checks of this model, computed with the fit on the rows route (plain and
+    /// covariance models; a declared layout has its own checks, <see cref="DesignChecks"/>).
+    /// </summary>
+    public AssumptionReview Review
+    {
+        get => review ?? throw new InvalidOperationException(RowsAvailable
+            ? "the assumption checks need a fit on the rows, and this anova block has none"
+            : "the assumption checks need the rows, and this anova block ran on cell statistics");
+        init => review = value;
+    }
 
-    public bool ReadWelch { get; set; }
+    public bool ReadWelch { get; init; }
 
     /// <summary>The strata or mixed-model fit, when the header declares a layout (then <see cref="Fit"/> and <see cref="Result"/> are null).</summary>
-    public DesignFit? Design { get; set; }
+    public DesignFit? Design { get; init; }
 
     /// <summary>The analysis of covariance, when the block names covariates (then <see cref="Result"/> holds its residuals).</summary>
-    public CovariateAnalysis? Ancova { get; set; }
+    public CovariateAnalysis? Ancova { get; init; }
+
+    /// <summary>No values (a table part the block did not compute).</summary>
+    internal static readonly IReadOnlyDictionary<string, ResultValue> NoValues = new Dictionary<string, ResultValue>(StringComparer.Ordinal).AsReadOnly();
 }
 
 /// <summary>Evaluates <c>anova</c> blocks into values (no HTML, no report text).</summary>
@@ -173,23 +183,30 @@ public sealed partial class AnovaEvaluator : KindEvaluator
             return EvaluateCells(context, block, options, diagnostics);
         }
 
-        var outcome = new AnovaOutcome(block) { Model = model };
         var data = context.Select(block, diagnostics);
         if (data is null)
         {
-            return outcome;
+            return new AnovaOutcome(block) { Model = model };
         }
 
-        outcome.Data = data;
-        outcome.Factors = [.. data.Factors.Select(f => f.Spec)];
-        outcome.ResponseName = data.ResponseName;
-        outcome.ResponseLabel = data.ResponseLabel;
+        // What a block that stops at a mistake hands on: its selection, nothing fitted.
+        AnovaOutcome Stopped(TransformedResponse? transformed = null, double centre = 0) => new(block)
+        {
+            Model = model,
+            Data = data,
+            Factors = [.. data.Factors.Select(f => f.Spec)],
+            ResponseName = data.ResponseName,
+            ResponseLabel = data.ResponseLabel,
+            Transformed = transformed,
+            ResponseCentre = centre,
+        };
+
         foreach (var f in data.Factors)
         {
             if (f.Levels.Count < 2)
             {
                 diagnostics.TooFewGroups(block.FactorsLocation, f.Spec.Name, f.Levels.Count);
-                return outcome;
+                return Stopped();
             }
         }
 
@@ -197,12 +214,13 @@ public sealed partial class AnovaEvaluator : KindEvaluator
         if (cells.All(c => c.Values.Length == 1) && (data.Factors.Count == 1 || model.Interaction))
         {
             diagnostics.NoResidualDf(block.Location);
-            return outcome;
+            return Stopped();
         }
 
         var factors = data.Factors.Select(f => f.ToColumn()).ToList();
         var response = data.Response;
         var centre = data.Centre;
+        TransformedResponse? transformed = null;
         if (model.Transform != TransformKind.None)
         {
             var t = ResponseTransform.Apply(data.Values, model.Transform, factors, model.Interaction, context.Header.Alpha);
@@ -223,15 +241,14 @@ public sealed partial class AnovaEvaluator : KindEvaluator
                     diagnostics.TransformDomain(block.Location, options.TransformName, error.Message);
                 }
 
-                return outcome;
+                return Stopped();
             }
 
-            outcome.Transformed = t.Result;
+            transformed = t.Result;
             centre = Groups.Mean(t.Result!.Values);
             response = [.. t.Result.Values.Select(v => v - centre)];
         }
 
-        outcome.ResponseCentre = centre;
         var input = new AnovaInput(response, factors, model.Interaction, model.SsType, context.Header.Alpha)
         {
             // Exact decimal data give exact sums of squares (one factor, untransformed response).
@@ -248,43 +265,69 @@ public sealed partial class AnovaEvaluator : KindEvaluator
                 diagnostics.DesignProblem(block.FactorsLocation, problem.Message);
             }
 
-            return outcome;
+            return Stopped(transformed, centre);
         }
 
-        outcome.Input = input;
         var result = FactorialAnova.Fit(input);
-        outcome.Result = result;
-        outcome.Fit = AnovaFit.Of(result);
-        outcome.Cells = data.CellTable();
+        var fit = AnovaFit.Of(result);
+        var specs = data.Factors.Select(f => f.Spec).ToList();
         var inputs = context.Inputs(block);
-        AnovaEvaluator.RecordTable(context, block, result.Terms, result.ResidualSumOfSquares, result.ResidualDf, result.ResidualMeanSquare, result.TotalSumOfSquares, result.TotalDf, inputs, outcome.Terms, outcome.Residual, outcome.Total);
+        var (terms, residual, total) = RecordTable(context, block, result.Terms, result.ResidualSumOfSquares, result.ResidualDf, result.ResidualMeanSquare, result.TotalSumOfSquares, result.TotalDf, inputs);
 
-        if (outcome.Transformed?.BoxCox is { } bc)
+        var boxCox = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
+        if (transformed?.BoxCox is { } bc)
         {
-            outcome.BoxCox[Stat.Lambda] = context.Results.Add(block.Id, TestName.BoxCox, null, null, null, Stat.Lambda, bc.Lambda, inputs);
-            outcome.BoxCox[Stat.LambdaLow] = context.Results.Add(block.Id, TestName.BoxCox, null, null, null, Stat.LambdaLow, bc.LambdaLow, inputs);
-            outcome.BoxCox[Stat.LambdaHigh] = context.Results.Add(block.Id, TestName.BoxCox, null, null, null, Stat.LambdaHigh, bc.LambdaHigh, inputs);
+            boxCox[Stat.Lambda] = context.Results.Add(block.Id, TestName.BoxCox, null, null, null, Stat.Lambda, bc.Lambda, inputs);
+            boxCox[Stat.LambdaLow] = context.Results.Add(block.Id, TestName.BoxCox, null, null, null, Stat.LambdaLow, bc.LambdaLow, inputs);
+            boxCox[Stat.LambdaHigh] = context.Results.Add(block.Id, TestName.BoxCox, null, null, null, Stat.LambdaHigh, bc.LambdaHigh, inputs);
         }
 
-        AddMeans(context, block, outcome, inputs);
-        if (data.Factors.Count == 1)
-        {
-            OneFactorChecks(context, block, outcome, options, inputs);
-        }
+        var means = Means(context, block, input, centre, transformed, inputs);
+        var review = AssumptionReview.Run(result, data, input, null);
+        var decisions = new List<RuleDecision>();
+        var (welch, ranks, readWelch) = data.Factors.Count == 1
+            ? OneFactorChecks(context, block, data, input, review, options, decisions, inputs)
+            : (null, null, false);
 
-        AddCautions(context, block, outcome, data, options);
+        var cautions = Cautions(context, block, data, options);
+        var figures = new List<FigurePlan>();
         if (context.Header.Report.Figures)
         {
-            var shape = data.Factors.Count == 1 ? Figures.Means(data, context.Header.Alpha) : Figures.Interaction(outcome);
+            var shape = data.Factors.Count == 1 ? Figures.Means(data, context.Header.Alpha) : Figures.Interaction(input, data);
             if (shape is not null)
             {
-                outcome.Figures.Add(shape);
+                figures.Add(shape);
             }
 
-            outcome.Figures.AddRange(Figures.FDistributions(outcome).Take(data.Factors.Count == 1 ? 1 : 3));
+            figures.AddRange(Figures.FDistributions(fit, specs).Take(data.Factors.Count == 1 ? 1 : 3));
         }
 
-        return outcome;
+        return new AnovaOutcome(block)
+        {
+            Model = model,
+            Data = data,
+            Factors = specs.AsReadOnly(),
+            ResponseName = data.ResponseName,
+            ResponseLabel = data.ResponseLabel,
+            Transformed = transformed,
+            ResponseCentre = centre,
+            Input = input,
+            Result = result,
+            Fit = fit,
+            Cells = data.CellTable(),
+            Terms = terms,
+            Residual = residual,
+            Total = total,
+            BoxCox = boxCox.AsReadOnly(),
+            Means = means.AsReadOnly(),
+            Review = review,
+            Decisions = decisions.AsReadOnly(),
+            Welch = welch,
+            Ranks = ranks,
+            ReadWelch = readWelch,
+            Cautions = cautions,
+            Figures = figures,
+        };
     }
 
     /// <summary>
@@ -292,7 +335,7 @@ public sealed partial class AnovaEvaluator : KindEvaluator
     /// and the (1 − alpha) interval of partial eta²; residual SS, df, MS; total SS, df. Shared by
     /// fits on loaded rows and on database cell summaries, so both write the same vocabulary.
     /// </summary>
-    internal static void RecordTable(
+    internal static (IReadOnlyList<(AnovaTerm Term, IReadOnlyDictionary<string, ResultValue> Values)> Terms, IReadOnlyDictionary<string, ResultValue> Residual, IReadOnlyDictionary<string, ResultValue> Total) RecordTable(
         EvaluationContext context,
         BoundBlock block,
         IReadOnlyList<AnovaTerm> terms,
@@ -301,11 +344,11 @@ public sealed partial class AnovaEvaluator : KindEvaluator
         Quantity msResidual,
         double ssTotal,
         int dfTotal,
-        IReadOnlyList<string> inputs,
-        List<(AnovaTerm Term, Dictionary<string, ResultValue> Values)> termValues,
-        Dictionary<string, ResultValue> residual,
-        Dictionary<string, ResultValue> total)
+        IReadOnlyList<string> inputs)
     {
+        var termValues = new List<(AnovaTerm Term, IReadOnlyDictionary<string, ResultValue> Values)>(terms.Count);
+        var residual = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
+        var total = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
         foreach (var t in terms)
         {
             var values = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
@@ -324,7 +367,7 @@ public sealed partial class AnovaEvaluator : KindEvaluator
             var ci = EffectSizeIntervals.PartialEtaSquared(t.F, t.Df, dfResidual, 1 - context.Header.Alpha);
             Add(Stat.PartialEta2CiLow, ci.PartialEtaSquaredLow);
             Add(Stat.PartialEta2CiHigh, ci.PartialEtaSquaredHigh);
-            termValues.Add((t, values));
+            termValues.Add((t, values.AsReadOnly()));
         }
 
         residual[Stat.Ss] = context.Results.Add(block.Id, TestName.Anova, "residual", null, null, Stat.Ss, ssResidual, inputs);
@@ -332,6 +375,7 @@ public sealed partial class AnovaEvaluator : KindEvaluator
         residual[Stat.Ms] = context.Results.Add(block.Id, TestName.Anova, "residual", null, null, Stat.Ms, msResidual, inputs);
         total[Stat.Ss] = context.Results.Add(block.Id, TestName.Anova, "total", null, null, Stat.Ss, ssTotal, inputs);
         total[Stat.Df] = context.Results.Add(block.Id, TestName.Anova, "total", null, null, Stat.Df, dfTotal, inputs);
+        return (termValues.AsReadOnly(), residual.AsReadOnly(), total.AsReadOnly());
     }
 
     private static string DataDisplay(EvaluationContext context, BlockData data) =>
@@ -344,9 +388,10 @@ public sealed partial class AnovaEvaluator : KindEvaluator
         _ => "positive",
     };
 
-    private static void AddMeans(EvaluationContext context, BoundBlock block, AnovaOutcome outcome, IReadOnlyList<string> inputs)
+    private static List<(string Factor, string Level, IReadOnlyDictionary<string, ResultValue> Values)> Means(EvaluationContext context, BoundBlock block, AnovaInput input, double centre, TransformedResponse? transformed, IReadOnlyList<string> inputs)
     {
-        var means = AnovaMeans.Compute(outcome.Input!);
+        var rows = new List<(string Factor, string Level, IReadOnlyDictionary<string, ResultValue> Values)>();
+        var means = AnovaMeans.Compute(input);
         foreach (var fm in means.Factors)
         {
             foreach (var lm in fm.Levels)
@@ -354,84 +399,91 @@ public sealed partial class AnovaEvaluator : KindEvaluator
                 var values = new Dictionary<string, ResultValue>(StringComparer.Ordinal)
                 {
                     [Stat.N] = context.Results.Add(block.Id, TestName.Means, fm.Factor, lm.Level, null, Stat.N, lm.Count, inputs),
-                    [Stat.Mean] = context.Results.Add(block.Id, TestName.Means, fm.Factor, lm.Level, null, Stat.Mean, Back(outcome, lm.RawMean), inputs),
+                    [Stat.Mean] = context.Results.Add(block.Id, TestName.Means, fm.Factor, lm.Level, null, Stat.Mean, Back(lm.RawMean, centre, transformed), inputs),
                 };
-                if (outcome.Input!.Factors.Count > 1)
+                if (input.Factors.Count > 1)
                 {
-                    values[Stat.LsMean] = context.Results.Add(block.Id, TestName.Means, fm.Factor, lm.Level, null, Stat.LsMean, Back(outcome, lm.LeastSquaresMean), inputs);
+                    values[Stat.LsMean] = context.Results.Add(block.Id, TestName.Means, fm.Factor, lm.Level, null, Stat.LsMean, Back(lm.LeastSquaresMean, centre, transformed), inputs);
                 }
 
-                outcome.Means.Add((fm.Factor, lm.Level, values));
+                rows.Add((fm.Factor, lm.Level, values.AsReadOnly()));
             }
         }
+
+        return rows;
     }
 
     /// <summary>A mean on the model scale (centred), back on the response's own scale.</summary>
-    private static Quantity Back(AnovaOutcome outcome, Quantity centredMean)
+    private static Quantity Back(Quantity centredMean, double centre, TransformedResponse? transformed)
     {
         if (!centredMean.IsDefined)
         {
             return centredMean;
         }
 
-        var m = centredMean.Value + outcome.ResponseCentre;
-        return outcome.Transformed is { } t ? ResponseTransform.BackTransformMean(m, t) : Quantity.Of(m);
+        var m = centredMean.Value + centre;
+        return transformed is { } t ? ResponseTransform.BackTransformMean(m, t) : Quantity.Of(m);
     }
 
-    private static void OneFactorChecks(EvaluationContext context, BoundBlock block, AnovaOutcome outcome, AnovaKind.Options options, IReadOnlyList<string> inputs)
+    /// <summary>Welch's F and the rank test of one factor, by the block's <c>welch</c> choice and the review; the rules' decisions go to <paramref name="decisions"/>.</summary>
+    private static (IReadOnlyDictionary<string, ResultValue>? Welch, IReadOnlyDictionary<string, ResultValue>? Ranks, bool ReadWelch) OneFactorChecks(
+        EvaluationContext context, BoundBlock block, BlockData data, AnovaInput input, AssumptionReview review, AnovaKind.Options options, List<RuleDecision> decisions, IReadOnlyList<string> inputs)
     {
-        var factor = outcome.Data!.Factors[0];
-        var groups = factor.Split(outcome.Input!.Response);
+        var factor = data.Factors[0];
+        var groups = factor.Split(input.Response);
         var showWelch = options.Welch == "yes";
+        var readWelch = false;
+        IReadOnlyDictionary<string, ResultValue>? ranks = null;
         if (options.Welch == "yes")
         {
-            outcome.Decisions.Add(new RuleDecision(DecisionRule.WelchRequested));
+            decisions.Add(new RuleDecision(DecisionRule.WelchRequested));
         }
         else if (options.Welch == "auto")
         {
-            var bf = outcome.Review.BrownForsythe;
-            if (outcome.Review.UnequalVariances)
+            var bf = review.BrownForsythe;
+            if (review.UnequalVariances)
             {
                 showWelch = true;
-                outcome.ReadWelch = true;
-                outcome.Decisions.Add(new RuleDecision(DecisionRule.WelchFired) { P = bf.P });
+                readWelch = true;
+                decisions.Add(new RuleDecision(DecisionRule.WelchFired) { P = bf.P });
             }
             else
             {
-                outcome.Decisions.Add(new RuleDecision(bf.P.IsDefined ? DecisionRule.WelchNotFired : DecisionRule.WelchUnchecked) { P = bf.P });
+                decisions.Add(new RuleDecision(bf.P.IsDefined ? DecisionRule.WelchNotFired : DecisionRule.WelchUnchecked) { P = bf.P });
             }
 
-            if (outcome.Review.WantsRankTest)
+            if (review.WantsRankTest)
             {
                 var kw = KruskalWallis.Test(groups);
-                outcome.Ranks = new Dictionary<string, ResultValue>(StringComparer.Ordinal)
+                ranks = new Dictionary<string, ResultValue>(StringComparer.Ordinal)
                 {
                     [Stat.H] = context.Results.Add(block.Id, TestName.KruskalWallis, factor.Spec.Name, null, null, Stat.H, kw.H, inputs),
                     [Stat.Df] = context.Results.Add(block.Id, TestName.KruskalWallis, factor.Spec.Name, null, null, Stat.Df, kw.Df, inputs),
                     [Stat.P] = context.Results.Add(block.Id, TestName.KruskalWallis, factor.Spec.Name, null, null, Stat.P, kw.P, inputs),
-                };
-                outcome.Decisions.Add(new RuleDecision(DecisionRule.RankTestAdded) { P = outcome.Review.Normality.P, SmallestGroup = outcome.Review.SmallestGroup });
+                }.AsReadOnly();
+                decisions.Add(new RuleDecision(DecisionRule.RankTestAdded) { P = review.Normality.P, SmallestGroup = review.SmallestGroup });
             }
         }
 
-        if (showWelch)
+        if (!showWelch)
         {
-            var w = WelchAnova.Test(groups);
-            var values = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
-            void AddW(string stat, Quantity q) => values[stat] = context.Results.Add(block.Id, TestName.Welch, factor.Spec.Name, null, null, stat, q, inputs);
-            AddW(Stat.F, w.F);
-            AddW(Stat.Df1, Quantity.Of(w.Df1));
-            AddW(Stat.Df2, w.Df2);
-            AddW(Stat.P, w.P);
-            outcome.Welch = values;
+            return (null, ranks, readWelch);
         }
+
+        var w = WelchAnova.Test(groups);
+        var values = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
+        void AddW(string stat, Quantity q) => values[stat] = context.Results.Add(block.Id, TestName.Welch, factor.Spec.Name, null, null, stat, q, inputs);
+        AddW(Stat.F, w.F);
+        AddW(Stat.Df1, Quantity.Of(w.Df1));
+        AddW(Stat.Df2, w.Df2);
+        AddW(Stat.P, w.P);
+        return (values.AsReadOnly(), ranks, readWelch);
     }
 
-
-    private static void AddCautions(EvaluationContext context, BoundBlock block, AnovaOutcome outcome, BlockData data, AnovaKind.Options options)
+    private static AnovaCautions Cautions(EvaluationContext context, BoundBlock block, BlockData data, AnovaKind.Options options)
     {
         var cells = data.Cells();
-        outcome.Cautions = new AnovaCautions(
+        return new AnovaCautions(
             [.. cells.Where(c => c.Values.Length == 1).Select(c => c.Label)],
             [.. cells.Where(c => c.Values.Length is > 1 and < 5).Select(c => c.Label)],
             cells.Select(c => c.Values.Length).Distinct().Count() > 1 && data.Factors.Count > 1,

@@ -55,23 +55,27 @@ public sealed class AssumptionReview
     /// <summary>Why normality is not checked when the model fits the data exactly.</summary>
     public const string ZeroResiduals = "every group's values are equal, so the residuals are all exactly zero and W = 0/0 is not defined";
 
-    public static AssumptionReview Run(AnovaOutcome anova)
+    /// <summary>
+    /// The checks of a model fitted on the rows: <paramref name="result"/> (its residuals) on the
+    /// selection <paramref name="data"/> with model input <paramref name="input"/>; for an analysis
+    /// of covariance, <paramref name="ancova"/>. Run with the fit, before the outcome is built.
+    /// </summary>
+    public static AssumptionReview Run(AnovaResult result, BlockData data, AnovaInput input, CovariateAnalysis? ancova)
     {
-        var result = anova.Result!;
-        var cells = anova.Data!.Cells();
+        var cells = data.Cells();
         // An analysis of covariance: the variance checks compare the groups' residuals from the
         // covariance model (the spread around each group's regression line), not the raw values.
-        var response = anova.Ancova is null ? anova.Input!.Response : result.Residuals;
-        if (anova.Ancova is { Blocks.Count: > 0 } blocked)
+        var response = ancova is null ? input.Response : result.Residuals;
+        if (ancova is { Blocks.Count: > 0 } blocked)
         {
             // Additive blocks: the groups are the treatment cells (a block x treatment cell holds one plot).
-            return Run(anova, result, TreatmentGroups(anova, blocked, result.Residuals));
+            return Run(data, input, ancova, result, TreatmentGroups(data, blocked, result.Residuals));
         }
 
         var groups = new List<double[]>(cells.Count);
         // The cells hold the block's centred response already: when the model's response is that
         // array (no transform), they are the groups, with no copy.
-        var shared = ReferenceEquals(response, anova.Data.Response);
+        var shared = ReferenceEquals(response, data.Response);
         foreach (var c in cells)
         {
             if (shared)
@@ -89,13 +93,12 @@ public sealed class AssumptionReview
             groups.Add(g);
         }
 
-        return Run(anova, result, groups);
+        return Run(data, input, ancova, result, groups);
     }
 
     /// <summary>The residuals grouped by the crossing of the treatment factors (blocks left out), in ordinal order of the cell labels.</summary>
-    private static List<double[]> TreatmentGroups(AnovaOutcome anova, CovariateAnalysis ancova, double[] residuals)
+    private static List<double[]> TreatmentGroups(BlockData data, CovariateAnalysis ancova, double[] residuals)
     {
-        var data = anova.Data!;
         var treatments = data.Factors.Where(f => ancova.Treatments.Contains(f.Spec.Name, StringComparer.Ordinal)).ToList();
         return [.. Enumerable.Range(0, residuals.Length)
             .GroupBy(i => string.Join(" / ", treatments.Select(f => f.Levels[f.Codes[i]])), StringComparer.Ordinal)
@@ -103,14 +106,14 @@ public sealed class AssumptionReview
             .Select(g => g.Select(i => residuals[i]).ToArray())];
     }
 
-    private static AssumptionReview Run(AnovaOutcome anova, AnovaResult result, List<double[]> groups)
+    private static AssumptionReview Run(BlockData data, AnovaInput input, CovariateAnalysis? ancova, AnovaResult result, List<double[]> groups)
     {
         var alpha = result.Alpha;
 
         // With every cell constant the cell-means model fits exactly: the residuals are exactly
         // zero, whatever rounding leaves in their floating-point values, and W is 0/0.
-        var exactFit = anova.Ancova is null
-            ? (anova.Input!.Factors.Count == 1 || anova.Input.Interactions) && groups.All(g => Groups.IsConstant(g))
+        var exactFit = ancova is null
+            ? (input.Factors.Count == 1 || input.Interactions) && groups.All(g => Groups.IsConstant(g))
             : result.Residuals.All(r => r == 0);
         var normality = exactFit
             ? new ShapiroWilkResult(result.Residuals.Length, Quantity.Undefined(ZeroResiduals), Quantity.Undefined(ZeroResiduals), [])
@@ -133,8 +136,8 @@ public sealed class AssumptionReview
         DurbinWatsonResult? dw = null;
         IndependenceGap? skipped = null;
         var missing = 0;
-        var order = anova.Data!.Dataset.Order;
-        if (anova.Ancova is not null)
+        var order = data.Dataset.Order;
+        if (ancova is not null)
         {
             skipped = IndependenceGap.Covariates;
         }
@@ -145,8 +148,8 @@ public sealed class AssumptionReview
         else
         {
             // Null: every observation has a run order and they are already in it.
-            var positions = RunOrder(order, anova.Data.Rows);
-            var ordered = positions?.Length ?? anova.Data.Rows.Length;
+            var positions = RunOrder(order, data.Rows);
+            var ordered = positions?.Length ?? data.Rows.Length;
             if (ordered < 3)
             {
                 skipped = IndependenceGap.TooFewOrdered;
@@ -154,7 +157,7 @@ public sealed class AssumptionReview
             else
             {
                 // The design in structured form (a coding row per cell), in run order.
-                var (cellRows, cellOf) = AnovaDesign.CellModelMatrix(anova.Input!);
+                var (cellRows, cellOf) = AnovaDesign.CellModelMatrix(input);
                 var sortedCells = cellOf;
                 var sortedResiduals = result.Residuals;
                 if (positions is not null)
@@ -169,7 +172,7 @@ public sealed class AssumptionReview
                 }
 
                 dw = DurbinWatson.Test(sortedResiduals, cellRows, sortedCells);
-                missing = anova.Data.Rows.Length - ordered;
+                missing = data.Rows.Length - ordered;
                 if (missing > 0)
                 {
                     skipped = IndependenceGap.SomeWithoutOrder;

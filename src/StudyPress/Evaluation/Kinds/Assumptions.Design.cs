@@ -44,7 +44,6 @@ public sealed partial class AssumptionsEvaluator
     /// </summary>
     private static AssumptionsOutcome EvaluateDesign(EvaluationContext context, BoundBlock block, AnovaOutcome anova, DesignFit design)
     {
-        var outcome = new AssumptionsOutcome(block) { Anova = anova };
         var inputs = context.Inputs(block);
         var checks = new List<StratumCheck>();
         void Check(string engineTerm, StratumUnit unit, double[] values)
@@ -76,7 +75,6 @@ public sealed partial class AssumptionsEvaluator
             }
         }
 
-        outcome.Design = new DesignChecks(design.Method, checks);
-        return outcome;
+        return new AssumptionsOutcome(block) { Anova = anova, Design = new DesignChecks(design.Method, checks.AsReadOnly()) };
     }
 }

@@ -9,18 +9,23 @@ using StudyPress.Statistics;
 
 namespace StudyPress.Evaluation.Kinds;
 
+/// <summary>An assumptions block evaluated: the checks of a plain or covariance model (<see cref="Review"/>), or of a design's strata (<see cref="Design"/>).</summary>
 public sealed class AssumptionsOutcome(BoundBlock block) : BlockOutcome(block)
 {
-    public AssumptionReview? Review { get; set; }
+    public AssumptionReview? Review { get; init; }
 
-    public AnovaOutcome? Anova { get; set; }
+    public AnovaOutcome? Anova { get; init; }
 
-    public Dictionary<string, Dictionary<string, ResultValue>> Values { get; } = new(StringComparer.Ordinal);
+    /// <summary>The checks' manifest values by test, then statistic, in the order the block records them.</summary>
+    public IReadOnlyDictionary<string, IReadOnlyDictionary<string, ResultValue>> Values { get; init; } = NoChecks;
 
-    public List<(int Line, Dictionary<string, ResultValue> Values)> Flagged { get; } = [];
+    /// <summary>The observations flagged as outliers: their data line and values.</summary>
+    public IReadOnlyList<(int Line, IReadOnlyDictionary<string, ResultValue> Values)> Flagged { get; init; } = [];
 
     /// <summary>The per-stratum checks of a design anova (then <see cref="Review"/> is null).</summary>
-    public DesignChecks? Design { get; set; }
+    public DesignChecks? Design { get; init; }
+
+    private static readonly IReadOnlyDictionary<string, IReadOnlyDictionary<string, ResultValue>> NoChecks = new Dictionary<string, IReadOnlyDictionary<string, ResultValue>>(StringComparer.Ordinal).AsReadOnly();
 }
 
 /// <summary>Evaluates <c>assumptions</c> blocks into values (no HTML, no report text).</summary>
@@ -39,20 +44,24 @@ public sealed partial class AssumptionsEvaluator : KindEvaluator
             return EvaluateDesign(context, block, designAnova, design);
         }
 
-        var outcome = new AssumptionsOutcome(block);
         if (context.Outcomes.GetValueOrDefault(block.Of!.Id) is not AnovaOutcome { Result: not null } anova)
         {
-            return outcome;
+            return new AssumptionsOutcome(block);
         }
 
-        outcome.Anova = anova;
         var review = anova.Review;
-        outcome.Review = review;
         var inputs = context.Inputs(block);
         var term = anova.Ancova is { Blocks.Count: > 0 } blocked
             ? string.Join(":", blocked.Treatments)
             : string.Join(":", anova.Data!.Factors.Select(f => f.Spec.Name));
-        Dictionary<string, ResultValue> Group(string test) => outcome.Values[test] = new(StringComparer.Ordinal);
+        var tests = new Dictionary<string, IReadOnlyDictionary<string, ResultValue>>(StringComparer.Ordinal);
+        Dictionary<string, ResultValue> Group(string test)
+        {
+            var g = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
+            tests[test] = g.AsReadOnly();
+            return g;
+        }
+
         void Add(Dictionary<string, ResultValue> g, string test, string t, string stat, Quantity q) => g[stat] = context.Results.Add(block.Id, test, t, null, null, stat, q, inputs);
 
         var sw = Group(TestName.ShapiroWilk);
@@ -82,23 +91,28 @@ public sealed partial class AssumptionsEvaluator : KindEvaluator
         var largest = review.Outliers.Largest;
         Add(ol, "outliers", "residual", "max_abs_t", largest is null ? Quantity.Undefined(review.Outliers.Reason ?? "no studentized residual is defined") : Quantity.Of(Math.Abs(largest.T.Value)));
         Add(ol, "outliers", "residual", "p_bonferroni", largest is null ? Quantity.Undefined(review.Outliers.Reason ?? "no studentized residual is defined") : largest.BonferroniP);
+        var flagged = new List<(int Line, IReadOnlyDictionary<string, ResultValue> Values)>(review.Outliers.Flagged.Count);
         foreach (var index in review.Outliers.Flagged)
         {
             var r = review.Outliers.Residuals[index];
             var line = anova.Data!.Dataset.Lines[anova.Data.Rows[index]];
             var level = "line " + line.ToString(CultureInfo.InvariantCulture);
-            outcome.Flagged.Add((line, new Dictionary<string, ResultValue>(StringComparer.Ordinal)
+            flagged.Add((line, new Dictionary<string, ResultValue>(StringComparer.Ordinal)
             {
                 [Stat.T] = context.Results.Add(block.Id, TestName.Outliers, "residual", level, null, Stat.T, r.T, inputs),
                 [Stat.PBonferroni] = context.Results.Add(block.Id, TestName.Outliers, "residual", level, null, Stat.PBonferroni, r.BonferroniP, inputs),
-            }));
+            }.AsReadOnly()));
         }
 
-        if (context.Header.Report.Figures)
+        return new AssumptionsOutcome(block)
         {
-            outcome.Figures.AddRange(new[] { Figures.Qq(context, anova), Figures.Histogram(context, anova), Figures.ResidualsFitted(anova) }.OfType<FigurePlan>());
-        }
-
-        return outcome;
+            Anova = anova,
+            Review = review,
+            Values = tests.AsReadOnly(),
+            Flagged = flagged.AsReadOnly(),
+            Figures = context.Header.Report.Figures
+                ? [.. new[] { Figures.Qq(context, anova), Figures.Histogram(context, anova), Figures.ResidualsFitted(anova) }.OfType<FigurePlan>()]
+                : [],
+        };
     }
 }

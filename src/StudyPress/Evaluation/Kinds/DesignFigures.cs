@@ -11,9 +11,8 @@ namespace StudyPress.Evaluation.Kinds;
 /// </summary>
 internal static class DesignFigures
 {
-    public static IEnumerable<FigurePlan> Of(AnovaOutcome anova, DesignFit design, double alpha)
+    public static IEnumerable<FigurePlan> Of(BlockData data, DesignFit design, double alpha)
     {
-        var data = anova.Data!;
         var treatments = data.Factors.Where(f => f.Spec.Layout.Role == FactorRole.Treatment).ToList();
         if (design.Strata is { } strata)
         {

@@ -189,16 +189,19 @@ public static class Figures
     }
 
     /// <summary>Cell means of the first two factors, one line per level of the second factor.</summary>
-    public static FigurePlan? Interaction(AnovaOutcome anova, string? caption = null)
+    public static FigurePlan? Interaction(AnovaOutcome anova, string? caption = null) => Interaction(anova.Input, anova.Data, caption);
+
+    /// <summary>Cell means of the first two factors of a model fitted on <paramref name="data"/> with <paramref name="input"/> (null: none).</summary>
+    internal static FigurePlan? Interaction(Statistics.Anova.AnovaInput? input, BlockData? data, string? caption = null)
     {
-        if (anova.Input is null || anova.Input.Factors.Count < 2)
+        if (input is null || input.Factors.Count < 2)
         {
             return null;
         }
 
-        var a = anova.Data!.Factors[0];
-        var b = anova.Data.Factors[1];
-        return Interaction(anova.Data, a, b) with { UserCaption = caption };
+        var a = data!.Factors[0];
+        var b = data.Factors[1];
+        return Interaction(data, a, b) with { UserCaption = caption };
     }
 
     /// <summary>Observed means over the crossing of two of the block's factors (averaging over any further factors).</summary>
@@ -246,10 +249,13 @@ public static class Figures
         return new ResidualsFittedFigure(fitted, residuals, n, anova.Transformed is not null) { UserCaption = caption };
     }
 
-    public static IEnumerable<FigurePlan> FDistributions(AnovaOutcome anova, string? caption = null)
+    public static IEnumerable<FigurePlan> FDistributions(AnovaOutcome anova, string? caption = null) => FDistributions(anova.Fit, anova.Factors, caption);
+
+    /// <summary>Each term's F distribution of the table <paramref name="table"/> (null: none), its factors named by <paramref name="factors"/>.</summary>
+    internal static IEnumerable<FigurePlan> FDistributions(AnovaFit? table, IReadOnlyList<Binding.FactorSpec> factors, string? caption = null)
     {
         // From the table alone, so on either route (rows or cell statistics).
-        if (anova.Fit is not { } fit)
+        if (table is not { } fit)
         {
             yield break;
         }
@@ -262,7 +268,7 @@ public static class Figures
             }
 
             // A covariate's row (analysis of covariance) is named by its column.
-            IReadOnlyList<string> name = [.. t.Factors.Select(n => anova.Factors.FirstOrDefault(f => f.Name == n)?.Display ?? n)];
+            IReadOnlyList<string> name = [.. t.Factors.Select(n => factors.FirstOrDefault(f => f.Name == n)?.Display ?? n)];
             yield return new FDistributionFigure(t.Df, fit.ResidualDf, t.F.Value, fit.Alpha, name) { Part = string.Join("-", t.Factors), UserCaption = caption };
         }
     }
@@ -288,22 +294,26 @@ public static class Figures
         return new IntervalsFigure(rows, alpha, family) { UserCaption = caption };
     }
 
-    public static FigurePlan? PowerCurve(PowerOutcome power, string? caption = null)
+    public static FigurePlan? PowerCurve(PowerOutcome power, string? caption = null) =>
+        PowerCurve(power.Groups, power.Effect, power.Alpha, power.Target, power.Values, power.Required, caption);
+
+    /// <summary>The power curve of <paramref name="groups"/> groups at effect <paramref name="effect"/>, marking the required n (<paramref name="required"/>) or else the planned one (<paramref name="values"/>).</summary>
+    internal static FigurePlan? PowerCurve(int groups, double effect, double alpha, double? target, IReadOnlyDictionary<string, ResultValue> values, IReadOnlyDictionary<string, ResultValue> required, string? caption = null)
     {
-        if (power.Groups < 2 || power.Effect <= 0)
+        if (groups < 2 || effect <= 0)
         {
             return null;
         }
 
-        var reference = power.Required.TryGetValue(Stat.NPerGroup, out var need) && need.Value.IsDefined ? (int)need.Value.Value : 0;
-        var planned = power.Values.TryGetValue(Stat.NPerGroup, out var n) ? (int)n.Value.Value : 0;
+        var reference = required.TryGetValue(Stat.NPerGroup, out var need) && need.Value.IsDefined ? (int)need.Value.Value : 0;
+        var planned = values.TryGetValue(Stat.NPerGroup, out var n) ? (int)n.Value.Value : 0;
         var top = Math.Max(10, (int)(1.5 * Math.Max(reference, planned)) + 2);
         top = Math.Min(top, 5000);
         var step = Math.Max(1, top / 60);
         var points = new List<PowerPoint>();
         for (var k = 2; k <= top; k += step)
         {
-            var p = AnovaPower.Power(power.Effect, power.Groups, k, power.Alpha);
+            var p = AnovaPower.Power(effect, groups, k, alpha);
             if (p.IsDefined)
             {
                 points.Add(new PowerPoint(k, p.Value));
@@ -311,16 +321,16 @@ public static class Figures
         }
 
         PowerPoint? marked = null;
-        if (reference > 0 && power.Required[Stat.Power].Value.IsDefined)
+        if (reference > 0 && required[Stat.Power].Value.IsDefined)
         {
-            marked = new PowerPoint(reference, power.Required[Stat.Power].Value.Value);
+            marked = new PowerPoint(reference, required[Stat.Power].Value.Value);
         }
-        else if (planned > 0 && power.Values[Stat.Power].Value.IsDefined)
+        else if (planned > 0 && values[Stat.Power].Value.IsDefined)
         {
-            marked = new PowerPoint(planned, power.Values[Stat.Power].Value.Value);
+            marked = new PowerPoint(planned, values[Stat.Power].Value.Value);
         }
 
-        return new PowerCurveFigure(points, power.Target ?? 0.8, marked, power.Groups, power.Effect, power.Alpha) { UserCaption = caption };
+        return new PowerCurveFigure(points, target ?? 0.8, marked, groups, effect, alpha) { UserCaption = caption };
     }
 
     /// <summary>An equivalence block's (1 − 2α) intervals against its shaded margin band and the zero line.</summary>

@@ -46,8 +46,11 @@ public class BlockOutcome(BoundBlock block)
 {
     public BoundBlock Block { get; } = block;
 
-    /// <summary>Charts to show under the block: what each shows (Rendering draws them, with their words).</summary>
-    public List<FigurePlan> Figures { get; } = [];
+    /// <summary>
+    /// Charts to show under the block: what each shows (Rendering draws them, with their words).
+    /// Given at construction (init); outcomes not yet immutable still add to it while they are evaluated.
+    /// </summary>
+    public List<FigurePlan> Figures { get; init; } = [];
 }
 
 

@@ -17,39 +17,42 @@ public sealed class MethodsSection
     /// <summary>Whether the anova block itself is covered (not only blocks that work on it).</summary>
     public required bool Covered { get; init; }
 
-    public AssumptionsOutcome? Checks { get; set; }
+    public AssumptionsOutcome? Checks { get; init; }
 
-    public List<PostHocOutcome> PostHocs { get; } = [];
+    public IReadOnlyList<PostHocOutcome> PostHocs { get; init; } = [];
 
-    public List<PowerOutcome> Powers { get; } = [];
+    public IReadOnlyList<PowerOutcome> Powers { get; init; } = [];
 
     /// <summary>Cell label → traced size, in cell order.</summary>
-    public List<(string Label, ResultValue N)> Cells { get; } = [];
+    public IReadOnlyList<(string Label, ResultValue N)> Cells { get; init; } = [];
 
-    public ResultValue? Total { get; set; }
+    public ResultValue? Total { get; init; }
 
-    public ResultValue? Dropped { get; set; }
+    public ResultValue? Dropped { get; init; }
 
     /// <summary>Review values by test then statistic: from an assumptions block of the anova, else recorded here.</summary>
-    public Dictionary<string, Dictionary<string, ResultValue>> Review { get; } = new(StringComparer.Ordinal);
+    public IReadOnlyDictionary<string, IReadOnlyDictionary<string, ResultValue>> Review { get; init; } = NoReview;
+
+    private static readonly IReadOnlyDictionary<string, IReadOnlyDictionary<string, ResultValue>> NoReview = new Dictionary<string, IReadOnlyDictionary<string, ResultValue>>(StringComparer.Ordinal).AsReadOnly();
 }
 
+/// <summary>A methods block evaluated: the anova sections and the other covered blocks, in line order, and the inputs they read.</summary>
 public sealed class MethodsOutcome(BoundBlock block) : BlockOutcome(block)
 {
-    public List<MethodsSection> Sections { get; } = [];
+    public IReadOnlyList<MethodsSection> Sections { get; init; } = [];
 
-    public List<SummaryOutcome> Summaries { get; } = [];
+    public IReadOnlyList<SummaryOutcome> Summaries { get; init; } = [];
 
-    public List<RanksOutcome> Ranks { get; } = [];
+    public IReadOnlyList<RanksOutcome> Ranks { get; init; } = [];
 
     /// <summary>Power blocks not tied to an anova block.</summary>
-    public List<PowerOutcome> Powers { get; } = [];
+    public IReadOnlyList<PowerOutcome> Powers { get; init; } = [];
 
     /// <summary>Covered blocks of the other kinds (their renderers contribute their own sentences), in line order.</summary>
-    public List<BlockOutcome> Others { get; } = [];
+    public IReadOnlyList<BlockOutcome> Others { get; init; } = [];
 
     /// <summary>Datasets the covered blocks read, with traced row counts.</summary>
-    public List<(MethodsLoadedDatasetView Dataset, ResultValue Rows, ResultValue RowsUsed)> Inputs { get; } = [];
+    public IReadOnlyList<(MethodsLoadedDatasetView Dataset, ResultValue Rows, ResultValue RowsUsed)> Inputs { get; init; } = [];
 
     public double Alpha { get; init; }
 }
@@ -69,7 +72,10 @@ public sealed class MethodsEvaluator : KindEvaluator
     public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
     {
         var options = block.OptionsOf<MethodsKind.Options>();
-        var outcome = new MethodsOutcome(block) { Alpha = context.Header.Alpha };
+        var powers = new List<PowerOutcome>();
+        var summaries = new List<SummaryOutcome>();
+        var ranks = new List<RanksOutcome>();
+        var others = new List<BlockOutcome>();
         var describable = context.Outcomes.Values
             .Where(o => o.Block.Kind is not MethodsKind and not FigureKind)
             .OrderBy(o => o.Block.Location.Line)
@@ -102,8 +108,8 @@ public sealed class MethodsEvaluator : KindEvaluator
         }
 
         // Anova sections: covered anova blocks, and the anova blocks that covered checks and comparisons work on.
-        var sections = new Dictionary<string, MethodsSection>(StringComparer.Ordinal);
-        MethodsSection? SectionFor(string anovaId, bool isCovered)
+        var sections = new Dictionary<string, SectionParts>(StringComparer.Ordinal);
+        SectionParts? SectionFor(string anovaId, bool isCovered)
         {
             if (context.Outcomes.GetValueOrDefault(anovaId) is not AnovaOutcome { Fit: not null, Ancova: null } anova)
             {
@@ -112,7 +118,7 @@ public sealed class MethodsEvaluator : KindEvaluator
 
             if (!sections.TryGetValue(anovaId, out var s))
             {
-                s = new MethodsSection { Anova = anova, Covered = isCovered };
+                s = new SectionParts(anova, isCovered);
                 sections[anovaId] = s;
             }
 
@@ -141,37 +147,38 @@ public sealed class MethodsEvaluator : KindEvaluator
                     }
                     else
                     {
-                        outcome.Powers.Add(w);
+                        powers.Add(w);
                     }
 
                     break;
                 case SummaryOutcome sum when sum.Groups.Count > 0:
-                    outcome.Summaries.Add(sum);
+                    summaries.Add(sum);
                     break;
                 case RanksOutcome r when r.Test is not null:
-                    outcome.Ranks.Add(r);
+                    ranks.Add(r);
                     break;
                 case PostHocOutcome { Adjusted: true } adjusted when adjusted.Families.Count > 0:
-                    outcome.Others.Add(adjusted);
+                    others.Add(adjusted);
                     break;
                 case AnovaOutcome { Ancova: not null } ancova:
                     // Covariates: the anova renderer writes its own sentences (with its checks and comparisons).
-                    outcome.Others.Add(ancova);
+                    others.Add(ancova);
                     break;
                 case AnovaOutcome { Design: not null } design:
                     // A declared layout: the anova renderer writes its own sentences.
-                    outcome.Others.Add(design);
+                    others.Add(design);
                     break;
                 case AnovaOutcome or AssumptionsOutcome or PostHocOutcome or PowerOutcome or SummaryOutcome or RanksOutcome:
                     break;
                 case var other when other.GetType() != typeof(BlockOutcome):
                     // A block that failed has a plain outcome and nothing to say.
-                    outcome.Others.Add(other);
+                    others.Add(other);
                     break;
             }
         }
 
         var id = block.Id;
+        var described = new List<MethodsSection>(sections.Count);
         foreach (var s in sections.Values.OrderBy(s => s.Anova.Block.Location.Line))
         {
             var a = s.Anova;
@@ -179,17 +186,27 @@ public sealed class MethodsEvaluator : KindEvaluator
 
             // The cell table: the rows' cells or the database's, the same view on either route.
             var table = a.Cells!;
+            var cells = new List<(string Label, ResultValue N)>(table.Cells.Count);
             foreach (var cell in table.Cells)
             {
                 var label = table.Label(cell);
-                s.Cells.Add((label, context.Results.Add(id, TestName.Design, a.Block.Id, label, null, Stat.N, cell.Count, inputs)));
+                cells.Add((label, context.Results.Add(id, TestName.Design, a.Block.Id, label, null, Stat.N, cell.Count, inputs)));
             }
 
-            s.Total = context.Results.Add(id, TestName.Design, a.Block.Id, null, null, Stat.NTotal, table.Count, inputs);
-            s.Dropped = context.Results.Add(id, TestName.Design, a.Block.Id, null, null, Stat.DroppedMissing, table.Dropped, inputs);
-
-            ReviewValues(context, id, s, inputs);
-            outcome.Sections.Add(s);
+            var total = context.Results.Add(id, TestName.Design, a.Block.Id, null, null, Stat.NTotal, table.Count, inputs);
+            var dropped = context.Results.Add(id, TestName.Design, a.Block.Id, null, null, Stat.DroppedMissing, table.Dropped, inputs);
+            described.Add(new MethodsSection
+            {
+                Anova = a,
+                Covered = s.Covered,
+                Checks = s.Checks,
+                PostHocs = s.PostHocs.AsReadOnly(),
+                Powers = s.Powers.AsReadOnly(),
+                Cells = cells.AsReadOnly(),
+                Total = total,
+                Dropped = dropped,
+                Review = ReviewValues(context, id, a, s.Checks, inputs).AsReadOnly(),
+            });
         }
 
         var names = new List<string>();
@@ -207,6 +224,7 @@ public sealed class MethodsEvaluator : KindEvaluator
             }
         }
 
+        var datasets = new List<(MethodsLoadedDatasetView Dataset, ResultValue Rows, ResultValue RowsUsed)>();
         foreach (var spec in context.Header.Datasets.Where(d => names.Contains(d.Name)))
         {
             if (context.Datasets.GetValueOrDefault(spec.Name) is not { } ds)
@@ -214,20 +232,29 @@ public sealed class MethodsEvaluator : KindEvaluator
                 continue;
             }
 
-            outcome.Inputs.Add((
+            datasets.Add((
                 new MethodsLoadedDatasetView(spec.Name, ds.Path, ds.Sha256, ds.Aggregate is not null),
                 context.Results.Add(id, TestName.Input, spec.Name, null, null, Stat.Rows, ds.Rows, [spec.Name]),
                 context.Results.Add(id, TestName.Input, spec.Name, null, null, Stat.RowsUsed, ds.RowsUsed, [spec.Name])));
         }
 
-        return outcome;
+        return new MethodsOutcome(block)
+        {
+            Alpha = context.Header.Alpha,
+            Sections = described.AsReadOnly(),
+            Summaries = summaries.AsReadOnly(),
+            Ranks = ranks.AsReadOnly(),
+            Powers = powers.AsReadOnly(),
+            Others = others.AsReadOnly(),
+            Inputs = datasets.AsReadOnly(),
+        };
     }
 
     /// <summary>The checks the text quotes: from an assumptions block of the anova if there is one, else recorded here.</summary>
-    private static void ReviewValues(EvaluationContext context, string id, MethodsSection s, IReadOnlyList<string> inputs)
+    private static Dictionary<string, IReadOnlyDictionary<string, ResultValue>> ReviewValues(EvaluationContext context, string id, AnovaOutcome a, AssumptionsOutcome? covered, IReadOnlyList<string> inputs)
     {
-        var a = s.Anova;
-        var checks = s.Checks ?? context.Outcomes.Values.OfType<AssumptionsOutcome>()
+        var review = new Dictionary<string, IReadOnlyDictionary<string, ResultValue>>(StringComparer.Ordinal);
+        var checks = covered ?? context.Outcomes.Values.OfType<AssumptionsOutcome>()
             .Where(o => o.Anova == a && o.Review is not null)
             .OrderBy(o => o.Block.Location.Line)
             .FirstOrDefault();
@@ -235,10 +262,10 @@ public sealed class MethodsEvaluator : KindEvaluator
         {
             foreach (var (test, values) in checks.Values)
             {
-                s.Review[test] = values;
+                review[test] = values;
             }
 
-            return;
+            return review;
         }
 
         // Only the checks the automatic rules read (they ran for the anova block's choices). On the
@@ -248,30 +275,49 @@ public sealed class MethodsEvaluator : KindEvaluator
         {
             if (a.Bartlett is { } bartlett && options.Welch == "auto")
             {
-                s.Review["bartlett"] = bartlett;
+                review["bartlett"] = bartlett;
             }
 
-            return;
+            return review;
         }
 
         if (a.Data!.Factors.Count != 1 || options.Welch != "auto")
         {
-            return;
+            return review;
         }
 
-        var review = a.Review;
+        var rules = a.Review;
         var term = a.Data.Factors[0].Spec.Name;
         var level = a.Block.Id;
-        var bf = s.Review["brown_forsythe"] = new(StringComparer.Ordinal);
-        bf[Stat.F] = context.Results.Add(id, TestName.BrownForsythe, term, level, null, Stat.F, review.BrownForsythe.F, inputs);
-        bf[Stat.Df1] = context.Results.Add(id, TestName.BrownForsythe, term, level, null, Stat.Df1, review.BrownForsythe.Df1, inputs);
-        bf[Stat.Df2] = context.Results.Add(id, TestName.BrownForsythe, term, level, null, Stat.Df2, review.BrownForsythe.Df2, inputs);
-        bf[Stat.P] = context.Results.Add(id, TestName.BrownForsythe, term, level, null, Stat.P, review.BrownForsythe.P, inputs);
-        if (review.WantsRankTest)
+        var bf = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
+        bf[Stat.F] = context.Results.Add(id, TestName.BrownForsythe, term, level, null, Stat.F, rules.BrownForsythe.F, inputs);
+        bf[Stat.Df1] = context.Results.Add(id, TestName.BrownForsythe, term, level, null, Stat.Df1, rules.BrownForsythe.Df1, inputs);
+        bf[Stat.Df2] = context.Results.Add(id, TestName.BrownForsythe, term, level, null, Stat.Df2, rules.BrownForsythe.Df2, inputs);
+        bf[Stat.P] = context.Results.Add(id, TestName.BrownForsythe, term, level, null, Stat.P, rules.BrownForsythe.P, inputs);
+        review["brown_forsythe"] = bf.AsReadOnly();
+        if (rules.WantsRankTest)
         {
-            var sw = s.Review["shapiro_wilk"] = new(StringComparer.Ordinal);
-            sw[Stat.W] = context.Results.Add(id, TestName.ShapiroWilk, "residual", level, null, Stat.W, review.Normality.W, inputs);
-            sw[Stat.P] = context.Results.Add(id, TestName.ShapiroWilk, "residual", level, null, Stat.P, review.Normality.P, inputs);
+            var sw = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
+            sw[Stat.W] = context.Results.Add(id, TestName.ShapiroWilk, "residual", level, null, Stat.W, rules.Normality.W, inputs);
+            sw[Stat.P] = context.Results.Add(id, TestName.ShapiroWilk, "residual", level, null, Stat.P, rules.Normality.P, inputs);
+            review["shapiro_wilk"] = sw.AsReadOnly();
         }
+
+        return review;
+    }
+
+    /// <summary>An anova section while the covered blocks are sorted into it (the section itself is built once, with its values).</summary>
+    private sealed class SectionParts(AnovaOutcome anova, bool covered)
+    {
+        public AnovaOutcome Anova { get; } = anova;
+
+        public bool Covered { get; } = covered;
+
+        /// <summary>The first covered assumptions block of the anova (a field: the parts are filled as the blocks are sorted).</summary>
+        public AssumptionsOutcome? Checks;
+
+        public List<PostHocOutcome> PostHocs { get; } = [];
+
+        public List<PowerOutcome> Powers { get; } = [];
     }
 }

@@ -9,18 +9,19 @@ using StudyPress.Statistics;
 
 namespace StudyPress.Evaluation.Kinds;
 
+/// <summary>A ranks block evaluated: the Kruskal–Wallis test, each group's mean rank and Dunn's comparisons.</summary>
 public sealed class RanksOutcome(BoundBlock block) : BlockOutcome(block)
 {
-    public string FactorLabel { get; set; } = string.Empty;
+    public string FactorLabel { get; init; } = string.Empty;
 
-    public Dictionary<string, ResultValue>? Test { get; set; }
+    public IReadOnlyDictionary<string, ResultValue>? Test { get; init; }
 
-    public List<(string Level, ResultValue N, ResultValue MeanRank)> Groups { get; } = [];
+    public IReadOnlyList<(string Level, ResultValue N, ResultValue MeanRank)> Groups { get; init; } = [];
 
-    public List<(PairwiseComparison Pair, Dictionary<string, ResultValue> Values)> Pairs { get; } = [];
+    public IReadOnlyList<(PairwiseComparison Pair, IReadOnlyDictionary<string, ResultValue> Values)> Pairs { get; init; } = [];
 
     /// <summary>Some group has fewer than 5 observations (the chi-square approximation is rough).</summary>
-    public bool SmallGroups { get; set; }
+    public bool SmallGroups { get; init; }
 }
 
 /// <summary>Evaluates <c>ranks</c> blocks into values (no HTML, no report text).</summary>
@@ -35,12 +36,13 @@ public sealed class RanksEvaluator : KindEvaluator
     public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
     {
         var options = block.OptionsOf<RanksKind.Options>();
-        var outcome = new RanksOutcome(block);
+        // What the block hands on when it stops at a mistake: nothing computed.
+        var stopped = new RanksOutcome(block);
         var name = options.Factor ?? (block.Factors.Count == 1 ? block.Factors[0].Name : null);
         if (name is null)
         {
             diagnostics.OneFactorOnly(block.Location, Kind);
-            return outcome;
+            return stopped;
         }
 
         var spec = context.Header.Factor(name)!;
@@ -48,35 +50,36 @@ public sealed class RanksEvaluator : KindEvaluator
         var data = context.Select(one, diagnostics);
         if (data is null)
         {
-            return outcome;
+            return stopped;
         }
 
         var factor = data.Factors[0];
         if (factor.Levels.Count < 2)
         {
             diagnostics.TooFewGroups(options.FactorLocation, name, factor.Levels.Count);
-            return outcome;
+            return stopped;
         }
 
-        outcome.FactorLabel = spec.Display;
         var groups = factor.Split(data.Response);
         var kw = KruskalWallis.Test(groups);
         var inputs = context.Inputs(block);
-        outcome.Test = new Dictionary<string, ResultValue>(StringComparer.Ordinal)
+        var test = new Dictionary<string, ResultValue>(StringComparer.Ordinal)
         {
             [Stat.H] = context.Results.Add(block.Id, TestName.KruskalWallis, name, null, null, Stat.H, kw.H, inputs),
             [Stat.Df] = context.Results.Add(block.Id, TestName.KruskalWallis, name, null, null, Stat.Df, kw.Df, inputs),
             [Stat.P] = context.Results.Add(block.Id, TestName.KruskalWallis, name, null, null, Stat.P, kw.P, inputs),
-        };
+        }.AsReadOnly();
+        var ranks = new List<(string Level, ResultValue N, ResultValue MeanRank)>(factor.Levels.Count);
         for (var g = 0; g < factor.Levels.Count; g++)
         {
-            outcome.Groups.Add((
+            ranks.Add((
                 factor.Levels[g],
                 context.Results.Add(block.Id, TestName.KruskalWallis, name, factor.Levels[g], null, Stat.N, kw.Counts[g], inputs),
                 context.Results.Add(block.Id, TestName.KruskalWallis, name, factor.Levels[g], null, Stat.MeanRank, kw.MeanRanks[g], inputs)));
         }
 
         var dunn = Dunn.Compare(factor.Levels, groups, context.Header.Alpha, PValueAdjustmentMethod.Holm);
+        var pairs = new List<(PairwiseComparison Pair, IReadOnlyDictionary<string, ResultValue> Values)>(dunn.Comparisons.Count);
         foreach (var c in dunn.Comparisons)
         {
             string[] pair = [c.LevelA, c.LevelB];
@@ -87,11 +90,16 @@ public sealed class RanksEvaluator : KindEvaluator
                 [Stat.Statistic] = context.Results.Add(block.Id, TestName.Dunn, name, null, pair, Stat.Statistic, c.Statistic, inputs),
                 [Stat.PAdj] = context.Results.Add(block.Id, TestName.Dunn, name, null, pair, Stat.PAdj, c.PAdjusted, inputs),
             };
-            outcome.Pairs.Add((c, values));
+            pairs.Add((c, values.AsReadOnly()));
         }
 
-        outcome.SmallGroups = kw.Counts.Any(n => n < 5);
-
-        return outcome;
+        return new RanksOutcome(block)
+        {
+            FactorLabel = spec.Display,
+            Test = test,
+            Groups = ranks.AsReadOnly(),
+            Pairs = pairs.AsReadOnly(),
+            SmallGroups = kw.Counts.Any(n => n < 5),
+        };
     }
 }

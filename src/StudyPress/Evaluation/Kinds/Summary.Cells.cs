@@ -23,27 +23,31 @@ public sealed partial class SummaryEvaluator
 {
     private static SummaryOutcome EvaluateCells(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
     {
-        var outcome = new SummaryOutcome(block) { Route = AnovaRoute.Cells };
         var prepared = context.Models.Summaries[block.Id];
         var response = block.Response!;
         if (prepared.Groups.Count == 0)
         {
             diagnostics.NoRowsSelected(block.Location);
-            return outcome;
+            return new SummaryOutcome(block) { Route = AnovaRoute.Cells };
         }
 
-        outcome.ResponseName = response;
-        outcome.ResponseLabel = context.Header.ResponseDisplay(response);
         var term = block.Factors.Count == 0 ? null : string.Join(":", block.Factors.Select(f => f.Name));
-        outcome.Term = term ?? string.Empty;
         var inputs = context.Inputs(block);
         var alpha = context.Header.Alpha;
         var centre = prepared.Centre;
         if (prepared.Failed)
         {
-            return outcome;
+            // The database's query failed (reported before evaluation): the block names its response, no groups.
+            return new SummaryOutcome(block)
+            {
+                Route = AnovaRoute.Cells,
+                ResponseName = response,
+                ResponseLabel = context.Header.ResponseDisplay(response),
+                Term = term ?? string.Empty,
+            };
         }
 
+        var groups = new List<(string Label, int N, IReadOnlyDictionary<string, ResultValue> Values)>(prepared.Groups.Count);
         foreach (var g in prepared.Groups)
         {
             var label = g.Label;
@@ -64,11 +68,18 @@ public sealed partial class SummaryEvaluator
             Add(Stat.Q3, o.Q3);
             Add(Stat.Min, o.Min);
             Add(Stat.Max, o.Max);
-            outcome.Groups.Add((label, (int)Math.Min(s.N, int.MaxValue), map));
+            groups.Add((label, (int)Math.Min(s.N, int.MaxValue), map.AsReadOnly()));
         }
 
-        outcome.DatabaseQuantiles = prepared.Quantiles;
-        outcome.DroppedMissing = prepared.Dropped;
-        return outcome;
+        return new SummaryOutcome(block)
+        {
+            Route = AnovaRoute.Cells,
+            ResponseName = response,
+            ResponseLabel = context.Header.ResponseDisplay(response),
+            Term = term ?? string.Empty,
+            Groups = groups.AsReadOnly(),
+            DatabaseQuantiles = prepared.Quantiles,
+            DroppedMissing = prepared.Dropped,
+        };
     }
 }

@@ -7,30 +7,31 @@ using StudyPress.Statistics.Descriptive;
 
 namespace StudyPress.Evaluation.Kinds;
 
+/// <summary>A summary block evaluated: each group's statistics, from the rows or from the database's cells.</summary>
 public sealed class SummaryOutcome(BoundBlock block) : BlockOutcome(block)
 {
-    public List<(string Label, int N, Dictionary<string, ResultValue> Values)> Groups { get; } = [];
+    private readonly string responseLabel = string.Empty;
 
-    public string Term { get; set; } = string.Empty;
+    public IReadOnlyList<(string Label, int N, IReadOnlyDictionary<string, ResultValue> Values)> Groups { get; init; } = [];
 
-    public string ResponseName { get; set; } = string.Empty;
+    public string Term { get; init; } = string.Empty;
+
+    public string ResponseName { get; init; } = string.Empty;
 
     /// <summary>The response as readers see it (label and unit from the header, else the column name).</summary>
-    public string ResponseLabel { get => responseLabel.Length > 0 ? responseLabel : ResponseName; set => responseLabel = value; }
-
-    private string responseLabel = string.Empty;
+    public string ResponseLabel { get => responseLabel.Length > 0 ? responseLabel : ResponseName; init => responseLabel = value; }
 
     /// <summary>The selected rows (rows route only).</summary>
-    public BlockData? Data { get; set; }
+    public BlockData? Data { get; init; }
 
     /// <summary>Whether the statistics came from the rows or from the database's cell statistics.</summary>
     public AnovaRoute Route { get; init; } = AnovaRoute.Rows;
 
     /// <summary>Rows left out because the response or a factor was missing.</summary>
-    public long DroppedMissing { get; set; }
+    public long DroppedMissing { get; init; }
 
     /// <summary>Cells route: whether the database computed the quantiles (SQLite computes none).</summary>
-    public bool DatabaseQuantiles { get; set; }
+    public bool DatabaseQuantiles { get; init; }
 }
 
 /// <summary>Evaluates <c>summary</c> blocks into values (no HTML, no report text).</summary>
@@ -49,19 +50,15 @@ public sealed partial class SummaryEvaluator : KindEvaluator
             return EvaluateCells(context, block, diagnostics);
         }
 
-        var outcome = new SummaryOutcome(block);
         var data = context.Select(block, diagnostics);
         if (data is null)
         {
-            return outcome;
+            return new SummaryOutcome(block);
         }
 
-        outcome.ResponseName = data.ResponseName;
-        outcome.ResponseLabel = data.ResponseLabel;
-        outcome.Data = data;
+        var groups = new List<(string Label, int N, IReadOnlyDictionary<string, ResultValue> Values)>();
         var inputs = context.Inputs(block);
         var term = data.Factors.Count == 0 ? null : string.Join(":", data.Factors.Select(f => f.Spec.Name));
-        outcome.Term = term ?? string.Empty;
         var missing = MissingByCell(context, block, data);
         var cells = data.Factors.Count == 0 ? [("all", Array.Empty<int>(), data.Response, Enumerable.Range(0, data.Rows.Length).ToArray())] : data.Cells();
         var alpha = context.Header.Alpha;
@@ -88,14 +85,14 @@ public sealed partial class SummaryEvaluator : KindEvaluator
             Add(Stat.Q3, Statistics.Quantity.Of(s.Q3));
             Add(Stat.Min, Statistics.Quantity.Of(s.Min));
             Add(Stat.Max, Statistics.Quantity.Of(s.Max));
-            outcome.Groups.Add((label, s.N, map));
+            groups.Add((label, s.N, map.AsReadOnly()));
         }
 
         // Groups whose every response is missing have no rows in the data, but they are part of
         // the study: they are shown with n = 0 and their missing count (in the factor's level order).
         if (data.Factors.Count > 0)
         {
-            var shown = outcome.Groups.Select(g => g.Label).ToHashSet(StringComparer.Ordinal);
+            var shown = groups.Select(g => g.Label).ToHashSet(StringComparer.Ordinal);
             foreach (var (label, count) in missing.Where(m => !shown.Contains(m.Key)).OrderBy(m => m.Value.Order, OrderComparer).Select(m => (m.Key, m.Value.Count)))
             {
                 var map = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
@@ -108,18 +105,26 @@ public sealed partial class SummaryEvaluator : KindEvaluator
                     Add(stat, none);
                 }
 
-                outcome.Groups.Add((label, 0, map));
+                groups.Add((label, 0, map.AsReadOnly()));
             }
         }
 
-        outcome.DroppedMissing = data.DroppedMissing;
-
+        var figures = new List<FigurePlan>();
         if (context.Header.Report.Figures && data.Factors.Count > 0 && Figures.Box(data) is { } box)
         {
-            outcome.Figures.Add(box);
+            figures.Add(box);
         }
 
-        return outcome;
+        return new SummaryOutcome(block)
+        {
+            ResponseName = data.ResponseName,
+            ResponseLabel = data.ResponseLabel,
+            Data = data,
+            Term = term ?? string.Empty,
+            Groups = groups.AsReadOnly(),
+            DroppedMissing = data.DroppedMissing,
+            Figures = figures,
+        };
     }
 
     /// <summary>Why the statistics of a group without observations are not defined.</summary>

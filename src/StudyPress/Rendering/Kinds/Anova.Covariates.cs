@@ -96,7 +96,7 @@ internal static class CovariateRendering
             : $"Homogeneity of slopes: at α = {context.AlphaText} the test does not reject equal slopes ({stat}). This does not show that the slopes are equal, only that the data give no clear sign that they differ; the adjusted comparison assumes parallel slopes.";
     }
 
-    private static string Interpret(AnovaTerm term, Dictionary<string, ResultValue> v, AnovaOutcome o, CovariateAnalysis a, RenderContext context)
+    private static string Interpret(AnovaTerm term, IReadOnlyDictionary<string, ResultValue> v, AnovaOutcome o, CovariateAnalysis a, RenderContext context)
     {
         var label = HtmlWriter.Escape(Label(term, o, a));
         if (!term.F.IsDefined || !term.P.IsDefined)

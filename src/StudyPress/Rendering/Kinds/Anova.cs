@@ -480,7 +480,7 @@ public sealed class AnovaRenderer : KindRenderer
         }
     }
 
-    private static string MethodsTerm(AnovaOutcome a, Dictionary<string, ResultValue> v, MethodsWriter w)
+    private static string MethodsTerm(AnovaOutcome a, IReadOnlyDictionary<string, ResultValue> v, MethodsWriter w)
     {
         var text = $"F({MethodsWriter.Df(v[Stat.Df])}, {MethodsWriter.Df(a.Residual[Stat.Df])}) = {MethodsWriter.S2(v[Stat.F])}, {ReportStyle.PPhrase(v[Stat.P])}, partial η² = {MethodsWriter.Fr(v[Stat.PartialEta2])}";
         return text + $", {w.Confidence}% CI [{MethodsWriter.Fr(v[Stat.PartialEta2CiLow])}, {MethodsWriter.Fr(v[Stat.PartialEta2CiHigh])}]";
@@ -503,7 +503,7 @@ public sealed class AnovaRenderer : KindRenderer
             return;
         }
 
-        string V(Dictionary<string, ResultValue> values, string stat) => HtmlWriter.ValueHtml(values[stat], context);
+        string V(IReadOnlyDictionary<string, ResultValue> values, string stat) => HtmlWriter.ValueHtml(values[stat], context);
         var welch = new HtmlTable("welch", "Welch's test (unequal variances allowed)", ["Source", "F", "df1", "df2", "p"]);
         welch.Row(source, [V(w, Stat.F), V(w, Stat.Df1), V(w, Stat.Df2), V(w, Stat.P)]);
         welch.WriteTo(html);
@@ -695,7 +695,7 @@ public sealed class AnovaRenderer : KindRenderer
         }
 
         html.Raw("</div>");
-        string V(Dictionary<string, ResultValue> values, string stat) => HtmlWriter.ValueHtml(values[stat], context);
+        string V(IReadOnlyDictionary<string, ResultValue> values, string stat) => HtmlWriter.ValueHtml(values[stat], context);
     }
 
     /// <summary>The cells route (aggregate: true): the table, effect sizes, level means, Welch and Bartlett from cell statistics.</summary>
@@ -764,7 +764,7 @@ public sealed class AnovaRenderer : KindRenderer
         }
 
         html.Raw("</div>");
-        string V(Dictionary<string, ResultValue> values, string stat) => HtmlWriter.ValueHtml(values[stat], context);
+        string V(IReadOnlyDictionary<string, ResultValue> values, string stat) => HtmlWriter.ValueHtml(values[stat], context);
     }
 
     private static string CellsLabel(AnovaTerm term, AnovaOutcome o) =>
@@ -828,7 +828,7 @@ public sealed class AnovaRenderer : KindRenderer
         _ => "Marginal (type 3) sums of squares, sum-to-zero coding: each term adjusted for every other term.",
     };
 
-    private static string Interpret(AnovaTerm term, Dictionary<string, ResultValue> v, AnovaOutcome o, RenderContext context)
+    private static string Interpret(AnovaTerm term, IReadOnlyDictionary<string, ResultValue> v, AnovaOutcome o, RenderContext context)
     {
         var label = HtmlWriter.Escape(Label(term, o));
         if (!term.F.IsDefined || !term.P.IsDefined)

@@ -54,8 +54,8 @@ public sealed class AssumptionsRenderer : KindRenderer
     {
         var r = s.Review;
         var review = s.Checks!.Review!;
-        bool Fails(Dictionary<string, ResultValue> v, string stat = Stat.P) => v[stat].Value.IsDefined && v[stat].Value.Value < w.Outcome.Alpha;
-        bool Defined(Dictionary<string, ResultValue> v, string stat = Stat.P) => v[stat].Value.IsDefined;
+        bool Fails(IReadOnlyDictionary<string, ResultValue> v, string stat = Stat.P) => v[stat].Value.IsDefined && v[stat].Value.Value < w.Outcome.Alpha;
+        bool Defined(IReadOnlyDictionary<string, ResultValue> v, string stat = Stat.P) => v[stat].Value.IsDefined;
         var found = w.T("found", "finds");
         var clauses = new List<string>();
         var sw = r.GetValueOrDefault(TestName.ShapiroWilk);
@@ -65,7 +65,7 @@ public sealed class AssumptionsRenderer : KindRenderer
             .ToList();
         var dw = r.GetValueOrDefault(TestName.DurbinWatson);
         var ol = r.GetValueOrDefault(TestName.Outliers);
-        string Ps(IEnumerable<(string Test, string Name, Dictionary<string, ResultValue> Values, bool Fails)> tests) =>
+        string Ps(IEnumerable<(string Test, string Name, IReadOnlyDictionary<string, ResultValue> Values, bool Fails)> tests) =>
             string.Join(", ", tests.Select(t => ReportStyle.PPhrase(t.Values[Stat.P], t.Name + " p")));
         var allPass = (sw is null || !Defined(sw) || !Fails(sw)) && variance.All(v => !v.Fails) && (dw is null || !Fails(dw)) && (ol is null || !Fails(ol, Stat.PBonferroni));
         if (allPass)

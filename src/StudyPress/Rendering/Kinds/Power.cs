@@ -85,6 +85,6 @@ public sealed class PowerRenderer : KindRenderer
         }
 
         html.Raw("<p class=\"method\">").Text($"One-way fixed-effects F test with {o.Groups} equal groups: the noncentrality is λ = f² × k × n and the power is the probability that F′ exceeds the rejection threshold of F, under the noncentral F distribution (Cohen's f = {f}: 0.10, 0.25 and 0.40 are Cohen's conventional small, medium and large effects, but your field's own benchmarks should decide).").Raw("</p>");
-        string V(Dictionary<string, ResultValue> values, string stat) => HtmlWriter.ValueHtml(values[stat], context);
+        string V(IReadOnlyDictionary<string, ResultValue> values, string stat) => HtmlWriter.ValueHtml(values[stat], context);
     }
 }
