@@ -461,8 +461,8 @@ compare: holm
     }
 
     /// <summary>3000 subjects × 3 conditions (deterministic values), optionally without subject 1's third measurement.</summary>
-    // 600 subjects × 2 × 2 conditions: the mixed model absorbs subject × A and keeps subject and
-    // subject × B dense, 600 × 3 + 4 = 1804 columns, beyond its bound of 1000.
+    // 600 subjects × 2 × 2 conditions: the mixed model absorbs subject × A and the subjects it is
+    // nested in, and keeps subject × B dense, 600 × 2 + 4 = 1204 columns, beyond its bound of 1000.
     private static string Many(bool dropOne)
     {
         var sb = new System.Text.StringBuilder("subject,a,b,y\n");
@@ -483,10 +483,11 @@ compare: holm
     [Fact]
     public void MixedModelTooLarge_Reml_IsOneErrorAtFit()
     {
-        // Refused before anything is built.
+        // Refused by the mixed model's own size check, before any fitting.
         using var run = Run(Many(false), "subject, a, b", "subject: subject\nwithin: [a, b]\nfit: reml");
         var d = run.SingleError("SP0515", 11);
-        Assert.Contains("keeps 1804 columns dense, more than the 1000", d.Message, StringComparison.Ordinal);
+        Assert.Contains("keeps 1204 columns dense", d.Message, StringComparison.Ordinal);
+        Assert.Contains("more than the 1000 this version fits", d.Message, StringComparison.Ordinal);
     }
 
     [Fact]
@@ -498,7 +499,7 @@ compare: holm
         var m = new ManifestView(result.ManifestJson!);
         Assert.Equal(599, m.Get("r", "subjects", null, "n"));
         Assert.Empty(m.Find("r", "anova_reml", null, "n"));
-        Assert.Contains("The mixed-model route was not fitted: 2399 measurements of 600 subjects need a mixed model that keeps 1804 columns dense", result.Html, StringComparison.Ordinal);
+        Assert.Contains("The mixed-model route was not fitted: the mixed model of these data keeps 1204 columns dense", result.Html, StringComparison.Ordinal);
         Assert.Contains("the first 200 of 599 complete subjects, in file order", result.Html, StringComparison.Ordinal);
     }
 

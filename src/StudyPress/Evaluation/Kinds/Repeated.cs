@@ -316,14 +316,16 @@ public sealed class RepeatedEvaluator : KindEvaluator
             reason = MixedRouteReason.SubjectsDropped;
         }
 
-        var mixedTooLarge = reason != MixedRouteReason.None ? MixedTooLarge(subjectCol, withinCols, values.Length, betweenCols) : null;
+        // The mixed model's own check (its dense-column count after absorbing the subject terms), once.
+        var mixedCheck = reason != MixedRouteReason.None ? RepeatedMeasuresMixedModel.Check(design, rm) : null;
+        var mixedTooLarge = mixedCheck is { Kind: DesignIssueKind.TooLarge } ? mixedCheck.Message : null;
         if (reason is MixedRouteReason.Asked or MixedRouteReason.ClassicalImpossible && mixedTooLarge is not null)
         {
             diagnostics.RepeatedMixedModelProblem(o.FitLocation, mixedTooLarge);
             return new BlockOutcome(block);
         }
 
-        if (reason == MixedRouteReason.Asked && RepeatedMeasuresMixedModel.Check(design, rm) is { } mixedIssue)
+        if (reason == MixedRouteReason.Asked && mixedCheck is { } mixedIssue)
         {
             diagnostics.RepeatedMixedModelProblem(o.FitLocation, mixedIssue.Message);
             return new BlockOutcome(block);
@@ -410,7 +412,7 @@ public sealed class RepeatedEvaluator : KindEvaluator
             {
                 mixedNotFitted = mixedTooLarge;
             }
-            else if (RepeatedMeasuresMixedModel.Check(design, rm) is { } issue)
+            else if (mixedCheck is { } issue)
             {
                 mixedNotFitted = issue.Message;
             }
@@ -726,40 +728,6 @@ public sealed class RepeatedEvaluator : KindEvaluator
 
     /// <summary>Subjects drawn as thin lines in the profile figure (the mean profile uses all).</summary>
     public const int MaxProfilesDrawn = 200;
-
-    /// <summary>
-    /// Why the mixed model is too large to fit here, or null. The REML fit (<see cref="MixedModel"/>)
-    /// absorbs its random term with the most levels (subjects times all within factors but the one
-    /// with fewest levels) and keeps dense the fixed effects (at most groups × cells) and the levels
-    /// of the other random terms (subjects times every other proper subset of the within factors;
-    /// all of them together Σ Π k = Π (k + 1) − Π k per subject). More than
-    /// <see cref="MixedModel.MaxDenseColumns"/> dense columns are refused before anything is built.
-    /// </summary>
-    private static string? MixedTooLarge(IReadOnlyList<string> subject, IReadOnlyList<IReadOnlyList<string>> within, int measurements, IReadOnlyList<IReadOnlyList<string>> between)
-    {
-        long subjects = subject.Distinct(StringComparer.Ordinal).Count();
-        long all = 1, cells = 1, fewest = long.MaxValue;
-        foreach (var col in within)
-        {
-            long k = col.Distinct(StringComparer.Ordinal).Count();
-            all *= k + 1;
-            cells *= k;
-            fewest = Math.Min(fewest, k);
-        }
-
-        long groups = 1;
-        foreach (var col in between)
-        {
-            groups *= col.Distinct(StringComparer.Ordinal).Count();
-        }
-
-        var q = subjects * (all - cells);
-        var largest = fewest == long.MaxValue ? subjects : subjects * (cells / fewest);
-        var dense = q - largest + (groups * cells);
-        return dense <= MixedModel.MaxDenseColumns
-            ? null
-            : string.Create(System.Globalization.CultureInfo.InvariantCulture, $"{measurements} measurements of {subjects} subjects need a mixed model that keeps {dense} columns dense, more than the {MixedModel.MaxDenseColumns} this version fits");
-    }
 
     /// <summary>The block over its subject and between factors, without a response column (wide data).</summary>
     private static BoundBlock NoResponse(BoundBlock block, IReadOnlyList<Binding.FactorSpec> factors) => new()
