@@ -219,8 +219,20 @@ public static class Stat
     /// <summary>An estimate: a covariate's common slope, or a contrast's Σ c_i × mean_i.</summary>
     public const string Estimate = "estimate";
 
+    /// <summary>Mean of the values left after trimming each tail (trimmed-means comparison).</summary>
+    public const string TrimmedMean = "trimmed_mean";
+
+    /// <summary>Sample variance (divisor n − 1) of the winsorized values.</summary>
+    public const string WinsorizedVariance = "winsorized_variance";
+
+    /// <summary>Values left after trimming both tails (h = n − 2g).</summary>
+    public const string NEffective = "n_effective";
+
+    /// <summary>Proportion trimmed from each tail.</summary>
+    public const string Trim = "trim";
+
     /// <summary>Stats that are whole numbers (counts, degrees of freedom of exact designs), shown without decimals.</summary>
-    public static IReadOnlySet<string> Counts { get; } = new HashSet<string>(StringComparer.Ordinal) { N, Df, Missing, NPerGroup, NTotal, Df1, Df2, M, NBlocks, BlocksDropped, DfDen, SubjectsDropped, Rows, RowsUsed, DroppedMissing };
+    public static IReadOnlySet<string> Counts { get; } = new HashSet<string>(StringComparer.Ordinal) { N, Df, Missing, NPerGroup, NTotal, Df1, Df2, M, NBlocks, BlocksDropped, DfDen, SubjectsDropped, Rows, RowsUsed, DroppedMissing, NEffective };
 
     /// <summary>Every name, with its meaning (checked against docs/manifest.md by the tests).</summary>
     public static IReadOnlyDictionary<string, string> All { get; } = new Dictionary<string, string>(StringComparer.Ordinal)
@@ -297,6 +309,10 @@ public static class Stat
         [PLower] = "one-sided p-value against the lower margin",
         [PUpper] = "one-sided p-value against the upper margin",
         [Estimate] = "estimate (a covariate's common slope, or a contrast's sum of coefficient × level mean)",
+        [TrimmedMean] = "trimmed mean (mean of the values left after trimming each tail)",
+        [WinsorizedVariance] = "winsorized variance (divisor n − 1)",
+        [NEffective] = "values left after trimming both tails",
+        [Trim] = "proportion trimmed from each tail",
     };
 }
 
@@ -417,6 +433,9 @@ public static class TestName
     /// <summary>A planned contrast or polynomial trend of one factor's level means.</summary>
     public const string Contrast = "contrast";
 
+    /// <summary>The heteroscedastic comparison of trimmed means (Yuen; Welch's method on trimmed means).</summary>
+    public const string TrimmedMeans = "trimmed_means";
+
     /// <summary>Every name, with its meaning (checked against docs/manifest.md by the tests).</summary>
     public static IReadOnlyDictionary<string, string> All { get; } = new Dictionary<string, string>(StringComparer.Ordinal)
     {
@@ -458,5 +477,6 @@ public static class TestName
         [SlopesHomogeneity] = "homogeneity-of-slopes test (treatment x covariate interaction)",
         [Contrast] = "planned contrast or polynomial trend of level means",
         [Emmeans] = "estimated marginal means (adjusted to the covariate means in an analysis of covariance)",
+        [TrimmedMeans] = "heteroscedastic comparison of trimmed means (Yuen; Welch's method on trimmed means)",
     };
 }
