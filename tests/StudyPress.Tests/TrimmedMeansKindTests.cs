@@ -1,5 +1,7 @@
 using System.Globalization;
 using System.Text;
+using StudyPress.Comparison;
+using StudyPress.Diagnostics;
 using StudyPress.Tests.Support;
 
 namespace StudyPress.Tests;
@@ -143,5 +145,36 @@ factors: [level]
         Assert.Contains("rejects the hypothesis that the population trimmed means of the levels of level are all equal", result.Html, StringComparison.Ordinal);
         Assert.Contains("It does not say which levels differ.", result.Html, StringComparison.Ordinal);
         Assert.Contains("It rejected the hypothesis that the levels", result.Html, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void ResultReference_WritesTheTestAndALevel()
+    {
+        using var run = Run(string.Empty, more: "\nThe test gave [=t.trimmed_means.level, result]; level 3 had [=t.trimmed_means.level.\"3\", result]; [=t.level.p], [=t.level.\"3\".trimmed_mean].\n");
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        var text = System.Text.RegularExpressions.Regex.Replace(result.Html!, "<[^>]+>", string.Empty);
+        Assert.Contains("The test gave F(2, 3.97) = 8.52, p = 0.037;", text, StringComparison.Ordinal);
+        var at = text.IndexOf("level 3 had", StringComparison.Ordinal);
+        Assert.True(at >= 0, text);
+        Assert.StartsWith("level 3 had trimmed mean = 8.47, 3 values after trimming; p = 0.037, 8.47.", text[at..], StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void Diff_ReportsAFlippedVerdict()
+    {
+        // Level 3 given level 2's values: the trimmed means no longer differ at α = 0.05.
+        using var run = new StudyRun()
+            .File("old/res.csv", Resistors)
+            .File("old/study.md", Study(string.Empty))
+            .File("new/res.csv", Resistors.Replace("3,8.0\n3,10.5\n3,8.1\n3,6.9\n3,9.3\n", "3,8.3\n3,6.8\n3,7.8\n3,9.2\n3,6.5\n", StringComparison.Ordinal))
+            .File("new/study.md", Study(string.Empty));
+        var bag = new DiagnosticBag();
+        var a = SnapshotReader.Read(Path.Combine(run.Folder, "old", "study.md"), new CompileOptions(), bag);
+        var b = SnapshotReader.Read(Path.Combine(run.Folder, "new", "study.md"), new CompileOptions(), bag);
+        Assert.True(a is not null && b is not null, string.Join("\n", bag.Items));
+        var effect = Assert.Single(BuildComparison.Compare(a, b).Decisions, d => d.Kind == DecisionKinds.Effect);
+        Assert.Equal("trimmed_means", effect.Test);
+        Assert.Contains("t › trimmed means › level: rejects → does not reject", effect.Description, StringComparison.Ordinal);
     }
 }
