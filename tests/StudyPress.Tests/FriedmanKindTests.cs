@@ -38,6 +38,116 @@ factors: [treatment, block]
     }
 
     [Fact]
+    public void ImanDavenport_OnTheFriedmanRow()
+    {
+        // Zar, Example 12.6; Iman–Davenport F, df and p: shared reference collection, exact
+        // recomputation (friedman/zar-example-12-6.expected.json: F 9.88888888889 on (3, 12), p 0.001451880229).
+        using var run = Run("factor: treatment\nblocks: block");
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        var m = new ManifestView(result.ManifestJson!);
+        Assert.Equal(9.88888888889, m.Get("ranks", "friedman", "treatment", "f_iman_davenport"), 10);
+        Assert.Equal(3, m.Get("ranks", "friedman", "treatment", "df1_iman_davenport"));
+        Assert.Equal(12, m.Get("ranks", "friedman", "treatment", "df2_iman_davenport"));
+        Assert.Equal(0.001451880229, m.Get("ranks", "friedman", "treatment", "p_iman_davenport"), 11);
+        Assert.DoesNotContain(m.Values, v => v.GetProperty("test").GetString() == "iman_davenport");
+        Assert.Contains("Iman–Davenport F", result.Html, StringComparison.Ordinal);
+    }
+
+    [Theory]
+    [InlineData("[=ranks.iman_davenport.f]", "ranks.f_iman_davenport")]
+    [InlineData("[=ranks.iman_davenport.treatment.p]", "ranks.treatment.p_iman_davenport")]
+    [InlineData("[=ranks.iman_davenport.df2]", "ranks.df2_iman_davenport")]
+    public void OldImanDavenportReference_IsUnknown_AndPointsToTheNewStat(string reference, string suggestion)
+    {
+        using var run = new StudyRun().File("zar.csv", Zar).Study(Study("factor: treatment\nblocks: block") + "\n\nThe F was " + reference + ".\n");
+        var d = run.SingleError("SP0401", 13);
+        Assert.Contains($"did you mean '{suggestion}'", d.Message, StringComparison.Ordinal);
+
+        // The suggested path reads.
+        using var fixedRun = new StudyRun().File("zar.csv", Zar).Study(Study("factor: treatment\nblocks: block") + "\n\nThe F was [=" + suggestion + "].\n");
+        Assert.True(fixedRun.Compile().Succeeded);
+    }
+
+    /// <summary>A copy of the shared reference collection's friedman/ file, as the engine tests hold it.</summary>
+    private static string SharedCopy(string name, [System.Runtime.CompilerServices.CallerFilePath] string path = "") =>
+        File.ReadAllText(Path.Combine(Path.GetDirectoryName(path)!, "..", "StudyPress.Statistics.Tests", "Reference", "friedman", name));
+
+    private static StudyRun RunOn(string csv, string response, string treatment, string blocks, string keys) => new StudyRun().File("d.csv", csv).Study($"""
+---
+title: Friedman reference fixture
+data:
+  d: d.csv
+response: {response}
+factors: [{treatment}, {blocks}]
+---
+
+```friedman ranks
+factor: {treatment}
+blocks: {blocks}
+{keys}
+```
+""");
+
+    [Fact]
+    public void Demsar2006_TieCorrectedChiSquare_ImanDavenport_AndNemenyiCd_ThroughThePipeline()
+    {
+        // Demšar (2006), AUC of 4 classifiers on 14 data sets (ties in 6 blocks); shared reference
+        // collection friedman/demsar-2006-auc.expected.json. The published χ²_F = 9.28 is the form
+        // without tie correction (checked in the engine tests); the report gives the tie-corrected one.
+        using var run = RunOn(SharedCopy("demsar-2006-auc.csv"), "auc", "classifier", "dataset", "method: nemenyi");
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        var m = new ManifestView(result.ManifestJson!);
+
+        // Exact recomputation (shared reference): tie-corrected χ² 10.2283464567 (= 1299/127), p 0.01672158033, mean ranks.
+        Assert.Equal(10.2283464567, m.Get("ranks", "friedman", "classifier", "chi2"), 9);
+        Assert.Equal(0.01672158033, m.Get("ranks", "friedman", "classifier", "p"), 10);
+        Assert.Equal(14, m.Get("ranks", "friedman", "classifier", "n_blocks"));
+        foreach (var (level, rank) in new[] { ("C4.5", 1.85714285714), ("C4.5+m", 3.0), ("C4.5+cf", 2.10714285714), ("C4.5+m+cf", 3.03571428571) })
+        {
+            Assert.Equal(rank, m.Get("ranks", "friedman", "classifier", "mean_rank", level), 10);
+        }
+
+        // Exact hand computation from that χ²: the Iman–Davenport F of the within-block (mid-)ranks,
+        // (n − 1)χ²/(n(k − 1) − χ²) = 13 (1299/127) / (42 − 1299/127) = 16887/4035, on (3, 39) df.
+        Assert.Equal(16887.0 / 4035, m.Get("ranks", "friedman", "classifier", "f_iman_davenport"), 10);
+        Assert.Equal(3, m.Get("ranks", "friedman", "classifier", "df1_iman_davenport"));
+        Assert.Equal(39, m.Get("ranks", "friedman", "classifier", "df2_iman_davenport"));
+
+        // Exact recomputation (shared reference): Nemenyi CD = q(0.05; 4, ∞)/√2 · √(k(k + 1)/(6n)) = 1.253559
+        // (computed there with df 1e6 for ∞, so compared at 1e-6 relative).
+        var cd = Assert.Single(m.Find("ranks", "nemenyi", "classifier", "cd")).GetProperty("value").GetDouble();
+        Assert.True(Math.Abs(cd - 1.253559) <= 1e-6 * 1.253559, $"CD {cd}");
+        Assert.Contains("χ&#178; is corrected for ties", result.Html, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void TiedScores_PublishedChiSquare_ThroughThePipeline()
+    {
+        // Bioestadística para las ciencias de la salud, 12 blocks × 4 treatments with many ties; shared
+        // reference collection friedman/bioestadistica-12x4.expected.json. Published χ²_r = 18.95, p < 0.001
+        // (the exact tie-corrected value 18.9428571429 = 663/35 rounds to 18.94: the collection notes the
+        // discrepancy and a tolerance of 0.01).
+        using var run = RunOn(SharedCopy("bioestadistica-12x4.csv"), "y", "treatment", "block", string.Empty);
+        var m = run.Manifest();
+        Assert.True(Math.Abs(m.Get("ranks", "friedman", "treatment", "chi2") - 18.95) <= 0.01);
+        Assert.True(m.Get("ranks", "friedman", "treatment", "p") < 0.001);
+
+        // Exact recomputation (shared reference): χ² 18.9428571429, p 0.0002809383752, mean ranks.
+        Assert.Equal(18.9428571429, m.Get("ranks", "friedman", "treatment", "chi2"), 9);
+        Assert.Equal(0.0002809383752, m.Get("ranks", "friedman", "treatment", "p"), 12);
+        foreach (var (level, rank) in new[] { ("1", 3.16666666667), ("2", 1.29166666667), ("3", 2.41666666667), ("4", 3.125) })
+        {
+            Assert.Equal(rank, m.Get("ranks", "friedman", "treatment", "mean_rank", level), 10);
+        }
+
+        // Exact hand computation: Iman–Davenport F of the mid-ranks, 11 (663/35) / (36 − 663/35) = 7293/597 on (3, 33) df.
+        Assert.Equal(7293.0 / 597, m.Get("ranks", "friedman", "treatment", "f_iman_davenport"), 10);
+        Assert.Equal(33, m.Get("ranks", "friedman", "treatment", "df2_iman_davenport"));
+    }
+
+    [Fact]
     public void TreatmentDefaultsToTheOtherFactor()
     {
         using var run = Run("blocks: block");

@@ -55,6 +55,11 @@ factors: [{factors}]
         Assert.Equal(38.0, m.Get("r", "anova", "condition:subject", "ss"), 4);
         Assert.Equal(14, m.Get("r", "anova", "condition", "df_den"));
 
+        // Exact hand computation from those published SS: partial η² = 112/(112 + 38); generalized η²
+        // (Olejnik and Algina 2003, every factor manipulated) = 112/(112 + 14 + 38).
+        Assert.Equal(112.0 / 150, m.Get("r", "anova", "condition", "partial_eta2"), 12);
+        Assert.Equal(112.0 / 164, m.Get("r", "anova", "condition", "generalized_eta2"), 12);
+
         // Exact recomputation (shared reference, rutherford-2001-oneway.expected.json; no published epsilon).
         Assert.Equal(0.220683287165, m.Get("r", "mauchly", "condition", "w"), 10);
         Assert.Equal(9.06616017042, m.Get("r", "mauchly", "condition", "chi2"), 9);
@@ -124,6 +129,61 @@ factors: [{factors}]
     }
 
     [Fact]
+    public void MixedDesign_Figures_SubjectProfilesWithMeanProfile_AndInteractionPlot()
+    {
+        using var run = Run(Mixed, "subject, A, B", "subject: subject\nwithin: B\nbetween: A\nlabels: per-group");
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        var profiles = Assert.Single(result.Figures, f => f.Figure.Type == "profiles").Figure;
+        var svg = System.Xml.Linq.XElement.Parse(profiles.Chart.ToSvg());
+        bool Has(System.Xml.Linq.XElement e, string cls) => ((string?)e.Attribute("class"))?.Split(' ').Contains(cls, StringComparer.Ordinal) == true;
+        Assert.Equal(12, svg.Descendants().Count(e => e.Name.LocalName == "polyline" && Has(e, "subject")));
+        Assert.Single(svg.Descendants(), e => e.Name.LocalName == "polyline" && Has(e, "mean-profile"));
+        Assert.Equal(2, svg.Descendants().Count(e => e.Name.LocalName == "line" && Has(e, "ci")));
+
+        // Exact hand computation from the data (Doncaster and Davey 2007, model 6.3): the mean profile is
+        // the mean of the 12 subjects at each level of B with its 95% t interval over subjects,
+        // mean ± t(0.975; 11) sd/√12 (B means 10.3014916667 and 10.1249083333).
+        var rows = Mixed.Split('\n', StringSplitOptions.RemoveEmptyEntries).Skip(1).Select(l => l.TrimEnd('\r').Split(',')).ToList();
+        var t = MathNet.Numerics.Distributions.StudentT.InvCDF(0, 1, 11, 0.975);
+        var parts = new List<string>();
+        foreach (var level in new[] { "1", "2" })
+        {
+            var y = rows.Where(r => r[2] == level).Select(r => double.Parse(r[3], CultureInfo.InvariantCulture)).ToArray();
+            var mean = y.Average();
+            var half = t * Math.Sqrt(y.Sum(v => (v - mean) * (v - mean)) / 11 / 12);
+            var n = StudyPress.Charts.NumberText.Default;
+            parts.Add($"{level} {n.General(mean)} ({n.General(mean - half)} to {n.General(mean + half)})");
+        }
+
+        Assert.Equal(10.3014916667, rows.Where(r => r[2] == "1").Average(r => double.Parse(r[3], CultureInfo.InvariantCulture)), 9);
+        Assert.Contains("Mean profile: " + string.Join(", ", parts) + ".", profiles.Chart.Description, StringComparison.Ordinal);
+
+        // With a between factor: the interaction plot of B by A, one line per group.
+        var interaction = Assert.Single(result.Figures, f => f.Figure.Type == "interaction").Figure;
+        Assert.Contains("compare with the F test of A × B", interaction.Caption, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void MethodsText_NamesDesign_SphericityDecision_Correction_AndSubjectsAnalysed()
+    {
+        static string Visible(string html) => System.Net.WebUtility.HtmlDecode(System.Text.RegularExpressions.Regex.Replace(html, "<[^>]+>", string.Empty));
+        using var run = new StudyRun().File("d.csv", Without(OneWay, "8,c,12")).Study(Study("subject, condition", "subject: subject\nwithin: condition") + "\n\n```methods text\n```\n");
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        var text = Visible(result.Html!);
+        Assert.Contains("A repeated-measures analysis of variance with condition within subjects (subject, 7 complete subjects analysed, 1 incomplete left out) was run.", text, StringComparison.Ordinal);
+        Assert.Contains("Sphericity was checked with Mauchly's test for each within-subject term with more than two levels; where it was rejected at α = 0.05, the Greenhouse–Geisser correction was read when its ε was below 0.75 and the Huynh–Feldt correction otherwise (condition: ", text, StringComparison.Ordinal);
+        Assert.Contains("the mixed model (REML, Satterthwaite df) that keeps them was also reported", text, StringComparison.Ordinal);
+
+        // Complete data: Mauchly p 0.0107 and GG ε 0.562 < 0.75 (exact recomputation, shared reference) — the text names GG.
+        using var complete = new StudyRun().File("d.csv", OneWay).Study(Study("subject, condition", "subject: subject\nwithin: condition") + "\n\n```methods text\n```\n");
+        var all = Visible(complete.Compile().Html!);
+        Assert.Contains("(subject, 8 complete subjects analysed) was run.", all, StringComparison.Ordinal);
+        Assert.Contains("the Huynh–Feldt correction otherwise (condition: Greenhouse–Geisser).", all, StringComparison.Ordinal);
+    }
+
+    [Fact]
     public void MissingMeasurement_FitClassical_FitsNoMixedModel()
     {
         var csv = Without(OneWay, "8,c,12");
@@ -152,6 +212,157 @@ factors: [{factors}]
         Assert.Equal(3, m.Values.Count(v => v.GetProperty("test").GetString() == "simple_effects" && v.GetProperty("stat").GetString() == "f"));
     }
 
+    /// <summary>
+    /// Rutherford's one-way data with 3 × subject added to each subject's scores: only the subject
+    /// stratum changes (its mean square becomes large, so every REML variance estimate is inside the
+    /// parameter space; on the published data MS(subject) 2 is below MS(A × subject) 38/14 and REML
+    /// puts the subject variance at zero), while the condition differences and the condition × subject
+    /// stratum (SS 38 on 14 df, published) stay as published.
+    /// </summary>
+    private static string OneWayWithSubjectOffsets(bool dropSubject8C = false) =>
+        string.Join("\n", OneWay.Split('\n', StringSplitOptions.RemoveEmptyEntries).Select((l, i) =>
+        {
+            if (i == 0)
+            {
+                return l;
+            }
+
+            var p = l.TrimEnd('\r').Split(',');
+            var s = int.Parse(p[0], CultureInfo.InvariantCulture);
+            return dropSubject8C && s == 8 && p[1] == "c" ? null : string.Create(CultureInfo.InvariantCulture, $"{s},{p[1]},{int.Parse(p[2], CultureInfo.InvariantCulture) + (3 * s)}");
+        }).OfType<string>()) + "\n";
+
+    private static string CompareStudy(string fit) => $"""
+---
+title: Mixed-model comparisons fixture
+data:
+  d: d.csv
+response: y
+factors: [subject, condition]
+---
+
+```repeated r
+subject: subject
+within: condition
+fit: {fit}
+compare: condition
+```
+
+```repeated c
+subject: subject
+within: condition
+fit: classical
+```
+
+```marginal-means mm
+of: c
+compare: holm
+```
+
+```methods text
+```
+""";
+
+    private static System.Text.Json.JsonElement PairValue(ManifestView m, string block, string test, string a, string b, string stat) =>
+        Assert.Single(m.Values, v => v.GetProperty("block").GetString() == block && v.GetProperty("test").GetString() == test && v.GetProperty("stat").GetString() == stat
+            && v.GetProperty("pair").ValueKind == System.Text.Json.JsonValueKind.Array && v.GetProperty("pair")[0].GetString() == a && v.GetProperty("pair")[1].GetString() == b).GetProperty("value");
+
+    [Fact]
+    public void FitReml_Compare_EqualsTheClassicalMarginalMeansPairs_OnCompleteBalancedData()
+    {
+        using var run = new StudyRun().File("d.csv", OneWayWithSubjectOffsets()).Study(CompareStudy("reml"));
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        var m = new ManifestView(result.ManifestJson!);
+
+        // The REML fit is inside the parameter space: its F of condition is the published classical F.
+        // Rutherford (2001) p. 72, published: F 20.6316 (the subject offsets leave the within stratum unchanged).
+        Assert.Equal(20.6316, m.Get("r", "anova_reml", "condition", "f"), 4);
+        Assert.Empty(m.Find("r", "holm", "condition", "diff"));
+
+        // Exact hand computation: condition means a 6, b 10, c 11 (each plus the mean offset 13.5);
+        // a difference of two conditions rests on the condition × subject stratum only,
+        // SE = √(2 MS / n) = √(2 × (38/14) / 8) on 14 df (published SS 38 on 14 df).
+        var se = Math.Sqrt(2 * (38.0 / 14) / 8);
+        foreach (var (a, b, diff) in new[] { ("a", "b", -4.0), ("a", "c", -5.0), ("b", "c", -1.0) })
+        {
+            Assert.Equal(diff, PairValue(m, "r", "holm_reml", a, b, "diff").GetDouble(), 8);
+            Assert.Equal(se, PairValue(m, "r", "holm_reml", a, b, "se").GetDouble(), 7);
+            Assert.Equal(14, PairValue(m, "r", "holm_reml", a, b, "df").GetDouble(), 5);
+            Assert.Equal(diff / se, PairValue(m, "r", "holm_reml", a, b, "statistic").GetDouble(), 6);
+
+            // The classical route's marginal-means comparisons on the same error: the same numbers.
+            foreach (var stat in new[] { "diff", "se", "df", "statistic", "p", "p_adj", "ci_low", "ci_high" })
+            {
+                var classical = PairValue(m, "mm", "holm", a, b, stat).GetDouble();
+                Assert.True(Math.Abs(classical - PairValue(m, "r", "holm_reml", a, b, stat).GetDouble()) <= 1e-6 * Math.Max(1, Math.Abs(classical)), $"{a} − {b} {stat}");
+            }
+        }
+
+        Assert.Contains("marginal means (REML, Satterthwaite df; Holm-adjusted; 8 subjects, 24 measurements)", result.Html, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void FitAuto_OneMeasurementRemoved_MixedModelComparisonsUseAllSubjects_BesideThePairedOnes()
+    {
+        // Subject 8 loses its condition c measurement: the paired tests use the 7 complete subjects,
+        // the mixed model's comparisons all 8 subjects (23 measurements).
+        using var run = new StudyRun().File("d.csv", OneWayWithSubjectOffsets(dropSubject8C: true)).Study(CompareStudy("auto"));
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        var m = new ManifestView(result.ManifestJson!);
+        Assert.Equal(7, m.Get("r", "subjects", null, "n"));
+        Assert.Equal(8, m.Get("r", "anova_reml", null, "n"));
+        Assert.Equal(23, m.Get("r", "anova_reml", null, "n_total"));
+        using var complete = new StudyRun().File("d.csv", OneWayWithSubjectOffsets()).Study(CompareStudy("reml"));
+        var full = complete.Manifest();
+        foreach (var (a, b) in new[] { ("a", "b"), ("a", "c"), ("b", "c") })
+        {
+            var reml = PairValue(m, "r", "holm_reml", a, b, "se").GetDouble();
+            Assert.NotEqual(PairValue(m, "r", "holm", a, b, "se").GetDouble(), reml, 6);
+            Assert.NotEqual(PairValue(full, "r", "holm_reml", a, b, "se").GetDouble(), reml, 6);
+        }
+
+        // Exact hand computation: the paired a − b of subjects 1-7 are 0, −8, −3, −5, −5, −2, −5 (mean −4).
+        Assert.Equal(-4.0, PairValue(m, "r", "holm", "a", "b", "diff").GetDouble(), 10);
+        Assert.Contains("8 subjects, 23 measurements)", result.Html, StringComparison.Ordinal);
+        Assert.Contains("paired t tests on the 7 complete subjects", result.Html, StringComparison.Ordinal);
+        Assert.Contains("same decision at α as the paired test", result.Html, StringComparison.Ordinal);
+        Assert.Contains("The levels of condition were compared pairwise by paired t tests on the complete subjects and from the mixed model's estimated marginal means", result.Html, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void FitAuto_PairDecisionsDiffer_CautionNamesThePairs()
+    {
+        // Six more subjects measured under a and b only, each with a − b = +7 (against −4 on average for
+        // the complete ones): the paired tests (8 complete subjects) reject every pair at 0.05, the
+        // mixed model (14 subjects) none of them.
+        var csv = OneWayWithSubjectOffsets() + string.Concat(Enumerable.Range(9, 6).Select(s => string.Create(CultureInfo.InvariantCulture, $"{s},a,{14 + (3 * s)}\n{s},b,{7 + (3 * s)}\n")));
+        using var run = Run(csv, "subject, condition", "subject: subject\nwithin: condition\ncompare: condition");
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        var m = new ManifestView(result.ManifestJson!);
+        var paired = m.Find("r", "holm", "condition", "p_adj").Select(v => v.GetProperty("value").GetDouble()).ToList();
+        var reml = m.Find("r", "holm_reml", "condition", "p_adj").Select(v => v.GetProperty("value").GetDouble()).ToList();
+        Assert.Equal(3, paired.Count);
+        Assert.Equal(3, reml.Count);
+        Assert.All(paired, p => Assert.True(p < 0.05));
+        Assert.All(reml, p => Assert.True(p >= 0.05));
+        Assert.Equal(14, m.Get("r", "anova_reml", null, "n"));
+        Assert.Contains("the mixed model’s comparisons (every measurement) of condition reach different decisions for a − b, a − c, b − c".Replace("’", "&#39;", StringComparison.Ordinal), result.Html, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void FitAuto_TooFewCompleteSubjects_ComparisonsFromTheMixedModel()
+    {
+        // Subjects 1-7 lack condition c: no classical route, so the comparisons come from the mixed model alone.
+        var csv = string.Join("\n", OneWay.Split('\n').Where(l => !(l.Contains(",c,", StringComparison.Ordinal) && !l.StartsWith("8,", StringComparison.Ordinal))));
+        using var run = Run(csv, "subject, condition", "subject: subject\nwithin: condition\ncompare: condition\nadjust: bonferroni");
+        var m = run.Manifest();
+        Assert.Empty(m.Find("r", "bonferroni", "condition", "diff"));
+        Assert.Equal(3, m.Values.Count(v => v.GetProperty("test").GetString() == "bonferroni_reml" && v.GetProperty("stat").GetString() == "p_adj"));
+    }
+
     [Theory]
     [InlineData("within: condition", "SP0202", 8)]
     [InlineData("subject: subject\nwithin: [condition, subject]", "SP0264", 10)]
@@ -160,7 +371,6 @@ factors: [{factors}]
     [InlineData("subject: subject\nwithin: condition\nfactors: [condition]", "SP0263", 11)]
     [InlineData("subject: subjct\nwithin: condition", "SP0216", 9)]
     [InlineData("subject: subject\nwithin: condition\ncorrection: box", "SP0209", 11)]
-    [InlineData("subject: subject\nwithin: condition\nfit: reml\ncompare: condition", "SP0269", 12)]
     public void OneMistake_OneMessage_AtTheKey(string keys, string code, int line)
     {
         using var run = Run(OneWay, "subject, condition", keys);

@@ -76,13 +76,14 @@ factor: treatment
 
         // Shared reference collection, exact recomputation: p, Iman–Davenport F (df 3, 12) and p.
         Assert.Equal(0.01358827296, m.Get("r", "friedman", "treatment", "p"), 10);
-        Assert.Equal(9.88888888889, m.Get("r", "iman_davenport", "treatment", "f"), 10);
-        Assert.Equal(12, m.Get("r", "iman_davenport", "treatment", "df2"));
-        Assert.Equal(0.001451880229, m.Get("r", "iman_davenport", "treatment", "p"), 11);
+        Assert.Equal(9.88888888889, m.Get("r", "friedman", "treatment", "f_iman_davenport"), 10);
+        Assert.Equal(3, m.Get("r", "friedman", "treatment", "df1_iman_davenport"));
+        Assert.Equal(12, m.Get("r", "friedman", "treatment", "df2_iman_davenport"));
+        Assert.Equal(0.001451880229, m.Get("r", "friedman", "treatment", "p_iman_davenport"), 11);
         Assert.Equal(5, m.Get("r", "friedman", "treatment", "n_blocks"));
 
         // The same test through the friedman kind (whose golden case pins these values): identical.
-        foreach (var stat in new[] { "chi2", "df", "p", "kendall_w" })
+        foreach (var stat in new[] { "chi2", "df", "p", "kendall_w", "f_iman_davenport", "df1_iman_davenport", "df2_iman_davenport", "p_iman_davenport" })
         {
             Assert.Equal(m.Get("f", "friedman", "treatment", stat), m.Get("r", "friedman", "treatment", stat));
         }
@@ -134,7 +135,7 @@ factor: treatment
         Assert.Equal(m.Get("checks", "shapiro_wilk", "residual", "p"), m.Get("r", "shapiro_wilk", "residual", "p"), 12);
         Assert.True(m.Get("r", "shapiro_wilk", "residual", "p") < 0.05);
         Assert.Equal(m.Get("f", "friedman", "treatment", "chi2"), m.Get("r", "friedman", "treatment", "chi2"));
-        Assert.Equal(m.Get("f", "iman_davenport", "treatment", "p"), m.Get("r", "iman_davenport", "treatment", "p"));
+        Assert.Equal(m.Get("f", "friedman", "treatment", "p_iman_davenport"), m.Get("r", "friedman", "treatment", "p_iman_davenport"));
         Assert.Contains("the Friedman rank test is shown below", result.Html, StringComparison.Ordinal);
         Assert.Contains("It tests whether the subjects rank the levels alike, not whether the means differ", result.Html, StringComparison.Ordinal);
         Assert.True(m.Get("r", "shapiro_wilk", "residual", "p") < 0.001, "shown as '< 0.001', so the line must not read 'p = <'");

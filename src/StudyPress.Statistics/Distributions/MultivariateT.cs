@@ -22,15 +22,20 @@ public sealed record MultivariateTProbability(double Value, double Error, int Po
 /// </para>
 /// <para>
 /// The cube is integrated by a randomized quasi-Monte Carlo rule: the Kronecker (Richtmyer)
-/// sequence x_j = frac(j z), z_i = frac(√p_i) over the first primes p_i, j = 1..N, with the
+/// sequence x_j = frac(j z), z_i = frac(√p_i) over the first primes p_i (computed by a sieve, as
+/// many as there are coordinates), j = 1..N, with the
 /// baker's (tent) periodization x → |2x − 1|, shifted by <see cref="Shifts"/> uniform random
 /// vectors. The shifts come from a SplitMix64 generator with the FIXED seed <see cref="Seed"/>, so
 /// the same inputs always give the same bits. The estimate is the mean of the shifted rules; its
 /// error estimate is <see cref="ErrorFactor"/> standard errors of that mean (the shifted
 /// estimates are independent and unbiased). N runs through <see cref="Schedule"/> (the sequence is
 /// extensible, so each stage reuses the points of the one before) until the error estimate is at
-/// most <see cref="Tolerance"/>, or the schedule ends (the error estimate is then returned as it is).
-/// For the multivariate normal the s coordinate is dropped (s = 1).
+/// most <see cref="Tolerance"/>, or the schedule ends, or the next stage would exceed
+/// <see cref="WorkLimit"/> (the error estimate is then returned as it is, and the caller decides
+/// whether it is good enough). The cost of one rectangle is therefore at most WorkLimit
+/// evaluations of Φ pairs and Φ⁻¹ (plus the m²/2 multiply-adds of each point); a rectangle
+/// whose first stage alone exceeds it is not integrated (<see cref="MultivariateTProbability.Points"/> 0,
+/// error 1). For the multivariate normal the s coordinate is dropped (s = 1).
 /// </para>
 /// <para>
 /// Accuracy (tests): against the exact product-correlation (Dunnett) integral to within the error
@@ -56,9 +61,15 @@ public sealed class MultivariateT
     /// <summary>Points per shift, in the order tried.</summary>
     public static IReadOnlyList<int> Schedule { get; } = [1000, 2000, 4000, 8000, 16000, 32000, 64000];
 
-    private static readonly int[] Primes = [2, 3, 5, 7, 11, 13, 17, 19, 23, 29, 31, 37, 41, 43, 47, 53, 59, 61, 67, 71, 73, 79, 83, 89, 97, 101, 103, 107, 109, 113, 127, 131, 137, 139, 149, 151, 157, 163, 167, 173, 179, 181, 191, 193, 197, 199];
+    /// <summary>
+    /// The most work one rectangle may take, counted as points per shift × <see cref="Shifts"/> ×
+    /// variables (each a pair of Φ and one Φ⁻¹): the whole schedule for eight variables.
+    /// </summary>
+    public const long WorkLimit = 64000L * Shifts * 8;
 
-    private readonly double[,] chol;
+    // The Cholesky factor L of the correlation, row i divided by L_ii (below the diagonal, row-major), and its diagonal.
+    private readonly double[] factors;
+    private readonly double[] pivots;
     private readonly int m;
     private readonly double df;
     private readonly double[] generator;
@@ -75,11 +86,6 @@ public sealed class MultivariateT
         if (m < 1 || correlation.GetLength(1) != m)
         {
             throw new ArgumentException("the correlation matrix must be square and not empty", nameof(correlation));
-        }
-
-        if (m > Primes.Length)
-        {
-            throw new ArgumentException("at most " + Primes.Length.ToString(System.Globalization.CultureInfo.InvariantCulture) + " dimensions", nameof(correlation));
         }
 
         if (!(df >= 1))
@@ -104,12 +110,23 @@ public sealed class MultivariateT
         }
 
         this.df = df;
-        chol = Cholesky(correlation, m) ?? throw new ArgumentException("the correlation matrix is not positive definite", nameof(correlation));
+        var chol = Cholesky(correlation, m) ?? throw new ArgumentException("the correlation matrix is not positive definite", nameof(correlation));
+        factors = new double[m * m];
+        pivots = new double[m];
+        for (var i = 0; i < m; i++)
+        {
+            pivots[i] = chol[i, i];
+            for (var q = 0; q < i; q++)
+            {
+                factors[(i * m) + q] = chol[i, q] / chol[i, i];
+            }
+        }
         var dims = Dimensions;
+        var primes = Primes(dims);
         generator = new double[dims];
         for (var i = 0; i < dims; i++)
         {
-            var root = Math.Sqrt(Primes[i]);
+            var root = Math.Sqrt(primes[i]);
             generator[i] = root - Math.Floor(root);
         }
 
@@ -136,7 +153,8 @@ public sealed class MultivariateT
 
     /// <summary>
     /// P(lower ≤ T ≤ upper), each bound finite or infinite (lower below upper), with the schedule of
-    /// points (see the class summary), or exactly <paramref name="points"/> points per shift when given.
+    /// points (see the class summary), or exactly <paramref name="points"/> points per shift when given
+    /// (then <see cref="WorkLimit"/> does not apply).
     /// </summary>
     public MultivariateTProbability Rectangle(IReadOnlyList<double> lower, IReadOnlyList<double> upper, int? points = null)
     {
@@ -166,10 +184,16 @@ public sealed class MultivariateT
             return new MultivariateTProbability(Math.Max(0.0, value), 0.0, 0);
         }
 
+        IReadOnlyList<int> stages = points is { } n ? [n] : [.. Schedule.Where(p => (long)p * Shifts * m <= WorkLimit)];
+        if (stages.Count == 0)
+        {
+            return new MultivariateTProbability(0.0, 1.0, 0);
+        }
+
+        var (low, high) = Scaled(lower, upper);
         var sums = new double[Shifts];
         var done = 0;
         var y = new double[m];
-        var stages = points is { } n ? [n] : Schedule;
         MultivariateTProbability? result = null;
         foreach (var target in stages)
         {
@@ -179,7 +203,7 @@ public sealed class MultivariateT
                 double sum = 0;
                 for (var j = done; j < target; j++)
                 {
-                    sum += Integrand(k, j, lower, upper, y);
+                    sum += Integrand(k, j, low, high, y);
                 }
 
                 sums[k] += sum;
@@ -199,8 +223,22 @@ public sealed class MultivariateT
         return result!;
     }
 
+    /// <summary>The bounds divided by the Cholesky factor's diagonal (infinite bounds stay infinite), so that the integrand needs no division.</summary>
+    private (double[] Lower, double[] Upper) Scaled(IReadOnlyList<double> lower, IReadOnlyList<double> upper)
+    {
+        var a = new double[m];
+        var b = new double[m];
+        for (var i = 0; i < m; i++)
+        {
+            a[i] = double.IsInfinity(lower[i]) ? lower[i] : lower[i] / pivots[i];
+            b[i] = double.IsInfinity(upper[i]) ? upper[i] : upper[i] / pivots[i];
+        }
+
+        return (a, b);
+    }
+
     /// <summary>The integrand of the separation of variables at point j of shift k (see the class summary).</summary>
-    private double Integrand(int k, int j, IReadOnlyList<double> lower, IReadOnlyList<double> upper, double[] y)
+    private double Integrand(int k, int j, double[] lower, double[] upper, double[] y)
     {
         var shift = shifts[k];
         var first = Normal ? 0 : 1;
@@ -209,13 +247,14 @@ public sealed class MultivariateT
         for (var i = 0; i < m; i++)
         {
             double dot = 0;
+            var row = i * m;
             for (var q = 0; q < i; q++)
             {
-                dot += chol[i, q] * y[q];
+                dot += factors[row + q] * y[q];
             }
 
-            var d = Phi(Scaled(lower[i], s, dot, chol[i, i]));
-            var e = Phi(Scaled(upper[i], s, dot, chol[i, i]));
+            var d = Phi(Shifted(lower[i], s, dot));
+            var e = Phi(Shifted(upper[i], s, dot));
             var width = e - d;
             if (!(width > 0))
             {
@@ -233,8 +272,8 @@ public sealed class MultivariateT
         return product;
     }
 
-    private static double Scaled(double bound, double s, double dot, double pivot) =>
-        double.IsInfinity(bound) ? bound : ((s * bound) - dot) / pivot;
+    private static double Shifted(double bound, double s, double dot) =>
+        double.IsInfinity(bound) ? bound : (s * bound) - dot;
 
     /// <summary>Coordinate i of point j (1-based in the sequence) of shift: the tent of frac(j z_i + u_i).</summary>
     private double Point(int j, int i, double[] shift)
@@ -357,6 +396,29 @@ public sealed class MultivariateT
         }
 
         return l;
+    }
+
+    /// <summary>The first <paramref name="count"/> primes, by the sieve of Eratosthenes (the n-th prime is below n (ln n + ln ln n) for n ≥ 6, Rosser 1941).</summary>
+    public static int[] Primes(int count)
+    {
+        var bound = count < 6 ? 15 : (int)Math.Ceiling(count * (Math.Log(count) + Math.Log(Math.Log(count)))) + 1;
+        var composite = new bool[bound + 1];
+        var found = new List<int>(count);
+        for (var n = 2; n <= bound && found.Count < count; n++)
+        {
+            if (composite[n])
+            {
+                continue;
+            }
+
+            found.Add(n);
+            for (var multiple = (long)n * n; multiple <= bound; multiple += n)
+            {
+                composite[multiple] = true;
+            }
+        }
+
+        return [.. found];
     }
 
     /// <summary>SplitMix64 (Steele, Lea and Flood 2014): a uniform double in [0, 1) from the top 53 bits.</summary>

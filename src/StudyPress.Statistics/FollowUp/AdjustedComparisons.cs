@@ -121,7 +121,15 @@ public sealed class AdjustedMeansFamily
 
 /// <summary>Comparisons of adjusted means with a control: the comparisons, the critical value and how exact the probabilities are.</summary>
 /// <param name="Error">The largest error estimate of the multivariate t probabilities behind the p-values and the critical value (0 with one comparison: exact t).</param>
-public sealed record AdjustedControlComparisons(IReadOnlyList<AdjustedMeanComparison> Comparisons, Quantity CriticalValue, double Error, DunnettAlternative Direction, string Method);
+public sealed record AdjustedControlComparisons(IReadOnlyList<AdjustedMeanComparison> Comparisons, Quantity CriticalValue, double Error, DunnettAlternative Direction, string Method)
+{
+    /// <summary>
+    /// False when a multivariate t probability did not reach <see cref="AdjustedComparisons.RequiredAccuracy"/>
+    /// within <see cref="MultivariateT.WorkLimit"/>: the computation stopped there, <see cref="Comparisons"/>
+    /// is empty, <see cref="CriticalValue"/> is not defined and <see cref="Error"/> is the error estimate reached.
+    /// </summary>
+    public bool Accurate { get; init; } = true;
+}
 
 /// <summary>
 /// Comparisons of the adjusted means of one fitted analysis of covariance (<see cref="AdjustedMeansFamily"/>).
@@ -144,11 +152,24 @@ public sealed record AdjustedControlComparisons(IReadOnlyList<AdjustedMeanCompar
 /// so that p(c) is one smooth function of c. Intervals Diff ± c SE (two-sided), (Diff − c SE, no upper limit) or (no lower
 /// limit, Diff + c SE) one-sided. With one comparison: the t test exactly.
 /// </para>
+/// <para>
+/// Cost: each probability is one rectangle of at most <see cref="MultivariateT.WorkLimit"/> work,
+/// and there are m p-values, the rectangle at the Bonferroni quantile and the root search's steps.
+/// Every error estimate must be at most <see cref="RequiredAccuracy"/>; the rectangle at the
+/// Bonferroni quantile is integrated first, then the critical value's bracket (the search's point
+/// set), its search, and the p-values; when one of them misses that accuracy
+/// within the work limit (many levels: the error of the rule grows with the dimension while the
+/// points it may use shrink), the computation stops and the result says so
+/// (<see cref="AdjustedControlComparisons.Accurate"/> false) instead of running for minutes.
+/// </para>
 /// </summary>
 public static class AdjustedComparisons
 {
     /// <summary>The most points per shift the critical value's root search uses (each of its steps integrates once).</summary>
     public const int SearchPoints = 16000;
+
+    /// <summary>The largest error estimate accepted for any multivariate t probability behind the p-values and the critical value.</summary>
+    public const double RequiredAccuracy = 1e-4;
 
     /// <summary>The method's name in words.</summary>
     public static string Describe(AdjustedMeansComparison method) => method switch
@@ -158,8 +179,13 @@ public static class AdjustedComparisons
         _ => "Bonferroni adjustment of t tests of adjusted-mean differences within each factor; Bonferroni intervals",
     };
 
-    /// <summary>Every pair of the family's levels, adjusted by <paramref name="method"/> at <paramref name="alpha"/>.</summary>
-    public static IReadOnlyList<AdjustedMeanComparison> Pairwise(AdjustedMeansFamily family, AdjustedMeansComparison method, double alpha)
+    /// <summary>
+    /// Every pair of the family's levels, adjusted by <paramref name="method"/> at <paramref name="alpha"/>;
+    /// with <paramref name="control"/>, each other level against the control only (m = k − 1, Diff =
+    /// level − control, two-sided), for Holm or Bonferroni: the many-to-one family without the
+    /// multivariate t, which suits families too large for <see cref="WithControl"/>.
+    /// </summary>
+    public static IReadOnlyList<AdjustedMeanComparison> Pairwise(AdjustedMeansFamily family, AdjustedMeansComparison method, double alpha, string? control = null)
     {
         ArgumentNullException.ThrowIfNull(family);
         var k = family.Count;
@@ -168,11 +194,35 @@ public static class AdjustedComparisons
         var name = family.Factor;
         var levels = family.Levels;
         var pairs = new List<(int A, int B, double Diff, double Se)>();
-        for (var a = 0; a < k; a++)
+        if (control is not null)
         {
-            for (var b = a + 1; b < k; b++)
+            if (method == AdjustedMeansComparison.TukeyKramer)
             {
-                pairs.Add((a, b, family.Difference(a, b), Math.Sqrt(mse * family.DifferenceUnitVariance(a, b))));
+                throw new ArgumentException("comparisons with a control use Holm or Bonferroni here; Dunnett's method is WithControl", nameof(method));
+            }
+
+            var c0 = family.IndexOf(control);
+            if (c0 < 0)
+            {
+                throw new ArgumentException("no level " + control, nameof(control));
+            }
+
+            for (var a = 0; a < k; a++)
+            {
+                if (a != c0)
+                {
+                    pairs.Add((a, c0, family.Difference(a, c0), Math.Sqrt(mse * family.DifferenceUnitVariance(a, c0))));
+                }
+            }
+        }
+        else
+        {
+            for (var a = 0; a < k; a++)
+            {
+                for (var b = a + 1; b < k; b++)
+                {
+                    pairs.Add((a, b, family.Difference(a, b), Math.Sqrt(mse * family.DifferenceUnitVariance(a, b))));
+                }
             }
         }
 
@@ -295,6 +345,26 @@ public static class AdjustedComparisons
         var raw = t.Select(v => twoSided ? Probability.TTwoSided(v, df) : OneSidedUpper(direction == DunnettAlternative.Greater ? v : -v, df)).ToArray();
         var mvt = m > 1 ? new MultivariateT(ControlCorrelation(family, c0), df) : null;
         var error = 0.0;
+        var single = twoSided ? Probability.TCritical(alpha, df) : Probability.TCritical(2.0 * alpha, df);
+        var bonferroni = twoSided ? Probability.TCritical(alpha / m, df) : Probability.TCritical(2.0 * alpha / m, df);
+        var points = 0;
+        if (mvt is not null)
+        {
+            // The rectangle at the Bonferroni quantile first: it sets the root search's point set, and
+            // when it cannot reach the accuracy within the work limit nothing else is integrated.
+            var first = mvt.Rectangle(Enumerable.Repeat(twoSided ? -bonferroni : double.NegativeInfinity, m).ToArray(), Enumerable.Repeat(bonferroni, m).ToArray());
+            if (!(first.Error <= RequiredAccuracy))
+            {
+                return Inaccurate(first.Error);
+            }
+
+            // The root search works on one fixed point set (so that P is one smooth function of c):
+            // the points the schedule needs at the Bonferroni quantile, at most SearchPoints per shift.
+            points = Math.Min(SearchPoints, first.Points);
+        }
+
+        AdjustedControlComparisons Inaccurate(double reached) =>
+            new([], Quantity.Undefined("the multivariate t probabilities did not reach the required accuracy within the work limit"), reached, direction, method) { Accurate = false };
 
         // Upper tail of the maximum at threshold h (two-sided: of the largest |T|), within Bonferroni bounds.
         double Tail(double h, int? points)
@@ -312,8 +382,6 @@ public static class AdjustedComparisons
             return Math.Clamp(1.0 - inside.Value, single, Math.Min(1.0, m * single));
         }
 
-        var adjusted = t.Select(v => Tail(twoSided ? Math.Abs(v) : direction == DunnettAlternative.Greater ? v : -v, null)).ToArray();
-        var single = twoSided ? Probability.TCritical(alpha, df) : Probability.TCritical(2.0 * alpha, df);
         Quantity critical;
         if (m == 1)
         {
@@ -321,16 +389,31 @@ public static class AdjustedComparisons
         }
         else
         {
-            var bonferroni = twoSided ? Probability.TCritical(alpha / m, df) : Probability.TCritical(2.0 * alpha / m, df);
-            var lower = Enumerable.Repeat(twoSided ? -bonferroni : double.NegativeInfinity, m).ToArray();
-            // The root search works on one fixed point set (so that P is one smooth function of c):
-            // the points the schedule needs at the Bonferroni quantile, at most SearchPoints per shift.
-            var points = Math.Min(SearchPoints, mvt!.Rectangle(lower, Enumerable.Repeat(bonferroni, m).ToArray()).Points);
             var lnAlpha = Math.Log(alpha);
             double G(double u) => lnAlpha - Math.Log(Tail(Math.Exp(u), points));
             double lo = Math.Log(single), hi = Math.Log(bonferroni);
             double glo = G(lo), ghi = G(hi);
+            if (!(error <= RequiredAccuracy))
+            {
+                // The search's point set is too small for this dimension; its steps would all miss too.
+                return Inaccurate(error);
+            }
+
             critical = Quantity.Of(glo >= 0 ? single : ghi <= 0 ? bonferroni : Math.Exp(RootFinding.Brent(G, lo, hi, glo, ghi, 1e-7)));
+            if (!(error <= RequiredAccuracy))
+            {
+                return Inaccurate(error);
+            }
+        }
+
+        var adjusted = new double[m];
+        for (var q = 0; q < m; q++)
+        {
+            adjusted[q] = Tail(twoSided ? Math.Abs(t[q]) : direction == DunnettAlternative.Greater ? t[q] : -t[q], null);
+            if (!(error <= RequiredAccuracy))
+            {
+                return Inaccurate(error);
+            }
         }
 
         var open = Quantity.Undefined(direction == DunnettAlternative.Greater ? "a one-sided (greater) interval has no upper limit" : "a one-sided (less) interval has no lower limit");

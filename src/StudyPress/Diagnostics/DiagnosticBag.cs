@@ -596,9 +596,6 @@ public sealed class DiagnosticBag
     public void RepeatedWideOneWithin(SourceLocation at) =>
         Error("SP0268", at, "with 'columns' (wide data), 'within' names the one factor the measurement columns form; list a single name");
 
-    public void RepeatedCompareNeedsClassical(SourceLocation at) =>
-        Error("SP0269", at, "the paired comparisons are made on the complete subjects of the classical route, which 'fit: reml' does not fit; write 'fit: auto' (both routes when subjects are incomplete) or remove 'compare'");
-
     public void RepeatedRanksLayout(SourceLocation at, string reason) =>
         Error("SP0295", at, $"'ranks: always' asks for the Friedman test, which ranks each subject's measurements over the levels of one within factor with no between-subject groups, on complete subjects; {reason}. Write 'ranks: auto' or 'never', or analyse that factor in a 'friedman' block");
 
@@ -644,9 +641,6 @@ public sealed class DiagnosticBag
 
     public void AncovaPostHocMethod(SourceLocation at, string method) =>
         Error("SP0521", at, $"the comparisons of an analysis of covariance compare adjusted means, and {Q(method)} estimates a variance per group of raw values, which would ignore the covariates; use 'method: tukey' (the default), 'holm' or 'bonferroni'");
-
-    public void AncovaPostHocControl(SourceLocation at, string method) =>
-        Error("SP0522", at, $"adjusted means are compared with a control by Dunnett's method on the multivariate t of their own correlation ('method: dunnett', 'tukey' or 'auto'), not by {Q(method)}; change the method, or remove 'control' to compare every pair of adjusted means");
 
     public void AncovaPostHocBlock(SourceLocation at, string factor) =>
         Error("SP0523", at, $"{Q(factor)} is a block of the analysis of covariance: its levels are units, not treatments to compare, so its adjusted means are not compared; name a treatment factor");
@@ -831,6 +825,10 @@ public sealed class DiagnosticBag
     // ---- posthoc of adjusted means: Dunnett with a control (SP0296-SP0297, SP0541-SP0542) ----
     public void DunnettNeedsControl(SourceLocation at) =>
         Error("SP0296", at, "'method: dunnett' compares every level with a control; name the control level with 'control', or choose a pairwise method ('tukey', 'holm', 'bonferroni')");
+
+    /// <summary>SP0541: the multivariate t probabilities of Dunnett's comparisons of adjusted means missed the required accuracy within the work limit (many levels).</summary>
+    public void DunnettAccuracyNotReached(SourceLocation at, string control, int comparisons, double reached, double required, string of) =>
+        Error("SP0541", at, string.Create(CultureInfo.InvariantCulture, $"comparing {comparisons} adjusted means with control {Q(control)} needs multivariate t probabilities in {comparisons} dimensions, and within the work limit their estimated error is {reached:G2}, above the {required:G2} the p-values need; compare fewer levels with the control (a 'where' in anova block {Q(of)} that keeps the levels of interest), or write 'method: holm' (or 'bonferroni') to compare each level with the control without the multivariate t"));
 
     /// <summary>Closest candidate within a small edit distance, for "did you mean".</summary>
     public static string? Nearest(string word, IEnumerable<string> candidates)

@@ -219,6 +219,18 @@ public static class Stat
     /// <summary>An estimate: a covariate's common slope, or a contrast's Σ c_i × mean_i.</summary>
     public const string Estimate = "estimate";
 
+    /// <summary>Iman–Davenport F of a Friedman test (recorded on the <c>friedman</c> row).</summary>
+    public const string FImanDavenport = "f_iman_davenport";
+
+    /// <summary>Numerator degrees of freedom of the Iman–Davenport F, k − 1.</summary>
+    public const string Df1ImanDavenport = "df1_iman_davenport";
+
+    /// <summary>Denominator degrees of freedom of the Iman–Davenport F, (k − 1)(n − 1).</summary>
+    public const string Df2ImanDavenport = "df2_iman_davenport";
+
+    /// <summary>p-value of the Iman–Davenport F.</summary>
+    public const string PImanDavenport = "p_iman_davenport";
+
     /// <summary>Mean of the values left after trimming each tail (trimmed-means comparison).</summary>
     public const string TrimmedMean = "trimmed_mean";
 
@@ -232,7 +244,7 @@ public static class Stat
     public const string Trim = "trim";
 
     /// <summary>Stats that are whole numbers (counts, degrees of freedom of exact designs), shown without decimals.</summary>
-    public static IReadOnlySet<string> Counts { get; } = new HashSet<string>(StringComparer.Ordinal) { N, Df, Missing, NPerGroup, NTotal, Df1, Df2, M, NBlocks, BlocksDropped, DfDen, SubjectsDropped, Rows, RowsUsed, DroppedMissing, NEffective };
+    public static IReadOnlySet<string> Counts { get; } = new HashSet<string>(StringComparer.Ordinal) { N, Df, Missing, NPerGroup, NTotal, Df1, Df2, M, NBlocks, BlocksDropped, DfDen, SubjectsDropped, Rows, RowsUsed, DroppedMissing, Df1ImanDavenport, Df2ImanDavenport, NEffective };
 
     /// <summary>Every name, with its meaning (checked against docs/manifest.md by the tests).</summary>
     public static IReadOnlyDictionary<string, string> All { get; } = new Dictionary<string, string>(StringComparer.Ordinal)
@@ -309,6 +321,10 @@ public static class Stat
         [PLower] = "one-sided p-value against the lower margin",
         [PUpper] = "one-sided p-value against the upper margin",
         [Estimate] = "estimate (a covariate's common slope, or a contrast's sum of coefficient × level mean)",
+        [FImanDavenport] = "Iman–Davenport F of a Friedman test",
+        [Df1ImanDavenport] = "numerator degrees of freedom of the Iman–Davenport F",
+        [Df2ImanDavenport] = "denominator degrees of freedom of the Iman–Davenport F",
+        [PImanDavenport] = "p-value of the Iman–Davenport F",
         [TrimmedMean] = "trimmed mean (mean of the values left after trimming each tail)",
         [WinsorizedVariance] = "winsorized variance (divisor n − 1)",
         [NEffective] = "values left after trimming both tails",
@@ -388,9 +404,6 @@ public static class TestName
     /// <summary>Friedman rank test for complete blocks.</summary>
     public const string Friedman = "friedman";
 
-    /// <summary>Iman–Davenport F after a Friedman test.</summary>
-    public const string ImanDavenport = "iman_davenport";
-
     /// <summary>Conover's comparisons after a Friedman test.</summary>
     public const string Conover = "conover";
 
@@ -433,6 +446,12 @@ public static class TestName
     /// <summary>A planned contrast or polynomial trend of one factor's level means.</summary>
     public const string Contrast = "contrast";
 
+    /// <summary>Holm-adjusted comparisons of a repeated block's within-subject levels from the mixed model's (REML) marginal means.</summary>
+    public const string HolmReml = "holm_reml";
+
+    /// <summary>Bonferroni-adjusted comparisons of a repeated block's within-subject levels from the mixed model's (REML) marginal means.</summary>
+    public const string BonferroniReml = "bonferroni_reml";
+
     /// <summary>The heteroscedastic comparison of trimmed means (Yuen; Welch's method on trimmed means).</summary>
     public const string TrimmedMeans = "trimmed_means";
 
@@ -462,7 +481,6 @@ public static class TestName
         [Design] = "the design a methods block describes",
         [Input] = "an input dataset",
         [Friedman] = "Friedman rank test for complete blocks",
-        [ImanDavenport] = "Iman–Davenport F after a Friedman test",
         [Conover] = "Conover's comparisons after a Friedman test",
         [Nemenyi] = "Nemenyi's comparisons after a Friedman test",
         [VarianceComponents] = "variance components of the random terms",
@@ -477,6 +495,8 @@ public static class TestName
         [SlopesHomogeneity] = "homogeneity-of-slopes test (treatment x covariate interaction)",
         [Contrast] = "planned contrast or polynomial trend of level means",
         [Emmeans] = "estimated marginal means (adjusted to the covariate means in an analysis of covariance)",
+        [HolmReml] = "Holm-adjusted comparisons of within-subject levels from the mixed model's marginal means",
+        [BonferroniReml] = "Bonferroni-adjusted comparisons of within-subject levels from the mixed model's marginal means",
         [TrimmedMeans] = "heteroscedastic comparison of trimmed means (Yuen; Welch's method on trimmed means)",
     };
 }

@@ -288,6 +288,14 @@ public static class References
         var nearStat = selected.Where(s => stat.StartsWith(s, StringComparison.Ordinal) || s.StartsWith(stat, StringComparison.Ordinal)).OrderByDescending(s => s.Length).FirstOrDefault()
             ?? DiagnosticBag.Nearest(stat, selected);
         var pathText = string.Join(".", parts.Select(ReferenceGrammar.QuoteIfNeeded));
+        if (selected.Count == 0 && middle.Length > 0 && Folded(block, middle, stat, ofBlock) is { } folded)
+        {
+            // A test whose values are now statistics of another row (iman_davenport.f became
+            // friedman's f_iman_davenport): the path without that part, with the statistic named after it.
+            diagnostics.UnknownReference(reference.Location, reference.Text, folded);
+            return null;
+        }
+
         if (selected.Count == 0 && middle.Length > 0)
         {
             // A misspelt term or level: correct each unknown part to the nearest one of the block.
@@ -306,6 +314,31 @@ public static class References
             ? string.Join(".", parts.Take(parts.Count - 1).Append(nearStat).Select(ReferenceGrammar.QuoteIfNeeded))
             : DiagnosticBag.Nearest(pathText.Replace(" ", string.Empty, StringComparison.Ordinal), ofBlock.Select(PathOf));
         diagnostics.UnknownReference(reference.Location, reference.Text, suggestion);
+        return null;
+    }
+
+    /// <summary>
+    /// The path that names <paramref name="stat"/> of an unknown part X as the statistic
+    /// <c>stat_X</c> of the values the other parts select, when the block has it; else null.
+    /// </summary>
+    private static string? Folded(string block, string[] middle, string stat, List<ResultValue> ofBlock)
+    {
+        var components = ofBlock.SelectMany(v => v.Components()).ToHashSet(StringComparer.Ordinal);
+        for (var i = 0; i < middle.Length; i++)
+        {
+            if (components.Contains(middle[i]))
+            {
+                continue;
+            }
+
+            var name = stat + "_" + middle[i];
+            var rest = middle.Where((_, j) => j != i).ToArray();
+            if (ofBlock.Any(v => v.Stat == name && IsSubsequence(rest, [.. v.Components()])))
+            {
+                return string.Join(".", new[] { block }.Concat(rest).Append(name).Select(ReferenceGrammar.QuoteIfNeeded));
+            }
+        }
+
         return null;
     }
 

@@ -101,6 +101,40 @@ public class MultivariateTTests
         Assert.Equal(0, one.Error);
     }
 
+    // Regression (issue #16): the lattice's generators came from a table of 46 primes, so more than
+    // 46 coordinates (a t with 47 variables: 48 levels compared with a control) threw. The primes are
+    // now computed: the first 46 are the old table (same generators, same bits below 47 coordinates),
+    // and the count goes on (the 1000th prime is 7919, from memory of the standard table).
+    [Fact]
+    public void Primes_AreComputedForAnyDimension_AndStartWithTheOldTable()
+    {
+        int[] table = [2, 3, 5, 7, 11, 13, 17, 19, 23, 29, 31, 37, 41, 43, 47, 53, 59, 61, 67, 71, 73, 79, 83, 89, 97, 101, 103, 107, 109, 113, 127, 131, 137, 139, 149, 151, 157, 163, 167, 173, 179, 181, 191, 193, 197, 199];
+        Assert.Equal(table, MultivariateT.Primes(46));
+        var many = MultivariateT.Primes(1000);
+        Assert.Equal(1000, many.Length);
+        Assert.Equal(7919, many[^1]);
+        foreach (var count in new[] { 1, 2, 5, 6, 7, 100 })
+        {
+            Assert.Equal(count, MultivariateT.Primes(count).Length);
+        }
+    }
+
+    // Regression (issue #16): 59 variables (60 levels against a control) used to throw. With equal
+    // correlations 0.5 the exact Dunnett integral is known; the rule, stopped by the work limit,
+    // must stay within its own error estimate of it, and its cost stays bounded (the points used).
+    [Theory]
+    [InlineData(47, 20.0, 3.3)]
+    [InlineData(59, double.PositiveInfinity, 3.4)]
+    public void ManyVariables_Integrate_WithinTheErrorEstimate_AndTheWorkLimit(int m, double df, double c)
+    {
+        var lambda = Enumerable.Repeat(Math.Sqrt(0.5), m).ToArray();
+        var result = new MultivariateT(Product(lambda), df).Rectangle(Enumerable.Repeat(-c, m).ToArray(), Enumerable.Repeat(c, m).ToArray());
+        var exact = 1 - Dunnett.UpperProbability(c, lambda, df);
+        Assert.InRange(result.Points, 1, MultivariateT.WorkLimit / (MultivariateT.Shifts * m));
+        Assert.True(Math.Abs(exact - result.Value) <= 2 * result.Error, $"{result.Value:R} vs exact {exact:R}, error estimate {result.Error:E2}");
+        Assert.True(result.Error < 2e-3, $"error estimate {result.Error:E2}");
+    }
+
     [Fact]
     public void Domain_RefusesWhatIsNotACorrelationMatrix()
     {

@@ -168,4 +168,53 @@ public class AdjustedComparisonsTests
         var cv = result.CriticalValue.Value;
         Assert.Equal(0.05, 1 - NestedQuadrature.T(r, 20, [-cv, -cv], [cv, cv]), 4);
     }
+
+    private static AdjustedMeansFamily ManyLevels(int k)
+    {
+        // Three observations per level; the covariate's level means differ, so the correlations are general.
+        var y = new List<double>();
+        var x = new List<double>();
+        var g = new List<string>();
+        for (var a = 0; a < k; a++)
+        {
+            for (var i = 0; i < 3; i++)
+            {
+                var xi = 10 + (a % 7 * 0.4) + (i * 0.9) + ((((a * 13) + (i * 7)) % 11) * 0.05);
+                x.Add(xi);
+                y.Add(5 + (a % 4 * 0.3) + (0.5 * xi) + ((((a * 5) + (i * 3)) % 7) * 0.4));
+                g.Add("L" + a.ToString("D2", System.Globalization.CultureInfo.InvariantCulture));
+            }
+        }
+
+        var input = new AncovaInput([.. y], [Factor("g", [.. g])], [new CovariateColumn("x", [.. x])], false, SumOfSquaresType.Hierarchical, 0.05);
+        return Ancova.Fit(input).Family("g");
+    }
+
+    // Regression (issue #16): 48 levels ended in an internal error (46 lattice generators), and
+    // without that limit the integration ran for many minutes (47 p-values and the critical value's
+    // search, each up to 64,000 points per shift of a 47-dimensional integrand). Now every
+    // rectangle is bounded by MultivariateT.WorkLimit, and when the first one (at the Bonferroni
+    // quantile) cannot reach the required accuracy nothing more is integrated: the result says so.
+    [Theory]
+    [InlineData(48, DunnettAlternative.TwoSided)]
+    [InlineData(60, DunnettAlternative.TwoSided)]
+    [InlineData(48, DunnettAlternative.Greater)]
+    public void ManyLevels_StopWithinTheWorkLimit_AndSayTheAccuracyWasMissed(int k, DunnettAlternative direction)
+    {
+        var result = AdjustedComparisons.WithControl(ManyLevels(k), "L00", direction, 0.05);
+        Assert.False(result.Accurate);
+        Assert.Empty(result.Comparisons);
+        Assert.False(result.CriticalValue.IsDefined);
+        Assert.True(result.Error > AdjustedComparisons.RequiredAccuracy, $"error {result.Error:E2}");
+    }
+
+    // A family small enough for the work limit reaches the required accuracy and says so.
+    [Fact]
+    public void FewLevels_ReachTheRequiredAccuracy()
+    {
+        var result = AdjustedComparisons.WithControl(ManyLevels(5), "L00", DunnettAlternative.TwoSided, 0.05);
+        Assert.True(result.Accurate);
+        Assert.Equal(4, result.Comparisons.Count);
+        Assert.InRange(result.Error, 0, AdjustedComparisons.RequiredAccuracy);
+    }
 }

@@ -10,7 +10,8 @@ namespace StudyPress.Binding.Kinds;
 /// factors and belongs to one combination of the between-subject factors. The classical univariate
 /// route (complete subjects; Mauchly's test, Greenhouse–Geisser and Huynh–Feldt corrections, chosen
 /// by a rule) and the mixed-model route (REML, Satterthwaite df; keeps incomplete subjects), paired
-/// comparisons of a within factor's levels and simple effects at each level of a between factor.
+/// comparisons of a within factor's levels (and the same comparisons from the mixed model's
+/// marginal means when it is fitted) and simple effects at each level of a between factor.
 /// </summary>
 public sealed class RepeatedKind : BlockKind
 {
@@ -196,12 +197,6 @@ public sealed class RepeatedKind : BlockKind
                 diagnostics.RepeatedCompareNotWithin(compareNode.Location, compareNode.Value, DiagnosticBag.Nearest(compareNode.Value, within.Select(x => x.Spec.Name)));
                 return null;
             }
-        }
-
-        if (compare is not null && fit == "reml")
-        {
-            diagnostics.RepeatedCompareNeedsClassical(compareNode!.Location);
-            return null;
         }
 
         // The Friedman test ranks each subject's measurements across the levels of one within factor:

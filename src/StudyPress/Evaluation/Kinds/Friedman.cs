@@ -16,11 +16,8 @@ public sealed class FriedmanOutcome(BoundBlock block) : BlockOutcome(block)
     /// <summary>The blocking factor as the report names it.</summary>
     public string BlocksLabel { get; init; } = string.Empty;
 
-    /// <summary><c>friedman</c> values of the treatment term: chi2, df, p, kendall_w, n_blocks, blocks_dropped.</summary>
+    /// <summary><c>friedman</c> values of the treatment term: chi2, df, p, kendall_w, f_iman_davenport, df1_iman_davenport, df2_iman_davenport, p_iman_davenport, n_blocks, blocks_dropped.</summary>
     public IReadOnlyDictionary<string, ResultValue>? Test { get; init; }
-
-    /// <summary><c>iman_davenport</c> values: f, df1, df2, p.</summary>
-    public IReadOnlyDictionary<string, ResultValue>? ImanDavenport { get; init; }
 
     /// <summary>Mean rank of each treatment, in level order.</summary>
     public IReadOnlyList<(string Level, ResultValue MeanRank)> Treatments { get; init; } = [];
@@ -131,17 +128,14 @@ public sealed class FriedmanEvaluator : KindEvaluator
             [Stat.Df] = Add(TestName.Friedman, null, null, Stat.Df, Statistics.Quantity.Of(result.Df)),
             [Stat.P] = Add(TestName.Friedman, null, null, Stat.P, result.P),
             [Stat.KendallW] = Add(TestName.Friedman, null, null, Stat.KendallW, result.KendallW),
+            [Stat.FImanDavenport] = Add(TestName.Friedman, null, null, Stat.FImanDavenport, result.ImanDavenportF),
+            [Stat.Df1ImanDavenport] = Add(TestName.Friedman, null, null, Stat.Df1ImanDavenport, Statistics.Quantity.Of(result.ImanDavenportDf1)),
+            [Stat.Df2ImanDavenport] = Add(TestName.Friedman, null, null, Stat.Df2ImanDavenport, Statistics.Quantity.Of(result.ImanDavenportDf2)),
+            [Stat.PImanDavenport] = Add(TestName.Friedman, null, null, Stat.PImanDavenport, result.ImanDavenportP),
             [Stat.NBlocks] = Add(TestName.Friedman, null, null, Stat.NBlocks, Statistics.Quantity.Of(result.Blocks)),
             [Stat.BlocksDropped] = Add(TestName.Friedman, null, null, Stat.BlocksDropped, Statistics.Quantity.Of(dropped.Count)),
         };
         var treatments = t.Levels.Select((level, j) => (level, Add(TestName.Friedman, level, null, Stat.MeanRank, Statistics.Quantity.Of(result.MeanRanks[j])))).ToList();
-        var id = new Dictionary<string, ResultValue>(StringComparer.Ordinal)
-        {
-            [Stat.F] = Add(TestName.ImanDavenport, null, null, Stat.F, result.ImanDavenportF),
-            [Stat.Df1] = Add(TestName.ImanDavenport, null, null, Stat.Df1, Statistics.Quantity.Of(result.ImanDavenportDf1)),
-            [Stat.Df2] = Add(TestName.ImanDavenport, null, null, Stat.Df2, Statistics.Quantity.Of(result.ImanDavenportDf2)),
-            [Stat.P] = Add(TestName.ImanDavenport, null, null, Stat.P, result.ImanDavenportP),
-        };
 
         var pairTest = options.Method == "nemenyi" ? TestName.Nemenyi : TestName.Conover;
         IReadOnlyList<FriedmanPairwiseComparison> comparisons;
@@ -175,7 +169,6 @@ public sealed class FriedmanEvaluator : KindEvaluator
             TreatmentLabel = treatment.Display,
             BlocksLabel = options.Blocks.Display,
             Test = test,
-            ImanDavenport = id,
             Treatments = treatments,
             PairTest = pairTest,
             Pairs = pairs,

@@ -67,13 +67,10 @@ public sealed partial class PostHocEvaluator
                 return outcome;
             }
 
-            if (method != "tukey")
+            if (method == "tukey")
             {
-                diagnostics.AncovaPostHocControl(options.ControlLocation, method);
-                return outcome;
+                return WithControl(context, block, outcome, factor, family, control, options, diagnostics);
             }
-
-            return WithControl(context, block, outcome, factor, family, control, options.Direction);
         }
 
         // Every comparison from the one fit of the anova block (its adjusted means, their covariance and error df).
@@ -83,7 +80,8 @@ public sealed partial class PostHocEvaluator
             "holm" => AdjustedMeansComparison.Holm,
             _ => AdjustedMeansComparison.Bonferroni,
         };
-        var pairs = AdjustedComparisons.Pairwise(family, adjustment, context.Header.Alpha);
+        // With a control and Holm or Bonferroni: each other level against the control (m = k − 1), no multivariate t.
+        var pairs = AdjustedComparisons.Pairwise(family, adjustment, context.Header.Alpha, options.Control);
         var m = pairs.Count;
         var comparisons = pairs.Select(c => new PairwiseComparison(
             c.LevelA,
@@ -114,12 +112,20 @@ public sealed partial class PostHocEvaluator
 
     /// <summary>
     /// Every other level's adjusted mean against the control's, by the multivariate t with the
-    /// adjusted means' own correlation (<see cref="AdjustedComparisons.WithControl"/>), from the same fit.
+    /// adjusted means' own correlation (<see cref="AdjustedComparisons.WithControl"/>), from the same fit;
+    /// SP0541 at <c>control</c> when its probabilities miss the required accuracy within the work limit.
     /// </summary>
-    private static PostHocOutcome WithControl(EvaluationContext context, BoundBlock block, PostHocOutcome outcome, BlockFactor factor, AdjustedMeansFamily family, string control, DunnettAlternative direction)
+    private static PostHocOutcome WithControl(EvaluationContext context, BoundBlock block, PostHocOutcome outcome, BlockFactor factor, AdjustedMeansFamily family, string control, PostHocKind.Options options, DiagnosticBag diagnostics)
     {
         var alpha = context.Header.Alpha;
+        var direction = options.Direction;
         var dunnett = AdjustedComparisons.WithControl(family, control, direction, alpha);
+        if (!dunnett.Accurate)
+        {
+            diagnostics.DunnettAccuracyNotReached(options.ControlLocation, control, family.Count - 1, dunnett.Error, AdjustedComparisons.RequiredAccuracy, block.Of!.Id);
+            return outcome;
+        }
+
         var m = dunnett.Comparisons.Count;
         var comparisons = dunnett.Comparisons.Select(c => new PairwiseComparison(c.LevelA, c.LevelB, c.Diff, c.Se, c.T, c.CiLow, c.CiHigh, c.PAdjusted, Quantity.Of(c.Df))).ToList();
         var result = new PostHocResult(dunnett.Method, alpha, comparisons, dunnett.CriticalValue);

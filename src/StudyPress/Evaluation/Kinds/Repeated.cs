@@ -84,11 +84,8 @@ public sealed class RepeatedOutcome(BoundBlock block) : BlockOutcome(block)
     /// <summary>Whether the Friedman test is shown, and why.</summary>
     public RankRouteReason RankReason { get; init; }
 
-    /// <summary>The Friedman test over the within factor's levels (<c>chi2</c>, <c>df</c>, <c>p</c>, <c>kendall_w</c>, <c>n_blocks</c>, <c>blocks_dropped</c>), when shown.</summary>
+    /// <summary>The Friedman test over the within factor's levels (<c>chi2</c>, <c>df</c>, <c>p</c>, <c>kendall_w</c>, the Iman–Davenport <c>f_iman_davenport</c>, <c>df1_iman_davenport</c>, <c>df2_iman_davenport</c>, <c>p_iman_davenport</c>, <c>n_blocks</c>, <c>blocks_dropped</c>), when shown.</summary>
     public IReadOnlyDictionary<string, ResultValue>? Friedman { get; init; }
-
-    /// <summary>Iman–Davenport F (<c>f</c>, <c>df1</c>, <c>df2</c>, <c>p</c>), with the Friedman test.</summary>
-    public IReadOnlyDictionary<string, ResultValue>? ImanDavenport { get; init; }
 
     /// <summary>Mean rank of each level of the within factor, with the Friedman test.</summary>
     public IReadOnlyList<(string Level, ResultValue MeanRank)> MeanRanks { get; init; } = [];
@@ -156,6 +153,20 @@ public sealed class RepeatedOutcome(BoundBlock block) : BlockOutcome(block)
     public string PairTest { get; init; } = TestName.Holm;
 
     public IReadOnlyList<RepeatedPairValues> Pairs { get; init; } = [];
+
+    /// <summary>
+    /// Comparisons of the <c>compare</c> factor's levels from the mixed model's marginal means
+    /// (REML, Satterthwaite df; diff, se, statistic, df, p, p_adj, ci_low, ci_high), whenever the
+    /// mixed model was fitted: alone with <c>fit: reml</c>, beside <see cref="Pairs"/> when
+    /// <c>fit: auto</c> fitted both routes.
+    /// </summary>
+    public IReadOnlyList<RepeatedPairValues> RemlPairs { get; init; } = [];
+
+    /// <summary>The manifest test of <see cref="RemlPairs"/>: <c>holm_reml</c> or <c>bonferroni_reml</c>.</summary>
+    public string RemlPairTest { get; init; } = TestName.HolmReml;
+
+    /// <summary>Why the mixed model's marginal means, and so its comparisons, could not be estimated (the engine's reason), or null.</summary>
+    public string? RemlPairsNotComputed { get; init; }
 
     /// <summary>Simple effects, when computed; <see cref="SimpleAsked"/> says whether asked for (else: interaction significant).</summary>
     public IReadOnlyList<SimpleEffectValues> Simple { get; init; } = [];
@@ -455,6 +466,39 @@ public sealed class RepeatedEvaluator : KindEvaluator
             }
         }
 
+        // Comparisons of the same levels from the mixed model's marginal means (incomplete subjects kept).
+        var remlPairs = new List<RepeatedPairValues>();
+        var remlPairTest = o.Adjust == "bonferroni" ? TestName.BonferroniReml : TestName.HolmReml;
+        string? remlPairsNotComputed = null;
+        if (o.Compare is { } remlCompare && mixedFit is not null)
+        {
+            var cm = RepeatedCellMeans.FromReml(design, mixedFit, out var cmIssue);
+            if (cm is null)
+            {
+                remlPairsNotComputed = cmIssue;
+            }
+            else
+            {
+                var term = remlCompare.Spec.Name;
+                foreach (var c in cm.Pairs([term], o.Adjust == "bonferroni" ? RepeatedPairAdjustment.Bonferroni : RepeatedPairAdjustment.Holm, alpha))
+                {
+                    var (a, b) = (c.LevelsA[0], c.LevelsB[0]);
+                    string[] pair = [a, b];
+                    remlPairs.Add(new RepeatedPairValues(a, b, new Dictionary<string, ResultValue>(StringComparer.Ordinal)
+                    {
+                        [Stat.Diff] = Add(remlPairTest, term, null, pair, Stat.Diff, Quantity.Of(c.Difference.Value)),
+                        [Stat.Se] = Add(remlPairTest, term, null, pair, Stat.Se, c.Difference.Se),
+                        [Stat.Statistic] = Add(remlPairTest, term, null, pair, Stat.Statistic, c.T),
+                        [Stat.Df] = Add(remlPairTest, term, null, pair, Stat.Df, c.Difference.Df),
+                        [Stat.P] = Add(remlPairTest, term, null, pair, Stat.P, c.P),
+                        [Stat.PAdj] = Add(remlPairTest, term, null, pair, Stat.PAdj, c.PAdjusted),
+                        [Stat.CiLow] = Add(remlPairTest, term, null, pair, Stat.CiLow, c.Difference.CiLow),
+                        [Stat.CiHigh] = Add(remlPairTest, term, null, pair, Stat.CiHigh, c.Difference.CiHigh),
+                    }));
+                }
+            }
+        }
+
         // Simple effects of each within factor at each level of each between factor.
         var simple = new List<SimpleEffectValues>();
         if (fit is not null && o.Simple != "never")
@@ -516,7 +560,6 @@ public sealed class RepeatedEvaluator : KindEvaluator
             NormalityN = ranks?.NormalityN ?? 0,
             RankReason = ranks?.Reason ?? RankRouteReason.None,
             Friedman = ranks?.Friedman,
-            ImanDavenport = ranks?.ImanDavenport,
             MeanRanks = ranks?.MeanRanks ?? [],
             RankPairs = ranks?.Pairs ?? [],
             SubjectLabel = o.Subject.Spec.Display,
@@ -541,6 +584,9 @@ public sealed class RepeatedEvaluator : KindEvaluator
             CompareLabel = o.Compare?.Spec.Display,
             PairTest = pairTest,
             Pairs = pairs,
+            RemlPairs = remlPairs,
+            RemlPairTest = remlPairTest,
+            RemlPairsNotComputed = remlPairsNotComputed,
             Simple = simple,
             SimpleAsked = o.Simple == "always",
             WithinLevelCounts = [.. withinCols.Select(c => c.Distinct(StringComparer.Ordinal).Count())],
@@ -561,7 +607,6 @@ public sealed class RepeatedEvaluator : KindEvaluator
         int NormalityN,
         RankRouteReason Reason,
         IReadOnlyDictionary<string, ResultValue>? Friedman,
-        IReadOnlyDictionary<string, ResultValue>? ImanDavenport,
         IReadOnlyList<(string Level, ResultValue MeanRank)> MeanRanks,
         IReadOnlyList<RepeatedPairValues> Pairs);
 
@@ -639,7 +684,7 @@ public sealed class RepeatedEvaluator : KindEvaluator
 
         if (reason is not (RankRouteReason.Asked or RankRouteReason.NormalityFailed))
         {
-            return new RankValues(normality, residuals.Length, reason, null, null, [], []);
+            return new RankValues(normality, residuals.Length, reason, null, [], []);
         }
 
         var levels = fit.WithinLevels[0];
@@ -652,17 +697,14 @@ public sealed class RepeatedEvaluator : KindEvaluator
             [Stat.Df] = add(TestName.Friedman, term, null, null, Stat.Df, Quantity.Of(result.Df)),
             [Stat.P] = add(TestName.Friedman, term, null, null, Stat.P, result.P),
             [Stat.KendallW] = add(TestName.Friedman, term, null, null, Stat.KendallW, result.KendallW),
+            [Stat.FImanDavenport] = add(TestName.Friedman, term, null, null, Stat.FImanDavenport, result.ImanDavenportF),
+            [Stat.Df1ImanDavenport] = add(TestName.Friedman, term, null, null, Stat.Df1ImanDavenport, Quantity.Of(result.ImanDavenportDf1)),
+            [Stat.Df2ImanDavenport] = add(TestName.Friedman, term, null, null, Stat.Df2ImanDavenport, Quantity.Of(result.ImanDavenportDf2)),
+            [Stat.PImanDavenport] = add(TestName.Friedman, term, null, null, Stat.PImanDavenport, result.ImanDavenportP),
             [Stat.NBlocks] = add(TestName.Friedman, term, null, null, Stat.NBlocks, Quantity.Of(result.Blocks)),
             [Stat.BlocksDropped] = add(TestName.Friedman, term, null, null, Stat.BlocksDropped, Quantity.Of(fit.Dropped.Count)),
         };
         var meanRanks = levels.Select((level, j) => (level, add(TestName.Friedman, term, level, null, Stat.MeanRank, Quantity.Of(result.MeanRanks[j])))).ToList();
-        var id = new Dictionary<string, ResultValue>(StringComparer.Ordinal)
-        {
-            [Stat.F] = add(TestName.ImanDavenport, term, null, null, Stat.F, result.ImanDavenportF),
-            [Stat.Df1] = add(TestName.ImanDavenport, term, null, null, Stat.Df1, Quantity.Of(result.ImanDavenportDf1)),
-            [Stat.Df2] = add(TestName.ImanDavenport, term, null, null, Stat.Df2, Quantity.Of(result.ImanDavenportDf2)),
-            [Stat.P] = add(TestName.ImanDavenport, term, null, null, Stat.P, result.ImanDavenportP),
-        };
         var pairs = new List<RepeatedPairValues>();
         if (o.Compare is not null)
         {
@@ -679,7 +721,7 @@ public sealed class RepeatedEvaluator : KindEvaluator
             }
         }
 
-        return new RankValues(normality, residuals.Length, reason, friedman, id, meanRanks, pairs);
+        return new RankValues(normality, residuals.Length, reason, friedman, meanRanks, pairs);
     }
 
     /// <summary>Subjects drawn as thin lines in the profile figure (the mean profile uses all).</summary>

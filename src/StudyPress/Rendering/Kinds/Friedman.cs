@@ -18,7 +18,7 @@ public sealed class FriedmanRenderer : KindRenderer
     /// <summary>The sentence a methods paragraph gives this test.</summary>
     public override IEnumerable<string> Methods(MethodsPart part, MethodsSection? section, BlockOutcome outcome, MethodsWriter w)
     {
-        if (part != MethodsPart.Results || !w.Has("effects") || outcome is not FriedmanOutcome { Test: { } t, ImanDavenport: { } id } o)
+        if (part != MethodsPart.Results || !w.Has("effects") || outcome is not FriedmanOutcome { Test: { } t } o)
         {
             yield break;
         }
@@ -26,7 +26,7 @@ public sealed class FriedmanRenderer : KindRenderer
         var rejected = t[Stat.P].Value is { IsDefined: true } p && p.Value < w.Outcome.Alpha;
         var pairs = o.PairTest == TestName.Nemenyi ? "Nemenyi's comparisons of mean ranks" : "Conover's comparisons of mean ranks (Holm-adjusted)";
         yield return w.Did($"a Friedman rank test of {MethodsWriter.E(o.TreatmentLabel)} within {MethodsWriter.Df(t[Stat.NBlocks])} complete blocks of {MethodsWriter.E(o.BlocksLabel)}, with {pairs},", false, "run", "ran", "run", ".")
-            + $" It {(rejected ? w.T("rejected", "rejects") : w.T("did not reject", "does not reject"))} the hypothesis that the treatments are ranked alike within blocks, χ²({MethodsWriter.Df(t[Stat.Df])}) = {MethodsWriter.S2(t[Stat.Chi2])}, {ReportStyle.PPhrase(t[Stat.P])}, Kendall's W = {MethodsWriter.Fr(t[Stat.KendallW])}; the Iman–Davenport F({MethodsWriter.Df(id[Stat.Df1])}, {MethodsWriter.Df(id[Stat.Df2])}) = {MethodsWriter.S2(id[Stat.F])}, {ReportStyle.PPhrase(id[Stat.P])}."
+            + $" It {(rejected ? w.T("rejected", "rejects") : w.T("did not reject", "does not reject"))} the hypothesis that the treatments are ranked alike within blocks, χ²({MethodsWriter.Df(t[Stat.Df])}) = {MethodsWriter.S2(t[Stat.Chi2])}, {ReportStyle.PPhrase(t[Stat.P])}, Kendall's W = {MethodsWriter.Fr(t[Stat.KendallW])}; the Iman–Davenport F({MethodsWriter.Df(t[Stat.Df1ImanDavenport])}, {MethodsWriter.Df(t[Stat.Df2ImanDavenport])}) = {MethodsWriter.S2(t[Stat.FImanDavenport])}, {ReportStyle.PPhrase(t[Stat.PImanDavenport])}."
             + (rejected ? string.Empty : " This is not evidence that the treatments act alike.");
     }
 
@@ -60,7 +60,7 @@ public sealed class FriedmanRenderer : KindRenderer
 
     public override void Render(HtmlWriter html, BlockOutcome outcome, RenderContext context)
     {
-        if (outcome is not FriedmanOutcome { Test: { } test, ImanDavenport: { } id } o)
+        if (outcome is not FriedmanOutcome { Test: { } test } o)
         {
             return;
         }
@@ -68,7 +68,7 @@ public sealed class FriedmanRenderer : KindRenderer
         string V(ResultValue v) => HtmlWriter.ValueHtml(v, context);
         var t = new HtmlTable("friedman", o.Block.Caption ?? $"Friedman test of {o.TreatmentLabel} within {o.BlocksLabel}", ["Test", "statistic", "df", "p", "Kendall's W"]);
         t.Row("Friedman χ²", [V(test[Stat.Chi2]), V(test[Stat.Df]), V(test[Stat.P]), V(test[Stat.KendallW])]);
-        t.Row("Iman–Davenport F", [V(id[Stat.F]), V(id[Stat.Df1]) + ", " + V(id[Stat.Df2]), V(id[Stat.P]), string.Empty]);
+        t.Row("Iman–Davenport F", [V(test[Stat.FImanDavenport]), V(test[Stat.Df1ImanDavenport]) + ", " + V(test[Stat.Df2ImanDavenport]), V(test[Stat.PImanDavenport]), string.Empty]);
         t.WriteTo(html);
 
         var ranks = new HtmlTable("mean-ranks", string.Create(CultureInfo.InvariantCulture, $"Mean ranks within {test[Stat.NBlocks].Value.Value} blocks"), [o.TreatmentLabel, "mean rank"]);

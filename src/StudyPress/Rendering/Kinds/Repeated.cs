@@ -126,6 +126,17 @@ public sealed class RepeatedRenderer : KindRenderer
                 : "The";
             yield return $"{why} Friedman rank test of {MethodsWriter.E(o.Within[0].Label)} with the Iman–Davenport F {w.T("was", "is")} also run (subjects as blocks)" + (o.RankPairs.Count > 0 ? ", with Conover's comparisons of mean ranks (Holm-adjusted)." : ".");
         }
+
+        if (w.Has("comparisons") && (o.Pairs.Count > 0 || o.RemlPairs.Count > 0))
+        {
+            var how = MethodsWriter.List(new[]
+            {
+                o.Pairs.Count > 0 ? "by paired t tests on the complete subjects" : null,
+                o.RemlPairs.Count > 0 ? "from the mixed model's estimated marginal means (Satterthwaite df), which keep every measurement" : null,
+            }.OfType<string>());
+            var adjusted = (o.Pairs.Count > 0 ? o.PairTest == TestName.Holm : o.RemlPairTest == TestName.HolmReml) ? "Holm" : "Bonferroni";
+            yield return w.Did($"the levels of {MethodsWriter.E(o.CompareLabel)}", true, "compared", "compared", "compare", $" pairwise {how}, with {adjusted}-adjusted p-values.");
+        }
     }
 
     public override IEnumerable<string> Warnings(BlockOutcome outcome, RenderContext context)
@@ -138,6 +149,11 @@ public sealed class RepeatedRenderer : KindRenderer
         if (o.Mixed is not null && o.Rows is not null && o.Mixed.Any(m => SameDecision(o, m, context.Alpha) == false))
         {
             yield return $"At α = {context.AlphaText} the classical and mixed-model routes reach different decisions for " + string.Join(", ", o.Mixed.Where(m => SameDecision(o, m, context.Alpha) == false).Select(m => BidiText.Isolate(Term(o, m.Term)))) + ": read both tables; the mixed model uses every measurement of the incomplete subjects, the classical route only the complete subjects.";
+        }
+
+        if (o.Pairs.Count > 0 && o.RemlPairs.Count > 0 && o.RemlPairs.Any(r => SamePairDecision(o, r, context.Alpha) == false))
+        {
+            yield return $"At α = {context.AlphaText} the paired comparisons (complete subjects) and the mixed model's comparisons (every measurement) of {BidiText.Isolate(o.CompareLabel ?? string.Empty)} reach different decisions for " + string.Join(", ", o.RemlPairs.Where(r => SamePairDecision(o, r, context.Alpha) == false).Select(r => BidiText.Isolate(r.A) + " − " + BidiText.Isolate(r.B))) + ": read both tables; the mixed model also uses the incomplete subjects' measurements.";
         }
 
         if (o.RankReason == RankRouteReason.NormalityFailedNoRankForm)
@@ -183,9 +199,9 @@ public sealed class RepeatedRenderer : KindRenderer
             yield return string.Create(CultureInfo.InvariantCulture, $"{NumberText.Count(o.DroppedMissing, "row")} with a missing value {(o.DroppedMissing == 1 ? "was" : "were")} left out.");
         }
 
-        if (o.Rows is null && o.CompareLabel is not null)
+        if (o.RemlPairsNotComputed is { } notComputed)
         {
-            yield return "No paired comparisons: too few subjects are complete for the classical route, on whose complete subjects they are made.";
+            yield return $"The mixed model's comparisons of {BidiText.Isolate(o.CompareLabel ?? string.Empty)} were not computed: {notComputed}.";
         }
 
         if (o.RankReason == RankRouteReason.NormalityNotTested && o.Normality is null)
@@ -274,10 +290,9 @@ public sealed class RepeatedRenderer : KindRenderer
         if (o.Friedman is { } fr)
         {
             var within = o.Within[0].Label;
-            var id = o.ImanDavenport!;
             var f = new HtmlTable("repeated-friedman", $"Friedman rank test of {within} (subjects as blocks, {fr[Stat.NBlocks].Value.Value.ToString(CultureInfo.InvariantCulture)} complete subjects)", ["Test", "statistic", "df", "p", "Kendall's W"]);
             f.Row("Friedman χ²", [V(fr[Stat.Chi2]), V(fr[Stat.Df]), V(fr[Stat.P]), V(fr[Stat.KendallW])]);
-            f.Row("Iman–Davenport F", [V(id[Stat.F]), V(id[Stat.Df1]) + ", " + V(id[Stat.Df2]), V(id[Stat.P]), string.Empty]);
+            f.Row("Iman–Davenport F", [V(fr[Stat.FImanDavenport]), V(fr[Stat.Df1ImanDavenport]) + ", " + V(fr[Stat.Df2ImanDavenport]), V(fr[Stat.PImanDavenport]), string.Empty]);
             f.WriteTo(html);
             var ranks = new HtmlTable("repeated-mean-ranks", $"Mean rank of each level of {within} within subjects", ["Level", "mean rank"]);
             foreach (var (level, rank) in o.MeanRanks)
@@ -329,7 +344,8 @@ public sealed class RepeatedRenderer : KindRenderer
         if (o.Pairs.Count > 0)
         {
             var holm = o.PairTest == TestName.Holm;
-            var p = new HtmlTable("pairs", $"Paired comparisons of {o.CompareLabel} ({(holm ? "Holm" : "Bonferroni")}-adjusted)", ["Pair", "mean difference", "SE", "t", "df", "p", "adjusted p", "simultaneous interval"]);
+            var onComplete = o.RemlPairs.Count > 0 ? string.Create(CultureInfo.InvariantCulture, $"; paired t tests on the {o.Subjects![Stat.N].Value.Value} complete subjects") : string.Empty;
+            var p = new HtmlTable("pairs", $"Paired comparisons of {o.CompareLabel} ({(holm ? "Holm" : "Bonferroni")}-adjusted{onComplete})", ["Pair", "mean difference", "SE", "t", "df", "p", "adjusted p", "simultaneous interval"]);
             foreach (var c in o.Pairs)
             {
                 var v = c.Values;
@@ -337,6 +353,30 @@ public sealed class RepeatedRenderer : KindRenderer
             }
 
             p.WriteTo(html);
+        }
+
+        if (o.RemlPairs.Count > 0)
+        {
+            var counts = o.MixedCounts!;
+            var holm = o.RemlPairTest == TestName.HolmReml;
+            var both = o.Pairs.Count > 0;
+            var caption = string.Create(CultureInfo.InvariantCulture, $"Comparisons of {o.CompareLabel} from the mixed model's marginal means (REML, Satterthwaite df; {(holm ? "Holm" : "Bonferroni")}-adjusted; {counts[Stat.N].Value.Value} subjects, {counts[Stat.NTotal].Value.Value} measurements)");
+            var r = new HtmlTable("repeated-reml-pairs", caption, both
+                ? ["Pair", "mean difference", "SE", "t", "df", "p", "adjusted p", "simultaneous interval", "same decision at α as the paired test"]
+                : ["Pair", "mean difference", "SE", "t", "df", "p", "adjusted p", "simultaneous interval"]);
+            foreach (var c in o.RemlPairs)
+            {
+                var v = c.Values;
+                var cells = new List<string> { V(v[Stat.Diff]), V(v[Stat.Se]), V(v[Stat.Statistic]), V(v[Stat.Df]), V(v[Stat.P]), V(v[Stat.PAdj]), V(v[Stat.CiLow]) + " to " + V(v[Stat.CiHigh]) };
+                if (both)
+                {
+                    cells.Add(SamePairDecision(o, c, context.Alpha) switch { true => "yes", false => "no", _ => string.Empty });
+                }
+
+                r.Row(BidiText.Isolate(c.A) + " − " + BidiText.Isolate(c.B), cells);
+            }
+
+            r.WriteTo(html);
         }
 
         if (o.Simple.Count > 0)
@@ -361,7 +401,8 @@ public sealed class RepeatedRenderer : KindRenderer
             + "Corrected tests multiply both df by the term's ε: Greenhouse–Geisser (Box's estimator) or Huynh–Feldt with Lecoutre's correction for several groups, each capped at 1. "
             + "Generalized η² (Olejnik and Algina 2003) divides an effect's SS by itself plus every error SS, so it can be compared across designs; partial η² divides by the effect's own error only."
             + (o.Mixed is null ? string.Empty : " The mixed model treats subjects (within groups) and each within term × subjects as random effects, estimated by REML, with type 3 Wald F tests on Satterthwaite df.")
-            + (o.Pairs.Count == 0 ? string.Empty : " Paired comparisons are paired t tests of the subjects' differences (they do not assume sphericity), adjusted for the family; the interval is simultaneous at the Bonferroni level.");
+            + (o.Pairs.Count == 0 ? string.Empty : " Paired comparisons are paired t tests of the subjects' differences (they do not assume sphericity), adjusted for the family; the interval is simultaneous at the Bonferroni level.")
+            + (o.RemlPairs.Count == 0 ? string.Empty : " The mixed model's comparisons are differences of its estimated marginal means (generalized least squares at the REML variance estimates, so every measurement of an incomplete subject counts; each level averaged over the other within factors), t tests on Satterthwaite df adjusted for the family; the interval is simultaneous at the Bonferroni level.");
         html.Raw("<p class=\"method\">").Text(method).Raw("</p>");
         var reading = Reading(o, context);
         if (reading.Length > 0)
@@ -386,6 +427,23 @@ public sealed class RepeatedRenderer : KindRenderer
         var classical = row.Values[ReadStat(o, row)].Value;
         var mixed = m.Values[Stat.P].Value;
         return classical.IsDefined && mixed.IsDefined ? (classical.Value < alpha) == (mixed.Value < alpha) : null;
+    }
+
+    /// <summary>
+    /// Whether a mixed-model comparison and the paired comparison of the same pair both reject, or
+    /// both do not, at α (adjusted p); null when either is missing or not defined.
+    /// </summary>
+    private static bool? SamePairDecision(RepeatedOutcome o, RepeatedPairValues reml, double alpha)
+    {
+        var paired = o.Pairs.FirstOrDefault(p => string.Equals(p.A, reml.A, StringComparison.Ordinal) && string.Equals(p.B, reml.B, StringComparison.Ordinal));
+        if (paired is null)
+        {
+            return null;
+        }
+
+        var a = paired.Values[Stat.PAdj].Value;
+        var b = reml.Values[Stat.PAdj].Value;
+        return a.IsDefined && b.IsDefined ? (a.Value < alpha) == (b.Value < alpha) : null;
     }
 
     /// <summary>The p-value the sphericity decision names for a row: uncorrected, Greenhouse–Geisser or Huynh–Feldt.</summary>
