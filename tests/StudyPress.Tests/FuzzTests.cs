@@ -29,6 +29,7 @@ public sealed class FuzzTests
         "of", "factor", "method", "control", "type", "where", "caption", "by", "groups", "effect", "n", "target", "welch", "ss-type", "transform", "interaction",
         "summary", "anova", "assumptions", "posthoc", "ranks", "power", "figure", "methods", "box", "means", "qq", "power-curve", "f-distribution", "residuals-fitted", "intervals", "tukey", "games-howell", "holm", "dunnett", "log", "box-cox", "reciprocal", "sqrt", "auto", "yes", "no",
         "main", "dose", "a", "b", "c", "y", "data.csv", "../data.csv", "/etc/passwd", "sub/", "\"a\"\"b\"", "<script>", "</script>", "<img src=x onerror=alert(1)>", "[x](javascript:alert(1))",
+        "trimmed-means", "```trimmed-means t\n", "trim", "trim: 0.4\n", "0.49", "[=t.dose, result]",
     ];
 
     internal static readonly (string Study, string Csv)[] Bases =
@@ -47,6 +48,10 @@ public sealed class FuzzTests
         (
             "---\ntitle: Transformed\ndata: data.csv\nresponse: y\nfactors: [dose]\n---\n\n```anova main\ntransform: log\nwelch: no\n```\n\n```posthoc\ncontrol: a\n```\n\n```figure\ntype: box\n```\n",
             "dose,y\na,1\na,2\na,3\nb,4\nb,5\nb,7\nc,8\nc,9\nc,12\n"
+        ),
+        (
+            "---\ntitle: Trimmed\ndata: data.csv\nresponse: y\nfactors: [dose]\n---\n\n```trimmed-means t\nfactor: dose\ntrim: 0.2\n```\n\n```trimmed-means w\ntrim: 0\n```\n\n```methods\n```\n\nTrimmed means differ: [=t.trimmed_means.dose, result]; [=t.dose.a.trimmed_mean].\n",
+            "dose,y\na,1\na,2\na,3\na,9\na,2.5\nb,4\nb,5\nb,7\nb,4.5\nb,6\nc,8\nc,9\nc,12\nc,30\nc,8.5\n"
         ),
     ];
 

@@ -128,6 +128,26 @@ public sealed class KindContractTests
         }
     }
 
+    /// <summary>
+    /// Kinds whose main test has no sentence for a <c>[=block.test.term, result]</c> reference
+    /// (Rendering/Sentences.cs): the list of kinds from before this check. A new kind is not added
+    /// here; it gives its main test a case in <c>Sentences.Result</c> (DEVELOPERS.md, step 6).
+    /// </summary>
+    private static readonly string[] KindsWithoutResultSentence = ["contrasts", "equivalence", "figure", "friedman", "marginal-means", "methods", "posthoc"];
+
+    [Theory]
+    [MemberData(nameof(Kinds))]
+    public void MainTestHasAResultSentence(string name)
+    {
+        if (KindsWithoutResultSentence.Contains(name))
+        {
+            return;
+        }
+
+        var test = BlockKinds.All[name].PrimaryTest;
+        Assert.True(StudyPress.Rendering.Sentences.Phrased.Contains(test), $"the kind '{name}' has no result sentence for its main test '{test}': add a case to Sentences.Result and the test to Sentences.Phrased (Rendering/Sentences.cs), or '[={name}-block.{test}.TERM, result]' is an error");
+    }
+
     private static IEnumerable<string> Components(JsonNode v)
     {
         yield return v["block"]!.GetValue<string>();

@@ -113,7 +113,7 @@ public static class BuildComparison
 {
     public const double Tolerance = 1e-12;
 
-    private static readonly HashSet<string> EffectTests = new(StringComparer.Ordinal) { "anova", "welch", "kruskal_wallis" };
+    private static readonly HashSet<string> EffectTests = new(StringComparer.Ordinal) { "anova", "welch", "kruskal_wallis", "trimmed_means" };
 
     private static readonly HashSet<string> PairTests = new(StringComparer.Ordinal) { "tukey_hsd", "games_howell", "holm", "bonferroni", "dunnett", "dunn" };
 
@@ -139,6 +139,7 @@ public static class BuildComparison
         ["bonferroni"] = "Bonferroni",
         ["dunnett"] = "Dunnett",
         ["dunn"] = "Dunn",
+        ["trimmed_means"] = "trimmed means",
     };
 
     public static ComparisonResult Compare(BuildSnapshot old, BuildSnapshot @new)

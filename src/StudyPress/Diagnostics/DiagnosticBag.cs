@@ -744,6 +744,16 @@ public sealed class DiagnosticBag
 
     public void BadStudyId(SourceLocation at, string id) => Error("SP0603", at, $"study id {Q(id)} must start with a letter and use only letters, digits, '_' and '-' (it names the study's figure files)");
 
+    // ---- the trimmed-means kind (its own codes: SP0608, SP0609, SP0399) ----
+    public void TrimOutOfRange(SourceLocation at, string text) =>
+        Error("SP0608", at, $"'trim' is {Q(text)}; write the proportion trimmed from each tail, at least 0 and below 0.5 (0.2, the default, trims the lowest and the highest 20 % of each level's values; 0 compares ordinary means by Welch's test)");
+
+    public void TooFewAfterTrimming(SourceLocation at, string factor, string level, int n, int trimmed, bool trimWritten) =>
+        Error("SP0609", at, string.Create(CultureInfo.InvariantCulture, $"level {Q(level)} of factor {Q(factor)} has {StudyPress.Charts.NumberText.Count(n, "value")}, and trimming {trimmed} from each tail leaves {n - (2 * trimmed)}; each level needs at least 2 values left after trimming to estimate its spread: {(trimWritten ? "lower 'trim', or" : "write a smaller 'trim', or")} collect more values for this level"));
+
+    public void ZeroWinsorizedVariance(SourceLocation at, string factor, bool trimWritten) =>
+        Error("SP0399", at, $"every level of factor {Q(factor)} has zero winsorized variance: once the trimmed values are replaced by their nearest kept neighbours, the values within each level are all equal, so there is no spread to compare the trimmed means against; {(trimWritten ? "lower 'trim'" : "write a smaller 'trim'")}, or check the response column");
+
     // ---- Word and LaTeX exports (SP0620-SP0639) ----
     public void ExportFolderMissing(SourceLocation at, string option, string path, string folder) =>
         Error("SP0620", at, $"{option} {Q(path)}: the folder {Q(folder)} does not exist; create it first or name another place");

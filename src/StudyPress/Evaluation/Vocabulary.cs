@@ -231,8 +231,20 @@ public static class Stat
     /// <summary>p-value of the Iman–Davenport F.</summary>
     public const string PImanDavenport = "p_iman_davenport";
 
+    /// <summary>Mean of the values left after trimming each tail (trimmed-means comparison).</summary>
+    public const string TrimmedMean = "trimmed_mean";
+
+    /// <summary>Sample variance (divisor n − 1) of the winsorized values.</summary>
+    public const string WinsorizedVariance = "winsorized_variance";
+
+    /// <summary>Values left after trimming both tails (h = n − 2g).</summary>
+    public const string NEffective = "n_effective";
+
+    /// <summary>Proportion trimmed from each tail.</summary>
+    public const string Trim = "trim";
+
     /// <summary>Stats that are whole numbers (counts, degrees of freedom of exact designs), shown without decimals.</summary>
-    public static IReadOnlySet<string> Counts { get; } = new HashSet<string>(StringComparer.Ordinal) { N, Df, Missing, NPerGroup, NTotal, Df1, Df2, M, NBlocks, BlocksDropped, DfDen, SubjectsDropped, Rows, RowsUsed, DroppedMissing, Df1ImanDavenport, Df2ImanDavenport };
+    public static IReadOnlySet<string> Counts { get; } = new HashSet<string>(StringComparer.Ordinal) { N, Df, Missing, NPerGroup, NTotal, Df1, Df2, M, NBlocks, BlocksDropped, DfDen, SubjectsDropped, Rows, RowsUsed, DroppedMissing, Df1ImanDavenport, Df2ImanDavenport, NEffective };
 
     /// <summary>Every name, with its meaning (checked against docs/manifest.md by the tests).</summary>
     public static IReadOnlyDictionary<string, string> All { get; } = new Dictionary<string, string>(StringComparer.Ordinal)
@@ -313,6 +325,10 @@ public static class Stat
         [Df1ImanDavenport] = "numerator degrees of freedom of the Iman–Davenport F",
         [Df2ImanDavenport] = "denominator degrees of freedom of the Iman–Davenport F",
         [PImanDavenport] = "p-value of the Iman–Davenport F",
+        [TrimmedMean] = "trimmed mean (mean of the values left after trimming each tail)",
+        [WinsorizedVariance] = "winsorized variance (divisor n − 1)",
+        [NEffective] = "values left after trimming both tails",
+        [Trim] = "proportion trimmed from each tail",
     };
 }
 
@@ -436,6 +452,9 @@ public static class TestName
     /// <summary>Bonferroni-adjusted comparisons of a repeated block's within-subject levels from the mixed model's (REML) marginal means.</summary>
     public const string BonferroniReml = "bonferroni_reml";
 
+    /// <summary>The heteroscedastic comparison of trimmed means (Yuen; Welch's method on trimmed means).</summary>
+    public const string TrimmedMeans = "trimmed_means";
+
     /// <summary>Every name, with its meaning (checked against docs/manifest.md by the tests).</summary>
     public static IReadOnlyDictionary<string, string> All { get; } = new Dictionary<string, string>(StringComparer.Ordinal)
     {
@@ -478,5 +497,6 @@ public static class TestName
         [Emmeans] = "estimated marginal means (adjusted to the covariate means in an analysis of covariance)",
         [HolmReml] = "Holm-adjusted comparisons of within-subject levels from the mixed model's marginal means",
         [BonferroniReml] = "Bonferroni-adjusted comparisons of within-subject levels from the mixed model's marginal means",
+        [TrimmedMeans] = "heteroscedastic comparison of trimmed means (Yuen; Welch's method on trimmed means)",
     };
 }

@@ -118,6 +118,7 @@ public static class Sentences
     [
         "anova", "welch", "kruskal_wallis", "brown_forsythe", "levene", "bartlett", "shapiro_wilk", "durbin_watson",
         "tukey_hsd", "games_howell", "holm", "bonferroni", "dunnett", "dunn", "power", "summary", "means",
+        "trimmed_means",
     ];
 
     private static string S2(ResultValue v) => ReportStyle.Number(v);
@@ -244,6 +245,18 @@ public static class Sentences
                 if (Get("mean") is { } mm && Get("n") is { } mcount)
                 {
                     return $"mean = {S2(mm)}, n = {Df(mcount)}";
+                }
+
+                break;
+            case "trimmed_means":
+                if (Get("f") is { } tf && Get("df1") is { } td1 && Get("df2") is { } td2 && Get("p") is { } tp)
+                {
+                    return $"F({Df(td1)}, {Df(td2)}) = {S2(tf)}, {ReportStyle.PPhrase(tp)}";
+                }
+
+                if (Get("trimmed_mean") is { } tm && Get("n_effective") is { } th)
+                {
+                    return $"trimmed mean = {S2(tm)}, {Df(th)} values after trimming";
                 }
 
                 break;
