@@ -53,6 +53,9 @@ public sealed record RemlResult(
     public RemlFixedTest Test(string term) =>
         Tests.FirstOrDefault(c => string.Equals(c.Term, term, StringComparison.Ordinal))
         ?? throw new KeyNotFoundException("no test " + term);
+
+    /// <summary>The fixed-effect estimates, their covariance and Satterthwaite df of any combination (null only for results built outside <see cref="MixedModel"/>).</summary>
+    public RemlFixedEffects? FixedEffects { get; init; }
 }
 
 /// <summary>
@@ -145,6 +148,11 @@ public static class MixedModel
         public required Matrix<double> X { get; init; }
         public required List<(string Name, int Start, int Count)> FixedTerms { get; init; }
         public required List<(string Name, TermKind Kind, int[] CellOf, int Cells)> Random { get; init; }
+
+        /// <summary>Each treatment factor's levels in coding order (by factor name), and each fixed term's factors (for <see cref="RemlFixedEffects"/>).</summary>
+        public Dictionary<string, string[]> Levels { get; init; } = new(StringComparer.Ordinal);
+
+        public List<string[]> TermFactors { get; init; } = [];
     }
 
     private static DesignIssue? Prepare(IReadOnlyList<DesignFactor> factors, DesignData data, out Setup? setup)
@@ -165,6 +173,7 @@ public static class MixedModel
 
         // Fixed part: intercept and every treatment term in sum-to-zero coding.
         var mainCols = new Dictionary<int, double[][]>();
+        var levelsOf = new Dictionary<string, string[]>(StringComparer.Ordinal);
         for (var f = 0; f < factors.Count; f++)
         {
             if (factors[f].Role != FactorRole.Treatment)
@@ -199,10 +208,12 @@ public static class MixedModel
             }
 
             mainCols[f] = cols;
+            levelsOf[factors[f].Name] = [.. levels];
         }
 
         var columns = new List<double[]> { Enumerable.Repeat(1.0, n).ToArray() };
         var fixedTerms = new List<(string, int, int)>();
+        var termFactors = new List<string[]>();
         var random = new List<(string, TermKind, int[], int)>();
         foreach (var t in model.Terms)
         {
@@ -230,6 +241,7 @@ public static class MixedModel
                 }
 
                 fixedTerms.Add((t.Name, columns.Count, prod.Count));
+                termFactors.Add([.. t.Factors.Select(f => factors[f].Name)]);
                 columns.AddRange(prod);
             }
             else if (t.Cells < n)
@@ -303,7 +315,7 @@ public static class MixedModel
             }
         }
 
-        setup = new Setup { X = x, FixedTerms = fixedTerms, Random = random };
+        setup = new Setup { X = x, FixedTerms = fixedTerms, Random = random, Levels = levelsOf, TermFactors = termFactors };
         return null;
     }
 
@@ -1042,7 +1054,24 @@ public static class MixedModel
             note += "; singular fit: " + string.Join(", ", components.Where(c => c.AtBoundary).Select(c => c.Term)) + " estimated at zero";
         }
 
+        // The fixed effects for views over the fit (marginal means, comparisons, contrasts): β̂,
+        // Cov(β̂), the inverse information of the free variance parameters and the gradient of
+        // l'Cov(β̂)l in them (w'V_j w with w = V⁻¹X Cov(β̂) l, as for the F tests above).
+        var fixedEffects = new RemlFixedEffects(
+            [.. beta],
+            cb.ToArray(),
+            cov.ToArray(),
+            [.. freeF.Select(j => j == m ? StrataAnova.ResidualName : s.Random[j].Name)],
+            yMean,
+            [.. s.FixedTerms.Select((t, i) => new RemlFixedTerm(t.Name, s.TermFactors[i], t.Start, t.Count))],
+            s.Levels,
+            lv =>
+            {
+                var wl = VinvXv(cb * Vector<double>.Build.DenseOfArray(lv));
+                return [.. freeF.Select(j => j == m ? Dot(wl) : Dot(CellSums(j, wl)))];
+            });
+
         // Conditional residuals y − Xβ̂ − Zû, in the data's rows.
-        return new RemlResult(components, tests, state.LogLik, converged, iterations, singular, note, state.Residual);
+        return new RemlResult(components, tests, state.LogLik, converged, iterations, singular, note, state.Residual) { FixedEffects = fixedEffects };
     }
 }
