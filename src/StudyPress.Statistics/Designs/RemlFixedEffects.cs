@@ -555,6 +555,113 @@ public static class RemlComparisons
             Quantity.Of(Probability.TTwoSided(diff / se, df)), verdict, EquivalenceVariance.Pooled, alpha);
     }
 
+    /// <summary>
+    /// Planned contrasts (or polynomial trends) Σ c_i m_i of the marginal means whose coefficient
+    /// rows are <paramref name="rows"/> (level order): each the combination Σ c_i l_i of β̂ with its
+    /// SE and Satterthwaite df; t = estimate/SE on that df, adjusted as in
+    /// <see cref="FollowUp.Contrasts"/> (none, Holm, Bonferroni, Scheffé with F(k − 1, ν) on the
+    /// contrast's own ν). A mixed model has no single error mean square, so no sum of squares is
+    /// given (F = t²). Orthogonality: Σ c_i d_i, and c'Wd with W the means' covariance (zero: the
+    /// estimates are uncorrelated).
+    /// </summary>
+    public static ContrastFamily Contrasts(RemlFixedEffects fit, IReadOnlyList<double[]> rows, IReadOnlyList<ContrastSpec> specs, ContrastAdjustment adjustment, double alpha)
+    {
+        ArgumentNullException.ThrowIfNull(fit);
+        ArgumentNullException.ThrowIfNull(rows);
+        ArgumentNullException.ThrowIfNull(specs);
+        var k = rows.Count;
+        var m = specs.Count;
+        var combos = specs.Select(c =>
+        {
+            var l = new double[fit.Count];
+            for (var i = 0; i < k; i++)
+            {
+                for (var j = 0; j < l.Length; j++)
+                {
+                    l[j] += c.Coefficients[i] * rows[i][j];
+                }
+            }
+
+            return l;
+        }).ToArray();
+        var est = combos.Select(fit.Combination).ToArray();
+        var raw = est.Select(e => e.Se.IsDefined && e.Df.IsDefined ? Probability.TTwoSided(e.Estimate / e.Se.Value, e.Df.Value) : double.NaN).ToArray();
+        var defined = raw.Where(double.IsFinite).ToArray();
+        var holm = adjustment == ContrastAdjustment.Holm && defined.Length > 0 ? PValueAdjustment.Holm(defined) : [];
+        var noSs = Quantity.Undefined("a mixed-model fit has no single error mean square, so a contrast has no sum of squares");
+        var list = new List<ContrastEstimate>(m);
+        var h = 0;
+        for (var j = 0; j < m; j++)
+        {
+            var e = est[j];
+            if (!double.IsFinite(raw[j]))
+            {
+                var u = Quantity.Undefined(e.Se.Reason ?? e.Df.Reason ?? "not defined");
+                list.Add(new ContrastEstimate(specs[j].Name, specs[j].Coefficients, e.Estimate, e.Se, u, double.NaN, u, u, u, u, noSs, u));
+                continue;
+            }
+
+            var se = e.Se.Value;
+            var df = e.Df.Value;
+            var t = e.Estimate / se;
+            var (adjusted, critical) = adjustment switch
+            {
+                ContrastAdjustment.None => (raw[j], Probability.TCritical(alpha, df)),
+                ContrastAdjustment.Holm => (holm[h], Probability.TCritical(alpha / m, df)),
+                ContrastAdjustment.Bonferroni => (Math.Min(1.0, raw[j] * m), Probability.TCritical(alpha / m, df)),
+                ContrastAdjustment.Scheffe => (Probability.FUpper(t * t / (k - 1), k - 1, df), Math.Sqrt((k - 1) * Probability.FCritical(alpha, k - 1, df))),
+                _ => throw new ArgumentOutOfRangeException(nameof(adjustment)),
+            };
+            h++;
+            list.Add(new ContrastEstimate(specs[j].Name, specs[j].Coefficients, e.Estimate, e.Se, Quantity.Of(t), df, Quantity.Of(raw[j]), Quantity.Of(Math.Min(1.0, adjusted)),
+                Quantity.Of(e.Estimate - (critical * se)), Quantity.Of(e.Estimate + (critical * se)), noSs, Quantity.Of(t * t)));
+        }
+
+        var w = fit.Covariance([.. rows.Select(r => (IReadOnlyList<double>)r)]);
+        double Quad(IReadOnlyList<double> a, IReadOnlyList<double> b)
+        {
+            var s = 0.0;
+            for (var i = 0; i < k; i++)
+            {
+                for (var j = 0; j < k; j++)
+                {
+                    s += a[i] * w[i, j] * b[j];
+                }
+            }
+
+            return s;
+        }
+
+        var pairs = new List<ContrastOrthogonality>();
+        for (var a = 0; a < m; a++)
+        {
+            for (var b = a + 1; b < m; b++)
+            {
+                var ca = specs[a].Coefficients;
+                var cb = specs[b].Coefficients;
+                double plain = 0, na = 0, nb = 0;
+                for (var i = 0; i < k; i++)
+                {
+                    plain += ca[i] * cb[i];
+                    na += ca[i] * ca[i];
+                    nb += cb[i] * cb[i];
+                }
+
+                var weighted = Quad(ca, cb);
+                pairs.Add(new ContrastOrthogonality(specs[a].Name, specs[b].Name, plain, Math.Abs(plain) <= 1e-12 * Math.Sqrt(na * nb), weighted, Math.Abs(weighted) <= 1e-12 * Math.Sqrt(Quad(ca, ca) * Quad(cb, cb))));
+            }
+        }
+
+        var method = adjustment switch
+        {
+            ContrastAdjustment.None => "no adjustment; each interval at 1 − α on the contrast's own Satterthwaite df",
+            ContrastAdjustment.Holm => "Holm step-down adjustment; Bonferroni intervals, each on the contrast's own Satterthwaite df",
+            ContrastAdjustment.Bonferroni => "Bonferroni adjustment and intervals, each on the contrast's own Satterthwaite df",
+            _ => "Scheffé adjustment and intervals, each on the contrast's own Satterthwaite df",
+        };
+        return new ContrastFamily(list, pairs, adjustment, alpha, Quantity.Undefined("each contrast has its own Satterthwaite df"), method);
+    }
+
     /// <summary>Row a − row b.</summary>
     public static double[] Difference(double[] a, double[] b)
     {
