@@ -1,6 +1,7 @@
 using System.Globalization;
 using System.Text.Json;
 using StudyPress.Statistics.Designs;
+using StudyPress.Statistics.Distributions;
 using StudyPress.Statistics.PostHoc;
 using StudyPress.Statistics.Tests.Support;
 using static StudyPress.Statistics.Tests.Designs.DesignReference;
@@ -170,6 +171,23 @@ public class RemlFixedEffectsTests
                     AssertRelative(y.Df.Value, x.Df.Value, 1e-7, "df");
                 }
             }
+        }
+    }
+
+    // The interpolated studentized range quantiles of many distinct df (Tukey–Kramer of a REML fit,
+    // each pair on its own df) equal the directly computed quantiles (the project's own
+    // StudentizedRange, checked against published tables in its tests) to 1e-9 relative.
+    [Theory]
+    [InlineData(3, 4.2, 60.0)]
+    [InlineData(6, 9.5, 12.5)]
+    [InlineData(12, 20.0, 400.0)]
+    public void TukeyQuantiles_InterpolationEqualsDirect(int k, double low, double high)
+    {
+        var dfs = Enumerable.Range(0, 20).Select(i => low * Math.Pow(high / low, i / 19.0)).ToArray();
+        var q = RemlComparisons.TukeyQuantiles(0.05, k, dfs);
+        foreach (var df in dfs.Where((_, i) => i % 3 == 1))
+        {
+            AssertRelative(q(df), StudentizedRange.UpperQuantile(0.05, k, df), 1e-9, "q at " + df.ToString(CultureInfo.InvariantCulture));
         }
     }
 
