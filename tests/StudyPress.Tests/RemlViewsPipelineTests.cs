@@ -224,6 +224,24 @@ values: {0.0cwt: 0, 0.2cwt: 0.2, 0.4cwt: 0.4, 0.6cwt: 0.6}
         Assert.Contains("mixed model the anova block fitted by REML", html, StringComparison.Ordinal);
     }
 
+    // Invented change of the unbalanced oats: Victory at 0.6 cwt raised by 60 makes the variety ×
+    // nitrogen interaction significant in the mixed model; a posthoc of nitrogen then carries the
+    // caution that its comparisons average over the varieties.
+    [Fact]
+    public void Posthoc_SignificantInteractionOfTheMixedModel_IsCautioned()
+    {
+        var lines = Csv(unbalanced: true).Split('\n', StringSplitOptions.RemoveEmptyEntries);
+        var csv = string.Join("\n", lines.Select(l =>
+        {
+            var f = l.Split(',');
+            return f[1] == "Victory" && f[2] == "0.6cwt" ? $"{f[0]},{f[1]},{f[2]},{int.Parse(f[3], CultureInfo.InvariantCulture) + 60}" : l;
+        })) + "\n";
+        using var run = new StudyRun().File("data/oats.csv", csv).Study($"---\ntitle: Interaction\ndata: data/oats.csv\n{OatsHeader}\n---\n\n```anova main\n```\n\n```posthoc ph\nfactor: nitrogen\n```\n");
+        var (m, html) = Built(run);
+        Assert.True(m.Get("main", "anova", "variety:nitrogen", "p") < 0.05);
+        Assert.Contains("The anova found the interaction variety:nitrogen significant", html, StringComparison.Ordinal);
+    }
+
     // Balanced oats, 'fit: reml' against 'fit: classical' (exact recomputation behind the strata):
     // the pairwise differences, SEs, adjusted p and intervals of the views are the same to 1e-9.
     [Theory]
