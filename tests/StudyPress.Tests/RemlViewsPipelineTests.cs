@@ -176,6 +176,8 @@ data: data/oats.csv
         var dfDen = m.Get("se", "simple_effects", "variety", "df_den", "nitrogen 0.0cwt");
         Assert.NotEqual(Math.Round(dfDen), dfDen);
         Assert.Equal(12, m.Find("se", "holm", "variety", "p_adj").Count());
+        Assert.Equal(12, m.Find("se", "holm", "variety", "df").Count());
+        Assert.Contains("df (Satterthwaite)", html, StringComparison.Ordinal); // each pair's own df, shown in the pairs table
         Assert.Contains("linear mixed model by REML", html, StringComparison.Ordinal);
     }
 

@@ -168,19 +168,29 @@ public sealed class MarginalMeansRenderer : KindRenderer
         }
 
         tests.WriteTo(html);
+        var headers = PostHocRenderer.PairHeaders("holm", "difference", context.ConfidenceText + "% Bonferroni interval", context);
+        if (o.Reml)
+        {
+            headers.Insert(headers.Count - 1, "df (Satterthwaite)");
+        }
+
         var pairs = new HtmlTable(
             "pairs",
             $"Pairwise differences of {o.ByLabel} within each level of {o.AtLabel} (Holm-adjusted within each level)",
-            PostHocRenderer.PairHeaders("holm", "difference", context.ConfidenceText + "% Bonferroni interval", context)) { TextColumns = [1] };
+            headers) { TextColumns = [1] };
         foreach (var s in o.SimpleEffects)
         {
             pairs.Row(o.AtLabel + " = " + BidiText.Isolate(s.AtLevel), []);
             foreach (var pr in s.Pairs)
             {
                 var v = pr.Values;
-                pairs.Row(
-                    BidiText.Isolate(pr.LevelA) + " − " + BidiText.Isolate(pr.LevelB),
-                    [PostHocRenderer.Verdict(pr.PAdjusted, context), V(v[Stat.Diff]) + " [" + V(v[Stat.CiLow]) + ", " + V(v[Stat.CiHigh]) + "]", V(v[Stat.Se]), V(v[Stat.Statistic]), V(v[Stat.PAdj])]);
+                List<string> cells = [PostHocRenderer.Verdict(pr.PAdjusted, context), V(v[Stat.Diff]) + " [" + V(v[Stat.CiLow]) + ", " + V(v[Stat.CiHigh]) + "]", V(v[Stat.Se]), V(v[Stat.Statistic]), V(v[Stat.PAdj])];
+                if (o.Reml)
+                {
+                    cells.Insert(cells.Count - 1, V(v[Stat.Df]));
+                }
+
+                pairs.Row(BidiText.Isolate(pr.LevelA) + " − " + BidiText.Isolate(pr.LevelB), cells);
             }
         }
 
