@@ -306,15 +306,22 @@ values: {0.0cwt: 0, 0.2cwt: 0.2, 0.4cwt: 0.4, 0.6cwt: 0.6}
     }
 
     [Fact]
-    public void MixedModelRoute_IsRefused()
+    public void MixedModelRoute_ContrastIsTheModelsDifference()
     {
-        // Clewer and Scarisbrick's wheat RCBD with one plot removed: the anova is fitted by REML,
-        // and contrasts of its marginal means are refused with one message.
+        // Clewer and Scarisbrick's wheat RCBD with one plot removed: the anova is fitted by REML;
+        // a contrast V1 − V2 is the same combination of the fixed effects as the posthoc pair
+        // V1 − V2 of that fit (estimate, SE and Satterthwaite df), and one contrast is not adjusted.
         var csv = string.Join("\n", File.ReadAllText(ReferenceFiles.PathOf("rcbd", "clewer-wheat.csv")).Split('\n').Where(l => !l.Contains("B2,V3", StringComparison.Ordinal)));
-        using var run = new StudyRun().File("data/wheat.csv", csv).Study("---\ntitle: Wheat\ndata: data/wheat.csv\nresponse: yield\nfactors:\n  block:\n    role: block\n  variety:\n---\n\n```anova main\n```\n\n```contrasts c\ncompare:\n  one: {V1: 1, V2: -1}\n```\n");
-        var d = Assert.Single(run.Compile().Diagnostics);
-        Assert.Equal("SP0397", d.Code);
-        Assert.Contains("mixed model (REML)", d.Message, StringComparison.Ordinal);
+        using var run = new StudyRun().File("data/wheat.csv", csv).Study("---\ntitle: Wheat\ndata: data/wheat.csv\nresponse: yield\nfactors:\n  block:\n    role: block\n  variety:\n---\n\n```anova main\n```\n\n```contrasts c\ncompare:\n  one: {V1: 1, V2: -1}\n```\n\n```posthoc p\nmethod: bonferroni\n```\n");
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        var m = new ManifestView(result.ManifestJson!);
+        double PairValue(string stat) => m.Values.Single(v => v.GetProperty("block").GetString() == "p" && v.GetProperty("stat").GetString() == stat
+            && v.GetProperty("pair").EnumerateArray().Select(x => x.GetString()).SequenceEqual(["V1", "V2"])).GetProperty("value").GetDouble();
+        Assert.Equal(PairValue("diff"), m.Get("c", "contrast", "variety", "estimate", "one"), 12);
+        Assert.Equal(PairValue("se"), m.Get("c", "contrast", "variety", "se", "one"), 12);
+        Assert.Equal(PairValue("df"), m.Get("c", "contrast", "variety", "df", "one"), 9);
+        Assert.Equal(m.Get("c", "contrast", "variety", "p", "one"), m.Get("c", "contrast", "variety", "p_adj", "one"));
     }
 
     [Fact]

@@ -309,11 +309,24 @@ data: data/oats.csv
         Assert.Contains("'by: nitrogen', 'at: variety'", d.Message, StringComparison.Ordinal);
     }
 
+    // Exact recomputation (balanced oats): with 'fit: reml' the means of variety are the level
+    // means the strata give, and their variance is the strata's (whole-plot error / 24) plus the
+    // block variance / 6, since the mixed model's blocks are random (6 blocks; REML equals the
+    // ANOVA-method components on these balanced data).
     [Fact]
-    public void Oats_MixedModelFit_IsRefused()
+    public void Oats_MixedModelFit_MeansAddTheBlockVariance()
     {
-        using var run = Oats("by: variety", "fit: reml");
-        run.SingleError("SP0526", 18);
+        using var reml = Oats("by: variety", "fit: reml");
+        using var classical = Oats("by: variety");
+        var r = reml.Manifest();
+        var c = classical.Manifest();
+        var block = r.Get("main", "variance_components", "block", "variance");
+        foreach (var v in new[] { "Golden.rain", "Marvellous", "Victory" })
+        {
+            Relative(r.Get("mm", "emmeans", "variety", "mean", v), c.Get("mm", "emmeans", "variety", "mean", v), 1e-12, v);
+            var cs = c.Get("mm", "emmeans", "variety", "se", v);
+            Relative(Math.Pow(r.Get("mm", "emmeans", "variety", "se", v), 2), (cs * cs) + (block / 6), 1e-9, v + " variance");
+        }
     }
 
     // Invented: a fixed factor crossed with two random factors, two replicates per cell, so that A

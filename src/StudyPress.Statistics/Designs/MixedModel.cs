@@ -53,6 +53,9 @@ public sealed record RemlResult(
     public RemlFixedTest Test(string term) =>
         Tests.FirstOrDefault(c => string.Equals(c.Term, term, StringComparison.Ordinal))
         ?? throw new KeyNotFoundException("no test " + term);
+
+    /// <summary>The fixed-effect estimates, their covariance and Satterthwaite df of any combination (null only for results built outside <see cref="MixedModel"/>).</summary>
+    public RemlFixedEffects? FixedEffects { get; init; }
 }
 
 /// <summary>
@@ -167,6 +170,11 @@ public static class MixedModel
         public required List<(string Name, int Start, int Count)> FixedTerms { get; init; }
         public required List<(string Name, TermKind Kind, int[] CellOf, int Cells)> Random { get; init; }
         public required Elimination? Elimination { get; init; }
+
+        /// <summary>Each treatment factor's levels in coding order (by factor name), and each fixed term's factors (for <see cref="RemlFixedEffects"/>).</summary>
+        public Dictionary<string, string[]> Levels { get; init; } = new(StringComparer.Ordinal);
+
+        public List<string[]> TermFactors { get; init; } = [];
     }
 
     private static DesignIssue? Prepare(IReadOnlyList<DesignFactor> factors, DesignData data, out Setup? setup)
@@ -187,6 +195,7 @@ public static class MixedModel
 
         // Fixed part: intercept and every treatment term in sum-to-zero coding.
         var mainCols = new Dictionary<int, double[][]>();
+        var levelsOf = new Dictionary<string, string[]>(StringComparer.Ordinal);
         for (var f = 0; f < factors.Count; f++)
         {
             if (factors[f].Role != FactorRole.Treatment)
@@ -221,10 +230,12 @@ public static class MixedModel
             }
 
             mainCols[f] = cols;
+            levelsOf[factors[f].Name] = [.. levels];
         }
 
         var columns = new List<double[]> { Enumerable.Repeat(1.0, n).ToArray() };
         var fixedTerms = new List<(string, int, int)>();
+        var termFactors = new List<string[]>();
         var random = new List<(string Name, TermKind Kind, int[] CellOf, int Cells)>();
         foreach (var t in model.Terms)
         {
@@ -252,6 +263,7 @@ public static class MixedModel
                 }
 
                 fixedTerms.Add((t.Name, columns.Count, prod.Count));
+                termFactors.Add([.. t.Factors.Select(f => factors[f].Name)]);
                 columns.AddRange(prod);
             }
             else if (t.Cells < n)
@@ -341,7 +353,7 @@ public static class MixedModel
             return new DesignIssue(DesignIssueKind.MissingCombination, "the treatment combinations observed are too close to not allowing every fixed effect to be estimated (their columns are collinear within rounding)", []);
         }
 
-        setup = new Setup { X = x, FixedTerms = fixedTerms, Random = random, Elimination = elim };
+        setup = new Setup { X = x, FixedTerms = fixedTerms, Random = random, Elimination = elim, Levels = levelsOf, TermFactors = termFactors };
         return null;
     }
 
@@ -1599,8 +1611,27 @@ public static class MixedModel
             note += "; singular fit: " + string.Join(", ", components.Where(c => c.AtBoundary).Select(c => c.Term)) + " estimated at zero";
         }
 
+        // The fixed effects for views over the fit (marginal means, comparisons, contrasts): β̂,
+        // Cov(β̂), the inverse information of the free variance parameters and the gradient of
+        // l'Cov(β̂)l in them (w'V_j w with w = V⁻¹X Cov(β̂) l, as for the F tests above).
+        // A response fitted divided by c (extreme magnitudes, above): β̂ × c, Cov(β̂) × c², the
+        // parameters' covariance × c⁴; the gradient of l'Cov(β̂)l in the variances does not depend on c.
+        var fixedEffects = new RemlFixedEffects(
+            c2 == 1 ? [.. beta] : [.. beta.Select(b => b * Math.Sqrt(c2))],
+            (cb * c2).ToArray(),
+            (cov * (c2 * c2)).ToArray(),
+            [.. freeF.Select(j => j == m ? StrataAnova.ResidualName : s.Random[j].Name)],
+            yMean,
+            [.. s.FixedTerms.Select((t, i) => new RemlFixedTerm(t.Name, s.TermFactors[i], t.Start, t.Count))],
+            s.Levels,
+            lv =>
+            {
+                var wl = VinvXv(cb * Vector<double>.Build.DenseOfArray(lv));
+                return [.. freeF.Select(j => j == m ? Dot(wl) : Dot(CellSums(j, wl)))];
+            });
+
         // Conditional residuals y − Xβ̂ − Zû, in the data's rows.
         var residuals = c2 == 1 ? state.Residual : [.. state.Residual.Select(v => v * Math.Sqrt(c2))];
-        return new RemlResult(components, tests, state.LogLik - ((n - p) * logC), converged, iterations, singular, note, residuals);
+        return new RemlResult(components, tests, state.LogLik - ((n - p) * logC), converged, iterations, singular, note, residuals) { FixedEffects = fixedEffects };
     }
 }

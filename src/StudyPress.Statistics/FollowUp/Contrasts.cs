@@ -33,7 +33,7 @@ public sealed record ContrastEstimate(
     double Estimate,
     Quantity Se,
     Quantity T,
-    int Df,
+    double Df,
     Quantity P,
     Quantity PAdjusted,
     Quantity CiLow,

@@ -696,9 +696,6 @@ public sealed class DiagnosticBag
     public void MarginalMeansAtWithoutInteraction(SourceLocation at, string atFactor, string anovaId) =>
         Error("SP0525", at, $"the anova block {Q(anovaId)} fits no interaction ('interaction: false'), so its model makes every effect the same at each level of {Q(atFactor)}; remove 'at' for the main-effect means, or fit the interaction");
 
-    public void MarginalMeansReml(SourceLocation at, string anovaId) =>
-        Error("SP0526", at, $"a 'marginal-means' block cannot analyse {Q(anovaId)}: it was fitted as a mixed model (REML), and its marginal means are not available in this version; 'fit: classical' applies to balanced data only");
-
     public void MarginalMeansNoSingleError(SourceLocation at, string term, string anovaId) =>
         Error("SP0527", at, $"{term} has no single error mean square in the anova block {Q(anovaId)} (its F test is approximate, against a combination of mean squares), so its marginal means would have no exact standard error");
 

@@ -58,6 +58,9 @@ public sealed class ContrastsOutcome(BoundBlock block) : BlockOutcome(block)
     /// <summary>Levels with a single observation.</summary>
     public bool SingleObservationLevels { get; set; }
 
+    /// <summary>A declared design fitted as a mixed model (REML): the contrasts are of its estimated marginal means, each with its own SE and Satterthwaite df (no error mean square, no sums of squares).</summary>
+    public bool Reml { get; init; }
+
     /// <summary>
     /// The anova has other factors (fixed factorial from the rows): the contrasts are of the model's
     /// estimated marginal means of the factor (equal-weight averages of the fitted cells over the
@@ -100,8 +103,9 @@ public sealed class ContrastsEvaluator : KindEvaluator
         IReadOnlyList<string> levels;
         double[] means;
         long[] counts;
-        DesignErrorTerm error;
+        DesignErrorTerm? error;
         MarginalMeansTerm? marginal = null;
+        RemlFixedEffects? reml = null;
         var at = options.Factor is null ? block.Location : options.FactorLocation;
         if (anova.Design is { } design && anova.Data is { } designData)
         {
@@ -120,24 +124,31 @@ public sealed class ContrastsEvaluator : KindEvaluator
 
             if (design.Method == DesignMethod.Reml)
             {
-                diagnostics.DesignViewUnavailable(at, "contrasts", of, "it was fitted as a mixed model (REML), and contrasts of its marginal means are not available in this version; 'fit: classical' applies to balanced data only");
-                return outcome;
+                // The mixed model's estimated marginal means, each contrast with its own SE and Satterthwaite df.
+                outcome = new ContrastsOutcome(block) { Reml = true, FactorLabel = factor.Spec.Display, MarginalMeans = true, OtherFactors = designData.Factors.Count > 1 };
+                reml = design.Reml!.FixedEffects!;
+                factorName = factor.Spec.Name;
+                levels = factor.Levels;
+                (means, counts) = FromGroups(factor.Split(designData.Response));
+                error = null;
             }
-
-            var row = design.Strata!.Row(factor.Spec.Name);
-            if (row.Denominator is not [{ Coefficient: 1.0 } part] || row.IsQuasiF)
+            else
             {
-                diagnostics.DesignViewUnavailable(at, "contrasts", of, $"{factor.Spec.Name} has no single error mean square in this design (its F test is approximate, against a combination of mean squares), so its contrasts would have no exact standard error");
-                return outcome;
-            }
+                var row = design.Strata!.Row(factor.Spec.Name);
+                if (row.Denominator is not [{ Coefficient: 1.0 } part] || row.IsQuasiF)
+                {
+                    diagnostics.DesignViewUnavailable(at, "contrasts", of, $"{factor.Spec.Name} has no single error mean square in this design (its F test is approximate, against a combination of mean squares), so its contrasts would have no exact standard error");
+                    return outcome;
+                }
 
-            factorName = factor.Spec.Name;
-            outcome.FactorLabel = factor.Spec.Display;
-            levels = factor.Levels;
-            (means, counts) = FromGroups(factor.Split(designData.Response));
-            error = new DesignErrorTerm(part.Term, part.MeanSquare, part.Df);
-            outcome.OtherFactors = designData.Factors.Count > 1;
-            outcome.PooledUnbalanced = outcome.OtherFactors && Unbalanced(designData.Cells().Select(c => (long)c.Values.Length));
+                factorName = factor.Spec.Name;
+                outcome.FactorLabel = factor.Spec.Display;
+                levels = factor.Levels;
+                (means, counts) = FromGroups(factor.Split(designData.Response));
+                error = new DesignErrorTerm(part.Term, part.MeanSquare, part.Df);
+                outcome.OtherFactors = designData.Factors.Count > 1;
+                outcome.PooledUnbalanced = outcome.OtherFactors && Unbalanced(designData.Cells().Select(c => (long)c.Values.Length));
+            }
         }
         else if (anova.Route == AnovaRoute.Cells && anova.Fit is { } fit && anova.Cells is { } cells)
         {
@@ -235,7 +246,12 @@ public sealed class ContrastsEvaluator : KindEvaluator
         // Estimated marginal means (several factors): the means of the kept levels and their unit covariance, in that order.
         double[]? em = null;
         double[,]? cov = null;
-        if (marginal is not null)
+        var remlRows = reml is null ? null : names.Select(l => reml.MeanRow([factorName], [l])).ToArray();
+        if (reml is not null)
+        {
+            em = [.. remlRows!.Select(r => reml.Combination(r).Estimate + reml.Shift)];
+        }
+        else if (marginal is not null)
         {
             var index = names.Select(l => marginal.Means.Select((x, i) => (x, i)).First(p => p.x.Levels[0] == l).i).ToArray();
             em = [.. index.Select(i => marginal.Means[i].Mean.Value)];
@@ -249,9 +265,11 @@ public sealed class ContrastsEvaluator : KindEvaluator
             }
         }
 
-        ContrastFamily Family(IReadOnlyList<ContrastSpec> specs, ContrastAdjustment adjustment) => em is null
-            ? Statistics.FollowUp.Contrasts.OnGroupMeans(m, n, error.MeanSquare, error.Df, specs, adjustment, context.Header.Alpha)
-            : Statistics.FollowUp.Contrasts.Evaluate(em, cov!, error.MeanSquare, error.Df, specs, adjustment, context.Header.Alpha);
+        ContrastFamily Family(IReadOnlyList<ContrastSpec> specs, ContrastAdjustment adjustment) => reml is not null
+            ? RemlComparisons.Contrasts(reml, remlRows!, specs, adjustment, context.Header.Alpha)
+            : em is null
+            ? Statistics.FollowUp.Contrasts.OnGroupMeans(m, n, error!.MeanSquare, error.Df, specs, adjustment, context.Header.Alpha)
+            : Statistics.FollowUp.Contrasts.Evaluate(em, cov!, error!.MeanSquare, error.Df, specs, adjustment, context.Header.Alpha);
 
         var alpha = context.Header.Alpha;
         var inputs = context.Inputs(block);
@@ -380,23 +398,37 @@ public sealed class ContrastsEvaluator : KindEvaluator
             between += n[i] * (m[i] - grand) * (m[i] - grand);
         }
 
+        Dictionary<string, ResultValue> Values(string level, params (string Stat, Quantity Value)[] values) =>
+            values.ToDictionary(v => v.Stat, v => context.Results.Add(block.Id, TestName.Contrast, factorName, level, null, v.Stat, v.Value, inputs), StringComparer.Ordinal);
+
+        if (reml is not null)
+        {
+            // A mixed model has no sums of squares: the higher degrees are tested jointly by the Wald F
+            // of their contrasts, on Satterthwaite's denominator df.
+            if (degree < top)
+            {
+                var higher = all.Skip(degree).Select(c => (IReadOnlyList<double>)remlRows![0].Select((_, j) => c.Coefficients.Select((x, i) => x * remlRows[i][j]).Sum()).ToArray()).ToList();
+                var wald = reml.Wald(higher);
+                outcome.LackOfFit = Values(LackOfFitLevel, (Stat.Df, Quantity.Of(wald.NumeratorDf)), (Stat.F, wald.F), (Stat.DfDen, wald.DfDenominator), (Stat.P, wald.P));
+            }
+
+            return outcome;
+        }
+
         // Estimated marginal means: the joint sum of squares of all k − 1 trends (the hypothesis of equal means).
         if (em is not null)
         {
             between = Statistics.FollowUp.Contrasts.JointSumOfSquares(em, cov!, all);
         }
 
-        Dictionary<string, ResultValue> Values(string level, params (string Stat, Quantity Value)[] values) =>
-            values.ToDictionary(v => v.Stat, v => context.Results.Add(block.Id, TestName.Contrast, factorName, level, null, v.Stat, v.Value, inputs), StringComparer.Ordinal);
-
         if (degree < top)
         {
             var higher = all.Skip(degree).ToList();
             var ss = em is null
-                ? Statistics.FollowUp.Contrasts.OnGroupMeans(m, n, error.MeanSquare, error.Df, higher, ContrastAdjustment.None, alpha).Contrasts.Sum(c => c.SumOfSquares.Value)
+                ? Statistics.FollowUp.Contrasts.OnGroupMeans(m, n, error!.MeanSquare, error.Df, higher, ContrastAdjustment.None, alpha).Contrasts.Sum(c => c.SumOfSquares.Value)
                 : Statistics.FollowUp.Contrasts.JointSumOfSquares(em, cov!, higher);
             var df = top - degree;
-            var defined = error.Df >= 1 && error.MeanSquare > 0 && double.IsFinite(error.MeanSquare);
+            var defined = error!.Df >= 1 && error.MeanSquare > 0 && double.IsFinite(error.MeanSquare);
             var f = defined ? Quantity.Of(ss / df / error.MeanSquare) : Quantity.Undefined("the error mean square is not defined");
             var p = f.IsDefined ? Quantity.Of(Probability.FUpper(f.Value, df, error.Df)) : f;
             outcome.LackOfFit = Values(LackOfFitLevel, (Stat.Ss, Quantity.Of(ss)), (Stat.Df, Quantity.Of(df)), (Stat.F, f), (Stat.P, p));
@@ -449,7 +481,7 @@ public sealed class ContrastsEvaluator : KindEvaluator
             void Add(string stat, Quantity q) => values[stat] = context.Results.Add(block.Id, TestName.Contrast, term, c.Name, null, stat, q, inputs);
             Add(Stat.Estimate, Quantity.Of(c.Estimate));
             Add(Stat.Se, c.Se);
-            Add(Stat.Df, Quantity.Of(c.Df));
+            Add(Stat.Df, double.IsFinite(c.Df) ? Quantity.Of(c.Df) : Quantity.Undefined(c.T.Reason ?? "the df are not defined"));
             Add(Stat.Statistic, c.T);
             Add(Stat.P, c.P);
             Add(Stat.PAdj, c.PAdjusted);

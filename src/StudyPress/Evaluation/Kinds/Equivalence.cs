@@ -23,6 +23,9 @@ public enum EquivalenceError
 
     /// <summary>Welch on the untransformed values, because the anova's error is on a transformed scale and the margin is in response units.</summary>
     WelchTransformed = 3,
+
+    /// <summary>A declared design fitted as a mixed model (REML): the difference of its estimated marginal means, SE from Cov(β̂), its own Satterthwaite df.</summary>
+    RemlModel = 4,
 }
 
 /// <summary>What an <c>equivalence</c> block computed: manifest values only, and the facts its text needs.</summary>
@@ -75,6 +78,7 @@ public sealed class EquivalenceEvaluator : KindEvaluator
         IReadOnlyList<string> levels;
         IReadOnlyList<GroupStatistics> groups;
         string term;
+        RemlFixedEffects? reml = null;
         if (anova.Route == AnovaRoute.Cells)
         {
             if (anova.Fit is not { } fit || anova.Cells is not { } selected)
@@ -133,25 +137,28 @@ public sealed class EquivalenceEvaluator : KindEvaluator
                 return outcome;
             }
 
-            if (design.Method == DesignMethod.Reml)
-            {
-                diagnostics.DesignViewUnavailable(at, Kind, of, "it was fitted as a mixed model (REML), and tests of its marginal means are not available in this version; 'fit: classical' applies to balanced data only");
-                return outcome;
-            }
-
-            var row = design.Strata!.Row(factor.Spec.Name);
-            if (row.Denominator is not [{ Coefficient: 1.0 } part] || row.IsQuasiF)
-            {
-                diagnostics.DesignViewUnavailable(at, Kind, of, $"{factor.Spec.Name} has no single error mean square in this design (its F test is approximate, against a combination of mean squares), so its differences would have no exact standard error");
-                return outcome;
-            }
-
             levels = factor.Levels;
             groups = Statistics.PostHoc.PostHocFromSummaries.Summaries(factor.Split(anova.Data.Response));
             term = factor.Spec.Name;
             outcome.FactorLabel = factor.Spec.Display;
-            outcome.Error = EquivalenceError.DesignTerm;
-            outcome.Pooled = (part.MeanSquare, part.Df, part.Term);
+            if (design.Method == DesignMethod.Reml)
+            {
+                // The difference of the mixed model's estimated marginal means, on its own Satterthwaite df.
+                reml = design.Reml!.FixedEffects!;
+                outcome.Error = EquivalenceError.RemlModel;
+            }
+            else
+            {
+                var row = design.Strata!.Row(factor.Spec.Name);
+                if (row.Denominator is not [{ Coefficient: 1.0 } part] || row.IsQuasiF)
+                {
+                    diagnostics.DesignViewUnavailable(at, Kind, of, $"{factor.Spec.Name} has no single error mean square in this design (its F test is approximate, against a combination of mean squares), so its differences would have no exact standard error");
+                    return outcome;
+                }
+
+                outcome.Error = EquivalenceError.DesignTerm;
+                outcome.Pooled = (part.MeanSquare, part.Df, part.Term);
+            }
         }
         else
         {
@@ -222,7 +229,9 @@ public sealed class EquivalenceEvaluator : KindEvaluator
         var inputs = context.Inputs(block);
         foreach (var (a, b) in pairs)
         {
-            var result = Test(outcome, options, levels[a], groups[a], levels[b], groups[b], alpha);
+            var result = reml is null
+                ? Test(outcome, options, levels[a], groups[a], levels[b], groups[b], alpha)
+                : RemlComparisons.Tost(levels[a], levels[b], reml.Combination(RemlComparisons.Difference(reml.MeanRow([term], [levels[a]]), reml.MeanRow([term], [levels[b]]))), options.MarginLow, options.MarginHigh, alpha);
             string[] pair = [result.LevelA, result.LevelB];
             ResultValue Add(string stat, Quantity q) => context.Results.Add(block.Id, TestName.Equivalence, term, null, pair, stat, q, inputs);
             var values = new Dictionary<string, ResultValue>(StringComparer.Ordinal)

@@ -27,11 +27,12 @@ public sealed record InteractionHint(string Term, IReadOnlyList<string> Others, 
 public sealed record MarginalMeansRow(IReadOnlyList<string> Levels, MarginalMean Mean, IReadOnlyDictionary<string, ResultValue> Values);
 
 /// <summary>The means of one term (a factor, or the cells of a crossing) on one error.</summary>
+/// <param name="Error">The single error mean square the means use (null on a mixed-model fit: each mean has its own SE and Satterthwaite df).</param>
 public sealed record MarginalMeansTable(
     string Term,
     IReadOnlyList<string> Factors,
     IReadOnlyList<string> Labels,
-    MarginalMeansError Error,
+    MarginalMeansError? Error,
     IReadOnlyList<MarginalMeansRow> Rows,
     IReadOnlyList<InteractionHint> Interactions);
 
@@ -67,6 +68,9 @@ public sealed class MarginalMeansOutcome(BoundBlock block) : BlockOutcome(block)
 
     /// <summary>The factors' display labels, by name.</summary>
     public Dictionary<string, string> Labels { get; } = new(StringComparer.Ordinal);
+
+    /// <summary>A declared design fitted as a mixed model (REML): means, SEs and df from its fixed effects (Satterthwaite df).</summary>
+    public bool Reml { get; init; }
 }
 
 /// <summary>Evaluates <c>marginal-means</c> blocks into values (no HTML, no report text).</summary>
@@ -110,17 +114,16 @@ public sealed partial class MarginalMeansEvaluator : KindEvaluator
         List<string> factors;
         if (anova.Design is { } design)
         {
-            if (design.Method == DesignMethod.Reml || design.Strata is null)
-            {
-                diagnostics.MarginalMeansReml(at, of);
-                return outcome;
-            }
-
             var treatments = data.Factors.Where(f => f.Spec.Layout.Role == FactorRole.Treatment).ToList();
             if (treatments.Count == 0)
             {
                 diagnostics.MarginalMeansNoTreatment(block.Location, of);
                 return outcome;
+            }
+
+            if (design.Method == DesignMethod.Reml || design.Strata is null)
+            {
+                return EvaluateReml(context, block, options, anova, design, treatments, at, diagnostics);
             }
 
             outcome.Design = true;

@@ -52,16 +52,15 @@ public sealed partial class PostHocEvaluator
         }
 
         var at = options.Factor is null ? block.Location : options.FactorLocation;
-        if (design.Method == DesignMethod.Reml)
-        {
-            diagnostics.DesignViewUnavailable(at, "posthoc", of, "it was fitted as a mixed model (REML), and comparisons of its marginal means are not available in this version; 'fit: classical' applies to balanced data only");
-            return outcome;
-        }
-
         if (options.Method is "games-howell")
         {
             diagnostics.DesignViewUnavailable(options.MethodLocation ?? block.Location, "posthoc", of, "Games–Howell estimates a variance per group and would ignore the error strata; use 'method: tukey', 'holm' or 'bonferroni', which use the error of the factor's F test");
             return outcome;
+        }
+
+        if (design.Method == DesignMethod.Reml)
+        {
+            return EvaluateReml(context, block, options, anova, design, factor, diagnostics);
         }
 
         var row = design.Strata!.Row(factor.Spec.Name);
@@ -100,6 +99,97 @@ public sealed partial class PostHocEvaluator
 
         outcome.SingleObservationLevels = groups.Any(g => g.Length < 2);
         AddInteractions(outcome, anova, term, alpha);
+        return outcome;
+    }
+
+    /// <summary>
+    /// Comparisons of a treatment of a design fitted as a mixed model (REML): differences of its
+    /// estimated marginal means (<see cref="RemlFixedEffects"/>), each with its own SE from Cov(β̂)
+    /// and its Satterthwaite df; Tukey–Kramer on each pair's df, Holm or Bonferroni t tests, or
+    /// Dunnett against a control on the multivariate t of the differences (<see cref="RemlComparisons"/>).
+    /// </summary>
+    private static PostHocOutcome EvaluateReml(EvaluationContext context, BoundBlock block, PostHocKind.Options options, AnovaOutcome anova, DesignFit design, BlockFactor factor, DiagnosticBag diagnostics)
+    {
+        var fe = design.Reml!.FixedEffects!;
+        var term = factor.Spec.Name;
+        var fitted = fe.Levels(term);
+        var levels = factor.Levels.Where(l => fitted.Contains(l)).ToList();
+        if (options.Control is { } control && !levels.Contains(control))
+        {
+            diagnostics.UnknownControl(options.ControlLocation, control, term, DiagnosticBag.Nearest(control, levels));
+            return new PostHocOutcome(block);
+        }
+
+        var alpha = context.Header.Alpha;
+        var rows = levels.Select(l => fe.MeanRow([term], [l])).ToList();
+        var method = options.Method == "auto" ? "tukey" : options.Method;
+        string test;
+        PostHocProcedure procedure;
+        IReadOnlyList<RemlComparison> comparisons;
+        Quantity critical;
+        double? controlDf = null;
+        double? mvtError = null;
+        if (options.Control is { } c && method == "tukey")
+        {
+            var dunnett = RemlComparisons.WithControl(fe, levels, rows, levels.IndexOf(c), options.Direction, alpha);
+            (test, procedure, comparisons, critical) = (TestName.Dunnett, DunnettProcedure(options.Direction), dunnett.Comparisons, dunnett.CriticalValue);
+            controlDf = double.IsFinite(dunnett.Df) ? dunnett.Df : null;
+            mvtError = dunnett.Comparisons.Count > 1 ? dunnett.Error : null;
+        }
+        else
+        {
+            var adjustment = method switch
+            {
+                "tukey" => RemlPairAdjustment.TukeyKramer,
+                "holm" => RemlPairAdjustment.Holm,
+                _ => RemlPairAdjustment.Bonferroni,
+            };
+            if (options.Control is { } ctl)
+            {
+                var k = levels.IndexOf(ctl);
+                var pairs = Enumerable.Range(0, levels.Count).Where(i => i != k)
+                    .Select(i => (levels[i], ctl, fe.Combination(RemlComparisons.Difference(rows[i], rows[k])))).ToList();
+                comparisons = RemlComparisons.Adjust(pairs, adjustment, alpha, levels.Count);
+            }
+            else
+            {
+                comparisons = RemlComparisons.Pairwise(fe, levels, rows, adjustment, alpha);
+            }
+
+            (test, procedure) = method switch
+            {
+                "tukey" => (TestName.TukeyHsd, PostHocProcedure.RemlTukeyKramer),
+                "holm" => (TestName.Holm, PostHocProcedure.RemlHolm),
+                _ => (TestName.Bonferroni, PostHocProcedure.RemlBonferroni),
+            };
+            critical = Quantity.Undefined("each pair has its own standard error and Satterthwaite df");
+        }
+
+        var tukey = test == TestName.TukeyHsd;
+        var list = comparisons.Select(x => new PairwiseComparison(x.LevelA, x.LevelB, x.Diff, x.Se, tukey ? x.T.Map(t => Math.Sqrt(2.0) * Math.Abs(t)) : x.T, x.CiLow, x.CiHigh, x.PAdjusted, x.Df)).ToList();
+        var outcome = new PostHocOutcome(block) { Reml = true, ControlDf = controlDf, FactorLabel = factor.Spec.Display, Direction = options.Direction };
+        outcome.MultivariateTError = mvtError;
+        var inputs = context.Inputs(block);
+        var family = Record(context, block, test, procedure, new PostHocResult(test, alpha, list, critical), term, inputs);
+        foreach (var (pair, values) in family.Pairs)
+        {
+            values[Stat.Df] = context.Results.Add(block.Id, test, term, null, [pair.LevelA, pair.LevelB], Stat.Df, pair.Df, inputs);
+        }
+
+        outcome.Families.Add(family);
+        AddFamilySize(context, block, outcome, term, list.Count, alpha, inputs);
+        outcome.SingleObservationLevels = factor.Split(anova.Data!.Response).Any(g => g.Length == 1);
+
+        // The mixed model's F tests of interactions that contain the factor (its rows carry no strata row).
+        foreach (var t in fe.Terms.Where(t => t.Factors.Count > 1 && t.Factors.Contains(term)))
+        {
+            if (design.Rows.FirstOrDefault(r => r.Term == DesignFit.TermName(t.Name)) is { } row
+                && row.Values.TryGetValue(Stat.P, out var p) && p.Value is { IsDefined: true } q && q.Value < alpha)
+            {
+                outcome.Interactions.Add((row.Term, [.. t.Factors.Where(f => f != term)], p));
+            }
+        }
+
         return outcome;
     }
 }

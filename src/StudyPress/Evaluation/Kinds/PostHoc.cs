@@ -48,6 +48,15 @@ public enum PostHocProcedure
 
     /// <summary>Adjusted-mean differences, Bonferroni-adjusted.</summary>
     AdjustedBonferroni,
+
+    /// <summary>Marginal means of a mixed model (REML): Tukey–Kramer with each pair's own SE and Satterthwaite df.</summary>
+    RemlTukeyKramer,
+
+    /// <summary>Marginal means of a mixed model (REML): t tests on each pair's Satterthwaite df, Holm-adjusted (Bonferroni intervals).</summary>
+    RemlHolm,
+
+    /// <summary>Marginal means of a mixed model (REML): t tests on each pair's Satterthwaite df, Bonferroni-adjusted.</summary>
+    RemlBonferroni,
 }
 
 public sealed class PostHocFamily
@@ -105,6 +114,12 @@ public sealed class PostHocOutcome(BoundBlock block) : BlockOutcome(block)
 
     /// <summary>Adjusted means against a control with several comparisons: the largest error estimate of the multivariate t probabilities (quasi-Monte Carlo).</summary>
     public double? MultivariateTError { get; set; }
+
+    /// <summary>A declared design fitted as a mixed model (REML): the comparisons are of its estimated marginal means, each with its own SE and Satterthwaite df.</summary>
+    public bool Reml { get; init; }
+
+    /// <summary>REML comparisons with a control: the one df of the multivariate t (the smallest of the comparisons' Satterthwaite df).</summary>
+    public double? ControlDf { get; init; }
 }
 
 /// <summary>Evaluates <c>posthoc</c> blocks into values (no HTML, no report text).</summary>

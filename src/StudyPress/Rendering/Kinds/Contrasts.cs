@@ -72,7 +72,7 @@ public sealed class ContrastsRenderer : KindRenderer
             "p",
             "adjusted p",
         };
-        if (o.IsTrend)
+        if (o.IsTrend && !o.Reml)
         {
             headers.Add("SS = t² × error MS");
         }
@@ -92,7 +92,7 @@ public sealed class ContrastsRenderer : KindRenderer
                 V(v[Stat.P]),
                 V(v[Stat.PAdj]),
             };
-            if (o.IsTrend)
+            if (o.IsTrend && !o.Reml)
             {
                 cells.Add(V(v[Stat.Ss]));
             }
@@ -135,6 +135,17 @@ public sealed class ContrastsRenderer : KindRenderer
     private static string MethodText(ContrastsOutcome o, RenderContext context)
     {
         var m = o.Rows.Count;
+        if (o.Reml)
+        {
+            var reml = $"The anova block fitted the design as a linear mixed model by REML, so these contrasts come from that model: each estimate is Σ cᵢ × meanᵢ over its estimated marginal means of {o.FactorLabel} (each the equal-weight average of the fitted cell means over the other treatments' levels), a combination of the fixed effects; its SE is √(c′Wc), W the covariance of those means from the model, which carries every variance component the contrast depends on; t = estimate / SE on the contrast's own Satterthwaite df (Fai and Cornelius 1996), two-sided. A mixed model has no single error mean square, so no sums of squares are given. ";
+            if (o.IsTrend)
+            {
+                reml += "The coefficients are orthogonal polynomials built for the levels' numbers with equal weights (each estimated marginal mean counts once)" + (o.LackOfFit is null ? ". " : "; the higher degrees are tested jointly by the Wald F of their contrasts with Satterthwaite's denominator df (lack of fit). ");
+            }
+
+            return reml + "Adjusted p-values: " + AdjustmentText(o.Adjustment, m) + (o.AdjustmentChosen || m == 1 ? string.Empty : " (the default for several contrasts)") + "; " + IntervalText(o.Adjustment, m) + ".";
+        }
+
         var e = o.Error!;
         var text = o.MarginalMeans
             ? string.Create(CultureInfo.InvariantCulture, $"Each estimate is Σ cᵢ × meanᵢ over the estimated marginal means of {o.FactorLabel}{(o.Transformed ? " (on the transformed scale of the anova block)" : string.Empty)} (each the equal-weight average of the model's fitted cell means over the levels of the other factors); its SE is √(MS × c′Vc), V the covariance of those means divided by σ², from the model, with MS = {(double.IsFinite(e.MeanSquare) ? context.Format.Format(Stat.Ms, e.MeanSquare) : "not defined")} on {e.Df} df, {ErrorName(o)}; t = estimate / SE on those df, two-sided. ")

@@ -39,13 +39,15 @@ public sealed class MarginalMeansRenderer : KindRenderer
         var what = o.AtLabel is { } at
             ? $"the estimated marginal means of {MethodsWriter.E(o.ByLabel)} at each level of {MethodsWriter.E(at)}"
             : "the estimated marginal means of " + MethodsWriter.List(o.Tables.Select(t => MethodsWriter.E(string.Join(" × ", t.Labels))));
-        var text = w.Did(what, true, "computed", "computed", "compute", $" (each level's predicted mean averaged with equal weight over the other factors) with {w.Confidence}% intervals on the error of the anova's F test")
+        var text = w.Did(what, true, "computed", "computed", "compute", o.Reml
+                ? $" from the mixed model fitted by REML (each level's predicted mean averaged with equal weight over the other treatments), with standard errors from the covariance of its fixed effects and {w.Confidence}% intervals on Satterthwaite degrees of freedom"
+                : $" (each level's predicted mean averaged with equal weight over the other factors) with {w.Confidence}% intervals on the error of the anova's F test")
             + (o.Transform == TransformKind.None ? "." : "; means and interval limits were back-transformed to the original scale.");
         if (o.SimpleEffects.Count > 0)
         {
             var differ = o.SimpleEffects.Where(s => s.Test[Stat.P].Value is { IsDefined: true } p && p.Value < w.Outcome.Alpha).ToList();
             var items = o.SimpleEffects.Select(s => $"at {MethodsWriter.E(o.AtLabel)} = {MethodsWriter.E(s.AtLevel)}, F({MethodsWriter.Df(s.Test[Stat.Df])}, {MethodsWriter.Df(s.Test[Stat.DfDen])}) = {MethodsWriter.S2(s.Test[Stat.F])}, {ReportStyle.PPhrase(s.Test[Stat.P])}");
-            text += $" The simple effect of {MethodsWriter.E(o.ByLabel)} {w.T("was", "is")} tested at each level of {MethodsWriter.E(o.AtLabel)}, with Holm-adjusted pairwise differences within each level: {string.Join("; ", items)}.";
+            text += $" The simple effect of {MethodsWriter.E(o.ByLabel)} {w.T("was", "is")} tested at each level of {MethodsWriter.E(o.AtLabel)}{(o.Reml ? " (Wald F tests of the mixed model with Satterthwaite denominator df)" : string.Empty)}, with Holm-adjusted pairwise differences within each level: {string.Join("; ", items)}.";
             text += differ.Count == o.SimpleEffects.Count
                 ? string.Empty
                 : $" Where the test {w.T("did", "does")} not reject, this is not evidence that the levels of {MethodsWriter.E(o.ByLabel)} {w.T("were", "are")} alike there.";
@@ -119,6 +121,12 @@ public sealed class MarginalMeansRenderer : KindRenderer
             }
 
             table.WriteTo(html);
+            if (t.Error is null)
+            {
+                html.Raw("<p class=\"note\">").Text("The anova block fitted the design as a linear mixed model by REML, so these means come from that model: each mean's standard error comes from the covariance of the fixed effects, which carries every variance component the mean depends on (the blocks' and plots' variation included, since their effects are random and a mean predicts over them), and its df are Satterthwaite's for that mean, so the means on different strata have different df.").Raw("</p>");
+                continue;
+            }
+
             html.Raw("<p class=\"note\">").Text("Standard errors and intervals use the " + ErrorName(t.Error) + " mean square");
             if (t.Error.Ms is { } ms && t.Error.DfValue is { } df)
             {
@@ -141,8 +149,9 @@ public sealed class MarginalMeansRenderer : KindRenderer
             RenderSimpleEffects(html, o, context);
         }
 
-        html.Raw("<p class=\"method\">").Text(
-            "Each estimated marginal mean is the model's predicted cell mean averaged with equal weight over the levels of the factors not shown"
+        html.Raw("<p class=\"method\">").Text(o.Reml
+            ? "Each estimated marginal mean is the mixed model's predicted cell mean averaged with equal weight over the levels of the treatments not shown (Searle, Speed and Milliken 1980), L β̂ with β̂ the fixed effects estimated by generalized least squares at the REML variance estimates; for balanced data it equals the raw mean of the level. SE = √(L Cov(β̂) L′), df by Satterthwaite's method for mixed models (Fai and Cornelius 1996), and the interval is mean ± t(1 − α/2; df) × SE at α = " + context.AlphaText + "; intervals of different means are not simultaneous."
+            : "Each estimated marginal mean is the model's predicted cell mean averaged with equal weight over the levels of the factors not shown"
             + " (Searle, Speed and Milliken 1980); for balanced data it equals the raw mean of the level. SE = √(MS_error × L(X′X)⁻¹L′), df = the error's df,"
             + " and the interval is mean ± t(1 − α/2; df) × SE at α = " + context.AlphaText + "; intervals of different means are not simultaneous.").Raw("</p>");
         html.Raw("<div class=\"reading\"><p>").Text(Reading(o, context)).Raw("</p></div>");
@@ -159,25 +168,37 @@ public sealed class MarginalMeansRenderer : KindRenderer
         }
 
         tests.WriteTo(html);
+        var headers = PostHocRenderer.PairHeaders("holm", "difference", context.ConfidenceText + "% Bonferroni interval", context);
+        if (o.Reml)
+        {
+            headers.Insert(headers.Count - 1, "df (Satterthwaite)");
+        }
+
         var pairs = new HtmlTable(
             "pairs",
             $"Pairwise differences of {o.ByLabel} within each level of {o.AtLabel} (Holm-adjusted within each level)",
-            PostHocRenderer.PairHeaders("holm", "difference", context.ConfidenceText + "% Bonferroni interval", context)) { TextColumns = [1] };
+            headers) { TextColumns = [1] };
         foreach (var s in o.SimpleEffects)
         {
             pairs.Row(o.AtLabel + " = " + BidiText.Isolate(s.AtLevel), []);
             foreach (var pr in s.Pairs)
             {
                 var v = pr.Values;
-                pairs.Row(
-                    BidiText.Isolate(pr.LevelA) + " − " + BidiText.Isolate(pr.LevelB),
-                    [PostHocRenderer.Verdict(pr.PAdjusted, context), V(v[Stat.Diff]) + " [" + V(v[Stat.CiLow]) + ", " + V(v[Stat.CiHigh]) + "]", V(v[Stat.Se]), V(v[Stat.Statistic]), V(v[Stat.PAdj])]);
+                List<string> cells = [PostHocRenderer.Verdict(pr.PAdjusted, context), V(v[Stat.Diff]) + " [" + V(v[Stat.CiLow]) + ", " + V(v[Stat.CiHigh]) + "]", V(v[Stat.Se]), V(v[Stat.Statistic]), V(v[Stat.PAdj])];
+                if (o.Reml)
+                {
+                    cells.Insert(cells.Count - 1, V(v[Stat.Df]));
+                }
+
+                pairs.Row(BidiText.Isolate(pr.LevelA) + " − " + BidiText.Isolate(pr.LevelB), cells);
             }
         }
 
         pairs.WriteTo(html);
-        html.Raw("<p class=\"method\">").Text(
-            $"Each simple effect tests whether the marginal means of {o.ByLabel} are equal within one level of {o.AtLabel}: F = (C m)′(C V C′)⁻¹(C m) / ((k − 1) × MS_error), with m the k means at that level, V their covariance divided by σ² and C the differences from the first level"
+        html.Raw("<p class=\"method\">").Text(o.Reml
+            ? $"Each simple effect tests whether the marginal means of {o.ByLabel} are equal within one level of {o.AtLabel}, from the mixed model fitted by REML: F = (C m)′(C W C′)⁻¹(C m) / (k − 1), with m the k means at that level, W their covariance from the fixed effects and C the differences from the first level, on the Satterthwaite denominator df of Fai and Cornelius (1996). "
+            + $"Pairwise differences are first level minus second, with t = difference / SE on each pair's own Satterthwaite df; p-values are adjusted by Holm's step-down method within each level of {o.AtLabel} (the family is the pairs at that level, held at α = {context.AlphaText}), and intervals are at the Bonferroni level α/m, since Holm's procedure has no matching intervals."
+            : $"Each simple effect tests whether the marginal means of {o.ByLabel} are equal within one level of {o.AtLabel}: F = (C m)′(C V C′)⁻¹(C m) / ((k − 1) × MS_error), with m the k means at that level, V their covariance divided by σ² and C the differences from the first level"
             + " (for balanced data, the sum of squares of the level's cell means about their mean, times the cell size, over k − 1). "
             + $"Pairwise differences are first level minus second, with t = difference / SE on the same error; p-values are adjusted by Holm's step-down method within each level of {o.AtLabel} (the family is the pairs at that level, held at α = {context.AlphaText}), and intervals are at the Bonferroni level α/m, since Holm's procedure has no matching intervals."
             + (o.Transform != TransformKind.None ? " Differences are on the transformed scale of the anova block." : string.Empty)).Raw("</p>");

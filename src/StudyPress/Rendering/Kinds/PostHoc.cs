@@ -39,6 +39,9 @@ public sealed class PostHocRenderer : KindRenderer
         PostHocProcedure.Dunn => "Dunn's rank comparisons (Holm-adjusted)",
         PostHocProcedure.AdjustedTukeyKramer => "Tukey–Kramer-style comparisons of adjusted means (each pair's own standard error)",
         PostHocProcedure.AdjustedHolm => "t tests of adjusted-mean differences, Holm-adjusted (Bonferroni intervals)",
+        PostHocProcedure.RemlTukeyKramer => "Tukey–Kramer comparisons of the mixed model's (REML) marginal means (each pair's own SE and Satterthwaite df)",
+        PostHocProcedure.RemlHolm => "t tests of the mixed model's (REML) marginal-mean differences on Satterthwaite df, Holm-adjusted (Bonferroni intervals)",
+        PostHocProcedure.RemlBonferroni => "t tests of the mixed model's (REML) marginal-mean differences on Satterthwaite df, Bonferroni-adjusted",
         _ => "t tests of adjusted-mean differences, Bonferroni-adjusted",
     };
 
@@ -113,7 +116,7 @@ public sealed class PostHocRenderer : KindRenderer
         yield return $"For the pairwise comparisons of {MethodsWriter.E(p.FactorLabel)}, {method} {w.T("was", "is")} chosen {why}; Dunn's rank comparisons {w.T("were", "are")} not available, as they need the ranks of the rows.";
     }
 
-    private static string MethodsName(string test, PostHocOutcome p) => test switch
+    private static string MethodsName(string test, PostHocOutcome p) => p.Reml ? RemlMethodsName(test) : test switch
     {
         "tukey_hsd" => Title(p.Families[0]).StartsWith("Tukey–Kramer", StringComparison.Ordinal) ? "the Tukey–Kramer procedure (Tukey's HSD for unequal group sizes)" : "Tukey's HSD procedure",
         "games_howell" => "the Games–Howell procedure, which does not pool the variances,",
@@ -128,6 +131,15 @@ public sealed class PostHocRenderer : KindRenderer
         _ => "Dunn's rank comparisons with Holm's adjustment",
     };
 
+    /// <summary>The procedure over a mixed model's (REML) marginal means, in a methods sentence.</summary>
+    private static string RemlMethodsName(string test) => test switch
+    {
+        "tukey_hsd" => "the Tukey–Kramer procedure on the estimated marginal means of the mixed model (REML), each pair on its own Satterthwaite df",
+        "dunnett" => "Dunnett-type comparisons of the mixed model's (REML) estimated marginal means with the control (multivariate t on the smallest Satterthwaite df of the comparisons)",
+        "holm" => "t tests of the mixed model's (REML) estimated marginal-mean differences on Satterthwaite df with Holm's step-down adjustment",
+        _ => "t tests of the mixed model's (REML) estimated marginal-mean differences on Satterthwaite df with the Bonferroni adjustment",
+    };
+
     /// <summary>
     /// Brief: the procedure, why the automatic rule chose it (citing the variance check only when
     /// the text has not told its verdict yet), Dunn's comparisons when added, and the error rate held.
@@ -137,7 +149,7 @@ public sealed class PostHocRenderer : KindRenderer
         var f = p.Families[0];
         var popts = p.Block.OptionsOf<PostHocKind.Options>();
         var factor = MethodsWriter.E(p.FactorLabel);
-        var method = f.Test switch
+        var method = p.Reml ? RemlMethodsName(f.Test) : f.Test switch
         {
             "tukey_hsd" => Title(f).StartsWith("Tukey–Kramer", StringComparison.Ordinal) ? "the Tukey–Kramer procedure" : "Tukey's HSD procedure",
             "games_howell" => "the Games–Howell procedure (variances not pooled)",
@@ -288,7 +300,7 @@ public sealed class PostHocRenderer : KindRenderer
 
         if (o.MultivariateTError is { } error)
         {
-            yield return $"The comparisons with the control share the control's adjusted mean and the covariates' slopes, so their correlations follow no product pattern: the adjusted p-values and the critical value come from the multivariate t distribution with the correlations of these adjusted differences, integrated by the randomized quasi-Monte Carlo method of Genz and Bretz (2002, 2009) with a fixed seed (the same data always give the same numbers). Its estimated absolute error ({NumberText.Fixed(MultivariateT.ErrorFactor, 1)} standard errors of the mean of {NumberText.Whole(MultivariateT.Shifts)} randomly shifted lattice rules) is at most {context.Format.General(error)} for these probabilities; each adjusted p-value is also kept between the unadjusted p-value and its Bonferroni bound.";
+            yield return $"The comparisons with the control share the control's {(o.Reml ? "marginal mean and the model's variance components" : "adjusted mean and the covariates' slopes")}, so their correlations follow no product pattern: the adjusted p-values and the critical value come from the multivariate t distribution with the correlations of these adjusted differences, integrated by the randomized quasi-Monte Carlo method of Genz and Bretz (2002, 2009) with a fixed seed (the same data always give the same numbers). Its estimated absolute error ({NumberText.Fixed(MultivariateT.ErrorFactor, 1)} standard errors of the mean of {NumberText.Whole(MultivariateT.Shifts)} randomly shifted lattice rules) is at most {context.Format.General(error)} for these probabilities; each adjusted p-value is also kept between the unadjusted p-value and its Bonferroni bound.";
         }
 
         if (o.FromCells)
@@ -296,11 +308,33 @@ public sealed class PostHocRenderer : KindRenderer
             yield return CellsMethodNote;
         }
 
+        if (o.Reml)
+        {
+            yield return RemlNote(o, context);
+        }
+
         if (o.DesignError is { } e)
         {
             var term = e.Term == "residual" ? "the residual" : "the " + e.Term.Replace("(", " (in ", StringComparison.Ordinal);
             yield return string.Create(System.Globalization.CultureInfo.InvariantCulture, $"The comparisons use {term} mean square ({context.Format.Format(Stat.Ms, e.MeanSquare)} on {e.Df} df), the error against which the anova tested {o.FactorLabel}, so their standard errors respect the layout of the study.");
         }
+    }
+
+    /// <summary>What the comparisons of a mixed-model (REML) fit are, in words.</summary>
+    private static string RemlNote(PostHocOutcome o, RenderContext context)
+    {
+        var text = $"The anova block fitted the design as a linear mixed model by REML, so these comparisons come from that model: each difference is one of its estimated marginal means of {o.FactorLabel} (equal weights over the other treatments' levels) minus another, with its standard error from the covariance of the fixed effects (which carries every variance component the difference depends on) and its own Satterthwaite degrees of freedom (column df; Fai and Cornelius 1996), so the error is the right one for the layout even where the data are unbalanced.";
+        if (o.Families[0].Procedure == PostHocProcedure.RemlTukeyKramer)
+        {
+            text += " Tukey–Kramer: each pair's p-value and interval use the studentized range of all the means on that pair's own df, an approximation when the df differ.";
+        }
+
+        if (o.ControlDf is { } df)
+        {
+            text += $" The comparisons with the control are tested jointly by the multivariate t distribution with their correlations from the model, on one df: the smallest of their Satterthwaite df ({context.Format.General(df)}), which is conservative when they differ.";
+        }
+
+        return text;
     }
 
     /// <summary>
@@ -358,6 +392,11 @@ public sealed class PostHocRenderer : KindRenderer
             {
                 headers[^1] = o.Direction == DunnettAlternative.Greater ? "adjusted p (one-sided: higher)" : "adjusted p (one-sided: lower)";
             }
+            if (o.Reml)
+            {
+                headers.Insert(headers.Count - 1, "df (Satterthwaite)");
+            }
+
             var caption = (o.Block.Caption ?? Title(f)) + " of " + o.FactorLabel;
             var table = new HtmlTable("pairs", caption, headers) { TextColumns = [1] };
             foreach (var (pair, v) in f.Pairs)
@@ -375,9 +414,15 @@ public sealed class PostHocRenderer : KindRenderer
                 }
 
                 var verdict = oneSided ? OneSidedVerdict(pair.PAdjusted, o.Direction, context) : Verdict(pair.PAdjusted, context);
+                List<string> cells = [verdict, estimate, HtmlWriter.ValueHtml(v[Stat.Se], context), HtmlWriter.ValueHtml(v[Stat.Statistic], context), HtmlWriter.ValueHtml(v[Stat.PAdj], context)];
+                if (o.Reml)
+                {
+                    cells.Insert(cells.Count - 1, HtmlWriter.ValueHtml(v[Stat.Df], context));
+                }
+
                 table.Row(
                     StudyPress.Charts.BidiText.Isolate(pair.LevelA) + " − " + StudyPress.Charts.BidiText.Isolate(pair.LevelB),
-                    [verdict, estimate, HtmlWriter.ValueHtml(v[Stat.Se], context), HtmlWriter.ValueHtml(v[Stat.Statistic], context), HtmlWriter.ValueHtml(v[Stat.PAdj], context)]);
+                    cells);
             }
 
             table.WriteTo(html);
@@ -386,7 +431,7 @@ public sealed class PostHocRenderer : KindRenderer
         if (o.Families[0].Test == "dunnett" && o.Direction != DunnettAlternative.TwoSided)
         {
             var way = o.Direction == DunnettAlternative.Greater ? "higher" : "lower";
-            html.Raw("<p class=\"method\">").Text($"Alternative: every level {way} than the control (one-sided, as 'direction: {way}' asks). Dunnett's one-sided test only looks for differences in that direction: a level {(way == "higher" ? "lower" : "higher")} than the control, however far, is not detected, and \"not shown {way}\" is not evidence of no difference. " + (o.Adjusted ? "The one-sided simultaneous bounds and adjusted p-values come from the multivariate t distribution with the adjusted means' own correlations, integrated by quasi-Monte Carlo (see the note below)." : "The one-sided simultaneous bounds and adjusted p-values come from the exact multivariate t distribution with the correlations of the group sizes (Dunnett 1955), integrated numerically.")).Raw("</p>");
+            html.Raw("<p class=\"method\">").Text($"Alternative: every level {way} than the control (one-sided, as 'direction: {way}' asks). Dunnett's one-sided test only looks for differences in that direction: a level {(way == "higher" ? "lower" : "higher")} than the control, however far, is not detected, and \"not shown {way}\" is not evidence of no difference. " + (o.Reml ? "The one-sided simultaneous bounds and adjusted p-values come from the multivariate t distribution with the correlations of the mixed model's marginal-mean differences, integrated by quasi-Monte Carlo (see the note below)." : o.Adjusted ? "The one-sided simultaneous bounds and adjusted p-values come from the multivariate t distribution with the adjusted means' own correlations, integrated by quasi-Monte Carlo (see the note below)." : "The one-sided simultaneous bounds and adjusted p-values come from the exact multivariate t distribution with the correlations of the group sizes (Dunnett 1955), integrated numerically.")).Raw("</p>");
         }
 
         html.Raw("<p class=\"method\">").Text("Differences are first level minus second")
