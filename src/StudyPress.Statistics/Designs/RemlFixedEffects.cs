@@ -329,7 +329,11 @@ public enum RemlPairAdjustment
 }
 
 /// <summary>Comparisons with a control from a REML fit: the comparisons, the common df, the critical value and the multivariate t error estimate.</summary>
-public sealed record RemlControlComparisons(IReadOnlyList<RemlComparison> Comparisons, double Df, Quantity CriticalValue, double Error);
+public sealed record RemlControlComparisons(IReadOnlyList<RemlComparison> Comparisons, double Df, Quantity CriticalValue, double Error)
+{
+    /// <summary>False when a multivariate t probability missed <see cref="AdjustedComparisons.RequiredAccuracy"/> within the work limit (<see cref="AdjustedComparisons.ManyToOne"/>): <see cref="Comparisons"/> is empty.</summary>
+    public bool Accurate { get; init; } = true;
+}
 
 /// <summary>
 /// Comparisons of the estimated marginal means of a REML fit (<see cref="RemlFixedEffects"/>): each
@@ -509,11 +513,11 @@ public static class RemlComparisons
         var se = est.Select(e => e.Se.Value).ToArray();
         var t = est.Select((e, q) => e.Estimate / se[q]).ToArray();
         var raw = t.Select(v => twoSided ? Probability.TTwoSided(v, df) : Equivalence.UpperTail(direction == DunnettAlternative.Greater ? v : -v, df)).ToArray();
-        MultivariateT? mvt = null;
+        double[,]? r = null;
         if (m > 1)
         {
             var c = fit.Covariance(diffRows);
-            var r = new double[m, m];
+            r = new double[m, m];
             for (var i = 0; i < m; i++)
             {
                 for (var j = 0; j < m; j++)
@@ -521,45 +525,18 @@ public static class RemlComparisons
                     r[i, j] = i == j ? 1.0 : c[i, j] / Math.Sqrt(c[i, i] * c[j, j]);
                 }
             }
-
-            mvt = new MultivariateT(r, df);
         }
 
-        var error = 0.0;
-        double Tail(double h, int? points)
+        // The same many-to-one probabilities as the comparisons of adjusted means, on the smallest df.
+        var probabilities = AdjustedComparisons.ManyToOne(r, df, t, direction, alpha);
+        if (!probabilities.Accurate)
         {
-            var single = twoSided ? Probability.TTwoSided(h, df) : Equivalence.UpperTail(h, df);
-            if (mvt is null)
-            {
-                return single;
-            }
-
-            var lower = Enumerable.Repeat(twoSided ? -Math.Abs(h) : double.NegativeInfinity, m).ToArray();
-            var upper = Enumerable.Repeat(twoSided ? Math.Abs(h) : h, m).ToArray();
-            var inside = mvt.Rectangle(lower, upper, points);
-            error = Math.Max(error, inside.Error);
-            return Math.Clamp(1.0 - inside.Value, single, Math.Min(1.0, m * single));
+            var missed = Quantity.Undefined("the multivariate t probabilities did not reach the required accuracy within the work limit");
+            return new RemlControlComparisons([], df, missed, probabilities.Error) { Accurate = false };
         }
 
-        var adjusted = t.Select(v => Tail(twoSided ? Math.Abs(v) : direction == DunnettAlternative.Greater ? v : -v, null)).ToArray();
-        var one = twoSided ? Probability.TCritical(alpha, df) : Probability.TCritical(2.0 * alpha, df);
-        double critical;
-        if (m == 1)
-        {
-            critical = one;
-        }
-        else
-        {
-            var bonferroni = twoSided ? Probability.TCritical(alpha / m, df) : Probability.TCritical(2.0 * alpha / m, df);
-            var lowerB = Enumerable.Repeat(twoSided ? -bonferroni : double.NegativeInfinity, m).ToArray();
-            var points = Math.Min(AdjustedComparisons.SearchPoints, mvt!.Rectangle(lowerB, Enumerable.Repeat(bonferroni, m).ToArray()).Points);
-            var lnAlpha = Math.Log(alpha);
-            double G(double u) => lnAlpha - Math.Log(Tail(Math.Exp(u), points));
-            double lo = Math.Log(one), hi = Math.Log(bonferroni);
-            double glo = G(lo), ghi = G(hi);
-            critical = glo >= 0 ? one : ghi <= 0 ? bonferroni : Math.Exp(RootFinding.Brent(G, lo, hi, glo, ghi, 1e-7));
-        }
-
+        var adjusted = probabilities.Adjusted;
+        var critical = probabilities.Critical;
         var open = Quantity.Undefined(direction == DunnettAlternative.Greater ? "a one-sided (greater) interval has no upper limit" : "a one-sided (less) interval has no lower limit");
         var list = new List<RemlComparison>(m);
         for (var q = 0; q < m; q++)
@@ -579,7 +556,7 @@ public static class RemlComparisons
                 direction == DunnettAlternative.Greater ? open : Quantity.Of(d + half)));
         }
 
-        return new RemlControlComparisons(list, df, Quantity.Of(critical), error);
+        return new RemlControlComparisons(list, df, Quantity.Of(critical), probabilities.Error);
     }
 
     /// <summary>

@@ -131,6 +131,9 @@ public sealed record AdjustedControlComparisons(IReadOnlyList<AdjustedMeanCompar
     public bool Accurate { get; init; } = true;
 }
 
+/// <summary>Many-to-one probabilities (<see cref="AdjustedComparisons.ManyToOne"/>): adjusted p-values in the order of the t statistics, the critical value, the largest error estimate, and whether every estimate met the required accuracy (when not, <c>Adjusted</c> is empty and <c>Critical</c> NaN).</summary>
+public sealed record ManyToOneProbabilities(IReadOnlyList<double> Adjusted, double Critical, double Error, bool Accurate);
+
 /// <summary>
 /// Comparisons of the adjusted means of one fitted analysis of covariance (<see cref="AdjustedMeansFamily"/>).
 /// <para>
@@ -343,11 +346,51 @@ public static class AdjustedComparisons
         var se = others.Select(i => Math.Sqrt(mse * family.DifferenceUnitVariance(i, c0))).ToArray();
         var t = diffs.Select((d, q) => d / se[q]).ToArray();
         var raw = t.Select(v => twoSided ? Probability.TTwoSided(v, df) : OneSidedUpper(direction == DunnettAlternative.Greater ? v : -v, df)).ToArray();
-        var mvt = m > 1 ? new MultivariateT(ControlCorrelation(family, c0), df) : null;
+        var probabilities = ManyToOne(m > 1 ? ControlCorrelation(family, c0) : null, df, t, direction, alpha);
+        if (!probabilities.Accurate)
+        {
+            return new([], Quantity.Undefined("the multivariate t probabilities did not reach the required accuracy within the work limit"), probabilities.Error, direction, method) { Accurate = false };
+        }
+
+        var critical = Quantity.Of(probabilities.Critical);
+        var adjusted = probabilities.Adjusted;
+        var error = probabilities.Error;
+        var open = Quantity.Undefined(direction == DunnettAlternative.Greater ? "a one-sided (greater) interval has no upper limit" : "a one-sided (less) interval has no lower limit");
+        var list = new List<AdjustedMeanComparison>(m);
+        for (var q = 0; q < m; q++)
+        {
+            var half = critical.Value * se[q];
+            var low = direction == DunnettAlternative.Less ? open : Quantity.Of(diffs[q] - half);
+            var high = direction == DunnettAlternative.Greater ? open : Quantity.Of(diffs[q] + half);
+            list.Add(new AdjustedMeanComparison(family.Factor, family.Levels[others[q]], control, diffs[q], Quantity.Of(se[q]), Quantity.Of(t[q]), Quantity.Of(raw[q]), Quantity.Of(adjusted[q]), low, high, df));
+        }
+
+        return new AdjustedControlComparisons(list, critical, error, direction, method);
+    }
+
+    /// <summary>
+    /// The many-to-one probabilities of m comparisons with a control whose t statistics have the
+    /// correlation <paramref name="correlation"/> (null for one comparison) on <paramref name="df"/>
+    /// degrees of freedom: each adjusted p-value P(max|Tⱼ| ≥ |tᵢ|) (one-sided P(max Tⱼ ≥ ±tᵢ)), kept
+    /// between the unadjusted p-value and its Bonferroni bound, and the critical value c with
+    /// P(max ≥ c) = α, found by Brent's method between the single and the Bonferroni quantiles on one
+    /// fixed point set (so that P is one smooth function of c). The rectangle at the Bonferroni
+    /// quantile is integrated first (it sets that point set), then the search, then the p-values;
+    /// the first whose error estimate exceeds <see cref="RequiredAccuracy"/> within
+    /// <see cref="MultivariateT.WorkLimit"/> stops the computation (<c>Accurate</c> false).
+    /// Shared by the comparisons of adjusted means and of a mixed model's marginal means.
+    /// </summary>
+    public static ManyToOneProbabilities ManyToOne(double[,]? correlation, double df, IReadOnlyList<double> t, DunnettAlternative direction, double alpha)
+    {
+        ArgumentNullException.ThrowIfNull(t);
+        var m = t.Count;
+        var twoSided = direction == DunnettAlternative.TwoSided;
+        var mvt = m > 1 ? new MultivariateT(correlation ?? throw new ArgumentNullException(nameof(correlation)), df) : null;
         var error = 0.0;
         var single = twoSided ? Probability.TCritical(alpha, df) : Probability.TCritical(2.0 * alpha, df);
         var bonferroni = twoSided ? Probability.TCritical(alpha / m, df) : Probability.TCritical(2.0 * alpha / m, df);
         var points = 0;
+        ManyToOneProbabilities Inaccurate(double reached) => new([], double.NaN, reached, false);
         if (mvt is not null)
         {
             // The rectangle at the Bonferroni quantile first: it sets the root search's point set, and
@@ -358,13 +401,9 @@ public static class AdjustedComparisons
                 return Inaccurate(first.Error);
             }
 
-            // The root search works on one fixed point set (so that P is one smooth function of c):
-            // the points the schedule needs at the Bonferroni quantile, at most SearchPoints per shift.
+            // The points the schedule needs at the Bonferroni quantile, at most SearchPoints per shift.
             points = Math.Min(SearchPoints, first.Points);
         }
-
-        AdjustedControlComparisons Inaccurate(double reached) =>
-            new([], Quantity.Undefined("the multivariate t probabilities did not reach the required accuracy within the work limit"), reached, direction, method) { Accurate = false };
 
         // Upper tail of the maximum at threshold h (two-sided: of the largest |T|), within Bonferroni bounds.
         double Tail(double h, int? points)
@@ -382,10 +421,10 @@ public static class AdjustedComparisons
             return Math.Clamp(1.0 - inside.Value, single, Math.Min(1.0, m * single));
         }
 
-        Quantity critical;
+        double critical;
         if (m == 1)
         {
-            critical = Quantity.Of(single);
+            critical = single;
         }
         else
         {
@@ -399,7 +438,7 @@ public static class AdjustedComparisons
                 return Inaccurate(error);
             }
 
-            critical = Quantity.Of(glo >= 0 ? single : ghi <= 0 ? bonferroni : Math.Exp(RootFinding.Brent(G, lo, hi, glo, ghi, 1e-7)));
+            critical = glo >= 0 ? single : ghi <= 0 ? bonferroni : Math.Exp(RootFinding.Brent(G, lo, hi, glo, ghi, 1e-7));
             if (!(error <= RequiredAccuracy))
             {
                 return Inaccurate(error);
@@ -416,17 +455,7 @@ public static class AdjustedComparisons
             }
         }
 
-        var open = Quantity.Undefined(direction == DunnettAlternative.Greater ? "a one-sided (greater) interval has no upper limit" : "a one-sided (less) interval has no lower limit");
-        var list = new List<AdjustedMeanComparison>(m);
-        for (var q = 0; q < m; q++)
-        {
-            var half = critical.Value * se[q];
-            var low = direction == DunnettAlternative.Less ? open : Quantity.Of(diffs[q] - half);
-            var high = direction == DunnettAlternative.Greater ? open : Quantity.Of(diffs[q] + half);
-            list.Add(new AdjustedMeanComparison(family.Factor, family.Levels[others[q]], control, diffs[q], Quantity.Of(se[q]), Quantity.Of(t[q]), Quantity.Of(raw[q]), Quantity.Of(adjusted[q]), low, high, df));
-        }
-
-        return new AdjustedControlComparisons(list, critical, error, direction, method);
+        return new ManyToOneProbabilities(adjusted, critical, error, true);
     }
 
     /// <summary>P(T ≥ h) for the t on <paramref name="df"/> degrees of freedom, any real h.</summary>

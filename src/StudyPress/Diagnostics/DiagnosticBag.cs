@@ -824,8 +824,8 @@ public sealed class DiagnosticBag
         Error("SP0296", at, "'method: dunnett' compares every level with a control; name the control level with 'control', or choose a pairwise method ('tukey', 'holm', 'bonferroni')");
 
     /// <summary>SP0541: the multivariate t probabilities of Dunnett's comparisons of adjusted means missed the required accuracy within the work limit (many levels).</summary>
-    public void DunnettAccuracyNotReached(SourceLocation at, string control, int comparisons, double reached, double required, string of) =>
-        Error("SP0541", at, string.Create(CultureInfo.InvariantCulture, $"comparing {comparisons} adjusted means with control {Q(control)} needs multivariate t probabilities in {comparisons} dimensions, and within the work limit their estimated error is {reached:G2}, above the {required:G2} the p-values need; compare fewer levels with the control (a 'where' in anova block {Q(of)} that keeps the levels of interest), or write 'method: holm' (or 'bonferroni') to compare each level with the control without the multivariate t"));
+    public void DunnettAccuracyNotReached(SourceLocation at, string control, int comparisons, double reached, double required, string of, bool mixedModel = false) =>
+        Error("SP0541", at, string.Create(CultureInfo.InvariantCulture, $"comparing {comparisons} {(mixedModel ? "marginal means of the mixed model" : "adjusted means")} with control {Q(control)} needs multivariate t probabilities in {comparisons} dimensions, and within the work limit their estimated error is {reached:G2}, above the {required:G2} the p-values need; compare fewer levels with the control (a 'where' in anova block {Q(of)} that keeps the levels of interest), or write 'method: holm' (or 'bonferroni') to compare each level with the control without the multivariate t"));
 
     /// <summary>Closest candidate within a small edit distance, for "did you mean".</summary>
     public static string? Nearest(string word, IEnumerable<string> candidates)

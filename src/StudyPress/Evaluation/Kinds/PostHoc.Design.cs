@@ -3,6 +3,7 @@ using StudyPress.Binding.Kinds;
 using StudyPress.Diagnostics;
 using StudyPress.Statistics;
 using StudyPress.Statistics.Designs;
+using StudyPress.Statistics.FollowUp;
 using StudyPress.Statistics.PostHoc;
 
 namespace StudyPress.Evaluation.Kinds;
@@ -132,6 +133,12 @@ public sealed partial class PostHocEvaluator
         if (options.Control is { } c && method == "tukey")
         {
             var dunnett = RemlComparisons.WithControl(fe, levels, rows, levels.IndexOf(c), options.Direction, alpha);
+            if (!dunnett.Accurate)
+            {
+                diagnostics.DunnettAccuracyNotReached(options.ControlLocation, c, levels.Count - 1, dunnett.Error, AdjustedComparisons.RequiredAccuracy, block.Of!.Id, mixedModel: true);
+                return new PostHocOutcome(block);
+            }
+
             (test, procedure, comparisons, critical) = (TestName.Dunnett, DunnettProcedure(options.Direction), dunnett.Comparisons, dunnett.CriticalValue);
             controlDf = double.IsFinite(dunnett.Df) ? dunnett.Df : null;
             mvtError = dunnett.Comparisons.Count > 1 ? dunnett.Error : null;
