@@ -446,4 +446,16 @@ values: {0.0cwt: 0, 0.2cwt: 0.2, 0.4cwt: 0.4, 0.6cwt: 0.6}
         Assert.Contains("error: factor 'density' has 5 levels with data", line, StringComparison.Ordinal);
         Assert.False(File.Exists(run.ReportPath));
     }
+
+    // Regression (one typo, one message): an unknown key close to no key ('contrasts' written for
+    // 'compare') gave the unknown-key error and also "asks for one family" for the missing
+    // 'compare'. The unknown key may have been meant as any key the block does not write, so the
+    // missing-family rule stays quiet.
+    [Fact]
+    public void UnknownKeyCloseToNoKey_IsTheOnlyMessage()
+    {
+        using var run = Run("contrasts:\n  low vs high: {\"10\": 1, \"50\": -1}");
+        var d = run.SingleError("SP0201", 12);
+        Assert.Contains("'contrasts'", d.Message, StringComparison.Ordinal);
+    }
 }

@@ -26,6 +26,18 @@ public sealed class KeyReader
                 {
                     misspelt.Add(near);
                 }
+                else
+                {
+                    // No close key: it may have been meant as any key the map does not write
+                    // ('contrasts:' for 'compare:'), so no rule reports one of those as missing.
+                    foreach (var key in allowed)
+                    {
+                        if (map[key] is null)
+                        {
+                            misspelt.Add(key);
+                        }
+                    }
+                }
             }
         }
     }
@@ -34,7 +46,8 @@ public sealed class KeyReader
 
     /// <summary>
     /// Keys that an unknown key of this map was probably meant to be (already reported with a
-    /// "did you mean"): a rule that needs one of them stays quiet, so one typo gives one message.
+    /// "did you mean"; every key the map does not write when the unknown key is close to none): a
+    /// rule that needs one of them stays quiet, so one typo gives one message.
     /// </summary>
     public IReadOnlySet<string> Misspelt => misspelt;
 
