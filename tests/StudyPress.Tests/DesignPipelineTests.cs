@@ -429,4 +429,42 @@ factors:
         var d = Assert.Single(run.Compile().Diagnostics);
         Assert.Equal(code, d.Code);
     }
+
+    // Regression: counts above twelve were written "many" in the methods text ("a randomized
+    // complete block design in many blocks", "each of the many levels"); they are numerals now.
+    // Invented layout: 15 blocks × 3 treatments (a test of the wording, not of values).
+    [Fact]
+    public void MethodsText_CountsAboveTwelve_AreNumerals()
+    {
+        var csv = new System.Text.StringBuilder("block,treatment,y\n");
+        for (var b = 0; b < 15; b++)
+        {
+            for (var t = 0; t < 3; t++)
+            {
+                csv.Append(CultureInfo.InvariantCulture, $"B{b:D2},T{t},{10 + (b % 4) + (t * 0.7) + ((b * 5 + t * 3) % 7 * 0.1):R}\n");
+            }
+        }
+
+        using var run = new StudyRun().File("d.csv", csv.ToString()).Study("""
+---
+title: Fifteen blocks
+data: d.csv
+response: y
+factors:
+  block:
+    role: block
+  treatment:
+---
+
+```anova main
+```
+
+```methods
+```
+""");
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        Assert.Contains("randomized complete block design in 15 blocks", result.Html, StringComparison.Ordinal);
+        Assert.DoesNotContain("many blocks", result.Html, StringComparison.Ordinal);
+    }
 }

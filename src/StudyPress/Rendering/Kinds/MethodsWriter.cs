@@ -110,7 +110,7 @@ public sealed class MethodsWriter(MethodsOutcome o, MethodsKind.Options options)
         10 => "ten",
         11 => "eleven",
         12 => "twelve",
-        _ => "many",
+        _ => n.ToString(System.Globalization.CultureInfo.InvariantCulture),
     };
 
     public static string List(IEnumerable<string> items)
