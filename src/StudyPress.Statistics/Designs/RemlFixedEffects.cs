@@ -670,25 +670,7 @@ public static class RemlComparisons
             return s;
         }
 
-        var pairs = new List<ContrastOrthogonality>();
-        for (var a = 0; a < m; a++)
-        {
-            for (var b = a + 1; b < m; b++)
-            {
-                var ca = specs[a].Coefficients;
-                var cb = specs[b].Coefficients;
-                double plain = 0, na = 0, nb = 0;
-                for (var i = 0; i < k; i++)
-                {
-                    plain += ca[i] * cb[i];
-                    na += ca[i] * ca[i];
-                    nb += cb[i] * cb[i];
-                }
-
-                var weighted = Quad(ca, cb);
-                pairs.Add(new ContrastOrthogonality(specs[a].Name, specs[b].Name, plain, Math.Abs(plain) <= 1e-12 * Math.Sqrt(na * nb), weighted, Math.Abs(weighted) <= 1e-12 * Math.Sqrt(Quad(ca, ca) * Quad(cb, cb))));
-            }
-        }
+        var pairs = StudyPress.Statistics.FollowUp.Contrasts.Orthogonality(specs, Quad);
 
         var method = adjustment switch
         {

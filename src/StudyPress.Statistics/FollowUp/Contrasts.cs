@@ -187,6 +187,44 @@ public static class Contrasts
         return EvaluateWith(means, (a, b) => Quadratic(a, unitCovariance, b), mse, df, contrasts, adjustment, alpha);
     }
 
+    /// <summary>
+    /// Orthogonality of every pair of contrasts: the plain coefficient product Σ aᵢbᵢ and the
+    /// product weighted by the means' unit covariance a'Mb (<paramref name="quadratic"/>), each with
+    /// whether it is zero within 1e-12 of the pair's norms.
+    /// </summary>
+    public static IReadOnlyList<ContrastOrthogonality> Orthogonality(IReadOnlyList<ContrastSpec> contrasts, Func<IReadOnlyList<double>, IReadOnlyList<double>, double> quadratic)
+    {
+        ArgumentNullException.ThrowIfNull(contrasts);
+        ArgumentNullException.ThrowIfNull(quadratic);
+        var pairs = new List<ContrastOrthogonality>();
+        for (var a = 0; a < contrasts.Count; a++)
+        {
+            for (var b = a + 1; b < contrasts.Count; b++)
+            {
+                var ca = contrasts[a].Coefficients;
+                var cb = contrasts[b].Coefficients;
+                double plain = 0, na = 0, nb = 0;
+                for (var i = 0; i < ca.Count; i++)
+                {
+                    plain += ca[i] * cb[i];
+                    na += ca[i] * ca[i];
+                    nb += cb[i] * cb[i];
+                }
+
+                var weighted = quadratic(ca, cb);
+                pairs.Add(new ContrastOrthogonality(
+                    contrasts[a].Name,
+                    contrasts[b].Name,
+                    plain,
+                    Math.Abs(plain) <= 1e-12 * Math.Sqrt(na * nb),
+                    weighted,
+                    Math.Abs(weighted) <= 1e-12 * Math.Sqrt(quadratic(ca, ca) * quadratic(cb, cb))));
+            }
+        }
+
+        return pairs;
+    }
+
     /// <summary>The family on means whose unit covariance is given by its quadratic form a'Mb.</summary>
     private static ContrastFamily EvaluateWith(
         IReadOnlyList<double> means,
@@ -300,32 +338,7 @@ public static class Contrasts
                 Quantity.Of(ss / mse)));
         }
 
-        var pairs = new List<ContrastOrthogonality>();
-        for (var a = 0; a < count; a++)
-        {
-            for (var b = a + 1; b < count; b++)
-            {
-                var ca = contrasts[a].Coefficients;
-                var cb = contrasts[b].Coefficients;
-                double plain = 0, na = 0, nb = 0;
-                for (var i = 0; i < k; i++)
-                {
-                    plain += ca[i] * cb[i];
-                    na += ca[i] * ca[i];
-                    nb += cb[i] * cb[i];
-                }
-
-                var weighted = quadratic(ca, cb);
-                pairs.Add(new ContrastOrthogonality(
-                    contrasts[a].Name,
-                    contrasts[b].Name,
-                    plain,
-                    Math.Abs(plain) <= 1e-12 * Math.Sqrt(na * nb),
-                    weighted,
-                    Math.Abs(weighted) <= 1e-12 * Math.Sqrt(rows[a].V * rows[b].V)));
-            }
-        }
-
+        var pairs = Orthogonality(contrasts, quadratic);
         return new ContrastFamily(list, pairs, adjustment, alpha, critical, Describe(adjustment, count, k));
     }
 
