@@ -288,7 +288,7 @@ public sealed class FuzzTests
             var problem = Check(run.Folder);
             if (problem is not null && failures.Count < 5)
             {
-                failures.Add($"{c}\n  {problem.Split('\n')[0]}\n  study: {Convert.ToBase64String(studyBytes)}\n  csv: {Convert.ToBase64String(csvBytes)}");
+                failures.Add($"{c}\n  {problem.Split('\n')[0]}\n  study: {Convert.ToBase64String(studyBytes)}\n  {(fuzzBase.Files.Count > 0 ? fuzzBase.Files[0].Path : "csv")}: {Convert.ToBase64String(csvBytes)}");
             }
 
             return problem is null;
