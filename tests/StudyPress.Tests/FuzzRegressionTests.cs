@@ -27,9 +27,10 @@ public sealed class RegressionTests
     public void Compile_FuzzRegressionCase_DoesNotThrowAndGivesTheExpectedDiagnostics(string name)
     {
         using var run = new StudyRun();
-        foreach (var file in Directory.GetFiles(Path.Combine(Root, name)).Where(f => !f.EndsWith("expected.txt", StringComparison.Ordinal)))
+        var folder = Path.Combine(Root, name);
+        foreach (var file in Directory.GetFiles(folder, "*", SearchOption.AllDirectories).Where(f => !f.EndsWith("expected.txt", StringComparison.Ordinal)).Order(StringComparer.Ordinal))
         {
-            run.Bytes(Path.GetFileName(file), File.ReadAllBytes(file));
+            run.Bytes(Path.GetRelativePath(folder, file), File.ReadAllBytes(file));
         }
 
         Assert.Null(FuzzTests.Check(run.Folder));

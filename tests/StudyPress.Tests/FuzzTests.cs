@@ -1,8 +1,10 @@
 using System.Globalization;
+using System.Runtime.CompilerServices;
 using System.Text;
 using FsCheck;
 using FsCheck.Fluent;
 using Microsoft.FSharp.Core;
+using StudyPress.Binding.Kinds;
 using StudyPress.Tests.Support;
 
 namespace StudyPress.Tests;
@@ -20,19 +22,25 @@ public sealed class FuzzTests
 {
     private const int DefaultCases = 5000;
 
-    internal static readonly string[] Tokens =
+    private static readonly string[] FixedTokens =
     [
         "[", "]", "{", "}", ":", ": ", "- ", "-", "\t", "\n", "\r", "\r\n", "---\n", "...\n", "```", "```\n", "~~~", "```anova\n", "```anova main\n", "```posthoc\n",
         "[=", "[=main.dose.f]", "[=s.a.mean]", "[=main]", "[=a.b.c.d.e]", "[='x']", "[=main.dose, result]", ", 2 decimals", ", no leading zero", ", as percent", "\\[=", "{{", "}}", "{{ main.dose.f }}", "{{ main.dose | result }}", "\"", "'", "#", " #", "&a ", "*a", "!!str ", "!!binary ", "|\n", ">\n", "%YAML 1.2\n", "@", "`", ",", ";", "\\", "\u00A0", "\uFEFF", "é", "\u0000", "\u2028", "😀",
         "NaN", "Infinity", "-inf", "1e400", "1e-400", "-0", "NA", "", "0", "-1", "1e308", "99999999999999999999", "0.5", "1,5", "true", "null", "~",
         "title", "id", "authors", "alpha", "data", "path", "sha256", "delimiter", "decimal", "missing", "response", "factors", "levels", "label", "column", "order", "report", "significant-digits", "p-decimals", "digits", "p-digits", "figures", "raw-html", "template",
         "of", "factor", "method", "control", "type", "where", "caption", "by", "groups", "effect", "n", "target", "welch", "ss-type", "transform", "interaction",
-        "summary", "anova", "assumptions", "posthoc", "ranks", "power", "figure", "methods", "box", "means", "qq", "power-curve", "f-distribution", "residuals-fitted", "intervals", "tukey", "games-howell", "holm", "dunnett", "log", "box-cox", "reciprocal", "sqrt", "auto", "yes", "no",
+        "box", "means", "qq", "power-curve", "f-distribution", "residuals-fitted", "intervals", "tukey", "games-howell", "holm", "dunnett", "log", "box-cox", "reciprocal", "sqrt", "auto", "yes", "no",
         "main", "dose", "a", "b", "c", "y", "data.csv", "../data.csv", "/etc/passwd", "sub/", "\"a\"\"b\"", "<script>", "</script>", "<img src=x onerror=alert(1)>", "[x](javascript:alert(1))",
-        "trimmed-means", "```trimmed-means t\n", "trim", "trim: 0.4\n", "0.49", "[=t.dose, result]",
+        "0.49", "[=t.dose, result]",
     ];
 
-    internal static readonly (string Study, string Csv)[] Bases =
+    /// <summary>
+    /// The fixed tokens, then every registered kind's words (<see cref="KindTokens"/>): a new kind is
+    /// fuzzed without an entry here.
+    /// </summary>
+    internal static readonly string[] Tokens = [.. FixedTokens, .. KindTokens()];
+
+    private static readonly (string Study, string Csv)[] FixedBases =
     [
         (
             "---\ntitle: Dose trial\nauthors: [A. Person]\nalpha: 0.05\ndata: data.csv\nresponse: y\nfactors:\n  dose:\n    levels: [a, b, c]\n    label: Dose\norder: run\nreport:\n  figures: none\n---\n\n# Design\n\nSome *prose* with a [link](https://example.org).\n\n"
@@ -49,11 +57,49 @@ public sealed class FuzzTests
             "---\ntitle: Transformed\ndata: data.csv\nresponse: y\nfactors: [dose]\n---\n\n```anova main\ntransform: log\nwelch: no\n```\n\n```posthoc\ncontrol: a\n```\n\n```figure\ntype: box\n```\n",
             "dose,y\na,1\na,2\na,3\nb,4\nb,5\nb,7\nc,8\nc,9\nc,12\n"
         ),
-        (
-            "---\ntitle: Trimmed\ndata: data.csv\nresponse: y\nfactors: [dose]\n---\n\n```trimmed-means t\nfactor: dose\ntrim: 0.2\n```\n\n```trimmed-means w\ntrim: 0\n```\n\n```methods\n```\n\nTrimmed means differ: [=t.trimmed_means.dose, result]; [=t.dose.a.trimmed_mean].\n",
-            "dose,y\na,1\na,2\na,3\na,9\na,2.5\nb,4\nb,5\nb,7\nb,4.5\nb,6\nc,8\nc,9\nc,12\nc,30\nc,8.5\n"
-        ),
     ];
+
+    /// <summary>
+    /// The base studies: the fixed ones (header features: delimiters, decimals, missing values),
+    /// then every registered kind's golden case (<c>Cases/kinds/NAME/</c>, its study and its data
+    /// files), so that a new kind is fuzzed without an entry here.
+    /// </summary>
+    internal static readonly FuzzBase[] Bases = [.. FixedBases.Select(b => new FuzzBase(b.Study, [("data.csv", Encoding.UTF8.GetBytes(b.Csv))])), .. GoldenBases()];
+
+    /// <summary>A base study: its text and its data files (folder-relative path, bytes); a case that mutates data mutates the first file.</summary>
+    internal sealed record FuzzBase(string Study, IReadOnlyList<(string Path, byte[] Bytes)> Files);
+
+    /// <summary>Each registered kind's words: its name, its fence (with and without a block name), and its own keys, bare and as a key line.</summary>
+    private static IEnumerable<string> KindTokens()
+    {
+        foreach (var name in BlockKinds.Names)
+        {
+            yield return name;
+            yield return "```" + name + "\n";
+            yield return "```" + name + " b\n";
+            foreach (var key in BlockKinds.All[name].OwnKeys)
+            {
+                yield return key;
+                yield return key + ": ";
+            }
+        }
+    }
+
+    private static IEnumerable<FuzzBase> GoldenBases()
+    {
+        var cases = Path.Combine(SourceDir(), "Cases", "kinds");
+        foreach (var name in BlockKinds.Names)
+        {
+            var dir = Path.Combine(cases, name);
+            var data = Path.Combine(dir, "data");
+            List<(string Path, byte[] Bytes)> files = Directory.Exists(data)
+                ? Directory.GetFiles(data).Order(StringComparer.Ordinal).Select(f => ("data/" + Path.GetFileName(f), File.ReadAllBytes(f))).ToList()
+                : [];
+            yield return new FuzzBase(File.ReadAllText(Path.Combine(dir, "study.md")), files);
+        }
+    }
+
+    private static string SourceDir([CallerFilePath] string path = "") => Path.GetDirectoryName(path)!;
 
     /// <summary>One mutation: what to do, where (a fraction of the length) and a dictionary token or byte.</summary>
     public sealed record Mutation(int Op, int At, int Length, int Token, byte Byte)
@@ -195,6 +241,18 @@ public sealed class FuzzTests
         return lengths;
     }
 
+    /// <summary>Every registered kind is in the corpus: its name, fence and own keys among the tokens, its golden case among the bases.</summary>
+    [Fact]
+    public void Corpus_CoversEveryRegisteredKind()
+    {
+        foreach (var name in BlockKinds.Names)
+        {
+            Assert.Contains("```" + name + "\n", Tokens);
+            Assert.All(BlockKinds.All[name].OwnKeys, key => Assert.Contains(key + ": ", Tokens));
+            Assert.Contains(Bases, b => b.Study.Contains("```" + name + " ", StringComparison.Ordinal) && b.Files.Count > 0);
+        }
+    }
+
     [Fact]
     public void Compile_MutatedStudiesAndData_NeverThrowsAndPositionsEveryDiagnosticInsideItsFile()
     {
@@ -205,23 +263,32 @@ public sealed class FuzzTests
         var failures = new List<string>();
         var property = Prop.ForAll(Arb.From(CaseGen), c =>
         {
-            var (study, csv) = Bases[c.Base];
-            var studyBytes = Encoding.UTF8.GetBytes(study);
-            var csvBytes = Encoding.UTF8.GetBytes(csv);
-            if (c.MutateCsv)
-            {
-                csvBytes = Apply(csvBytes, c.Mutations);
-            }
-            else
+            var fuzzBase = Bases[c.Base];
+            var studyBytes = Encoding.UTF8.GetBytes(fuzzBase.Study);
+            var mutateData = c.MutateCsv && fuzzBase.Files.Count > 0;
+            if (!mutateData)
             {
                 studyBytes = Apply(studyBytes, c.Mutations);
             }
 
-            run.Bytes("study.md", studyBytes).Bytes("data.csv", csvBytes);
+            run.Bytes("study.md", studyBytes);
+            var csvBytes = Array.Empty<byte>();
+            for (var i = 0; i < fuzzBase.Files.Count; i++)
+            {
+                var (path, bytes) = fuzzBase.Files[i];
+                if (i == 0)
+                {
+                    csvBytes = mutateData ? Apply(bytes, c.Mutations) : bytes;
+                    bytes = csvBytes;
+                }
+
+                run.Bytes(path, bytes);
+            }
+
             var problem = Check(run.Folder);
             if (problem is not null && failures.Count < 5)
             {
-                failures.Add($"{c}\n  {problem.Split('\n')[0]}\n  study: {Convert.ToBase64String(studyBytes)}\n  csv: {Convert.ToBase64String(csvBytes)}");
+                failures.Add($"{c}\n  {problem.Split('\n')[0]}\n  study: {Convert.ToBase64String(studyBytes)}\n  {(fuzzBase.Files.Count > 0 ? fuzzBase.Files[0].Path : "csv")}: {Convert.ToBase64String(csvBytes)}");
             }
 
             return problem is null;

@@ -129,9 +129,10 @@ public sealed class KindContractTests
     }
 
     /// <summary>
-    /// Kinds whose main test has no sentence for a <c>[=block.test.term, result]</c> reference
-    /// (Rendering/Sentences.cs): the list of kinds from before this check. A new kind is not added
-    /// here; it gives its main test a case in <c>Sentences.Result</c> (DEVELOPERS.md, step 6).
+    /// Kinds whose main test has no sentence for a <c>[=block.test.term, result]</c> reference:
+    /// the list of kinds from before this check. A new kind is not added here; its renderer lists
+    /// its main test in <see cref="KindRenderer.PhrasedTests"/> and writes the sentence in
+    /// <see cref="KindRenderer.ResultSentence"/> (DEVELOPERS.md, step 5).
     /// </summary>
     private static readonly string[] KindsWithoutResultSentence = ["contrasts", "equivalence", "figure", "friedman", "marginal-means", "methods", "posthoc"];
 
@@ -139,13 +140,57 @@ public sealed class KindContractTests
     [MemberData(nameof(Kinds))]
     public void MainTestHasAResultSentence(string name)
     {
+        var test = BlockKinds.All[name].PrimaryTest;
+        var phrasing = KindRenderers.Phrasing(test);
         if (KindsWithoutResultSentence.Contains(name))
+        {
+            Assert.True(phrasing is null, $"the kind '{name}' is listed as having no result sentence, but '{phrasing?.Kind}' phrases its main test '{test}': take it off KindsWithoutResultSentence");
+            return;
+        }
+
+        Assert.True(phrasing is not null, $"the kind '{name}' has no result sentence for its main test '{test}': list it in its renderer's PhrasedTests and write the sentence in ResultSentence (Rendering/Kinds), or '[={name}-block.{test}.TERM, result]' is an error");
+    }
+
+    /// <summary>
+    /// Kinds whose main test has a p (stat <c>p</c> without a level in the golden case) declare
+    /// whether <c>studypress diff</c> reports its crossing alpha as a flipped decision on an
+    /// effect: some kind's <see cref="KindRenderer.DiffEffectTests"/> lists the test, or the kind's
+    /// renderer opts out with <see cref="KindRenderer.MainTestIsNotADiffEffect"/>.
+    /// </summary>
+    [Theory]
+    [MemberData(nameof(Kinds))]
+    public void MainTestWithAPDeclaresWhetherItIsADiffEffect(string name)
+    {
+        var test = BlockKinds.All[name].PrimaryTest;
+        var golden = Path.Combine(CasesDir, name, "golden.json");
+        Assert.True(File.Exists(golden), $"no golden values for '{name}'");
+        var hasP = File.ReadLines(golden).Where(l => l.Length > 0).Select(l => JsonNode.Parse(l)!).Any(v =>
+            v["test"]!.GetValue<string>() == test && v["stat"]!.GetValue<string>() == "p" && v["level"] is null);
+        if (!hasP)
         {
             return;
         }
 
-        var test = BlockKinds.All[name].PrimaryTest;
-        Assert.True(StudyPress.Rendering.Sentences.Phrased.Contains(test), $"the kind '{name}' has no result sentence for its main test '{test}': add a case to Sentences.Result and the test to Sentences.Phrased (Rendering/Sentences.cs), or '[={name}-block.{test}.TERM, result]' is an error");
+        var declared = KindRenderers.All.Values.Any(r => r.DiffEffectTests.ContainsKey(test));
+        var optedOut = KindRenderers.All[name].MainTestIsNotADiffEffect;
+        Assert.True(declared || optedOut, $"the kind '{name}' has a p-valued main test '{test}' that no kind declares in DiffEffectTests and its renderer does not opt out (MainTestIsNotADiffEffect): `studypress diff` would not report its changed verdict");
+        Assert.False(declared && optedOut, $"the kind '{name}' both declares '{test}' a diff effect and opts out");
+    }
+
+    /// <summary>
+    /// The central files name no test: result sentences and diff effects are declarations of the
+    /// kinds (<see cref="KindRenderer"/>), so that a new kind does not touch these files.
+    /// </summary>
+    [Fact]
+    public void SentencesAndComparisonNameNoKindsTests()
+    {
+        var sentences = File.ReadAllText(Path.Combine(RepoDir, "src", "StudyPress", "Rendering", "Sentences.cs"));
+        var named = TestName.All.Keys.Where(t => sentences.Contains($"\"{t}\"", StringComparison.Ordinal)).ToList();
+        Assert.True(named.Count == 0, "Rendering/Sentences.cs names tests (a kind's renderer phrases them): " + string.Join(", ", named));
+
+        var comparison = File.ReadAllLines(Path.Combine(RepoDir, "src", "StudyPress", "Comparison", "BuildComparison.cs"));
+        var listed = comparison.Where(l => (l.Contains("EffectTests =", StringComparison.Ordinal) || l.Contains("ProcedureNames =", StringComparison.Ordinal)) && !l.Contains("KindRenderers.All", StringComparison.Ordinal)).ToList();
+        Assert.True(listed.Count == 0, "Comparison/BuildComparison.cs lists effect tests or procedure names itself (each kind's renderer declares them): " + string.Join("; ", listed));
     }
 
     private static IEnumerable<string> Components(JsonNode v)

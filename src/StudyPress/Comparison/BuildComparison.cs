@@ -1,4 +1,5 @@
 using System.Globalization;
+using StudyPress.Rendering.Kinds;
 
 namespace StudyPress.Comparison;
 
@@ -113,7 +114,8 @@ public static class BuildComparison
 {
     public const double Tolerance = 1e-12;
 
-    private static readonly HashSet<string> EffectTests = new(StringComparer.Ordinal) { "anova", "welch", "kruskal_wallis", "trimmed_means" };
+    /// <summary>Tests whose p crossing alpha is a flipped decision on an effect, with their names in the decision lines: each kind's <see cref="KindRenderer.DiffEffectTests"/>.</summary>
+    private static readonly Dictionary<string, string> EffectTests = KindRenderers.All.Values.SelectMany(r => r.DiffEffectTests).ToDictionary(StringComparer.Ordinal);
 
     private static readonly HashSet<string> PairTests = new(StringComparer.Ordinal) { "tukey_hsd", "games_howell", "holm", "bonferroni", "dunnett", "dunn" };
 
@@ -129,18 +131,8 @@ public static class BuildComparison
         ["outliers"] = ("an outlier flagged", "no outlier flagged"),
     };
 
-    private static readonly Dictionary<string, string> ProcedureNames = new(StringComparer.Ordinal)
-    {
-        ["welch"] = "Welch's F",
-        ["kruskal_wallis"] = "Kruskal–Wallis",
-        ["tukey_hsd"] = "Tukey",
-        ["games_howell"] = "Games–Howell",
-        ["holm"] = "Holm",
-        ["bonferroni"] = "Bonferroni",
-        ["dunnett"] = "Dunnett",
-        ["dunn"] = "Dunn",
-        ["trimmed_means"] = "trimmed means",
-    };
+    /// <summary>Names of procedures in the comparison's lines: each kind's <see cref="KindRenderer.ProcedureNames"/>.</summary>
+    private static readonly Dictionary<string, string> ProcedureNames = KindRenderers.All.Values.SelectMany(r => r.ProcedureNames).ToDictionary(StringComparer.Ordinal);
 
     public static ComparisonResult Compare(BuildSnapshot old, BuildSnapshot @new)
     {
@@ -307,9 +299,9 @@ public static class BuildComparison
             {
                 yield return $"{v.Block} › {v.Term} › {string.Join(" vs ", v.Pair)}: {(below ? "separated" : "not separated")} ({Name(v.Test)})";
             }
-            else if (EffectTests.Contains(v.Test) && v.Stat == "p" && v.Level is null)
+            else if (EffectTests.TryGetValue(v.Test, out var effect) && v.Stat == "p" && v.Level is null)
             {
-                yield return $"{v.Block} › {(v.Test == "anova" ? "F test" : Name(v.Test))} › {v.Term}: {(below ? "rejects" : "does not reject")}";
+                yield return $"{v.Block} › {effect} › {v.Term}: {(below ? "rejects" : "does not reject")}";
             }
             else if (Checks.TryGetValue(v.Test, out var words) && v.Stat is "p" or "p_bonferroni" && (v.Test != "outliers" || v.Level is null))
             {
@@ -402,10 +394,9 @@ public static class BuildComparison
                 continue;
             }
 
-            if (EffectTests.Contains(n.Test) && n.Stat == "p" && n.Level is null && Flip(o, n, oldAlpha, newAlpha) is { } ef)
+            if (EffectTests.TryGetValue(n.Test, out var test) && n.Stat == "p" && n.Level is null && Flip(o, n, oldAlpha, newAlpha) is { } ef)
             {
                 var (was, now) = ef ? ("rejects", "does not reject") : ("does not reject", "rejects");
-                var test = n.Test == "anova" ? "F test" : ProcedureNames[n.Test];
                 yield return Decision(DecisionKinds.Effect, o, n, was, now, $"{n.Block} › {test} › {n.Term}: {was} → {now} the hypothesis of no effect (p {o.Text()} → {n.Text()})");
             }
             else if (Checks.TryGetValue(n.Test, out var words) && n.Stat is "p" or "p_bonferroni" && (n.Test != "outliers" || n.Level is null) && Flip(o, n, oldAlpha, newAlpha) is { } af)

@@ -1,6 +1,7 @@
 using System.Globalization;
 using StudyPress.Charts;
 using StudyPress.Evaluation;
+using StudyPress.Rendering.Kinds;
 
 namespace StudyPress.Rendering;
 
@@ -113,157 +114,62 @@ public static class ReportStyle
 /// </summary>
 public static class Sentences
 {
-    /// <summary>Tests that <see cref="Result"/> can phrase.</summary>
-    public static readonly string[] Phrased =
-    [
-        "anova", "welch", "kruskal_wallis", "brown_forsythe", "levene", "bartlett", "shapiro_wilk", "durbin_watson",
-        "tukey_hsd", "games_howell", "holm", "bonferroni", "dunnett", "dunn", "power", "summary", "means",
-        "trimmed_means",
-    ];
-
-    private static string S2(ResultValue v) => ReportStyle.Number(v);
-
-    private static string Fr(ResultValue v) => ReportStyle.Number(v);
-
-    private static string Df(ResultValue v) => ReportStyle.Number(v);
+    /// <summary>
+    /// Tests that <see cref="Result"/> can phrase: every registered kind's
+    /// <see cref="KindRenderer.PhrasedTests"/>.
+    /// </summary>
+    public static IEnumerable<string> Phrased => KindRenderers.All.Values.SelectMany(r => r.PhrasedTests);
 
     /// <summary>
     /// The whole result of one manifest group (the values sharing block, test, term, level and
-    /// pair), or null with a reason when there is no sentence for it.
+    /// pair), or null with a reason when there is no sentence for it. The sentence is the one the
+    /// kind that phrases the test writes (<see cref="KindRenderer.ResultSentence"/>).
     /// </summary>
     public static string? Result(ResultSet all, ResultValue member, double alpha, out string? why)
     {
         why = null;
-        var g = Group(all, member);
-        ResultValue? Get(string stat) => g.GetValueOrDefault(stat);
-        var confidence = ConfidenceText(alpha);
-        switch (member.Test)
+        var phrasing = KindRenderers.Phrasing(member.Test);
+        if (phrasing is not null)
         {
-            case "anova" when member.Term is "residual" or "total":
-                why = $"the {member.Term} row of an ANOVA table has no test";
-                return null;
-            case "anova":
-                {
-                    var resDf = all.Values.FirstOrDefault(v => v.Block == member.Block && v.Test == "anova" && v.Term == "residual" && v.Stat == "df");
-                    if (Get("f") is not { } f || Get("p") is not { } p || Get("df") is not { } df || resDf is null)
-                    {
-                        break;
-                    }
-
-                    var text = $"F({Df(df)}, {Df(resDf)}) = {S2(f)}, {ReportStyle.PPhrase(p)}";
-                    if (Get("partial_eta2") is { } pe)
-                    {
-                        text += $", partial η² = {Fr(pe)}";
-                        if (Get("partial_eta2_ci_low") is { } lo && Get("partial_eta2_ci_high") is { } hi)
-                        {
-                            text += $", {confidence}% CI [{Fr(lo)}, {Fr(hi)}]";
-                        }
-                    }
-
-                    return text;
-                }
-
-            case "welch" or "brown_forsythe" or "levene":
-                if (Get("f") is { } wf && Get("df1") is { } d1 && Get("df2") is { } d2 && Get("p") is { } wp)
-                {
-                    return $"F({Df(d1)}, {Df(d2)}) = {S2(wf)}, {ReportStyle.PPhrase(wp)}";
-                }
-
-                break;
-            case "kruskal_wallis":
-                if (Get("h") is { } h && Get("df") is { } hd && Get("p") is { } hp)
-                {
-                    return $"H({Df(hd)}) = {S2(h)}, {ReportStyle.PPhrase(hp)}";
-                }
-
-                if (Get("mean_rank") is { } mr && Get("n") is { } mn)
-                {
-                    return $"mean rank = {S2(mr)}, n = {Df(mn)}";
-                }
-
-                break;
-            case "bartlett":
-                if (Get("statistic") is { } b && Get("df") is { } bd && Get("p") is { } bp)
-                {
-                    return $"χ²({Df(bd)}) = {S2(b)}, {ReportStyle.PPhrase(bp)}";
-                }
-
-                break;
-            case "shapiro_wilk":
-                if (Get("w") is { } w && Get("p") is { } sp)
-                {
-                    return $"W = {Fr(w)}, {ReportStyle.PPhrase(sp)}";
-                }
-
-                break;
-            case "durbin_watson":
-                if (Get("d") is { } d && Get("p") is { } dp)
-                {
-                    return $"d = {S2(d)}, {ReportStyle.PPhrase(dp)}";
-                }
-
-                break;
-            case "tukey_hsd" or "games_howell" or "holm" or "bonferroni" or "dunnett" or "dunn":
-                if (Get("diff") is { } diff && Get("p_adj") is { } pa)
-                {
-                    var text = member.Test == "dunn" ? $"difference in mean rank = {S2(diff)}" : $"difference = {S2(diff)}";
-                    if (Get("ci_low") is { } cl && Get("ci_high") is { } ch)
-                    {
-                        text += $", simultaneous {confidence}% CI [{S2(cl)}, {S2(ch)}]";
-                    }
-
-                    if (member.Test == "dunn" && Get("statistic") is { } z)
-                    {
-                        text += $", z = {S2(z)}";
-                    }
-
-                    return text + ", " + ReportStyle.PPhrase(pa, "adjusted p");
-                }
-
-                break;
-            case "power":
-                if (Get("power") is { } pw && Get("n_per_group") is { } npg && Get("effect_f") is { } ef)
-                {
-                    return $"power = {Fr(pw)} with n = {Df(npg)} per group for Cohen's f = {S2(ef)}";
-                }
-
-                break;
-            case "summary":
-                if (Get("mean") is { } m && Get("sd") is { } sd && Get("n") is { } n)
-                {
-                    var text = $"mean = {S2(m)}, SD = {S2(sd)}, n = {Df(n)}";
-                    if (Get("ci_low") is { } sl && Get("ci_high") is { } sh)
-                    {
-                        text += $", {confidence}% CI [{S2(sl)}, {S2(sh)}]";
-                    }
-
-                    return text;
-                }
-
-                break;
-            case "means":
-                if (Get("mean") is { } mm && Get("n") is { } mcount)
-                {
-                    return $"mean = {S2(mm)}, n = {Df(mcount)}";
-                }
-
-                break;
-            case "trimmed_means":
-                if (Get("f") is { } tf && Get("df1") is { } td1 && Get("df2") is { } td2 && Get("p") is { } tp)
-                {
-                    return $"F({Df(td1)}, {Df(td2)}) = {S2(tf)}, {ReportStyle.PPhrase(tp)}";
-                }
-
-                if (Get("trimmed_mean") is { } tm && Get("n_effective") is { } th)
-                {
-                    return $"trimmed mean = {S2(tm)}, {Df(th)} values after trimming";
-                }
-
-                break;
+            var text = phrasing.ResultSentence(member, Group(all, member), all, alpha, out why);
+            if (text is not null || why is not null)
+            {
+                return text;
+            }
         }
 
-        why = $"there is no result sentence for '{member.Test}' values" + (Phrased.Contains(member.Test) ? " without its test statistic" : string.Empty);
+        why = $"there is no result sentence for '{member.Test}' values" + (phrasing is not null ? " without its test statistic" : string.Empty);
         return null;
+    }
+
+    /// <summary>"F(3, 20) = 11.5, p &lt; 0.001": an F statistic with its two degrees of freedom and p.</summary>
+    public static string FTest(ResultValue df1, ResultValue df2, ResultValue f, ResultValue p) =>
+        $"F({ReportStyle.Number(df1)}, {ReportStyle.Number(df2)}) = {ReportStyle.Number(f)}, {ReportStyle.PPhrase(p)}";
+
+    /// <summary>
+    /// The sentence of one pairwise comparison: "<paramref name="difference"/> = D, simultaneous 95%
+    /// CI [L, H], adjusted p = P" (with ", z = Z" before p when <paramref name="withZ"/> and the group
+    /// has a <c>statistic</c>); null without <c>diff</c> and <c>p_adj</c>.
+    /// </summary>
+    public static string? Pairwise(IReadOnlyDictionary<string, ResultValue> g, double alpha, string difference, bool withZ)
+    {
+        if (g.GetValueOrDefault("diff") is not { } diff || g.GetValueOrDefault("p_adj") is not { } pa)
+        {
+            return null;
+        }
+
+        var text = $"{difference} = {ReportStyle.Number(diff)}";
+        if (g.GetValueOrDefault("ci_low") is { } cl && g.GetValueOrDefault("ci_high") is { } ch)
+        {
+            text += $", simultaneous {ConfidenceText(alpha)}% CI [{ReportStyle.Number(cl)}, {ReportStyle.Number(ch)}]";
+        }
+
+        if (withZ && g.GetValueOrDefault("statistic") is { } z)
+        {
+            text += $", z = {ReportStyle.Number(z)}";
+        }
+
+        return text + ", " + ReportStyle.PPhrase(pa, "adjusted p");
     }
 
     /// <summary>The values that share the member's block, test, term, level and pair, by statistic.</summary>

@@ -861,4 +861,60 @@ public sealed class AnovaRenderer : KindRenderer
         var shown = context.Format.Format("p", p.Value.Value);
         return shown.StartsWith('<') ? html : "= " + html;
     }
+
+    /// <inheritdoc/>
+    public override IReadOnlyList<string> PhrasedTests => ["anova", "welch", "means"];
+
+    /// <inheritdoc/>
+    public override string? ResultSentence(ResultValue member, IReadOnlyDictionary<string, ResultValue> group, ResultSet all, double alpha, out string? why)
+    {
+        why = null;
+        ResultValue? Get(string stat) => group.GetValueOrDefault(stat);
+        switch (member.Test)
+        {
+            case "anova" when member.Term is "residual" or "total":
+                why = $"the {member.Term} row of an ANOVA table has no test";
+                return null;
+            case "anova":
+                {
+                    var resDf = all.Values.FirstOrDefault(v => v.Block == member.Block && v.Test == "anova" && v.Term == "residual" && v.Stat == "df");
+                    if (Get("f") is not { } f || Get("p") is not { } p || Get("df") is not { } df || resDf is null)
+                    {
+                        return null;
+                    }
+
+                    var text = Sentences.FTest(df, resDf, f, p);
+                    if (Get("partial_eta2") is { } pe)
+                    {
+                        text += $", partial η² = {ReportStyle.Number(pe)}";
+                        if (Get("partial_eta2_ci_low") is { } lo && Get("partial_eta2_ci_high") is { } hi)
+                        {
+                            text += $", {Sentences.ConfidenceText(alpha)}% CI [{ReportStyle.Number(lo)}, {ReportStyle.Number(hi)}]";
+                        }
+                    }
+
+                    return text;
+                }
+
+            case "welch":
+                return Get("f") is { } wf && Get("df1") is { } d1 && Get("df2") is { } d2 && Get("p") is { } wp ? Sentences.FTest(d1, d2, wf, wp) : null;
+            case "means":
+                return Get("mean") is { } mm && Get("n") is { } mcount ? $"mean = {ReportStyle.Number(mm)}, n = {ReportStyle.Number(mcount)}" : null;
+            default:
+                return null;
+        }
+    }
+
+    /// <inheritdoc/>
+    public override IReadOnlyDictionary<string, string> DiffEffectTests { get; } = new Dictionary<string, string>(StringComparer.Ordinal)
+    {
+        ["anova"] = "F test",
+        ["welch"] = "Welch's F",
+    }.AsReadOnly();
+
+    /// <inheritdoc/>
+    public override IReadOnlyDictionary<string, string> ProcedureNames { get; } = new Dictionary<string, string>(StringComparer.Ordinal)
+    {
+        ["welch"] = "Welch's F",
+    }.AsReadOnly();
 }

@@ -375,4 +375,25 @@ public sealed class AssumptionsRenderer : KindRenderer
         IndependenceGap.TooFewOrdered => "fewer than three observations have a run order",
         _ => string.Create(System.Globalization.CultureInfo.InvariantCulture, $"{StudyPress.Charts.NumberText.Count(withoutOrder, "observation")} without a run order {(withoutOrder == 1 ? "was" : "were")} left out of the Durbin–Watson test"),
     };
+
+    /// <inheritdoc/>
+    public override IReadOnlyList<string> PhrasedTests => ["brown_forsythe", "levene", "bartlett", "shapiro_wilk", "durbin_watson"];
+
+    /// <inheritdoc/>
+    public override string? ResultSentence(ResultValue member, IReadOnlyDictionary<string, ResultValue> group, ResultSet all, double alpha, out string? why)
+    {
+        why = null;
+        ResultValue? Get(string stat) => group.GetValueOrDefault(stat);
+        return member.Test switch
+        {
+            "brown_forsythe" or "levene" when Get("f") is { } f && Get("df1") is { } d1 && Get("df2") is { } d2 && Get("p") is { } p => Sentences.FTest(d1, d2, f, p),
+            "bartlett" when Get("statistic") is { } b && Get("df") is { } bd && Get("p") is { } bp => $"χ²({ReportStyle.Number(bd)}) = {ReportStyle.Number(b)}, {ReportStyle.PPhrase(bp)}",
+            "shapiro_wilk" when Get("w") is { } w && Get("p") is { } sp => $"W = {ReportStyle.Number(w)}, {ReportStyle.PPhrase(sp)}",
+            "durbin_watson" when Get("d") is { } d && Get("p") is { } dp => $"d = {ReportStyle.Number(d)}, {ReportStyle.PPhrase(dp)}",
+            _ => null,
+        };
+    }
+
+    /// <summary>The main test (Shapiro–Wilk) is an assumption check: <c>studypress diff</c> reports its flips as such, not as an effect.</summary>
+    public override bool MainTestIsNotADiffEffect => true;
 }

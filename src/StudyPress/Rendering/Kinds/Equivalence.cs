@@ -152,4 +152,10 @@ public sealed class EquivalenceRenderer : KindRenderer
 
         html.Raw("<div class=\"reading\"><p>").Text(reading).Raw("</p></div>");
     }
+
+    /// <summary>
+    /// The main test (two one-sided tests) has a p, but a p below alpha declares equivalence, not an
+    /// effect: <c>studypress diff</c> does not report its crossing alpha as an effect's flip.
+    /// </summary>
+    public override bool MainTestIsNotADiffEffect => true;
 }

@@ -106,4 +106,11 @@ public sealed class FriedmanRenderer : KindRenderer
             : "At α = " + context.AlphaText + " the Friedman test does not reject the hypothesis that the treatments are ranked alike within blocks; this is not evidence that they are.";
         html.Raw("<div class=\"reading\"><p>").Text(reading).Raw("</p></div>");
     }
+
+    /// <summary>
+    /// <c>studypress diff</c> does not report the Friedman test's p crossing alpha as an effect's
+    /// flip (as before kinds declared their effects); declaring it in
+    /// <see cref="KindRenderer.DiffEffectTests"/> instead would add such lines to diff outputs.
+    /// </summary>
+    public override bool MainTestIsNotADiffEffect => true;
 }

@@ -1,3 +1,4 @@
+using StudyPress.Evaluation;
 using StudyPress.Evaluation.Kinds;
 
 namespace StudyPress.Rendering.Kinds;
@@ -30,6 +31,52 @@ public abstract class KindRenderer
 
     /// <summary>Plain notes shown after the cautions (rows left out and the like); see <see cref="Warnings"/>.</summary>
     public virtual IEnumerable<string> Notes(BlockOutcome outcome, RenderContext context) => [];
+
+    /// <summary>
+    /// The tests whose result sentence this kind writes (<see cref="ResultSentence"/>), the sentence
+    /// a prose reference <c>[=block.test.term, result]</c> writes. A test is phrased by one kind
+    /// only, for every block that records it (the <c>anova</c> values of a <c>repeated</c> block are
+    /// phrased by the <c>anova</c> kind); <see cref="KindRenderers.Register"/> refuses a second.
+    /// </summary>
+    public virtual IReadOnlyList<string> PhrasedTests => [];
+
+    /// <summary>
+    /// The result sentence (HTML, numbers as traced spans through <see cref="ReportStyle.Number"/>
+    /// and <see cref="ReportStyle.PPhrase"/>) of one manifest group of a test in
+    /// <see cref="PhrasedTests"/>: <paramref name="group"/> holds the values sharing the member's
+    /// block, test, term, level and pair, by stat. Null when the group lacks the values the sentence
+    /// needs; <paramref name="why"/> may then say why (otherwise "no result sentence … without its
+    /// test statistic").
+    /// </summary>
+    public virtual string? ResultSentence(ResultValue member, IReadOnlyDictionary<string, ResultValue> group, ResultSet all, double alpha, out string? why)
+    {
+        why = null;
+        return null;
+    }
+
+    /// <summary>
+    /// Tests of this kind whose p (stat <c>p</c>, no level) crossing alpha <c>studypress diff</c>
+    /// reports as a flipped decision on an effect, with the name its decision lines give the test
+    /// ("F test"). Read by the comparison of builds (Comparison/BuildComparison.cs) for every block
+    /// that records the test.
+    /// </summary>
+    public virtual IReadOnlyDictionary<string, string> DiffEffectTests => EmptyNames;
+
+    /// <summary>
+    /// Names of this kind's procedures (tests) in <c>studypress diff</c>'s lines ("Holm",
+    /// "Welch's F"): a changed procedure choice, a separated pair and the like. A test without a
+    /// name is written as its manifest name.
+    /// </summary>
+    public virtual IReadOnlyDictionary<string, string> ProcedureNames => EmptyNames;
+
+    /// <summary>
+    /// True when the kind's main test has a p but is deliberately not an effect test for
+    /// <c>studypress diff</c> (an assumption check, or a test whose flips are not reported); a kind
+    /// with a p-valued main test that declares neither fails <c>KindContractTests</c>.
+    /// </summary>
+    public virtual bool MainTestIsNotADiffEffect => false;
+
+    private static readonly IReadOnlyDictionary<string, string> EmptyNames = new Dictionary<string, string>(StringComparer.Ordinal).AsReadOnly();
 }
 
 /// <summary>Every kind's renderer, by kind name.</summary>
@@ -42,12 +89,33 @@ public static class KindRenderers
     {
         lock (Registered)
         {
+            foreach (var other in Registered.Values)
+            {
+                if (other.PhrasedTests.FirstOrDefault(renderer.PhrasedTests.Contains) is { } test)
+                {
+                    throw new InvalidOperationException($"the kinds '{other.Kind}' and '{renderer.Kind}' both phrase the test '{test}'");
+                }
+
+                if (other.DiffEffectTests.Keys.FirstOrDefault(renderer.DiffEffectTests.ContainsKey) is { } effect)
+                {
+                    throw new InvalidOperationException($"the kinds '{other.Kind}' and '{renderer.Kind}' both name the effect test '{effect}'");
+                }
+
+                if (other.ProcedureNames.Keys.FirstOrDefault(renderer.ProcedureNames.ContainsKey) is { } procedure)
+                {
+                    throw new InvalidOperationException($"the kinds '{other.Kind}' and '{renderer.Kind}' both name the procedure '{procedure}'");
+                }
+            }
+
             if (!Registered.TryAdd(renderer.Kind, renderer))
             {
                 throw new InvalidOperationException($"two renderers for the kind '{renderer.Kind}'");
             }
         }
     }
+
+    /// <summary>The renderer that phrases <paramref name="test"/>'s result sentence, or null.</summary>
+    public static KindRenderer? Phrasing(string test) => Registered.Values.FirstOrDefault(r => r.PhrasedTests.Contains(test));
 
     public static IReadOnlyDictionary<string, KindRenderer> All => Registered;
 

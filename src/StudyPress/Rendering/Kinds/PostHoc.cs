@@ -460,4 +460,24 @@ public sealed class PostHocRenderer : KindRenderer
         html.Raw("<p>").Text(string.Create(CultureInfo.InvariantCulture, $"{differ} of {NumberText.Count(main.Pairs.Count, "comparison")} {(differ == 1 ? "differs" : "differ")} at the family-wise level α = {context.AlphaText}. \"Not distinguished\" means the data cannot tell those levels apart at this level, not that they are equal; the intervals show how large a difference remains compatible with the data.")).Raw("</p>");
         html.Raw("</div>");
     }
+
+    /// <inheritdoc/>
+    public override IReadOnlyList<string> PhrasedTests => ["tukey_hsd", "games_howell", "holm", "bonferroni", "dunnett"];
+
+    /// <inheritdoc/>
+    public override string? ResultSentence(ResultValue member, IReadOnlyDictionary<string, ResultValue> group, ResultSet all, double alpha, out string? why)
+    {
+        why = null;
+        return Sentences.Pairwise(group, alpha, "difference", withZ: false);
+    }
+
+    /// <inheritdoc/>
+    public override IReadOnlyDictionary<string, string> ProcedureNames { get; } = new Dictionary<string, string>(StringComparer.Ordinal)
+    {
+        ["tukey_hsd"] = "Tukey",
+        ["games_howell"] = "Games–Howell",
+        ["holm"] = "Holm",
+        ["bonferroni"] = "Bonferroni",
+        ["dunnett"] = "Dunnett",
+    }.AsReadOnly();
 }

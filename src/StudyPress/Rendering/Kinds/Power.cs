@@ -87,4 +87,16 @@ public sealed class PowerRenderer : KindRenderer
         html.Raw("<p class=\"method\">").Text($"One-way fixed-effects F test with {o.Groups} equal groups: the noncentrality is λ = f² × k × n and the power is the probability that F′ exceeds the rejection threshold of F, under the noncentral F distribution (Cohen's f = {f}: 0.10, 0.25 and 0.40 are Cohen's conventional small, medium and large effects, but your field's own benchmarks should decide).").Raw("</p>");
         string V(IReadOnlyDictionary<string, ResultValue> values, string stat) => HtmlWriter.ValueHtml(values[stat], context);
     }
+
+    /// <inheritdoc/>
+    public override IReadOnlyList<string> PhrasedTests => ["power"];
+
+    /// <inheritdoc/>
+    public override string? ResultSentence(ResultValue member, IReadOnlyDictionary<string, ResultValue> group, ResultSet all, double alpha, out string? why)
+    {
+        why = null;
+        return group.GetValueOrDefault("power") is { } pw && group.GetValueOrDefault("n_per_group") is { } npg && group.GetValueOrDefault("effect_f") is { } ef
+            ? $"power = {ReportStyle.Number(pw)} with n = {ReportStyle.Number(npg)} per group for Cohen's f = {ReportStyle.Number(ef)}"
+            : null;
+    }
 }

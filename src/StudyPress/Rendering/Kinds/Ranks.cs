@@ -71,4 +71,38 @@ public sealed class RanksRenderer : KindRenderer
             : "At α = " + context.AlphaText + " the rank test does not reject the hypothesis that all groups come from the same distribution; this is not evidence that they do.";
         html.Raw("<div class=\"reading\"><p>").Text(reading).Raw("</p></div>");
     }
+
+    /// <inheritdoc/>
+    public override IReadOnlyList<string> PhrasedTests => ["kruskal_wallis", "dunn"];
+
+    /// <inheritdoc/>
+    public override string? ResultSentence(ResultValue member, IReadOnlyDictionary<string, ResultValue> group, ResultSet all, double alpha, out string? why)
+    {
+        why = null;
+        ResultValue? Get(string stat) => group.GetValueOrDefault(stat);
+        if (member.Test == "dunn")
+        {
+            return Sentences.Pairwise(group, alpha, "difference in mean rank", withZ: true);
+        }
+
+        if (Get("h") is { } h && Get("df") is { } hd && Get("p") is { } hp)
+        {
+            return $"H({ReportStyle.Number(hd)}) = {ReportStyle.Number(h)}, {ReportStyle.PPhrase(hp)}";
+        }
+
+        return Get("mean_rank") is { } mr && Get("n") is { } mn ? $"mean rank = {ReportStyle.Number(mr)}, n = {ReportStyle.Number(mn)}" : null;
+    }
+
+    /// <inheritdoc/>
+    public override IReadOnlyDictionary<string, string> DiffEffectTests { get; } = new Dictionary<string, string>(StringComparer.Ordinal)
+    {
+        ["kruskal_wallis"] = "Kruskal–Wallis",
+    }.AsReadOnly();
+
+    /// <inheritdoc/>
+    public override IReadOnlyDictionary<string, string> ProcedureNames { get; } = new Dictionary<string, string>(StringComparer.Ordinal)
+    {
+        ["kruskal_wallis"] = "Kruskal–Wallis",
+        ["dunn"] = "Dunn",
+    }.AsReadOnly();
 }

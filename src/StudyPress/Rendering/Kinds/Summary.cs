@@ -99,4 +99,25 @@ public sealed class SummaryRenderer : KindRenderer
         table.WriteTo(html);
         html.Raw("<p class=\"method\">").Text($"SD with divisor n − 1; SE = SD/√n; the interval is mean ± t × SE on n − 1 df; quartiles by linear interpolation between order statistics.").Raw("</p>");
     }
+
+    /// <inheritdoc/>
+    public override IReadOnlyList<string> PhrasedTests => ["summary"];
+
+    /// <inheritdoc/>
+    public override string? ResultSentence(ResultValue member, IReadOnlyDictionary<string, ResultValue> group, ResultSet all, double alpha, out string? why)
+    {
+        why = null;
+        if (group.GetValueOrDefault("mean") is not { } m || group.GetValueOrDefault("sd") is not { } sd || group.GetValueOrDefault("n") is not { } n)
+        {
+            return null;
+        }
+
+        var text = $"mean = {ReportStyle.Number(m)}, SD = {ReportStyle.Number(sd)}, n = {ReportStyle.Number(n)}";
+        if (group.GetValueOrDefault("ci_low") is { } sl && group.GetValueOrDefault("ci_high") is { } sh)
+        {
+            text += $", {Sentences.ConfidenceText(alpha)}% CI [{ReportStyle.Number(sl)}, {ReportStyle.Number(sh)}]";
+        }
+
+        return text;
+    }
 }

@@ -84,4 +84,32 @@ public sealed class TrimmedMeansRenderer : KindRenderer
                 : "At α = " + context.AlphaText + " the test does not reject the hypothesis that the population trimmed means of the levels of " + o.FactorLabel + " are all equal; this is not evidence that they are equal.";
         html.Raw("<div class=\"reading\"><p>").Text(reading).Raw("</p></div>");
     }
+
+    /// <inheritdoc/>
+    public override IReadOnlyList<string> PhrasedTests => ["trimmed_means"];
+
+    /// <inheritdoc/>
+    public override string? ResultSentence(ResultValue member, IReadOnlyDictionary<string, ResultValue> group, ResultSet all, double alpha, out string? why)
+    {
+        why = null;
+        ResultValue? Get(string stat) => group.GetValueOrDefault(stat);
+        if (Get("f") is { } f && Get("df1") is { } d1 && Get("df2") is { } d2 && Get("p") is { } p)
+        {
+            return Sentences.FTest(d1, d2, f, p);
+        }
+
+        return Get("trimmed_mean") is { } tm && Get("n_effective") is { } th ? $"trimmed mean = {ReportStyle.Number(tm)}, {ReportStyle.Number(th)} values after trimming" : null;
+    }
+
+    /// <inheritdoc/>
+    public override IReadOnlyDictionary<string, string> DiffEffectTests { get; } = new Dictionary<string, string>(StringComparer.Ordinal)
+    {
+        ["trimmed_means"] = "trimmed means",
+    }.AsReadOnly();
+
+    /// <inheritdoc/>
+    public override IReadOnlyDictionary<string, string> ProcedureNames { get; } = new Dictionary<string, string>(StringComparer.Ordinal)
+    {
+        ["trimmed_means"] = "trimmed means",
+    }.AsReadOnly();
 }
