@@ -189,6 +189,51 @@ public sealed class DiffTests
         Assert.Equal(0, r.ExitCode(FailOn.Never));
     }
 
+    // The Friedman test's verdict is an effect decision too (it was left out of diff before). Six
+    // blocks ranking the treatments alike (rank sums 6, 12, 18: χ² = 12, p = e^−6 ≈ 0.0025, exact
+    // hand computation) against six blocks whose rankings cancel (rank sums 12, 12, 12: χ² = 0,
+    // p = 1). Invented scores.
+    [Fact]
+    public void FriedmanVerdictFlip_IsAFlippedDecision()
+    {
+        static string Study() => """
+---
+title: Ranked scores
+data: data/scores.csv
+response: score
+factors: [panel, recipe]
+---
+
+```friedman f
+factor: recipe
+blocks: panel
+```
+""";
+        var alike = new System.Text.StringBuilder("panel,recipe,score\n");
+        var cancel = new System.Text.StringBuilder("panel,recipe,score\n");
+        string[][] orders = [["a", "b", "c"], ["b", "c", "a"], ["c", "a", "b"]];
+        for (var b = 0; b < 6; b++)
+        {
+            for (var j = 0; j < 3; j++)
+            {
+                alike.Append(CultureInfo.InvariantCulture, $"P{b},{"abc"[j]},{j + 1 + (b * 0.1)}\n");
+                cancel.Append(CultureInfo.InvariantCulture, $"P{b},{orders[b % 3][j]},{j + 1 + (b * 0.1)}\n");
+            }
+        }
+
+        using var run = new StudyRun()
+            .File("old/study.md", Study()).File("old/data/scores.csv", alike.ToString())
+            .File("new/study.md", Study()).File("new/data/scores.csv", cancel.ToString());
+        var r = Compare(run);
+        var before = r.Old.Values.Single(v => v.Key == SnapshotValue.PathKey("f", "friedman", "recipe", null, null, "p")).Value!.Value;
+        var after = r.New.Values.Single(v => v.Key == SnapshotValue.PathKey("f", "friedman", "recipe", null, null, "p")).Value!.Value;
+        Assert.Equal(Math.Exp(-6), before, 12);
+        Assert.Equal(1.0, after, 12);
+        var effect = Assert.Single(r.Decisions, d => d.Kind == DecisionKinds.Effect);
+        Assert.Equal(("f", "friedman", "recipe", "rejects", "does not reject"), (effect.Block, effect.Test, effect.Term, effect.Old, effect.New));
+        Assert.StartsWith("f › Friedman test › recipe: rejects → does not reject", effect.Description, StringComparison.Ordinal);
+    }
+
     [Fact]
     public void UnequalSpreads_SwitchProcedures_AndVerdicts()
     {

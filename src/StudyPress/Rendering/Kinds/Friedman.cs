@@ -107,10 +107,9 @@ public sealed class FriedmanRenderer : KindRenderer
         html.Raw("<div class=\"reading\"><p>").Text(reading).Raw("</p></div>");
     }
 
-    /// <summary>
-    /// <c>studypress diff</c> does not report the Friedman test's p crossing alpha as an effect's
-    /// flip (as before kinds declared their effects); declaring it in
-    /// <see cref="KindRenderer.DiffEffectTests"/> instead would add such lines to diff outputs.
-    /// </summary>
-    public override bool MainTestIsNotADiffEffect => true;
+    /// <summary><c>studypress diff</c> reports the Friedman test's p crossing alpha as a flipped decision on the treatment effect.</summary>
+    public override IReadOnlyDictionary<string, string> DiffEffectTests { get; } = new Dictionary<string, string>(StringComparer.Ordinal)
+    {
+        [TestName.Friedman] = "Friedman test",
+    }.AsReadOnly();
 }
