@@ -180,10 +180,6 @@ public sealed partial class ArchitectureRulesTests
         "ContrastsOutcome.PooledUnbalanced",
         "ContrastsOutcome.SingleObservationLevels",
         "ContrastsOutcome.Transformed",
-        "EquivalenceOutcome.Error",
-        "EquivalenceOutcome.FactorLabel",
-        "EquivalenceOutcome.Pooled",
-        "EquivalenceOutcome.UnequalVariancesP",
         "MarginalMeansOutcome.AtLabel",
         "MarginalMeansOutcome.AtName",
         "MarginalMeansOutcome.BackTransformation",
@@ -261,7 +257,6 @@ public sealed partial class ArchitectureRulesTests
     [
         "BlockOutcome",
         "ContrastsOutcome",
-        "EquivalenceOutcome",
         "MarginalMeansOutcome",
         "PostHocFamily",
         "PostHocOutcome",
