@@ -165,21 +165,6 @@ public sealed partial class ArchitectureRulesTests
     /// </summary>
     private static readonly string[] StillSetDuringEvaluation =
     [
-        "ContrastsOutcome.Adjustment",
-        "ContrastsOutcome.AdjustmentChosen",
-        "ContrastsOutcome.AnovaFactorSs",
-        "ContrastsOutcome.MarginalMeans",
-        "ContrastsOutcome.BetweenLevels",
-        "ContrastsOutcome.Error",
-        "ContrastsOutcome.FactorLabel",
-        "ContrastsOutcome.IsTrend",
-        "ContrastsOutcome.LackOfFit",
-        "ContrastsOutcome.Levels",
-        "ContrastsOutcome.Orthogonality",
-        "ContrastsOutcome.OtherFactors",
-        "ContrastsOutcome.PooledUnbalanced",
-        "ContrastsOutcome.SingleObservationLevels",
-        "ContrastsOutcome.Transformed",
         "MarginalMeansOutcome.AtLabel",
         "MarginalMeansOutcome.AtName",
         "MarginalMeansOutcome.BackTransformation",
@@ -256,7 +241,6 @@ public sealed partial class ArchitectureRulesTests
     private static readonly string[] StillExposeMutableCollections =
     [
         "BlockOutcome",
-        "ContrastsOutcome",
         "MarginalMeansOutcome",
         "PostHocFamily",
         "PostHocOutcome",
