@@ -165,12 +165,6 @@ public sealed partial class ArchitectureRulesTests
     /// </summary>
     private static readonly string[] StillSetDuringEvaluation =
     [
-        "MarginalMeansOutcome.AtLabel",
-        "MarginalMeansOutcome.AtName",
-        "MarginalMeansOutcome.BackTransformation",
-        "MarginalMeansOutcome.ByLabel",
-        "MarginalMeansOutcome.Design",
-        "MarginalMeansOutcome.Transform",
         "PostHocOutcome.DesignError",
         "PostHocOutcome.Direction",
         "PostHocOutcome.EmptyGroups",
@@ -241,10 +235,8 @@ public sealed partial class ArchitectureRulesTests
     private static readonly string[] StillExposeMutableCollections =
     [
         "BlockOutcome",
-        "MarginalMeansOutcome",
         "PostHocFamily",
         "PostHocOutcome",
-        "RepeatedMarginalMeansOutcome",
     ];
 
     [Fact]
