@@ -165,15 +165,6 @@ public sealed partial class ArchitectureRulesTests
     /// </summary>
     private static readonly string[] StillSetDuringEvaluation =
     [
-        "PostHocOutcome.DesignError",
-        "PostHocOutcome.Direction",
-        "PostHocOutcome.EmptyGroups",
-        "PostHocOutcome.FactorLabel",
-        "PostHocOutcome.MultivariateTError",
-        "PostHocOutcome.FromCells",
-        "PostHocOutcome.SingleObservationLevels",
-        "PostHocOutcome.Transformed",
-        "PostHocOutcome.UndefinedResidual",
     ];
 
     [Fact]
@@ -235,8 +226,6 @@ public sealed partial class ArchitectureRulesTests
     private static readonly string[] StillExposeMutableCollections =
     [
         "BlockOutcome",
-        "PostHocFamily",
-        "PostHocOutcome",
     ];
 
     [Fact]

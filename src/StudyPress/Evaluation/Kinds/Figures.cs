@@ -274,9 +274,9 @@ public static class Figures
         }
     }
 
-    public static FigurePlan? Intervals(PostHocOutcome posthoc, double alpha, string? caption = null)
+    public static FigurePlan? Intervals(IReadOnlyList<PostHocFamily> families, double alpha, string? caption = null)
     {
-        var family = posthoc.Families.FirstOrDefault(f => f.Pairs.Any(p => p.Pair.CiLow.IsDefined));
+        var family = families.FirstOrDefault(f => f.Pairs.Any(p => p.Pair.CiLow.IsDefined));
         if (family is null)
         {
             return null;
