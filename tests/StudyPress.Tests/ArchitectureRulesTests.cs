@@ -225,7 +225,6 @@ public sealed partial class ArchitectureRulesTests
     /// </summary>
     private static readonly string[] StillExposeMutableCollections =
     [
-        "BlockOutcome",
     ];
 
     [Fact]

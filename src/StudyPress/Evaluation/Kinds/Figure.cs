@@ -71,8 +71,6 @@ public sealed class FigureEvaluator : KindEvaluator
         }
 
         var drawn = figures.OfType<FigurePlan>().ToList();
-        var outcome = new FigureOutcome(block) { NotDrawn = drawn.Count == 0 && source is not null };
-        outcome.Figures.AddRange(drawn);
-        return outcome;
+        return new FigureOutcome(block) { NotDrawn = drawn.Count == 0 && source is not null, Figures = drawn.AsReadOnly() };
     }
 }

@@ -114,7 +114,7 @@ public sealed partial class MarginalMeansEvaluator : KindEvaluator
             BackTransformation = backTransformation,
             Design = isDesign,
             Labels = labels.AsReadOnly(),
-            Figures = figures,
+            Figures = figures.AsReadOnly(),
         };
 
         if (PlainAnovaOf(context, block, diagnostics) is not { Data: { } data } anova)

@@ -397,7 +397,7 @@ public sealed partial class PostHocEvaluator : KindEvaluator
             DesignError = DesignError,
             Direction = Direction,
             MultivariateTError = MultivariateTError,
-            Figures = Figures,
+            Figures = Figures.AsReadOnly(),
         };
     }
 
