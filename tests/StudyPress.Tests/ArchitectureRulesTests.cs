@@ -165,40 +165,6 @@ public sealed partial class ArchitectureRulesTests
     /// </summary>
     private static readonly string[] StillSetDuringEvaluation =
     [
-        "ContrastsOutcome.Adjustment",
-        "ContrastsOutcome.AdjustmentChosen",
-        "ContrastsOutcome.AnovaFactorSs",
-        "ContrastsOutcome.MarginalMeans",
-        "ContrastsOutcome.BetweenLevels",
-        "ContrastsOutcome.Error",
-        "ContrastsOutcome.FactorLabel",
-        "ContrastsOutcome.IsTrend",
-        "ContrastsOutcome.LackOfFit",
-        "ContrastsOutcome.Levels",
-        "ContrastsOutcome.Orthogonality",
-        "ContrastsOutcome.OtherFactors",
-        "ContrastsOutcome.PooledUnbalanced",
-        "ContrastsOutcome.SingleObservationLevels",
-        "ContrastsOutcome.Transformed",
-        "EquivalenceOutcome.Error",
-        "EquivalenceOutcome.FactorLabel",
-        "EquivalenceOutcome.Pooled",
-        "EquivalenceOutcome.UnequalVariancesP",
-        "MarginalMeansOutcome.AtLabel",
-        "MarginalMeansOutcome.AtName",
-        "MarginalMeansOutcome.BackTransformation",
-        "MarginalMeansOutcome.ByLabel",
-        "MarginalMeansOutcome.Design",
-        "MarginalMeansOutcome.Transform",
-        "PostHocOutcome.DesignError",
-        "PostHocOutcome.Direction",
-        "PostHocOutcome.EmptyGroups",
-        "PostHocOutcome.FactorLabel",
-        "PostHocOutcome.MultivariateTError",
-        "PostHocOutcome.FromCells",
-        "PostHocOutcome.SingleObservationLevels",
-        "PostHocOutcome.Transformed",
-        "PostHocOutcome.UndefinedResidual",
     ];
 
     [Fact]
@@ -259,13 +225,6 @@ public sealed partial class ArchitectureRulesTests
     /// </summary>
     private static readonly string[] StillExposeMutableCollections =
     [
-        "BlockOutcome",
-        "ContrastsOutcome",
-        "EquivalenceOutcome",
-        "MarginalMeansOutcome",
-        "PostHocFamily",
-        "PostHocOutcome",
-        "RepeatedMarginalMeansOutcome",
     ];
 
     [Fact]

@@ -326,7 +326,7 @@ public sealed partial class AnovaEvaluator : KindEvaluator
             Ranks = ranks,
             ReadWelch = readWelch,
             Cautions = cautions,
-            Figures = figures,
+            Figures = figures.AsReadOnly(),
         };
     }
 

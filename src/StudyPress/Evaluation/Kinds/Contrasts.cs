@@ -16,47 +16,47 @@ public sealed record ContrastRow(string Name, IReadOnlyList<(string Level, doubl
 /// <summary>The outcome of a <c>contrasts</c> block: the family, its adjustment, and for trends the partition of the between-level sum of squares.</summary>
 public sealed class ContrastsOutcome(BoundBlock block) : BlockOutcome(block)
 {
-    public string FactorLabel { get; set; } = string.Empty;
+    public string FactorLabel { get; init; } = string.Empty;
 
     /// <summary>Whether the contrasts are polynomial trends (else named contrasts).</summary>
-    public bool IsTrend { get; set; }
+    public bool IsTrend { get; init; }
 
     /// <summary>The contrasts in the order given (trends by degree).</summary>
-    public List<ContrastRow> Rows { get; } = [];
+    public IReadOnlyList<ContrastRow> Rows { get; init; } = [];
 
     /// <summary>Pairwise orthogonality of named contrasts (equal-n sum Σ c d and the 1/n-weighted sum, which decides independence).</summary>
-    public IReadOnlyList<ContrastOrthogonality> Orthogonality { get; set; } = [];
+    public IReadOnlyList<ContrastOrthogonality> Orthogonality { get; init; } = [];
 
-    public ContrastAdjustment Adjustment { get; set; }
+    public ContrastAdjustment Adjustment { get; init; }
 
     /// <summary>Whether <c>adjust</c> was written (else the default: Holm for several, none for one).</summary>
-    public bool AdjustmentChosen { get; set; }
+    public bool AdjustmentChosen { get; init; }
 
     /// <summary>The levels with data and their numbers (trends), in level order.</summary>
-    public IReadOnlyList<(string Level, double Value, long Count)> Levels { get; set; } = [];
+    public IReadOnlyList<(string Level, double Value, long Count)> Levels { get; init; } = [];
 
     /// <summary>Trends below k − 1 degrees: the sum of the higher-degree SS (ss, df, f, p).</summary>
-    public Dictionary<string, ResultValue>? LackOfFit { get; set; }
+    public IReadOnlyDictionary<string, ResultValue>? LackOfFit { get; init; }
 
     /// <summary>Trends: the between-level SS of the level means, Σ n_i (ȳ_i − ȳ)², and its df.</summary>
-    public Dictionary<string, ResultValue>? BetweenLevels { get; set; }
+    public IReadOnlyDictionary<string, ResultValue>? BetweenLevels { get; init; }
 
     /// <summary>The anova's SS of the factor, when it equals the between-level SS (one factor, or means that partition it).</summary>
-    public ResultValue? AnovaFactorSs { get; set; }
+    public ResultValue? AnovaFactorSs { get; init; }
 
     /// <summary>The error mean square and df the contrasts use, and its name ("residual" or a design's error term).</summary>
-    public DesignErrorTerm? Error { get; set; }
+    public DesignErrorTerm? Error { get; init; }
 
-    public bool Transformed { get; set; }
+    public bool Transformed { get; init; }
 
     /// <summary>The anova has other factors and unequal cell counts: the level means are raw means pooled over them.</summary>
-    public bool PooledUnbalanced { get; set; }
+    public bool PooledUnbalanced { get; init; }
 
     /// <summary>The anova has other factors (the level means are pooled over them).</summary>
-    public bool OtherFactors { get; set; }
+    public bool OtherFactors { get; init; }
 
     /// <summary>Levels with a single observation.</summary>
-    public bool SingleObservationLevels { get; set; }
+    public bool SingleObservationLevels { get; init; }
 
     /// <summary>A declared design fitted as a mixed model (REML): the contrasts are of its estimated marginal means, each with its own SE and Satterthwaite df (no error mean square, no sums of squares).</summary>
     public bool Reml { get; init; }
@@ -67,7 +67,7 @@ public sealed class ContrastsOutcome(BoundBlock block) : BlockOutcome(block)
     /// other factors), with their covariance from the model; trends use equal weights and their
     /// partition is of the joint (Wald) sum of squares of the means.
     /// </summary>
-    public bool MarginalMeans { get; set; }
+    public bool MarginalMeans { get; init; }
 }
 
 /// <summary>
@@ -92,10 +92,50 @@ public sealed class ContrastsEvaluator : KindEvaluator
     public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
     {
         var options = block.OptionsOf<ContrastsKind.Options>();
-        var outcome = new ContrastsOutcome(block);
+
+        // The outcome's values, filled as they are found; a block that stops at a mistake returns
+        // what it has found so far (Build), every outcome built once.
+        var factorLabel = string.Empty;
+        var isTrend = false;
+        var rows = new List<ContrastRow>();
+        IReadOnlyList<ContrastOrthogonality> orthogonality = [];
+        var adjustmentUsed = default(ContrastAdjustment);
+        var adjustmentChosen = false;
+        IReadOnlyList<(string Level, double Value, long Count)> levelNumbers = [];
+        IReadOnlyDictionary<string, ResultValue>? lackOfFit = null;
+        IReadOnlyDictionary<string, ResultValue>? betweenLevels = null;
+        ResultValue? anovaFactorSs = null;
+        DesignErrorTerm? errorUsed = null;
+        var transformed = false;
+        var pooledUnbalanced = false;
+        var otherFactors = false;
+        var singleObservationLevels = false;
+        var remlRoute = false;
+        var onMarginalMeans = false;
+        ContrastsOutcome Build() => new(block)
+        {
+            FactorLabel = factorLabel,
+            IsTrend = isTrend,
+            Rows = rows.AsReadOnly(),
+            Orthogonality = orthogonality,
+            Adjustment = adjustmentUsed,
+            AdjustmentChosen = adjustmentChosen,
+            Levels = levelNumbers,
+            LackOfFit = lackOfFit,
+            BetweenLevels = betweenLevels,
+            AnovaFactorSs = anovaFactorSs,
+            Error = errorUsed,
+            Transformed = transformed,
+            PooledUnbalanced = pooledUnbalanced,
+            OtherFactors = otherFactors,
+            SingleObservationLevels = singleObservationLevels,
+            Reml = remlRoute,
+            MarginalMeans = onMarginalMeans,
+        };
+
         if (PlainAnovaOf(context, block, diagnostics) is not { } anova)
         {
-            return outcome;
+            return Build();
         }
 
         var of = block.Of!.Id;
@@ -113,19 +153,22 @@ public sealed class ContrastsEvaluator : KindEvaluator
             var factor = Choose(designData.Factors, treatments, options, of, block, diagnostics);
             if (factor is null)
             {
-                return outcome;
+                return Build();
             }
 
             if (factor.Spec.Layout.Role != FactorRole.Treatment)
             {
                 diagnostics.DesignViewUnavailable(options.FactorLocation, "contrasts", factor.Spec.Name, "it is a block or random factor, whose levels are a sample of units rather than treatments to compare; its variance component is in the anova block");
-                return outcome;
+                return Build();
             }
 
             if (design.Method == DesignMethod.Reml)
             {
                 // The mixed model's estimated marginal means, each contrast with its own SE and Satterthwaite df.
-                outcome = new ContrastsOutcome(block) { Reml = true, FactorLabel = factor.Spec.Display, MarginalMeans = true, OtherFactors = designData.Factors.Count > 1 };
+                remlRoute = true;
+                factorLabel = factor.Spec.Display;
+                onMarginalMeans = true;
+                otherFactors = designData.Factors.Count > 1;
                 reml = design.Reml!.FixedEffects!;
                 factorName = factor.Spec.Name;
                 levels = factor.Levels;
@@ -138,16 +181,16 @@ public sealed class ContrastsEvaluator : KindEvaluator
                 if (row.Denominator is not [{ Coefficient: 1.0 } part] || row.IsQuasiF)
                 {
                     diagnostics.DesignViewUnavailable(at, "contrasts", of, $"{factor.Spec.Name} has no single error mean square in this design (its F test is approximate, against a combination of mean squares), so its contrasts would have no exact standard error");
-                    return outcome;
+                    return Build();
                 }
 
                 factorName = factor.Spec.Name;
-                outcome.FactorLabel = factor.Spec.Display;
+                factorLabel = factor.Spec.Display;
                 levels = factor.Levels;
                 (means, counts) = FromGroups(factor.Split(designData.Response));
                 error = new DesignErrorTerm(part.Term, part.MeanSquare, part.Df);
-                outcome.OtherFactors = designData.Factors.Count > 1;
-                outcome.PooledUnbalanced = outcome.OtherFactors && Unbalanced(designData.Cells().Select(c => (long)c.Values.Length));
+                otherFactors = designData.Factors.Count > 1;
+                pooledUnbalanced = otherFactors && Unbalanced(designData.Cells().Select(c => (long)c.Values.Length));
             }
         }
         else if (anova.Route == AnovaRoute.Cells && anova.Fit is { } fit && anova.Cells is { } cells)
@@ -160,7 +203,7 @@ public sealed class ContrastsEvaluator : KindEvaluator
                 if (k < 0)
                 {
                     diagnostics.FactorNotInAnova(options.FactorLocation, name, of, DiagnosticBag.Nearest(name, factors.Select(f => f.Name)));
-                    return outcome;
+                    return Build();
                 }
             }
             else if (factors.Count == 1)
@@ -170,11 +213,11 @@ public sealed class ContrastsEvaluator : KindEvaluator
             else
             {
                 diagnostics.FactorChoiceNeeded(block.Location, of);
-                return outcome;
+                return Build();
             }
 
             factorName = factors[k].Name;
-            outcome.FactorLabel = factors[k].Display;
+            factorLabel = factors[k].Display;
             levels = cells.Levels[k];
             means = new double[levels.Count];
             counts = new long[levels.Count];
@@ -190,17 +233,17 @@ public sealed class ContrastsEvaluator : KindEvaluator
             }
 
             error = new DesignErrorTerm("residual", fit.ResidualMeanSquare.IsDefined ? fit.ResidualMeanSquare.Value : double.NaN, fit.ResidualDf);
-            outcome.OtherFactors = factors.Count > 1;
-            if (outcome.OtherFactors && anova.Model is { } model)
+            otherFactors = factors.Count > 1;
+            if (otherFactors && anova.Model is { } model)
             {
                 // The model's estimated marginal means from the cell statistics (the same as from the rows).
                 var cellInput = new CellAnovaInput([.. factors.Select((f, i) => new CellFactor(f.Name, cells.Levels[i]))], cells.Cells, model.Interaction, model.SsType, context.Header.Alpha);
                 marginal = CellStatisticsAnova.MarginalMeans(cellInput, [[factorName]]).Terms[0];
-                outcome.MarginalMeans = true;
+                onMarginalMeans = true;
             }
             else
             {
-                outcome.PooledUnbalanced = outcome.OtherFactors && Unbalanced(cells.Cells.Select(c => c.Count));
+                pooledUnbalanced = otherFactors && Unbalanced(cells.Cells.Select(c => c.Count));
             }
         }
         else if (anova is { Result: { } result, Data: { } data, Input: { } input })
@@ -208,26 +251,26 @@ public sealed class ContrastsEvaluator : KindEvaluator
             var factor = Choose(data.Factors, data.Factors, options, of, block, diagnostics);
             if (factor is null)
             {
-                return outcome;
+                return Build();
             }
 
             factorName = factor.Spec.Name;
-            outcome.FactorLabel = factor.Spec.Display;
+            factorLabel = factor.Spec.Display;
             levels = factor.Levels;
             (means, counts) = FromGroups(factor.Split(input.Response));
             var ms = result.ResidualMeanSquare;
             error = new DesignErrorTerm("residual", ms.IsDefined ? ms.Value : double.NaN, result.ResidualDf);
-            outcome.OtherFactors = data.Factors.Count > 1;
-            if (outcome.OtherFactors)
+            otherFactors = data.Factors.Count > 1;
+            if (otherFactors)
             {
                 // The model's estimated marginal means of the factor, not raw means pooled over the others.
                 marginal = EstimatedMarginalMeans.Compute(input, 0, TransformKind.None, null, [[factorName]]).Terms[0];
-                outcome.MarginalMeans = true;
+                onMarginalMeans = true;
             }
         }
         else
         {
-            return outcome;
+            return Build();
         }
 
         // Levels without any observation take no part (they have no mean).
@@ -235,12 +278,12 @@ public sealed class ContrastsEvaluator : KindEvaluator
         var names = kept.Select(i => levels[i]).ToArray();
         var m = kept.Select(i => means[i]).ToArray();
         var n = kept.Select(i => counts[i]).ToArray();
-        outcome.Error = error;
-        outcome.Transformed = anova.Transformed is not null;
-        outcome.SingleObservationLevels = n.Any(x => x < 2);
+        errorUsed = error;
+        transformed = anova.Transformed is not null;
+        singleObservationLevels = n.Any(x => x < 2);
         if (names.Length < 2)
         {
-            return outcome;
+            return Build();
         }
 
         // Estimated marginal means (several factors): the means of the kept levels and their unit covariance, in that order.
@@ -285,7 +328,7 @@ public sealed class ContrastsEvaluator : KindEvaluator
                     if (i < 0)
                     {
                         diagnostics.ContrastUnknownLevel(x.At, x.Level, factorName, DiagnosticBag.Nearest(x.Level, names));
-                        return outcome;
+                        return Build();
                     }
 
                     coefficients[i] = x.Value;
@@ -296,17 +339,18 @@ public sealed class ContrastsEvaluator : KindEvaluator
 
             var adjustment = ContrastsKind.AdjustmentFor(options.Adjust, specs.Count);
             var family = Family(specs, adjustment);
-            Record(context, block, outcome, factorName, names, family, false, inputs);
-            outcome.Orthogonality = family.Orthogonality;
-            outcome.Levels = [.. names.Select((l, i) => (l, double.NaN, n[i]))];
-            return outcome;
+            adjustmentUsed = Record(context, block, rows, factorName, names, family, false, inputs);
+            adjustmentChosen = options.Adjust is not null;
+            orthogonality = family.Orthogonality;
+            levelNumbers = [.. names.Select((l, i) => (l, double.NaN, n[i]))];
+            return Build();
         }
 
         // Polynomial trends: the levels' numbers, from 'values' or from the level names.
         if (names.Length > ContrastsKind.MaxTrendLevels)
         {
             diagnostics.TrendTooManyLevels(options.TrendLocation, factorName, names.Length, ContrastsKind.MaxTrendLevels);
-            return outcome;
+            return Build();
         }
 
         var numbers = new double[names.Length];
@@ -317,7 +361,7 @@ public sealed class ContrastsEvaluator : KindEvaluator
                 if (Array.IndexOf(names, v.Level) < 0)
                 {
                     diagnostics.ContrastUnknownLevel(v.At, v.Level, factorName, DiagnosticBag.Nearest(v.Level, names));
-                    return outcome;
+                    return Build();
                 }
             }
 
@@ -326,7 +370,7 @@ public sealed class ContrastsEvaluator : KindEvaluator
                 if (given.FirstOrDefault(v => v.Level == names[i]) is not { } v)
                 {
                     diagnostics.TrendLevelWithoutNumber(options.ValuesLocation, factorName, names[i]);
-                    return outcome;
+                    return Build();
                 }
 
                 numbers[i] = v.Value;
@@ -339,7 +383,7 @@ public sealed class ContrastsEvaluator : KindEvaluator
                 if (!double.TryParse(names[i], NumberStyles.Float, CultureInfo.InvariantCulture, out numbers[i]) || !double.IsFinite(numbers[i]))
                 {
                     diagnostics.TrendLevelWithoutNumber(options.TrendLocation, factorName, names[i]);
-                    return outcome;
+                    return Build();
                 }
             }
         }
@@ -361,7 +405,7 @@ public sealed class ContrastsEvaluator : KindEvaluator
                 {
                     var where = options.Values?.First(v => v.Level == names[i]).At ?? options.TrendLocation;
                     diagnostics.TrendValuesRepeat(where, factorName, names[i], names[j], numbers[i].ToString("R", CultureInfo.InvariantCulture), numbers[j].ToString("R", CultureInfo.InvariantCulture));
-                    return outcome;
+                    return Build();
                 }
             }
         }
@@ -371,17 +415,18 @@ public sealed class ContrastsEvaluator : KindEvaluator
         if (degree > top)
         {
             diagnostics.TrendDegreeTooHigh(options.TrendLocation, degree, factorName, names.Length);
-            return outcome;
+            return Build();
         }
 
-        outcome.IsTrend = true;
-        outcome.Levels = [.. names.Select((l, i) => (l, numbers[i], n[i]))];
+        isTrend = true;
+        levelNumbers = [.. names.Select((l, i) => (l, numbers[i], n[i]))];
         // Estimated marginal means weigh each level once: equal weights for the polynomials.
         var all = Statistics.FollowUp.Contrasts.PolynomialTrends(scaled, em is null ? n : [.. n.Select(_ => 1L)], top);
         var asked = all.Take(degree).ToList();
         var trendAdjustment = ContrastsKind.AdjustmentFor(options.Adjust, asked.Count);
         var trends = Family(asked, trendAdjustment);
-        Record(context, block, outcome, factorName, names, trends, true, inputs);
+        adjustmentUsed = Record(context, block, rows, factorName, names, trends, true, inputs);
+        adjustmentChosen = options.Adjust is not null;
 
         // The partition: Σ n_i (ȳ_i − ȳ)² on k − 1 df, and the higher degrees' SS as the lack of fit.
         double total = 0, grand = 0;
@@ -398,8 +443,8 @@ public sealed class ContrastsEvaluator : KindEvaluator
             between += n[i] * (m[i] - grand) * (m[i] - grand);
         }
 
-        Dictionary<string, ResultValue> Values(string level, params (string Stat, Quantity Value)[] values) =>
-            values.ToDictionary(v => v.Stat, v => context.Results.Add(block.Id, TestName.Contrast, factorName, level, null, v.Stat, v.Value, inputs), StringComparer.Ordinal);
+        IReadOnlyDictionary<string, ResultValue> Values(string level, params (string Stat, Quantity Value)[] values) =>
+            values.ToDictionary(v => v.Stat, v => context.Results.Add(block.Id, TestName.Contrast, factorName, level, null, v.Stat, v.Value, inputs), StringComparer.Ordinal).AsReadOnly();
 
         if (reml is not null)
         {
@@ -409,10 +454,10 @@ public sealed class ContrastsEvaluator : KindEvaluator
             {
                 var higher = all.Skip(degree).Select(c => (IReadOnlyList<double>)remlRows![0].Select((_, j) => c.Coefficients.Select((x, i) => x * remlRows[i][j]).Sum()).ToArray()).ToList();
                 var wald = reml.Wald(higher);
-                outcome.LackOfFit = Values(LackOfFitLevel, (Stat.Df, Quantity.Of(wald.NumeratorDf)), (Stat.F, wald.F), (Stat.DfDen, wald.DfDenominator), (Stat.P, wald.P));
+                lackOfFit = Values(LackOfFitLevel, (Stat.Df, Quantity.Of(wald.NumeratorDf)), (Stat.F, wald.F), (Stat.DfDen, wald.DfDenominator), (Stat.P, wald.P));
             }
 
-            return outcome;
+            return Build();
         }
 
         // Estimated marginal means: the joint sum of squares of all k − 1 trends (the hypothesis of equal means).
@@ -431,17 +476,17 @@ public sealed class ContrastsEvaluator : KindEvaluator
             var defined = error!.Df >= 1 && error.MeanSquare > 0 && double.IsFinite(error.MeanSquare);
             var f = defined ? Quantity.Of(ss / df / error.MeanSquare) : Quantity.Undefined("the error mean square is not defined");
             var p = f.IsDefined ? Quantity.Of(Probability.FUpper(f.Value, df, error.Df)) : f;
-            outcome.LackOfFit = Values(LackOfFitLevel, (Stat.Ss, Quantity.Of(ss)), (Stat.Df, Quantity.Of(df)), (Stat.F, f), (Stat.P, p));
+            lackOfFit = Values(LackOfFitLevel, (Stat.Ss, Quantity.Of(ss)), (Stat.Df, Quantity.Of(df)), (Stat.F, f), (Stat.P, p));
         }
 
-        outcome.BetweenLevels = Values(BetweenLevelsLevel, (Stat.Ss, Quantity.Of(between)), (Stat.Df, Quantity.Of(top)));
+        betweenLevels = Values(BetweenLevelsLevel, (Stat.Ss, Quantity.Of(between)), (Stat.Df, Quantity.Of(top)));
         if (anova.Terms.FirstOrDefault(t => t.Term.Name == factorName) is { Values: { } tv } && tv.TryGetValue(Stat.Ss, out var anovaSs)
             && anovaSs.Value.IsDefined && Math.Abs(anovaSs.Value.Value - between) <= 1e-9 * Math.Max(Math.Abs(between), 1e-300))
         {
-            outcome.AnovaFactorSs = anovaSs;
+            anovaFactorSs = anovaSs;
         }
 
-        return outcome;
+        return Build();
     }
 
     private static BlockFactor? Choose(IReadOnlyList<BlockFactor> factors, IReadOnlyList<BlockFactor> candidates, ContrastsKind.Options options, string of, BoundBlock block, DiagnosticBag diagnostics)
@@ -471,10 +516,9 @@ public sealed class ContrastsEvaluator : KindEvaluator
 
     private static bool Unbalanced(IEnumerable<long> counts) => counts.Distinct().Count() > 1;
 
-    private static void Record(EvaluationContext context, BoundBlock block, ContrastsOutcome outcome, string term, string[] names, ContrastFamily family, bool trend, IReadOnlyList<string> inputs)
+    /// <summary>Records the family's values in order, adds its rows to <paramref name="rows"/> and returns its adjustment.</summary>
+    private static ContrastAdjustment Record(EvaluationContext context, BoundBlock block, List<ContrastRow> rows, string term, string[] names, ContrastFamily family, bool trend, IReadOnlyList<string> inputs)
     {
-        outcome.Adjustment = family.Adjustment;
-        outcome.AdjustmentChosen = block.OptionsOf<ContrastsKind.Options>().Adjust is not null;
         foreach (var c in family.Contrasts)
         {
             var values = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
@@ -492,7 +536,9 @@ public sealed class ContrastsEvaluator : KindEvaluator
                 Add(Stat.Ss, c.SumOfSquares);
             }
 
-            outcome.Rows.Add(new ContrastRow(c.Name, [.. names.Select((l, i) => (l, c.Coefficients[i]))], c, values));
+            rows.Add(new ContrastRow(c.Name, [.. names.Select((l, i) => (l, c.Coefficients[i]))], c, values.AsReadOnly()));
         }
+
+        return family.Adjustment;
     }
 }

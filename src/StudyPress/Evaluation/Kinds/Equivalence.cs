@@ -32,7 +32,7 @@ public enum EquivalenceError
 public sealed class EquivalenceOutcome(BoundBlock block) : BlockOutcome(block)
 {
     /// <summary>The factor as the report names it.</summary>
-    public string FactorLabel { get; set; } = string.Empty;
+    public string FactorLabel { get; init; } = string.Empty;
 
     /// <summary>True for non-inferiority, false for equivalence (TOST).</summary>
     public bool NonInferiority { get; init; }
@@ -41,16 +41,16 @@ public sealed class EquivalenceOutcome(BoundBlock block) : BlockOutcome(block)
     public string? Better { get; init; }
 
     /// <summary>The standard error's source (pooled from the anova, a design's error term, or Welch).</summary>
-    public EquivalenceError Error { get; set; }
+    public EquivalenceError Error { get; init; }
 
     /// <summary>The pooled error's mean square and df, when one was used; the design term's engine name.</summary>
-    public (double MeanSquare, double Df, string Term)? Pooled { get; set; }
+    public (double MeanSquare, double Df, string Term)? Pooled { get; init; }
 
     /// <summary>The Brown–Forsythe p-value that made the block use Welch (rows route), if it did.</summary>
-    public Quantity? UnequalVariancesP { get; set; }
+    public Quantity? UnequalVariancesP { get; init; }
 
     /// <summary>Each comparison, in order: the engine's result and its manifest values.</summary>
-    public List<(EquivalenceResult Result, Dictionary<string, ResultValue> Values)> Comparisons { get; } = [];
+    public IReadOnlyList<(EquivalenceResult Result, IReadOnlyDictionary<string, ResultValue> Values)> Comparisons { get; init; } = [];
 }
 
 /// <summary>
@@ -68,11 +68,17 @@ public sealed class EquivalenceEvaluator : KindEvaluator
     public override BlockOutcome Evaluate(EvaluationContext context, BoundBlock block, DiagnosticBag diagnostics)
     {
         var options = block.OptionsOf<EquivalenceKind.Options>();
+        // A block that stops at a mistake (or finds no anova to read) keeps its options only.
         var outcome = new EquivalenceOutcome(block) { NonInferiority = options.NonInferiority, Better = options.Better };
         if (PlainAnovaOf(context, block, diagnostics) is not { } anova)
         {
             return outcome;
         }
+
+        string factorLabel;
+        EquivalenceError error;
+        (double MeanSquare, double Df, string Term)? pooled = null;
+        Quantity? unequalVariancesP = null;
 
         var of = block.Of!.Id;
         IReadOnlyList<string> levels;
@@ -97,22 +103,22 @@ public sealed class EquivalenceEvaluator : KindEvaluator
                 .Select(l => Statistics.Descriptive.DescriptivesFromSummaries.Pool(selected.Cells.Where(c => c.Levels[k] == l).Select(c => new GroupStatistics(c.Count, c.Mean, c.SumOfSquares))))
                 .ToList();
             term = anova.Factors[k].Name;
-            outcome.FactorLabel = anova.Factors[k].Display;
+            factorLabel = anova.Factors[k].Display;
             var cellStats = selected.Cells.Select(c => new GroupStatistics(c.Count, c.Mean, c.SumOfSquares)).ToList();
             var bartlett = cellStats.Count >= 2 ? GroupStatisticsTests.Bartlett(cellStats).P : Quantity.Undefined("one cell");
             if (bartlett.IsDefined && bartlett.Value < context.Header.Alpha)
             {
-                outcome.Error = EquivalenceError.WelchUnequalVariances;
-                outcome.UnequalVariancesP = bartlett;
+                error = EquivalenceError.WelchUnequalVariances;
+                unequalVariancesP = bartlett;
             }
             else if (fit.ResidualMeanSquare.IsDefined)
             {
-                outcome.Error = EquivalenceError.AnovaResidual;
-                outcome.Pooled = (fit.ResidualMeanSquare.Value, fit.ResidualDf, "residual");
+                error = EquivalenceError.AnovaResidual;
+                pooled = (fit.ResidualMeanSquare.Value, fit.ResidualDf, "residual");
             }
             else
             {
-                outcome.Error = EquivalenceError.WelchUnequalVariances;
+                error = EquivalenceError.WelchUnequalVariances;
             }
         }
         else if (anova.Design is { } design)
@@ -140,12 +146,12 @@ public sealed class EquivalenceEvaluator : KindEvaluator
             levels = factor.Levels;
             groups = Statistics.PostHoc.PostHocFromSummaries.Summaries(factor.Split(anova.Data.Response));
             term = factor.Spec.Name;
-            outcome.FactorLabel = factor.Spec.Display;
+            factorLabel = factor.Spec.Display;
             if (design.Method == DesignMethod.Reml)
             {
                 // The difference of the mixed model's estimated marginal means, on its own Satterthwaite df.
                 reml = design.Reml!.FixedEffects!;
-                outcome.Error = EquivalenceError.RemlModel;
+                error = EquivalenceError.RemlModel;
             }
             else
             {
@@ -156,8 +162,8 @@ public sealed class EquivalenceEvaluator : KindEvaluator
                     return outcome;
                 }
 
-                outcome.Error = EquivalenceError.DesignTerm;
-                outcome.Pooled = (part.MeanSquare, part.Df, part.Term);
+                error = EquivalenceError.DesignTerm;
+                pooled = (part.MeanSquare, part.Df, part.Term);
             }
         }
         else
@@ -179,25 +185,25 @@ public sealed class EquivalenceEvaluator : KindEvaluator
             // Margins are in response units, so the untransformed values are compared.
             groups = Statistics.PostHoc.PostHocFromSummaries.Summaries(factor.Split(anova.Data.Response));
             term = factor.Spec.Name;
-            outcome.FactorLabel = factor.Spec.Display;
+            factorLabel = factor.Spec.Display;
             var ms = anova.Result.ResidualMeanSquare;
             if (anova.Transformed is not null)
             {
-                outcome.Error = EquivalenceError.WelchTransformed;
+                error = EquivalenceError.WelchTransformed;
             }
             else if (anova.Review.UnequalVariances)
             {
-                outcome.Error = EquivalenceError.WelchUnequalVariances;
-                outcome.UnequalVariancesP = anova.Review.BrownForsythe.P;
+                error = EquivalenceError.WelchUnequalVariances;
+                unequalVariancesP = anova.Review.BrownForsythe.P;
             }
             else if (ms.IsDefined)
             {
-                outcome.Error = EquivalenceError.AnovaResidual;
-                outcome.Pooled = (ms.Value, anova.Result.ResidualDf, "residual");
+                error = EquivalenceError.AnovaResidual;
+                pooled = (ms.Value, anova.Result.ResidualDf, "residual");
             }
             else
             {
-                outcome.Error = EquivalenceError.WelchUnequalVariances;
+                error = EquivalenceError.WelchUnequalVariances;
             }
         }
 
@@ -227,10 +233,11 @@ public sealed class EquivalenceEvaluator : KindEvaluator
 
         var alpha = context.Header.Alpha;
         var inputs = context.Inputs(block);
+        var comparisons = new List<(EquivalenceResult Result, IReadOnlyDictionary<string, ResultValue> Values)>();
         foreach (var (a, b) in pairs)
         {
             var result = reml is null
-                ? Test(outcome, options, levels[a], groups[a], levels[b], groups[b], alpha)
+                ? Test(pooled, options, levels[a], groups[a], levels[b], groups[b], alpha)
                 : RemlComparisons.Tost(levels[a], levels[b], reml.Combination(RemlComparisons.Difference(reml.MeanRow([term], [levels[a]]), reml.MeanRow([term], [levels[b]]))), options.MarginLow, options.MarginHigh, alpha);
             string[] pair = [result.LevelA, result.LevelB];
             ResultValue Add(string stat, Quantity q) => context.Results.Add(block.Id, TestName.Equivalence, term, null, pair, stat, q, inputs);
@@ -255,20 +262,26 @@ public sealed class EquivalenceEvaluator : KindEvaluator
             }
 
             values[Stat.P] = Add(Stat.P, result.P);
-            outcome.Comparisons.Add((result, values));
+            comparisons.Add((result, values.AsReadOnly()));
         }
 
-        if (context.Header.Report.Figures && Figures.Equivalence(outcome) is { } figure)
+        var frozen = comparisons.AsReadOnly();
+        return new EquivalenceOutcome(block)
         {
-            outcome.Figures.Add(figure);
-        }
-
-        return outcome;
+            NonInferiority = options.NonInferiority,
+            Better = options.Better,
+            FactorLabel = factorLabel,
+            Error = error,
+            Pooled = pooled,
+            UnequalVariancesP = unequalVariancesP,
+            Comparisons = frozen,
+            Figures = context.Header.Report.Figures && Figures.Equivalence(frozen, options.NonInferiority, factorLabel) is { } figure ? [figure] : [],
+        };
     }
 
-    private static EquivalenceResult Test(EquivalenceOutcome outcome, EquivalenceKind.Options options, string levelA, GroupStatistics a, string levelB, GroupStatistics b, double alpha)
+    private static EquivalenceResult Test((double MeanSquare, double Df, string Term)? error, EquivalenceKind.Options options, string levelA, GroupStatistics a, string levelB, GroupStatistics b, double alpha)
     {
-        var pooled = outcome.Pooled is { } p ? (p.MeanSquare, p.Df) : ((double MeanSquare, double Df)?)null;
+        var pooled = error is { } p ? (p.MeanSquare, p.Df) : ((double MeanSquare, double Df)?)null;
         var variance = pooled is null ? EquivalenceVariance.Welch : EquivalenceVariance.Pooled;
         if (options.NonInferiority)
         {

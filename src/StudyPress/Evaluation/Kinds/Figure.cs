@@ -63,7 +63,7 @@ public sealed class FigureEvaluator : KindEvaluator
                 figures.AddRange(Figures.FDistributions(a, caption));
                 break;
             case "intervals" when source is PostHocOutcome p:
-                figures.Add(Figures.Intervals(p, context.Header.Alpha, caption));
+                figures.Add(Figures.Intervals(p.Families, context.Header.Alpha, caption));
                 break;
             case "power-curve" when source is PowerOutcome p:
                 figures.Add(Figures.PowerCurve(p, caption));
@@ -71,8 +71,6 @@ public sealed class FigureEvaluator : KindEvaluator
         }
 
         var drawn = figures.OfType<FigurePlan>().ToList();
-        var outcome = new FigureOutcome(block) { NotDrawn = drawn.Count == 0 && source is not null };
-        outcome.Figures.AddRange(drawn);
-        return outcome;
+        return new FigureOutcome(block) { NotDrawn = drawn.Count == 0 && source is not null, Figures = drawn.AsReadOnly() };
     }
 }

@@ -1,6 +1,7 @@
 using System.Globalization;
 using StudyPress.Charts;
 using StudyPress.Evaluation;
+using StudyPress.Statistics.FollowUp;
 using StudyPress.Statistics.Power;
 
 namespace StudyPress.Evaluation.Kinds;
@@ -273,9 +274,9 @@ public static class Figures
         }
     }
 
-    public static FigurePlan? Intervals(PostHocOutcome posthoc, double alpha, string? caption = null)
+    public static FigurePlan? Intervals(IReadOnlyList<PostHocFamily> families, double alpha, string? caption = null)
     {
-        var family = posthoc.Families.FirstOrDefault(f => f.Pairs.Any(p => p.Pair.CiLow.IsDefined));
+        var family = families.FirstOrDefault(f => f.Pairs.Any(p => p.Pair.CiLow.IsDefined));
         if (family is null)
         {
             return null;
@@ -334,9 +335,9 @@ public static class Figures
     }
 
     /// <summary>An equivalence block's (1 − 2α) intervals against its shaded margin band and the zero line.</summary>
-    public static FigurePlan? Equivalence(EquivalenceOutcome outcome, string? caption = null)
+    public static FigurePlan? Equivalence(IReadOnlyList<(EquivalenceResult Result, IReadOnlyDictionary<string, ResultValue> Values)> comparisons, bool nonInferiority, string factorLabel, string? caption = null)
     {
-        var rows = outcome.Comparisons
+        var rows = comparisons
             .Where(c => c.Result.CiLow.IsDefined && c.Result.CiHigh.IsDefined)
             .Select(c => (new PairInterval(
                 c.Result.LevelA,
@@ -351,7 +352,7 @@ public static class Figures
             return null;
         }
 
-        var first = outcome.Comparisons[0].Result;
-        return new EquivalenceFigure(rows, first.MarginLow, first.MarginHigh, 2 * first.Alpha, outcome.NonInferiority, outcome.FactorLabel) { UserCaption = caption };
+        var first = comparisons[0].Result;
+        return new EquivalenceFigure(rows, first.MarginLow, first.MarginHigh, 2 * first.Alpha, nonInferiority, factorLabel) { UserCaption = caption };
     }
 }

@@ -48,9 +48,9 @@ public class BlockOutcome(BoundBlock block)
 
     /// <summary>
     /// Charts to show under the block: what each shows (Rendering draws them, with their words).
-    /// Given at construction (init); outcomes not yet immutable still add to it while they are evaluated.
+    /// Given at construction (init), read-only.
     /// </summary>
-    public List<FigurePlan> Figures { get; init; } = [];
+    public IReadOnlyList<FigurePlan> Figures { get; init; } = [];
 }
 
 

@@ -19,14 +19,16 @@ public sealed partial class MarginalMeansEvaluator
     /// </summary>
     private static MarginalMeansOutcome EvaluateReml(EvaluationContext context, BoundBlock block, MarginalMeansKind.Options options, AnovaOutcome anova, DesignFit design, List<BlockFactor> treatments, SourceLocation at, DiagnosticBag diagnostics)
     {
-        var outcome = new MarginalMeansOutcome(block) { Reml = true };
         var data = anova.Data!;
+        var labels = new Dictionary<string, string>(StringComparer.Ordinal);
         foreach (var f in data.Factors)
         {
-            outcome.Labels[f.Spec.Name] = f.Spec.Display;
+            labels[f.Spec.Name] = f.Spec.Display;
         }
 
-        outcome.Design = true;
+        var tables = new List<MarginalMeansTable>();
+        var simpleEffects = new List<MarginalSimpleEffect>();
+        string? byLabel = null, atLabel = null, atName = null;
         var fe = design.Reml!.FixedEffects!;
         var alpha = context.Header.Alpha;
         var factors = treatments.Select(f => f.Spec.Name).ToList();
@@ -40,7 +42,7 @@ public sealed partial class MarginalMeansEvaluator
             var count = term.Aggregate(1L, (c, f) => c * LevelsOf(f).Count);
             if (count > MaxMeans)
             {
-                diagnostics.MarginalMeansTooMany(at, string.Join(" × ", term.Select(f => outcome.Labels[f])), count, MaxMeans);
+                diagnostics.MarginalMeansTooMany(at, string.Join(" × ", term.Select(f => labels[f])), count, MaxMeans);
                 return new MarginalMeansOutcome(block) { Reml = true };
             }
 
@@ -60,8 +62,8 @@ public sealed partial class MarginalMeansEvaluator
                 cells.Add((cell, row));
             }
 
-            var hints = options.At is null ? RemlInteractions(design, fe, term, alpha, outcome.Labels) : [];
-            outcome.Tables.Add(new MarginalMeansTable(termName, term, [.. term.Select(f => outcome.Labels[f])], null, rows, hints));
+            var hints = options.At is null ? RemlInteractions(design, fe, term, alpha, labels) : [];
+            tables.Add(new MarginalMeansTable(termName, term, [.. term.Select(f => labels[f])], null, rows.AsReadOnly(), hints));
             if (options.At is not { } a)
             {
                 continue;
@@ -70,9 +72,9 @@ public sealed partial class MarginalMeansEvaluator
             var by = options.By[0].Name;
             var bi = term.ToList().IndexOf(by);
             var ai = term.ToList().IndexOf(a.Name);
-            outcome.ByLabel = outcome.Labels[by];
-            outcome.AtLabel = outcome.Labels[a.Name];
-            outcome.AtName = a.Name;
+            byLabel = labels[by];
+            atLabel = labels[a.Name];
+            atName = a.Name;
             foreach (var atLevel in LevelsOf(a.Name))
             {
                 var within = cells.Where(c => c.Levels[ai] == atLevel).ToList();
@@ -98,14 +100,24 @@ public sealed partial class MarginalMeansEvaluator
                     P(Stat.PAdj, e.PAdjusted);
                     P(Stat.CiLow, e.CiLow);
                     P(Stat.CiHigh, e.CiHigh);
-                    pairs.Add(new SimpleEffectPair(pair[0], pair[1], e.PAdjusted, v));
+                    pairs.Add(new SimpleEffectPair(pair[0], pair[1], e.PAdjusted, v.AsReadOnly()));
                 }
 
-                outcome.SimpleEffects.Add(new MarginalSimpleEffect(atLevel, test, pairs));
+                simpleEffects.Add(new MarginalSimpleEffect(atLevel, test.AsReadOnly(), pairs.AsReadOnly()));
             }
         }
 
-        return outcome;
+        return new MarginalMeansOutcome(block)
+        {
+            Reml = true,
+            Design = true,
+            Labels = labels.AsReadOnly(),
+            Tables = tables.AsReadOnly(),
+            SimpleEffects = simpleEffects.AsReadOnly(),
+            ByLabel = byLabel,
+            AtLabel = atLabel,
+            AtName = atName,
+        };
     }
 
     /// <summary>Every combination of the levels, the last factor fastest.</summary>
@@ -121,7 +133,7 @@ public sealed partial class MarginalMeansEvaluator
     }
 
     /// <summary>The mixed model's significant interactions that involve a factor of <paramref name="term"/> and one outside it.</summary>
-    private static List<InteractionHint> RemlInteractions(DesignFit design, RemlFixedEffects fe, IReadOnlyList<string> term, double alpha, Dictionary<string, string> labels)
+    private static List<InteractionHint> RemlInteractions(DesignFit design, RemlFixedEffects fe, IReadOnlyList<string> term, double alpha, IReadOnlyDictionary<string, string> labels)
     {
         var hints = new List<InteractionHint>();
         foreach (var t in fe.Terms)

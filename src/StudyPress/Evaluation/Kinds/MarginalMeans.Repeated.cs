@@ -45,9 +45,9 @@ public sealed class RepeatedMarginalMeansOutcome(BoundBlock block) : BlockOutcom
     /// <summary>The repeated block's id.</summary>
     public string Of { get; init; } = string.Empty;
 
-    public List<RepeatedMeansTable> Tables { get; } = [];
+    public IReadOnlyList<RepeatedMeansTable> Tables { get; init; } = [];
 
-    public List<RepeatedMeansSimpleEffect> SimpleEffects { get; } = [];
+    public IReadOnlyList<RepeatedMeansSimpleEffect> SimpleEffects { get; init; } = [];
 
     public string? ByLabel { get; init; }
 
@@ -59,7 +59,7 @@ public sealed class RepeatedMarginalMeansOutcome(BoundBlock block) : BlockOutcom
     public string PairTest { get; init; } = TestName.Holm;
 
     /// <summary>The factors' display labels, by name (subject included).</summary>
-    public Dictionary<string, string> Labels { get; } = new(StringComparer.Ordinal);
+    public IReadOnlyDictionary<string, string> Labels { get; init; } = new Dictionary<string, string>(StringComparer.Ordinal).AsReadOnly();
 }
 
 public sealed partial class MarginalMeansEvaluator
@@ -109,25 +109,16 @@ public sealed partial class MarginalMeansEvaluator
             "tukey" => RepeatedPairAdjustment.Tukey,
             _ => RepeatedPairAdjustment.Holm,
         };
-        var outcome = new RepeatedMarginalMeansOutcome(block)
-        {
-            Route = cm.Route,
-            MixedReason = rep.MixedReason,
-            Subjects = cm.Route == RepeatedMeansRoute.Reml
-                ? (int)(rep.MixedCounts?[Stat.N].Value.Value ?? 0)
-                : (int)(rep.Subjects?[Stat.N].Value.Value ?? 0),
-            Incomplete = cm.Route == RepeatedMeansRoute.Reml ? rep.MixedKeptIncomplete : rep.Dropped.Count,
-            SubjectLabel = rep.SubjectLabel,
-            Of = of,
-            Compare = options.Compare,
-            PairTest = pairTest,
-            ByLabel = options.At is null ? null : rep.Within.Concat(rep.Between).First(f => f.Name == options.By[0].Name).Label,
-            AtLabel = options.At is null ? null : rep.Within.Concat(rep.Between).First(f => f.Name == options.At.Name).Label,
-        };
+        var byLabel = options.At is null ? null : rep.Within.Concat(rep.Between).First(f => f.Name == options.By[0].Name).Label;
+        var atLabel = options.At is null ? null : rep.Within.Concat(rep.Between).First(f => f.Name == options.At.Name).Label;
+        var labels = new Dictionary<string, string>(StringComparer.Ordinal);
         foreach (var (name, label) in rep.Within.Concat(rep.Between))
         {
-            outcome.Labels[name] = label;
+            labels[name] = label;
         }
+
+        var tables = new List<RepeatedMeansTable>();
+        var simpleEffects = new List<RepeatedMeansSimpleEffect>();
 
         // Design order: between factors, then within factors (the block's order).
         var order = design.Between.Concat(design.Within).ToList();
@@ -142,7 +133,7 @@ public sealed partial class MarginalMeansEvaluator
             : options.By.Count > 0 ? [Ordered(options.By.Select(b => b.Name))] : [.. order.Select(f => new List<string> { f })];
         var alpha = context.Header.Alpha;
         var inputs = context.Inputs(block);
-        string Label(IEnumerable<string> names) => string.Join(" × ", names.Select(n => outcome.Labels.GetValueOrDefault(n, n)));
+        string Label(IEnumerable<string> names) => string.Join(" × ", names.Select(n => labels.GetValueOrDefault(n, n)));
         foreach (var term in terms)
         {
             var count = term.Aggregate(1L, (c, f) => c * cm.LevelsOf(f).Count);
@@ -185,8 +176,8 @@ public sealed partial class MarginalMeansEvaluator
                 }
             }
 
-            var hints = options.At is null ? RepeatedInteractions(rep, cm.Route, term, alpha, outcome.Labels) : [];
-            outcome.Tables.Add(new RepeatedMeansTable(termName, term, [.. term.Select(f => outcome.Labels[f])], rows, pairs, hints));
+            var hints = options.At is null ? RepeatedInteractions(rep, cm.Route, term, alpha, labels) : [];
+            tables.Add(new RepeatedMeansTable(termName, term, [.. term.Select(f => labels[f])], rows.AsReadOnly(), pairs.AsReadOnly(), hints));
         }
 
         if (options.At is { } a)
@@ -194,7 +185,7 @@ public sealed partial class MarginalMeansEvaluator
             var by = options.By[0].Name;
             if (options.Compare == "tukey" && !SimpleSingleError(cm, by, a.Name))
             {
-                diagnostics.MarginalMeansTukeyNotOneError(options.CompareLocation, $"the pairs of {outcome.ByLabel} within each level of {outcome.AtLabel}", cm.Route == RepeatedMeansRoute.Reml);
+                diagnostics.MarginalMeansTukeyNotOneError(options.CompareLocation, $"the pairs of {byLabel} within each level of {atLabel}", cm.Route == RepeatedMeansRoute.Reml);
                 return new BlockOutcome(block);
             }
 
@@ -207,12 +198,29 @@ public sealed partial class MarginalMeansEvaluator
                 Put(Stat.F, se.F);
                 Put(Stat.DfDen, se.DfDen);
                 Put(Stat.P, se.P);
-                var pairs = se.Pairs.Select(p => RecordPair(context, block, pairTest, by, level, p, inputs)).ToList();
-                outcome.SimpleEffects.Add(new RepeatedMeansSimpleEffect(se.AtLevel, se.Errors, test, pairs));
+                var pairs = se.Pairs.Select(p => RecordPair(context, block, pairTest, by, level, p, inputs)).ToList().AsReadOnly();
+                simpleEffects.Add(new RepeatedMeansSimpleEffect(se.AtLevel, se.Errors, test.AsReadOnly(), pairs));
             }
         }
 
-        return outcome;
+        return new RepeatedMarginalMeansOutcome(block)
+        {
+            Route = cm.Route,
+            MixedReason = rep.MixedReason,
+            Subjects = cm.Route == RepeatedMeansRoute.Reml
+                ? (int)(rep.MixedCounts?[Stat.N].Value.Value ?? 0)
+                : (int)(rep.Subjects?[Stat.N].Value.Value ?? 0),
+            Incomplete = cm.Route == RepeatedMeansRoute.Reml ? rep.MixedKeptIncomplete : rep.Dropped.Count,
+            SubjectLabel = rep.SubjectLabel,
+            Of = of,
+            Compare = options.Compare,
+            PairTest = pairTest,
+            ByLabel = byLabel,
+            AtLabel = atLabel,
+            Labels = labels.AsReadOnly(),
+            Tables = tables.AsReadOnly(),
+            SimpleEffects = simpleEffects.AsReadOnly(),
+        };
     }
 
     /// <summary>Whether the pairs of <paramref name="by"/> at every level of <paramref name="at"/> rest on one error (Tukey's condition).</summary>
@@ -263,7 +271,7 @@ public sealed partial class MarginalMeansEvaluator
     /// and a factor outside it, from the route the means come from (for a within term of the
     /// classical table, the p-value its sphericity reading selects).
     /// </summary>
-    private static List<InteractionHint> RepeatedInteractions(RepeatedOutcome rep, RepeatedMeansRoute route, IReadOnlyList<string> term, double alpha, Dictionary<string, string> labels)
+    private static List<InteractionHint> RepeatedInteractions(RepeatedOutcome rep, RepeatedMeansRoute route, IReadOnlyList<string> term, double alpha, IReadOnlyDictionary<string, string> labels)
     {
         var rows = new List<(string Term, IReadOnlyList<string> Factors, ResultValue? P)>();
         if (route == RepeatedMeansRoute.Reml)

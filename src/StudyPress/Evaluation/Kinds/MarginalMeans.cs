@@ -44,30 +44,30 @@ public sealed record MarginalSimpleEffect(string AtLevel, IReadOnlyDictionary<st
 
 public sealed class MarginalMeansOutcome(BoundBlock block) : BlockOutcome(block)
 {
-    public List<MarginalMeansTable> Tables { get; } = [];
+    public IReadOnlyList<MarginalMeansTable> Tables { get; init; } = [];
 
     /// <summary>The simple effects of the <c>by</c> factor at each level of <c>at</c> (empty without <c>at</c>).</summary>
-    public List<MarginalSimpleEffect> SimpleEffects { get; } = [];
+    public IReadOnlyList<MarginalSimpleEffect> SimpleEffects { get; init; } = [];
 
     /// <summary>The factor whose simple effects are tested, and the factor at whose levels (labels), when <c>at</c> is given.</summary>
-    public string? ByLabel { get; set; }
+    public string? ByLabel { get; init; }
 
-    public string? AtLabel { get; set; }
+    public string? AtLabel { get; init; }
 
     /// <summary>The <c>at</c> factor's name (the manifest level of a simple effect is "NAME level").</summary>
-    public string? AtName { get; set; }
+    public string? AtName { get; init; }
 
     /// <summary>The anova's transformation (none: means on the response's scale).</summary>
-    public TransformKind Transform { get; set; } = TransformKind.None;
+    public TransformKind Transform { get; init; } = TransformKind.None;
 
     /// <summary>What a back-transformed mean is, in words (from the engine).</summary>
-    public string BackTransformation { get; set; } = string.Empty;
+    public string BackTransformation { get; init; } = string.Empty;
 
     /// <summary>Whether the anova is a declared design (the errors are its strata's).</summary>
-    public bool Design { get; set; }
+    public bool Design { get; init; }
 
     /// <summary>The factors' display labels, by name.</summary>
-    public Dictionary<string, string> Labels { get; } = new(StringComparer.Ordinal);
+    public IReadOnlyDictionary<string, string> Labels { get; init; } = new Dictionary<string, string>(StringComparer.Ordinal).AsReadOnly();
 
     /// <summary>A declared design fitted as a mixed model (REML): means, SEs and df from its fixed effects (Satterthwaite df).</summary>
     public bool Reml { get; init; }
@@ -93,17 +93,40 @@ public sealed partial class MarginalMeansEvaluator : KindEvaluator
             return EvaluateRepeated(context, block, options, diagnostics);
         }
 
-        var outcome = new MarginalMeansOutcome(block);
+        // The outcome's values, filled in recording order; a block that stops at a mistake returns
+        // what it has found so far (Build), every outcome built once.
+        var labels = new Dictionary<string, string>(StringComparer.Ordinal);
+        var tables = new List<MarginalMeansTable>();
+        var simpleEffects = new List<MarginalSimpleEffect>();
+        var figures = new List<FigurePlan>();
+        string? byLabel = null, atLabel = null, atName = null;
+        var transform = TransformKind.None;
+        var backTransformation = string.Empty;
+        var isDesign = false;
+        MarginalMeansOutcome Build() => new(block)
+        {
+            Tables = tables.AsReadOnly(),
+            SimpleEffects = simpleEffects.AsReadOnly(),
+            ByLabel = byLabel,
+            AtLabel = atLabel,
+            AtName = atName,
+            Transform = transform,
+            BackTransformation = backTransformation,
+            Design = isDesign,
+            Labels = labels.AsReadOnly(),
+            Figures = figures.AsReadOnly(),
+        };
+
         if (PlainAnovaOf(context, block, diagnostics) is not { Data: { } data } anova)
         {
-            return outcome;
+            return Build();
         }
 
         var of = block.Of!.Id;
         var alpha = context.Header.Alpha;
         foreach (var f in data.Factors)
         {
-            outcome.Labels[f.Spec.Name] = f.Spec.Display;
+            labels[f.Spec.Name] = f.Spec.Display;
         }
 
         // Where a refusal points: the key that asked for the view, else the block.
@@ -118,7 +141,7 @@ public sealed partial class MarginalMeansEvaluator : KindEvaluator
             if (treatments.Count == 0)
             {
                 diagnostics.MarginalMeansNoTreatment(block.Location, of);
-                return outcome;
+                return Build();
             }
 
             if (design.Method == DesignMethod.Reml || design.Strata is null)
@@ -126,11 +149,11 @@ public sealed partial class MarginalMeansEvaluator : KindEvaluator
                 return EvaluateReml(context, block, options, anova, design, treatments, at, diagnostics);
             }
 
-            outcome.Design = true;
+            isDesign = true;
             factors = [.. treatments.Select(f => f.Spec.Name)];
             input = new AnovaInput(data.Response, [.. treatments.Select(f => f.ToColumn())], true, SumOfSquaresType.Hierarchical, alpha);
             centre = data.Centre;
-            errorOf = set => DesignError(design.Strata, set, options, outcome, of, at, diagnostics) is { } e
+            errorOf = set => DesignError(design.Strata, set, options, labels, of, at, diagnostics) is { } e
                 ? e with
                 {
                     Ms = design.Rows.FirstOrDefault(r => r.Term == DesignFit.TermName(e.Term))?.Values.GetValueOrDefault(Stat.Ms),
@@ -149,12 +172,12 @@ public sealed partial class MarginalMeansEvaluator : KindEvaluator
                 DfValue = anova.Residual.GetValueOrDefault(Stat.Df),
             };
             errorOf = _ => residual;
-            outcome.Transform = anova.Model?.Transform ?? TransformKind.None;
+            transform = anova.Model?.Transform ?? TransformKind.None;
         }
         else
         {
             // The anova block failed, or has no residual mean square (its own message says why).
-            return outcome;
+            return Build();
         }
 
         var lambda = anova.Transformed?.BoxCox?.Lambda;
@@ -168,17 +191,17 @@ public sealed partial class MarginalMeansEvaluator : KindEvaluator
             var count = term.Aggregate(1L, (c, f) => c * data.Factors.First(x => x.Spec.Name == f).Levels.Count);
             if (count > MaxMeans)
             {
-                diagnostics.MarginalMeansTooMany(at, string.Join(" × ", term.Select(f => outcome.Labels[f])), count, MaxMeans);
-                return outcome;
+                diagnostics.MarginalMeansTooMany(at, string.Join(" × ", term.Select(f => labels[f])), count, MaxMeans);
+                return Build();
             }
 
             if (errorOf(term) is not { } error)
             {
-                return outcome;
+                return Build();
             }
 
-            var result = EstimatedMarginalMeans.ComputeWithError(input, error.MeanSquare, error.Df, centre, outcome.Transform, lambda, [term]);
-            outcome.BackTransformation = result.BackTransformation;
+            var result = EstimatedMarginalMeans.ComputeWithError(input, error.MeanSquare, error.Df, centre, transform, lambda, [term]);
+            backTransformation = result.BackTransformation;
             var t = result.Terms[0];
             var rows = new List<MarginalMeansRow>();
             foreach (var m in t.Means)
@@ -186,19 +209,19 @@ public sealed partial class MarginalMeansEvaluator : KindEvaluator
                 rows.Add(new MarginalMeansRow(m.Levels, m, RecordMean(context, block, t.Term, m, inputs)));
             }
 
-            var hints = options.At is null ? Interactions(anova, t.Factors, alpha, outcome.Labels) : [];
-            outcome.Tables.Add(new MarginalMeansTable(t.Term, t.Factors, [.. t.Factors.Select(f => outcome.Labels[f])], error, rows, hints));
-            if (context.Header.Report.Figures && t.Factors.Count == 1 && MeansFigure(rows, outcome.Labels[t.Factors[0]], data.ResponseName, error, outcome.Transform != TransformKind.None, alpha) is { } figure)
+            var hints = options.At is null ? Interactions(anova, t.Factors, alpha, labels) : [];
+            tables.Add(new MarginalMeansTable(t.Term, t.Factors, [.. t.Factors.Select(f => labels[f])], error, rows.AsReadOnly(), hints));
+            if (context.Header.Report.Figures && t.Factors.Count == 1 && MeansFigure(rows, labels[t.Factors[0]], data.ResponseName, error, transform != TransformKind.None, alpha) is { } figure)
             {
-                outcome.Figures.Add(figure with { Part = t.Factors[0] });
+                figures.Add(figure with { Part = t.Factors[0] });
             }
 
             if (options.At is { } a)
             {
                 var by = options.By[0].Name;
-                outcome.ByLabel = outcome.Labels[by];
-                outcome.AtLabel = outcome.Labels[a.Name];
-                outcome.AtName = a.Name;
+                byLabel = labels[by];
+                atLabel = labels[a.Name];
+                atName = a.Name;
                 foreach (var se in SimpleEffects.Compute(t, by, a.Name, error.MeanSquare, error.Df, ContrastAdjustment.Holm, alpha))
                 {
                     var level = a.Name + " " + se.AtLevel;
@@ -227,16 +250,16 @@ public sealed partial class MarginalMeansEvaluator : KindEvaluator
                             P(Stat.PAdj, e.PAdjusted);
                             P(Stat.CiLow, e.CiLow);
                             P(Stat.CiHigh, e.CiHigh);
-                            pairs.Add(new SimpleEffectPair(pair[0], pair[1], e.PAdjusted, v));
+                            pairs.Add(new SimpleEffectPair(pair[0], pair[1], e.PAdjusted, v.AsReadOnly()));
                         }
                     }
 
-                    outcome.SimpleEffects.Add(new MarginalSimpleEffect(se.AtLevel, test, pairs));
+                    simpleEffects.Add(new MarginalSimpleEffect(se.AtLevel, test.AsReadOnly(), pairs.AsReadOnly()));
                 }
             }
         }
 
-        return outcome;
+        return Build();
     }
 
     /// <summary>
@@ -288,7 +311,7 @@ public sealed partial class MarginalMeansEvaluator : KindEvaluator
         return values;
     }
 
-    private static List<InteractionHint> Interactions(AnovaOutcome anova, IReadOnlyList<string> term, double alpha, Dictionary<string, string> labels)
+    private static List<InteractionHint> Interactions(AnovaOutcome anova, IReadOnlyList<string> term, double alpha, IReadOnlyDictionary<string, string> labels)
     {
         var rows = anova.Design is { } d
             ? d.Rows.Where(r => r.Row is { Kind: TermKind.Treatment }).Select(r => (r.Term, Factors: r.Row!.Factors, r.Values))
@@ -316,9 +339,9 @@ public sealed partial class MarginalMeansEvaluator : KindEvaluator
     /// effects, the rows that contain the <c>by</c> factor) tested against one mean square. Null,
     /// with one message at <paramref name="at"/>, for a quasi-F or for rows on different errors.
     /// </summary>
-    private static MarginalMeansError? DesignError(StrataAnovaResult strata, IReadOnlyList<string> set, MarginalMeansKind.Options options, MarginalMeansOutcome outcome, string of, SourceLocation at, DiagnosticBag diagnostics)
+    private static MarginalMeansError? DesignError(StrataAnovaResult strata, IReadOnlyList<string> set, MarginalMeansKind.Options options, IReadOnlyDictionary<string, string> labels, string of, SourceLocation at, DiagnosticBag diagnostics)
     {
-        string Label(IEnumerable<string> names) => string.Join(" × ", names.Select(n => outcome.Labels.GetValueOrDefault(n, n)));
+        string Label(IEnumerable<string> names) => string.Join(" × ", names.Select(n => labels.GetValueOrDefault(n, n)));
         var by = options.At is null ? null : options.By[0].Name;
         var (error, quasi, mixed) = FindError(strata, set, by);
         if (error is not null)

@@ -22,10 +22,10 @@ public sealed partial class PostHocEvaluator
 {
     private static PostHocOutcome EvaluateCells(EvaluationContext context, BoundBlock block, PostHocKind.Options options, AnovaOutcome anova, DiagnosticBag diagnostics)
     {
-        var outcome = new PostHocOutcome(block) { Route = AnovaRoute.Cells };
+        var outcome = new Found { Route = AnovaRoute.Cells };
         if (anova.Fit is not { } fit || anova.Cells is not { } selected)
         {
-            return outcome;
+            return outcome.Build(block);
         }
 
         var factors = anova.Factors;
@@ -36,7 +36,7 @@ public sealed partial class PostHocEvaluator
             if (k < 0)
             {
                 diagnostics.FactorNotInAnova(options.FactorLocation, name, block.Of!.Id, DiagnosticBag.Nearest(name, factors.Select(f => f.Name)));
-                return outcome;
+                return outcome.Build(block);
             }
         }
         else if (factors.Count == 1)
@@ -46,7 +46,7 @@ public sealed partial class PostHocEvaluator
         else
         {
             diagnostics.FactorChoiceNeeded(block.Location, block.Of!.Id);
-            return outcome;
+            return outcome.Build(block);
         }
 
         var allLevels = selected.Levels;
@@ -56,7 +56,7 @@ public sealed partial class PostHocEvaluator
         if (options.Control is { } control && !levels.Contains(control))
         {
             diagnostics.UnknownControl(options.ControlLocation, control, factor.Name, DiagnosticBag.Nearest(control, levels));
-            return outcome;
+            return outcome.Build(block);
         }
 
         outcome.FactorLabel = factor.Display;
@@ -115,7 +115,7 @@ public sealed partial class PostHocEvaluator
         outcome.SingleObservationLevels = groups.Any(g => g.Count < 2);
         outcome.FromCells = true;
         AddInteractions(outcome, anova, term, alpha);
-        return outcome;
+        return outcome.Build(block);
     }
 
 }

@@ -22,7 +22,7 @@ public sealed partial class PostHocEvaluator
     /// </summary>
     private static PostHocOutcome EvaluateCovariates(EvaluationContext context, BoundBlock block, PostHocKind.Options options, AnovaOutcome anova, CovariateAnalysis ancova, DiagnosticBag diagnostics)
     {
-        var outcome = new PostHocOutcome(block) { Adjusted = true };
+        var outcome = new Found { Adjusted = true };
         var of = block.Of!.Id;
         var factors = anova.Data!.Factors;
         BlockFactor? factor;
@@ -32,13 +32,13 @@ public sealed partial class PostHocEvaluator
             if (factor is null)
             {
                 diagnostics.FactorNotInAnova(options.FactorLocation, name, of, DiagnosticBag.Nearest(name, factors.Select(f => f.Spec.Name)));
-                return outcome;
+                return outcome.Build(block);
             }
 
             if (factor.Spec.Layout.Role == FactorRole.Block)
             {
                 diagnostics.AncovaPostHocBlock(options.FactorLocation, name);
-                return outcome;
+                return outcome.Build(block);
             }
         }
         else if (ancova.Treatments.Count == 1)
@@ -48,13 +48,13 @@ public sealed partial class PostHocEvaluator
         else
         {
             diagnostics.FactorChoiceNeeded(block.Location, of);
-            return outcome;
+            return outcome.Build(block);
         }
 
         if (options.Method == "games-howell")
         {
             diagnostics.AncovaPostHocMethod(options.MethodLocation ?? block.Location, options.Method);
-            return outcome;
+            return outcome.Build(block);
         }
 
         var family = ancova.Result.Family(factor.Spec.Name);
@@ -64,7 +64,7 @@ public sealed partial class PostHocEvaluator
             if (family.IndexOf(control) < 0)
             {
                 diagnostics.UnknownControl(options.ControlLocation, control, factor.Spec.Name, DiagnosticBag.Nearest(control, family.Levels));
-                return outcome;
+                return outcome.Build(block);
             }
 
             if (method == "tukey")
@@ -107,7 +107,7 @@ public sealed partial class PostHocEvaluator
         outcome.Multiplicity[Stat.M] = context.Results.Add(block.Id, TestName.Family, term, null, null, Stat.M, m, inputs);
         outcome.Multiplicity[Stat.FwerUnadjusted] = context.Results.Add(block.Id, TestName.Family, term, null, null, Stat.FwerUnadjusted, PValueAdjustment.FamilyWiseErrorRate(m, context.Header.Alpha), inputs);
         outcome.SingleObservationLevels = factor.Split(anova.Data.Response).Any(g => g.Length < 2);
-        return outcome;
+        return outcome.Build(block);
     }
 
     /// <summary>
@@ -115,7 +115,7 @@ public sealed partial class PostHocEvaluator
     /// adjusted means' own correlation (<see cref="AdjustedComparisons.WithControl"/>), from the same fit;
     /// SP0541 at <c>control</c> when its probabilities miss the required accuracy within the work limit.
     /// </summary>
-    private static PostHocOutcome WithControl(EvaluationContext context, BoundBlock block, PostHocOutcome outcome, BlockFactor factor, AdjustedMeansFamily family, string control, PostHocKind.Options options, DiagnosticBag diagnostics)
+    private static PostHocOutcome WithControl(EvaluationContext context, BoundBlock block, Found outcome, BlockFactor factor, AdjustedMeansFamily family, string control, PostHocKind.Options options, DiagnosticBag diagnostics)
     {
         var alpha = context.Header.Alpha;
         var direction = options.Direction;
@@ -123,7 +123,7 @@ public sealed partial class PostHocEvaluator
         if (!dunnett.Accurate)
         {
             diagnostics.DunnettAccuracyNotReached(options.ControlLocation, control, family.Count - 1, dunnett.Error, AdjustedComparisons.RequiredAccuracy, block.Of!.Id);
-            return outcome;
+            return outcome.Build(block);
         }
 
         var m = dunnett.Comparisons.Count;
@@ -137,6 +137,6 @@ public sealed partial class PostHocEvaluator
         outcome.Families.Add(Record(context, block, TestName.Dunnett, DunnettProcedure(direction), result, term, inputs));
         outcome.Multiplicity[Stat.M] = context.Results.Add(block.Id, TestName.Family, term, null, null, Stat.M, m, inputs);
         outcome.Multiplicity[Stat.FwerUnadjusted] = context.Results.Add(block.Id, TestName.Family, term, null, null, Stat.FwerUnadjusted, PValueAdjustment.FamilyWiseErrorRate(m, alpha), inputs);
-        return outcome;
+        return outcome.Build(block);
     }
 }

@@ -23,7 +23,7 @@ public sealed partial class PostHocEvaluator
     /// </summary>
     private static PostHocOutcome EvaluateDesign(EvaluationContext context, BoundBlock block, PostHocKind.Options options, AnovaOutcome anova, DesignFit design, DiagnosticBag diagnostics)
     {
-        var outcome = new PostHocOutcome(block);
+        var outcome = new Found();
         var of = block.Of!.Id;
         var treatments = anova.Data!.Factors.Where(f => f.Spec.Layout.Role == FactorRole.Treatment).ToList();
         BlockFactor? factor;
@@ -33,13 +33,13 @@ public sealed partial class PostHocEvaluator
             if (factor is null)
             {
                 diagnostics.FactorNotInAnova(options.FactorLocation, name, of, DiagnosticBag.Nearest(name, treatments.Select(f => f.Spec.Name)));
-                return outcome;
+                return outcome.Build(block);
             }
 
             if (factor.Spec.Layout.Role != FactorRole.Treatment)
             {
                 diagnostics.DesignViewUnavailable(options.FactorLocation, "posthoc", name, "it is a block or random factor, whose levels are a sample of units rather than treatments to compare; its variance component is in the anova block");
-                return outcome;
+                return outcome.Build(block);
             }
         }
         else if (treatments.Count == 1)
@@ -49,14 +49,14 @@ public sealed partial class PostHocEvaluator
         else
         {
             diagnostics.FactorChoiceNeeded(block.Location, of);
-            return outcome;
+            return outcome.Build(block);
         }
 
         var at = options.Factor is null ? block.Location : options.FactorLocation;
         if (options.Method is "games-howell")
         {
             diagnostics.DesignViewUnavailable(options.MethodLocation ?? block.Location, "posthoc", of, "Games–Howell estimates a variance per group and would ignore the error strata; use 'method: tukey', 'holm' or 'bonferroni', which use the error of the factor's F test");
-            return outcome;
+            return outcome.Build(block);
         }
 
         if (design.Method == DesignMethod.Reml)
@@ -68,13 +68,13 @@ public sealed partial class PostHocEvaluator
         if (row.Denominator is not [{ Coefficient: 1.0 } part] || row.IsQuasiF)
         {
             diagnostics.DesignViewUnavailable(at, "posthoc", of, $"{factor.Spec.Name} has no single error mean square in this design (its F test is approximate, against a combination of mean squares), so its comparisons would have no exact standard error");
-            return outcome;
+            return outcome.Build(block);
         }
 
         if (options.Control is { } control && !factor.Levels.Contains(control))
         {
             diagnostics.UnknownControl(options.ControlLocation, control, factor.Spec.Name, DiagnosticBag.Nearest(control, factor.Levels));
-            return outcome;
+            return outcome.Build(block);
         }
 
         outcome.FactorLabel = factor.Spec.Display;
@@ -100,7 +100,7 @@ public sealed partial class PostHocEvaluator
 
         outcome.SingleObservationLevels = groups.Any(g => g.Length < 2);
         AddInteractions(outcome, anova, term, alpha);
-        return outcome;
+        return outcome.Build(block);
     }
 
     /// <summary>
@@ -174,16 +174,16 @@ public sealed partial class PostHocEvaluator
 
         var tukey = test == TestName.TukeyHsd;
         var list = comparisons.Select(x => new PairwiseComparison(x.LevelA, x.LevelB, x.Diff, x.Se, tukey ? x.T.Map(t => Math.Sqrt(2.0) * Math.Abs(t)) : x.T, x.CiLow, x.CiHigh, x.PAdjusted, x.Df)).ToList();
-        var outcome = new PostHocOutcome(block) { Reml = true, ControlDf = controlDf, FactorLabel = factor.Spec.Display, Direction = options.Direction };
-        outcome.MultivariateTError = mvtError;
+        var outcome = new Found { Reml = true, ControlDf = controlDf, FactorLabel = factor.Spec.Display, Direction = options.Direction, MultivariateTError = mvtError };
         var inputs = context.Inputs(block);
-        var family = Record(context, block, test, procedure, new PostHocResult(test, alpha, list, critical), term, inputs);
-        foreach (var (pair, values) in family.Pairs)
+        var result = new PostHocResult(test, alpha, list, critical);
+        var recorded = RecordPairs(context, block, test, result, term, inputs);
+        foreach (var (pair, values) in recorded)
         {
             values[Stat.Df] = context.Results.Add(block.Id, test, term, null, [pair.LevelA, pair.LevelB], Stat.Df, pair.Df, inputs);
         }
 
-        outcome.Families.Add(family);
+        outcome.Families.Add(Family(test, procedure, result, recorded));
         AddFamilySize(context, block, outcome, term, list.Count, alpha, inputs);
         outcome.SingleObservationLevels = factor.Split(anova.Data!.Response).Any(g => g.Length == 1);
 
@@ -197,6 +197,6 @@ public sealed partial class PostHocEvaluator
             }
         }
 
-        return outcome;
+        return outcome.Build(block);
     }
 }

@@ -67,53 +67,53 @@ public sealed class PostHocFamily
 
     public required PostHocResult Result { get; init; }
 
-    public List<(PairwiseComparison Pair, Dictionary<string, ResultValue> Values)> Pairs { get; } = [];
+    public IReadOnlyList<(PairwiseComparison Pair, IReadOnlyDictionary<string, ResultValue> Values)> Pairs { get; init; } = [];
 }
 
 public sealed class PostHocOutcome(BoundBlock block) : BlockOutcome(block)
 {
-    public string FactorLabel { get; set; } = string.Empty;
+    public string FactorLabel { get; init; } = string.Empty;
 
-    public List<PostHocFamily> Families { get; } = [];
+    public IReadOnlyList<PostHocFamily> Families { get; init; } = [];
 
     /// <summary>Which automatic rules fired, and on what evidence (the renderer words them).</summary>
-    public List<RuleDecision> Decisions { get; } = [];
+    public IReadOnlyList<RuleDecision> Decisions { get; init; } = [];
 
-    public Dictionary<string, ResultValue> Multiplicity { get; } = new(StringComparer.Ordinal);
+    public IReadOnlyDictionary<string, ResultValue> Multiplicity { get; init; } = new Dictionary<string, ResultValue>(StringComparer.Ordinal).AsReadOnly();
 
-    public bool Transformed { get; set; }
+    public bool Transformed { get; init; }
 
     /// <summary>Whether the comparisons came from the anova's rows or from its cell statistics.</summary>
     public AnovaRoute Route { get; init; } = AnovaRoute.Rows;
 
     /// <summary>Groups whose every response is missing (not compared).</summary>
-    public IReadOnlyList<string> EmptyGroups { get; set; } = [];
+    public IReadOnlyList<string> EmptyGroups { get; init; } = [];
 
     /// <summary>Why the residual mean square is not defined, when pooled-variance comparisons were asked for.</summary>
-    public string? UndefinedResidual { get; set; }
+    public string? UndefinedResidual { get; init; }
 
     /// <summary>Some level has a single observation.</summary>
-    public bool SingleObservationLevels { get; set; }
+    public bool SingleObservationLevels { get; init; }
 
     /// <summary>Cells route: the comparisons were made (the note on how is shown).</summary>
-    public bool FromCells { get; set; }
+    public bool FromCells { get; init; }
 
     /// <summary>A design anova: the error term the comparisons use (that of the factor's F test).</summary>
-    public DesignErrorTerm? DesignError { get; set; }
+    public DesignErrorTerm? DesignError { get; init; }
 
     /// <summary>The alternative of comparisons with a control (two-sided unless <c>direction</c> says otherwise).</summary>
-    public DunnettAlternative Direction { get; set; } = DunnettAlternative.TwoSided;
+    public DunnettAlternative Direction { get; init; } = DunnettAlternative.TwoSided;
 
     /// <summary>
     /// Interactions of the anova that contain the compared factor and are significant at α (term
     /// name, the other factors in it, and its p): the comparison averages over those factors' levels.
     /// </summary>
-    public List<(string Term, IReadOnlyList<string> Others, ResultValue P)> Interactions { get; } = [];
+    public IReadOnlyList<(string Term, IReadOnlyList<string> Others, ResultValue P)> Interactions { get; init; } = [];
     /// <summary>An analysis of covariance: the comparisons are of adjusted means (covariates at their means).</summary>
     public bool Adjusted { get; init; }
 
     /// <summary>Adjusted means against a control with several comparisons: the largest error estimate of the multivariate t probabilities (quasi-Monte Carlo).</summary>
-    public double? MultivariateTError { get; set; }
+    public double? MultivariateTError { get; init; }
 
     /// <summary>A declared design fitted as a mixed model (REML): the comparisons are of its estimated marginal means, each with its own SE and Satterthwaite df.</summary>
     public bool Reml { get; init; }
@@ -149,10 +149,10 @@ public sealed partial class PostHocEvaluator : KindEvaluator
             return EvaluateDesign(context, block, options, designAnova, design, diagnostics);
         }
 
-        var outcome = new PostHocOutcome(block);
+        var outcome = new Found();
         if (context.Outcomes.GetValueOrDefault(block.Of!.Id) is not AnovaOutcome { Result: not null } anova)
         {
-            return outcome;
+            return outcome.Build(block);
         }
 
         var factors = anova.Data!.Factors;
@@ -163,7 +163,7 @@ public sealed partial class PostHocEvaluator : KindEvaluator
             if (factor is null)
             {
                 diagnostics.FactorNotInAnova(options.FactorLocation, name, block.Of.Id, DiagnosticBag.Nearest(name, factors.Select(f => f.Spec.Name)));
-                return outcome;
+                return outcome.Build(block);
             }
         }
         else if (factors.Count == 1)
@@ -173,7 +173,7 @@ public sealed partial class PostHocEvaluator : KindEvaluator
         else
         {
             diagnostics.FactorChoiceNeeded(block.Location, block.Of.Id);
-            return outcome;
+            return outcome.Build(block);
         }
 
         var empty = SummaryEvaluator.EmptyGroups(context, anova.Block, anova.Data);
@@ -182,7 +182,7 @@ public sealed partial class PostHocEvaluator : KindEvaluator
         if (options.Control is { } control && !factor.Levels.Contains(control))
         {
             diagnostics.UnknownControl(options.ControlLocation, control, factor.Spec.Name, DiagnosticBag.Nearest(control, factor.Levels));
-            return outcome;
+            return outcome.Build(block);
         }
 
         outcome.FactorLabel = factor.Spec.Display;
@@ -252,18 +252,18 @@ public sealed partial class PostHocEvaluator : KindEvaluator
 
         outcome.SingleObservationLevels = groups.Any(g => g.Length < 2);
         AddInteractions(outcome, anova, term, alpha);
-        return outcome;
+        return outcome.Build(block);
     }
 
     /// <summary>
     /// The family's size and its family-wise error rate without adjustment (manifest), and its
     /// intervals figure: the same on every route (rows, cell statistics, declared design).
     /// </summary>
-    internal static void AddFamilySize(EvaluationContext context, BoundBlock block, PostHocOutcome outcome, string term, int m, double alpha, IReadOnlyList<string> inputs)
+    private static void AddFamilySize(EvaluationContext context, BoundBlock block, Found outcome, string term, int m, double alpha, IReadOnlyList<string> inputs)
     {
         outcome.Multiplicity[Stat.M] = context.Results.Add(block.Id, TestName.Family, term, null, null, Stat.M, m, inputs);
         outcome.Multiplicity[Stat.FwerUnadjusted] = context.Results.Add(block.Id, TestName.Family, term, null, null, Stat.FwerUnadjusted, PValueAdjustment.FamilyWiseErrorRate(m, alpha), inputs);
-        if (context.Header.Report.Figures && Figures.Intervals(outcome, alpha) is { } figure)
+        if (context.Header.Report.Figures && Figures.Intervals(outcome.Families, alpha) is { } figure)
         {
             outcome.Figures.Add(figure);
         }
@@ -278,7 +278,7 @@ public sealed partial class PostHocEvaluator : KindEvaluator
     };
 
     /// <summary>Records the anova's significant interactions that contain the compared factor.</summary>
-    internal static void AddInteractions(PostHocOutcome outcome, AnovaOutcome anova, string factor, double alpha)
+    private static void AddInteractions(Found outcome, AnovaOutcome anova, string factor, double alpha)
     {
         foreach (var (t, values) in anova.Terms)
         {
@@ -323,9 +323,17 @@ public sealed partial class PostHocEvaluator : KindEvaluator
         return all with { Comparisons = kept };
     }
 
-    internal static PostHocFamily Record(EvaluationContext context, BoundBlock block, string test, PostHocProcedure procedure, PostHocResult result, string term, IReadOnlyList<string> inputs)
+    internal static PostHocFamily Record(EvaluationContext context, BoundBlock block, string test, PostHocProcedure procedure, PostHocResult result, string term, IReadOnlyList<string> inputs) =>
+        Family(test, procedure, result, RecordPairs(context, block, test, result, term, inputs));
+
+    /// <summary>A family built once from its recorded pairs (each pair's values frozen).</summary>
+    private static PostHocFamily Family(string test, PostHocProcedure procedure, PostHocResult result, List<(PairwiseComparison Pair, Dictionary<string, ResultValue> Values)> pairs) =>
+        new() { Test = test, Procedure = procedure, Result = result, Pairs = pairs.Select(p => (p.Pair, (IReadOnlyDictionary<string, ResultValue>)p.Values.AsReadOnly())).ToList().AsReadOnly() };
+
+    /// <summary>Records each comparison's values (diff, se, statistic, interval, adjusted p), in order.</summary>
+    private static List<(PairwiseComparison Pair, Dictionary<string, ResultValue> Values)> RecordPairs(EvaluationContext context, BoundBlock block, string test, PostHocResult result, string term, IReadOnlyList<string> inputs)
     {
-        var family = new PostHocFamily { Test = test, Procedure = procedure, Result = result };
+        var pairs = new List<(PairwiseComparison Pair, Dictionary<string, ResultValue> Values)>();
         foreach (var c in result.Comparisons)
         {
             string[] pair = [c.LevelA, c.LevelB];
@@ -342,10 +350,55 @@ public sealed partial class PostHocEvaluator : KindEvaluator
             }
 
             values[Stat.PAdj] = context.Results.Add(block.Id, test, term, null, pair, Stat.PAdj, c.PAdjusted, inputs);
-            family.Pairs.Add((c, values));
+            pairs.Add((c, values));
         }
 
-        return family;
+        return pairs;
+    }
+
+    /// <summary>What a posthoc evaluation has found, in recording order; built once into its outcome at each return (<see cref="Build"/>).</summary>
+    private sealed class Found
+    {
+        public readonly List<PostHocFamily> Families = [];
+        public readonly List<RuleDecision> Decisions = [];
+        public readonly Dictionary<string, ResultValue> Multiplicity = new(StringComparer.Ordinal);
+        public readonly List<(string Term, IReadOnlyList<string> Others, ResultValue P)> Interactions = [];
+        public readonly List<FigurePlan> Figures = [];
+        public AnovaRoute Route = AnovaRoute.Rows;
+        public bool Adjusted;
+        public bool Reml;
+        public double? ControlDf;
+        public string FactorLabel = string.Empty;
+        public bool Transformed;
+        public IReadOnlyList<string> EmptyGroups = [];
+        public string? UndefinedResidual;
+        public bool SingleObservationLevels;
+        public bool FromCells;
+        public DesignErrorTerm? DesignError;
+        public DunnettAlternative Direction = DunnettAlternative.TwoSided;
+        public double? MultivariateTError;
+
+        public PostHocOutcome Build(BoundBlock block) => new(block)
+        {
+            Route = Route,
+            Adjusted = Adjusted,
+            Reml = Reml,
+            ControlDf = ControlDf,
+            FactorLabel = FactorLabel,
+            Families = Families.AsReadOnly(),
+            Decisions = Decisions.AsReadOnly(),
+            Multiplicity = Multiplicity.AsReadOnly(),
+            Interactions = Interactions.AsReadOnly(),
+            Transformed = Transformed,
+            EmptyGroups = EmptyGroups,
+            UndefinedResidual = UndefinedResidual,
+            SingleObservationLevels = SingleObservationLevels,
+            FromCells = FromCells,
+            DesignError = DesignError,
+            Direction = Direction,
+            MultivariateTError = MultivariateTError,
+            Figures = Figures.AsReadOnly(),
+        };
     }
 
 }

@@ -121,7 +121,7 @@ public sealed class PowerEvaluator : KindEvaluator
             Effect = effect.Value,
             Values = values.AsReadOnly(),
             Required = required.AsReadOnly(),
-            Figures = figures,
+            Figures = figures.AsReadOnly(),
         };
     }
 }

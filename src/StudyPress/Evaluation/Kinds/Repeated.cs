@@ -595,11 +595,8 @@ public sealed class RepeatedEvaluator : KindEvaluator
             Design = design,
             ClassicalFit = fit,
             MixedFit = mixedFit,
+            Figures = fit is not null && context.Header.Report.Figures ? FiguresOf(fit, block.Response is null ? data.ResponseName : data.ResponseLabel, o) : [],
         };
-        if (fit is not null && context.Header.Report.Figures)
-        {
-            AddFigures(outcome, fit, block.Response is null ? data.ResponseName : data.ResponseLabel, o);
-        }
 
         return outcome;
     }
@@ -809,8 +806,9 @@ public sealed class RepeatedEvaluator : KindEvaluator
         diagnostics.RepeatedDesignProblem(at, issue.Message);
     }
 
-    private static void AddFigures(RepeatedOutcome outcome, RepeatedMeasuresResult fit, string response, RepeatedKind.Options o)
+    private static System.Collections.ObjectModel.ReadOnlyCollection<FigurePlan> FiguresOf(RepeatedMeasuresResult fit, string response, RepeatedKind.Options o)
     {
+        var figures = new List<FigurePlan>();
         // Subject profiles along the first within factor (each subject's mean over the other within factors).
         var f0 = 0;
         var levels = fit.WithinLevels[f0];
@@ -846,7 +844,7 @@ public sealed class RepeatedEvaluator : KindEvaluator
         // At most MaxProfilesDrawn thin lines (the first subjects in file order): beyond that the lines
         // hide each other and only weigh down the report; the mean profile uses every subject.
         var drawn = profiles.Count > MaxProfilesDrawn ? profiles.Take(MaxProfilesDrawn).ToList() : profiles;
-        outcome.Figures.Add(new ProfilesFigure(levels, drawn, profiles.Count, bLabel, mean, response, o.Subject.Spec.Display, wLabel));
+        figures.Add(new ProfilesFigure(levels, drawn, profiles.Count, bLabel, mean, response, o.Subject.Spec.Display, wLabel));
 
         if (fit.Design.Between.Count > 0)
         {
@@ -864,7 +862,9 @@ public sealed class RepeatedEvaluator : KindEvaluator
                 }
             }
 
-            outcome.Figures.Add(new RepeatedInteractionFigure(levels, between, cells, bLabel, wLabel, response));
+            figures.Add(new RepeatedInteractionFigure(levels, between, cells, bLabel, wLabel, response));
         }
+
+        return figures.AsReadOnly();
     }
 }

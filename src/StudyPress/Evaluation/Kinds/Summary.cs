@@ -123,7 +123,7 @@ public sealed partial class SummaryEvaluator : KindEvaluator
             Term = term ?? string.Empty,
             Groups = groups.AsReadOnly(),
             DroppedMissing = data.DroppedMissing,
-            Figures = figures,
+            Figures = figures.AsReadOnly(),
         };
     }
 

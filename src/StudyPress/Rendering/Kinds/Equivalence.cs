@@ -90,7 +90,7 @@ public sealed class EquivalenceRenderer : KindRenderer
             + (notShown && w.Tell("equivalence:not-shown") ? $" Where it {w.T("was", "is")} not shown, this is not evidence of a difference: the interval {w.T("reached", "reaches")} beyond the margin." : string.Empty);
     }
 
-    private static string Margin(Dictionary<string, ResultValue> v)
+    private static string Margin(IReadOnlyDictionary<string, ResultValue> v)
     {
         var low = v.TryGetValue(Stat.MarginLow, out var lo) ? "[" + MethodsWriter.S2(lo) : "(−∞";
         var high = v.TryGetValue(Stat.MarginHigh, out var hi) ? MethodsWriter.S2(hi) + "]" : "+∞)";

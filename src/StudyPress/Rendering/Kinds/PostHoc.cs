@@ -244,7 +244,7 @@ public sealed class PostHocRenderer : KindRenderer
         }
     }
 
-    private static string MethodsPair(string test, Dictionary<string, ResultValue> v, MethodsWriter w)
+    private static string MethodsPair(string test, IReadOnlyDictionary<string, ResultValue> v, MethodsWriter w)
     {
         var text = test == "dunn" ? $"difference in mean rank = {MethodsWriter.S2(v[Stat.Diff])}" : $"difference = {MethodsWriter.S2(v[Stat.Diff])}";
         if (v.TryGetValue(Stat.CiLow, out var lo) && v.TryGetValue(Stat.CiHigh, out var hi))
