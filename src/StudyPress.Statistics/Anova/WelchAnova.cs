@@ -28,7 +28,6 @@ public static class WelchAnova
 
         var w = new double[k];
         var means = new double[k];
-        double sw = 0;
         for (var i = 0; i < k; i++)
         {
             means[i] = Groups.Mean(groups[i]);
@@ -40,6 +39,27 @@ public static class WelchAnova
             }
 
             w[i] = groups[i].Length / variance;
+        }
+
+        return Combine(w, means, [.. groups.Select(g => g.Length - 1.0)]);
+    }
+
+    /// <summary>
+    /// Welch's (1951) F from each group's weight wᵢ (one over the squared standard error of its
+    /// estimate), estimate and df νᵢ: the weighted centre, A = Σ wᵢ(mᵢ − m̄)² / (k − 1),
+    /// Λ = Σ (1 − wᵢ/Σw)² / νᵢ, F = A / (1 + 2(k − 2)Λ / (k² − 1)) on (k − 1, (k² − 1) / (3Λ)).
+    /// Shared by the means (νᵢ = nᵢ − 1) and the trimmed means (νᵢ = hᵢ − 1, weights from the
+    /// winsorized variances).
+    /// </summary>
+    public static WelchResult Combine(IReadOnlyList<double> w, IReadOnlyList<double> means, IReadOnlyList<double> dfs)
+    {
+        ArgumentNullException.ThrowIfNull(w);
+        ArgumentNullException.ThrowIfNull(means);
+        ArgumentNullException.ThrowIfNull(dfs);
+        var k = w.Count;
+        double sw = 0;
+        for (var i = 0; i < k; i++)
+        {
             sw += w[i];
         }
 
@@ -56,7 +76,7 @@ public static class WelchAnova
             var d = means[i] - m;
             a += w[i] * d * d;
             var r = 1 - (w[i] / sw);
-            l += r * r / (groups[i].Length - 1);
+            l += r * r / dfs[i];
         }
 
         a /= k - 1;

@@ -577,20 +577,7 @@ public static class RemlComparisons
                 tost ? EquivalenceVerdict.NotShownEquivalent : EquivalenceVerdict.NotShownNonInferior, EquivalenceVariance.Pooled, alpha);
         }
 
-        var se = e.Se.Value;
-        var df = e.Df.Value;
-        var tc = Probability.TCritical(2.0 * alpha, df);
-        var tLower = low is { } lo ? Quantity.Of((diff - lo) / se) : Quantity.Undefined("no lower margin was given");
-        var tUpper = high is { } hi ? Quantity.Of((diff - hi) / se) : Quantity.Undefined("no upper margin was given");
-        var pLower = tLower.Map(x => Equivalence.UpperTail(x, df));
-        var pUpper = tUpper.Map(x => Equivalence.UpperTail(-x, df));
-        var p = tost ? Quantity.Of(Math.Max(pLower.Value, pUpper.Value)) : low.HasValue ? pLower : pUpper;
-        var shown = p.Value <= alpha;
-        var verdict = tost
-            ? shown ? EquivalenceVerdict.EquivalentWithinMargin : EquivalenceVerdict.NotShownEquivalent
-            : shown ? EquivalenceVerdict.NonInferiorWithinMargin : EquivalenceVerdict.NotShownNonInferior;
-        return new EquivalenceResult(levelA, levelB, diff, e.Se, e.Df, low, high, Quantity.Of(diff - (tc * se)), Quantity.Of(diff + (tc * se)), tLower, tUpper, pLower, pUpper, p,
-            Quantity.Of(Probability.TTwoSided(diff / se, df)), verdict, EquivalenceVariance.Pooled, alpha);
+        return Equivalence.FromEstimate(levelA, levelB, diff, e.Se, e.Df, low, high, alpha, EquivalenceVariance.Pooled);
     }
 
     /// <summary>

@@ -204,20 +204,32 @@ public static class Equivalence
                 tost ? EquivalenceVerdict.NotShownEquivalent : EquivalenceVerdict.NotShownNonInferior, variance, alpha);
         }
 
-        var t = Probability.TCritical(2.0 * alpha, df);
-        var ciLow = Quantity.Of(diff - (t * se));
-        var ciHigh = Quantity.Of(diff + (t * se));
-        var tLower = low is { } lo ? Quantity.Of((diff - lo) / se) : Quantity.Undefined("no lower margin was given");
-        var tUpper = high is { } hi ? Quantity.Of((diff - hi) / se) : Quantity.Undefined("no upper margin was given");
-        var pLower = tLower.Map(x => UpperTail(x, df));
-        var pUpper = tUpper.Map(x => UpperTail(-x, df));
+        return FromEstimate(levelA, levelB, diff, Quantity.Of(se), Quantity.Of(df), low, high, alpha, variance);
+    }
+
+    /// <summary>
+    /// The two one-sided tests (or non-inferiority with one margin) of a difference estimated as
+    /// <paramref name="diff"/> with a defined standard error <paramref name="se"/> on
+    /// <paramref name="df"/> degrees of freedom: the rule of the class remarks, shared by the
+    /// two-group forms above and the mixed model's marginal means.
+    /// </summary>
+    public static EquivalenceResult FromEstimate(string levelA, string levelB, double diff, Quantity se, Quantity df, double? low, double? high, double alpha, EquivalenceVariance variance)
+    {
+        var tost = low.HasValue && high.HasValue;
+        var t = Probability.TCritical(2.0 * alpha, df.Value);
+        var ciLow = Quantity.Of(diff - (t * se.Value));
+        var ciHigh = Quantity.Of(diff + (t * se.Value));
+        var tLower = low is { } lo ? Quantity.Of((diff - lo) / se.Value) : Quantity.Undefined("no lower margin was given");
+        var tUpper = high is { } hi ? Quantity.Of((diff - hi) / se.Value) : Quantity.Undefined("no upper margin was given");
+        var pLower = tLower.Map(x => UpperTail(x, df.Value));
+        var pUpper = tUpper.Map(x => UpperTail(-x, df.Value));
         var p = tost ? Quantity.Of(Math.Max(pLower.Value, pUpper.Value)) : low.HasValue ? pLower : pUpper;
-        var pDiff = Quantity.Of(Probability.TTwoSided(diff / se, df));
+        var pDiff = Quantity.Of(Probability.TTwoSided(diff / se.Value, df.Value));
         var shown = p.Value <= alpha;
         var verdict = tost
             ? shown ? EquivalenceVerdict.EquivalentWithinMargin : EquivalenceVerdict.NotShownEquivalent
             : shown ? EquivalenceVerdict.NonInferiorWithinMargin : EquivalenceVerdict.NotShownNonInferior;
-        return new EquivalenceResult(levelA, levelB, diff, Quantity.Of(se), Quantity.Of(df), low, high, ciLow, ciHigh, tLower, tUpper, pLower, pUpper, p, pDiff, verdict, variance, alpha);
+        return new EquivalenceResult(levelA, levelB, diff, se, df, low, high, ciLow, ciHigh, tLower, tUpper, pLower, pUpper, p, pDiff, verdict, variance, alpha);
     }
 
     /// <summary>P(T_df &gt;= t) from the two-sided tail, accurate in both tails.</summary>

@@ -116,36 +116,9 @@ public static class TrimmedMeans
             return Undefined("a group's winsorized variance is zero");
         }
 
-        var w = new double[k];
-        double u = 0;
-        for (var j = 0; j < k; j++)
-        {
-            var p = parts[j];
-            var d = (p.N - 1) * p.WinsorizedVariance.Value / ((double)p.Effective * (p.Effective - 1));
-            w[j] = 1 / d;
-            u += w[j];
-        }
-
-        double centre = 0;
-        for (var j = 0; j < k; j++)
-        {
-            centre += w[j] * parts[j].TrimmedMean.Value;
-        }
-
-        centre /= u;
-        double a = 0, l = 0;
-        for (var j = 0; j < k; j++)
-        {
-            var dev = parts[j].TrimmedMean.Value - centre;
-            a += w[j] * dev * dev;
-            var r = 1 - (w[j] / u);
-            l += r * r / (parts[j].Effective - 1);
-        }
-
-        a /= k - 1;
-        var b = 2.0 * (k - 2) * l / ((k * k) - 1.0);
-        var f = a / (1 + b);
-        var df2 = ((k * k) - 1.0) / (3.0 * l);
-        return new TrimmedMeansResult(parts, Quantity.Of(f), k - 1, Quantity.Of(df2), Quantity.Of(Probability.FUpper(f, k - 1, df2)));
+        // Welch's combination with weights 1/dⱼ, dⱼ = (nⱼ − 1) s²_wⱼ / (hⱼ(hⱼ − 1)), on hⱼ − 1 df.
+        var w = parts.Select(p => 1 / ((p.N - 1) * p.WinsorizedVariance.Value / ((double)p.Effective * (p.Effective - 1)))).ToArray();
+        var welch = Anova.WelchAnova.Combine(w, [.. parts.Select(p => p.TrimmedMean.Value)], [.. parts.Select(p => p.Effective - 1.0)]);
+        return new TrimmedMeansResult(parts, welch.F, welch.Df1, welch.Df2, welch.P);
     }
 }
