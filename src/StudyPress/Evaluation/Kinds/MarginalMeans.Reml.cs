@@ -135,21 +135,10 @@ public sealed partial class MarginalMeansEvaluator
     /// <summary>The mixed model's significant interactions that involve a factor of <paramref name="term"/> and one outside it.</summary>
     private static List<InteractionHint> RemlInteractions(DesignFit design, RemlFixedEffects fe, IReadOnlyList<string> term, double alpha, IReadOnlyDictionary<string, string> labels)
     {
-        var hints = new List<InteractionHint>();
-        foreach (var t in fe.Terms)
-        {
-            if (t.Factors.Count < 2 || !t.Factors.Any(term.Contains) || t.Factors.All(term.Contains))
-            {
-                continue;
-            }
-
-            if (design.Rows.FirstOrDefault(r => r.Term == DesignFit.TermName(t.Name))?.Values.GetValueOrDefault(Stat.P) is { Value: { IsDefined: true } pv } p && pv.Value < alpha)
-            {
-                var others = t.Factors.Where(f => !term.Contains(f)).ToList();
-                hints.Add(new InteractionHint(DesignFit.TermName(t.Name), [.. others.Select(f => labels.GetValueOrDefault(f, f))], others, p));
-            }
-        }
-
-        return hints;
+        var rows = fe.Terms.Select(t => (
+            DesignFit.TermName(t.Name),
+            t.Factors,
+            design.Rows.FirstOrDefault(r => r.Term == DesignFit.TermName(t.Name))?.Values.GetValueOrDefault(Stat.P)));
+        return Hints(rows, term, alpha, labels);
     }
 }

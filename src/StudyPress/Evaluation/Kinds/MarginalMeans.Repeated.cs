@@ -296,21 +296,6 @@ public sealed partial class MarginalMeansEvaluator
             }
         }
 
-        var hints = new List<InteractionHint>();
-        foreach (var (name, factors, p) in rows)
-        {
-            if (factors.Count < 2 || !factors.Any(term.Contains) || factors.All(term.Contains) || p is null)
-            {
-                continue;
-            }
-
-            if (p.Value is { IsDefined: true } pv && pv.Value < alpha)
-            {
-                var others = factors.Where(f => !term.Contains(f)).ToList();
-                hints.Add(new InteractionHint(name, [.. others.Select(f => labels.GetValueOrDefault(f, f))], others, p));
-            }
-        }
-
-        return hints;
+        return Hints(rows, term, alpha, labels);
     }
 }

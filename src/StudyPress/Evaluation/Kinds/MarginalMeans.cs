@@ -316,10 +316,20 @@ public sealed partial class MarginalMeansEvaluator : KindEvaluator
         var rows = anova.Design is { } d
             ? d.Rows.Where(r => r.Row is { Kind: TermKind.Treatment }).Select(r => (r.Term, Factors: r.Row!.Factors, r.Values))
             : anova.Terms.Select(t => (Term: t.Term.Name, Factors: t.Term.Factors, Values: (IReadOnlyDictionary<string, ResultValue>)t.Values));
+        return Hints(rows.Select(r => (r.Term, r.Factors, r.Values.GetValueOrDefault(Stat.P))), term, alpha, labels);
+    }
+
+    /// <summary>
+    /// The interactions among <paramref name="rows"/> (term, its factors, its p-value) significant at
+    /// <paramref name="alpha"/> that involve a factor of <paramref name="term"/> and one outside it:
+    /// one rule for every route (fixed, design, mixed model, repeated).
+    /// </summary>
+    private static List<InteractionHint> Hints(IEnumerable<(string Term, IReadOnlyList<string> Factors, ResultValue? P)> rows, IReadOnlyList<string> term, double alpha, IReadOnlyDictionary<string, string> labels)
+    {
         var hints = new List<InteractionHint>();
-        foreach (var (name, factors, values) in rows)
+        foreach (var (name, factors, p) in rows)
         {
-            if (factors.Count < 2 || !factors.Any(term.Contains) || factors.All(term.Contains) || !values.TryGetValue(Stat.P, out var p))
+            if (factors.Count < 2 || !factors.Any(term.Contains) || factors.All(term.Contains) || p is null)
             {
                 continue;
             }
