@@ -39,7 +39,11 @@ public enum DesignMethodReason
 /// <param name="Term">The row's name in the manifest (plot errors with hyphens: <c>whole-plot-error</c>).</param>
 /// <param name="Row">The strata row (classical route), or null on the REML route.</param>
 /// <param name="Test">The REML test of a fixed term, or null.</param>
-public sealed record DesignRow(string Term, StrataRow? Row, RemlFixedTest? Test, IReadOnlyDictionary<string, ResultValue> Values);
+public sealed record DesignRow(string Term, StrataRow? Row, RemlFixedTest? Test, IReadOnlyDictionary<string, ResultValue> Values)
+{
+    /// <summary>The factors of a treatment term's row on either route (the strata row's, or the mixed model's fixed term's); null for error, random and total rows.</summary>
+    public IReadOnlyList<string>? TreatmentFactors { get; init; }
+}
 
 /// <summary>One variance component with its manifest values (either route).</summary>
 /// <param name="Term">The manifest term (plot errors hyphenated).</param>
@@ -332,7 +336,7 @@ public sealed partial class AnovaEvaluator
                 }
             }
 
-            rows.Add(new DesignRow(term, r, null, values));
+            rows.Add(new DesignRow(term, r, null, values) { TreatmentFactors = r.Kind == TermKind.Treatment ? r.Factors : null });
         }
 
         var total = new Dictionary<string, ResultValue>(StringComparer.Ordinal)
@@ -475,7 +479,7 @@ public sealed partial class AnovaEvaluator
             Add(Stat.F, t.F);
             Add(Stat.DfDen, t.DfDenominator);
             Add(Stat.P, t.P);
-            rows.Add(new DesignRow(term, null, t, values));
+            rows.Add(new DesignRow(term, null, t, values) { TreatmentFactors = reml.FixedEffects?.Terms.First(f => f.Name == t.Term).Factors });
         }
 
         var total = reml.Components.Where(c => c.Variance > 0).Sum(c => c.Variance);

@@ -62,7 +62,7 @@ public sealed partial class MarginalMeansEvaluator
                 cells.Add((cell, row));
             }
 
-            var hints = options.At is null ? RemlInteractions(design, fe, term, alpha, labels) : [];
+            var hints = options.At is null ? Interactions(anova, term, alpha, labels) : [];
             tables.Add(new MarginalMeansTable(termName, term, [.. term.Select(f => labels[f])], null, rows.AsReadOnly(), hints));
             if (options.At is not { } a)
             {
@@ -130,15 +130,5 @@ public sealed partial class MarginalMeansEvaluator
         }
 
         return acc;
-    }
-
-    /// <summary>The mixed model's significant interactions that involve a factor of <paramref name="term"/> and one outside it.</summary>
-    private static List<InteractionHint> RemlInteractions(DesignFit design, RemlFixedEffects fe, IReadOnlyList<string> term, double alpha, IReadOnlyDictionary<string, string> labels)
-    {
-        var rows = fe.Terms.Select(t => (
-            DesignFit.TermName(t.Name),
-            t.Factors,
-            design.Rows.FirstOrDefault(r => r.Term == DesignFit.TermName(t.Name))?.Values.GetValueOrDefault(Stat.P)));
-        return Hints(rows, term, alpha, labels);
     }
 }

@@ -314,7 +314,7 @@ public sealed partial class MarginalMeansEvaluator : KindEvaluator
     private static List<InteractionHint> Interactions(AnovaOutcome anova, IReadOnlyList<string> term, double alpha, IReadOnlyDictionary<string, string> labels)
     {
         var rows = anova.Design is { } d
-            ? d.Rows.Where(r => r.Row is { Kind: TermKind.Treatment }).Select(r => (r.Term, Factors: r.Row!.Factors, r.Values))
+            ? d.Rows.Where(r => r.TreatmentFactors is not null).Select(r => (r.Term, Factors: r.TreatmentFactors!, r.Values))
             : anova.Terms.Select(t => (Term: t.Term.Name, Factors: t.Term.Factors, Values: (IReadOnlyDictionary<string, ResultValue>)t.Values));
         return Hints(rows.Select(r => (r.Term, r.Factors, r.Values.GetValueOrDefault(Stat.P))), term, alpha, labels);
     }

@@ -187,15 +187,7 @@ public sealed partial class PostHocEvaluator
         AddFamilySize(context, block, outcome, term, list.Count, alpha, inputs);
         outcome.SingleObservationLevels = factor.Split(anova.Data!.Response).Any(g => g.Length == 1);
 
-        // The mixed model's F tests of interactions that contain the factor (its rows carry no strata row).
-        foreach (var t in fe.Terms.Where(t => t.Factors.Count > 1 && t.Factors.Contains(term)))
-        {
-            if (design.Rows.FirstOrDefault(r => r.Term == DesignFit.TermName(t.Name)) is { } row
-                && row.Values.TryGetValue(Stat.P, out var p) && p.Value is { IsDefined: true } q && q.Value < alpha)
-            {
-                outcome.Interactions.Add((row.Term, [.. t.Factors.Where(f => f != term)], p));
-            }
-        }
+        AddInteractions(outcome, anova, term, alpha);
 
         return outcome.Build(block);
     }

@@ -288,14 +288,14 @@ public sealed partial class PostHocEvaluator : KindEvaluator
             }
         }
 
-        // A declared layout keeps its F tests in the strata rows: a treatment interaction there
-        // (tested against its own error) counts the same way.
+        // A declared layout keeps its F tests in its design rows (the strata's, or the mixed model's):
+        // a treatment interaction there (tested against its own error) counts the same way.
         foreach (var row in anova.Design?.Rows ?? [])
         {
-            if (row.Row is { Kind: StudyPress.Statistics.Designs.TermKind.Treatment } r && r.Factors.Count > 1 && r.Factors.Contains(factor)
+            if (row.TreatmentFactors is { Count: > 1 } factors && factors.Contains(factor)
                 && row.Values.TryGetValue(Stat.P, out var p) && p.Value is { IsDefined: true } q && q.Value < alpha)
             {
-                outcome.Interactions.Add((row.Term, r.Factors.Where(f => f != factor).ToList(), p));
+                outcome.Interactions.Add((row.Term, factors.Where(f => f != factor).ToList(), p));
             }
         }
     }
