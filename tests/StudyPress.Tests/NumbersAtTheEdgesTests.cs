@@ -115,4 +115,26 @@ public sealed class NumbersAtTheEdgesTests
         Assert.NotEmpty(bart);
         Assert.All(bart, AssertUndefined);
     }
+
+    // Regression: a rule fired on a p-value below 0.001 read "(p = < 0.001 < α = 0.05)". Invented
+    // groups with spreads 1 : 5 : 25 (a test of the wording): the sentence carries the relation the
+    // number format writes.
+    [Fact]
+    public void RuleOnATinyP_ReadsPLessThan_NotPEqualsLessThan()
+    {
+        const string study = "---\ntitle: Spreads\ndata: data.csv\nresponse: y\nfactors:\n  g:\n---\n\n```anova main\nwelch: auto\n```\n\n```posthoc pairs\nof: main\nmethod: auto\n```\n";
+        var csv = new System.Text.StringBuilder("g,y\n");
+        for (var i = 0; i < 30; i++)
+        {
+            var z = ((i * 7) % 13) - 6;
+            csv.Append(System.Globalization.CultureInfo.InvariantCulture, $"a,{10 + (0.1 * z)}\nb,{10 + (0.5 * z)}\nc,{10 + (2.5 * z)}\n");
+        }
+
+        using var run = new StudyRun().Study(study).File("data.csv", csv.ToString());
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        Assert.Contains("found unequal group variances (p &lt; 0.001 &lt; α = 0.05)", result.Html, StringComparison.Ordinal);
+        Assert.Contains("found unequal variances (p &lt; 0.001 &lt; α = 0.05)", result.Html, StringComparison.Ordinal);
+        Assert.DoesNotContain("p = &lt;", result.Html, StringComparison.Ordinal);
+    }
 }
