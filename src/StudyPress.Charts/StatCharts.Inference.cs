@@ -87,9 +87,11 @@ public static partial class StatCharts
                 nearRight ? Anchor.End : Anchor.Start, Class: "observed-label"));
         }
 
+        // "p < 0.001" for a p below the smallest shown, never "p = < 0.001".
+        string pText = labels.Numbers.P(p);
         string desc = string.Concat("Density of the F distribution with ", labels.Numbers.General(df1), " and ", labels.Numbers.General(df2),
             " degrees of freedom. Rejection region at alpha ", labels.Numbers.Level(alpha), ": F above ", labels.Numbers.General(crit),
-            ". Observed ", fText, ", upper-tail p = ", labels.Numbers.P(p), offAxis ? "; it lies beyond the right end of the axis." : ".");
+            ". Observed ", fText, ", upper-tail p", pText.StartsWith('<') ? " " : " = ", pText, offAxis ? "; it lies beyond the right end of the axis." : ".");
         return plot.ToChart(desc);
     }
 

@@ -81,6 +81,10 @@ public sealed class KindContractTests
         var result = Compilation.Compile(study, new CompileOptions { OutputDirectory = Path.Combine(Path.GetTempPath(), "studypress-kind-cases", name) });
         Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
 
+        // A p below the smallest shown reads "p < 0.001" everywhere (text, cautions, figure
+        // descriptions), never "p = < 0.001".
+        Assert.DoesNotMatch(@"=\s+<\s*0?\.\d", System.Net.WebUtility.HtmlDecode(result.Html!));
+
         var values = Values(result.ManifestJson!);
         var goldenPath = Path.Combine(dir, "golden.json");
         if (Environment.GetEnvironmentVariable("STUDYPRESS_UPDATE_GOLDEN") == "1")

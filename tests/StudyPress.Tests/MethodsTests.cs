@@ -292,6 +292,30 @@ public sealed partial class MethodsTests
         return sb.ToString();
     }
 
+    [Theory]
+    [InlineData(6, "with group sizes A 3, B 4, C 5, D 6, E 7, F 8.")]
+    [InlineData(8, "in the eight levels of g, with group sizes from 3 to 10.")]
+    public void UnequalGroupSizes_ListedUpToSix_ARangeBeyond(int groups, string expected)
+    {
+        // Group k has k + 3 values: a long list of sizes (with long level names, each cell's name
+        // and size) used to fill the sentence; beyond six groups the sizes are given as a range.
+        var csv = new StringBuilder("g,y\n");
+        for (var k = 0; k < groups; k++)
+        {
+            for (var i = 0; i < k + 3; i++)
+            {
+                csv.Append(CultureInfo.InvariantCulture, $"{(char)('A' + k)},{10 + k + (0.5 * i)}\n");
+            }
+        }
+
+        using var run = new StudyRun();
+        run.File("data/d.csv", csv.ToString());
+        run.Study("---\ntitle: Sizes\ndata:\n  d: data/d.csv\nresponse: y\nfactors: [g]\n---\n\n```anova main\n```\n\n```methods\n```\n");
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        Assert.Contains(expected, VisibleText(MethodsHtml(result)), StringComparison.Ordinal);
+    }
+
     [Fact]
     public void ChangedData_SameStudyFile_TextFollowsTheNewOutcome()
     {

@@ -160,6 +160,19 @@ factors: {factors}
     }
 
     [Fact]
+    public void InteractionCaution_NamesTheFactorsByTheirLabels()
+    {
+        // The same reversal as below, with labelled factors: the caution reads the labels, not the
+        // term's column names (it used to print "a:b" and "depends on b").
+        const string csv = "a,b,y\na1,b1,20\na1,b1,21\na1,b1,22\na1,b2,10\na1,b2,11\na1,b2,12\na2,b1,10\na2,b1,11\na2,b1,12\na2,b2,20\na2,b2,21\na2,b2,22\n";
+        using var run = new StudyRun().File("d.csv", csv).Study(Study("factor: a\nmethod: tukey", factors: "{a: {label: Mould}, b: {label: Cure time}}", response: "y", anova: "interaction: true"));
+        var result = run.Compile();
+        Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
+        Assert.Contains("The anova found the interaction Mould × Cure time at α = 0.05 (p < 0.001): the effect of Mould depends on Cure time.", System.Net.WebUtility.HtmlDecode(result.Html!), StringComparison.Ordinal);
+        Assert.DoesNotContain("interaction a:b", result.Html!, StringComparison.Ordinal);
+    }
+
+    [Fact]
     public void MainEffect_InSignificantInteraction_CarriesACautionAndASuggestion()
     {
         // Crossed 2 × 2 with a reversal: a1 > a2 under b1, a1 < a2 under b2; main effect of a is zero.
@@ -168,7 +181,8 @@ factors: {factors}
         var result = run.Compile();
         Assert.True(result.Succeeded, string.Join("\n", result.Diagnostics));
         var html = result.Html!;
-        Assert.Contains("The anova found the interaction", html, StringComparison.Ordinal);
+        Assert.Contains("The anova found the interaction a × b at α = 0.05 (p < 0.001)", System.Net.WebUtility.HtmlDecode(html), StringComparison.Ordinal);
+        Assert.DoesNotContain("p = &lt;", html, StringComparison.Ordinal);
         Assert.Contains("These comparisons average over the levels of b", html, StringComparison.Ordinal);
         Assert.Contains("compare the levels of a within each level of b instead", html, StringComparison.Ordinal);
     }

@@ -94,7 +94,7 @@ public static class FigureDrawing
         var max = Evaluation.Kinds.Figures.MaxPoints;
         var thinned = Evaluation.Kinds.Figures.ThinnedPoints;
         var chart = StatCharts.ResidualsVersusFitted(f.Fitted, f.Residuals, new ChartLabels("Residuals against fitted values", "fitted value" + (f.TransformedScale ? " (transformed scale)" : string.Empty), "residual"));
-        return (chart, "A funnel shape (spread growing with the fitted value) suggests unequal variances; curvature suggests a missing term or a needed transformation." + (n > max ? string.Create(CultureInfo.InvariantCulture, $" With {n:N0} observations, every {Math.Max(1, n / thinned):N0}th one in data order is drawn ({thinned:N0} points).") : string.Empty));
+        return (chart, "A funnel shape (spread growing with the fitted value) suggests unequal variances; curvature suggests a missing term or a needed transformation." + (n > max ? string.Create(CultureInfo.InvariantCulture, $" With {n:N0} observations, {thinned:N0} of them, evenly spaced in data order, are drawn (about one in {((double)n / thinned).ToString(n >= 10 * thinned ? "N0" : "0.#", CultureInfo.InvariantCulture)}).") : string.Empty));
     }
 
     private static (Chart, string) FDistribution(FDistributionFigure f)

@@ -93,6 +93,16 @@ public static class ReportStyle
     /// <summary>A traced number in the report's one format (<see cref="NumberFormat.Current"/>): the same text as in the tables.</summary>
     public static string Number(ResultValue v) => HtmlWriter.ValueHtml(v, NumberFormat.Current);
 
+    /// <summary>
+    /// Plain text (for cautions and notes, which are escaped whole): "p = 0.035" or "p &lt; 0.001"
+    /// in <paramref name="format"/>, never "p = &lt; 0.001".
+    /// </summary>
+    public static string PText(double p, NumberFormat format, string name = "p")
+    {
+        var shown = format.Format(Stat.P, p);
+        return name + (shown.StartsWith('<') ? " " : " = ") + shown;
+    }
+
     /// <summary>"p = 0.035" or "p &lt; 0.001" (HTML) in the report's format, with the given name for p ("p", "adjusted p").</summary>
     public static string PPhrase(ResultValue p, string name = "p")
     {

@@ -105,10 +105,11 @@ public sealed class PostHocOutcome(BoundBlock block) : BlockOutcome(block)
     public DunnettAlternative Direction { get; init; } = DunnettAlternative.TwoSided;
 
     /// <summary>
-    /// Interactions of the anova that contain the compared factor and are significant at α (term
-    /// name, the other factors in it, and its p): the comparison averages over those factors' levels.
+    /// Interactions of the anova that contain the compared factor and are significant at α (the
+    /// labels of the term's factors in the term's order, the labels of the other factors in it, and
+    /// its p): the comparison averages over those factors' levels.
     /// </summary>
-    public IReadOnlyList<(string Term, IReadOnlyList<string> Others, ResultValue P)> Interactions { get; init; } = [];
+    public IReadOnlyList<(IReadOnlyList<string> TermLabels, IReadOnlyList<string> Others, ResultValue P)> Interactions { get; init; } = [];
     /// <summary>An analysis of covariance: the comparisons are of adjusted means (covariates at their means).</summary>
     public bool Adjusted { get; init; }
 
@@ -284,7 +285,7 @@ public sealed partial class PostHocEvaluator : KindEvaluator
         {
             if (t.Factors.Count > 1 && t.Factors.Contains(factor) && t.P.IsDefined && t.P.Value < alpha && values.TryGetValue(Stat.P, out var p))
             {
-                outcome.Interactions.Add((t.Name, t.Factors.Where(f => f != factor).ToList(), p));
+                outcome.Interactions.Add(InteractionLabels(anova, t.Factors, factor, p));
             }
         }
 
@@ -295,9 +296,16 @@ public sealed partial class PostHocEvaluator : KindEvaluator
             if (row.TreatmentFactors is { Count: > 1 } factors && factors.Contains(factor)
                 && row.Values.TryGetValue(Stat.P, out var p) && p.Value is { IsDefined: true } q && q.Value < alpha)
             {
-                outcome.Interactions.Add((row.Term, factors.Where(f => f != factor).ToList(), p));
+                outcome.Interactions.Add(InteractionLabels(anova, factors, factor, p));
             }
         }
+    }
+
+    /// <summary>An interaction's factors and the factors other than the compared one, by their labels.</summary>
+    private static (IReadOnlyList<string> TermLabels, IReadOnlyList<string> Others, ResultValue P) InteractionLabels(AnovaOutcome anova, IReadOnlyList<string> factors, string compared, ResultValue p)
+    {
+        string Label(string name) => anova.Factors.FirstOrDefault(f => f.Name == name)?.Display ?? name;
+        return ([.. factors.Select(Label)], [.. factors.Where(f => f != compared).Select(Label)], p);
     }
 
     internal static PostHocResult ControlOnly(PostHocResult all, string? control)
@@ -362,7 +370,7 @@ public sealed partial class PostHocEvaluator : KindEvaluator
         public readonly List<PostHocFamily> Families = [];
         public readonly List<RuleDecision> Decisions = [];
         public readonly Dictionary<string, ResultValue> Multiplicity = new(StringComparer.Ordinal);
-        public readonly List<(string Term, IReadOnlyList<string> Others, ResultValue P)> Interactions = [];
+        public readonly List<(IReadOnlyList<string> TermLabels, IReadOnlyList<string> Others, ResultValue P)> Interactions = [];
         public readonly List<FigurePlan> Figures = [];
         public AnovaRoute Route = AnovaRoute.Rows;
         public bool Adjusted;

@@ -98,7 +98,7 @@ public sealed class AnovaRenderer : KindRenderer
 
         var factors = MethodsFactorLevels(a);
         var equal = s.Cells.Select(c => c.N.Value.IsDefined ? c.N.Value.Value : -1).Distinct().Count() == 1;
-        var sizes = string.Join(", ", s.Cells.Select(c => MethodsWriter.E(c.Label) + " " + MethodsWriter.Df(c.N)));
+        var sizes = CellSizes(s.Cells);
         if (factors.Count == 1)
         {
             var f = factors[0];
@@ -111,7 +111,7 @@ public sealed class AnovaRenderer : KindRenderer
             var crossed = string.Join(" × ", factors.Select(f => MethodsWriter.E(f.Display) + " (" + MethodsWriter.List(f.Levels.Select(MethodsWriter.E)) + ")"));
             sb += equal
                 ? $", {MethodsWriter.Df(s.Cells[0].N)} in each of the {MethodsWriter.Words(s.Cells.Count)} cells of {crossed}."
-                : $" in the {MethodsWriter.Words(s.Cells.Count)} cells of {crossed}, with unequal sizes: {sizes}.";
+                : $" in the {MethodsWriter.Words(s.Cells.Count)} cells of {crossed}, with unequal sizes{(s.Cells.Count <= 6 ? ":" : string.Empty)} {sizes}.";
         }
 
         if (!MethodsWriter.Is(s.Dropped, 0))
@@ -126,6 +126,23 @@ public sealed class AnovaRenderer : KindRenderer
         }
 
         return sb;
+    }
+
+    /// <summary>
+    /// Unequal group or cell sizes for the methods text: each one by its label when there are at
+    /// most six, otherwise their range (a long list of long level names would drown the sentence;
+    /// the sizes are in the summary and anova tables).
+    /// </summary>
+    private static string CellSizes(IReadOnlyList<(string Label, ResultValue N)> cells)
+    {
+        if (cells.Count <= 6 || cells.Any(c => !c.N.Value.IsDefined))
+        {
+            return string.Join(", ", cells.Select(c => MethodsWriter.E(c.Label) + " " + MethodsWriter.Df(c.N)));
+        }
+
+        var smallest = cells.MinBy(c => c.N.Value.Value);
+        var largest = cells.MaxBy(c => c.N.Value.Value);
+        return $"from {MethodsWriter.Df(smallest.N)} to {MethodsWriter.Df(largest.N)}";
     }
 
     /// <summary>Brief: the model, α and the effect size in one sentence.</summary>

@@ -51,7 +51,7 @@ public sealed class EquivalenceRenderer : KindRenderer
             EquivalenceError.RemlModel => $"the mixed model the anova block fitted by REML: each difference is one of its estimated marginal means of {o.FactorLabel} minus another, with its standard error from the covariance of the fixed effects (which carries every variance component the difference depends on) and its own Satterthwaite df (Fai and Cornelius 1996)",
             EquivalenceError.WelchTransformed => "each pair's own two variances with Welch–Satterthwaite df (Welch), on the untransformed values, because the anova's error is on the transformed scale and the margin is in the response's units",
             _ => "each pair's own two variances with Welch–Satterthwaite df (Welch), because the check of the anova found the variances unequal"
-                + (context is not null && o.UnequalVariancesP is { IsDefined: true } bf ? " (p = " + context.Format.Format(Stat.P, bf.Value) + ")" : string.Empty),
+                + (context is not null && o.UnequalVariancesP is { IsDefined: true } bf ? " (" + ReportStyle.PText(bf.Value, context.Format) + ")" : string.Empty),
         };
     }
 

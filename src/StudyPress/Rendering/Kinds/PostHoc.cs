@@ -274,10 +274,11 @@ public sealed class PostHocRenderer : KindRenderer
             yield return "Some levels have a single observation: comparisons involving them rest entirely on the pooled variance (and are not defined for Games–Howell).";
         }
 
-        foreach (var (term, others, p) in o.Interactions)
+        foreach (var (termLabels, others, p) in o.Interactions)
         {
             var other = string.Join(" and ", others);
-            yield return $"The anova found the interaction {term} significant (p = {context.Format.Format(Stat.P, p.Value.Value)} < α = {context.AlphaText}): the effect of {o.FactorLabel} depends on {other}. These comparisons average over the levels of {other}, so a difference here may be absent, or reversed, at some level of {other}; compare the levels of {o.FactorLabel} within each level of {other} instead (for example, an anova block with 'where' restricted to one level of {other}, and its posthoc block).";
+            var term = string.Join(" × ", termLabels);
+            yield return $"The anova found the interaction {term} at α = {context.AlphaText} ({ReportStyle.PText(p.Value.Value, context.Format)}): the effect of {o.FactorLabel} depends on {other}. These comparisons average over the levels of {other}, so a difference here may be absent, or reversed, at some level of {other}; compare the levels of {o.FactorLabel} within each level of {other} instead (for example, an anova block with 'where' restricted to one level of {other}, and its posthoc block).";
         }
     }
 
