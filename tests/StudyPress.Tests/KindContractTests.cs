@@ -178,6 +178,24 @@ public sealed class KindContractTests
     }
 
     /// <summary>
+    /// Pairwise tests of a golden case (stat <c>p_adj</c> of a pair) are declared for
+    /// <c>studypress diff</c> (<see cref="KindRenderer.DiffPairTests"/>), so that a pair becoming
+    /// separated or not is reported for every kind, not only for those listed when diff was written.
+    /// </summary>
+    [Theory]
+    [MemberData(nameof(Kinds))]
+    public void PairwiseTestsAreDeclaredForDiff(string name)
+    {
+        var undeclared = GoldenValues(name)
+            .Where(v => v["stat"]!.GetValue<string>() == Stat.PAdj && v["pair"] is not null)
+            .Select(v => v["test"]!.GetValue<string>())
+            .Distinct(StringComparer.Ordinal)
+            .Where(t => !KindRenderers.All.Values.Any(r => r.DiffPairTests.ContainsKey(t)))
+            .ToList();
+        Assert.True(undeclared.Count == 0, $"the golden case of '{name}' has adjusted p-values of pairs for tests that no kind declares in DiffPairTests (Rendering/Kinds): {string.Join(", ", undeclared)}; `studypress diff` would not report their pairs becoming separated");
+    }
+
+    /// <summary>
     /// Tests with a p (stat <c>p</c> or <c>p_bonferroni</c>, no level, no pair) whose verdict
     /// <c>studypress diff</c> does not report: the list from before this check. A new kind does not
     /// add here; it declares each such test as an effect (<see cref="KindRenderer.DiffEffectTests"/>)
