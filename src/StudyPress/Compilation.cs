@@ -154,6 +154,7 @@ public static class Compilation
             Header = header,
             Datasets = datasets,
             Models = models,
+            Blocks = blocks,
             DataDisplayPaths = header.Datasets.ToDictionary(
                 d => d.Name,
                 d => string.IsNullOrEmpty(studyFolder) ? d.Path : Path.Combine(studyFolder, d.Path).Replace('\\', '/'),

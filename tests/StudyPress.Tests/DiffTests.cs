@@ -234,6 +234,54 @@ blocks: panel
         Assert.StartsWith("f › Friedman test › recipe: rejects → does not reject", effect.Description, StringComparison.Ordinal);
     }
 
+    // Conover's pairwise comparisons after a Friedman test are pairs for diff too (they were left out
+    // before each kind declared its pairwise tests). Old: five blocks rank a < b < c and one
+    // b < a < c (mean ranks 7/6, 11/6, 3); new: rankings that cancel (every mean rank 2). Invented
+    // scores; the adjusted p-values are read from the builds themselves.
+    [Fact]
+    public void FriedmanPairFlip_IsAFlippedPairDecision()
+    {
+        static string Study() => """
+---
+title: Ranked scores
+data: data/scores.csv
+response: score
+factors: [panel, recipe]
+---
+
+```friedman f
+factor: recipe
+blocks: panel
+```
+""";
+        var ordered = new System.Text.StringBuilder("panel,recipe,score\n");
+        var cancel = new System.Text.StringBuilder("panel,recipe,score\n");
+        string[][] orders = [["a", "b", "c"], ["b", "c", "a"], ["c", "a", "b"]];
+        for (var b = 0; b < 6; b++)
+        {
+            for (var j = 0; j < 3; j++)
+            {
+                var recipe = b == 5 ? "bac"[j] : "abc"[j];
+                ordered.Append(CultureInfo.InvariantCulture, $"P{b},{recipe},{j + 1 + (b * 0.1)}\n");
+                cancel.Append(CultureInfo.InvariantCulture, $"P{b},{orders[b % 3][j]},{j + 1 + (b * 0.1)}\n");
+            }
+        }
+
+        using var run = new StudyRun()
+            .File("old/study.md", Study()).File("old/data/scores.csv", ordered.ToString())
+            .File("new/study.md", Study()).File("new/data/scores.csv", cancel.ToString());
+        var r = Compare(run);
+        var key = SnapshotValue.PathKey("f", "conover", "recipe", null, ["a", "c"], "p_adj");
+        var before = r.Old.Values.Single(v => v.Key == key).Value!.Value;
+        var after = r.New.Values.Single(v => v.Key == key).Value!.Value;
+        Assert.True(before < 0.05 && after >= 0.05, $"{before} {after}");
+
+        var pair = Assert.Single(r.Decisions, d => d.Kind == DecisionKinds.Pair && d.Pair!.SequenceEqual(["a", "c"]));
+        Assert.Equal(("f", "conover", "recipe", "separated", "not separated"), (pair.Block, pair.Test, pair.Term, pair.Old, pair.New));
+        Assert.StartsWith("f › recipe › a vs c: separated → not separated (adjusted p ", pair.Description, StringComparison.Ordinal);
+        Assert.Contains(BuildComparison.Decisions(r.Old), l => l == "f › recipe › a vs c: separated (Conover)");
+    }
+
     [Fact]
     public void UnequalSpreads_SwitchProcedures_AndVerdicts()
     {

@@ -182,8 +182,69 @@ public sealed class KindContractTests
     }
 
     /// <summary>
+    /// Pairwise tests of a golden case (stat <c>p_adj</c> of a pair) are declared for
+    /// <c>studypress diff</c> (<see cref="KindRenderer.DiffPairTests"/>), so that a pair becoming
+    /// separated or not is reported for every kind, not only for those listed when diff was written.
+    /// </summary>
+    [Theory]
+    [MemberData(nameof(Kinds))]
+    public void PairwiseTestsAreDeclaredForDiff(string name)
+    {
+        var undeclared = GoldenValues(name)
+            .Where(v => v["stat"]!.GetValue<string>() == Stat.PAdj && v["pair"] is not null)
+            .Select(v => v["test"]!.GetValue<string>())
+            .Distinct(StringComparer.Ordinal)
+            .Where(t => !KindRenderers.All.Values.Any(r => r.DiffPairTests.ContainsKey(t)))
+            .ToList();
+        Assert.True(undeclared.Count == 0, $"the golden case of '{name}' has adjusted p-values of pairs for tests that no kind declares in DiffPairTests (Rendering/Kinds): {string.Join(", ", undeclared)}; `studypress diff` would not report their pairs becoming separated");
+    }
+
+    /// <summary>
+    /// Tests with a p (stat <c>p</c> or <c>p_bonferroni</c>, no level, no pair) whose verdict
+    /// <c>studypress diff</c> does not report: the list from before this check. A new kind does not
+    /// add here; it declares each such test as an effect (<see cref="KindRenderer.DiffEffectTests"/>)
+    /// or a check with its wording (<see cref="KindRenderer.DiffChecks"/>).
+    /// </summary>
+    private static readonly string[] PTestsWithoutDiffVerdict = ["mauchly"];
+
+    /// <summary>
+    /// Every verdict a golden case records is either an effect or an assumption check for
+    /// <c>studypress diff</c>, and a check kind (its main test a check, not an effect) declares
+    /// the wording of its main test in its own renderer.
+    /// </summary>
+    [Theory]
+    [MemberData(nameof(Kinds))]
+    public void VerdictsAreEffectsOrChecksWithTheirWording(string name)
+    {
+        static bool Verdict(JsonNode v) => v["stat"]!.GetValue<string>() is "p" or "p_bonferroni" && v["level"] is null && v["pair"] is null;
+        var tests = GoldenValues(name).Where(Verdict).Select(v => v["test"]!.GetValue<string>()).Distinct(StringComparer.Ordinal).ToList();
+        foreach (var test in tests)
+        {
+            var effect = KindRenderers.All.Values.Any(r => r.DiffEffectTests.ContainsKey(test));
+            var check = KindRenderers.All.Values.Where(r => r.DiffChecks.ContainsKey(test)).ToList();
+            if (PTestsWithoutDiffVerdict.Contains(test))
+            {
+                Assert.True(!effect && check.Count == 0, $"'{test}' is listed in PTestsWithoutDiffVerdict but is declared for diff: take it off the list");
+                continue;
+            }
+
+            Assert.True(effect || check.Count > 0, $"the golden case of '{name}' records a p of '{test}' that no kind declares as a diff effect (DiffEffectTests) or a check with its wording (DiffChecks)");
+            Assert.False(effect && check.Count > 0, $"'{test}' is declared both a diff effect and a check");
+            Assert.All(check.SelectMany(r => r.DiffChecks.Where(c => c.Key == test)), c => Assert.True(c.Value.Below.Length > 0 && c.Value.Above.Length > 0 && c.Value.Below != c.Value.Above, $"the check '{test}' needs two different verdict wordings"));
+        }
+
+        var main = BlockKinds.All[name].PrimaryTest;
+        if (KindRenderers.All[name].MainTestIsNotADiffEffect && tests.Contains(main) && !PTestsWithoutDiffVerdict.Contains(main))
+        {
+            Assert.True(KindRenderers.All[name].DiffChecks.ContainsKey(main), $"the kind '{name}' opts out of diff effects, so its main test '{main}' is a check: its renderer declares the wording in DiffChecks");
+        }
+    }
+
+    /// <summary>
     /// The central files name no test: result sentences and diff effects are declarations of the
     /// kinds (<see cref="KindRenderer"/>), so that a new kind does not touch these files.
+    /// <c>Comparison/BuildComparison.cs</c> names no test and no kind at all: effect, pairwise,
+    /// procedure and check tests, procedure names and check wordings are the kinds' declarations.
     /// </summary>
     [Fact]
     public void SentencesAndComparisonNameNoKindsTests()
@@ -192,9 +253,22 @@ public sealed class KindContractTests
         var named = TestName.All.Keys.Where(t => sentences.Contains($"\"{t}\"", StringComparison.Ordinal)).ToList();
         Assert.True(named.Count == 0, "Rendering/Sentences.cs names tests (a kind's renderer phrases them): " + string.Join(", ", named));
 
-        var comparison = File.ReadAllLines(Path.Combine(RepoDir, "src", "StudyPress", "Comparison", "BuildComparison.cs"));
+        var comparisonText = File.ReadAllText(Path.Combine(RepoDir, "src", "StudyPress", "Comparison", "BuildComparison.cs"));
+        var comparison = comparisonText.Split('\n');
         var listed = comparison.Where(l => (l.Contains("EffectTests =", StringComparison.Ordinal) || l.Contains("ProcedureNames =", StringComparison.Ordinal)) && !l.Contains("KindRenderers.All", StringComparison.Ordinal)).ToList();
         Assert.True(listed.Count == 0, "Comparison/BuildComparison.cs lists effect tests or procedure names itself (each kind's renderer declares them): " + string.Join("; ", listed));
+
+        var names = TestName.All.Keys.Concat(BlockKinds.Names).Distinct(StringComparer.Ordinal)
+            .Where(n => comparisonText.Contains($"\"{n}\"", StringComparison.Ordinal))
+            .ToList();
+        Assert.True(names.Count == 0, "Comparison/BuildComparison.cs names tests or kinds (each kind's renderer declares its pairwise tests, procedures and checks): " + string.Join(", ", names));
+    }
+
+    private static List<JsonNode> GoldenValues(string name)
+    {
+        var golden = Path.Combine(CasesDir, name, "golden.json");
+        Assert.True(File.Exists(golden), $"no golden values for '{name}'");
+        return [.. File.ReadLines(golden).Where(l => l.Length > 0).Select(l => JsonNode.Parse(l)!)];
     }
 
     private static IEnumerable<string> Components(JsonNode v)

@@ -117,19 +117,14 @@ public static class BuildComparison
     /// <summary>Tests whose p crossing alpha is a flipped decision on an effect, with their names in the decision lines: each kind's <see cref="KindRenderer.DiffEffectTests"/>.</summary>
     private static readonly Dictionary<string, string> EffectTests = KindRenderers.All.Values.SelectMany(r => r.DiffEffectTests).ToDictionary(StringComparer.Ordinal);
 
-    private static readonly HashSet<string> PairTests = new(StringComparer.Ordinal) { "tukey_hsd", "games_howell", "holm", "bonferroni", "dunnett", "dunn" };
+    /// <summary>Pairwise tests, with the family a pair is followed in across procedures: each kind's <see cref="KindRenderer.DiffPairTests"/>.</summary>
+    private static readonly Dictionary<string, string> PairTests = KindRenderers.All.Values.SelectMany(r => r.DiffPairTests).ToDictionary(StringComparer.Ordinal);
 
-    private static readonly HashSet<string> ProcedureTests = new(StringComparer.Ordinal) { "welch", "kruskal_wallis", "tukey_hsd", "games_howell", "holm", "bonferroni", "dunnett", "dunn" };
+    /// <summary>Tests whose presence on a term is a chosen procedure: each kind's <see cref="KindRenderer.DiffProcedureTests"/>.</summary>
+    private static readonly HashSet<string> ProcedureTests = KindRenderers.All.Values.SelectMany(r => r.DiffProcedureTests).ToHashSet(StringComparer.Ordinal);
 
-    private static readonly Dictionary<string, (string Below, string Above)> Checks = new(StringComparer.Ordinal)
-    {
-        ["shapiro_wilk"] = ("departs from normality", "consistent with normality"),
-        ["brown_forsythe"] = ("variances differ", "no evidence of unequal variances"),
-        ["levene"] = ("variances differ", "no evidence of unequal variances"),
-        ["bartlett"] = ("variances differ", "no evidence of unequal variances"),
-        ["durbin_watson"] = ("positively correlated in run order", "no evidence of serial correlation"),
-        ["outliers"] = ("an outlier flagged", "no outlier flagged"),
-    };
+    /// <summary>Assumption checks with the words of their verdicts: each kind's <see cref="KindRenderer.DiffChecks"/>.</summary>
+    private static readonly Dictionary<string, DiffCheck> Checks = KindRenderers.All.Values.SelectMany(r => r.DiffChecks).ToDictionary(StringComparer.Ordinal);
 
     /// <summary>Names of procedures in the comparison's lines: each kind's <see cref="KindRenderer.ProcedureNames"/>.</summary>
     private static readonly Dictionary<string, string> ProcedureNames = KindRenderers.All.Values.SelectMany(r => r.ProcedureNames).ToDictionary(StringComparer.Ordinal);
@@ -254,7 +249,8 @@ public static class BuildComparison
     private static Dictionary<(string Block, string Term), SortedSet<string>> Chosen(BuildSnapshot s)
     {
         var map = new Dictionary<(string, string), SortedSet<string>>();
-        foreach (var v in s.Values.Where(v => v.Term is not null && !(v.Test is "brown_forsythe" or "shapiro_wilk")))
+        // A check's values do not make their term one whose procedures are followed.
+        foreach (var v in s.Values.Where(v => v.Term is not null && !Checks.ContainsKey(v.Test)))
         {
             var key = (v.Block, v.Term!);
             if (!map.TryGetValue(key, out var set))
@@ -295,7 +291,7 @@ public static class BuildComparison
             }
 
             var below = p < alpha;
-            if (PairTests.Contains(v.Test) && v.Stat == "p_adj" && v.Pair is not null)
+            if (PairTests.ContainsKey(v.Test) && v.Stat == "p_adj" && v.Pair is not null)
             {
                 yield return $"{v.Block} › {v.Term} › {string.Join(" vs ", v.Pair)}: {(below ? "separated" : "not separated")} ({Name(v.Test)})";
             }
@@ -303,7 +299,7 @@ public static class BuildComparison
             {
                 yield return $"{v.Block} › {effect} › {v.Term}: {(below ? "rejects" : "does not reject")}";
             }
-            else if (Checks.TryGetValue(v.Test, out var words) && v.Stat is "p" or "p_bonferroni" && (v.Test != "outliers" || v.Level is null))
+            else if (Checks.TryGetValue(v.Test, out var words) && v.Stat is "p" or "p_bonferroni" && (!words.WholeTestOnly || v.Level is null))
             {
                 yield return $"{v.Block} › {v.Test}{(v.Term is null ? string.Empty : " › " + v.Term)}{(v.Level is null ? string.Empty : " (" + v.Level + ")")}: {(below ? words.Below : words.Above)}";
             }
@@ -363,8 +359,8 @@ public static class BuildComparison
     {
         // Pairs are matched across procedures of one family (means or ranks): Tukey → Games–Howell keeps the pair.
         static string? PairKey(SnapshotValue v) =>
-            PairTests.Contains(v.Test) && v.Stat == "p_adj" && v.Pair is not null
-                ? string.Join('\u001f', v.Block, v.Test == "dunn" ? "ranks" : "means", v.Term ?? string.Empty, string.Join('\u001e', v.Pair))
+            PairTests.TryGetValue(v.Test, out var family) && v.Stat == "p_adj" && v.Pair is not null
+                ? string.Join('\u001f', v.Block, family, v.Term ?? string.Empty, string.Join('\u001e', v.Pair))
                 : null;
 
         var oldPairs = new Dictionary<string, SnapshotValue>(StringComparer.Ordinal);
@@ -399,7 +395,7 @@ public static class BuildComparison
                 var (was, now) = ef ? ("rejects", "does not reject") : ("does not reject", "rejects");
                 yield return Decision(DecisionKinds.Effect, o, n, was, now, $"{n.Block} › {test} › {n.Term}: {was} → {now} the hypothesis of no effect (p {o.Text()} → {n.Text()})");
             }
-            else if (Checks.TryGetValue(n.Test, out var words) && n.Stat is "p" or "p_bonferroni" && (n.Test != "outliers" || n.Level is null) && Flip(o, n, oldAlpha, newAlpha) is { } af)
+            else if (Checks.TryGetValue(n.Test, out var words) && n.Stat is "p" or "p_bonferroni" && (!words.WholeTestOnly || n.Level is null) && Flip(o, n, oldAlpha, newAlpha) is { } af)
             {
                 var (was, now) = af ? (words.Below, words.Above) : (words.Above, words.Below);
                 yield return Decision(DecisionKinds.Assumption, o, n, was, now, $"{n.Block} › {n.Test}{(n.Term is null ? string.Empty : " › " + n.Term)}{(n.Level is null ? string.Empty : " (" + n.Level + ")")}: {was} → {now} (p {o.Text()} → {n.Text()})");

@@ -238,6 +238,13 @@ public sealed class EvaluationContext
 
     public ResultSet Results { get; } = new();
 
+    /// <summary>
+    /// Every bound block of the study, in document order: binding's record of which block reads
+    /// which (<see cref="BoundBlock.Of"/>), so that a block computes nothing no block reads
+    /// (<see cref="Kinds.AssumptionReview.Needed"/>). Null when not given: then everything is computed.
+    /// </summary>
+    public IReadOnlyList<BoundBlock>? Blocks { get; init; }
+
     /// <summary>How each dataset's path is printed in messages (relative to the working folder).</summary>
     public IReadOnlyDictionary<string, string> DataDisplayPaths { get; init; } = new Dictionary<string, string>(StringComparer.Ordinal);
 

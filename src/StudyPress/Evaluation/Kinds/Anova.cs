@@ -138,7 +138,7 @@ public sealed class AnovaOutcome(BoundBlock block) : BlockOutcome(block)
     public AssumptionReview Review
     {
         get => review ?? throw new InvalidOperationException(RowsAvailable
-            ? "the assumption checks need a fit on the rows, and this anova block has none"
+            ? "the assumption checks need a fit on the rows and a block that reads them (AssumptionReview.Needed), and this anova block has none"
             : "the assumption checks need the rows, and this anova block ran on cell statistics");
         init => review = value;
     }
@@ -283,10 +283,11 @@ public sealed partial class AnovaEvaluator : KindEvaluator
         }
 
         var means = Means(context, block, input, centre, transformed, inputs);
-        var review = AssumptionReview.Run(result, data, input, null);
+        // The whole review only when a block reads it; the block's own rule (welch: auto, one factor) reads only its rules' checks.
+        var review = AssumptionReview.Needed(block, context.Blocks) ? AssumptionReview.Run(result, data, input, null) : null;
         var decisions = new List<RuleDecision>();
         var (welch, ranks, readWelch) = data.Factors.Count == 1
-            ? OneFactorChecks(context, block, data, input, review, options, decisions, inputs)
+            ? OneFactorChecks(context, block, data, input, () => review?.Rules ?? AssumptionReview.RunRules(result, data, input), options, decisions, inputs)
             : (null, null, false);
 
         var cautions = Cautions(context, block, data, options);
@@ -320,7 +321,7 @@ public sealed partial class AnovaEvaluator : KindEvaluator
             Total = total,
             BoxCox = boxCox.AsReadOnly(),
             Means = means.AsReadOnly(),
-            Review = review,
+            Review = review!, // null when no block reads it: reading it then throws
             Decisions = decisions.AsReadOnly(),
             Welch = welch,
             Ranks = ranks,
@@ -427,7 +428,7 @@ public sealed partial class AnovaEvaluator : KindEvaluator
 
     /// <summary>Welch's F and the rank test of one factor, by the block's <c>welch</c> choice and the review; the rules' decisions go to <paramref name="decisions"/>.</summary>
     private static (IReadOnlyDictionary<string, ResultValue>? Welch, IReadOnlyDictionary<string, ResultValue>? Ranks, bool ReadWelch) OneFactorChecks(
-        EvaluationContext context, BoundBlock block, BlockData data, AnovaInput input, AssumptionReview review, AnovaKind.Options options, List<RuleDecision> decisions, IReadOnlyList<string> inputs)
+        EvaluationContext context, BoundBlock block, BlockData data, AnovaInput input, Func<AssumptionRules> rules, AnovaKind.Options options, List<RuleDecision> decisions, IReadOnlyList<string> inputs)
     {
         var factor = data.Factors[0];
         var groups = factor.Split(input.Response);
@@ -440,6 +441,7 @@ public sealed partial class AnovaEvaluator : KindEvaluator
         }
         else if (options.Welch == "auto")
         {
+            var review = rules();
             var bf = review.BrownForsythe;
             if (review.UnequalVariances)
             {

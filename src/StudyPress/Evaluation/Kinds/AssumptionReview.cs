@@ -55,6 +55,46 @@ public sealed class AssumptionReview
     /// <summary>Why normality is not checked when the model fits the data exactly.</summary>
     public const string ZeroResiduals = "every group's values are equal, so the residuals are all exactly zero and W = 0/0 is not defined";
 
+    /// <summary>The checks the automatic rules read, from this review.</summary>
+    public AssumptionRules Rules => new()
+    {
+        Normality = Normality,
+        BrownForsythe = BrownForsythe,
+        SmallestGroup = SmallestGroup,
+        Alpha = Alpha,
+    };
+
+    /// <summary>
+    /// Whether the whole review of <paramref name="anova"/> is needed, decided from the bound blocks
+    /// (<paramref name="blocks"/>; null when they are not known, and then it is): another block
+    /// analyses the anova block (<c>of:</c>, <see cref="Binding.BoundBlock.Of"/> — its assumptions
+    /// block, a posthoc block's automatic method, an equivalence test; also contrasts and marginal
+    /// means, which do not read it), or the study has a methods block, which may describe
+    /// any anova block and its checks. Otherwise no block reads the review, and the anova block's
+    /// own rules need only <see cref="Rules"/> (<see cref="RunRules"/>). The manifest records no
+    /// value of the review under the anova block itself (its assumptions and methods blocks record
+    /// them), so skipping it changes no output.
+    /// </summary>
+    public static bool Needed(Binding.BoundBlock anova, IReadOnlyList<Binding.BoundBlock>? blocks) =>
+        blocks is null || blocks.Any(b => ReferenceEquals(b.Of, anova) || b.Kind is Binding.Kinds.MethodsKind);
+
+    /// <summary>
+    /// Only the checks the anova block's automatic rules read (Shapiro–Wilk of the residuals,
+    /// Brown–Forsythe, the smallest group) of a model fitted on the rows without covariates: the
+    /// same numbers <see cref="Run(AnovaResult, BlockData, AnovaInput, CovariateAnalysis?)"/> gives, for a block whose whole review no block reads.
+    /// </summary>
+    public static AssumptionRules RunRules(AnovaResult result, BlockData data, AnovaInput input)
+    {
+        var groups = Groups(data, input.Response);
+        return new AssumptionRules
+        {
+            Normality = NormalityOf(input, null, result, groups),
+            BrownForsythe = BrownForsytheOf(groups),
+            SmallestGroup = groups.Min(g => g.Length),
+            Alpha = result.Alpha,
+        };
+    }
+
     /// <summary>
     /// The checks of a model fitted on the rows: <paramref name="result"/> (its residuals) on the
     /// selection <paramref name="data"/> with model input <paramref name="input"/>; for an analysis
@@ -62,7 +102,6 @@ public sealed class AssumptionReview
     /// </summary>
     public static AssumptionReview Run(AnovaResult result, BlockData data, AnovaInput input, CovariateAnalysis? ancova)
     {
-        var cells = data.Cells();
         // An analysis of covariance: the variance checks compare the groups' residuals from the
         // covariance model (the spread around each group's regression line), not the raw values.
         var response = ancova is null ? input.Response : result.Residuals;
@@ -72,6 +111,13 @@ public sealed class AssumptionReview
             return Run(data, input, ancova, result, TreatmentGroups(data, blocked, result.Residuals));
         }
 
+        return Run(data, input, ancova, result, Groups(data, response));
+    }
+
+    /// <summary>The model's response by cell.</summary>
+    private static List<double[]> Groups(BlockData data, double[] response)
+    {
+        var cells = data.Cells();
         var groups = new List<double[]>(cells.Count);
         // The cells hold the block's centred response already: when the model's response is that
         // array (no transform), they are the groups, with no copy.
@@ -93,8 +139,27 @@ public sealed class AssumptionReview
             groups.Add(g);
         }
 
-        return Run(data, input, ancova, result, groups);
+        return groups;
     }
+
+    /// <summary>Shapiro–Wilk of the residuals; not defined when the model fits the data exactly.</summary>
+    private static ShapiroWilkResult NormalityOf(AnovaInput input, CovariateAnalysis? ancova, AnovaResult result, List<double[]> groups)
+    {
+        // With every cell constant the cell-means model fits exactly: the residuals are exactly
+        // zero, whatever rounding leaves in their floating-point values, and W is 0/0.
+        var exactFit = ancova is null
+            ? (input.Factors.Count == 1 || input.Interactions) && groups.All(g => Statistics.Groups.IsConstant(g))
+            : result.Residuals.All(r => r == 0);
+        return exactFit
+            ? new ShapiroWilkResult(result.Residuals.Length, Quantity.Undefined(ZeroResiduals), Quantity.Undefined(ZeroResiduals), [])
+            : ShapiroWilk.Test(result.Residuals);
+    }
+
+    private static readonly Quantity OneGroup = Quantity.Undefined("there is only one group");
+
+    /// <summary>Brown–Forsythe over the groups; not defined for one group.</summary>
+    private static LeveneResult BrownForsytheOf(List<double[]> groups) =>
+        groups.Count >= 2 ? Statistics.Assumptions.BrownForsythe.Test(groups) : new LeveneResult(OneGroup, 0, 0, OneGroup);
 
     /// <summary>The residuals grouped by the crossing of the treatment factors (blocks left out), in ordinal order of the cell labels.</summary>
     private static List<double[]> TreatmentGroups(BlockData data, CovariateAnalysis ancova, double[] residuals)
@@ -109,28 +174,19 @@ public sealed class AssumptionReview
     private static AssumptionReview Run(BlockData data, AnovaInput input, CovariateAnalysis? ancova, AnovaResult result, List<double[]> groups)
     {
         var alpha = result.Alpha;
-
-        // With every cell constant the cell-means model fits exactly: the residuals are exactly
-        // zero, whatever rounding leaves in their floating-point values, and W is 0/0.
-        var exactFit = ancova is null
-            ? (input.Factors.Count == 1 || input.Interactions) && groups.All(g => Groups.IsConstant(g))
-            : result.Residuals.All(r => r == 0);
-        var normality = exactFit
-            ? new ShapiroWilkResult(result.Residuals.Length, Quantity.Undefined(ZeroResiduals), Quantity.Undefined(ZeroResiduals), [])
-            : ShapiroWilk.Test(result.Residuals);
-        LeveneResult bf, lev;
+        var normality = NormalityOf(input, ancova, result, groups);
+        var bf = BrownForsytheOf(groups);
+        LeveneResult lev;
         BartlettResult bart;
         if (groups.Count >= 2)
         {
-            bf = Statistics.Assumptions.BrownForsythe.Test(groups);
             lev = Statistics.Assumptions.Levene.Test(groups);
             bart = Statistics.Assumptions.Bartlett.Test(groups);
         }
         else
         {
-            var u = Quantity.Undefined("there is only one group");
-            bf = lev = new LeveneResult(u, 0, 0, u);
-            bart = new BartlettResult(u, 0, u);
+            lev = bf;
+            bart = new BartlettResult(OneGroup, 0, OneGroup);
         }
 
         DurbinWatsonResult? dw = null;
@@ -257,6 +313,29 @@ public sealed class AssumptionReview
 
         return positions;
     }
+}
+
+/// <summary>
+/// The checks an anova block's automatic rules read (welch: auto; a posthoc block's method: auto):
+/// normality of the residuals, equal variances (Brown–Forsythe) and the smallest group, with the
+/// verdicts at alpha as in <see cref="AssumptionReview"/>.
+/// </summary>
+public sealed class AssumptionRules
+{
+    public required ShapiroWilkResult Normality { get; init; }
+
+    public required LeveneResult BrownForsythe { get; init; }
+
+    public required int SmallestGroup { get; init; }
+
+    public required double Alpha { get; init; }
+
+    public bool NonNormal => Normality.P.IsDefined && Normality.P.Value < Alpha;
+
+    public bool UnequalVariances => BrownForsythe.P.IsDefined && BrownForsythe.P.Value < Alpha;
+
+    /// <summary>Non-normal residuals with small groups: the rank test should be run as well.</summary>
+    public bool WantsRankTest => NonNormal && SmallestGroup < AssumptionReview.SmallGroup;
 }
 
 /// <summary>Why the Durbin–Watson test of independence was not run, or not on every observation.</summary>

@@ -934,4 +934,7 @@ public sealed class AnovaRenderer : KindRenderer
     {
         ["welch"] = "Welch's F",
     }.AsReadOnly();
+
+    /// <summary>Welch's F, chosen by the rule (welch: auto) or the study.</summary>
+    public override IReadOnlyList<string> DiffProcedureTests => ["welch"];
 }

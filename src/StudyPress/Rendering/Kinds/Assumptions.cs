@@ -396,4 +396,15 @@ public sealed class AssumptionsRenderer : KindRenderer
 
     /// <summary>The main test (Shapiro–Wilk) is an assumption check: <c>studypress diff</c> reports its flips as such, not as an effect.</summary>
     public override bool MainTestIsNotADiffEffect => true;
+
+    /// <summary>The checks' verdicts in <c>studypress diff</c>; an outliers verdict is the whole test's (its levels are observations).</summary>
+    public override IReadOnlyDictionary<string, DiffCheck> DiffChecks { get; } = new Dictionary<string, DiffCheck>(StringComparer.Ordinal)
+    {
+        ["shapiro_wilk"] = new("departs from normality", "consistent with normality"),
+        ["brown_forsythe"] = new("variances differ", "no evidence of unequal variances"),
+        ["levene"] = new("variances differ", "no evidence of unequal variances"),
+        ["bartlett"] = new("variances differ", "no evidence of unequal variances"),
+        ["durbin_watson"] = new("positively correlated in run order", "no evidence of serial correlation"),
+        ["outliers"] = new("an outlier flagged", "no outlier flagged") { WholeTestOnly = true },
+    }.AsReadOnly();
 }

@@ -112,4 +112,18 @@ public sealed class FriedmanRenderer : KindRenderer
     {
         [TestName.Friedman] = "Friedman test",
     }.AsReadOnly();
+
+    /// <summary>The comparisons of mean ranks: a pair is followed from Conover's to Nemenyi's when the method changes.</summary>
+    public override IReadOnlyDictionary<string, string> DiffPairTests { get; } = new Dictionary<string, string>(StringComparer.Ordinal)
+    {
+        [TestName.Conover] = "ranks",
+        [TestName.Nemenyi] = "ranks",
+    }.AsReadOnly();
+
+    /// <inheritdoc/>
+    public override IReadOnlyDictionary<string, string> ProcedureNames { get; } = new Dictionary<string, string>(StringComparer.Ordinal)
+    {
+        [TestName.Conover] = "Conover",
+        [TestName.Nemenyi] = "Nemenyi",
+    }.AsReadOnly();
 }

@@ -76,7 +76,41 @@ public abstract class KindRenderer
     /// </summary>
     public virtual bool MainTestIsNotADiffEffect => false;
 
+    /// <summary>
+    /// Pairwise tests of this kind whose adjusted p (stat <c>p_adj</c> of a pair) crossing alpha
+    /// <c>studypress diff</c> reports as a pair becoming separated or not, each with its family: a
+    /// pair is followed across the tests of one family when the procedure changes ("means": Tukey →
+    /// Games–Howell keeps the pair). Read for every block that records the test;
+    /// <c>KindContractTests</c> fails for a golden case with an undeclared pairwise test.
+    /// </summary>
+    public virtual IReadOnlyDictionary<string, string> DiffPairTests => EmptyNames;
+
+    /// <summary>
+    /// Tests of this kind whose presence on a term is a procedure chosen for it (by the automatic
+    /// rules or the study): <c>studypress diff</c> reports a term whose set of these changed.
+    /// </summary>
+    public virtual IReadOnlyList<string> DiffProcedureTests => [];
+
+    /// <summary>
+    /// Assumption checks of this kind, with the words of their verdict on each side of alpha:
+    /// <c>studypress diff</c> reports a check whose p (stat <c>p</c> or <c>p_bonferroni</c>) crossed
+    /// alpha. Read for every block that records the test.
+    /// </summary>
+    public virtual IReadOnlyDictionary<string, DiffCheck> DiffChecks => EmptyChecks;
+
     private static readonly IReadOnlyDictionary<string, string> EmptyNames = new Dictionary<string, string>(StringComparer.Ordinal).AsReadOnly();
+
+    private static readonly IReadOnlyDictionary<string, DiffCheck> EmptyChecks = new Dictionary<string, DiffCheck>(StringComparer.Ordinal).AsReadOnly();
+}
+
+/// <summary>
+/// The verdict words of an assumption check in <c>studypress diff</c> (<see cref="KindRenderer.DiffChecks"/>):
+/// <paramref name="Below"/> when its p is below alpha, <paramref name="Above"/> otherwise.
+/// </summary>
+public sealed record DiffCheck(string Below, string Above)
+{
+    /// <summary>Only the test's value without a level is a verdict (the levels are single observations, as for outliers).</summary>
+    public bool WholeTestOnly { get; init; }
 }
 
 /// <summary>Every kind's renderer, by kind name.</summary>
@@ -104,6 +138,21 @@ public static class KindRenderers
                 if (other.ProcedureNames.Keys.FirstOrDefault(renderer.ProcedureNames.ContainsKey) is { } procedure)
                 {
                     throw new InvalidOperationException($"the kinds '{other.Kind}' and '{renderer.Kind}' both name the procedure '{procedure}'");
+                }
+
+                if (other.DiffPairTests.Keys.FirstOrDefault(renderer.DiffPairTests.ContainsKey) is { } pair)
+                {
+                    throw new InvalidOperationException($"the kinds '{other.Kind}' and '{renderer.Kind}' both declare the pairwise test '{pair}'");
+                }
+
+                if (other.DiffProcedureTests.FirstOrDefault(renderer.DiffProcedureTests.Contains) is { } chosen)
+                {
+                    throw new InvalidOperationException($"the kinds '{other.Kind}' and '{renderer.Kind}' both declare the procedure test '{chosen}'");
+                }
+
+                if (other.DiffChecks.Keys.FirstOrDefault(renderer.DiffChecks.ContainsKey) is { } check)
+                {
+                    throw new InvalidOperationException($"the kinds '{other.Kind}' and '{renderer.Kind}' both declare the check '{check}'");
                 }
             }
 

@@ -481,4 +481,17 @@ public sealed class PostHocRenderer : KindRenderer
         ["bonferroni"] = "Bonferroni",
         ["dunnett"] = "Dunnett",
     }.AsReadOnly();
+
+    /// <summary>The comparisons of means: a pair is followed across these procedures when the method changes.</summary>
+    public override IReadOnlyDictionary<string, string> DiffPairTests { get; } = new Dictionary<string, string>(StringComparer.Ordinal)
+    {
+        ["tukey_hsd"] = "means",
+        ["games_howell"] = "means",
+        ["holm"] = "means",
+        ["bonferroni"] = "means",
+        ["dunnett"] = "means",
+    }.AsReadOnly();
+
+    /// <inheritdoc/>
+    public override IReadOnlyList<string> DiffProcedureTests => ["tukey_hsd", "games_howell", "holm", "bonferroni", "dunnett"];
 }

@@ -105,4 +105,13 @@ public sealed class RanksRenderer : KindRenderer
         ["kruskal_wallis"] = "Kruskal–Wallis",
         ["dunn"] = "Dunn",
     }.AsReadOnly();
+
+    /// <summary>Dunn's comparisons of mean ranks (also run by a posthoc block's rule).</summary>
+    public override IReadOnlyDictionary<string, string> DiffPairTests { get; } = new Dictionary<string, string>(StringComparer.Ordinal)
+    {
+        ["dunn"] = "ranks",
+    }.AsReadOnly();
+
+    /// <summary>The rank test and Dunn's comparisons, also added by the anova and posthoc blocks' rules.</summary>
+    public override IReadOnlyList<string> DiffProcedureTests => ["kruskal_wallis", "dunn"];
 }
