@@ -403,10 +403,36 @@ internal static class CsvFastPath
             var pos = 0;
             while (pos < text.Length)
             {
-                var rest = text[pos..];
-                var nl = rest.IndexOf((byte)'\n');
-                var line = nl < 0 ? rest : rest[..nl];
-                pos += nl < 0 ? rest.Length : nl + 1;
+                // The line's end and its fields in one pass over its bytes (positions from the
+                // line's start; a CR before the LF ends the last field, never another: a lone CR
+                // sent the file to the general reader).
+                var lineStart = pos;
+                var count = 0;
+                var from = 0;
+                var at = pos;
+                for (; at < text.Length; at++)
+                {
+                    var b = text[at];
+                    if (b == (byte)'\n')
+                    {
+                        break;
+                    }
+
+                    if (b == delim)
+                    {
+                        if (count == expected - 1)
+                        {
+                            return false;
+                        }
+
+                        fieldStart[count] = from;
+                        fieldEnd[count++] = at - lineStart;
+                        from = at - lineStart + 1;
+                    }
+                }
+
+                var line = text[lineStart..at];
+                pos = at < text.Length ? at + 1 : at;
                 lineNo++;
                 if (line.Length > 0 && line[^1] == (byte)'\r')
                 {
@@ -416,24 +442,6 @@ internal static class CsvFastPath
                 if (line.Length > DataLimits.MaxFieldBytes)
                 {
                     return false; // a field may be too long: the general reader checks and reports
-                }
-
-                // Fields: one pass over the line's bytes.
-                var count = 0;
-                var from = 0;
-                for (var k = 0; k < line.Length; k++)
-                {
-                    if (line[k] == delim)
-                    {
-                        if (count == expected - 1)
-                        {
-                            return false;
-                        }
-
-                        fieldStart[count] = from;
-                        fieldEnd[count++] = k;
-                        from = k + 1;
-                    }
                 }
 
                 fieldStart[count] = from;
