@@ -15,12 +15,14 @@ public sealed class CsvFastPathTests
 {
     private static readonly SourceLocation At = new("study.md", 0, 0);
 
-    private static (LoadedDataset? Data, string Messages, bool Fast) Load(string csv, bool general, IReadOnlyList<string>? levels = null, char decimalMark = '.', char delimiter = ',')
+    private static (LoadedDataset? Data, string Messages, bool Fast) Load(string csv, bool general, IReadOnlyList<string>? levels = null, char decimalMark = '.', char delimiter = ',', string? order = null)
     {
         var spec = new DatasetSpec("d", "d.csv", null, delimiter, decimalMark, ["", "NA"], At, At, null);
         var needs = new DatasetNeeds();
         needs.Numeric["y"] = At;
         needs.Numeric["run"] = At;
+        needs.Order = order;
+        needs.Responses.Add("y");
         needs.Factors["group"] = (new FactorSpec("group", "group", levels, levels?.Select(_ => At).ToList() ?? [], null, At), At);
         var bag = new DiagnosticBag();
         CsvLoader.ForceGeneralPath = general;
@@ -177,5 +179,68 @@ public sealed class CsvFastPathTests
         {
             Assert.Equal(general.Numeric["y"].Centred, fast!.Numeric["y"].Centred);
         }
+    }
+
+    [Theory]
+    [InlineData("\n")]
+    [InlineData("\r\n")]
+    public void BlankLines_InBothChunksAndAtTheEnd_SameLinesAsGeneralReader(string newline)
+    {
+        // Blank lines early in chunk 1, in chunk 2 and several at the end: every row keeps its line.
+        var sb = new StringBuilder("run,group,y" + newline + newline);
+        for (var i = 0; i < 4000; i++)
+        {
+            sb.Append(CultureInfo.InvariantCulture, $"{i},{(i % 3 == 0 ? "a" : "b")},{i % 50}.{i % 7}{newline}");
+            if (i is 10 or 3100 or 3101)
+            {
+                sb.Append("  " + newline);
+            }
+        }
+
+        var csv = sb.Append(newline).Append(newline).ToString();
+        var (fast, m1, wasFast) = Load(csv, general: false);
+        var (general, m2, _) = Load(csv, general: true);
+        Assert.True(wasFast);
+        Assert.Equal(m2, m1);
+        AssertSame(general!, fast!);
+        Assert.Equal(3, fast!.Lines[0]);
+        Assert.Equal(4000 + 3 + 2, fast.Lines[3999]); // exact hand computation: header, 3 blank lines before the last row
+    }
+
+    [Fact]
+    public void TrailingBlankLines_RowsRunOnFromLineTwo()
+    {
+        var (fast, _, wasFast) = Load("run,group,y\n1,a,1.5\n2,b,2.5\n\n \n", general: false);
+        Assert.True(wasFast);
+        Assert.Equal([2, 3], fast!.Lines);
+    }
+
+    [Theory]
+    [InlineData("\n")]
+    [InlineData("\r\n")]
+    public void RunOrderColumn_ValuesParsedStraightToDoubles_SameAsGeneralReader(string newline)
+    {
+        // The run column as the order of observations only (not a response): the byte-level reader
+        // keeps its values, centre 0 and no exact values; the values are the general reader's bits.
+        var sb = new StringBuilder("run,group,y" + newline);
+        for (var i = 0; i < 5000; i++)
+        {
+            var run = i % 97 == 3 ? "NA" : (((i * 7919L) % 100_003) - 50_000).ToString(CultureInfo.InvariantCulture) + "." + (i % 10).ToString(CultureInfo.InvariantCulture) + "5";
+            sb.Append(CultureInfo.InvariantCulture, $"{run},{(i % 2 == 0 ? "a" : "b")},{i % 13}.25{newline}");
+        }
+
+        var (fast, m1, wasFast) = Load(sb.ToString(), general: false, order: "run");
+        var (general, m2, _) = Load(sb.ToString(), general: true, order: "run");
+        Assert.True(wasFast);
+        Assert.Equal(m2, m1);
+        var f = fast!.Numeric["run"];
+        var g = general!.Numeric["run"];
+        Assert.Null(f.Exact);
+        Assert.Equal(0, f.Centre);
+        Assert.Equal(g.Missing, f.Missing);
+        Assert.Equal(52, f.Missing); // exact hand computation: i % 97 == 3 for i < 5000
+        Assert.Equal(g.Values.Select(BitConverter.DoubleToInt64Bits), f.Values.Select(BitConverter.DoubleToInt64Bits));
+        Assert.Equal(f.Values.Select(BitConverter.DoubleToInt64Bits), f.Centred.Select(BitConverter.DoubleToInt64Bits));
+        Assert.Same(fast.Order, f);
     }
 }

@@ -128,6 +128,40 @@ public sealed class InputLimitsTests
     }
 
     [Fact]
+    public void Csv_LargeFileWithBlankLines_BadCellLateInTheFile_IsOneErrorAtItsLineAndColumn()
+    {
+        // 200,000 rows (over 1 MB, so the byte-level reader starts and the hash runs beside it),
+        // blank lines in the first half, one bad cell in the second: one message at the cell.
+        var csv = new StringBuilder("g,y\n");
+        var line = 1;
+        var badLine = 0;
+        for (var i = 0; i < 200_000; i++)
+        {
+            if (i is 10 or 50_000)
+            {
+                csv.Append('\n');
+                line++;
+            }
+
+            line++;
+            if (i == 170_000)
+            {
+                badLine = line;
+                csv.Append("b, 12x.5\n");
+                continue;
+            }
+
+            csv.Append(CultureInfo.InvariantCulture, $"{(i % 2 == 0 ? "a" : "b")},{i % 97}.5\n");
+        }
+
+        using var run = new StudyRun().Study(Hdr).File("data.csv", csv.ToString());
+        Assert.Equal(170_004, badLine); // exact hand computation: header, two blank lines, row 170,000 (0-based)
+        BothReaders(() => Assert.Equal(
+            string.Create(CultureInfo.InvariantCulture, $"data.csv:{badLine}:4: error: '12x.5' is not a number in column 'y'"),
+            OneError(run)));
+    }
+
+    [Fact]
     public void Header_MoreDeclaredLevelsThanTheLimit_IsAnErrorAtTheFirstOneOverIt()
     {
         var levels = string.Join(", ", Enumerable.Range(0, DataLimits.MaxLevelsPerFactor + 1).Select(i => "L" + i.ToString(CultureInfo.InvariantCulture)));

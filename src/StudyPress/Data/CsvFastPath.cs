@@ -19,7 +19,7 @@ internal static class CsvFastPath
     private const long MissingMark = long.MinValue;
     private const int MaxLevels = 32;
 
-    internal sealed record Result(int Rows, int[] Lines, List<string> Names, Dictionary<string, NumericColumn> Numeric, List<string>[] SeenNames, int[][] Codes);
+    internal sealed record Result(int Rows, LineNumbers Lines, List<string> Names, Dictionary<string, NumericColumn> Numeric, List<string>[] SeenNames, int[][] Codes);
 
     public static Result? TryLoad(DatasetSpec spec, byte[] bytes, int start, int length, DatasetNeeds needs)
     {
@@ -31,7 +31,7 @@ internal static class CsvFastPath
         }
 
         var body = bytes.AsSpan(start, length);
-        if (body.Contains((byte)'"') || HasLoneCr(body))
+        if (HasQuoteOrLoneCr(body))
         {
             return null;
         }
@@ -86,23 +86,29 @@ internal static class CsvFastPath
         }
 
         var data = body[(nl + 1)..];
-        var lineCount = data.Count((byte)'\n') + (data.Length > 0 && data[^1] != (byte)'\n' ? 1 : 0);
+
+        // Two chunks split at a line end; chunk 2 writes from the row after chunk 1's lines. Each
+        // byte is counted once: the line count is the two chunks' counts.
+        var split = data.Length / 2;
+        var cut = split < data.Length ? data[split..].IndexOf((byte)'\n') : -1;
+        var firstEnd = cut < 0 ? data.Length : split + cut + 1;
+        var unterminated = data.Length > 0 && data[^1] != (byte)'\n' ? 1 : 0;
+        var firstLines = data[..firstEnd].Count((byte)'\n') + (firstEnd == data.Length ? unterminated : 0);
+        var lineCount = firstLines + data[firstEnd..].Count((byte)'\n') + (firstEnd < data.Length ? unterminated : 0);
         if (lineCount == 0)
         {
             return null;
         }
 
-        // Two chunks split at a line end; chunk 2 writes from the row after chunk 1's lines.
-        var split = data.Length / 2;
-        var cut = split < data.Length ? data[split..].IndexOf((byte)'\n') : -1;
-        var firstEnd = cut < 0 ? data.Length : split + cut + 1;
-        var firstLines = data[..firstEnd].Count((byte)'\n') + (firstEnd == data.Length && data.Length > 0 && data[^1] != (byte)'\n' ? 1 : 0);
-
+        // Every array below is written in full for the rows it keeps (the tail past the last row,
+        // left by blank lines, is cut off), so none is zeroed first. The run-order column, when no
+        // block uses it as a response, is parsed straight to doubles (no scaled integers).
         var missing = spec.Missing.Select(m => Encoding.UTF8.GetBytes(m)).ToArray();
-        var mantissas = numericNames.Select(_ => new long[lineCount]).ToArray();
-        var codes = factorSpecs.Select(_ => new int[lineCount]).ToArray();
-        var lines = new int[lineCount];
-        var job = new Job(bytes, delimiter, mark, expected, numericSlot, factorOf, missing, mantissas, codes, lines);
+        var valuesOnly = numericNames.Select(n => n == needs.Order && !needs.Responses.Contains(n)).ToArray();
+        var mantissas = numericNames.Select((_, c) => valuesOnly[c] ? null : GC.AllocateUninitializedArray<long>(lineCount)).ToArray();
+        var doubles = numericNames.Select((_, c) => valuesOnly[c] ? GC.AllocateUninitializedArray<double>(lineCount) : null).ToArray();
+        var codes = factorSpecs.Select(_ => GC.AllocateUninitializedArray<int>(lineCount)).ToArray();
+        var job = new Job(bytes, delimiter, mark, expected, numericSlot, factorOf, missing, mantissas, doubles, codes);
         var chunks = new[]
         {
             new Chunk(start + nl + 1, firstEnd, 0, 1, numericNames.Length, factorSpecs.Length),
@@ -125,10 +131,20 @@ internal static class CsvFastPath
 
         if (a.Rows < b.FirstRow)
         {
-            Array.Copy(lines, b.FirstRow, lines, a.Rows, b.Rows);
             foreach (var m in mantissas)
             {
-                Array.Copy(m, b.FirstRow, m, a.Rows, b.Rows);
+                if (m is not null)
+                {
+                    Array.Copy(m, b.FirstRow, m, a.Rows, b.Rows);
+                }
+            }
+
+            foreach (var d in doubles)
+            {
+                if (d is not null)
+                {
+                    Array.Copy(d, b.FirstRow, d, a.Rows, b.Rows);
+                }
             }
 
             foreach (var c in codes)
@@ -184,27 +200,58 @@ internal static class CsvFastPath
             }
 
             var name = numericNames[c];
-            numeric[name] = name == needs.Order && !needs.Responses.Contains(name)
-                ? ValuesOnly(name, Trim(mantissas[c], rows), scale)
-                : Centre(name, Trim(mantissas[c], rows), scale, a.Sum[c] + b.Sum[c], a.Present[c] + b.Present[c]);
+            numeric[name] = doubles[c] is { } values
+                ? ValuesOnly(name, Trim(values, rows), a.Present[c] + b.Present[c])
+                : Centre(name, Trim(mantissas[c]!, rows), scale, a.Sum[c] + b.Sum[c], a.Present[c] + b.Present[c]);
         }
 
-        return new Result(rows, Trim(lines, rows), names, numeric, seenNames, finalCodes);
+        return new Result(rows, Lines(rows, a.Blank, b.Blank), names, numeric, seenNames, finalCodes);
+    }
+
+    /// <summary>
+    /// Row r's line from the blank lines met (in order): rows run on from line 2 (the header is
+    /// line 1) and skip each blank line. Without a blank line before the last row (the common
+    /// case; a trailing blank line is after it) that is line 2 + r, kept without an array.
+    /// </summary>
+    private static LineNumbers Lines(int rows, List<int> first, List<int> second)
+    {
+        if (first.Concat(second).All(line => line > rows + 1))
+        {
+            return LineNumbers.Sequential(2, rows);
+        }
+
+        var lines = new int[rows];
+        var blanks = first.Concat(second).GetEnumerator();
+        var nextBlank = blanks.MoveNext() ? blanks.Current : int.MaxValue;
+        var line = 2;
+        for (var r = 0; r < rows; r++, line++)
+        {
+            while (line == nextBlank)
+            {
+                line++;
+                nextBlank = blanks.MoveNext() ? blanks.Current : int.MaxValue;
+            }
+
+            lines[r] = line;
+        }
+
+        return LineNumbers.From(lines);
     }
 
     private static T[] Trim<T>(T[] values, int n) => values.Length == n ? values : values[..n];
 
-    private static bool HasLoneCr(ReadOnlySpan<byte> s)
+    /// <summary>Whether the text has a quote character or a CR not followed by LF (one pass over the bytes).</summary>
+    private static bool HasQuoteOrLoneCr(ReadOnlySpan<byte> s)
     {
-        var at = s.IndexOf((byte)'\r');
+        var at = s.IndexOfAny((byte)'"', (byte)'\r');
         while (at >= 0)
         {
-            if (at + 1 >= s.Length || s[at + 1] != (byte)'\n')
+            if (s[at] == (byte)'"' || at + 1 >= s.Length || s[at + 1] != (byte)'\n')
             {
                 return true;
             }
 
-            var next = s[(at + 1)..].IndexOf((byte)'\r');
+            var next = s[(at + 1)..].IndexOfAny((byte)'"', (byte)'\r');
             at = next < 0 ? -1 : at + 1 + next;
         }
 
@@ -239,8 +286,8 @@ internal static class CsvFastPath
         var cAligned = cUp == 0 ? cSigned : cSigned * (Int128)Pow10(cUp);
         var xUp = (Int128)Pow10(up);
 
-        var centred = new double[m.Length];
-        var raw = new double[m.Length];
+        var centred = GC.AllocateUninitializedArray<double>(m.Length);
+        var raw = GC.AllocateUninitializedArray<double>(m.Length);
         var exact = m;
         var missing = 0;
         const int Block = 1 << 16;
@@ -291,27 +338,11 @@ internal static class CsvFastPath
     /// <summary>
     /// The run-order column when no block uses it as a response: only its values are needed (the
     /// order of the observations), so it is kept with centre 0 (centred = values) and no exact values.
+    /// The parse wrote each value as <see cref="ExactValues.ToDouble(long, byte)"/> of its scaled
+    /// integer at the column's one scale (NaN when missing).
     /// </summary>
-    private static NumericColumn ValuesOnly(string name, long[] m, int scale)
-    {
-        var s = (byte)scale;
-        var raw = new double[m.Length];
-        var missing = 0;
-        for (var i = 0; i < m.Length; i++)
-        {
-            if (m[i] == MissingMark)
-            {
-                raw[i] = double.NaN;
-                missing++;
-            }
-            else
-            {
-                raw[i] = ExactValues.ToDouble(m[i], s);
-            }
-        }
-
-        return new NumericColumn(name, raw, raw, 0, missing, null);
-    }
+    private static NumericColumn ValuesOnly(string name, double[] values, int present) =>
+        new(name, values, values, 0, values.Length - present, null);
 
     private static UInt128 Pow10(int k)
     {
@@ -346,9 +377,12 @@ internal static class CsvFastPath
         public int[] Present { get; } = new int[numeric];
 
         public List<byte[]>[] Levels { get; } = [.. Enumerable.Range(0, factors).Select(_ => new List<byte[]>())];
+
+        /// <summary>1-based line numbers of the chunk's blank lines, in order.</summary>
+        public List<int> Blank { get; } = [];
     }
 
-    private sealed class Job(byte[] bytes, char delimiter, char mark, int expected, int[] numericSlot, int[] factorOf, byte[][] missing, long[][] mantissas, int[][] codes, int[] lines)
+    private sealed class Job(byte[] bytes, char delimiter, char mark, int expected, int[] numericSlot, int[] factorOf, byte[][] missing, long[]?[] mantissas, double[]?[] doubles, int[][] codes)
     {
         public bool Parse(Chunk chunk)
         {
@@ -369,10 +403,36 @@ internal static class CsvFastPath
             var pos = 0;
             while (pos < text.Length)
             {
-                var rest = text[pos..];
-                var nl = rest.IndexOf((byte)'\n');
-                var line = nl < 0 ? rest : rest[..nl];
-                pos += nl < 0 ? rest.Length : nl + 1;
+                // The line's end and its fields in one pass over its bytes (positions from the
+                // line's start; a CR before the LF ends the last field, never another: a lone CR
+                // sent the file to the general reader).
+                var lineStart = pos;
+                var count = 0;
+                var from = 0;
+                var at = pos;
+                for (; at < text.Length; at++)
+                {
+                    var b = text[at];
+                    if (b == (byte)'\n')
+                    {
+                        break;
+                    }
+
+                    if (b == delim)
+                    {
+                        if (count == expected - 1)
+                        {
+                            return false;
+                        }
+
+                        fieldStart[count] = from;
+                        fieldEnd[count++] = at - lineStart;
+                        from = at - lineStart + 1;
+                    }
+                }
+
+                var line = text[lineStart..at];
+                pos = at < text.Length ? at + 1 : at;
                 lineNo++;
                 if (line.Length > 0 && line[^1] == (byte)'\r')
                 {
@@ -384,28 +444,11 @@ internal static class CsvFastPath
                     return false; // a field may be too long: the general reader checks and reports
                 }
 
-                // Fields: one pass over the line's bytes.
-                var count = 0;
-                var from = 0;
-                for (var k = 0; k < line.Length; k++)
-                {
-                    if (line[k] == delim)
-                    {
-                        if (count == expected - 1)
-                        {
-                            return false;
-                        }
-
-                        fieldStart[count] = from;
-                        fieldEnd[count++] = k;
-                        from = k + 1;
-                    }
-                }
-
                 fieldStart[count] = from;
                 fieldEnd[count++] = line.Length;
                 if (count == 1 && AllBlank(line))
                 {
+                    chunk.Blank.Add(lineNo);
                     continue; // a blank line is not a row
                 }
 
@@ -415,7 +458,6 @@ internal static class CsvFastPath
                 }
 
                 var r = row++;
-                lines[r] = lineNo;
                 for (var f = 0; f < count; f++)
                 {
                     var c = numericSlot[f];
@@ -427,7 +469,15 @@ internal static class CsvFastPath
                     var cell = TrimAscii(line[fieldStart[f]..fieldEnd[f]]);
                     if (IsMissing(cell))
                     {
-                        mantissas[c][r] = MissingMark;
+                        if (mantissas[c] is { } mm)
+                        {
+                            mm[r] = MissingMark;
+                        }
+                        else
+                        {
+                            doubles[c]![r] = double.NaN;
+                        }
+
                         continue;
                     }
 
@@ -446,7 +496,15 @@ internal static class CsvFastPath
                         chunk.Scale[c] = sc;
                     }
 
-                    mantissas[c][r] = v;
+                    if (mantissas[c] is { } m)
+                    {
+                        m[r] = v;
+                    }
+                    else
+                    {
+                        doubles[c]![r] = ExactValues.ToDouble(v, (byte)sc);
+                    }
+
                     chunk.Sum[c] += v;
                     chunk.Present[c]++;
                 }

@@ -540,7 +540,7 @@ public static class CsvLoader
     private static LoadedDataset? Finish(
         DatasetSpec spec,
         int rows,
-        int[] lines,
+        LineNumbers lines,
         List<string> names,
         Dictionary<string, NumericColumn> numeric,
         List<string>[] seenNames,

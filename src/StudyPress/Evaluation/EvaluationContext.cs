@@ -95,12 +95,16 @@ public sealed class BlockData
             crossing = Math.Min(crossing * r, long.MaxValue / 1024);
         }
 
-        // Key -> slot through an array when the crossing is small, else a dictionary.
-        var dense = crossing <= 1 << 20 ? new int[crossing] : null;
+        var factorCodes = Factors.Select(f => f.Codes).ToArray();
+        if (crossing <= 1 << 20)
+        {
+            return DenseCells(k, radix, crossing, factorCodes);
+        }
+
+        // Key -> slot through a dictionary (a large crossing).
         var map = new Dictionary<long, int>();
         var slots = new int[Rows.Length];
         var sizes = new List<int>();
-        var factorCodes = Factors.Select(f => f.Codes).ToArray();
         for (var i = 0; i < Rows.Length; i++)
         {
             long key = 0;
@@ -109,19 +113,7 @@ public sealed class BlockData
                 key = (key * radix[f]) + factorCodes[f][i];
             }
 
-            int slot;
-            if (dense is not null)
-            {
-                slot = dense[key] - 1;
-                if (slot < 0)
-                {
-                    slot = sizes.Count;
-                    dense[key] = slot + 1;
-                    map[key] = slot;
-                    sizes.Add(0);
-                }
-            }
-            else if (!map.TryGetValue(key, out slot))
+            if (!map.TryGetValue(key, out var slot))
             {
                 slot = sizes.Count;
                 map[key] = slot;
@@ -168,7 +160,83 @@ public sealed class BlockData
 
         var order = map.OrderBy(p => p.Key).Select(p => p.Value);
         (string Label, int[] Codes, double[] Values, int[] Positions)[] sorted = [.. order.Select(slot => cells[slot])];
+        return KeepSplit(k, sorted);
+    }
 
+    /// <summary>
+    /// <see cref="ComputeCells"/> for a crossing of at most 2^20 keys: each row's key counted in an
+    /// array indexed by the key, then each row's response and position written into its cell; the
+    /// cells in key order, as the dictionary route orders them. No per-row slot array, and the
+    /// cells' arrays are written in full, so they are not zeroed first.
+    /// </summary>
+    private (string Label, int[] Codes, double[] Values, int[] Positions)[] DenseCells(int k, long[] radix, long crossing, int[][] factorCodes)
+    {
+        var n = Rows.Length;
+        var counts = new int[crossing];
+        if (k == 1)
+        {
+            foreach (var code in factorCodes[0].AsSpan(0, n))
+            {
+                counts[code]++;
+            }
+        }
+        else
+        {
+            for (var i = 0; i < n; i++)
+            {
+                counts[Key(factorCodes, radix, k, i)]++;
+            }
+        }
+
+        var cells = new List<(string Label, int[] Codes, double[] Values, int[] Positions)>();
+        var cellOf = new int[crossing];
+        for (long key = 0; key < crossing; key++)
+        {
+            if (counts[key] == 0)
+            {
+                continue;
+            }
+
+            var codes = new int[k];
+            var rest = key;
+            for (var f = k - 1; f >= 0; f--)
+            {
+                codes[f] = (int)(rest % radix[f]);
+                rest /= radix[f];
+            }
+
+            cellOf[key] = cells.Count;
+            var size = counts[key];
+            cells.Add((string.Join(" / ", codes.Select((c, j) => Factors[j].Levels[c])), codes, GC.AllocateUninitializedArray<double>(size), GC.AllocateUninitializedArray<int>(size)));
+        }
+
+        var fill = new int[cells.Count];
+        var values = cells.Select(c => c.Values).ToArray();
+        var positions = cells.Select(c => c.Positions).ToArray();
+        for (var i = 0; i < n; i++)
+        {
+            var slot = cellOf[k == 1 ? factorCodes[0][i] : Key(factorCodes, radix, k, i)];
+            var at = fill[slot]++;
+            values[slot][at] = Response[i];
+            positions[slot][at] = i;
+        }
+
+        return KeepSplit(k, [.. cells]);
+    }
+
+    private static long Key(int[][] factorCodes, long[] radix, int k, int i)
+    {
+        long key = 0;
+        for (var f = 0; f < k; f++)
+        {
+            key = (key * radix[f]) + factorCodes[f][i];
+        }
+
+        return key;
+    }
+
+    private (string Label, int[] Codes, double[] Values, int[] Positions)[] KeepSplit(int k, (string Label, int[] Codes, double[] Values, int[] Positions)[] sorted)
+    {
         // One factor: the cells are its levels in code order, so their values are the split of the
         // response by the factor (BlockFactor.Split gives these arrays instead of copying again).
         if (k == 1 && sorted.Length == Factors[0].Levels.Count)
@@ -345,7 +413,7 @@ public sealed class EvaluationContext
         var ds = Datasets[block.Data!];
         var response = block.Response is null ? null : ds.Numeric[block.Response];
         var factorCols = block.Factors.Select(f => ds.Factors[f.Name]).ToArray();
-        var rows = new int[ds.Rows];
+        var rows = GC.AllocateUninitializedArray<int>(ds.Rows); // written up to count, the rest cut off
         var count = 0;
         var dropped = 0;
         var where = block.Where.Select(w => (Column: ds.Factors[w.Factor.Name], Pass: w.Levels)).ToArray();
