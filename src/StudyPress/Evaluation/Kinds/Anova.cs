@@ -249,12 +249,32 @@ public sealed partial class AnovaEvaluator : KindEvaluator
             response = [.. t.Result.Values.Select(v => v - centre)];
         }
 
-        var input = new AnovaInput(response, factors, model.Interaction, model.SsType, context.Header.Alpha)
+        var input = new AnovaInput(response, factors, model.Interaction, model.SsType, context.Header.Alpha);
+
+        // The fit works from the cells' sufficient statistics, as on the cells route: the rows'
+        // cells (of the transformed response when there is a transform), each row's cell for the
+        // residuals, and for one factor on exact decimal data the cells' exact sums.
+        var cellOf = new int[response.Length];
+        for (var c = 0; c < cells.Count; c++)
         {
-            // Exact decimal data give exact sums of squares (one factor, untransformed response).
-            Exact = model.Transform == TransformKind.None && data.Factors.Count == 1 ? data.Exact?.AsScaled() : null,
-        };
-        if (data.Factors.Count > 1 && AnovaDesign.Check(input) is { } problem)
+            foreach (var i in cells[c].Positions)
+            {
+                cellOf[i] = c;
+            }
+        }
+
+        var exact = model.Transform == TransformKind.None && data.Factors.Count == 1 && data.Exact?.AsScaled() is { } scaled
+            ? ExactSums.Cells(scaled, cellOf, cells.Count)
+            : null;
+        var table = CellTable.FromGroups(
+            [.. data.Factors.Select(f => f.Spec)],
+            [.. data.Factors.Select(f => f.Levels)],
+            cells.Select(c => (c.Codes, transformed is null ? c.Values : Gather(response, c.Positions))),
+            centre,
+            data.DroppedMissing,
+            exact);
+        var cellInput = table.ModelInput(model, context.Header.Alpha);
+        if (CellStatisticsAnova.Check(cellInput) is { } problem)
         {
             if (problem.Kind == DesignProblemKind.EmptyCell && problem.Cell is { } cell)
             {
@@ -268,8 +288,9 @@ public sealed partial class AnovaEvaluator : KindEvaluator
             return Stopped(transformed, centre);
         }
 
-        var result = FactorialAnova.Fit(input);
-        var fit = AnovaFit.Of(result);
+        var cellFit = CellStatisticsAnova.Fit(cellInput);
+        var result = CellStatisticsAnova.OnRows(cellFit, response, cellOf);
+        var fit = AnovaFit.Of(cellFit);
         var specs = data.Factors.Select(f => f.Spec).ToList();
         var inputs = context.Inputs(block);
         var (terms, residual, total) = RecordTable(context, block, result.Terms, result.ResidualSumOfSquares, result.ResidualDf, result.ResidualMeanSquare, result.TotalSumOfSquares, result.TotalDf, inputs);
@@ -314,7 +335,7 @@ public sealed partial class AnovaEvaluator : KindEvaluator
             Input = input,
             Result = result,
             Fit = fit,
-            Cells = data.CellTable(),
+            Cells = table,
             Terms = terms,
             Residual = residual,
             Total = total,
@@ -376,6 +397,18 @@ public sealed partial class AnovaEvaluator : KindEvaluator
         total[Stat.Ss] = context.Results.Add(block.Id, TestName.Anova, "total", null, null, Stat.Ss, ssTotal, inputs);
         total[Stat.Df] = context.Results.Add(block.Id, TestName.Anova, "total", null, null, Stat.Df, dfTotal, inputs);
         return (termValues.AsReadOnly(), residual.AsReadOnly(), total.AsReadOnly());
+    }
+
+    /// <summary>The values at <paramref name="positions"/>.</summary>
+    private static double[] Gather(double[] values, int[] positions)
+    {
+        var g = new double[positions.Length];
+        for (var j = 0; j < g.Length; j++)
+        {
+            g[j] = values[positions[j]];
+        }
+
+        return g;
     }
 
     private static string DataDisplay(EvaluationContext context, BlockData data) =>
