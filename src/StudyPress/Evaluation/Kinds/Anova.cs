@@ -254,14 +254,7 @@ public sealed partial class AnovaEvaluator : KindEvaluator
         // The fit works from the cells' sufficient statistics, as on the cells route: the rows'
         // cells (of the transformed response when there is a transform), each row's cell for the
         // residuals, and for one factor on exact decimal data the cells' exact sums.
-        var cellOf = new int[response.Length];
-        for (var c = 0; c < cells.Count; c++)
-        {
-            foreach (var i in cells[c].Positions)
-            {
-                cellOf[i] = c;
-            }
-        }
+        var cellOf = CellOf(data, cells);
 
         var exact = model.Transform == TransformKind.None && data.Factors.Count == 1 && data.Exact?.AsScaled() is { } scaled
             ? ExactSums.Cells(scaled, cellOf, cells.Count)
@@ -397,6 +390,29 @@ public sealed partial class AnovaEvaluator : KindEvaluator
         total[Stat.Ss] = context.Results.Add(block.Id, TestName.Anova, "total", null, null, Stat.Ss, ssTotal, inputs);
         total[Stat.Df] = context.Results.Add(block.Id, TestName.Anova, "total", null, null, Stat.Df, dfTotal, inputs);
         return (termValues.AsReadOnly(), residual.AsReadOnly(), total.AsReadOnly());
+    }
+
+    /// <summary>
+    /// Each selected row's cell (its position in <paramref name="cells"/>). One factor with every
+    /// level present: the cells are the levels in code order, so the factor's codes are the cells.
+    /// </summary>
+    private static int[] CellOf(BlockData data, IReadOnlyList<(string Label, int[] Codes, double[] Values, int[] Positions)> cells)
+    {
+        if (data.Factors.Count == 1 && cells.Count == data.Factors[0].Levels.Count)
+        {
+            return data.Factors[0].Codes;
+        }
+
+        var cellOf = new int[data.Rows.Length];
+        for (var c = 0; c < cells.Count; c++)
+        {
+            foreach (var i in cells[c].Positions)
+            {
+                cellOf[i] = c;
+            }
+        }
+
+        return cellOf;
     }
 
     /// <summary>The values at <paramref name="positions"/>.</summary>
