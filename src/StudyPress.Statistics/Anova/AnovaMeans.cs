@@ -189,7 +189,8 @@ public static class AnovaMeans
         return new FactorMeans(fc.Name, levels);
     }
 
-    private static double MainEffect(DesignCoding coding, double[] b, int f, int u, int levels)
+    /// <summary>α of used level <paramref name="u"/> of factor <paramref name="f"/> (the last used level: minus the sum of the others).</summary>
+    internal static double MainEffect(DesignCoding coding, double[] b, int f, int u, int levels)
     {
         var start = coding.TermStart[f]; // main effects come first, in factor order
         if (u < levels - 1)

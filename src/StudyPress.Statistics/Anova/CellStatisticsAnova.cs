@@ -284,6 +284,85 @@ public static class CellStatisticsAnova
     }
 
     /// <summary>
+    /// Every factor's level means from the cells, in level order: the count, the raw mean (the
+    /// level's cells pooled, Σ n_c m_c / Σ n_c with a correction pass, as the grand mean) and the
+    /// least-squares mean μ + α_l from the fit's coefficients under sum-to-zero coding, as
+    /// <see cref="AnovaMeans"/> defines it (for one factor the raw mean). A level without cells
+    /// has count 0 and undefined means; a design that cannot be fitted leaves the least-squares
+    /// means undefined with the reason.
+    /// </summary>
+    public static IReadOnlyList<FactorMeans> LevelMeans(CellAnovaInput input)
+    {
+        ArgumentNullException.ThrowIfNull(input);
+        var problem = Check(input, out var cells, out var coding, out var qr);
+        double[]? b = null;
+        if (problem is null && coding is not null)
+        {
+            var (_, y) = Weighted(coding, cells);
+            b = qr!.Coefficients(qr.Effects(y));
+        }
+
+        var notFitted = Quantity.Undefined(problem?.Message ?? "the model could not be fitted");
+        var none = Quantity.Undefined("the level has no observations");
+        var factors = new List<FactorMeans>(input.Factors.Count);
+        for (var f = 0; f < input.Factors.Count; f++)
+        {
+            var factor = input.Factors[f];
+            var levels = new List<LevelMean>(factor.Levels.Count);
+            for (var l = 0; l < factor.Levels.Count; l++)
+            {
+                long n = 0;
+                double sum = 0;
+                foreach (var c in cells)
+                {
+                    if (c.Levels[f] == l)
+                    {
+                        n += c.Count;
+                        sum += c.Count * c.Mean;
+                    }
+                }
+
+                if (n == 0)
+                {
+                    levels.Add(new LevelMean(factor.Levels[l], 0, none, none));
+                    continue;
+                }
+
+                var mean = sum / n;
+                double corr = 0;
+                foreach (var c in cells)
+                {
+                    if (c.Levels[f] == l)
+                    {
+                        corr += c.Count * (c.Mean - mean);
+                    }
+                }
+
+                var raw = Quantity.Of(mean + (corr / n));
+                Quantity ls;
+                if (problem is not null)
+                {
+                    ls = notFitted;
+                }
+                else if (b is null)
+                {
+                    ls = raw;
+                }
+                else
+                {
+                    ls = Quantity.Of(b[0] + AnovaMeans.MainEffect(coding!, b, f, coding!.UsedIndexOf[f][l], coding.Used[f].Length));
+                }
+
+                levels.Add(new LevelMean(factor.Levels[l], checked((int)n), raw, ls));
+            }
+
+            factors.Add(new FactorMeans(factor.Name, levels));
+        }
+
+        return factors;
+    }
+
+    /// <summary>
     /// Estimated marginal means of <paramref name="terms"/> (null: every term) from cell statistics,
     /// on the residual mean square and df: the same coefficients and (X'X)⁻¹ as the fit on the rows
     /// (the weighted cell design has the rows' cross-products), so the same means, covariances and

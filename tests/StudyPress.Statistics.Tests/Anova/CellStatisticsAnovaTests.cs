@@ -251,6 +251,43 @@ public sealed class CellStatisticsAnovaTests
         Accuracy.AssertLre(r.Terms[0].F.Value, Cert("f_statistic"), 14.5, name + " F (NIST StRD certified)");
     }
 
+    /// <summary>
+    /// The level means from the cells are those from the rows (<see cref="AnovaMeans.Compute"/>):
+    /// counts equal, raw and least-squares means to 1e-12 relative (JAHANMI2, unbalanced subset,
+    /// two and three factors, with and without interactions).
+    /// </summary>
+    [Theory]
+    [InlineData(new[] { "lab" }, false)]
+    [InlineData(new[] { "table_speed_x1", "batch" }, true)]
+    [InlineData(new[] { "table_speed_x1", "batch" }, false)]
+    [InlineData(new[] { "table_speed_x1", "down_feed_rate_x2", "batch" }, true)]
+    public void LevelMeans_MatchTheRowMeans(string[] factors, bool interactions)
+    {
+        var input = FactorialTestData.JahanmiInput(factors, interactions, SumOfSquaresType.Hierarchical, FactorialTestData.UnbalancedRow);
+        var rows = AnovaMeans.Compute(input).Factors;
+        var cells = CellStatisticsAnova.LevelMeans(CellsOf(input));
+        Assert.Equal(rows.Count, cells.Count);
+        for (var f = 0; f < rows.Count; f++)
+        {
+            Assert.Equal(rows[f].Factor, cells[f].Factor);
+            Assert.Equal(rows[f].Levels.Count, cells[f].Levels.Count);
+            for (var l = 0; l < rows[f].Levels.Count; l++)
+            {
+                var a = rows[f].Levels[l];
+                var b = cells[f].Levels[l];
+                Assert.Equal(a.Level, b.Level);
+                Assert.Equal(a.Count, b.Count);
+                Assert.Equal(a.RawMean.IsDefined, b.RawMean.IsDefined);
+                if (a.RawMean.IsDefined)
+                {
+                    // The means are centred near zero: compare on the scale of the response's spread.
+                    Assert.True(Math.Abs(a.RawMean.Value - b.RawMean.Value) <= 1e-12 * 100, a.Level + " raw mean");
+                    Assert.True(Math.Abs(a.LeastSquaresMean.Value - b.LeastSquaresMean.Value) <= 1e-12 * 100, a.Level + " least-squares mean");
+                }
+            }
+        }
+    }
+
     [Fact]
     public void Fit_RejectsDuplicateCells()
     {

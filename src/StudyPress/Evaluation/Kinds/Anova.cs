@@ -296,7 +296,7 @@ public sealed partial class AnovaEvaluator : KindEvaluator
             boxCox[Stat.LambdaHigh] = context.Results.Add(block.Id, TestName.BoxCox, null, null, null, Stat.LambdaHigh, bc.LambdaHigh, inputs);
         }
 
-        var means = Means(context, block, input, centre, transformed, inputs);
+        var means = Means(context, block, cellInput, centre, transformed, inputs);
         var review = AssumptionReview.Run(result, data, input, null);
         var decisions = new List<RuleDecision>();
         var (welch, ranks, readWelch) = data.Factors.Count == 1
@@ -437,11 +437,11 @@ public sealed partial class AnovaEvaluator : KindEvaluator
         _ => "positive",
     };
 
-    private static List<(string Factor, string Level, IReadOnlyDictionary<string, ResultValue> Values)> Means(EvaluationContext context, BoundBlock block, AnovaInput input, double centre, TransformedResponse? transformed, IReadOnlyList<string> inputs)
+    /// <summary>The level means (and with several factors the least-squares means), from the cells the model was fitted from.</summary>
+    private static List<(string Factor, string Level, IReadOnlyDictionary<string, ResultValue> Values)> Means(EvaluationContext context, BoundBlock block, CellAnovaInput input, double centre, TransformedResponse? transformed, IReadOnlyList<string> inputs)
     {
         var rows = new List<(string Factor, string Level, IReadOnlyDictionary<string, ResultValue> Values)>();
-        var means = AnovaMeans.Compute(input);
-        foreach (var fm in means.Factors)
+        foreach (var fm in CellStatisticsAnova.LevelMeans(input))
         {
             foreach (var lm in fm.Levels)
             {
