@@ -34,7 +34,7 @@ public static class BuildCache
     /// </summary>
     public static string ToolBuild { get; } = string.Join(
         "+",
-        new[] { typeof(Compilation), typeof(Statistics.Anova.OneWayAnova), typeof(Charts.Chart) }
+        new[] { typeof(Compilation), typeof(Statistics.Anova.FactorialAnova), typeof(Charts.Chart) }
             .Select(t => t.Assembly.ManifestModule.ModuleVersionId.ToString("N")));
 
     /// <summary>The cache entry file for a study whose report goes to <paramref name="outputPath"/>.</summary>

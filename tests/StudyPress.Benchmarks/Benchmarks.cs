@@ -46,7 +46,7 @@ public class Engine
     }
 
     [Benchmark]
-    public AnovaResult OneWay() => OneWayAnova.Fit(response, factor, 0.05);
+    public AnovaResult OneWay() => FactorialAnova.Fit(new AnovaInput(response, [factor], false, SumOfSquaresType.Sequential, 0.05));
 
     [Benchmark]
     public ShapiroWilkResult ShapiroWilk5000() => ShapiroWilk.Test(sample);

@@ -153,18 +153,24 @@ public static class AnovaDesign
         var qr = HouseholderQr.Factor(coding.WeightedCellRows, coding.AllColumns);
         if (!qr.IsFullRank)
         {
-            var t = coding.TermOfColumn(qr.FirstAliasedColumn);
-            var name = t < 0 ? "the intercept" : coding.TermNames[t];
-            return new DesignProblem(
-                DesignProblemKind.RankDeficient,
-                "the effects of '" + name + "' cannot be separated from those of the terms before it (the design is rank deficient: some combinations of levels are missing or confounded)",
-                null,
-                t < 0 ? null : coding.TermNames[t]);
+            return RankDeficient(coding, qr);
         }
 
         fittedCoding = coding;
         fittedQr = qr;
         return null;
+    }
+
+    /// <summary>The problem of a rank-deficient coding: the first term whose columns its QR found aliased.</summary>
+    internal static DesignProblem RankDeficient(DesignCoding coding, HouseholderQr qr)
+    {
+        var t = coding.TermOfColumn(qr.FirstAliasedColumn);
+        var name = t < 0 ? "the intercept" : coding.TermNames[t];
+        return new DesignProblem(
+            DesignProblemKind.RankDeficient,
+            "the effects of '" + name + "' cannot be separated from those of the terms before it (the design is rank deficient: some combinations of levels are missing or confounded)",
+            null,
+            t < 0 ? null : coding.TermNames[t]);
     }
 
     /// <summary>

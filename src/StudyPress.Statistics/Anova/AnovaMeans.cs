@@ -32,6 +32,11 @@ public sealed record MeansTable(double GrandMean, IReadOnlyList<FactorMeans> Fac
 /// intercept and f's main effect (Searle, Speed and Milliken 1980, "Population marginal means in
 /// the linear model", The American Statistician 34, 216-221). The alpha of the last used level is
 /// minus the sum of the others.
+/// <para>
+/// The compiler's anova block takes its level means from the cells it fits
+/// (<see cref="CellStatisticsAnova.LevelMeans"/>); <see cref="Compute"/> on rows stays as the
+/// reference those means are tested against, with the cell means of every cell of the crossing.
+/// </para>
 /// </summary>
 public static class AnovaMeans
 {
@@ -189,7 +194,8 @@ public static class AnovaMeans
         return new FactorMeans(fc.Name, levels);
     }
 
-    private static double MainEffect(DesignCoding coding, double[] b, int f, int u, int levels)
+    /// <summary>α of used level <paramref name="u"/> of factor <paramref name="f"/> (the last used level: minus the sum of the others).</summary>
+    internal static double MainEffect(DesignCoding coding, double[] b, int f, int u, int levels)
     {
         var start = coding.TermStart[f]; // main effects come first, in factor order
         if (u < levels - 1)

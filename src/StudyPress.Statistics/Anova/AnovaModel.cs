@@ -33,7 +33,7 @@ public sealed record AnovaInput(
 {
     /// <summary>
     /// The response's exact decimal values (same order), when known and untransformed; one-factor
-    /// models then compute their sums of squares exactly (<see cref="ExactSums.OneWay"/>).
+    /// models then compute their sums of squares exactly (<see cref="ExactSums.OneWay(ScaledIntegers, int[], int)"/>).
     /// </summary>
     public ScaledIntegers? Exact { get; init; }
 }
@@ -70,11 +70,4 @@ public sealed record AnovaResult(
     double[] Residuals,
     IReadOnlyList<double> Leverages,
     SumOfSquaresType SsType,
-    double Alpha)
-{
-    /// <summary>
-    /// The response's exact decimal values (same order), when known and untransformed; one-factor
-    /// models then compute their sums of squares exactly (<see cref="ExactSums.OneWay"/>).
-    /// </summary>
-    public ScaledIntegers? Exact { get; init; }
-}
+    double Alpha);

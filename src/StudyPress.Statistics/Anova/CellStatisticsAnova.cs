@@ -10,6 +10,46 @@ public sealed record CellStatistics(int[] Levels, long Count, double Mean, doubl
 {
     /// <summary>The unbiased within-cell variance SS/(n - 1); NaN for fewer than two observations.</summary>
     public double Variance => Count > 1 ? SumOfSquares / (Count - 1) : double.NaN;
+
+    /// <summary>
+    /// The statistics of one cell's values (centred): the mean by a corrected two-pass sum (the
+    /// second pass adds the mean of the first pass's deviations) and the sum of squared deviations
+    /// from it, less the square of their sum over n (zero in exact arithmetic; it removes what
+    /// rounding left in the mean). The one summary of rows that the fits use.
+    /// </summary>
+    public static CellStatistics Of(int[] levels, ReadOnlySpan<double> values)
+    {
+        ArgumentNullException.ThrowIfNull(levels);
+        var n = values.Length;
+        if (n == 0)
+        {
+            return new CellStatistics([.. levels], 0, 0, 0);
+        }
+
+        double sum = 0;
+        foreach (var v in values)
+        {
+            sum += v;
+        }
+
+        var mean = sum / n;
+        double corr = 0;
+        foreach (var v in values)
+        {
+            corr += v - mean;
+        }
+
+        mean += corr / n;
+        double ss = 0, dev = 0;
+        foreach (var v in values)
+        {
+            var d = v - mean;
+            ss += d * d;
+            dev += d;
+        }
+
+        return new CellStatistics([.. levels], n, mean, Math.Max(ss - (dev * dev / n), 0));
+    }
 }
 
 /// <summary>A factor of a cell-statistics design: its name and levels (the cells' codes index them).</summary>
@@ -21,12 +61,23 @@ public sealed record CellAnovaInput(
     IReadOnlyList<CellStatistics> Cells,
     bool Interactions,
     SumOfSquaresType SsType,
-    double Alpha);
+    double Alpha)
+{
+    /// <summary>
+    /// The cells' exact decimal sums (one entry per cell of <see cref="Cells"/>, same order), when
+    /// the response was exact decimal text: a one-factor model then computes its three sums of
+    /// squares exactly and rounds them once (<see cref="ExactSums.OneWay(ExactCellSums)"/>).
+    /// Ignored with two or more factors.
+    /// </summary>
+    public ExactCellSums? Exact { get; init; }
+}
 
 /// <summary>
 /// An ANOVA table computed from cell statistics: the same terms, residual and total rows as
-/// <see cref="AnovaResult"/>, and the fitted value of each cell (in the order of the input cells)
-/// instead of per-observation fitted values and residuals, which need the rows.
+/// <see cref="AnovaResult"/>, and the fitted value and leverage (hat-matrix diagonal of one of its
+/// observations) of each cell with observations, in the order of the input cells, instead of
+/// per-observation fitted values and residuals, which need the rows
+/// (<see cref="CellStatisticsAnova.OnRows"/> gives those).
 /// </summary>
 public sealed record CellAnovaResult(
     IReadOnlyList<AnovaTerm> Terms,
@@ -38,12 +89,16 @@ public sealed record CellAnovaResult(
     long Count,
     double GrandMean,
     double[] FittedCellMeans,
+    double[] CellLeverages,
     SumOfSquaresType SsType,
     double Alpha);
 
 /// <summary>
-/// Fixed-effects ANOVA from per-cell counts, means and within-cell sums of squares, giving exactly
-/// (up to rounding) the table <see cref="FactorialAnova.Fit"/> gives on the rows themselves.
+/// Fixed-effects ANOVA from per-cell counts, means and within-cell sums of squares: the one fit of
+/// every fixed-effects table without covariates, whether the cells were summarised from rows
+/// (<see cref="FactorialAnova.Fit"/>, the compiler's rows route) or computed by a database
+/// (<c>aggregate: true</c>). What needs the rows (residuals) follows from the fitted cells
+/// (<see cref="OnRows"/>); the fit itself costs O(cells × p²), whatever the number of rows.
 /// <para>
 /// Why it is exact: every column of the sum-to-zero design (<see cref="AnovaDesign"/>) is constant
 /// within a cell, so the rows' response splits into the cell means (in the column space of the
@@ -54,8 +109,11 @@ public sealed record CellAnovaResult(
 /// weighted cell design (never the normal equations), exactly as the row fit is. The residual SS is
 /// Σ within-cell SS + the weighted lack of fit Σ n_c (m_c − fitted_c)² (zero for the full
 /// interaction model); the total SS is Σ within-cell SS + Σ n_c (m_c − grand mean)².
-/// One factor: SS_between = Σ n_i (m_i − m)², SS_within = Σ within-cell SS, as
-/// <see cref="OneWayAnova"/>. SS types 1, 2 and 3 as <see cref="FactorialAnova"/>.
+/// One factor: SS_between = Σ n_i (m_i − m)², SS_within = Σ within-cell SS (the numerically best
+/// route for one factor: centred means by corrected two-pass sums; NIST/SEMATECH e-Handbook of
+/// Statistical Methods, section 7.4.3); with the cells' exact decimal sums
+/// (<see cref="CellAnovaInput.Exact"/>) the three sums of squares are exact, rounded once, and
+/// reach every certified digit of the NIST StRD ANOVA sets. SS types 1, 2 and 3: <see cref="SumOfSquaresTypes"/>.
 /// (Searle 1987, Linear Models for Unbalanced Data, ch. 4 and 8.)
 /// </para>
 /// <para>
@@ -106,6 +164,13 @@ public static class CellStatisticsAnova
         var totalDf = checked((int)(nTotal - 1));
         if (input.Factors.Count == 1)
         {
+            if (input.Exact is { } exact && ExactSums.OneWay(exact) is { } sums)
+            {
+                between = sums.Between;
+                within = sums.Within;
+                ssTotal = sums.Total;
+            }
+
             var k = cells.Count;
             var dfWithin = checked((int)(nTotal - k));
             var term = AnovaTable.Term(input.Factors[0].Name, [input.Factors[0].Name], between, k - 1, within, dfWithin, ssTotal, input.Alpha);
@@ -119,6 +184,7 @@ public static class CellStatisticsAnova
                 nTotal,
                 grand,
                 [.. cells.Select(c => c.Mean)],
+                [.. cells.Select(c => 1.0 / c.Count)],
                 input.SsType,
                 input.Alpha);
         }
@@ -149,13 +215,18 @@ public static class CellStatisticsAnova
                 input.Alpha));
         }
 
-        // Fitted cell means: Q applied to the first p effects, divided by the weight.
+        // Fitted cell means: Q applied to the first p effects, divided by the weight. Leverages: the
+        // weighted rows' hat diagonal is n_c x_c'(X'X)⁻¹x_c (their X'X is the rows'), so one
+        // observation's is that over n_c.
         var fitted = new double[effects.Length];
         Array.Copy(effects, fitted, p);
         qr.ApplyQ(fitted);
-        for (var i = 0; i < fitted.Length; i++)
+        var hat = qr.HatDiagonal();
+        var leverages = new double[cells.Count];
+        for (var i = 0; i < cells.Count; i++)
         {
             fitted[i] /= Math.Sqrt(cells[i].Count);
+            leverages[i] = hat[i] / cells[i].Count;
         }
 
         return new CellAnovaResult(
@@ -168,8 +239,127 @@ public static class CellStatisticsAnova
             nTotal,
             grand,
             fitted,
+            leverages,
             input.SsType,
             input.Alpha);
+    }
+
+    /// <summary>
+    /// The fit on the rows it summarises: per-observation fitted values and leverages (their cell's,
+    /// read through <paramref name="cellOf"/>, not stored per observation) and residuals
+    /// y − fitted, in the order of <paramref name="response"/>. <paramref name="cellOf"/>[i] is the
+    /// position of observation i's cell among the cells with observations, in input order (the
+    /// order of <see cref="CellAnovaResult.FittedCellMeans"/>); <paramref name="response"/> is on
+    /// the cells' (centred) scale.
+    /// </summary>
+    public static AnovaResult OnRows(CellAnovaResult fit, double[] response, int[] cellOf)
+    {
+        ArgumentNullException.ThrowIfNull(fit);
+        ArgumentNullException.ThrowIfNull(response);
+        ArgumentNullException.ThrowIfNull(cellOf);
+        if (cellOf.Length != response.Length || response.Length != fit.Count)
+        {
+            throw new ArgumentException("the rows are not those the cells summarise", nameof(response));
+        }
+
+        var means = fit.FittedCellMeans;
+        var residuals = new double[response.Length];
+        for (var i = 0; i < response.Length; i++)
+        {
+            residuals[i] = response[i] - means[cellOf[i]];
+        }
+
+        return new AnovaResult(
+            fit.Terms,
+            fit.ResidualSumOfSquares,
+            fit.ResidualDf,
+            fit.ResidualMeanSquare,
+            fit.TotalSumOfSquares,
+            fit.TotalDf,
+            new CodedValues(means, cellOf),
+            residuals,
+            new CodedValues(fit.CellLeverages, cellOf),
+            fit.SsType,
+            fit.Alpha);
+    }
+
+    /// <summary>
+    /// Every factor's level means from the cells, in level order: the count, the raw mean (the
+    /// level's cells pooled, Σ n_c m_c / Σ n_c with a correction pass, as the grand mean) and the
+    /// least-squares mean μ + α_l from the fit's coefficients under sum-to-zero coding, as
+    /// <see cref="AnovaMeans"/> defines it (for one factor the raw mean). A level without cells
+    /// has count 0 and undefined means; a design that cannot be fitted leaves the least-squares
+    /// means undefined with the reason.
+    /// </summary>
+    public static IReadOnlyList<FactorMeans> LevelMeans(CellAnovaInput input)
+    {
+        ArgumentNullException.ThrowIfNull(input);
+        var problem = Check(input, out var cells, out var coding, out var qr);
+        double[]? b = null;
+        if (problem is null && coding is not null)
+        {
+            var (_, y) = Weighted(coding, cells);
+            b = qr!.Coefficients(qr.Effects(y));
+        }
+
+        var notFitted = Quantity.Undefined(problem?.Message ?? "the model could not be fitted");
+        var none = Quantity.Undefined("the level has no observations");
+        var factors = new List<FactorMeans>(input.Factors.Count);
+        for (var f = 0; f < input.Factors.Count; f++)
+        {
+            var factor = input.Factors[f];
+            var levels = new List<LevelMean>(factor.Levels.Count);
+            for (var l = 0; l < factor.Levels.Count; l++)
+            {
+                long n = 0;
+                double sum = 0;
+                foreach (var c in cells)
+                {
+                    if (c.Levels[f] == l)
+                    {
+                        n += c.Count;
+                        sum += c.Count * c.Mean;
+                    }
+                }
+
+                if (n == 0)
+                {
+                    levels.Add(new LevelMean(factor.Levels[l], 0, none, none));
+                    continue;
+                }
+
+                var mean = sum / n;
+                double corr = 0;
+                foreach (var c in cells)
+                {
+                    if (c.Levels[f] == l)
+                    {
+                        corr += c.Count * (c.Mean - mean);
+                    }
+                }
+
+                var raw = Quantity.Of(mean + (corr / n));
+                Quantity ls;
+                if (problem is not null)
+                {
+                    ls = notFitted;
+                }
+                else if (b is null)
+                {
+                    ls = raw;
+                }
+                else
+                {
+                    ls = Quantity.Of(b[0] + AnovaMeans.MainEffect(coding!, b, f, coding!.UsedIndexOf[f][l], coding.Used[f].Length));
+                }
+
+                levels.Add(new LevelMean(factor.Levels[l], checked((int)n), raw, ls));
+            }
+
+            factors.Add(new FactorMeans(factor.Name, levels));
+        }
+
+        return factors;
     }
 
     /// <summary>
@@ -233,10 +423,26 @@ public static class CellStatisticsAnova
         var problem = AnovaDesign.Check(cellInput, out coding, out var cellQr);
         if (problem is { Kind: DesignProblemKind.TooFewObservations })
         {
-            var p = DesignCoding.Build(cellInput).ColumnCount;
-            return n < p
-                ? problem with { Message = FormattableString.Invariant($"the model has {p} parameters but there are only {n} observations") }
-                : new DesignProblem(DesignProblemKind.RankDeficient, FormattableString.Invariant($"the model has {p} parameters but the data fill only {cells.Count} cells, so the effects cannot be separated (the design is rank deficient: some combinations of levels are missing)"), null, null);
+            // Fewer cells than parameters: too few observations when n < p, as on the rows; else the
+            // rank decision the rows' QR makes (the weighted cell rows padded to p rows).
+            var full = DesignCoding.Build(cellInput);
+            var p = full.ColumnCount;
+            if (n < p)
+            {
+                return problem with { Message = FormattableString.Invariant($"the model has {p} parameters but there are only {n} observations") };
+            }
+
+            var (weighted, _) = Weighted(full, cells);
+            var padded = new double[p, p];
+            for (var i = 0; i < cells.Count; i++)
+            {
+                for (var j = 0; j < p; j++)
+                {
+                    padded[i, j] = weighted[i, j];
+                }
+            }
+
+            return AnovaDesign.RankDeficient(full, HouseholderQr.Factor(padded, full.AllColumns));
         }
 
         if (problem is not null)

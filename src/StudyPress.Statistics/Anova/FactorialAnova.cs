@@ -1,31 +1,14 @@
 namespace StudyPress.Statistics.Anova;
 
 /// <summary>
-/// Fixed-effects ANOVA for any number of factors. One factor goes through <see cref="OneWayAnova"/>
-/// (group means, most accurate); several factors are fitted by least squares on the full-rank
-/// sum-to-zero coding of <see cref="AnovaDesign"/>, using a Householder QR factorisation
-/// (never the normal equations), which keeps the accuracy of the data's own conditioning.
-/// <para>
-/// Sums of squares, for a term t with columns X_t (computed by <see cref="SumOfSquaresTypes"/>,
-/// shared with <see cref="CellStatisticsAnova"/>; Searle 1987, Linear Models for Unbalanced Data,
-/// ch. 4 and 8; Chambers 1977, Computational Methods for Data Analysis, ch. 5):
-/// Sequential (type 1): R(t | terms before t) = the squared entries of the effects vector Q'y for
-/// t's columns, with the columns in term order (successive reductions in residual SS).
-/// Hierarchical (type 2): R(t | every term not containing t) = RSS(M0) - RSS(M0 + t), where M0 holds
-/// the intercept and every other term whose factors do not include all of t's.
-/// Marginal (type 3): R(t | every other term) under sum-to-zero coding = RSS(full model without
-/// t's columns) - RSS(full model).
-/// Types 2 and 3 are computed from a QR of the columns reordered so that t comes last after the
-/// terms it is adjusted for; the squared effects of t's columns give the reduction without
-/// subtracting two residual sums of squares.
-/// </para>
-/// <para>
-/// Every observation of a cell has the same design row, so the QR is that of the distinct rows
-/// weighted by the square roots of the cell counts (a cells x p problem with the same X'X and X'y),
-/// and RSS = SS_within (within-cell corrected two-pass sums) + the aggregated residual. Fitted
-/// values and leverages are per cell. This is the same least-squares fit, still by QR (never the
-/// normal equations), without the n x p matrix.
-/// </para>
+/// Fixed-effects ANOVA of rows, for any number of factors: the rows are summarised per cell
+/// (count, mean and within-cell sum of squares, <see cref="CellStatistics.Of"/>; for one factor
+/// with exact decimal data also the cells' exact sums) and the model is fitted from those cells by
+/// <see cref="CellStatisticsAnova"/>, the one fit of every fixed-effects table, whether its cells
+/// came from rows or from a database; the per-observation fitted values, leverages and residuals
+/// then follow from the fitted cells (<see cref="CellStatisticsAnova.OnRows"/>). The fit costs
+/// O(cells × p²), whatever the number of rows; summarising the rows and the residuals are two
+/// passes over them. Sums of squares of types 1, 2 and 3: <see cref="SumOfSquaresTypes"/>.
 /// <para>
 /// Domain: call <see cref="AnovaDesign.Check(AnovaInput)"/> first. A design it rejects (a factor with one
 /// level, an empty cell with interactions, fewer observations than parameters, a rank-deficient
@@ -39,98 +22,63 @@ public static class FactorialAnova
     public static AnovaResult Fit(AnovaInput input)
     {
         ArgumentNullException.ThrowIfNull(input);
-        if (input.Factors.Count == 1)
+        var (cells, cellOf) = Cells(input);
+        if (CellStatisticsAnova.Check(cells) is { } problem)
         {
-            // For one factor the three SS types coincide; keep the requested type in the result.
-            return OneWayAnova.Fit(input.Response, input.Factors[0], input.Alpha, input.Exact) with { SsType = input.SsType };
+            throw new ArgumentException(problem.Message, nameof(input));
         }
 
-        var problem = AnovaDesign.Check(input, out var checkedCoding, out var checkedQr);
-        if (problem is not null || checkedCoding is null || checkedQr is null)
+        return CellStatisticsAnova.OnRows(CellStatisticsAnova.Fit(cells), input.Response, cellOf);
+    }
+
+    /// <summary>
+    /// The rows as cells: one <see cref="CellStatistics"/> per cell with observations (in order of
+    /// first occurrence; level codes are the factors' own), with the exact sums for one factor when
+    /// <see cref="AnovaInput.Exact"/> is given, and each observation's cell.
+    /// </summary>
+    public static (CellAnovaInput Cells, int[] CellOf) Cells(AnovaInput input)
+    {
+        ArgumentNullException.ThrowIfNull(input);
+        DesignCoding.Validate(input);
+        var coding = DesignCoding.Build(input);
+        var cellOf = coding.CellOf;
+        var counts = coding.CellCounts;
+        var start = new int[counts.Length + 1];
+        for (var c = 0; c < counts.Length; c++)
         {
-            throw new ArgumentException(problem?.Message ?? "the design cannot be fitted", nameof(input));
+            start[c + 1] = start[c] + counts[c];
         }
 
-        var y = input.Response;
-        var n = y.Length;
-        var coding = checkedCoding;
-        var p = coding.ColumnCount;
-        var qr = checkedQr;
-
-        // The QR is of the count-weighted cell rows (see DesignCoding.WeightedCellRows): the same
-        // R and squared effects as the n x p design, at the cost of the cells.
-        var (z, ssWithin) = coding.CellResponse(y);
-        var effects = qr.Effects(z);
-        var ssRes = ssWithin;
-        for (var i = p; i < effects.Length; i++)
+        // The values gathered cell by cell, in row order within a cell.
+        var gathered = new double[input.Response.Length];
+        var fill = (int[])start.Clone();
+        for (var i = 0; i < cellOf.Length; i++)
         {
-            ssRes += effects[i] * effects[i];
+            gathered[fill[cellOf[i]]++] = input.Response[i];
         }
 
-        var dfRes = n - p;
-        var ssTotal = Groups.SumOfSquares(y, Groups.Mean(y));
-        var terms = new List<AnovaTerm>(coding.Terms.Count);
-        for (var t = 0; t < coding.Terms.Count; t++)
+        var k = input.Factors.Count;
+        var cells = new CellStatistics[counts.Length];
+        for (var c = 0; c < counts.Length; c++)
         {
-            var ss = SumOfSquaresTypes.TermSumOfSquares(coding, coding.WeightedCellRows, t, input.SsType, effects, z);
-            terms.Add(AnovaTable.Term(
-                coding.TermNames[t],
-                [.. coding.Terms[t].Select(f => input.Factors[f].Name)],
-                ss,
-                coding.TermCount[t],
-                ssRes,
-                dfRes,
-                ssTotal,
-                input.Alpha));
-        }
-
-        // Per cell: fitted value x_c'b and leverage x_c'(X'X)⁻¹x_c; per observation they are its cell's.
-        var b = qr.Coefficients(effects);
-        var inverse = qr.InverseCrossProduct();
-        var cells = coding.CellCounts.Length;
-        var cellFitted = new double[cells];
-        var cellLeverage = new double[cells];
-        for (var c = 0; c < cells; c++)
-        {
-            double f = 0, h = 0;
-            for (var j = 0; j < p; j++)
+            var codes = new int[k];
+            for (var f = 0; f < k; f++)
             {
-                var xj = coding.CellRows[c, j];
-                f += xj * b[j];
-                double s = 0;
-                for (var l = 0; l < p; l++)
-                {
-                    s += inverse[j, l] * coding.CellRows[c, l];
-                }
-
-                h += xj * s;
+                codes[f] = coding.Used[f][coding.CellLevels[c][f]];
             }
 
-            cellFitted[c] = f;
-            cellLeverage[c] = h;
+            cells[c] = CellStatistics.Of(codes, gathered.AsSpan(start[c], counts[c]));
         }
 
-        // Fitted values and leverages are their cell's: read through the cell codes, not stored per observation.
-        var residuals = new double[n];
-        for (var i = 0; i < n; i++)
-        {
-            residuals[i] = y[i] - cellFitted[coding.CellOf[i]];
-        }
-
-        var fitted = new CodedValues(cellFitted, coding.CellOf);
-        var leverages = new CodedValues(cellLeverage, coding.CellOf);
-
-        return new AnovaResult(
-            terms,
-            ssRes,
-            dfRes,
-            AnovaTable.MeanSquareResidual(ssRes, dfRes),
-            ssTotal,
-            n - 1,
-            fitted,
-            residuals,
-            leverages,
+        var cellInput = new CellAnovaInput(
+            [.. input.Factors.Select(f => new CellFactor(f.Name, f.Levels))],
+            cells,
+            input.Interactions,
             input.SsType,
-            input.Alpha);
+            input.Alpha)
+        {
+            Exact = k == 1 && input.Exact is { } exact ? ExactSums.Cells(exact, cellOf, counts.Length) : null,
+        };
+        return (cellInput, cellOf);
     }
 }

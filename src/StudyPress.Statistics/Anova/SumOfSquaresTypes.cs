@@ -1,10 +1,9 @@
 namespace StudyPress.Statistics.Anova;
 
 /// <summary>
-/// The reduction in sum of squares R(t | …) that each SS type attributes to a term, shared by the
-/// fit on rows (<see cref="FactorialAnova"/>) and on cell statistics (<see cref="CellStatisticsAnova"/>):
-/// both solve least squares on count-weighted cell rows, and differ only in how those rows and their
-/// response are formed.
+/// The reduction in sum of squares R(t | …) that each SS type attributes to a term, for the one
+/// fixed-effects fit (<see cref="CellStatisticsAnova"/>, which <see cref="FactorialAnova"/> uses for
+/// rows): least squares on count-weighted cell rows.
 /// <para>
 /// Sequential (type 1): R(t | terms before t), the squared entries of the full model's effects
 /// vector Q'y for t's columns (columns in term order). Hierarchical (type 2): R(t | the intercept

@@ -10,6 +10,14 @@ namespace StudyPress.Statistics;
 /// <param name="Scale">The number of decimal places s, 0 to 28.</param>
 public sealed record ScaledIntegers(long[] Mantissas, int Scale);
 
+/// <summary>
+/// The exact sufficient statistics of the cells of a layout whose response is exact decimal text:
+/// per cell the count n_c, S_c = Σ m and Q_c = Σ m² of the integer mantissas (value = m × 10^-Scale).
+/// A cell view of the data (as the cells' counts, means and sums of squares are), from which the
+/// one-way sums of squares follow exactly (<see cref="ExactSums.OneWay(ExactCellSums)"/>).
+/// </summary>
+public sealed record ExactCellSums(long[] Counts, BigInteger[] Sums, BigInteger[] Squares, int Scale);
+
 /// <summary>The three sums of squares of a one-way layout, each the exact value rounded once to double.</summary>
 public readonly record struct OneWaySums(double Between, double Within, double Total);
 
@@ -32,7 +40,15 @@ public static class ExactSums
     /// (0 .. groups − 1; groups without observations are ignored), or null when the exact route does
     /// not apply (lengths differ, or the denominators would be too large).
     /// </summary>
-    public static OneWaySums? OneWay(ScaledIntegers values, int[] codes, int groups)
+    public static OneWaySums? OneWay(ScaledIntegers values, int[] codes, int groups) =>
+        Cells(values, codes, groups) is { } cells ? OneWay(cells) : null;
+
+    /// <summary>
+    /// Each group's exact count, sum and sum of squares of the mantissas of <paramref name="values"/>
+    /// grouped by <paramref name="codes"/> (0 .. groups − 1), or null when the lengths differ or the
+    /// scale is out of range.
+    /// </summary>
+    public static ExactCellSums? Cells(ScaledIntegers values, int[] codes, int groups)
     {
         ArgumentNullException.ThrowIfNull(values);
         ArgumentNullException.ThrowIfNull(codes);
@@ -101,6 +117,25 @@ public static class ExactSums
             }
         }
 
+        return new ExactCellSums(counts, sums, squares, values.Scale);
+    }
+
+    /// <summary>
+    /// The one-way sums of squares of the cells' exact sums (cells without observations are
+    /// ignored), or null when the denominators would be too large.
+    /// </summary>
+    public static OneWaySums? OneWay(ExactCellSums cells)
+    {
+        ArgumentNullException.ThrowIfNull(cells);
+        var counts = cells.Counts;
+        var sums = cells.Sums;
+        var squares = cells.Squares;
+        var groups = counts.Length;
+        if (sums.Length != groups || squares.Length != groups || cells.Scale is < 0 or > 28)
+        {
+            throw new ArgumentException("the cells' counts, sums and squares differ in length", nameof(cells));
+        }
+
         BigInteger total = 0, totalSquares = 0;
         long n = 0;
 
@@ -127,7 +162,12 @@ public static class ExactSums
             }
         }
 
-        var unit = BigInteger.Pow(10, 2 * values.Scale);
+        if (n == 0)
+        {
+            return null;
+        }
+
+        var unit = BigInteger.Pow(10, 2 * cells.Scale);
 
         // SS_within = Q − B = (Q·den − num)/den; SS_between = B − S²/N; SS_total = Q − S²/N.
         var within = ToDouble((totalSquares * bDen) - bNum, bDen * unit);

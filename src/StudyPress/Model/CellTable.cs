@@ -2,6 +2,7 @@ using System.Globalization;
 using StudyPress.Binding;
 using StudyPress.Data;
 using StudyPress.Data.Sources;
+using StudyPress.Statistics;
 using StudyPress.Statistics.Anova;
 
 namespace StudyPress.Model;
@@ -16,13 +17,14 @@ namespace StudyPress.Model;
 /// </summary>
 public sealed class CellTable
 {
-    private CellTable(IReadOnlyList<FactorSpec> factors, IReadOnlyList<IReadOnlyList<string>> levels, IReadOnlyList<CellStatistics> cells, double centre, long dropped)
+    private CellTable(IReadOnlyList<FactorSpec> factors, IReadOnlyList<IReadOnlyList<string>> levels, IReadOnlyList<CellStatistics> cells, double centre, long dropped, ExactCellSums? exact = null)
     {
         Factors = factors;
         Levels = levels;
         Cells = cells;
         Centre = centre;
         Dropped = dropped;
+        Exact = exact;
     }
 
     public IReadOnlyList<FactorSpec> Factors { get; }
@@ -39,6 +41,27 @@ public sealed class CellTable
     /// <summary>Rows of the selection left out for a missing response or factor.</summary>
     public long Dropped { get; }
 
+    /// <summary>
+    /// The cells' exact decimal sums (same order as <see cref="Cells"/>), when the rows' response was
+    /// exact decimal text and the model has one factor; null otherwise.
+    /// </summary>
+    public ExactCellSums? Exact { get; }
+
+    /// <summary>The fit's input: these cells under the model's interactions and SS type.</summary>
+    public CellAnovaInput ModelInput(ModelDescription model, double alpha)
+    {
+        ArgumentNullException.ThrowIfNull(model);
+        return new CellAnovaInput(
+            [.. Factors.Select((f, k) => new CellFactor(f.Name, Levels[k]))],
+            Cells,
+            model.Interaction,
+            model.SsType,
+            alpha)
+        {
+            Exact = Exact,
+        };
+    }
+
     /// <summary>Total count over the cells.</summary>
     public long Count => Cells.Sum(c => c.Count);
 
@@ -47,30 +70,18 @@ public sealed class CellTable
 
     /// <summary>
     /// From the rows: each group's codes and centred values (already restricted to the levels
-    /// present, in code order); means and sums of squares by two passes over each group.
+    /// present, in code order), summarised by <see cref="CellStatistics.Of"/> (corrected two-pass
+    /// mean and sum of squares), and optionally the groups' exact decimal sums.
     /// </summary>
-    public static CellTable FromGroups(IReadOnlyList<FactorSpec> factors, IReadOnlyList<IReadOnlyList<string>> levels, IEnumerable<(int[] Codes, double[] CentredValues)> groups, double centre, long dropped)
+    public static CellTable FromGroups(IReadOnlyList<FactorSpec> factors, IReadOnlyList<IReadOnlyList<string>> levels, IEnumerable<(int[] Codes, double[] CentredValues)> groups, double centre, long dropped, ExactCellSums? exact = null)
     {
         var cells = new List<CellStatistics>();
         foreach (var (codes, values) in groups)
         {
-            double sum = 0;
-            foreach (var v in values)
-            {
-                sum += v;
-            }
-
-            var mean = sum / values.Length;
-            double ss = 0;
-            foreach (var v in values)
-            {
-                ss += (v - mean) * (v - mean);
-            }
-
-            cells.Add(new CellStatistics([.. codes], values.Length, mean, ss));
+            cells.Add(CellStatistics.Of(codes, values));
         }
 
-        return new CellTable(factors, levels, cells, centre, dropped);
+        return new CellTable(factors, levels, cells, centre, dropped, exact);
     }
 
     /// <summary>

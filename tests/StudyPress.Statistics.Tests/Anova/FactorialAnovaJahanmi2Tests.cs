@@ -100,4 +100,26 @@ public sealed class FactorialAnovaJahanmi2Tests
         Assert.Equal(16, means.Cells.Count);
         Assert.All(means.Cells, c => Assert.Equal(30, c.Count));
     }
+
+    [Fact]
+    public void LevelMeansFromCells_Jahanmi2_MatchHandbook()
+    {
+        // The means the compiler reports: from the cells the model is fitted from.
+        var input = FactorialTestData.JahanmiInput(Columns, interactions: false, SumOfSquaresType.Marginal);
+        var means = CellStatisticsAnova.LevelMeans(FactorialAnova.Cells(input).Cells);
+        var published = Expected.GetProperty("published").GetProperty("level_means");
+        var centre = (double)FactorialTestData.JahanmiCentre;
+        for (var t = 0; t < 4; t++)
+        {
+            var fm = means[t];
+            Assert.Equal(Columns[t], fm.Factor);
+            foreach (var level in fm.Levels)
+            {
+                var expected = Num(published.GetProperty(Keys[t]).GetProperty(level.Level));
+                Assert.Equal(240, level.Count);
+                Accuracy.AssertLre(level.RawMean.Value + centre, expected, 6, Keys[t] + " " + level.Level + " raw mean (e-Handbook 1.3.5.5)");
+                Accuracy.AssertLre(level.LeastSquaresMean.Value + centre, expected, 6, Keys[t] + " " + level.Level + " LS mean (e-Handbook 1.3.5.5)");
+            }
+        }
+    }
 }

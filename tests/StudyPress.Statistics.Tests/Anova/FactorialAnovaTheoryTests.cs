@@ -240,19 +240,27 @@ public sealed class FactorialAnovaTheoryTests
     }
 
     [Fact]
-    public void Fit_OneFactor_RoutesToOneWayAnova()
+    public void Fit_OneFactor_IsTheGroupMeansTable()
     {
         var input = FactorialTestData.JahanmiInput(["batch"], true, SumOfSquaresType.Marginal);
         var r = FactorialAnova.Fit(input);
-        var o = OneWayAnova.Fit(input.Response, input.Factors[0], 0.05);
         Assert.Single(r.Terms);
-        Assert.Equal(o.Terms[0].SumOfSquares, r.Terms[0].SumOfSquares);
         Assert.Equal(SumOfSquaresType.Marginal, r.SsType);
+
+        // The definition (exact hand formula, in decimal): SS_between = Σ n_g (mean_g − mean)².
+        var f = input.Factors[0];
+        var y = input.Response.Select(v => (decimal)v).ToArray();
+        var grand = y.Average();
+        var between = Enumerable.Range(0, f.Levels.Count)
+            .Select(g => y.Where((_, i) => f.Codes[i] == g).ToArray())
+            .Where(v => v.Length > 0)
+            .Sum(v => v.Length * (v.Average() - grand) * (v.Average() - grand));
+        Assert.True(Rel(r.Terms[0].SumOfSquares, (double)between) < 1e-13);
 
         // ... and the least-squares route gives the same numbers (main-effects model of batch and
         // a factor crossed with it in balance).
         var two = FactorialAnova.Fit(FactorialTestData.JahanmiInput(["batch", "table_speed_x1"], false, SumOfSquaresType.Sequential));
-        Assert.True(Rel(two.Terms[0].SumOfSquares, o.Terms[0].SumOfSquares) < 1e-12);
+        Assert.True(Rel(two.Terms[0].SumOfSquares, r.Terms[0].SumOfSquares) < 1e-12);
     }
 
     private static double Rss(Matrix<double> x, Vector<double> y, List<int> columns)

@@ -14,7 +14,7 @@ public class OneWayPerGroupValuesTests
         // Groups: a = {1, 2, 3} (mean 2), b = {10, 14} (mean 12), in interleaved row order.
         double[] y = [1, 10, 2, 14, 3];
         int[] codes = [0, 1, 0, 1, 0];
-        var r = OneWayAnova.Fit(y, new FactorColumn("g", codes, ["a", "b"]), 0.05);
+        var r = FactorialAnova.Fit(new AnovaInput(y, [new FactorColumn("g", codes, ["a", "b"])], false, SumOfSquaresType.Sequential, 0.05));
         Assert.Equal(5, r.Fitted.Count);
         Assert.Equal(5, r.Leverages.Count);
         Assert.Equal([2.0, 12, 2, 12, 2], r.Fitted.ToArray());

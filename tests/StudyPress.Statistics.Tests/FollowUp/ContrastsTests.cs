@@ -13,7 +13,7 @@ public class ContrastsTests
     {
         var (_, rows) = ReferenceCsv.Read("contrasts", "kuehl-plant-density.csv");
         var (levels, groups) = ReferenceCsv.GroupBy(rows, 0, 1);
-        var anova = OneWayAnova.Fit([.. groups.SelectMany(g => g)], Factor(groups), 0.05);
+        var anova = FactorialAnova.Fit(new AnovaInput([.. groups.SelectMany(g => g)], [Factor(groups)], false, SumOfSquaresType.Sequential, 0.05));
         return (
             [.. levels.Select(ReferenceCsv.Number)],
             [.. groups.Select(g => Groups.Mean(g))],
@@ -79,7 +79,7 @@ public class ContrastsTests
             [7.9, 8.8, 8.3],
             [6.1, 6.6, 5.7, 6.9, 6.4, 6.0, 5.8],
         ];
-        var anova = OneWayAnova.Fit([.. groups.SelectMany(g => g)], Factor(groups), 0.05);
+        var anova = FactorialAnova.Fit(new AnovaInput([.. groups.SelectMany(g => g)], [Factor(groups)], false, SumOfSquaresType.Sequential, 0.05));
         var family = Contrasts.Trends(values, [.. groups.Select(g => Groups.Mean(g))], [.. groups.Select(g => (long)g.Length)], anova.ResidualMeanSquare.Value, anova.ResidualDf, 5, ContrastAdjustment.None, 0.05);
         var sum = family.Contrasts.Sum(c => c.SumOfSquares.Value);
         Assert.True(Math.Abs(sum - anova.Terms[0].SumOfSquares) <= 1e-10 * anova.Terms[0].SumOfSquares, $"{sum:R} vs {anova.Terms[0].SumOfSquares:R}");

@@ -135,7 +135,7 @@ public class PooledTTestsTests
         string[] levels = ["1", "2", "3", "4"];
         var groups = levels.Select(l => rows.Where(r => r.Level == l).Select(r => r.Value).ToArray()).ToArray();
         var codes = rows.Select(r => Array.IndexOf(levels, r.Level)).ToArray();
-        var anova = OneWayAnova.Fit(rows.Select(r => r.Value).ToArray(), new FactorColumn("level", codes, levels), 0.05);
+        var anova = FactorialAnova.Fit(new AnovaInput(rows.Select(r => r.Value).ToArray(), [new FactorColumn("level", codes, levels)], false, SumOfSquaresType.Sequential, 0.05));
         var result = PooledTTests.Compare(levels, groups, anova.ResidualMeanSquare.Value, anova.ResidualDf, 0.05, PValueAdjustmentMethod.Bonferroni);
 
         using var json = JsonDocument.Parse(ReferenceFiles.ReadAllText("nist-ehandbook", "prc471-tukey.expected.json"));

@@ -56,12 +56,7 @@ public sealed partial class AnovaEvaluator
             return stopped;
         }
 
-        var input = new CellAnovaInput(
-            [.. block.Factors.Select((f, k) => new CellFactor(f.Name, levels[k]))],
-            cells,
-            model.Interaction,
-            model.SsType,
-            context.Header.Alpha);
+        var input = selected.ModelInput(model, context.Header.Alpha);
         if (CellStatisticsAnova.Check(input) is { } problem)
         {
             if (problem.Kind == DesignProblemKind.EmptyCell && problem.Cell is { } cell)

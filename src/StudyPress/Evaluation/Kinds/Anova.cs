@@ -249,12 +249,25 @@ public sealed partial class AnovaEvaluator : KindEvaluator
             response = [.. t.Result.Values.Select(v => v - centre)];
         }
 
-        var input = new AnovaInput(response, factors, model.Interaction, model.SsType, context.Header.Alpha)
-        {
-            // Exact decimal data give exact sums of squares (one factor, untransformed response).
-            Exact = model.Transform == TransformKind.None && data.Factors.Count == 1 ? data.Exact?.AsScaled() : null,
-        };
-        if (data.Factors.Count > 1 && AnovaDesign.Check(input) is { } problem)
+        var input = new AnovaInput(response, factors, model.Interaction, model.SsType, context.Header.Alpha);
+
+        // The fit works from the cells' sufficient statistics, as on the cells route: the rows'
+        // cells (of the transformed response when there is a transform), each row's cell for the
+        // residuals, and for one factor on exact decimal data the cells' exact sums.
+        var cellOf = CellOf(data, cells);
+
+        var exact = model.Transform == TransformKind.None && data.Factors.Count == 1 && data.Exact?.AsScaled() is { } scaled
+            ? ExactSums.Cells(scaled, cellOf, cells.Count)
+            : null;
+        var table = CellTable.FromGroups(
+            [.. data.Factors.Select(f => f.Spec)],
+            [.. data.Factors.Select(f => f.Levels)],
+            cells.Select(c => (c.Codes, transformed is null ? c.Values : Gather(response, c.Positions))),
+            centre,
+            data.DroppedMissing,
+            exact);
+        var cellInput = table.ModelInput(model, context.Header.Alpha);
+        if (CellStatisticsAnova.Check(cellInput) is { } problem)
         {
             if (problem.Kind == DesignProblemKind.EmptyCell && problem.Cell is { } cell)
             {
@@ -268,8 +281,9 @@ public sealed partial class AnovaEvaluator : KindEvaluator
             return Stopped(transformed, centre);
         }
 
-        var result = FactorialAnova.Fit(input);
-        var fit = AnovaFit.Of(result);
+        var cellFit = CellStatisticsAnova.Fit(cellInput);
+        var result = CellStatisticsAnova.OnRows(cellFit, response, cellOf);
+        var fit = AnovaFit.Of(cellFit);
         var specs = data.Factors.Select(f => f.Spec).ToList();
         var inputs = context.Inputs(block);
         var (terms, residual, total) = RecordTable(context, block, result.Terms, result.ResidualSumOfSquares, result.ResidualDf, result.ResidualMeanSquare, result.TotalSumOfSquares, result.TotalDf, inputs);
@@ -282,7 +296,7 @@ public sealed partial class AnovaEvaluator : KindEvaluator
             boxCox[Stat.LambdaHigh] = context.Results.Add(block.Id, TestName.BoxCox, null, null, null, Stat.LambdaHigh, bc.LambdaHigh, inputs);
         }
 
-        var means = Means(context, block, input, centre, transformed, inputs);
+        var means = Means(context, block, cellInput, centre, transformed, inputs);
         // The whole review only when a block reads it; the block's own rule (welch: auto, one factor) reads only its rules' checks.
         var review = AssumptionReview.Needed(block, context.Blocks) ? AssumptionReview.Run(result, data, input, null) : null;
         var decisions = new List<RuleDecision>();
@@ -315,7 +329,7 @@ public sealed partial class AnovaEvaluator : KindEvaluator
             Input = input,
             Result = result,
             Fit = fit,
-            Cells = data.CellTable(),
+            Cells = table,
             Terms = terms,
             Residual = residual,
             Total = total,
@@ -379,6 +393,41 @@ public sealed partial class AnovaEvaluator : KindEvaluator
         return (termValues.AsReadOnly(), residual.AsReadOnly(), total.AsReadOnly());
     }
 
+    /// <summary>
+    /// Each selected row's cell (its position in <paramref name="cells"/>). One factor with every
+    /// level present: the cells are the levels in code order, so the factor's codes are the cells.
+    /// </summary>
+    private static int[] CellOf(BlockData data, IReadOnlyList<(string Label, int[] Codes, double[] Values, int[] Positions)> cells)
+    {
+        if (data.Factors.Count == 1 && cells.Count == data.Factors[0].Levels.Count)
+        {
+            return data.Factors[0].Codes;
+        }
+
+        var cellOf = new int[data.Rows.Length];
+        for (var c = 0; c < cells.Count; c++)
+        {
+            foreach (var i in cells[c].Positions)
+            {
+                cellOf[i] = c;
+            }
+        }
+
+        return cellOf;
+    }
+
+    /// <summary>The values at <paramref name="positions"/>.</summary>
+    private static double[] Gather(double[] values, int[] positions)
+    {
+        var g = new double[positions.Length];
+        for (var j = 0; j < g.Length; j++)
+        {
+            g[j] = values[positions[j]];
+        }
+
+        return g;
+    }
+
     private static string DataDisplay(EvaluationContext context, BlockData data) =>
         context.DataDisplayPaths.TryGetValue(data.Dataset.Spec.Name, out var p) ? p : data.Dataset.Path;
 
@@ -389,11 +438,11 @@ public sealed partial class AnovaEvaluator : KindEvaluator
         _ => "positive",
     };
 
-    private static List<(string Factor, string Level, IReadOnlyDictionary<string, ResultValue> Values)> Means(EvaluationContext context, BoundBlock block, AnovaInput input, double centre, TransformedResponse? transformed, IReadOnlyList<string> inputs)
+    /// <summary>The level means (and with several factors the least-squares means), from the cells the model was fitted from.</summary>
+    private static List<(string Factor, string Level, IReadOnlyDictionary<string, ResultValue> Values)> Means(EvaluationContext context, BoundBlock block, CellAnovaInput input, double centre, TransformedResponse? transformed, IReadOnlyList<string> inputs)
     {
         var rows = new List<(string Factor, string Level, IReadOnlyDictionary<string, ResultValue> Values)>();
-        var means = AnovaMeans.Compute(input);
-        foreach (var fm in means.Factors)
+        foreach (var fm in CellStatisticsAnova.LevelMeans(input))
         {
             foreach (var lm in fm.Levels)
             {
