@@ -203,8 +203,10 @@ public static class StudentizedRange
     {
         var total = 0.0;
         var previous = 0.0;
+        var terms = 0;
         for (var j = Math.Max(j0, jLo); j <= jHi; j++)
         {
+            terms++;
             var v = f.At(j);
             total += v;
             if (total > 0 && v <= previous && v <= Negligible * total)
@@ -218,6 +220,7 @@ public static class StudentizedRange
         previous = 0.0;
         for (var j = Math.Min(j0, jHi + 1) - 1; j >= jLo; j--)
         {
+            terms++;
             var v = f.At(j);
             total += v;
             if (total > 0 && v <= previous && v <= Negligible * total)
@@ -228,8 +231,15 @@ public static class StudentizedRange
             previous = v;
         }
 
+        evaluations += terms;
         return total;
     }
+
+    /// <summary>Integrand evaluations (inner and outer) made on this thread so far: for tests of the method's cost.</summary>
+    internal static long EvaluationsOnThisThread => evaluations;
+
+    [ThreadStatic]
+    private static long evaluations;
 
     private interface IIntegrand
     {

@@ -392,6 +392,32 @@ public class StudentizedRangeTests
         Accuracy.AssertLre(q * StudentizedRange.Upper(q, 3, 1), limit, -Math.Log10(tolerance), $"q P(Q > {q}; 3, 1)");
     }
 
+    [Theory]
+    [InlineData(3.5, 4, 20.0, 5_000)]
+    [InlineData(5.0, 100, 1000.0, 5_000)]
+    [InlineData(10.0, 5, 1.0, 12_000)]
+    public void Upper_CostsAFewThousandEvaluations(double q, int k, double df, long limit)
+    {
+        // Regression check on the cost, not the value: the previous nested adaptive quadrature
+        // evaluated the inner integrand 46,494, 93,408 and 32,340 times for these three; the
+        // trapezoidal rule about 3,000, 3,100 and 8,600 (inner and outer together).
+        var before = StudentizedRange.EvaluationsOnThisThread;
+        var p = StudentizedRange.Upper(q, k, df);
+        var used = StudentizedRange.EvaluationsOnThisThread - before;
+        Assert.InRange(p, 1e-6, 1.0);
+        Assert.InRange(used, 100, limit);
+    }
+
+    [Fact]
+    public void UpperQuantile_CostsAFewProbabilities()
+    {
+        // Regression check on the cost: a quantile takes about six upper probabilities (the
+        // previous bracket-then-Brent search about eight, each some 47,000 evaluations).
+        var before = StudentizedRange.EvaluationsOnThisThread;
+        StudentizedRange.UpperQuantile(0.05, 4, 20);
+        Assert.InRange(StudentizedRange.EvaluationsOnThisThread - before, 1_000, 25_000);
+    }
+
     private static IEnumerable<(char Kind, int K, double Df, double X, double Value)> PreviousTable()
     {
         foreach (var raw in StudentizedRangePreviousValues.Table.Split('\n'))
