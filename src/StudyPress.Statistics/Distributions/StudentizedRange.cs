@@ -202,37 +202,34 @@ public static class StudentizedRange
         where T : struct, IIntegrand
     {
         var total = 0.0;
-        var previous = 0.0;
         var terms = 0;
-        for (var j = Math.Max(j0, jLo); j <= jHi; j++)
-        {
-            terms++;
-            var v = f.At(j);
-            total += v;
-            if (total > 0 && v <= previous && v <= Negligible * total)
-            {
-                break;
-            }
-
-            previous = v;
-        }
-
-        previous = 0.0;
-        for (var j = Math.Min(j0, jHi + 1) - 1; j >= jLo; j--)
-        {
-            terms++;
-            var v = f.At(j);
-            total += v;
-            if (total > 0 && v <= previous && v <= Negligible * total)
-            {
-                break;
-            }
-
-            previous = v;
-        }
-
+        Sweep(ref f, Math.Max(j0, jLo), jHi, +1, ref total, ref terms);
+        Sweep(ref f, Math.Min(j0, jHi + 1) - 1, jLo, -1, ref total, ref terms);
         evaluations += terms;
         return total;
+    }
+
+    /// <summary>
+    /// One side of <see cref="Trapezoid"/>: adds f(j) for j from <paramref name="from"/> towards
+    /// <paramref name="to"/> (inclusive) in steps of <paramref name="step"/> into the running
+    /// <paramref name="total"/>, until a term is below <see cref="Negligible"/> of it while falling.
+    /// </summary>
+    private static void Sweep<T>(ref T f, int from, int to, int step, ref double total, ref int terms)
+        where T : struct, IIntegrand
+    {
+        var previous = 0.0;
+        for (var j = from; step > 0 ? j <= to : j >= to; j += step)
+        {
+            terms++;
+            var v = f.At(j);
+            total += v;
+            if (total > 0 && v <= previous && v <= Negligible * total)
+            {
+                return;
+            }
+
+            previous = v;
+        }
     }
 
     /// <summary>Integrand evaluations (inner and outer) made on this thread so far: for tests of the method's cost.</summary>
