@@ -3,6 +3,7 @@ using System.Text;
 using DocumentFormat.OpenXml.Packaging;
 using DocumentFormat.OpenXml.Spreadsheet;
 using StudyPress.Data.Sources;
+using StudyPress.Tests.Support;
 
 namespace StudyPress.Tests;
 
@@ -185,4 +186,82 @@ public sealed class XlsxReaderTests
 
         return result;
     }
+}
+
+/// <summary>Damaged workbooks: each gives one error at the data path naming what is wrong, no exception.</summary>
+[Collection("cli")]
+public sealed class XlsxDamageTests
+{
+    private const string Study = "---\ntitle: T\ndata: book.xlsx\nresponse: y\nfactors:\n  g:\n---\n\n```anova main\n```\n";
+    private const string Prefix = "study.md:3:7: error: cannot read 'book.xlsx' as a spreadsheet (.xlsx): ";
+
+    /// <summary>The awkward workbook with one part replaced (or, for null, left out).</summary>
+    private static byte[] With(string part, string? text)
+    {
+        var original = XlsxReaderTests.AwkwardWorkbook();
+        using var memory = new MemoryStream();
+        using (var input = new ZipArchive(new MemoryStream(original, writable: false), ZipArchiveMode.Read))
+        using (var output = new ZipArchive(memory, ZipArchiveMode.Create, leaveOpen: true))
+        {
+            foreach (var e in input.Entries)
+            {
+                if (e.FullName == part && text is null)
+                {
+                    continue;
+                }
+
+                using var to = output.CreateEntry(e.FullName).Open();
+                if (e.FullName == part)
+                {
+                    to.Write(Encoding.UTF8.GetBytes(text!));
+                }
+                else
+                {
+                    using var from = e.Open();
+                    from.CopyTo(to);
+                }
+            }
+        }
+
+        return memory.ToArray();
+    }
+
+    private static string OneError(byte[] bytes)
+    {
+        using var run = new StudyRun().Study(Study).Bytes("book.xlsx", bytes);
+        var result = run.Compile();
+        Assert.False(result.Succeeded);
+        Assert.True(result.Diagnostics.Count == 1, string.Join("\n", result.Diagnostics));
+        return result.Diagnostics[0].ToString().Replace(run.Folder + "/", string.Empty, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void NotAZip() => Assert.StartsWith(Prefix, OneError(Encoding.UTF8.GetBytes("g,y\na,1\n")), StringComparison.Ordinal);
+
+    [Fact]
+    public void NoWorkbookPart() => Assert.Equal(Prefix + "the file has no workbook", OneError(With("xl/workbook.xml", null)));
+
+    [Fact]
+    public void NoContentTypes() => Assert.Equal(Prefix + "the package has no [Content_Types].xml part", OneError(With("[Content_Types].xml", null)));
+
+    [Fact]
+    public void SheetPartMissing() =>
+        Assert.Equal(Prefix + "the workbook names a sheet part 'rId2' that the package does not have", OneError(With("xl/worksheets/sheet2.xml", null)));
+
+    [Fact]
+    public void RowNumberNotANumber() =>
+        Assert.Equal(Prefix + "row number 'two' is not a whole number", OneError(With("xl/worksheets/sheet2.xml", "<worksheet xmlns=\"http://schemas.openxmlformats.org/spreadsheetml/2006/main\"><sheetData><row r=\"two\"><c><v>1</v></c></row></sheetData></worksheet>")));
+
+    [Fact]
+    public void DocumentTypeDeclaration_IsRefused()
+    {
+        // An entity expansion in a sheet: XML with a DTD is refused before anything expands.
+        var error = OneError(With("xl/worksheets/sheet2.xml", "<!DOCTYPE worksheet [<!ENTITY a \"aaaaaaaaaa\">]><worksheet xmlns=\"http://schemas.openxmlformats.org/spreadsheetml/2006/main\"><sheetData><row><c t=\"inlineStr\"><is><t>&a;</t></is></c></row></sheetData></worksheet>"));
+        Assert.StartsWith(Prefix, error, StringComparison.Ordinal);
+        Assert.Contains("DTD", error, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void MalformedSheetXml() =>
+        Assert.StartsWith(Prefix, OneError(With("xl/worksheets/sheet2.xml", "<worksheet xmlns=\"http://schemas.openxmlformats.org/spreadsheetml/2006/main\"><sheetData><row>")), StringComparison.Ordinal);
 }
