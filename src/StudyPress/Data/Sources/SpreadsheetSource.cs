@@ -1,7 +1,4 @@
 using System.Globalization;
-using DocumentFormat.OpenXml;
-using DocumentFormat.OpenXml.Packaging;
-using DocumentFormat.OpenXml.Spreadsheet;
 using StudyPress.Binding;
 using StudyPress.Diagnostics;
 using StudyPress.Syntax;
@@ -9,7 +6,7 @@ using StudyPress.Syntax;
 namespace StudyPress.Data.Sources;
 
 /// <summary>
-/// Reads one sheet of an .xlsx workbook (Open XML SDK): the row of column names (the range's first
+/// Reads one sheet of an .xlsx workbook (<see cref="XlsxPackage"/>: the zip and its XML parts read directly): the row of column names (the range's first
 /// row, or 'header-row'), then the data rows below it. Number cells keep the text the file stores
 /// (a binary double written out) and are parsed from it as decimals; text cells behave as CSV
 /// cells; date-formatted number cells become dates. Messages point at FILE:ROW:COLUMN and name the
@@ -31,69 +28,58 @@ public static class SpreadsheetSource
                 return null;
             }
 
-            using var stream = new MemoryStream(bytes, writable: false);
-            using var doc = SpreadsheetDocument.Open(stream, false);
-            var book = doc.WorkbookPart ?? throw new InvalidDataException("the file has no workbook");
-            var sheets = book.Workbook.Sheets?.Elements<Sheet>().ToList() ?? [];
+            using var book = XlsxPackage.Open(bytes);
+            var sheets = book.Sheets;
             if (sheets.Count == 0)
             {
                 diagnostics.NotASpreadsheet(spec.PathLocation, spec.Path, "the workbook has no sheets");
                 return null;
             }
 
-            var names = sheets.Select(s => s.Name?.Value ?? string.Empty).ToList();
-            var sheet = spec.Sheet is null ? sheets[0] : sheets.FirstOrDefault(s => s.Name?.Value == spec.Sheet);
-            if (sheet is null)
+            var names = sheets.Select(s => s.Name ?? string.Empty).ToList();
+            var sheet = spec.Sheet is null ? sheets[0] : sheets.FirstOrDefault(s => s.Name == spec.Sheet);
+            if (sheet.Name is null && spec.Sheet is not null)
             {
                 diagnostics.NoSuchSheet(spec.SheetLocation ?? spec.PathLocation, spec.Sheet!, spec.Path, names, DiagnosticBag.Nearest(spec.Sheet!, names));
                 return null;
             }
 
-            var sheetName = sheet.Name?.Value ?? "Sheet1";
-            var part = (WorksheetPart)book.GetPartById(sheet.Id!.Value!);
-            var shared = book.SharedStringTablePart?.SharedStringTable?.Elements<SharedStringItem>().Select(i => i.InnerText).ToArray() ?? [];
-            var dateStyles = DateStyles(book);
+            var sheetName = sheet.Name ?? "Sheet1";
+            var sheetId = sheet.Id ?? throw new InvalidDataException($"sheet '{sheetName}' names no part of the workbook");
+            var shared = book.SharedStrings();
+            var dateStyles = book.DateStyles(LooksLikeDate);
             var range = spec.Range is null ? null : CellReference.ParseRange(spec.Range);
 
             // Cells by (row, column), within the range.
             var cells = new SortedDictionary<int, SortedDictionary<int, object?>>();
             long cellCount = 0;
             var maxCells = MaxCellsForTests ?? DataLimits.MaxSpreadsheetCells;
-            var nextRow = 0;
-            foreach (var row in part.Worksheet.Descendants<Row>())
+            foreach (var cell in book.Cells(sheetId))
             {
-                var rowNumber = row.RowIndex?.Value is { } ri ? (int)ri : nextRow + 1;
-                nextRow = rowNumber;
-                var nextCol = 0;
-                foreach (var cell in row.Elements<Cell>())
+                var (rowNumber, col) = (cell.Row, cell.Column);
+                if (range is { } rg && (col < rg.FirstColumn || col > rg.LastColumn || rowNumber < rg.FirstRow || rowNumber > rg.LastRow))
                 {
-                    var rc = cell.CellReference?.Value is { } cr ? CellReference.Parse(cr) : null;
-                    var col = rc?.Column ?? nextCol + 1;
-                    nextCol = col;
-                    if (range is { } rg && (col < rg.FirstColumn || col > rg.LastColumn || rowNumber < rg.FirstRow || rowNumber > rg.LastRow))
-                    {
-                        continue;
-                    }
-
-                    var value = Value(cell, shared, dateStyles);
-                    if (value is null)
-                    {
-                        continue;
-                    }
-
-                    if (++cellCount > maxCells)
-                    {
-                        diagnostics.SpreadsheetTooManyCells(new SourceLocation(displayPath, rowNumber - 1, col - 1), spec.Path, sheet.Name?.Value ?? "Sheet1", maxCells);
-                        return null;
-                    }
-
-                    if (!cells.TryGetValue(rowNumber, out var r))
-                    {
-                        cells[rowNumber] = r = [];
-                    }
-
-                    r[col] = value;
+                    continue;
                 }
+
+                var value = Value(cell, shared, dateStyles);
+                if (value is null)
+                {
+                    continue;
+                }
+
+                if (++cellCount > maxCells)
+                {
+                    diagnostics.SpreadsheetTooManyCells(new SourceLocation(displayPath, rowNumber - 1, col - 1), spec.Path, sheetName, maxCells);
+                    return null;
+                }
+
+                if (!cells.TryGetValue(rowNumber, out var r))
+                {
+                    cells[rowNumber] = r = [];
+                }
+
+                r[col] = value;
             }
 
             var headerRowNumber = spec.HeaderRow ?? range?.FirstRow ?? (cells.Count > 0 ? cells.Keys.First() : 1);
@@ -185,7 +171,7 @@ public static class SpreadsheetSource
                 (at, col, near) => diagnostics.UnknownColumn(at, col, where, near),
                 fileAt);
         }
-        catch (Exception e) when (e is OpenXmlPackageException or System.Xml.XmlException or InvalidDataException or FileFormatException or IOException or InvalidOperationException or ArgumentException or KeyNotFoundException)
+        catch (Exception e) when (e is System.Xml.XmlException or InvalidDataException or IOException or InvalidOperationException or ArgumentException or KeyNotFoundException)
         {
             diagnostics.NotASpreadsheet(spec.PathLocation, spec.Path, e.Message.Split('\n')[0].TrimEnd('.'));
             return null;
@@ -234,38 +220,23 @@ public static class SpreadsheetSource
         return true;
     }
 
-    private static object? Value(Cell cell, string[] shared, HashSet<uint> dateStyles)
+    private static object? Value(XlsxCell cell, string[] shared, HashSet<uint> dateStyles)
     {
-        var type = cell.DataType?.Value;
-        var raw = cell.CellValue?.Text;
-        if (type == CellValues.SharedString)
+        var raw = cell.Value;
+        switch (cell.Type)
         {
-            return raw is not null && int.TryParse(raw, NumberStyles.None, CultureInfo.InvariantCulture, out var k) && k >= 0 && k < shared.Length ? shared[k] : null;
-        }
-
-        if (type == CellValues.InlineString)
-        {
-            return cell.InlineString?.InnerText;
-        }
-
-        if (type == CellValues.String)
-        {
-            return raw;
-        }
-
-        if (type == CellValues.Boolean)
-        {
-            return raw is null ? null : raw == "1";
-        }
-
-        if (type == CellValues.Error)
-        {
-            return raw is null ? null : new SheetError(raw);
-        }
-
-        if (type == CellValues.Date)
-        {
-            return raw is not null && DateTime.TryParse(raw, CultureInfo.InvariantCulture, DateTimeStyles.RoundtripKind, out var when) ? when : raw;
+            case "s":
+                return raw is not null && int.TryParse(raw, NumberStyles.None, CultureInfo.InvariantCulture, out var k) && k >= 0 && k < shared.Length ? shared[k] : null;
+            case "inlineStr":
+                return cell.InlineText;
+            case "str":
+                return raw;
+            case "b":
+                return raw is null ? null : raw == "1";
+            case "e":
+                return raw is null ? null : new SheetError(raw);
+            case "d":
+                return raw is not null && DateTime.TryParse(raw, CultureInfo.InvariantCulture, DateTimeStyles.RoundtripKind, out var when) ? when : raw;
         }
 
         if (raw is null || raw.Length == 0)
@@ -273,7 +244,7 @@ public static class SpreadsheetSource
             return null;
         }
 
-        if (cell.StyleIndex?.Value is { } style && dateStyles.Contains(style) &&
+        if (cell.Style is { } style && dateStyles.Contains(style) &&
             double.TryParse(raw, NumberStyles.Float, CultureInfo.InvariantCulture, out var serial) && serial is >= -657434 and <= 2958465)
         {
             return DateTime.FromOADate(serial);
@@ -282,35 +253,8 @@ public static class SpreadsheetSource
         return new SheetNumber(raw);
     }
 
-    /// <summary>Cell style indices whose number format shows a date or time.</summary>
-    private static HashSet<uint> DateStyles(WorkbookPart book)
-    {
-        var result = new HashSet<uint>();
-        var styles = book.WorkbookStylesPart?.Stylesheet;
-        if (styles?.CellFormats is null)
-        {
-            return result;
-        }
-
-        var custom = styles.NumberingFormats?.Elements<NumberingFormat>()
-            .Where(f => f.NumberFormatId?.Value is not null)
-            .ToDictionary(f => f.NumberFormatId!.Value, f => f.FormatCode?.Value ?? string.Empty) ?? [];
-        uint i = 0;
-        foreach (var f in styles.CellFormats.Elements<CellFormat>())
-        {
-            var id = f.NumberFormatId?.Value ?? 0;
-            if (id is (>= 14 and <= 22) or (>= 45 and <= 47) || (custom.TryGetValue(id, out var code) && LooksLikeDate(code)))
-            {
-                result.Add(i);
-            }
-
-            i++;
-        }
-
-        return result;
-    }
-
-    private static bool LooksLikeDate(string code)
+    /// <summary>Whether a custom number format shows a date or time: a y, d, h or s outside quotes and brackets.</summary>
+    internal static bool LooksLikeDate(string code)
     {
         var inQuote = false;
         var inBracket = false;

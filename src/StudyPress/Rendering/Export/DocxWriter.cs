@@ -1,11 +1,7 @@
 using System.Globalization;
 using System.IO.Compression;
-using DocumentFormat.OpenXml;
-using DocumentFormat.OpenXml.Packaging;
-using DocumentFormat.OpenXml.Wordprocessing;
-using A = DocumentFormat.OpenXml.Drawing;
-using DW = DocumentFormat.OpenXml.Drawing.Wordprocessing;
-using PIC = DocumentFormat.OpenXml.Drawing.Pictures;
+using System.Text;
+using System.Xml;
 
 namespace StudyPress.Rendering.Export;
 
@@ -14,8 +10,9 @@ namespace StudyPress.Rendering.Export;
 /// text, tables as Word tables, figures as PNG images with their captions. Every traced number is
 /// a bookmark named after its manifest id (<c>v52</c>; later places of the same value
 /// <c>v52_2</c>, <c>v52_3</c>, … since Word bookmark names are unique), so a later build can be
-/// matched value by value. Deterministic: explicit relationship ids, no document properties (no
-/// dates, no author), and the zip rewritten with a fixed entry time in a fixed order.
+/// matched value by value. The WordprocessingML parts are written directly (XmlWriter into a
+/// ZipArchive). Deterministic: explicit relationship ids, no document properties (no dates, no
+/// author), every zip entry at one fixed time, the entries in a fixed order.
 /// </summary>
 public static class DocxWriter
 {
@@ -30,74 +27,183 @@ public static class DocxWriter
     /// <summary>The namespace of the custom XML part that carries the results manifest.</summary>
     public const string ManifestNamespace = "urn:studypress:results-manifest";
 
+    private const string W = "http://schemas.openxmlformats.org/wordprocessingml/2006/main";
+    private const string WP = "http://schemas.openxmlformats.org/drawingml/2006/wordprocessingDrawing";
+    private const string A = "http://schemas.openxmlformats.org/drawingml/2006/main";
+    private const string PIC = "http://schemas.openxmlformats.org/drawingml/2006/picture";
+    private const string R = "http://schemas.openxmlformats.org/officeDocument/2006/relationships";
+    private const string Relationships = "http://schemas.openxmlformats.org/package/2006/relationships";
+    private const string RelationshipType = "http://schemas.openxmlformats.org/officeDocument/2006/relationships/";
+    private const string XmlDeclaration = "<?xml version=\"1.0\" encoding=\"utf-8\"?>";
+
+    private static readonly XmlWriterSettings PartSettings = new() { Encoding = new UTF8Encoding(false), CloseOutput = false };
+
     /// <param name="figures">Each figure's PNG bytes, in the report's figure order.</param>
     /// <param name="manifest">The results manifest (JSON), kept in the document as a custom XML part so the document can be compared with a later build on its own.</param>
     public static byte[] Write(ReportDocument report, IReadOnlyList<byte[]> figures, byte[]? manifest = null)
     {
-        using var package = new MemoryStream();
-        using (var doc = WordprocessingDocument.Create(package, WordprocessingDocumentType.Document, autoSave: true))
+        var state = new State(figures);
+        var document = Part(w =>
         {
-            var main = doc.AddNewPart<MainDocumentPart>("application/vnd.openxmlformats-officedocument.wordprocessingml.document.main+xml", "rId1");
-            var styles = main.AddNewPart<StyleDefinitionsPart>("rIdStyles");
-            styles.Styles = Styles();
-            var state = new State(main, figures);
-            var body = new Body();
+            w.WriteStartElement("w", "document", W);
+            w.WriteStartElement("w", "body", W);
             foreach (var block in report.Blocks)
             {
-                foreach (var element in state.Convert(block))
-                {
-                    body.Append(element);
-                }
+                state.Write(w, block);
             }
 
-            body.Append(new SectionProperties(
-                new PageSize { Width = 11906U, Height = 16838U },
-                new PageMargin { Top = 1440, Right = 1440U, Bottom = 1440, Left = 1440U, Header = 708U, Footer = 708U, Gutter = 0U }));
-            main.Document = new Document(body);
-            if (manifest is not null)
-            {
-                var custom = main.AddNewPart<CustomXmlPart>("application/xml", "rIdManifest");
-                var xml = new System.Xml.Linq.XDocument(new System.Xml.Linq.XElement(
-                    System.Xml.Linq.XName.Get("manifest", ManifestNamespace),
-                    new System.Xml.Linq.XAttribute("format", "application/json"),
-                    System.Text.Encoding.UTF8.GetString(manifest)));
-                using var stream = custom.GetStream(FileMode.Create, FileAccess.Write);
-                using var writer = System.Xml.XmlWriter.Create(stream, new System.Xml.XmlWriterSettings { Encoding = new System.Text.UTF8Encoding(false), NewLineChars = "\n" });
-                xml.Save(writer);
-            }
+            w.WriteStartElement("w", "sectPr", W);
+            Empty(w, "pgSz", ("w", "11906"), ("h", "16838"));
+            Empty(w, "pgMar", ("top", "1440"), ("right", "1440"), ("bottom", "1440"), ("left", "1440"), ("header", "708"), ("footer", "708"), ("gutter", "0"));
+            w.WriteEndElement();
+            w.WriteEndElement();
+            w.WriteEndElement();
+        });
+
+        // The parts in the order a packaging library writes them: content types and package
+        // relationships first, the main document and its styles, the images, the manifest, and
+        // the main document's relationships last.
+        var types = new StringBuilder(XmlDeclaration)
+            .Append("<Types xmlns=\"http://schemas.openxmlformats.org/package/2006/content-types\">")
+            .Append("<Default Extension=\"xml\" ContentType=\"application/vnd.openxmlformats-officedocument.wordprocessingml.document.main+xml\" />");
+        if (state.Images.Count > 0)
+        {
+            types.Append("<Default Extension=\"png\" ContentType=\"image/png\" />");
         }
 
-        return Normalize(package.ToArray());
+        types.Append("<Default Extension=\"rels\" ContentType=\"application/vnd.openxmlformats-package.relationships+xml\" />")
+            .Append("<Override PartName=\"/word/styles.xml\" ContentType=\"application/vnd.openxmlformats-officedocument.wordprocessingml.styles+xml\" />");
+        if (manifest is not null)
+        {
+            types.Append("<Override PartName=\"/customXml/item.xml\" ContentType=\"application/xml\" />");
+        }
+
+        types.Append("</Types>");
+        var links = new List<(string Type, string Target, string Id)> { ("styles", "/word/styles.xml", "rIdStyles") };
+        links.AddRange(state.Images.Select(i => ("image", "/" + i.Name, i.Id)));
+        if (manifest is not null)
+        {
+            links.Add(("customXml", "/customXml/item.xml", "rIdManifest"));
+        }
+
+        using var output = new MemoryStream();
+        using (var zip = new ZipArchive(output, ZipArchiveMode.Create, leaveOpen: true))
+        {
+            Entry(zip, "[Content_Types].xml", WithMark(types.ToString()));
+            Entry(zip, "_rels/.rels", RelationshipsPart([("officeDocument", "/word/document.xml", "rId1")]));
+            Entry(zip, "word/document.xml", document);
+            Entry(zip, "word/styles.xml", Part(Styles));
+            foreach (var (name, _, png) in state.Images)
+            {
+                Entry(zip, name, png);
+            }
+
+            if (manifest is not null)
+            {
+                Entry(zip, "customXml/item.xml", ManifestPart(manifest));
+            }
+
+            Entry(zip, "word/_rels/document.xml.rels", RelationshipsPart(links));
+        }
+
+        return output.ToArray();
     }
 
-    private sealed class State(MainDocumentPart main, IReadOnlyList<byte[]> figures)
+    private static void Entry(ZipArchive zip, string name, byte[] bytes)
+    {
+        var entry = zip.CreateEntry(name, CompressionLevel.Optimal);
+        entry.LastWriteTime = EntryTime;
+        using var s = entry.Open();
+        s.Write(bytes);
+    }
+
+    /// <summary>An XML part written by <paramref name="write"/>: UTF-8 without a byte order mark, the declaration, no indentation.</summary>
+    private static byte[] Part(Action<XmlWriter> write)
+    {
+        using var stream = new MemoryStream();
+        using (var w = XmlWriter.Create(stream, PartSettings))
+        {
+            w.WriteStartDocument();
+            write(w);
+            w.WriteEndDocument();
+        }
+
+        return stream.ToArray();
+    }
+
+    /// <summary>The package's own parts (content types, relationships) carry a UTF-8 byte order mark.</summary>
+    private static byte[] WithMark(string xml) => [.. Encoding.UTF8.GetPreamble(), .. Encoding.UTF8.GetBytes(xml)];
+
+    private static byte[] RelationshipsPart(IEnumerable<(string Type, string Target, string Id)> links)
+    {
+        var text = new StringBuilder(XmlDeclaration).Append("<Relationships xmlns=\"").Append(Relationships).Append("\">");
+        foreach (var (type, target, id) in links)
+        {
+            text.Append("<Relationship Type=\"").Append(RelationshipType).Append(type)
+                .Append("\" Target=\"").Append(target).Append("\" Id=\"").Append(id).Append("\" />");
+        }
+
+        return WithMark(text.Append("</Relationships>").ToString());
+    }
+
+    private static byte[] ManifestPart(byte[] manifest)
+    {
+        var xml = new System.Xml.Linq.XDocument(new System.Xml.Linq.XElement(
+            System.Xml.Linq.XName.Get("manifest", ManifestNamespace),
+            new System.Xml.Linq.XAttribute("format", "application/json"),
+            Encoding.UTF8.GetString(manifest)));
+        using var stream = new MemoryStream();
+        using (var writer = XmlWriter.Create(stream, new XmlWriterSettings { Encoding = new UTF8Encoding(false), NewLineChars = "\n" }))
+        {
+            xml.Save(writer);
+        }
+
+        return stream.ToArray();
+    }
+
+    /// <summary>An empty w: element with w: attributes.</summary>
+    private static void Empty(XmlWriter w, string name, params (string Name, string Value)[] attributes)
+    {
+        w.WriteStartElement("w", name, W);
+        foreach (var (n, v) in attributes)
+        {
+            w.WriteAttributeString("w", n, W, v);
+        }
+
+        w.WriteEndElement();
+    }
+
+    private sealed class State(IReadOnlyList<byte[]> figures)
     {
         private readonly Dictionary<string, int> seen = new(StringComparer.Ordinal);
         private int bookmarkId;
         private uint drawingId;
 
-        public IEnumerable<OpenXmlElement> Convert(ExportBlock block)
+        /// <summary>The image parts so far: zip entry name, relationship id, bytes.</summary>
+        public List<(string Name, string Id, byte[] Png)> Images { get; } = [];
+
+        public void Write(XmlWriter w, ExportBlock block)
         {
             switch (block)
             {
                 case ExportHeading h:
-                    yield return MakeParagraph("Heading" + h.Level.ToString(CultureInfo.InvariantCulture), h.Content);
+                    Paragraph(w, "Heading" + h.Level.ToString(CultureInfo.InvariantCulture), h.Content);
                     break;
                 case ExportParagraph p:
-                    yield return MakeParagraph(StyleOf(p.Role), p.Content);
+                    Paragraph(w, StyleOf(p.Role), p.Content);
                     break;
                 case ExportTable t:
                     if (t.Caption.Count > 0)
                     {
-                        var caption = MakeParagraph("Caption", t.Caption);
-                        caption.ParagraphProperties!.Append(new KeepNext());
-                        yield return caption;
+                        Paragraph(w, "Caption", t.Caption, keepNext: true);
                     }
 
-                    yield return MakeTable(t);
+                    Table(w, t);
 
                     // Word joins two tables that touch; a paragraph keeps them apart.
-                    yield return new Paragraph(new ParagraphProperties(new ParagraphStyleId { Val = "TableEnd" }));
+                    w.WriteStartElement("w", "p", W);
+                    ParagraphProperties(w, "TableEnd", keepNext: false, right: false);
+                    w.WriteEndElement();
                     break;
                 case ExportFigure f:
                     if (f.Index >= figures.Count)
@@ -105,8 +211,8 @@ public static class DocxWriter
                         throw new InvalidOperationException("the report shows more figures than the compilation produced");
                     }
 
-                    yield return Picture(figures[f.Index], f);
-                    yield return MakeParagraph("Caption", f.Caption);
+                    Picture(w, figures[f.Index], f);
+                    Paragraph(w, "Caption", f.Caption);
                     break;
             }
         }
@@ -127,206 +233,254 @@ public static class DocxWriter
             _ => "Normal",
         };
 
-        private Paragraph MakeParagraph(string style, IReadOnlyList<ExportInline> content, JustificationValues? align = null)
+        private static void ParagraphProperties(XmlWriter w, string style, bool keepNext, bool right)
         {
-            var props = new ParagraphProperties(new ParagraphStyleId { Val = style });
-            if (align is { } a)
+            w.WriteStartElement("w", "pPr", W);
+            Empty(w, "pStyle", ("val", style));
+            if (right)
             {
-                props.Append(new Justification { Val = a });
+                Empty(w, "jc", ("val", "right"));
             }
 
-            var p = new Paragraph(props);
+            if (keepNext)
+            {
+                Empty(w, "keepNext");
+            }
+
+            w.WriteEndElement();
+        }
+
+        private void Paragraph(XmlWriter w, string style, IReadOnlyList<ExportInline> content, bool keepNext = false, bool right = false)
+        {
+            w.WriteStartElement("w", "p", W);
+            ParagraphProperties(w, style, keepNext, right);
             foreach (var item in content)
             {
                 switch (item)
                 {
                     case TextRun t:
-                        AppendText(p, t.Text, t.Style);
+                        Text(w, t.Text, t.Style);
                         break;
                     case LineBreakRun:
-                        p.Append(new Run(new Break()));
+                        w.WriteStartElement("w", "r", W);
+                        Empty(w, "br");
+                        w.WriteEndElement();
                         break;
                     case NumberRun n:
                         // One bookmark per place: the first keeps the id itself, later places add _2, _3, ...
                         var count = seen[n.Id] = seen.GetValueOrDefault(n.Id) + 1;
                         var name = count == 1 ? n.Id : n.Id + "_" + count.ToString(CultureInfo.InvariantCulture);
                         var id = (bookmarkId++).ToString(CultureInfo.InvariantCulture);
-                        p.Append(new BookmarkStart { Name = name, Id = id });
-                        AppendText(p, n.Text, n.Style);
-                        p.Append(new BookmarkEnd { Id = id });
+                        Empty(w, "bookmarkStart", ("name", name), ("id", id));
+                        Text(w, n.Text, n.Style);
+                        Empty(w, "bookmarkEnd", ("id", id));
                         break;
                 }
             }
 
-            return p;
+            w.WriteEndElement();
         }
 
-        private static void AppendText(Paragraph p, string text, RunStyle style)
+        /// <summary>One run per line of <paramref name="text"/>; the lines after the first start with a break.</summary>
+        private static void Text(XmlWriter w, string text, RunStyle style)
         {
             var lines = text.Split('\n');
             for (var i = 0; i < lines.Length; i++)
             {
-                var run = new Run();
-                if (RunProperties(style) is { } rp)
-                {
-                    run.Append(rp);
-                }
-
+                w.WriteStartElement("w", "r", W);
+                RunProperties(w, style);
                 if (i > 0)
                 {
-                    run.Append(new Break());
+                    Empty(w, "br");
                 }
 
-                run.Append(new Text(lines[i]) { Space = SpaceProcessingModeValues.Preserve });
-                p.Append(run);
+                w.WriteStartElement("w", "t", W);
+                w.WriteAttributeString("xml", "space", null, "preserve");
+                w.WriteString(lines[i]);
+                w.WriteEndElement();
+                w.WriteEndElement();
             }
         }
 
-        private static RunProperties? RunProperties(RunStyle style)
+        private static void RunProperties(XmlWriter w, RunStyle style)
         {
             if (style == RunStyle.None)
             {
-                return null;
+                return;
             }
 
-            var rp = new RunProperties();
+            w.WriteStartElement("w", "rPr", W);
             if (style.HasFlag(RunStyle.Code))
             {
-                rp.Append(new DocumentFormat.OpenXml.Wordprocessing.RunStyle { Val = "CodeChar" });
+                Empty(w, "rStyle", ("val", "CodeChar"));
             }
 
             if (style.HasFlag(RunStyle.Bold))
             {
-                rp.Append(new Bold());
+                Empty(w, "b");
             }
 
             if (style.HasFlag(RunStyle.Italic))
             {
-                rp.Append(new Italic());
+                Empty(w, "i");
             }
 
             if (style.HasFlag(RunStyle.Superscript) || style.HasFlag(RunStyle.Subscript))
             {
-                rp.Append(new VerticalTextAlignment { Val = style.HasFlag(RunStyle.Superscript) ? VerticalPositionValues.Superscript : VerticalPositionValues.Subscript });
+                Empty(w, "vertAlign", ("val", style.HasFlag(RunStyle.Superscript) ? "superscript" : "subscript"));
             }
 
-            return rp;
+            w.WriteEndElement();
         }
 
-        private Table MakeTable(ExportTable t)
+        private void Table(XmlWriter w, ExportTable t)
         {
             var columns = Math.Max(1, t.Columns);
-            var table = new Table(new TableProperties(
-                new TableStyle { Val = "ReportTable" },
-                new TableWidth { Width = "0", Type = TableWidthUnitValues.Auto },
-                new TableLook { Val = "04A0", FirstRow = true, FirstColumn = true, LastRow = false, LastColumn = false, NoHorizontalBand = true, NoVerticalBand = true }));
-            var grid = new TableGrid();
+            w.WriteStartElement("w", "tbl", W);
+            w.WriteStartElement("w", "tblPr", W);
+            Empty(w, "tblStyle", ("val", "ReportTable"));
+            Empty(w, "tblW", ("w", "0"), ("type", "auto"));
+            Empty(w, "tblLook", ("val", "04A0"), ("firstRow", "true"), ("lastRow", "false"), ("firstColumn", "true"), ("lastColumn", "false"), ("noHBand", "true"), ("noVBand", "true"));
+            w.WriteEndElement();
+            w.WriteStartElement("w", "tblGrid", W);
             for (var i = 0; i < columns; i++)
             {
-                grid.Append(new GridColumn { Width = (9026 / columns).ToString(CultureInfo.InvariantCulture) });
+                Empty(w, "gridCol", ("w", (9026 / columns).ToString(CultureInfo.InvariantCulture)));
             }
 
-            table.Append(grid);
+            w.WriteEndElement();
             var lastHeader = t.Rows.ToList().FindLastIndex(r => r.Header);
             for (var r = 0; r < t.Rows.Count; r++)
             {
                 var row = t.Rows[r];
-                var tr = new TableRow();
+                w.WriteStartElement("w", "tr", W);
                 if (row.Header)
                 {
-                    tr.Append(new TableRowProperties(new TableHeader(), new CantSplit()));
+                    w.WriteStartElement("w", "trPr", W);
+                    Empty(w, "tblHeader");
+                    Empty(w, "cantSplit");
+                    w.WriteEndElement();
                 }
 
                 var used = 0;
                 foreach (var cell in row.Cells)
                 {
-                    tr.Append(Cell(cell, row.Header, r == lastHeader, r == t.Rows.Count - 1));
+                    Cell(w, cell, row.Header, r == lastHeader, r == t.Rows.Count - 1);
                     used += cell.Span;
                 }
 
                 // Rows shorter than the table are filled so that every row has the grid's columns.
                 for (; used < columns; used++)
                 {
-                    tr.Append(Cell(new ExportCell(false, 1, []), row.Header, r == lastHeader, r == t.Rows.Count - 1));
+                    Cell(w, new ExportCell(false, 1, []), row.Header, r == lastHeader, r == t.Rows.Count - 1);
                 }
 
-                table.Append(tr);
+                w.WriteEndElement();
             }
 
-            return table;
+            w.WriteEndElement();
         }
 
-        private TableCell Cell(ExportCell cell, bool header, bool lastHeader, bool lastRow)
+        private void Cell(XmlWriter w, ExportCell cell, bool header, bool lastHeader, bool lastRow)
         {
-            var props = new TableCellProperties(new TableCellWidth { Width = "0", Type = TableWidthUnitValues.Auto });
+            w.WriteStartElement("w", "tc", W);
+            w.WriteStartElement("w", "tcPr", W);
+            Empty(w, "tcW", ("w", "0"), ("type", "auto"));
             if (cell.Span > 1)
             {
-                props.Append(new GridSpan { Val = cell.Span });
+                Empty(w, "gridSpan", ("val", cell.Span.ToString(CultureInfo.InvariantCulture)));
             }
 
             if (lastHeader || lastRow)
             {
-                var borders = new TableCellBorders();
-                if (lastHeader)
-                {
-                    borders.Append(new BottomBorder { Val = BorderValues.Single, Size = 4U, Space = 0U, Color = "000000" });
-                }
-                else
-                {
-                    borders.Append(new BottomBorder { Val = BorderValues.Single, Size = 8U, Space = 0U, Color = "000000" });
-                }
-
-                props.Append(borders);
+                w.WriteStartElement("w", "tcBorders", W);
+                Empty(w, "bottom", ("val", "single"), ("color", "000000"), ("sz", lastHeader ? "4" : "8"), ("space", "0"));
+                w.WriteEndElement();
             }
 
+            w.WriteEndElement();
             var numeric = !cell.Head && IsNumeric(cell.Content);
-            var p = MakeParagraph(header ? "TableHeading" : "TableText", cell.Content, numeric ? JustificationValues.Right : null);
-            return new TableCell(props, p);
+            Paragraph(w, header ? "TableHeading" : "TableText", cell.Content, right: numeric);
+            w.WriteEndElement();
         }
 
         /// <summary>A cell of numbers and the punctuation between them (intervals, pairs of df) is set flush right.</summary>
         private static bool IsNumeric(IReadOnlyList<ExportInline> content) =>
             content.OfType<NumberRun>().Any() && content.OfType<TextRun>().All(t => t.Text.All(c => !char.IsLetter(c)) || t.Text.Trim() is "to");
 
-        private Paragraph Picture(byte[] png, ExportFigure f)
+        private void Picture(XmlWriter w, byte[] png, ExportFigure f)
         {
             drawingId++;
-            var relId = "rIdFig" + drawingId.ToString(CultureInfo.InvariantCulture);
-            var part = main.AddNewPart<ImagePart>("image/png", relId);
-            using (var s = new MemoryStream(png, writable: false))
-            {
-                part.FeedData(s);
-            }
-
+            var number = drawingId.ToString(CultureInfo.InvariantCulture);
+            var relId = "rIdFig" + number;
+            Images.Add((drawingId == 1 ? "media/image.png" : "media/image" + number + ".png", relId, png));
             var (pw, ph) = PngSize(png);
             var cx = Math.Min(MaxFigureWidth, pw * EmuPerInch / 192);
             var cy = ph * cx / Math.Max(1, pw);
-            var name = "Figure " + drawingId.ToString(CultureInfo.InvariantCulture);
+            var cxText = cx.ToString(CultureInfo.InvariantCulture);
+            var cyText = cy.ToString(CultureInfo.InvariantCulture);
             var description = string.Concat(f.Caption.Select(i => i switch { TextRun t => t.Text, NumberRun n => n.Text, _ => " " }));
-            var inline = new DW.Inline(
-                new DW.Extent { Cx = cx, Cy = cy },
-                new DW.EffectExtent { LeftEdge = 0L, TopEdge = 0L, RightEdge = 0L, BottomEdge = 0L },
-                new DW.DocProperties { Id = drawingId, Name = name, Description = description },
-                new DW.NonVisualGraphicFrameDrawingProperties(new A.GraphicFrameLocks { NoChangeAspect = true }),
-                new A.Graphic(new A.GraphicData(
-                    new PIC.Picture(
-                        new PIC.NonVisualPictureProperties(
-                            new PIC.NonVisualDrawingProperties { Id = 0U, Name = f.Type + ".png" },
-                            new PIC.NonVisualPictureDrawingProperties()),
-                        new PIC.BlipFill(new A.Blip { Embed = relId }, new A.Stretch(new A.FillRectangle())),
-                        new PIC.ShapeProperties(
-                            new A.Transform2D(new A.Offset { X = 0L, Y = 0L }, new A.Extents { Cx = cx, Cy = cy }),
-                            new A.PresetGeometry(new A.AdjustValueList()) { Preset = A.ShapeTypeValues.Rectangle })))
-                { Uri = "http://schemas.openxmlformats.org/drawingml/2006/picture" }))
+
+            w.WriteStartElement("w", "p", W);
+            ParagraphProperties(w, "FigureImage", keepNext: true, right: false);
+            w.WriteStartElement("w", "r", W);
+            w.WriteStartElement("w", "drawing", W);
+            w.WriteStartElement("wp", "inline", WP);
+            w.WriteAttributeString("distT", "0");
+            w.WriteAttributeString("distB", "0");
+            w.WriteAttributeString("distL", "0");
+            w.WriteAttributeString("distR", "0");
+            Element(w, "wp", "extent", WP, ("cx", cxText), ("cy", cyText));
+            Element(w, "wp", "effectExtent", WP, ("l", "0"), ("t", "0"), ("r", "0"), ("b", "0"));
+            Element(w, "wp", "docPr", WP, ("id", number), ("name", "Figure " + number), ("descr", description));
+            w.WriteStartElement("wp", "cNvGraphicFramePr", WP);
+            Element(w, "a", "graphicFrameLocks", A, ("noChangeAspect", "1"));
+            w.WriteEndElement();
+            w.WriteStartElement("a", "graphic", A);
+            w.WriteStartElement("a", "graphicData", A);
+            w.WriteAttributeString("uri", PIC);
+            w.WriteStartElement("pic", "pic", PIC);
+            w.WriteStartElement("pic", "nvPicPr", PIC);
+            Element(w, "pic", "cNvPr", PIC, ("id", "0"), ("name", f.Type + ".png"));
+            Element(w, "pic", "cNvPicPr", PIC);
+            w.WriteEndElement();
+            w.WriteStartElement("pic", "blipFill", PIC);
+            w.WriteStartElement("a", "blip", A);
+            w.WriteAttributeString("r", "embed", R, relId);
+            w.WriteEndElement();
+            w.WriteStartElement("a", "stretch", A);
+            Element(w, "a", "fillRect", A);
+            w.WriteEndElement();
+            w.WriteEndElement();
+            w.WriteStartElement("pic", "spPr", PIC);
+            w.WriteStartElement("a", "xfrm", A);
+            Element(w, "a", "off", A, ("x", "0"), ("y", "0"));
+            Element(w, "a", "ext", A, ("cx", cxText), ("cy", cyText));
+            w.WriteEndElement();
+            w.WriteStartElement("a", "prstGeom", A);
+            w.WriteAttributeString("prst", "rect");
+            Element(w, "a", "avLst", A);
+            w.WriteEndElement();
+            w.WriteEndElement(); // spPr
+            w.WriteEndElement(); // pic
+            w.WriteEndElement(); // graphicData
+            w.WriteEndElement(); // graphic
+            w.WriteEndElement(); // inline
+            w.WriteEndElement(); // drawing
+            w.WriteEndElement(); // r
+            w.WriteEndElement(); // p
+        }
+
+        /// <summary>An empty element with unqualified attributes.</summary>
+        private static void Element(XmlWriter w, string prefix, string name, string ns, params (string Name, string Value)[] attributes)
+        {
+            w.WriteStartElement(prefix, name, ns);
+            foreach (var (n, v) in attributes)
             {
-                DistanceFromTop = 0U,
-                DistanceFromBottom = 0U,
-                DistanceFromLeft = 0U,
-                DistanceFromRight = 0U,
-            };
-            return new Paragraph(
-                new ParagraphProperties(new ParagraphStyleId { Val = "FigureImage" }, new KeepNext()),
-                new Run(new Drawing(inline)));
+                w.WriteAttributeString(n, v);
+            }
+
+            w.WriteEndElement();
         }
     }
 
@@ -341,119 +495,114 @@ public static class DocxWriter
         return (System.Buffers.Binary.BinaryPrimitives.ReadUInt32BigEndian(png.AsSpan(16)), System.Buffers.Binary.BinaryPrimitives.ReadUInt32BigEndian(png.AsSpan(20)));
     }
 
-    private static Styles Styles()
+    /// <summary>A style's paragraph ('pPr') or run ('rPr') properties: each child an empty w: element with its w: attributes.</summary>
+    private sealed record Props(params (string Name, (string Name, string Value)[] Attributes)[] Children);
+
+    private static Props P(params (string Name, (string Name, string Value)[] Attributes)[] children) => new(children);
+
+    private static (string, (string, string)[]) E(string name, params (string, string)[] attributes) => (name, attributes);
+
+    private static void Styles(XmlWriter w)
     {
-        var styles = new Styles(new DocDefaults(
-            new RunPropertiesDefault(new RunPropertiesBaseStyle(
-                new RunFonts { Ascii = "Calibri", HighAnsi = "Calibri", ComplexScript = "Calibri", EastAsia = "Calibri" },
-                new FontSize { Val = "22" },
-                new FontSizeComplexScript { Val = "22" },
-                new Languages { Val = "en-GB" })),
-            new ParagraphPropertiesDefault(new ParagraphPropertiesBaseStyle(new SpacingBetweenLines { After = "120", Line = "264", LineRule = LineSpacingRuleValues.Auto }))));
-        styles.Append(ParagraphStyle("Normal", "Normal", null, isDefault: true));
-        styles.Append(ParagraphStyle("Title", "Title", new RunProperties(new Bold(), new FontSize { Val = "40" }), new ParagraphProperties(new SpacingBetweenLines { After = "160" })));
-        styles.Append(ParagraphStyle("Subtitle", "Subtitle", new RunProperties(new FontSize { Val = "24" })));
-        styles.Append(ParagraphStyle("StudyLine", "Study line", new RunProperties(new Color { Val = "404040" }, new FontSize { Val = "18" })));
+        w.WriteStartElement("w", "styles", W);
+        w.WriteStartElement("w", "docDefaults", W);
+        w.WriteStartElement("w", "rPrDefault", W);
+        Properties(w, "rPr", P(E("rFonts", ("ascii", "Calibri"), ("hAnsi", "Calibri"), ("eastAsia", "Calibri"), ("cs", "Calibri")), E("sz", ("val", "22")), E("szCs", ("val", "22")), E("lang", ("val", "en-GB"))));
+        w.WriteEndElement();
+        w.WriteStartElement("w", "pPrDefault", W);
+        Properties(w, "pPr", P(E("spacing", ("after", "120"), ("line", "264"), ("lineRule", "auto"))));
+        w.WriteEndElement();
+        w.WriteEndElement();
+        ParagraphStyle(w, "Normal", "Normal", null, isDefault: true);
+        ParagraphStyle(w, "Title", "Title", P(E("b"), E("sz", ("val", "40"))), P(E("spacing", ("after", "160"))));
+        ParagraphStyle(w, "Subtitle", "Subtitle", P(E("sz", ("val", "24"))));
+        ParagraphStyle(w, "StudyLine", "Study line", P(E("color", ("val", "404040")), E("sz", ("val", "18"))));
         for (var level = 1; level <= 6; level++)
         {
             var size = level switch { 1 => "32", 2 => "28", 3 => "24", _ => "22" };
-            styles.Append(ParagraphStyle(
+            ParagraphStyle(
+                w,
                 "Heading" + level.ToString(CultureInfo.InvariantCulture),
                 "heading " + level.ToString(CultureInfo.InvariantCulture),
-                new RunProperties(new Bold(), new FontSize { Val = size }),
-                new ParagraphProperties(new KeepNext(), new SpacingBetweenLines { Before = "240", After = "120" }, new OutlineLevel { Val = level - 1 })));
+                P(E("b"), E("sz", ("val", size))),
+                P(E("keepNext"), E("spacing", ("before", "240"), ("after", "120")), E("outlineLvl", ("val", (level - 1).ToString(CultureInfo.InvariantCulture)))));
         }
 
-        styles.Append(ParagraphStyle("Caption", "caption", new RunProperties(new Italic(), new FontSize { Val = "20" })));
-        styles.Append(ParagraphStyle("BlockLabel", "Block label", new RunProperties(new Color { Val = "505050" }, new FontSize { Val = "16" }), new ParagraphProperties(new KeepNext())));
-        styles.Append(ParagraphStyle("MethodNote", "Method note", new RunProperties(new FontSize { Val = "18" })));
-        styles.Append(ParagraphStyle("Reading", "Reading", null, new ParagraphProperties(new Indentation { Left = "284" })));
-        styles.Append(ParagraphStyle("Warning", "Warning", new RunProperties(new Bold())));
-        styles.Append(ParagraphStyle("Quote", "Quote", new RunProperties(new Italic()), new ParagraphProperties(new Indentation { Left = "567" })));
-        styles.Append(ParagraphStyle("ListItem", "List item", null, new ParagraphProperties(new Indentation { Left = "567", Hanging = "283" })));
-        styles.Append(ParagraphStyle("CodeBlock", "Code block", new RunProperties(new RunFonts { Ascii = "Consolas", HighAnsi = "Consolas", ComplexScript = "Consolas" }, new FontSize { Val = "18" })));
-        styles.Append(ParagraphStyle("TableText", "Table text", null, new ParagraphProperties(new SpacingBetweenLines { Before = "20", After = "20" })));
-        styles.Append(ParagraphStyle("TableHeading", "Table heading", new RunProperties(new Bold()), new ParagraphProperties(new SpacingBetweenLines { Before = "20", After = "20" })));
-        styles.Append(ParagraphStyle("TableEnd", "Table end", new RunProperties(new FontSize { Val = "8" }), new ParagraphProperties(new SpacingBetweenLines { Before = "0", After = "0" })));
-        styles.Append(ParagraphStyle("FigureImage", "Figure image", null, new ParagraphProperties(new Justification { Val = JustificationValues.Center })));
-        styles.Append(new Style(
-            new StyleName { Val = "Code" },
-            new StyleRunProperties(new RunFonts { Ascii = "Consolas", HighAnsi = "Consolas", ComplexScript = "Consolas" }))
-        { Type = StyleValues.Character, StyleId = "CodeChar" });
-        styles.Append(new Style(
-            new StyleName { Val = "Report table" },
-            new StyleTableProperties(
-                new TableBorders(
-                    new TopBorder { Val = BorderValues.Single, Size = 8U, Space = 0U, Color = "000000" },
-                    new BottomBorder { Val = BorderValues.Single, Size = 8U, Space = 0U, Color = "000000" }),
-                new TableCellMarginDefault(
-                    new TopMargin { Width = "0", Type = TableWidthUnitValues.Dxa },
-                    new TableCellLeftMargin { Width = 108, Type = TableWidthValues.Dxa },
-                    new BottomMargin { Width = "0", Type = TableWidthUnitValues.Dxa },
-                    new TableCellRightMargin { Width = 108, Type = TableWidthValues.Dxa })))
-        { Type = StyleValues.Table, StyleId = "ReportTable" });
-        return styles;
+        ParagraphStyle(w, "Caption", "caption", P(E("i"), E("sz", ("val", "20"))));
+        ParagraphStyle(w, "BlockLabel", "Block label", P(E("color", ("val", "505050")), E("sz", ("val", "16"))), P(E("keepNext")));
+        ParagraphStyle(w, "MethodNote", "Method note", P(E("sz", ("val", "18"))));
+        ParagraphStyle(w, "Reading", "Reading", null, P(E("ind", ("left", "284"))));
+        ParagraphStyle(w, "Warning", "Warning", P(E("b")));
+        ParagraphStyle(w, "Quote", "Quote", P(E("i")), P(E("ind", ("left", "567"))));
+        ParagraphStyle(w, "ListItem", "List item", null, P(E("ind", ("left", "567"), ("hanging", "283"))));
+        ParagraphStyle(w, "CodeBlock", "Code block", P(E("rFonts", ("ascii", "Consolas"), ("hAnsi", "Consolas"), ("cs", "Consolas")), E("sz", ("val", "18"))));
+        ParagraphStyle(w, "TableText", "Table text", null, P(E("spacing", ("before", "20"), ("after", "20"))));
+        ParagraphStyle(w, "TableHeading", "Table heading", P(E("b")), P(E("spacing", ("before", "20"), ("after", "20"))));
+        ParagraphStyle(w, "TableEnd", "Table end", P(E("sz", ("val", "8"))), P(E("spacing", ("before", "0"), ("after", "0"))));
+        ParagraphStyle(w, "FigureImage", "Figure image", null, P(E("jc", ("val", "center"))));
+
+        StyleStart(w, "character", "CodeChar", "Code");
+        Properties(w, "rPr", P(E("rFonts", ("ascii", "Consolas"), ("hAnsi", "Consolas"), ("cs", "Consolas"))));
+        w.WriteEndElement();
+
+        StyleStart(w, "table", "ReportTable", "Report table");
+        w.WriteStartElement("w", "tblPr", W);
+        Properties(w, "tblBorders", P(
+            E("top", ("val", "single"), ("color", "000000"), ("sz", "8"), ("space", "0")),
+            E("bottom", ("val", "single"), ("color", "000000"), ("sz", "8"), ("space", "0"))));
+        Properties(w, "tblCellMar", P(
+            E("top", ("w", "0"), ("type", "dxa")),
+            E("left", ("w", "108"), ("type", "dxa")),
+            E("bottom", ("w", "0"), ("type", "dxa")),
+            E("right", ("w", "108"), ("type", "dxa"))));
+        w.WriteEndElement();
+        w.WriteEndElement();
+        w.WriteEndElement();
     }
 
-    private static Style ParagraphStyle(string id, string name, RunProperties? run, ParagraphProperties? paragraph = null, bool isDefault = false)
+    private static void StyleStart(XmlWriter w, string type, string id, string name, bool isDefault = false)
     {
-        var style = new Style(new StyleName { Val = name }) { Type = StyleValues.Paragraph, StyleId = id };
+        w.WriteStartElement("w", "style", W);
+        w.WriteAttributeString("w", "type", W, type);
+        w.WriteAttributeString("w", "styleId", W, id);
         if (isDefault)
         {
-            style.Default = true;
+            w.WriteAttributeString("w", "default", W, "true");
         }
-        else
+
+        Empty(w, "name", ("val", name));
+    }
+
+    private static void ParagraphStyle(XmlWriter w, string id, string name, Props? run, Props? paragraph = null, bool isDefault = false)
+    {
+        StyleStart(w, "paragraph", id, name, isDefault);
+        if (!isDefault)
         {
-            style.Append(new BasedOn { Val = "Normal" });
-            style.Append(new PrimaryStyle());
+            Empty(w, "basedOn", ("val", "Normal"));
+            Empty(w, "qFormat");
         }
 
         if (paragraph is not null)
         {
-            style.Append(new StyleParagraphProperties(paragraph.ChildElements.Select(c => c.CloneNode(true))));
+            Properties(w, "pPr", paragraph);
         }
 
         if (run is not null)
         {
-            style.Append(new StyleRunProperties(run.ChildElements.Select(c => c.CloneNode(true))));
+            Properties(w, "rPr", run);
         }
 
-        return style;
+        w.WriteEndElement();
     }
 
-    /// <summary>
-    /// Rewrites the package's zip with every entry at one fixed time, <c>[Content_Types].xml</c>
-    /// first and the rest in the order written, so the same report gives the same bytes.
-    /// </summary>
-    internal static byte[] Normalize(byte[] package)
+    private static void Properties(XmlWriter w, string element, Props props)
     {
-        var entries = new List<(string Name, byte[] Bytes)>();
-        using (var input = new ZipArchive(new MemoryStream(package, writable: false), ZipArchiveMode.Read))
+        w.WriteStartElement("w", element, W);
+        foreach (var (name, attributes) in props.Children)
         {
-            foreach (var e in input.Entries)
-            {
-                using var s = e.Open();
-                using var copy = new MemoryStream();
-                s.CopyTo(copy);
-                entries.Add((e.FullName, copy.ToArray()));
-            }
+            Empty(w, name, attributes);
         }
 
-        var ordered = entries.Where(e => e.Name == "[Content_Types].xml")
-            .Concat(entries.Where(e => e.Name == "_rels/.rels"))
-            .Concat(entries.Where(e => e.Name is not "[Content_Types].xml" and not "_rels/.rels"));
-        using var output = new MemoryStream();
-        using (var zip = new ZipArchive(output, ZipArchiveMode.Create, leaveOpen: true))
-        {
-            foreach (var (name, bytes) in ordered)
-            {
-                var entry = zip.CreateEntry(name, CompressionLevel.Optimal);
-                entry.LastWriteTime = EntryTime;
-                using var s = entry.Open();
-                s.Write(bytes);
-            }
-        }
-
-        return output.ToArray();
+        w.WriteEndElement();
     }
 }
