@@ -75,6 +75,25 @@ public sealed class CellStatisticsAnovaTests
         Assert.Equal(DesignProblemKind.EmptyCell, CellStatisticsAnova.Check(cells with { Interactions = true })!.Kind);
     }
 
+    [Theory]
+    [InlineData(0.1, 3)]
+    [InlineData(0.7, 7)]
+    [InlineData(1.0 / 3.0, 11)]
+    [InlineData(123456789.123, 5)]
+    [InlineData(1e15 + 0.25, 9)]
+    [InlineData(-2.675e-9, 13)]
+    public void Of_ConstantCell_MeanIsTheValueAndSumOfSquaresIsZero(double value, int n)
+    {
+        // Exact hand computation: a cell whose values are all equal has that value as its mean and
+        // no spread. The corrected two-pass mean must give it exactly (a zero-variance cell is
+        // refused or reported by the checks only when its sum of squares is exactly 0).
+        var values = Enumerable.Repeat(value, n).ToArray();
+        var cell = CellStatistics.Of([0], values);
+        Assert.Equal(n, cell.Count);
+        Assert.Equal(value, cell.Mean);
+        Assert.Equal(0.0, cell.SumOfSquares);
+    }
+
     [Fact]
     public void Fit_OneFactor_MatchesTheDefinitions()
     {
