@@ -218,6 +218,7 @@ public static class StudentizedRange
         where T : struct, IIntegrand
     {
         var previous = 0.0;
+        var zeros = 0;
         for (var j = from; step > 0 ? j <= to : j >= to; j += step)
         {
             terms++;
@@ -228,9 +229,24 @@ public static class StudentizedRange
                 return;
             }
 
+            // Nothing but underflow from the peak outward: the integrand is unimodal and the march
+            // starts at its peak, so the whole integral is below the smallest double. Without this
+            // a far tail (a huge q with a large df: 1,000,000 rows) walked every point of the range.
+            zeros = v == 0 && total == 0 ? zeros + 1 : 0;
+            if (zeros >= ZeroRun)
+            {
+                return;
+            }
+
             previous = v;
         }
     }
+
+    /// <summary>
+    /// Terms in a row that are exactly 0, with nothing added yet, that end a side of the march: the
+    /// steps are at most 0.4 of the integrand's narrowest scale, so 64 of them span about 25 scales.
+    /// </summary>
+    private const int ZeroRun = 64;
 
     /// <summary>Integrand evaluations (inner and outer) made on this thread so far: for tests of the method's cost.</summary>
     internal static long EvaluationsOnThisThread => evaluations;
