@@ -183,6 +183,23 @@ run,field,fertiliser,yield_kg
     }
 
     [Fact]
+    public void PowerOfATwoFactorAnova_WithoutFactorOrSize_BothMistakesAtOnce()
+    {
+        // Two mistakes, two messages, in one run: the power block's 'of' names an anova of two
+        // factors without saying which ('factor'), and gives neither 'n' nor 'target'. The factor
+        // choice used to be reported only after the missing size was mended.
+        var study = BaseStudy.Replace("factors: [fertiliser]\nwelch: auto", "factors: [fertiliser, site]", StringComparison.Ordinal)
+            .Replace("groups: 3\neffect: 0.4\ntarget: 0.9", "of: main", StringComparison.Ordinal);
+        using var run = new StudyRun().Study(study).File("data/trial.csv", BaseData);
+        var result = run.Compile();
+        Assert.False(result.Succeeded);
+        Assert.Equal(
+            ["SP0235", "SP0238"],
+            result.Diagnostics.Select(d => d.Code).Order(StringComparer.Ordinal).ToArray());
+        Assert.All(result.Diagnostics, d => Assert.Equal(result.Diagnostics[0].Location.Line, d.Location.Line));
+    }
+
+    [Fact]
     public void NumericLevels_MatchCellsAsNumbers()
     {
         // Levels declared as 2.0 and 18.00 match cells 2 and 18.

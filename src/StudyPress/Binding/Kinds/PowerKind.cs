@@ -63,7 +63,18 @@ public sealed class PowerKind : BlockKind
         string? of = null;
         if (keys.Has("of"))
         {
-            of = context.AnovaOf(keys, Name, diagnostics)?.Id;
+            var anova = context.AnovaOf(keys, Name, diagnostics);
+            of = anova?.Id;
+
+            // An anova of several factors needs 'factor': said here, with any other missing key,
+            // rather than after those are mended (an anova with a declared layout or covariates is
+            // refused as a whole when evaluated).
+            if (anova is { Kind: AnovaKind } && anova.Factors.Count > 1
+                && anova.Factors.All(f => !f.Layout.IsDeclared) && !anova.OptionsOf<AnovaKind.Options>().HasCovariates
+                && !keys.Has("factor") && !keys.Misspelt.Overlaps(["factor"]))
+            {
+                diagnostics.FactorChoiceNeeded(context.Syntax.Location, anova.Id);
+            }
         }
 
         if (effect is null && !keys.Has("of") && !keys.Misspelt.Overlaps(["effect", "of"]))
