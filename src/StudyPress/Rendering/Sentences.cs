@@ -100,8 +100,11 @@ public static class ReportStyle
     public static string PText(double p, NumberFormat format, string name = "p")
     {
         var shown = format.Format(Stat.P, p);
-        return name + (shown.StartsWith('<') ? " " : " = ") + shown;
+        return name + PJoin(shown) + shown;
     }
+
+    /// <summary>What joins a p's name to its shown value: " = ", or " " before "&lt; 0.001".</summary>
+    public static string PJoin(string shown) => shown.StartsWith('<') ? " " : " = ";
 
     /// <summary>"p = 0.035" or "p &lt; 0.001" (HTML) in the report's format, with the given name for p ("p", "adjusted p").</summary>
     public static string PPhrase(ResultValue p, string name = "p")
@@ -111,8 +114,7 @@ public static class ReportStyle
             return name + " " + Number(p);
         }
 
-        var shown = NumberFormat.Current.Format(p.Stat, p.Value.Value);
-        return name + (shown.StartsWith('<') ? " " : " = ") + Number(p);
+        return name + PJoin(NumberFormat.Current.Format(p.Stat, p.Value.Value)) + Number(p);
     }
 }
 

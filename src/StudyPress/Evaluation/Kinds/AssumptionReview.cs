@@ -41,16 +41,16 @@ public sealed class AssumptionReview
 
     public required double Alpha { get; init; }
 
-    public bool NonNormal => Normality.P.IsDefined && Normality.P.Value < Alpha;
+    public bool NonNormal => Rules.NonNormal;
 
-    public bool UnequalVariances => BrownForsythe.P.IsDefined && BrownForsythe.P.Value < Alpha;
+    public bool UnequalVariances => Rules.UnequalVariances;
 
     public bool Dependent => Independence is { P.IsDefined: true } d && d.P.Value < Alpha;
 
     public bool HasOutliers => Outliers.Flagged.Count > 0;
 
     /// <summary>Non-normal residuals with small groups: the rank test should be run as well.</summary>
-    public bool WantsRankTest => NonNormal && SmallestGroup < SmallGroup;
+    public bool WantsRankTest => Rules.WantsRankTest;
 
     /// <summary>Why normality is not checked when the model fits the data exactly.</summary>
     public const string ZeroResiduals = "every group's values are equal, so the residuals are all exactly zero and W = 0/0 is not defined";

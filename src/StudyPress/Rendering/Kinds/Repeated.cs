@@ -280,7 +280,7 @@ public sealed class RepeatedRenderer : KindRenderer
                     RankRouteReason.Asked => "; the Friedman rank test is shown below, as asked ('ranks: always')",
                     _ => string.Empty,
                 };
-                html.Raw("<li>").Text("Residuals (subject × cell, after subjects and group × cell means): Shapiro–Wilk W = ").Raw(V(sw[Stat.W])).Text(sw[Stat.P].Value.IsDefined && context.Format.Format(Stat.P, sw[Stat.P].Value.Value).StartsWith('<') ? ", p " : ", p = ").Raw(V(sw[Stat.P]))
+                html.Raw("<li>").Text("Residuals (subject × cell, after subjects and group × cell means): Shapiro–Wilk W = ").Raw(V(sw[Stat.W])).Text(", p" + (sw[Stat.P].Value.IsDefined ? ReportStyle.PJoin(context.Format.Format(Stat.P, sw[Stat.P].Value.Value)) : " = ")).Raw(V(sw[Stat.P]))
                     .Text($" — {verdict}{next}.").Raw("</li>");
             }
 
