@@ -275,3 +275,15 @@ public sealed class NativeTheoryAttribute : TheoryAttribute
         }
     }
 }
+
+/// <summary>A fact that needs the native binary (<c>STUDYPRESS_NATIVE_CLI</c>); skipped with the reason otherwise.</summary>
+public sealed class NativeFactAttribute : FactAttribute
+{
+    public NativeFactAttribute()
+    {
+        if (NativeCli.SkipReason is { } reason)
+        {
+            Skip = reason;
+        }
+    }
+}
