@@ -127,6 +127,41 @@ public sealed class NativeBuildTests
         }
     }
 
+    [NativeFact]
+    public void NativeBuild_RuntimeTypeData_OnHugePages()
+    {
+        // The C start-up hook (src/StudyPress.Cli/Native/huge-pages.c) advises the executable's
+        // zero-initialised data, which the runtime fills with its type data before Main, to use
+        // transparent huge pages. The "main" stage line reports the process's huge pages at Main:
+        // with the hook at least one 2 MB page where the kernel offers them on advice, none with
+        // STUDYPRESS_HUGE_PAGES=0 where it offers them only on advice.
+        var mode = File.Exists(ThpSetting) ? File.ReadAllText(ThpSetting) : "[never]";
+        var folder = Path.Combine(Repository.Root, "examples", "spray-nozzles");
+        var on = HugePagesAtMain(RunNative(folder, ["--version"], (StageTimes.Variable, "1")));
+        var off = HugePagesAtMain(RunNative(folder, ["--version"], (StageTimes.Variable, "1"), ("STUDYPRESS_HUGE_PAGES", "0")));
+        if (mode.Contains("[madvise]", StringComparison.Ordinal))
+        {
+            Assert.True(on >= 2.0, "huge pages at Main with the hook: " + on + " MB");
+            Assert.Equal(0.0, off);
+        }
+        else if (mode.Contains("[never]", StringComparison.Ordinal))
+        {
+            Assert.Equal(0.0, on);
+            Assert.Equal(0.0, off);
+        }
+    }
+
+    private const string ThpSetting = "/sys/kernel/mm/transparent_hugepage/enabled";
+
+    private static double HugePagesAtMain((int Exit, string Out, string Err) run)
+    {
+        Assert.Equal(0, run.Exit);
+        var main = run.Err.Split('\n').Single(l => l.StartsWith("studypress: time: main ", StringComparison.Ordinal));
+        var match = System.Text.RegularExpressions.Regex.Match(main, @"huge pages ([0-9.]+) MB\)$");
+        Assert.True(match.Success, main);
+        return double.Parse(match.Groups[1].Value, System.Globalization.CultureInfo.InvariantCulture);
+    }
+
     private static string[] Arguments(string outDir) =>
         ["build", "study.md", "--force", "--out", outDir, "--json", Path.Combine(outDir, "manifest.json"), "--figures", Path.Combine(outDir, "figures"),
          "--docx", Path.Combine(outDir, "report.docx"), "--latex", Path.Combine(outDir, "tex")];
@@ -138,7 +173,7 @@ public sealed class NativeBuildTests
             .Where(f => !f.StartsWith(BuildCache.FolderName + "/", StringComparison.Ordinal))
             .Order(StringComparer.Ordinal)];
 
-    private static (int Exit, string Out, string Err) RunNative(string folder, string[] args, (string Name, string Value)? environment = null)
+    private static (int Exit, string Out, string Err) RunNative(string folder, string[] args, params (string Name, string Value)[] environment)
     {
         var start = new ProcessStartInfo(NativeCli.Path!)
         {
@@ -148,9 +183,9 @@ public sealed class NativeBuildTests
             StandardOutputEncoding = Encoding.UTF8,
             StandardErrorEncoding = Encoding.UTF8,
         };
-        if (environment is { } variable)
+        foreach (var (name, value) in environment)
         {
-            start.Environment[variable.Name] = variable.Value;
+            start.Environment[name] = value;
         }
 
         foreach (var a in args)
@@ -233,6 +268,18 @@ internal static class NativeCli
 public sealed class NativeTheoryAttribute : TheoryAttribute
 {
     public NativeTheoryAttribute()
+    {
+        if (NativeCli.SkipReason is { } reason)
+        {
+            Skip = reason;
+        }
+    }
+}
+
+/// <summary>A fact that needs the native binary (<c>STUDYPRESS_NATIVE_CLI</c>); skipped with the reason otherwise.</summary>
+public sealed class NativeFactAttribute : FactAttribute
+{
+    public NativeFactAttribute()
     {
         if (NativeCli.SkipReason is { } reason)
         {
