@@ -189,7 +189,8 @@ run,field,fertiliser,yield_kg
         // factors without saying which ('factor'), and gives neither 'n' nor 'target'. The factor
         // choice used to be reported only after the missing size was mended.
         var study = BaseStudy.Replace("factors: [fertiliser]\nwelch: auto", "factors: [fertiliser, site]", StringComparison.Ordinal)
-            .Replace("groups: 3\neffect: 0.4\ntarget: 0.9", "of: main", StringComparison.Ordinal);
+            .Replace("groups: 3\neffect: 0.4\ntarget: 0.9", "of: main", StringComparison.Ordinal)
+            .Replace("method: auto", "factor: fertiliser\nmethod: auto", StringComparison.Ordinal);
         using var run = new StudyRun().Study(study).File("data/trial.csv", BaseData);
         var result = run.Compile();
         Assert.False(result.Succeeded);
@@ -198,6 +199,70 @@ run,field,fertiliser,yield_kg
             result.Diagnostics.Select(d => d.Code).Order(StringComparer.Ordinal).ToArray());
         Assert.All(result.Diagnostics, d => Assert.Equal(result.Diagnostics[0].Location.Line, d.Location.Line));
     }
+
+    public static TheoryData<string, string> FollowUpBlocks() => new()
+    {
+        { "posthoc", "```posthoc pairs\nof: main\nmethod: auto\n```" },
+        { "contrasts", "```contrasts pairs\nof: main\ncompare:\n  nitrate vs control: {nitrate: 1, control: -1}\n```" },
+        { "equivalence", "```equivalence pairs\nof: main\npair: [nitrate, control]\nmargin: 0.5\n```" },
+    };
+
+    [Theory]
+    [MemberData(nameof(FollowUpBlocks))]
+    public void FollowUpOfATwoFactorAnova_WithoutFactor_ReportedWithAMistakeElsewhere(string kind, string block)
+    {
+        // Two mistakes, two messages, in one run: a follow-up block of an anova of two factors
+        // does not say which factor it compares, and the power block misspells a key. The factor
+        // choice used to be found only when evaluating, after the misspelt key was mended.
+        var study = BaseStudy.Replace("factors: [fertiliser]\nwelch: auto", "factors: [fertiliser, site]", StringComparison.Ordinal)
+            .Replace("```posthoc pairs\nof: main\nmethod: auto\n```", block, StringComparison.Ordinal)
+            .Replace("target: 0.9", "traget: 0.9", StringComparison.Ordinal);
+        using var run = new StudyRun().Study(study).File("data/trial.csv", BaseData);
+        var result = run.Compile();
+        Assert.False(result.Succeeded);
+        Assert.Equal(["SP0201", "SP0235"], result.Diagnostics.Select(d => d.Code).Order(StringComparer.Ordinal).ToArray());
+        var choice = result.Diagnostics.Single(d => d.Code == "SP0235");
+        Assert.Equal(LineOf(study, "```" + kind + " pairs"), choice.Location.Line);
+    }
+
+    [Theory]
+    [MemberData(nameof(FollowUpBlocks))]
+    public void FollowUpWithAFactorTheAnovaLacks_ReportedAtTheNameWithAMistakeElsewhere(string kind, string block)
+    {
+        // 'factor: fertilizer' (the anova's factor is 'fertiliser') is reported at the name, with
+        // the suggestion, in the same run as the power block's misspelt key.
+        var study = BaseStudy.Replace("factors: [fertiliser]\nwelch: auto", "factors: [fertiliser, site]", StringComparison.Ordinal)
+            .Replace("```posthoc pairs\nof: main\nmethod: auto\n```", block.Replace("of: main\n", "of: main\nfactor: fertilizer\n", StringComparison.Ordinal), StringComparison.Ordinal)
+            .Replace("target: 0.9", "traget: 0.9", StringComparison.Ordinal);
+        using var run = new StudyRun().Study(study).File("data/trial.csv", BaseData);
+        var result = run.Compile();
+        Assert.False(result.Succeeded);
+        Assert.Equal(["SP0201", "SP0234"], result.Diagnostics.Select(d => d.Code).Order(StringComparer.Ordinal).ToArray());
+        var name = result.Diagnostics.Single(d => d.Code == "SP0234");
+        Assert.Equal(LineOf(study, "factor: fertilizer"), name.Location.Line);
+        Assert.Contains("did you mean 'fertiliser'?", name.Message, StringComparison.Ordinal);
+        Assert.Contains(kind, study, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void PowerWithAFactorTheAnovaLacks_IsNamedAtTheFactor()
+    {
+        // The power block's 'factor' naming no factor of the anova was reported as "say which
+        // one" at the block; it is now the unknown name, at the name, with the suggestion.
+        var study = BaseStudy.Replace("factors: [fertiliser]\nwelch: auto", "factors: [fertiliser, site]", StringComparison.Ordinal)
+            .Replace("groups: 3\neffect: 0.4\ntarget: 0.9", "of: main\nfactor: fertilizer\ntarget: 0.9", StringComparison.Ordinal)
+            .Replace("method: auto", "factor: fertiliser\nmethod: auto", StringComparison.Ordinal);
+        using var run = new StudyRun().Study(study).File("data/trial.csv", BaseData);
+        var result = run.Compile();
+        var d = Assert.Single(result.Diagnostics);
+        Assert.Equal("SP0234", d.Code);
+        Assert.Equal(LineOf(study, "factor: fertilizer"), d.Location.Line);
+        Assert.Contains("did you mean 'fertiliser'?", d.Message, StringComparison.Ordinal);
+    }
+
+    /// <summary>The 0-based line of the first line of <paramref name="text"/> starting with <paramref name="start"/>.</summary>
+    private static int LineOf(string text, string start) =>
+        text.Split('\n').Select((l, i) => (l, i)).First(p => p.l.StartsWith(start, StringComparison.Ordinal)).i;
 
     [Fact]
     public void NumericLevels_MatchCellsAsNumbers()

@@ -77,6 +77,7 @@ public sealed class ContrastsKind : BlockKind
     public override object? BindOptions(KeyReader keys, BindContext context, DiagnosticBag diagnostics)
     {
         var f = keys.Scalar("factor");
+        AnovaFactorChoice.Check(context.AnovaOf(keys, Name, new DiagnosticBag()), f, keys, context, diagnostics);
         var adjust = keys.Choice("adjust", Adjustments);
         var hasCompare = keys.Has("compare");
         var hasTrend = keys.Has("trend");

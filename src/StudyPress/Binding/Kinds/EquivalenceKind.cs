@@ -55,6 +55,7 @@ public sealed class EquivalenceKind : BlockKind
     {
         var before = diagnostics.Items.Count;
         var f = keys.Scalar("factor");
+        AnovaFactorChoice.Check(context.AnovaOf(keys, Name, new DiagnosticBag()), f, keys, context, diagnostics);
         var goal = keys.Choice("goal", Goals) ?? "equivalence";
         var nonInferiority = goal == "non-inferiority";
         var better = keys.Choice("better", Betters);

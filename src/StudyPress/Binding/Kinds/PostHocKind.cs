@@ -50,6 +50,7 @@ public sealed class PostHocKind : BlockKind
     public override object? BindOptions(KeyReader keys, BindContext context, DiagnosticBag diagnostics)
     {
         var f = keys.Scalar("factor");
+        AnovaFactorChoice.Check(context.AnovaOf(keys, Name, new DiagnosticBag()), f, keys, context, diagnostics);
         var c = keys.Scalar("control");
         var method = keys.Choice("method", Methods) ?? "auto";
         var d = keys.Scalar("direction");

@@ -66,14 +66,12 @@ public sealed class PowerKind : BlockKind
             var anova = context.AnovaOf(keys, Name, diagnostics);
             of = anova?.Id;
 
-            // An anova of several factors needs 'factor': said here, with any other missing key,
-            // rather than after those are mended (an anova with a declared layout or covariates is
-            // refused as a whole when evaluated).
-            if (anova is { Kind: AnovaKind } && anova.Factors.Count > 1
-                && anova.Factors.All(f => !f.Layout.IsDeclared) && !anova.OptionsOf<AnovaKind.Options>().HasCovariates
-                && !keys.Has("factor") && !keys.Misspelt.Overlaps(["factor"]))
+            // The factor is checked here, with any other missing key, rather than after those are
+            // mended; an anova with a declared layout or covariates is refused as a whole when
+            // evaluated, so only plain anovas are judged.
+            if (anova is not null && anova.Factors.All(f => !f.Layout.IsDeclared) && !(anova.Kind is AnovaKind && anova.OptionsOf<AnovaKind.Options>().HasCovariates))
             {
-                diagnostics.FactorChoiceNeeded(context.Syntax.Location, anova.Id);
+                AnovaFactorChoice.Check(anova, keys.Scalar("factor"), keys, context, diagnostics);
             }
         }
 
