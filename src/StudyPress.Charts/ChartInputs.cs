@@ -1,10 +1,30 @@
 namespace StudyPress.Charts;
 
-/// <summary>The observations of one group (in level order), for <see cref="StatCharts.GroupDistributions"/>.</summary>
-public sealed record GroupSample(string Label, IReadOnlyList<double> Values);
+/// <summary>
+/// The observations of one group (in level order), for <see cref="StatCharts.GroupDistributions"/>.
+/// A crossed cell may also give its <see cref="Outer"/> label (the levels of every factor but the
+/// last) and its <see cref="Inner"/> label (the last factor's level): when every group has both,
+/// the x axis draws them in two tiers, the inner label under each box and the outer label once
+/// under each run of boxes that share it, so that long level names stay apart.
+/// </summary>
+public sealed record GroupSample(string Label, IReadOnlyList<double> Values)
+{
+    /// <summary>The outer tier's label, or null.</summary>
+    public string? Outer { get; init; }
 
-/// <summary>A group mean with its confidence interval, for <see cref="StatCharts.GroupMeans"/>.</summary>
-public sealed record GroupMean(string Label, double Mean, double Lower, double Upper);
+    /// <summary>The inner tier's label, or null.</summary>
+    public string? Inner { get; init; }
+}
+
+/// <summary>A group mean with its confidence interval, for <see cref="StatCharts.GroupMeans"/> (two-tier labels as for <see cref="GroupSample"/>).</summary>
+public sealed record GroupMean(string Label, double Mean, double Lower, double Upper)
+{
+    /// <summary>The outer tier's label, or null.</summary>
+    public string? Outer { get; init; }
+
+    /// <summary>The inner tier's label, or null.</summary>
+    public string? Inner { get; init; }
+}
 
 /// <summary>The mean of one cell (level of A × level of B), for <see cref="StatCharts.InteractionPlot"/>.</summary>
 public sealed record CellMean(string LevelA, string LevelB, double Mean);

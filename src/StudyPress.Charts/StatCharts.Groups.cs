@@ -31,7 +31,7 @@ public static partial class StatCharts
         }
 
         var y = LinearScale.Containing(groups.SelectMany(g => g.Values));
-        var x = new CategoryScale(groups.Select(g => g.Label).ToList());
+        var x = new CategoryScale([.. groups.Select(g => g.Label)], [.. groups.Select(g => g.Inner)], [.. groups.Select(g => g.Outer)]);
         // The legend names the two point markers; the outlier entry only when a group has one.
         bool anyOutlier = groups.Any(g => g.Values.Count > 0 && ChartMath.Box(g.Values.OrderBy(v => v).ToList()).Outliers.Count > 0);
         var legend = new List<LegendEntry> { new("Observation", null, MarkerShape.Circle, Palette.Blue) };
@@ -113,7 +113,7 @@ public static partial class StatCharts
         }
 
         var y = LinearScale.Containing(means.SelectMany(m => new[] { m.Mean, m.Lower, m.Upper }));
-        var x = new CategoryScale(means.Select(m => m.Label).ToList());
+        var x = new CategoryScale([.. means.Select(m => m.Label)], [.. means.Select(m => m.Inner)], [.. means.Select(m => m.Outer)]);
         string ciText = confidenceLevel + " confidence interval";
         var legend = new List<LegendEntry>
         {

@@ -26,6 +26,9 @@ internal sealed class Plot
     private const double TickLength = 5;
     private const double LegendSample = 24;
 
+    /// <summary>Space between the inner category labels and the outer tier's bracket.</summary>
+    private const double OuterTierGap = 8;
+
     private readonly List<Element> data = [];
     private readonly List<LegendEntry> legend;
     private readonly ChartLabels labels;
@@ -160,6 +163,19 @@ internal sealed class Plot
                 xCatRotated = true;
                 xCatMaxWidth = Math.Min(widest, 110);
                 bottom += (xCatMaxWidth * Math.Sqrt(0.5)) + xCatSize + TickLength + 6;
+
+                // The first label reaches left of its band by up to its width times cos 45°: widen
+                // the left margin so that it stays inside the chart (the band narrows with it).
+                double reach = (xCatMaxWidth * Math.Sqrt(0.5)) - (xCatSize * 0.3) + 2;
+                double half = 1.0 / (2 * XCat.Count);
+                double needed = (reach - ((Width - right) * half)) / (1 - half);
+                left = Math.Max(left, needed);
+            }
+
+            if (XCat.Outer is not null)
+            {
+                // The outer tier: a bracket under each run of bands and its label.
+                bottom += OuterTierGap + TickSize + 4;
             }
         }
 
@@ -241,7 +257,7 @@ internal sealed class Plot
             for (int i = 0; i < XCat.Count; i++)
             {
                 double px = XCat.Centre(i);
-                string full = XCat.Names[i];
+                string full = XCat.Full[i];
                 string shown = XCategoryText(i);
                 string? tip = shown == full ? null : full;
                 axes.Add(new LineEl(new(px, Bottom), new(px, Bottom + TickLength), axisPaint));
@@ -254,6 +270,19 @@ internal sealed class Plot
                 {
                     axes.Add(new TextEl(new(px, Bottom + TickLength + xCatSize + 1), shown, xCatSize, Palette.Ink, Anchor.Middle, 0, tip, "category-label"));
                 }
+            }
+
+            double tier = Bottom + TickLength + xCatSize + 6 + (xCatRotated ? xCatMaxWidth * Math.Sqrt(0.5) : 0) + OuterTierGap - 4;
+            var bracket = Paint.StrokeOnly(Palette.Axis, 1);
+            foreach (var (label, first, last) in XCat.OuterRuns())
+            {
+                double x0 = XCat.Centre(first) - (Math.Abs(XCat.Band) / 2) + 3;
+                double x1 = XCat.Centre(last) + (Math.Abs(XCat.Band) / 2) - 3;
+                axes.Add(new LineEl(new(x0, tier - 4), new(x0, tier), bracket, "category-group-bracket"));
+                axes.Add(new LineEl(new(x0, tier), new(x1, tier), bracket, "category-group-bracket"));
+                axes.Add(new LineEl(new(x1, tier - 4), new(x1, tier), bracket, "category-group-bracket"));
+                string shown = ChartFont.Truncate(label, TickSize, Math.Max(x1 - x0, 0));
+                axes.Add(new TextEl(new((x0 + x1) / 2, tier + TickSize + 2), shown, TickSize, Palette.Ink, Anchor.Middle, 0, shown == label ? null : label, "category-group-label"));
             }
         }
 

@@ -155,10 +155,23 @@ public static class Figures
         // Above the limit the thinned order statistics come from the cell's shared sorted values.
         var groups = cells.Select(c => new GroupSample(
             c.Label,
-            c.Positions.Length <= MaxPoints ? [.. c.Positions.Select(i => data.Values[i])] : ThinSorted(SortedValues(data, c.Positions)))).ToList();
+            c.Positions.Length <= MaxPoints ? [.. c.Positions.Select(i => data.Values[i])] : ThinSorted(SortedValues(data, c.Positions)))
+        {
+            Outer = Tiers(data, c.Codes).Outer,
+            Inner = Tiers(data, c.Codes).Inner,
+        }).ToList();
         var largest = cells.Max(c => c.Positions.Length);
         return new BoxFigure(groups, [.. data.Factors.Select(f => f.Spec.Display)], data.ResponseLabel, largest) { UserCaption = caption };
     }
+
+    /// <summary>
+    /// A crossed cell's two axis tiers: the levels of every factor but the last, joined as in the
+    /// cell's name, and the last factor's level; nulls for fewer than two factors.
+    /// </summary>
+    private static (string? Outer, string? Inner) Tiers(BlockData data, int[] codes) =>
+        data.Factors.Count < 2 || codes.Length != data.Factors.Count
+            ? (null, null)
+            : (string.Join(" / ", codes[..^1].Select((c, j) => data.Factors[j].Levels[c])), data.Factors[^1].Levels[codes[^1]]);
 
     /// <summary>Group means with t confidence intervals.</summary>
     public static FigurePlan? Means(BlockData data, double alpha, string? caption = null)
@@ -170,7 +183,7 @@ public static class Figures
             SortAllCells(data);
         }
 
-        foreach (var (label, _, values, positions) in cells)
+        foreach (var (label, codes, values, positions) in cells)
         {
             var s = Statistics.Descriptive.Descriptives.ComputeSorted(values, SortedValues(data, positions), data.Centre, alpha, data.ExactMean(positions));
             if (!s.CiLow.IsDefined)
@@ -178,7 +191,8 @@ public static class Figures
                 continue;
             }
 
-            means.Add(new GroupMean(label, s.Mean, s.CiLow.Value, s.CiHigh.Value));
+            var (outer, inner) = Tiers(data, codes);
+            means.Add(new GroupMean(label, s.Mean, s.CiLow.Value, s.CiHigh.Value) { Outer = outer, Inner = inner });
         }
 
         if (means.Count == 0)
