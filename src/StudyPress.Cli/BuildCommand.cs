@@ -302,25 +302,33 @@ public static class BuildCommand
         // The cache is about the report only; a manifest, figures, Word or LaTeX asked for are always written.
         var internalErrors = 0;
         var useCache = !request.Force && request.Json is null && request.FiguresDir is null && request.Docx is null && request.Latex is null;
-        Parallel.ForEach(
-            toBuild,
-            new ParallelOptions { MaxDegreeOfParallelism = request.Jobs ?? Environment.ProcessorCount },
-            study =>
+        void BuildOne(string study)
+        {
+            StudyBuild outcome;
+            try
             {
-                StudyBuild outcome;
-                try
-                {
-                    outcome = StudyBuilder.Build(study, options, useCache, request.Json, request.FiguresDir is null ? null : figureFolders[study], exports[study].Docx, exports[study].Latex);
-                }
-                catch (Exception e)
-                {
-                    // A bug met by one study must not stop the others; the run then exits 70.
-                    Interlocked.Exchange(ref internalErrors, 1);
-                    outcome = new StudyBuild(study, StudyOutcome.Failed, Compilation.OutputPathFor(study, options), [$"{study}:1:1: error: internal error: {e.GetType().Name}: {e.Message.Split('\n')[0]}. This is a bug in studypress; please report it together with the study that caused it."]);
-                }
+                outcome = StudyBuilder.Build(study, options, useCache, request.Json, request.FiguresDir is null ? null : figureFolders[study], exports[study].Docx, exports[study].Latex);
+            }
+            catch (Exception e)
+            {
+                // A bug met by one study must not stop the others; the run then exits 70.
+                Interlocked.Exchange(ref internalErrors, 1);
+                outcome = new StudyBuild(study, StudyOutcome.Failed, Compilation.OutputPathFor(study, options), [$"{study}:1:1: error: internal error: {e.GetType().Name}: {e.Message.Split('\n')[0]}. This is a bug in studypress; please report it together with the study that caused it."]);
+            }
 
-                progress.Done(outcome);
-            });
+            progress.Done(outcome);
+        }
+
+        // One study is built on this thread: starting the thread pool for it costs more than the
+        // small study it builds (docs/performance.md, "Start-up after Main (round 9)").
+        if (toBuild.Count == 1)
+        {
+            BuildOne(toBuild[0]);
+        }
+        else
+        {
+            Parallel.ForEach(toBuild, new ParallelOptions { MaxDegreeOfParallelism = request.Jobs ?? Environment.ProcessorCount }, BuildOne);
+        }
 
         progress.Finish();
         StageTimes.Mark("done");
