@@ -33,7 +33,7 @@ public static class ReportTemplate
     public static string Script { get; } = Read("report.js");
 
     /// <summary>SHA-256 over the shell, stylesheet and script: what a report records as its template.</summary>
-    public static string Sha256 { get; } = Convert.ToHexStringLower(SHA256.HashData(Encoding.UTF8.GetBytes(Shell + "\0" + Css + "\0" + Script)));
+    public static string Sha256 { get; } = ContentHash.Hex(Encoding.UTF8.GetBytes(Shell + "\0" + Css + "\0" + Script));
 
     private static readonly Lazy<Template> Parsed = new(() =>
     {
@@ -147,7 +147,7 @@ internal static class ReportRenderer
     public static string ContentSecurityPolicy { get; } =
         "default-src 'none'; style-src '" + Hash(Style) + "'; script-src '" + Hash(ReportTemplate.Script) + "'; img-src data:; font-src data:; base-uri 'none'; form-action 'none'";
 
-    internal static string Hash(string inline) => "sha256-" + Convert.ToBase64String(SHA256.HashData(Encoding.UTF8.GetBytes(inline)));
+    internal static string Hash(string inline) => "sha256-" + Convert.ToBase64String(ContentHash.Of(Encoding.UTF8.GetBytes(inline)));
 
     private static string InputsTable(IReadOnlyList<LoadedDataset> inputs)
     {
