@@ -13,6 +13,13 @@ internal static class SvgRenderer
     public static string Render(Scene scene, string title, string description)
     {
         var sb = new StringBuilder(8192);
+        Render(sb, scene, title, description);
+        return sb.ToString();
+    }
+
+    /// <summary>Appends what <see cref="Render(Scene, string, string)"/> returns to <paramref name="sb"/>.</summary>
+    public static void Render(StringBuilder sb, Scene scene, string title, string description)
+    {
         sb.Append("<svg xmlns=\"http://www.w3.org/2000/svg\" class=\"studypress-chart\" role=\"img\" width=\"")
           .Append(N(scene.Width)).Append("\" height=\"").Append(N(scene.Height))
           .Append("\" viewBox=\"0 0 ").Append(N(scene.Width)).Append(' ').Append(N(scene.Height))
@@ -25,7 +32,6 @@ internal static class SvgRenderer
         }
 
         sb.Append("</svg>\n");
-        return sb.ToString();
     }
 
     private static void Write(StringBuilder sb, Element e, int depth)

@@ -79,7 +79,7 @@ internal static class ReportRenderer
         var body = new StringWriter(CultureInfo.InvariantCulture);
         var renderer = new HtmlRenderer(body);
         StudyParser.Pipeline(syntax.Path).Setup(renderer);
-        renderer.ObjectRenderers.Insert(0, new AnalysisBlockRenderer(outcomes, figures, context));
+        renderer.ObjectRenderers.Insert(0, new AnalysisBlockRenderer(outcomes, figures, context, body));
         renderer.ObjectRenderers.Insert(0, new ReferenceRenderer(references, context));
         if (header.Report.RawHtml)
         {
@@ -192,7 +192,12 @@ internal static class ReportRenderer
         + "A small p-value is not a large or important effect, and a large p-value does not show that there is no effect.</p>"
         + "<p>Where these results inform clinical, safety, environmental or regulatory decisions, follow that field's reporting standards and have the analysis reviewed by a qualified person.</p>";
 
-    private sealed class AnalysisBlockRenderer(IReadOnlyDictionary<AnalysisBlockSyntax, BlockOutcome> outcomes, IReadOnlyDictionary<BlockOutcome, IReadOnlyList<Figure>> figures, RenderContext context)
+    /// <summary>
+    /// An analysis block's section. Its charts are written straight into the page's writer
+    /// (<paramref name="body"/>), not built as strings and copied through the block's HTML: the SVG is
+    /// most of a small report, and those copies were most of its allocation.
+    /// </summary>
+    private sealed class AnalysisBlockRenderer(IReadOnlyDictionary<AnalysisBlockSyntax, BlockOutcome> outcomes, IReadOnlyDictionary<BlockOutcome, IReadOnlyList<Figure>> figures, RenderContext context, StringWriter body)
         : HtmlObjectRenderer<AnalysisBlockSyntax>
     {
         protected override void Write(HtmlRenderer renderer, AnalysisBlockSyntax obj)
@@ -209,7 +214,20 @@ internal static class ReportRenderer
             kind.Render(html, outcome, context);
             foreach (var figure in figures[outcome])
             {
-                html.Raw("<figure class=\"chart chart-").Raw(figure.Type).Raw("\">").Raw(figure.Chart.ToSvg()).Raw("<figcaption>").Text(figure.Caption).Raw("</figcaption></figure>");
+                html.Raw("<figure class=\"chart chart-").Raw(figure.Type).Raw("\">");
+                if (ReferenceEquals(renderer.Writer, body))
+                {
+                    // What is written so far goes through the renderer (its line state), the chart after it straight into the page.
+                    renderer.Write(html.ToString());
+                    figure.Chart.WriteSvg(body.GetStringBuilder());
+                    html = new HtmlWriter();
+                }
+                else
+                {
+                    html.Raw(figure.Chart.ToSvg());
+                }
+
+                html.Raw("<figcaption>").Text(figure.Caption).Raw("</figcaption></figure>");
             }
 
             var warnings = kind.Warnings(outcome, context).ToList();
