@@ -76,7 +76,10 @@ internal static class ReportRenderer
     {
         var context = new RenderContext(new NumberFormat(header.Report.Numbers), header.Alpha);
         using var numbers = NumberFormat.Use(context.Format);
-        var body = new StringWriter(CultureInfo.InvariantCulture);
+        // Sized for the charts (about 10,000 characters each) and the prose, so that the page is
+        // written into one buffer rather than a chain of small blocks (docs/performance.md,
+        // "Start-up after Main (round 9)"); a larger page simply grows it.
+        var body = new StringWriter(new StringBuilder(16_384 + (12_288 * figures.Values.Sum(f => f.Count))), CultureInfo.InvariantCulture);
         var renderer = new HtmlRenderer(body);
         StudyParser.Pipeline(syntax.Path).Setup(renderer);
         renderer.ObjectRenderers.Insert(0, new AnalysisBlockRenderer(outcomes, figures, context, body));
@@ -137,6 +140,15 @@ internal static class ReportRenderer
             ObjectRecursionLimit = 20,
         };
         tc.PushGlobal(model);
+
+        // The page is the shell's text with the values in it: at most this long, written into one buffer.
+        var length = ReportTemplate.Shell.Length;
+        foreach (var value in model.Values)
+        {
+            length += (value as string)?.Length ?? 0;
+        }
+
+        tc.PushOutput(new StringBuilderOutput(new StringBuilder(length)));
         return ReportTemplate.Template.Render(tc);
     }
 
