@@ -336,7 +336,7 @@ public static class BuildCommand
     }
 
     /// <summary>Managed memory a single study may allocate before the garbage collector runs at all.</summary>
-    internal const long NoCollectionBytes = 32L << 20;
+    public const long NoCollectionBytes = 32L << 20;
 
     /// <summary>
     /// Builds one study with no garbage collection for its first <see cref="NoCollectionBytes"/> of
@@ -345,7 +345,7 @@ public static class BuildCommand
     /// much as rendering the report (docs/performance.md, "Start-up after Main (round 9)"). A study
     /// that allocates more ends the region at its limit and is collected as before.
     /// </summary>
-    internal static void BuildAlone(Action build)
+    public static void BuildAlone(Action build)
     {
         bool region;
         try
