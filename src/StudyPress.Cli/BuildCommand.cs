@@ -336,14 +336,16 @@ public static class BuildCommand
     }
 
     /// <summary>Managed memory a single study may allocate before the garbage collector runs at all.</summary>
-    public const long NoCollectionBytes = 32L << 20;
+    public const long NoCollectionBytes = 16L << 20;
 
     /// <summary>
     /// Builds one study with no garbage collection for its first <see cref="NoCollectionBytes"/> of
     /// allocation. A small study allocates a few megabytes, just past the collector's first budget
     /// here, and that one collection (marking and compacting everything still in use) cost about as
-    /// much as rendering the report (docs/performance.md, "Start-up after Main (round 9)"). A study
-    /// that allocates more ends the region at its limit and is collected as before.
+    /// much as rendering the report (docs/performance.md, "Start-up after Main (round 9)"). Starting
+    /// the region collects once, over the few objects alive then (under a millisecond for 16 MB; a
+    /// larger region costs more). A study that allocates more ends the region at its limit and is
+    /// collected as before.
     /// </summary>
     public static void BuildAlone(Action build)
     {
