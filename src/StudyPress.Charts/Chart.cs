@@ -51,6 +51,13 @@ public sealed class Chart
     /// </summary>
     public string ToSvg() => SvgRenderer.Render(scene, Title, Description);
 
+    /// <summary>Appends <see cref="ToSvg"/>'s text to <paramref name="into"/> (no string of its own: a report writes its charts straight into the page).</summary>
+    public void WriteSvg(System.Text.StringBuilder into)
+    {
+        ArgumentNullException.ThrowIfNull(into);
+        SvgRenderer.Render(into, scene, Title, Description);
+    }
+
     /// <summary>A PNG of 2·Width × 2·Height pixels drawn with the embedded font.</summary>
     public byte[] ToPng() => PngRenderer.Render(scene);
 }

@@ -13,7 +13,9 @@ namespace StudyPress.Charts;
 /// </summary>
 /// <remarks>
 /// The subset has no kerning or shaping tables, so a string's width is the sum of its glyphs'
-/// advance widths both here and in a browser. Characters outside the subset are drawn with the
+/// advance widths both here and in a browser. <see cref="MeasureWidth"/> reads those advances from
+/// the font's tables (<see cref="FontAdvances"/>, the same arithmetic as SkiaSharp's, bit for bit),
+/// so that drawing the SVG charts does not load SkiaSharp's native library. Characters outside the subset are drawn with the
 /// font's missing-glyph box here, while a browser may fall back to another font for them.
 /// </remarks>
 public static class ChartFont
@@ -25,6 +27,10 @@ public static class ChartFont
 
     private static readonly Lazy<byte[]> Bytes = new(LoadBytes);
     private static readonly Lazy<SKTypeface> Face = new(LoadTypeface);
+
+    // The SVG path measures with the font's own tables (no native library to load, no FreeType
+    // face to parse); SkiaSharp measures only what FontAdvances leaves to it, and draws the PNGs.
+    private static readonly Lazy<FontAdvances> Advances = new(() => FontAdvances.Read(Bytes.Value));
     private static readonly Lazy<string> FontFace = new(BuildFontFace);
 
     /// <summary>A copy of the embedded TrueType subset.</summary>
@@ -45,8 +51,20 @@ public static class ChartFont
             return 0;
         }
 
-        using var font = CreateFont((float)fontSize);
-        return font.MeasureText(BidiText.WithoutIsolates(text));
+        var shown = BidiText.WithoutIsolates(text);
+        if (Advances.Value.TryMeasure(shown, (float)fontSize, out var width))
+        {
+            return width;
+        }
+
+        return SkiaWidth(shown, (float)fontSize);
+    }
+
+    /// <summary>SkiaSharp's width of <paramref name="text"/> (no isolates removed): what <see cref="MeasureWidth"/> equals.</summary>
+    internal static float SkiaWidth(string text, float fontSize)
+    {
+        using var font = CreateFont(fontSize);
+        return font.MeasureText(text);
     }
 
     /// <summary>

@@ -302,29 +302,81 @@ public static class BuildCommand
         // The cache is about the report only; a manifest, figures, Word or LaTeX asked for are always written.
         var internalErrors = 0;
         var useCache = !request.Force && request.Json is null && request.FiguresDir is null && request.Docx is null && request.Latex is null;
-        Parallel.ForEach(
-            toBuild,
-            new ParallelOptions { MaxDegreeOfParallelism = request.Jobs ?? Environment.ProcessorCount },
-            study =>
+        void BuildOne(string study)
+        {
+            StudyBuild outcome;
+            try
             {
-                StudyBuild outcome;
-                try
-                {
-                    outcome = StudyBuilder.Build(study, options, useCache, request.Json, request.FiguresDir is null ? null : figureFolders[study], exports[study].Docx, exports[study].Latex);
-                }
-                catch (Exception e)
-                {
-                    // A bug met by one study must not stop the others; the run then exits 70.
-                    Interlocked.Exchange(ref internalErrors, 1);
-                    outcome = new StudyBuild(study, StudyOutcome.Failed, Compilation.OutputPathFor(study, options), [$"{study}:1:1: error: internal error: {e.GetType().Name}: {e.Message.Split('\n')[0]}. This is a bug in studypress; please report it together with the study that caused it."]);
-                }
+                outcome = StudyBuilder.Build(study, options, useCache, request.Json, request.FiguresDir is null ? null : figureFolders[study], exports[study].Docx, exports[study].Latex);
+            }
+            catch (Exception e)
+            {
+                // A bug met by one study must not stop the others; the run then exits 70.
+                Interlocked.Exchange(ref internalErrors, 1);
+                outcome = new StudyBuild(study, StudyOutcome.Failed, Compilation.OutputPathFor(study, options), [$"{study}:1:1: error: internal error: {e.GetType().Name}: {e.Message.Split('\n')[0]}. This is a bug in studypress; please report it together with the study that caused it."]);
+            }
 
-                progress.Done(outcome);
-            });
+            progress.Done(outcome);
+        }
+
+        // One study is built on this thread: starting the thread pool for it costs more than the
+        // small study it builds (docs/performance.md, "Start-up after Main (round 9)").
+        if (toBuild.Count == 1)
+        {
+            BuildAlone(() => BuildOne(toBuild[0]));
+        }
+        else
+        {
+            Parallel.ForEach(toBuild, new ParallelOptions { MaxDegreeOfParallelism = request.Jobs ?? Environment.ProcessorCount }, BuildOne);
+        }
 
         progress.Finish();
         StageTimes.Mark("done");
         return internalErrors != 0 ? StudyPressCommand.InternalError : progress.Failed == 0 ? StudyPressCommand.Ok : StudyPressCommand.BadInput;
+    }
+
+    /// <summary>Managed memory a single study may allocate before the garbage collector runs at all.</summary>
+    public const long NoCollectionBytes = 16L << 20;
+
+    /// <summary>
+    /// Builds one study with no garbage collection for its first <see cref="NoCollectionBytes"/> of
+    /// allocation. A small study allocates a few megabytes, just past the collector's first budget
+    /// here, and that one collection (marking and compacting everything still in use) cost about as
+    /// much as rendering the report (docs/performance.md, "Start-up after Main (round 9)"). Starting
+    /// the region collects once, over the few objects alive then (under a millisecond for 16 MB; a
+    /// larger region costs more). A study that allocates more ends the region at its limit and is
+    /// collected as before.
+    /// </summary>
+    public static void BuildAlone(Action build)
+    {
+        bool region;
+        try
+        {
+            region = GC.TryStartNoGCRegion(NoCollectionBytes);
+        }
+        catch (Exception e) when (e is ArgumentOutOfRangeException or InvalidOperationException)
+        {
+            region = false;
+        }
+
+        try
+        {
+            build();
+        }
+        finally
+        {
+            if (region && System.Runtime.GCSettings.LatencyMode == System.Runtime.GCLatencyMode.NoGCRegion)
+            {
+                try
+                {
+                    GC.EndNoGCRegion();
+                }
+                catch (InvalidOperationException)
+                {
+                    // The region already ended (a collection happened): nothing to end.
+                }
+            }
+        }
     }
 
     /// <summary>A path for messages: relative to the working folder when it lies below it, else as given.</summary>

@@ -3,6 +3,7 @@ using System.Text;
 using System.Text.Json;
 using StudyPress.Rendering;
 using StudyPress.Reproducibility;
+using StudyPress.Syntax;
 
 namespace StudyPress;
 
@@ -41,7 +42,7 @@ public static class BuildCache
     public static string EntryPath(string studyPath, string outputPath)
     {
         var full = Path.GetFullPath(studyPath);
-        var key = Convert.ToHexStringLower(SHA256.HashData(Encoding.UTF8.GetBytes(full)))[..16];
+        var key = ContentHash.Hex(Encoding.UTF8.GetBytes(full))[..16];
         return Path.Combine(Path.GetDirectoryName(Path.GetFullPath(outputPath))!, FolderName, Path.GetFileNameWithoutExtension(full) + "-" + key + ".json");
     }
 
@@ -110,7 +111,7 @@ public static class BuildCache
             w.WriteString("toolBuild", ToolBuild);
             w.WriteString("template", ReportTemplate.Sha256);
             w.WriteString("options", OptionsKey(options));
-            w.WriteString("reportSha256", Convert.ToHexStringLower(SHA256.HashData(html)));
+            w.WriteString("reportSha256", ContentHash.Hex(html));
             w.WriteString("studySha256", root.GetProperty("study").GetProperty("sha256").GetString());
             w.WriteStartArray("inputs");
             foreach (var input in root.GetProperty("inputs").EnumerateArray())
@@ -139,6 +140,6 @@ public static class BuildCache
         }
 
         using var stream = File.OpenRead(path);
-        return string.Equals(Convert.ToHexStringLower(SHA256.HashData(stream)), expected, StringComparison.Ordinal);
+        return string.Equals(ContentHash.Hex(stream), expected, StringComparison.Ordinal);
     }
 }

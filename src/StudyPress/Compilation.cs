@@ -189,7 +189,7 @@ public static class Compilation
         var identity = new ManifestHeader(
             ToolVersion,
             Path.GetRelativePath(Path.GetDirectoryName(outputPath)!, Path.GetFullPath(studyPath)).Replace('\\', '/'),
-            Convert.ToHexStringLower(SHA256.HashData(bytes)),
+            ContentHash.Hex(bytes),
             ReportTemplate.Name,
             ReportTemplate.Sha256,
             options.SourceDateEpoch is { } epoch ? DateTimeOffset.FromUnixTimeSeconds(epoch).UtcDateTime.ToString("yyyy-MM-dd'T'HH:mm:ss'Z'", System.Globalization.CultureInfo.InvariantCulture) : null);

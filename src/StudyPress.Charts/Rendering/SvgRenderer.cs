@@ -13,9 +13,16 @@ internal static class SvgRenderer
     public static string Render(Scene scene, string title, string description)
     {
         var sb = new StringBuilder(8192);
+        Render(sb, scene, title, description);
+        return sb.ToString();
+    }
+
+    /// <summary>Appends what <see cref="Render(Scene, string, string)"/> returns to <paramref name="sb"/>.</summary>
+    public static void Render(StringBuilder sb, Scene scene, string title, string description)
+    {
         sb.Append("<svg xmlns=\"http://www.w3.org/2000/svg\" class=\"studypress-chart\" role=\"img\" width=\"")
-          .Append(N(scene.Width)).Append("\" height=\"").Append(N(scene.Height))
-          .Append("\" viewBox=\"0 0 ").Append(N(scene.Width)).Append(' ').Append(N(scene.Height))
+          .AppendN(scene.Width).Append("\" height=\"").AppendN(scene.Height)
+          .Append("\" viewBox=\"0 0 ").AppendN(scene.Width).Append(' ').AppendN(scene.Height)
           .Append("\" font-family=\"").Append(ChartFont.FamilyName).Append("\">\n");
         sb.Append("<title>").Append(Esc(BidiText.Isolate(title))).Append("</title>\n");
         sb.Append("<desc>").Append(Esc(BidiText.Isolate(description))).Append("</desc>\n");
@@ -25,7 +32,6 @@ internal static class SvgRenderer
         }
 
         sb.Append("</svg>\n");
-        return sb.ToString();
     }
 
     private static void Write(StringBuilder sb, Element e, int depth)
@@ -36,8 +42,8 @@ internal static class SvgRenderer
             case LineEl l:
                 sb.Append("<line");
                 Cls(sb, l.Class);
-                sb.Append(" x1=\"").Append(N(l.A.X)).Append("\" y1=\"").Append(N(l.A.Y))
-                  .Append("\" x2=\"").Append(N(l.B.X)).Append("\" y2=\"").Append(N(l.B.Y)).Append('"');
+                sb.Append(" x1=\"").AppendN(l.A.X).Append("\" y1=\"").AppendN(l.A.Y)
+                  .Append("\" x2=\"").AppendN(l.B.X).Append("\" y2=\"").AppendN(l.B.Y).Append('"');
                 PaintAttrs(sb, l.Paint with { Fill = null });
                 sb.Append("/>\n");
                 break;
@@ -58,24 +64,24 @@ internal static class SvgRenderer
             case RectEl r:
                 sb.Append("<rect");
                 Cls(sb, r.Class);
-                sb.Append(" x=\"").Append(N(r.X)).Append("\" y=\"").Append(N(r.Y))
-                  .Append("\" width=\"").Append(N(r.Width)).Append("\" height=\"").Append(N(r.Height)).Append('"');
+                sb.Append(" x=\"").AppendN(r.X).Append("\" y=\"").AppendN(r.Y)
+                  .Append("\" width=\"").AppendN(r.Width).Append("\" height=\"").AppendN(r.Height).Append('"');
                 PaintAttrs(sb, r.Paint);
                 sb.Append("/>\n");
                 break;
             case CircleEl c:
                 sb.Append("<circle");
                 Cls(sb, c.Class);
-                sb.Append(" cx=\"").Append(N(c.Centre.X)).Append("\" cy=\"").Append(N(c.Centre.Y))
-                  .Append("\" r=\"").Append(N(c.Radius)).Append('"');
+                sb.Append(" cx=\"").AppendN(c.Centre.X).Append("\" cy=\"").AppendN(c.Centre.Y)
+                  .Append("\" r=\"").AppendN(c.Radius).Append('"');
                 PaintAttrs(sb, c.Paint);
                 sb.Append("/>\n");
                 break;
             case TextEl t:
                 sb.Append("<text");
                 Cls(sb, t.Class);
-                sb.Append(" x=\"").Append(N(t.At.X)).Append("\" y=\"").Append(N(t.At.Y))
-                  .Append("\" font-size=\"").Append(N(t.Size)).Append("\" fill=\"").Append(t.Colour).Append('"');
+                sb.Append(" x=\"").AppendN(t.At.X).Append("\" y=\"").AppendN(t.At.Y)
+                  .Append("\" font-size=\"").AppendN(t.Size).Append("\" fill=\"").Append(t.Colour).Append('"');
                 if (t.Anchor != Anchor.Start)
                 {
                     sb.Append(" text-anchor=\"").Append(t.Anchor == Anchor.Middle ? "middle" : "end").Append('"');
@@ -83,8 +89,8 @@ internal static class SvgRenderer
 
                 if (t.Rotate != 0)
                 {
-                    sb.Append(" transform=\"rotate(").Append(N(t.Rotate)).Append(' ').Append(N(t.At.X)).Append(' ')
-                      .Append(N(t.At.Y)).Append(")\"");
+                    sb.Append(" transform=\"rotate(").AppendN(t.Rotate).Append(' ').AppendN(t.At.X).Append(' ')
+                      .AppendN(t.At.Y).Append(")\"");
                 }
 
                 sb.Append('>');
@@ -134,7 +140,7 @@ internal static class SvgRenderer
                 sb.Append(' ');
             }
 
-            sb.Append(N(pts[i].X)).Append(',').Append(N(pts[i].Y));
+            sb.AppendN(pts[i].X).Append(',').AppendN(pts[i].Y);
         }
 
         sb.Append('"');
@@ -145,12 +151,12 @@ internal static class SvgRenderer
         sb.Append(" fill=\"").Append(p.Fill ?? "none").Append('"');
         if (p.Fill is not null && p.FillOpacity < 1)
         {
-            sb.Append(" fill-opacity=\"").Append(N(p.FillOpacity)).Append('"');
+            sb.Append(" fill-opacity=\"").AppendN(p.FillOpacity).Append('"');
         }
 
         if (p.Stroke is not null && p.StrokeWidth > 0)
         {
-            sb.Append(" stroke=\"").Append(p.Stroke).Append("\" stroke-width=\"").Append(N(p.StrokeWidth)).Append('"');
+            sb.Append(" stroke=\"").Append(p.Stroke).Append("\" stroke-width=\"").AppendN(p.StrokeWidth).Append('"');
             if (p.Dash is { Count: > 0 })
             {
                 sb.Append(" stroke-dasharray=\"").AppendJoin(' ', p.Dash.Select(N)).Append('"');
@@ -159,15 +165,16 @@ internal static class SvgRenderer
     }
 
     /// <summary>Invariant number rounded to 2 decimals, no trailing zeros, no negative zero.</summary>
-    internal static string N(double v)
+    internal static string N(double v) => Rounded(v).ToString("0.##", CultureInfo.InvariantCulture);
+
+    /// <summary>Appends <see cref="N"/>'s text, formatted straight into the builder (no string of its own).</summary>
+    private static StringBuilder AppendN(this StringBuilder sb, double v) =>
+        sb.Append(CultureInfo.InvariantCulture, $"{Rounded(v):0.##}");
+
+    private static double Rounded(double v)
     {
         double r = Math.Round(v, 2, MidpointRounding.AwayFromZero);
-        if (r == 0)
-        {
-            r = 0;
-        }
-
-        return r.ToString("0.##", CultureInfo.InvariantCulture);
+        return r == 0 ? 0 : r;
     }
 
     private static string Esc(string s) =>

@@ -19,6 +19,9 @@ internal static class CsvFastPath
     private const long MissingMark = long.MinValue;
     private const int MaxLevels = 32;
 
+    /// <summary>Files below this size are parsed on the calling thread (docs/performance.md, "Start-up after Main (round 9)").</summary>
+    private const int SmallFileBytes = 1 << 16;
+
     internal sealed record Result(int Rows, LineNumbers Lines, List<string> Names, Dictionary<string, NumericColumn> Numeric, List<string>[] SeenNames, int[][] Codes);
 
     public static Result? TryLoad(DatasetSpec spec, byte[] bytes, int start, int length, DatasetNeeds needs)
@@ -114,7 +117,16 @@ internal static class CsvFastPath
             new Chunk(start + nl + 1, firstEnd, 0, 1, numericNames.Length, factorSpecs.Length),
             new Chunk(start + nl + 1 + firstEnd, data.Length - firstEnd, firstLines, 1 + firstLines, numericNames.Length, factorSpecs.Length),
         };
-        Parallel.For(0, chunks.Length, k => chunks[k].Ok = job.Parse(chunks[k]));
+        if (data.Length < SmallFileBytes)
+        {
+            // A small file is parsed on this thread: starting the thread pool costs more than its rows.
+            chunks[0].Ok = job.Parse(chunks[0]);
+            chunks[1].Ok = job.Parse(chunks[1]);
+        }
+        else
+        {
+            Parallel.For(0, chunks.Length, k => chunks[k].Ok = job.Parse(chunks[k]));
+        }
         if (!chunks[0].Ok || !chunks[1].Ok)
         {
             return null;
@@ -292,7 +304,7 @@ internal static class CsvFastPath
         var missing = 0;
         const int Block = 1 << 16;
         var missingByBlock = new int[(m.Length + Block - 1) / Block];
-        Parallel.For(0, missingByBlock.Length, blk =>
+        void Fill(int blk)
         {
             var end = Math.Min(m.Length, (blk + 1) * Block);
             var miss = 0;
@@ -325,7 +337,16 @@ internal static class CsvFastPath
             }
 
             missingByBlock[blk] = miss;
-        });
+        }
+
+        if (missingByBlock.Length == 1)
+        {
+            Fill(0); // one block (a small file): no thread pool
+        }
+        else
+        {
+            Parallel.For(0, missingByBlock.Length, Fill);
+        }
 
         foreach (var k in missingByBlock)
         {

@@ -41,7 +41,7 @@ public static class CsvLoader
         Task<string>? hashing = null;
         if (spec.Sha256 is { } pinned)
         {
-            sha = Convert.ToHexStringLower(SHA256.HashData(bytes));
+            sha = ContentHash.Hex(bytes);
             if (pinned != sha)
             {
                 diagnostics.HashMismatch(spec.ShaLocation ?? spec.PathLocation, spec.Path, pinned, sha);
@@ -54,7 +54,7 @@ public static class CsvLoader
         }
         else
         {
-            sha = Convert.ToHexStringLower(SHA256.HashData(bytes));
+            sha = ContentHash.Hex(bytes);
         }
 
         var errorsBefore = diagnostics.Items.Count;

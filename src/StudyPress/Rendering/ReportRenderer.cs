@@ -33,7 +33,7 @@ public static class ReportTemplate
     public static string Script { get; } = Read("report.js");
 
     /// <summary>SHA-256 over the shell, stylesheet and script: what a report records as its template.</summary>
-    public static string Sha256 { get; } = Convert.ToHexStringLower(SHA256.HashData(Encoding.UTF8.GetBytes(Shell + "\0" + Css + "\0" + Script)));
+    public static string Sha256 { get; } = ContentHash.Hex(Encoding.UTF8.GetBytes(Shell + "\0" + Css + "\0" + Script));
 
     private static readonly Lazy<Template> Parsed = new(() =>
     {
@@ -76,10 +76,13 @@ internal static class ReportRenderer
     {
         var context = new RenderContext(new NumberFormat(header.Report.Numbers), header.Alpha);
         using var numbers = NumberFormat.Use(context.Format);
-        var body = new StringWriter(CultureInfo.InvariantCulture);
+        // Sized for the charts (about 10,000 characters each) and the prose, so that the page is
+        // written into one buffer rather than a chain of small blocks (docs/performance.md,
+        // "Start-up after Main (round 9)"); a larger page simply grows it.
+        var body = new StringWriter(new StringBuilder(16_384 + (12_288 * figures.Values.Sum(f => f.Count))), CultureInfo.InvariantCulture);
         var renderer = new HtmlRenderer(body);
         StudyParser.Pipeline(syntax.Path).Setup(renderer);
-        renderer.ObjectRenderers.Insert(0, new AnalysisBlockRenderer(outcomes, figures, context));
+        renderer.ObjectRenderers.Insert(0, new AnalysisBlockRenderer(outcomes, figures, context, body));
         renderer.ObjectRenderers.Insert(0, new ReferenceRenderer(references, context));
         if (header.Report.RawHtml)
         {
@@ -137,6 +140,15 @@ internal static class ReportRenderer
             ObjectRecursionLimit = 20,
         };
         tc.PushGlobal(model);
+
+        // The page is the shell's text with the values in it: at most this long, written into one buffer.
+        var length = ReportTemplate.Shell.Length;
+        foreach (var value in model.Values)
+        {
+            length += (value as string)?.Length ?? 0;
+        }
+
+        tc.PushOutput(new StringBuilderOutput(new StringBuilder(length)));
         return ReportTemplate.Template.Render(tc);
     }
 
@@ -147,7 +159,7 @@ internal static class ReportRenderer
     public static string ContentSecurityPolicy { get; } =
         "default-src 'none'; style-src '" + Hash(Style) + "'; script-src '" + Hash(ReportTemplate.Script) + "'; img-src data:; font-src data:; base-uri 'none'; form-action 'none'";
 
-    internal static string Hash(string inline) => "sha256-" + Convert.ToBase64String(SHA256.HashData(Encoding.UTF8.GetBytes(inline)));
+    internal static string Hash(string inline) => "sha256-" + Convert.ToBase64String(ContentHash.Of(Encoding.UTF8.GetBytes(inline)));
 
     private static string InputsTable(IReadOnlyList<LoadedDataset> inputs)
     {
@@ -192,7 +204,12 @@ internal static class ReportRenderer
         + "A small p-value is not a large or important effect, and a large p-value does not show that there is no effect.</p>"
         + "<p>Where these results inform clinical, safety, environmental or regulatory decisions, follow that field's reporting standards and have the analysis reviewed by a qualified person.</p>";
 
-    private sealed class AnalysisBlockRenderer(IReadOnlyDictionary<AnalysisBlockSyntax, BlockOutcome> outcomes, IReadOnlyDictionary<BlockOutcome, IReadOnlyList<Figure>> figures, RenderContext context)
+    /// <summary>
+    /// An analysis block's section. Its charts are written straight into the page's writer
+    /// (<paramref name="body"/>), not built as strings and copied through the block's HTML: the SVG is
+    /// most of a small report, and those copies were most of its allocation.
+    /// </summary>
+    private sealed class AnalysisBlockRenderer(IReadOnlyDictionary<AnalysisBlockSyntax, BlockOutcome> outcomes, IReadOnlyDictionary<BlockOutcome, IReadOnlyList<Figure>> figures, RenderContext context, StringWriter body)
         : HtmlObjectRenderer<AnalysisBlockSyntax>
     {
         protected override void Write(HtmlRenderer renderer, AnalysisBlockSyntax obj)
@@ -209,7 +226,20 @@ internal static class ReportRenderer
             kind.Render(html, outcome, context);
             foreach (var figure in figures[outcome])
             {
-                html.Raw("<figure class=\"chart chart-").Raw(figure.Type).Raw("\">").Raw(figure.Chart.ToSvg()).Raw("<figcaption>").Text(figure.Caption).Raw("</figcaption></figure>");
+                html.Raw("<figure class=\"chart chart-").Raw(figure.Type).Raw("\">");
+                if (ReferenceEquals(renderer.Writer, body))
+                {
+                    // What is written so far goes through the renderer (its line state), the chart after it straight into the page.
+                    renderer.Write(html.ToString());
+                    figure.Chart.WriteSvg(body.GetStringBuilder());
+                    html = new HtmlWriter();
+                }
+                else
+                {
+                    html.Raw(figure.Chart.ToSvg());
+                }
+
+                html.Raw("<figcaption>").Text(figure.Caption).Raw("</figcaption></figure>");
             }
 
             var warnings = kind.Warnings(outcome, context).ToList();

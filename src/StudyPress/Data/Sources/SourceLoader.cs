@@ -1,6 +1,7 @@
 using System.Security.Cryptography;
 using StudyPress.Binding;
 using StudyPress.Diagnostics;
+using StudyPress.Syntax;
 
 namespace StudyPress.Data.Sources;
 
@@ -23,7 +24,7 @@ public static class SourceLoader
                 }
 
                 bytes = File.ReadAllBytes(fullPath);
-                sha = Convert.ToHexStringLower(SHA256.HashData(bytes));
+                sha = ContentHash.Hex(bytes);
             }
             else
             {
