@@ -104,8 +104,31 @@ internal static class DeviationFTest
     /// <summary>
     /// Sample median (average of the two middle values for an even count): the middle order
     /// statistics by selection on a copy (expected linear time), the same values a full sort gives.
+    /// A large group without NaN and −0 has its middle order statistics selected by buckets instead
+    /// (<see cref="FastSort.TryOrderStatistics"/>: no copy of the group, the same values, since
+    /// without NaN and −0 the value of each rank is unique).
     /// </summary>
     public static double Median(double[] x)
+    {
+        var h = x.Length / 2;
+        if (x.Length % 2 == 1)
+        {
+            if (FastSort.TryOrderStatistics(x, [h]) is [var middle])
+            {
+                return middle;
+            }
+        }
+        else if (FastSort.TryOrderStatistics(x, [h - 1, h]) is [var lower, var upper])
+        {
+            // The same operation as below on the same two order statistics.
+            return 0.5 * (lower + upper);
+        }
+
+        return MedianBySelection(x);
+    }
+
+    /// <summary><see cref="Median"/> by a quickselect on a copy of the group.</summary>
+    internal static double MedianBySelection(double[] x)
     {
         var s = (double[])x.Clone();
         var h = s.Length / 2;
