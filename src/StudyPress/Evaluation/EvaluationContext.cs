@@ -42,19 +42,20 @@ public sealed class BlockData
     private IReadOnlyList<(string Label, int[] Codes, double[] Values, int[] Positions)>? _cells;
 
     /// <summary>Each cell's sorted values, by the cell's positions array: a memo of this selection (one run's), filled by <see cref="SortedValues"/>.</summary>
-    private readonly System.Collections.Concurrent.ConcurrentDictionary<int[], double[]> sortedCells = new(ReferenceEqualityComparer.Instance);
+    private readonly System.Collections.Concurrent.ConcurrentDictionary<int[], IReadOnlyList<double>> sortedCells = new(ReferenceEqualityComparer.Instance);
 
     /// <summary>
     /// A cell's response values (<paramref name="positions"/> as <see cref="Cells"/> gives them) in
     /// ascending order, sorted once per cell (whichever thread asks first; the result is the same)
-    /// and shared by every caller: the array must not be changed. Exact values in a narrow range are
-    /// sorted by counting (<see cref="Data.ExactValues.CountingSorted"/>), others by
+    /// and shared by every caller: an array must not be changed. Exact values in a narrow range are
+    /// counted and kept as runs (<see cref="Data.ExactValues.CountingOrder"/>: the value of every rank
+    /// is the sorted array's, without that array of n values), others sorted by
     /// <see cref="Statistics.FastSort"/>.
     /// </summary>
-    internal double[] SortedValues(int[] positions) => sortedCells.GetOrAdd(positions, p =>
+    internal IReadOnlyList<double> SortedValues(int[] positions) => sortedCells.GetOrAdd(positions, p =>
     {
-        // Exact values in a narrow range are sorted by counting (the same array), others by FastSort.
-        if (Exact?.CountingSorted(Values, p) is { } counted)
+        // Exact values in a narrow range are counted (the same value at every rank), others sorted by FastSort.
+        if (Exact?.CountingOrder(Values, p) is { } counted)
         {
             return counted;
         }
