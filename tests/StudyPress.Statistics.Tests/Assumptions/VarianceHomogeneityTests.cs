@@ -278,4 +278,26 @@ public class VarianceHomogeneityTests
         Assert.Equal(BitConverter.DoubleToInt64Bits(before.F.Value), BitConverter.DoubleToInt64Bits(fast.F.Value));
         Assert.Equal(BitConverter.DoubleToInt64Bits(before.P.Value), BitConverter.DoubleToInt64Bits(fast.P.Value));
     }
+    [Theory]
+    [InlineData(1)]
+    [InlineData(2)]
+    public void FusedMeans_SameBitsAsSeparatePasses(int seed)
+    {
+        // The grand and group means of the deviations from two fused passes against the separate
+        // passes that computed them before (exact equality expected: the same terms in the same order).
+        var rng = new Random(seed);
+        var groups = Enumerable.Range(0, 5)
+            .Select(g => Enumerable.Range(0, 5_000 + (g * 313)).Select(_ => Math.Round((rng.NextDouble() * (g + 1) * 10) - 5, 3)).ToArray())
+            .ToList();
+        groups.Add([1.5, 1.5, 2.5, 2.5]); // constant deviations about the mean
+        groups.Add([7.25]); // one value
+        var centres = groups.Select(g => g.Average()).ToArray();
+        centres[3] = DeviationFTest.Median(groups[3]);
+        var (grand, means) = DeviationFTest.Means(groups, centres);
+        Assert.Equal(BitConverter.DoubleToInt64Bits(DeviationFTest.ConcatenatedMean(groups, centres)), BitConverter.DoubleToInt64Bits(grand));
+        for (var g = 0; g < groups.Count; g++)
+        {
+            Assert.Equal(BitConverter.DoubleToInt64Bits(DeviationFTest.DeviationMean(groups[g], centres[g])), BitConverter.DoubleToInt64Bits(means[g]));
+        }
+    }
 }
