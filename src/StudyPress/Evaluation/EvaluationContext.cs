@@ -70,6 +70,28 @@ public sealed class BlockData
         return v;
     });
 
+    private readonly System.Collections.Concurrent.ConcurrentDictionary<(int[] Positions, double Alpha), Statistics.Descriptive.GroupSummary> cellSummaries = new(CellAlphaComparer.Instance);
+
+    /// <summary>
+    /// A cell's descriptive statistics at <paramref name="alpha"/> (<see cref="Statistics.Descriptive.Descriptives.ComputeSorted(ReadOnlySpan{double}, IReadOnlyList{double}, double, double, double?)"/>
+    /// of its centred values, its <see cref="SortedValues"/>, the block's centre and its exact mean),
+    /// computed once per cell and alpha and shared: the summary and the means figure ask the same
+    /// question of the same cell, and the answer is a pure function of it.
+    /// </summary>
+    internal Statistics.Descriptive.GroupSummary CellSummary(double[] values, int[] positions, double alpha) =>
+        cellSummaries.GetOrAdd((positions, alpha), key => Statistics.Descriptive.Descriptives.ComputeSorted(values, SortedValues(key.Positions), Centre, key.Alpha, ExactMean(key.Positions)));
+
+    /// <summary>Cells compared as the same positions array (the cell's identity) and the same alpha bits.</summary>
+    private sealed class CellAlphaComparer : IEqualityComparer<(int[] Positions, double Alpha)>
+    {
+        public static readonly CellAlphaComparer Instance = new();
+
+        public bool Equals((int[] Positions, double Alpha) x, (int[] Positions, double Alpha) y) =>
+            ReferenceEquals(x.Positions, y.Positions) && BitConverter.DoubleToInt64Bits(x.Alpha) == BitConverter.DoubleToInt64Bits(y.Alpha);
+
+        public int GetHashCode((int[] Positions, double Alpha) obj) => HashCode.Combine(System.Runtime.CompilerServices.RuntimeHelpers.GetHashCode(obj.Positions), obj.Alpha);
+    }
+
     /// <summary>The rows' sufficient statistics per cell (centred means), the view the cells route has too.</summary>
     public Model.CellTable CellTable() => Model.CellTable.FromGroups(
         [.. Factors.Select(f => f.Spec)],

@@ -172,7 +172,9 @@ public static class Figures
 
         foreach (var (label, _, values, positions) in cells)
         {
-            var s = Statistics.Descriptive.Descriptives.ComputeSorted(values, SortedValues(data, positions), data.Centre, alpha, data.ExactMean(positions));
+            var s = data.Factors.Count == 0
+                ? Statistics.Descriptive.Descriptives.ComputeSorted(values, SortedValues(data, positions), data.Centre, alpha, data.ExactMean(positions))
+                : data.CellSummary(values, positions, alpha);
             if (!s.CiLow.IsDefined)
             {
                 continue;
