@@ -190,32 +190,66 @@ public sealed class BlockData
     /// <see cref="ComputeCells"/> for a crossing of at most 2^20 keys: each row's key counted in an
     /// array indexed by the key, then each row's response and position written into its cell; the
     /// cells in key order, as the dictionary route orders them. No per-row slot array, and the
-    /// cells' arrays are written in full, so they are not zeroed first.
+    /// cells' arrays are written in full, so they are not zeroed first. A large selection is cut
+    /// into consecutive parts (one per core) that are counted and written at the same time: each
+    /// part writes its rows of a cell after the earlier parts' rows of that cell, in row order, so
+    /// the cells are the same arrays whatever the number of parts.
     /// </summary>
     private (string Label, int[] Codes, double[] Values, int[] Positions)[] DenseCells(int k, long[] radix, long crossing, int[][] factorCodes)
     {
         var n = Rows.Length;
-        var counts = new int[crossing];
-        if (k == 1)
+        var parts = PartsFor(n);
+        var bounds = new int[parts + 1];
+        for (var p = 0; p <= parts; p++)
         {
-            foreach (var code in factorCodes[0].AsSpan(0, n))
+            bounds[p] = (int)((long)n * p / parts);
+        }
+
+        var partCounts = new int[parts][];
+        void Count(int p)
+        {
+            var counts = new int[crossing];
+            if (k == 1)
             {
-                counts[code]++;
+                foreach (var code in factorCodes[0].AsSpan(bounds[p], bounds[p + 1] - bounds[p]))
+                {
+                    counts[code]++;
+                }
             }
+            else
+            {
+                for (var i = bounds[p]; i < bounds[p + 1]; i++)
+                {
+                    counts[Key(factorCodes, radix, k, i)]++;
+                }
+            }
+
+            partCounts[p] = counts;
+        }
+
+        if (parts == 1)
+        {
+            Count(0);
         }
         else
         {
-            for (var i = 0; i < n; i++)
-            {
-                counts[Key(factorCodes, radix, k, i)]++;
-            }
+            Parallel.For(0, parts, Count);
         }
 
         var cells = new List<(string Label, int[] Codes, double[] Values, int[] Positions)>();
         var cellOf = new int[crossing];
+        var starts = new List<int[]>(); // per cell: where each part's rows begin in it
         for (long key = 0; key < crossing; key++)
         {
-            if (counts[key] == 0)
+            var size = 0;
+            var start = new int[parts];
+            for (var p = 0; p < parts; p++)
+            {
+                start[p] = size;
+                size += partCounts[p][key];
+            }
+
+            if (size == 0)
             {
                 continue;
             }
@@ -229,23 +263,46 @@ public sealed class BlockData
             }
 
             cellOf[key] = cells.Count;
-            var size = counts[key];
+            starts.Add(start);
             cells.Add((string.Join(" / ", codes.Select((c, j) => Factors[j].Levels[c])), codes, GC.AllocateUninitializedArray<double>(size), GC.AllocateUninitializedArray<int>(size)));
         }
 
-        var fill = new int[cells.Count];
         var values = cells.Select(c => c.Values).ToArray();
         var positions = cells.Select(c => c.Positions).ToArray();
-        for (var i = 0; i < n; i++)
+        void Fill(int p)
         {
-            var slot = cellOf[k == 1 ? factorCodes[0][i] : Key(factorCodes, radix, k, i)];
-            var at = fill[slot]++;
-            values[slot][at] = Response[i];
-            positions[slot][at] = i;
+            var fill = new int[cells.Count];
+            for (var c = 0; c < fill.Length; c++)
+            {
+                fill[c] = starts[c][p];
+            }
+
+            for (var i = bounds[p]; i < bounds[p + 1]; i++)
+            {
+                var slot = cellOf[k == 1 ? factorCodes[0][i] : Key(factorCodes, radix, k, i)];
+                var at = fill[slot]++;
+                values[slot][at] = Response[i];
+                positions[slot][at] = i;
+            }
+        }
+
+        if (parts == 1)
+        {
+            Fill(0);
+        }
+        else
+        {
+            Parallel.For(0, parts, Fill);
         }
 
         return KeepSplit(k, [.. cells]);
     }
+
+    /// <summary>Rows per part of <see cref="DenseCells"/> below which a selection is not cut (a part's start-up costs more than it saves).</summary>
+    private const int RowsPerPart = 1 << 18;
+
+    /// <summary>How many parts <see cref="DenseCells"/> cuts <paramref name="n"/> rows into (at most one per core).</summary>
+    internal static int PartsFor(int n) => Math.Clamp(n / RowsPerPart, 1, Math.Max(1, Environment.ProcessorCount));
 
     private static long Key(int[][] factorCodes, long[] radix, int k, int i)
     {
