@@ -498,7 +498,19 @@ public sealed class EvaluationContext
         var dropped = 0;
         var where = block.Where.Select(w => (Column: ds.Factors[w.Factor.Name], Pass: w.Levels)).ToArray();
         var wherePass = where.Select(w => w.Column.Levels.Select(l => w.Pass.Contains(l)).ToArray()).ToArray();
-        for (var r = 0; r < ds.Rows; r++)
+        if (where.Length == 0 && (response is null || NoneMissing(response)) && factorCols.All(c => c.Counts.Sum() == ds.Rows))
+        {
+            // No filter, no missing response, every factor code present (the columns' counts add up
+            // to the rows): every row is selected, as the loop below would find, without reading them.
+            for (var r = 0; r < ds.Rows; r++)
+            {
+                rows[r] = r;
+            }
+
+            count = ds.Rows;
+        }
+
+        for (var r = count; r < ds.Rows; r++)
         {
             var pass = true;
             for (var w = 0; w < where.Length; w++)
@@ -620,6 +632,13 @@ public sealed class EvaluationContext
             DroppedMissing = dropped,
         };
     }
+
+    /// <summary>
+    /// Whether no row of <paramref name="column"/> is missing (<see cref="NumericColumn.IsMissing"/>),
+    /// known from its count without reading the rows: for exact decimal columns, whose centred value
+    /// is NaN exactly for the missing cells the count counts. Other columns answer false (read them).
+    /// </summary>
+    internal static bool NoneMissing(NumericColumn column) => column.Exact is not null && column.Missing == 0;
 
     private static T[] Pick<T>(T[] values, int[] rows)
     {

@@ -166,6 +166,11 @@ public sealed partial class SummaryEvaluator : KindEvaluator
         var result = new Dictionary<string, (int Count, int[] Order)>(StringComparer.Ordinal);
         var ds = data.Dataset;
         var response = ds.Numeric[data.ResponseName];
+        if (EvaluationContext.NoneMissing(response))
+        {
+            return result; // no row's response is missing
+        }
+
         for (var r = 0; r < ds.Rows; r++)
         {
             if (!response.IsMissing(r))
