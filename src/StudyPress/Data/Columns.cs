@@ -296,5 +296,5 @@ public sealed partial record LoadedDataset
     /// <summary>Rows used by at least one block; filled in by evaluation.</summary>
     public required bool[] Used { get; init; }
 
-    public int RowsUsed => Used.Count(u => u);
+    public int RowsUsed => Used.AsSpan().Count(true);
 }
