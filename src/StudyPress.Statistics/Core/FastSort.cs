@@ -138,9 +138,14 @@ public static class FastSort
             ArgumentOutOfRangeException.ThrowIfGreaterThanOrEqual(r, n);
         }
 
+        if (n < RadixThreshold)
+        {
+            return null; // the full sort is cheaper than the buckets' passes
+        }
+
         var min = double.PositiveInfinity;
         var max = double.NegativeInfinity;
-        var safe = n >= RadixThreshold;
+        var safe = true;
         foreach (var v in values)
         {
             if (double.IsNaN(v) || (v == 0 && double.IsNegative(v)))
