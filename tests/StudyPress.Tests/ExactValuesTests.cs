@@ -72,6 +72,35 @@ public sealed class ExactValuesTests
         var counted = ExactValues.Scaled(m, scale).CountingSorted(values, positions);
         Assert.NotNull(counted);
         Assert.Equal(expected.Select(Bits), counted.Select(Bits));
+
+        // The runs the summary and the box plots read: the sorted array's value at every rank.
+        var runs = ExactValues.Scaled(m, scale).CountingOrder(values, positions);
+        Assert.NotNull(runs);
+        Assert.Equal(expected.Length, runs.Count);
+        Assert.Equal(expected.Select(Bits), Enumerable.Range(0, runs.Count).Select(r => Bits(runs[r])));
+        Assert.Equal(expected.Select(Bits), runs.Select(Bits));
+    }
+
+    [Fact]
+    public void CountingOrder_DeclinesWhereCountingSortedDeclines()
+    {
+        var m = new long[] { 5, 3, 4, 3, 5, 4, 3, 5 };
+        var values = m.Select(v => (double)v).ToArray();
+        var all = Enumerable.Range(0, m.Length).ToArray();
+        var exact = ExactValues.Scaled(m, 0);
+        var other = (double[])values.Clone();
+        other[3] = 3.5;
+        Assert.Null(exact.CountingOrder(other, all));
+        Assert.Null(exact.CountingOrder(m.Select(v => (double)-v).ToArray(), all));
+        Assert.Null(ExactValues.Scaled([0, 1000, 7, 3], 0).CountingOrder([0, 1000, 7, 3], [0, 1, 2, 3]));
+        Assert.Null(ExactValues.Of([1m, 2m, 1m, 2m]).CountingOrder([1, 2, 1, 2], [0, 1, 2, 3]));
+
+        // A gap in the integers (a run of count 0) is never read: ranks 0-2 are 3, 3-7 are 5.
+        var gap = new long[] { 5, 3, 5, 3, 5, 3, 5, 5 };
+        var runs = ExactValues.Scaled(gap, 0).CountingOrder(gap.Select(v => (double)v).ToArray(), all);
+        Assert.NotNull(runs);
+        Assert.Equal(new double[] { 3, 3, 3, 5, 5, 5, 5, 5 }, Enumerable.Range(0, 8).Select(r => runs[r]));
+        Assert.Throws<ArgumentOutOfRangeException>(() => runs[8]);
     }
 
     [Fact]

@@ -421,6 +421,23 @@ internal sealed class DesignCoding
             cellsInCrossing = Math.Min(cellsInCrossing * Math.Max(r, 1), long.MaxValue / 1024);
         }
 
+        if (k == 1)
+        {
+            var (oneCellOf, oneCounts, oneLevels) = OneFactorCells(input.Factors[0].Codes, usedIndex[0], used[0].Length);
+            var oneRows = new double[oneCounts.Length, p];
+            var oneRow = new double[p];
+            for (var c = 0; c < oneCounts.Length; c++)
+            {
+                FillRow(oneRow, oneLevels[c], used, terms, start);
+                for (var j = 0; j < p; j++)
+                {
+                    oneRows[c, j] = oneRow[j];
+                }
+            }
+
+            return new DesignCoding(n, used, usedIndex, terms, names, start, count, oneRows, oneCellOf, oneCounts, oneLevels);
+        }
+
         var dense = cellsInCrossing <= 1 << 20 ? new int[cellsInCrossing] : null; // key -> slot + 1
         var sparse = dense is null ? new Dictionary<long, int>() : null;
         var cellOf = new int[n];
@@ -471,6 +488,54 @@ internal sealed class DesignCoding
         }
 
         return new DesignCoding(n, used, usedIndex, terms, names, start, count, cellRows, cellOf, [.. counts], [.. cellLevels]);
+    }
+
+    /// <summary>
+    /// The cells of one factor as <see cref="Build"/>'s general loop makes them (a cell per used
+    /// level, numbered in order of first occurrence; each observation's cell; the counts; each
+    /// cell's used-level position), from one pass over the codes that counts each code and notes
+    /// the order in which codes first occur. When every level is used and they first occur in code
+    /// order, each observation's cell is its code, and the codes array itself is returned as the
+    /// cells (shared, never changed: no array of n is written); otherwise a second pass writes it.
+    /// </summary>
+    internal static (int[] CellOf, int[] Counts, int[][] Levels) OneFactorCells(int[] codes, int[] usedIndex, int usedCount)
+    {
+        var perCode = new int[usedIndex.Length];
+        var slotOfCode = new int[usedIndex.Length];
+        Array.Fill(slotOfCode, -1);
+        var firstSeen = new List<int>(usedCount);
+        foreach (var code in codes)
+        {
+            if (perCode[code]++ == 0)
+            {
+                slotOfCode[code] = firstSeen.Count;
+                firstSeen.Add(code);
+            }
+        }
+
+        var counts = new int[firstSeen.Count];
+        var levels = new int[firstSeen.Count][];
+        var identity = usedIndex.Length == firstSeen.Count;
+        for (var slot = 0; slot < firstSeen.Count; slot++)
+        {
+            var code = firstSeen[slot];
+            counts[slot] = perCode[code];
+            levels[slot] = [usedIndex[code]];
+            identity &= code == slot && usedIndex[code] == slot;
+        }
+
+        if (identity)
+        {
+            return (codes, counts, levels);
+        }
+
+        var cellOf = new int[codes.Length];
+        for (var i = 0; i < codes.Length; i++)
+        {
+            cellOf[i] = slotOfCode[codes[i]];
+        }
+
+        return (cellOf, counts, levels);
     }
 
     private double[,]? _weighted;

@@ -83,6 +83,41 @@ public static class DurbinWatson
     public static Quantity Statistic(IReadOnlyList<double> residuals)
     {
         ArgumentNullException.ThrowIfNull(residuals);
+        return residuals is double[] array ? Statistic(new ArrayView(array)) : Statistic(new ListView(residuals));
+    }
+
+    /// <summary>An array read directly (no interface call per residual).</summary>
+    private readonly struct ArrayView(double[] array) : IReadOnlyList<double>
+    {
+        public double this[int index] => array[index];
+
+        public int Count => array.Length;
+
+        public IEnumerator<double> GetEnumerator() => ((IEnumerable<double>)array).GetEnumerator();
+
+        System.Collections.IEnumerator System.Collections.IEnumerable.GetEnumerator() => array.GetEnumerator();
+    }
+
+    /// <summary>Any other list, read through its interface.</summary>
+    private readonly struct ListView(IReadOnlyList<double> list) : IReadOnlyList<double>
+    {
+        public double this[int index] => list[index];
+
+        public int Count => list.Count;
+
+        public IEnumerator<double> GetEnumerator() => list.GetEnumerator();
+
+        System.Collections.IEnumerator System.Collections.IEnumerable.GetEnumerator() => list.GetEnumerator();
+    }
+
+    /// <summary>
+    /// <see cref="Statistic(IReadOnlyList{double})"/> over a view specialised for its type (the same
+    /// operations in the same order; the generic code is compiled per struct view, so an array's
+    /// elements are read without an interface call).
+    /// </summary>
+    private static Quantity Statistic<TView>(TView residuals)
+        where TView : struct, IReadOnlyList<double>
+    {
         var n = residuals.Count;
         if (n < 3)
         {
@@ -91,8 +126,9 @@ public static class DurbinWatson
 
         // Scale by the largest |e| so that squares neither overflow nor underflow.
         double big = 0;
-        foreach (var e in residuals)
+        for (var t = 0; t < n; t++)
         {
+            var e = residuals[t];
             if (!double.IsFinite(e))
             {
                 throw new ArgumentException("a residual is not finite", nameof(residuals));

@@ -49,11 +49,11 @@ internal static class DeviationFTest
             centres[g] = centre(groups[g]);
         }
 
-        var grand = ConcatenatedMean(groups, centres);
+        var (grand, means) = Means(groups, centres);
         double between = 0, within = 0;
         for (var g = 0; g < k; g++)
         {
-            var m = DeviationMean(groups[g], centres[g]);
+            var m = means[g];
             within += DeviationSumOfSquares(groups[g], centres[g], m);
             var d = m - grand;
             between += groups[g].Length * d * d;
@@ -104,8 +104,31 @@ internal static class DeviationFTest
     /// <summary>
     /// Sample median (average of the two middle values for an even count): the middle order
     /// statistics by selection on a copy (expected linear time), the same values a full sort gives.
+    /// A large group without NaN and −0 has its middle order statistics selected by buckets instead
+    /// (<see cref="FastSort.TryOrderStatistics"/>: no copy of the group, the same values, since
+    /// without NaN and −0 the value of each rank is unique).
     /// </summary>
     public static double Median(double[] x)
+    {
+        var h = x.Length / 2;
+        if (x.Length % 2 == 1)
+        {
+            if (FastSort.TryOrderStatistics(x, [h]) is [var middle])
+            {
+                return middle;
+            }
+        }
+        else if (FastSort.TryOrderStatistics(x, [h - 1, h]) is [var lower, var upper])
+        {
+            // The same operation as below on the same two order statistics.
+            return 0.5 * (lower + upper);
+        }
+
+        return MedianBySelection(x);
+    }
+
+    /// <summary><see cref="Median"/> by a quickselect on a copy of the group.</summary>
+    internal static double MedianBySelection(double[] x)
     {
         var s = (double[])x.Clone();
         var h = s.Length / 2;
@@ -176,10 +199,81 @@ internal static class DeviationFTest
     }
 
     /// <summary>
+    /// <see cref="ConcatenatedMean"/> and each group's <see cref="DeviationMean"/> in two passes over
+    /// the groups instead of four: the first pass adds each z to the grand sum and to its group's
+    /// sum, the second adds z − (grand first-pass mean) and z − (group first-pass mean) to the two
+    /// corrections. Every accumulator receives the same terms in the same order as in those
+    /// methods, so the results are the same bits (test
+    /// <c>VarianceHomogeneityTests.FusedMeans_SameBitsAsSeparatePasses</c>).
+    /// </summary>
+    internal static (double Grand, double[] Means) Means(IReadOnlyList<double[]> groups, double[] centres)
+    {
+        var k = groups.Count;
+        var sums = new double[k];
+        var constant = new bool[k];
+        var firsts = new double[k];
+        double sum = 0;
+        var n = 0;
+        for (var g = 0; g < k; g++)
+        {
+            var y = groups[g];
+            var c = centres[g];
+            double s = 0;
+            var first = Math.Abs(y[0] - c);
+            var same = true;
+            foreach (var v in y)
+            {
+                var z = Math.Abs(v - c);
+                sum += z;
+                s += z;
+                same &= z == first;
+            }
+
+            sums[g] = s;
+            constant[g] = same;
+            firsts[g] = first;
+            n += y.Length;
+        }
+
+        var m = sum / n;
+        double corr = 0;
+        var means = new double[k];
+        for (var g = 0; g < k; g++)
+        {
+            var y = groups[g];
+            var c = centres[g];
+            if (constant[g])
+            {
+                // The group's mean is its one deviation; only the grand correction needs the terms.
+                foreach (var v in y)
+                {
+                    corr += Math.Abs(v - c) - m;
+                }
+
+                means[g] = firsts[g];
+                continue;
+            }
+
+            var mg = sums[g] / y.Length;
+            double gc = 0;
+            foreach (var v in y)
+            {
+                var z = Math.Abs(v - c);
+                corr += z - m;
+                gc += z - mg;
+            }
+
+            means[g] = mg + (gc / y.Length);
+        }
+
+        return (m + (corr / n), means);
+    }
+
+    /// <summary>
     /// The mean of every z one group after another (the sums of <see cref="Groups.Mean"/> over the
     /// concatenated deviations), without concatenating or storing them.
     /// </summary>
-    private static double ConcatenatedMean(IReadOnlyList<double[]> groups, double[] centres)
+    internal static double ConcatenatedMean(IReadOnlyList<double[]> groups, double[] centres)
     {
         double sum = 0;
         var n = 0;
@@ -209,7 +303,7 @@ internal static class DeviationFTest
     }
 
     /// <summary><see cref="Groups.Mean"/> of z = |y − c| over one group, operation for operation.</summary>
-    private static double DeviationMean(double[] y, double c)
+    internal static double DeviationMean(double[] y, double c)
     {
         double s = 0;
         var first = Math.Abs(y[0] - c);

@@ -74,6 +74,21 @@ public static class StudentizedResiduals
             throw new ArgumentOutOfRangeException(nameof(alpha), "alpha must lie between 0 and 1");
         }
 
+        return residuals is double[] array && leverages is CodedValues coded
+            ? Compute(new ArrayView(array), new CodedView(coded), residualDf, alpha)
+            : Compute(new ListView(residuals), new ListView(leverages), residualDf, alpha);
+    }
+
+    /// <summary>
+    /// <see cref="Compute(IReadOnlyList{double}, IReadOnlyList{double}, int, double)"/> over views
+    /// specialised for the lists' types (compiled per struct view: an array of residuals and
+    /// per-cell leverages are read without an interface call per observation); the same operations
+    /// in the same order whatever the view.
+    /// </summary>
+    private static StudentizedResidualsResult Compute<TResiduals, TLeverages>(TResiduals residuals, TLeverages leverages, int residualDf, double alpha)
+        where TResiduals : struct, IReadOnlyList<double>
+        where TLeverages : struct, IReadOnlyList<double>
+    {
         var n = residuals.Count;
         var df = residualDf - 1;
         if (residualDf < 2)
@@ -99,7 +114,7 @@ public static class StudentizedResiduals
         // that bound need their p-value to decide.
         var critical = Probability.TCritical(alpha / n, df);
         var screen = double.IsFinite(critical) && critical > 0 ? 0.99 * critical : 0.0;
-        var lazy = new Lazy(residuals, leverages, sse, df, n);
+        var lazy = new Lazy<TResiduals, TLeverages>(residuals, leverages, sse, df, n);
         var flagged = new List<int>();
         var largest = -1;
         double largestT = -1;
@@ -160,7 +175,9 @@ public static class StudentizedResiduals
     }
 
     /// <summary>Entries computed from the residuals and leverages when read.</summary>
-    private sealed class Lazy(IReadOnlyList<double> residuals, IReadOnlyList<double> leverages, double sse, int df, int n) : IReadOnlyList<StudentizedResidual>
+    private sealed class Lazy<TResiduals, TLeverages>(TResiduals residuals, TLeverages leverages, double sse, int df, int n) : IReadOnlyList<StudentizedResidual>
+        where TResiduals : struct, IReadOnlyList<double>
+        where TLeverages : struct, IReadOnlyList<double>
     {
         public int Count => n;
 
@@ -219,5 +236,44 @@ public static class StudentizedResiduals
         }
 
         System.Collections.IEnumerator System.Collections.IEnumerable.GetEnumerator() => GetEnumerator();
+    }
+
+    /// <summary>An array read directly.</summary>
+    private readonly struct ArrayView(double[] array) : IReadOnlyList<double>
+    {
+        public double this[int index] => array[index];
+
+        public int Count => array.Length;
+
+        public IEnumerator<double> GetEnumerator() => ((IEnumerable<double>)array).GetEnumerator();
+
+        System.Collections.IEnumerator System.Collections.IEnumerable.GetEnumerator() => array.GetEnumerator();
+    }
+
+    /// <summary>Per-cell values read through the cell codes directly (<see cref="CodedValues"/>'s entries).</summary>
+    private readonly struct CodedView(CodedValues coded) : IReadOnlyList<double>
+    {
+        private readonly double[] perGroup = coded.PerGroup;
+        private readonly int[] groupOf = coded.GroupOf;
+
+        public double this[int index] => perGroup[groupOf[index]];
+
+        public int Count => groupOf.Length;
+
+        public IEnumerator<double> GetEnumerator() => coded.GetEnumerator();
+
+        System.Collections.IEnumerator System.Collections.IEnumerable.GetEnumerator() => coded.GetEnumerator();
+    }
+
+    /// <summary>Any other list, read through its interface.</summary>
+    private readonly struct ListView(IReadOnlyList<double> list) : IReadOnlyList<double>
+    {
+        public double this[int index] => list[index];
+
+        public int Count => list.Count;
+
+        public IEnumerator<double> GetEnumerator() => list.GetEnumerator();
+
+        System.Collections.IEnumerator System.Collections.IEnumerable.GetEnumerator() => list.GetEnumerator();
     }
 }

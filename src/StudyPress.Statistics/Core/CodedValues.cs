@@ -23,6 +23,12 @@ public sealed class CodedValues : IReadOnlyList<double>
 
     public double this[int index] => perGroup[groupOf[index]];
 
+    /// <summary>The value of each group (shared, never changed).</summary>
+    internal double[] PerGroup => perGroup;
+
+    /// <summary>Each entry's group (shared, never changed).</summary>
+    internal int[] GroupOf => groupOf;
+
     public int Count => groupOf.Length;
 
     public IEnumerator<double> GetEnumerator()

@@ -113,6 +113,23 @@ public static class FastSort
     /// </summary>
     public static double[] OrderStatistics(ReadOnlySpan<double> values, IReadOnlyList<int> ranks)
     {
+        if (TryOrderStatistics(values, ranks) is { } selected)
+        {
+            return selected;
+        }
+
+        var sorted = SortedCopy(values);
+        return [.. ranks.Select(r => sorted[r])];
+    }
+
+    /// <summary>
+    /// <see cref="OrderStatistics"/> by bucket selection only: null, without sorting, when it cannot
+    /// be sure of the same doubles as the full sort (fewer than <see cref="RadixThreshold"/> values,
+    /// a NaN, a −0, or no finite positive range). When not null, each entry is the value of that rank
+    /// in ascending order, which is then unique (a selection such as a quickselect finds the same value).
+    /// </summary>
+    public static double[]? TryOrderStatistics(ReadOnlySpan<double> values, IReadOnlyList<int> ranks)
+    {
         ArgumentNullException.ThrowIfNull(ranks);
         var n = values.Length;
         foreach (var r in ranks)
@@ -121,9 +138,14 @@ public static class FastSort
             ArgumentOutOfRangeException.ThrowIfGreaterThanOrEqual(r, n);
         }
 
+        if (n < RadixThreshold)
+        {
+            return null; // the full sort is cheaper than the buckets' passes
+        }
+
         var min = double.PositiveInfinity;
         var max = double.NegativeInfinity;
-        var safe = n >= RadixThreshold;
+        var safe = true;
         foreach (var v in values)
         {
             if (double.IsNaN(v) || (v == 0 && double.IsNegative(v)))
@@ -141,8 +163,7 @@ public static class FastSort
         var scale = BucketCount / width;
         if (!safe || !double.IsFinite(width) || !(width > 0) || !double.IsFinite(scale) || !(scale > 0))
         {
-            var sorted = SortedCopy(values);
-            return [.. ranks.Select(r => sorted[r])];
+            return null;
         }
 
         int Bucket(double v) => Math.Min(BucketCount - 1, (int)((v - min) * scale));

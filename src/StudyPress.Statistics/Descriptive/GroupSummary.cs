@@ -40,8 +40,64 @@ public static class Descriptives
         return ComputeSorted(centred, sorted, offset, alpha, exactMean);
     }
 
-    /// <summary>As <see cref="Compute"/>, with the group's values already in ascending order (not copied).</summary>
-    public static GroupSummary ComputeSorted(ReadOnlySpan<double> centred, double[] sorted, double offset, double alpha, double? exactMean = null)
+    /// <summary>
+    /// As <see cref="ComputeSorted(ReadOnlySpan{double}, double[], double, double, double?)"/>, with the
+    /// order statistics read from any sorted view (<see cref="SortedRuns"/>: no array of n values);
+    /// an array goes to that overload. The median and quartiles use <see cref="QuantileR7"/>, the
+    /// same operations as the library's quantile of definition 7 on the same order statistics.
+    /// </summary>
+    public static GroupSummary ComputeSorted(ReadOnlySpan<double> centred, IReadOnlyList<double> sorted, double offset, double alpha, double? exactMean = null)
+    {
+        ArgumentNullException.ThrowIfNull(sorted);
+        if (sorted is double[] array)
+        {
+            return ComputeSorted(centred, array, offset, alpha, exactMean);
+        }
+
+        var (n, mean, sd, se, lo, hi) = Moments(centred, offset, alpha, exactMean);
+        if (sorted.Count != n)
+        {
+            throw new ArgumentException("centred and raw values differ in length", nameof(sorted));
+        }
+
+        return new GroupSummary(n, exactMean ?? (offset + mean), sd, se, lo, hi, QuantileR7(sorted, 0.5), QuantileR7(sorted, 0.25), QuantileR7(sorted, 0.75), sorted[0], sorted[n - 1]);
+    }
+
+    /// <summary>
+    /// The tau-th quantile of sorted values by linear interpolation between order statistics
+    /// (Hyndman and Fan 1996, definition 7) with the operations, in their order, of Math.NET
+    /// Numerics' <c>SortedArrayStatistics.QuantileCustom(data, tau, QuantileDefinition.R7)</c>
+    /// (test <c>DescriptivesTests.QuantileR7_SameBitsAsLibrary</c>), reading only the two order
+    /// statistics it needs.
+    /// </summary>
+    public static double QuantileR7(IReadOnlyList<double> sorted, double tau)
+    {
+        ArgumentNullException.ThrowIfNull(sorted);
+        var n = sorted.Count;
+        if (tau < 0d || tau > 1d || n == 0)
+        {
+            return double.NaN;
+        }
+
+        if (tau == 0d || n == 1)
+        {
+            return sorted[0];
+        }
+
+        if (tau == 1d)
+        {
+            return sorted[n - 1];
+        }
+
+        var h = ((n - 1) * tau) + 1d;
+        var hf = (int)h;
+        var lower = sorted[Math.Max(hf - 1, 0)];
+        var upper = sorted[Math.Min(hf, n - 1)];
+        return lower + ((h - hf) * (upper - lower));
+    }
+
+    /// <summary>n, mean (centred), SD, SE and the interval of the mean, as <see cref="ComputeSorted(ReadOnlySpan{double}, double[], double, double, double?)"/> computes them.</summary>
+    private static (int N, double Mean, Quantity Sd, Quantity Se, Quantity Low, Quantity High) Moments(ReadOnlySpan<double> centred, double offset, double alpha, double? exactMean)
     {
         var n = centred.Length;
         if (n == 0)
@@ -65,6 +121,13 @@ public static class Descriptives
             hi = Quantity.Of((exactMean ?? (offset + mean)) + half);
         }
 
+        return (n, mean, sd, se, lo, hi);
+    }
+
+    /// <summary>As <see cref="Compute"/>, with the group's values already in ascending order (not copied).</summary>
+    public static GroupSummary ComputeSorted(ReadOnlySpan<double> centred, double[] sorted, double offset, double alpha, double? exactMean = null)
+    {
+        var (n, mean, sd, se, lo, hi) = Moments(centred, offset, alpha, exactMean);
         if (sorted.Length != n)
         {
             throw new ArgumentException("centred and raw values differ in length", nameof(sorted));

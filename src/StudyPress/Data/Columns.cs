@@ -122,7 +122,15 @@ public sealed class ExactValues
     /// when the range is too wide, null (sort instead). <paramref name="values"/> are the column's
     /// doubles at the same indices as these exact values.
     /// </summary>
-    public double[]? CountingSorted(double[] values, int[] positions)
+    public double[]? CountingSorted(double[] values, int[] positions) => CountingOrder(values, positions)?.ToArray();
+
+    /// <summary>
+    /// <see cref="CountingSorted"/> without the sorted array of n values: the same counts kept as runs
+    /// (<see cref="Statistics.SortedRuns"/>, one per integer of the range), whose value at each rank is
+    /// the sorted array's, under the same conditions (null where <see cref="CountingSorted"/> is null).
+    /// One pass over the positions and one over the range.
+    /// </summary>
+    public Statistics.SortedRuns? CountingOrder(double[] values, int[] positions)
     {
         if (_scaled is not { } m || positions.Length < 2)
         {
@@ -159,13 +167,10 @@ public sealed class ExactValues
             }
         }
 
-        var sorted = new double[positions.Length];
-        var at = 0;
         var previous = double.NegativeInfinity;
         for (var k = 0; k < counts.Length; k++)
         {
-            var c = counts[k];
-            if (c == 0)
+            if (counts[k] == 0)
             {
                 continue;
             }
@@ -177,11 +182,9 @@ public sealed class ExactValues
             }
 
             previous = d;
-            sorted.AsSpan(at, c).Fill(d);
-            at += c;
         }
 
-        return sorted;
+        return new Statistics.SortedRuns(doubles, counts);
     }
 
     /// <summary>The mean of the given positions in decimal arithmetic, or null (none, or overflow).</summary>
@@ -293,5 +296,5 @@ public sealed partial record LoadedDataset
     /// <summary>Rows used by at least one block; filled in by evaluation.</summary>
     public required bool[] Used { get; init; }
 
-    public int RowsUsed => Used.Count(u => u);
+    public int RowsUsed => Used.AsSpan().Count(true);
 }

@@ -42,19 +42,20 @@ public sealed class BlockData
     private IReadOnlyList<(string Label, int[] Codes, double[] Values, int[] Positions)>? _cells;
 
     /// <summary>Each cell's sorted values, by the cell's positions array: a memo of this selection (one run's), filled by <see cref="SortedValues"/>.</summary>
-    private readonly System.Collections.Concurrent.ConcurrentDictionary<int[], double[]> sortedCells = new(ReferenceEqualityComparer.Instance);
+    private readonly System.Collections.Concurrent.ConcurrentDictionary<int[], IReadOnlyList<double>> sortedCells = new(ReferenceEqualityComparer.Instance);
 
     /// <summary>
     /// A cell's response values (<paramref name="positions"/> as <see cref="Cells"/> gives them) in
     /// ascending order, sorted once per cell (whichever thread asks first; the result is the same)
-    /// and shared by every caller: the array must not be changed. Exact values in a narrow range are
-    /// sorted by counting (<see cref="Data.ExactValues.CountingSorted"/>), others by
+    /// and shared by every caller: an array must not be changed. Exact values in a narrow range are
+    /// counted and kept as runs (<see cref="Data.ExactValues.CountingOrder"/>: the value of every rank
+    /// is the sorted array's, without that array of n values), others sorted by
     /// <see cref="Statistics.FastSort"/>.
     /// </summary>
-    internal double[] SortedValues(int[] positions) => sortedCells.GetOrAdd(positions, p =>
+    internal IReadOnlyList<double> SortedValues(int[] positions) => sortedCells.GetOrAdd(positions, p =>
     {
-        // Exact values in a narrow range are sorted by counting (the same array), others by FastSort.
-        if (Exact?.CountingSorted(Values, p) is { } counted)
+        // Exact values in a narrow range are counted (the same value at every rank), others sorted by FastSort.
+        if (Exact?.CountingOrder(Values, p) is { } counted)
         {
             return counted;
         }
@@ -68,6 +69,28 @@ public sealed class BlockData
         Statistics.FastSort.Sort(v);
         return v;
     });
+
+    private readonly System.Collections.Concurrent.ConcurrentDictionary<(int[] Positions, double Alpha), Statistics.Descriptive.GroupSummary> cellSummaries = new(CellAlphaComparer.Instance);
+
+    /// <summary>
+    /// A cell's descriptive statistics at <paramref name="alpha"/> (<see cref="Statistics.Descriptive.Descriptives.ComputeSorted(ReadOnlySpan{double}, IReadOnlyList{double}, double, double, double?)"/>
+    /// of its centred values, its <see cref="SortedValues"/>, the block's centre and its exact mean),
+    /// computed once per cell and alpha and shared: the summary and the means figure ask the same
+    /// question of the same cell, and the answer is a pure function of it.
+    /// </summary>
+    internal Statistics.Descriptive.GroupSummary CellSummary(double[] values, int[] positions, double alpha) =>
+        cellSummaries.GetOrAdd((positions, alpha), key => Statistics.Descriptive.Descriptives.ComputeSorted(values, SortedValues(key.Positions), Centre, key.Alpha, ExactMean(key.Positions)));
+
+    /// <summary>Cells compared as the same positions array (the cell's identity) and the same alpha bits.</summary>
+    private sealed class CellAlphaComparer : IEqualityComparer<(int[] Positions, double Alpha)>
+    {
+        public static readonly CellAlphaComparer Instance = new();
+
+        public bool Equals((int[] Positions, double Alpha) x, (int[] Positions, double Alpha) y) =>
+            ReferenceEquals(x.Positions, y.Positions) && BitConverter.DoubleToInt64Bits(x.Alpha) == BitConverter.DoubleToInt64Bits(y.Alpha);
+
+        public int GetHashCode((int[] Positions, double Alpha) obj) => HashCode.Combine(System.Runtime.CompilerServices.RuntimeHelpers.GetHashCode(obj.Positions), obj.Alpha);
+    }
 
     /// <summary>The rows' sufficient statistics per cell (centred means), the view the cells route has too.</summary>
     public Model.CellTable CellTable() => Model.CellTable.FromGroups(
@@ -167,32 +190,66 @@ public sealed class BlockData
     /// <see cref="ComputeCells"/> for a crossing of at most 2^20 keys: each row's key counted in an
     /// array indexed by the key, then each row's response and position written into its cell; the
     /// cells in key order, as the dictionary route orders them. No per-row slot array, and the
-    /// cells' arrays are written in full, so they are not zeroed first.
+    /// cells' arrays are written in full, so they are not zeroed first. A large selection is cut
+    /// into consecutive parts (one per core) that are counted and written at the same time: each
+    /// part writes its rows of a cell after the earlier parts' rows of that cell, in row order, so
+    /// the cells are the same arrays whatever the number of parts.
     /// </summary>
     private (string Label, int[] Codes, double[] Values, int[] Positions)[] DenseCells(int k, long[] radix, long crossing, int[][] factorCodes)
     {
         var n = Rows.Length;
-        var counts = new int[crossing];
-        if (k == 1)
+        var parts = PartsFor(n);
+        var bounds = new int[parts + 1];
+        for (var p = 0; p <= parts; p++)
         {
-            foreach (var code in factorCodes[0].AsSpan(0, n))
+            bounds[p] = (int)((long)n * p / parts);
+        }
+
+        var partCounts = new int[parts][];
+        void Count(int p)
+        {
+            var counts = new int[crossing];
+            if (k == 1)
             {
-                counts[code]++;
+                foreach (var code in factorCodes[0].AsSpan(bounds[p], bounds[p + 1] - bounds[p]))
+                {
+                    counts[code]++;
+                }
             }
+            else
+            {
+                for (var i = bounds[p]; i < bounds[p + 1]; i++)
+                {
+                    counts[Key(factorCodes, radix, k, i)]++;
+                }
+            }
+
+            partCounts[p] = counts;
+        }
+
+        if (parts == 1)
+        {
+            Count(0);
         }
         else
         {
-            for (var i = 0; i < n; i++)
-            {
-                counts[Key(factorCodes, radix, k, i)]++;
-            }
+            Parallel.For(0, parts, Count);
         }
 
         var cells = new List<(string Label, int[] Codes, double[] Values, int[] Positions)>();
         var cellOf = new int[crossing];
+        var starts = new List<int[]>(); // per cell: where each part's rows begin in it
         for (long key = 0; key < crossing; key++)
         {
-            if (counts[key] == 0)
+            var size = 0;
+            var start = new int[parts];
+            for (var p = 0; p < parts; p++)
+            {
+                start[p] = size;
+                size += partCounts[p][key];
+            }
+
+            if (size == 0)
             {
                 continue;
             }
@@ -206,23 +263,46 @@ public sealed class BlockData
             }
 
             cellOf[key] = cells.Count;
-            var size = counts[key];
+            starts.Add(start);
             cells.Add((string.Join(" / ", codes.Select((c, j) => Factors[j].Levels[c])), codes, GC.AllocateUninitializedArray<double>(size), GC.AllocateUninitializedArray<int>(size)));
         }
 
-        var fill = new int[cells.Count];
         var values = cells.Select(c => c.Values).ToArray();
         var positions = cells.Select(c => c.Positions).ToArray();
-        for (var i = 0; i < n; i++)
+        void Fill(int p)
         {
-            var slot = cellOf[k == 1 ? factorCodes[0][i] : Key(factorCodes, radix, k, i)];
-            var at = fill[slot]++;
-            values[slot][at] = Response[i];
-            positions[slot][at] = i;
+            var fill = new int[cells.Count];
+            for (var c = 0; c < fill.Length; c++)
+            {
+                fill[c] = starts[c][p];
+            }
+
+            for (var i = bounds[p]; i < bounds[p + 1]; i++)
+            {
+                var slot = cellOf[k == 1 ? factorCodes[0][i] : Key(factorCodes, radix, k, i)];
+                var at = fill[slot]++;
+                values[slot][at] = Response[i];
+                positions[slot][at] = i;
+            }
+        }
+
+        if (parts == 1)
+        {
+            Fill(0);
+        }
+        else
+        {
+            Parallel.For(0, parts, Fill);
         }
 
         return KeepSplit(k, [.. cells]);
     }
+
+    /// <summary>Rows per part of <see cref="DenseCells"/> below which a selection is not cut (a part's start-up costs more than it saves).</summary>
+    private const int RowsPerPart = 1 << 18;
+
+    /// <summary>How many parts <see cref="DenseCells"/> cuts <paramref name="n"/> rows into (at most one per core).</summary>
+    internal static int PartsFor(int n) => Math.Clamp(n / RowsPerPart, 1, Math.Max(1, Environment.ProcessorCount));
 
     private static long Key(int[][] factorCodes, long[] radix, int k, int i)
     {
@@ -418,7 +498,19 @@ public sealed class EvaluationContext
         var dropped = 0;
         var where = block.Where.Select(w => (Column: ds.Factors[w.Factor.Name], Pass: w.Levels)).ToArray();
         var wherePass = where.Select(w => w.Column.Levels.Select(l => w.Pass.Contains(l)).ToArray()).ToArray();
-        for (var r = 0; r < ds.Rows; r++)
+        if (where.Length == 0 && (response is null || NoneMissing(response)) && factorCols.All(c => c.Counts.Sum() == ds.Rows))
+        {
+            // No filter, no missing response, every factor code present (the columns' counts add up
+            // to the rows): every row is selected, as the loop below would find, without reading them.
+            for (var r = 0; r < ds.Rows; r++)
+            {
+                rows[r] = r;
+            }
+
+            count = ds.Rows;
+        }
+
+        for (var r = count; r < ds.Rows; r++)
         {
             var pass = true;
             for (var w = 0; w < where.Length; w++)
@@ -540,6 +632,13 @@ public sealed class EvaluationContext
             DroppedMissing = dropped,
         };
     }
+
+    /// <summary>
+    /// Whether no row of <paramref name="column"/> is missing (<see cref="NumericColumn.IsMissing"/>),
+    /// known from its count without reading the rows: for exact decimal columns, whose centred value
+    /// is NaN exactly for the missing cells the count counts. Other columns answer false (read them).
+    /// </summary>
+    internal static bool NoneMissing(NumericColumn column) => column.Exact is not null && column.Missing == 0;
 
     private static T[] Pick<T>(T[] values, int[] rows)
     {

@@ -155,4 +155,60 @@ public sealed class AnovaDesignTests
         Assert.Equal(expected, x);
         Assert.Equal(["a", "b", "a:b"], AnovaDesign.Terms(input).Select(t => t.Name).ToArray());
     }
+    /// <summary>
+    /// The general coding loop for one factor, written out (exact hand computation of its rule):
+    /// cells numbered in order of first occurrence, each observation's cell, the counts and each
+    /// cell's used-level position.
+    /// </summary>
+    private static (int[] CellOf, int[] Counts, int[][] Levels) FirstOccurrenceCells(int[] codes, int[] usedIndex)
+    {
+        var slotOf = new Dictionary<int, int>();
+        var cellOf = new int[codes.Length];
+        var counts = new List<int>();
+        var levels = new List<int[]>();
+        for (var i = 0; i < codes.Length; i++)
+        {
+            if (!slotOf.TryGetValue(codes[i], out var slot))
+            {
+                slot = counts.Count;
+                slotOf[codes[i]] = slot;
+                counts.Add(0);
+                levels.Add([usedIndex[codes[i]]]);
+            }
+
+            counts[slot]++;
+            cellOf[i] = slot;
+        }
+
+        return (cellOf, [.. counts], [.. levels]);
+    }
+
+    [Theory]
+    [InlineData(new[] { 0, 1, 2, 0, 1, 2, 2 }, new[] { 0, 1, 2 }, true)] // every level, first seen in code order: the codes are the cells
+    [InlineData(new[] { 1, 0, 2, 0, 1 }, new[] { 0, 1, 2 }, false)] // first seen out of code order
+    [InlineData(new[] { 0, 2, 0, 2 }, new[] { 0, -1, 1 }, false)] // a level without data
+    [InlineData(new[] { 0, 0, 0 }, new[] { 0 }, true)]
+    public void OneFactorCells_SameAsTheGeneralLoop(int[] codes, int[] usedIndex, bool shared)
+    {
+        var used = usedIndex.Count(u => u >= 0);
+        var (cellOf, counts, levels) = DesignCoding.OneFactorCells(codes, usedIndex, used);
+        var expected = FirstOccurrenceCells(codes, usedIndex);
+        Assert.Equal(expected.CellOf, cellOf);
+        Assert.Equal(expected.Counts, counts);
+        Assert.Equal(expected.Levels, levels);
+        Assert.Equal(shared, ReferenceEquals(codes, cellOf));
+    }
+
+    [Fact]
+    public void OneFactorDesign_CellsInOrderOfFirstOccurrence()
+    {
+        // Through the public structured design: level c first (cell 0), then a (1), then b (2).
+        var codes = new[] { 2, 0, 1, 1, 2, 0, 0, 2 };
+        var input = new AnovaInput([1, 2, 3, 4, 5, 6, 7, 8], [new FactorColumn("f", codes, ["a", "b", "c"])], false, SumOfSquaresType.Hierarchical, 0.05);
+        var (cellRows, cellOf) = AnovaDesign.CellModelMatrix(input);
+        Assert.Equal(new[] { 0, 1, 2, 2, 0, 1, 1, 0 }, cellOf);
+        Assert.Equal(3, cellRows.GetLength(0));
+        var identity = new AnovaInput([1, 2, 3, 4], [new FactorColumn("f", [0, 1, 0, 1], ["a", "b"])], false, SumOfSquaresType.Hierarchical, 0.05);
+        Assert.Same(identity.Factors[0].Codes, AnovaDesign.CellModelMatrix(identity).CellOf);
+    }
 }

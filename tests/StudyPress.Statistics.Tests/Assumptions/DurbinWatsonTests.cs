@@ -416,4 +416,17 @@ public class DurbinWatsonTests
         Assert.Equal(a.PTwoSided.Value, b.PTwoSided.Value);
         Assert.Equal(a.Method, b.Method);
     }
+
+    [Fact]
+    public void Statistic_ArrayAndOtherList_SameBits()
+    {
+        // An array is read directly, any other list through its interface: the same d, bit for bit.
+        var rng = new Random(31);
+        var e = Enumerable.Range(0, 10_001).Select(_ => Math.Round(rng.NextDouble() - 0.5, 4)).ToArray();
+        var fromArray = DurbinWatson.Statistic(e);
+        var fromList = DurbinWatson.Statistic(e.ToList());
+        Assert.Equal(BitConverter.DoubleToInt64Bits(fromList.Value), BitConverter.DoubleToInt64Bits(fromArray.Value));
+        Assert.Throws<ArgumentException>(() => DurbinWatson.Statistic(new[] { 1.0, double.NaN, 2.0 }));
+        Assert.Throws<ArgumentException>(() => DurbinWatson.Statistic(new List<double> { 1.0, double.NaN, 2.0 }));
+    }
 }

@@ -241,4 +241,63 @@ public class VarianceHomogeneityTests
         Assert.Equal(StoredF(groups, g => Groups.Mean(g)), Levene.Test(groups).F.Value);
         Assert.Equal(StoredF(groups, Median), BrownForsythe.Test(groups).F.Value);
     }
+    [Theory]
+    [InlineData(1, 40_001)]
+    [InlineData(2, 40_000)]
+    [InlineData(3, 9_000)]
+    public void Median_BucketSelection_SameAsQuickselectOnACopy(int seed, int n)
+    {
+        // Large groups take their middle order statistics by bucket selection (no copy); the
+        // reference is the quickselect on a copy that ran before, and a full sort.
+        var rng = new Random(seed);
+        var normal = Enumerable.Range(0, n).Select(_ => 100 + (Math.Sqrt(-2 * Math.Log(1 - rng.NextDouble())) * Math.Cos(2 * Math.PI * rng.NextDouble()))).ToArray();
+        var ties = Enumerable.Range(0, n).Select(_ => Math.Round(rng.NextDouble() * 40) / 8).ToArray();
+        var outlier = normal.Select((v, i) => i == n / 3 ? 1e9 : v).ToArray();
+        foreach (var x in new[] { normal, ties, outlier })
+        {
+            var sorted = (double[])x.Clone();
+            Array.Sort(sorted);
+            var h = n / 2;
+            var expected = n % 2 == 1 ? sorted[h] : 0.5 * (sorted[h - 1] + sorted[h]);
+            Assert.Equal(BitConverter.DoubleToInt64Bits(DeviationFTest.MedianBySelection(x)), BitConverter.DoubleToInt64Bits(DeviationFTest.Median(x)));
+            Assert.Equal(BitConverter.DoubleToInt64Bits(expected), BitConverter.DoubleToInt64Bits(DeviationFTest.Median(x)));
+        }
+    }
+
+    [Fact]
+    public void BrownForsythe_LargeGroups_SameBitsAsQuickselectMedians()
+    {
+        // The whole statistic with the bucket-selected medians against the same computation with
+        // the quickselect medians of before (exact equality expected: the same centres).
+        var rng = new Random(29);
+        var groups = Enumerable.Range(0, 4)
+            .Select(g => Enumerable.Range(0, 6_000 + (g * 1_001)).Select(_ => Math.Round(((rng.NextDouble() - 0.5) * (g + 1) * 30) + 50, 3)).ToArray())
+            .ToList();
+        var fast = BrownForsythe.Test(groups);
+        var before = DeviationFTest.Compute(groups, DeviationFTest.MedianBySelection);
+        Assert.Equal(BitConverter.DoubleToInt64Bits(before.F.Value), BitConverter.DoubleToInt64Bits(fast.F.Value));
+        Assert.Equal(BitConverter.DoubleToInt64Bits(before.P.Value), BitConverter.DoubleToInt64Bits(fast.P.Value));
+    }
+    [Theory]
+    [InlineData(1)]
+    [InlineData(2)]
+    public void FusedMeans_SameBitsAsSeparatePasses(int seed)
+    {
+        // The grand and group means of the deviations from two fused passes against the separate
+        // passes that computed them before (exact equality expected: the same terms in the same order).
+        var rng = new Random(seed);
+        var groups = Enumerable.Range(0, 5)
+            .Select(g => Enumerable.Range(0, 5_000 + (g * 313)).Select(_ => Math.Round((rng.NextDouble() * (g + 1) * 10) - 5, 3)).ToArray())
+            .ToList();
+        groups.Add([1.5, 1.5, 2.5, 2.5]); // constant deviations about the mean
+        groups.Add([7.25]); // one value
+        var centres = groups.Select(g => g.Average()).ToArray();
+        centres[3] = DeviationFTest.Median(groups[3]);
+        var (grand, means) = DeviationFTest.Means(groups, centres);
+        Assert.Equal(BitConverter.DoubleToInt64Bits(DeviationFTest.ConcatenatedMean(groups, centres)), BitConverter.DoubleToInt64Bits(grand));
+        for (var g = 0; g < groups.Count; g++)
+        {
+            Assert.Equal(BitConverter.DoubleToInt64Bits(DeviationFTest.DeviationMean(groups[g], centres[g])), BitConverter.DoubleToInt64Bits(means[g]));
+        }
+    }
 }

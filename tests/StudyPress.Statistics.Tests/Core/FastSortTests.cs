@@ -116,4 +116,23 @@ public class FastSortTests
         AssertSameOrderStatistics([.. Enumerable.Repeat(2.5, 10_000)]);
         AssertSameOrderStatistics([.. Enumerable.Range(0, 5_000).Select(i => (double)-i)]);
     }
+
+    [Fact]
+    public void TryOrderStatistics_NullExactlyWhereTheFullSortRuns()
+    {
+        var rng = new Random(13);
+        var normal = Enumerable.Range(0, 20_000).Select(_ => Math.Sqrt(-2 * Math.Log(1 - rng.NextDouble())) * Math.Cos(2 * Math.PI * rng.NextDouble())).ToArray();
+        var ranks = Ranks(normal.Length);
+        var sorted = (double[])normal.Clone();
+        Array.Sort(sorted);
+        var picked = FastSort.TryOrderStatistics(normal, ranks);
+        Assert.NotNull(picked);
+        Assert.Equal(ranks.Select(r => BitConverter.DoubleToInt64Bits(sorted[r])), picked.Select(BitConverter.DoubleToInt64Bits));
+
+        // Small, with −0, with NaN, constant: the order is left to a full sort (null here).
+        Assert.Null(FastSort.TryOrderStatistics(normal.AsSpan(0, FastSort.RadixThreshold - 1), [0, 5]));
+        Assert.Null(FastSort.TryOrderStatistics([.. normal.Select((v, i) => i == 17 ? -0.0 : v)], [0, 5]));
+        Assert.Null(FastSort.TryOrderStatistics([.. normal.Select((v, i) => i == 17 ? double.NaN : v)], [0, 5]));
+        Assert.Null(FastSort.TryOrderStatistics([.. Enumerable.Repeat(2.5, 10_000)], [0, 5]));
+    }
 }

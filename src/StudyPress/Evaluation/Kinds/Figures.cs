@@ -90,7 +90,7 @@ public static class Figures
     /// by the summary, the means figure and the box plots (<see cref="BlockData.SortedValues"/>, a
     /// memo of the block's selection, owned by the run). The array must not be changed.
     /// </summary>
-    internal static double[] SortedValues(BlockData data, int[] positions) => data.SortedValues(positions);
+    internal static IReadOnlyList<double> SortedValues(BlockData data, int[] positions) => data.SortedValues(positions);
 
     /// <summary>
     /// Sorts every cell of the block at once (<see cref="SortedValues"/>), the cells spread over the
@@ -108,9 +108,9 @@ public static class Figures
     }
 
     /// <summary>Evenly spaced order statistics of sorted values (see <see cref="Thin"/>).</summary>
-    private static double[] ThinSorted(double[] sorted)
+    private static double[] ThinSorted(IReadOnlyList<double> sorted)
     {
-        var ranks = ThinRanks(sorted.Length);
+        var ranks = ThinRanks(sorted.Count);
         var r = new double[ThinnedPoints];
         for (var k = 0; k < ThinnedPoints; k++)
         {
@@ -185,7 +185,9 @@ public static class Figures
 
         foreach (var (label, codes, values, positions) in cells)
         {
-            var s = Statistics.Descriptive.Descriptives.ComputeSorted(values, SortedValues(data, positions), data.Centre, alpha, data.ExactMean(positions));
+            var s = data.Factors.Count == 0
+                ? Statistics.Descriptive.Descriptives.ComputeSorted(values, SortedValues(data, positions), data.Centre, alpha, data.ExactMean(positions))
+                : data.CellSummary(values, positions, alpha);
             if (!s.CiLow.IsDefined)
             {
                 continue;

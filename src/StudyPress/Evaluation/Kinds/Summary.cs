@@ -69,7 +69,9 @@ public sealed partial class SummaryEvaluator : KindEvaluator
 
         foreach (var (label, _, values, positions) in cells)
         {
-            var s = Descriptives.ComputeSorted(values, Figures.SortedValues(data, positions), data.Centre, alpha, data.ExactMean(positions));
+            var s = data.Factors.Count == 0
+                ? Descriptives.ComputeSorted(values, Figures.SortedValues(data, positions), data.Centre, alpha, data.ExactMean(positions))
+                : data.CellSummary(values, positions, alpha);
             var level = data.Factors.Count == 0 ? null : label;
             var map = new Dictionary<string, ResultValue>(StringComparer.Ordinal);
             void Add(string stat, Statistics.Quantity q) => map[stat] = context.Results.Add(block.Id, TestName.Summary, term, level, null, stat, q, inputs);
@@ -164,6 +166,11 @@ public sealed partial class SummaryEvaluator : KindEvaluator
         var result = new Dictionary<string, (int Count, int[] Order)>(StringComparer.Ordinal);
         var ds = data.Dataset;
         var response = ds.Numeric[data.ResponseName];
+        if (EvaluationContext.NoneMissing(response))
+        {
+            return result; // no row's response is missing
+        }
+
         for (var r = 0; r < ds.Rows; r++)
         {
             if (!response.IsMissing(r))
