@@ -86,30 +86,6 @@ public static class DurbinWatson
         return residuals is double[] array ? Statistic(new ArrayView(array)) : Statistic(new ListView(residuals));
     }
 
-    /// <summary>An array read directly (no interface call per residual).</summary>
-    private readonly struct ArrayView(double[] array) : IReadOnlyList<double>
-    {
-        public double this[int index] => array[index];
-
-        public int Count => array.Length;
-
-        public IEnumerator<double> GetEnumerator() => ((IEnumerable<double>)array).GetEnumerator();
-
-        System.Collections.IEnumerator System.Collections.IEnumerable.GetEnumerator() => array.GetEnumerator();
-    }
-
-    /// <summary>Any other list, read through its interface.</summary>
-    private readonly struct ListView(IReadOnlyList<double> list) : IReadOnlyList<double>
-    {
-        public double this[int index] => list[index];
-
-        public int Count => list.Count;
-
-        public IEnumerator<double> GetEnumerator() => list.GetEnumerator();
-
-        System.Collections.IEnumerator System.Collections.IEnumerable.GetEnumerator() => list.GetEnumerator();
-    }
-
     /// <summary>
     /// <see cref="Statistic(IReadOnlyList{double})"/> over a view specialised for its type (the same
     /// operations in the same order; the generic code is compiled per struct view, so an array's

@@ -238,18 +238,6 @@ public static class StudentizedResiduals
         System.Collections.IEnumerator System.Collections.IEnumerable.GetEnumerator() => GetEnumerator();
     }
 
-    /// <summary>An array read directly.</summary>
-    private readonly struct ArrayView(double[] array) : IReadOnlyList<double>
-    {
-        public double this[int index] => array[index];
-
-        public int Count => array.Length;
-
-        public IEnumerator<double> GetEnumerator() => ((IEnumerable<double>)array).GetEnumerator();
-
-        System.Collections.IEnumerator System.Collections.IEnumerable.GetEnumerator() => array.GetEnumerator();
-    }
-
     /// <summary>Per-cell values read through the cell codes directly (<see cref="CodedValues"/>'s entries).</summary>
     private readonly struct CodedView(CodedValues coded) : IReadOnlyList<double>
     {
@@ -263,17 +251,5 @@ public static class StudentizedResiduals
         public IEnumerator<double> GetEnumerator() => coded.GetEnumerator();
 
         System.Collections.IEnumerator System.Collections.IEnumerable.GetEnumerator() => coded.GetEnumerator();
-    }
-
-    /// <summary>Any other list, read through its interface.</summary>
-    private readonly struct ListView(IReadOnlyList<double> list) : IReadOnlyList<double>
-    {
-        public double this[int index] => list[index];
-
-        public int Count => list.Count;
-
-        public IEnumerator<double> GetEnumerator() => list.GetEnumerator();
-
-        System.Collections.IEnumerator System.Collections.IEnumerable.GetEnumerator() => list.GetEnumerator();
     }
 }
