@@ -199,11 +199,13 @@ internal static class DeviationFTest
     }
 
     /// <summary>
-    /// <see cref="ConcatenatedMean"/> and each group's <see cref="DeviationMean"/> in two passes over
-    /// the groups instead of four: the first pass adds each z to the grand sum and to its group's
-    /// sum, the second adds z − (grand first-pass mean) and z − (group first-pass mean) to the two
-    /// corrections. Every accumulator receives the same terms in the same order as in those
-    /// methods, so the results are the same bits (test
+    /// The mean of every z one group after another (the sums of <see cref="Groups.Mean"/> over the
+    /// concatenated deviations, without its constant-sample shortcut) and each group's
+    /// <see cref="Groups.Mean"/> of its z, in two passes over the groups instead of four: the first
+    /// pass adds each z to the grand sum and to its group's sum, the second adds z − (grand
+    /// first-pass mean) and z − (group first-pass mean) to the two corrections. Every accumulator
+    /// receives the same terms in the same order as separate passes would, so the results are the
+    /// same bits (test
     /// <c>VarianceHomogeneityTests.FusedMeans_SameBitsAsSeparatePasses</c>).
     /// </summary>
     internal static (double Grand, double[] Means) Means(IReadOnlyList<double[]> groups, double[] centres)
@@ -267,67 +269,6 @@ internal static class DeviationFTest
         }
 
         return (m + (corr / n), means);
-    }
-
-    /// <summary>
-    /// The mean of every z one group after another (the sums of <see cref="Groups.Mean"/> over the
-    /// concatenated deviations), without concatenating or storing them.
-    /// </summary>
-    internal static double ConcatenatedMean(IReadOnlyList<double[]> groups, double[] centres)
-    {
-        double sum = 0;
-        var n = 0;
-        for (var g = 0; g < groups.Count; g++)
-        {
-            var c = centres[g];
-            foreach (var y in groups[g])
-            {
-                sum += Math.Abs(y - c);
-            }
-
-            n += groups[g].Length;
-        }
-
-        var m = sum / n;
-        double corr = 0;
-        for (var g = 0; g < groups.Count; g++)
-        {
-            var c = centres[g];
-            foreach (var y in groups[g])
-            {
-                corr += Math.Abs(y - c) - m;
-            }
-        }
-
-        return m + (corr / n);
-    }
-
-    /// <summary><see cref="Groups.Mean"/> of z = |y − c| over one group, operation for operation.</summary>
-    internal static double DeviationMean(double[] y, double c)
-    {
-        double s = 0;
-        var first = Math.Abs(y[0] - c);
-        var constant = true;
-        foreach (var v in y)
-        {
-            var z = Math.Abs(v - c);
-            s += z;
-            constant &= z == first;
-        }
-
-        if (constant)
-        {
-            return first;
-        }
-
-        var m = s / y.Length;
-        double corr = 0;
-        foreach (var v in y)
-        {
-            corr += Math.Abs(v - c) - m;
-        }
-
-        return m + (corr / y.Length);
     }
 
     /// <summary><see cref="Groups.SumOfSquares"/> of z = |y − c| about <paramref name="mean"/> over one group, operation for operation.</summary>

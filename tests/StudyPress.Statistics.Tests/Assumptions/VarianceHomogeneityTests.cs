@@ -294,10 +294,43 @@ public class VarianceHomogeneityTests
         var centres = groups.Select(g => g.Average()).ToArray();
         centres[3] = DeviationFTest.Median(groups[3]);
         var (grand, means) = DeviationFTest.Means(groups, centres);
-        Assert.Equal(BitConverter.DoubleToInt64Bits(DeviationFTest.ConcatenatedMean(groups, centres)), BitConverter.DoubleToInt64Bits(grand));
+        Assert.Equal(BitConverter.DoubleToInt64Bits(ConcatenatedMean(groups, centres)), BitConverter.DoubleToInt64Bits(grand));
         for (var g = 0; g < groups.Count; g++)
         {
-            Assert.Equal(BitConverter.DoubleToInt64Bits(DeviationFTest.DeviationMean(groups[g], centres[g])), BitConverter.DoubleToInt64Bits(means[g]));
+            var c = centres[g];
+            Assert.Equal(BitConverter.DoubleToInt64Bits(Groups.Mean([.. groups[g].Select(v => Math.Abs(v - c))])), BitConverter.DoubleToInt64Bits(means[g]));
         }
+    }
+
+    /// <summary>
+    /// The separate passes the fused ones replaced: the sum of every z = |y − c| one group after
+    /// another, then the correction pass of <see cref="Groups.Mean"/> (without its constant-sample
+    /// shortcut).
+    /// </summary>
+    private static double ConcatenatedMean(List<double[]> groups, double[] centres)
+    {
+        double sum = 0;
+        var n = 0;
+        for (var g = 0; g < groups.Count; g++)
+        {
+            foreach (var y in groups[g])
+            {
+                sum += Math.Abs(y - centres[g]);
+            }
+
+            n += groups[g].Length;
+        }
+
+        var m = sum / n;
+        double corr = 0;
+        for (var g = 0; g < groups.Count; g++)
+        {
+            foreach (var y in groups[g])
+            {
+                corr += Math.Abs(y - centres[g]) - m;
+            }
+        }
+
+        return m + (corr / n);
     }
 }

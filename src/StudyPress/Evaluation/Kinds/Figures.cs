@@ -153,12 +153,13 @@ public static class Figures
     {
         var cells = data.Factors.Count == 0 ? [("all", Array.Empty<int>(), data.Response, Enumerable.Range(0, data.Rows.Length).ToArray())] : data.Cells();
         // Above the limit the thinned order statistics come from the cell's shared sorted values.
-        var groups = cells.Select(c => new GroupSample(
-            c.Label,
-            c.Positions.Length <= MaxPoints ? [.. c.Positions.Select(i => data.Values[i])] : ThinSorted(SortedValues(data, c.Positions)))
+        var groups = cells.Select(c =>
         {
-            Outer = Tiers(data, c.Codes).Outer,
-            Inner = Tiers(data, c.Codes).Inner,
+            var (outer, inner) = Tiers(data, c.Codes);
+            return new GroupSample(
+                c.Label,
+                c.Positions.Length <= MaxPoints ? [.. c.Positions.Select(i => data.Values[i])] : ThinSorted(SortedValues(data, c.Positions)))
+            { Outer = outer, Inner = inner };
         }).ToList();
         var largest = cells.Max(c => c.Positions.Length);
         return new BoxFigure(groups, [.. data.Factors.Select(f => f.Spec.Display)], data.ResponseLabel, largest) { UserCaption = caption };
